@@ -1,0 +1,178 @@
+//! The engine's one error type.
+//!
+//! Following ripgrep's style, [`Error`] is opaque: callers match on [`ErrorKind`] (which is
+//! `#[non_exhaustive]` so new failure modes are not breaking changes) and read the English
+//! message or the named parameters. The UI never shows the English message directly: it looks
+//! up the kind's [`ErrorKind::code`] in its translation files and fills in the parameters, so
+//! every error reaches the operator in words, in their language.
+
+use std::fmt;
+
+/// What went wrong, as a category the UI and the CLI can act on.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum ErrorKind {
+    /// Input text that is not a formula, reaction or number.
+    Syntax,
+    /// An element symbol that is not in the periodic table.
+    UnknownElement,
+    /// A `(` without `)` or the other way round, or mismatched bracket kinds.
+    UnbalancedParenthesis,
+    /// `()` with nothing inside.
+    EmptyGroup,
+    /// A count of zero, as in `H0` or `(OH)0`.
+    ZeroCount,
+    /// A count or total too large to represent exactly.
+    Overflow,
+    /// No set of positive coefficients conserves every element and charge.
+    Impossible,
+    /// More than one independent balancing exists.
+    Ambiguous,
+    /// The same species is written on both sides.
+    SpeciesOnBothSides,
+    /// A coefficient given by the user does not conserve atoms or charge.
+    WrongCoefficient,
+    /// A species asked for is not part of the reaction.
+    NotInReaction,
+    /// A chemical or product id that is not in the catalog.
+    UnknownChemical,
+    /// A number outside the range where the result means anything (negative flow, pH 15, ...).
+    OutOfRange,
+    /// A target that the chosen chemical cannot reach.
+    Unreachable,
+    /// A value that is required but missing or not a number.
+    InvalidInput,
+}
+
+impl ErrorKind {
+    /// A stable, kebab-case code: the JSON `kind` and the key stem for translations.
+    pub fn code(self) -> &'static str {
+        match self {
+            ErrorKind::Syntax => "syntax",
+            ErrorKind::UnknownElement => "unknown-element",
+            ErrorKind::UnbalancedParenthesis => "unbalanced-parenthesis",
+            ErrorKind::EmptyGroup => "empty-group",
+            ErrorKind::ZeroCount => "zero-count",
+            ErrorKind::Overflow => "overflow",
+            ErrorKind::Impossible => "impossible",
+            ErrorKind::Ambiguous => "ambiguous",
+            ErrorKind::SpeciesOnBothSides => "species-on-both-sides",
+            ErrorKind::WrongCoefficient => "wrong-coefficient",
+            ErrorKind::NotInReaction => "not-in-reaction",
+            ErrorKind::UnknownChemical => "unknown-chemical",
+            ErrorKind::OutOfRange => "out-of-range",
+            ErrorKind::Unreachable => "unreachable",
+            ErrorKind::InvalidInput => "invalid-input",
+        }
+    }
+}
+
+/// An engine failure: a kind, an English message, an optional column, and named parameters.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Error {
+    kind: ErrorKind,
+    message: String,
+    column: Option<usize>,
+    params: Vec<(&'static str, String)>,
+}
+
+impl Error {
+    pub fn new(kind: ErrorKind, message: impl Into<String>) -> Error {
+        Error {
+            kind,
+            message: message.into(),
+            column: None,
+            params: Vec::new(),
+        }
+    }
+
+    /// Marks the 1-based column (in characters) of the input where the problem was found.
+    pub fn at(mut self, column: usize) -> Error {
+        self.column = Some(column);
+        self
+    }
+
+    /// Adds a named parameter for translated messages.
+    pub fn with(mut self, name: &'static str, value: impl ToString) -> Error {
+        self.params.push((name, value.to_string()));
+        self
+    }
+
+    pub fn kind(&self) -> ErrorKind {
+        self.kind
+    }
+
+    pub fn message(&self) -> &str {
+        &self.message
+    }
+
+    pub fn column(&self) -> Option<usize> {
+        self.column
+    }
+
+    pub fn params(&self) -> &[(&'static str, String)] {
+        &self.params
+    }
+
+    pub fn param(&self, name: &str) -> Option<&str> {
+        self.params
+            .iter()
+            .find(|(n, _)| *n == name)
+            .map(|(_, v)| v.as_str())
+    }
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self.column {
+            Some(column) => write!(f, "{} (column {})", self.message, column),
+            None => f.write_str(&self.message),
+        }
+    }
+}
+
+impl std::error::Error for Error {}
+
+pub type Result<T> = std::result::Result<T, Error>;
+
+/// Rejects NaN and infinities, and values outside `[min, max]`, naming the quantity.
+pub fn check_range(name: &'static str, value: f64, min: f64, max: f64, unit: &str) -> Result<f64> {
+    if !value.is_finite() {
+        return Err(
+            Error::new(ErrorKind::InvalidInput, format!("{name} must be a number"))
+                .with("quantity", name),
+        );
+    }
+    if value < min || value > max {
+        return Err(Error::new(
+            ErrorKind::OutOfRange,
+            format!("{name} {value} {unit} is outside {min}–{max} {unit}"),
+        )
+        .with("quantity", name)
+        .with("value", value)
+        .with("min", min)
+        .with("max", max)
+        .with("unit", unit));
+    }
+    Ok(value)
+}
+
+/// Rejects NaN, infinities, zero and negative values, naming the quantity.
+pub fn check_positive(name: &'static str, value: f64, unit: &str) -> Result<f64> {
+    if !value.is_finite() {
+        return Err(
+            Error::new(ErrorKind::InvalidInput, format!("{name} must be a number"))
+                .with("quantity", name),
+        );
+    }
+    if value <= 0.0 {
+        return Err(Error::new(
+            ErrorKind::OutOfRange,
+            format!("{name} must be greater than zero (got {value} {unit})"),
+        )
+        .with("quantity", name)
+        .with("value", value)
+        .with("unit", unit));
+    }
+    Ok(value)
+}

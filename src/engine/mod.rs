@@ -1,0 +1,11 @@
+//! The chemistry engine: formulas, atomic weights, exact balancing, traced conversions.
+//!
+//! Pure Rust with no UI, no I/O and no global mutable state. Reference data in `data/` is
+//! embedded at build time (atomic weights as generated code, catalogs with `include_str!`)
+//! and parsed into immutable values; every public function that takes user input returns
+//! [`Result`]; nothing here panics on what an operator types.
+
+pub mod elements;
+mod error;
+
+pub use error::{Error, ErrorKind, Result, check_positive, check_range};
