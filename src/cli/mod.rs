@@ -2,10 +2,163 @@
 //!
 //! Every subcommand prints human text, or exactly one JSON object with `--json`. Failures exit
 //! non-zero with one line on stderr (and, with `--json`, `{"error": {"kind", "message"}}` on
-//! stdout) so scripts never have to parse prose.
+//! stdout) so scripts never have to parse prose. Each subcommand is a function from parsed
+//! [`Args`] to a [`Report`]; `molefeed batch` calls the same functions, so a batch line and the
+//! subcommand always agree.
+
+mod args;
+mod chemistry;
+
+pub use args::Args;
+
+use serde_json::{Value, json};
+use std::io::Write;
+
+/// What a subcommand produces: the text a person reads and the object a script reads.
+pub struct Report {
+    pub human: String,
+    pub json: Value,
+}
+
+/// A CLI failure: a stable kind code and a one-line message.
+#[derive(Debug)]
+pub struct CliError {
+    pub kind: String,
+    pub message: String,
+}
+
+impl CliError {
+    pub fn usage(message: impl Into<String>) -> CliError {
+        CliError {
+            kind: "usage".into(),
+            message: message.into(),
+        }
+    }
+
+    pub fn io(message: impl Into<String>) -> CliError {
+        CliError {
+            kind: "io".into(),
+            message: message.into(),
+        }
+    }
+
+    pub fn to_json(&self) -> Value {
+        json!({"error": {"kind": self.kind, "message": self.message}})
+    }
+}
+
+impl From<crate::engine::Error> for CliError {
+    fn from(e: crate::engine::Error) -> CliError {
+        CliError {
+            kind: e.kind().code().into(),
+            message: e.to_string(),
+        }
+    }
+}
+
+pub type CliResult = Result<Report, CliError>;
+
+/// The subcommands, by name. `batch` and the app-opening default are handled in [`main`].
+pub fn dispatch(command: &str, args: &Args) -> CliResult {
+    let result = match command {
+        "mass" => chemistry::mass(args),
+        "balance" => chemistry::balance(args),
+        "convert" => chemistry::convert(args),
+        other => {
+            return Err(CliError::usage(format!(
+                "unknown command '{other}'; try 'molefeed help'"
+            )));
+        }
+    }?;
+    args.reject_unused()?;
+    Ok(result)
+}
+
+const HELP: &str = "molefeed — chemical feed for water treatment (advisory; a licensed operator decides)
+
+usage: molefeed                       open the app on the built-in demo site
+       molefeed COMMAND [ARGS] [--json]
+
+chemistry:  mass FORMULA | balance \"EQUATION\" | convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F
+";
 
 /// Runs the CLI on `args` (without the program name) and returns the process exit code.
-pub fn main(args: &[String]) -> i32 {
-    let _ = args;
+pub fn main(argv: &[String]) -> i32 {
+    let Some(command) = argv.first() else {
+        return open_app();
+    };
+    if matches!(command.as_str(), "help" | "--help" | "-h") {
+        print!("{HELP}");
+        return 0;
+    }
+    if command == "batch" {
+        return batch();
+    }
+    let args = match Args::parse(&argv[1..]) {
+        Ok(args) => args,
+        Err(e) => return fail(&e, argv.iter().any(|a| a == "--json")),
+    };
+    let json = args.switch("json");
+    match dispatch(command, &args) {
+        Ok(report) => {
+            let mut out = std::io::stdout().lock();
+            let _ = if json {
+                writeln!(out, "{}", report.json)
+            } else {
+                writeln!(out, "{}", report.human.trim_end())
+            };
+            0
+        }
+        Err(e) => fail(&e, json),
+    }
+}
+
+fn fail(e: &CliError, json: bool) -> i32 {
+    eprintln!("molefeed: {}", e.message);
+    if json {
+        println!("{}", e.to_json());
+    }
+    if e.kind == "usage" { 2 } else { 1 }
+}
+
+/// `molefeed batch`: one JSON request per stdin line, one JSON result per stdout line, in order.
+fn batch() -> i32 {
+    let stdin = std::io::stdin();
+    let mut out = std::io::BufWriter::new(std::io::stdout().lock());
+    let mut failures = 0;
+    for line in std::io::BufRead::lines(stdin.lock()) {
+        let Ok(line) = line else { break };
+        if line.trim().is_empty() {
+            continue;
+        }
+        let result = batch_line(&line);
+        if result.is_err() {
+            failures += 1;
+        }
+        let value = match result {
+            Ok(report) => report.json,
+            Err(e) => e.to_json(),
+        };
+        let _ = writeln!(out, "{value}");
+    }
+    let _ = out.flush();
+    if failures > 0 { 1 } else { 0 }
+}
+
+fn batch_line(line: &str) -> CliResult {
+    let request: Value = serde_json::from_str(line)
+        .map_err(|e| CliError::usage(format!("batch line is not JSON: {e}")))?;
+    let command = request["command"]
+        .as_str()
+        .ok_or_else(|| CliError::usage("batch line needs a \"command\" string"))?;
+    let args = Args::from_json(&request["args"])?;
+    dispatch(command, &args)
+}
+
+fn open_app() -> i32 {
+    let site = "built-in demo site";
+    println!(
+        "Molefeed: the app is not built into this binary; run with the default `app` feature ({site})."
+    );
     0
 }

@@ -1,0 +1,193 @@
+//! A small, strict flag parser shared by subcommands and `molefeed batch`.
+//!
+//! Strict because a mistyped flag on a dosing calculation must not be silently ignored:
+//! every flag given must be read by the subcommand, or the command fails with a usage error.
+
+use super::CliError;
+use serde_json::Value;
+use std::cell::RefCell;
+use std::collections::BTreeMap;
+
+/// Parsed arguments: positionals in order, and `--name value` / `--switch` flags.
+#[derive(Debug, Default)]
+pub struct Args {
+    positional: Vec<String>,
+    flags: BTreeMap<String, Option<String>>,
+    used: RefCell<Vec<String>>,
+}
+
+impl Args {
+    /// Parses command-line words. A flag takes the next word as its value unless that word is
+    /// itself a flag; negative numbers (`--amount -3`) are values, not flags.
+    pub fn parse(words: &[String]) -> Result<Args, CliError> {
+        let mut args = Args::default();
+        let mut i = 0;
+        while i < words.len() {
+            let word = &words[i];
+            if let Some(name) = word.strip_prefix("--") {
+                if let Some((name, value)) = name.split_once('=') {
+                    args.insert(name, Some(value.to_string()))?;
+                } else {
+                    let next = words.get(i + 1).filter(|w| !is_flag(w));
+                    if let Some(value) = next {
+                        args.insert(name, Some(value.clone()))?;
+                        i += 1;
+                    } else {
+                        args.insert(name, None)?;
+                    }
+                }
+            } else {
+                args.positional.push(word.clone());
+            }
+            i += 1;
+        }
+        Ok(args)
+    }
+
+    /// Builds arguments from a batch request's `args` object (names as the long flags, `_` for `-`).
+    pub fn from_json(value: &Value) -> Result<Args, CliError> {
+        let mut args = Args::default();
+        let Some(object) = value.as_object() else {
+            return if value.is_null() {
+                Ok(args)
+            } else {
+                Err(CliError::usage("\"args\" must be an object"))
+            };
+        };
+        for (name, v) in object {
+            let name = name.replace('_', "-");
+            if name == "positional" {
+                for p in v.as_array().into_iter().flatten() {
+                    args.positional.push(json_text(p));
+                }
+                continue;
+            }
+            match v {
+                Value::Bool(true) => args.insert(&name, None)?,
+                Value::Bool(false) | Value::Null => {}
+                other => args.insert(&name, Some(json_text(other)))?,
+            }
+        }
+        args.insert("json", None).ok();
+        Ok(args)
+    }
+
+    fn insert(&mut self, name: &str, value: Option<String>) -> Result<(), CliError> {
+        if self.flags.insert(name.to_string(), value).is_some() {
+            return Err(CliError::usage(format!("--{name} given twice")));
+        }
+        Ok(())
+    }
+
+    fn mark(&self, name: &str) {
+        self.used.borrow_mut().push(name.to_string());
+    }
+
+    /// The n-th positional argument.
+    pub fn positional(&self, n: usize) -> Option<&str> {
+        self.positional.get(n).map(String::as_str)
+    }
+
+    pub fn required_positional(&self, n: usize, what: &str) -> Result<&str, CliError> {
+        self.positional(n)
+            .ok_or_else(|| CliError::usage(format!("missing {what}")))
+    }
+
+    /// A boolean switch such as `--json`.
+    pub fn switch(&self, name: &str) -> bool {
+        self.mark(name);
+        self.flags.contains_key(name)
+    }
+
+    pub fn text(&self, name: &str) -> Result<Option<&str>, CliError> {
+        self.mark(name);
+        match self.flags.get(name) {
+            None => Ok(None),
+            Some(None) => Err(CliError::usage(format!("--{name} needs a value"))),
+            Some(Some(v)) => Ok(Some(v.as_str())),
+        }
+    }
+
+    pub fn required_text(&self, name: &str) -> Result<&str, CliError> {
+        self.text(name)?
+            .ok_or_else(|| CliError::usage(format!("missing --{name}")))
+    }
+
+    pub fn number(&self, name: &str) -> Result<Option<f64>, CliError> {
+        let Some(text) = self.text(name)? else {
+            return Ok(None);
+        };
+        parse_number(text).map(Some).ok_or_else(|| CliError {
+            kind: "invalid-input".into(),
+            message: format!("--{name} must be a number, got '{text}'"),
+        })
+    }
+
+    pub fn required_number(&self, name: &str) -> Result<f64, CliError> {
+        self.number(name)?
+            .ok_or_else(|| CliError::usage(format!("missing --{name}")))
+    }
+
+    /// Fails if any flag was given that no code read: a typo must not change a dose silently.
+    pub fn reject_unused(&self) -> Result<(), CliError> {
+        let used = self.used.borrow();
+        match self.flags.keys().find(|k| !used.iter().any(|u| u == *k)) {
+            Some(unused) => Err(CliError::usage(format!(
+                "unknown flag --{unused} for this command"
+            ))),
+            None => Ok(()),
+        }
+    }
+}
+
+fn is_flag(word: &str) -> bool {
+    word.starts_with("--") && word.len() > 2
+}
+
+fn json_text(value: &Value) -> String {
+    match value {
+        Value::String(s) => s.clone(),
+        other => other.to_string(),
+    }
+}
+
+/// Parses a finite decimal number; rejects NaN and infinities, which no measurement can be.
+pub fn parse_number(text: &str) -> Option<f64> {
+    let value: f64 = text.trim().parse().ok()?;
+    value.is_finite().then_some(value)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn words(s: &str) -> Vec<String> {
+        s.split_whitespace().map(String::from).collect()
+    }
+
+    #[test]
+    fn flags_values_and_positionals() {
+        let args = Args::parse(&words("H2O --amount -3 --json --unit=g")).unwrap();
+        assert_eq!(args.positional(0), Some("H2O"));
+        assert_eq!(args.required_number("amount").unwrap(), -3.0);
+        assert!(args.switch("json"));
+        assert_eq!(args.text("unit").unwrap(), Some("g"));
+        assert!(args.reject_unused().is_ok());
+    }
+
+    #[test]
+    fn unused_and_duplicate_flags_fail() {
+        let args = Args::parse(&words("--dose 3 --dsoe 4")).unwrap();
+        args.number("dose").unwrap();
+        assert!(args.reject_unused().unwrap_err().message.contains("--dsoe"));
+        assert!(Args::parse(&words("--dose 3 --dose 4")).is_err());
+    }
+
+    #[test]
+    fn non_numbers_are_rejected() {
+        for bad in ["abc", "NaN", "inf", ""] {
+            let args = Args::from_json(&serde_json::json!({ "dose": bad })).unwrap();
+            assert!(args.number("dose").is_err(), "{bad}");
+        }
+    }
+}
