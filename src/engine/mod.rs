@@ -7,5 +7,7 @@
 
 pub mod elements;
 mod error;
+pub mod formula;
+pub mod reaction;
 
 pub use error::{Error, ErrorKind, Result, check_positive, check_range};
