@@ -1,0 +1,479 @@
+//! Speciation: given component totals, temperature and the fixed charge excess of the inputs,
+//! find {H+} and every species.
+//!
+//! Design: three nested, individually robust loops. Outermost, ionic strength by fixed-point
+//! iteration (activity coefficients are frozen inside). In the middle, the charge balance
+//! Σ z·c − Z = 0 is solved for log{H+} by Brent's method on a bracket that is widened until it
+//! holds a sign change (the balance is monotone in log{H+}). Innermost, at a given {H+}, the
+//! mass balances of the master species (ion pairs couple them) are solved by damped
+//! Gauss–Seidel substitution, warm-started from the previous call. An optional solubility cap
+//! per component models a hydroxide phase at equilibrium: the master's activity may not exceed
+//! the phase's, and the excess is reported as precipitated.
+
+use super::activity;
+use super::constants::{Component, NC, Table, Thermo};
+use super::solve::brent;
+use crate::engine::{Error, ErrorKind, Result};
+
+/// What the solver conserves.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Problem {
+    /// Total of each component, mol/L.
+    pub totals: [f64; NC],
+    /// Σ z·c of the inputs (eq/L): the charge imbalance, carried unchanged through doses.
+    pub z_excess: f64,
+    /// Ionic strength of ions not modelled (from TDS or conductivity), mol/L.
+    pub i_background: f64,
+    /// Per component, the index of a phase whose saturation caps the dissolved master.
+    pub caps: [Option<usize>; NC],
+}
+
+impl Problem {
+    pub fn new(totals: [f64; NC]) -> Problem {
+        Problem {
+            totals,
+            z_excess: 0.0,
+            i_background: 0.0,
+            caps: [None; NC],
+        }
+    }
+}
+
+/// A solved water: concentrations (mol/L) of every species of the table.
+#[derive(Clone, Debug)]
+pub struct Speciation {
+    /// log10 of the H+ activity (= −pH).
+    pub log_h: f64,
+    pub conc: Vec<f64>,
+    pub gamma: Vec<f64>,
+    pub gamma_h: f64,
+    /// Free concentration of each master species.
+    pub free: [f64; NC],
+    pub ionic_strength: f64,
+    pub totals: [f64; NC],
+}
+
+/// Scratch data for one temperature: the table, its constants and per-species helpers.
+#[derive(Clone, Debug)]
+pub struct Solver {
+    pub table: &'static Table,
+    pub th: Thermo,
+    /// For each component, the species containing it with their counts.
+    by_comp: Vec<Vec<(usize, i32)>>,
+}
+
+const PH_MIN: f64 = -2.0;
+const PH_MAX: f64 = 16.0;
+
+impl Solver {
+    pub fn new(t_celsius: f64) -> Solver {
+        let table = Table::embedded();
+        let mut by_comp = vec![Vec::new(); NC];
+        for (s, def) in table.species.iter().enumerate() {
+            for &(c, n) in &def.comp {
+                by_comp[c.index()].push((s, n));
+            }
+        }
+        Solver {
+            table,
+            th: table.at(t_celsius),
+            by_comp,
+        }
+    }
+
+    /// Concentrations of all species at a given log{H+}, solving the mass balances.
+    /// `free` is the warm start on entry and the solution on exit.
+    fn distribute(
+        &self,
+        log_h: f64,
+        p: &Problem,
+        gamma: &[f64],
+        free: &mut [f64; NC],
+        conc: &mut [f64],
+    ) {
+        let species = &self.table.species;
+        let a_h = 10f64.powf(log_h);
+        // kg[s] = K·{H+}^h / γ, held in `conc` until the masters are known.
+        let mut kg = [0.0f64; 64];
+        let n = species.len().min(64);
+        for s in 0..n {
+            kg[s] = self.th.k[s] * a_h.powi(species[s].h) / gamma[s];
+        }
+        let mut cap_m = [f64::INFINITY; NC];
+        for c in 0..NC {
+            if let Some(ph) = p.caps[c] {
+                let def = &self.table.phases[ph];
+                // IAP = {M}·{H+}^h = K  ->  {M} = K / {H+}^h (single-component phases).
+                let a_m = 10f64.powf(self.th.phase_log_k[ph] - def.h as f64 * log_h);
+                cap_m[c] = a_m / gamma[c];
+            }
+        }
+        let mut act = [0.0f64; NC];
+        for c in 0..NC {
+            if p.totals[c] <= 0.0 {
+                free[c] = 0.0;
+            } else if !(free[c] > 0.0) || !free[c].is_finite() {
+                free[c] = p.totals[c];
+            }
+            act[c] = free[c] * gamma[c];
+        }
+        let species_conc = |s: usize, act: &[f64; NC]| -> f64 {
+            let mut v = kg[s];
+            for &(c, k) in &species[s].comp {
+                v *= act[c.index()].powi(k);
+            }
+            v
+        };
+        for iter in 0..300 {
+            let mut worst: f64 = 0.0;
+            for c in 0..NC {
+                let total = p.totals[c];
+                if total <= 0.0 {
+                    continue;
+                }
+                let m = free[c];
+                let mut d = 0.0;
+                for &(s, k) in &self.by_comp[c] {
+                    d += k as f64 * species_conc(s, &act);
+                }
+                // d/m = Σ ν c_s / m_c; new m from T = m · (d/m).
+                let mut m_new = total * m / d;
+                if iter >= 20 {
+                    m_new = (m_new * m).sqrt();
+                }
+                if m_new > cap_m[c] {
+                    m_new = cap_m[c];
+                }
+                if !(m_new > 0.0) || !m_new.is_finite() {
+                    m_new = f64::MIN_POSITIVE;
+                }
+                worst = worst.max((m_new / m - 1.0).abs());
+                free[c] = m_new;
+                act[c] = m_new * gamma[c];
+            }
+            if worst < 1e-13 {
+                break;
+            }
+        }
+        for s in 0..n {
+            conc[s] = species_conc(s, &act);
+        }
+    }
+
+    /// Σ z·c − Z at a given log{H+} (increasing in log{H+}).
+    fn charge(
+        &self,
+        log_h: f64,
+        p: &Problem,
+        gamma: &[f64],
+        gamma_h: f64,
+        free: &mut [f64; NC],
+        conc: &mut [f64],
+    ) -> f64 {
+        self.distribute(log_h, p, gamma, free, conc);
+        let mut sum = 10f64.powf(log_h) / gamma_h;
+        for (c, s) in conc.iter().zip(&self.table.species) {
+            sum += s.z as f64 * c;
+        }
+        sum - p.z_excess
+    }
+
+    fn ionic_strength(&self, log_h: f64, gamma_h: f64, conc: &[f64], background: f64) -> f64 {
+        let mut i = 10f64.powf(log_h) / gamma_h;
+        for (c, s) in conc.iter().zip(&self.table.species) {
+            i += (s.z * s.z) as f64 * c;
+        }
+        0.5 * i + background
+    }
+
+    fn estimate_i(&self, p: &Problem) -> f64 {
+        let mut i = 1e-7;
+        for c in Component::ALL {
+            let z = self.table.species[c.index()].z;
+            i += 0.5 * (z * z) as f64 * p.totals[c.index()];
+        }
+        i + p.i_background
+    }
+
+    /// Solves charge and mass balances for {H+}. `warm` (a nearby solution) speeds it up.
+    pub fn solve(&self, p: &Problem, warm: Option<&Speciation>) -> Result<Speciation> {
+        for t in p.totals {
+            if !(t.is_finite() && t >= 0.0) {
+                return Err(Error::new(
+                    ErrorKind::InvalidInput,
+                    "a total concentration is not a non-negative number",
+                ));
+            }
+        }
+        let ns = self.table.species.len();
+        let mut gamma = vec![1.0; ns];
+        let mut conc = vec![0.0; ns];
+        let (mut i, mut free, mut x0) = match warm {
+            Some(w) => (w.ionic_strength, w.free, w.log_h),
+            None => (self.estimate_i(p), p.totals, -7.0),
+        };
+        let mut log_h = x0;
+        let mut gamma_h;
+        for _ in 0..60 {
+            gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+            log_h = self.solve_h(x0, p, &gamma, gamma_h, &mut free, &mut conc)?;
+            let i_new = self.ionic_strength(log_h, gamma_h, &conc, p.i_background);
+            let done = (i_new - i).abs() <= 1e-12 + 1e-10 * i;
+            i = i_new;
+            x0 = log_h;
+            if done {
+                break;
+            }
+        }
+        // Final consistency pass at the converged ionic strength.
+        gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+        self.distribute(log_h, p, &gamma, &mut free, &mut conc);
+        Ok(Speciation {
+            log_h,
+            conc,
+            gamma,
+            gamma_h,
+            free,
+            ionic_strength: i,
+            totals: p.totals,
+        })
+    }
+
+    fn solve_h(
+        &self,
+        x0: f64,
+        p: &Problem,
+        gamma: &[f64],
+        gamma_h: f64,
+        free: &mut [f64; NC],
+        conc: &mut [f64],
+    ) -> Result<f64> {
+        let mut f = |x: f64| self.charge(x, p, gamma, gamma_h, free, conc);
+        let (lo_limit, hi_limit) = (-PH_MAX, -PH_MIN);
+        let mut step = 0.05;
+        let (mut lo, mut hi) = ((x0 - step).max(lo_limit), (x0 + step).min(hi_limit));
+        let (mut flo, mut fhi) = (f(lo), f(hi));
+        while flo > 0.0 && lo > lo_limit {
+            step *= 4.0;
+            hi = lo;
+            fhi = flo;
+            lo = (lo - step).max(lo_limit);
+            flo = f(lo);
+        }
+        while fhi < 0.0 && hi < hi_limit {
+            step *= 4.0;
+            lo = hi;
+            flo = fhi;
+            hi = (hi + step).min(hi_limit);
+            fhi = f(hi);
+        }
+        brent(&mut f, lo, hi, flo, fhi, 1e-11).ok_or_else(|| {
+            Error::new(
+                ErrorKind::OutOfRange,
+                format!(
+                    "no pH between {PH_MIN} and {PH_MAX} balances the charges: the amounts are beyond what the water model covers"
+                ),
+            )
+        })
+    }
+
+    /// Alkalinity (eq/L) of a speciation: Σ alk_s·c_s − [H+].
+    pub fn alkalinity(&self, sp: &Speciation) -> f64 {
+        let mut a = -10f64.powf(sp.log_h) / sp.gamma_h;
+        for (c, s) in sp.conc.iter().zip(&self.table.species) {
+            a += s.alkalinity * c;
+        }
+        a
+    }
+
+    /// Charge sum Σ z·c (eq/L) including H+.
+    pub fn charge_sum(&self, sp: &Speciation) -> f64 {
+        let mut sum = 10f64.powf(sp.log_h) / sp.gamma_h;
+        for (c, s) in sp.conc.iter().zip(&self.table.species) {
+            sum += s.z as f64 * c;
+        }
+        sum
+    }
+
+    /// Dissolved total of a component (mol/L).
+    pub fn dissolved(&self, sp: &Speciation, c: Component) -> f64 {
+        self.by_comp[c.index()]
+            .iter()
+            .map(|&(s, k)| k as f64 * sp.conc[s])
+            .sum()
+    }
+
+    /// Concentration of a named species (mol/L), 0 if not in the table.
+    pub fn species(&self, sp: &Speciation, name: &str) -> f64 {
+        if name == "H+" {
+            return 10f64.powf(sp.log_h) / sp.gamma_h;
+        }
+        self.table.species_index(name).map_or(0.0, |s| sp.conc[s])
+    }
+
+    /// Saturation index log10(IAP/K) of a phase.
+    pub fn saturation_index(&self, sp: &Speciation, phase: usize) -> f64 {
+        let def = &self.table.phases[phase];
+        let mut log_iap = def.h as f64 * sp.log_h;
+        for &(c, k) in &def.comp {
+            let a = sp.free[c.index()] * sp.gamma[c.index()];
+            if a <= 0.0 {
+                return f64::NEG_INFINITY;
+            }
+            log_iap += k as f64 * a.log10();
+        }
+        log_iap - self.th.phase_log_k[phase]
+    }
+
+    /// Speciation at a fixed pH (no charge balance), ionic strength iterated.
+    pub fn at_ph(&self, ph: f64, p: &Problem) -> Speciation {
+        let log_h = -ph;
+        let ns = self.table.species.len();
+        let mut gamma = vec![1.0; ns];
+        let mut conc = vec![0.0; ns];
+        let mut free = p.totals;
+        let mut i = self.estimate_i(p);
+        let mut gamma_h;
+        for _ in 0..60 {
+            gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+            self.distribute(log_h, p, &gamma, &mut free, &mut conc);
+            let i_new = self.ionic_strength(log_h, gamma_h, &conc, p.i_background);
+            let done = (i_new - i).abs() <= 1e-12 + 1e-10 * i;
+            i = i_new;
+            if done {
+                break;
+            }
+        }
+        gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+        self.distribute(log_h, p, &gamma, &mut free, &mut conc);
+        Speciation {
+            log_h,
+            conc,
+            gamma,
+            gamma_h,
+            free,
+            ionic_strength: i,
+            totals: p.totals,
+        }
+    }
+
+    /// Given pH and alkalinity (eq/L), finds the carbonate total so that the water's
+    /// alkalinity matches, and returns the speciation (its charge sum becomes Z).
+    pub fn from_ph_alkalinity(&self, ph: f64, alkalinity: f64, p: &Problem) -> Result<Speciation> {
+        let log_h = -ph;
+        let ns = self.table.species.len();
+        let mut gamma = vec![1.0; ns];
+        let mut conc = vec![0.0; ns];
+        let mut q = p.clone();
+        let mut i = self.estimate_i(p) + alkalinity;
+        let mut free = p.totals;
+        let co3 = Component::CO3.index();
+        let mut gamma_h;
+        for _ in 0..60 {
+            gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+            let mut alk_at = |dic: f64, free: &mut [f64; NC], conc: &mut [f64]| -> f64 {
+                q.totals[co3] = dic;
+                self.distribute(log_h, &q, &gamma, free, conc);
+                let mut a = -10f64.powf(log_h) / gamma_h;
+                for (c, s) in conc.iter().zip(&self.table.species) {
+                    a += s.alkalinity * c;
+                }
+                a - alkalinity
+            };
+            let f0 = alk_at(0.0, &mut free, &mut conc);
+            if f0 > 0.0 {
+                return Err(Error::new(
+                    ErrorKind::InvalidInput,
+                    format!(
+                        "alkalinity is lower than the hydroxide alkalinity alone at pH {ph}: check pH and alkalinity"
+                    ),
+                )
+                .with("quantity", "alkalinity"));
+            }
+            let mut hi = (alkalinity.max(1e-9)) * 2.0;
+            let mut fhi = alk_at(hi, &mut free, &mut conc);
+            let mut guard = 0;
+            while fhi < 0.0 && guard < 80 {
+                hi *= 4.0;
+                fhi = alk_at(hi, &mut free, &mut conc);
+                guard += 1;
+            }
+            let dic = brent(
+                |d| alk_at(d, &mut free, &mut conc),
+                0.0,
+                hi,
+                f0,
+                fhi,
+                1e-14 * hi.max(1e-6),
+            )
+            .ok_or_else(|| {
+                Error::new(
+                    ErrorKind::InvalidInput,
+                    "alkalinity and pH are inconsistent (no carbonate total matches)",
+                )
+            })?;
+            q.totals[co3] = dic;
+            self.distribute(log_h, &q, &gamma, &mut free, &mut conc);
+            let i_new = self.ionic_strength(log_h, gamma_h, &conc, p.i_background);
+            let done = (i_new - i).abs() <= 1e-12 + 1e-10 * i;
+            i = i_new;
+            if done {
+                break;
+            }
+        }
+        gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+        self.distribute(log_h, &q, &gamma, &mut free, &mut conc);
+        Ok(Speciation {
+            log_h,
+            conc,
+            gamma,
+            gamma_h,
+            free,
+            ionic_strength: i,
+            totals: q.totals,
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn pure_water_ph(t: f64) -> f64 {
+        let solver = Solver::new(t);
+        let sp = solver.solve(&Problem::new([0.0; NC]), None).unwrap();
+        -sp.log_h
+    }
+
+    fn check(t: f64, expected: f64) {
+        let got = pure_water_ph(t);
+        assert!(
+            (got - expected).abs() < 0.005,
+            "pure water at {t} C: pH {got:.4}, expected {expected}"
+        );
+    }
+
+    #[test]
+    fn pure_water_follows_kw() {
+        // pH = pKw/2: 14.00/2 at 25 C; 14.94/2 at 0 C (references.md §1, Harned & Owen) ;
+        // 13.68/2 at 35 C (same fit evaluated by hand: 6.0875 - 4470.99/308.15 - 0.01706*308.15).
+        check(25.0, 7.00);
+        check(0.0, 7.47);
+        check(35.0, 6.84);
+    }
+
+    #[test]
+    fn hocl_fraction_at_ph_7_5() {
+        // Morris (1966): pKa 7.54 at 25 C, so HOCl/(HOCl+OCl-) = 1/(1+10^(7.5-7.54)) ≈ 0.52 at
+        // low ionic strength (activity corrections shift it by < 0.01 at I = 1 mM).
+        let solver = Solver::new(25.0);
+        let mut totals = [0.0; NC];
+        totals[Component::OCl.index()] = 2e-5;
+        totals[Component::Na.index()] = 1e-3;
+        totals[Component::Cl.index()] = 1e-3;
+        let sp = solver.at_ph(7.5, &Problem::new(totals));
+        let hocl = solver.species(&sp, "HOCl");
+        let frac = hocl / 2e-5;
+        assert!((frac - 0.52).abs() < 0.015, "HOCl fraction {frac:.3}");
+    }
+}
