@@ -598,7 +598,7 @@ pub fn neutralize(
     let purity = check_range("purity", purity, 0.01, 1.0, "")?;
     let r = dose_for_ph(state, chemical, target_ph, Precipitation::None)?;
     let after = state.dosed(chemical, r.dose_mg_l, Precipitation::None)?;
-    let lsi = stability(&after).ok().map(|s| s.langelier_index);
+    let lsi = stability(&after).ok().and_then(|s| s.langelier_index);
     Ok(Neutralization {
         dose_mg_l: r.dose_mg_l,
         product_mg_l: r.dose_mg_l / purity,

@@ -17,12 +17,12 @@ use crate::engine::{Error, ErrorKind, Result};
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Stability {
     pub ph: f64,
-    /// pH of saturation at the same calcium and alkalinity.
-    pub phs: f64,
+    /// pH of saturation at the same calcium and alkalinity (`None` when no pH ≤ 14 saturates).
+    pub phs: Option<f64>,
     /// LSI = pH − pHs (Standard Methods 2330 B).
-    pub langelier_index: f64,
+    pub langelier_index: Option<f64>,
     /// RSI = 2 pHs − pH (Ryznar 1944).
-    pub ryznar_index: f64,
+    pub ryznar_index: Option<f64>,
     /// Closed-system calcium carbonate precipitation potential, mg/L as CaCO3 (+ precipitates).
     pub ccpp_mg_l_as_caco3: f64,
     pub si_calcite: f64,
@@ -55,53 +55,65 @@ pub fn stability(state: &WaterState) -> Result<Stability> {
     let ph = state.ph();
     let si = s.saturation_index(&state.sp, calcite);
 
-    // pHs: SI(pH) at fixed Ca and alkalinity rises with pH.
-    let mut p = state.problem.clone();
-    p.totals[Component::CO3.index()] = 0.0;
-    let mut failure = None;
-    let mut si_at = |ph: f64| match s.from_ph_alkalinity(ph, alk, &p) {
-        Ok(sp) => s.saturation_index(&sp, calcite),
-        Err(e) => {
-            failure = Some(e);
-            f64::NAN
-        }
-    };
-    // Start from the estimate pH − SI (exact when the carbonate is all HCO3-).
-    let guess = (ph - si).clamp(4.0, 13.0);
-    let (mut lo, mut hi) = (guess - 0.1, guess + 0.1);
-    let (mut flo, mut fhi) = (si_at(lo), si_at(hi));
-    while flo > 0.0 && lo > 2.0 {
-        hi = lo;
-        fhi = flo;
-        lo -= 1.0;
-        flo = si_at(lo);
-    }
-    while fhi < 0.0 && hi < 13.9 {
-        lo = hi;
-        flo = fhi;
-        hi = (hi + 1.0).min(14.0);
-        fhi = si_at(hi);
-    }
-    let phs = brent(&mut si_at, lo, hi, flo, fhi, 1e-9);
-    if let Some(e) = failure {
-        return Err(e);
-    }
-    let phs = phs.ok_or_else(|| {
-        Error::new(
-            ErrorKind::OutOfRange,
-            "no pH between 2 and 14 saturates this water with calcite",
-        )
-    })?;
-
+    let phs = phs(state, calcite, alk, ph - si);
     let ccpp = ccpp(state, calcite)?;
     Ok(Stability {
         ph,
         phs,
-        langelier_index: ph - phs,
-        ryznar_index: 2.0 * phs - ph,
+        langelier_index: phs.map(|p| ph - p),
+        ryznar_index: phs.map(|p| 2.0 * p - ph),
         ccpp_mg_l_as_caco3: ccpp * 1000.0 * masses()?.caco3,
         si_calcite: si,
     })
+}
+
+/// pHs: the pH at which SI(pH), at fixed Ca and alkalinity, is zero (SI rises with pH).
+/// `None` when no pH up to 14 saturates the water: in very soft, low-alkalinity water the
+/// hydroxide alone would exceed the alkalinity before calcite saturates.
+fn phs(state: &WaterState, calcite: usize, alk: f64, guess: f64) -> Option<f64> {
+    let s = &state.solver;
+    let mut p = state.problem.clone();
+    p.totals[Component::CO3.index()] = 0.0;
+    let si_at = |ph: f64| -> Option<f64> {
+        let sp = s.from_ph_alkalinity(ph, alk, &p).ok()?;
+        Some(s.saturation_index(&sp, calcite))
+    };
+    // Start from pH − SI (exact when the carbonate is all HCO3-).
+    let guess = guess.clamp(2.0, 13.9);
+    let (mut lo, mut hi) = (guess - 0.1, guess + 0.1);
+    let mut flo = si_at(lo)?;
+    while flo > 0.0 {
+        if lo <= 1.0 {
+            return None;
+        }
+        lo -= 1.0;
+        flo = si_at(lo)?;
+    }
+    let mut step = 0.5;
+    let mut fhi = loop {
+        match si_at(hi) {
+            Some(v) => break v,
+            None if hi - step > lo => hi = (hi - step).max(lo + 1e-6),
+            None => return None,
+        }
+        step *= 0.5;
+    };
+    while fhi < 0.0 {
+        if step < 1e-4 || hi >= 14.0 {
+            return None;
+        }
+        let next = (hi + step).min(14.0);
+        match si_at(next) {
+            Some(v) => {
+                lo = hi;
+                flo = fhi;
+                hi = next;
+                fhi = v;
+            }
+            None => step *= 0.5,
+        }
+    }
+    brent(|x| si_at(x).unwrap_or(f64::NAN), lo, hi, flo, fhi, 1e-9)
 }
 
 /// mol/L of CaCO3 to precipitate (+) or dissolve (−) for SI = 0 in a closed system.
