@@ -8,6 +8,7 @@
 
 mod args;
 mod chemistry;
+mod water;
 
 pub use args::Args;
 
@@ -64,6 +65,12 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "mass" => chemistry::mass(args),
         "balance" => chemistry::balance(args),
         "convert" => chemistry::convert(args),
+        "ph-after" => water::ph_after(args),
+        "dose-for-ph" => water::dose_for_ph(args),
+        "stability" => water::stability(args),
+        "curve" => water::curve(args),
+        "coagulant" => water::coagulant(args),
+        "neutralize" => water::neutralize(args),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -79,6 +86,7 @@ const HELP: &str = "molefeed — chemical feed for water treatment (advisory; a 
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
+water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [ions]; see docs/water-notes.md)
 chemistry:  mass FORMULA | balance \"EQUATION\" | convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F
 ";
 
