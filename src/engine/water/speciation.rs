@@ -11,7 +11,7 @@
 //! the phase's, and the excess is reported as precipitated.
 
 use super::activity;
-use super::constants::{Component, NC, Table, Thermo};
+use super::constants::{Component, GammaModel, NC, Table, Thermo};
 use super::solve::brent;
 use crate::engine::{Error, ErrorKind, Result};
 
@@ -60,29 +60,104 @@ pub struct Solver {
     pub th: Thermo,
     /// For each component, the species containing it with their counts.
     by_comp: Vec<Vec<(usize, i32)>>,
+    /// Per species: up to three (component, count) pairs, flattened for the inner loops.
+    comp_idx: Vec<[u8; 3]>,
+    comp_n: Vec<[u8; 3]>,
+    comp_len: Vec<u8>,
+    /// Per species: bit mask of the components it contains.
+    mask: Vec<u16>,
+    /// Per species: index of its activity class (same charge and model share γ).
+    class: Vec<usize>,
+    classes: Vec<(GammaModel, i32)>,
+    h_class: usize,
 }
 
+/// Most species in the table the fixed-size scratch arrays hold.
+const MAX_SPECIES: usize = 64;
 const PH_MIN: f64 = -2.0;
 const PH_MAX: f64 = 16.0;
+const LN10: f64 = std::f64::consts::LN_10;
+
+fn pow10(x: f64) -> f64 {
+    (x * LN10).exp()
+}
 
 impl Solver {
     pub fn new(t_celsius: f64) -> Solver {
         let table = Table::embedded();
         let mut by_comp = vec![Vec::new(); NC];
-        for (s, def) in table.species.iter().enumerate() {
-            for &(c, n) in &def.comp {
-                by_comp[c.index()].push((s, n));
+        let (mut comp_idx, mut comp_n, mut comp_len, mut mask) = (vec![], vec![], vec![], vec![]);
+        let mut classes: Vec<(GammaModel, i32)> = Vec::new();
+        let mut class = Vec::new();
+        let mut class_of = |g: GammaModel, z: i32| -> usize {
+            match classes.iter().position(|&(m, zz)| m == g && zz == z) {
+                Some(i) => i,
+                None => {
+                    classes.push((g, z));
+                    classes.len() - 1
+                }
             }
+        };
+        for (s, def) in table.species.iter().take(MAX_SPECIES).enumerate() {
+            let (mut idx, mut n, mut m) = ([0u8; 3], [0u8; 3], 0u16);
+            for (k, &(c, count)) in def.comp.iter().take(3).enumerate() {
+                by_comp[c.index()].push((s, count));
+                idx[k] = c.index() as u8;
+                n[k] = count.clamp(0, 255) as u8;
+                m |= 1 << c.index();
+            }
+            comp_idx.push(idx);
+            comp_n.push(n);
+            comp_len.push(def.comp.len().min(3) as u8);
+            mask.push(m);
+            class.push(class_of(def.gamma, def.z));
         }
+        let h_class = class_of(table.h_gamma, 1);
         Solver {
             table,
             th: table.at(t_celsius),
             by_comp,
+            comp_idx,
+            comp_n,
+            comp_len,
+            mask,
+            class,
+            classes,
+            h_class,
         }
     }
 
+    /// Fills γ of every species and returns γ of H+ (one evaluation per activity class).
+    fn gammas(&self, i: f64, gamma: &mut [f64]) -> f64 {
+        let mut by_class = [1.0f64; 48];
+        for (k, &(model, z)) in self.classes.iter().enumerate().take(48) {
+            by_class[k] = pow10(activity::log_gamma(model, z, i, &self.th, self.table));
+        }
+        for (g, &c) in gamma.iter_mut().zip(&self.class) {
+            *g = by_class[c];
+        }
+        by_class[self.h_class]
+    }
+
+    #[inline]
+    fn conc_of(&self, s: usize, kg: f64, act: &[f64; NC]) -> f64 {
+        let mut v = kg;
+        let (idx, n) = (&self.comp_idx[s], &self.comp_n[s]);
+        for k in 0..self.comp_len[s] as usize {
+            let a = act[idx[k] as usize];
+            v *= match n[k] {
+                1 => a,
+                2 => a * a,
+                3 => a * a * a,
+                e => a.powi(e as i32),
+            };
+        }
+        v
+    }
+
     /// Concentrations of all species at a given log{H+}, solving the mass balances.
-    /// `free` is the warm start on entry and the solution on exit.
+    /// `free` is the warm start on entry and the solution on exit. Returns the bit mask of
+    /// components held at a solubility cap.
     fn distribute(
         &self,
         log_h: f64,
@@ -90,21 +165,47 @@ impl Solver {
         gamma: &[f64],
         free: &mut [f64; NC],
         conc: &mut [f64],
-    ) {
+    ) -> u16 {
         let species = &self.table.species;
-        let a_h = 10f64.powf(log_h);
-        // kg[s] = K·{H+}^h / γ, held in `conc` until the masters are known.
-        let mut kg = [0.0f64; 64];
-        let n = species.len().min(64);
+        let n = species.len().min(MAX_SPECIES);
+        let a_h = pow10(log_h);
+        let inv = 1.0 / a_h;
+        // {H+}^h for h = -4..=3.
+        let pw = [
+            inv * inv * inv * inv,
+            inv * inv * inv,
+            inv * inv,
+            inv,
+            1.0,
+            a_h,
+            a_h * a_h,
+            a_h * a_h * a_h,
+        ];
+        let mut zero: u16 = 0;
+        for c in 0..NC {
+            if !(p.totals[c] > 0.0) {
+                zero |= 1 << c;
+            }
+        }
+        let mut kg = [0.0f64; MAX_SPECIES];
         for s in 0..n {
-            kg[s] = self.th.k[s] * a_h.powi(species[s].h) / gamma[s];
+            if self.mask[s] & zero != 0 {
+                continue;
+            }
+            let h = species[s].h;
+            let ph = if (-4..=3).contains(&h) {
+                pw[(h + 4) as usize]
+            } else {
+                a_h.powi(h)
+            };
+            kg[s] = self.th.k[s] * ph / gamma[s];
         }
         let mut cap_m = [f64::INFINITY; NC];
         for c in 0..NC {
             if let Some(ph) = p.caps[c] {
                 let def = &self.table.phases[ph];
                 // IAP = {M}·{H+}^h = K  ->  {M} = K / {H+}^h (single-component phases).
-                let a_m = 10f64.powf(self.th.phase_log_k[ph] - def.h as f64 * log_h);
+                let a_m = pow10(self.th.phase_log_k[ph] - def.h as f64 * log_h);
                 cap_m[c] = a_m / gamma[c];
             }
         }
@@ -117,32 +218,29 @@ impl Solver {
             }
             act[c] = free[c] * gamma[c];
         }
-        let species_conc = |s: usize, act: &[f64; NC]| -> f64 {
-            let mut v = kg[s];
-            for &(c, k) in &species[s].comp {
-                v *= act[c.index()].powi(k);
-            }
-            v
-        };
-        for iter in 0..300 {
+        let mut capped: u16 = 0;
+        for iter in 0..400 {
             let mut worst: f64 = 0.0;
+            capped = 0;
             for c in 0..NC {
                 let total = p.totals[c];
-                if total <= 0.0 {
+                if zero & (1 << c) != 0 {
                     continue;
                 }
                 let m = free[c];
                 let mut d = 0.0;
                 for &(s, k) in &self.by_comp[c] {
-                    d += k as f64 * species_conc(s, &act);
+                    d += k as f64 * self.conc_of(s, kg[s], &act);
                 }
                 // d/m = Σ ν c_s / m_c; new m from T = m · (d/m).
                 let mut m_new = total * m / d;
-                if iter >= 20 {
+                if iter >= 40 {
+                    // Damped (geometric mean) if plain substitution has not settled.
                     m_new = (m_new * m).sqrt();
                 }
-                if m_new > cap_m[c] {
+                if m_new >= cap_m[c] {
                     m_new = cap_m[c];
+                    capped |= 1 << c;
                 }
                 if !(m_new > 0.0) || !m_new.is_finite() {
                     m_new = f64::MIN_POSITIVE;
@@ -151,13 +249,123 @@ impl Solver {
                 free[c] = m_new;
                 act[c] = m_new * gamma[c];
             }
-            if worst < 1e-13 {
+            if worst < 1e-12 {
                 break;
             }
         }
         for s in 0..n {
-            conc[s] = species_conc(s, &act);
+            conc[s] = if kg[s] == 0.0 {
+                0.0
+            } else {
+                self.conc_of(s, kg[s], &act)
+            };
         }
+        capped
+    }
+
+    /// d(Σ z·c)/d(log10 {H+}) with each master's own mass balance held (pairs' coupling
+    /// between masters neglected): the Newton slope of the fast path.
+    fn charge_slope(
+        &self,
+        log_h: f64,
+        gamma_h: f64,
+        conc: &[f64],
+        capped: u16,
+        p: &Problem,
+    ) -> f64 {
+        let species = &self.table.species;
+        // g[c] = d ln m_c / d ln {H+}.
+        let mut g = [0.0f64; NC];
+        for c in 0..NC {
+            if capped & (1 << c) != 0 {
+                if let Some(ph) = p.caps[c] {
+                    g[c] = -(self.table.phases[ph].h as f64);
+                }
+                continue;
+            }
+            let (mut d1, mut d2) = (0.0, 0.0);
+            for &(s, k) in &self.by_comp[c] {
+                let k = k as f64;
+                d1 += k * species[s].h as f64 * conc[s];
+                d2 += k * k * conc[s];
+            }
+            if d2 > 0.0 {
+                g[c] = -d1 / d2;
+            }
+        }
+        // Σ z·c = Σ_c z_c·T_c + Σ_s h_s·c_s (each species' charge is its masters' plus its
+        // protons), so with the totals fixed only acid–base species move the balance: the
+        // slope in this form is insensitive to the neglected coupling of ion pairs.
+        let e_of = |s: usize| -> f64 {
+            let mut e = species[s].h as f64;
+            for &(c, k) in &species[s].comp {
+                e += k as f64 * g[c.index()];
+            }
+            e
+        };
+        let mut slope = pow10(log_h) / gamma_h;
+        for (s, def) in species.iter().enumerate().take(conc.len()) {
+            if conc[s] != 0.0 && def.h != 0 {
+                slope += def.h as f64 * conc[s] * e_of(s);
+            }
+        }
+        // A capped master's dissolved total is not fixed: its masters' charge moves too.
+        for c in 0..NC {
+            if capped & (1 << c) != 0 {
+                let z = species[c].z as f64;
+                for &(s, k) in &self.by_comp[c] {
+                    slope += z * k as f64 * conc[s] * e_of(s);
+                }
+            }
+        }
+        slope * LN10
+    }
+
+    /// Fast path: Newton on log{H+} with the ionic strength updated at every step. Returns
+    /// `None` if it does not settle, and the caller falls back to the bracketed solve.
+    fn newton(&self, p: &Problem, warm: Option<&Speciation>) -> Option<Speciation> {
+        let ns = self.table.species.len();
+        let mut gamma = vec![1.0; ns];
+        let mut conc = vec![0.0; ns];
+        let (mut i, mut free, mut x) = match warm {
+            Some(w) => (w.ionic_strength, w.free, w.log_h),
+            None => (self.estimate_i(p), p.totals, -7.0),
+        };
+        for _ in 0..40 {
+            let gamma_h = self.gammas(i, &mut gamma);
+            let capped = self.distribute(x, p, &gamma, &mut free, &mut conc);
+            let mut f = pow10(x) / gamma_h - p.z_excess;
+            for (c, s) in conc.iter().zip(&self.table.species) {
+                f += s.z as f64 * c;
+            }
+            let slope = self.charge_slope(x, gamma_h, &conc, capped, p);
+            if !(slope > 0.0) || !f.is_finite() {
+                return None;
+            }
+            let i_new = self.ionic_strength(x, gamma_h, &conc, p.i_background);
+            let dx = (-f / slope).clamp(-1.0, 1.0);
+            x += dx;
+            if !(-PH_MAX..=-PH_MIN).contains(&x) {
+                return None;
+            }
+            let i_done = (i_new - i).abs() <= 1e-12 + 1e-10 * i;
+            i = i_new;
+            if dx.abs() < 1e-11 && i_done {
+                i = i_new;
+                let gamma_h = self.gammas(i, &mut gamma);
+                self.distribute(x, p, &gamma, &mut free, &mut conc);
+                return Some(Speciation {
+                    log_h: x,
+                    conc,
+                    gamma,
+                    gamma_h,
+                    free,
+                    ionic_strength: i,
+                    totals: p.totals,
+                });
+            }
+        }
+        None
     }
 
     /// Σ z·c − Z at a given log{H+} (increasing in log{H+}).
@@ -171,7 +379,7 @@ impl Solver {
         conc: &mut [f64],
     ) -> f64 {
         self.distribute(log_h, p, gamma, free, conc);
-        let mut sum = 10f64.powf(log_h) / gamma_h;
+        let mut sum = pow10(log_h) / gamma_h;
         for (c, s) in conc.iter().zip(&self.table.species) {
             sum += s.z as f64 * c;
         }
@@ -179,7 +387,7 @@ impl Solver {
     }
 
     fn ionic_strength(&self, log_h: f64, gamma_h: f64, conc: &[f64], background: f64) -> f64 {
-        let mut i = 10f64.powf(log_h) / gamma_h;
+        let mut i = pow10(log_h) / gamma_h;
         for (c, s) in conc.iter().zip(&self.table.species) {
             i += (s.z * s.z) as f64 * c;
         }
@@ -205,6 +413,9 @@ impl Solver {
                 ));
             }
         }
+        if let Some(sp) = self.newton(p, warm) {
+            return Ok(sp);
+        }
         let ns = self.table.species.len();
         let mut gamma = vec![1.0; ns];
         let mut conc = vec![0.0; ns];
@@ -215,7 +426,7 @@ impl Solver {
         let mut log_h = x0;
         let mut gamma_h;
         for _ in 0..60 {
-            gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+            gamma_h = self.gammas(i, &mut gamma);
             log_h = self.solve_h(x0, p, &gamma, gamma_h, &mut free, &mut conc)?;
             let i_new = self.ionic_strength(log_h, gamma_h, &conc, p.i_background);
             let done = (i_new - i).abs() <= 1e-12 + 1e-10 * i;
@@ -226,7 +437,7 @@ impl Solver {
             }
         }
         // Final consistency pass at the converged ionic strength.
-        gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+        gamma_h = self.gammas(i, &mut gamma);
         self.distribute(log_h, p, &gamma, &mut free, &mut conc);
         Ok(Speciation {
             log_h,
@@ -279,7 +490,7 @@ impl Solver {
 
     /// Alkalinity (eq/L) of a speciation: Σ alk_s·c_s − [H+].
     pub fn alkalinity(&self, sp: &Speciation) -> f64 {
-        let mut a = -10f64.powf(sp.log_h) / sp.gamma_h;
+        let mut a = -pow10(sp.log_h) / sp.gamma_h;
         for (c, s) in sp.conc.iter().zip(&self.table.species) {
             a += s.alkalinity * c;
         }
@@ -288,7 +499,7 @@ impl Solver {
 
     /// Charge sum Σ z·c (eq/L) including H+.
     pub fn charge_sum(&self, sp: &Speciation) -> f64 {
-        let mut sum = 10f64.powf(sp.log_h) / sp.gamma_h;
+        let mut sum = pow10(sp.log_h) / sp.gamma_h;
         for (c, s) in sp.conc.iter().zip(&self.table.species) {
             sum += s.z as f64 * c;
         }
@@ -306,7 +517,7 @@ impl Solver {
     /// Concentration of a named species (mol/L), 0 if not in the table.
     pub fn species(&self, sp: &Speciation, name: &str) -> f64 {
         if name == "H+" {
-            return 10f64.powf(sp.log_h) / sp.gamma_h;
+            return pow10(sp.log_h) / sp.gamma_h;
         }
         self.table.species_index(name).map_or(0.0, |s| sp.conc[s])
     }
@@ -335,7 +546,7 @@ impl Solver {
         let mut i = self.estimate_i(p);
         let mut gamma_h;
         for _ in 0..60 {
-            gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+            gamma_h = self.gammas(i, &mut gamma);
             self.distribute(log_h, p, &gamma, &mut free, &mut conc);
             let i_new = self.ionic_strength(log_h, gamma_h, &conc, p.i_background);
             let done = (i_new - i).abs() <= 1e-12 + 1e-10 * i;
@@ -344,7 +555,7 @@ impl Solver {
                 break;
             }
         }
-        gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+        gamma_h = self.gammas(i, &mut gamma);
         self.distribute(log_h, p, &gamma, &mut free, &mut conc);
         Speciation {
             log_h,
@@ -370,11 +581,11 @@ impl Solver {
         let co3 = Component::CO3.index();
         let mut gamma_h;
         for _ in 0..60 {
-            gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+            gamma_h = self.gammas(i, &mut gamma);
             let mut alk_at = |dic: f64, free: &mut [f64; NC], conc: &mut [f64]| -> f64 {
                 q.totals[co3] = dic;
                 self.distribute(log_h, &q, &gamma, free, conc);
-                let mut a = -10f64.powf(log_h) / gamma_h;
+                let mut a = -pow10(log_h) / gamma_h;
                 for (c, s) in conc.iter().zip(&self.table.species) {
                     a += s.alkalinity * c;
                 }
@@ -421,7 +632,7 @@ impl Solver {
                 break;
             }
         }
-        gamma_h = activity::fill(self.table, &self.th, i, &mut gamma);
+        gamma_h = self.gammas(i, &mut gamma);
         self.distribute(log_h, &q, &gamma, &mut free, &mut conc);
         Ok(Speciation {
             log_h,
@@ -475,5 +686,44 @@ mod tests {
         let hocl = solver.species(&sp, "HOCl");
         let frac = hocl / 2e-5;
         assert!((frac - 0.52).abs() < 0.015, "HOCl fraction {frac:.3}");
+    }
+}
+#[cfg(test)]
+mod slope_tests {
+    use super::*;
+
+    /// The Newton slope of the fast path against a finite difference (hard water, 15 C).
+    #[test]
+    fn newton_slope_matches_a_finite_difference() {
+        let s = Solver::new(15.0);
+        let mut t = [0.0; NC];
+        t[Component::Ca.index()] = 1.4e-3;
+        t[Component::CO3.index()] = 2.3e-3;
+        t[Component::Na.index()] = 1e-3;
+        t[Component::SO4.index()] = 0.5e-3;
+        let p = Problem::new(t);
+        let ns = s.table.species.len();
+        let mut gamma = vec![1.0; ns];
+        let gh = s.gammas(0.005, &mut gamma);
+        let charge = |x: f64, free: &mut [f64; NC], conc: &mut Vec<f64>| {
+            let capped = s.distribute(x, &p, &gamma, free, conc);
+            let mut f = pow10(x) / gh;
+            for (c, d) in conc.iter().zip(&s.table.species) {
+                f += d.z as f64 * c;
+            }
+            (f, capped)
+        };
+        for x in [-6.0, -7.0, -8.5, -9.5, -10.5, -11.5] {
+            let (mut free, mut conc) = (t, vec![0.0; ns]);
+            let (f0, capped) = charge(x, &mut free, &mut conc);
+            let analytic = s.charge_slope(x, gh, &conc, capped, &p);
+            let (f1, _) = charge(x + 1e-6, &mut free, &mut conc);
+            let numeric = (f1 - f0) / 1e-6;
+            assert!(
+                (analytic / numeric - 1.0).abs() < 0.1,
+                "pH {}: slope {analytic:e}, finite difference {numeric:e}",
+                -x
+            );
+        }
     }
 }
