@@ -55,7 +55,7 @@ fn water_json(w: &WaterResult) -> Value {
     let species: serde_json::Map<String, Value> = w
         .species
         .iter()
-        .map(|(name, mmol)| (name.clone(), json!(mmol)))
+        .map(|(name, mmol)| (name.to_string(), json!(mmol)))
         .collect();
     json!({
         "ph": w.ph,

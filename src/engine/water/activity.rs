@@ -18,6 +18,24 @@ pub fn log_gamma(model: GammaModel, z: i32, i: f64, th: &Thermo, table: &Table) 
     }
 }
 
+/// d(log10 γ)/dI of a species of charge `z` at ionic strength `i` (for Newton's Jacobian).
+pub fn dlog_gamma_di(model: GammaModel, z: i32, i: f64, th: &Thermo, table: &Table) -> f64 {
+    let i = i.max(1e-12);
+    let sqrt_i = i.sqrt();
+    let z2 = (z * z) as f64;
+    match model {
+        GammaModel::Wateq { a, b } => {
+            let d = 1.0 + th.b_dh * a * sqrt_i;
+            -th.a_dh * z2 / (2.0 * sqrt_i * d * d) + b
+        }
+        GammaModel::Davies => {
+            let d = 1.0 + sqrt_i;
+            -th.a_dh * z2 * (1.0 / (2.0 * sqrt_i * d * d) - table.davies_linear)
+        }
+        GammaModel::Neutral => table.neutral_b,
+    }
+}
+
 /// Fills `out[s]` with γ of every species of the table and returns γ of H+.
 pub fn fill(table: &Table, th: &Thermo, i: f64, out: &mut [f64]) -> f64 {
     for (g, s) in out.iter_mut().zip(&table.species) {
@@ -53,5 +71,28 @@ mod tests {
         // Dilute limit: γ -> 1; neutral species 10^(0.1 I).
         check(GammaModel::Davies, 2, 0.0, 1.0);
         check(GammaModel::Neutral, 0, 0.1, 1.0233);
+    }
+
+    #[test]
+    fn derivative_matches_a_finite_difference() {
+        let table = Table::embedded();
+        let th = table.at(20.0);
+        for model in [
+            GammaModel::Davies,
+            GammaModel::Wateq { a: 5.4, b: 0.02 },
+            GammaModel::Neutral,
+        ] {
+            for i in [1e-4, 0.003, 0.05] {
+                let analytic = dlog_gamma_di(model, 2, i, &th, table);
+                let h = i * 1e-6;
+                let numeric = (log_gamma(model, 2, i + h, &th, table)
+                    - log_gamma(model, 2, i - h, &th, table))
+                    / (2.0 * h);
+                assert!(
+                    (analytic - numeric).abs() <= 1e-5 * numeric.abs().max(1.0),
+                    "{model:?} I={i}: {analytic} vs {numeric}"
+                );
+            }
+        }
     }
 }

@@ -192,7 +192,7 @@ pub struct WaterResult {
     /// Al or Fe precipitated as hydroxide, mmol/L of metal.
     pub precipitated_metal_mmol_l: f64,
     /// Every species above 1e-12 mol/L, in mmol/L, in table order.
-    pub species: Vec<(String, f64)>,
+    pub species: Vec<(&'static str, f64)>,
 }
 
 fn optional(name: &'static str, value: Option<f64>) -> Result<f64> {
@@ -327,7 +327,7 @@ impl WaterState {
             .iter()
             .zip(&sp.conc)
             .filter(|(_, c)| **c > 1e-12)
-            .map(|(d, c)| (d.name.clone(), c * 1000.0))
+            .map(|(d, c)| (d.name.as_str(), c * 1000.0))
             .collect();
         Ok(WaterResult {
             ph: -sp.log_h,
