@@ -389,7 +389,14 @@ impl Solver {
     /// the ionic strength — with an analytic dense Jacobian (at most NC + 2 unknowns, Gaussian
     /// elimination with partial pivoting). Returns `None` when it does not settle, and the
     /// caller falls back to the bracketed solve, which cannot fail.
-    fn newton_full(&self, p: &Problem, warm: Option<&Speciation>) -> Option<Speciation> {
+    /// With `fixed_ph`, the pH is held and the carbonate total is the unknown instead: the
+    /// carbonate mass balance is dropped and the charge balance (with `p.z_excess`) decides it.
+    fn newton_full(
+        &self,
+        p: &Problem,
+        warm: Option<&Speciation>,
+        fixed_ph: Option<f64>,
+    ) -> Option<Speciation> {
         const N: usize = NC + 2;
         let species = &self.table.species;
         let ns = species.len().min(MAX_SPECIES);
@@ -400,6 +407,13 @@ impl Solver {
             Some(w) => (w.ionic_strength, w.free, w.log_h),
             None => (self.estimate_i(p), p.totals, -7.0),
         };
+        let co3 = Component::CO3.index();
+        if let Some(ph) = fixed_ph {
+            x = -ph;
+            if !(p.totals[co3] > 0.0) {
+                return None;
+            }
+        }
         // Unknown k < n: ln m of active master unk[k]; n: ln{H+}; n + 1: I.
         let mut unk = [0usize; NC];
         let mut col_of = [usize::MAX; NC];
@@ -524,6 +538,12 @@ impl Solver {
                     *v *= sc;
                 }
             }
+            if fixed_ph.is_some() {
+                // Pin ln{H+}; the carbonate total is free (its mass balance is not a row).
+                let r = col_of[co3];
+                jac[r] = [0.0; N + 1];
+                jac[r][qh] = 1.0;
+            }
             let residual = (0..n + 2).map(|r| jac[r][N].abs()).fold(0.0, f64::max);
             let delta = gauss(&mut jac, n + 2)?;
             // One step length for the whole direction: at most 1 in log{H+}, e^5 in m, and
@@ -551,7 +571,18 @@ impl Solver {
             }
             if dx.abs() < 1e-10 && dmax < 1e-9 && residual < 1e-8 && di.abs() <= 1e-9 * i {
                 let gamma_h = self.gammas(i, &mut gamma);
-                self.distribute(x, p, &gamma, &mut free, &mut conc, TIGHT);
+                let mut totals = p.totals;
+                if fixed_ph.is_some() {
+                    totals[co3] = self.by_comp[co3]
+                        .iter()
+                        .map(|&(s, k)| k as f64 * conc[s])
+                        .sum();
+                }
+                let q = Problem {
+                    totals,
+                    ..p.clone()
+                };
+                self.distribute(x, &q, &gamma, &mut free, &mut conc, TIGHT);
                 return Some(Speciation {
                     log_h: x,
                     conc,
@@ -559,7 +590,7 @@ impl Solver {
                     gamma_h,
                     free,
                     ionic_strength: i,
-                    totals: p.totals,
+                    totals,
                 });
             }
         }
@@ -665,7 +696,7 @@ impl Solver {
                 ));
             }
         }
-        if let Some(sp) = self.newton_full(p, warm) {
+        if let Some(sp) = self.newton_full(p, warm, None) {
             return Ok(sp);
         }
         if let Some(sp) = self.newton(p, warm) {
@@ -826,6 +857,28 @@ impl Solver {
     /// Given pH and alkalinity (eq/L), finds the carbonate total so that the water's
     /// alkalinity matches, and returns the speciation (its charge sum becomes Z).
     pub fn from_ph_alkalinity(&self, ph: f64, alkalinity: f64, p: &Problem) -> Result<Speciation> {
+        // Fast path. Alkalinity is a proton balance: for every species alk_s + z_s equals
+        // Σ ν (w_c + z_c) over its masters, so Σ z·c + [H+] = Σ_c (w_c + z_c)·T_c − Alk, a
+        // known charge excess; at fixed pH the charge balance then fixes the carbonate total.
+        if alkalinity > 0.0 {
+            let co3 = Component::CO3.index();
+            let mut q = p.clone();
+            let mut z = -alkalinity;
+            for c in 0..NC {
+                if c != co3 {
+                    let m = &self.table.species[c];
+                    z += (m.alkalinity + m.z as f64) * p.totals[c];
+                }
+            }
+            q.z_excess = z;
+            q.totals[co3] = alkalinity;
+            if let Some(sp) = self.newton_full(&q, None, Some(ph)) {
+                let alk = self.alkalinity(&sp);
+                if (alk - alkalinity).abs() <= 1e-9 * alkalinity && sp.totals[co3] > 0.0 {
+                    return Ok(sp);
+                }
+            }
+        }
         let log_h = -ph;
         let ns = self.table.species.len();
         let mut gamma = vec![1.0; ns];
