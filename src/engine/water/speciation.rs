@@ -871,8 +871,29 @@ impl Solver {
                 }
             }
             q.z_excess = z;
-            q.totals[co3] = alkalinity;
-            if let Some(sp) = self.newton_full(&q, None, Some(ph)) {
+            // Start from the carbonate system alone (no pairs, no activities).
+            let a = pow10(-ph);
+            let (ka, kb) = match (
+                self.table.species_index("HCO3-"),
+                self.table.species_index("CO2"),
+            ) {
+                (Some(i1), Some(i2)) => (self.th.k[i1] * a, self.th.k[i2] * a * a),
+                _ => (0.0, 0.0),
+            };
+            let free_co3 = alkalinity / (2.0 + ka);
+            q.totals[co3] = free_co3 * (1.0 + ka + kb);
+            let mut free = p.totals;
+            free[co3] = free_co3;
+            let start = Speciation {
+                log_h: -ph,
+                conc: Vec::new(),
+                gamma: Vec::new(),
+                gamma_h: 1.0,
+                free,
+                ionic_strength: self.estimate_i(&q) + 0.5 * alkalinity,
+                totals: q.totals,
+            };
+            if let Some(sp) = self.newton_full(&q, Some(&start), Some(ph)) {
                 let alk = self.alkalinity(&sp);
                 if (alk - alkalinity).abs() <= 1e-9 * alkalinity && sp.totals[co3] > 0.0 {
                     return Ok(sp);
