@@ -70,6 +70,7 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
             )));
         }
     }?;
+    args.switch("json");
     args.reject_unused()?;
     Ok(result)
 }

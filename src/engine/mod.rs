@@ -7,6 +7,7 @@
 
 pub mod convert;
 pub mod elements;
+pub mod equivalents;
 mod error;
 pub mod formula;
 pub mod reaction;

@@ -228,18 +228,28 @@ impl fmt::Display for Trace {
                 previous.label()
             );
         }
-        for step in &self.steps {
+        // Intermediate values carry two guard digits beyond what the result can claim, so
+        // rounding happens once, at the end, as in careful hand calculation.
+        let guard = |value: f64, sig: Option<u8>| {
+            sigfig::format_measured(value, sig.map(|s| s.saturating_add(2)))
+        };
+        for (i, step) in self.steps.iter().enumerate() {
+            let carried = if i == 0 {
+                sigfig::format_measured(previous.value, sig)
+            } else {
+                guard(previous.value, sig)
+            };
             sig = combine(sig, step.sig_figs);
             let factor = if step.denominator.unit == "1" {
                 format!(
                     "{} {}",
-                    sigfig::format_measured(step.numerator.value, step.sig_figs),
+                    sigfig::format_measured(step.numerator.value, None),
                     step.numerator.label()
                 )
             } else {
                 format!(
                     "({} {} / {} {})",
-                    sigfig::format_measured(step.numerator.value, step.sig_figs),
+                    sigfig::format_measured(step.numerator.value, None),
                     step.numerator.label(),
                     sigfig::format_measured(step.denominator.value, None),
                     step.denominator.label()
@@ -248,7 +258,7 @@ impl fmt::Display for Trace {
             writeln!(
                 f,
                 "{} {} × {} = {} {}",
-                sigfig::format_measured(previous.value, None),
+                carried,
                 previous.label(),
                 factor,
                 sigfig::format_measured(step.result.value, sig),
