@@ -123,10 +123,12 @@ impl ReactionLibrary {
                 )
                 .with("species", &formula)
             })?;
-        let partner = if formula.to_string() == "H+" {
-            "OH-"
-        } else {
+        // Bases and alkalinity are titrated with H+, acids with OH-: whichever the reference
+        // reaction uses is the unit of exchange (H+ itself is counted against OH-).
+        let partner = if formula.to_string() != "H+" && reaction.find("H+").is_ok() {
             "H+"
+        } else {
+            "OH-"
         };
         reaction.mole_ratio(species, partner)
     }
@@ -226,6 +228,11 @@ mod tests {
         assert_eq!(lib.proton_equivalents("Ca(OH)2").unwrap(), Ratio::new(2, 1));
         assert_eq!(lib.proton_equivalents("HCO3-").unwrap(), Ratio::new(1, 1));
         assert_eq!(lib.proton_equivalents("H+").unwrap(), Ratio::new(1, 1));
+        assert_eq!(lib.proton_equivalents("H2SO4").unwrap(), Ratio::new(2, 1));
+        assert_eq!(lib.proton_equivalents("CO2").unwrap(), Ratio::new(1, 1));
+        // Sulfuric acid: 98.072 / 2 g/eq, worked by hand from IUPAC weights.
+        let h2so4 = (2.0 * 1.008 + 32.06 + 4.0 * 15.999) / 2.0;
+        assert!((lib.equivalent_weight("H2SO4").unwrap() - h2so4).abs() < 1e-9);
         assert_eq!(
             lib.proton_equivalents("KMnO4").unwrap_err().kind(),
             ErrorKind::UnknownChemical
