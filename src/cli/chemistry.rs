@@ -1,7 +1,8 @@
-//! `mass`, `balance` and `convert`: the chemistry core on the command line.
+//! `mass`, `balance`, `convert`, `equivalent` and `reactions`: the chemistry core on the command line.
 
 use super::{Args, CliResult, Report};
 use crate::engine::convert::{AmountUnit, convert as convert_amount};
+use crate::engine::equivalents::ReactionLibrary;
 use crate::engine::formula::Formula;
 use crate::engine::reaction::{Reaction, Side};
 use crate::engine::sigfig::{Measured, format_measured};
@@ -112,6 +113,63 @@ pub fn convert(args: &Args) -> CliResult {
             "sig_figs": sig_figs,
             "display": shown,
             "steps": steps,
+        }),
+    })
+}
+
+/// `molefeed reactions`: the shipped reactions, balanced, with their sources.
+pub fn reactions(_args: &Args) -> CliResult {
+    let library = ReactionLibrary::builtin()?;
+    let mut human = String::new();
+    let list: Vec<Value> = library
+        .reactions()
+        .iter()
+        .map(|r| {
+            human.push_str(&format!(
+                "{:<34} {}\n{:<34} source: {}\n",
+                r.id, r.reaction, "", r.source
+            ));
+            json!({"id": r.id, "equation": r.reaction.to_string(), "source": r.source})
+        })
+        .collect();
+    Ok(Report {
+        human,
+        json: json!({ "reactions": list }),
+    })
+}
+
+/// `molefeed equivalent SPECIES [--reaction ID --carrier C]`: equivalent weight from the
+/// species' own titration reaction, or (for a coagulant) from its reaction with an alkalinity
+/// carrier, with mg/L as CaCO3 per mg/L of the species.
+pub fn equivalent(args: &Args) -> CliResult {
+    let species = args.required_positional(0, "SPECIES")?;
+    let library = ReactionLibrary::builtin()?;
+    let Some(id) = args.text("reaction")? else {
+        let weight = library.equivalent_weight(species)?;
+        let per_mol = library.proton_equivalents(species)?;
+        return Ok(Report {
+            human: format!("{species}: {weight:.3} g/eq ({per_mol} eq/mol)"),
+            json: json!({"species": species, "equivalent_weight_g_eq": weight, "equivalents_per_mol": per_mol.to_string()}),
+        });
+    };
+    let carrier = args.required_text("carrier")?;
+    let named = library.get(id)?;
+    let per_mol = library.equivalents_via(&named.reaction, species, carrier)?;
+    let weight = named.reaction.find(species)?.formula.molar_mass() * *per_mol.denom() as f64
+        / *per_mol.numer() as f64;
+    let trace = library.as_caco3_per_mg(&named.reaction, species, carrier)?;
+    Ok(Report {
+        human: format!(
+            "{}\n{species}: {weight:.3} g/eq ({per_mol} eq/mol of {carrier})\n{trace}",
+            named.reaction
+        ),
+        json: json!({
+            "species": species,
+            "reaction": named.reaction.to_string(),
+            "equivalent_weight_g_eq": weight,
+            "equivalents_per_mol": per_mol.to_string(),
+            "as_caco3_mg_per_mg": trace.value(),
+            "steps": trace.steps,
         }),
     })
 }

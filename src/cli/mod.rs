@@ -64,6 +64,8 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "mass" => chemistry::mass(args),
         "balance" => chemistry::balance(args),
         "convert" => chemistry::convert(args),
+        "reactions" => chemistry::reactions(args),
+        "equivalent" => chemistry::equivalent(args),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -75,12 +77,17 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
     Ok(result)
 }
 
-const HELP: &str = "molefeed — chemical feed for water treatment (advisory; a licensed operator decides)
+const HELP: &str =
+    "molefeed — chemical feed for water treatment (advisory; a licensed operator decides)
 
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
-chemistry:  mass FORMULA | balance \"EQUATION\" | convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F
+chemistry:  mass FORMULA
+            balance \"EQUATION\" [--per SPECIES]
+            convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F [--to-unit U]
+            equivalent SPECIES [--reaction ID --carrier C]
+            reactions
 ";
 
 /// Runs the CLI on `args` (without the program name) and returns the process exit code.

@@ -13,6 +13,7 @@ use super::sigfig::sig_figs_from_decimals;
 use super::trace::{Origin, Quantity, Trace};
 use super::{Error, ErrorKind, Result};
 use num_rational::Ratio;
+use num_traits::CheckedMul;
 use serde::Deserialize;
 
 const REACTIONS_JSON: &str = include_str!("../../data/reactions.json");
@@ -138,6 +139,20 @@ impl ReactionLibrary {
         let eq = self.proton_equivalents(species)?;
         let m = Formula::parse(species)?.molar_mass();
         Ok(m * *eq.denom() as f64 / *eq.numer() as f64)
+    }
+
+    /// Equivalents per mol of `species` through its reaction with an alkalinity `carrier`
+    /// (e.g. FeCl3 with HCO3-: 3 mol HCO3- × 1 eq/mol = 3 eq per mol FeCl3), exactly.
+    pub fn equivalents_via(
+        &self,
+        reaction: &Reaction,
+        species: &str,
+        carrier: &str,
+    ) -> Result<Ratio<i64>> {
+        let ratio = reaction.mole_ratio(species, carrier)?;
+        ratio
+            .checked_mul(&self.proton_equivalents(carrier)?)
+            .ok_or_else(|| Error::new(ErrorKind::Overflow, "equivalents too large"))
     }
 
     /// mg/L as CaCO3 of `carrier` consumed (or produced) per mg/L of `species`, per `reaction`,
