@@ -8,6 +8,7 @@
 
 mod args;
 mod chemistry;
+mod dosing;
 
 pub use args::Args;
 
@@ -64,6 +65,9 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "mass" => chemistry::mass(args),
         "balance" => chemistry::balance(args),
         "convert" => chemistry::convert(args),
+        "feed" | "chlorine" | "dechlor" | "ct" | "soften" | "pump-check" | "dilute" => {
+            dosing::run(command, args)
+        }
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -79,6 +83,7 @@ const HELP: &str = "molefeed — chemical feed for water treatment (advisory; a 
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
+dosing:     feed | chlorine | dechlor | ct | soften | pump-check | dilute  (--json, --site FILE; see docs/dosing-notes.md)
 chemistry:  mass FORMULA | balance \"EQUATION\" | convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F
 ";
 

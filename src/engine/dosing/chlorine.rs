@@ -12,7 +12,7 @@ use super::NamedTrace;
 use super::catalog::{Catalog, molar_mass};
 use super::caution::{Caution, finish};
 use crate::engine::formula::Formula;
-use crate::engine::sigfig::{Measured, combine};
+use crate::engine::sigfig::Measured;
 use crate::engine::trace::{Origin, Quantity, Trace};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::Serialize;
@@ -152,6 +152,8 @@ pub struct ChlorineResult {
     pub dose_practice_mg_l: Option<(f64, f64)>,
     /// Cl2:NH3-N mass ratio at breakpoint, derived from the balanced reaction (about 7.6).
     pub breakpoint_ratio: f64,
+    /// The parts of the dose, in mg/L as Cl2, so the sum can be shown term by term.
+    pub dose_terms: Vec<(String, f64)>,
     pub traces: Vec<NamedTrace>,
     pub cautions: Vec<Caution>,
 }
@@ -168,7 +170,6 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
     let mut traces = vec![NamedTrace::new("breakpoint-ratio", ratio_trace)];
     let mut cautions = vec![Caution::info("ph-alkalinity-effect-from-water-engine")];
     let base = input.demand.value + input.residual.value;
-    let mut sig = combine(input.demand.sig_figs, input.residual.sig_figs);
     let mut breakpoint = None;
     let mut practice = None;
     if let Some(n) = input.ammonia_n {
@@ -187,7 +188,6 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
             None,
         )?;
         breakpoint = Some(t.value());
-        sig = combine(sig, n.sig_figs);
         practice = Some((
             n.value * BREAKPOINT_PRACTICE.0,
             n.value * BREAKPOINT_PRACTICE.1,
@@ -200,10 +200,13 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
         );
     }
     let dose = base + breakpoint.unwrap_or(0.0);
-    let mut sum = Trace::new(Quantity::of(dose, "mg/L", "Cl2"), Origin::Measured, sig);
-    // The sum is shown as one quantity; its parts are the inputs and the breakpoint trace.
-    sum.start_origin = Origin::Measured;
-    traces.push(NamedTrace::new("chlorine-dose", sum));
+    let mut terms = vec![
+        ("demand".to_string(), input.demand.value),
+        ("residual".to_string(), input.residual.value),
+    ];
+    if let Some(bp) = breakpoint {
+        terms.push(("breakpoint".to_string(), bp));
+    }
     if let Some(limit) = input.residual_limit_mg_l
         && input.residual.value > limit
     {
@@ -222,6 +225,7 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
         breakpoint_practice_mg_l: practice,
         dose_practice_mg_l: practice.map(|(lo, hi)| (lo + base, hi + base)),
         breakpoint_ratio: ratio,
+        dose_terms: terms,
         traces,
         cautions: finish(cautions),
     })
