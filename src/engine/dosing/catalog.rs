@@ -232,6 +232,10 @@ impl Catalog {
                 self.reaction_entry(r)?;
             }
             self.compound_per_dose_as(p)?;
+            for t in &p.strengths {
+                let s = Strength::new(Measured::exact(t.value), t.basis, t.sg.map(Measured::exact));
+                check_strength(self, p, &s).map_err(|e| e.with("product", &p.id))?;
+            }
         }
         Ok(())
     }

@@ -343,6 +343,25 @@ pub fn feed(catalog: &Catalog, input: &FeedInput) -> Result<FeedResult> {
     );
     let product = active_to_product(catalog, p, &input.strength, start)?;
     let mut cautions = product_cautions(p);
+    // A strength far from anything the trade delivers is more often a typo or a wrong basis
+    // than a real product (threshold ±30 % of the nearest catalog strength: common practice).
+    let s = input.strength.value.value;
+    let nearest = p
+        .strengths
+        .iter()
+        .filter(|t| t.basis == input.strength.basis)
+        .map(|t| t.value)
+        .min_by(|a, b| (a - s).abs().total_cmp(&(b - s).abs()));
+    if let Some(typical) = nearest
+        && (s - typical).abs() > 0.3 * typical
+    {
+        cautions.push(
+            Caution::warning("strength-unusual")
+                .with("strength", s)
+                .with("typical", typical)
+                .with("basis", input.strength.basis.code()),
+        );
+    }
     let flow_l_per_day = input.flow.to_l_per_day()?.value();
     let product_mg_l = product.product_kg_per_day * 1e6 / flow_l_per_day;
     if let Some(mul) = input.max_use_level_mg_l {
