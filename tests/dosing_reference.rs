@@ -500,3 +500,69 @@ fn ct_log_inactivation_from_contact_time() {
     .unwrap();
     check("T10", basin.t10_minutes, 90.0, 1e-9);
 }
+
+#[test]
+fn chlorine_products_on_every_basis() {
+    let c = catalog();
+    let run = |product: &str, s: Strength, pump: Option<PumpKind>| {
+        feed::feed(
+            &c,
+            &FeedInput {
+                flow: Flow::new(m(2.5), FlowUnit::Mgd),
+                dose: m(3.0),
+                product: product.into(),
+                strength: s,
+                pump,
+                usable_range: UsableRange::default(),
+                max_use_level_mg_l: None,
+            },
+        )
+        .unwrap()
+    };
+    let trade = run(
+        "sodium-hypochlorite",
+        Strength::new(m(12.5), StrengthBasis::Trade, Some(m(1.16))),
+        None,
+    );
+    // White (1972): wt % NaOCl = (g/L available Cl2 × 1.05) ÷ (10 · SG) [C]; the 1.05 is
+    // 74.44/70.91, which the engine derives from the available-chlorine reaction.
+    let wt_naocl = 125.0 * 1.05 / (10.0 * 1.16);
+    let weight = run(
+        "sodium-hypochlorite",
+        Strength::new(m(wt_naocl), StrengthBasis::Weight, Some(m(1.16))),
+        None,
+    );
+    let (a, b) = (
+        trade.product_l_per_day.unwrap(),
+        weight.product_l_per_day.unwrap(),
+    );
+    check("weight % NaOCl vs trade %", b, a, a * 0.001);
+    // Chlorine gas on a gas feeder: 62.6 lb/d on a 100 lb/d rotameter is 62.6 %.
+    let gas = run(
+        "chlorine-gas",
+        Strength::new(m(100.0), StrengthBasis::Purity, None),
+        Some(PumpKind::GasFeeder {
+            capacity: 100.0,
+            unit: molefeed::engine::dosing::units::MassRateUnit::LbPerDay,
+        }),
+    );
+    check(
+        "gas feeder %",
+        gas.pump.unwrap().percent,
+        gas.active_lb_per_day,
+        1e-9,
+    );
+    // Calcium hypochlorite at 65 % available chlorine: product = Cl2 ÷ 0.65.
+    let cal = run(
+        "calcium-hypochlorite",
+        Strength::new(m(65.0), StrengthBasis::AvailableChlorine, None),
+        None,
+    );
+    check(
+        "Ca(OCl)2 lb/d",
+        cal.product_lb_per_day,
+        cal.active_lb_per_day / 0.65,
+        1e-9,
+    );
+    assert!(cal.product_l_per_day.is_none());
+}

@@ -24,6 +24,9 @@ use serde_json::{Value, json};
 
 /// Runs one dosing subcommand by name (registered in `dispatch`).
 pub fn run(command: &str, args: &Args) -> CliResult {
+    // `batch` adds --json to every request but only `main` reads it; mark it read here so a
+    // batch line is not rejected as having an unused flag.
+    let _ = args.switch("json");
     match command {
         "feed" => feed(args),
         "chlorine" => chlorine(args),
