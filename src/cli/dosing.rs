@@ -57,6 +57,17 @@ fn required_measured(args: &Args, name: &str) -> Result<Measured, CliError> {
     measured(args, name)?.ok_or_else(|| CliError::usage(format!("missing --{name}")))
 }
 
+/// A test duration: whole seconds or minutes are counted on a stopwatch, not estimated, so
+/// they do not limit significant figures ("60" s is not one significant figure here).
+fn duration(args: &Args, name: &str) -> Result<Measured, CliError> {
+    let d = required_measured(args, name)?;
+    Ok(if d.value.fract() == 0.0 {
+        Measured::exact(d.value)
+    } else {
+        d
+    })
+}
+
 fn site(args: &Args, catalog: &Catalog) -> Result<Option<SiteProfile>, CliError> {
     let Some(path) = args.text("site")? else {
         return Ok(None);
@@ -449,12 +460,12 @@ pub fn pump_check(args: &Args) -> CliResult {
     let measurement = if let Some(ml) = measured(args, "drawdown-ml")? {
         Measurement::Drawdown {
             ml,
-            seconds: required_measured(args, "seconds")?,
+            seconds: duration(args, "seconds")?,
         }
     } else if let Some(grams) = measured(args, "catch-g")? {
         Measurement::Catch {
             grams,
-            seconds: required_measured(args, "seconds")?,
+            seconds: duration(args, "seconds")?,
         }
     } else if let Some(drop) = measured(args, "tank-drop")? {
         let unit = LengthUnit::parse(args.required_text("length-unit")?)?;
@@ -470,7 +481,7 @@ pub fn pump_check(args: &Args) -> CliResult {
             shape,
             drop,
             unit,
-            minutes: required_measured(args, "minutes")?,
+            minutes: duration(args, "minutes")?,
         }
     } else {
         return Err(CliError::usage(

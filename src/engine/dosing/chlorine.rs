@@ -167,6 +167,7 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
     check_chlorine("chlorine demand", input.demand.value)?;
     check_chlorine("chlorine residual", input.residual.value)?;
     let (ratio, ratio_trace) = chlorine_per_ammonia_n(catalog, "breakpoint")?;
+    let ratio_sig = ratio_trace.sig_figs();
     let mut traces = vec![NamedTrace::new("breakpoint-ratio", ratio_trace)];
     let mut cautions = vec![Caution::info("ph-alkalinity-effect-from-water-engine")];
     let base = input.demand.value + input.residual.value;
@@ -185,7 +186,7 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
             Origin::MoleRatio {
                 reaction: catalog.reaction("breakpoint")?.to_string(),
             },
-            None,
+            ratio_sig,
         )?;
         breakpoint = Some(t.value());
         practice = Some((
@@ -406,7 +407,7 @@ pub fn dechlorination(catalog: &Catalog, residual: Measured, agent: &str) -> Res
         Origin::MoleRatio {
             reaction: catalog.reaction(a.reaction)?.to_string(),
         },
-        None,
+        ratio_trace.sig_figs(),
     )?;
     let field = catalog
         .reaction_entry(a.reaction)?

@@ -398,7 +398,7 @@ pub fn coagulation(catalog: &Catalog, input: &CoagulationInput) -> Result<Coagul
         Origin::Constant {
             source: "derived in trace alkalinity-per-dose".into(),
         },
-        None,
+        per_trace.sig_figs(),
     )?;
     let consumed = t.value();
     let remaining = input.raw_alkalinity.value - consumed;

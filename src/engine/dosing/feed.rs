@@ -338,7 +338,9 @@ pub fn feed(catalog: &Catalog, input: &FeedInput) -> Result<FeedResult> {
     let kg = si.value();
     let start = Trace::new(
         Quantity::of(kg, "kg/d", &p.dose_as),
-        Origin::Measured,
+        Origin::Constant {
+            source: "trace active-feed-si".into(),
+        },
         si.sig_figs(),
     );
     let product = active_to_product(catalog, p, &input.strength, start)?;
