@@ -566,3 +566,37 @@ fn chlorine_products_on_every_basis() {
     );
     assert!(cal.product_l_per_day.is_none());
 }
+
+#[test]
+fn ferric_chloride_density_table() {
+    // FeCl3 solution densities at 20 °C (Perry's Chemical Engineers' Handbook, 7th ed., via a
+    // public reproduction): 36 % = 1.364, 40 % = 1.415 kg/L. Without a certificate SG, the
+    // engine interpolates; outside the table it asks for the SG.
+    let c = catalog();
+    let run = |strength: f64| {
+        feed::feed(
+            &c,
+            &FeedInput {
+                flow: Flow::new(m(2.5), FlowUnit::Mgd),
+                dose: m(30.0),
+                product: "ferric-chloride".into(),
+                strength: Strength::new(m(strength), StrengthBasis::Weight, None),
+                pump: None,
+                usable_range: UsableRange::default(),
+                max_use_level_mg_l: None,
+            },
+        )
+    };
+    for (strength, sg) in [(40.0, 1.415), (36.0, 1.364), (38.0, (1.364 + 1.415) / 2.0)] {
+        let r = run(strength).unwrap();
+        check(
+            "SG from table",
+            r.product_kg_per_day / r.product_l_per_day.unwrap(),
+            sg,
+            1e-9,
+        );
+        assert!(r.cautions.iter().any(|c| c.key == "sg-from-density-table"));
+    }
+    let outside = run(50.0).unwrap_err();
+    assert!(outside.message().contains("specific gravity"), "{outside}");
+}

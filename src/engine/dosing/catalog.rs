@@ -101,6 +101,63 @@ pub struct Product {
     pub strengths: Vec<TypicalStrength>,
     pub hazards: Vec<String>,
     pub incompatibilities: Vec<String>,
+    /// Specific gravity by strength, where the trade uses a table instead of a certificate value.
+    #[serde(default)]
+    pub density_table: Option<DensityTable>,
+}
+
+/// Specific gravity against strength at one temperature, with its source.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct DensityTable {
+    pub basis: StrengthBasis,
+    pub temperature_c: f64,
+    pub source: String,
+    /// (strength %, SG) pairs in increasing strength.
+    pub points: Vec<(f64, f64)>,
+}
+
+impl DensityTable {
+    /// Linear interpolation inside the table; `None` outside it (no extrapolation: densities
+    /// of concentrated solutions curve).
+    pub fn sg_at(&self, basis: StrengthBasis, strength: f64) -> Option<f64> {
+        if basis != self.basis || !strength.is_finite() {
+            return None;
+        }
+        self.points.windows(2).find_map(|w| {
+            let ((s0, g0), (s1, g1)) = (w[0], w[1]);
+            (strength >= s0 && strength <= s1 && s1 > s0)
+                .then(|| g0 + (g1 - g0) * (strength - s0) / (s1 - s0))
+        })
+    }
+}
+
+/// Fills in a missing SG of a solution from the product's density table. Returns the strength
+/// to use and, when the table supplied the SG, an info caution naming it.
+pub fn resolve_sg(p: &Product, s: &Strength) -> (Strength, Option<super::Caution>) {
+    if s.sg.is_some() || p.form != Form::Solution {
+        return (*s, None);
+    }
+    match p
+        .density_table
+        .as_ref()
+        .and_then(|t| t.sg_at(s.basis, s.value.value).map(|sg| (t, sg)))
+    {
+        Some((t, sg)) => (
+            Strength {
+                sg: Some(Measured {
+                    value: sg,
+                    sig_figs: Some(3),
+                }),
+                ..*s
+            },
+            Some(
+                super::Caution::info("sg-from-density-table")
+                    .with("sg", format!("{sg:.3}"))
+                    .with("temperature_c", t.temperature_c),
+            ),
+        ),
+        None => (*s, None),
+    }
 }
 
 /// A stoichiometric reaction with its source.
@@ -232,6 +289,12 @@ impl Catalog {
                 self.reaction_entry(r)?;
             }
             self.compound_per_dose_as(p)?;
+            if let Some(t) = &p.density_table {
+                for (strength, sg) in &t.points {
+                    check_sg(*sg).map_err(|e| e.with("product", &p.id))?;
+                    check_range("strength", *strength, 0.0, 100.0, "%")?;
+                }
+            }
             for t in &p.strengths {
                 let s = Strength::new(Measured::exact(t.value), t.basis, t.sg.map(Measured::exact));
                 check_strength(self, p, &s).map_err(|e| e.with("product", &p.id))?;

@@ -8,7 +8,7 @@
 //! output; the usable band (10–90 % by default, common practice) only produces cautions.
 
 use super::NamedTrace;
-use super::catalog::{Catalog, Form, Product, Strength, active_to_product};
+use super::catalog::{Catalog, Form, Product, Strength, active_to_product, resolve_sg};
 use super::caution::{Caution, finish};
 use super::units::{Flow, G_PER_LB, L_PER_GAL, MassRateUnit, VolumeRateUnit, pounds_factor};
 use crate::engine::sigfig::Measured;
@@ -343,8 +343,10 @@ pub fn feed(catalog: &Catalog, input: &FeedInput) -> Result<FeedResult> {
         },
         si.sig_figs(),
     );
-    let product = active_to_product(catalog, p, &input.strength, start)?;
+    let (strength, sg_note) = resolve_sg(p, &input.strength);
+    let product = active_to_product(catalog, p, &strength, start)?;
     let mut cautions = product_cautions(p);
+    cautions.extend(sg_note);
     // A strength far from anything the trade delivers is more often a typo or a wrong basis
     // than a real product (threshold ±30 % of the nearest catalog strength: common practice).
     let s = input.strength.value.value;

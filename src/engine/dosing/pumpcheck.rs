@@ -8,7 +8,7 @@
 //! the pump) are common practice with no published source.
 
 use super::NamedTrace;
-use super::catalog::{Catalog, Strength, active_to_product};
+use super::catalog::{Catalog, Strength, active_to_product, resolve_sg};
 use super::caution::{Caution, finish};
 use super::feed::product_cautions;
 use super::units::{Flow, LengthUnit};
@@ -225,7 +225,8 @@ pub fn pump_check(catalog: &Catalog, input: &PumpCheckInput) -> Result<PumpCheck
         Origin::Measured,
         None,
     );
-    let forward = active_to_product(catalog, p, &input.strength, one)?;
+    let (strength, sg_note) = resolve_sg(p, &input.strength);
+    let forward = active_to_product(catalog, p, &strength, one)?;
     let l_per_kg = forward.product_l_per_day.ok_or_else(|| {
         Error::new(
             ErrorKind::InvalidInput,
@@ -235,7 +236,7 @@ pub fn pump_check(catalog: &Catalog, input: &PumpCheckInput) -> Result<PumpCheck
             ),
         )
     })?;
-    let mut t = measured_rate(&input.measurement, input.strength.sg)?;
+    let mut t = measured_rate(&input.measurement, strength.sg)?;
     let product_l = t.value();
     t.then(
         Quantity::of(1.0, "kg/d", &p.dose_as),
@@ -272,6 +273,7 @@ pub fn pump_check(catalog: &Catalog, input: &PumpCheckInput) -> Result<PumpCheck
     let factor = target / actual;
     let suggested = input.current_setting_percent.map(|s| s * factor);
     let mut cautions = product_cautions(p);
+    cautions.extend(sg_note);
     match verdict {
         Verdict::WithinTolerance => cautions.push(Caution::info("pump-check-within-tolerance")),
         Verdict::Adjust => cautions.push(
