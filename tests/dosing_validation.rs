@@ -646,6 +646,8 @@ fn every_caution_key_is_documented() {
         include_str!("../src/engine/dosing/softening.rs"),
         include_str!("../src/engine/dosing/pumpcheck.rs"),
         include_str!("../src/engine/dosing/caution.rs"),
+        include_str!("../src/engine/dosing/catalog.rs"),
+        include_str!("../src/engine/dosing/site.rs"),
     ] {
         for part in src.split("Caution::").skip(1) {
             if let Some(rest) = part.split_once("(\"") {

@@ -10,6 +10,7 @@ use super::{Args, CliError, CliResult, Report};
 use crate::engine::dosing::catalog::{Catalog, Strength, StrengthBasis};
 use crate::engine::dosing::caution::render;
 use crate::engine::dosing::chlorine::{self, ChlorineInput, ContactTime, CtInput};
+use crate::engine::dosing::coagulation::{self, Coagulant, SludgeInput};
 use crate::engine::dosing::feed::{self, DilutionInput, FeedInput, PumpKind, UsableRange};
 use crate::engine::dosing::pumpcheck::{self, Measurement, PumpCheckInput, TankShape, Tolerance};
 use crate::engine::dosing::site::SiteProfile;
@@ -21,6 +22,18 @@ use crate::engine::dosing::{NamedTrace, show_work};
 use crate::engine::sigfig::Measured;
 use serde::Serialize;
 use serde_json::{Value, json};
+
+/// The dosing subcommands `dispatch` routes here.
+pub const COMMANDS: [&str; 8] = [
+    "feed",
+    "chlorine",
+    "dechlor",
+    "ct",
+    "soften",
+    "pump-check",
+    "dilute",
+    "sludge",
+];
 
 /// Runs one dosing subcommand by name (registered in `dispatch`).
 pub fn run(command: &str, args: &Args) -> CliResult {
@@ -35,6 +48,7 @@ pub fn run(command: &str, args: &Args) -> CliResult {
         "soften" => soften(args),
         "pump-check" => pump_check(args),
         "dilute" => dilute(args),
+        "sludge" => sludge(args),
         other => Err(CliError::usage(format!("unknown dosing command '{other}'"))),
     }
 }
@@ -569,6 +583,51 @@ pub fn dilute(args: &Args) -> CliResult {
         fmt(volume * unit.litres()),
         fmt(r.target_g_per_l)
     )];
+    Ok(Report {
+        human: human(&lines, &r.traces, &r.cautions),
+        json: to_json(&r)?,
+    })
+}
+
+/// `molefeed sludge`: dry solids from coagulation (published coagulant-sludge formula, with the
+/// coagulant coefficient derived from its hydrolysis reaction).
+pub fn sludge(args: &Args) -> CliResult {
+    let catalog = catalog()?;
+    let flow = flow(args)?;
+    let coagulant = Coagulant::parse(args.required_text("coagulant")?, args.number("basicity")?)?;
+    let dose = required_measured(args, "dose")?;
+    let ss = match (args.number("suspended-solids")?, args.number("turbidity")?) {
+        (Some(ss), None) => ss,
+        (None, Some(ntu)) => ntu * args.required_number("ss-per-ntu")?,
+        _ => {
+            return Err(CliError::usage(
+                "give --suspended-solids MG_L, or --turbidity NTU with the plant's --ss-per-ntu",
+            ));
+        }
+    };
+    let r = coagulation::sludge(
+        &catalog,
+        &SludgeInput {
+            flow,
+            coagulant,
+            dose,
+            suspended_solids_mg_l: ss,
+            additives_mg_l: args.number("additives")?.unwrap_or(0.0),
+        },
+    )?;
+    let lines = vec![
+        format!(
+            "{} mg/L dry solids ({} mg per mg of coagulant as {})",
+            fmt(r.solids_mg_l),
+            fmt(r.solids_per_mg),
+            coagulant.dose_as()
+        ),
+        format!(
+            "dry solids {} kg/d = {} lb/d",
+            fmt(r.dry_solids_kg_per_day),
+            fmt(r.dry_solids_lb_per_day)
+        ),
+    ];
     Ok(Report {
         human: human(&lines, &r.traces, &r.cautions),
         json: to_json(&r)?,

@@ -65,9 +65,7 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "mass" => chemistry::mass(args),
         "balance" => chemistry::balance(args),
         "convert" => chemistry::convert(args),
-        "feed" | "chlorine" | "dechlor" | "ct" | "soften" | "pump-check" | "dilute" => {
-            dosing::run(command, args)
-        }
+        c if dosing::COMMANDS.contains(&c) => dosing::run(c, args),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -83,7 +81,7 @@ const HELP: &str = "molefeed — chemical feed for water treatment (advisory; a 
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
-dosing:     feed | chlorine | dechlor | ct | soften | pump-check | dilute  (--json, --site FILE; see docs/dosing-notes.md)
+dosing:     feed | chlorine | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
 chemistry:  mass FORMULA | balance \"EQUATION\" | convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F
 ";
 

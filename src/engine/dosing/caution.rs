@@ -76,7 +76,7 @@ pub fn finish(mut cautions: Vec<Caution>) -> Vec<Caution> {
             seen.push(c);
         }
     }
-    seen.sort_by(|a, b| b.severity.cmp(&a.severity));
+    seen.sort_by_key(|c| std::cmp::Reverse(c.severity));
     seen.push(Caution::advisory());
     seen
 }
