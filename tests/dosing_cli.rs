@@ -165,6 +165,29 @@ fn site_profile_supplies_strength_and_pump() {
 }
 
 #[test]
+fn chlorine_and_dechlor_continue_to_the_product_feed() {
+    // 2.4 mg/L at 2.5 MGD of 12.5 trade % hypochlorite: 2.4/3.0 of the 60 gal/d worked example.
+    let (code, json, text) = run(&format!(
+        "chlorine --demand 1.4 --residual 1.0 --flow 2.5 --flow-unit mgd {HYPO} --json"
+    ));
+    assert_eq!(code, 0, "{text}");
+    let gal = json["feed"]["product_gal_per_day"].as_f64().unwrap();
+    assert!((gal - 48.0).abs() < 1e-9, "{gal}");
+    // Bisulfite feed for the stoichiometric dose, and the field dose on request.
+    let base = "dechlor --residual 2.0 --agent NaHSO3 --flow 1.2 --flow-unit mgd --product sodium-bisulfite --strength 38 --strength-basis weight --sg 1.36 --json";
+    let (_, stoich, _) = run(base);
+    let (_, field, _) = run(&format!("{base} --field-dose"));
+    let a = stoich["feed"]["active_kg_per_day"].as_f64().unwrap();
+    let b = field["feed"]["active_kg_per_day"].as_f64().unwrap();
+    assert!((b / a - 1.61 / stoich["agent_mg_per_mg_cl2"].as_f64().unwrap()).abs() < 1e-9);
+    // A product dosed as something else is refused.
+    let (code, _, _) = run(&format!(
+        "dechlor --residual 2 --agent NaHSO3 --flow 1 --flow-unit mgd {HYPO} --json"
+    ));
+    assert_eq!(code, 2);
+}
+
+#[test]
 fn errors_and_typos_fail_cleanly() {
     let (code, json, _) = run(&format!(
         "feed --flow 0 --flow-unit mgd --dose 3 {HYPO} --json"

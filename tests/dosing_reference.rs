@@ -421,7 +421,7 @@ fn chloramination_flags_ratios_above_theory() {
 }
 
 /// EPA CT values for 3-log Giardia by free chlorine, SWTR Guidance Manual (1991) Appendix E,
-/// reproduced in EPA 815-R-20-003 (2020) Table B-1 (values read from a public transcription of
+/// reproduced in EPA 815-R-20-003 (2020) Table B-1 (values read from a public reproduction of
 /// Table B-1; 92 and 152/304 also confirmed in references.md [C]). (°C, mg/L, pH, CT).
 const EPA_TABLE_B1: [(f64, f64, f64, f64); 14] = [
     (0.5, 0.4, 6.0, 137.0),

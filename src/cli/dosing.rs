@@ -188,46 +188,70 @@ fn fmt(v: f64) -> String {
     crate::engine::sigfig::format_sig(v, 4)
 }
 
-/// `molefeed feed`: dose → active feed → product → pump setting.
-pub fn feed(args: &Args) -> CliResult {
-    let catalog = catalog()?;
-    let site = site(args, &catalog)?;
+/// The feed input from flags (and the site profile): flow, product, strength, pump, limits.
+fn feed_input(
+    args: &Args,
+    catalog: &Catalog,
+    site: Option<&SiteProfile>,
+    dose: Measured,
+) -> Result<FeedInput, CliError> {
     let flow = flow(args)?;
-    let dose = required_measured(args, "dose")?;
-    let (product, strength, delivered) = product_and_strength(args, &catalog, site.as_ref())?;
+    let (product, strength, delivered) = product_and_strength(args, catalog, site)?;
     let mut pump = pump_from_flags(args)?;
     if let Some(id) = args.text("pump")? {
-        let s = site
-            .as_ref()
-            .ok_or_else(|| CliError::usage("--pump needs --site"))?;
+        let s = site.ok_or_else(|| CliError::usage("--pump needs --site"))?;
         pump = Some(s.pump(id)?.kind);
     } else if pump.is_none()
-        && let (Some(s), Some(d)) = (&site, &delivered)
+        && let (Some(s), Some(d)) = (site, &delivered)
     {
         pump = s.pump_for(d).map(|p| p.kind);
     }
     let max_use_level = match args.number("max-use-level")? {
         Some(v) => Some(v),
         None => site
-            .as_ref()
             .zip(delivered.as_ref())
             .and_then(|(s, d)| s.delivered(d).ok())
             .and_then(|d| d.max_use_level_mg_l),
     };
-    let input = FeedInput {
+    Ok(FeedInput {
         flow,
         dose,
         product,
         strength,
         pump,
-        usable_range: usable_range(args, site.as_ref())?,
+        usable_range: usable_range(args, site)?,
         max_use_level_mg_l: max_use_level,
-    };
-    let r = feed::feed(&catalog, &input)?;
-    let mut j = to_json(&r)?;
-    j["pump_percent"] = json!(r.pump.as_ref().map(|p| p.percent));
+    })
+}
+
+/// With `--flow`, the product feed for a dose another calculator produced (expressed as
+/// `dose_as`); the product must be dosed as that substance.
+fn follow_on_feed(
+    args: &Args,
+    catalog: &Catalog,
+    site: Option<&SiteProfile>,
+    dose_as: &str,
+    dose: f64,
+) -> Result<Option<feed::FeedResult>, CliError> {
+    if args.text("flow")?.is_none() {
+        return Ok(None);
+    }
+    let input = feed_input(args, catalog, site, Measured::exact(dose))?;
+    let p = catalog.product(&input.product)?;
+    let same = crate::engine::formula::Formula::parse(&p.dose_as)?
+        .same_composition(&crate::engine::formula::Formula::parse(dose_as)?);
+    if !same {
+        return Err(CliError::usage(format!(
+            "{} is dosed as {}, but this dose is {}",
+            p.id, p.dose_as, dose_as
+        )));
+    }
+    Ok(Some(feed::feed(catalog, &input)?))
+}
+
+fn feed_lines(r: &feed::FeedResult) -> Vec<String> {
     let mut lines = vec![
-        format!("dose {} mg/L as {}", r.dose_mg_l, r.dose_as),
+        format!("dose {} mg/L as {}", fmt(r.dose_mg_l), r.dose_as),
         format!(
             "active feed {} kg/d = {} lb/d = {} g/h",
             fmt(r.active_kg_per_day),
@@ -266,6 +290,19 @@ pub fn feed(args: &Args) -> CliResult {
         }
         lines.push(s);
     }
+    lines
+}
+
+/// `molefeed feed`: dose → active feed → product → pump setting.
+pub fn feed(args: &Args) -> CliResult {
+    let catalog = catalog()?;
+    let site = site(args, &catalog)?;
+    let dose = required_measured(args, "dose")?;
+    let input = feed_input(args, &catalog, site.as_ref(), dose)?;
+    let r = feed::feed(&catalog, &input)?;
+    let mut j = to_json(&r)?;
+    j["pump_percent"] = json!(r.pump.as_ref().map(|p| p.percent));
+    let lines = feed_lines(&r);
     Ok(Report {
         human: human(&lines, &r.traces, &r.cautions),
         json: j,
@@ -340,6 +377,13 @@ pub fn chlorine(args: &Args) -> CliResult {
         traces.extend(c.traces);
         cautions = crate::engine::dosing::caution::finish([cautions, c.cautions].concat());
     }
+    if let Some(f) = follow_on_feed(args, &catalog, site.as_ref(), "Cl2", r.dose_mg_l)? {
+        lines.push(String::new());
+        lines.extend(feed_lines(&f));
+        j["feed"] = to_json(&f)?;
+        traces.extend(f.traces);
+        cautions = crate::engine::dosing::caution::finish([cautions, f.cautions].concat());
+    }
     j["cautions"] = to_json(&cautions)?;
     Ok(Report {
         human: human(&lines, &traces, &cautions),
@@ -350,8 +394,10 @@ pub fn chlorine(args: &Args) -> CliResult {
 /// `molefeed dechlor`: reducing agent for a chlorine residual.
 pub fn dechlor(args: &Args) -> CliResult {
     let catalog = catalog()?;
+    let site = site(args, &catalog)?;
     let residual = required_measured(args, "residual")?;
     let agent = args.required_text("agent")?;
+    let use_field = args.switch("field-dose");
     let r = chlorine::dechlorination(&catalog, residual, agent)?;
     let mut lines = vec![format!(
         "{} {} mg/L stoichiometric ({} mg per mg Cl2, balanced reaction)",
@@ -366,9 +412,26 @@ pub fn dechlor(args: &Args) -> CliResult {
             f
         ));
     }
+    let dose = if use_field {
+        r.field_agent_mg_l
+            .ok_or_else(|| CliError::usage(format!("no published field dose for {}", r.agent)))?
+    } else {
+        r.agent_mg_l
+    };
+    let mut j = to_json(&r)?;
+    let mut traces = r.traces.clone();
+    let mut cautions = r.cautions.clone();
+    if let Some(f) = follow_on_feed(args, &catalog, site.as_ref(), &r.agent, dose)? {
+        lines.push(String::new());
+        lines.extend(feed_lines(&f));
+        j["feed"] = to_json(&f)?;
+        traces.extend(f.traces);
+        cautions = crate::engine::dosing::caution::finish([cautions, f.cautions].concat());
+        j["cautions"] = to_json(&cautions)?;
+    }
     Ok(Report {
-        human: human(&lines, &r.traces, &r.cautions),
-        json: to_json(&r)?,
+        human: human(&lines, &traces, &cautions),
+        json: j,
     })
 }
 
@@ -436,6 +499,8 @@ pub fn ct(args: &Args) -> CliResult {
 /// `molefeed soften`: lime and soda ash.
 pub fn soften(args: &Args) -> CliResult {
     let catalog = catalog()?;
+    // Accepted for uniform scripting; softening needs nothing from the profile yet.
+    let _ = site(args, &catalog)?;
     let zero = Measured::exact(0.0);
     let input = SofteningInput {
         co2: measured(args, "co2")?.unwrap_or(zero),
@@ -548,6 +613,7 @@ pub fn pump_check(args: &Args) -> CliResult {
 /// `molefeed dilute`: day-tank batching by C1·V1 = C2·V2 on a g/L basis.
 pub fn dilute(args: &Args) -> CliResult {
     let catalog = catalog()?;
+    let _ = site(args, &catalog)?;
     let product = args.required_text("product")?.to_string();
     let basis = StrengthBasis::parse(args.required_text("strength-basis")?)?;
     let concentrate = Strength::new(
@@ -593,6 +659,7 @@ pub fn dilute(args: &Args) -> CliResult {
 /// coagulant coefficient derived from its hydrolysis reaction).
 pub fn sludge(args: &Args) -> CliResult {
     let catalog = catalog()?;
+    let _ = site(args, &catalog)?;
     let flow = flow(args)?;
     let coagulant = Coagulant::parse(args.required_text("coagulant")?, args.number("basicity")?)?;
     let dose = required_measured(args, "dose")?;
