@@ -161,6 +161,21 @@ proptest! {
             coagulant: Coagulant::Pacl { basicity_percent: a }, dose: m(b), raw_alkalinity: m(cc),
             residual_alkalinity_setpoint: d, alkali: Alkali::SodaAsh, alkali_purity_percent: e,
         });
+        let _ = feed::dilution(&c, &feed::DilutionInput {
+            product: product.into(), concentrate: s, target: Strength::new(m(e), basis, Some(m(a))), final_volume_l: b,
+        });
+        let _ = coagulation::sludge(&c, &coagulation::SludgeInput {
+            flow: Flow::new(m(a), UNITS[unit]), coagulant: Coagulant::FerricSulfate, dose: m(b),
+            suspended_solids_mg_l: cc, additives_mg_l: d,
+        });
+        let _ = pumpcheck::pump_check(&c, &PumpCheckInput {
+            measurement: Measurement::TankDrop {
+                shape: pumpcheck::TankShape::Rectangular { length: a, width: b },
+                drop: m(cc), unit: molefeed::engine::dosing::units::LengthUnit::In, minutes: m(d),
+            },
+            flow: Flow::new(m(e), UNITS[unit]), product: product.into(), strength: s,
+            target_dose: m(a), current_setting_percent: None, tolerance: Tolerance::default(),
+        });
         let _ = softening::softening(&c, &SofteningInput {
             co2: m(a), alkalinity: m(b), magnesium: m(cc), non_carbonate_hardness: m(d),
             excess_lime_cao: e, lime_purity_percent: a, soda_ash_purity_percent: b,
