@@ -600,3 +600,30 @@ fn ferric_chloride_density_table() {
     let outside = run(50.0).unwrap_err();
     assert!(outside.message().contains("specific gravity"), "{outside}");
 }
+
+#[test]
+fn published_pounds_per_gallon_examples() {
+    // Published worked answers (The H2O Professor, theh2oprofessor.com, "Solutions", problems
+    // Lbs/gal-1 and Lbs/gal-3): lb/gal = % / 100 × 8.34 × SG. 12 % at SG 1.41 → 1.41 lb/gal;
+    // 30 % aluminium sulfate at SG 1.16 → 2.90 lb/gal. Tolerance: the published rounding.
+    let c = catalog();
+    let lb_per_gal = |product: &str, s: Strength| {
+        let p = c.product(product).unwrap();
+        let g_per_l = feed::grams_per_litre(&c, p, &s).unwrap().value();
+        g_per_l * 3.785411784 / 453.59237
+    };
+    let cases = [
+        (
+            "sodium-hypochlorite",
+            StrengthBasis::AvailableChlorine,
+            12.0,
+            1.41,
+            1.41,
+        ),
+        ("alum-liquid", StrengthBasis::Weight, 30.0, 1.16, 2.90),
+    ];
+    for (product, basis, strength, sg, published) in cases {
+        let v = lb_per_gal(product, Strength::new(m(strength), basis, Some(m(sg))));
+        check(product, v, published, 0.005);
+    }
+}
