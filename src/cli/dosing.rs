@@ -16,7 +16,7 @@ use crate::engine::dosing::pumpcheck::{self, Measurement, PumpCheckInput, TankSh
 use crate::engine::dosing::site::SiteProfile;
 use crate::engine::dosing::softening::{self, SofteningInput};
 use crate::engine::dosing::units::{
-    Flow, FlowUnit, LengthUnit, MassRateUnit, VolumeRateUnit, VolumeUnit,
+    Flow, FlowUnit, LengthUnit, MassRateUnit, UnitSystem, VolumeRateUnit, VolumeUnit,
 };
 use crate::engine::dosing::{NamedTrace, show_work};
 use crate::engine::sigfig::Measured;
@@ -249,20 +249,53 @@ fn follow_on_feed(
     Ok(Some(feed::feed(catalog, &input)?))
 }
 
-fn feed_lines(r: &feed::FeedResult) -> Vec<String> {
+/// The unit system to print first: `--units`, else the site's, else US.
+fn unit_system(args: &Args, site: Option<&SiteProfile>) -> Result<UnitSystem, CliError> {
+    Ok(match args.text("units")? {
+        Some("us") => UnitSystem::Us,
+        Some("si") => UnitSystem::Si,
+        Some(other) => {
+            return Err(CliError::usage(format!(
+                "--units takes us or si, not '{other}'"
+            )));
+        }
+        None => site.map_or_else(UnitSystem::default, |s| s.units),
+    })
+}
+
+fn feed_lines(r: &feed::FeedResult, system: UnitSystem) -> Vec<String> {
+    let (active, product) = match system {
+        UnitSystem::Us => (
+            format!(
+                "active feed {} lb/d ({} kg/d, {} g/h)",
+                fmt(r.active_lb_per_day),
+                fmt(r.active_kg_per_day),
+                fmt(r.active_g_per_hour)
+            ),
+            format!(
+                "product {} lb/d ({} kg/d)",
+                fmt(r.product_lb_per_day),
+                fmt(r.product_kg_per_day)
+            ),
+        ),
+        UnitSystem::Si => (
+            format!(
+                "active feed {} kg/d = {} g/h ({} lb/d)",
+                fmt(r.active_kg_per_day),
+                fmt(r.active_g_per_hour),
+                fmt(r.active_lb_per_day)
+            ),
+            format!(
+                "product {} kg/d ({} lb/d)",
+                fmt(r.product_kg_per_day),
+                fmt(r.product_lb_per_day)
+            ),
+        ),
+    };
     let mut lines = vec![
         format!("dose {} mg/L as {}", fmt(r.dose_mg_l), r.dose_as),
-        format!(
-            "active feed {} kg/d = {} lb/d = {} g/h",
-            fmt(r.active_kg_per_day),
-            fmt(r.active_lb_per_day),
-            fmt(r.active_g_per_hour)
-        ),
-        format!(
-            "product {} kg/d = {} lb/d",
-            fmt(r.product_kg_per_day),
-            fmt(r.product_lb_per_day)
-        ),
+        active,
+        product,
     ];
     if let (Some(l), Some(g), Some(gph), Some(lh), Some(ml)) = (
         r.product_l_per_day,
@@ -271,14 +304,22 @@ fn feed_lines(r: &feed::FeedResult) -> Vec<String> {
         r.product_l_per_h,
         r.product_ml_per_min,
     ) {
-        lines.push(format!(
-            "product volume {} L/d = {} gal/d = {} gph = {} L/h = {} mL/min",
-            fmt(l),
-            fmt(g),
-            fmt(gph),
-            fmt(lh),
-            fmt(ml)
-        ));
+        lines.push(match system {
+            UnitSystem::Us => format!(
+                "product volume {} gal/d = {} gph ({} L/d, {} mL/min)",
+                fmt(g),
+                fmt(gph),
+                fmt(l),
+                fmt(ml)
+            ),
+            UnitSystem::Si => format!(
+                "product volume {} L/d = {} L/h = {} mL/min ({} gal/d)",
+                fmt(l),
+                fmt(lh),
+                fmt(ml),
+                fmt(g)
+            ),
+        });
     }
     if let Some(p) = &r.pump {
         let mut s = format!("pump setting {} % of full output", fmt(p.percent));
@@ -302,7 +343,7 @@ pub fn feed(args: &Args) -> CliResult {
     let r = feed::feed(&catalog, &input)?;
     let mut j = to_json(&r)?;
     j["pump_percent"] = json!(r.pump.as_ref().map(|p| p.percent));
-    let lines = feed_lines(&r);
+    let lines = feed_lines(&r, unit_system(args, site.as_ref())?);
     Ok(Report {
         human: human(&lines, &r.traces, &r.cautions),
         json: j,
@@ -379,7 +420,7 @@ pub fn chlorine(args: &Args) -> CliResult {
     }
     if let Some(f) = follow_on_feed(args, &catalog, site.as_ref(), "Cl2", r.dose_mg_l)? {
         lines.push(String::new());
-        lines.extend(feed_lines(&f));
+        lines.extend(feed_lines(&f, unit_system(args, site.as_ref())?));
         j["feed"] = to_json(&f)?;
         traces.extend(f.traces);
         cautions = crate::engine::dosing::caution::finish([cautions, f.cautions].concat());
@@ -423,7 +464,7 @@ pub fn dechlor(args: &Args) -> CliResult {
     let mut cautions = r.cautions.clone();
     if let Some(f) = follow_on_feed(args, &catalog, site.as_ref(), &r.agent, dose)? {
         lines.push(String::new());
-        lines.extend(feed_lines(&f));
+        lines.extend(feed_lines(&f, unit_system(args, site.as_ref())?));
         j["feed"] = to_json(&f)?;
         traces.extend(f.traces);
         cautions = crate::engine::dosing::caution::finish([cautions, f.cautions].concat());
