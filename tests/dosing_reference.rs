@@ -463,6 +463,42 @@ fn ct_regression_against_epa_table_spot_checks() {
 }
 
 #[test]
+fn ct_is_held_at_the_table_edge_on_the_lenient_side() {
+    // Table-reading rules (SWTR Guidance Manual): round C and pH up, temperature down; the
+    // tables start at "≤ 0.4 mg/L" and "≤ pH 6" and end at 25 °C.
+    let run = |c: f64, ph: f64, t: f64| {
+        chlorine::ct_free_chlorine(&CtInput {
+            residual: m(c),
+            ph,
+            temperature_c: t,
+            contact: ContactTime::T10Minutes(60.0),
+        })
+        .unwrap()
+        .ct_required_3log_mg_min_l
+    };
+    for (low, edge) in [
+        ((0.2, 7.0, 10.0), (0.4, 7.0, 10.0)),
+        ((1.0, 5.5, 10.0), (1.0, 6.0, 10.0)),
+        ((1.0, 7.0, 28.0), (1.0, 7.0, 25.0)),
+    ] {
+        check(
+            "held at edge",
+            run(low.0, low.1, low.2),
+            ct_required(3.0, edge.0, edge.1, edge.2),
+            1e-9,
+        );
+    }
+    // Colder than 0.5 °C the regression already asks for more CT: it is used as is.
+    check(
+        "cold",
+        run(1.0, 7.0, 0.2),
+        ct_required(3.0, 1.0, 7.0, 0.2),
+        1e-9,
+    );
+    assert!(run(1.0, 7.0, 0.2) > run(1.0, 7.0, 0.5));
+}
+
+#[test]
 fn ct_log_inactivation_from_contact_time() {
     let r = chlorine::ct_free_chlorine(&CtInput {
         residual: m(1.2),

@@ -470,6 +470,9 @@ pub struct CtResult {
     pub giardia_log_inactivation: f64,
     /// CT actual / CT for 3-log: the inactivation ratio the SWTR uses (≥ 1 meets 3-log).
     pub inactivation_ratio: f64,
+    /// Residual, pH and temperature the regression was evaluated at (held at the table edge
+    /// where the inputs fall on the side that would lower the required CT).
+    pub regression_inputs: (f64, f64, f64),
     pub traces: Vec<NamedTrace>,
     pub cautions: Vec<Caution>,
 }
@@ -541,8 +544,13 @@ pub fn ct_free_chlorine(input: &CtInput) -> Result<CtResult> {
         None,
     )?;
     let ct = t.value();
-    let one = ct_required(1.0, c, input.ph, input.temperature_c);
-    let three = ct_required(3.0, c, input.ph, input.temperature_c);
+    // The EPA tables are read conservatively (round C and pH up, temperature down; SWTR
+    // Guidance Manual); their first rows are "≤ 0.4 mg/L" and "≤ pH 6" and the last column
+    // 25 °C, so below or beyond those the regression is evaluated at the table's edge rather
+    // than extrapolated to a smaller required CT.
+    let (c_used, ph_used, t_used) = (c.max(0.4), input.ph.max(6.0), input.temperature_c.min(25.0));
+    let one = ct_required(1.0, c_used, ph_used, t_used);
+    let three = ct_required(3.0, c_used, ph_used, t_used);
     let mut logs = Trace::new(
         Quantity::new(ct, "mg·min/L"),
         Origin::Measured,
@@ -580,6 +588,7 @@ pub fn ct_free_chlorine(input: &CtInput) -> Result<CtResult> {
         ct_required_3log_mg_min_l: three,
         giardia_log_inactivation: logs.value(),
         inactivation_ratio: ct / three,
+        regression_inputs: (c_used, ph_used, t_used),
         traces,
         cautions: finish(cautions),
     })

@@ -288,6 +288,8 @@ pub fn pump_setting(
     let (stroke, speed) = match kind {
         // Stroke first at full speed (finest resolution); when that is below the usable band,
         // split evenly so that neither dial sits lower than it must.
+        // Over capacity there is no setting to give; the danger caution says so.
+        PumpKind::Metering { .. } if percent > 100.0 => (None, None),
         PumpKind::Metering { .. } if percent >= range.min => (Some(percent), Some(100.0)),
         PumpKind::Metering { .. } => {
             let each = (percent * 100.0).sqrt();
