@@ -146,14 +146,18 @@ fn site_profile_supplies_strength_and_pump() {
         "feed --site {site} --product hypo-bulk --flow 2.5 --flow-unit mgd --dose 3.0 --json"
     );
     check(&a, "pump_percent", 25.0, 1e-9);
-    let (_, json, _) = run(&a);
-    assert!(
+    // The demo certificate's maximum use level (100 mg/L of product) is not reached at 3 mg/L
+    // (28 mg/L of product); a plant entering 10 mg/L is warned.
+    let has_mul = |args: &str| {
+        let (_, json, _) = run(args);
         json["cautions"]
             .as_array()
             .unwrap()
             .iter()
             .any(|c| c["key"] == "dose-above-max-use-level")
-    );
+    };
+    assert!(!has_mul(&a));
+    assert!(has_mul(&format!("{a} --max-use-level 10")));
     check(
         &format!(
             "ct --site {site} --basin clearwell --flow 2 --flow-unit mgd --residual 1 --ph 7 --temperature 10 --json"
