@@ -198,3 +198,71 @@ proptest! {
         prop_assert!(one.ct_required_3log_mg_min_l > 0.0);
     }
 }
+
+const FLAGS: [&str; 24] = [
+    "flow",
+    "flow-unit",
+    "dose",
+    "product",
+    "strength",
+    "strength-basis",
+    "sg",
+    "pump-capacity",
+    "pump-unit",
+    "residual",
+    "agent",
+    "demand",
+    "ammonia-n",
+    "ph",
+    "temperature",
+    "contact-minutes",
+    "drawdown-ml",
+    "seconds",
+    "target-dose",
+    "alkalinity",
+    "excess-lime",
+    "coagulant",
+    "volume",
+    "volume-unit",
+];
+const COMMANDS: [&str; 8] = [
+    "feed",
+    "chlorine",
+    "dechlor",
+    "ct",
+    "soften",
+    "pump-check",
+    "dilute",
+    "sludge",
+];
+const VALUES: [&str; 12] = [
+    "2.5",
+    "-1",
+    "0",
+    "1e308",
+    "NaN",
+    "mgd",
+    "trade",
+    "sodium-hypochlorite",
+    "NaHSO3",
+    "alum",
+    "gph",
+    "x",
+];
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(512))]
+
+    /// Any mix of dosing flags and values is a report or an error from the CLI, never a panic.
+    #[test]
+    fn cli_never_panics(cmd in 0usize..8, picks in proptest::collection::vec((0usize..24, 0usize..12), 0..10)) {
+        let mut words: Vec<String> = Vec::new();
+        for (f, v) in picks {
+            words.push(format!("--{}", FLAGS[f]));
+            words.push(VALUES[v].to_string());
+        }
+        if let Ok(args) = molefeed::cli::Args::parse(&words) {
+            let _ = molefeed::cli::dispatch(COMMANDS[cmd], &args);
+        }
+    }
+}

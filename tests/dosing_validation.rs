@@ -104,6 +104,12 @@ fn bad_flows_are_rejected_by_every_calculator() {
         );
     }
     check(
+        "absurd flow",
+        feed::feed(&c, &feed_input(1e9, 3.0, good)),
+        ErrorKind::OutOfRange,
+        "flow",
+    );
+    check(
         "NaN flow",
         feed::feed(&c, &feed_input(f64::NAN, 3.0, good)),
         ErrorKind::InvalidInput,

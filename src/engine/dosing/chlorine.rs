@@ -502,7 +502,11 @@ pub fn ct_free_chlorine(input: &CtInput) -> Result<CtResult> {
     check_range("temperature", input.temperature_c, 0.0, 40.0, "°C")?;
     let mut traces = Vec::new();
     let t10 = match input.contact {
-        ContactTime::T10Minutes(m) => check_positive("contact time", m, "min")?,
+        ContactTime::T10Minutes(m) => {
+            check_positive("contact time", m, "min")?;
+            // A week of contact is already far beyond any basin; more is a typing slip.
+            check_range("contact time", m, 0.0, 10_080.0, "min")?
+        }
         ContactTime::Basin {
             volume_l,
             baffling_factor,

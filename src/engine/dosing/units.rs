@@ -8,13 +8,16 @@
 
 use crate::engine::sigfig::Measured;
 use crate::engine::trace::{Origin, Quantity, Trace};
-use crate::engine::{Error, ErrorKind, Result, check_positive};
+use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::{Deserialize, Serialize};
 
 /// Litres per US gallon, exact (US gallon = 231 in³, inch = 2.54 cm).
 pub const L_PER_GAL: f64 = 3.785411784;
 /// Grams per avoirdupois pound, exact (international pound, 1959).
 pub const G_PER_LB: f64 = 453.59237;
+
+/// The largest flow accepted, L/d.
+pub const MAX_L_PER_DAY: f64 = 1e12;
 
 /// Plant flow units.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
@@ -85,9 +88,23 @@ impl Flow {
         Flow { value, unit }
     }
 
-    /// Rejects zero, negative and non-numeric flows.
+    /// Rejects zero, negative and non-numeric flows, and flows above 10¹² L/d (about
+    /// 264 000 MGD, a hundred times the largest plants: a slipped unit, not a plant).
     pub fn validate(&self) -> Result<()> {
         check_positive("flow", self.value.value, self.unit.symbol())?;
+        let l_per_unit: f64 = self
+            .unit
+            .steps_to_l_per_day()
+            .iter()
+            .map(|(n, _, d, _)| n / d)
+            .product();
+        check_range(
+            "flow",
+            self.value.value,
+            0.0,
+            MAX_L_PER_DAY / l_per_unit,
+            self.unit.symbol(),
+        )?;
         Ok(())
     }
 
