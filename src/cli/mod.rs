@@ -8,6 +8,7 @@
 
 mod args;
 mod chemistry;
+mod dosing;
 
 pub use args::Args;
 
@@ -66,6 +67,7 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "convert" => chemistry::convert(args),
         "reactions" => chemistry::reactions(args),
         "equivalent" => chemistry::equivalent(args),
+        c if dosing::COMMANDS.contains(&c) => dosing::run(c, args),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -83,6 +85,7 @@ const HELP: &str =
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
+dosing:     feed | chlorine | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
 chemistry:  mass FORMULA
             balance \"EQUATION\" [--per SPECIES]
             convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F [--to-unit U]

@@ -6,6 +6,7 @@
 //! [`Result`]; nothing here panics on what an operator types.
 
 pub mod convert;
+pub mod dosing;
 pub mod elements;
 pub mod equivalents;
 mod error;
