@@ -420,46 +420,44 @@ fn chloramination_flags_ratios_above_theory() {
     );
 }
 
-/// EPA CT values for 3-log Giardia by free chlorine, SWTR Guidance Manual (1991) Appendix E,
-/// reproduced in EPA 815-R-20-003 (2020) Table B-1 (values read from a public reproduction of
-/// Table B-1; 92 and 152/304 also confirmed in references.md [C]). (°C, mg/L, pH, CT).
-const EPA_TABLE_B1: [(f64, f64, f64, f64); 14] = [
-    (0.5, 0.4, 6.0, 137.0),
+/// EPA CT values for Giardia by free chlorine, SWTR Guidance Manual (1991) Appendix E, as
+/// listed in shared/domain/references.md §4 and marked [C] there (confirmed in a public copy):
+/// (°C, mg/L, pH, log, CT).
+const EPA_TABLE_CONFIRMED: [(f64, f64, f64, f64, f64); 2] =
+    [(15.0, 1.2, 7.5, 3.0, 92.0), (0.5, 1.0, 8.0, 1.5, 152.0)];
+
+/// Cells references.md marks [M] (recalled, not confirmed): C ≤ 0.4 mg/L, pH 7, 3-log.
+/// They are printed beside the regression for the record, never asserted.
+const EPA_TABLE_RECALLED: [(f64, f64, f64, f64); 3] = [
     (0.5, 0.4, 7.0, 195.0),
-    (0.5, 1.0, 8.0, 304.0),
-    (0.5, 3.0, 9.0, 552.0),
-    (5.0, 1.2, 7.5, 183.0),
     (10.0, 0.4, 7.0, 104.0),
-    (10.0, 1.2, 7.5, 137.0),
-    (10.0, 3.0, 9.0, 292.0),
-    (15.0, 1.2, 7.5, 92.0),
-    (15.0, 0.4, 6.0, 49.0),
     (20.0, 0.4, 7.0, 52.0),
-    (20.0, 1.0, 8.0, 81.0),
-    (25.0, 1.2, 7.5, 46.0),
-    (25.0, 3.0, 9.0, 97.0),
 ];
 
 #[test]
 fn ct_regression_against_epa_table_spot_checks() {
-    // The Smith et al. (1995) regression is described as a conservative representation of the
-    // tables: it must never be below them. The +15 % upper bound is what we observe over these
-    // cells (largest 13.9 % at 25 °C, pH 9, 3 mg/L), not a figure Smith et al. state.
-    for (t, c, ph, table) in EPA_TABLE_B1 {
-        let v = ct_required(3.0, c, ph, t);
+    // The Smith et al. (1995) regression is a conservative fit of the tables: it must not be
+    // below a table cell. It runs above the tables by up to about 14 % over their range (our
+    // observation, not a bound Smith et al. state), so 15 % is the tolerance.
+    for (t, c, ph, logs, table) in EPA_TABLE_CONFIRMED {
+        let v = ct_required(logs, c, ph, t);
         assert!(
             v >= table * 0.999,
             "{t} °C {c} mg/L pH {ph}: {v} below table {table}"
         );
-        check(&format!("{t} °C {c} mg/L pH {ph}"), v, table, table * 0.15);
+        check(
+            &format!("{t} °C {c} mg/L pH {ph} {logs}-log"),
+            v,
+            table,
+            table * 0.15,
+        );
     }
-    // 1.5-log is half the 3-log value: 152 at 0.5 °C, pH 8, 1.0 mg/L (Table E-1 [C]).
-    check(
-        "1.5-log",
-        ct_required(1.5, 1.0, 8.0, 0.5),
-        152.0,
-        152.0 * 0.06,
-    );
+    for (t, c, ph, recalled) in EPA_TABLE_RECALLED {
+        println!(
+            "CT 3-log at {t} °C, {c} mg/L, pH {ph}: regression {:.0}, recalled table value {recalled} (not asserted)",
+            ct_required(3.0, c, ph, t)
+        );
+    }
 }
 
 #[test]
