@@ -8,6 +8,7 @@
 
 mod args;
 mod chemistry;
+mod dosing;
 mod water;
 
 pub use args::Args;
@@ -65,6 +66,9 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "mass" => chemistry::mass(args),
         "balance" => chemistry::balance(args),
         "convert" => chemistry::convert(args),
+        "reactions" => chemistry::reactions(args),
+        "equivalent" => chemistry::equivalent(args),
+        c if dosing::COMMANDS.contains(&c) => dosing::run(c, args),
         "ph-after" => water::ph_after(args),
         "dose-for-ph" => water::dose_for_ph(args),
         "stability" => water::stability(args),
@@ -77,17 +81,24 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
             )));
         }
     }?;
+    args.switch("json");
     args.reject_unused()?;
     Ok(result)
 }
 
-const HELP: &str = "molefeed — chemical feed for water treatment (advisory; a licensed operator decides)
+const HELP: &str =
+    "molefeed — chemical feed for water treatment (advisory; a licensed operator decides)
 
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
 water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [ions]; see docs/water-notes.md)
-chemistry:  mass FORMULA | balance \"EQUATION\" | convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F
+dosing:     feed | chlorine | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
+chemistry:  mass FORMULA
+            balance \"EQUATION\" [--per SPECIES]
+            convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F [--to-unit U]
+            equivalent SPECIES [--reaction ID --carrier C]
+            reactions
 ";
 
 /// Runs the CLI on `args` (without the program name) and returns the process exit code.

@@ -6,7 +6,9 @@
 //! [`Result`]; nothing here panics on what an operator types.
 
 pub mod convert;
+pub mod dosing;
 pub mod elements;
+pub mod equivalents;
 mod error;
 pub mod formula;
 pub mod reaction;

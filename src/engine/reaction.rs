@@ -14,7 +14,7 @@ use super::{Error, ErrorKind, Result};
 use nalgebra::DMatrix;
 use num_integer::Integer;
 use num_rational::Ratio;
-use num_traits::{CheckedAdd, CheckedDiv, CheckedMul, CheckedSub, One, Signed, Zero};
+use num_traits::{One, Signed, Zero};
 use std::fmt;
 
 type Q = Ratio<i128>;
@@ -380,7 +380,7 @@ fn check_each_element_on_both_sides(terms: &[Term]) -> Result<()> {
 }
 
 /// Rows: each element, then charge. Columns: species, products negated.
-fn conservation_matrix(terms: &[Term]) -> Result<DMatrix<Q>> {
+fn conservation_matrix(terms: &[Term]) -> Result<DMatrix<i128>> {
     let mut rows: Vec<u8> = terms
         .iter()
         .flat_map(|t| t.formula.atom_indices().iter().map(|&(e, _)| e))
@@ -389,38 +389,39 @@ fn conservation_matrix(terms: &[Term]) -> Result<DMatrix<Q>> {
     rows.dedup();
     let charged = terms.iter().any(|t| t.formula.charge() != 0);
     let n_rows = rows.len() + usize::from(charged);
-    let mut m = DMatrix::from_element(n_rows, terms.len(), Q::zero());
+    let mut m = DMatrix::from_element(n_rows, terms.len(), 0i128);
     for (j, t) in terms.iter().enumerate() {
         let sign: i128 = if t.side == Side::Reactant { 1 } else { -1 };
         for &(e, n) in t.formula.atom_indices() {
             let i = rows.binary_search(&e).map_err(|_| overflow())?;
-            m[(i, j)] = Q::from_integer(sign * n as i128);
+            m[(i, j)] = sign * n as i128;
         }
         if charged {
-            m[(n_rows - 1, j)] = Q::from_integer(sign * t.formula.charge() as i128);
+            m[(n_rows - 1, j)] = sign * t.formula.charge() as i128;
         }
     }
     Ok(m)
 }
 
-fn conserves(m: &DMatrix<Q>, coefficients: &[u64]) -> Result<bool> {
+fn conserves(m: &DMatrix<i128>, coefficients: &[u64]) -> Result<bool> {
     for i in 0..m.nrows() {
-        let mut sum = Q::zero();
+        let mut sum = 0i128;
         for (j, &c) in coefficients.iter().enumerate() {
-            let term = m[(i, j)]
-                .checked_mul(&Q::from_integer(c as i128))
-                .ok_or_else(overflow)?;
-            sum = sum.checked_add(&term).ok_or_else(overflow)?;
+            let term = m[(i, j)].checked_mul(c as i128).ok_or_else(overflow)?;
+            sum = sum.checked_add(term).ok_or_else(overflow)?;
         }
-        if !sum.is_zero() {
+        if sum != 0 {
             return Ok(false);
         }
     }
     Ok(true)
 }
 
-/// Basis of the null space, from the reduced row echelon form, exactly.
-fn null_space(mut m: DMatrix<Q>) -> Result<Vec<Vec<Q>>> {
+/// Basis of the null space, exactly. Gauss–Jordan elimination stays in integers (each row
+/// operation is a cross-multiplication followed by division by the row's content), so there
+/// is no gcd per entry as with rationals and no rounding as with floats; rationals appear
+/// only in the final back-substitution.
+fn null_space(mut m: DMatrix<i128>) -> Result<Vec<Vec<Q>>> {
     let (rows, cols) = m.shape();
     let mut pivots = Vec::new();
     let mut r = 0;
@@ -428,38 +429,46 @@ fn null_space(mut m: DMatrix<Q>) -> Result<Vec<Vec<Q>>> {
         if r == rows {
             break;
         }
-        let Some(p) = (r..rows).find(|&i| !m[(i, c)].is_zero()) else {
+        let Some(p) = (r..rows).find(|&i| m[(i, c)] != 0) else {
             continue;
         };
         m.swap_rows(r, p);
-        let pivot = m[(r, c)];
-        for j in 0..cols {
-            m[(r, j)] = m[(r, j)].checked_div(&pivot).ok_or_else(overflow)?;
-        }
         for i in 0..rows {
-            if i == r || m[(i, c)].is_zero() {
+            if i == r || m[(i, c)] == 0 {
                 continue;
             }
-            let factor = m[(i, c)];
+            let g = m[(r, c)].gcd(&m[(i, c)]);
+            let (keep, take) = (m[(r, c)] / g, m[(i, c)] / g);
             for j in 0..cols {
-                let delta = factor.checked_mul(&m[(r, j)]).ok_or_else(overflow)?;
-                m[(i, j)] = m[(i, j)].checked_sub(&delta).ok_or_else(overflow)?;
+                let a = m[(i, j)].checked_mul(keep).ok_or_else(overflow)?;
+                let b = m[(r, j)].checked_mul(take).ok_or_else(overflow)?;
+                m[(i, j)] = a.checked_sub(b).ok_or_else(overflow)?;
             }
+            divide_row_by_content(&mut m, i);
         }
+        divide_row_by_content(&mut m, r);
         pivots.push(c);
         r += 1;
     }
-    let free: Vec<usize> = (0..cols).filter(|c| !pivots.contains(c)).collect();
     let mut basis = Vec::new();
-    for &f in &free {
+    for f in (0..cols).filter(|c| !pivots.contains(c)) {
         let mut v = vec![Q::zero(); cols];
         v[f] = Q::one();
         for (row, &p) in pivots.iter().enumerate() {
-            v[p] = -m[(row, f)];
+            v[p] = Q::new(-m[(row, f)], m[(row, p)]);
         }
         basis.push(v);
     }
     Ok(basis)
+}
+
+fn divide_row_by_content(m: &mut DMatrix<i128>, row: usize) {
+    let content = m.row(row).iter().fold(0i128, |g, x| g.gcd(x));
+    if content > 1 {
+        for x in m.row_mut(row).iter_mut() {
+            *x /= content;
+        }
+    }
 }
 
 /// Scales a rational null vector to the smallest whole numbers, all of which must be positive.

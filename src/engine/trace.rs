@@ -218,43 +218,39 @@ impl Trace {
 impl fmt::Display for Trace {
     /// One line per step, e.g. `12.5 g Ca(OH)2 × (1 mol Ca(OH)2 / 74.092 g Ca(OH)2) = 0.169 mol Ca(OH)2`.
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let mut previous = self.start.clone();
-        let mut sig = self.start_sig_figs;
+        let start = sigfig::format_measured(self.start.value, self.start_sig_figs);
         if self.steps.is_empty() {
-            return write!(
-                f,
-                "{} {}",
-                sigfig::format_measured(previous.value, sig),
-                previous.label()
-            );
+            return write!(f, "{start} {}", self.start.label());
         }
-        for step in &self.steps {
-            sig = combine(sig, step.sig_figs);
+        // Intermediate values carry two guard digits beyond what the result can claim, so
+        // rounding happens once, at the end, as in careful hand calculation.
+        let final_sig = self.sig_figs();
+        let guarded = final_sig.map(|s| s.saturating_add(2));
+        let mut carried = start;
+        let mut previous = &self.start;
+        for (i, step) in self.steps.iter().enumerate() {
+            let last = i + 1 == self.steps.len();
+            let shown =
+                sigfig::format_measured(step.result.value, if last { final_sig } else { guarded });
+            let numerator = sigfig::format_measured(step.numerator.value, None);
             let factor = if step.denominator.unit == "1" {
-                format!(
-                    "{} {}",
-                    sigfig::format_measured(step.numerator.value, step.sig_figs),
-                    step.numerator.label()
-                )
+                format!("{numerator} {}", step.numerator.label())
             } else {
+                let denominator = sigfig::format_measured(step.denominator.value, None);
                 format!(
-                    "({} {} / {} {})",
-                    sigfig::format_measured(step.numerator.value, step.sig_figs),
+                    "({numerator} {} / {denominator} {})",
                     step.numerator.label(),
-                    sigfig::format_measured(step.denominator.value, None),
                     step.denominator.label()
                 )
             };
             writeln!(
                 f,
-                "{} {} × {} = {} {}",
-                sigfig::format_measured(previous.value, None),
+                "{carried} {} × {factor} = {shown} {}",
                 previous.label(),
-                factor,
-                sigfig::format_measured(step.result.value, sig),
                 step.result.label()
             )?;
-            previous = step.result.clone();
+            carried = shown;
+            previous = &step.result;
         }
         Ok(())
     }
