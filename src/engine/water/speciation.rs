@@ -10,6 +10,10 @@
 //! per component models a hydroxide phase at equilibrium: the master's activity may not exceed
 //! the phase's, and the excess is reported as precipitated.
 
+// `!(x > 0.0)` is deliberate throughout: it is true for NaN, which must be caught; index
+// loops mirror the matrix algebra.
+#![allow(clippy::neg_cmp_op_on_partial_ord, clippy::needless_range_loop)]
+
 use super::activity;
 use super::constants::{Component, GammaModel, NC, Table, Thermo};
 use super::solve::brent;
