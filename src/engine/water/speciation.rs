@@ -436,6 +436,17 @@ impl Solver {
         }
         let (qh, qi) = (n, n + 1);
         let active = active_mask(p);
+        // Masters new to this water (a coagulant's metal) start from the mass balances at the
+        // starting pH rather than from their totals, which can be 10 orders too high.
+        if warm.is_none_or(|w| (0..NC).any(|c| p.totals[c] > 0.0 && w.totals[c] <= 0.0)) {
+            self.gammas(i, &mut gamma);
+            let mut q = p.clone();
+            if let Some(ph) = fixed_ph {
+                x = -ph;
+                q.caps = [None; NC];
+            }
+            self.distribute(x, &q, &gamma, &mut free, &mut conc, 1e-6);
+        }
         for _ in 0..40 {
             let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg);
             let a_h = pow10(x);
