@@ -8,6 +8,7 @@
 
 mod args;
 mod chemistry;
+mod log_cmd;
 
 pub use args::Args;
 
@@ -64,6 +65,7 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "mass" => chemistry::mass(args),
         "balance" => chemistry::balance(args),
         "convert" => chemistry::convert(args),
+        "log" => log_cmd::run(args),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -79,6 +81,7 @@ const HELP: &str = "molefeed — chemical feed for water treatment (advisory; a 
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
+dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log export --file F --format csv|jsonl | log merge --file F --from G
 chemistry:  mass FORMULA | balance \"EQUATION\" | convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F
 ";
 

@@ -21,6 +21,8 @@ pub mod frame;
 mod index;
 pub mod merge;
 pub mod record;
+#[doc(hidden)]
+pub mod sample;
 
 pub use error::{Error, ErrorKind, Result};
 pub use frame::Span;
