@@ -27,12 +27,12 @@ fn molefeed(args: &[&str], stdin: &str) -> Output {
         .stderr(Stdio::piped())
         .spawn()
         .unwrap();
-    child
-        .stdin
-        .take()
-        .unwrap()
-        .write_all(stdin.as_bytes())
-        .unwrap();
+    // A command that fails early (a lock error) exits without reading its input: the broken
+    // pipe is expected then, and the exit status and output below still decide the test.
+    let written = child.stdin.take().unwrap().write_all(stdin.as_bytes());
+    if let Err(e) = written {
+        assert_eq!(e.kind(), std::io::ErrorKind::BrokenPipe, "{e}");
+    }
     child.wait_with_output().unwrap()
 }
 
@@ -253,7 +253,22 @@ fn csv_export_round_trips_through_a_csv_parser() {
         reason: "test void".into(),
     })
     .unwrap();
+    let mut corrected = log::record::example_dose();
+    corrected.note = "plain, corrected".into();
+    corrected.tap = "tap, \"A\"".into();
+    corrected.flow_m3_per_h = 1234.5;
+    corrected.dose_mg_per_l = 0.1 + 0.2;
+    let correction = log
+        .append(Draft::Correction {
+            at: None,
+            corrects: ids[0],
+            reason: "typo, \"fixed\"".into(),
+            dose: corrected,
+        })
+        .unwrap();
     drop(log);
+    let mut notes = notes.map(String::from);
+    notes[0] = "plain, corrected".into();
 
     let out = molefeed(
         &[
@@ -280,7 +295,7 @@ fn csv_export_round_trips_through_a_csv_parser() {
     for (row, (note, id)) in rows.iter().zip(notes.iter().zip(&ids)) {
         assert_eq!(row.len(), export::CSV_COLUMNS.len());
         assert_eq!(&row[column("id")], id.to_string());
-        assert_eq!(&row[column("note")], *note);
+        assert_eq!(&row[column("note")], note.as_str());
         assert_eq!(&row[column("site")], "Riverside, \"north\" works");
         assert_eq!(&row[column("tap")], "tap, \"A\"");
         assert_eq!(&row[column("flow_m3_per_h")], "1234.5");
@@ -288,9 +303,17 @@ fn csv_export_round_trips_through_a_csv_parser() {
             row[column("dose_mg_per_L")].parse::<f64>().unwrap(),
             0.1 + 0.2
         );
-        assert_eq!(&row[column("status")], "original");
         assert!(row[column("trace")].contains('\n'));
+        let logged = chrono::DateTime::parse_from_rfc3339(&row[column("logged_at")]).unwrap();
+        assert_eq!(logged.offset().local_minus_utc(), 2 * 3600);
+        assert_eq!(logged.format("%H:%M").to_string(), "09:00");
     }
+    assert_eq!(&rows[0][column("status")], "corrected");
+    assert_eq!(&rows[0][column("revisions")], "1");
+    assert_eq!(&rows[0][column("last_change_id")], correction.to_string());
+    assert_eq!(&rows[0][column("last_change_reason")], "typo, \"fixed\"");
+    assert_eq!(&rows[1][column("status")], "original");
+    assert_eq!(&rows[1][column("last_change_reason")], "");
 
     let jsonl = molefeed(
         &[

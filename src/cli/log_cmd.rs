@@ -129,10 +129,7 @@ fn list(args: &Args) -> CliResult {
             v.dose.chemical,
             v.dose.dose_mg_per_l,
             v.dose.pump_setting_percent,
-            serde_json::to_value(v.status)
-                .ok()
-                .and_then(|s| s.as_str().map(String::from))
-                .unwrap_or_default(),
+            v.status.word(),
             v.id,
         ));
     }

@@ -6,8 +6,10 @@
 //! quoted and its quotes doubled) and numbers printed with Rust's locale-independent shortest
 //! round-trip form, so "5.04" never becomes "5,04". Both exports stream entry by entry.
 
-use super::record::Quantity;
-use super::{Error, Log, Query, Result, View};
+use super::{Error, ErrorKind, Log, Query, RawRow, Result};
+use serde::Deserialize;
+use std::borrow::Cow;
+use std::fmt::Write as _;
 use std::io::Write;
 
 /// The CSV header, in the fixed column order.
@@ -55,62 +57,188 @@ fn push_field(line: &mut String, field: &str) {
     }
 }
 
-fn quantities(list: &[Quantity]) -> String {
-    list.iter()
-        .map(|q| format!("{}={} {}", q.name, q.value, q.unit))
-        .collect::<Vec<_>>()
-        .join("; ")
+/// A quantity borrowed from a record's JSON.
+#[derive(Deserialize)]
+struct QuantityRef<'a> {
+    #[serde(borrow)]
+    name: Cow<'a, str>,
+    value: f64,
+    #[serde(borrow)]
+    unit: Cow<'a, str>,
 }
 
-/// One CSV row (without the line end) for a view, in [`CSV_COLUMNS`] order.
-pub fn csv_row(view: &View) -> String {
-    let d = &view.dose;
-    let check = d.cross_check.as_ref();
-    let fields: [String; 24] = [
-        view.id.to_string(),
-        view.at.to_rfc3339(),
-        view.device.clone(),
-        view.site.clone(),
-        serde_json::to_value(view.status)
-            .ok()
-            .and_then(|v| v.as_str().map(String::from))
-            .unwrap_or_default(),
-        d.operator.clone(),
-        d.tap.clone(),
-        d.chemical.clone(),
-        d.product.clone(),
-        d.flow_m3_per_h.to_string(),
-        d.dose_mg_per_l.to_string(),
-        d.feed_rate_l_per_h.to_string(),
-        d.pump_setting_percent.to_string(),
-        check.map(|c| c.method.clone()).unwrap_or_default(),
-        check
-            .map(|c| c.feed_rate_l_per_h.to_string())
-            .unwrap_or_default(),
-        check.map(|c| c.agrees.to_string()).unwrap_or_default(),
-        quantities(&d.inputs),
-        quantities(&d.results),
-        d.trace.join("\n"),
-        d.cautions.join("\n"),
-        d.note.clone(),
-        view.revisions.to_string(),
-        view.last_change
-            .as_ref()
-            .map(|c| c.id.to_string())
-            .unwrap_or_default(),
-        view.last_change
-            .as_ref()
-            .map(|c| c.reason.clone())
-            .unwrap_or_default(),
-    ];
-    let mut line = String::with_capacity(1024);
-    for (i, field) in fields.iter().enumerate() {
-        if i > 0 {
-            line.push(',');
+/// Text borrowed from JSON where it has no escapes (serde only borrows direct `Cow` fields).
+#[derive(Deserialize)]
+struct Text<'a>(#[serde(borrow)] Cow<'a, str>);
+
+#[derive(Deserialize)]
+struct CrossCheckRef<'a> {
+    #[serde(borrow)]
+    method: Cow<'a, str>,
+    feed_rate_l_per_h: f64,
+    agrees: bool,
+}
+
+/// The dose of an entry or correction, borrowed: the export's hot path allocates only for
+/// the lists and for strings with escapes.
+#[derive(Deserialize)]
+struct DoseRef<'a> {
+    #[serde(borrow)]
+    operator: Cow<'a, str>,
+    #[serde(borrow)]
+    tap: Cow<'a, str>,
+    #[serde(borrow)]
+    chemical: Cow<'a, str>,
+    #[serde(borrow)]
+    product: Cow<'a, str>,
+    flow_m3_per_h: f64,
+    dose_mg_per_l: f64,
+    feed_rate_l_per_h: f64,
+    pump_setting_percent: f64,
+    #[serde(default, borrow)]
+    inputs: Vec<QuantityRef<'a>>,
+    #[serde(default, borrow)]
+    results: Vec<QuantityRef<'a>>,
+    #[serde(default, borrow)]
+    trace: Vec<Text<'a>>,
+    #[serde(default, borrow)]
+    cautions: Vec<Text<'a>>,
+    #[serde(default, borrow)]
+    cross_check: Option<CrossCheckRef<'a>>,
+    #[serde(default, borrow)]
+    note: Cow<'a, str>,
+}
+
+/// The fields of an entry (or a correction: it has the same ones) that a row needs.
+#[derive(Deserialize)]
+struct EntryRef<'a> {
+    #[serde(borrow)]
+    id: Cow<'a, str>,
+    /// RFC 3339 with offset, exactly as stored.
+    #[serde(borrow)]
+    at: Cow<'a, str>,
+    #[serde(borrow)]
+    device: Cow<'a, str>,
+    #[serde(borrow)]
+    site: Cow<'a, str>,
+    #[serde(borrow)]
+    dose: DoseRef<'a>,
+}
+
+#[derive(Deserialize)]
+struct ChangeRef<'a> {
+    #[serde(borrow)]
+    id: Cow<'a, str>,
+    #[serde(borrow)]
+    reason: Cow<'a, str>,
+}
+
+fn parse<'a, T: Deserialize<'a>>(json: &'a [u8]) -> Result<T> {
+    serde_json::from_slice(json).map_err(|e| {
+        Error::new(
+            ErrorKind::InvalidEntry,
+            format!("a record could not be read for export: {e}"),
+        )
+    })
+}
+
+/// Builds CSV rows into reused buffers.
+#[derive(Default)]
+struct CsvRow {
+    line: String,
+    scratch: String,
+    fields: usize,
+}
+
+impl CsvRow {
+    fn separate(&mut self) {
+        if self.fields > 0 {
+            self.line.push(',');
         }
-        push_field(&mut line, field);
+        self.fields += 1;
     }
-    line
+
+    fn text(&mut self, field: &str) {
+        self.separate();
+        push_field(&mut self.line, field);
+    }
+
+    /// A field assembled by `fill` in the scratch buffer, then quoted as needed.
+    fn built(&mut self, fill: impl FnOnce(&mut String)) {
+        let mut scratch = std::mem::take(&mut self.scratch);
+        scratch.clear();
+        fill(&mut scratch);
+        self.text(&scratch);
+        self.scratch = scratch;
+    }
+
+    /// Numbers and other values whose text never needs quoting.
+    fn plain(&mut self, value: impl std::fmt::Display) {
+        self.separate();
+        let _ = write!(self.line, "{value}");
+    }
+
+    /// The row (without the line end), in [`CSV_COLUMNS`] order.
+    fn format(&mut self, raw: &RawRow<'_>) -> Result<&str> {
+        self.line.clear();
+        self.fields = 0;
+        let entry: EntryRef<'_> = parse(raw.root)?;
+        let corrected: Option<EntryRef<'_>> = raw.content.map(parse).transpose()?;
+        let change: Option<ChangeRef<'_>> = raw.last_change.map(parse).transpose()?;
+        let d = corrected.as_ref().map_or(&entry.dose, |c| &c.dose);
+        self.text(&entry.id);
+        self.text(&entry.at);
+        self.text(&entry.device);
+        self.text(&entry.site);
+        self.plain(raw.status.word());
+        self.text(&d.operator);
+        self.text(&d.tap);
+        self.text(&d.chemical);
+        self.text(&d.product);
+        self.plain(d.flow_m3_per_h);
+        self.plain(d.dose_mg_per_l);
+        self.plain(d.feed_rate_l_per_h);
+        self.plain(d.pump_setting_percent);
+        let check = d.cross_check.as_ref();
+        self.text(check.map_or("", |c| &c.method));
+        match check {
+            Some(c) => {
+                self.plain(c.feed_rate_l_per_h);
+                self.plain(c.agrees);
+            }
+            None => {
+                self.plain("");
+                self.plain("");
+            }
+        }
+        self.built(|out| quantities(&d.inputs, out));
+        self.built(|out| quantities(&d.results, out));
+        self.built(|out| join_lines(&d.trace, out));
+        self.built(|out| join_lines(&d.cautions, out));
+        self.text(&d.note);
+        self.plain(raw.revisions);
+        self.text(change.as_ref().map_or("", |c| &c.id));
+        self.text(change.as_ref().map_or("", |c| &c.reason));
+        Ok(&self.line)
+    }
+}
+
+fn quantities(list: &[QuantityRef<'_>], out: &mut String) {
+    for (i, q) in list.iter().enumerate() {
+        if i > 0 {
+            out.push_str("; ");
+        }
+        let _ = write!(out, "{}={} {}", q.name, q.value, q.unit);
+    }
+}
+
+fn join_lines(lines: &[Text<'_>], out: &mut String) {
+    for (i, line) in lines.iter().enumerate() {
+        if i > 0 {
+            out.push('\n');
+        }
+        out.push_str(&line.0);
+    }
 }
 
 /// Writes the matching entries as CSV with a header row; returns the number of rows.
@@ -118,9 +246,12 @@ pub fn csv(log: &Log, query: &Query, out: &mut dyn Write) -> Result<usize> {
     let mut out = std::io::BufWriter::new(out);
     writeln!(out, "{}", CSV_COLUMNS.join(",")).map_err(write_error)?;
     let mut rows = 0;
-    log.for_each(query, |view| {
+    let mut row = CsvRow::default();
+    log.for_each_raw(query, |raw| {
         rows += 1;
-        writeln!(out, "{}", csv_row(&view)).map_err(write_error)
+        out.write_all(row.format(raw)?.as_bytes())
+            .and_then(|()| out.write_all(b"\n"))
+            .map_err(write_error)
     })?;
     out.flush().map_err(write_error)?;
     Ok(rows)
@@ -169,11 +300,11 @@ mod tests {
 
     #[test]
     fn decimals_use_a_point_in_any_locale() {
-        let text = quantities(&[Quantity {
-            name: "dose".into(),
-            value: 1.25,
-            unit: "mg/L".into(),
-        }]);
-        assert_eq!(text, "dose=1.25 mg/L");
+        let mut text = String::new();
+        let list: Vec<QuantityRef<'_>> =
+            serde_json::from_str(r#"[{"name":"dose","value":1.25,"unit":"mg/L"},{"name":"flow","value":1e5,"unit":"m3/h"}]"#)
+                .unwrap();
+        quantities(&list, &mut text);
+        assert_eq!(text, "dose=1.25 mg/L; flow=100000 m3/h");
     }
 }

@@ -138,16 +138,31 @@ pub struct ScanOutcome {
 const WINDOW: usize = 1 << 20;
 
 /// A sliding read window: sequential frames cost one read per megabyte.
-struct Window<'a, R: ReadAt + ?Sized> {
+pub(crate) struct Window<'a, R: ReadAt + ?Sized> {
     source: &'a R,
     file_len: u64,
     start: u64,
     buf: Vec<u8>,
 }
 
-impl<R: ReadAt + ?Sized> Window<'_, R> {
-    /// `offset + len` must not exceed the file length.
-    fn get(&mut self, offset: u64, len: usize) -> io::Result<&[u8]> {
+impl<'a, R: ReadAt + ?Sized> Window<'a, R> {
+    pub(crate) fn new(source: &'a R) -> io::Result<Self> {
+        Ok(Window {
+            source,
+            file_len: source.len()?,
+            start: 0,
+            buf: Vec::new(),
+        })
+    }
+
+    /// `len` bytes at `offset`, read ahead by up to a megabyte.
+    pub(crate) fn get(&mut self, offset: u64, len: usize) -> io::Result<&[u8]> {
+        if offset
+            .checked_add(len as u64)
+            .is_none_or(|end| end > self.file_len)
+        {
+            return Err(io::ErrorKind::UnexpectedEof.into());
+        }
         let inside =
             offset >= self.start && offset + len as u64 <= self.start + self.buf.len() as u64;
         if !inside {
@@ -213,13 +228,8 @@ pub fn scan<R: ReadAt + ?Sized>(
     source: &R,
     mut on_record: impl FnMut(u64, &[u8]),
 ) -> io::Result<ScanOutcome> {
-    let file_len = source.len()?;
-    let mut window = Window {
-        source,
-        file_len,
-        start: 0,
-        buf: Vec::new(),
-    };
+    let mut window = Window::new(source)?;
+    let file_len = window.file_len;
     let mut outcome = ScanOutcome {
         end: HEADER_LEN.min(file_len),
         ..ScanOutcome::default()

@@ -173,6 +173,17 @@ pub enum Status {
     Voided,
 }
 
+impl Status {
+    /// The lowercase word used in exports and JSON.
+    pub fn word(self) -> &'static str {
+        match self {
+            Status::Original => "original",
+            Status::Corrected => "corrected",
+            Status::Voided => "voided",
+        }
+    }
+}
+
 /// The latest correction or void of an entry.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Change {
@@ -209,6 +220,18 @@ pub struct Query {
 
 fn days_since_epoch(date: NaiveDate) -> i64 {
     (date - NaiveDate::from_ymd_opt(1970, 1, 1).unwrap_or_default()).num_days()
+}
+
+/// The JSON bodies behind one current entry (see [`Log::for_each_raw`]).
+pub(crate) struct RawRow<'a> {
+    /// The original entry.
+    pub root: &'a [u8],
+    /// The latest correction, whose dose is the current one.
+    pub content: Option<&'a [u8]>,
+    /// The latest correction or void.
+    pub last_change: Option<&'a [u8]>,
+    pub status: Status,
+    pub revisions: u32,
 }
 
 /// An open, locked dose log.
@@ -516,7 +539,24 @@ impl Log {
 
     fn read_slot(&self, slot: u32) -> Result<Record> {
         let payload = self.read_payload(slot)?;
-        record::decode(&payload).map_err(|why| {
+        self.decode_slot(&payload, slot)
+    }
+
+    /// Reads through a read-ahead window: for walking many records in file order.
+    fn read_slot_in(
+        &self,
+        window: &mut frame::Window<'_, dyn Storage>,
+        slot: u32,
+    ) -> Result<Record> {
+        let s = &self.index.slots[slot as usize];
+        let payload = window
+            .get(s.offset, s.len as usize)
+            .map_err(|e| Error::io("reading", &self.name, &e))?;
+        self.decode_slot(payload, slot)
+    }
+
+    fn decode_slot(&self, payload: &[u8], slot: u32) -> Result<Record> {
+        record::decode(payload).map_err(|why| {
             Error::new(
                 ErrorKind::InvalidEntry,
                 format!(
@@ -577,8 +617,8 @@ impl Log {
         roots
     }
 
-    fn view(&self, root: u32) -> Result<View> {
-        let Record::Entry(entry) = self.read_slot(root)? else {
+    fn view(&self, root: u32, read: &mut dyn FnMut(u32) -> Result<Record>) -> Result<View> {
+        let Record::Entry(entry) = read(root)? else {
             return Err(Error::new(
                 ErrorKind::InvalidEntry,
                 "index points at a revision",
@@ -586,14 +626,14 @@ impl Log {
         };
         let revisions = self.index.revisions(root);
         let dose = match revisions.latest_correction {
-            Some(s) => match self.read_slot(s)? {
+            Some(s) => match read(s)? {
                 Record::Correction(c) => c.dose,
                 _ => entry.dose,
             },
             None => entry.dose,
         };
         let last_change = match revisions.latest {
-            Some(s) => match self.read_slot(s)? {
+            Some(s) => match read(s)? {
                 Record::Correction(c) => Some(Change {
                     id: c.id,
                     kind: Kind::Correction,
@@ -630,8 +670,62 @@ impl Log {
     /// Calls `each` with every matching entry as it stands now, oldest first, reading one at a
     /// time so a month's export never holds the whole log in memory.
     pub fn for_each(&self, query: &Query, mut each: impl FnMut(View) -> Result<()>) -> Result<()> {
+        let mut window = frame::Window::new(self.storage.as_ref())
+            .map_err(|e| Error::io("reading", &self.name, &e))?;
+        let mut read = |slot| self.read_slot_in(&mut window, slot);
         for root in self.matching_roots(query) {
-            each(self.view(root)?)?;
+            each(self.view(root, &mut read)?)?;
+        }
+        Ok(())
+    }
+
+    /// Like [`Log::for_each`], but hands over the JSON bodies instead of decoded records, for
+    /// exports that parse them into borrowed rows without allocating per field.
+    pub(crate) fn for_each_raw(
+        &self,
+        query: &Query,
+        mut each: impl FnMut(&RawRow<'_>) -> Result<()>,
+    ) -> Result<()> {
+        let io_err = |e: io::Error| Error::io("reading", &self.name, &e);
+        let mut window = frame::Window::new(self.storage.as_ref()).map_err(io_err)?;
+        let (mut root_json, mut content_json, mut change_json) =
+            (Vec::new(), Vec::new(), Vec::new());
+        let mut copy_json = |slot: u32, into: &mut Vec<u8>| -> Result<()> {
+            let s = &self.index.slots[slot as usize];
+            let payload = window.get(s.offset, s.len as usize).map_err(io_err)?;
+            let (_, json) = record::decode_key(payload).map_err(|why| {
+                Error::new(
+                    ErrorKind::InvalidEntry,
+                    format!("record at byte {} cannot be read: {why}", s.offset),
+                )
+            })?;
+            into.clear();
+            into.extend_from_slice(json);
+            Ok(())
+        };
+        for root in self.matching_roots(query) {
+            let revisions = self.index.revisions(root);
+            copy_json(root, &mut root_json)?;
+            if let Some(correction) = revisions.latest_correction {
+                copy_json(correction, &mut content_json)?;
+            }
+            let status = match revisions.latest {
+                Some(latest) => {
+                    copy_json(latest, &mut change_json)?;
+                    match self.index.slots[latest as usize].kind {
+                        Kind::Void => Status::Voided,
+                        _ => Status::Corrected,
+                    }
+                }
+                None => Status::Original,
+            };
+            each(&RawRow {
+                root: &root_json,
+                content: revisions.latest_correction.map(|_| content_json.as_slice()),
+                last_change: revisions.latest.map(|_| change_json.as_slice()),
+                status,
+                revisions: revisions.count,
+            })?;
         }
         Ok(())
     }
@@ -661,7 +755,10 @@ impl Log {
         }
         let mut roots: Vec<u32> = latest.into_values().collect();
         self.index.sort_by_time(&mut roots);
-        roots.into_iter().map(|r| self.view(r)).collect()
+        roots
+            .into_iter()
+            .map(|r| self.view(r, &mut |s| self.read_slot(s)))
+            .collect()
     }
 
     /// Revisions whose original entry is missing from this log (possible after a partial

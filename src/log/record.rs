@@ -372,11 +372,14 @@ pub fn decode_key(payload: &[u8]) -> std::result::Result<(Key<'_>, &[u8]), Paylo
 /// Decodes a whole payload back into its record.
 pub fn decode(payload: &[u8]) -> std::result::Result<Record, PayloadError> {
     let (key, json) = decode_key(payload)?;
+    // One UTF-8 check of the whole body is cheaper than serde_json checking each string.
+    let json = std::str::from_utf8(json)
+        .map_err(|_| PayloadError::Malformed("record body is not UTF-8".into()))?;
     let bad = |e: serde_json::Error| PayloadError::Malformed(e.to_string());
     let record = match key.kind {
-        Kind::Entry => Record::Entry(serde_json::from_slice(json).map_err(bad)?),
-        Kind::Correction => Record::Correction(serde_json::from_slice(json).map_err(bad)?),
-        Kind::Void => Record::Void(serde_json::from_slice(json).map_err(bad)?),
+        Kind::Entry => Record::Entry(serde_json::from_str(json).map_err(bad)?),
+        Kind::Correction => Record::Correction(serde_json::from_str(json).map_err(bad)?),
+        Kind::Void => Record::Void(serde_json::from_str(json).map_err(bad)?),
     };
     if record.id() != key.id || record.refers_to() != key.refers_to {
         return Err(PayloadError::Malformed(
