@@ -97,13 +97,13 @@ pub fn encode(payload: &[u8], out: &mut Vec<u8>) -> Result<(), usize> {
 
 /// Random-access reading, so the scan works on files and on in-memory test data alike.
 pub trait ReadAt {
-    fn len(&self) -> io::Result<u64>;
+    fn byte_len(&self) -> io::Result<u64>;
     /// Fills `buf` from `offset`; an error if fewer bytes exist.
     fn read_exact_at(&self, offset: u64, buf: &mut [u8]) -> io::Result<()>;
 }
 
 impl ReadAt for [u8] {
-    fn len(&self) -> io::Result<u64> {
+    fn byte_len(&self) -> io::Result<u64> {
         Ok(<[u8]>::len(self) as u64)
     }
 
@@ -149,7 +149,7 @@ impl<'a, R: ReadAt + ?Sized> Window<'a, R> {
     pub(crate) fn new(source: &'a R) -> io::Result<Self> {
         Ok(Window {
             source,
-            file_len: source.len()?,
+            file_len: source.byte_len()?,
             start: 0,
             buf: Vec::new(),
         })

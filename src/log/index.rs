@@ -28,7 +28,10 @@ pub struct Slot {
 impl Slot {
     /// The local calendar day at the device when recorded, as days since 1970-01-01.
     pub fn local_day(&self) -> i64 {
-        (self.at_ms + self.offset_min as i64 * 60_000).div_euclid(86_400_000)
+        // Saturating: a damaged or hostile file may hold any time at all.
+        self.at_ms
+            .saturating_add(self.offset_min as i64 * 60_000)
+            .div_euclid(86_400_000)
     }
 
     fn order(&self) -> (i64, u128) {

@@ -6,7 +6,7 @@
 //! the same file twice adds nothing the second time, and a conflict is reported, never
 //! resolved by overwriting. The other file is opened read-only with a shared lock.
 
-use super::{Error, ErrorKind, Log, Recovery, Result, record};
+use super::{Log, Recovery, Result, record};
 use serde::Serialize;
 use std::collections::HashMap;
 use std::path::Path;
@@ -28,13 +28,8 @@ pub struct MergeReport {
 impl Log {
     /// Imports every record of the log file at `other` that this log does not have.
     pub fn merge_from(&mut self, other: &Path) -> Result<MergeReport> {
-        if !self.pending.is_empty() {
-            return Err(Error::new(
-                ErrorKind::Io,
-                "entries are waiting to be saved; save them before importing",
-            )
-            .with("pending", self.pending.len()));
-        }
+        // Our own unsaved entries go first: an import must not overtake them.
+        self.retry_pending()?;
         let source = Log::open_read_only(other)?;
         let mut report = MergeReport {
             source_recovery: source.recovery.clone(),

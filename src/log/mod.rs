@@ -52,7 +52,7 @@ pub struct FileStorage {
 }
 
 impl frame::ReadAt for FileStorage {
-    fn len(&self) -> io::Result<u64> {
+    fn byte_len(&self) -> io::Result<u64> {
         Ok(self.file.metadata()?.len())
     }
 
@@ -101,8 +101,10 @@ pub fn site_file(dir: &Path, site: &str) -> PathBuf {
 /// What opening found and did; empty when the file was clean.
 #[derive(Clone, Debug, Default, PartialEq, Serialize)]
 pub struct Recovery {
-    /// The file was new, empty, or its header write had been interrupted: a header was written.
+    /// The file was new or empty, or its header write had been interrupted: a header was written.
     pub header_written: bool,
+    /// Bytes of an incomplete header (an interrupted creation) that were replaced.
+    pub header_repaired: Option<u64>,
     /// An interrupted last write that was cut off (or, read-only, would be).
     pub torn_tail: Option<Span>,
     /// Whether the torn tail is actually cut from the file.
@@ -123,7 +125,8 @@ pub struct Unreadable {
 
 impl Recovery {
     pub fn is_clean(&self) -> bool {
-        self.torn_tail.is_none()
+        self.header_repaired.is_none()
+            && self.torn_tail.is_none()
             && self.damaged.is_empty()
             && self.unreadable.is_empty()
             && self.duplicates.is_empty()
@@ -132,6 +135,11 @@ impl Recovery {
     /// One line per finding, in words support staff can act on.
     pub fn messages(&self) -> Vec<String> {
         let mut out = Vec::new();
+        if let Some(len) = self.header_repaired {
+            out.push(format!(
+                "incomplete log header ({len} bytes, from an interrupted creation): a new header was written; no entry could have been saved before it"
+            ));
+        }
         if let Some(tail) = self.torn_tail {
             let action = if self.tail_cut {
                 "cut off"
@@ -297,7 +305,7 @@ impl Log {
         writable: bool,
     ) -> Result<Log> {
         let io_err = |doing: &str, e: io::Error| Error::io(doing, name, &e);
-        let file_len = storage.len().map_err(|e| io_err("reading", e))?;
+        let file_len = storage.byte_len().map_err(|e| io_err("reading", e))?;
         let mut head = vec![0u8; file_len.min(frame::HEADER_LEN) as usize];
         storage
             .read_exact_at(0, &mut head)
@@ -313,6 +321,7 @@ impl Log {
                     .map_err(|e| io_err("writing the header of", e))?;
                 storage.sync().map_err(|e| io_err("syncing", e))?;
                 recovery.header_written = true;
+                recovery.header_repaired = (file_len > 0).then_some(file_len);
             }
             frame::HeaderCheck::Empty | frame::HeaderCheck::Truncated => {
                 return Err(Error::new(

@@ -548,7 +548,8 @@ mod tests {
 
     #[test]
     fn validation_names_the_field() {
-        let cases: [(&str, fn(&mut Dose)); 6] = [
+        type Spoil = fn(&mut Dose);
+        let cases: [(&str, Spoil); 6] = [
             ("operator", |d| d.operator = "J M".into()),
             ("operator", |d| d.operator = String::new()),
             ("tap", |d| d.tap = "  ".into()),

@@ -55,7 +55,7 @@ struct MemDisk {
 }
 
 impl frame::ReadAt for MemDisk {
-    fn len(&self) -> io::Result<u64> {
+    fn byte_len(&self) -> io::Result<u64> {
         Ok(self.bytes.borrow().len() as u64)
     }
 
@@ -264,6 +264,19 @@ fn zero_length_and_interrupted_header_start_a_new_log() {
         std::fs::write(&path, bytes).unwrap();
         let mut log = Log::open(&path, "tab-1").unwrap();
         assert!(log.recovery().header_written, "{name}");
+        let repaired = log.recovery().messages();
+        if bytes.is_empty() {
+            assert!(
+                log.recovery().is_clean(),
+                "an empty file is simply a new log"
+            );
+        } else {
+            assert_eq!(log.recovery().header_repaired, Some(bytes.len() as u64));
+            assert!(
+                repaired[0].contains("incomplete log header (7 bytes"),
+                "{repaired:?}"
+            );
+        }
         log.append(simple(name)).unwrap();
         drop(log);
         assert_eq!(notes(&Log::open(&path, "tab-1").unwrap()), [name]);
