@@ -134,12 +134,15 @@ struct ChangeRef<'a> {
 }
 
 fn parse<'a, T: Deserialize<'a>>(json: &'a [u8]) -> Result<T> {
-    serde_json::from_slice(json).map_err(|e| {
+    let unreadable = |why: String| {
         Error::new(
             ErrorKind::InvalidEntry,
-            format!("a record could not be read for export: {e}"),
+            format!("a record could not be read for export: {why}"),
         )
-    })
+    };
+    // One UTF-8 check of the whole body is cheaper than serde_json checking each string.
+    let text = std::str::from_utf8(json).map_err(|e| unreadable(e.to_string()))?;
+    serde_json::from_str(text).map_err(|e| unreadable(e.to_string()))
 }
 
 /// Builds CSV rows into reused buffers.
