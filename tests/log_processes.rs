@@ -209,6 +209,12 @@ fn template_append_list_round_trip() {
     assert_eq!(entries[0]["dose"]["pump_setting_percent"], 42.5);
     assert_eq!(reply["recovery"]["clean"], true);
 
+    let missing = dir.join("missing.doselog");
+    let absent = molefeed(&["log", "list", "--file", missing.to_str().unwrap()], "");
+    assert_eq!(absent.status.code(), Some(1));
+    assert!(text(&absent.stderr).contains("no log file at"));
+    assert!(!missing.exists(), "listing must not create a log");
+
     let typo = molefeed(&["log", "list", "--file", file, "--form", "2026-01-01"], "");
     assert_eq!(typo.status.code(), Some(2), "a mistyped flag must fail");
 }

@@ -55,6 +55,15 @@ fn open(args: &Args) -> Result<Log, CliError> {
     Log::open(Path::new(file), &device).map_err(log_error)
 }
 
+/// For reading commands: a mistyped path must not create an empty log and list nothing.
+fn open_existing(args: &Args) -> Result<Log, CliError> {
+    let file = args.required_text("file")?;
+    if !Path::new(file).exists() {
+        return Err(CliError::io(format!("no log file at {file}")));
+    }
+    open(args)
+}
+
 fn date(args: &Args, name: &str) -> Result<Option<NaiveDate>, CliError> {
     match args.text(name)? {
         None => Ok(None),
@@ -113,7 +122,7 @@ fn recovery_json(log: &Log) -> serde_json::Value {
 }
 
 fn list(args: &Args) -> CliResult {
-    let log = open(args)?;
+    let log = open_existing(args)?;
     let query = query(args)?;
     let views = log.query(&query).map_err(log_error)?;
     let mut human = String::new();
@@ -141,7 +150,7 @@ fn list(args: &Args) -> CliResult {
 }
 
 fn export_cmd(args: &Args) -> CliResult {
-    let log = open(args)?;
+    let log = open_existing(args)?;
     let format = args.required_text("format")?;
     let query = query(args)?;
     let mut out = Vec::new();
