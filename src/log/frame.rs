@@ -371,6 +371,70 @@ mod tests {
         assert_eq!(outcome.end, file.len() as u64);
     }
 
+    proptest::proptest! {
+        /// Whatever single byte is damaged, every other record is still found, and the damage
+        /// is reported where it is: as a torn tail only when nothing intact follows it.
+        #[test]
+        fn one_flipped_byte_costs_at_most_its_own_record(
+            payloads in proptest::collection::vec("[ -~]{0,40}", 1..12),
+            position in 0.0f64..1.0,
+            flip in 1u8..=255,
+        ) {
+            let mut file = header().to_vec();
+            let mut frames = Vec::new();
+            for p in &payloads {
+                let start = file.len();
+                encode(p.as_bytes(), &mut file).unwrap();
+                frames.push(start..file.len());
+            }
+            let body = file.len() - HEADER_LEN as usize;
+            let at = HEADER_LEN as usize + ((position * body as f64) as usize).min(body - 1);
+            file[at] ^= flip;
+            let hit = frames.iter().position(|f| f.contains(&at)).unwrap();
+            let mut found = Vec::new();
+            let outcome = scan(file.as_slice(), |_, p| found.push(p.to_vec())).unwrap();
+            let expected: Vec<Vec<u8>> = payloads
+                .iter()
+                .enumerate()
+                .filter(|(i, _)| *i != hit)
+                .map(|(_, p)| p.as_bytes().to_vec())
+                .collect();
+            proptest::prop_assert_eq!(found, expected);
+            let bad = Span { offset: frames[hit].start as u64, len: frames[hit].len() as u64 };
+            if hit == frames.len() - 1 {
+                proptest::prop_assert_eq!(outcome.torn_tail, Some(bad));
+                proptest::prop_assert!(outcome.damaged.is_empty());
+            } else {
+                proptest::prop_assert_eq!(outcome.damaged, vec![bad]);
+                proptest::prop_assert_eq!(outcome.torn_tail, None);
+            }
+        }
+
+        /// A file cut anywhere keeps every complete record and reports the rest as torn.
+        #[test]
+        fn a_cut_anywhere_keeps_every_complete_record(
+            payloads in proptest::collection::vec("[ -~]{0,40}", 1..12),
+            position in 0.0f64..=1.0,
+        ) {
+            let mut file = header().to_vec();
+            let mut ends = Vec::new();
+            for p in &payloads {
+                encode(p.as_bytes(), &mut file).unwrap();
+                ends.push(file.len());
+            }
+            let body = file.len() - HEADER_LEN as usize;
+            let cut = HEADER_LEN as usize + (position * body as f64) as usize;
+            let mut count = 0;
+            let outcome = scan(&file[..cut], |_, _| count += 1).unwrap();
+            let complete = ends.iter().filter(|&&e| e <= cut).count();
+            proptest::prop_assert_eq!(count, complete);
+            let last_end = ends.iter().copied().filter(|&e| e <= cut).max().unwrap_or(HEADER_LEN as usize);
+            proptest::prop_assert_eq!(outcome.end, last_end as u64);
+            let torn = (cut > last_end).then(|| Span { offset: last_end as u64, len: (cut - last_end) as u64 });
+            proptest::prop_assert_eq!(outcome.torn_tail, torn);
+        }
+    }
+
     #[test]
     fn oversize_payload_is_refused() {
         let mut out = Vec::new();

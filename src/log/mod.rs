@@ -38,7 +38,8 @@ use std::path::{Path, PathBuf};
 use uuid::Uuid;
 
 /// Byte storage under a log: a file in the app, a failing fake in tests.
-pub trait Storage: frame::ReadAt {
+/// `Send` so the app can keep the log on a worker thread, away from the UI thread.
+pub trait Storage: frame::ReadAt + Send {
     /// Writes all of `bytes` at `offset`, or fails (possibly after writing part of them).
     fn write_all_at(&mut self, offset: u64, bytes: &[u8]) -> io::Result<()>;
     /// Makes everything written so far durable.

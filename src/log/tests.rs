@@ -1,9 +1,8 @@
 //! Behaviour of the log as a whole: failures, recovery cases, revisions, queries, merge.
 
 use super::*;
-use std::cell::RefCell;
-use std::rc::Rc;
 use std::sync::atomic::{AtomicU32, Ordering};
+use std::sync::{Arc, Mutex};
 
 /// A fresh directory under the system temp dir, unique per test.
 fn temp_dir(name: &str) -> PathBuf {
@@ -50,27 +49,31 @@ struct Faults {
 /// An in-memory disk shared with the test, so the test can inspect and reopen it.
 #[derive(Clone, Default)]
 struct MemDisk {
-    bytes: Rc<RefCell<Vec<u8>>>,
-    faults: Rc<RefCell<Faults>>,
+    bytes: Arc<Mutex<Vec<u8>>>,
+    faults: Arc<Mutex<Faults>>,
 }
 
 impl frame::ReadAt for MemDisk {
     fn byte_len(&self) -> io::Result<u64> {
-        Ok(self.bytes.borrow().len() as u64)
+        Ok(self.bytes.lock().unwrap().len() as u64)
     }
 
     fn read_exact_at(&self, offset: u64, buf: &mut [u8]) -> io::Result<()> {
-        self.bytes.borrow().as_slice().read_exact_at(offset, buf)
+        self.bytes
+            .lock()
+            .unwrap()
+            .as_slice()
+            .read_exact_at(offset, buf)
     }
 }
 
 impl Storage for MemDisk {
     fn write_all_at(&mut self, offset: u64, data: &[u8]) -> io::Result<()> {
-        let (data, failure) = match self.faults.borrow().write {
+        let (data, failure) = match self.faults.lock().unwrap().write {
             Some((kind, after)) => (&data[..after.min(data.len())], Some(kind)),
             None => (data, None),
         };
-        let mut bytes = self.bytes.borrow_mut();
+        let mut bytes = self.bytes.lock().unwrap();
         let end = offset as usize + data.len();
         if bytes.len() < end {
             bytes.resize(end, 0);
@@ -83,14 +86,14 @@ impl Storage for MemDisk {
     }
 
     fn sync(&mut self) -> io::Result<()> {
-        match self.faults.borrow().sync {
+        match self.faults.lock().unwrap().sync {
             Some(kind) => Err(io::Error::from(kind)),
             None => Ok(()),
         }
     }
 
     fn set_len(&mut self, len: u64) -> io::Result<()> {
-        self.bytes.borrow_mut().resize(len as usize, 0);
+        self.bytes.lock().unwrap().resize(len as usize, 0);
         Ok(())
     }
 }
@@ -104,9 +107,9 @@ fn short_write_then_full_disk_keeps_entry_pending_until_retry() {
     let disk = MemDisk::default();
     let mut log = open_mem(&disk).unwrap();
     let first = log.append(simple("first")).unwrap();
-    let good_len = disk.bytes.borrow().len();
+    let good_len = disk.bytes.lock().unwrap().len();
 
-    disk.faults.borrow_mut().write = Some((io::ErrorKind::StorageFull, 30));
+    disk.faults.lock().unwrap().write = Some((io::ErrorKind::StorageFull, 30));
     let err = log.append(simple("second")).unwrap_err();
     assert_eq!(err.kind(), ErrorKind::StorageFull);
     assert!(err.message().contains("full"), "{}", err.message());
@@ -124,11 +127,11 @@ fn short_write_then_full_disk_keeps_entry_pending_until_retry() {
     assert_eq!(err.kind(), ErrorKind::StorageFull);
     assert_eq!(log.pending().len(), 2);
 
-    disk.faults.borrow_mut().write = None;
+    disk.faults.lock().unwrap().write = None;
     assert_eq!(log.retry_pending().unwrap(), 2);
     assert!(log.pending().is_empty());
     assert_eq!(notes(&log), ["first", "second", "third"]);
-    assert!(disk.bytes.borrow().len() > good_len);
+    assert!(disk.bytes.lock().unwrap().len() > good_len);
 
     drop(log);
     let reopened = open_mem(&disk).unwrap();
@@ -141,11 +144,11 @@ fn short_write_then_full_disk_keeps_entry_pending_until_retry() {
 fn failed_sync_is_not_an_acknowledgement() {
     let disk = MemDisk::default();
     let mut log = open_mem(&disk).unwrap();
-    disk.faults.borrow_mut().sync = Some(io::ErrorKind::ReadOnlyFilesystem);
+    disk.faults.lock().unwrap().sync = Some(io::ErrorKind::ReadOnlyFilesystem);
     let err = log.append(simple("unsynced")).unwrap_err();
     assert_eq!(err.kind(), ErrorKind::ReadOnly);
     assert_eq!(log.pending().len(), 1);
-    disk.faults.borrow_mut().sync = None;
+    disk.faults.lock().unwrap().sync = None;
     log.retry_pending().unwrap();
     assert_eq!(notes(&log), ["unsynced"]);
     assert_eq!(
@@ -160,14 +163,14 @@ fn short_write_left_on_disk_is_a_torn_tail_on_reopen() {
     let disk = MemDisk::default();
     let mut log = open_mem(&disk).unwrap();
     log.append(simple("kept")).unwrap();
-    let good_len = disk.bytes.borrow().len() as u64;
-    disk.faults.borrow_mut().write = Some((io::ErrorKind::Other, 40));
+    let good_len = disk.bytes.lock().unwrap().len() as u64;
+    disk.faults.lock().unwrap().write = Some((io::ErrorKind::Other, 40));
     assert_eq!(
         log.append(simple("lost")).unwrap_err().kind(),
         ErrorKind::Io
     );
     drop(log);
-    disk.faults.borrow_mut().write = None;
+    disk.faults.lock().unwrap().write = None;
     let reopened = open_mem(&disk).unwrap();
     assert_eq!(
         reopened.recovery().torn_tail,
@@ -177,7 +180,7 @@ fn short_write_left_on_disk_is_a_torn_tail_on_reopen() {
         })
     );
     assert!(reopened.recovery().tail_cut);
-    assert_eq!(disk.bytes.borrow().len() as u64, good_len);
+    assert_eq!(disk.bytes.lock().unwrap().len() as u64, good_len);
     assert_eq!(notes(&reopened), ["kept"]);
 }
 
