@@ -68,6 +68,8 @@ fn sigkill_at_random_moments_never_loses_an_acknowledged_entry() {
     let rounds = 200;
     let mut torn_tails = 0;
     for round in 0..rounds {
+        // Every fourth child writes ~300 KB records, so some kills land inside a write.
+        let note_bytes = if round % 4 == 3 { "300000" } else { "0" };
         let mut child = Command::new(BIN)
             .args([
                 "log",
@@ -76,6 +78,8 @@ fn sigkill_at_random_moments_never_loses_an_acknowledged_entry() {
                 path.to_str().unwrap(),
                 "--device",
                 "crash",
+                "--note-bytes",
+                note_bytes,
             ])
             .stdout(Stdio::piped())
             .stderr(Stdio::null())

@@ -205,15 +205,19 @@ fn merge(args: &Args) -> CliResult {
 }
 
 /// Appends `--count` entries (default: until killed), printing each id once it is on disk.
+/// `--note-bytes` pads each note so that a kill is likely to land inside a write.
 fn soak(args: &Args) -> CliResult {
     let mut log = open(args)?;
     let count = args
         .number("count")?
         .map_or(u64::MAX, |n| n.max(0.0) as u64);
+    let padding = args
+        .number("note-bytes")?
+        .map_or(0, |n| n.max(0.0) as usize);
     let mut out = std::io::stdout().lock();
     for n in 0..count {
         let mut dose = log::record::example_dose();
-        dose.note = format!("soak {n}");
+        dose.note = format!("soak {n} {}", "x".repeat(padding));
         let id = log
             .append(Draft::Entry {
                 at: None,
