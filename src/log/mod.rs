@@ -26,8 +26,7 @@ pub mod sample;
 
 pub use error::{Error, ErrorKind, Result};
 pub use frame::Span;
-pub use record::Correction;
-pub use record::{CrossCheck, Dose, Draft, Entry, Kind, Quantity, Record, Void};
+pub use record::{Correction, CrossCheck, Dose, Draft, Entry, Kind, Quantity, Record, Void};
 
 use chrono::{DateTime, FixedOffset, NaiveDate};
 use index::{Index, Inserted};

@@ -509,3 +509,14 @@ fn merge_adds_once_and_reports_conflicts() {
     };
     assert_eq!(kept.dose.note, "from b", "a conflict never overwrites");
 }
+
+#[test]
+fn site_files_have_portable_names_inside_the_given_directory() {
+    let dir = Path::new("/data/user/0/app/files");
+    let path = site_file(dir, "Riverside / North: \"old\" works");
+    assert_eq!(path.parent(), Some(dir));
+    assert_eq!(
+        path.file_name().and_then(|n| n.to_str()),
+        Some("Riverside___North___old__works.doselog")
+    );
+}
