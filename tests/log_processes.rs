@@ -213,6 +213,45 @@ fn template_append_list_round_trip() {
     assert_eq!(entries[0]["dose"]["pump_setting_percent"], 42.5);
     assert_eq!(reply["recovery"]["clean"], true);
 
+    let correction = serde_json::json!({
+        "type": "correction",
+        "corrects": id,
+        "reason": "pump was set to 40 %",
+        "dose": {
+            "operator": "AB", "tap": "Clearwell inlet", "chemical": "sodium hypochlorite",
+            "product": "NaOCl 12.5 % (w/w)", "flow_m3_per_h": 420.0, "dose_mg_per_l": 1.8,
+            "feed_rate_l_per_h": 5.04, "pump_setting_percent": 40.0
+        }
+    });
+    let corrected = molefeed(&["log", "append", "--file", file], &correction.to_string());
+    assert!(corrected.status.success(), "{}", text(&corrected.stderr));
+    let listed = molefeed(&["log", "list", "--file", file, "--json"], "");
+    let reply: serde_json::Value = serde_json::from_slice(&listed.stdout).unwrap();
+    assert_eq!(reply["entries"][0]["status"], "corrected");
+    assert_eq!(reply["entries"][0]["dose"]["pump_setting_percent"], 40.0);
+    let history = molefeed(
+        &[
+            "log",
+            "history",
+            "--file",
+            file,
+            "--id",
+            &id.to_string(),
+            "--json",
+        ],
+        "",
+    );
+    let reply: serde_json::Value = serde_json::from_slice(&history.stdout).unwrap();
+    let records = reply["history"].as_array().unwrap();
+    assert_eq!(records.len(), 2);
+    assert_eq!(records[0]["type"], "entry");
+    assert_eq!(
+        records[0]["dose"]["pump_setting_percent"], 42.5,
+        "the original is unchanged"
+    );
+    assert_eq!(records[1]["type"], "correction");
+    assert_eq!(records[1]["reason"], "pump was set to 40 %");
+
     let missing = dir.join("missing.doselog");
     let absent = molefeed(&["log", "list", "--file", missing.to_str().unwrap()], "");
     assert_eq!(absent.status.code(), Some(1));

@@ -14,16 +14,20 @@ use std::path::Path;
 
 /// Dispatches `molefeed log SUBCOMMAND`.
 pub fn run(args: &Args) -> CliResult {
-    match args.required_positional(0, "log command: append, list, export, merge or template")? {
+    match args.required_positional(
+        0,
+        "log command: append, list, history, export, merge or template",
+    )? {
         "template" => template(),
         "append" => append(args),
         "list" => list(args),
         "export" => export_cmd(args),
         "merge" => merge(args),
+        "history" => history(args),
         // Not in the help: drives the crash test by appending until killed.
         "soak" => soak(args),
         other => Err(CliError::usage(format!(
-            "unknown log command '{other}'; try append, list, export, merge or template"
+            "unknown log command '{other}'; try append, list, history, export, merge or template"
         ))),
     }
 }
@@ -146,6 +150,44 @@ fn list(args: &Args) -> CliResult {
     Ok(Report {
         human,
         json: json!({"entries": views, "recovery": recovery_json(&log)}),
+    })
+}
+
+/// `log history --file F --id ID`: the original entry and every correction and void of it.
+fn history(args: &Args) -> CliResult {
+    let log = open_existing(args)?;
+    let text = args.required_text("id")?;
+    let id: uuid::Uuid = text
+        .parse()
+        .map_err(|_| CliError::usage(format!("--id must be an entry id, got '{text}'")))?;
+    let records = log.history(id).map_err(log_error)?;
+    if records.is_empty() {
+        return Err(CliError {
+            kind: log::ErrorKind::UnknownReference.code().into(),
+            message: format!("no entry {id} in this log"),
+        });
+    }
+    let human = records
+        .iter()
+        .map(|r| match r {
+            log::Record::Entry(e) => {
+                format!("{}  entry       {} by {}\n", e.at, e.id, e.dose.operator)
+            }
+            log::Record::Correction(c) => {
+                format!(
+                    "{}  correction  {} by {}: {}\n",
+                    c.at, c.id, c.dose.operator, c.reason
+                )
+            }
+            log::Record::Void(v) => format!(
+                "{}  void        {} by {}: {}\n",
+                v.at, v.id, v.operator, v.reason
+            ),
+        })
+        .collect();
+    Ok(Report {
+        human,
+        json: json!({ "history": records }),
     })
 }
 

@@ -81,7 +81,7 @@ const HELP: &str = "molefeed — chemical feed for water treatment (advisory; a 
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
-dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log export --file F --format csv|jsonl | log merge --file F --from G
+dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
 chemistry:  mass FORMULA | balance \"EQUATION\" | convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F
 ";
 

@@ -29,6 +29,8 @@ pub enum ErrorKind {
     UnknownReference,
     /// A record is too large to frame.
     TooLarge,
+    /// A log was asked to import itself.
+    SameLog,
     /// Any other input/output failure.
     Io,
 }
@@ -45,6 +47,7 @@ impl ErrorKind {
             ErrorKind::InvalidEntry => "invalid-entry",
             ErrorKind::UnknownReference => "unknown-reference",
             ErrorKind::TooLarge => "too-large",
+            ErrorKind::SameLog => "same-log",
             ErrorKind::Io => "io",
         }
     }

@@ -6,7 +6,7 @@
 //! the same file twice adds nothing the second time, and a conflict is reported, never
 //! resolved by overwriting. The other file is opened read-only with a shared lock.
 
-use super::{Log, Recovery, Result, record};
+use super::{Error, ErrorKind, Log, Recovery, Result, record};
 use serde::Serialize;
 use std::collections::HashMap;
 use std::path::Path;
@@ -28,6 +28,17 @@ pub struct MergeReport {
 impl Log {
     /// Imports every record of the log file at `other` that this log does not have.
     pub fn merge_from(&mut self, other: &Path) -> Result<MergeReport> {
+        // Otherwise the shared lock below would fail with a misleading "open elsewhere".
+        let same = |p: &Path| std::fs::canonicalize(p).ok();
+        if same(other).is_some() && same(other) == same(&self.name) {
+            return Err(Error::new(
+                ErrorKind::SameLog,
+                format!(
+                    "{} is this log itself; choose another device's log",
+                    other.display()
+                ),
+            ));
+        }
         // Our own unsaved entries go first: an import must not overtake them.
         self.retry_pending()?;
         let source = Log::open_read_only(other)?;

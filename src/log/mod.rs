@@ -28,7 +28,7 @@ pub use error::{Error, ErrorKind, Result};
 pub use frame::Span;
 pub use record::{Correction, CrossCheck, Dose, Draft, Entry, Kind, Quantity, Record, Void};
 
-use chrono::{DateTime, FixedOffset, NaiveDate};
+use chrono::{DateTime, FixedOffset, NaiveDate, SubsecRound};
 use index::{Index, Inserted};
 use serde::Serialize;
 use std::fs::{File, OpenOptions};
@@ -425,7 +425,8 @@ impl Log {
     fn complete(&self, draft: Draft) -> Result<Record> {
         let id = Uuid::now_v7();
         let device = self.device.clone();
-        let now = || chrono::Local::now().fixed_offset();
+        // Milliseconds are what the index keeps and more than a dose log needs.
+        let now = || chrono::Local::now().fixed_offset().trunc_subsecs(3);
         let record = match draft {
             Draft::Entry { at, site, dose } => Record::Entry(Entry {
                 id,

@@ -384,6 +384,14 @@ fn corrections_and_voids_are_new_records_and_history_keeps_all() {
         })
         .unwrap();
     assert_eq!(log.record_count(), 4);
+    let Some(Record::Correction(stored)) = log.get(correction).unwrap() else {
+        panic!("the correction is stored as one")
+    };
+    assert_eq!(
+        stored.at.timestamp_subsec_nanos() % 1_000_000,
+        0,
+        "times kept to the millisecond"
+    );
     let current = log.current().unwrap();
     assert_eq!(current.len(), 1);
     assert_eq!(current[0].id, ids[0]);
@@ -482,6 +490,10 @@ fn merge_adds_once_and_reports_conflicts() {
     .unwrap();
     b.append(simple("b again")).unwrap();
     drop(b);
+
+    let itself = a.merge_from(&a_path).unwrap_err();
+    assert_eq!(itself.kind(), ErrorKind::SameLog);
+    assert!(itself.message().contains("this log itself"));
 
     let first = a.merge_from(&b_path).unwrap();
     assert_eq!((first.added, first.already_present), (3, 0));
