@@ -498,8 +498,23 @@ fn merge_adds_once_and_reports_conflicts() {
     let first = a.merge_from(&b_path).unwrap();
     assert_eq!((first.added, first.already_present), (3, 0));
     assert!(first.conflicting.is_empty());
+    // Another device's torn tail is reported, and its file is left exactly as it was.
+    OpenOptions::new()
+        .append(true)
+        .open(&b_path)
+        .unwrap()
+        .write_all(&[&frame::RECORD_MARK[..], &[40, 0]].concat())
+        .unwrap();
+    let b_bytes = std::fs::read(&b_path).unwrap();
     let second = a.merge_from(&b_path).unwrap();
     assert_eq!((second.added, second.already_present), (0, 3));
+    assert!(second.source_recovery.torn_tail.is_some());
+    assert!(!second.source_recovery.tail_cut);
+    assert_eq!(
+        std::fs::read(&b_path).unwrap(),
+        b_bytes,
+        "the source is never modified"
+    );
     assert_eq!(a.record_count(), 4);
     assert_eq!(notes(&a), ["from a", "b again"]);
 
