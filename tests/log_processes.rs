@@ -11,12 +11,18 @@ use std::time::{Duration, Instant};
 
 const BIN: &str = env!("CARGO_BIN_EXE_molefeed");
 
+/// A directory for one test; removed by [`remove`] when the test passed, kept for
+/// inspection when it failed.
 fn fresh_dir(name: &str) -> PathBuf {
     let dir =
         Path::new(env!("CARGO_TARGET_TMPDIR")).join(format!("log-{name}-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(&dir).unwrap();
     dir
+}
+
+fn remove(dir: &Path) {
+    let _ = std::fs::remove_dir_all(dir);
 }
 
 fn molefeed(args: &[&str], stdin: &str) -> Output {
@@ -145,6 +151,7 @@ fn sigkill_at_random_moments_never_loses_an_acknowledged_entry() {
         log.record_count(),
         started.elapsed()
     );
+    remove(&dir);
 }
 
 #[test]
@@ -181,6 +188,7 @@ fn a_second_process_gets_the_lock_error() {
     );
     let reply: serde_json::Value = serde_json::from_slice(&second.stdout).unwrap();
     assert_eq!(reply["error"]["kind"], "locked");
+    remove(&dir);
 }
 
 #[test]
@@ -260,6 +268,7 @@ fn template_append_list_round_trip() {
 
     let typo = molefeed(&["log", "list", "--file", file, "--form", "2026-01-01"], "");
     assert_eq!(typo.status.code(), Some(2), "a mistyped flag must fail");
+    remove(&dir);
 }
 
 fn draft(note: &str, at: &str, tap: &str) -> Draft {
@@ -391,6 +400,7 @@ fn csv_export_round_trips_through_a_csv_parser() {
         })
         .unwrap();
     assert_eq!(views[5].status, Status::Voided);
+    remove(&dir);
 }
 
 #[test]
@@ -432,4 +442,5 @@ fn merge_through_the_cli_is_idempotent() {
     assert_eq!(reply["conflicting"].as_array().unwrap().len(), 0);
     let log = Log::open(&a, "tab-a").unwrap();
     assert_eq!(log.record_count(), 4);
+    remove(&dir);
 }

@@ -4,14 +4,29 @@ use super::*;
 use std::sync::atomic::{AtomicU32, Ordering};
 use std::sync::{Arc, Mutex};
 
-/// A fresh directory under the system temp dir, unique per test.
-fn temp_dir(name: &str) -> PathBuf {
+/// A fresh directory under the system temp dir, unique per test, removed when dropped.
+struct Scratch(PathBuf);
+
+impl std::ops::Deref for Scratch {
+    type Target = Path;
+    fn deref(&self) -> &Path {
+        &self.0
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
+
+fn temp_dir(name: &str) -> Scratch {
     static COUNTER: AtomicU32 = AtomicU32::new(0);
     let n = COUNTER.fetch_add(1, Ordering::Relaxed);
     let dir = std::env::temp_dir().join(format!("molefeed-log-{}-{name}-{n}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(&dir).unwrap();
-    dir
+    Scratch(dir)
 }
 
 fn entry(tap: &str, chemical: &str, at: &str, note: &str) -> Draft {
@@ -184,20 +199,21 @@ fn short_write_left_on_disk_is_a_torn_tail_on_reopen() {
     assert_eq!(notes(&reopened), ["kept"]);
 }
 
-fn file_with(notes_in_order: &[&str]) -> (PathBuf, Vec<Uuid>) {
-    let path = temp_dir("file").join("site.doselog");
+fn file_with(notes_in_order: &[&str]) -> (Scratch, PathBuf, Vec<Uuid>) {
+    let scratch = temp_dir("file");
+    let path = scratch.join("site.doselog");
     let mut log = Log::open(&path, "tab-1").unwrap();
     assert!(log.recovery().header_written);
     let ids = notes_in_order
         .iter()
         .map(|n| log.append(simple(n)).unwrap())
         .collect();
-    (path, ids)
+    (scratch, path, ids)
 }
 
 #[test]
 fn torn_tail_is_cut_and_reported() {
-    let (path, _) = file_with(&["a", "b"]);
+    let (_scratch, path, _) = file_with(&["a", "b"]);
     let clean_len = std::fs::metadata(&path).unwrap().len();
     let mut frame_bytes = Vec::new();
     frame::encode(
@@ -230,7 +246,7 @@ fn torn_tail_is_cut_and_reported() {
 
 #[test]
 fn flipped_byte_in_the_middle_is_reported_and_neighbours_survive() {
-    let (path, ids) = file_with(&["a", "b", "c"]);
+    let (_scratch, path, ids) = file_with(&["a", "b", "c"]);
     let log = Log::open(&path, "tab-1").unwrap();
     let middle = log.index.slot_of(ids[1].as_u128()).unwrap();
     let at = log.index.slots[middle as usize].offset + 100;
@@ -351,7 +367,7 @@ fn read_only_storage_gives_a_typed_error() {
 
 #[test]
 fn second_open_gets_the_lock_error() {
-    let (path, _) = file_with(&["a"]);
+    let (_scratch, path, _) = file_with(&["a"]);
     let first = Log::open(&path, "tab-1").unwrap();
     let err = Log::open(&path, "tab-2").err().unwrap();
     assert_eq!(err.kind(), ErrorKind::Locked);
@@ -362,7 +378,7 @@ fn second_open_gets_the_lock_error() {
 
 #[test]
 fn corrections_and_voids_are_new_records_and_history_keeps_all() {
-    let (path, ids) = file_with(&["a", "b"]);
+    let (_scratch, path, ids) = file_with(&["a", "b"]);
     let mut log = Log::open(&path, "tab-1").unwrap();
     let mut fixed = record::example_dose();
     fixed.tap = "outlet".into();
@@ -430,7 +446,8 @@ fn corrections_and_voids_are_new_records_and_history_keeps_all() {
 
 #[test]
 fn queries_by_date_tap_chemical_and_latest_per_point() {
-    let path = temp_dir("query").join("q.doselog");
+    let scratch = temp_dir("query");
+    let path = scratch.join("q.doselog");
     let mut log = Log::open(&path, "tab-1").unwrap();
     let drafts = [
         ("inlet", "chlorine", "2026-02-28T23:30:00-03:00", "feb"),
