@@ -9,6 +9,7 @@
 mod args;
 mod chemistry;
 mod dosing;
+mod log_cmd;
 
 pub use args::Args;
 
@@ -68,6 +69,7 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "reactions" => chemistry::reactions(args),
         "equivalent" => chemistry::equivalent(args),
         c if dosing::COMMANDS.contains(&c) => dosing::run(c, args),
+        "log" => log_cmd::run(args),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -85,6 +87,7 @@ const HELP: &str =
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
+dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
 dosing:     feed | chlorine | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
 chemistry:  mass FORMULA
             balance \"EQUATION\" [--per SPECIES]
