@@ -135,7 +135,11 @@ fn gauss<const R: usize, const M: usize>(a: &mut [[f64; M]; R], n: usize) -> Opt
 
 impl Solver {
     pub fn new(t_celsius: f64) -> Solver {
-        let table = Table::embedded();
+        Solver::with_table(Table::embedded(), t_celsius)
+    }
+
+    /// A solver over another constants table (tests compare model variants with it).
+    pub fn with_table(table: &'static Table, t_celsius: f64) -> Solver {
         let mut by_comp = vec![Vec::new(); NC];
         let (mut comp_idx, mut comp_n, mut comp_len, mut mask) = (vec![], vec![], vec![], vec![]);
         let mut classes: Vec<(GammaModel, i32)> = Vec::new();

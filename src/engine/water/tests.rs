@@ -324,3 +324,51 @@ fn neutralization_with_quicklime_purity() {
     check("product", quick.product_mg_l, quick.dose_mg_l / 0.9, 1e-9);
     assert!(quick.langelier_index.is_some());
 }
+
+/// pH after `lime_mg_l` of Ca(OH)2 in fixture water w02 (2 C, pH 7.9, Ca 220 and Mg 60 mg/L
+/// as CaCO3), solved with the constants in `table`.
+fn hard_water_after_lime(table: &'static constants::Table, lime_mg_l: f64) -> f64 {
+    let m = masses().unwrap();
+    let solver = speciation::Solver::with_table(table, 2.0);
+    let mut totals = [0.0; NC];
+    let c = |x: Component| x.index();
+    totals[c(Component::Ca)] = 220.0 / m.caco3 / 1000.0;
+    totals[c(Component::Mg)] = 60.0 / m.caco3 / 1000.0;
+    totals[c(Component::Na)] = 20.0 / m.na / 1000.0;
+    totals[c(Component::K)] = 3.0 / m.k / 1000.0;
+    totals[c(Component::Cl)] = 1.773 / m.cl / 1000.0;
+    totals[c(Component::SO4)] = 80.0 / m.so4 / 1000.0;
+    let mut p = speciation::Problem::new(totals);
+    let sp = solver
+        .from_ph_alkalinity(7.9, 240.0 / (m.caco3 / 2.0) / 1000.0, &p)
+        .unwrap();
+    p.totals = sp.totals;
+    p.z_excess = solver.charge_sum(&sp);
+    p.totals[c(Component::Ca)] += lime_mg_l / chem("lime").molar_mass / 1000.0;
+    -solver.solve(&p, None).unwrap().log_h
+}
+
+#[test]
+fn ion_pairs_are_what_keep_hard_water_right_above_ph_9() {
+    // PHREEQC (phreeqc.dat) gives pH 9.517 for w02 + 45 mg/L Ca(OH)2
+    // (tests/fixtures/water_phreeqc.json, written by tools/gen_water_fixture.py).
+    let phreeqc = 9.517;
+    let with_pairs = hard_water_after_lime(constants::Table::embedded(), 45.0);
+    check("with ion pairs", with_pairs, phreeqc, 0.01);
+    // The same model with the metal–ligand pairs (CaCO3°, CaHCO3+, MgCO3°, CaSO4°, NaCO3-,
+    // CaOH+, ...) removed from the data misses by tenths of a pH unit.
+    let text = include_str!("../../../data/water-constants.json");
+    let mut doc: serde_json::Value = serde_json::from_str(text).unwrap();
+    let metals = ["Ca", "Mg", "Na", "K"];
+    doc["species"].as_array_mut().unwrap().retain(|s| {
+        let comp = s["comp"].as_object();
+        !comp.is_some_and(|c| c.keys().any(|k| metals.contains(&k.as_str())))
+    });
+    let bare: &'static constants::Table =
+        Box::leak(Box::new(constants::Table::parse(&doc.to_string()).unwrap()));
+    let without = hard_water_after_lime(bare, 45.0);
+    println!(
+        "w02 + 45 mg/L lime: PHREEQC {phreeqc}, with pairs {with_pairs:.4}, without {without:.4}"
+    );
+    assert!((without - phreeqc).abs() > 0.1, "without pairs {without}");
+}
