@@ -454,23 +454,36 @@ impl Solver {
         for _ in 0..40 {
             let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg);
             let a_h = pow10(x);
-            // Caps: a master above its hydroxide's solubility is held at it.
+            // Caps: a master whose total would be supersaturated with its hydroxide is held at
+            // the hydroxide's solubility. The test is the dissolved total at the cap (not the
+            // current free value), so the active set does not flip back and forth.
             let mut capped: u16 = 0;
             let mut cap_h = [0.0f64; NC]; // d ln m / d ln{H+} of a capped master
+            let mut act = [0.0f64; NC];
+            for c in 0..NC {
+                act[c] = free[c] * gamma[c];
+            }
             for c in 0..NC {
                 if let (Some(ph), true) = (p.caps[c], p.totals[c] > 0.0) {
                     let def = &self.table.phases[ph];
                     let cap = pow10(self.th.phase_log_k[ph] - def.h as f64 * x) / gamma[c];
-                    if free[c] >= cap {
+                    let mut trial = act;
+                    trial[c] = cap * gamma[c];
+                    let dissolved: f64 = self.by_comp[c]
+                        .iter()
+                        .filter(|&&(s, _)| self.mask[s] & !active == 0)
+                        .map(|&(s, k)| {
+                            let kg = self.th.k[s] * a_h.powi(species[s].h) / gamma[s];
+                            k as f64 * self.conc_of(s, kg, &trial)
+                        })
+                        .sum();
+                    if dissolved < p.totals[c] {
                         free[c] = cap;
+                        act[c] = cap * gamma[c];
                         capped |= 1 << c;
                         cap_h[c] = -(def.h as f64);
                     }
                 }
-            }
-            let mut act = [0.0f64; NC];
-            for c in 0..NC {
-                act[c] = free[c] * gamma[c];
             }
             // One pass over the species builds residuals and Jacobian together. Rows: mass
             // balances (0..n), charge (n), ionic strength (n + 1); last column: −residual.
