@@ -743,6 +743,12 @@ impl Solver {
         if let Some(sp) = self.newton(p, warm) {
             return Ok(sp);
         }
+        self.bracketed(p, warm)
+    }
+
+    /// The solve that cannot fail to converge: Brent on log{H+} inside an ionic-strength
+    /// fixed point, mass balances by damped substitution.
+    fn bracketed(&self, p: &Problem, warm: Option<&Speciation>) -> Result<Speciation> {
         let ns = self.table.species.len();
         let mut gamma = vec![1.0; ns];
         let mut conc = vec![0.0; ns];
@@ -941,6 +947,17 @@ impl Solver {
                 }
             }
         }
+        self.from_ph_alkalinity_bracketed(ph, alkalinity, p)
+    }
+
+    /// The bracketed form of [`Solver::from_ph_alkalinity`]: Brent on the carbonate total
+    /// inside an ionic-strength fixed point.
+    fn from_ph_alkalinity_bracketed(
+        &self,
+        ph: f64,
+        alkalinity: f64,
+        p: &Problem,
+    ) -> Result<Speciation> {
         let log_h = -ph;
         let ns = self.table.species.len();
         let mut gamma = vec![1.0; ns];
@@ -1061,6 +1078,116 @@ mod tests {
 #[cfg(test)]
 mod slope_tests {
     use super::*;
+
+    /// The three solution paths agree: the fast Newton paths are only shortcuts to the
+    /// bracketed solve. Waters invented for the check; Al and Fe with and without hydroxide.
+    #[test]
+    fn newton_paths_agree_with_the_bracketed_solve() {
+        let cases: [(f64, [(Component, f64); 6], bool); 5] = [
+            (
+                15.0,
+                [
+                    (Component::Ca, 1.4e-3),
+                    (Component::CO3, 2.3e-3),
+                    (Component::Na, 1e-3),
+                    (Component::SO4, 5e-4),
+                    (Component::Mg, 4e-4),
+                    (Component::Cl, 6e-4),
+                ],
+                false,
+            ),
+            (
+                2.0,
+                [
+                    (Component::Ca, 2e-4),
+                    (Component::CO3, 3e-4),
+                    (Component::Al, 1e-4),
+                    (Component::SO4, 2e-4),
+                    (Component::Na, 1e-4),
+                    (Component::Cl, 1e-4),
+                ],
+                false,
+            ),
+            (
+                25.0,
+                [
+                    (Component::Ca, 2e-4),
+                    (Component::CO3, 3e-4),
+                    (Component::Al, 1e-4),
+                    (Component::SO4, 2e-4),
+                    (Component::Na, 1e-4),
+                    (Component::Cl, 1e-4),
+                ],
+                true,
+            ),
+            (
+                30.0,
+                [
+                    (Component::Ca, 1e-3),
+                    (Component::CO3, 2e-3),
+                    (Component::Fe, 2e-4),
+                    (Component::Cl, 6e-4),
+                    (Component::Na, 1e-3),
+                    (Component::OCl, 5e-5),
+                ],
+                true,
+            ),
+            (
+                10.0,
+                [
+                    (Component::Ca, 3e-3),
+                    (Component::CO3, 6e-3),
+                    (Component::Mg, 1e-3),
+                    (Component::Na, 4e-3),
+                    (Component::K, 1e-4),
+                    (Component::NH4, 1e-4),
+                ],
+                false,
+            ),
+        ];
+        for (t, totals, hydroxide) in cases {
+            let s = Solver::new(t);
+            let mut p = Problem::new([0.0; NC]);
+            for (c, v) in totals {
+                p.totals[c.index()] = v;
+            }
+            p.z_excess = 2e-4;
+            if hydroxide {
+                p.caps[Component::Al.index()] = s.table.phase_index("Al(OH)3(a)");
+                p.caps[Component::Fe.index()] = s.table.phase_index("Fe(OH)3(a)");
+            }
+            let slow = s.bracketed(&p, None).unwrap();
+            // The readings route: pH and alkalinity back to the same carbonate total.
+            let alk = s.alkalinity(&slow);
+            let mut q = p.clone();
+            q.totals[Component::CO3.index()] = 0.0;
+            let fast_r = s.from_ph_alkalinity(-slow.log_h, alk, &q).unwrap();
+            let slow_r = s
+                .from_ph_alkalinity_bracketed(-slow.log_h, alk, &q)
+                .unwrap();
+            for (name, r) in [("fast", &fast_r), ("bracketed", &slow_r)] {
+                let dic = r.totals[Component::CO3.index()];
+                let want = p.totals[Component::CO3.index()];
+                assert!(
+                    (dic / want - 1.0).abs() < 1e-7,
+                    "{name} readings route at {t} C: DIC {dic} vs {want}"
+                );
+            }
+            for (name, fast) in [
+                ("full Newton", s.newton_full(&p, None, None)),
+                ("1-D Newton", s.newton(&p, None)),
+            ] {
+                let fast = fast.unwrap_or_else(|| panic!("{name} did not converge at {t} C"));
+                assert!(
+                    (fast.log_h - slow.log_h).abs() < 1e-8,
+                    "{name} at {t} C: pH {} vs bracketed {}",
+                    -fast.log_h,
+                    -slow.log_h
+                );
+                assert!((fast.ionic_strength / slow.ionic_strength - 1.0).abs() < 1e-7);
+            }
+        }
+    }
 
     /// The Newton slope of the fast path against a finite difference (hard water, 15 C).
     #[test]
