@@ -236,7 +236,7 @@ impl WaterState {
         let alkalinity = alk / eq_caco3 / 1000.0;
         let solver = Solver::new(t);
         let mut problem = Problem::new(totals);
-        let mut sp = solver.from_ph_alkalinity(ph, alkalinity, &problem)?;
+        let mut sp = solver.at_ph_and_alkalinity(ph, alkalinity, &problem)?;
         let ions_given = [
             input.sodium_mg_l,
             input.potassium_mg_l,
@@ -256,7 +256,7 @@ impl WaterState {
             (true, _) => IonicStrengthBasis::Ions,
             (false, Some((i_est, basis))) => {
                 problem.i_background = (i_est - sp.ionic_strength).max(0.0);
-                sp = solver.from_ph_alkalinity(ph, alkalinity, &problem)?;
+                sp = solver.at_ph_and_alkalinity(ph, alkalinity, &problem)?;
                 basis
             }
             (false, None) => IonicStrengthBasis::MajorIonsOnly,

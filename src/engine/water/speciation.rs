@@ -903,7 +903,12 @@ impl Solver {
 
     /// Given pH and alkalinity (eq/L), finds the carbonate total so that the water's
     /// alkalinity matches, and returns the speciation (its charge sum becomes Z).
-    pub fn from_ph_alkalinity(&self, ph: f64, alkalinity: f64, p: &Problem) -> Result<Speciation> {
+    pub fn at_ph_and_alkalinity(
+        &self,
+        ph: f64,
+        alkalinity: f64,
+        p: &Problem,
+    ) -> Result<Speciation> {
         // Fast path. Alkalinity is a proton balance: for every species alk_s + z_s equals
         // Σ ν (w_c + z_c) over its masters, so Σ z·c + [H+] = Σ_c (w_c + z_c)·T_c − Alk, a
         // known charge excess; at fixed pH the charge balance then fixes the carbonate total.
@@ -947,17 +952,12 @@ impl Solver {
                 }
             }
         }
-        self.from_ph_alkalinity_bracketed(ph, alkalinity, p)
+        self.readings_bracketed(ph, alkalinity, p)
     }
 
-    /// The bracketed form of [`Solver::from_ph_alkalinity`]: Brent on the carbonate total
+    /// The bracketed form of [`Solver::at_ph_and_alkalinity`]: Brent on the carbonate total
     /// inside an ionic-strength fixed point.
-    fn from_ph_alkalinity_bracketed(
-        &self,
-        ph: f64,
-        alkalinity: f64,
-        p: &Problem,
-    ) -> Result<Speciation> {
+    fn readings_bracketed(&self, ph: f64, alkalinity: f64, p: &Problem) -> Result<Speciation> {
         let log_h = -ph;
         let ns = self.table.species.len();
         let mut gamma = vec![1.0; ns];
@@ -1083,7 +1083,9 @@ mod slope_tests {
     /// bracketed solve. Waters invented for the check; Al and Fe with and without hydroxide.
     #[test]
     fn newton_paths_agree_with_the_bracketed_solve() {
-        let cases: [(f64, [(Component, f64); 6], bool); 5] = [
+        // (temperature, totals in mol/L, hydroxide caps on)
+        type Case = (f64, [(Component, f64); 6], bool);
+        let cases: [Case; 5] = [
             (
                 15.0,
                 [
@@ -1161,10 +1163,8 @@ mod slope_tests {
             let alk = s.alkalinity(&slow);
             let mut q = p.clone();
             q.totals[Component::CO3.index()] = 0.0;
-            let fast_r = s.from_ph_alkalinity(-slow.log_h, alk, &q).unwrap();
-            let slow_r = s
-                .from_ph_alkalinity_bracketed(-slow.log_h, alk, &q)
-                .unwrap();
+            let fast_r = s.at_ph_and_alkalinity(-slow.log_h, alk, &q).unwrap();
+            let slow_r = s.readings_bracketed(-slow.log_h, alk, &q).unwrap();
             for (name, r) in [("fast", &fast_r), ("bracketed", &slow_r)] {
                 let dic = r.totals[Component::CO3.index()];
                 let want = p.totals[Component::CO3.index()];

@@ -75,7 +75,7 @@ fn phs(state: &WaterState, calcite: usize, alk: f64, guess: f64) -> Option<f64> 
     let mut p = state.problem.clone();
     p.totals[Component::CO3.index()] = 0.0;
     let si_at = |ph: f64| -> Option<f64> {
-        let sp = s.from_ph_alkalinity(ph, alk, &p).ok()?;
+        let sp = s.at_ph_and_alkalinity(ph, alk, &p).ok()?;
         Some(s.saturation_index(&sp, calcite))
     };
     // Start from pH − SI (exact when the carbonate is all HCO3-).

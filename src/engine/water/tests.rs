@@ -340,7 +340,7 @@ fn hard_water_after_lime(table: &'static constants::Table, lime_mg_l: f64) -> f6
     totals[c(Component::SO4)] = 80.0 / m.so4 / 1000.0;
     let mut p = speciation::Problem::new(totals);
     let sp = solver
-        .from_ph_alkalinity(7.9, 240.0 / (m.caco3 / 2.0) / 1000.0, &p)
+        .at_ph_and_alkalinity(7.9, 240.0 / (m.caco3 / 2.0) / 1000.0, &p)
         .unwrap();
     p.totals = sp.totals;
     p.z_excess = solver.charge_sum(&sp);
