@@ -801,12 +801,28 @@ fn index_payload(index: &mut Index, recovery: &mut Recovery, frame_offset: u64, 
     }
 }
 
+/// How long to keep trying a lock that is held. A lock is also held, for a moment, by a
+/// process that another thread of ours is starting (a forked child keeps the parent's open
+/// files until it execs), and by a copy of the app that is just closing; waiting briefly
+/// tells those apart from a copy that really has the file open.
+const LOCK_PATIENCE: std::time::Duration = std::time::Duration::from_millis(750);
+
 fn lock(file: &File, path: &Path, exclusive: bool) -> Result<()> {
-    let result = if exclusive {
-        file.try_lock()
-    } else {
-        file.try_lock_shared()
+    let try_once = || {
+        if exclusive {
+            file.try_lock()
+        } else {
+            file.try_lock_shared()
+        }
     };
+    let started = std::time::Instant::now();
+    let mut result = try_once();
+    while matches!(result, Err(std::fs::TryLockError::WouldBlock))
+        && started.elapsed() < LOCK_PATIENCE
+    {
+        std::thread::sleep(std::time::Duration::from_millis(10));
+        result = try_once();
+    }
     match result {
         Ok(()) => Ok(()),
         Err(std::fs::TryLockError::WouldBlock) => Err(Error::new(
