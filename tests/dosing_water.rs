@@ -434,3 +434,76 @@ fn site_ph_limit_overrides_the_default_range() {
     assert!(r.check(8.2).is_some());
     assert!(d.check(8.2).is_none());
 }
+
+/// Runs the binary; returns the exit code and the JSON (Null when the output is not JSON).
+fn run(args: &str) -> (i32, serde_json::Value) {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_molefeed"))
+        .args(args.split_whitespace())
+        .output()
+        .expect("binary runs");
+    let text = String::from_utf8_lossy(&out.stdout).to_string();
+    let json = serde_json::from_str(text.trim()).unwrap_or(serde_json::Value::Null);
+    (out.status.code().unwrap_or(-1), json)
+}
+
+fn num(j: &serde_json::Value, key: &str) -> f64 {
+    j[key]
+        .as_f64()
+        .unwrap_or_else(|| panic!("no number at {key}: {j}"))
+}
+
+#[test]
+fn cli_chlorine_reports_the_water_after() {
+    let (code, j) = run(
+        "chlorine --demand 1.4 --residual 1.0 --ph 7.2 --temperature 12 --alkalinity 60 --product chlorine-gas --json",
+    );
+    assert_eq!(code, 0, "{j}");
+    assert!(num(&j, "ph_after") < 7.2);
+    // 0.71 mg/L as CaCO3 per mg/L Cl2 (references.md §4 [C]) × 2.4 mg/L.
+    check(
+        "CLI alkalinity after",
+        num(&j, "alkalinity_after_mg_l_as_caco3"),
+        60.0 - 0.71 * 2.4,
+        0.02,
+    );
+    // Without the water: no pH, and the note asking for it.
+    let (code, j) = run("chlorine --demand 1.4 --residual 1.0 --json");
+    assert_eq!(code, 0);
+    assert!(j["ph_after"].is_null());
+    assert!(
+        j["cautions"]
+            .to_string()
+            .contains("give-water-for-ph-effect")
+    );
+    // The water without a product is a usage error; an ion flag without the water is rejected.
+    let (code, _) = run(
+        "chlorine --demand 1.4 --residual 1.0 --ph 7.2 --temperature 12 --alkalinity 60 --json",
+    );
+    assert_ne!(code, 0);
+    let (code, _) = run("chlorine --demand 1.4 --residual 1.0 --calcium 50 --json");
+    assert_ne!(code, 0);
+}
+
+#[test]
+fn cli_neutralize_feed_gives_dose_feed_and_pump() {
+    let (code, j) = run(
+        "neutralize-feed --product sodium-hydroxide --strength 50 --strength-basis weight --sg 1.52 \
+         --target-ph 7.8 --flow 2.5 --flow-unit mgd --pump-capacity 10 --pump-unit gph \
+         --ph 6.6 --temperature 15 --alkalinity 40 --calcium 60 --json",
+    );
+    assert_eq!(code, 0, "{j}");
+    check("pH after", num(&j, "ph_after"), 7.8, 1e-6);
+    assert!(num(&j, "dose_mg_l") > 0.0);
+    assert!(num(&j, "pump_percent") > 0.0);
+    assert!(j["langelier_index_after"].is_number());
+    assert!(
+        j["cautions"]
+            .to_string()
+            .contains("hazard-corrosive-caustic")
+    );
+    let (code, _) = run(
+        "neutralize-feed --product sulfuric-acid --strength 93 --strength-basis weight --sg 1.835 \
+         --target-ph 8.0 --flow 2.5 --flow-unit mgd --ph 6.6 --temperature 15 --alkalinity 40 --json",
+    );
+    assert_ne!(code, 0, "an acid cannot raise the pH");
+}
