@@ -507,3 +507,38 @@ fn cli_neutralize_feed_gives_dose_feed_and_pump() {
     );
     assert_ne!(code, 0, "an acid cannot raise the pH");
 }
+
+#[test]
+fn carbon_dioxide_and_bicarbonate_have_products() {
+    let c = catalog();
+    // Recarbonation of a lime-softened water: CO2 lowers the pH, keeps the alkalinity.
+    let w = hard_water(10.5, 15.0, 60.0, 50.0);
+    let r = neutralization::neutralization(
+        &c,
+        &w,
+        &neutral("carbon-dioxide", 100.0, StrengthBasis::Purity, None, 8.5),
+    )
+    .unwrap();
+    check("CO2 pH", r.ph_after, 8.5, 1e-6);
+    check(
+        "CO2 leaves alkalinity unchanged",
+        r.alkalinity_after_mg_l_as_caco3,
+        r.alkalinity_before_mg_l_as_caco3,
+        0.01,
+    );
+    assert!(keys(&r.cautions).contains(&"hazard-asphyxiant-gas"));
+    // Bicarbonate adds alkalinity, one equivalent per mole: 50.04/84.01 mg/L as CaCO3 per mg/L.
+    let w = water(6.5, 15.0, 20.0);
+    let r = neutralization::neutralization(
+        &c,
+        &w,
+        &neutral("sodium-bicarbonate", 99.0, StrengthBasis::Purity, None, 7.0),
+    )
+    .unwrap();
+    check(
+        "bicarbonate alkalinity per mg/L",
+        (r.alkalinity_after_mg_l_as_caco3 - r.alkalinity_before_mg_l_as_caco3) / r.dose_mg_l,
+        100.0869 / 2.0 / 84.007,
+        1e-4,
+    );
+}
