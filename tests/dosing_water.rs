@@ -542,3 +542,28 @@ fn carbon_dioxide_and_bicarbonate_have_products() {
         1e-4,
     );
 }
+
+#[test]
+fn cli_coagulation_with_and_without_the_water() {
+    let (code, j) = run(
+        "coagulation --coagulant alum --dose 30 --alkalinity 80 --ph 7.4 --temperature 15 --calcium 100 --json",
+    );
+    assert_eq!(code, 0, "{j}");
+    // Alum 0.505 mg/L as CaCO3 per mg/L (references.md §5 [D]), from the water engine.
+    check(
+        "CLI alum alkalinity change",
+        num(&j["water"], "alkalinity_change_mg_l_as_caco3"),
+        -0.505 * 30.0,
+        0.02,
+    );
+    assert!(num(&j["water"], "ph_after") < 7.4);
+    assert!(j["water"]["langelier_index_after"].is_number());
+    let (code, j) = run("coagulation --coagulant alum --dose 30 --alkalinity 80 --json");
+    assert_eq!(code, 0, "{j}");
+    assert!(j["water"].is_null());
+    assert!(
+        j["cautions"]
+            .to_string()
+            .contains("give-water-for-ph-effect")
+    );
+}

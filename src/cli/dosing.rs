@@ -10,7 +10,7 @@ use super::{Args, CliError, CliResult, Report};
 use crate::engine::dosing::catalog::{Catalog, Strength, StrengthBasis};
 use crate::engine::dosing::caution::render;
 use crate::engine::dosing::chlorine::{self, ChlorineInput, ContactTime, CtInput};
-use crate::engine::dosing::coagulation::{self, Coagulant, SludgeInput};
+use crate::engine::dosing::coagulation::{self, Alkali, Coagulant, CoagulationInput, SludgeInput};
 use crate::engine::dosing::feed::{self, DilutionInput, FeedInput, PumpKind, UsableRange};
 use crate::engine::dosing::neutralization::{self, NeutralizationInput};
 use crate::engine::dosing::pumpcheck::{self, Measurement, PumpCheckInput, TankShape, Tolerance};
@@ -26,8 +26,9 @@ use serde::Serialize;
 use serde_json::{Value, json};
 
 /// The dosing subcommands `dispatch` routes here.
-pub const COMMANDS: [&str; 9] = [
+pub const COMMANDS: [&str; 10] = [
     "feed",
+    "coagulation",
     "neutralize-feed",
     "chlorine",
     "dechlor",
@@ -45,6 +46,7 @@ pub fn run(command: &str, args: &Args) -> CliResult {
     let _ = args.switch("json");
     match command {
         "feed" => feed(args),
+        "coagulation" => coagulation_cmd(args),
         "neutralize-feed" => neutralize_feed(args),
         "chlorine" => chlorine(args),
         "dechlor" => dechlor(args),
@@ -379,7 +381,7 @@ pub fn chlorine(args: &Args) -> CliResult {
         ammonia_n,
         residual_limit_mg_l: limit,
     };
-    let r = match super::water::optional_water_state(args)? {
+    let r = match super::water::optional_water_state(args, &["ph", "temperature", "alkalinity"])? {
         None => chlorine::chlorine_dose(&catalog, &input)?,
         Some(w) => {
             let id = args.text("product")?.ok_or_else(|| {
@@ -466,7 +468,9 @@ fn ph_range(site: Option<&SiteProfile>) -> PhRange {
 }
 
 fn lsi_text(v: Option<f64>) -> String {
-    v.map_or("n/a (give --calcium)".into(), |v| format!("{v:+.2}"))
+    v.map_or("n/a (needs --calcium and alkalinity left)".into(), |v| {
+        format!("{v:+.2}")
+    })
 }
 
 fn effect_line(e: &WaterEffect) -> String {
@@ -523,6 +527,54 @@ pub fn neutralize_feed(args: &Args) -> CliResult {
     Ok(Report {
         human: human(&lines, &r.traces, &r.cautions),
         json: j,
+    })
+}
+
+/// `molefeed coagulation`: alkalinity consumed, supplemental alkali, and with the water
+/// (`--ph --temperature`, the same `--alkalinity`) the pH, alkalinity and LSI after.
+pub fn coagulation_cmd(args: &Args) -> CliResult {
+    let catalog = catalog()?;
+    let site = site(args, &catalog)?;
+    let coagulant = Coagulant::parse(args.required_text("coagulant")?, args.number("basicity")?)?;
+    let input = CoagulationInput {
+        coagulant,
+        dose: required_measured(args, "dose")?,
+        raw_alkalinity: required_measured(args, "alkalinity")?,
+        residual_alkalinity_setpoint: args.number("setpoint")?.unwrap_or(0.0),
+        alkali: Alkali::parse(args.text("alkali")?.unwrap_or("lime"))?,
+        alkali_purity_percent: args.number("alkali-purity")?.unwrap_or(100.0),
+    };
+    let r = match super::water::optional_water_state(args, &["ph", "temperature"])? {
+        None => coagulation::coagulation(&catalog, &input)?,
+        Some(w) => {
+            coagulation::coagulation_in_water(&catalog, &input, &w, ph_range(site.as_ref()))?
+        }
+    };
+    let mut lines = vec![format!(
+        "{} mg/L as {} consumes {} mg/L alkalinity as CaCO3 ({} per mg/L); {} left",
+        input.dose.value,
+        coagulant.dose_as(),
+        fmt(r.alkalinity_consumed_mg_l),
+        fmt(r.alkalinity_per_mg),
+        fmt(r.alkalinity_remaining_mg_l)
+    )];
+    if r.alkali_mg_l > 0.0 {
+        lines.push(format!(
+            "supplemental {} {} mg/L pure ({} mg/L as delivered)",
+            input.alkali.formula(),
+            fmt(r.alkali_mg_l),
+            fmt(r.alkali_product_mg_l)
+        ));
+    }
+    if let Some(e) = &r.water {
+        lines.push(effect_line(e));
+    }
+    if let Some(e) = &r.water_with_alkali {
+        lines.push(format!("with the alkali: {}", effect_line(e)));
+    }
+    Ok(Report {
+        human: human(&lines, &r.traces, &r.cautions),
+        json: to_json(&r)?,
     })
 }
 

@@ -10,12 +10,15 @@ use crate::engine::water::{
 };
 use serde_json::{Value, json};
 
-/// The water from the shared flags, when the operator gave it (any of `--ph`,
-/// `--temperature`, `--alkalinity`; then all three are required). For calculators where the
-/// water is optional (the dosing commands); the ion flags without the water are left unread,
-/// so the strict parser rejects them.
-pub(super) fn optional_water_state(args: &Args) -> Result<Option<WaterState>, CliError> {
-    let given = ["ph", "temperature", "alkalinity"]
+/// The water from the shared flags, when the operator gave it (any of the `triggers` flags,
+/// e.g. `--ph`, `--temperature`, `--alkalinity`; then all three are required). For calculators
+/// where the water is optional (the dosing commands); the ion flags without the water are left
+/// unread, so the strict parser rejects them.
+pub(super) fn optional_water_state(
+    args: &Args,
+    triggers: &[&str],
+) -> Result<Option<WaterState>, CliError> {
+    let given = triggers
         .iter()
         .any(|f| args.text(f).map(|v| v.is_some()).unwrap_or(true));
     if !given {
