@@ -274,6 +274,9 @@ pub fn chlorine_dose_in_water(
         .filter(|c| c.key != "give-water-for-ph-effect")
         .collect();
     cautions.extend(ph_range.check(effect.ph_after));
+    // The engine's numbers are for the chlorine as fed; the demand and ammonia reactions that
+    // follow change the pH again, and the operator should know the number is not the tap's.
+    cautions.push(Caution::info("ph-effect-chlorine-as-fed"));
     if effect.alkalinity_after_mg_l_as_caco3 < 0.0 {
         cautions.push(
             Caution::danger("alkalinity-exhausted")
