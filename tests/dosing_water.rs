@@ -643,3 +643,33 @@ mod props {
         }
     }
 }
+
+#[test]
+fn cli_feed_with_the_water() {
+    let (code, j) = run(
+        "feed --flow 2.5 --flow-unit mgd --dose 3.0 --product sodium-hypochlorite --strength 12.5 \
+         --strength-basis trade --sg 1.16 --ph 7.2 --temperature 12 --alkalinity 60 --json",
+    );
+    assert_eq!(code, 0, "{j}");
+    assert!(num(&j["water"], "ph_after") > 7.2);
+    // 3.0 mg/L as Cl2 of NaOCl: 3.0 / 0.952 mg/L NaOCl (White 1972 [C]).
+    check(
+        "NaOCl compound",
+        num(&j["water"], "compound_mg_l"),
+        3.0 / 0.952,
+        0.005,
+    );
+    // Ammonia is dosed as N: the feed is given, with a note instead of the pH.
+    let (code, j) = run(
+        "feed --flow 2.5 --flow-unit mgd --dose 1 --product aqua-ammonia --strength 19 \
+         --strength-basis weight --sg 0.93 --ph 7.2 --temperature 12 --alkalinity 60 --json",
+    );
+    assert_eq!(code, 0, "{j}");
+    assert!(j["water"].is_null());
+    assert!(
+        j["cautions"]
+            .to_string()
+            .contains("water-effect-not-available")
+    );
+    assert!(num(&j, "active_kg_per_day") > 0.0);
+}

@@ -349,9 +349,46 @@ pub fn feed(args: &Args) -> CliResult {
     let r = feed::feed(&catalog, &input)?;
     let mut j = to_json(&r)?;
     j["pump_percent"] = json!(r.pump.as_ref().map(|p| p.percent));
-    let lines = feed_lines(&r, unit_system(args, site.as_ref())?);
+    let mut lines = feed_lines(&r, unit_system(args, site.as_ref())?);
+    let mut traces = r.traces.clone();
+    let mut cautions = r.cautions.clone();
+    // With the water, the dose's effect on it: `water` in the JSON.
+    if let Some(w) = super::water::optional_water_state(args, &["ph", "temperature", "alkalinity"])?
+    {
+        match crate::engine::dosing::waterside::product_effect(
+            &catalog,
+            &input.product,
+            dose.value,
+            &w,
+            ph_range(site.as_ref()),
+        ) {
+            Ok((e, more, trace)) => {
+                lines.push(effect_line(&e));
+                j["water"] = to_json(&e)?;
+                traces.extend(trace.map(|t| NamedTrace::new("chlorine-as-compound", t)));
+                cautions = crate::engine::dosing::caution::finish([cautions, more].concat());
+            }
+            // A product the water engine cannot model still gets its feed; the note says why
+            // the pH is missing.
+            Err(e)
+                if matches!(
+                    e.kind(),
+                    crate::engine::ErrorKind::UnknownChemical
+                        | crate::engine::ErrorKind::InvalidInput
+                ) =>
+            {
+                cautions.push(
+                    crate::engine::dosing::Caution::info("water-effect-not-available")
+                        .with("product", &input.product),
+                );
+                cautions = crate::engine::dosing::caution::finish(cautions);
+            }
+            Err(e) => return Err(e.into()),
+        }
+        j["cautions"] = to_json(&cautions)?;
+    }
     Ok(Report {
-        human: human(&lines, &r.traces, &r.cautions),
+        human: human(&lines, &traces, &cautions),
         json: j,
     })
 }

@@ -160,3 +160,44 @@ pub fn dose_effect(
     };
     Ok((after, effect))
 }
+
+/// The effect of `dose_mg_l` (expressed as the product's `dose_as`) of a dosing-catalog
+/// product on the water, with a `ph-outside-range` warning. Chlorine products dosed as Cl2 go
+/// through [`compound_for_chlorine`]; products dosed as their own compound are added as is;
+/// coagulant metal precipitates as amorphous hydroxide at equilibrium. Anything else (ammonia
+/// as N, a compound the water catalog lacks) is a typed error.
+pub fn product_effect(
+    catalog: &super::catalog::Catalog,
+    product: &str,
+    dose_mg_l: f64,
+    state: &WaterState,
+    ph_range: PhRange,
+) -> Result<(WaterEffect, Vec<Caution>, Option<Trace>)> {
+    use crate::engine::formula::Formula;
+    let p = catalog.product(product)?;
+    let chemical = water_chemical(&p.compound)?;
+    let dose_as = Formula::parse(&p.dose_as)?;
+    let (compound, trace) = if dose_as.same_composition(&Formula::parse("Cl2")?) {
+        let (mg, t) = compound_for_chlorine(chemical, Measured::exact(dose_mg_l))?;
+        (mg, Some(t))
+    } else if dose_as.same_composition(&chemical.formula) {
+        (dose_mg_l, None)
+    } else {
+        return Err(Error::new(
+            ErrorKind::InvalidInput,
+            format!(
+                "{} is dosed as {}: its effect on the water is not calculated from that basis",
+                p.id, p.dose_as
+            ),
+        )
+        .with("product", &p.id));
+    };
+    let precipitation = if chemical.is_coagulant() {
+        water::Precipitation::Hydroxide
+    } else {
+        water::Precipitation::None
+    };
+    let (_, effect) = dose_effect(state, chemical, compound, precipitation)?;
+    let cautions = ph_range.check(effect.ph_after).into_iter().collect();
+    Ok((effect, cautions, trace))
+}
