@@ -13,11 +13,11 @@
 use super::NamedTrace;
 use super::catalog::{Catalog, molar_mass};
 use super::caution::{Caution, finish};
-use super::waterside::{PhRange, WaterEffect, compound_for_chlorine, dose_effect, water_chemical};
+use super::waterside::{PhRange, WaterEffect, product_effect};
 use crate::engine::formula::Formula;
 use crate::engine::sigfig::Measured;
 use crate::engine::trace::{Origin, Quantity, Trace};
-use crate::engine::water::{Precipitation, WaterState};
+use crate::engine::water::WaterState;
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::Serialize;
 
@@ -265,15 +265,14 @@ pub fn chlorine_dose_in_water(
         )
         .with("product", &p.id));
     }
-    let chemical = water_chemical(&p.compound)?;
-    let (compound, trace) = compound_for_chlorine(chemical, Measured::exact(r.dose_mg_l))?;
-    let (_, effect) = dose_effect(water, chemical, compound, Precipitation::None)?;
+    let (effect, range_cautions, trace) =
+        product_effect(catalog, &p.id, r.dose_mg_l, water, ph_range)?;
     let mut cautions: Vec<Caution> = r
         .cautions
         .into_iter()
         .filter(|c| c.key != "give-water-for-ph-effect")
         .collect();
-    cautions.extend(ph_range.check(effect.ph_after));
+    cautions.extend(range_cautions);
     // The engine's numbers are for the chlorine as fed; the demand and ammonia reactions that
     // follow change the pH again, and the operator should know the number is not the tap's.
     cautions.push(Caution::info("ph-effect-chlorine-as-fed"));
@@ -291,7 +290,7 @@ pub fn chlorine_dose_in_water(
         );
     }
     r.traces
-        .push(NamedTrace::new("chlorine-as-compound", trace));
+        .extend(trace.map(|t| NamedTrace::new("chlorine-as-compound", t)));
     r.product = Some(p.id.clone());
     r.water = Some(effect);
     r.cautions = finish(cautions);
