@@ -673,3 +673,26 @@ fn cli_feed_with_the_water() {
     );
     assert!(num(&j, "active_kg_per_day") > 0.0);
 }
+
+#[test]
+fn cli_site_supplies_product_strength_and_pump() {
+    let site = concat!(env!("CARGO_MANIFEST_DIR"), "/data/demo-site.json");
+    let (code, j) = run(&format!(
+        "neutralize-feed --site {site} --product caustic-bulk --target-ph 7.8 --flow 2.5 --flow-unit mgd \
+         --ph 6.6 --temperature 15 --alkalinity 40 --json"
+    ));
+    assert_eq!(code, 0, "{j}");
+    assert_eq!(j["product"], "sodium-hydroxide");
+    assert!(
+        num(&j, "pump_percent") > 0.0,
+        "the site's caustic pump is used"
+    );
+    let (code, j) = run(&format!(
+        "chlorine --site {site} --product hypo-bulk --demand 1.4 --residual 1.0 --ph 7.2 \
+         --temperature 12 --alkalinity 60 --flow 2.5 --flow-unit mgd --json"
+    ));
+    assert_eq!(code, 0, "{j}");
+    assert_eq!(j["product"], "sodium-hypochlorite");
+    assert!(num(&j, "ph_after") > 7.2);
+    assert!(j["feed"]["pump"]["percent"].is_number());
+}
