@@ -96,7 +96,7 @@ usage: molefeed                       open the app on the built-in demo site
 
 water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [ions]; see docs/water-notes.md)
 dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
-dosing:     feed | chlorine | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
+dosing:     feed | neutralize-feed | chlorine | coagulation | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
 chemistry:  mass FORMULA
             balance \"EQUATION\" [--per SPECIES]
             convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F [--to-unit U]

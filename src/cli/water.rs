@@ -10,7 +10,24 @@ use crate::engine::water::{
 };
 use serde_json::{Value, json};
 
-fn water_state(args: &Args) -> Result<WaterState, CliError> {
+/// The water from the shared flags, when the operator gave it (any of the `triggers` flags,
+/// e.g. `--ph`, `--temperature`, `--alkalinity`; then all three are required). For calculators
+/// where the water is optional (the dosing commands); the ion flags without the water are left
+/// unread, so the strict parser rejects them.
+pub(super) fn optional_water_state(
+    args: &Args,
+    triggers: &[&str],
+) -> Result<Option<WaterState>, CliError> {
+    let given = triggers
+        .iter()
+        .any(|f| args.text(f).map(|v| v.is_some()).unwrap_or(true));
+    if !given {
+        return Ok(None);
+    }
+    water_state(args).map(Some)
+}
+
+pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
     // Read here so `molefeed batch` (which always sets it) accepts every water command.
     args.switch("json");
     let input = WaterInput {

@@ -6,14 +6,18 @@
 //! dechlorination mg-per-mg values are outputs that tests compare with the literature. Trade
 //! practice values (10–15:1 breakpoint, the AWWA field doses for dechlorination) are carried
 //! separately with their source and never replace the stoichiometric number. The pH and
-//! alkalinity effect of the chlorine product is the water engine's job: SEAM(water).
+//! alkalinity effect of the chlorine product comes from the water engine when the operator
+//! gives the water ([`chlorine_dose_in_water`]): chlorine gas releases acid, hypochlorites
+//! release base, and only the equilibrium model says how far the pH moves in a given water.
 
 use super::NamedTrace;
 use super::catalog::{Catalog, molar_mass};
 use super::caution::{Caution, finish};
+use super::waterside::{PhRange, WaterEffect, product_effect};
 use crate::engine::formula::Formula;
 use crate::engine::sigfig::Measured;
 use crate::engine::trace::{Origin, Quantity, Trace};
+use crate::engine::water::WaterState;
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::Serialize;
 
@@ -154,6 +158,12 @@ pub struct ChlorineResult {
     pub breakpoint_ratio: f64,
     /// The parts of the dose, in mg/L as Cl2, so the sum can be shown term by term.
     pub dose_terms: Vec<(String, f64)>,
+    /// The chlorine product whose effect on the water was calculated (dosing catalog id).
+    pub product: Option<String>,
+    /// pH and alkalinity before and after, when the water was given (flattened into the
+    /// JSON: `ph_after`, `alkalinity_after_mg_l_as_caco3`, ...).
+    #[serde(flatten)]
+    pub water: Option<WaterEffect>,
     pub traces: Vec<NamedTrace>,
     pub cautions: Vec<Caution>,
 }
@@ -169,7 +179,8 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
     let (ratio, ratio_trace) = chlorine_per_ammonia_n(catalog, "breakpoint")?;
     let ratio_sig = ratio_trace.sig_figs();
     let mut traces = vec![NamedTrace::new("breakpoint-ratio", ratio_trace)];
-    let mut cautions = vec![Caution::info("ph-alkalinity-effect-from-water-engine")];
+    // Without the water the pH effect cannot be calculated; say how to get it.
+    let mut cautions = vec![Caution::info("give-water-for-ph-effect")];
     let base = input.demand.value + input.residual.value;
     let mut breakpoint = None;
     let mut practice = None;
@@ -227,9 +238,63 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
         dose_practice_mg_l: practice.map(|(lo, hi)| (lo + base, hi + base)),
         breakpoint_ratio: ratio,
         dose_terms: terms,
+        product: None,
+        water: None,
         traces,
         cautions: finish(cautions),
     })
+}
+
+/// [`chlorine_dose`] plus the effect of feeding that dose as `product` (a dosing-catalog id
+/// dosed as Cl2: chlorine gas, sodium or calcium hypochlorite) on the operator's water: pH and
+/// alkalinity after, from the water engine, and a `ph-outside-range` warning outside
+/// `ph_range`. The chlorine is taken as still free (HOCl/OCl⁻, not yet reduced by the demand).
+pub fn chlorine_dose_in_water(
+    catalog: &Catalog,
+    input: &ChlorineInput,
+    product: &str,
+    water: &WaterState,
+    ph_range: PhRange,
+) -> Result<ChlorineResult> {
+    let mut r = chlorine_dose(catalog, input)?;
+    let p = catalog.product(product)?;
+    if !Formula::parse(&p.dose_as)?.same_composition(&Formula::parse("Cl2")?) {
+        return Err(Error::new(
+            ErrorKind::InvalidInput,
+            format!("{} is dosed as {}, not as Cl2", p.id, p.dose_as),
+        )
+        .with("product", &p.id));
+    }
+    let (effect, range_cautions, trace) =
+        product_effect(catalog, &p.id, r.dose_mg_l, water, ph_range)?;
+    let mut cautions: Vec<Caution> = r
+        .cautions
+        .into_iter()
+        .filter(|c| c.key != "give-water-for-ph-effect")
+        .collect();
+    cautions.extend(range_cautions);
+    // The engine's numbers are for the chlorine as fed; the demand and ammonia reactions that
+    // follow change the pH again, and the operator should know the number is not the tap's.
+    cautions.push(Caution::info("ph-effect-chlorine-as-fed"));
+    if effect.alkalinity_after_mg_l_as_caco3 < 0.0 {
+        cautions.push(
+            Caution::danger("alkalinity-exhausted")
+                .with(
+                    "consumed_mg_l",
+                    format!("{:.1}", -effect.alkalinity_change_mg_l_as_caco3),
+                )
+                .with(
+                    "raw_mg_l",
+                    format!("{:.1}", effect.alkalinity_before_mg_l_as_caco3),
+                ),
+        );
+    }
+    r.traces
+        .extend(trace.map(|t| NamedTrace::new("chlorine-as-compound", t)));
+    r.product = Some(p.id.clone());
+    r.water = Some(effect);
+    r.cautions = finish(cautions);
+    Ok(r)
 }
 
 /// Result of [`chloramination`].

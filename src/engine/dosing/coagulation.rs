@@ -4,17 +4,21 @@
 //! Design: alkalinity is counted as equivalents of HCO3⁻ consumed in the balanced hydrolysis
 //! reaction and reported as CaCO3 through its equivalent weight (molar mass ÷ |charge of
 //! CO3²⁻|), so the "0.5 mg/L per mg/L alum" rule is derived. PACl's reaction is built for the
-//! basicity entered (Al_n(OH)_m Cl_(3n−m)). The coagulated pH is the water engine's job:
-//! SEAM(water) — `CoagulationResult` leaves it out for the lead to wire in.
+//! basicity entered (Al_n(OH)_m Cl_(3n−m)). With the operator's water,
+//! [`coagulation_in_water`] adds the coagulated pH, alkalinity and Langelier index from the
+//! water engine, and the same after the supplemental alkali: the stoichiometric numbers say how
+//! much alkalinity goes, only the equilibrium says where the pH lands.
 
 use super::NamedTrace;
 use super::catalog::{Catalog, molar_mass};
 use super::caution::{Caution, finish};
 use super::units::{Flow, pounds_factor};
+use super::waterside::{PhRange, WaterEffect, dose_effect, water_chemical};
 use crate::engine::formula::Formula;
 use crate::engine::reaction::Reaction;
 use crate::engine::sigfig::Measured;
 use crate::engine::trace::{Origin, Quantity, Trace};
+use crate::engine::water::{Precipitation, WaterState};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::Serialize;
 
@@ -354,8 +358,85 @@ pub struct CoagulationResult {
     /// The same as delivered (÷ purity).
     pub alkali_product_mg_l: f64,
     pub solids_per_mg: f64,
+    /// The coagulant's effect on the operator's water (when given), from the water engine.
+    pub water: Option<WaterEffect>,
+    /// The same water after the supplemental alkali too (when alkali is needed).
+    pub water_with_alkali: Option<WaterEffect>,
     pub traces: Vec<NamedTrace>,
     pub cautions: Vec<Caution>,
+}
+
+/// The water-engine chemical for a coagulant and the mg/L of it that `dose` (as
+/// `c.dose_as()`) delivers. Alum doses as Al2O3 or as the 18-hydrate are carried to the
+/// 14-hydrate through their aluminium atoms (the hydration water does not change the water).
+fn coagulant_chemical(
+    c: Coagulant,
+    dose: f64,
+) -> Result<(&'static crate::engine::water::Chemical, f64)> {
+    let chemical = match c {
+        Coagulant::Alum14 | Coagulant::Alum18 | Coagulant::AlumAsAl2o3 => {
+            water_chemical("Al2(SO4)3·14H2O")?
+        }
+        Coagulant::FerricChloride => water_chemical("FeCl3")?,
+        // Fe2(SO4)3 and PACl are not in the water-chemistry catalog: the lookup says so.
+        Coagulant::FerricSulfate => water_chemical("Fe2(SO4)3")?,
+        Coagulant::Pacl { .. } => water_chemical("PACl")?,
+    };
+    let dose_as = Formula::parse(c.dose_as())?;
+    let (m_as, _) = molar_mass(c.dose_as())?;
+    let metal = if chemical.formula.count("Al") > 0 {
+        "Al"
+    } else {
+        "Fe"
+    };
+    let per_as = dose_as.count(metal) as f64;
+    let per_chem = chemical.formula.count(metal) as f64;
+    Ok((
+        chemical,
+        dose / m_as * per_as / per_chem * chemical.molar_mass,
+    ))
+}
+
+/// [`coagulation`] in the operator's water: pH, alkalinity and LSI after the coagulant (metal
+/// precipitated as amorphous hydroxide at equilibrium) and after the supplemental alkali, with
+/// a `ph-outside-range` warning for the pH the water leaves with. The raw alkalinity of `input`
+/// must be the water's own.
+pub fn coagulation_in_water(
+    catalog: &Catalog,
+    input: &CoagulationInput,
+    water: &WaterState,
+    ph_range: PhRange,
+) -> Result<CoagulationResult> {
+    let water_alk = water.alkalinity_mg_l_as_caco3();
+    if (water_alk - input.raw_alkalinity.value).abs() > 0.01 * water_alk.max(10.0) {
+        return Err(Error::new(
+            ErrorKind::InvalidInput,
+            format!(
+                "the raw alkalinity ({} mg/L) is not the water's ({water_alk:.1} mg/L as CaCO3)",
+                input.raw_alkalinity.value
+            ),
+        )
+        .with("quantity", "alkalinity"));
+    }
+    let mut r = coagulation(catalog, input)?;
+    let (chemical, mg_l) = coagulant_chemical(input.coagulant, input.dose.value)?;
+    let (after, effect) = dose_effect(water, chemical, mg_l, Precipitation::Hydroxide)?;
+    let mut final_ph = effect.ph_after;
+    let mut cautions: Vec<Caution> = r
+        .cautions
+        .into_iter()
+        .filter(|c| c.key != "give-water-for-ph-effect")
+        .collect();
+    if r.alkali_mg_l > 0.0 {
+        let alkali = water_chemical(input.alkali.formula())?;
+        let (_, with) = dose_effect(&after, alkali, r.alkali_mg_l, Precipitation::None)?;
+        final_ph = with.ph_after;
+        r.water_with_alkali = Some(with);
+    }
+    cautions.extend(ph_range.check(final_ph));
+    r.water = Some(effect);
+    r.cautions = finish(cautions);
+    Ok(r)
 }
 
 /// Alkalinity consumed, and the alkali needed to keep the residual alkalinity setpoint.
@@ -405,7 +486,8 @@ pub fn coagulation(catalog: &Catalog, input: &CoagulationInput) -> Result<Coagul
     let deficit = (input.residual_alkalinity_setpoint - remaining).max(0.0);
     let (alk_per, alk_trace) = alkalinity_per_alkali(catalog, input.alkali)?;
     let alkali = deficit / alk_per;
-    let mut cautions = vec![Caution::info("ph-alkalinity-effect-from-water-engine")];
+    // Without the water the pH effect cannot be calculated; say how to get it.
+    let mut cautions = vec![Caution::info("give-water-for-ph-effect")];
     if remaining < 0.0 {
         cautions.push(
             Caution::danger("alkalinity-exhausted")
@@ -428,6 +510,8 @@ pub fn coagulation(catalog: &Catalog, input: &CoagulationInput) -> Result<Coagul
         alkali_mg_l: alkali,
         alkali_product_mg_l: alkali * 100.0 / input.alkali_purity_percent,
         solids_per_mg: solids,
+        water: None,
+        water_with_alkali: None,
         traces: vec![
             NamedTrace::new("alkalinity-per-dose", per_trace),
             NamedTrace::new("alkalinity-consumed", t),

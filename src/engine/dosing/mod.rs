@@ -6,17 +6,20 @@
 //! `data/dosing-reactions.json` or a formula in `data/products.json`, so the familiar
 //! operator constants (8.34, 7.6:1, 1.47 ...) are *results* that tests compare with the
 //! published numbers, never inputs. Equilibrium (pH after a dose) belongs to the
-//! water-chemistry engine; the seams are marked `SEAM(water)`.
+//! water-chemistry engine; [`waterside`] connects the calculators to it when the operator gives
+//! the water (softening is still a seam, marked `SEAM(water)`).
 
 pub mod catalog;
 pub mod caution;
 pub mod chlorine;
 pub mod coagulation;
 pub mod feed;
+pub mod neutralization;
 pub mod pumpcheck;
 pub mod site;
 pub mod softening;
 pub mod units;
+pub mod waterside;
 
 pub use caution::{Caution, Severity};
 
