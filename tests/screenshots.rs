@@ -9,8 +9,8 @@ mod common;
 
 use molefeed::app::dose_log::{DoseLog, MemoryLog, NewEntry};
 use molefeed::app::numbers::Lang;
-use molefeed::app::seams::connected_engine;
-use molefeed::app::ui::{AppWindow, Nav, SettingsAdapter};
+use molefeed::app::seams::{CalcKind, connected_engine};
+use molefeed::app::ui::{AppWindow, CalcAdapter, Nav, SettingsAdapter};
 use molefeed::app::{Deps, attach};
 use slint::platform::software_renderer::{MinimalSoftwareWindow, RepaintBufferType};
 use slint::platform::{Platform, WindowAdapter};
@@ -114,15 +114,14 @@ fn every_screen_renders_with_text_at_three_sizes() {
     );
     {
         let mut st = handle.state.borrow_mut();
+        // The feed & pump setting calculator, computed by the real dosing engine.
+        st.calc.set_kind(CalcKind::FeedSetting);
         for (name, text) in [
             ("flow", "2.4"),
-            ("ph-raw", "6.7"),
-            ("ph-target", "7.3"),
-            ("alkalinity", "38"),
-            ("temperature", "58"),
-            ("strength", "25"),
-            ("specific-gravity", "1.28"),
-            ("pump-capacity", "3.2"),
+            ("dose", "2.5"),
+            ("strength", "12.5"),
+            ("specific-gravity", "1.2"),
+            ("pump-capacity", "10"),
         ] {
             st.calc.edit(name, text);
         }
@@ -156,6 +155,17 @@ fn every_screen_renders_with_text_at_three_sizes() {
             }
         }
     }
+    // "Show the work" opened, on a desktop-sized window.
+    app.global::<CalcAdapter>().set_show_work(true);
+    app.global::<Nav>().invoke_go(1);
+    let pixels = render(&window, 1600, 1000);
+    save_png(
+        &out.join("calculators-desktop-work.png"),
+        &pixels,
+        1600,
+        1000,
+    );
+    app.global::<CalcAdapter>().set_show_work(false);
     // The Spanish and high-contrast variants of the calculator screen, for review.
     app.global::<SettingsAdapter>().invoke_set_lang(1);
     app.global::<SettingsAdapter>()

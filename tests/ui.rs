@@ -12,7 +12,7 @@ use i_slint_backend_testing::ElementHandle;
 use molefeed::app::dose_log::MemoryLog;
 use molefeed::app::i18n::Texts;
 use molefeed::app::numbers::{self, Lang};
-use molefeed::app::seams::connected_engine;
+use molefeed::app::seams::{Unconnected, connected_engine};
 use molefeed::app::ui::{AppWindow, Nav};
 use molefeed::app::{AppHandle, Deps, attach};
 use slint::ComponentHandle;
@@ -41,7 +41,7 @@ fn start_at(
         },
     );
     app.window()
-        .set_size(slint::LogicalSize::new(1280.0, 800.0));
+        .set_size(slint::LogicalSize::new(width, height));
     app.show().expect("show");
     (app, handle)
 }
@@ -112,8 +112,16 @@ fn typed_inputs_show_the_engine_result_with_cautions_and_advisory() {
 
 #[test]
 fn the_phone_layout_has_the_same_controls() {
-    let (app, _handle) = start_at(Rc::new(common::EchoEngine), 400.0, 860.0);
-    fill_feed_setting(&app, "1");
+    // Tall enough that nothing is scrolled out of view: the finders only see visible elements.
+    let (app, _handle) = start_at(Rc::new(common::EchoEngine), 400.0, 2000.0);
+    // On a phone the calculator is opened from the Start screen's quick entries.
+    tap(&app, &en("calc-feed-setting"));
+    assert_eq!(app.global::<Nav>().get_screen(), 1);
+    type_into(&app, &en("field-flow"), "1");
+    type_into(&app, &en("field-dose"), "2");
+    type_into(&app, &en("field-strength"), "12.5");
+    type_into(&app, &en("field-specific-gravity"), "1.2");
+    type_into(&app, &en("field-pump-capacity"), "10");
     assert_eq!(
         one(&app, &en("result-dose")).accessible_value().unwrap(),
         "2.00"
@@ -142,7 +150,7 @@ fn invalid_input_shows_a_message_and_no_number() {
 
 #[test]
 fn unconnected_engine_says_so_instead_of_a_number() {
-    let (app, _handle) = start(connected_engine());
+    let (app, _handle) = start(Rc::new(Unconnected));
     fill_feed_setting(&app, "1");
     let message = one(&app, &en("calc-result"));
     assert_eq!(
@@ -150,6 +158,51 @@ fn unconnected_engine_says_so_instead_of_a_number() {
         en("calc-not-connected")
     );
     assert_eq!(count(&app, &en("result-dose")), 0);
+}
+
+#[test]
+fn the_real_feed_engine_fills_the_card_with_translated_cautions() {
+    // A tall window so the whole cautions list is in view (finders skip clipped elements).
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    fill_feed_setting(&app, "1");
+    // The product chips come from the engine's catalog; hypochlorite is offered.
+    one(&app, &en("product-sodium-hypochlorite"));
+    let view = handle.state.borrow().calc.view();
+    let molefeed::app::calc::Status::Ready(result) = view.status else {
+        panic!("no result from the engine: {:?}", view.status)
+    };
+    assert_eq!(
+        one(&app, &en("result-dose")).accessible_value().unwrap(),
+        result.dose
+    );
+    assert_eq!(
+        one(&app, &en("result-pump")).accessible_value().unwrap(),
+        result.pump
+    );
+    // Every engine caution reaches the screen as level word + translated text.
+    assert!(!result.cautions.is_empty());
+    let texts = Texts::new(Lang::En);
+    for c in &result.cautions {
+        assert!(
+            texts.has(&c.code),
+            "no translation for engine caution {}",
+            c.code
+        );
+        let word = en(&format!("caution-level-{}", c.level.code()));
+        let args: Vec<(&str, String)> = c
+            .params
+            .iter()
+            .map(|(k, v)| (k.as_str(), v.clone()))
+            .collect();
+        let label = format!("{word}: {}", texts.get_args(&c.code, &args));
+        if count(&app, &label) != 1 {
+            let shown: Vec<_> = ElementHandle::find_by_element_type_name(&app, "CautionItem")
+                .filter_map(|e| e.accessible_label())
+                .filter(|l| l.starts_with(&word))
+                .collect();
+            panic!("caution {label:?} not shown; shown: {shown:?}");
+        }
+    }
 }
 
 #[test]

@@ -25,7 +25,6 @@ pub struct Texts {
 impl Texts {
     pub fn new(lang: Lang) -> Texts {
         let loader: FluentLanguageLoader = i18n_embed::fluent::fluent_language_loader!();
-        loader.set_use_isolating(false);
         let mut texts = Texts {
             loader,
             lang: Lang::En,
@@ -45,6 +44,9 @@ impl Texts {
         self.loader
             .load_languages(&Localizations, &[id, fallback])
             .expect("embedded translations load");
+        // Loading makes new bundles, which isolate placeholders again: switch it off each time
+        // (the marks would show as stray glyphs and break exact label matches).
+        self.loader.set_use_isolating(false);
         self.lang = lang;
     }
 
@@ -114,6 +116,7 @@ mod tests {
         let t = Texts::new(Lang::Es);
         let text = t.error(&e);
         assert!(text.contains("15,5"), "{text}");
+        assert!(!text.contains('\u{2068}'), "isolation marks in {text:?}");
         assert!(!text.contains("outside"), "English leaked: {text}");
         let en = Texts::new(Lang::En).error(&e);
         assert!(en.contains("15.5"), "{en}");

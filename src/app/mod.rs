@@ -9,6 +9,7 @@
 
 pub mod calc;
 pub mod dose_log;
+pub mod engine_adapter;
 pub mod keys;
 pub mod numbers;
 pub mod plot;

@@ -203,10 +203,15 @@ pub struct Unconnected;
 
 impl CalcEngine for Unconnected {}
 
-/// SEAM FOR THE LEAD: return the engine adapter here once `engine::` has the calculators.
-/// Desktop and Android both get their engine from this function.
+/// SEAM FOR THE LEAD: the engine the app uses. Desktop and Android both get it here.
+/// [`super::engine_adapter::DosingEngine`] answers the calculators the dosing engine covers so
+/// far and says "not connected" for the rest; if the built-in catalog ever failed to load, the
+/// app would show that instead of numbers.
 pub fn connected_engine() -> Rc<dyn CalcEngine> {
-    Rc::new(Unconnected)
+    match super::engine_adapter::DosingEngine::new() {
+        Ok(engine) => Rc::new(engine),
+        Err(_) => Rc::new(Unconnected),
+    }
 }
 
 #[cfg(test)]
@@ -221,13 +226,15 @@ mod tests {
             product: None,
             values: BTreeMap::from([("flow", 1000.0)]),
         };
+        assert_eq!(Unconnected.compute(&request), Err(SeamError::NotConnected));
         assert_eq!(
-            connected_engine().compute(&request),
+            Unconnected.titration_curve(&request),
             Err(SeamError::NotConnected)
         );
         assert_eq!(
             connected_engine().titration_curve(&request),
-            Err(SeamError::NotConnected)
+            Err(SeamError::NotConnected),
+            "no titration curve engine yet"
         );
     }
 

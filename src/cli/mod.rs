@@ -8,6 +8,8 @@
 
 mod args;
 mod chemistry;
+mod dosing;
+mod log_cmd;
 
 pub use args::Args;
 
@@ -64,22 +66,34 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "mass" => chemistry::mass(args),
         "balance" => chemistry::balance(args),
         "convert" => chemistry::convert(args),
+        "reactions" => chemistry::reactions(args),
+        "equivalent" => chemistry::equivalent(args),
+        c if dosing::COMMANDS.contains(&c) => dosing::run(c, args),
+        "log" => log_cmd::run(args),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
             )));
         }
     }?;
+    args.switch("json");
     args.reject_unused()?;
     Ok(result)
 }
 
-const HELP: &str = "molefeed — chemical feed for water treatment (advisory; a licensed operator decides)
+const HELP: &str =
+    "molefeed — chemical feed for water treatment (advisory; a licensed operator decides)
 
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
-chemistry:  mass FORMULA | balance \"EQUATION\" | convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F
+dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
+dosing:     feed | chlorine | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
+chemistry:  mass FORMULA
+            balance \"EQUATION\" [--per SPECIES]
+            convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F [--to-unit U]
+            equivalent SPECIES [--reaction ID --carrier C]
+            reactions
 ";
 
 /// Runs the CLI on `args` (without the program name) and returns the process exit code.

@@ -1,0 +1,393 @@
+//! The site profile: a plant's meters, taps, products as delivered, feeders and limits.
+//!
+//! Design: plain serde types so the app stores a profile as JSON and the engine parses it
+//! from a string (pure: reading the file is the caller's job). Parsing is followed by
+//! validation against the catalog with typed errors that name the offending entry. Limits are
+//! what the plant's permit says; regulatory defaults exist only where a federal rule sets a
+//! number, each labelled with its source, and a plant entry for the same parameter overrides it.
+
+use super::catalog::{Catalog, Form, Strength, StrengthBasis, check_sg, check_strength};
+use super::feed::{PumpKind, UsableRange};
+use super::units::{FlowUnit, LengthUnit, UnitSystem, VolumeUnit};
+use crate::engine::sigfig::{Measured, count_sig_figs};
+use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
+use serde::{Deserialize, Serialize};
+
+const DEMO_SITE_JSON: &str = include_str!("../../../data/demo-site.json");
+
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct FlowMeter {
+    pub id: String,
+    pub name: String,
+    pub unit: FlowUnit,
+    /// Full-scale reading, in `unit`.
+    pub max: f64,
+}
+
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SamplingTap {
+    pub id: String,
+    pub name: String,
+    #[serde(default)]
+    pub parameters: Vec<String>,
+}
+
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ContactBasin {
+    pub id: String,
+    pub name: String,
+    pub volume: f64,
+    pub volume_unit: VolumeUnit,
+    /// T10/T from a tracer study or the EPA guidance table.
+    pub baffling_factor: f64,
+}
+
+/// A product as delivered to this plant (strength and SG from the certificate of analysis).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct DeliveredProduct {
+    pub id: String,
+    /// Catalog id.
+    pub product: String,
+    pub strength: f64,
+    pub strength_basis: StrengthBasis,
+    pub sg: Option<f64>,
+    #[serde(default)]
+    pub certificate: Option<String>,
+    /// NSF/ANSI/CAN 60 maximum use level, mg/L of product, if the plant records it.
+    #[serde(default)]
+    pub max_use_level_mg_l: Option<f64>,
+}
+
+impl DeliveredProduct {
+    /// The strength as an engine value; significant figures are those of the number as stored.
+    pub fn strength(&self) -> Strength {
+        let measured = |v: f64| Measured {
+            value: v,
+            sig_figs: count_sig_figs(&v.to_string()),
+        };
+        Strength::new(
+            measured(self.strength),
+            self.strength_basis,
+            self.sg.map(measured),
+        )
+    }
+}
+
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Pump {
+    pub id: String,
+    pub name: String,
+    /// Id of a delivered product.
+    pub product: String,
+    pub kind: PumpKind,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum DayTankShape {
+    VerticalCylinder,
+    Rectangular,
+}
+
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct DayTank {
+    pub id: String,
+    pub name: String,
+    pub shape: DayTankShape,
+    #[serde(default)]
+    pub diameter: Option<f64>,
+    #[serde(default)]
+    pub length: Option<f64>,
+    #[serde(default)]
+    pub width: Option<f64>,
+    pub length_unit: LengthUnit,
+}
+
+/// A limit on a chemical dose or a finished-water parameter.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Limit {
+    /// Kebab-case parameter key: chlorine, chloramines, chlorine-dioxide, ph, aluminium, ...
+    pub parameter: String,
+    pub min: Option<f64>,
+    pub max: Option<f64>,
+    pub unit: String,
+    pub source: String,
+}
+
+/// A plant's profile.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SiteProfile {
+    pub name: String,
+    #[serde(default)]
+    pub note: Option<String>,
+    #[serde(default)]
+    pub units: UnitSystem,
+    #[serde(default)]
+    pub flow_meters: Vec<FlowMeter>,
+    #[serde(default)]
+    pub sampling_taps: Vec<SamplingTap>,
+    #[serde(default)]
+    pub contact_basins: Vec<ContactBasin>,
+    #[serde(default)]
+    pub products: Vec<DeliveredProduct>,
+    #[serde(default)]
+    pub pumps: Vec<Pump>,
+    #[serde(default)]
+    pub pump_usable_range_percent: UsableRange,
+    #[serde(default)]
+    pub day_tanks: Vec<DayTank>,
+    #[serde(default)]
+    pub limits: Vec<Limit>,
+}
+
+fn limit(parameter: &str, min: Option<f64>, max: Option<f64>, unit: &str, source: &str) -> Limit {
+    Limit {
+        parameter: parameter.into(),
+        min,
+        max,
+        unit: unit.into(),
+        source: source.into(),
+    }
+}
+
+/// Limits a federal US rule sets, each with its source; a plant's permit entry overrides them.
+pub fn regulatory_defaults() -> Vec<Limit> {
+    vec![
+        limit(
+            "chlorine",
+            None,
+            Some(4.0),
+            "mg/L as Cl2",
+            "US EPA MRDL, 40 CFR 141.65 (running annual average)",
+        ),
+        limit(
+            "chloramines",
+            None,
+            Some(4.0),
+            "mg/L as Cl2",
+            "US EPA MRDL, 40 CFR 141.65 (running annual average)",
+        ),
+        limit(
+            "chlorine-dioxide",
+            None,
+            Some(0.8),
+            "mg/L as ClO2",
+            "US EPA MRDL, 40 CFR 141.65",
+        ),
+        limit(
+            "chlorite",
+            None,
+            Some(1.0),
+            "mg/L",
+            "US EPA MCL, 40 CFR 141.64",
+        ),
+        limit(
+            "bromate",
+            None,
+            Some(0.010),
+            "mg/L",
+            "US EPA MCL, 40 CFR 141.64",
+        ),
+        limit(
+            "ph",
+            Some(6.5),
+            Some(8.5),
+            "",
+            "US EPA SMCL, 40 CFR 143.3 (secondary, non-enforceable)",
+        ),
+        limit(
+            "aluminium",
+            None,
+            Some(0.2),
+            "mg/L",
+            "US EPA SMCL range 0.05–0.2 mg/L, 40 CFR 143.3 (upper end; secondary)",
+        ),
+        limit("iron", None, Some(0.3), "mg/L", "US EPA SMCL, 40 CFR 143.3"),
+        limit(
+            "manganese",
+            None,
+            Some(0.05),
+            "mg/L",
+            "US EPA SMCL, 40 CFR 143.3",
+        ),
+        limit(
+            "sulfate",
+            None,
+            Some(250.0),
+            "mg/L",
+            "US EPA SMCL, 40 CFR 143.3",
+        ),
+        limit(
+            "chloride",
+            None,
+            Some(250.0),
+            "mg/L",
+            "US EPA SMCL, 40 CFR 143.3",
+        ),
+    ]
+}
+
+fn invalid(what: String, id: &str) -> Error {
+    Error::new(ErrorKind::InvalidInput, what).with("entry", id)
+}
+
+fn unique<'a>(kind: &str, ids: impl Iterator<Item = &'a str>) -> Result<()> {
+    let mut seen: Vec<&str> = Vec::new();
+    for id in ids {
+        if seen.contains(&id) {
+            return Err(invalid(format!("{kind} id '{id}' is used twice"), id));
+        }
+        seen.push(id);
+    }
+    Ok(())
+}
+
+impl SiteProfile {
+    /// Parses and validates a profile from JSON text (pure; the caller reads the file).
+    pub fn from_json(text: &str, catalog: &Catalog) -> Result<SiteProfile> {
+        let site: SiteProfile = serde_json::from_str(text).map_err(|e| {
+            Error::new(ErrorKind::Syntax, format!("site profile: {e}"))
+                .with("line", e.line())
+                .with("column", e.column())
+        })?;
+        site.validate(catalog)?;
+        Ok(site)
+    }
+
+    /// The embedded demo plant.
+    pub fn demo(catalog: &Catalog) -> Result<SiteProfile> {
+        SiteProfile::from_json(DEMO_SITE_JSON, catalog)
+    }
+
+    pub fn to_json(&self) -> Result<String> {
+        serde_json::to_string_pretty(self)
+            .map_err(|e| Error::new(ErrorKind::InvalidInput, format!("site profile: {e}")))
+    }
+
+    /// Checks references, ranges and strengths, naming the entry at fault.
+    pub fn validate(&self, catalog: &Catalog) -> Result<()> {
+        if self.name.trim().is_empty() {
+            return Err(invalid("the plant needs a name".into(), ""));
+        }
+        unique("flow meter", self.flow_meters.iter().map(|m| m.id.as_str()))?;
+        unique("product", self.products.iter().map(|p| p.id.as_str()))?;
+        unique("pump", self.pumps.iter().map(|p| p.id.as_str()))?;
+        unique("basin", self.contact_basins.iter().map(|p| p.id.as_str()))?;
+        for m in &self.flow_meters {
+            check_positive("flow meter full scale", m.max, m.unit.symbol())
+                .map_err(|e| e.with("entry", &m.id))?;
+        }
+        for b in &self.contact_basins {
+            check_positive("basin volume", b.volume, b.volume_unit.symbol())
+                .map_err(|e| e.with("entry", &b.id))?;
+            check_positive("baffling factor", b.baffling_factor, "")
+                .map_err(|e| e.with("entry", &b.id))?;
+            check_range("baffling factor", b.baffling_factor, 0.0, 1.0, "")
+                .map_err(|e| e.with("entry", &b.id))?;
+        }
+        for d in &self.products {
+            let p = catalog
+                .product(&d.product)
+                .map_err(|e| e.with("entry", &d.id))?;
+            if let Some(sg) = d.sg {
+                check_sg(sg).map_err(|e| e.with("entry", &d.id))?;
+            }
+            check_strength(catalog, p, &d.strength()).map_err(|e| e.with("entry", &d.id))?;
+            if let Some(mul) = d.max_use_level_mg_l {
+                check_positive("maximum use level", mul, "mg/L")
+                    .map_err(|e| e.with("entry", &d.id))?;
+            }
+        }
+        for pump in &self.pumps {
+            pump.kind
+                .validate()
+                .map_err(|e| e.with("entry", &pump.id))?;
+            let d = self
+                .delivered(&pump.product)
+                .map_err(|e| e.with("entry", &pump.id))?;
+            let form = catalog.product(&d.product)?.form;
+            let fits = match pump.kind {
+                PumpKind::Metering { .. } | PumpKind::Peristaltic { .. } => form == Form::Solution,
+                PumpKind::DryFeeder { .. } => form == Form::Dry,
+                PumpKind::GasFeeder { .. } => form == Form::Gas,
+            };
+            if !fits {
+                return Err(invalid(
+                    format!("pump '{}' cannot feed '{}' ({:?})", pump.id, d.id, form),
+                    &pump.id,
+                ));
+            }
+        }
+        self.pump_usable_range_percent.validate()?;
+        for t in &self.day_tanks {
+            let dims: &[Option<f64>] = match t.shape {
+                DayTankShape::VerticalCylinder => &[t.diameter],
+                DayTankShape::Rectangular => &[t.length, t.width],
+            };
+            for d in dims {
+                let v = d.ok_or_else(|| {
+                    invalid(format!("day tank '{}' is missing a dimension", t.id), &t.id)
+                })?;
+                check_positive("tank dimension", v, "").map_err(|e| e.with("entry", &t.id))?;
+            }
+        }
+        for l in &self.limits {
+            for v in [l.min, l.max].into_iter().flatten() {
+                check_range("limit", v, 0.0, 1e6, &l.unit)
+                    .map_err(|e| e.with("entry", &l.parameter))?;
+            }
+            if let (Some(lo), Some(hi)) = (l.min, l.max)
+                && lo > hi
+            {
+                return Err(invalid(
+                    format!("limit for {}: minimum above maximum", l.parameter),
+                    &l.parameter,
+                ));
+            }
+        }
+        Ok(())
+    }
+
+    pub fn delivered(&self, id: &str) -> Result<&DeliveredProduct> {
+        self.products.iter().find(|p| p.id == id).ok_or_else(|| {
+            Error::new(
+                ErrorKind::UnknownChemical,
+                format!("no delivered product '{id}' in the site profile"),
+            )
+            .with("product", id)
+        })
+    }
+
+    /// The delivered product of a catalog product (first entry), if the site stocks it.
+    pub fn delivered_of(&self, catalog_id: &str) -> Option<&DeliveredProduct> {
+        self.products.iter().find(|p| p.product == catalog_id)
+    }
+
+    pub fn pump(&self, id: &str) -> Result<&Pump> {
+        self.pumps.iter().find(|p| p.id == id).ok_or_else(|| {
+            Error::new(
+                ErrorKind::InvalidInput,
+                format!("no pump '{id}' in the site profile"),
+            )
+            .with("pump", id)
+        })
+    }
+
+    /// The first pump feeding a delivered product.
+    pub fn pump_for(&self, delivered_id: &str) -> Option<&Pump> {
+        self.pumps.iter().find(|p| p.product == delivered_id)
+    }
+
+    /// The limit that applies: the plant's own entry, else the regulatory default, else none.
+    pub fn effective_limit(&self, parameter: &str) -> Option<Limit> {
+        self.limits
+            .iter()
+            .find(|l| l.parameter == parameter)
+            .cloned()
+            .or_else(|| {
+                regulatory_defaults()
+                    .into_iter()
+                    .find(|l| l.parameter == parameter)
+            })
+    }
+}

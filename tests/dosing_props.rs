@@ -1,0 +1,268 @@
+//! Property tests: round trips, monotonicity and "never panics" over the input space.
+
+use molefeed::engine::dosing::catalog::{Catalog, Strength, StrengthBasis};
+use molefeed::engine::dosing::chlorine::{self, ChlorineInput, ContactTime, CtInput};
+use molefeed::engine::dosing::coagulation::{self, Alkali, Coagulant, CoagulationInput};
+use molefeed::engine::dosing::feed::{self, FeedInput, PumpKind, UsableRange};
+use molefeed::engine::dosing::pumpcheck::{self, Measurement, PumpCheckInput, Tolerance};
+use molefeed::engine::dosing::site::SiteProfile;
+use molefeed::engine::dosing::softening::{self, SofteningInput};
+use molefeed::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
+use molefeed::engine::sigfig::Measured;
+use proptest::prelude::*;
+
+fn m(v: f64) -> Measured {
+    Measured::exact(v)
+}
+
+const UNITS: [FlowUnit; 5] = [
+    FlowUnit::Mgd,
+    FlowUnit::Gpm,
+    FlowUnit::M3h,
+    FlowUnit::M3d,
+    FlowUnit::Lps,
+];
+
+/// (product, strength, basis, SG) for liquid products of the catalog.
+const LIQUIDS: [(&str, f64, StrengthBasis, f64); 6] = [
+    ("sodium-hypochlorite", 12.5, StrengthBasis::Trade, 1.16),
+    (
+        "sodium-hypochlorite",
+        10.7,
+        StrengthBasis::AvailableChlorine,
+        1.16,
+    ),
+    ("alum-liquid", 8.3, StrengthBasis::AsAl2o3, 1.335),
+    ("ferric-chloride", 40.0, StrengthBasis::Weight, 1.42),
+    ("sodium-hydroxide", 50.0, StrengthBasis::Weight, 1.52),
+    ("aqua-ammonia", 19.0, StrengthBasis::Weight, 0.93),
+];
+
+fn input(flow: f64, unit: FlowUnit, dose: f64, liquid: usize, capacity_l_h: f64) -> FeedInput {
+    let (product, s, basis, sg) = LIQUIDS[liquid];
+    FeedInput {
+        flow: Flow::new(m(flow), unit),
+        dose: m(dose),
+        product: product.into(),
+        strength: Strength::new(m(s), basis, Some(m(sg))),
+        pump: Some(PumpKind::Metering {
+            capacity: capacity_l_h,
+            unit: VolumeRateUnit::Lph,
+        }),
+        usable_range: UsableRange::default(),
+        max_use_level_mg_l: None,
+    }
+}
+
+fn num() -> impl Strategy<Value = f64> {
+    prop_oneof![
+        any::<f64>(),
+        -1e6..1e6f64,
+        Just(0.0),
+        Just(f64::NAN),
+        Just(f64::INFINITY),
+        Just(-0.0),
+        1e-12..1e-6f64
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(256))]
+
+    /// dose → pump setting → drawdown at that setting → dose returns the dose.
+    #[test]
+    fn feed_then_drawdown_returns_the_dose(
+        flow in 0.01..500.0f64, unit in 0usize..5, dose in 0.05..200.0f64,
+        liquid in 0usize..6, capacity in 0.5..500.0f64, seconds in 10.0..600.0f64,
+    ) {
+        let c = Catalog::builtin().unwrap();
+        let i = input(flow, UNITS[unit], dose, liquid, capacity);
+        let r = feed::feed(&c, &i).unwrap();
+        let pct = r.pump.as_ref().unwrap().percent;
+        // The column drains at the pump's output for that setting.
+        let ml_per_s = capacity * pct / 100.0 * 1000.0 / 3600.0;
+        let check = pumpcheck::pump_check(&c, &PumpCheckInput {
+            measurement: Measurement::Drawdown { ml: m(ml_per_s * seconds), seconds: m(seconds) },
+            flow: i.flow,
+            product: i.product.clone(),
+            strength: i.strength,
+            target_dose: m(dose),
+            current_setting_percent: None,
+            tolerance: Tolerance::default(),
+        }).unwrap();
+        prop_assert!((check.actual_dose_mg_l - dose).abs() <= 1e-9 * dose, "{} vs {}", check.actual_dose_mg_l, dose);
+        prop_assert!(check.deviation_percent.abs() < 1e-6);
+    }
+
+    /// More flow or more dose never means less chemical.
+    #[test]
+    fn feed_is_monotonic_in_flow_and_dose(
+        flow in 0.01..100.0f64, more in 1.0001..10.0f64, dose in 0.05..100.0f64, liquid in 0usize..6,
+    ) {
+        let c = Catalog::builtin().unwrap();
+        let base = feed::feed(&c, &input(flow, FlowUnit::Mgd, dose, liquid, 100.0)).unwrap();
+        let f2 = feed::feed(&c, &input(flow * more, FlowUnit::Mgd, dose, liquid, 100.0)).unwrap();
+        let d2 = feed::feed(&c, &input(flow, FlowUnit::Mgd, dose * more, liquid, 100.0)).unwrap();
+        for r in [&f2, &d2] {
+            prop_assert!(r.active_kg_per_day > base.active_kg_per_day);
+            prop_assert!(r.product_l_per_day.unwrap() > base.product_l_per_day.unwrap());
+            prop_assert!(r.pump.as_ref().unwrap().percent > base.pump.as_ref().unwrap().percent);
+        }
+        // Linear: doubling is exactly doubling.
+        prop_assert!((f2.active_kg_per_day / base.active_kg_per_day - more).abs() < 1e-9 * more);
+    }
+
+    /// The same flow in any unit gives the same feed.
+    #[test]
+    fn flow_units_round_trip(l_per_s in 0.01..5000.0f64, dose in 0.1..50.0f64) {
+        let c = Catalog::builtin().unwrap();
+        let gal = 3.785411784;
+        let values = [
+            l_per_s * 86_400.0 / gal / 1e6, // MGD
+            l_per_s * 60.0 / gal,           // gpm
+            l_per_s * 3.6,                  // m³/h
+            l_per_s * 86.4,                 // m³/d
+            l_per_s,                        // L/s
+        ];
+        let kg: Vec<f64> = values.iter().zip(UNITS).map(|(v, u)| {
+            feed::feed(&c, &input(*v, u, dose, 0, 100.0)).unwrap().active_kg_per_day
+        }).collect();
+        for k in &kg {
+            prop_assert!((k - kg[4]).abs() <= 1e-9 * kg[4]);
+        }
+        // And the lb/d from the pounds-formula chain equals the kg/d chain.
+        let r = feed::feed(&c, &input(values[0], FlowUnit::Mgd, dose, 0, 100.0)).unwrap();
+        prop_assert!((r.active_lb_per_day * 0.45359237 - r.active_kg_per_day).abs() <= 1e-9 * r.active_kg_per_day);
+    }
+
+    /// No input makes any calculator panic.
+    #[test]
+    fn no_panic_on_any_input(
+        a in num(), b in num(), cc in num(), d in num(), e in num(), liquid in 0usize..6, unit in 0usize..5,
+    ) {
+        let c = Catalog::builtin().unwrap();
+        let (product, _, basis, _) = LIQUIDS[liquid];
+        let s = Strength::new(m(cc), basis, Some(m(d)));
+        let _ = feed::feed(&c, &FeedInput {
+            flow: Flow::new(m(a), UNITS[unit]), dose: m(b), product: product.into(), strength: s,
+            pump: Some(PumpKind::Peristaltic { ml_per_rev: e, max_rpm: a }),
+            usable_range: UsableRange { min: b, max: e }, max_use_level_mg_l: Some(e),
+        });
+        let _ = pumpcheck::pump_check(&c, &PumpCheckInput {
+            measurement: Measurement::Catch { grams: m(a), seconds: m(e) },
+            flow: Flow::new(m(b), UNITS[unit]), product: product.into(), strength: s,
+            target_dose: m(cc), current_setting_percent: Some(d), tolerance: Tolerance { within_percent: a, check_pump_percent: b },
+        });
+        let _ = chlorine::chlorine_dose(&c, &ChlorineInput { demand: m(a), residual: m(b), ammonia_n: Some(m(cc)), residual_limit_mg_l: Some(d) });
+        let _ = chlorine::chloramination(&c, m(a), m(b));
+        let _ = chlorine::dechlorination(&c, m(a), "Na2S2O5");
+        let _ = chlorine::ct_free_chlorine(&CtInput { residual: m(a), ph: b, temperature_c: cc, contact: ContactTime::Basin { volume_l: d, baffling_factor: e, flow_l_per_min: a } });
+        let _ = coagulation::coagulation(&c, &CoagulationInput {
+            coagulant: Coagulant::Pacl { basicity_percent: a }, dose: m(b), raw_alkalinity: m(cc),
+            residual_alkalinity_setpoint: d, alkali: Alkali::SodaAsh, alkali_purity_percent: e,
+        });
+        let _ = feed::dilution(&c, &feed::DilutionInput {
+            product: product.into(), concentrate: s, target: Strength::new(m(e), basis, Some(m(a))), final_volume_l: b,
+        });
+        let _ = coagulation::sludge(&c, &coagulation::SludgeInput {
+            flow: Flow::new(m(a), UNITS[unit]), coagulant: Coagulant::FerricSulfate, dose: m(b),
+            suspended_solids_mg_l: cc, additives_mg_l: d,
+        });
+        let _ = pumpcheck::pump_check(&c, &PumpCheckInput {
+            measurement: Measurement::TankDrop {
+                shape: pumpcheck::TankShape::Rectangular { length: a, width: b },
+                drop: m(cc), unit: molefeed::engine::dosing::units::LengthUnit::In, minutes: m(d),
+            },
+            flow: Flow::new(m(e), UNITS[unit]), product: product.into(), strength: s,
+            target_dose: m(a), current_setting_percent: None, tolerance: Tolerance::default(),
+        });
+        let _ = softening::softening(&c, &SofteningInput {
+            co2: m(a), alkalinity: m(b), magnesium: m(cc), non_carbonate_hardness: m(d),
+            excess_lime_cao: e, lime_purity_percent: a, soda_ash_purity_percent: b,
+        });
+    }
+
+    /// Any text given as a site profile is an error or a valid profile, never a panic.
+    #[test]
+    fn site_profile_parsing_never_panics(text in ".{0,200}") {
+        let c = Catalog::builtin().unwrap();
+        let _ = SiteProfile::from_json(&text, &c);
+    }
+
+    /// CT log inactivation is proportional to contact time.
+    #[test]
+    fn log_inactivation_is_linear_in_time(t in 1.0..500.0f64, c in 0.2..4.0f64, ph in 6.0..9.0f64, temp in 0.5..25.0f64) {
+        let one = chlorine::ct_free_chlorine(&CtInput { residual: m(c), ph, temperature_c: temp, contact: ContactTime::T10Minutes(t) }).unwrap();
+        let two = chlorine::ct_free_chlorine(&CtInput { residual: m(c), ph, temperature_c: temp, contact: ContactTime::T10Minutes(2.0 * t) }).unwrap();
+        prop_assert!((two.giardia_log_inactivation - 2.0 * one.giardia_log_inactivation).abs() < 1e-9 * two.giardia_log_inactivation);
+        prop_assert!(one.ct_required_3log_mg_min_l > 0.0);
+    }
+}
+
+const FLAGS: [&str; 24] = [
+    "flow",
+    "flow-unit",
+    "dose",
+    "product",
+    "strength",
+    "strength-basis",
+    "sg",
+    "pump-capacity",
+    "pump-unit",
+    "residual",
+    "agent",
+    "demand",
+    "ammonia-n",
+    "ph",
+    "temperature",
+    "contact-minutes",
+    "drawdown-ml",
+    "seconds",
+    "target-dose",
+    "alkalinity",
+    "excess-lime",
+    "coagulant",
+    "volume",
+    "volume-unit",
+];
+const COMMANDS: [&str; 8] = [
+    "feed",
+    "chlorine",
+    "dechlor",
+    "ct",
+    "soften",
+    "pump-check",
+    "dilute",
+    "sludge",
+];
+const VALUES: [&str; 12] = [
+    "2.5",
+    "-1",
+    "0",
+    "1e308",
+    "NaN",
+    "mgd",
+    "trade",
+    "sodium-hypochlorite",
+    "NaHSO3",
+    "alum",
+    "gph",
+    "x",
+];
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(512))]
+
+    /// Any mix of dosing flags and values is a report or an error from the CLI, never a panic.
+    #[test]
+    fn cli_never_panics(cmd in 0usize..8, picks in proptest::collection::vec((0usize..24, 0usize..12), 0..10)) {
+        let mut words: Vec<String> = Vec::new();
+        for (f, v) in picks {
+            words.push(format!("--{}", FLAGS[f]));
+            words.push(VALUES[v].to_string());
+        }
+        if let Ok(args) = molefeed::cli::Args::parse(&words) {
+            let _ = molefeed::cli::dispatch(COMMANDS[cmd], &args);
+        }
+    }
+}

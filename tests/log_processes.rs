@@ -1,0 +1,446 @@
+//! The dose log across real processes: SIGKILL at random moments, a second process against
+//! the lock, and the `molefeed log` commands end to end (template, append, list, export,
+//! merge), with the CSV export read back by an independent CSV parser.
+
+use molefeed::log::{self, Draft, Log, Query, Status, export};
+use std::collections::HashSet;
+use std::io::{BufRead, BufReader, Write};
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output, Stdio};
+use std::time::{Duration, Instant};
+
+const BIN: &str = env!("CARGO_BIN_EXE_molefeed");
+
+/// A directory for one test; removed by [`remove`] when the test passed, kept for
+/// inspection when it failed.
+fn fresh_dir(name: &str) -> PathBuf {
+    let dir =
+        Path::new(env!("CARGO_TARGET_TMPDIR")).join(format!("log-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+fn remove(dir: &Path) {
+    let _ = std::fs::remove_dir_all(dir);
+}
+
+fn molefeed(args: &[&str], stdin: &str) -> Output {
+    let mut child = Command::new(BIN)
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    // A command that fails early (a lock error) exits without reading its input: the broken
+    // pipe is expected then, and the exit status and output below still decide the test.
+    let written = child.stdin.take().unwrap().write_all(stdin.as_bytes());
+    if let Err(e) = written {
+        assert_eq!(e.kind(), std::io::ErrorKind::BrokenPipe, "{e}");
+    }
+    child.wait_with_output().unwrap()
+}
+
+fn text(bytes: &[u8]) -> String {
+    String::from_utf8_lossy(bytes).into_owned()
+}
+
+/// xorshift64*: enough randomness for kill timing, reproducible from the printed seed.
+struct Timing(u64);
+
+impl Timing {
+    fn next_ms(&mut self, below: u64) -> u64 {
+        self.0 ^= self.0 >> 12;
+        self.0 ^= self.0 << 25;
+        self.0 ^= self.0 >> 27;
+        self.0.wrapping_mul(0x2545_F491_4F6C_DD1D) % below
+    }
+}
+
+#[test]
+fn sigkill_at_random_moments_never_loses_an_acknowledged_entry() {
+    let dir = fresh_dir("crash");
+    let path = dir.join("site.doselog");
+    let seed = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .unwrap()
+        .as_nanos() as u64
+        | 1;
+    println!("kill timing seed {seed}");
+    let mut timing = Timing(seed);
+    let mut acknowledged: Vec<uuid::Uuid> = Vec::new();
+    let started = Instant::now();
+    let rounds = 200;
+    let mut torn_tails = 0;
+    for round in 0..rounds {
+        // Every fourth child writes ~300 KB records, so some kills land inside a write.
+        let note_bytes = if round % 4 == 3 { "300000" } else { "0" };
+        let mut child = Command::new(BIN)
+            .args([
+                "log",
+                "soak",
+                "--file",
+                path.to_str().unwrap(),
+                "--device",
+                "crash",
+                "--note-bytes",
+                note_bytes,
+            ])
+            .stdout(Stdio::piped())
+            .stderr(Stdio::null())
+            .spawn()
+            .unwrap();
+        let stdout = child.stdout.take().unwrap();
+        let reader = std::thread::spawn(move || {
+            BufReader::new(stdout)
+                .lines()
+                .map_while(Result::ok)
+                .collect::<Vec<String>>()
+        });
+        std::thread::sleep(Duration::from_millis(1 + timing.next_ms(50)));
+        child.kill().unwrap(); // SIGKILL on Unix
+        child.wait().unwrap();
+        let printed = reader.join().unwrap();
+        let new_ids: Vec<uuid::Uuid> = printed
+            .iter()
+            .filter(|l| !l.is_empty())
+            .map(|l| {
+                l.parse()
+                    .unwrap_or_else(|_| panic!("round {round}: bad id line {l:?}"))
+            })
+            .collect();
+
+        let log = Log::open(&path, "checker")
+            .unwrap_or_else(|e| panic!("round {round} (seed {seed}): reopen failed: {e}"));
+        let recovery = log.recovery();
+        assert!(
+            recovery.damaged.is_empty() && recovery.unreadable.is_empty(),
+            "round {round} (seed {seed}): {:?}",
+            recovery.messages()
+        );
+        torn_tails += recovery.torn_tail.is_some() as usize;
+        for id in &new_ids {
+            match log.get(*id) {
+                Ok(Some(log::Record::Entry(e))) => {
+                    assert_eq!(e.site, "soak");
+                    assert!(e.dose.note.starts_with("soak "), "{}", e.dose.note);
+                }
+                other => panic!("round {round} (seed {seed}): acknowledged {id} is {other:?}"),
+            }
+        }
+        acknowledged.extend(new_ids);
+        assert!(log.record_count() >= acknowledged.len());
+    }
+    let log = Log::open(&path, "checker").unwrap();
+    assert!(log.recovery().is_clean(), "{:?}", log.recovery().messages());
+    let present: HashSet<uuid::Uuid> = log.current().unwrap().iter().map(|v| v.id).collect();
+    let missing: Vec<_> = acknowledged
+        .iter()
+        .filter(|id| !present.contains(id))
+        .collect();
+    assert!(missing.is_empty(), "seed {seed}: lost {missing:?}");
+    assert!(
+        acknowledged.len() > rounds,
+        "the children acknowledged too few entries ({}) for the test to mean anything",
+        acknowledged.len()
+    );
+    println!(
+        "{rounds} kills, {} acknowledged entries, {} records, {torn_tails} torn tails cut, {:?}",
+        acknowledged.len(),
+        log.record_count(),
+        started.elapsed()
+    );
+    remove(&dir);
+}
+
+#[test]
+fn a_second_process_gets_the_lock_error() {
+    let dir = fresh_dir("lock");
+    let path = dir.join("site.doselog");
+    let file = path.to_str().unwrap();
+    let mut holder = Command::new(BIN)
+        .args(["log", "soak", "--file", file, "--device", "first"])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let mut first_line = String::new();
+    BufReader::new(holder.stdout.as_mut().unwrap())
+        .read_line(&mut first_line)
+        .unwrap();
+    assert!(!first_line.trim().is_empty(), "the first process appended");
+
+    let template = molefeed(&["log", "template"], "");
+    let second = molefeed(
+        &[
+            "log", "append", "--file", file, "--device", "second", "--json",
+        ],
+        &text(&template.stdout),
+    );
+    holder.kill().unwrap();
+    holder.wait().unwrap();
+    assert_eq!(second.status.code(), Some(1));
+    assert!(
+        text(&second.stderr).contains("open in another copy of the app"),
+        "{}",
+        text(&second.stderr)
+    );
+    let reply: serde_json::Value = serde_json::from_slice(&second.stdout).unwrap();
+    assert_eq!(reply["error"]["kind"], "locked");
+    remove(&dir);
+}
+
+#[test]
+fn template_append_list_round_trip() {
+    let dir = fresh_dir("append");
+    let path = dir.join("site.doselog");
+    let file = path.to_str().unwrap();
+    let template = molefeed(&["log", "template"], "");
+    assert!(template.status.success());
+    let appended = molefeed(&["log", "append", "--file", file], &text(&template.stdout));
+    assert!(appended.status.success(), "{}", text(&appended.stderr));
+    let id = text(&appended.stdout).trim().to_string();
+    let id: uuid::Uuid = id.parse().unwrap();
+    assert_eq!(id.get_version_num(), 7);
+
+    let bad = molefeed(&["log", "append", "--file", file], "{\"type\":\"entry\"}");
+    assert_eq!(bad.status.code(), Some(1));
+    assert!(
+        text(&bad.stderr).contains("not valid"),
+        "{}",
+        text(&bad.stderr)
+    );
+
+    let listed = molefeed(&["log", "list", "--file", file, "--json"], "");
+    assert!(listed.status.success(), "{}", text(&listed.stderr));
+    let reply: serde_json::Value = serde_json::from_slice(&listed.stdout).unwrap();
+    let entries = reply["entries"].as_array().unwrap();
+    assert_eq!(entries.len(), 1);
+    assert_eq!(entries[0]["id"], id.to_string());
+    assert_eq!(entries[0]["dose"]["pump_setting_percent"], 42.5);
+    assert_eq!(reply["recovery"]["clean"], true);
+
+    let correction = serde_json::json!({
+        "type": "correction",
+        "corrects": id,
+        "reason": "pump was set to 40 %",
+        "dose": {
+            "operator": "AB", "tap": "Clearwell inlet", "chemical": "sodium hypochlorite",
+            "product": "NaOCl 12.5 % (w/w)", "flow_m3_per_h": 420.0, "dose_mg_per_l": 1.8,
+            "feed_rate_l_per_h": 5.04, "pump_setting_percent": 40.0
+        }
+    });
+    let corrected = molefeed(&["log", "append", "--file", file], &correction.to_string());
+    assert!(corrected.status.success(), "{}", text(&corrected.stderr));
+    let listed = molefeed(&["log", "list", "--file", file, "--json"], "");
+    let reply: serde_json::Value = serde_json::from_slice(&listed.stdout).unwrap();
+    assert_eq!(reply["entries"][0]["status"], "corrected");
+    assert_eq!(reply["entries"][0]["dose"]["pump_setting_percent"], 40.0);
+    let history = molefeed(
+        &[
+            "log",
+            "history",
+            "--file",
+            file,
+            "--id",
+            &id.to_string(),
+            "--json",
+        ],
+        "",
+    );
+    let reply: serde_json::Value = serde_json::from_slice(&history.stdout).unwrap();
+    let records = reply["history"].as_array().unwrap();
+    assert_eq!(records.len(), 2);
+    assert_eq!(records[0]["type"], "entry");
+    assert_eq!(
+        records[0]["dose"]["pump_setting_percent"], 42.5,
+        "the original is unchanged"
+    );
+    assert_eq!(records[1]["type"], "correction");
+    assert_eq!(records[1]["reason"], "pump was set to 40 %");
+
+    let missing = dir.join("missing.doselog");
+    let absent = molefeed(&["log", "list", "--file", missing.to_str().unwrap()], "");
+    assert_eq!(absent.status.code(), Some(1));
+    assert!(text(&absent.stderr).contains("no log file at"));
+    assert!(!missing.exists(), "listing must not create a log");
+
+    let typo = molefeed(&["log", "list", "--file", file, "--form", "2026-01-01"], "");
+    assert_eq!(typo.status.code(), Some(2), "a mistyped flag must fail");
+    remove(&dir);
+}
+
+fn draft(note: &str, at: &str, tap: &str) -> Draft {
+    let mut dose = log::record::example_dose();
+    dose.note = note.into();
+    dose.tap = tap.into();
+    dose.flow_m3_per_h = 1234.5;
+    dose.dose_mg_per_l = 0.1 + 0.2;
+    Draft::Entry {
+        at: Some(chrono::DateTime::parse_from_rfc3339(at).unwrap()),
+        site: "Riverside, \"north\" works".into(),
+        dose,
+    }
+}
+
+#[test]
+fn csv_export_round_trips_through_a_csv_parser() {
+    let dir = fresh_dir("csv");
+    let path = dir.join("site.doselog");
+    let notes = [
+        "plain",
+        "comma, inside",
+        "quote \" inside and \"\" doubled",
+        "two\nlines\r\nand CRLF",
+        " leading and trailing spaces ",
+        "",
+    ];
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    let mut ids = Vec::new();
+    for (n, note) in notes.iter().enumerate() {
+        let at = format!("2026-03-{:02}T09:00:00+02:00", n + 1);
+        ids.push(log.append(draft(note, &at, "tap, \"A\"")).unwrap());
+    }
+    log.append(draft("april", "2026-04-01T09:00:00+02:00", "B"))
+        .unwrap();
+    log.append(Draft::Void {
+        at: None,
+        operator: "JM".into(),
+        voids: ids[5],
+        reason: "test void".into(),
+    })
+    .unwrap();
+    let mut corrected = log::record::example_dose();
+    corrected.note = "plain, corrected".into();
+    corrected.tap = "tap, \"A\"".into();
+    corrected.flow_m3_per_h = 1234.5;
+    corrected.dose_mg_per_l = 0.1 + 0.2;
+    let correction = log
+        .append(Draft::Correction {
+            at: None,
+            corrects: ids[0],
+            reason: "typo, \"fixed\"".into(),
+            dose: corrected,
+        })
+        .unwrap();
+    drop(log);
+    let mut notes = notes.map(String::from);
+    notes[0] = "plain, corrected".into();
+
+    let out = molefeed(
+        &[
+            "log",
+            "export",
+            "--file",
+            path.to_str().unwrap(),
+            "--format",
+            "csv",
+            "--from",
+            "2026-03-01",
+            "--to",
+            "2026-03-31",
+        ],
+        "",
+    );
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let mut reader = csv::Reader::from_reader(out.stdout.as_slice());
+    let header: Vec<String> = reader.headers().unwrap().iter().map(String::from).collect();
+    assert_eq!(header, export::CSV_COLUMNS);
+    let rows: Vec<csv::StringRecord> = reader.records().map(Result::unwrap).collect();
+    assert_eq!(rows.len(), 5, "March only, voided entry left out");
+    let column = |name: &str| export::CSV_COLUMNS.iter().position(|c| *c == name).unwrap();
+    for (row, (note, id)) in rows.iter().zip(notes.iter().zip(&ids)) {
+        assert_eq!(row.len(), export::CSV_COLUMNS.len());
+        assert_eq!(&row[column("id")], id.to_string());
+        assert_eq!(&row[column("note")], note.as_str());
+        assert_eq!(&row[column("site")], "Riverside, \"north\" works");
+        assert_eq!(&row[column("tap")], "tap, \"A\"");
+        assert_eq!(&row[column("flow_m3_per_h")], "1234.5");
+        assert_eq!(
+            row[column("dose_mg_per_L")].parse::<f64>().unwrap(),
+            0.1 + 0.2
+        );
+        assert!(row[column("trace")].contains('\n'));
+        let logged = chrono::DateTime::parse_from_rfc3339(&row[column("logged_at")]).unwrap();
+        assert_eq!(logged.offset().local_minus_utc(), 2 * 3600);
+        assert_eq!(logged.format("%H:%M").to_string(), "09:00");
+    }
+    assert_eq!(&rows[0][column("status")], "corrected");
+    assert_eq!(&rows[0][column("revisions")], "1");
+    assert_eq!(&rows[0][column("last_change_id")], correction.to_string());
+    assert_eq!(&rows[0][column("last_change_reason")], "typo, \"fixed\"");
+    assert_eq!(&rows[1][column("status")], "original");
+    assert_eq!(&rows[1][column("last_change_reason")], "");
+
+    let jsonl = molefeed(
+        &[
+            "log",
+            "export",
+            "--file",
+            path.to_str().unwrap(),
+            "--format",
+            "jsonl",
+        ],
+        "",
+    );
+    let lines: Vec<serde_json::Value> = text(&jsonl.stdout)
+        .lines()
+        .map(|l| serde_json::from_str(l).unwrap())
+        .collect();
+    assert_eq!(lines.len(), 6);
+    assert_eq!(lines[5]["dose"]["note"], "april");
+
+    // The library export with voided entries included marks the void.
+    let log = Log::open(&path, "tab-1").unwrap();
+    let views = log
+        .query(&Query {
+            include_voided: true,
+            ..Query::default()
+        })
+        .unwrap();
+    assert_eq!(views[5].status, Status::Voided);
+    remove(&dir);
+}
+
+#[test]
+fn merge_through_the_cli_is_idempotent() {
+    let dir = fresh_dir("merge");
+    let (a, b) = (dir.join("a.doselog"), dir.join("b.doselog"));
+    let mut log_b = Log::open(&b, "tab-b").unwrap();
+    for n in 0..3 {
+        log_b
+            .append(draft(&format!("b{n}"), "2026-03-02T10:00:00+00:00", "T"))
+            .unwrap();
+    }
+    drop(log_b);
+    Log::open(&a, "tab-a")
+        .unwrap()
+        .append(draft("a0", "2026-03-01T10:00:00+00:00", "T"))
+        .unwrap();
+    let merge = |json: bool| {
+        let mut args = vec![
+            "log",
+            "merge",
+            "--file",
+            a.to_str().unwrap(),
+            "--from",
+            b.to_str().unwrap(),
+        ];
+        if json {
+            args.push("--json");
+        }
+        molefeed(&args, "")
+    };
+    let first = merge(false);
+    assert!(first.status.success(), "{}", text(&first.stderr));
+    assert!(text(&first.stdout).starts_with("added 3, already present 0, conflicting 0"));
+    let second = merge(true);
+    let reply: serde_json::Value = serde_json::from_slice(&second.stdout).unwrap();
+    assert_eq!(reply["added"], 0);
+    assert_eq!(reply["already_present"], 3);
+    assert_eq!(reply["conflicting"].as_array().unwrap().len(), 0);
+    let log = Log::open(&a, "tab-a").unwrap();
+    assert_eq!(log.record_count(), 4);
+    remove(&dir);
+}
