@@ -68,8 +68,6 @@ pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
             f("flow", Q::Flow),
             f("chlorine-demand", Q::Concentration),
             f("residual-target", Q::Concentration),
-            f("ph", Q::Ph),
-            f("temperature", Q::Temperature),
         ],
         (CalcKind::Coagulation, _) => vec![
             f("flow", Q::Flow),
@@ -86,12 +84,18 @@ pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
             f("ph", Q::Ph),
             f("temperature", Q::Temperature),
         ],
-        (CalcKind::PumpCheck, _) => vec![
-            f("flow", Q::Flow),
-            f("drawdown-volume", Q::Millilitres),
-            f("drawdown-time", Q::Seconds),
-            f("pump-setting", Q::Percent),
-        ],
+        (CalcKind::PumpCheck, _) => {
+            // A drawdown test needs no pump capacity: the product fields without it.
+            return vec![
+                f("flow", Q::Flow),
+                f("dose", Q::Concentration),
+                f("drawdown-volume", Q::Millilitres),
+                f("drawdown-time", Q::Seconds),
+                f("pump-setting", Q::Percent),
+                PRODUCT[0],
+                PRODUCT[1],
+            ];
+        }
         (CalcKind::FeedSetting, _) => vec![f("flow", Q::Flow), f("dose", Q::Concentration)],
     };
     v.extend(PRODUCT);

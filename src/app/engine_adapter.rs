@@ -8,10 +8,13 @@
 //! because the results card shows the advisory note permanently.
 
 use super::seams::{
-    CalcEngine, CalcKind, CalcOutcome, CalcRequest, Caution, CautionLevel, ProductChoice, SeamError,
+    CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, CautionLevel, ProductChoice,
+    SeamError,
 };
 use crate::engine::dosing::catalog::{Catalog, Form, Strength, StrengthBasis};
-use crate::engine::dosing::feed::{FeedInput, PumpKind, UsableRange, feed};
+use crate::engine::dosing::chlorine::{ChlorineInput, chlorine_dose};
+use crate::engine::dosing::feed::{FeedInput, FeedResult, PumpKind, UsableRange, feed};
+use crate::engine::dosing::pumpcheck::{Measurement, PumpCheckInput, Tolerance, pump_check};
 use crate::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
 use crate::engine::dosing::{self, Severity};
 use crate::engine::sigfig::Measured;
@@ -29,12 +32,14 @@ impl DosingEngine {
         })
     }
 
-    /// Liquid products with a typical strength: what a metering pump feeds.
-    fn solution_products(&self) -> Vec<ProductChoice> {
+    /// Liquid products with a typical strength (what a metering pump feeds), optionally only
+    /// those whose dose is expressed as `dose_as`.
+    fn solution_products(&self, dose_as: Option<&str>) -> Vec<ProductChoice> {
         self.catalog
             .products
             .iter()
             .filter(|p| p.form == Form::Solution && !p.strengths.is_empty())
+            .filter(|p| dose_as.is_none_or(|d| p.dose_as == d))
             .map(|p| ProductChoice {
                 id: p.id.clone(),
                 name_key: p.name_key.clone(),
@@ -42,13 +47,8 @@ impl DosingEngine {
             .collect()
     }
 
-    fn feed_setting(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
-        let value = |name: &str| {
-            request.get(name).ok_or_else(|| {
-                Error::new(ErrorKind::InvalidInput, format!("{name} is missing"))
-                    .with("quantity", name.to_string())
-            })
-        };
+    /// The chosen product's id and its strength as typed, on the product's usual basis.
+    fn product_strength(&self, request: &CalcRequest) -> Result<(String, Strength), Error> {
         let product_id = request
             .product
             .clone()
@@ -58,35 +58,130 @@ impl DosingEngine {
             .strengths
             .first()
             .map_or(StrengthBasis::Weight, |s| s.basis);
+        let strength = Strength::new(
+            Measured::exact(value(request, "strength")?),
+            basis,
+            Some(Measured::exact(value(request, "specific-gravity")?)),
+        );
+        Ok((product_id, strength))
+    }
+
+    fn feed_for(&self, request: &CalcRequest, dose: f64) -> Result<FeedResult, Error> {
+        let (product, strength) = self.product_strength(request)?;
         let input = FeedInput {
-            flow: Flow::new(Measured::exact(value("flow")?), FlowUnit::M3d),
-            dose: Measured::exact(value("dose")?),
-            product: product_id.clone(),
-            strength: Strength::new(
-                Measured::exact(value("strength")?),
-                basis,
-                Some(Measured::exact(value("specific-gravity")?)),
-            ),
+            flow: Flow::new(Measured::exact(value(request, "flow")?), FlowUnit::M3d),
+            dose: Measured::exact(dose),
+            product,
+            strength,
             pump: Some(PumpKind::Metering {
-                capacity: value("pump-capacity")?,
+                capacity: value(request, "pump-capacity")?,
                 unit: VolumeRateUnit::Lph,
             }),
             usable_range: UsableRange::default(),
             max_use_level_mg_l: None,
         };
-        let r = feed(&self.catalog, &input)?;
+        feed(&self.catalog, &input)
+    }
+
+    fn name_key(&self, request: &CalcRequest) -> String {
+        request
+            .product
+            .as_deref()
+            .and_then(|id| self.catalog.product(id).ok())
+            .map_or_else(String::new, |p| p.name_key.clone())
+    }
+
+    fn feed_setting(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        let r = self.feed_for(request, value(request, "dose")?)?;
+        Ok(outcome_of_feed(
+            self.name_key(request),
+            &r,
+            Vec::new(),
+            Vec::new(),
+        ))
+    }
+
+    /// Free chlorine: the dose from demand + residual (engine), then the product feed for it.
+    fn free_chlorine(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        let c = chlorine_dose(
+            &self.catalog,
+            &ChlorineInput {
+                demand: Measured::exact(value(request, "chlorine-demand")?),
+                residual: Measured::exact(value(request, "residual-target")?),
+                ammonia_n: None,
+                residual_limit_mg_l: None,
+            },
+        )?;
+        let r = self.feed_for(request, c.dose_mg_l)?;
+        Ok(outcome_of_feed(
+            self.name_key(request),
+            &r,
+            c.traces,
+            c.cautions,
+        ))
+    }
+
+    /// Pump cross-check: the dose a drawdown actually delivers, and the setting to reach the
+    /// target. "Dose" shows the measured (actual) dose; "pump setting" the suggested one.
+    fn pump_check(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        let (product, strength) = self.product_strength(request)?;
+        let r = pump_check(
+            &self.catalog,
+            &PumpCheckInput {
+                measurement: Measurement::Drawdown {
+                    ml: Measured::exact(value(request, "drawdown-volume")?),
+                    seconds: Measured::exact(value(request, "drawdown-time")?),
+                },
+                flow: Flow::new(Measured::exact(value(request, "flow")?), FlowUnit::M3d),
+                product,
+                strength,
+                target_dose: Measured::exact(value(request, "dose")?),
+                current_setting_percent: Some(value(request, "pump-setting")?),
+                tolerance: Tolerance::default(),
+            },
+        )?;
         Ok(CalcOutcome {
-            chemical: product.name_key.clone(),
-            dose_mg_per_l: Some(r.dose_mg_l),
+            chemical: self.name_key(request),
+            dose_mg_per_l: Some(r.actual_dose_mg_l),
             feed_kg_per_day: Some(r.active_kg_per_day),
-            product_l_per_hour: r.product_l_per_h,
-            pump_setting_percent: r.pump.as_ref().map(|p| p.percent),
+            product_l_per_hour: Some(r.product_l_per_day / 24.0),
+            pump_setting_percent: r.suggested_setting_percent,
             trace: dosing::show_work(&r.traces)
                 .lines()
                 .map(str::to_string)
                 .collect(),
             cautions: cautions(&r.cautions),
         })
+    }
+}
+
+fn value(request: &CalcRequest, name: &str) -> Result<f64, Error> {
+    request.get(name).ok_or_else(|| {
+        Error::new(ErrorKind::InvalidInput, format!("{name} is missing"))
+            .with("quantity", name.to_string())
+    })
+}
+
+/// A feed result as the card shows it, after the steps (if any) that led to its dose.
+fn outcome_of_feed(
+    chemical: String,
+    r: &FeedResult,
+    mut traces: Vec<dosing::NamedTrace>,
+    mut before: Vec<dosing::Caution>,
+) -> CalcOutcome {
+    traces.extend(r.traces.iter().cloned());
+    before.extend(r.cautions.iter().cloned());
+    CalcOutcome {
+        chemical,
+        dose_mg_per_l: Some(r.dose_mg_l),
+        feed_kg_per_day: Some(r.active_kg_per_day),
+        product_l_per_hour: r.product_l_per_h,
+        pump_setting_percent: r.pump.as_ref().map(|p| p.percent),
+        trace: dosing::show_work(&traces)
+            .lines()
+            .map(str::to_string)
+            .collect(),
+        cautions: cautions(&dosing::caution::finish(before)),
     }
 }
 
@@ -116,14 +211,17 @@ fn cautions(list: &[dosing::Caution]) -> Vec<Caution> {
 impl CalcEngine for DosingEngine {
     fn products(&self, kind: CalcKind) -> Vec<ProductChoice> {
         match kind {
-            CalcKind::FeedSetting => self.solution_products(),
+            CalcKind::FeedSetting | CalcKind::PumpCheck => self.solution_products(None),
+            CalcKind::Chlorination => self.solution_products(Some("Cl2")),
             _ => Vec::new(),
         }
     }
 
     fn compute(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
-        match request.kind {
-            CalcKind::FeedSetting => self.feed_setting(request),
+        match (request.kind, request.mode) {
+            (CalcKind::FeedSetting, _) => self.feed_setting(request),
+            (CalcKind::Chlorination, CalcMode::FreeChlorine) => self.free_chlorine(request),
+            (CalcKind::PumpCheck, _) => self.pump_check(request),
             _ => Err(SeamError::NotConnected),
         }
     }
@@ -198,6 +296,75 @@ mod tests {
                 .any(|c| c.code == "advisory-operator-decides")
         );
         assert!(out.cautions.iter().any(|c| c.level == CautionLevel::Danger));
+    }
+
+    #[test]
+    fn free_chlorine_dose_comes_from_the_chlorine_engine() {
+        let engine = DosingEngine::new().unwrap();
+        let mut request = feed_request("sodium-hypochlorite", 0.0);
+        request.kind = CalcKind::Chlorination;
+        request.mode = CalcMode::FreeChlorine;
+        request.values.remove("dose");
+        request.values.insert("chlorine-demand", 1.4);
+        request.values.insert("residual-target", 1.0);
+        assert!(
+            engine
+                .products(CalcKind::Chlorination)
+                .iter()
+                .all(|p| engine.catalog.product(&p.id).unwrap().dose_as == "Cl2")
+        );
+        let out = engine.compute(&request).expect("a result");
+        let direct = chlorine_dose(
+            &engine.catalog,
+            &ChlorineInput {
+                demand: Measured::exact(1.4),
+                residual: Measured::exact(1.0),
+                ammonia_n: None,
+                residual_limit_mg_l: None,
+            },
+        )
+        .unwrap();
+        assert_eq!(out.dose_mg_per_l, Some(direct.dose_mg_l));
+        let fed = engine.feed_for(&request, direct.dose_mg_l).unwrap();
+        assert_eq!(out.feed_kg_per_day, Some(fed.active_kg_per_day));
+        request.mode = CalcMode::Chloramine;
+        assert_eq!(engine.compute(&request), Err(SeamError::NotConnected));
+    }
+
+    #[test]
+    fn pump_check_reports_the_measured_dose() {
+        let engine = DosingEngine::new().unwrap();
+        let mut request = feed_request("sodium-hypochlorite", 2.5);
+        request.kind = CalcKind::PumpCheck;
+        request.values.remove("pump-capacity");
+        request.values.insert("drawdown-volume", 250.0);
+        request.values.insert("drawdown-time", 60.0);
+        request.values.insert("pump-setting", 40.0);
+        let out = engine.compute(&request).expect("a result");
+        let (product, strength) = engine.product_strength(&request).unwrap();
+        let direct = pump_check(
+            &engine.catalog,
+            &PumpCheckInput {
+                measurement: Measurement::Drawdown {
+                    ml: Measured::exact(250.0),
+                    seconds: Measured::exact(60.0),
+                },
+                flow: Flow::new(Measured::exact(9084.99), FlowUnit::M3d),
+                product,
+                strength,
+                target_dose: Measured::exact(2.5),
+                current_setting_percent: Some(40.0),
+                tolerance: Tolerance::default(),
+            },
+        )
+        .unwrap();
+        assert_eq!(out.dose_mg_per_l, Some(direct.actual_dose_mg_l));
+        assert_eq!(out.pump_setting_percent, direct.suggested_setting_percent);
+        assert!(
+            out.cautions
+                .iter()
+                .any(|c| c.code.starts_with("pump-check-"))
+        );
     }
 
     #[test]

@@ -114,6 +114,12 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "sg-from-density-table",
     "add-chemical-to-water",
     "zero-dose",
+    "pump-check-within-tolerance",
+    "pump-check-adjust",
+    "pump-check-inspect",
+    "breakpoint-practice-range",
+    "residual-above-limit",
+    "ph-alkalinity-effect-from-water-engine",
 ];
 
 /// Keys built from codes at run time.
