@@ -53,17 +53,12 @@ pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
         ],
         (CalcKind::Chlorination, CalcMode::Chloramine) => vec![
             f("flow", Q::Flow),
-            f("residual-target", Q::Concentration),
-            f("ammonia-n", Q::Concentration),
+            f("chlorine-dose", Q::Concentration),
             f("cl2-n-ratio", Q::Ratio),
-            f("ph", Q::Ph),
-            f("temperature", Q::Temperature),
         ],
-        (CalcKind::Chlorination, CalcMode::Dechlorination) => vec![
-            f("flow", Q::Flow),
-            f("residual-in", Q::Concentration),
-            f("residual-out", Q::Concentration),
-        ],
+        (CalcKind::Chlorination, CalcMode::Dechlorination) => {
+            vec![f("flow", Q::Flow), f("residual-in", Q::Concentration)]
+        }
         (CalcKind::Chlorination, _) => vec![
             f("flow", Q::Flow),
             f("chlorine-demand", Q::Concentration),
@@ -191,7 +186,7 @@ pub struct CalcController {
     lang: Lang,
     system: UnitSystem,
     texts: HashMap<&'static str, String>,
-    products: HashMap<CalcKind, String>,
+    products: HashMap<(CalcKind, CalcMode), String>,
 }
 
 impl CalcController {
@@ -234,15 +229,15 @@ impl CalcController {
 
     /// Chooses the product by its index in the engine's list for this calculator.
     pub fn set_product(&mut self, index: usize) {
-        if let Some(p) = self.engine.products(self.kind).get(index) {
-            self.products.insert(self.kind, p.id.clone());
+        if let Some(p) = self.engine.products(self.kind, self.mode).get(index) {
+            self.products.insert((self.kind, self.mode), p.id.clone());
         }
     }
 
     /// The chosen product (the first offered when none was chosen) and its index.
     fn product(&self) -> (Vec<ProductChoice>, usize, Option<String>) {
-        let list = self.engine.products(self.kind);
-        let chosen = self.products.get(&self.kind);
+        let list = self.engine.products(self.kind, self.mode);
+        let chosen = self.products.get(&(self.kind, self.mode));
         let index = chosen
             .and_then(|id| list.iter().position(|p| &p.id == id))
             .unwrap_or(0);
@@ -411,7 +406,7 @@ mod tests {
     }
 
     impl CalcEngine for Recorder {
-        fn products(&self, kind: CalcKind) -> Vec<ProductChoice> {
+        fn products(&self, kind: CalcKind, _mode: CalcMode) -> Vec<ProductChoice> {
             if kind != CalcKind::FeedSetting {
                 return Vec::new();
             }

@@ -12,7 +12,9 @@ use super::seams::{
     SeamError,
 };
 use crate::engine::dosing::catalog::{Catalog, Form, Strength, StrengthBasis};
-use crate::engine::dosing::chlorine::{ChlorineInput, chlorine_dose};
+use crate::engine::dosing::chlorine::{
+    ChlorineInput, chloramination, chlorine_dose, dechlorination,
+};
 use crate::engine::dosing::feed::{FeedInput, FeedResult, PumpKind, UsableRange, feed};
 use crate::engine::dosing::pumpcheck::{Measurement, PumpCheckInput, Tolerance, pump_check};
 use crate::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
@@ -34,12 +36,12 @@ impl DosingEngine {
 
     /// Liquid products with a typical strength (what a metering pump feeds), optionally only
     /// those whose dose is expressed as `dose_as`.
-    fn solution_products(&self, dose_as: Option<&str>) -> Vec<ProductChoice> {
+    fn solution_products(&self, dose_as: Option<&[&str]>) -> Vec<ProductChoice> {
         self.catalog
             .products
             .iter()
             .filter(|p| p.form == Form::Solution && !p.strengths.is_empty())
-            .filter(|p| dose_as.is_none_or(|d| p.dose_as == d))
+            .filter(|p| dose_as.is_none_or(|d| d.contains(&p.dose_as.as_str())))
             .map(|p| ProductChoice {
                 id: p.id.clone(),
                 name_key: p.name_key.clone(),
@@ -118,6 +120,44 @@ impl DosingEngine {
             &r,
             c.traces,
             c.cautions,
+        ))
+    }
+
+    /// Chloramination: the ammonia (as N) for the chlorine dose and ratio (engine), then the
+    /// ammonia product's feed for it.
+    fn chloramine(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        let c = chloramination(
+            &self.catalog,
+            Measured::exact(value(request, "chlorine-dose")?),
+            Measured::exact(value(request, "cl2-n-ratio")?),
+        )?;
+        let r = self.feed_for(request, c.ammonia_n_mg_l)?;
+        Ok(outcome_of_feed(
+            self.name_key(request),
+            &r,
+            c.traces,
+            c.cautions,
+        ))
+    }
+
+    /// Dechlorination: the stoichiometric agent dose for the residual (engine), then the
+    /// agent product's feed for it.
+    fn dechlorination(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        let agent = request
+            .product
+            .clone()
+            .ok_or_else(|| Error::new(ErrorKind::UnknownChemical, "no agent chosen"))?;
+        let d = dechlorination(
+            &self.catalog,
+            Measured::exact(value(request, "residual-in")?),
+            &agent,
+        )?;
+        let r = self.feed_for(request, d.agent_mg_l)?;
+        Ok(outcome_of_feed(
+            self.name_key(request),
+            &r,
+            d.traces,
+            d.cautions,
         ))
     }
 
@@ -209,10 +249,16 @@ fn cautions(list: &[dosing::Caution]) -> Vec<Caution> {
 }
 
 impl CalcEngine for DosingEngine {
-    fn products(&self, kind: CalcKind) -> Vec<ProductChoice> {
-        match kind {
-            CalcKind::FeedSetting | CalcKind::PumpCheck => self.solution_products(None),
-            CalcKind::Chlorination => self.solution_products(Some("Cl2")),
+    fn products(&self, kind: CalcKind, mode: CalcMode) -> Vec<ProductChoice> {
+        match (kind, mode) {
+            (CalcKind::FeedSetting | CalcKind::PumpCheck, _) => self.solution_products(None),
+            (CalcKind::Chlorination, CalcMode::FreeChlorine) => {
+                self.solution_products(Some(&["Cl2"]))
+            }
+            (CalcKind::Chlorination, CalcMode::Chloramine) => self.solution_products(Some(&["N"])),
+            (CalcKind::Chlorination, CalcMode::Dechlorination) => self.solution_products(Some(&[
+                "SO2", "NaHSO3", "Na2S2O5", "Na2SO3", "Na2S2O3", "C6H8O6",
+            ])),
             _ => Vec::new(),
         }
     }
@@ -221,6 +267,8 @@ impl CalcEngine for DosingEngine {
         match (request.kind, request.mode) {
             (CalcKind::FeedSetting, _) => self.feed_setting(request),
             (CalcKind::Chlorination, CalcMode::FreeChlorine) => self.free_chlorine(request),
+            (CalcKind::Chlorination, CalcMode::Chloramine) => self.chloramine(request),
+            (CalcKind::Chlorination, CalcMode::Dechlorination) => self.dechlorination(request),
             (CalcKind::PumpCheck, _) => self.pump_check(request),
             _ => Err(SeamError::NotConnected),
         }
@@ -251,9 +299,13 @@ mod tests {
     #[test]
     fn feed_setting_is_the_engines_feed_result() {
         let engine = DosingEngine::new().expect("built-in catalog");
-        let products = engine.products(CalcKind::FeedSetting);
+        let products = engine.products(CalcKind::FeedSetting, CalcMode::Standard);
         assert!(products.iter().any(|p| p.id == "sodium-hypochlorite"));
-        assert!(engine.products(CalcKind::Softening).is_empty());
+        assert!(
+            engine
+                .products(CalcKind::Softening, CalcMode::Standard)
+                .is_empty()
+        );
 
         let out = engine
             .compute(&feed_request("sodium-hypochlorite", 2.5))
@@ -309,7 +361,7 @@ mod tests {
         request.values.insert("residual-target", 1.0);
         assert!(
             engine
-                .products(CalcKind::Chlorination)
+                .products(CalcKind::Chlorination, CalcMode::FreeChlorine)
                 .iter()
                 .all(|p| engine.catalog.product(&p.id).unwrap().dose_as == "Cl2")
         );
@@ -327,8 +379,48 @@ mod tests {
         assert_eq!(out.dose_mg_per_l, Some(direct.dose_mg_l));
         let fed = engine.feed_for(&request, direct.dose_mg_l).unwrap();
         assert_eq!(out.feed_kg_per_day, Some(fed.active_kg_per_day));
-        request.mode = CalcMode::Chloramine;
+        request.kind = CalcKind::Softening;
+        request.mode = CalcMode::Standard;
         assert_eq!(engine.compute(&request), Err(SeamError::NotConnected));
+    }
+
+    #[test]
+    fn chloramine_and_dechlorination_doses_come_from_the_engine() {
+        let engine = DosingEngine::new().unwrap();
+        let ammonia = engine.products(CalcKind::Chlorination, CalcMode::Chloramine);
+        assert!(
+            ammonia.iter().any(|p| p.id == "aqua-ammonia"),
+            "{ammonia:?}"
+        );
+        let mut request = feed_request("aqua-ammonia", 0.0);
+        request.kind = CalcKind::Chlorination;
+        request.mode = CalcMode::Chloramine;
+        request.values.remove("dose");
+        request.values.insert("chlorine-dose", 4.0);
+        request.values.insert("cl2-n-ratio", 4.5);
+        request.values.insert("strength", 19.0);
+        request.values.insert("specific-gravity", 0.93);
+        let out = engine.compute(&request).expect("chloramine result");
+        let direct =
+            chloramination(&engine.catalog, Measured::exact(4.0), Measured::exact(4.5)).unwrap();
+        assert_eq!(out.dose_mg_per_l, Some(direct.ammonia_n_mg_l));
+
+        let agents = engine.products(CalcKind::Chlorination, CalcMode::Dechlorination);
+        assert!(
+            agents.iter().any(|p| p.id == "sodium-bisulfite"),
+            "{agents:?}"
+        );
+        let mut request = feed_request("sodium-bisulfite", 0.0);
+        request.kind = CalcKind::Chlorination;
+        request.mode = CalcMode::Dechlorination;
+        request.values.remove("dose");
+        request.values.insert("residual-in", 2.0);
+        request.values.insert("strength", 38.0);
+        request.values.insert("specific-gravity", 1.36);
+        let out = engine.compute(&request).expect("dechlorination result");
+        let direct =
+            dechlorination(&engine.catalog, Measured::exact(2.0), "sodium-bisulfite").unwrap();
+        assert_eq!(out.dose_mg_per_l, Some(direct.agent_mg_l));
     }
 
     #[test]

@@ -183,8 +183,8 @@ impl From<engine::Error> for SeamError {
 
 /// The calculators' entry point. One method per screen need; each defaults to "not connected".
 pub trait CalcEngine {
-    /// The products calculator `kind` lets the operator choose from (none: no choice shown).
-    fn products(&self, _kind: CalcKind) -> Vec<ProductChoice> {
+    /// The products calculator `kind` in `mode` offers (none: no choice shown).
+    fn products(&self, _kind: CalcKind, _mode: CalcMode) -> Vec<ProductChoice> {
         Vec::new()
     }
 
