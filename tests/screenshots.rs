@@ -88,6 +88,10 @@ fn seeded_log() -> Box<dyn DoseLog> {
             dose_mg_per_l: dose,
             feed_kg_per_day: None,
             pump_setting_percent: None,
+            flow_m3_per_day: None,
+            product_l_per_hour: None,
+            trace: Vec::new(),
+            cautions: Vec::new(),
             note: String::new(),
         })
         .expect("seed entry");

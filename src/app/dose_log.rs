@@ -20,6 +20,17 @@ pub struct NewEntry {
     pub dose_mg_per_l: f64,
     pub feed_kg_per_day: Option<f64>,
     pub pump_setting_percent: Option<f64>,
+    /// Plant flow when the dose was computed, m³/d (the persistent log wants m³/h).
+    #[serde(default)]
+    pub flow_m3_per_day: Option<f64>,
+    /// Product volume rate, L/h.
+    #[serde(default)]
+    pub product_l_per_hour: Option<f64>,
+    /// "Show the work" and the cautions as they were shown, so the record keeps them.
+    #[serde(default)]
+    pub trace: Vec<String>,
+    #[serde(default)]
+    pub cautions: Vec<String>,
     pub note: String,
 }
 
@@ -175,6 +186,10 @@ mod tests {
             dose_mg_per_l: dose,
             feed_kg_per_day: None,
             pump_setting_percent: Some(40.0),
+            flow_m3_per_day: Some(9000.0),
+            product_l_per_hour: Some(7.5),
+            trace: vec!["step".into()],
+            cautions: vec!["hazard-corrosive".into()],
             note: String::new(),
         }
     }

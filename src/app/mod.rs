@@ -47,8 +47,9 @@ pub struct RunOptions {
 impl RunOptions {
     /// Desktop defaults: the per-user data directory and the locale from the environment.
     pub fn desktop() -> RunOptions {
-        let data_dir = directories::ProjectDirs::from("org", "Molefeed", "molefeed")
-            .map(|d| d.data_dir().to_path_buf());
+        // The same per-user directory the dose log uses (its files go in `logs/` inside).
+        let data_dir =
+            directories::ProjectDirs::from("", "", "Molefeed").map(|d| d.data_dir().to_path_buf());
         let lang = ["LC_ALL", "LC_MESSAGES", "LANG"]
             .iter()
             .filter_map(|v| std::env::var(v).ok())

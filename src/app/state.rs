@@ -341,6 +341,15 @@ impl AppState {
             dose_mg_per_l: dose,
             feed_kg_per_day: result.outcome.feed_kg_per_day,
             pump_setting_percent: result.outcome.pump_setting_percent,
+            flow_m3_per_day: self.calc.current_request().and_then(|r| r.get("flow")),
+            product_l_per_hour: result.outcome.product_l_per_hour,
+            trace: result.outcome.trace.clone(),
+            cautions: result
+                .outcome
+                .cautions
+                .iter()
+                .map(|c| c.code.clone())
+                .collect(),
             note: String::new(),
         };
         match self.log.append(entry) {
@@ -587,6 +596,11 @@ mod tests {
         assert_eq!(entries.len(), 2);
         assert_eq!(entries[0].id, id);
         assert_eq!(entries[0].data.point, "Raw water");
+        let flow = entries[0]
+            .data
+            .flow_m3_per_day
+            .expect("flow kept with the entry");
+        assert!((flow - 3785.411784).abs() < 1e-6, "{flow}");
         let latest = s.latest_doses();
         assert_eq!(latest.len(), 1);
         assert_eq!(latest[0].dose, "2.25");
