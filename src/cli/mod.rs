@@ -10,6 +10,7 @@ mod args;
 mod chemistry;
 mod dosing;
 mod log_cmd;
+mod water;
 
 pub use args::Args;
 
@@ -70,6 +71,12 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "equivalent" => chemistry::equivalent(args),
         c if dosing::COMMANDS.contains(&c) => dosing::run(c, args),
         "log" => log_cmd::run(args),
+        "ph-after" => water::ph_after(args),
+        "dose-for-ph" => water::dose_for_ph(args),
+        "stability" => water::stability(args),
+        "curve" => water::curve(args),
+        "coagulant" => water::coagulant(args),
+        "neutralize" => water::neutralize(args),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -87,6 +94,7 @@ const HELP: &str =
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
+water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [ions]; see docs/water-notes.md)
 dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
 dosing:     feed | chlorine | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
 chemistry:  mass FORMULA

@@ -163,32 +163,30 @@ fn from_base(trace: &mut Trace, unit: AmountUnit, of: &str) -> Result<()> {
 mod tests {
     use super::*;
 
-    fn check(
-        equation: &str,
-        from: &str,
-        amount: &str,
-        unit: &str,
-        to: &str,
-        to_unit: &str,
-        expected: f64,
-        shown: &str,
-    ) {
+    /// `request` reads "AMOUNT UNIT FROM -> UNIT TO", e.g. "12.5 g Ca(OH)2 -> g CaCO3".
+    fn check(equation: &str, request: &str, expected: f64, shown: &str) {
+        let (source, target) = request.split_once(" -> ").unwrap();
+        let mut source = source.split_whitespace();
+        let (amount, unit, from) = (
+            source.next().unwrap(),
+            source.next().unwrap(),
+            source.next().unwrap(),
+        );
+        let (to_unit, to) = target.split_once(' ').unwrap();
         let r = Reaction::balance(equation).unwrap();
-        let t = convert(
-            &r,
-            from,
-            Measured::parse(amount).unwrap(),
+        let amount = Measured::parse(amount).unwrap();
+        let (unit, to_unit) = (
             AmountUnit::parse(unit).unwrap(),
-            to,
             AmountUnit::parse(to_unit).unwrap(),
-        )
-        .unwrap_or_else(|e| panic!("{equation}: {e}"));
+        );
+        let t = convert(&r, from, amount, unit, to, to_unit)
+            .unwrap_or_else(|e| panic!("{request}: {e}"));
         assert!(
             (t.value() - expected).abs() <= expected.abs() * 1e-12,
-            "{equation}: {} vs {expected}",
+            "{request}: {} vs {expected}",
             t.value()
         );
-        assert_eq!(t.display_result(), shown, "{equation}");
+        assert_eq!(t.display_result(), shown, "{request}");
     }
 
     #[test]
@@ -198,45 +196,25 @@ mod tests {
         let m_lime = 40.078 + 2.0 * (15.999 + 1.008);
         let m_co2 = 12.011 + 2.0 * 15.999;
         let m_caco3 = 40.078 + 12.011 + 3.0 * 15.999;
+        let m_alum = 2.0 * 26.9815384 + 3.0 * (32.06 + 4.0 * 15.999) + 14.0 * 18.015;
         check(
             lime,
-            "Ca(OH)2",
-            "12.5",
-            "g",
-            "CaCO3",
-            "g",
+            "12.5 g Ca(OH)2 -> g CaCO3",
             12.5 / m_lime * m_caco3,
             "16.9 g CaCO3",
         );
         check(
             lime,
-            "CaCO3",
-            "1.000",
-            "kg",
-            "Ca(OH)2",
-            "kg",
+            "1.000 kg CaCO3 -> kg Ca(OH)2",
             1.0 / m_caco3 * m_lime,
             "0.7403 kg Ca(OH)2",
         );
-        check(
-            lime,
-            "Ca(OH)2",
-            "2.0",
-            "mol",
-            "CO2",
-            "g",
-            2.0 * m_co2,
-            "88 g CO2",
-        );
+        check(lime, "2.0 mol Ca(OH)2 -> g CO2", 2.0 * m_co2, "88 g CO2");
         let alum = "Al2(SO4)3·14H2O + 3 Ca(HCO3)2 -> 2 Al(OH)3 + 3 CaSO4 + 6 CO2 + 14 H2O";
         check(
             alum,
-            "Al2(SO4)3·14H2O",
-            "30.0",
-            "mg",
-            "Al(OH)3",
-            "mmol",
-            30.0 / (2.0 * 26.9815384 + 3.0 * (32.06 + 4.0 * 15.999) + 14.0 * 18.015) * 2.0,
+            "30.0 mg Al2(SO4)3·14H2O -> mmol Al(OH)3",
+            30.0 / m_alum * 2.0,
             "0.101 mmol Al(OH)3",
         );
     }

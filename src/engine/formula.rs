@@ -362,11 +362,12 @@ fn strip_charge(chars: &[char], start: usize, end: usize) -> Result<(usize, i32)
         .rev()
         .find(|&i| !chars[i].is_ascii_digit())
         .map_or(start, |i| i + 1);
-    if digits_start < end && digits_start > start {
-        if let Some(sign) = sign_of(chars[digits_start - 1]) {
-            let value = digits_value(digits_start, end)?;
-            return Ok((digits_start - 1, sign * value));
-        }
+    if digits_start < end
+        && digits_start > start
+        && let Some(sign) = sign_of(chars[digits_start - 1])
+    {
+        let value = digits_value(digits_start, end)?;
+        return Ok((digits_start - 1, sign * value));
     }
     // A run of signs at the end: HCO3-, NH4+, Fe++, Fe+++.
     let mut run_start = end;

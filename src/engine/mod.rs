@@ -14,5 +14,6 @@ pub mod formula;
 pub mod reaction;
 pub mod sigfig;
 pub mod trace;
+pub mod water;
 
 pub use error::{Error, ErrorKind, Result, check_positive, check_range};

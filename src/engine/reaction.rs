@@ -258,11 +258,16 @@ fn split_side(text: &str, first_column: usize, side: Side) -> Result<Vec<Term>> 
             c.is_ascii_uppercase() || c.is_ascii_digit() || matches!(c, '(' | '[')
         });
         let prev = if i > 0 { Some(chars[i - 1]) } else { None };
-        let joins = (space_before && space_after)
-            || (space_before && starts_species)
-            || (!space_after
-                && next.is_some_and(|c| c.is_ascii_uppercase() || matches!(c, '(' | '['))
-                && prev != Some('^'));
+        // A '+' joins two species when it stands between spaces ("H+ + OH-"), when it opens
+        // the next species after a space ("Fe+3 +Cl-"), or, unspaced, when a formula follows
+        // at once ("Cl2+H2O"); otherwise it is part of a charge ("H+", "Fe+3", "SO4^+").
+        let formula_follows =
+            next.is_some_and(|c| c.is_ascii_uppercase() || matches!(c, '(' | '['));
+        let joins = if space_before {
+            space_after || starts_species
+        } else {
+            !space_after && formula_follows && prev != Some('^')
+        };
         if joins {
             pieces.push((start, i));
             start = i + 1;

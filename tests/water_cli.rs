@@ -1,0 +1,115 @@
+//! The water subcommands through `dispatch` (the same path as the binary and `molefeed batch`):
+//! each JSON report carries the fields the issue names, and failures carry typed kinds.
+
+use molefeed::cli::{Args, dispatch};
+use serde_json::Value;
+
+const WATER: &str = "--ph 7.4 --temperature 12 --alkalinity 90 --calcium 110 --magnesium 35 --sodium 18 --chloride 22 --sulfate 35 --json";
+
+fn run(command: &str, flags: &str) -> Result<Value, String> {
+    let mut words: Vec<String> = flags.split_whitespace().map(String::from).collect();
+    words.extend(WATER.split_whitespace().map(String::from));
+    let args = Args::parse(&words).map_err(|e| e.kind)?;
+    dispatch(command, &args).map(|r| r.json).map_err(|e| e.kind)
+}
+
+/// Runs a command and checks that every listed field is a number.
+fn check(command: &str, flags: &str, fields: &[&str]) -> Value {
+    let json = run(command, flags).unwrap_or_else(|e| panic!("{command} {flags}: {e}"));
+    for f in fields {
+        assert!(
+            json[*f].as_f64().is_some_and(f64::is_finite),
+            "{command}: {f} in {json}"
+        );
+    }
+    json
+}
+
+#[test]
+fn every_water_command_reports_its_fields() {
+    check(
+        "ph-after",
+        "--chemical Ca(OH)2 --dose 15",
+        &[
+            "ph",
+            "alkalinity_mg_l_as_caco3",
+            "dic_mmol_l",
+            "ionic_strength",
+            "si_calcite",
+        ],
+    );
+    check(
+        "ph-after",
+        "--chemical FeCl3 --dose 25 --precipitate hydroxide",
+        &["ph", "precipitated_metal_mmol_l"],
+    );
+    let d = check(
+        "dose-for-ph",
+        "--chemical NaOH --target-ph 8.8",
+        &["dose_mg_l", "ph"],
+    );
+    assert!((d["ph"].as_f64().unwrap() - 8.8).abs() < 1e-6);
+    check(
+        "stability",
+        "",
+        &[
+            "langelier_index",
+            "phs",
+            "ryznar_index",
+            "ccpp_mg_l_as_caco3",
+            "si_calcite",
+        ],
+    );
+    let c = check(
+        "coagulant",
+        "--chemical Al2(SO4)3·14H2O --dose 30",
+        &[
+            "alkalinity_consumed_mg_l_as_caco3",
+            "ph",
+            "alkalinity_mg_l_as_caco3",
+        ],
+    );
+    // ≈ 0.5 mg/L as CaCO3 per mg/L alum (common practice; references.md §5: 0.505 [D]).
+    let per_mg = c["alkalinity_consumed_mg_l_as_caco3"].as_f64().unwrap() / 30.0;
+    assert!((per_mg - 0.5).abs() < 0.03, "{per_mg}");
+    check(
+        "neutralize",
+        "--chemical CaO --target-ph 8.2 --purity 0.92",
+        &["dose_mg_l", "product_mg_l", "ph"],
+    );
+    let curve = run("curve", "--chemical H2SO4 --max-dose 40 --points 200").unwrap();
+    let points = curve["points"].as_array().unwrap();
+    assert_eq!(points.len(), 200);
+    assert!(
+        points
+            .windows(2)
+            .all(|p| p[1]["ph"].as_f64() < p[0]["ph"].as_f64())
+    );
+}
+
+#[test]
+fn failures_have_typed_kinds() {
+    for (command, flags, kind) in [
+        (
+            "dose-for-ph",
+            "--chemical H2SO4 --target-ph 9",
+            "unreachable",
+        ),
+        (
+            "dose-for-ph",
+            "--chemical NaHCO3 --target-ph 9.8",
+            "unreachable",
+        ),
+        ("ph-after", "--chemical KMnO4 --dose 3", "unknown-chemical"),
+        ("ph-after", "--chemical NaOH --dose -3", "out-of-range"),
+        (
+            "ph-after",
+            "--chemical NaOH --dose 3 --precipitate maybe",
+            "invalid-input",
+        ),
+        ("ph-after", "--chemical NaOH --dose 3 --dsoe 4", "usage"),
+        ("ph-after", "--chemical NaOH", "usage"),
+    ] {
+        assert_eq!(run(command, flags).unwrap_err(), kind, "{command} {flags}");
+    }
+}
