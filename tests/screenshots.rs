@@ -126,6 +126,11 @@ fn every_screen_renders_with_text_at_three_sizes() {
             ("strength", "12.5"),
             ("specific-gravity", "1.2"),
             ("pump-capacity", "10"),
+            // pH-adjustment readings, for the titration curve on the Plots screen.
+            ("ph-raw", "6.7"),
+            ("ph-target", "7.3"),
+            ("alkalinity", "38"),
+            ("temperature", "58"),
         ] {
             st.calc.edit(name, text);
         }

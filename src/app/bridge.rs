@@ -550,7 +550,7 @@ impl Inner {
             x_label: s(if view.x_key.is_empty() {
                 String::new()
             } else {
-                format!("{} — {}", self.t(&view.x_key), view.subject)
+                format!("{} — {}", self.t(&view.x_key), self.name(&view.subject))
             }),
             y_label: s(self.t(y_key)),
             y_lo: s(&view.y_lo),

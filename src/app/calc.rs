@@ -328,6 +328,21 @@ impl CalcController {
         (views, request, invalid)
     }
 
+    /// The request calculator `kind` in `mode` would make from the values typed so far (shared
+    /// fields such as flow carry over), with its chosen product.
+    pub fn request_for(&self, kind: CalcKind, mode: CalcMode) -> Option<CalcRequest> {
+        let probe = CalcController {
+            engine: self.engine.clone(),
+            kind,
+            mode,
+            lang: self.lang,
+            system: self.system,
+            texts: self.texts.clone(),
+            products: self.products.clone(),
+        };
+        probe.current_request()
+    }
+
     /// The request for the current inputs, if they are complete and valid.
     pub fn current_request(&self) -> Option<CalcRequest> {
         self.request().1

@@ -8,9 +8,20 @@
 //! because the results card shows the advisory note permanently.
 
 use super::seams::{
-    CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, CautionLevel, ProductChoice,
-    SeamError,
+    CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, CautionLevel, Curve,
+    ProductChoice, SeamError,
 };
+
+/// pH-adjustment chemicals: the water-chemistry engine's id and the dosing catalog's liquid
+/// product of the same compound (a test checks the pairing against both catalogs).
+const PH_CHEMICALS: [(&str, &str); 3] = [
+    ("caustic", "sodium-hydroxide"),
+    ("sulfuric-acid", "sulfuric-acid"),
+    ("hydrochloric-acid", "hydrochloric-acid"),
+];
+
+/// Points on a drawn titration curve.
+const CURVE_POINTS: usize = 60;
 use crate::engine::dosing::catalog::{Catalog, Form, Strength, StrengthBasis};
 use crate::engine::dosing::chlorine::{
     ChlorineInput, chloramination, chlorine_dose, dechlorination,
@@ -20,6 +31,7 @@ use crate::engine::dosing::pumpcheck::{Measurement, PumpCheckInput, Tolerance, p
 use crate::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
 use crate::engine::dosing::{self, Severity};
 use crate::engine::sigfig::Measured;
+use crate::engine::water::{self, Precipitation, WaterInput, WaterState};
 use crate::engine::{Error, ErrorKind};
 
 /// The dosing engine with its built-in product catalog.
@@ -161,6 +173,56 @@ impl DosingEngine {
         ))
     }
 
+    /// The water as measured and the chosen pH chemical (water-engine side).
+    fn water_and_chemical(
+        &self,
+        request: &CalcRequest,
+    ) -> Result<(WaterState, &'static water::Chemical), Error> {
+        let product = request
+            .product
+            .as_deref()
+            .ok_or_else(|| Error::new(ErrorKind::UnknownChemical, "no chemical chosen"))?;
+        let water_id = PH_CHEMICALS
+            .iter()
+            .find(|(_, p)| *p == product)
+            .map(|(w, _)| *w)
+            .ok_or_else(|| {
+                Error::new(
+                    ErrorKind::UnknownChemical,
+                    format!("{product} is not a pH chemical"),
+                )
+            })?;
+        let state = WaterState::new(&WaterInput::new(
+            value(request, "ph-raw")?,
+            value(request, "temperature")?,
+            value(request, "alkalinity")?,
+        ))?;
+        let chemical = water::Catalog::embedded()?.find(water_id)?;
+        Ok((state, chemical))
+    }
+
+    /// pH adjustment: the dose that reaches the target pH (water-chemistry engine), then the
+    /// liquid product's feed for it (dosing engine).
+    fn ph_control(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        let (state, chemical) = self.water_and_chemical(request)?;
+        let target = value(request, "ph-target")?;
+        let d = water::dose_for_ph(&state, chemical, target, Precipitation::None)?;
+        let r = self.feed_for(request, d.dose_mg_l)?;
+        let mut out = outcome_of_feed(self.name_key(request), &r, Vec::new(), Vec::new());
+        out.trace.insert(0, "[ph-adjustment]".into());
+        out.trace.insert(
+            1,
+            format!(
+                "  pH {:.2} → {:.2}: {:.4} mg/L {} (water-chemistry engine, no precipitation)",
+                state.ph(),
+                d.water.ph,
+                d.dose_mg_l,
+                chemical.id
+            ),
+        );
+        Ok(out)
+    }
+
     /// Pump cross-check: the dose a drawdown actually delivers, and the setting to reach the
     /// target. "Dose" shows the measured (actual) dose; "pump setting" the suggested one.
     fn pump_check(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
@@ -249,8 +311,32 @@ fn cautions(list: &[dosing::Caution]) -> Vec<Caution> {
 }
 
 impl CalcEngine for DosingEngine {
+    fn titration_curve(&self, request: &CalcRequest) -> Result<Curve, SeamError> {
+        if request.kind != CalcKind::PhControl {
+            return Err(SeamError::NotConnected);
+        }
+        let (state, chemical) = self.water_and_chemical(request)?;
+        let target = value(request, "ph-target")?;
+        // Draw to twice the dose that reaches the target, so the target sits mid-curve.
+        let max = water::dose_for_ph(&state, chemical, target, Precipitation::None)
+            .map_or(100.0, |d| (2.0 * d.dose_mg_l).max(1.0));
+        let points = water::curve(&state, chemical, max, CURVE_POINTS, Precipitation::None)?;
+        Ok(Curve {
+            titrant: self.name_key(request),
+            points: points.iter().map(|p| (p.dose_mg_l, p.ph)).collect(),
+        })
+    }
+
     fn products(&self, kind: CalcKind, mode: CalcMode) -> Vec<ProductChoice> {
         match (kind, mode) {
+            (CalcKind::PhControl, _) => PH_CHEMICALS
+                .iter()
+                .filter_map(|(_, id)| self.catalog.product(id).ok())
+                .map(|p| ProductChoice {
+                    id: p.id.clone(),
+                    name_key: p.name_key.clone(),
+                })
+                .collect(),
             (CalcKind::FeedSetting | CalcKind::PumpCheck, _) => self.solution_products(None),
             (CalcKind::Chlorination, CalcMode::FreeChlorine) => {
                 self.solution_products(Some(&["Cl2"]))
@@ -266,6 +352,7 @@ impl CalcEngine for DosingEngine {
     fn compute(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
         match (request.kind, request.mode) {
             (CalcKind::FeedSetting, _) => self.feed_setting(request),
+            (CalcKind::PhControl, _) => self.ph_control(request),
             (CalcKind::Chlorination, CalcMode::FreeChlorine) => self.free_chlorine(request),
             (CalcKind::Chlorination, CalcMode::Chloramine) => self.chloramine(request),
             (CalcKind::Chlorination, CalcMode::Dechlorination) => self.dechlorination(request),
@@ -382,6 +469,10 @@ mod tests {
         request.kind = CalcKind::Softening;
         request.mode = CalcMode::Standard;
         assert_eq!(engine.compute(&request), Err(SeamError::NotConnected));
+        assert_eq!(
+            engine.titration_curve(&request),
+            Err(SeamError::NotConnected)
+        );
     }
 
     #[test]
@@ -421,6 +512,60 @@ mod tests {
         let direct =
             dechlorination(&engine.catalog, Measured::exact(2.0), "sodium-bisulfite").unwrap();
         assert_eq!(out.dose_mg_per_l, Some(direct.agent_mg_l));
+    }
+
+    #[test]
+    fn ph_chemicals_pair_the_same_compound_in_both_catalogs() {
+        let engine = DosingEngine::new().unwrap();
+        for (water_id, product_id) in PH_CHEMICALS {
+            let chemical = water::Catalog::embedded().unwrap().find(water_id).unwrap();
+            let product = engine.catalog.product(product_id).unwrap();
+            let formula = crate::engine::formula::Formula::parse(&product.dose_as).unwrap();
+            assert_eq!(chemical.formula, formula, "{water_id} vs {product_id}");
+        }
+    }
+
+    #[test]
+    fn ph_adjustment_dose_and_curve_come_from_the_water_engine() {
+        let engine = DosingEngine::new().unwrap();
+        let mut request = feed_request("sodium-hydroxide", 0.0);
+        request.kind = CalcKind::PhControl;
+        request.values.remove("dose");
+        for (k, v) in [
+            ("ph-raw", 6.7),
+            ("ph-target", 7.3),
+            ("alkalinity", 38.0),
+            ("temperature", 15.0),
+            ("strength", 25.0),
+            ("specific-gravity", 1.27),
+        ] {
+            request.values.insert(k, v);
+        }
+        let out = engine.compute(&request).expect("a pH result");
+        let state = WaterState::new(&WaterInput::new(6.7, 15.0, 38.0)).unwrap();
+        let caustic = water::Catalog::embedded().unwrap().find("caustic").unwrap();
+        let direct = water::dose_for_ph(&state, caustic, 7.3, Precipitation::None).unwrap();
+        assert_eq!(out.dose_mg_per_l, Some(direct.dose_mg_l));
+        assert!(out.feed_kg_per_day.is_some());
+        let curve = engine.titration_curve(&request).expect("a curve");
+        assert_eq!(curve.points.len(), CURVE_POINTS);
+        assert_eq!(curve.points[0].0, 0.0);
+        assert!(
+            (curve.points[0].1 - state.ph()).abs() < 1e-9,
+            "{:?}",
+            curve.points[0]
+        );
+        assert!(
+            curve.points.windows(2).all(|w| w[1].1 >= w[0].1),
+            "caustic raises pH"
+        );
+        // Acid the other way: an unreachable target is the engine's refusal, not a number.
+        request.product = Some("sulfuric-acid".into());
+        let err = engine.compute(&request);
+        assert!(
+            matches!(&err, Err(SeamError::Engine(e)) if e.kind() == ErrorKind::Unreachable),
+            "{err:?}"
+        );
     }
 
     #[test]

@@ -447,13 +447,10 @@ impl AppState {
 
     /// The titration curve for the pH-control inputs, from the engine seam.
     pub fn titration_plot(&self) -> PlotView {
-        let mut probe = CalcController::new(self.calc.engine().clone(), self.lang(), self.units());
-        probe.set_kind(CalcKind::PhControl);
-        probe.set_mode(CalcMode::Standard);
-        for spec in super::calc::fields(CalcKind::PhControl, CalcMode::Standard) {
-            probe.edit(spec.name, self.calc.text(spec.name));
-        }
-        let Some(request) = probe.current_request() else {
+        let Some(request) = self
+            .calc
+            .request_for(CalcKind::PhControl, CalcMode::Standard)
+        else {
             return PlotView {
                 message: Some(Note::new(key("plot-need-ph-inputs"))),
                 ..PlotView::default()
