@@ -55,7 +55,11 @@ fn generate_element_table() {
 mod app {
     pub fn compile() {
         println!("cargo:rerun-if-changed=ui");
-        let config = slint_build::CompilerConfiguration::new().with_debug_info(true);
+        // Debug info lets UI tests find elements by accessible label. The style is fixed so
+        // screenshots and tests look the same on every platform.
+        let config = slint_build::CompilerConfiguration::new()
+            .with_debug_info(true)
+            .with_style("fluent".into());
         slint_build::compile_with_config("ui/app.slint", config)
             .expect("ui/app.slint must compile");
     }

@@ -4,6 +4,7 @@
 //! data), [`cli`] (machine interface over both), and `app` (the Slint UI, behind the `app`
 //! feature). Lower layers never depend on higher ones.
 
+pub mod app;
 pub mod cli;
 pub mod engine;
 pub mod log;

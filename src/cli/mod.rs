@@ -177,10 +177,22 @@ fn batch_line(line: &str) -> CliResult {
     dispatch(command, &args)
 }
 
+/// `molefeed` with no arguments: the app, through the entry Android uses too.
+#[cfg(feature = "app")]
 fn open_app() -> i32 {
-    let site = "built-in demo site";
-    println!(
-        "Molefeed: the app is not built into this binary; run with the default `app` feature ({site})."
+    match crate::app::run(crate::app::RunOptions::desktop()) {
+        Ok(()) => 0,
+        Err(e) => {
+            eprintln!("molefeed: cannot open the app window: {e}");
+            1
+        }
+    }
+}
+
+#[cfg(not(feature = "app"))]
+fn open_app() -> i32 {
+    eprintln!(
+        "molefeed: this binary was built without the app (feature `app` is off); rebuild with default features, or use a subcommand (see 'molefeed help')."
     );
-    0
+    2
 }

@@ -1,0 +1,581 @@
+//! The bridge between the Rust controllers and the Slint adapters.
+//!
+//! Design choice: one-way data flow. Slint callbacks call a named [`AppState`] method, then
+//! the bridge re-reads the state and pushes translated strings and models into the globals.
+//! The input-field model is kept alive between keystrokes and only its rows are updated, so
+//! typing never loses focus; it is rebuilt when the calculator, units or language change.
+
+use super::RunOptions;
+use super::calc::{FieldView, Status, key};
+use super::dose_log::{DoseLog, connected_log};
+use super::i18n::Texts;
+use super::numbers::{self, Lang};
+use super::seams::{CalcEngine, CalcKind, connected_engine};
+use super::state::{AppState, Note, PlotView, Screen};
+use super::ui::*;
+use super::units::{Unit, UnitSystem};
+use slint::{ComponentHandle, Model, ModelRc, SharedString, VecModel};
+use std::cell::RefCell;
+use std::path::PathBuf;
+use std::rc::Rc;
+
+/// What the app is connected to. Tests build their own; platforms use [`Deps::from_options`].
+pub struct Deps {
+    pub engine: Rc<dyn CalcEngine>,
+    pub log: Box<dyn DoseLog>,
+    pub data_dir: Option<PathBuf>,
+    pub lang: Option<Lang>,
+    pub quit_on_root_back: bool,
+}
+
+impl Deps {
+    /// The real engine and log seams, with the platform's options.
+    pub fn from_options(options: &RunOptions) -> Deps {
+        Deps {
+            engine: connected_engine(),
+            log: connected_log(options.data_dir.as_deref()),
+            data_dir: options.data_dir.clone(),
+            lang: options.lang,
+            quit_on_root_back: options.quit_on_root_back,
+        }
+    }
+}
+
+/// Keeps the controllers alive for as long as the window lives; tests read the state.
+pub struct AppHandle {
+    pub state: Rc<RefCell<AppState>>,
+    inner: Rc<Inner>,
+}
+
+impl AppHandle {
+    /// Pushes the whole state into the window again (after a test changed it directly).
+    pub fn refresh(&self) {
+        self.inner.refresh_all();
+    }
+}
+
+struct Inner {
+    window: slint::Weak<AppWindow>,
+    state: Rc<RefCell<AppState>>,
+    texts: RefCell<Texts>,
+    fields: Rc<VecModel<FieldRow>>,
+    epoch: RefCell<i32>,
+    quit_on_root_back: bool,
+}
+
+fn s(text: impl AsRef<str>) -> SharedString {
+    SharedString::from(text.as_ref())
+}
+
+fn model<T: Clone + 'static>(v: Vec<T>) -> ModelRc<T> {
+    ModelRc::new(VecModel::from(v))
+}
+
+/// Connects `window` to fresh controllers; call once per window.
+pub fn attach(window: &AppWindow, deps: Deps) -> AppHandle {
+    let state = Rc::new(RefCell::new(AppState::new(
+        deps.engine,
+        deps.log,
+        deps.data_dir,
+        deps.lang,
+    )));
+    let lang = state.borrow().lang();
+    let inner = Rc::new(Inner {
+        window: window.as_weak(),
+        state: state.clone(),
+        texts: RefCell::new(Texts::new(lang)),
+        fields: Rc::new(VecModel::default()),
+        epoch: RefCell::new(0),
+        quit_on_root_back: deps.quit_on_root_back,
+    });
+
+    let tr = window.global::<Tr>();
+    let weak_inner = Rc::downgrade(&inner);
+    tr.on_lookup(move |key, _epoch| {
+        weak_inner
+            .upgrade()
+            .map(|i| s(i.texts.borrow().get(&key)))
+            .unwrap_or_default()
+    });
+
+    let calc = window.global::<CalcAdapter>();
+    calc.set_fields(ModelRc::from(inner.fields.clone()));
+
+    wire(window, &inner);
+    window
+        .global::<LogAdapter>()
+        .set_transfer_path(s(state.borrow().default_transfer_path()));
+    window
+        .global::<AboutAdapter>()
+        .set_version(s(env!("CARGO_PKG_VERSION")));
+    inner.refresh_all();
+    AppHandle { state, inner }
+}
+
+/// Registers every callback. Each one calls the state, then refreshes what it changed.
+fn wire(window: &AppWindow, inner: &Rc<Inner>) {
+    let on = |f: fn(&Inner, i32)| {
+        let weak = Rc::downgrade(inner);
+        move |i: i32| {
+            if let Some(inner) = weak.upgrade() {
+                f(&inner, i);
+            }
+        }
+    };
+    let on_text = |f: fn(&Inner, &str)| {
+        let weak = Rc::downgrade(inner);
+        move |t: SharedString| {
+            if let Some(inner) = weak.upgrade() {
+                f(&inner, t.as_str());
+            }
+        }
+    };
+    let on_unit = |f: fn(&Inner)| {
+        let weak = Rc::downgrade(inner);
+        move || {
+            if let Some(inner) = weak.upgrade() {
+                f(&inner);
+            }
+        }
+    };
+
+    let nav = window.global::<Nav>();
+    nav.on_go(on(|i, n| {
+        if let Some(screen) = Screen::from_index(n) {
+            i.state.borrow_mut().navigate(screen);
+            i.refresh_all();
+        }
+    }));
+    nav.on_back(on_unit(|i| {
+        let moved = i.state.borrow_mut().back();
+        if !moved && i.quit_on_root_back {
+            let _ = slint::quit_event_loop();
+        }
+        i.refresh_all();
+    }));
+
+    let start = window.global::<StartAdapter>();
+    start.on_pick_site(on(|i, n| {
+        i.state.borrow_mut().pick_site(n.max(0) as usize);
+        i.refresh_all();
+    }));
+    start.on_pick_point(on(|i, n| {
+        i.state.borrow_mut().pick_point(n.max(0) as usize);
+        i.refresh_all();
+    }));
+    start.on_open_calculator(on(|i, n| {
+        if let Some(kind) = CalcKind::ALL.get(n.max(0) as usize) {
+            i.state.borrow_mut().open_calculator(*kind);
+            i.refresh_all();
+        }
+    }));
+
+    let calc = window.global::<CalcAdapter>();
+    calc.on_pick_kind(on(|i, n| {
+        if let Some(kind) = CalcKind::ALL.get(n.max(0) as usize) {
+            let mut st = i.state.borrow_mut();
+            st.calc.set_kind(*kind);
+            st.calc_note = None;
+        }
+        i.refresh_calc(true);
+    }));
+    calc.on_pick_product(on(|i, n| {
+        {
+            let mut st = i.state.borrow_mut();
+            st.calc.set_product(n.max(0) as usize);
+            st.calc_note = None;
+        }
+        i.refresh_calc(false);
+    }));
+    calc.on_pick_mode(on(|i, n| {
+        {
+            let mut st = i.state.borrow_mut();
+            let kind = st.calc.kind();
+            if let Some(mode) = kind.modes().get(n.max(0) as usize) {
+                st.calc.set_mode(*mode);
+            }
+            st.calc_note = None;
+        }
+        i.refresh_calc(true);
+    }));
+    let weak = Rc::downgrade(inner);
+    calc.on_edited(move |index, text| {
+        let Some(i) = weak.upgrade() else { return };
+        {
+            let mut st = i.state.borrow_mut();
+            let view = st.calc.view();
+            if let Some(field) = view.fields.get(index.max(0) as usize) {
+                st.calc.edit(field.name, text.as_str());
+            }
+            st.calc_note = None;
+        }
+        i.refresh_calc(false);
+    });
+    calc.on_log_dose(on_unit(|i| {
+        let _ = i.state.borrow_mut().log_current_dose();
+        i.refresh_all();
+    }));
+
+    let log = window.global::<LogAdapter>();
+    log.on_filter_edited(on_text(|i, t| {
+        i.state.borrow_mut().log_filter = t.to_string();
+        i.refresh_log();
+    }));
+    log.on_select(on(|i, id| {
+        i.state.borrow_mut().select_entry(id.max(0) as u64);
+        i.refresh_log();
+        i.refresh_plots();
+    }));
+    log.on_export(on_unit(|i| {
+        let path = i.window().global::<LogAdapter>().get_transfer_path();
+        i.state.borrow_mut().export_log(&path);
+        i.refresh_log();
+    }));
+    log.on_import(on_unit(|i| {
+        let path = i.window().global::<LogAdapter>().get_transfer_path();
+        i.state.borrow_mut().import_log(&path);
+        i.refresh_all();
+    }));
+
+    let settings = window.global::<SettingsAdapter>();
+    settings.on_set_lang(on(|i, n| {
+        let lang = if n == 1 { Lang::Es } else { Lang::En };
+        i.state.borrow_mut().set_lang(lang);
+        i.texts.borrow_mut().set_lang(lang);
+        *i.epoch.borrow_mut() += 1;
+        i.refresh_all();
+    }));
+    settings.on_set_units(on(|i, n| {
+        let system = if n == 1 {
+            UnitSystem::Si
+        } else {
+            UnitSystem::Us
+        };
+        i.state.borrow_mut().set_units(system);
+        i.refresh_all();
+    }));
+    let weak = Rc::downgrade(inner);
+    settings.on_set_high_contrast(move |on| {
+        if let Some(i) = weak.upgrade() {
+            i.state.borrow_mut().set_high_contrast(on);
+            i.refresh_all();
+        }
+    });
+    settings.on_rename_site(on_text(|i, t| {
+        i.state.borrow_mut().rename_site(t);
+        i.window()
+            .global::<SettingsAdapter>()
+            .set_site_name_edit(s(""));
+        i.refresh_all();
+    }));
+    settings.on_add_site(on_text(|i, t| {
+        i.state.borrow_mut().add_site(t);
+        i.window().global::<SettingsAdapter>().set_new_site(s(""));
+        i.refresh_all();
+    }));
+    settings.on_add_point(on_text(|i, t| {
+        i.state.borrow_mut().add_point(t);
+        i.window().global::<SettingsAdapter>().set_new_point(s(""));
+        i.refresh_all();
+    }));
+    settings.on_remove_point(on(|i, n| {
+        i.state.borrow_mut().remove_point(n.max(0) as usize);
+        i.refresh_all();
+    }));
+}
+
+impl Inner {
+    fn window(&self) -> AppWindow {
+        self.window
+            .upgrade()
+            .expect("window alive while callbacks run")
+    }
+
+    fn t(&self, key: &str) -> String {
+        self.texts.borrow().get(key)
+    }
+
+    fn note(&self, note: &Note) -> String {
+        self.texts.borrow().get_args(&note.key, &note.args)
+    }
+
+    /// A chemical or product name: translated when it is a known key, else as given.
+    fn name(&self, name: &str) -> String {
+        let texts = self.texts.borrow();
+        if texts.has(name) {
+            texts.get(name)
+        } else {
+            name.to_string()
+        }
+    }
+
+    fn unit(&self, unit: Unit) -> String {
+        self.t(&format!("unit-{}", unit.code()))
+    }
+
+    fn refresh_all(&self) {
+        let w = self.window();
+        let st = self.state.borrow();
+        w.global::<Tr>().set_epoch(*self.epoch.borrow());
+        w.global::<Nav>().set_screen(st.screen() as i32);
+        w.global::<Theme>()
+            .set_high_contrast(st.settings.high_contrast);
+
+        let start = w.global::<StartAdapter>();
+        start.set_sites(model(
+            st.settings.sites.iter().map(|x| s(&x.name)).collect(),
+        ));
+        start.set_site_index(st.settings.site_index as i32);
+        start.set_points(model(st.site().points.iter().map(s).collect()));
+        start.set_point_index(st.settings.point_index as i32);
+        start.set_not_saved(!st.log_is_persistent());
+        start.set_calculators(model(
+            CalcKind::ALL
+                .iter()
+                .map(|k| s(self.t(&format!("calc-{}", k.code()))))
+                .collect(),
+        ));
+        start.set_latest(model(
+            st.latest_doses()
+                .into_iter()
+                .map(|d| LatestDose {
+                    point: s(d.point),
+                    chemical: s(self.name(&d.chemical)),
+                    dose: s(d.dose),
+                    when: s(d.when),
+                })
+                .collect(),
+        ));
+
+        let settings = w.global::<SettingsAdapter>();
+        settings.set_lang_index(if st.lang() == Lang::Es { 1 } else { 0 });
+        settings.set_units_index(if st.units() == UnitSystem::Si { 1 } else { 0 });
+        settings.set_high_contrast(st.settings.high_contrast);
+        settings.set_site_name(s(&st.site().name));
+        drop(st);
+        self.refresh_calc(true);
+        self.refresh_log();
+        self.refresh_plots();
+    }
+
+    fn field_row(&self, f: &FieldView) -> FieldRow {
+        FieldRow {
+            label: s(self.t(&format!("field-{}", f.name))),
+            unit: s(self.unit(f.unit)),
+            text: s(&f.text),
+            error: s(f.error.map(|k| self.t(k)).unwrap_or_default()),
+        }
+    }
+
+    /// Updates the calculator adapter. `rebuild` replaces the input rows (new calculator,
+    /// units or language); otherwise only changed rows are touched so typing keeps focus.
+    fn refresh_calc(&self, rebuild: bool) {
+        let w = self.window();
+        let st = self.state.borrow();
+        let view = st.calc.view();
+        let adapter = w.global::<CalcAdapter>();
+        let kind_index = CalcKind::ALL
+            .iter()
+            .position(|k| *k == view.kind)
+            .unwrap_or(0);
+        adapter.set_kind_index(kind_index as i32);
+        let modes = view.kind.modes();
+        adapter.set_modes(model(if modes.len() > 1 {
+            modes
+                .iter()
+                .map(|m| s(self.t(&format!("mode-{}", m.code()))))
+                .collect()
+        } else {
+            Vec::new()
+        }));
+        adapter.set_mode_index(modes.iter().position(|m| *m == view.mode).unwrap_or(0) as i32);
+        adapter.set_products(model(
+            view.products
+                .iter()
+                .map(|p| s(self.name(&p.name_key)))
+                .collect(),
+        ));
+        adapter.set_product_index(view.product_index as i32);
+
+        let rows: Vec<FieldRow> = view.fields.iter().map(|f| self.field_row(f)).collect();
+        if rebuild || rows.len() != self.fields.row_count() {
+            self.fields.set_vec(rows);
+        } else {
+            for (i, row) in rows.into_iter().enumerate() {
+                if self.fields.row_data(i).as_ref() != Some(&row) {
+                    self.fields.set_row_data(i, row);
+                }
+            }
+        }
+
+        adapter.set_note(s(st
+            .calc_note
+            .as_ref()
+            .map(|n| self.note(n))
+            .unwrap_or_default()));
+        match &view.status {
+            Status::Ready(r) => {
+                let texts = self.texts.borrow();
+                adapter.set_has_result(true);
+                adapter.set_message(s(""));
+                adapter.set_chemical(s(self.name(&r.chemical)));
+                adapter.set_dose(s(&r.dose));
+                adapter.set_feed(s(&r.feed));
+                adapter.set_feed_unit(s(self.unit(r.feed_unit)));
+                adapter.set_product(s(&r.product));
+                adapter.set_product_unit(s(self.unit(r.product_unit)));
+                adapter.set_pump(s(&r.pump));
+                adapter.set_trace(model(r.trace.iter().map(s).collect()));
+                adapter.set_cautions(model(
+                    r.cautions
+                        .iter()
+                        .map(|c| {
+                            // Engine caution keys are translation keys as they stand.
+                            let key = c.code.clone();
+                            let text = if texts.has(&key) {
+                                let args: Vec<(&str, String)> = c
+                                    .params
+                                    .iter()
+                                    .map(|(k, v)| (k.as_str(), v.clone()))
+                                    .collect();
+                                texts.get_args(&key, &args)
+                            } else {
+                                c.message.clone()
+                            };
+                            CautionRow {
+                                level: c.level as i32,
+                                word: s(texts.get(&format!("caution-level-{}", c.level.code()))),
+                                text: s(text),
+                            }
+                        })
+                        .collect(),
+                ));
+            }
+            other => {
+                let message = match other {
+                    Status::Refused(e) => self.texts.borrow().error(e),
+                    _ => other.message_key().map(|k| self.t(&k)).unwrap_or_default(),
+                };
+                adapter.set_has_result(false);
+                adapter.set_message(s(message));
+                adapter.set_dose(s(""));
+                adapter.set_feed(s(""));
+                adapter.set_product(s(""));
+                adapter.set_pump(s(""));
+                adapter.set_chemical(s(""));
+                adapter.set_trace(model(Vec::new()));
+                adapter.set_cautions(model(Vec::new()));
+            }
+        }
+    }
+
+    fn refresh_log(&self) {
+        let w = self.window();
+        let st = self.state.borrow();
+        let adapter = w.global::<LogAdapter>();
+        let lang = st.lang();
+        adapter.set_rows(model(
+            st.filtered_entries()
+                .into_iter()
+                .map(|e| LogRow {
+                    id: e.id as i32,
+                    when: s(e.data.when.replace('T', " ").trim_end_matches('Z')),
+                    place: s(format!("{} · {}", e.data.site, e.data.point)),
+                    chemical: s(self.name(&e.data.chemical)),
+                    dose: s(numbers::format_sig(e.data.dose_mg_per_l, 3, lang)),
+                })
+                .collect(),
+        ));
+        let selected = st.selected_entry();
+        adapter.set_selected_id(selected.as_ref().map_or(-1, |e| e.id as i32));
+        let (detail, history) = match selected {
+            Some(e) => {
+                let mass_unit = super::units::Quantity::MassPerDay.unit(st.units());
+                let opt = |v: Option<f64>, u: Unit| {
+                    v.map_or("—".to_string(), |v| {
+                        format!(
+                            "{} {}",
+                            numbers::format_sig(u.from_si(v), 3, lang),
+                            self.unit(u)
+                        )
+                    })
+                };
+                let d = &e.data;
+                (
+                    vec![
+                        format!("{}: {}", self.t("log-field-when"), d.when),
+                        format!("{}: {}", self.t("log-field-site"), d.site),
+                        format!("{}: {}", self.t("log-field-point"), d.point),
+                        format!(
+                            "{}: {}",
+                            self.t("log-field-chemical"),
+                            self.name(&d.chemical)
+                        ),
+                        format!(
+                            "{}: {}",
+                            self.t("result-dose"),
+                            opt(Some(d.dose_mg_per_l), Unit::MgPerL)
+                        ),
+                        format!(
+                            "{}: {}",
+                            self.t("result-feed"),
+                            opt(d.feed_kg_per_day, mass_unit)
+                        ),
+                        format!(
+                            "{}: {}",
+                            self.t("result-pump"),
+                            opt(d.pump_setting_percent, Unit::Percent)
+                        ),
+                        format!("{}: {}", self.t("log-field-note"), d.note),
+                    ],
+                    e.history.clone(),
+                )
+            }
+            None => (Vec::new(), Vec::new()),
+        };
+        adapter.set_detail(model(detail.into_iter().map(s).collect()));
+        adapter.set_history(model(history.into_iter().map(s).collect()));
+        adapter.set_status(s(st
+            .log_note
+            .as_ref()
+            .map(|n| self.note(n))
+            .unwrap_or_default()));
+    }
+
+    fn plot_data(&self, view: PlotView, title_key: &str, y_key: &str) -> PlotData {
+        PlotData {
+            title: s(self.t(title_key)),
+            commands: s(&view.commands),
+            grid: s(&view.grid),
+            x_label: s(if view.x_key.is_empty() {
+                String::new()
+            } else {
+                format!("{} — {}", self.t(&view.x_key), self.name(&view.subject))
+            }),
+            y_label: s(self.t(y_key)),
+            y_lo: s(&view.y_lo),
+            y_hi: s(&view.y_hi),
+            message: s(view
+                .message
+                .as_ref()
+                .map(|n| self.note(n))
+                .unwrap_or_default()),
+        }
+    }
+
+    fn refresh_plots(&self) {
+        let w = self.window();
+        let st = self.state.borrow();
+        let adapter = w.global::<PlotAdapter>();
+        adapter.set_titration(self.plot_data(
+            st.titration_plot(),
+            key("plot-titration"),
+            key("plot-ph-axis"),
+        ));
+        adapter.set_trend(self.plot_data(
+            st.trend_plot(),
+            key("plot-trend"),
+            key("plot-dose-axis"),
+        ));
+    }
+}

@@ -1,0 +1,648 @@
+//! The calculator controller: which inputs each calculator asks for, what the operator typed,
+//! and what the results card shows. Plain Rust, no Slint types, unit-tested without the UI.
+//!
+//! Design choice: the controller keeps the *text* the operator typed (per field name, shared
+//! across calculators so flow is typed once), parses it in the current language, converts it
+//! to SI and hands it to the [`CalcEngine`] seam. It returns a [`CalcView`] of translation keys
+//! and formatted strings; the Slint bridge only translates and copies. A field that does not
+//! parse produces a message and no number, never a partial result.
+
+use super::numbers::{self, Lang, NumberError};
+use super::seams::{
+    CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, ProductChoice, SeamError,
+};
+use super::units::{Quantity, Unit, UnitSystem};
+use crate::engine;
+use std::collections::{BTreeMap, HashMap};
+use std::rc::Rc;
+
+/// Marks a literal as a translation key (the i18n test scans for `key("…")`).
+pub const fn key(k: &'static str) -> &'static str {
+    k
+}
+
+/// One input of a calculator. Its label is the translation `field-<name>`.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct FieldSpec {
+    pub name: &'static str,
+    pub quantity: Quantity,
+}
+
+const fn f(name: &'static str, quantity: Quantity) -> FieldSpec {
+    FieldSpec { name, quantity }
+}
+
+use Quantity as Q;
+
+const PRODUCT: [FieldSpec; 3] = [
+    f("strength", Q::Percent),
+    f("specific-gravity", Q::SpecificGravity),
+    f("pump-capacity", Q::VolumePerHour),
+];
+
+/// The inputs of `kind` in `mode`, in screen order. Values reach the engine in SI under these
+/// names (`flow` m³/d, `temperature` °C, concentrations mg/L, percentages as percent).
+pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
+    let mut v = match (kind, mode) {
+        (CalcKind::PhControl, _) => vec![
+            f("flow", Q::Flow),
+            f("ph-raw", Q::Ph),
+            f("ph-target", Q::Ph),
+            f("alkalinity", Q::AsCaCO3),
+            f("temperature", Q::Temperature),
+        ],
+        (CalcKind::Chlorination, CalcMode::Chloramine) => vec![
+            f("flow", Q::Flow),
+            f("chlorine-dose", Q::Concentration),
+            f("cl2-n-ratio", Q::Ratio),
+        ],
+        (CalcKind::Chlorination, CalcMode::Dechlorination) => {
+            vec![f("flow", Q::Flow), f("residual-in", Q::Concentration)]
+        }
+        (CalcKind::Chlorination, _) => vec![
+            f("flow", Q::Flow),
+            f("chlorine-demand", Q::Concentration),
+            f("residual-target", Q::Concentration),
+        ],
+        (CalcKind::Coagulation, _) => vec![
+            f("flow", Q::Flow),
+            f("jar-dose", Q::Concentration),
+            f("alkalinity", Q::AsCaCO3),
+            f("ph", Q::Ph),
+            f("temperature", Q::Temperature),
+        ],
+        (CalcKind::Softening, _) => vec![
+            f("flow", Q::Flow),
+            f("total-hardness", Q::AsCaCO3),
+            f("calcium-hardness", Q::AsCaCO3),
+            f("alkalinity", Q::AsCaCO3),
+            f("ph", Q::Ph),
+            f("temperature", Q::Temperature),
+        ],
+        (CalcKind::PumpCheck, _) => {
+            // A drawdown test needs no pump capacity: the product fields without it.
+            return vec![
+                f("flow", Q::Flow),
+                f("dose", Q::Concentration),
+                f("drawdown-volume", Q::Millilitres),
+                f("drawdown-time", Q::Seconds),
+                f("pump-setting", Q::Percent),
+                PRODUCT[0],
+                PRODUCT[1],
+            ];
+        }
+        (CalcKind::FeedSetting, _) => vec![f("flow", Q::Flow), f("dose", Q::Concentration)],
+    };
+    v.extend(PRODUCT);
+    v
+}
+
+/// Every field name any calculator uses (for the translation check).
+pub fn all_field_names() -> Vec<&'static str> {
+    let mut names = Vec::new();
+    for kind in CalcKind::ALL {
+        for &mode in kind.modes() {
+            for spec in fields(kind, mode) {
+                if !names.contains(&spec.name) {
+                    names.push(spec.name);
+                }
+            }
+        }
+    }
+    names
+}
+
+/// One input row as the screen shows it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FieldView {
+    pub name: &'static str,
+    pub unit: Unit,
+    pub text: String,
+    /// Translation key of the problem with this field, if any.
+    pub error: Option<&'static str>,
+}
+
+/// The results card, formatted for display in the current language and units.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ResultView {
+    pub chemical: String,
+    pub dose: String,
+    pub feed: String,
+    pub feed_unit: Unit,
+    pub product: String,
+    pub product_unit: Unit,
+    pub pump: String,
+    pub trace: Vec<String>,
+    pub cautions: Vec<Caution>,
+    /// The raw outcome in SI, for logging.
+    pub outcome: CalcOutcome,
+}
+
+/// What the results card says.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Status {
+    /// Some inputs are still empty.
+    Incomplete,
+    /// Some inputs do not parse; see the fields' errors.
+    Invalid,
+    /// The engine for this calculator is not connected yet.
+    NotConnected,
+    /// The engine refused the inputs.
+    Refused(engine::Error),
+    Ready(Box<ResultView>),
+}
+
+impl Status {
+    /// The translation key of the message shown instead of numbers (`None` when ready).
+    pub fn message_key(&self) -> Option<String> {
+        match self {
+            Status::Incomplete => Some(key("calc-incomplete").into()),
+            Status::Invalid => Some(key("calc-invalid").into()),
+            Status::NotConnected => Some(key("calc-not-connected").into()),
+            Status::Refused(e) => Some(format!("error-{}", e.kind().code())),
+            Status::Ready(_) => None,
+        }
+    }
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub struct CalcView {
+    pub kind: CalcKind,
+    pub mode: CalcMode,
+    /// Products to choose from (empty: the calculator has no choice) and the chosen one.
+    pub products: Vec<ProductChoice>,
+    pub product_index: usize,
+    pub fields: Vec<FieldView>,
+    pub status: Status,
+}
+
+/// Significant figures shown on the results card.
+const RESULT_FIGURES: u32 = 3;
+
+pub struct CalcController {
+    engine: Rc<dyn CalcEngine>,
+    kind: CalcKind,
+    mode: CalcMode,
+    lang: Lang,
+    system: UnitSystem,
+    texts: HashMap<&'static str, String>,
+    products: HashMap<(CalcKind, CalcMode), String>,
+}
+
+impl CalcController {
+    pub fn new(engine: Rc<dyn CalcEngine>, lang: Lang, system: UnitSystem) -> CalcController {
+        CalcController {
+            engine,
+            kind: CalcKind::PhControl,
+            mode: CalcMode::Standard,
+            lang,
+            system,
+            texts: HashMap::new(),
+            products: HashMap::new(),
+        }
+    }
+
+    pub fn kind(&self) -> CalcKind {
+        self.kind
+    }
+
+    pub fn mode(&self) -> CalcMode {
+        self.mode
+    }
+
+    pub fn engine(&self) -> &Rc<dyn CalcEngine> {
+        &self.engine
+    }
+
+    pub fn set_kind(&mut self, kind: CalcKind) {
+        self.kind = kind;
+        if !kind.modes().contains(&self.mode) {
+            self.mode = kind.modes()[0];
+        }
+    }
+
+    pub fn set_mode(&mut self, mode: CalcMode) {
+        if self.kind.modes().contains(&mode) {
+            self.mode = mode;
+        }
+    }
+
+    /// Chooses the product by its index in the engine's list for this calculator.
+    pub fn set_product(&mut self, index: usize) {
+        if let Some(p) = self.engine.products(self.kind, self.mode).get(index) {
+            self.products.insert((self.kind, self.mode), p.id.clone());
+        }
+    }
+
+    /// The chosen product (the first offered when none was chosen) and its index.
+    fn product(&self) -> (Vec<ProductChoice>, usize, Option<String>) {
+        let list = self.engine.products(self.kind, self.mode);
+        let chosen = self.products.get(&(self.kind, self.mode));
+        let index = chosen
+            .and_then(|id| list.iter().position(|p| &p.id == id))
+            .unwrap_or(0);
+        let id = list.get(index).map(|p| p.id.clone());
+        (list, index, id)
+    }
+
+    /// Records what the operator typed in field `name`.
+    pub fn edit(&mut self, name: &str, text: &str) {
+        if let Some(spec) = all_field_names().into_iter().find(|n| *n == name) {
+            self.texts.insert(spec, text.to_string());
+        }
+    }
+
+    pub fn text(&self, name: &str) -> &str {
+        self.texts.get(name).map_or("", String::as_str)
+    }
+
+    /// Switches the language, rewriting typed numbers with the new decimal mark.
+    pub fn set_lang(&mut self, lang: Lang) {
+        let old = self.lang;
+        for text in self.texts.values_mut() {
+            if let Ok(v) = numbers::parse(text, old) {
+                *text = reformat(text, v, lang);
+            }
+        }
+        self.lang = lang;
+    }
+
+    /// Switches units, converting every typed number so the quantity stays the same.
+    pub fn set_units(&mut self, system: UnitSystem) {
+        let old = self.system;
+        let lang = self.lang;
+        let quantities: HashMap<&'static str, Quantity> = CalcKind::ALL
+            .iter()
+            .flat_map(|k| k.modes().iter().flat_map(move |m| fields(*k, *m)))
+            .map(|s| (s.name, s.quantity))
+            .collect();
+        for (name, text) in self.texts.iter_mut() {
+            let q = quantities[name];
+            if q.unit(old) == q.unit(system) {
+                continue;
+            }
+            if let Ok(v) = numbers::parse(text, lang) {
+                let si = q.unit(old).to_si(v);
+                *text = numbers::format_sig(q.unit(system).from_si(si), 4, lang);
+            }
+        }
+        self.system = system;
+    }
+
+    /// The request the current inputs make, or the per-field problems.
+    fn request(&self) -> (Vec<FieldView>, Option<CalcRequest>, bool) {
+        let mut views = Vec::new();
+        let mut values = BTreeMap::new();
+        let mut empty = false;
+        let mut invalid = false;
+        for spec in fields(self.kind, self.mode) {
+            let unit = spec.quantity.unit(self.system);
+            let text = self.text(spec.name).to_string();
+            let error = match numbers::parse(&text, self.lang) {
+                Ok(v) => {
+                    values.insert(spec.name, unit.to_si(v));
+                    None
+                }
+                Err(NumberError::Empty) => {
+                    empty = true;
+                    None
+                }
+                Err(e) => {
+                    invalid = true;
+                    Some(e.key())
+                }
+            };
+            views.push(FieldView {
+                name: spec.name,
+                unit,
+                text,
+                error,
+            });
+        }
+        let request = (!empty && !invalid).then(|| CalcRequest {
+            kind: self.kind,
+            mode: self.mode,
+            product: self.product().2,
+            values,
+        });
+        (views, request, invalid)
+    }
+
+    /// The request calculator `kind` in `mode` would make from the values typed so far (shared
+    /// fields such as flow carry over), with its chosen product.
+    pub fn request_for(&self, kind: CalcKind, mode: CalcMode) -> Option<CalcRequest> {
+        let probe = CalcController {
+            engine: self.engine.clone(),
+            kind,
+            mode,
+            lang: self.lang,
+            system: self.system,
+            texts: self.texts.clone(),
+            products: self.products.clone(),
+        };
+        probe.current_request()
+    }
+
+    /// The request for the current inputs, if they are complete and valid.
+    pub fn current_request(&self) -> Option<CalcRequest> {
+        self.request().1
+    }
+
+    pub fn view(&self) -> CalcView {
+        let (fields, request, invalid) = self.request();
+        let status = match request {
+            None if invalid => Status::Invalid,
+            None => Status::Incomplete,
+            Some(request) => match self.engine.compute(&request) {
+                Ok(outcome) => Status::Ready(Box::new(self.result_view(outcome))),
+                Err(SeamError::NotConnected) => Status::NotConnected,
+                Err(SeamError::Engine(e)) => Status::Refused(e),
+            },
+        };
+        let (products, product_index, _) = self.product();
+        CalcView {
+            kind: self.kind,
+            mode: self.mode,
+            products,
+            product_index,
+            fields,
+            status,
+        }
+    }
+
+    fn result_view(&self, outcome: CalcOutcome) -> ResultView {
+        let lang = self.lang;
+        let show = |v: Option<f64>, unit: Unit| {
+            v.map_or("—".to_string(), |v| {
+                numbers::format_sig(unit.from_si(v), RESULT_FIGURES, lang)
+            })
+        };
+        let feed_unit = Quantity::MassPerDay.unit(self.system);
+        let product_unit = Quantity::VolumePerHour.unit(self.system);
+        let mut cautions = outcome.cautions.clone();
+        cautions.sort_by(|a, b| b.level.cmp(&a.level));
+        ResultView {
+            chemical: outcome.chemical.clone(),
+            dose: show(outcome.dose_mg_per_l, Unit::MgPerL),
+            feed: show(outcome.feed_kg_per_day, feed_unit),
+            feed_unit,
+            product: show(outcome.product_l_per_hour, product_unit),
+            product_unit,
+            pump: show(outcome.pump_setting_percent, Unit::Percent),
+            trace: outcome.trace.clone(),
+            cautions,
+            outcome,
+        }
+    }
+}
+
+fn reformat(text: &str, v: f64, lang: Lang) -> String {
+    // Keep the operator's digits; only the decimal mark changes.
+    let decimals = text
+        .trim()
+        .rsplit(['.', ','])
+        .next()
+        .filter(|_| text.contains(['.', ',']))
+        .map_or(0, str::len);
+    numbers::format_fixed(v, decimals, lang)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::app::seams::{CautionLevel, Unconnected};
+    use std::cell::RefCell;
+
+    /// A stand-in engine that records the request and reports the SI inputs back as outputs,
+    /// so the tests check the controller's plumbing and formatting, not chemistry.
+    #[derive(Default)]
+    struct Recorder {
+        seen: RefCell<Vec<CalcRequest>>,
+    }
+
+    impl CalcEngine for Recorder {
+        fn products(&self, kind: CalcKind, _mode: CalcMode) -> Vec<ProductChoice> {
+            if kind != CalcKind::FeedSetting {
+                return Vec::new();
+            }
+            ["first", "second"]
+                .iter()
+                .map(|id| ProductChoice {
+                    id: id.to_string(),
+                    name_key: format!("product-{id}"),
+                })
+                .collect()
+        }
+
+        fn compute(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+            self.seen.borrow_mut().push(request.clone());
+            if request.get("flow") == Some(0.0) {
+                return Err(SeamError::Engine(engine::Error::new(
+                    engine::ErrorKind::OutOfRange,
+                    "flow must be greater than zero",
+                )));
+            }
+            Ok(CalcOutcome {
+                chemical: "echo".into(),
+                dose_mg_per_l: request.get("dose"),
+                feed_kg_per_day: request.get("flow"),
+                product_l_per_hour: request.get("pump-capacity"),
+                pump_setting_percent: None,
+                trace: vec!["step 1".into()],
+                cautions: vec![
+                    Caution {
+                        level: CautionLevel::Info,
+                        code: "x".into(),
+                        message: "info".into(),
+                        params: vec![],
+                    },
+                    Caution {
+                        level: CautionLevel::Danger,
+                        code: "y".into(),
+                        message: "danger".into(),
+                        params: vec![],
+                    },
+                ],
+            })
+        }
+    }
+
+    fn fill(c: &mut CalcController, pairs: &[(&str, &str)]) {
+        for (n, t) in pairs {
+            c.edit(n, t);
+        }
+    }
+
+    #[test]
+    fn incomplete_until_every_field_has_a_number() {
+        let rec = Rc::new(Recorder::default());
+        let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Si);
+        c.set_kind(CalcKind::FeedSetting);
+        assert_eq!(c.view().status, Status::Incomplete);
+        fill(&mut c, &[("flow", "1000"), ("dose", "2")]);
+        assert_eq!(c.view().status, Status::Incomplete);
+        assert!(
+            rec.seen.borrow().is_empty(),
+            "engine called with missing inputs"
+        );
+    }
+
+    #[test]
+    fn invalid_text_gives_a_field_error_and_no_numbers() {
+        let rec = Rc::new(Recorder::default());
+        let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Si);
+        c.set_kind(CalcKind::FeedSetting);
+        fill(
+            &mut c,
+            &[
+                ("flow", "12x"),
+                ("dose", "2"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.2"),
+                ("pump-capacity", "10"),
+            ],
+        );
+        let view = c.view();
+        assert_eq!(view.status, Status::Invalid);
+        assert_eq!(view.status.message_key().as_deref(), Some("calc-invalid"));
+        assert_eq!(view.fields[0].error, Some("number-invalid"));
+        assert!(rec.seen.borrow().is_empty());
+    }
+
+    #[test]
+    fn values_reach_the_engine_in_si_and_come_back_in_display_units() {
+        let rec = Rc::new(Recorder::default());
+        let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Us);
+        c.set_kind(CalcKind::FeedSetting);
+        fill(
+            &mut c,
+            &[
+                ("flow", "1"),
+                ("dose", "2"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.2"),
+                ("pump-capacity", "10"),
+            ],
+        );
+        let Status::Ready(r) = c.view().status else {
+            panic!("expected a result")
+        };
+        let seen = rec.seen.borrow()[0].clone();
+        assert!((seen.get("flow").unwrap() - 3785.411784).abs() < 1e-6);
+        assert!((seen.get("pump-capacity").unwrap() - 37.85411784).abs() < 1e-9);
+        // The recorder reports flow (m³/d) as kg/d; in US units that is shown as lb/d.
+        assert_eq!(
+            r.feed,
+            numbers::format_sig(3785.411784 / 0.45359237, 3, Lang::En)
+        );
+        assert_eq!(r.feed_unit, Unit::LbPerDay);
+        assert_eq!(r.dose, "2.00");
+        assert_eq!(r.pump, "—");
+        assert_eq!(
+            r.cautions[0].level,
+            CautionLevel::Danger,
+            "worst caution first"
+        );
+    }
+
+    #[test]
+    fn spanish_comma_input_and_output() {
+        let rec = Rc::new(Recorder::default());
+        let mut c = CalcController::new(rec.clone(), Lang::Es, UnitSystem::Si);
+        c.set_kind(CalcKind::FeedSetting);
+        fill(
+            &mut c,
+            &[
+                ("flow", "1500"),
+                ("dose", "2,5"),
+                ("strength", "12,5"),
+                ("specific-gravity", "1,2"),
+                ("pump-capacity", "10"),
+            ],
+        );
+        let Status::Ready(r) = c.view().status else {
+            panic!("expected a result")
+        };
+        assert_eq!(r.dose, "2,50");
+        assert_eq!(rec.seen.borrow()[0].get("dose"), Some(2.5));
+    }
+
+    #[test]
+    fn engine_refusal_and_unconnected_engine_are_reported() {
+        let rec = Rc::new(Recorder::default());
+        let mut c = CalcController::new(rec, Lang::En, UnitSystem::Si);
+        c.set_kind(CalcKind::FeedSetting);
+        let inputs = [
+            ("flow", "0"),
+            ("dose", "2"),
+            ("strength", "12.5"),
+            ("specific-gravity", "1.2"),
+            ("pump-capacity", "10"),
+        ];
+        fill(&mut c, &inputs);
+        assert_eq!(
+            c.view().status.message_key().as_deref(),
+            Some("error-out-of-range")
+        );
+        let mut u = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Si);
+        u.set_kind(CalcKind::FeedSetting);
+        fill(&mut u, &inputs);
+        assert_eq!(u.view().status, Status::NotConnected);
+    }
+
+    #[test]
+    fn switching_units_and_language_keeps_the_quantity() {
+        let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
+        c.edit("flow", "1");
+        c.edit("temperature", "68");
+        c.edit("ph", "7.25");
+        c.set_units(UnitSystem::Si);
+        assert_eq!(c.text("flow"), "3785");
+        assert_eq!(c.text("temperature"), "20.00");
+        assert_eq!(c.text("ph"), "7.25");
+        c.set_lang(Lang::Es);
+        assert_eq!(c.text("ph"), "7,25");
+        assert_eq!(c.text("temperature"), "20,00");
+    }
+
+    #[test]
+    fn the_chosen_product_goes_with_the_request() {
+        let rec = Rc::new(Recorder::default());
+        let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Si);
+        c.set_kind(CalcKind::FeedSetting);
+        fill(
+            &mut c,
+            &[
+                ("flow", "100"),
+                ("dose", "2"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.2"),
+                ("pump-capacity", "10"),
+            ],
+        );
+        let view = c.view();
+        assert_eq!(view.products.len(), 2);
+        assert_eq!(view.product_index, 0);
+        c.set_product(1);
+        assert_eq!(c.view().product_index, 1);
+        let seen = rec.seen.borrow();
+        assert_eq!(seen[0].product.as_deref(), Some("first"));
+        assert_eq!(seen.last().unwrap().product.as_deref(), Some("second"));
+        drop(seen);
+        c.set_kind(CalcKind::Softening);
+        assert!(c.view().products.is_empty());
+    }
+
+    #[test]
+    fn chlorination_modes_change_the_inputs() {
+        let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Si);
+        c.set_kind(CalcKind::Chlorination);
+        assert_eq!(c.mode(), CalcMode::FreeChlorine);
+        c.set_mode(CalcMode::Dechlorination);
+        let names: Vec<_> = c.view().fields.iter().map(|f| f.name).collect();
+        assert!(names.contains(&"residual-in"));
+        assert!(!names.contains(&"chlorine-demand"));
+        c.set_kind(CalcKind::Softening);
+        assert_eq!(c.mode(), CalcMode::Standard);
+    }
+}

@@ -1,0 +1,74 @@
+//! The app layer: controllers in plain Rust, and (with the `app` feature) the Slint UI.
+//!
+//! Design choice: as in Slint's todo-mvc example, each view exports a global adapter of
+//! properties and callbacks; Rust controllers ([`state`], [`calc`]) own the behaviour and know
+//! nothing of Slint, and one bridge copies their views into the adapters. The app is a library
+//! with one entry, [`run`], so desktop (`molefeed` with no arguments) and Android share it;
+//! each platform injects its data directory. The engine and the log are reached only through
+//! the seams in [`seams`] and [`dose_log`].
+
+pub mod calc;
+pub mod dose_log;
+pub mod engine_adapter;
+pub mod keys;
+pub mod numbers;
+pub mod plot;
+pub mod seams;
+pub mod state;
+pub mod units;
+
+#[cfg(feature = "app")]
+mod bridge;
+#[cfg(feature = "app")]
+pub mod i18n;
+
+/// The generated Slint types (`AppWindow` and the adapter globals).
+#[cfg(feature = "app")]
+pub mod ui {
+    slint::include_modules!();
+}
+
+#[cfg(feature = "app")]
+pub use bridge::{AppHandle, Deps, attach};
+
+use std::path::PathBuf;
+
+/// How a platform starts the app.
+#[derive(Clone, Debug, Default)]
+pub struct RunOptions {
+    /// Where settings (and later the log) are stored. `None`: nothing is written.
+    pub data_dir: Option<PathBuf>,
+    /// Force a language (otherwise the saved setting, else the system locale, else English).
+    pub lang: Option<numbers::Lang>,
+    /// Whether "back" on the first screen closes the app (Android's back key does).
+    pub quit_on_root_back: bool,
+}
+
+impl RunOptions {
+    /// Desktop defaults: the per-user data directory and the locale from the environment.
+    pub fn desktop() -> RunOptions {
+        // The same per-user directory the dose log uses (its files go in `logs/` inside).
+        let data_dir =
+            directories::ProjectDirs::from("", "", "Molefeed").map(|d| d.data_dir().to_path_buf());
+        let lang = ["LC_ALL", "LC_MESSAGES", "LANG"]
+            .iter()
+            .filter_map(|v| std::env::var(v).ok())
+            .find(|v| !v.is_empty())
+            .and_then(|v| numbers::Lang::from_tag(&v));
+        RunOptions {
+            data_dir,
+            lang,
+            quit_on_root_back: false,
+        }
+    }
+}
+
+/// Opens the app window and runs until it is closed. Desktop `molefeed` and the Android entry
+/// both call this.
+#[cfg(feature = "app")]
+pub fn run(options: RunOptions) -> Result<(), slint::PlatformError> {
+    use slint::ComponentHandle;
+    let window = ui::AppWindow::new()?;
+    let _handle = attach(&window, Deps::from_options(&options));
+    window.run()
+}

@@ -1,0 +1,695 @@
+//! The app controller: settings, navigation, the site profile, and the log screens' logic.
+//! Plain Rust with no Slint types, so every behaviour here is unit-tested without a window.
+//!
+//! Design choice: one owner ([`AppState`]) for everything the screens show, mutated only by
+//! named methods the Slint bridge calls from callbacks; after each call the bridge re-reads the
+//! state and pushes it into the Slint globals. Settings persist as a small JSON file in the
+//! data directory the platform injects (desktop: XDG data dir; Android: internal storage).
+
+use super::calc::{CalcController, Status, key};
+use super::dose_log::{DoseLog, Entry, LogError, NewEntry, now_utc_iso};
+use super::numbers::{self, Lang};
+use super::plot::{self, Range};
+use super::seams::{CalcEngine, CalcKind, CalcMode, SeamError};
+use super::units::{Unit, UnitSystem};
+use serde::{Deserialize, Serialize};
+use std::path::PathBuf;
+use std::rc::Rc;
+
+/// The screens, in navigation order (the index is what the Slint side switches on).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Screen {
+    Start = 0,
+    Calculators = 1,
+    Plots = 2,
+    Log = 3,
+    Settings = 4,
+    About = 5,
+}
+
+impl Screen {
+    pub const ALL: [Screen; 6] = [
+        Screen::Start,
+        Screen::Calculators,
+        Screen::Plots,
+        Screen::Log,
+        Screen::Settings,
+        Screen::About,
+    ];
+
+    pub fn from_index(i: i32) -> Option<Screen> {
+        Screen::ALL.get(usize::try_from(i).ok()?).copied()
+    }
+}
+
+/// A site and its dosing points (taps).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SiteProfile {
+    pub name: String,
+    pub points: Vec<String>,
+}
+
+/// What the operator chose in Settings; saved between runs.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Settings {
+    pub lang: String,
+    pub us_units: bool,
+    pub high_contrast: bool,
+    pub sites: Vec<SiteProfile>,
+    pub site_index: usize,
+    pub point_index: usize,
+}
+
+impl Default for Settings {
+    fn default() -> Settings {
+        Settings {
+            lang: "en".into(),
+            us_units: true,
+            high_contrast: false,
+            sites: vec![SiteProfile {
+                name: "Demo site".into(),
+                points: vec!["Raw water".into(), "Clearwell".into()],
+            }],
+            site_index: 0,
+            point_index: 0,
+        }
+    }
+}
+
+/// A short message for the operator: a translation key and its arguments.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct Note {
+    pub key: String,
+    pub args: Vec<(&'static str, String)>,
+}
+
+impl Note {
+    fn new(key: &str) -> Note {
+        Note {
+            key: key.into(),
+            args: Vec::new(),
+        }
+    }
+
+    fn arg(mut self, name: &'static str, value: impl ToString) -> Note {
+        self.args.push((name, value.to_string()));
+        self
+    }
+}
+
+/// One row of "latest logged dose" on the Start screen.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LatestDose {
+    pub point: String,
+    pub chemical: String,
+    pub dose: String,
+    pub when: String,
+}
+
+/// A drawn plot: command strings in the view box of [`plot`], or why there is none.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct PlotView {
+    pub commands: String,
+    pub grid: String,
+    /// Translation key of the x-axis label.
+    pub x_key: String,
+    /// What is plotted (titrant or chemical · point), as data.
+    pub subject: String,
+    pub y_lo: String,
+    pub y_hi: String,
+    pub message: Option<Note>,
+}
+
+pub struct AppState {
+    pub settings: Settings,
+    pub calc: CalcController,
+    log: Box<dyn DoseLog>,
+    data_dir: Option<PathBuf>,
+    history: Vec<Screen>,
+    screen: Screen,
+    pub log_filter: String,
+    selected: Option<u64>,
+    pub calc_note: Option<Note>,
+    pub log_note: Option<Note>,
+}
+
+impl AppState {
+    /// Builds the state; reads saved settings from `data_dir` when there are any.
+    pub fn new(
+        engine: Rc<dyn CalcEngine>,
+        log: Box<dyn DoseLog>,
+        data_dir: Option<PathBuf>,
+        lang_override: Option<Lang>,
+    ) -> AppState {
+        let mut settings = data_dir
+            .as_ref()
+            .and_then(|d| std::fs::read_to_string(d.join("settings.json")).ok())
+            .and_then(|t| serde_json::from_str::<Settings>(&t).ok())
+            .unwrap_or_default();
+        if let Some(lang) = lang_override {
+            settings.lang = lang.tag().into();
+        }
+        if settings.sites.is_empty() {
+            settings.sites = Settings::default().sites;
+        }
+        let lang = Lang::from_tag(&settings.lang).unwrap_or(Lang::En);
+        let system = if settings.us_units {
+            UnitSystem::Us
+        } else {
+            UnitSystem::Si
+        };
+        AppState {
+            calc: CalcController::new(engine, lang, system),
+            settings,
+            log,
+            data_dir,
+            history: Vec::new(),
+            screen: Screen::Start,
+            log_filter: String::new(),
+            selected: None,
+            calc_note: None,
+            log_note: None,
+        }
+    }
+
+    pub fn lang(&self) -> Lang {
+        Lang::from_tag(&self.settings.lang).unwrap_or(Lang::En)
+    }
+
+    pub fn units(&self) -> UnitSystem {
+        if self.settings.us_units {
+            UnitSystem::Us
+        } else {
+            UnitSystem::Si
+        }
+    }
+
+    pub fn screen(&self) -> Screen {
+        self.screen
+    }
+
+    pub fn navigate(&mut self, to: Screen) {
+        if to != self.screen {
+            self.history.push(self.screen);
+            self.screen = to;
+        }
+    }
+
+    /// Goes to the previous screen; `false` when already at the first one (the platform may
+    /// then close the app).
+    pub fn back(&mut self) -> bool {
+        match self.history.pop() {
+            Some(s) => {
+                self.screen = s;
+                true
+            }
+            None => false,
+        }
+    }
+
+    /// Opens calculator `kind` from the Start screen's quick entries.
+    pub fn open_calculator(&mut self, kind: CalcKind) {
+        self.calc.set_kind(kind);
+        self.calc_note = None;
+        self.navigate(Screen::Calculators);
+    }
+
+    pub fn set_lang(&mut self, lang: Lang) {
+        self.settings.lang = lang.tag().into();
+        self.calc.set_lang(lang);
+        self.save();
+    }
+
+    pub fn set_units(&mut self, system: UnitSystem) {
+        self.settings.us_units = system == UnitSystem::Us;
+        self.calc.set_units(system);
+        self.save();
+    }
+
+    pub fn set_high_contrast(&mut self, on: bool) {
+        self.settings.high_contrast = on;
+        self.save();
+    }
+
+    pub fn site(&self) -> &SiteProfile {
+        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
+        &self.settings.sites[i]
+    }
+
+    fn site_mut(&mut self) -> &mut SiteProfile {
+        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
+        &mut self.settings.sites[i]
+    }
+
+    pub fn point(&self) -> Option<&str> {
+        self.site()
+            .points
+            .get(self.settings.point_index)
+            .map(String::as_str)
+    }
+
+    pub fn pick_site(&mut self, index: usize) {
+        if index < self.settings.sites.len() {
+            self.settings.site_index = index;
+            self.settings.point_index = 0;
+            self.save();
+        }
+    }
+
+    pub fn pick_point(&mut self, index: usize) {
+        if index < self.site().points.len() {
+            self.settings.point_index = index;
+            self.save();
+        }
+    }
+
+    pub fn rename_site(&mut self, name: &str) {
+        let name = name.trim();
+        if !name.is_empty() {
+            self.site_mut().name = name.to_string();
+            self.save();
+        }
+    }
+
+    pub fn add_site(&mut self, name: &str) {
+        let name = name.trim();
+        if !name.is_empty() {
+            self.settings.sites.push(SiteProfile {
+                name: name.into(),
+                points: Vec::new(),
+            });
+            self.settings.site_index = self.settings.sites.len() - 1;
+            self.settings.point_index = 0;
+            self.save();
+        }
+    }
+
+    pub fn add_point(&mut self, name: &str) {
+        let name = name.trim();
+        if !name.is_empty() && !self.site().points.iter().any(|p| p == name) {
+            self.site_mut().points.push(name.to_string());
+            self.save();
+        }
+    }
+
+    pub fn remove_point(&mut self, index: usize) {
+        if index < self.site().points.len() {
+            self.site_mut().points.remove(index);
+            let len = self.site().points.len();
+            if self.settings.point_index >= len {
+                self.settings.point_index = len.saturating_sub(1);
+            }
+            self.save();
+        }
+    }
+
+    fn save(&self) {
+        if let Some(dir) = &self.data_dir {
+            if std::fs::create_dir_all(dir).is_ok() {
+                if let Ok(text) = serde_json::to_string_pretty(&self.settings) {
+                    let _ = std::fs::write(dir.join("settings.json"), text);
+                }
+            }
+        }
+    }
+
+    /// Whether logged doses survive a restart (drives the "not saved" banner).
+    pub fn log_is_persistent(&self) -> bool {
+        self.log.persistent()
+    }
+
+    /// "Log this dose": records the current result for the selected site and point.
+    pub fn log_current_dose(&mut self) -> Result<u64, Note> {
+        let result = match self.calc.view().status {
+            Status::Ready(r) => r,
+            _ => {
+                let note = Note::new(key("log-nothing-to-log"));
+                self.calc_note = Some(note.clone());
+                return Err(note);
+            }
+        };
+        let Some(dose) = result.outcome.dose_mg_per_l else {
+            let note = Note::new(key("log-nothing-to-log"));
+            self.calc_note = Some(note.clone());
+            return Err(note);
+        };
+        let entry = NewEntry {
+            when: now_utc_iso(),
+            site: self.site().name.clone(),
+            point: self.point().unwrap_or("").to_string(),
+            chemical: result.chemical.clone(),
+            dose_mg_per_l: dose,
+            feed_kg_per_day: result.outcome.feed_kg_per_day,
+            pump_setting_percent: result.outcome.pump_setting_percent,
+            flow_m3_per_day: self.calc.current_request().and_then(|r| r.get("flow")),
+            product_l_per_hour: result.outcome.product_l_per_hour,
+            trace: result.outcome.trace.clone(),
+            cautions: result
+                .outcome
+                .cautions
+                .iter()
+                .map(|c| c.code.clone())
+                .collect(),
+            note: String::new(),
+        };
+        match self.log.append(entry) {
+            Ok(id) => {
+                self.calc_note = Some(Note::new(key("log-saved")).arg("id", id));
+                self.selected = Some(id);
+                Ok(id)
+            }
+            Err(e) => {
+                let note = log_error_note(&e);
+                self.calc_note = Some(note.clone());
+                Err(note)
+            }
+        }
+    }
+
+    pub fn entries(&self) -> Vec<Entry> {
+        self.log.entries()
+    }
+
+    /// Entries matching the filter text (site, point or chemical contains it), newest first.
+    pub fn filtered_entries(&self) -> Vec<Entry> {
+        let needle = self.log_filter.trim().to_lowercase();
+        let mut v: Vec<Entry> = self
+            .log
+            .entries()
+            .into_iter()
+            .filter(|e| {
+                needle.is_empty()
+                    || [&e.data.site, &e.data.point, &e.data.chemical]
+                        .iter()
+                        .any(|s| s.to_lowercase().contains(&needle))
+            })
+            .collect();
+        v.reverse();
+        v
+    }
+
+    pub fn select_entry(&mut self, id: u64) {
+        self.selected = Some(id);
+    }
+
+    pub fn selected_entry(&self) -> Option<Entry> {
+        let id = self.selected?;
+        self.log.entries().into_iter().find(|e| e.id == id)
+    }
+
+    /// The newest entry for each (point, chemical) at the current site.
+    pub fn latest_doses(&self) -> Vec<LatestDose> {
+        let site = self.site().name.clone();
+        let mut out: Vec<LatestDose> = Vec::new();
+        let mut seen: Vec<(String, String)> = Vec::new();
+        for e in self.log.entries().iter().rev() {
+            let pair = (e.data.point.clone(), e.data.chemical.clone());
+            if e.data.site != site || seen.contains(&pair) {
+                continue;
+            }
+            seen.push(pair);
+            out.push(LatestDose {
+                point: e.data.point.clone(),
+                chemical: e.data.chemical.clone(),
+                dose: numbers::format_sig(e.data.dose_mg_per_l, 3, self.lang()),
+                when: e
+                    .data
+                    .when
+                    .replace('T', " ")
+                    .trim_end_matches('Z')
+                    .to_string(),
+            });
+        }
+        out
+    }
+
+    pub fn export_log(&mut self, path: &str) {
+        self.log_note = Some(match self.log.export(&PathBuf::from(path.trim())) {
+            Ok(n) => Note::new(key("log-exported")).arg("count", n),
+            Err(e) => log_error_note(&e),
+        });
+    }
+
+    pub fn import_log(&mut self, path: &str) {
+        self.log_note = Some(match self.log.import(&PathBuf::from(path.trim())) {
+            Ok(n) => Note::new(key("log-imported")).arg("count", n),
+            Err(e) => log_error_note(&e),
+        });
+    }
+
+    /// A sensible default export path in the data directory.
+    pub fn default_transfer_path(&self) -> String {
+        self.data_dir
+            .as_ref()
+            .map(|d| d.join("dose-log.jsonl").display().to_string())
+            .unwrap_or_default()
+    }
+
+    /// The titration curve for the pH-control inputs, from the engine seam.
+    pub fn titration_plot(&self) -> PlotView {
+        let Some(request) = self
+            .calc
+            .request_for(CalcKind::PhControl, CalcMode::Standard)
+        else {
+            return PlotView {
+                message: Some(Note::new(key("plot-need-ph-inputs"))),
+                ..PlotView::default()
+            };
+        };
+        match self.calc.engine().titration_curve(&request) {
+            Ok(curve) => self.plot_of(&curve.points, key("plot-titrant-axis"), &curve.titrant),
+            Err(SeamError::NotConnected) => PlotView {
+                message: Some(Note::new(key("calc-not-connected"))),
+                ..PlotView::default()
+            },
+            Err(SeamError::Engine(e)) => PlotView {
+                message: Some(Note::new(&format!("error-{}", e.kind().code()))),
+                ..PlotView::default()
+            },
+        }
+    }
+
+    /// Logged doses of the chemical of the selected (or newest) entry, oldest first.
+    pub fn trend_plot(&self) -> PlotView {
+        let entries = self.log.entries();
+        let Some(focus) = self.selected_entry().or_else(|| entries.last().cloned()) else {
+            return PlotView {
+                message: Some(Note::new(key("plot-no-log"))),
+                ..PlotView::default()
+            };
+        };
+        let points: Vec<(f64, f64)> = entries
+            .iter()
+            .filter(|e| e.data.chemical == focus.data.chemical && e.data.point == focus.data.point)
+            .enumerate()
+            .map(|(i, e)| (i as f64, e.data.dose_mg_per_l))
+            .collect();
+        if points.len() < 2 {
+            return PlotView {
+                message: Some(Note::new(key("plot-need-two"))),
+                ..PlotView::default()
+            };
+        }
+        let label = format!("{} · {}", focus.data.chemical, focus.data.point);
+        self.plot_of(&points, key("plot-entries-axis"), &label)
+    }
+
+    fn plot_of(&self, points: &[(f64, f64)], x_key: &str, subject: &str) -> PlotView {
+        let (Some(x), Some(y)) = (
+            Range::around(points.iter().map(|p| p.0)),
+            Range::around(points.iter().map(|p| p.1)),
+        ) else {
+            return PlotView {
+                message: Some(Note::new(key("plot-no-data"))),
+                ..PlotView::default()
+            };
+        };
+        let lang = self.lang();
+        PlotView {
+            commands: plot::polyline(points, x, y),
+            grid: plot::grid(&[y.lo + (y.hi - y.lo) / 2.0], y),
+            x_key: x_key.to_string(),
+            subject: subject.to_string(),
+            y_lo: numbers::format_sig(y.lo, 3, lang),
+            y_hi: numbers::format_sig(y.hi, 3, lang),
+            message: None,
+        }
+    }
+
+    /// The display unit of the dose (same in both systems; here for the labels).
+    pub fn dose_unit(&self) -> Unit {
+        Unit::MgPerL
+    }
+}
+
+fn log_error_note(e: &LogError) -> Note {
+    match e {
+        LogError::Rejected { code, message } => {
+            Note::new(&format!("log-error-{code}")).arg("detail", message)
+        }
+        LogError::Io(message) => Note::new(key("log-io-error")).arg("detail", message),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::app::dose_log::MemoryLog;
+    use crate::app::seams::{CalcOutcome, CalcRequest, Unconnected};
+
+    struct DoseEcho;
+    impl CalcEngine for DoseEcho {
+        fn compute(&self, r: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+            Ok(CalcOutcome {
+                chemical: "test-chemical".into(),
+                dose_mg_per_l: r.get("dose"),
+                ..CalcOutcome::default()
+            })
+        }
+    }
+
+    fn state(engine: Rc<dyn CalcEngine>) -> AppState {
+        AppState::new(engine, Box::new(MemoryLog::default()), None, None)
+    }
+
+    fn fill_feed(s: &mut AppState, dose: &str) {
+        s.calc.set_kind(CalcKind::FeedSetting);
+        for (n, t) in [
+            ("flow", "1"),
+            ("dose", dose),
+            ("strength", "12.5"),
+            ("specific-gravity", "1.2"),
+            ("pump-capacity", "10"),
+        ] {
+            s.calc.edit(n, t);
+        }
+    }
+
+    #[test]
+    fn back_retraces_navigation() {
+        let mut s = state(Rc::new(Unconnected));
+        assert!(!s.back());
+        s.navigate(Screen::Settings);
+        s.open_calculator(CalcKind::Softening);
+        assert_eq!(s.screen(), Screen::Calculators);
+        assert_eq!(s.calc.kind(), CalcKind::Softening);
+        assert!(s.back());
+        assert_eq!(s.screen(), Screen::Settings);
+        assert!(s.back());
+        assert_eq!(s.screen(), Screen::Start);
+        assert!(!s.back());
+    }
+
+    #[test]
+    fn logging_a_dose_stores_it_and_updates_latest() {
+        let mut s = state(Rc::new(DoseEcho));
+        assert!(!s.log_is_persistent());
+        assert!(s.log_current_dose().is_err(), "nothing computed yet");
+        fill_feed(&mut s, "1.5");
+        let id = s.log_current_dose().expect("logged");
+        fill_feed(&mut s, "2.25");
+        s.log_current_dose().expect("logged");
+        let entries = s.entries();
+        assert_eq!(entries.len(), 2);
+        assert_eq!(entries[0].id, id);
+        assert_eq!(entries[0].data.point, "Raw water");
+        let flow = entries[0]
+            .data
+            .flow_m3_per_day
+            .expect("flow kept with the entry");
+        assert!((flow - 3785.411784).abs() < 1e-6, "{flow}");
+        let latest = s.latest_doses();
+        assert_eq!(latest.len(), 1);
+        assert_eq!(latest[0].dose, "2.25");
+        assert_eq!(s.calc_note.as_ref().unwrap().key, "log-saved");
+        let trend = s.trend_plot();
+        assert!(
+            trend.commands.starts_with("M 0.0 600.0 L 1000.0 0.0"),
+            "{trend:?}"
+        );
+    }
+
+    #[test]
+    fn filter_matches_point_and_chemical() {
+        let mut s = state(Rc::new(DoseEcho));
+        fill_feed(&mut s, "1");
+        s.log_current_dose().unwrap();
+        s.pick_point(1);
+        fill_feed(&mut s, "2");
+        s.log_current_dose().unwrap();
+        s.log_filter = "clearW".into();
+        let rows = s.filtered_entries();
+        assert_eq!(rows.len(), 1);
+        assert_eq!(rows[0].data.dose_mg_per_l, 2.0);
+        s.log_filter = "test-chem".into();
+        assert_eq!(s.filtered_entries().len(), 2);
+    }
+
+    #[test]
+    fn site_profile_edits() {
+        let mut s = state(Rc::new(Unconnected));
+        s.add_point("Filter effluent");
+        s.add_point("Filter effluent");
+        assert_eq!(s.site().points.len(), 3);
+        s.pick_point(2);
+        s.remove_point(2);
+        assert_eq!(s.point(), Some("Clearwell"));
+        s.rename_site("  East wells ");
+        assert_eq!(s.site().name, "East wells");
+        s.add_site("River intake");
+        assert_eq!(s.site().name, "River intake");
+        assert_eq!(s.point(), None);
+    }
+
+    #[test]
+    fn settings_persist_in_the_data_dir() {
+        let dir = std::env::temp_dir().join(format!("molefeed-settings-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        {
+            let mut s = AppState::new(
+                Rc::new(Unconnected),
+                Box::new(MemoryLog::default()),
+                Some(dir.clone()),
+                None,
+            );
+            s.set_lang(Lang::Es);
+            s.set_units(UnitSystem::Si);
+            s.rename_site("Planta Sur");
+        }
+        let s = AppState::new(
+            Rc::new(Unconnected),
+            Box::new(MemoryLog::default()),
+            Some(dir.clone()),
+            None,
+        );
+        assert_eq!(s.lang(), Lang::Es);
+        assert_eq!(s.units(), UnitSystem::Si);
+        assert_eq!(s.site().name, "Planta Sur");
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn titration_plot_waits_for_inputs_then_for_the_engine() {
+        let mut s = state(Rc::new(Unconnected));
+        assert_eq!(
+            s.titration_plot().message.unwrap().key,
+            "plot-need-ph-inputs"
+        );
+        for (n, t) in [
+            ("flow", "1"),
+            ("ph-raw", "6.8"),
+            ("ph-target", "7.4"),
+            ("alkalinity", "40"),
+            ("temperature", "60"),
+            ("strength", "25"),
+            ("specific-gravity", "1.3"),
+            ("pump-capacity", "5"),
+        ] {
+            s.calc.edit(n, t);
+        }
+        assert_eq!(
+            s.titration_plot().message.unwrap().key,
+            "calc-not-connected"
+        );
+    }
+}

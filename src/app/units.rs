@@ -1,0 +1,193 @@
+//! Display units: what the operator reads and types, converted to and from the SI values the
+//! engine works in.
+//!
+//! Design choice: each quantity has exactly one SI unit (the engine's) and one display unit per
+//! unit system, so a controller never guesses. Only exact, defined conversion factors live here
+//! (the US gallon, the avoirdupois pound, the Fahrenheit scale); no chemistry.
+
+/// The operator's unit system, chosen in Settings.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum UnitSystem {
+    Us,
+    Si,
+}
+
+/// A measured quantity a field or a result carries.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Quantity {
+    /// Plant or process flow. SI: m³/d. US: MGD.
+    Flow,
+    /// Concentration in water. mg/L in both systems.
+    Concentration,
+    /// Concentration expressed as calcium carbonate. mg/L as CaCO₃ in both systems.
+    AsCaCO3,
+    /// pH, dimensionless.
+    Ph,
+    /// Temperature. SI: °C. US: °F.
+    Temperature,
+    /// Daily feed mass. SI: kg/d. US: lb/d.
+    MassPerDay,
+    /// Product volume rate. SI: L/h. US: gal/h.
+    VolumePerHour,
+    /// A fraction shown as percent (product strength, pump setting).
+    Percent,
+    /// Specific gravity, dimensionless.
+    SpecificGravity,
+    /// A small volume read from a calibration column. mL in both systems.
+    Millilitres,
+    /// A time read with a stopwatch. s in both systems.
+    Seconds,
+    /// A mass ratio such as Cl₂ : N. Dimensionless.
+    Ratio,
+}
+
+/// The unit a value is shown in; `code()` is the translation-key stem (`unit-<code>`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Unit {
+    CubicMetresPerDay,
+    Mgd,
+    MgPerL,
+    MgPerLAsCaCO3,
+    PhUnits,
+    Celsius,
+    Fahrenheit,
+    KgPerDay,
+    LbPerDay,
+    LitresPerHour,
+    GallonsPerHour,
+    Percent,
+    NoUnit,
+    Millilitres,
+    Seconds,
+    Ratio,
+}
+
+/// m³ in one US gallon (exact by definition: 231 in³).
+const M3_PER_GALLON: f64 = 3.785_411_784e-3;
+/// kg in one avoirdupois pound (exact by definition).
+const KG_PER_POUND: f64 = 0.453_592_37;
+
+impl Unit {
+    pub const ALL: [Unit; 16] = [
+        Unit::CubicMetresPerDay,
+        Unit::Mgd,
+        Unit::MgPerL,
+        Unit::MgPerLAsCaCO3,
+        Unit::PhUnits,
+        Unit::Celsius,
+        Unit::Fahrenheit,
+        Unit::KgPerDay,
+        Unit::LbPerDay,
+        Unit::LitresPerHour,
+        Unit::GallonsPerHour,
+        Unit::Percent,
+        Unit::NoUnit,
+        Unit::Millilitres,
+        Unit::Seconds,
+        Unit::Ratio,
+    ];
+
+    pub fn code(self) -> &'static str {
+        match self {
+            Unit::CubicMetresPerDay => "m3-per-day",
+            Unit::Mgd => "mgd",
+            Unit::MgPerL => "mg-per-l",
+            Unit::MgPerLAsCaCO3 => "mg-per-l-caco3",
+            Unit::PhUnits => "ph",
+            Unit::Celsius => "celsius",
+            Unit::Fahrenheit => "fahrenheit",
+            Unit::KgPerDay => "kg-per-day",
+            Unit::LbPerDay => "lb-per-day",
+            Unit::LitresPerHour => "l-per-hour",
+            Unit::GallonsPerHour => "gal-per-hour",
+            Unit::Percent => "percent",
+            Unit::NoUnit => "none",
+            Unit::Millilitres => "ml",
+            Unit::Seconds => "s",
+            Unit::Ratio => "ratio",
+        }
+    }
+
+    /// Converts a value shown in this unit to the quantity's SI unit.
+    pub fn to_si(self, v: f64) -> f64 {
+        match self {
+            Unit::Mgd => v * 1.0e6 * M3_PER_GALLON,
+            Unit::Fahrenheit => (v - 32.0) * 5.0 / 9.0,
+            Unit::LbPerDay => v * KG_PER_POUND,
+            Unit::GallonsPerHour => v * M3_PER_GALLON * 1000.0,
+            _ => v,
+        }
+    }
+
+    /// Converts an SI value to this unit.
+    pub fn from_si(self, v: f64) -> f64 {
+        match self {
+            Unit::Mgd => v / (1.0e6 * M3_PER_GALLON),
+            Unit::Fahrenheit => v * 9.0 / 5.0 + 32.0,
+            Unit::LbPerDay => v / KG_PER_POUND,
+            Unit::GallonsPerHour => v / (M3_PER_GALLON * 1000.0),
+            _ => v,
+        }
+    }
+}
+
+impl Quantity {
+    /// The unit this quantity is shown in under `system`.
+    pub fn unit(self, system: UnitSystem) -> Unit {
+        use UnitSystem::*;
+        match (self, system) {
+            (Quantity::Flow, Si) => Unit::CubicMetresPerDay,
+            (Quantity::Flow, Us) => Unit::Mgd,
+            (Quantity::Concentration, _) => Unit::MgPerL,
+            (Quantity::AsCaCO3, _) => Unit::MgPerLAsCaCO3,
+            (Quantity::Ph, _) => Unit::PhUnits,
+            (Quantity::Temperature, Si) => Unit::Celsius,
+            (Quantity::Temperature, Us) => Unit::Fahrenheit,
+            (Quantity::MassPerDay, Si) => Unit::KgPerDay,
+            (Quantity::MassPerDay, Us) => Unit::LbPerDay,
+            (Quantity::VolumePerHour, Si) => Unit::LitresPerHour,
+            (Quantity::VolumePerHour, Us) => Unit::GallonsPerHour,
+            (Quantity::Percent, _) => Unit::Percent,
+            (Quantity::SpecificGravity, _) => Unit::NoUnit,
+            (Quantity::Millilitres, _) => Unit::Millilitres,
+            (Quantity::Seconds, _) => Unit::Seconds,
+            (Quantity::Ratio, _) => Unit::Ratio,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn conversions_round_trip() {
+        for unit in Unit::ALL {
+            for v in [0.0, 1.0, 12.5, -3.0, 1234.5] {
+                let back = unit.from_si(unit.to_si(v));
+                assert!(
+                    (back - v).abs() < 1e-9 * v.abs().max(1.0),
+                    "{unit:?} {v} -> {back}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn defined_factors() {
+        // 1 MGD is 3785.411784 m³/d; water freezes at 32 °F; 1 lb is 0.45359237 kg.
+        assert!((Unit::Mgd.to_si(1.0) - 3785.411784).abs() < 1e-9);
+        assert!((Unit::Fahrenheit.to_si(32.0)).abs() < 1e-12);
+        assert!((Unit::Fahrenheit.to_si(212.0) - 100.0).abs() < 1e-12);
+        assert!((Unit::LbPerDay.to_si(1.0) - 0.45359237).abs() < 1e-15);
+        assert!((Unit::GallonsPerHour.to_si(1.0) - 3.785411784).abs() < 1e-12);
+    }
+
+    #[test]
+    fn every_quantity_has_a_unit_in_each_system() {
+        assert_eq!(Quantity::Flow.unit(UnitSystem::Us), Unit::Mgd);
+        assert_eq!(Quantity::Flow.unit(UnitSystem::Si), Unit::CubicMetresPerDay);
+        assert_eq!(Quantity::Temperature.unit(UnitSystem::Us), Unit::Fahrenheit);
+        assert_eq!(Quantity::MassPerDay.unit(UnitSystem::Si), Unit::KgPerDay);
+    }
+}

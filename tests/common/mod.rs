@@ -1,0 +1,58 @@
+//! Shared set-up for the UI test binaries: bundled fonts only, and a stand-in engine.
+//!
+//! Design choice: the harness points `FONTCONFIG_FILE` at `ui/fonts/fonts.conf` itself, before
+//! Slint starts, so plain `cargo test` renders with the repository's font and never with
+//! whatever the machine has installed.
+#![allow(dead_code)]
+
+use molefeed::app::seams::{
+    CalcEngine, CalcOutcome, CalcRequest, Caution, CautionLevel, SeamError,
+};
+use std::sync::Once;
+
+static FONTS: Once = Once::new();
+
+/// Makes fontconfig see only the bundled fonts. Call first in every test.
+pub fn bundled_fonts_only() {
+    FONTS.call_once(|| {
+        let conf = concat!(env!("CARGO_MANIFEST_DIR"), "/ui/fonts/fonts.conf");
+        assert!(std::path::Path::new(conf).exists(), "missing {conf}");
+        // SAFETY: called once, before any Slint or fontconfig thread exists in this process
+        // (each test binary calls this at the start of its tests).
+        unsafe {
+            std::env::set_var("FONTCONFIG_FILE", conf);
+        }
+    });
+}
+
+/// A stand-in engine for wiring tests: it reports inputs back (dose → dose, flow in m³/d →
+/// "feed" in kg/d) and always raises one caution of each level. It is not chemistry; the tests
+/// use it to check that what the engine returns is what the screen shows.
+pub struct EchoEngine;
+
+impl CalcEngine for EchoEngine {
+    fn compute(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        Ok(CalcOutcome {
+            chemical: "echo-product".into(),
+            dose_mg_per_l: request.get("dose"),
+            feed_kg_per_day: request.get("flow"),
+            product_l_per_hour: request.get("pump-capacity"),
+            pump_setting_percent: request.get("strength"),
+            trace: vec!["echo: inputs reported back".into()],
+            cautions: vec![
+                Caution {
+                    level: CautionLevel::Danger,
+                    code: "test-only".into(),
+                    message: "test caution: danger".into(),
+                    params: vec![],
+                },
+                Caution {
+                    level: CautionLevel::Info,
+                    code: "test-only".into(),
+                    message: "test caution: info".into(),
+                    params: vec![],
+                },
+            ],
+        })
+    }
+}

@@ -1,0 +1,198 @@
+//! Headless screenshots: every main screen rendered with Slint's software renderer at phone,
+//! tablet and desktop sizes, written to `target/screenshots/` as PNG.
+//!
+//! Design choice: no display server at all — a `MinimalSoftwareWindow` platform renders into
+//! an RGB buffer. Each render must be non-blank and must contain text-like pixels in the
+//! content area, so a screen that fails to lay out or loses its font fails the test.
+
+mod common;
+
+use molefeed::app::dose_log::{DoseLog, MemoryLog, NewEntry};
+use molefeed::app::numbers::Lang;
+use molefeed::app::seams::{CalcKind, connected_engine};
+use molefeed::app::ui::{AppWindow, CalcAdapter, Nav, SettingsAdapter};
+use molefeed::app::{Deps, attach};
+use slint::platform::software_renderer::{MinimalSoftwareWindow, RepaintBufferType};
+use slint::platform::{Platform, WindowAdapter};
+use slint::{ComponentHandle, PhysicalSize, Rgb8Pixel};
+use std::path::PathBuf;
+use std::rc::Rc;
+
+struct Headless(Rc<MinimalSoftwareWindow>);
+
+impl Platform for Headless {
+    fn create_window_adapter(&self) -> Result<Rc<dyn WindowAdapter>, slint::PlatformError> {
+        Ok(self.0.clone())
+    }
+}
+
+const SCREENS: [&str; 6] = ["start", "calculators", "plots", "log", "settings", "about"];
+
+fn render(window: &MinimalSoftwareWindow, w: u32, h: u32) -> Vec<Rgb8Pixel> {
+    window.set_size(PhysicalSize::new(w, h));
+    let mut buffer = vec![Rgb8Pixel { r: 0, g: 0, b: 0 }; (w * h) as usize];
+    // Two passes: the first lays out lazily created views, the second draws them settled.
+    for _ in 0..2 {
+        slint::platform::update_timers_and_animations();
+        window.request_redraw();
+        window.draw_if_needed(|renderer| {
+            renderer.render(&mut buffer, w as usize);
+        });
+    }
+    buffer
+}
+
+fn save_png(path: &PathBuf, pixels: &[Rgb8Pixel], w: u32, h: u32) {
+    let file = std::fs::File::create(path).expect("create png");
+    let mut encoder = png::Encoder::new(std::io::BufWriter::new(file), w, h);
+    encoder.set_color(png::ColorType::Rgb);
+    encoder.set_depth(png::BitDepth::Eight);
+    let mut writer = encoder.write_header().expect("png header");
+    let bytes: Vec<u8> = pixels.iter().flat_map(|p| [p.r, p.g, p.b]).collect();
+    writer.write_image_data(&bytes).expect("png data");
+}
+
+/// Pixels dark enough to be text on our light surfaces, inside the content area.
+fn dark_pixels(pixels: &[Rgb8Pixel], w: u32, h: u32, compact: bool) -> usize {
+    let (x0, y1) = if compact { (0, h - 70) } else { (100, h) };
+    let mut n = 0;
+    for y in 0..y1 {
+        for x in x0..w {
+            let p = pixels[(y * w + x) as usize];
+            let luma = (p.r as u32 * 299 + p.g as u32 * 587 + p.b as u32 * 114) / 1000;
+            if luma < 90 {
+                n += 1;
+            }
+        }
+    }
+    n
+}
+
+fn distinct_colours(pixels: &[Rgb8Pixel]) -> usize {
+    let mut seen = std::collections::HashSet::new();
+    for p in pixels {
+        seen.insert((p.r, p.g, p.b));
+    }
+    seen.len()
+}
+
+fn seeded_log() -> Box<dyn DoseLog> {
+    // Operator-entered records (what a person typed into the log), not computed doses.
+    let mut log = MemoryLog::default();
+    for (day, dose) in [(1, 1.6), (2, 1.8), (3, 1.7), (4, 2.1), (5, 1.9)] {
+        log.append(NewEntry {
+            when: format!("2026-11-0{day}T07:30:00Z"),
+            site: "Demo site".into(),
+            point: "Clearwell".into(),
+            chemical: "NaOCl 12.5 %".into(),
+            dose_mg_per_l: dose,
+            feed_kg_per_day: None,
+            pump_setting_percent: None,
+            flow_m3_per_day: None,
+            product_l_per_hour: None,
+            trace: Vec::new(),
+            cautions: Vec::new(),
+            note: String::new(),
+        })
+        .expect("seed entry");
+    }
+    Box::new(log)
+}
+
+#[test]
+fn every_screen_renders_with_text_at_three_sizes() {
+    common::bundled_fonts_only();
+    let window = MinimalSoftwareWindow::new(RepaintBufferType::NewBuffer);
+    slint::platform::set_platform(Box::new(Headless(window.clone())))
+        .expect("first platform on this thread");
+    let app = AppWindow::new().expect("window");
+    let handle = attach(
+        &app,
+        Deps {
+            engine: connected_engine(),
+            log: seeded_log(),
+            data_dir: None,
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    {
+        let mut st = handle.state.borrow_mut();
+        // The feed & pump setting calculator, computed by the real dosing engine.
+        st.calc.set_kind(CalcKind::FeedSetting);
+        for (name, text) in [
+            ("flow", "2.4"),
+            ("dose", "2.5"),
+            ("strength", "12.5"),
+            ("specific-gravity", "1.2"),
+            ("pump-capacity", "10"),
+            // pH-adjustment readings, for the titration curve on the Plots screen.
+            ("ph-raw", "6.7"),
+            ("ph-target", "7.3"),
+            ("alkalinity", "38"),
+            ("temperature", "58"),
+        ] {
+            st.calc.edit(name, text);
+        }
+        st.select_entry(5);
+    }
+    handle.refresh();
+    app.show().expect("show");
+
+    let out = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
+    std::fs::create_dir_all(&out).unwrap();
+    let sizes = [
+        ("phone", 400, 860),
+        ("tablet", 1280, 800),
+        ("desktop", 1600, 1000),
+    ];
+    let mut failures = Vec::new();
+    for (size_name, w, h) in sizes {
+        for (index, screen) in SCREENS.iter().enumerate() {
+            app.global::<Nav>().invoke_go(index as i32);
+            let pixels = render(&window, w, h);
+            let path = out.join(format!("{screen}-{size_name}.png"));
+            save_png(&path, &pixels, w, h);
+            let dark = dark_pixels(&pixels, w, h, w < 720);
+            let colours = distinct_colours(&pixels);
+            // Anti-aliased text yields many shades; a blank or single-colour frame has few.
+            if colours < 40 || dark < 1500 {
+                failures.push(format!(
+                    "{}: {colours} colours, {dark} dark pixels",
+                    path.display()
+                ));
+            }
+        }
+    }
+    // "Show the work" opened, on a desktop-sized window.
+    app.global::<CalcAdapter>().set_show_work(true);
+    app.global::<Nav>().invoke_go(1);
+    let pixels = render(&window, 1600, 1000);
+    save_png(
+        &out.join("calculators-desktop-work.png"),
+        &pixels,
+        1600,
+        1000,
+    );
+    app.global::<CalcAdapter>().set_show_work(false);
+    // The Spanish and high-contrast variants of the calculator screen, for review.
+    app.global::<SettingsAdapter>().invoke_set_lang(1);
+    app.global::<SettingsAdapter>()
+        .invoke_set_high_contrast(true);
+    app.global::<Nav>().invoke_go(1);
+    let pixels = render(&window, 400, 860);
+    save_png(
+        &out.join("calculators-phone-es-contrast.png"),
+        &pixels,
+        400,
+        860,
+    );
+    if dark_pixels(&pixels, 400, 860, true) < 1500 {
+        failures.push("calculators-phone-es-contrast.png has no text".into());
+    }
+    assert!(
+        failures.is_empty(),
+        "blank or textless renders:\n{}",
+        failures.join("\n")
+    );
+}

@@ -1,0 +1,267 @@
+//! UI tests through Slint's testing backend: find elements by accessible label, type, tap,
+//! and read what the screen shows.
+//!
+//! Design choice: every lookup goes through [`one`], which fails the test when an element is
+//! missing (for example when the UI was compiled without debug info) — a test never passes by
+//! finding nothing. The engine is a stand-in that reports inputs back, so these tests check
+//! wiring, parsing and formatting, not chemistry.
+
+mod common;
+
+use i_slint_backend_testing::ElementHandle;
+use molefeed::app::dose_log::MemoryLog;
+use molefeed::app::i18n::Texts;
+use molefeed::app::numbers::{self, Lang};
+use molefeed::app::seams::{Unconnected, connected_engine};
+use molefeed::app::ui::{AppWindow, Nav};
+use molefeed::app::{AppHandle, Deps, attach};
+use slint::ComponentHandle;
+use std::rc::Rc;
+
+fn start(engine: Rc<dyn molefeed::app::seams::CalcEngine>) -> (AppWindow, AppHandle) {
+    start_at(engine, 1280.0, 800.0)
+}
+
+fn start_at(
+    engine: Rc<dyn molefeed::app::seams::CalcEngine>,
+    width: f32,
+    height: f32,
+) -> (AppWindow, AppHandle) {
+    common::bundled_fonts_only();
+    i_slint_backend_testing::init_no_event_loop();
+    let app = AppWindow::new().expect("window");
+    let handle = attach(
+        &app,
+        Deps {
+            engine,
+            log: Box::new(MemoryLog::default()),
+            data_dir: None,
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    app.window()
+        .set_size(slint::LogicalSize::new(width, height));
+    app.show().expect("show");
+    (app, handle)
+}
+
+/// Exactly one element with this accessible label; anything else fails the test.
+fn one(app: &AppWindow, label: &str) -> ElementHandle {
+    let found: Vec<_> = ElementHandle::find_by_accessible_label(app, label).collect();
+    assert_eq!(
+        found.len(),
+        1,
+        "expected one element labelled {label:?}, found {}",
+        found.len()
+    );
+    found.into_iter().next().unwrap()
+}
+
+fn count(app: &AppWindow, label: &str) -> usize {
+    ElementHandle::find_by_accessible_label(app, label).count()
+}
+
+fn tap(app: &AppWindow, label: &str) {
+    one(app, label).invoke_accessible_default_action();
+}
+
+fn type_into(app: &AppWindow, label: &str, text: &str) {
+    one(app, label).set_accessible_value(text);
+}
+
+fn en(key: &str) -> String {
+    Texts::new(Lang::En).get(key)
+}
+
+fn fill_feed_setting(app: &AppWindow, flow: &str) {
+    tap(app, &en("nav-calculators"));
+    tap(app, &en("calc-feed-setting"));
+    type_into(app, &en("field-flow"), flow);
+    type_into(app, &en("field-dose"), "2");
+    type_into(app, &en("field-strength"), "12.5");
+    type_into(app, &en("field-specific-gravity"), "1.2");
+    type_into(app, &en("field-pump-capacity"), "10");
+}
+
+#[test]
+fn typed_inputs_show_the_engine_result_with_cautions_and_advisory() {
+    let (app, _handle) = start(Rc::new(common::EchoEngine));
+    fill_feed_setting(&app, "1");
+    let dose = one(&app, &en("result-dose"));
+    assert_eq!(dose.accessible_value().unwrap(), "2.00");
+    // The stand-in reports 1 MGD = 3785.41 m³/d as kg/d; US units show it in lb/d.
+    let expected_feed = numbers::format_sig(3785.411784 / 0.45359237, 3, Lang::En);
+    assert_eq!(
+        one(&app, &en("result-feed")).accessible_value().unwrap(),
+        expected_feed
+    );
+    // Cautions carry their level's word, worst first; the advisory note is always there.
+    let danger = format!("{}: test caution: danger", en("caution-level-danger"));
+    one(&app, &danger);
+    one(
+        &app,
+        &format!("{}: test caution: info", en("caution-level-info")),
+    );
+    assert_eq!(
+        count(&app, &en("calc-result")),
+        0,
+        "message shown next to a result"
+    );
+}
+
+#[test]
+fn the_phone_layout_has_the_same_controls() {
+    // Tall enough that nothing is scrolled out of view: the finders only see visible elements.
+    let (app, _handle) = start_at(Rc::new(common::EchoEngine), 400.0, 2000.0);
+    // On a phone the calculator is opened from the Start screen's quick entries.
+    tap(&app, &en("calc-feed-setting"));
+    assert_eq!(app.global::<Nav>().get_screen(), 1);
+    type_into(&app, &en("field-flow"), "1");
+    type_into(&app, &en("field-dose"), "2");
+    type_into(&app, &en("field-strength"), "12.5");
+    type_into(&app, &en("field-specific-gravity"), "1.2");
+    type_into(&app, &en("field-pump-capacity"), "10");
+    assert_eq!(
+        one(&app, &en("result-dose")).accessible_value().unwrap(),
+        "2.00"
+    );
+    one(&app, &en("calc-log-dose"));
+}
+
+#[test]
+fn invalid_input_shows_a_message_and_no_number() {
+    let (app, _handle) = start(Rc::new(common::EchoEngine));
+    fill_feed_setting(&app, "1,5");
+    one(&app, &en("number-wrong-mark"));
+    let message = one(&app, &en("calc-result"));
+    assert_eq!(message.accessible_value().unwrap(), en("calc-invalid"));
+    assert_eq!(
+        count(&app, &en("result-dose")),
+        0,
+        "a dose was shown for invalid input"
+    );
+    type_into(&app, &en("field-flow"), "abc");
+    one(&app, &en("number-invalid"));
+    type_into(&app, &en("field-flow"), "1.5");
+    assert_eq!(count(&app, &en("calc-result")), 0);
+    one(&app, &en("result-dose"));
+}
+
+#[test]
+fn unconnected_engine_says_so_instead_of_a_number() {
+    let (app, _handle) = start(Rc::new(Unconnected));
+    fill_feed_setting(&app, "1");
+    let message = one(&app, &en("calc-result"));
+    assert_eq!(
+        message.accessible_value().unwrap(),
+        en("calc-not-connected")
+    );
+    assert_eq!(count(&app, &en("result-dose")), 0);
+}
+
+#[test]
+fn the_real_feed_engine_fills_the_card_with_translated_cautions() {
+    // A tall window so the whole cautions list is in view (finders skip clipped elements).
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    fill_feed_setting(&app, "1");
+    // The product chips come from the engine's catalog; hypochlorite is offered.
+    one(&app, &en("product-sodium-hypochlorite"));
+    let view = handle.state.borrow().calc.view();
+    let molefeed::app::calc::Status::Ready(result) = view.status else {
+        panic!("no result from the engine: {:?}", view.status)
+    };
+    assert_eq!(
+        one(&app, &en("result-dose")).accessible_value().unwrap(),
+        result.dose
+    );
+    assert_eq!(
+        one(&app, &en("result-pump")).accessible_value().unwrap(),
+        result.pump
+    );
+    // Every engine caution reaches the screen as level word + translated text.
+    assert!(!result.cautions.is_empty());
+    let texts = Texts::new(Lang::En);
+    for c in &result.cautions {
+        assert!(
+            texts.has(&c.code),
+            "no translation for engine caution {}",
+            c.code
+        );
+        let word = en(&format!("caution-level-{}", c.level.code()));
+        let args: Vec<(&str, String)> = c
+            .params
+            .iter()
+            .map(|(k, v)| (k.as_str(), v.clone()))
+            .collect();
+        let label = format!("{word}: {}", texts.get_args(&c.code, &args));
+        if count(&app, &label) != 1 {
+            let shown: Vec<_> = ElementHandle::find_by_element_type_name(&app, "CautionItem")
+                .filter_map(|e| e.accessible_label())
+                .filter(|l| l.starts_with(&word))
+                .collect();
+            panic!("caution {label:?} not shown; shown: {shown:?}");
+        }
+    }
+}
+
+#[test]
+fn switching_language_changes_labels_and_the_decimal_mark() {
+    let (app, _handle) = start(Rc::new(common::EchoEngine));
+    let es = {
+        let mut t = Texts::new(Lang::En);
+        t.set_lang(Lang::Es);
+        t
+    };
+    one(&app, &en("nav-start"));
+    tap(&app, &en("nav-settings"));
+    tap(&app, "Español");
+    assert_eq!(
+        count(&app, &en("nav-start")),
+        0,
+        "English label left after switching"
+    );
+    one(&app, &es.get("nav-start"));
+    one(&app, &es.get("settings-language"));
+    // Spanish input takes a comma and results use one.
+    tap(&app, &es.get("nav-calculators"));
+    tap(&app, &es.get("calc-feed-setting"));
+    type_into(&app, &es.get("field-flow"), "1");
+    type_into(&app, &es.get("field-dose"), "2,5");
+    type_into(&app, &es.get("field-strength"), "12,5");
+    type_into(&app, &es.get("field-specific-gravity"), "1,2");
+    type_into(&app, &es.get("field-pump-capacity"), "10");
+    assert_eq!(
+        one(&app, &es.get("result-dose"))
+            .accessible_value()
+            .unwrap(),
+        "2,50"
+    );
+}
+
+#[test]
+fn log_button_stores_the_dose_in_the_log() {
+    let (app, handle) = start(Rc::new(common::EchoEngine));
+    fill_feed_setting(&app, "1");
+    assert!(handle.state.borrow().entries().is_empty());
+    tap(&app, &en("calc-log-dose"));
+    let entries = handle.state.borrow().entries();
+    assert_eq!(entries.len(), 1);
+    assert_eq!(entries[0].data.dose_mg_per_l, 2.0);
+    assert_eq!(entries[0].data.chemical, "echo-product");
+    // The Start screen lists it and warns that the in-memory log is not saved.
+    tap(&app, &en("nav-start"));
+    one(&app, &en("banner-not-saved"));
+    assert_eq!(app.global::<Nav>().get_screen(), 0);
+}
+
+#[test]
+fn back_returns_to_the_previous_screen() {
+    let (app, _handle) = start(Rc::new(common::EchoEngine));
+    tap(&app, &en("nav-log"));
+    tap(&app, &en("nav-about"));
+    app.global::<Nav>().invoke_back();
+    assert_eq!(app.global::<Nav>().get_screen(), 3);
+    app.global::<Nav>().invoke_back();
+    assert_eq!(app.global::<Nav>().get_screen(), 0);
+}
