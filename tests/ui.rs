@@ -244,6 +244,10 @@ fn log_button_stores_the_dose_in_the_log() {
     let (app, handle) = start(Rc::new(common::EchoEngine));
     fill_feed_setting(&app, "1");
     assert!(handle.state.borrow().entries().is_empty());
+    // Without initials nothing is logged, and the operator is told why.
+    tap(&app, &en("calc-log-dose"));
+    assert!(handle.state.borrow().entries().is_empty());
+    handle.state.borrow_mut().set_initials("jm");
     tap(&app, &en("calc-log-dose"));
     let entries = handle.state.borrow().entries();
     assert_eq!(entries.len(), 1);
@@ -264,4 +268,42 @@ fn back_returns_to_the_previous_screen() {
     assert_eq!(app.global::<Nav>().get_screen(), 3);
     app.global::<Nav>().invoke_back();
     assert_eq!(app.global::<Nav>().get_screen(), 0);
+}
+
+#[test]
+fn log_button_writes_the_dose_to_the_crash_safe_log_file() {
+    common::bundled_fonts_only();
+    i_slint_backend_testing::init_no_event_loop();
+    let dir = std::env::temp_dir().join(format!("molefeed-ui-log-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    let app = AppWindow::new().expect("window");
+    let handle = attach(
+        &app,
+        Deps {
+            engine: Rc::new(common::EchoEngine),
+            log: Box::new(molefeed::app::dose_log::PersistentLog::new(&dir, "ui-test")),
+            data_dir: None,
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    app.window()
+        .set_size(slint::LogicalSize::new(1280.0, 800.0));
+    app.show().expect("show");
+    handle.state.borrow_mut().set_initials("KT");
+    fill_feed_setting(&app, "1");
+    tap(&app, &en("calc-log-dose"));
+    assert!(handle.state.borrow().log_is_persistent());
+    let site = handle.state.borrow().entries()[0].data.site.clone();
+    drop(handle);
+    drop(app);
+    // The entry is on disk: a fresh open of the site's file (the app's lock is released) finds it.
+    let log = molefeed::log::Log::open(&molefeed::log::site_file(&dir, &site), "checker")
+        .expect("log reopens");
+    let views = log.current().unwrap();
+    assert_eq!(views.len(), 1);
+    assert_eq!(views[0].dose.operator, "KT");
+    assert_eq!(views[0].dose.dose_mg_per_l, 2.0);
+    assert_eq!(views[0].dose.chemical, "echo-product");
+    let _ = std::fs::remove_dir_all(&dir);
 }

@@ -245,3 +245,9 @@ pump-check-inspect = The measured dose is { $deviation_percent } % off target: i
 breakpoint-practice-range = In practice, breakpoint takes { $low }:1 to { $high }:1 Cl₂:NH₃-N.
 residual-above-limit = Target residual { $residual_mg_l } mg/L is above the limit { $limit_mg_l } mg/L.
 ph-alkalinity-effect-from-water-engine = The effect on pH and alkalinity is calculated by the water-chemistry module.
+
+settings-initials = Operator initials
+log-need-initials = Enter your initials in Settings first: each logged dose records who set it.
+log-error-not-saved = Not saved: { $detail }. The entry is kept on this device and saved again with the next one.
+log-error-locked = The dose log is open in another copy of the app: { $detail }
+log-error-invalid-entry = This entry cannot be logged: { $detail }

@@ -245,3 +245,9 @@ pump-check-inspect = La dosis medida se desvía un { $deviation_percent } % del 
 breakpoint-practice-range = En la práctica, el punto de quiebre requiere de { $low }:1 a { $high }:1 Cl₂:N-NH₃.
 residual-above-limit = El residual objetivo de { $residual_mg_l } mg/L supera el límite de { $limit_mg_l } mg/L.
 ph-alkalinity-effect-from-water-engine = El efecto sobre el pH y la alcalinidad lo calcula el módulo de química del agua.
+
+settings-initials = Iniciales del operador
+log-need-initials = Primero escriba sus iniciales en Ajustes: cada dosis registrada guarda quién la fijó.
+log-error-not-saved = No guardado: { $detail }. La entrada se conserva en este dispositivo y se vuelve a guardar con la siguiente.
+log-error-locked = El registro de dosis está abierto en otra copia de la aplicación: { $detail }
+log-error-invalid-entry = Esta entrada no se puede registrar: { $detail }

@@ -261,6 +261,9 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             i.refresh_all();
         }
     });
+    settings.on_set_initials(on_text(|i, t| {
+        i.state.borrow_mut().set_initials(t);
+    }));
     settings.on_rename_site(on_text(|i, t| {
         i.state.borrow_mut().rename_site(t);
         i.window()
@@ -352,6 +355,9 @@ impl Inner {
         settings.set_units_index(if st.units() == UnitSystem::Si { 1 } else { 0 });
         settings.set_high_contrast(st.settings.high_contrast);
         settings.set_site_name(s(&st.site().name));
+        if settings.get_initials().as_str() != st.initials() {
+            settings.set_initials(s(st.initials()));
+        }
         drop(st);
         self.refresh_calc(true);
         self.refresh_log();

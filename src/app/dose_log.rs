@@ -32,6 +32,9 @@ pub struct NewEntry {
     #[serde(default)]
     pub cautions: Vec<String>,
     pub note: String,
+    /// Operator initials (remembered in Settings).
+    #[serde(default)]
+    pub operator: String,
 }
 
 /// A stored entry: what was recorded plus its id and its change history.
@@ -138,10 +141,196 @@ impl DoseLog for MemoryLog {
     }
 }
 
-/// SEAM FOR THE LOG: the store the app uses. Until the persistent log from the `log` branch is
-/// connected here, entries live in memory and the Start screen says they are not saved.
-pub fn connected_log(_data_dir: Option<&Path>) -> Box<dyn DoseLog> {
-    Box::new(MemoryLog::default())
+/// The crash-safe dose log ([`crate::log`]) behind the screens' [`DoseLog`] seam.
+///
+/// One log file per site, opened when the site is first used and kept open (and locked) for
+/// the life of the app. The screens number entries 1, 2, 3 … in the order the log keeps
+/// them; those numbers map to the log's own ids here, so the UI never sees a UUID.
+pub struct PersistentLog {
+    dir: std::path::PathBuf,
+    device: String,
+    logs: Vec<(String, crate::log::Log)>,
+    /// Log ids in the order the screens number them (index + 1).
+    ids: std::cell::RefCell<Vec<(String, uuid::Uuid)>>,
+}
+
+impl PersistentLog {
+    pub fn new(dir: &Path, device: &str) -> PersistentLog {
+        PersistentLog {
+            dir: dir.to_path_buf(),
+            device: device.to_string(),
+            logs: Vec::new(),
+            ids: Default::default(),
+        }
+    }
+
+    fn log_for(&mut self, site: &str) -> Result<&mut crate::log::Log, LogError> {
+        if let Some(i) = self.logs.iter().position(|(s, _)| s == site) {
+            return Ok(&mut self.logs[i].1);
+        }
+        std::fs::create_dir_all(&self.dir).map_err(|e| LogError::Io(e.to_string()))?;
+        let log = crate::log::Log::open(&crate::log::site_file(&self.dir, site), &self.device)
+            .map_err(from_log_error)?;
+        self.logs.push((site.to_string(), log));
+        Ok(&mut self.logs.last_mut().expect("just pushed").1)
+    }
+
+    fn number(&self, site: &str, id: uuid::Uuid) -> u64 {
+        let mut ids = self.ids.borrow_mut();
+        if let Some(i) = ids.iter().position(|(s, x)| s == site && *x == id) {
+            return i as u64 + 1;
+        }
+        ids.push((site.to_string(), id));
+        ids.len() as u64
+    }
+}
+
+fn from_log_error(e: crate::log::Error) -> LogError {
+    use crate::log::ErrorKind as K;
+    let code = match e.kind() {
+        K::StorageFull | K::ReadOnly | K::Io => "not-saved",
+        K::Locked => "locked",
+        K::InvalidEntry => "invalid-entry",
+        _ => return LogError::Io(e.to_string()),
+    };
+    LogError::Rejected {
+        code: code.into(),
+        message: e.to_string(),
+    }
+}
+
+fn dose_of(entry: &NewEntry) -> crate::log::record::Dose {
+    crate::log::record::Dose {
+        operator: entry.operator.clone(),
+        tap: if entry.point.trim().is_empty() {
+            "—".into()
+        } else {
+            entry.point.clone()
+        },
+        chemical: entry.chemical.clone(),
+        product: entry.chemical.clone(),
+        flow_m3_per_h: entry.flow_m3_per_day.map_or(0.0, |q| q / 24.0),
+        dose_mg_per_l: entry.dose_mg_per_l,
+        feed_rate_l_per_h: entry.product_l_per_hour.unwrap_or(0.0),
+        pump_setting_percent: entry.pump_setting_percent.unwrap_or(0.0),
+        inputs: Vec::new(),
+        results: Vec::new(),
+        trace: entry.trace.clone(),
+        cautions: entry.cautions.clone(),
+        cross_check: None,
+        note: entry.note.clone(),
+    }
+}
+
+impl DoseLog for PersistentLog {
+    /// True while every entry is on disk; a pending (unsynced) entry shows "not saved".
+    fn persistent(&self) -> bool {
+        self.logs.iter().all(|(_, log)| log.pending().is_empty())
+    }
+
+    fn append(&mut self, entry: NewEntry) -> Result<u64, LogError> {
+        let site = entry.site.clone();
+        let draft = crate::log::record::Draft::Entry {
+            at: None,
+            site: site.clone(),
+            dose: dose_of(&entry),
+        };
+        let log = self.log_for(&site)?;
+        let _ = log.retry_pending();
+        let id = log.append(draft).map_err(from_log_error)?;
+        Ok(self.number(&site, id))
+    }
+
+    fn entries(&self) -> Vec<Entry> {
+        let mut out = Vec::new();
+        for (site, log) in &self.logs {
+            let Ok(views) = log.current() else { continue };
+            for view in views {
+                let history = log
+                    .history(view.id)
+                    .unwrap_or_default()
+                    .iter()
+                    .map(|r| format!("{} {:?}", r.at().to_rfc3339(), r.kind()).to_lowercase())
+                    .collect();
+                let dose = &view.dose;
+                out.push(Entry {
+                    id: self.number(site, view.id),
+                    data: NewEntry {
+                        when: view
+                            .at
+                            .with_timezone(&chrono::Utc)
+                            .format("%Y-%m-%dT%H:%M:%SZ")
+                            .to_string(),
+                        site: view.site.clone(),
+                        point: dose.tap.clone(),
+                        chemical: dose.chemical.clone(),
+                        dose_mg_per_l: dose.dose_mg_per_l,
+                        feed_kg_per_day: None,
+                        pump_setting_percent: Some(dose.pump_setting_percent),
+                        flow_m3_per_day: Some(dose.flow_m3_per_h * 24.0),
+                        product_l_per_hour: Some(dose.feed_rate_l_per_h),
+                        trace: dose.trace.clone(),
+                        cautions: dose.cautions.clone(),
+                        note: dose.note.clone(),
+                        operator: dose.operator.clone(),
+                    },
+                    history,
+                });
+            }
+        }
+        out.sort_by(|a, b| a.data.when.cmp(&b.data.when));
+        out
+    }
+
+    /// CSV (or JSON Lines for a `.jsonl` path) of every current entry of the open sites.
+    fn export(&self, path: &Path) -> Result<usize, LogError> {
+        let mut file = std::fs::File::create(path).map_err(|e| LogError::Io(e.to_string()))?;
+        let jsonl = path.extension().is_some_and(|x| x == "jsonl");
+        let mut count = 0;
+        for (_, log) in &self.logs {
+            let query = crate::log::Query::default();
+            count += if jsonl {
+                crate::log::export::jsonl(log, &query, &mut file)
+            } else {
+                crate::log::export::csv(log, &query, &mut file)
+            }
+            .map_err(from_log_error)?;
+        }
+        Ok(count)
+    }
+
+    /// Merges another device's log file into the current site's log.
+    fn import(&mut self, path: &Path) -> Result<usize, LogError> {
+        let site = self
+            .logs
+            .first()
+            .map(|(s, _)| s.clone())
+            .ok_or_else(|| LogError::Io("no site log is open yet".into()))?;
+        let report = self
+            .log_for(&site)?
+            .merge_from(path)
+            .map_err(from_log_error)?;
+        Ok(report.added)
+    }
+}
+
+/// SEAM FOR THE LOG: the store the app uses. With a data directory it is the crash-safe log
+/// (files in `<data dir>/logs/`); without one (tests, previews) nothing is written and the
+/// Start screen says entries are not saved.
+pub fn connected_log(data_dir: Option<&Path>) -> Box<dyn DoseLog> {
+    match data_dir {
+        Some(dir) => Box::new(PersistentLog::new(&dir.join("logs"), &device_id())),
+        None => Box::new(MemoryLog::default()),
+    }
+}
+
+/// A device id for log entries: the machine's host name when it has one.
+fn device_id() -> String {
+    let host = std::fs::read_to_string("/etc/hostname")
+        .ok()
+        .map(|h| h.trim().to_string())
+        .filter(|h| !h.is_empty());
+    format!("app@{}", host.unwrap_or_else(|| "device".into()))
 }
 
 /// Current UTC time as ISO 8601, from the system clock (civil-from-days, no time crate).
@@ -191,6 +380,7 @@ mod tests {
             trace: vec!["step".into()],
             cautions: vec!["hazard-corrosive".into()],
             note: String::new(),
+            operator: "JM".into(),
         }
     }
 
@@ -206,6 +396,40 @@ mod tests {
             log.append(entry(f64::NAN)),
             Err(LogError::Rejected { .. })
         ));
+    }
+
+    #[test]
+    fn persistent_log_keeps_entries_on_disk_across_reopen() {
+        let dir = std::env::temp_dir().join(format!("molefeed-plog-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        let mut log = PersistentLog::new(&dir, "test-device");
+        assert_eq!(log.append(entry(1.5)), Ok(1));
+        assert_eq!(log.append(entry(2.0)), Ok(2));
+        assert!(log.persistent());
+        drop(log);
+        let reopened =
+            crate::log::Log::open(&crate::log::site_file(&dir, "North plant"), "other").unwrap();
+        let views = reopened.current().unwrap();
+        assert_eq!(views.len(), 2);
+        assert_eq!(views[1].dose.dose_mg_per_l, 2.0);
+        assert_eq!(views[0].dose.operator, "JM");
+        assert_eq!(views[0].dose.tap, "Clearwell");
+        assert!((views[0].dose.flow_m3_per_h - 9000.0 / 24.0).abs() < 1e-9);
+        drop(reopened);
+        let mut again = PersistentLog::new(&dir, "test-device");
+        again.append(entry(3.0)).unwrap();
+        let doses: Vec<f64> = again
+            .entries()
+            .iter()
+            .map(|e| e.data.dose_mg_per_l)
+            .collect();
+        assert_eq!(doses, [1.5, 2.0, 3.0]);
+        let mut bad = entry(1.0);
+        bad.operator = String::new();
+        assert!(
+            matches!(again.append(bad), Err(LogError::Rejected { ref code, .. }) if code == "invalid-entry")
+        );
+        let _ = std::fs::remove_dir_all(&dir);
     }
 
     #[test]

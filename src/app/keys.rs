@@ -139,7 +139,11 @@ pub fn dynamic_keys() -> Vec<String> {
             .iter()
             .map(|l| format!("caution-level-{}", l.code())),
     );
-    keys.push("log-error-bad-dose".into());
+    keys.extend(
+        ["bad-dose", "not-saved", "locked", "invalid-entry"]
+            .iter()
+            .map(|code| format!("log-error-{code}")),
+    );
     keys.extend(ENGINE_TEXT_KEYS.iter().map(|k| k.to_string()));
     keys
 }

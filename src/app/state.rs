@@ -58,6 +58,9 @@ pub struct Settings {
     pub sites: Vec<SiteProfile>,
     pub site_index: usize,
     pub point_index: usize,
+    /// Operator initials, remembered so logging a dose is one tap.
+    #[serde(default)]
+    pub initials: String,
 }
 
 impl Default for Settings {
@@ -72,6 +75,7 @@ impl Default for Settings {
             }],
             site_index: 0,
             point_index: 0,
+            initials: String::new(),
         }
     }
 }
@@ -263,6 +267,24 @@ impl AppState {
         }
     }
 
+    /// Keeps up to 8 letters or digits, upper-cased, as the log requires.
+    pub fn set_initials(&mut self, text: &str) {
+        let initials: String = text
+            .chars()
+            .filter(|c| c.is_alphanumeric())
+            .take(8)
+            .collect::<String>()
+            .to_uppercase();
+        if initials != self.settings.initials {
+            self.settings.initials = initials;
+            self.save();
+        }
+    }
+
+    pub fn initials(&self) -> &str {
+        &self.settings.initials
+    }
+
     pub fn rename_site(&mut self, name: &str) {
         let name = name.trim();
         if !name.is_empty() {
@@ -333,7 +355,13 @@ impl AppState {
             self.calc_note = Some(note.clone());
             return Err(note);
         };
+        if self.settings.initials.is_empty() {
+            let note = Note::new(key("log-need-initials"));
+            self.calc_note = Some(note.clone());
+            return Err(note);
+        }
         let entry = NewEntry {
+            operator: self.settings.initials.clone(),
             when: now_utc_iso(),
             site: self.site().name.clone(),
             point: self.point().unwrap_or("").to_string(),
@@ -586,6 +614,12 @@ mod tests {
         assert!(!s.log_is_persistent());
         assert!(s.log_current_dose().is_err(), "nothing computed yet");
         fill_feed(&mut s, "1.5");
+        assert_eq!(
+            s.log_current_dose().unwrap_err(),
+            Note::new(key("log-need-initials"))
+        );
+        s.set_initials(" j.m ");
+        assert_eq!(s.initials(), "JM");
         let id = s.log_current_dose().expect("logged");
         fill_feed(&mut s, "2.25");
         s.log_current_dose().expect("logged");
@@ -612,6 +646,7 @@ mod tests {
     #[test]
     fn filter_matches_point_and_chemical() {
         let mut s = state(Rc::new(DoseEcho));
+        s.set_initials("AB");
         fill_feed(&mut s, "1");
         s.log_current_dose().unwrap();
         s.pick_point(1);
