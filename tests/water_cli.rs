@@ -113,3 +113,52 @@ fn failures_have_typed_kinds() {
         assert_eq!(run(command, flags).unwrap_err(), kind, "{command} {flags}");
     }
 }
+
+#[test]
+fn every_water_result_carries_the_advisory_caution() {
+    for args in [
+        &[
+            "stability",
+            "--ph",
+            "8.1",
+            "--temperature",
+            "20",
+            "--alkalinity",
+            "120",
+            "--calcium",
+            "150",
+            "--json",
+        ][..],
+        &[
+            "ph-after",
+            "--chemical",
+            "NaOH",
+            "--dose",
+            "5",
+            "--ph",
+            "7.1",
+            "--temperature",
+            "12",
+            "--alkalinity",
+            "60",
+            "--json",
+        ][..],
+    ] {
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_molefeed"))
+            .args(args)
+            .output()
+            .unwrap();
+        assert!(out.status.success(), "{args:?}");
+        let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        let keys: Vec<&str> = json["cautions"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter_map(|c| c["key"].as_str())
+            .collect();
+        assert!(
+            keys.contains(&"advisory-operator-decides"),
+            "{args:?}: {keys:?}"
+        );
+    }
+}

@@ -71,12 +71,12 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "equivalent" => chemistry::equivalent(args),
         c if dosing::COMMANDS.contains(&c) => dosing::run(c, args),
         "log" => log_cmd::run(args),
-        "ph-after" => water::ph_after(args),
-        "dose-for-ph" => water::dose_for_ph(args),
-        "stability" => water::stability(args),
-        "curve" => water::curve(args),
-        "coagulant" => water::coagulant(args),
-        "neutralize" => water::neutralize(args),
+        "ph-after" => water::ph_after(args).map(advisory),
+        "dose-for-ph" => water::dose_for_ph(args).map(advisory),
+        "stability" => water::stability(args).map(advisory),
+        "curve" => water::curve(args).map(advisory),
+        "coagulant" => water::coagulant(args).map(advisory),
+        "neutralize" => water::neutralize(args).map(advisory),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -86,6 +86,22 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
     args.switch("json");
     args.reject_unused()?;
     Ok(result)
+}
+
+/// Water-chemistry results carry the same advisory caution as every dosing result: the
+/// numbers inform; a licensed operator decides under the permit and local codes.
+fn advisory(mut report: Report) -> Report {
+    let caution = crate::engine::dosing::Caution::advisory();
+    report.human.push_str("\n[note] advisory-operator-decides: results are advisory; a licensed operator decides, under the plant's permit and local codes\n");
+    if let Some(object) = report.json.as_object_mut() {
+        let cautions = object
+            .entry("cautions")
+            .or_insert_with(|| Value::Array(Vec::new()));
+        if let Some(list) = cautions.as_array_mut() {
+            list.push(serde_json::to_value(&caution).unwrap_or(Value::Null));
+        }
+    }
+    report
 }
 
 const HELP: &str =
