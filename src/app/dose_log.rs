@@ -149,38 +149,59 @@ impl DoseLog for MemoryLog {
 pub struct PersistentLog {
     dir: std::path::PathBuf,
     device: String,
-    logs: Vec<(String, crate::log::Log)>,
+    /// One open log per site file, keyed by the file's path.
+    logs: Vec<(std::path::PathBuf, crate::log::Log)>,
     /// Log ids in the order the screens number them (index + 1).
-    ids: std::cell::RefCell<Vec<(String, uuid::Uuid)>>,
+    ids: std::cell::RefCell<Vec<uuid::Uuid>>,
 }
 
 impl PersistentLog {
+    /// Opens every site log already in `dir`, so earlier entries show from the first screen.
+    /// A file that cannot be opened (another copy of the app has it) is skipped here and
+    /// reported when the operator tries to log to that site.
     pub fn new(dir: &Path, device: &str) -> PersistentLog {
+        let mut paths: Vec<std::path::PathBuf> = std::fs::read_dir(dir)
+            .into_iter()
+            .flatten()
+            .flatten()
+            .map(|e| e.path())
+            .filter(|p| p.extension().is_some_and(|x| x == "doselog"))
+            .collect();
+        paths.sort();
+        let logs = paths
+            .into_iter()
+            .filter_map(|path| {
+                crate::log::Log::open(&path, device)
+                    .ok()
+                    .map(|log| (path, log))
+            })
+            .collect();
         PersistentLog {
             dir: dir.to_path_buf(),
             device: device.to_string(),
-            logs: Vec::new(),
+            logs,
             ids: Default::default(),
         }
     }
 
     fn log_for(&mut self, site: &str) -> Result<&mut crate::log::Log, LogError> {
-        if let Some(i) = self.logs.iter().position(|(s, _)| s == site) {
+        let path = crate::log::site_file(&self.dir, site);
+        if let Some(i) = self.logs.iter().position(|(p, _)| *p == path) {
             return Ok(&mut self.logs[i].1);
         }
         std::fs::create_dir_all(&self.dir).map_err(|e| LogError::Io(e.to_string()))?;
-        let log = crate::log::Log::open(&crate::log::site_file(&self.dir, site), &self.device)
-            .map_err(from_log_error)?;
-        self.logs.push((site.to_string(), log));
+        let log = crate::log::Log::open(&path, &self.device).map_err(from_log_error)?;
+        self.logs.push((path, log));
         Ok(&mut self.logs.last_mut().expect("just pushed").1)
     }
 
-    fn number(&self, site: &str, id: uuid::Uuid) -> u64 {
+    /// The screen number of a log id (ids are unique across sites and devices).
+    fn number(&self, id: uuid::Uuid) -> u64 {
         let mut ids = self.ids.borrow_mut();
-        if let Some(i) = ids.iter().position(|(s, x)| s == site && *x == id) {
+        if let Some(i) = ids.iter().position(|x| *x == id) {
             return i as u64 + 1;
         }
-        ids.push((site.to_string(), id));
+        ids.push(id);
         ids.len() as u64
     }
 }
@@ -238,12 +259,12 @@ impl DoseLog for PersistentLog {
         let log = self.log_for(&site)?;
         let _ = log.retry_pending();
         let id = log.append(draft).map_err(from_log_error)?;
-        Ok(self.number(&site, id))
+        Ok(self.number(id))
     }
 
     fn entries(&self) -> Vec<Entry> {
         let mut out = Vec::new();
-        for (site, log) in &self.logs {
+        for (_, log) in &self.logs {
             let Ok(views) = log.current() else { continue };
             for view in views {
                 let history = log
@@ -254,7 +275,7 @@ impl DoseLog for PersistentLog {
                     .collect();
                 let dose = &view.dose;
                 out.push(Entry {
-                    id: self.number(site, view.id),
+                    id: self.number(view.id),
                     data: NewEntry {
                         when: view
                             .at
@@ -299,17 +320,14 @@ impl DoseLog for PersistentLog {
         Ok(count)
     }
 
-    /// Merges another device's log file into the current site's log.
+    /// Merges another device's log file into the first open site log.
     fn import(&mut self, path: &Path) -> Result<usize, LogError> {
-        let site = self
+        let log = self
             .logs
-            .first()
-            .map(|(s, _)| s.clone())
+            .first_mut()
+            .map(|(_, log)| log)
             .ok_or_else(|| LogError::Io("no site log is open yet".into()))?;
-        let report = self
-            .log_for(&site)?
-            .merge_from(path)
-            .map_err(from_log_error)?;
+        let report = log.merge_from(path).map_err(from_log_error)?;
         Ok(report.added)
     }
 }
@@ -417,6 +435,11 @@ mod tests {
         assert!((views[0].dose.flow_m3_per_h - 9000.0 / 24.0).abs() < 1e-9);
         drop(reopened);
         let mut again = PersistentLog::new(&dir, "test-device");
+        assert_eq!(
+            again.entries().len(),
+            2,
+            "earlier entries show before anything is logged"
+        );
         again.append(entry(3.0)).unwrap();
         let doses: Vec<f64> = again
             .entries()

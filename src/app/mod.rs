@@ -70,5 +70,30 @@ pub fn run(options: RunOptions) -> Result<(), slint::PlatformError> {
     use slint::ComponentHandle;
     let window = ui::AppWindow::new()?;
     let _handle = attach(&window, Deps::from_options(&options));
+    if std::env::var_os("MOLEFEED_QUIT_AFTER_FIRST_FRAME").is_some() {
+        quit_after_first_frame(&window)?;
+    }
     window.run()
+}
+
+/// For the start-up measurement (`tools/measure_app.sh`): report the time to the first
+/// rendered frame on stderr and leave the event loop, so a script can time a cold start.
+#[cfg(feature = "app")]
+fn quit_after_first_frame(window: &ui::AppWindow) -> Result<(), slint::PlatformError> {
+    use slint::ComponentHandle;
+    let started = std::time::Instant::now();
+    let mut done = false;
+    window
+        .window()
+        .set_rendering_notifier(move |state, _| {
+            if matches!(state, slint::RenderingState::AfterRendering) && !done {
+                done = true;
+                eprintln!(
+                    "first frame after {:.1} ms (from window creation)",
+                    started.elapsed().as_secs_f64() * 1e3
+                );
+                let _ = slint::quit_event_loop();
+            }
+        })
+        .map_err(|e| slint::PlatformError::Other(e.to_string()))
 }
