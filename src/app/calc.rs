@@ -380,7 +380,7 @@ impl CalcController {
         let feed_unit = Quantity::MassPerDay.unit(self.system);
         let product_unit = Quantity::VolumePerHour.unit(self.system);
         let mut cautions = outcome.cautions.clone();
-        cautions.sort_by(|a, b| b.level.cmp(&a.level));
+        cautions.sort_by_key(|c| std::cmp::Reverse(c.level));
         ResultView {
             chemical: outcome.chemical.clone(),
             dose: show(outcome.dose_mg_per_l, Unit::MgPerL),

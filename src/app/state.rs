@@ -325,13 +325,13 @@ impl AppState {
         }
     }
 
+    /// Preferences only (never a dose record); a failed write just loses the preference.
     fn save(&self) {
-        if let Some(dir) = &self.data_dir {
-            if std::fs::create_dir_all(dir).is_ok() {
-                if let Ok(text) = serde_json::to_string_pretty(&self.settings) {
-                    let _ = std::fs::write(dir.join("settings.json"), text);
-                }
-            }
+        if let Some(dir) = &self.data_dir
+            && std::fs::create_dir_all(dir).is_ok()
+            && let Ok(text) = serde_json::to_string_pretty(&self.settings)
+        {
+            let _ = std::fs::write(dir.join("settings.json"), text);
         }
     }
 

@@ -192,6 +192,33 @@ pub fn active_feed_us(flow: &Flow, dose: Measured, dose_as: &str) -> Result<Trac
     Ok(t)
 }
 
+/// A feed rate as a percentage of a pump's or feeder's full-scale output: the rate in the
+/// device's own unit (one of them is `per_base` base units, an exact definition), then over
+/// its capacity.
+fn percent_of_capacity(
+    rate: Quantity,
+    unit: &str,
+    per_base: f64,
+    capacity: f64,
+    name: &str,
+) -> Result<Trace> {
+    let base = rate.unit.clone();
+    let mut t = Trace::new(rate, Origin::Measured, None);
+    t.then(
+        Quantity::new(1.0, unit),
+        Quantity::new(per_base, base),
+        Origin::UnitDefinition,
+        None,
+    )?;
+    t.then(
+        Quantity::new(100.0, "%"),
+        Quantity::new(capacity, unit),
+        Origin::Product { name: name.into() },
+        None,
+    )?;
+    Ok(t)
+}
+
 /// The pump setting for a product volume (L/d) or mass (kg/d) rate.
 pub fn pump_setting(
     kind: &PumpKind,
@@ -212,22 +239,9 @@ pub fn pump_setting(
     };
     let (trace, rpm) = match *kind {
         PumpKind::Metering { capacity, unit } => {
-            let l = needs_volume()?;
-            let mut t = Trace::new(Quantity::new(l, "L/d"), Origin::Measured, None);
-            t.then(
-                Quantity::new(1.0, unit.symbol()),
-                Quantity::new(unit.l_per_day(), "L/d"),
-                Origin::UnitDefinition,
-                None,
-            )?;
-            t.then(
-                Quantity::new(100.0, "%"),
-                Quantity::new(capacity, unit.symbol()),
-                Origin::Product {
-                    name: "pump capacity at 100 % stroke and speed".into(),
-                },
-                None,
-            )?;
+            let rate = Quantity::new(needs_volume()?, "L/d");
+            let name = "pump capacity at 100 % stroke and speed";
+            let t = percent_of_capacity(rate, unit.symbol(), unit.l_per_day(), capacity, name)?;
             (t, None)
         }
         PumpKind::Peristaltic {
@@ -262,25 +276,9 @@ pub fn pump_setting(
             (t, Some(rpm))
         }
         PumpKind::DryFeeder { capacity, unit } | PumpKind::GasFeeder { capacity, unit } => {
-            let mut t = Trace::new(
-                Quantity::new(product_kg_per_day, "kg/d"),
-                Origin::Measured,
-                None,
-            );
-            t.then(
-                Quantity::new(1.0, unit.symbol()),
-                Quantity::new(unit.kg_per_day(), "kg/d"),
-                Origin::UnitDefinition,
-                None,
-            )?;
-            t.then(
-                Quantity::new(100.0, "%"),
-                Quantity::new(capacity, unit.symbol()),
-                Origin::Product {
-                    name: "feeder capacity at full scale".into(),
-                },
-                None,
-            )?;
+            let rate = Quantity::new(product_kg_per_day, "kg/d");
+            let name = "feeder capacity at full scale";
+            let t = percent_of_capacity(rate, unit.symbol(), unit.kg_per_day(), capacity, name)?;
             (t, None)
         }
     };
