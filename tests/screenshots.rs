@@ -93,6 +93,7 @@ fn seeded_log() -> Box<dyn DoseLog> {
             trace: Vec::new(),
             cautions: Vec::new(),
             note: String::new(),
+            operator: "JM".into(),
         })
         .expect("seed entry");
     }
