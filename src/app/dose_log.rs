@@ -153,6 +153,9 @@ pub struct PersistentLog {
     logs: Vec<(std::path::PathBuf, crate::log::Log)>,
     /// Log ids in the order the screens number them (index + 1).
     ids: std::cell::RefCell<Vec<uuid::Uuid>>,
+    /// The screens ask for the entries several times per refresh; reading 10 000 records
+    /// each time would stall the UI, so they are read once and again only after a change.
+    cache: std::cell::RefCell<Option<Vec<Entry>>>,
 }
 
 impl PersistentLog {
@@ -181,6 +184,7 @@ impl PersistentLog {
             device: device.to_string(),
             logs,
             ids: Default::default(),
+            cache: Default::default(),
         }
     }
 
@@ -256,6 +260,7 @@ impl DoseLog for PersistentLog {
             site: site.clone(),
             dose: dose_of(&entry),
         };
+        self.cache.replace(None);
         let log = self.log_for(&site)?;
         let _ = log.retry_pending();
         let id = log.append(draft).map_err(from_log_error)?;
@@ -263,16 +268,28 @@ impl DoseLog for PersistentLog {
     }
 
     fn entries(&self) -> Vec<Entry> {
+        if let Some(cached) = self.cache.borrow().as_ref() {
+            return cached.clone();
+        }
         let mut out = Vec::new();
         for (_, log) in &self.logs {
             let Ok(views) = log.current() else { continue };
             for view in views {
-                let history = log
-                    .history(view.id)
-                    .unwrap_or_default()
-                    .iter()
-                    .map(|r| format!("{} {:?}", r.at().to_rfc3339(), r.kind()).to_lowercase())
-                    .collect();
+                // Built from the view (one read per entry), not from a history lookup per
+                // entry, which made opening a 10 000-entry log take most of a second.
+                let mut history = vec![format!("{} logged", view.at.to_rfc3339())];
+                if let Some(change) = &view.last_change {
+                    history.push(
+                        format!(
+                            "{} {:?} ({} revision(s)): {}",
+                            change.at.to_rfc3339(),
+                            change.kind,
+                            view.revisions,
+                            change.reason
+                        )
+                        .to_lowercase(),
+                    );
+                }
                 let dose = &view.dose;
                 out.push(Entry {
                     id: self.number(view.id),
@@ -300,6 +317,7 @@ impl DoseLog for PersistentLog {
             }
         }
         out.sort_by(|a, b| a.data.when.cmp(&b.data.when));
+        self.cache.replace(Some(out.clone()));
         out
     }
 
@@ -328,6 +346,7 @@ impl DoseLog for PersistentLog {
             .map(|(_, log)| log)
             .ok_or_else(|| LogError::Io("no site log is open yet".into()))?;
         let report = log.merge_from(path).map_err(from_log_error)?;
+        self.cache.replace(None);
         Ok(report.added)
     }
 }
