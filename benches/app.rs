@@ -46,6 +46,15 @@ fn keystroke(c: &mut Criterion) {
     find(&app, "nav-calculators").invoke_accessible_default_action();
     find(&app, "calc-feed-setting").invoke_accessible_default_action();
     let flow = find(&app, "field-flow");
+    for (field, text) in [
+        ("field-dose", "2"),
+        ("field-strength", "12.5"),
+        ("field-specific-gravity", "1.2"),
+        ("field-pump-capacity", "10"),
+    ] {
+        find(&app, field).set_accessible_value(text);
+    }
+    flow.set_accessible_value("2.4");
     let result = find(&app, "result-dose");
     let values = ["2.4", "2.41", "2.415", "2.4"];
     let mut i = 0;
