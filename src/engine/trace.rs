@@ -181,6 +181,26 @@ impl Trace {
         Ok(self)
     }
 
+    /// Applies the exact mole ratio of `to` per `from` read from a balanced reaction, both
+    /// counted in `unit` (e.g. `mmol/L`).
+    pub fn then_mole_ratio(
+        &mut self,
+        reaction: &super::reaction::Reaction,
+        from: &str,
+        to: &str,
+        unit: &str,
+    ) -> Result<&mut Trace> {
+        let q = reaction.mole_ratio(from, to)?;
+        self.then(
+            Quantity::of(*q.numer() as f64 / *q.denom() as f64, unit, to),
+            Quantity::of(1.0, unit, from),
+            Origin::MoleRatio {
+                reaction: reaction.to_string(),
+            },
+            None,
+        )
+    }
+
     /// Multiplies by a quantity that is not a per-unit factor (dose × flow): the caller names
     /// the unit of the product, as in `mg/L × MGD = mg/L·MGD`.
     pub fn times(

@@ -199,19 +199,7 @@ pub fn alkalinity_per_dose(catalog: &Catalog, c: Coagulant) -> Result<(f64, Trac
         None,
     );
     dose_to_reactant_mmol(c, &reactant, &mut t)?;
-    let ratio = r.mole_ratio(&reactant, "HCO3-")?;
-    t.then(
-        Quantity::of(
-            *ratio.numer() as f64 / *ratio.denom() as f64,
-            "mmol/L",
-            "HCO3-",
-        ),
-        Quantity::of(1.0, "mmol/L", &reactant),
-        Origin::MoleRatio {
-            reaction: r.to_string(),
-        },
-        None,
-    )?;
+    t.then_mole_ratio(&r, &reactant, "HCO3-", "mmol/L")?;
     hco3_to_caco3(&mut t)?;
     Ok((t.value(), t))
 }
@@ -308,16 +296,7 @@ pub fn alkalinity_per_alkali(catalog: &Catalog, a: Alkali) -> Result<(f64, Trace
         s,
     )?;
     let through = |id: &str, from: &str, to: &str, t: &mut Trace| -> Result<()> {
-        let r = catalog.reaction(id)?;
-        let q = r.mole_ratio(from, to)?;
-        t.then(
-            Quantity::of(*q.numer() as f64 / *q.denom() as f64, "mmol/L", to),
-            Quantity::of(1.0, "mmol/L", from),
-            Origin::MoleRatio {
-                reaction: r.to_string(),
-            },
-            None,
-        )?;
+        t.then_mole_ratio(&catalog.reaction(id)?, from, to, "mmol/L")?;
         Ok(())
     };
     match a {

@@ -81,27 +81,11 @@ fn factor(
         },
         s_from,
     )?;
-    let q = r.mole_ratio(from, to)?;
-    t.then(
-        Quantity::of(*q.numer() as f64 / *q.denom() as f64, "mmol/L", to),
-        Quantity::of(1.0, "mmol/L", from),
-        Origin::MoleRatio {
-            reaction: r.to_string(),
-        },
-        None,
-    )?;
+    t.then_mole_ratio(&r, from, to, "mmol/L")?;
     if to != to_as {
         // Ca(OH)2 ↔ CaO through slaking, so lime can be stated as CaO like the published method.
-        let s = catalog.reaction("quicklime-slaking")?;
-        let q = s.mole_ratio(to, to_as)?;
-        t.then(
-            Quantity::of(*q.numer() as f64 / *q.denom() as f64, "mmol/L", to_as),
-            Quantity::of(1.0, "mmol/L", to),
-            Origin::MoleRatio {
-                reaction: s.to_string(),
-            },
-            None,
-        )?;
+        let slaking = catalog.reaction("quicklime-slaking")?;
+        t.then_mole_ratio(&slaking, to, to_as, "mmol/L")?;
     }
     let (m_to, s_to) = molar_mass(to_as)?;
     t.then(
