@@ -307,3 +307,112 @@ fn log_button_writes_the_dose_to_the_crash_safe_log_file() {
     assert_eq!(views[0].dose.chemical, "echo-product");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// Every caution of `result` is on screen as its level word and translated text.
+fn assert_cautions_shown(app: &AppWindow, result: &molefeed::app::calc::ResultView) {
+    let texts = Texts::new(Lang::En);
+    for c in &result.cautions {
+        assert!(
+            texts.has(&c.code),
+            "no translation for engine caution {}",
+            c.code
+        );
+        let word = en(&format!("caution-level-{}", c.level.code()));
+        let args: Vec<(&str, String)> = c
+            .params
+            .iter()
+            .map(|(k, v)| (k.as_str(), v.clone()))
+            .collect();
+        let label = format!("{word}: {}", texts.get_args(&c.code, &args));
+        assert_eq!(count(app, &label), 1, "caution {label:?} not shown once");
+    }
+}
+
+fn ready(handle: &AppHandle) -> molefeed::app::calc::ResultView {
+    let view = handle.state.borrow().calc.view();
+    match view.status {
+        molefeed::app::calc::Status::Ready(result) => *result,
+        other => panic!("no result from the engine: {other:?}"),
+    }
+}
+
+#[test]
+fn coagulation_shows_alkalinity_ph_and_the_alkali_chosen() {
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-coagulation"));
+    tap(&app, &en("mode-alkali-lime"));
+    one(&app, &en("product-alum-liquid"));
+    for (key, text) in [
+        ("field-flow", "2.40"),
+        ("field-jar-dose", "32"),
+        ("field-alkalinity", "38"),
+        ("field-alkalinity-setpoint", "25"),
+        ("field-ph", "7.15"),
+        ("field-temperature", "50"),
+        ("field-strength", "8.3"),
+        ("field-specific-gravity", "1.335"),
+        ("field-pump-capacity", "20"),
+    ] {
+        type_into(&app, &en(key), text);
+    }
+    let result = ready(&handle);
+    assert_eq!(one(&app, &en("result-dose")).accessible_value().unwrap(), "32");
+    for extra in &result.extras {
+        assert_eq!(
+            one(&app, &en(&format!("result-{}", extra.key)))
+                .accessible_value()
+                .unwrap(),
+            extra.value,
+            "{}",
+            extra.key
+        );
+    }
+    let keys: Vec<_> = result.extras.iter().map(|e| e.key).collect();
+    for k in ["alkalinity-consumed", "ph-after-coagulant", "supplemental-alkali", "ph-after-alkali"] {
+        assert!(keys.contains(&k), "{k} missing from {keys:?}");
+    }
+    assert_cautions_shown(&app, &result);
+    // Two figures typed for the jar dose and the alkalinity: two shown, and said why.
+    assert_eq!(result.figures, 2);
+    let note = Texts::new(Lang::En).get_args(
+        "calc-figures-limited",
+        &[("figures", "2".into()), ("field", en("field-jar-dose"))],
+    );
+    assert_eq!(count(&app, &note), 1, "figures note {note:?} not shown");
+    // The work is shown with translated headings.
+    tap(&app, &format!("▸ {}", en("calc-show-work")));
+    assert!(count(&app, &en("trace-alkalinity-per-dose")) >= 1);
+}
+
+#[test]
+fn softening_shows_lime_and_soda_ash() {
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-softening"));
+    tap(&app, &en("product-quicklime"));
+    for (key, text) in [
+        ("field-flow", "1.10"),
+        ("field-total-hardness", "265"),
+        ("field-calcium-hardness", "190"),
+        ("field-alkalinity", "175"),
+        ("field-ph", "7.45"),
+        ("field-temperature", "55"),
+        ("field-excess-lime", "35"),
+        ("field-lime-purity", "90"),
+        ("field-soda-ash-purity", "98"),
+    ] {
+        type_into(&app, &en(key), text);
+    }
+    let result = ready(&handle);
+    assert_eq!(result.chemical, "product-quicklime");
+    assert_eq!(
+        one(&app, &en("result-soda-ash-dose")).accessible_value().unwrap(),
+        result.extras.iter().find(|e| e.key == "soda-ash-dose").unwrap().value
+    );
+    assert_eq!(one(&app, &en("result-pump")).accessible_value().unwrap(), "—");
+    assert_cautions_shown(&app, &result);
+    // Calcium above total hardness: a message in words, no number.
+    type_into(&app, &en("field-calcium-hardness"), "300");
+    assert_eq!(count(&app, &en("result-dose")), 0);
+}

@@ -10,7 +10,7 @@ use super::calc::{FieldView, Status, key};
 use super::dose_log::{DoseLog, connected_log};
 use super::i18n::Texts;
 use super::numbers::{self, Lang};
-use super::seams::{CalcEngine, CalcKind, connected_engine};
+use super::seams::{CalcEngine, CalcKind, TraceLine, connected_engine};
 use super::state::{AppState, Note, PlotView, Screen};
 use super::ui::*;
 use super::units::{Unit, UnitSystem};
@@ -61,6 +61,40 @@ struct Inner {
     fields: Rc<VecModel<FieldRow>>,
     epoch: RefCell<i32>,
     quit_on_root_back: bool,
+}
+
+/// A "show the work" line in the current language: headings and factor origins are
+/// translated; the conversion itself (numbers, units, formulas) reads the same in any language.
+fn trace_row(texts: &Texts, line: &TraceLine) -> TraceRow {
+    match line {
+        TraceLine::Heading(label) => {
+            let key = format!("trace-{label}");
+            TraceRow {
+                heading: true,
+                text: s(if texts.has(&key) {
+                    texts.get(&key)
+                } else {
+                    label.clone()
+                }),
+                origin: s(""),
+            }
+        }
+        TraceLine::Step { text, origin } => TraceRow {
+            heading: false,
+            text: s(text),
+            origin: s(origin
+                .as_ref()
+                .map(|o| {
+                    texts.get_args(&format!("origin-{}", o.code), &[("detail", o.detail.clone())])
+                })
+                .unwrap_or_default()),
+        },
+        TraceLine::Result(text) => TraceRow {
+            heading: false,
+            text: s(text),
+            origin: s(""),
+        },
+    }
 }
 
 fn s(text: impl AsRef<str>) -> SharedString {
@@ -431,11 +465,35 @@ impl Inner {
                 adapter.set_product(s(&r.product));
                 adapter.set_product_unit(s(self.unit(r.product_unit)));
                 adapter.set_pump(s(&r.pump));
-                adapter.set_trace(model(r.trace.iter().map(s).collect()));
+                adapter.set_extras(model(
+                    r.extras
+                        .iter()
+                        .map(|e| ExtraRow {
+                            label: s(texts.get(&format!("result-{}", e.key))),
+                            value: s(&e.value),
+                            unit: s(texts.get(&format!("unit-{}", e.unit.code()))),
+                        })
+                        .collect(),
+                ));
+                let figures = r.figures.to_string();
+                adapter.set_figures_note(s(match r.limiting {
+                    Some(field) => texts.get_args(
+                        key("calc-figures-limited"),
+                        &[
+                            ("figures", figures),
+                            ("field", texts.get(&format!("field-{field}"))),
+                        ],
+                    ),
+                    None => texts.get_args(key("calc-figures"), &[("figures", figures)]),
+                }));
+                adapter.set_trace(model(
+                    r.trace.iter().map(|line| trace_row(&texts, line)).collect(),
+                ));
+                let mut shown: Vec<(i32, String)> = Vec::new();
                 adapter.set_cautions(model(
                     r.cautions
                         .iter()
-                        .map(|c| {
+                        .filter_map(|c| {
                             // Engine caution keys are translation keys as they stand.
                             let key = c.code.clone();
                             let text = if texts.has(&key) {
@@ -448,11 +506,18 @@ impl Inner {
                             } else {
                                 c.message.clone()
                             };
-                            CautionRow {
-                                level: c.level as i32,
+                            // Two engine cautions can say the same sentence (a product's
+                            // hazard and the calculator's own): the screen says it once.
+                            let level = c.level as i32;
+                            if shown.iter().any(|(l, t)| *l >= level && *t == text) {
+                                return None;
+                            }
+                            shown.push((level, text.clone()));
+                            Some(CautionRow {
+                                level,
                                 word: s(texts.get(&format!("caution-level-{}", c.level.code()))),
                                 text: s(text),
-                            }
+                            })
                         })
                         .collect(),
                 ));
@@ -469,6 +534,8 @@ impl Inner {
                 adapter.set_product(s(""));
                 adapter.set_pump(s(""));
                 adapter.set_chemical(s(""));
+                adapter.set_extras(model(Vec::new()));
+                adapter.set_figures_note(s(""));
                 adapter.set_trace(model(Vec::new()));
                 adapter.set_cautions(model(Vec::new()));
             }
@@ -561,6 +628,12 @@ impl Inner {
             y_label: s(self.t(y_key)),
             y_lo: s(&view.y_lo),
             y_hi: s(&view.y_hi),
+            markers: s(&view.markers),
+            legend: s(view
+                .legend
+                .as_ref()
+                .map(|n| self.note(n))
+                .unwrap_or_default()),
             message: s(view
                 .message
                 .as_ref()

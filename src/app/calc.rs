@@ -10,6 +10,7 @@
 use super::numbers::{self, Lang, NumberError};
 use super::seams::{
     CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, ProductChoice, SeamError,
+    TraceLine,
 };
 use super::units::{Quantity, Unit, UnitSystem};
 use crate::engine;
@@ -68,17 +69,24 @@ pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
             f("flow", Q::Flow),
             f("jar-dose", Q::Concentration),
             f("alkalinity", Q::AsCaCO3),
+            f("alkalinity-setpoint", Q::AsCaCO3),
             f("ph", Q::Ph),
             f("temperature", Q::Temperature),
         ],
-        (CalcKind::Softening, _) => vec![
-            f("flow", Q::Flow),
-            f("total-hardness", Q::AsCaCO3),
-            f("calcium-hardness", Q::AsCaCO3),
-            f("alkalinity", Q::AsCaCO3),
-            f("ph", Q::Ph),
-            f("temperature", Q::Temperature),
-        ],
+        (CalcKind::Softening, _) => {
+            // Lime and soda ash are dry-fed: purities instead of strength, SG and a pump.
+            return vec![
+                f("flow", Q::Flow),
+                f("total-hardness", Q::AsCaCO3),
+                f("calcium-hardness", Q::AsCaCO3),
+                f("alkalinity", Q::AsCaCO3),
+                f("ph", Q::Ph),
+                f("temperature", Q::Temperature),
+                f("excess-lime", Q::Concentration),
+                f("lime-purity", Q::Percent),
+                f("soda-ash-purity", Q::Percent),
+            ];
+        }
         (CalcKind::PumpCheck, _) => {
             // A drawdown test needs no pump capacity: the product fields without it.
             return vec![
@@ -132,10 +140,24 @@ pub struct ResultView {
     pub product: String,
     pub product_unit: Unit,
     pub pump: String,
-    pub trace: Vec<String>,
+    /// Further results under the big numbers, in display units.
+    pub extras: Vec<ExtraView>,
+    /// Significant figures every number on the card is rounded to.
+    pub figures: u32,
+    /// The input that limits them (first in screen order), when one does.
+    pub limiting: Option<&'static str>,
+    pub trace: Vec<TraceLine>,
     pub cautions: Vec<Caution>,
     /// The raw outcome in SI, for logging.
     pub outcome: CalcOutcome,
+}
+
+/// A further result as shown: label `result-<key>`, formatted value and its unit.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ExtraView {
+    pub key: &'static str,
+    pub value: String,
+    pub unit: Unit,
 }
 
 /// What the results card says.
@@ -176,8 +198,11 @@ pub struct CalcView {
     pub status: Status,
 }
 
-/// Significant figures shown on the results card.
+/// Significant figures shown when every input was exact (nothing typed limits them).
 const RESULT_FIGURES: u32 = 3;
+/// The most figures the card shows even when the inputs support more: beyond four, a feed
+/// setting is more digits than any pump or scale can be set to.
+const MAX_FIGURES: u32 = 4;
 
 pub struct CalcController {
     engine: Rc<dyn CalcEngine>,
@@ -293,6 +318,7 @@ impl CalcController {
     fn request(&self) -> (Vec<FieldView>, Option<CalcRequest>, bool) {
         let mut views = Vec::new();
         let mut values = BTreeMap::new();
+        let mut figures = BTreeMap::new();
         let mut empty = false;
         let mut invalid = false;
         for spec in fields(self.kind, self.mode) {
@@ -301,6 +327,9 @@ impl CalcController {
             let error = match numbers::parse(&text, self.lang) {
                 Ok(v) => {
                     values.insert(spec.name, unit.to_si(v));
+                    if let Some(n) = typed_figures(spec.quantity, &text, self.lang) {
+                        figures.insert(spec.name, n);
+                    }
                     None
                 }
                 Err(NumberError::Empty) => {
@@ -324,6 +353,7 @@ impl CalcController {
             mode: self.mode,
             product: self.product().2,
             values,
+            figures,
         });
         (views, request, invalid)
     }
@@ -354,7 +384,7 @@ impl CalcController {
             None if invalid => Status::Invalid,
             None => Status::Incomplete,
             Some(request) => match self.engine.compute(&request) {
-                Ok(outcome) => Status::Ready(Box::new(self.result_view(outcome))),
+                Ok(outcome) => Status::Ready(Box::new(self.result_view(&request, outcome))),
                 Err(SeamError::NotConnected) => Status::NotConnected,
                 Err(SeamError::Engine(e)) => Status::Refused(e),
             },
@@ -370,17 +400,44 @@ impl CalcController {
         }
     }
 
-    fn result_view(&self, outcome: CalcOutcome) -> ResultView {
+    fn result_view(&self, request: &CalcRequest, outcome: CalcOutcome) -> ResultView {
         let lang = self.lang;
+        let figures = outcome
+            .figures
+            .map_or(RESULT_FIGURES, |f| u32::from(f).clamp(1, MAX_FIGURES));
+        let limiting = outcome.figures.and_then(|f| {
+            fields(self.kind, self.mode)
+                .into_iter()
+                .map(|spec| spec.name)
+                .find(|name| request.figures(name) == Some(f))
+        });
         let show = |v: Option<f64>, unit: Unit| {
             v.map_or("—".to_string(), |v| {
-                numbers::format_sig(unit.from_si(v), RESULT_FIGURES, lang)
+                numbers::format_sig(unit.from_si(v), figures, lang)
             })
         };
         let feed_unit = Quantity::MassPerDay.unit(self.system);
         let product_unit = Quantity::VolumePerHour.unit(self.system);
         let mut cautions = outcome.cautions.clone();
         cautions.sort_by_key(|c| std::cmp::Reverse(c.level));
+        let extras = outcome
+            .extras
+            .iter()
+            .map(|e| {
+                let unit = e.quantity.unit(self.system);
+                // A pH is shown to two decimals, the precision of a field meter (common practice).
+                let value = if e.quantity == Quantity::Ph {
+                    numbers::format_fixed(e.value, 2, lang)
+                } else {
+                    show(Some(e.value), unit)
+                };
+                ExtraView {
+                    key: e.key,
+                    value,
+                    unit,
+                }
+            })
+            .collect();
         ResultView {
             chemical: outcome.chemical.clone(),
             dose: show(outcome.dose_mg_per_l, Unit::MgPerL),
@@ -389,10 +446,24 @@ impl CalcController {
             product: show(outcome.product_l_per_hour, product_unit),
             product_unit,
             pump: show(outcome.pump_setting_percent, Unit::Percent),
+            extras,
+            figures,
+            limiting,
             trace: outcome.trace.clone(),
             cautions,
             outcome,
         }
+    }
+}
+
+/// How far a typed value limits a result's precision. Unit changes are exact factors, so the
+/// figures survive them; a pH's decimals are the figures of its hydrogen-ion activity (common
+/// practice for logarithms); a temperature only selects equilibrium constants and limits none.
+fn typed_figures(quantity: Quantity, text: &str, lang: Lang) -> Option<u8> {
+    match quantity {
+        Quantity::Temperature => None,
+        Quantity::Ph => Some(numbers::decimals(text).clamp(1, 15) as u8),
+        _ => numbers::figures(text, lang),
     }
 }
 
@@ -448,7 +519,9 @@ mod tests {
                 feed_kg_per_day: request.get("flow"),
                 product_l_per_hour: request.get("pump-capacity"),
                 pump_setting_percent: None,
-                trace: vec!["step 1".into()],
+                extras: Vec::new(),
+                figures: request.figures("dose"),
+                trace: vec![TraceLine::Heading("step".into())],
                 cautions: vec![
                     Caution {
                         level: CautionLevel::Info,
@@ -518,7 +591,7 @@ mod tests {
             &mut c,
             &[
                 ("flow", "1"),
-                ("dose", "2"),
+                ("dose", "2.00"),
                 ("strength", "12.5"),
                 ("specific-gravity", "1.2"),
                 ("pump-capacity", "10"),
@@ -528,6 +601,8 @@ mod tests {
             panic!("expected a result")
         };
         let seen = rec.seen.borrow()[0].clone();
+        assert_eq!(seen.figures("dose"), Some(3));
+        assert_eq!(seen.figures("flow"), Some(1));
         assert!((seen.get("flow").unwrap() - 3785.411784).abs() < 1e-6);
         assert!((seen.get("pump-capacity").unwrap() - 37.85411784).abs() < 1e-9);
         // The recorder reports flow (m³/d) as kg/d; in US units that is shown as lb/d.
@@ -563,8 +638,94 @@ mod tests {
         let Status::Ready(r) = c.view().status else {
             panic!("expected a result")
         };
-        assert_eq!(r.dose, "2,50");
+        assert_eq!(r.dose, "2,5", "two figures typed, two shown");
         assert_eq!(rec.seen.borrow()[0].get("dose"), Some(2.5));
+        assert_eq!(rec.seen.borrow()[0].figures("dose"), Some(2));
+    }
+
+    #[test]
+    fn results_keep_the_figures_the_inputs_support() {
+        // The recorder reports the figures of "dose" as the result's; flow (m³/d) comes back
+        // as the feed, so the rounding of one number by another's precision is visible.
+        fn check(dose: &str, flow: &str, shown_dose: &str, shown_feed: &str, figures: u32) {
+            let rec = Rc::new(Recorder::default());
+            let mut c = CalcController::new(rec, Lang::En, UnitSystem::Si);
+            c.set_kind(CalcKind::FeedSetting);
+            fill(
+                &mut c,
+                &[
+                    ("flow", flow),
+                    ("dose", dose),
+                    ("strength", "12.5"),
+                    ("specific-gravity", "1.20"),
+                    ("pump-capacity", "10.0"),
+                ],
+            );
+            let Status::Ready(r) = c.view().status else {
+                panic!("expected a result for {dose}")
+            };
+            assert_eq!(
+                (r.dose.as_str(), r.feed.as_str(), r.figures),
+                (shown_dose, shown_feed, figures),
+                "dose {dose}, flow {flow}"
+            );
+            assert_eq!(r.limiting, Some("dose"));
+        }
+        check("2", "3785", "2", "4000", 1);
+        check("2.0", "3785", "2.0", "3800", 2);
+        check("2.50", "3785", "2.50", "3790", 3);
+        // More figures than a pump can be set to are not shown.
+        check("2.50000", "3785.4", "2.500", "3785", 4);
+    }
+
+    #[test]
+    fn extras_and_trace_lines_pass_to_the_card() {
+        struct Extras;
+        impl CalcEngine for Extras {
+            fn compute(&self, _: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+                Ok(CalcOutcome {
+                    chemical: "x".into(),
+                    dose_mg_per_l: Some(1.0),
+                    extras: vec![
+                        super::super::seams::Extra {
+                            key: "ph-after",
+                            value: 7.456,
+                            quantity: Quantity::Ph,
+                        },
+                        super::super::seams::Extra {
+                            key: "coagulant-solids",
+                            value: 45.359237,
+                            quantity: Quantity::MassPerDay,
+                        },
+                    ],
+                    figures: Some(3),
+                    trace: vec![TraceLine::Heading("flow".into())],
+                    ..CalcOutcome::default()
+                })
+            }
+        }
+        let mut c = CalcController::new(Rc::new(Extras), Lang::Es, UnitSystem::Us);
+        c.set_kind(CalcKind::FeedSetting);
+        for n in ["flow", "dose", "strength", "specific-gravity", "pump-capacity"] {
+            c.edit(n, "1");
+        }
+        let Status::Ready(r) = c.view().status else {
+            panic!("expected a result")
+        };
+        let shown: Vec<_> = r
+            .extras
+            .iter()
+            .map(|e| (e.key, e.value.as_str(), e.unit))
+            .collect();
+        assert_eq!(
+            shown,
+            [
+                ("ph-after", "7,46", Unit::PhUnits),
+                ("coagulant-solids", "100", Unit::LbPerDay)
+            ]
+        );
+        assert_eq!(r.limiting, None, "no typed input has three figures");
+        assert_eq!(r.trace, [TraceLine::Heading("flow".into())]);
     }
 
     #[test]

@@ -1,16 +1,18 @@
 //! The engine behind the calculator seam: maps the UI's named SI inputs onto the dosing
 //! engine's typed inputs, and its results, traces and cautions back onto [`CalcOutcome`].
 //!
-//! Design choice: a thin translation layer, no arithmetic of its own. Values arrive already in
-//! SI (flow m³/d, concentrations mg/L, pump capacity L/h) and go to the engine with those units
-//! named explicitly (`FlowUnit::M3d`, `VolumeRateUnit::Lph`); what the engine cannot do yet
-//! stays "not connected" rather than approximated here. The advisory caution is dropped
-//! because the results card shows the advisory note permanently.
+//! Design choice: a thin translation layer, no chemistry of its own. Values arrive already in
+//! SI (flow m³/d, concentrations mg/L, pump capacity L/h) with the significant figures they
+//! were typed with, and go to the engine as [`Measured`] values with those units named
+//! explicitly (`FlowUnit::M3d`, `VolumeRateUnit::Lph`), so "show the work" and the rounding of
+//! the card follow what was measured. The advisory caution is dropped because the results
+//! card shows the advisory note permanently.
 
 use super::seams::{
     CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, CautionLevel, Curve,
-    ProductChoice, SeamError,
+    Extra, ProductChoice, SeamError, StepOrigin, TraceLine,
 };
+use super::units::Quantity as Q;
 
 /// pH-adjustment chemicals: the water-chemistry engine's id and the dosing catalog's liquid
 /// product of the same compound (a test checks the pairing against both catalogs).
@@ -20,17 +22,31 @@ const PH_CHEMICALS: [(&str, &str); 3] = [
     ("hydrochloric-acid", "hydrochloric-acid"),
 ];
 
+/// Liquid coagulants a metering pump feeds, from the dosing catalog.
+const COAGULANTS: [&str; 4] = ["alum-liquid", "ferric-chloride", "ferric-sulfate", "pacl"];
+
+/// Lime products for softening; soda ash is the other softening chemical.
+const LIMES: [&str; 2] = ["hydrated-lime", "quicklime"];
+const SODA_ASH: &str = "soda-ash";
+
 /// Points on a drawn titration curve.
 const CURVE_POINTS: usize = 60;
 use crate::engine::dosing::catalog::{Catalog, Form, Strength, StrengthBasis};
 use crate::engine::dosing::chlorine::{
     ChlorineInput, chloramination, chlorine_dose, dechlorination,
 };
+use crate::engine::dosing::coagulation::{
+    Alkali, Coagulant, CoagulationInput, SludgeInput, coagulant_chemical, coagulation,
+    coagulation_in_water, sludge,
+};
 use crate::engine::dosing::feed::{FeedInput, FeedResult, PumpKind, UsableRange, feed};
 use crate::engine::dosing::pumpcheck::{Measurement, PumpCheckInput, Tolerance, pump_check};
+use crate::engine::dosing::softening::{HardnessAnalysis, removal_from_analysis, softening};
 use crate::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
-use crate::engine::dosing::{self, Severity};
-use crate::engine::sigfig::Measured;
+use crate::engine::dosing::waterside::PhRange;
+use crate::engine::dosing::{self, NamedTrace, Severity};
+use crate::engine::sigfig::{Measured, combine, sum_figures};
+use crate::engine::trace::Origin;
 use crate::engine::water::{self, Precipitation, WaterInput, WaterState};
 use crate::engine::{Error, ErrorKind};
 
@@ -61,30 +77,44 @@ impl DosingEngine {
             .collect()
     }
 
+    fn listed(&self, ids: &[&str]) -> Vec<ProductChoice> {
+        ids.iter()
+            .filter_map(|id| self.catalog.product(id).ok())
+            .map(|p| ProductChoice {
+                id: p.id.clone(),
+                name_key: p.name_key.clone(),
+            })
+            .collect()
+    }
+
+    fn chosen<'r>(&self, request: &'r CalcRequest) -> Result<&'r str, Error> {
+        request
+            .product
+            .as_deref()
+            .ok_or_else(|| Error::new(ErrorKind::UnknownChemical, "no product chosen"))
+    }
+
     /// The chosen product's id and its strength as typed, on the product's usual basis.
     fn product_strength(&self, request: &CalcRequest) -> Result<(String, Strength), Error> {
-        let product_id = request
-            .product
-            .clone()
-            .ok_or_else(|| Error::new(ErrorKind::UnknownChemical, "no product chosen"))?;
+        let product_id = self.chosen(request)?.to_string();
         let product = self.catalog.product(&product_id)?;
         let basis = product
             .strengths
             .first()
             .map_or(StrengthBasis::Weight, |s| s.basis);
         let strength = Strength::new(
-            Measured::exact(value(request, "strength")?),
+            measured(request, "strength")?,
             basis,
-            Some(Measured::exact(value(request, "specific-gravity")?)),
+            Some(measured(request, "specific-gravity")?),
         );
         Ok((product_id, strength))
     }
 
-    fn feed_for(&self, request: &CalcRequest, dose: f64) -> Result<FeedResult, Error> {
+    fn feed_for(&self, request: &CalcRequest, dose: Measured) -> Result<FeedResult, Error> {
         let (product, strength) = self.product_strength(request)?;
         let input = FeedInput {
-            flow: Flow::new(Measured::exact(value(request, "flow")?), FlowUnit::M3d),
-            dose: Measured::exact(dose),
+            flow: flow(request)?,
+            dose,
             product,
             strength,
             pump: Some(PumpKind::Metering {
@@ -106,7 +136,7 @@ impl DosingEngine {
     }
 
     fn feed_setting(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
-        let r = self.feed_for(request, value(request, "dose")?)?;
+        let r = self.feed_for(request, measured(request, "dose")?)?;
         Ok(outcome_of_feed(
             self.name_key(request),
             &r,
@@ -117,16 +147,23 @@ impl DosingEngine {
 
     /// Free chlorine: the dose from demand + residual (engine), then the product feed for it.
     fn free_chlorine(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        let demand = measured(request, "chlorine-demand")?;
+        let residual = measured(request, "residual-target")?;
         let c = chlorine_dose(
             &self.catalog,
             &ChlorineInput {
-                demand: Measured::exact(value(request, "chlorine-demand")?),
-                residual: Measured::exact(value(request, "residual-target")?),
+                demand,
+                residual,
                 ammonia_n: None,
                 residual_limit_mg_l: None,
             },
         )?;
-        let r = self.feed_for(request, c.dose_mg_l)?;
+        // A sum is known to the coarsest decimal place of its terms.
+        let dose = Measured {
+            value: c.dose_mg_l,
+            sig_figs: sum_figures(&[demand, residual], c.dose_mg_l),
+        };
+        let r = self.feed_for(request, dose)?;
         Ok(outcome_of_feed(
             self.name_key(request),
             &r,
@@ -138,12 +175,14 @@ impl DosingEngine {
     /// Chloramination: the ammonia (as N) for the chlorine dose and ratio (engine), then the
     /// ammonia product's feed for it.
     fn chloramine(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
-        let c = chloramination(
-            &self.catalog,
-            Measured::exact(value(request, "chlorine-dose")?),
-            Measured::exact(value(request, "cl2-n-ratio")?),
-        )?;
-        let r = self.feed_for(request, c.ammonia_n_mg_l)?;
+        let chlorine = measured(request, "chlorine-dose")?;
+        let ratio = measured(request, "cl2-n-ratio")?;
+        let c = chloramination(&self.catalog, chlorine, ratio)?;
+        let dose = Measured {
+            value: c.ammonia_n_mg_l,
+            sig_figs: combine(chlorine.sig_figs, ratio.sig_figs),
+        };
+        let r = self.feed_for(request, dose)?;
         Ok(outcome_of_feed(
             self.name_key(request),
             &r,
@@ -155,16 +194,14 @@ impl DosingEngine {
     /// Dechlorination: the stoichiometric agent dose for the residual (engine), then the
     /// agent product's feed for it.
     fn dechlorination(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
-        let agent = request
-            .product
-            .clone()
-            .ok_or_else(|| Error::new(ErrorKind::UnknownChemical, "no agent chosen"))?;
-        let d = dechlorination(
-            &self.catalog,
-            Measured::exact(value(request, "residual-in")?),
-            &agent,
-        )?;
-        let r = self.feed_for(request, d.agent_mg_l)?;
+        let agent = self.chosen(request)?;
+        let residual = measured(request, "residual-in")?;
+        let d = dechlorination(&self.catalog, residual, agent)?;
+        let dose = Measured {
+            value: d.agent_mg_l,
+            sig_figs: figures_of(&d.traces),
+        };
+        let r = self.feed_for(request, dose)?;
         Ok(outcome_of_feed(
             self.name_key(request),
             &r,
@@ -178,10 +215,7 @@ impl DosingEngine {
         &self,
         request: &CalcRequest,
     ) -> Result<(WaterState, &'static water::Chemical), Error> {
-        let product = request
-            .product
-            .as_deref()
-            .ok_or_else(|| Error::new(ErrorKind::UnknownChemical, "no chemical chosen"))?;
+        let product = self.chosen(request)?;
         let water_id = PH_CHEMICALS
             .iter()
             .find(|(_, p)| *p == product)
@@ -207,18 +241,248 @@ impl DosingEngine {
         let (state, chemical) = self.water_and_chemical(request)?;
         let target = value(request, "ph-target")?;
         let d = water::dose_for_ph(&state, chemical, target, Precipitation::None)?;
-        let r = self.feed_for(request, d.dose_mg_l)?;
+        // An equilibrium dose is as good as the alkalinity and the two pH readings behind it.
+        let figures = ["alkalinity", "ph-raw", "ph-target"]
+            .iter()
+            .fold(None, |acc, name| combine(acc, request.figures(name)));
+        let dose = Measured {
+            value: d.dose_mg_l,
+            sig_figs: figures,
+        };
+        let r = self.feed_for(request, dose)?;
         let mut out = outcome_of_feed(self.name_key(request), &r, Vec::new(), Vec::new());
-        out.trace.insert(0, "[ph-adjustment]".into());
-        out.trace.insert(
-            1,
-            format!(
-                "  pH {:.2} → {:.2}: {:.4} mg/L {} (water-chemistry engine, no precipitation)",
-                state.ph(),
-                d.water.ph,
-                d.dose_mg_l,
-                chemical.id
+        out.figures = combine(out.figures, figures);
+        out.trace.splice(
+            0..0,
+            [
+                TraceLine::Heading("ph-adjustment".into()),
+                TraceLine::Step {
+                    text: format!(
+                        "pH {:.2} → {:.2}: {:.4} mg/L {}",
+                        state.ph(),
+                        d.water.ph,
+                        d.dose_mg_l,
+                        chemical.formula
+                    ),
+                    origin: Some(StepOrigin {
+                        code: "equilibrium",
+                        detail: chemical.id.clone(),
+                    }),
+                },
+            ],
+        );
+        out.extras.push(Extra {
+            key: "ph-after",
+            value: d.water.ph,
+            quantity: Q::Ph,
+        });
+        out.extras.push(Extra {
+            key: "alkalinity-after",
+            value: d.water.alkalinity_mg_l_as_caco3,
+            quantity: Q::AsCaCO3,
+        });
+        Ok(out)
+    }
+
+    /// The coagulant the chosen product is, from the dose basis the catalog gives it.
+    fn coagulant(&self, request: &CalcRequest) -> Result<Coagulant, Error> {
+        let product = self.catalog.product(self.chosen(request)?)?;
+        let basicity = product.strengths.iter().find_map(|s| s.basicity_percent);
+        Coagulant::parse(
+            match product.dose_as.as_str() {
+                "Al2(SO4)3·14H2O" => "alum",
+                "FeCl3" => "ferric-chloride",
+                "Fe2(SO4)3" => "ferric-sulfate",
+                "Al" => "pacl",
+                other => other,
+            },
+            basicity,
+        )
+    }
+
+    /// Coagulation: the jar-test dose of the chosen coagulant, its feed and pump setting; the
+    /// alkalinity it consumes (balanced hydrolysis), the supplemental alkali for the residual
+    /// alkalinity to keep, the pH it leaves (water engine, metal precipitated as hydroxide, where
+    /// the engine models the coagulant) and the dry solids it makes.
+    fn coagulation(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        let coagulant = self.coagulant(request)?;
+        let dose = measured(request, "jar-dose")?;
+        let input = CoagulationInput {
+            coagulant,
+            dose,
+            raw_alkalinity: measured(request, "alkalinity")?,
+            residual_alkalinity_setpoint: value(request, "alkalinity-setpoint")?,
+            alkali: alkali_of(request.mode),
+            alkali_purity_percent: 100.0,
+        };
+        let water = WaterState::new(&WaterInput::new(
+            value(request, "ph")?,
+            value(request, "temperature")?,
+            value(request, "alkalinity")?,
+        ))?;
+        let modelled = coagulant_chemical(coagulant, dose.value).is_ok();
+        let mut c = if modelled {
+            coagulation_in_water(&self.catalog, &input, &water, PhRange::default())?
+        } else {
+            let mut c = coagulation(&self.catalog, &input)?;
+            // The pH is missing because the water engine has no model of this coagulant, not
+            // because the water was not given: say that instead.
+            c.cautions.retain(|x| x.key != "give-water-for-ph-effect");
+            c.cautions
+                .push(dosing::Caution::info("coagulant-ph-not-modelled"));
+            c
+        };
+        let solids = sludge(
+            &self.catalog,
+            &SludgeInput {
+                flow: flow(request)?,
+                coagulant,
+                dose,
+                suspended_solids_mg_l: 0.0,
+                additives_mg_l: 0.0,
+            },
+        )?;
+        let r = self.feed_for(request, dose)?;
+        let mut traces = std::mem::take(&mut c.traces);
+        traces.extend(solids.traces.iter().cloned());
+        let mut out = outcome_of_feed(self.name_key(request), &r, traces, c.cautions.clone());
+        let mut extra = |key, value, quantity| {
+            out.extras.push(Extra {
+                key,
+                value,
+                quantity,
+            })
+        };
+        extra("alkalinity-consumed", c.alkalinity_consumed_mg_l, Q::AsCaCO3);
+        extra(
+            "alkalinity-remaining",
+            c.alkalinity_remaining_mg_l.max(0.0),
+            Q::AsCaCO3,
+        );
+        if let Some(w) = &c.water {
+            extra("ph-after-coagulant", w.ph_after, Q::Ph);
+        }
+        if c.alkali_mg_l > 0.0 {
+            extra("supplemental-alkali", c.alkali_mg_l, Q::Concentration);
+            if let Some(w) = &c.water_with_alkali {
+                extra("ph-after-alkali", w.ph_after, Q::Ph);
+            }
+        }
+        extra(
+            "coagulant-solids",
+            solids.dry_solids_kg_per_day,
+            Q::MassPerDay,
+        );
+        Ok(out)
+    }
+
+    /// Lime–soda softening: lime and soda ash from the tap analysis (free CO2 from the water
+    /// engine), each with its daily feed as delivered.
+    fn softening(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+        let lime_id = self.chosen(request)?.to_string();
+        let water = WaterState::new(&WaterInput::new(
+            value(request, "ph")?,
+            value(request, "temperature")?,
+            value(request, "alkalinity")?,
+        ))?;
+        let co2 = water.result()?.co2_mg_l;
+        let ph_figures = request.figures("ph");
+        let (removal, mut traces) = removal_from_analysis(&HardnessAnalysis {
+            total_hardness: measured(request, "total-hardness")?,
+            calcium_hardness: measured(request, "calcium-hardness")?,
+            alkalinity: measured(request, "alkalinity")?,
+            co2: Measured {
+                value: co2,
+                sig_figs: combine(ph_figures, request.figures("alkalinity")),
+            },
+        })?;
+        let lime_purity = measured(request, "lime-purity")?;
+        let soda_purity = measured(request, "soda-ash-purity")?;
+        let s = softening(
+            &self.catalog,
+            &removal.input(
+                value(request, "excess-lime")?,
+                lime_purity.value,
+                soda_purity.value,
             ),
+        )?;
+        traces.extend(s.traces.iter().cloned());
+        let quick = lime_id == "quicklime";
+        let lime_dose = if quick {
+            s.lime_cao_mg_l
+        } else {
+            s.lime_caoh2_mg_l
+        };
+        // Lime is a sum of terms, each a removal times a derived factor.
+        let terms = [
+            (removal.co2, s.cao_per_co2),
+            (removal.carbonate_hardness, s.cao_per_alkalinity),
+            (removal.magnesium, s.cao_per_mg),
+        ]
+        .map(|(m, f)| Measured {
+            value: m.value * f,
+            sig_figs: m.sig_figs,
+        });
+        let mut with_excess = terms.to_vec();
+        with_excess.push(measured(request, "excess-lime")?);
+        let lime_figures = sum_figures(&with_excess, s.lime_cao_mg_l);
+        let dry_feed = |product: &str, dose: Measured, purity: Measured| {
+            feed(
+                &self.catalog,
+                &FeedInput {
+                    flow: flow(request)?,
+                    dose,
+                    product: product.to_string(),
+                    strength: Strength::new(purity, StrengthBasis::Purity, None),
+                    pump: None,
+                    usable_range: UsableRange::default(),
+                    max_use_level_mg_l: None,
+                },
+            )
+        };
+        let lime = dry_feed(
+            &lime_id,
+            Measured {
+                value: lime_dose,
+                sig_figs: lime_figures,
+            },
+            lime_purity,
+        )?;
+        let mut cautions = s.cautions.clone();
+        let mut soda_feed = None;
+        if s.soda_ash_mg_l > 0.0 {
+            let soda = dry_feed(
+                SODA_ASH,
+                Measured {
+                    value: s.soda_ash_mg_l,
+                    sig_figs: removal.non_carbonate_hardness.sig_figs,
+                },
+                soda_purity,
+            )?;
+            traces.extend(soda.traces.iter().cloned());
+            cautions.extend(soda.cautions.iter().cloned());
+            soda_feed = Some(soda);
+        }
+        let mut out = outcome_of_feed(self.name_key(request), &lime, traces, cautions);
+        out.figures = combine(out.figures, lime_figures);
+        let mut extra = |key, value, quantity| {
+            out.extras.push(Extra {
+                key,
+                value,
+                quantity,
+            })
+        };
+        extra("lime-as-delivered", lime.product_kg_per_day, Q::MassPerDay);
+        extra("soda-ash-dose", s.soda_ash_mg_l, Q::Concentration);
+        if let Some(soda) = &soda_feed {
+            extra("soda-ash-as-delivered", soda.product_kg_per_day, Q::MassPerDay);
+        }
+        extra("free-co2", co2, Q::Concentration);
+        extra("magnesium-removed", removal.magnesium.value, Q::Concentration);
+        extra(
+            "non-carbonate-hardness",
+            removal.non_carbonate_hardness.value,
+            Q::AsCaCO3,
         );
         Ok(out)
     }
@@ -231,13 +495,13 @@ impl DosingEngine {
             &self.catalog,
             &PumpCheckInput {
                 measurement: Measurement::Drawdown {
-                    ml: Measured::exact(value(request, "drawdown-volume")?),
-                    seconds: Measured::exact(value(request, "drawdown-time")?),
+                    ml: measured(request, "drawdown-volume")?,
+                    seconds: measured(request, "drawdown-time")?,
                 },
-                flow: Flow::new(Measured::exact(value(request, "flow")?), FlowUnit::M3d),
+                flow: flow(request)?,
                 product,
                 strength,
-                target_dose: Measured::exact(value(request, "dose")?),
+                target_dose: measured(request, "dose")?,
                 current_setting_percent: Some(value(request, "pump-setting")?),
                 tolerance: Tolerance::default(),
             },
@@ -248,12 +512,20 @@ impl DosingEngine {
             feed_kg_per_day: Some(r.active_kg_per_day),
             product_l_per_hour: Some(r.product_l_per_day / 24.0),
             pump_setting_percent: r.suggested_setting_percent,
-            trace: dosing::show_work(&r.traces)
-                .lines()
-                .map(str::to_string)
-                .collect(),
+            extras: Vec::new(),
+            figures: figures_of(&r.traces),
+            trace: trace_lines(&r.traces),
             cautions: cautions(&r.cautions),
         })
+    }
+}
+
+/// The supplemental alkali a coagulation mode stands for.
+fn alkali_of(mode: CalcMode) -> Alkali {
+    match mode {
+        CalcMode::AlkaliLime => Alkali::HydratedLime,
+        CalcMode::AlkaliSodaAsh => Alkali::SodaAsh,
+        _ => Alkali::Caustic,
     }
 }
 
@@ -264,11 +536,66 @@ fn value(request: &CalcRequest, name: &str) -> Result<f64, Error> {
     })
 }
 
+/// A typed input with the significant figures it was typed with.
+fn measured(request: &CalcRequest, name: &str) -> Result<Measured, Error> {
+    Ok(Measured {
+        value: value(request, name)?,
+        sig_figs: request.figures(name),
+    })
+}
+
+fn flow(request: &CalcRequest) -> Result<Flow, Error> {
+    Ok(Flow::new(measured(request, "flow")?, FlowUnit::M3d))
+}
+
+/// The least precise measured input along any of the traces.
+fn figures_of(traces: &[NamedTrace]) -> Option<u8> {
+    traces
+        .iter()
+        .fold(None, |acc, t| combine(acc, t.trace.sig_figs()))
+}
+
+/// The engine's traces as "show the work" lines: a heading per trace, each step beside the
+/// origin of its factor, then the rounded result.
+fn trace_lines(traces: &[NamedTrace]) -> Vec<TraceLine> {
+    let mut lines = Vec::new();
+    for t in traces {
+        lines.push(TraceLine::Heading(t.label.to_string()));
+        let texts = dosing::step_lines(&t.trace);
+        let origins = t.trace.steps.iter().map(|s| origin_of(&s.origin));
+        for (i, text) in texts.into_iter().enumerate() {
+            let origin = if t.trace.steps.is_empty() {
+                origin_of(&t.trace.start_origin)
+            } else {
+                origins.clone().nth(i).flatten()
+            };
+            lines.push(TraceLine::Step { text, origin });
+        }
+        if t.trace.sig_figs().is_some() {
+            lines.push(TraceLine::Result(format!("≈ {}", t.trace.display_result())));
+        }
+    }
+    lines
+}
+
+fn origin_of(origin: &Origin) -> Option<StepOrigin> {
+    let (code, detail) = match origin {
+        Origin::Measured => ("measured", String::new()),
+        Origin::MolarMass { formula } => ("molar-mass", formula.clone()),
+        Origin::MoleRatio { reaction } => ("mole-ratio", reaction.clone()),
+        Origin::UnitDefinition => ("unit-definition", String::new()),
+        Origin::Product { name } => ("product", name.clone()),
+        Origin::Constant { source } => ("constant", source.clone()),
+        Origin::Equilibrium => ("equilibrium", String::new()),
+    };
+    Some(StepOrigin { code, detail })
+}
+
 /// A feed result as the card shows it, after the steps (if any) that led to its dose.
 fn outcome_of_feed(
     chemical: String,
     r: &FeedResult,
-    mut traces: Vec<dosing::NamedTrace>,
+    mut traces: Vec<NamedTrace>,
     mut before: Vec<dosing::Caution>,
 ) -> CalcOutcome {
     traces.extend(r.traces.iter().cloned());
@@ -279,10 +606,9 @@ fn outcome_of_feed(
         feed_kg_per_day: Some(r.active_kg_per_day),
         product_l_per_hour: r.product_l_per_h,
         pump_setting_percent: r.pump.as_ref().map(|p| p.percent),
-        trace: dosing::show_work(&traces)
-            .lines()
-            .map(str::to_string)
-            .collect(),
+        extras: Vec::new(),
+        figures: figures_of(&traces),
+        trace: trace_lines(&traces),
         cautions: cautions(&dosing::caution::finish(before)),
     }
 }
@@ -312,15 +638,44 @@ fn cautions(list: &[dosing::Caution]) -> Vec<Caution> {
 
 impl CalcEngine for DosingEngine {
     fn titration_curve(&self, request: &CalcRequest) -> Result<Curve, SeamError> {
-        if request.kind != CalcKind::PhControl {
-            return Err(SeamError::NotConnected);
-        }
-        let (state, chemical) = self.water_and_chemical(request)?;
-        let target = value(request, "ph-target")?;
-        // Draw to twice the dose that reaches the target, so the target sits mid-curve.
-        let max = water::dose_for_ph(&state, chemical, target, Precipitation::None)
-            .map_or(100.0, |d| (2.0 * d.dose_mg_l).max(1.0));
-        let points = water::curve(&state, chemical, max, CURVE_POINTS, Precipitation::None)?;
+        let (state, chemical, max, precipitation) = match request.kind {
+            CalcKind::PhControl => {
+                let (state, chemical) = self.water_and_chemical(request)?;
+                let target = value(request, "ph-target")?;
+                // Draw to twice the dose that reaches the target, so the target sits mid-curve.
+                let max = water::dose_for_ph(&state, chemical, target, Precipitation::None)
+                    .map_or(100.0, |d| (2.0 * d.dose_mg_l).max(1.0));
+                (state, chemical, max, Precipitation::None)
+            }
+            CalcKind::Coagulation => {
+                let coagulant = self.coagulant(request)?;
+                let dose = value(request, "jar-dose")?;
+                let (chemical, mg_l) = coagulant_chemical(coagulant, dose)?;
+                let state = WaterState::new(&WaterInput::new(
+                    value(request, "ph")?,
+                    value(request, "temperature")?,
+                    value(request, "alkalinity")?,
+                ))?;
+                // x stays in the coagulant as dosed: scale the engine's compound back to it.
+                let per_dose = mg_l / dose;
+                let points = water::curve(
+                    &state,
+                    chemical,
+                    2.0 * mg_l.max(1.0),
+                    CURVE_POINTS,
+                    Precipitation::Hydroxide,
+                )?;
+                return Ok(Curve {
+                    titrant: self.name_key(request),
+                    points: points
+                        .iter()
+                        .map(|p| (p.dose_mg_l / per_dose, p.ph))
+                        .collect(),
+                });
+            }
+            _ => return Err(SeamError::NotConnected),
+        };
+        let points = water::curve(&state, chemical, max, CURVE_POINTS, precipitation)?;
         Ok(Curve {
             titrant: self.name_key(request),
             points: points.iter().map(|p| (p.dose_mg_l, p.ph)).collect(),
@@ -329,14 +684,11 @@ impl CalcEngine for DosingEngine {
 
     fn products(&self, kind: CalcKind, mode: CalcMode) -> Vec<ProductChoice> {
         match (kind, mode) {
-            (CalcKind::PhControl, _) => PH_CHEMICALS
-                .iter()
-                .filter_map(|(_, id)| self.catalog.product(id).ok())
-                .map(|p| ProductChoice {
-                    id: p.id.clone(),
-                    name_key: p.name_key.clone(),
-                })
-                .collect(),
+            (CalcKind::PhControl, _) => {
+                self.listed(&PH_CHEMICALS.map(|(_, product)| product))
+            }
+            (CalcKind::Coagulation, _) => self.listed(&COAGULANTS),
+            (CalcKind::Softening, _) => self.listed(&LIMES),
             (CalcKind::FeedSetting | CalcKind::PumpCheck, _) => self.solution_products(None),
             (CalcKind::Chlorination, CalcMode::FreeChlorine) => {
                 self.solution_products(Some(&["Cl2"]))
@@ -356,6 +708,8 @@ impl CalcEngine for DosingEngine {
             (CalcKind::Chlorination, CalcMode::FreeChlorine) => self.free_chlorine(request),
             (CalcKind::Chlorination, CalcMode::Chloramine) => self.chloramine(request),
             (CalcKind::Chlorination, CalcMode::Dechlorination) => self.dechlorination(request),
+            (CalcKind::Coagulation, _) => self.coagulation(request),
+            (CalcKind::Softening, _) => self.softening(request),
             (CalcKind::PumpCheck, _) => self.pump_check(request),
             _ => Err(SeamError::NotConnected),
         }
@@ -380,6 +734,7 @@ mod tests {
                 ("specific-gravity", 1.2),
                 ("pump-capacity", 15.0),
             ]),
+            figures: BTreeMap::new(),
         }
     }
 
@@ -388,11 +743,6 @@ mod tests {
         let engine = DosingEngine::new().expect("built-in catalog");
         let products = engine.products(CalcKind::FeedSetting, CalcMode::Standard);
         assert!(products.iter().any(|p| p.id == "sodium-hypochlorite"));
-        assert!(
-            engine
-                .products(CalcKind::Softening, CalcMode::Standard)
-                .is_empty()
-        );
 
         let out = engine
             .compute(&feed_request("sodium-hypochlorite", 2.5))
@@ -464,14 +814,14 @@ mod tests {
         )
         .unwrap();
         assert_eq!(out.dose_mg_per_l, Some(direct.dose_mg_l));
-        let fed = engine.feed_for(&request, direct.dose_mg_l).unwrap();
+        let fed = engine.feed_for(&request, Measured::exact(direct.dose_mg_l)).unwrap();
         assert_eq!(out.feed_kg_per_day, Some(fed.active_kg_per_day));
-        request.kind = CalcKind::Softening;
+        request.kind = CalcKind::FeedSetting;
         request.mode = CalcMode::Standard;
-        assert_eq!(engine.compute(&request), Err(SeamError::NotConnected));
         assert_eq!(
             engine.titration_curve(&request),
-            Err(SeamError::NotConnected)
+            Err(SeamError::NotConnected),
+            "no curve for a feed setting"
         );
     }
 
@@ -616,6 +966,203 @@ mod tests {
         );
         let mut other = feed_request("sodium-hypochlorite", 1.0);
         other.kind = CalcKind::Softening;
-        assert_eq!(engine.compute(&other), Err(SeamError::NotConnected));
+        let err = engine.compute(&other);
+        assert!(
+            matches!(&err, Err(SeamError::Engine(e)) if e.kind() == ErrorKind::InvalidInput),
+            "softening without its inputs: {err:?}"
+        );
+    }
+
+    fn request(kind: CalcKind, mode: CalcMode, product: &str, values: &[(&'static str, f64)]) -> CalcRequest {
+        CalcRequest {
+            kind,
+            mode,
+            product: Some(product.into()),
+            values: values.iter().copied().collect(),
+            figures: BTreeMap::new(),
+        }
+    }
+
+    fn extra(out: &CalcOutcome, key: &str) -> Option<f64> {
+        out.extras.iter().find(|e| e.key == key).map(|e| e.value)
+    }
+
+    fn coagulation_request(product: &str, mode: CalcMode, setpoint: f64) -> CalcRequest {
+        request(
+            CalcKind::Coagulation,
+            mode,
+            product,
+            &[
+                ("flow", 9084.99),
+                ("jar-dose", 30.0),
+                ("alkalinity", 40.0),
+                ("alkalinity-setpoint", setpoint),
+                ("ph", 7.2),
+                ("temperature", 12.0),
+                ("strength", 8.3),
+                ("specific-gravity", 1.335),
+                ("pump-capacity", 60.0),
+            ],
+        )
+    }
+
+    #[test]
+    fn coagulation_comes_from_the_hydrolysis_and_the_water_engine() {
+        let engine = DosingEngine::new().unwrap();
+        let offered = engine.products(CalcKind::Coagulation, CalcMode::AlkaliCaustic);
+        assert_eq!(
+            offered.iter().map(|p| p.id.as_str()).collect::<Vec<_>>(),
+            COAGULANTS
+        );
+        let req = coagulation_request("alum-liquid", CalcMode::AlkaliCaustic, 30.0);
+        let out = engine.compute(&req).expect("a coagulation result");
+        let input = CoagulationInput {
+            coagulant: Coagulant::Alum14,
+            dose: Measured::exact(30.0),
+            raw_alkalinity: Measured::exact(40.0),
+            residual_alkalinity_setpoint: 30.0,
+            alkali: Alkali::Caustic,
+            alkali_purity_percent: 100.0,
+        };
+        let water = WaterState::new(&WaterInput::new(7.2, 12.0, 40.0)).unwrap();
+        let direct =
+            coagulation_in_water(&engine.catalog, &input, &water, PhRange::default()).unwrap();
+        assert_eq!(out.dose_mg_per_l, Some(30.0));
+        assert_eq!(
+            extra(&out, "alkalinity-consumed"),
+            Some(direct.alkalinity_consumed_mg_l)
+        );
+        assert_eq!(extra(&out, "supplemental-alkali"), Some(direct.alkali_mg_l));
+        let after = extra(&out, "ph-after-coagulant").expect("alum is modelled");
+        let with_alkali = extra(&out, "ph-after-alkali").expect("alkali needed for 30 mg/L");
+        assert!(after < 7.2 && with_alkali > after, "{after} {with_alkali}");
+        let fed = engine.feed_for(&req, Measured::exact(30.0)).unwrap();
+        assert_eq!(out.feed_kg_per_day, Some(fed.active_kg_per_day));
+        assert_eq!(out.pump_setting_percent, fed.pump.map(|p| p.percent));
+        assert!(extra(&out, "coagulant-solids").unwrap() > 0.0);
+        assert!(
+            out.trace
+                .contains(&TraceLine::Heading("alkalinity-per-dose".into()))
+        );
+
+        // Lime as the alkali: a different alkali dose for the same deficit.
+        let lime = engine
+            .compute(&coagulation_request("alum-liquid", CalcMode::AlkaliLime, 30.0))
+            .unwrap();
+        assert_ne!(
+            extra(&lime, "supplemental-alkali"),
+            extra(&out, "supplemental-alkali")
+        );
+        // Enough alkalinity: no alkali and no pH after it.
+        let enough = engine
+            .compute(&coagulation_request("alum-liquid", CalcMode::AlkaliCaustic, 10.0))
+            .unwrap();
+        assert_eq!(extra(&enough, "supplemental-alkali"), None);
+        assert_eq!(extra(&enough, "ph-after-alkali"), None);
+    }
+
+    #[test]
+    fn coagulant_without_a_water_model_says_so() {
+        let engine = DosingEngine::new().unwrap();
+        let mut req = coagulation_request("pacl", CalcMode::AlkaliCaustic, 10.0);
+        req.values.insert("strength", 10.5);
+        req.values.insert("specific-gravity", 1.2);
+        let out = engine.compute(&req).expect("PACl result");
+        assert_eq!(extra(&out, "ph-after-coagulant"), None);
+        assert!(extra(&out, "alkalinity-consumed").unwrap() > 0.0);
+        assert!(
+            out.cautions
+                .iter()
+                .any(|c| c.code == "coagulant-ph-not-modelled")
+        );
+        assert!(
+            !out.cautions
+                .iter()
+                .any(|c| c.code == "give-water-for-ph-effect")
+        );
+    }
+
+    #[test]
+    fn coagulation_curve_falls_from_the_raw_ph() {
+        let engine = DosingEngine::new().unwrap();
+        let req = coagulation_request("ferric-chloride", CalcMode::AlkaliCaustic, 10.0);
+        let curve = engine.titration_curve(&req).expect("a coagulation curve");
+        assert_eq!(curve.points.len(), CURVE_POINTS);
+        assert!((curve.points[0].1 - 7.2).abs() < 1e-6, "{:?}", curve.points[0]);
+        assert!((curve.points.last().unwrap().0 - 60.0).abs() < 1e-6);
+        assert!(curve.points.windows(2).all(|w| w[1].1 <= w[0].1 + 1e-9));
+    }
+
+    #[test]
+    fn softening_comes_from_the_analysis_and_the_lime_soda_method() {
+        let engine = DosingEngine::new().unwrap();
+        let values = [
+            ("flow", 4000.0),
+            ("total-hardness", 260.0),
+            ("calcium-hardness", 190.0),
+            ("alkalinity", 180.0),
+            ("ph", 7.6),
+            ("temperature", 14.0),
+            ("excess-lime", 35.0),
+            ("lime-purity", 93.0),
+            ("soda-ash-purity", 98.0),
+        ];
+        let req = request(CalcKind::Softening, CalcMode::Standard, "hydrated-lime", &values);
+        let out = engine.compute(&req).expect("a softening result");
+        let co2 = WaterState::new(&WaterInput::new(7.6, 14.0, 180.0))
+            .unwrap()
+            .result()
+            .unwrap()
+            .co2_mg_l;
+        let (removal, _) = removal_from_analysis(&HardnessAnalysis {
+            total_hardness: Measured::exact(260.0),
+            calcium_hardness: Measured::exact(190.0),
+            alkalinity: Measured::exact(180.0),
+            co2: Measured::exact(co2),
+        })
+        .unwrap();
+        let direct = softening(&engine.catalog, &removal.input(35.0, 93.0, 98.0)).unwrap();
+        assert_eq!(out.dose_mg_per_l, Some(direct.lime_caoh2_mg_l));
+        assert_eq!(extra(&out, "soda-ash-dose"), Some(direct.soda_ash_mg_l));
+        assert_eq!(extra(&out, "free-co2"), Some(co2));
+        assert_eq!(removal.non_carbonate_hardness.value, 80.0);
+        assert_eq!(out.product_l_per_hour, None, "dry feed: no volume");
+        assert_eq!(out.pump_setting_percent, None);
+        let quick = engine
+            .compute(&request(CalcKind::Softening, CalcMode::Standard, "quicklime", &values))
+            .unwrap();
+        assert_eq!(quick.dose_mg_per_l, Some(direct.lime_cao_mg_l));
+    }
+
+    #[test]
+    fn typed_figures_limit_the_result() {
+        let engine = DosingEngine::new().unwrap();
+        let mut req = feed_request("sodium-hypochlorite", 0.0);
+        req.kind = CalcKind::Chlorination;
+        req.mode = CalcMode::FreeChlorine;
+        req.values.remove("dose");
+        req.values.insert("chlorine-demand", 1.4);
+        req.values.insert("residual-target", 1.05);
+        for (name, n) in [
+            ("flow", 4),
+            ("chlorine-demand", 2),
+            ("residual-target", 3),
+            ("strength", 3),
+            ("specific-gravity", 4),
+            ("pump-capacity", 3),
+        ] {
+            req.figures.insert(name, n);
+        }
+        // 1.4 + 1.05 is known to the tenths: 2.5, two figures.
+        assert_eq!(engine.compute(&req).unwrap().figures, Some(2));
+        req.values.insert("chlorine-demand", 1.40);
+        req.figures.insert("chlorine-demand", 3);
+        assert_eq!(engine.compute(&req).unwrap().figures, Some(3));
+        req.figures.clear();
+        assert_eq!(
+            engine.compute(&req).unwrap().figures.filter(|&f| f < 4),
+            None,
+            "exact inputs leave only the molar masses' figures"
+        );
     }
 }

@@ -120,6 +120,21 @@ pub fn parse(text: &str, lang: Lang) -> Result<f64, NumberError> {
     Ok(sign * value)
 }
 
+/// Significant figures of a number as typed in `lang` (the usual rules: leading zeros never
+/// count, trailing zeros of a whole number without a decimal mark do not); `None` when the
+/// text is not a number.
+pub fn figures(text: &str, lang: Lang) -> Option<u8> {
+    parse(text, lang).ok()?;
+    crate::engine::sigfig::count_sig_figs(&text.trim().replace(',', "."))
+}
+
+/// Digits after the decimal mark as typed (a pH's precision is its decimal places).
+pub fn decimals(text: &str) -> usize {
+    text.trim()
+        .split_once(['.', ','])
+        .map_or(0, |(_, after)| after.chars().filter(char::is_ascii_digit).count())
+}
+
 /// Formats `value` with `sig` significant figures (at most 6 decimals), in `lang`.
 /// Non-finite values format as an em dash: the UI never shows `NaN`.
 pub fn format_sig(value: f64, sig: u32, lang: Lang) -> String {
@@ -129,6 +144,9 @@ pub fn format_sig(value: f64, sig: u32, lang: Lang) -> String {
     if value == 0.0 {
         return "0".to_string();
     }
+    // Round first so whole-number digits beyond the figures become zeros (38 at one figure
+    // is 40): a digit the inputs cannot support is never shown.
+    let value = crate::engine::sigfig::round_sig(value, sig.clamp(1, 15) as u8);
     let magnitude = value.abs().log10().floor() as i32;
     let decimals = (sig as i32 - 1 - magnitude).clamp(0, 6) as usize;
     format_fixed(value, decimals, lang)
@@ -184,7 +202,9 @@ mod tests {
 
     #[test]
     fn formats_significant_figures_in_the_locale() {
-        assert_eq!(format_sig(1234.567, 3, Lang::En), "1235");
+        assert_eq!(format_sig(1234.567, 3, Lang::En), "1230");
+        assert_eq!(format_sig(37.9, 1, Lang::En), "40");
+        assert_eq!(format_sig(0.996, 2, Lang::En), "1.0");
         assert_eq!(format_sig(12.3456, 3, Lang::En), "12.3");
         assert_eq!(format_sig(12.3456, 3, Lang::Es), "12,3");
         assert_eq!(format_sig(0.012345, 3, Lang::Es), "0,0123");
@@ -202,6 +222,22 @@ mod tests {
                 assert_eq!(parse(&shown, lang), Ok(v), "{lang:?} {shown}");
             }
         }
+    }
+
+    #[test]
+    fn typed_figures_and_decimals() {
+        fn check(text: &str, lang: Lang, figures: Option<u8>, decimals: usize) {
+            assert_eq!(super::figures(text, lang), figures, "figures of {text:?}");
+            assert_eq!(super::decimals(text), decimals, "decimals of {text:?}");
+        }
+        check("2.50", Lang::En, Some(3), 2);
+        check("2,50", Lang::Es, Some(3), 2);
+        check("1500", Lang::En, Some(2), 0);
+        check("1500.", Lang::En, Some(4), 0);
+        check("0.0120", Lang::En, Some(3), 4);
+        check("7", Lang::En, Some(1), 0);
+        check("2,5", Lang::En, None, 1);
+        check("abc", Lang::En, None, 0);
     }
 
     #[test]

@@ -79,6 +79,20 @@ pub fn grid(ticks: &[f64], y: Range) -> String {
         .join(" ")
 }
 
+/// A vertical line at `x` and a horizontal one at `y` across the view box: the marker of a
+/// chosen point on a curve. Either is left out when it falls outside its range.
+pub fn crosshair(x: Option<f64>, y: Option<f64>, xr: Range, yr: Range) -> String {
+    let mut parts = Vec::new();
+    if let Some(x) = x.filter(|v| v.is_finite() && (xr.lo..=xr.hi).contains(v)) {
+        let sx = (x - xr.lo) / (xr.hi - xr.lo) * VIEW_W;
+        parts.push(format!("M {sx:.1} 0 L {sx:.1} {VIEW_H}"));
+    }
+    if let Some(y) = y.filter(|v| v.is_finite() && (yr.lo..=yr.hi).contains(v)) {
+        parts.push(grid(&[y], yr));
+    }
+    parts.join(" ")
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -96,6 +110,18 @@ mod tests {
         let r = Range { lo: 0.0, hi: 1.0 };
         assert_eq!(polyline(&[(0.0, 0.0)], r, r), "");
         assert_eq!(polyline(&[(0.0, f64::NAN), (1.0, 1.0)], r, r), "");
+    }
+
+    #[test]
+    fn crosshair_marks_a_point_inside_the_ranges() {
+        let x = Range { lo: 0.0, hi: 20.0 };
+        let y = Range { lo: 6.0, hi: 9.0 };
+        assert_eq!(
+            crosshair(Some(5.0), Some(7.5), x, y),
+            "M 250.0 0 L 250.0 600 M 0 300.0 L 1000 300.0"
+        );
+        assert_eq!(crosshair(Some(25.0), Some(7.5), x, y), "M 0 300.0 L 1000 300.0");
+        assert_eq!(crosshair(None, Some(f64::NAN), x, y), "");
     }
 
     #[test]

@@ -6,6 +6,7 @@
 //! answers [`SeamError::NotConnected`] and the UI says so in words: the app never makes up a
 //! dose. Tests plug in their own implementations to check wiring and formatting.
 
+use super::units::Quantity;
 use crate::engine;
 use std::collections::BTreeMap;
 use std::rc::Rc;
@@ -51,6 +52,12 @@ impl CalcKind {
                 CalcMode::Chloramine,
                 CalcMode::Dechlorination,
             ],
+            // Coagulation's variants are the alkali that keeps the residual alkalinity.
+            CalcKind::Coagulation => &[
+                CalcMode::AlkaliCaustic,
+                CalcMode::AlkaliLime,
+                CalcMode::AlkaliSodaAsh,
+            ],
             _ => &[CalcMode::Standard],
         }
     }
@@ -63,14 +70,20 @@ pub enum CalcMode {
     FreeChlorine,
     Chloramine,
     Dechlorination,
+    AlkaliCaustic,
+    AlkaliLime,
+    AlkaliSodaAsh,
 }
 
 impl CalcMode {
-    pub const ALL: [CalcMode; 4] = [
+    pub const ALL: [CalcMode; 7] = [
         CalcMode::Standard,
         CalcMode::FreeChlorine,
         CalcMode::Chloramine,
         CalcMode::Dechlorination,
+        CalcMode::AlkaliCaustic,
+        CalcMode::AlkaliLime,
+        CalcMode::AlkaliSodaAsh,
     ];
 
     pub fn code(self) -> &'static str {
@@ -79,6 +92,9 @@ impl CalcMode {
             CalcMode::FreeChlorine => "free-chlorine",
             CalcMode::Chloramine => "chloramine",
             CalcMode::Dechlorination => "dechlorination",
+            CalcMode::AlkaliCaustic => "alkali-caustic",
+            CalcMode::AlkaliLime => "alkali-lime",
+            CalcMode::AlkaliSodaAsh => "alkali-soda-ash",
         }
     }
 }
@@ -93,6 +109,9 @@ pub struct CalcRequest {
     /// The catalog id of the product chosen, for calculators that offer a choice.
     pub product: Option<String>,
     pub values: BTreeMap<&'static str, f64>,
+    /// Significant figures of each value as typed; a field absent here does not limit the
+    /// precision of a result (temperature, or an input that was not typed).
+    pub figures: BTreeMap<&'static str, u8>,
 }
 
 /// A product the operator can pick for a calculator; `name_key` is its translation key.
@@ -105,6 +124,11 @@ pub struct ProductChoice {
 impl CalcRequest {
     pub fn get(&self, name: &str) -> Option<f64> {
         self.values.get(name).copied()
+    }
+
+    /// The significant figures `name` was typed with, if it limits precision.
+    pub fn figures(&self, name: &str) -> Option<u8> {
+        self.figures.get(name).copied()
     }
 }
 
@@ -154,9 +178,59 @@ pub struct CalcOutcome {
     pub product_l_per_hour: Option<f64>,
     /// Metering-pump setting, percent of full stroke/speed.
     pub pump_setting_percent: Option<f64>,
-    /// "Show the work": one line per step, as the engine writes it.
-    pub trace: Vec<String>,
+    /// Further results a calculator reports beside the four big numbers (alkalinity
+    /// consumed, pH after, soda ash ...), shown as a list under them.
+    pub extras: Vec<Extra>,
+    /// Significant figures the inputs support for the results (the least precise measured
+    /// input along the engine's traces); `None` when every input was exact.
+    pub figures: Option<u8>,
+    /// "Show the work": headings and one line per conversion step, as the engine writes them.
+    pub trace: Vec<TraceLine>,
     pub cautions: Vec<Caution>,
+}
+
+/// A further result: translation key `result-<key>`, value in SI for `quantity`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Extra {
+    pub key: &'static str,
+    pub value: f64,
+    pub quantity: Quantity,
+}
+
+/// Where a step's factor comes from; translated as `origin-<code>` with `$detail`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct StepOrigin {
+    pub code: &'static str,
+    pub detail: String,
+}
+
+/// One line of "show the work".
+#[derive(Clone, Debug, PartialEq)]
+pub enum TraceLine {
+    /// A named trace begins; its title is the translation `trace-<label>`.
+    Heading(String),
+    /// A conversion step (`previous × factor = result`), with its factor's origin.
+    Step {
+        text: String,
+        origin: Option<StepOrigin>,
+    },
+    /// The result rounded to the figures its inputs support, or a note from the adapter.
+    Result(String),
+}
+
+impl TraceLine {
+    /// The line as stored in the dose log: language-neutral, headings as `[label]`.
+    pub fn plain(&self) -> String {
+        match self {
+            TraceLine::Heading(label) => format!("[{label}]"),
+            TraceLine::Step {
+                text,
+                origin: Some(o),
+            } => format!("  {text}   ({}: {})", o.code, o.detail),
+            TraceLine::Step { text, origin: None } => format!("  {text}"),
+            TraceLine::Result(text) => format!("  {text}"),
+        }
+    }
 }
 
 /// A titration curve: titrant added (mg/L) against pH.
@@ -192,7 +266,7 @@ pub trait CalcEngine {
         Err(SeamError::NotConnected)
     }
 
-    /// The titration curve for the pH-control inputs (x: titrant mg/L, y: pH).
+    /// The titration curve for the pH-control or coagulation inputs (x: titrant mg/L, y: pH).
     fn titration_curve(&self, _request: &CalcRequest) -> Result<Curve, SeamError> {
         Err(SeamError::NotConnected)
     }
@@ -203,10 +277,9 @@ pub struct Unconnected;
 
 impl CalcEngine for Unconnected {}
 
-/// SEAM FOR THE LEAD: the engine the app uses. Desktop and Android both get it here.
-/// [`super::engine_adapter::DosingEngine`] answers the calculators the dosing engine covers so
-/// far and says "not connected" for the rest; if the built-in catalog ever failed to load, the
-/// app would show that instead of numbers.
+/// The engine the app uses; desktop and Android both get it here.
+/// [`super::engine_adapter::DosingEngine`] answers every calculator; if the built-in catalog
+/// ever failed to load, the app would say "not connected" instead of showing numbers.
 pub fn connected_engine() -> Rc<dyn CalcEngine> {
     match super::engine_adapter::DosingEngine::new() {
         Ok(engine) => Rc::new(engine),
@@ -225,6 +298,7 @@ mod tests {
             mode: CalcMode::Standard,
             product: None,
             values: BTreeMap::from([("flow", 1000.0)]),
+            figures: BTreeMap::new(),
         };
         assert_eq!(Unconnected.compute(&request), Err(SeamError::NotConnected));
         assert_eq!(

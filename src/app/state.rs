@@ -121,6 +121,9 @@ pub struct PlotView {
     pub subject: String,
     pub y_lo: String,
     pub y_hi: String,
+    /// Lines marking the chosen point (dose and the pH it reaches), and their legend in words.
+    pub markers: String,
+    pub legend: Option<Note>,
     pub message: Option<Note>,
 }
 
@@ -371,7 +374,7 @@ impl AppState {
             pump_setting_percent: result.outcome.pump_setting_percent,
             flow_m3_per_day: self.calc.current_request().and_then(|r| r.get("flow")),
             product_l_per_hour: result.outcome.product_l_per_hour,
-            trace: result.outcome.trace.clone(),
+            trace: result.outcome.trace.iter().map(|l| l.plain()).collect(),
             cautions: result
                 .outcome
                 .cautions
@@ -473,28 +476,69 @@ impl AppState {
             .unwrap_or_default()
     }
 
-    /// The titration curve for the pH-control inputs, from the engine seam.
+    /// The titration curve for the calculator in use: coagulation when it is open (pH against
+    /// coagulant, hydroxide precipitating), otherwise pH adjustment. The chosen dose and the pH
+    /// it reaches are marked on it and said in words.
     pub fn titration_plot(&self) -> PlotView {
-        let Some(request) = self
-            .calc
-            .request_for(CalcKind::PhControl, CalcMode::Standard)
-        else {
+        let (kind, mode, need) = if self.calc.kind() == CalcKind::Coagulation {
+            (
+                CalcKind::Coagulation,
+                self.calc.mode(),
+                key("plot-need-coagulation-inputs"),
+            )
+        } else {
+            (
+                CalcKind::PhControl,
+                CalcMode::Standard,
+                key("plot-need-ph-inputs"),
+            )
+        };
+        let Some(request) = self.calc.request_for(kind, mode) else {
             return PlotView {
-                message: Some(Note::new(key("plot-need-ph-inputs"))),
+                message: Some(Note::new(need)),
                 ..PlotView::default()
             };
         };
-        match self.calc.engine().titration_curve(&request) {
-            Ok(curve) => self.plot_of(&curve.points, key("plot-titrant-axis"), &curve.titrant),
-            Err(SeamError::NotConnected) => PlotView {
-                message: Some(Note::new(key("calc-not-connected"))),
-                ..PlotView::default()
-            },
-            Err(SeamError::Engine(e)) => PlotView {
-                message: Some(Note::new(&format!("error-{}", e.kind().code()))),
-                ..PlotView::default()
-            },
+        let engine = self.calc.engine();
+        let curve = match engine.titration_curve(&request) {
+            Ok(curve) => curve,
+            Err(SeamError::NotConnected) => {
+                return PlotView {
+                    message: Some(Note::new(key("calc-not-connected"))),
+                    ..PlotView::default()
+                };
+            }
+            Err(SeamError::Engine(e)) => {
+                return PlotView {
+                    message: Some(Note::new(&format!("error-{}", e.kind().code()))),
+                    ..PlotView::default()
+                };
+            }
+        };
+        let mut view = self.plot_of(&curve.points, key("plot-titrant-axis"), &curve.titrant);
+        // The chosen point: the dose the calculator gives and the pH it reaches there.
+        let outcome = engine.compute(&request).ok();
+        let dose = outcome.as_ref().and_then(|o| o.dose_mg_per_l);
+        let ph = outcome.as_ref().and_then(|o| {
+            o.extras
+                .iter()
+                .find(|e| e.key == "ph-after" || e.key == "ph-after-coagulant")
+                .map(|e| e.value)
+        });
+        if let (Some(dose), Some(ph), Some((x, y))) = (dose, ph, ranges(&curve.points)) {
+            let lang = self.lang();
+            view.markers = plot::crosshair(Some(dose), Some(ph), x, y);
+            view.legend = Some(
+                Note::new(key("plot-chosen-point"))
+                    .arg("dose", numbers::format_sig(dose, 3, lang))
+                    .arg("ph", numbers::format_fixed(ph, 2, lang))
+                    .arg(
+                        "start",
+                        numbers::format_fixed(curve.points.first().map_or(0.0, |p| p.1), 2, lang),
+                    ),
+            );
         }
+        view
     }
 
     /// Logged doses of the chemical of the selected (or newest) entry, oldest first.
@@ -506,11 +550,20 @@ impl AppState {
                 ..PlotView::default()
             };
         };
-        let points: Vec<(f64, f64)> = entries
+        let series: Vec<&Entry> = entries
             .iter()
             .filter(|e| e.data.chemical == focus.data.chemical && e.data.point == focus.data.point)
-            .enumerate()
-            .map(|(i, e)| (i as f64, e.data.dose_mg_per_l))
+            .collect();
+        // Days since the series' first entry, so a gap of a week looks like a week.
+        let days = |e: &Entry| {
+            chrono::DateTime::parse_from_rfc3339(&e.data.when)
+                .ok()
+                .map(|t| t.timestamp() as f64 / 86_400.0)
+        };
+        let first = series.first().and_then(|e| days(e));
+        let points: Vec<(f64, f64)> = series
+            .iter()
+            .filter_map(|e| Some((days(e)? - first?, e.data.dose_mg_per_l)))
             .collect();
         if points.len() < 2 {
             return PlotView {
@@ -519,14 +572,11 @@ impl AppState {
             };
         }
         let label = format!("{} · {}", focus.data.chemical, focus.data.point);
-        self.plot_of(&points, key("plot-entries-axis"), &label)
+        self.plot_of(&points, key("plot-days-axis"), &label)
     }
 
     fn plot_of(&self, points: &[(f64, f64)], x_key: &str, subject: &str) -> PlotView {
-        let (Some(x), Some(y)) = (
-            Range::around(points.iter().map(|p| p.0)),
-            Range::around(points.iter().map(|p| p.1)),
-        ) else {
+        let Some((x, y)) = ranges(points) else {
             return PlotView {
                 message: Some(Note::new(key("plot-no-data"))),
                 ..PlotView::default()
@@ -540,6 +590,8 @@ impl AppState {
             subject: subject.to_string(),
             y_lo: numbers::format_sig(y.lo, 3, lang),
             y_hi: numbers::format_sig(y.hi, 3, lang),
+            markers: String::new(),
+            legend: None,
             message: None,
         }
     }
@@ -548,6 +600,14 @@ impl AppState {
     pub fn dose_unit(&self) -> Unit {
         Unit::MgPerL
     }
+}
+
+/// The axis ranges of a plot of `points`.
+fn ranges(points: &[(f64, f64)]) -> Option<(Range, Range)> {
+    Some((
+        Range::around(points.iter().map(|p| p.0))?,
+        Range::around(points.iter().map(|p| p.1))?,
+    ))
 }
 
 fn log_error_note(e: &LogError) -> Note {
@@ -637,8 +697,42 @@ mod tests {
         assert_eq!(latest[0].dose, "2.25");
         assert_eq!(s.calc_note.as_ref().unwrap().key, "log-saved");
         let trend = s.trend_plot();
-        assert!(
-            trend.commands.starts_with("M 0.0 600.0 L 1000.0 0.0"),
+        assert_eq!(trend.message, None);
+        assert_eq!(trend.commands.matches('L').count(), 1, "{trend:?}");
+    }
+
+    #[test]
+    fn trend_spaces_doses_by_the_days_between_them() {
+        let mut s = state(Rc::new(Unconnected));
+        for (when, dose) in [
+            ("2026-11-01T08:00:00Z", 1.0),
+            ("2026-11-02T08:00:00Z", 2.0),
+            ("2026-11-11T08:00:00Z", 3.0),
+        ] {
+            s.log
+                .append(NewEntry {
+                    operator: "AB".into(),
+                    when: when.into(),
+                    site: "Demo site".into(),
+                    point: "Clearwell".into(),
+                    chemical: "caustic".into(),
+                    dose_mg_per_l: dose,
+                    feed_kg_per_day: None,
+                    pump_setting_percent: None,
+                    flow_m3_per_day: None,
+                    product_l_per_hour: None,
+                    trace: Vec::new(),
+                    cautions: Vec::new(),
+                    note: String::new(),
+                })
+                .unwrap();
+        }
+        let trend = s.trend_plot();
+        assert_eq!(trend.x_key, "plot-days-axis");
+        // Day 0, day 1 and day 10 of a 10-day axis.
+        assert_eq!(
+            trend.commands,
+            "M 0.0 600.0 L 100.0 300.0 L 1000.0 0.0",
             "{trend:?}"
         );
     }
@@ -726,5 +820,51 @@ mod tests {
             s.titration_plot().message.unwrap().key,
             "calc-not-connected"
         );
+    }
+
+    #[test]
+    fn titration_plot_marks_the_chosen_dose_for_ph_and_coagulation() {
+        let engine = crate::app::seams::connected_engine();
+        let mut s = state(engine);
+        for (n, t) in [
+            ("flow", "1.5"),
+            ("ph-raw", "6.80"),
+            ("ph-target", "7.40"),
+            ("alkalinity", "40"),
+            ("temperature", "60"),
+            ("strength", "25"),
+            ("specific-gravity", "1.27"),
+            ("pump-capacity", "5"),
+        ] {
+            s.calc.edit(n, t);
+        }
+        let ph = s.titration_plot();
+        assert_eq!(ph.message, None);
+        assert_eq!(ph.subject, "product-sodium-hydroxide");
+        assert_eq!(ph.markers.matches('M').count(), 2, "{}", ph.markers);
+        let legend = ph.legend.expect("the chosen point in words");
+        assert_eq!(legend.key, "plot-chosen-point");
+        assert!(legend.args.contains(&("ph", "7.40".to_string())), "{legend:?}");
+        assert!(legend.args.contains(&("start", "6.80".to_string())), "{legend:?}");
+
+        s.open_calculator(CalcKind::Coagulation);
+        assert_eq!(
+            s.titration_plot().message.unwrap().key,
+            "plot-need-coagulation-inputs"
+        );
+        for (n, t) in [
+            ("jar-dose", "25"),
+            ("alkalinity-setpoint", "20"),
+            ("ph", "7.1"),
+            ("strength", "8.3"),
+            ("specific-gravity", "1.335"),
+        ] {
+            s.calc.edit(n, t);
+        }
+        let coag = s.titration_plot();
+        assert_eq!(coag.message, None, "{coag:?}");
+        assert_eq!(coag.subject, "product-alum-liquid");
+        let legend = coag.legend.expect("jar dose marked");
+        assert!(legend.args.contains(&("dose", "25.0".to_string())), "{legend:?}");
     }
 }

@@ -102,6 +102,28 @@ pub fn sig_figs_from_decimals(value: f64, decimals: u8) -> u8 {
     (integer_digits + decimals as i32).clamp(1, 17) as u8
 }
 
+/// The precision of a sum or difference of measured terms (the decimal-place rule): its last
+/// significant place is the coarsest last place among the terms, so `250 + 1.25` (two and three
+/// figures) is known to the tens and `1.4 + 1.05` to the tenths. Exact terms do not limit it;
+/// `None` when every term is exact. A result of zero is given one figure.
+pub fn sum_figures(terms: &[Measured], result: f64) -> Option<u8> {
+    let last_place = |m: &Measured| -> Option<i32> {
+        let s = m.sig_figs?;
+        let magnitude = if m.value == 0.0 || !m.value.is_finite() {
+            0
+        } else {
+            m.value.abs().log10().floor() as i32
+        };
+        Some(magnitude - (i32::from(s) - 1))
+    };
+    let coarsest = terms.iter().filter_map(last_place).max()?;
+    if result == 0.0 || !result.is_finite() {
+        return Some(1);
+    }
+    let magnitude = result.abs().log10().floor() as i32;
+    Some((magnitude - coarsest + 1).clamp(1, 17) as u8)
+}
+
 /// Rounds to `sig` significant figures.
 pub fn round_sig(value: f64, sig: u8) -> f64 {
     if value == 0.0 || !value.is_finite() {
@@ -159,6 +181,24 @@ pub fn format_measured(value: f64, sig_figs: Option<u8>) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn sums_keep_the_coarsest_decimal_place() {
+        fn check(terms: &[(f64, Option<u8>)], result: f64, expected: Option<u8>) {
+            let terms: Vec<Measured> = terms
+                .iter()
+                .map(|&(value, sig_figs)| Measured { value, sig_figs })
+                .collect();
+            assert_eq!(sum_figures(&terms, result), expected, "{terms:?} = {result}");
+        }
+        check(&[(1.4, Some(2)), (1.05, Some(3))], 2.45, Some(2));
+        check(&[(250.0, Some(2)), (1.25, Some(3))], 251.25, Some(2));
+        check(&[(250.0, Some(3)), (180.0, Some(3))], 70.0, Some(2));
+        check(&[(250.0, Some(2)), (180.0, Some(2))], 70.0, Some(1));
+        check(&[(2.0, None), (0.5, Some(1))], 2.5, Some(2));
+        check(&[(2.0, None)], 2.0, None);
+        check(&[(1.0, Some(2)), (1.0, Some(2))], 0.0, Some(1));
+    }
 
     fn check(text: &str, expected: Option<u8>) {
         assert_eq!(count_sig_figs(text), expected, "{text:?}");

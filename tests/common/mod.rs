@@ -6,7 +6,7 @@
 #![allow(dead_code)]
 
 use molefeed::app::seams::{
-    CalcEngine, CalcOutcome, CalcRequest, Caution, CautionLevel, SeamError,
+    CalcEngine, CalcOutcome, CalcRequest, Caution, CautionLevel, SeamError, TraceLine,
 };
 use std::sync::Once;
 
@@ -38,7 +38,10 @@ impl CalcEngine for EchoEngine {
             feed_kg_per_day: request.get("flow"),
             product_l_per_hour: request.get("pump-capacity"),
             pump_setting_percent: request.get("strength"),
-            trace: vec!["echo: inputs reported back".into()],
+            extras: Vec::new(),
+            // Exact: the card shows its default three figures, whatever was typed.
+            figures: None,
+            trace: vec![TraceLine::Result("echo: inputs reported back".into())],
             cautions: vec![
                 Caution {
                     level: CautionLevel::Danger,

@@ -348,7 +348,7 @@ pub struct CoagulationResult {
 /// The water-engine chemical for a coagulant and the mg/L of it that `dose` (as
 /// `c.dose_as()`) delivers. Alum doses as Al2O3 or as the 18-hydrate are carried to the
 /// 14-hydrate through their aluminium atoms (the hydration water does not change the water).
-fn coagulant_chemical(
+pub fn coagulant_chemical(
     c: Coagulant,
     dose: f64,
 ) -> Result<(&'static crate::engine::water::Chemical, f64)> {

@@ -113,11 +113,26 @@ fn plain(v: f64, s: u8, trim: bool) -> String {
 
 fn render_trace(t: &Trace) -> String {
     let mut out = String::new();
+    for line in step_lines(t) {
+        out.push_str("  ");
+        out.push_str(&line);
+        out.push('\n');
+    }
+    if t.sig_figs().is_some() {
+        out.push_str(&format!("  ≈ {}\n", t.display_result()));
+    }
+    out
+}
+
+/// One line per step of `t` (`previous × factor = result`), in step order, so a caller can
+/// set each line beside its step's [`Origin`]; a trace without steps gives its start alone.
+pub fn step_lines(t: &Trace) -> Vec<String> {
     let mut previous = t.start.clone();
     let mut sig = t.start_sig_figs;
     if t.steps.is_empty() {
-        return format!("  {} {}\n", written(previous.value, sig), label(&previous));
+        return vec![format!("{} {}", written(previous.value, sig), label(&previous))];
     }
+    let mut lines = Vec::with_capacity(t.steps.len());
     for step in &t.steps {
         let factor = if step.denominator.unit == "1" {
             format!(
@@ -143,8 +158,8 @@ fn render_trace(t: &Trace) -> String {
         };
         let before = sig;
         sig = combine(sig, step.sig_figs);
-        out.push_str(&format!(
-            "  {} {} × {} = {} {}\n",
+        lines.push(format!(
+            "{} {} × {} = {} {}",
             if previous == t.start && t.start_origin == Origin::Measured {
                 written(previous.value, before)
             } else {
@@ -157,10 +172,7 @@ fn render_trace(t: &Trace) -> String {
         ));
         previous = step.result.clone();
     }
-    if t.sig_figs().is_some() {
-        out.push_str(&format!("  ≈ {}\n", t.display_result()));
-    }
-    out
+    lines
 }
 
 #[cfg(test)]

@@ -14,9 +14,9 @@
 use super::NamedTrace;
 use super::catalog::{Catalog, molar_mass};
 use super::caution::{Caution, finish};
-use crate::engine::sigfig::Measured;
+use crate::engine::sigfig::{Measured, combine, sum_figures};
 use crate::engine::trace::{Origin, Quantity, Trace};
-use crate::engine::{Result, check_positive, check_range};
+use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::Serialize;
 
 /// Inputs for [`softening`], all in mg/L.
@@ -188,4 +188,177 @@ pub fn softening(catalog: &Catalog, input: &SofteningInput) -> Result<SofteningR
         ],
         cautions: finish(cautions),
     })
+}
+
+/// A tap analysis as an operator reads it, in mg/L (hardness and alkalinity as CaCO3, carbon
+/// dioxide as CO2 — from the water-chemistry engine when it was not titrated).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct HardnessAnalysis {
+    pub total_hardness: Measured,
+    pub calcium_hardness: Measured,
+    pub alkalinity: Measured,
+    pub co2: Measured,
+}
+
+/// What the lime–soda method removes, read from an analysis: carbonate hardness is the
+/// alkalinity up to the total hardness, the rest is non-carbonate hardness, and magnesium is
+/// the hardness that is not calcium, carried from "as CaCO3" to "as Mg" through molar masses
+/// (one Mg²⁺ per CaCO3 equivalent). Differences keep the decimal place of their least precise
+/// term. The trace shows the magnesium conversion.
+pub fn removal_from_analysis(a: &HardnessAnalysis) -> Result<(SofteningRemoval, Vec<NamedTrace>)> {
+    for (name, m) in [
+        ("total hardness", a.total_hardness),
+        ("calcium hardness", a.calcium_hardness),
+        ("alkalinity", a.alkalinity),
+        ("carbon dioxide", a.co2),
+    ] {
+        check_range(name, m.value, 0.0, 5000.0, "mg/L")?;
+    }
+    if a.calcium_hardness.value > a.total_hardness.value {
+        return Err(Error::new(
+            ErrorKind::InvalidInput,
+            format!(
+                "calcium hardness ({} mg/L) is more than the total hardness ({} mg/L)",
+                a.calcium_hardness.value, a.total_hardness.value
+            ),
+        )
+        .with("quantity", "calcium-hardness"));
+    }
+    let difference = |big: Measured, small: Measured| {
+        let v = (big.value - small.value).max(0.0);
+        Measured {
+            value: v,
+            sig_figs: sum_figures(&[big, small], v),
+        }
+    };
+    let mg_hardness = difference(a.total_hardness, a.calcium_hardness);
+    let carbonate = if a.alkalinity.value < a.total_hardness.value {
+        a.alkalinity
+    } else {
+        a.total_hardness
+    };
+    let non_carbonate = difference(a.total_hardness, carbonate);
+    let mut t = Trace::new(
+        Quantity::of(mg_hardness.value, "mg/L", "CaCO3"),
+        Origin::Measured,
+        mg_hardness.sig_figs,
+    );
+    let (m_caco3, s_caco3) = molar_mass("CaCO3")?;
+    let (m_mg, s_mg) = molar_mass("Mg")?;
+    t.then(
+        Quantity::of(1.0, "mmol/L", "Mg"),
+        Quantity::of(m_caco3, "mg/L", "CaCO3"),
+        Origin::MolarMass {
+            formula: "CaCO3".into(),
+        },
+        s_caco3,
+    )?;
+    t.then(
+        Quantity::of(m_mg, "mg/L", "Mg"),
+        Quantity::of(1.0, "mmol/L", "Mg"),
+        Origin::MolarMass {
+            formula: "Mg".into(),
+        },
+        s_mg,
+    )?;
+    let magnesium = Measured {
+        value: t.value(),
+        sig_figs: combine(mg_hardness.sig_figs, t.sig_figs()),
+    };
+    Ok((
+        SofteningRemoval {
+            co2: a.co2,
+            carbonate_hardness: carbonate,
+            magnesium,
+            non_carbonate_hardness: non_carbonate,
+        },
+        vec![NamedTrace::new("magnesium-from-hardness", t)],
+    ))
+}
+
+/// The removals [`softening`] takes, from [`removal_from_analysis`].
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SofteningRemoval {
+    pub co2: Measured,
+    pub carbonate_hardness: Measured,
+    /// As Mg.
+    pub magnesium: Measured,
+    pub non_carbonate_hardness: Measured,
+}
+
+impl SofteningRemoval {
+    /// The [`softening`] input for these removals.
+    pub fn input(
+        &self,
+        excess_lime_cao: f64,
+        lime_purity_percent: f64,
+        soda_ash_purity_percent: f64,
+    ) -> SofteningInput {
+        SofteningInput {
+            co2: self.co2,
+            alkalinity: self.carbonate_hardness,
+            magnesium: self.magnesium,
+            non_carbonate_hardness: self.non_carbonate_hardness,
+            excess_lime_cao,
+            lime_purity_percent,
+            soda_ash_purity_percent,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn m(value: f64, sig: u8) -> Measured {
+        Measured::new(value, sig)
+    }
+
+    /// (total, calcium, alkalinity) → (carbonate, non-carbonate, Mg as Mg).
+    fn check(total: f64, calcium: f64, alkalinity: f64, expected: (f64, f64, f64)) {
+        let (r, traces) = removal_from_analysis(&HardnessAnalysis {
+            total_hardness: m(total, 3),
+            calcium_hardness: m(calcium, 3),
+            alkalinity: m(alkalinity, 3),
+            co2: m(5.0, 2),
+        })
+        .unwrap();
+        assert_eq!(r.carbonate_hardness.value, expected.0, "carbonate");
+        assert_eq!(r.non_carbonate_hardness.value, expected.1, "non-carbonate");
+        // Expected Mg from IUPAC weights as printed in the 2021 table (Mg 24.305, CaCO3
+        // 100.086), not from the code's own molar-mass function.
+        assert!((r.magnesium.value - expected.2).abs() < 1e-3, "{:?}", r.magnesium);
+        assert_eq!(traces.len(), 1);
+    }
+
+    #[test]
+    fn analysis_splits_hardness_the_usual_way() {
+        check(250.0, 180.0, 200.0, (200.0, 50.0, 70.0 * 24.305 / 100.086));
+        check(150.0, 150.0, 220.0, (150.0, 0.0, 0.0));
+        check(300.0, 100.0, 300.0, (300.0, 0.0, 200.0 * 24.305 / 100.086));
+    }
+
+    #[test]
+    fn magnesium_keeps_the_precision_of_the_difference() {
+        let (r, _) = removal_from_analysis(&HardnessAnalysis {
+            total_hardness: m(250.0, 2),
+            calcium_hardness: m(180.0, 2),
+            alkalinity: m(200.0, 3),
+            co2: m(5.0, 2),
+        })
+        .unwrap();
+        assert_eq!(r.magnesium.sig_figs, Some(1), "250 − 180 known to the tens: 70");
+    }
+
+    #[test]
+    fn calcium_above_total_is_refused() {
+        let err = removal_from_analysis(&HardnessAnalysis {
+            total_hardness: m(120.0, 3),
+            calcium_hardness: m(150.0, 3),
+            alkalinity: m(100.0, 3),
+            co2: m(5.0, 2),
+        })
+        .unwrap_err();
+        assert_eq!(err.kind(), ErrorKind::InvalidInput);
+    }
 }
