@@ -197,3 +197,59 @@ fn every_screen_renders_with_text_at_three_sizes() {
         failures.join("\n")
     );
 }
+
+/// The coagulation calculator with its further results and the Plots screen with the
+/// coagulation curve and the chosen point, at tablet size (the calculator in use picks the
+/// curve). Rendered for review and checked to hold text.
+#[test]
+fn coagulation_and_its_curve_render() {
+    common::bundled_fonts_only();
+    let window = MinimalSoftwareWindow::new(RepaintBufferType::NewBuffer);
+    slint::platform::set_platform(Box::new(Headless(window.clone())))
+        .expect("first platform on this thread");
+    let app = AppWindow::new().expect("window");
+    let handle = attach(
+        &app,
+        Deps {
+            engine: connected_engine(),
+            log: seeded_log(),
+            data_dir: None,
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    {
+        let mut st = handle.state.borrow_mut();
+        st.open_calculator(CalcKind::Coagulation);
+        for (name, text) in [
+            ("flow", "2.40"),
+            ("jar-dose", "32"),
+            ("alkalinity", "38"),
+            ("alkalinity-setpoint", "25"),
+            ("ph", "7.15"),
+            ("temperature", "50"),
+            ("strength", "8.3"),
+            ("specific-gravity", "1.335"),
+            ("pump-capacity", "20"),
+        ] {
+            st.calc.edit(name, text);
+        }
+    }
+    handle.refresh();
+    app.show().expect("show");
+    let out = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
+    std::fs::create_dir_all(&out).unwrap();
+    let mut failures = Vec::new();
+    for (index, name) in [
+        (1, "calculators-tablet-coagulation"),
+        (2, "plots-tablet-coagulation"),
+    ] {
+        app.global::<Nav>().invoke_go(index);
+        let pixels = render(&window, 1280, 800);
+        save_png(&out.join(format!("{name}.png")), &pixels, 1280, 800);
+        if dark_pixels(&pixels, 1280, 800, false) < 1500 || distinct_colours(&pixels) < 40 {
+            failures.push(name);
+        }
+    }
+    assert!(failures.is_empty(), "blank or textless: {failures:?}");
+}

@@ -357,7 +357,10 @@ fn coagulation_shows_alkalinity_ph_and_the_alkali_chosen() {
         type_into(&app, &en(key), text);
     }
     let result = ready(&handle);
-    assert_eq!(one(&app, &en("result-dose")).accessible_value().unwrap(), "32");
+    assert_eq!(
+        one(&app, &en("result-dose")).accessible_value().unwrap(),
+        "32"
+    );
     for extra in &result.extras {
         assert_eq!(
             one(&app, &en(&format!("result-{}", extra.key)))
@@ -369,7 +372,12 @@ fn coagulation_shows_alkalinity_ph_and_the_alkali_chosen() {
         );
     }
     let keys: Vec<_> = result.extras.iter().map(|e| e.key).collect();
-    for k in ["alkalinity-consumed", "ph-after-coagulant", "supplemental-alkali", "ph-after-alkali"] {
+    for k in [
+        "alkalinity-consumed",
+        "ph-after-coagulant",
+        "supplemental-alkali",
+        "ph-after-alkali",
+    ] {
         assert!(keys.contains(&k), "{k} missing from {keys:?}");
     }
     assert_cautions_shown(&app, &result);
@@ -407,10 +415,20 @@ fn softening_shows_lime_and_soda_ash() {
     let result = ready(&handle);
     assert_eq!(result.chemical, "product-quicklime");
     assert_eq!(
-        one(&app, &en("result-soda-ash-dose")).accessible_value().unwrap(),
-        result.extras.iter().find(|e| e.key == "soda-ash-dose").unwrap().value
+        one(&app, &en("result-soda-ash-dose"))
+            .accessible_value()
+            .unwrap(),
+        result
+            .extras
+            .iter()
+            .find(|e| e.key == "soda-ash-dose")
+            .unwrap()
+            .value
     );
-    assert_eq!(one(&app, &en("result-pump")).accessible_value().unwrap(), "—");
+    assert_eq!(
+        one(&app, &en("result-pump")).accessible_value().unwrap(),
+        "—"
+    );
     assert_cautions_shown(&app, &result);
     // Calcium above total hardness: a message in words, no number.
     type_into(&app, &en("field-calcium-hardness"), "300");

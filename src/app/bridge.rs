@@ -85,7 +85,10 @@ fn trace_row(texts: &Texts, line: &TraceLine) -> TraceRow {
             origin: s(origin
                 .as_ref()
                 .map(|o| {
-                    texts.get_args(&format!("origin-{}", o.code), &[("detail", o.detail.clone())])
+                    texts.get_args(
+                        &format!("origin-{}", o.code),
+                        &[("detail", o.detail.clone())],
+                    )
                 })
                 .unwrap_or_default()),
         },
@@ -628,6 +631,8 @@ impl Inner {
             y_label: s(self.t(y_key)),
             y_lo: s(&view.y_lo),
             y_hi: s(&view.y_hi),
+            x_lo: s(&view.x_lo),
+            x_hi: s(&view.x_hi),
             markers: s(&view.markers),
             legend: s(view
                 .legend

@@ -706,7 +706,13 @@ mod tests {
         }
         let mut c = CalcController::new(Rc::new(Extras), Lang::Es, UnitSystem::Us);
         c.set_kind(CalcKind::FeedSetting);
-        for n in ["flow", "dose", "strength", "specific-gravity", "pump-capacity"] {
+        for n in [
+            "flow",
+            "dose",
+            "strength",
+            "specific-gravity",
+            "pump-capacity",
+        ] {
             c.edit(n, "1");
         }
         let Status::Ready(r) = c.view().status else {

@@ -9,8 +9,8 @@
 //! card shows the advisory note permanently.
 
 use super::seams::{
-    CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, CautionLevel, Curve,
-    Extra, ProductChoice, SeamError, StepOrigin, TraceLine,
+    CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, CautionLevel, Curve, Extra,
+    ProductChoice, SeamError, StepOrigin, TraceLine,
 };
 use super::units::Quantity as Q;
 
@@ -353,7 +353,11 @@ impl DosingEngine {
                 quantity,
             })
         };
-        extra("alkalinity-consumed", c.alkalinity_consumed_mg_l, Q::AsCaCO3);
+        extra(
+            "alkalinity-consumed",
+            c.alkalinity_consumed_mg_l,
+            Q::AsCaCO3,
+        );
         extra(
             "alkalinity-remaining",
             c.alkalinity_remaining_mg_l.max(0.0),
@@ -475,10 +479,18 @@ impl DosingEngine {
         extra("lime-as-delivered", lime.product_kg_per_day, Q::MassPerDay);
         extra("soda-ash-dose", s.soda_ash_mg_l, Q::Concentration);
         if let Some(soda) = &soda_feed {
-            extra("soda-ash-as-delivered", soda.product_kg_per_day, Q::MassPerDay);
+            extra(
+                "soda-ash-as-delivered",
+                soda.product_kg_per_day,
+                Q::MassPerDay,
+            );
         }
         extra("free-co2", co2, Q::Concentration);
-        extra("magnesium-removed", removal.magnesium.value, Q::Concentration);
+        extra(
+            "magnesium-removed",
+            removal.magnesium.value,
+            Q::Concentration,
+        );
         extra(
             "non-carbonate-hardness",
             removal.non_carbonate_hardness.value,
@@ -684,9 +696,7 @@ impl CalcEngine for DosingEngine {
 
     fn products(&self, kind: CalcKind, mode: CalcMode) -> Vec<ProductChoice> {
         match (kind, mode) {
-            (CalcKind::PhControl, _) => {
-                self.listed(&PH_CHEMICALS.map(|(_, product)| product))
-            }
+            (CalcKind::PhControl, _) => self.listed(&PH_CHEMICALS.map(|(_, product)| product)),
             (CalcKind::Coagulation, _) => self.listed(&COAGULANTS),
             (CalcKind::Softening, _) => self.listed(&LIMES),
             (CalcKind::FeedSetting | CalcKind::PumpCheck, _) => self.solution_products(None),
@@ -814,7 +824,9 @@ mod tests {
         )
         .unwrap();
         assert_eq!(out.dose_mg_per_l, Some(direct.dose_mg_l));
-        let fed = engine.feed_for(&request, Measured::exact(direct.dose_mg_l)).unwrap();
+        let fed = engine
+            .feed_for(&request, Measured::exact(direct.dose_mg_l))
+            .unwrap();
         assert_eq!(out.feed_kg_per_day, Some(fed.active_kg_per_day));
         request.kind = CalcKind::FeedSetting;
         request.mode = CalcMode::Standard;
@@ -973,7 +985,12 @@ mod tests {
         );
     }
 
-    fn request(kind: CalcKind, mode: CalcMode, product: &str, values: &[(&'static str, f64)]) -> CalcRequest {
+    fn request(
+        kind: CalcKind,
+        mode: CalcMode,
+        product: &str,
+        values: &[(&'static str, f64)],
+    ) -> CalcRequest {
         CalcRequest {
             kind,
             mode,
@@ -1047,7 +1064,11 @@ mod tests {
 
         // Lime as the alkali: a different alkali dose for the same deficit.
         let lime = engine
-            .compute(&coagulation_request("alum-liquid", CalcMode::AlkaliLime, 30.0))
+            .compute(&coagulation_request(
+                "alum-liquid",
+                CalcMode::AlkaliLime,
+                30.0,
+            ))
             .unwrap();
         assert_ne!(
             extra(&lime, "supplemental-alkali"),
@@ -1055,7 +1076,11 @@ mod tests {
         );
         // Enough alkalinity: no alkali and no pH after it.
         let enough = engine
-            .compute(&coagulation_request("alum-liquid", CalcMode::AlkaliCaustic, 10.0))
+            .compute(&coagulation_request(
+                "alum-liquid",
+                CalcMode::AlkaliCaustic,
+                10.0,
+            ))
             .unwrap();
         assert_eq!(extra(&enough, "supplemental-alkali"), None);
         assert_eq!(extra(&enough, "ph-after-alkali"), None);
@@ -1088,7 +1113,11 @@ mod tests {
         let req = coagulation_request("ferric-chloride", CalcMode::AlkaliCaustic, 10.0);
         let curve = engine.titration_curve(&req).expect("a coagulation curve");
         assert_eq!(curve.points.len(), CURVE_POINTS);
-        assert!((curve.points[0].1 - 7.2).abs() < 1e-6, "{:?}", curve.points[0]);
+        assert!(
+            (curve.points[0].1 - 7.2).abs() < 1e-6,
+            "{:?}",
+            curve.points[0]
+        );
         assert!((curve.points.last().unwrap().0 - 60.0).abs() < 1e-6);
         assert!(curve.points.windows(2).all(|w| w[1].1 <= w[0].1 + 1e-9));
     }
@@ -1107,7 +1136,12 @@ mod tests {
             ("lime-purity", 93.0),
             ("soda-ash-purity", 98.0),
         ];
-        let req = request(CalcKind::Softening, CalcMode::Standard, "hydrated-lime", &values);
+        let req = request(
+            CalcKind::Softening,
+            CalcMode::Standard,
+            "hydrated-lime",
+            &values,
+        );
         let out = engine.compute(&req).expect("a softening result");
         let co2 = WaterState::new(&WaterInput::new(7.6, 14.0, 180.0))
             .unwrap()
@@ -1129,7 +1163,12 @@ mod tests {
         assert_eq!(out.product_l_per_hour, None, "dry feed: no volume");
         assert_eq!(out.pump_setting_percent, None);
         let quick = engine
-            .compute(&request(CalcKind::Softening, CalcMode::Standard, "quicklime", &values))
+            .compute(&request(
+                CalcKind::Softening,
+                CalcMode::Standard,
+                "quicklime",
+                &values,
+            ))
             .unwrap();
         assert_eq!(quick.dose_mg_per_l, Some(direct.lime_cao_mg_l));
     }

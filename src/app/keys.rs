@@ -245,8 +245,7 @@ mod tests {
                 let path = entry.unwrap().path();
                 if path.is_dir() {
                     stack.push(path);
-                } else if path.extension().is_some_and(|e| e == "rs")
-                    && !path.ends_with("keys.rs")
+                } else if path.extension().is_some_and(|e| e == "rs") && !path.ends_with("keys.rs")
                 {
                     text.push_str(&std::fs::read_to_string(path).unwrap());
                 }

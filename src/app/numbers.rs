@@ -130,9 +130,9 @@ pub fn figures(text: &str, lang: Lang) -> Option<u8> {
 
 /// Digits after the decimal mark as typed (a pH's precision is its decimal places).
 pub fn decimals(text: &str) -> usize {
-    text.trim()
-        .split_once(['.', ','])
-        .map_or(0, |(_, after)| after.chars().filter(char::is_ascii_digit).count())
+    text.trim().split_once(['.', ',']).map_or(0, |(_, after)| {
+        after.chars().filter(char::is_ascii_digit).count()
+    })
 }
 
 /// Formats `value` with `sig` significant figures (at most 6 decimals), in `lang`.

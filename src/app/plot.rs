@@ -120,7 +120,10 @@ mod tests {
             crosshair(Some(5.0), Some(7.5), x, y),
             "M 250.0 0 L 250.0 600 M 0 300.0 L 1000 300.0"
         );
-        assert_eq!(crosshair(Some(25.0), Some(7.5), x, y), "M 0 300.0 L 1000 300.0");
+        assert_eq!(
+            crosshair(Some(25.0), Some(7.5), x, y),
+            "M 0 300.0 L 1000 300.0"
+        );
         assert_eq!(crosshair(None, Some(f64::NAN), x, y), "");
     }
 

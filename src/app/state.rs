@@ -121,6 +121,8 @@ pub struct PlotView {
     pub subject: String,
     pub y_lo: String,
     pub y_hi: String,
+    pub x_lo: String,
+    pub x_hi: String,
     /// Lines marking the chosen point (dose and the pH it reaches), and their legend in words.
     pub markers: String,
     pub legend: Option<Note>,
@@ -527,10 +529,15 @@ impl AppState {
         });
         if let (Some(dose), Some(ph), Some((x, y))) = (dose, ph, ranges(&curve.points)) {
             let lang = self.lang();
+            // The dose to the figures the calculator shows it with.
+            let figures = outcome
+                .as_ref()
+                .and_then(|o| o.figures)
+                .map_or(3, |f| u32::from(f).clamp(1, 4));
             view.markers = plot::crosshair(Some(dose), Some(ph), x, y);
             view.legend = Some(
                 Note::new(key("plot-chosen-point"))
-                    .arg("dose", numbers::format_sig(dose, 3, lang))
+                    .arg("dose", numbers::format_sig(dose, figures, lang))
                     .arg("ph", numbers::format_fixed(ph, 2, lang))
                     .arg(
                         "start",
@@ -590,6 +597,8 @@ impl AppState {
             subject: subject.to_string(),
             y_lo: numbers::format_sig(y.lo, 3, lang),
             y_hi: numbers::format_sig(y.hi, 3, lang),
+            x_lo: numbers::format_sig(x.lo, 3, lang),
+            x_hi: numbers::format_sig(x.hi, 3, lang),
             markers: String::new(),
             legend: None,
             message: None,
@@ -731,8 +740,7 @@ mod tests {
         assert_eq!(trend.x_key, "plot-days-axis");
         // Day 0, day 1 and day 10 of a 10-day axis.
         assert_eq!(
-            trend.commands,
-            "M 0.0 600.0 L 100.0 300.0 L 1000.0 0.0",
+            trend.commands, "M 0.0 600.0 L 100.0 300.0 L 1000.0 0.0",
             "{trend:?}"
         );
     }
@@ -844,8 +852,14 @@ mod tests {
         assert_eq!(ph.markers.matches('M').count(), 2, "{}", ph.markers);
         let legend = ph.legend.expect("the chosen point in words");
         assert_eq!(legend.key, "plot-chosen-point");
-        assert!(legend.args.contains(&("ph", "7.40".to_string())), "{legend:?}");
-        assert!(legend.args.contains(&("start", "6.80".to_string())), "{legend:?}");
+        assert!(
+            legend.args.contains(&("ph", "7.40".to_string())),
+            "{legend:?}"
+        );
+        assert!(
+            legend.args.contains(&("start", "6.80".to_string())),
+            "{legend:?}"
+        );
 
         s.open_calculator(CalcKind::Coagulation);
         assert_eq!(
@@ -865,6 +879,10 @@ mod tests {
         assert_eq!(coag.message, None, "{coag:?}");
         assert_eq!(coag.subject, "product-alum-liquid");
         let legend = coag.legend.expect("jar dose marked");
-        assert!(legend.args.contains(&("dose", "25.0".to_string())), "{legend:?}");
+        assert!(
+            legend.args.contains(&("dose", "25".to_string())),
+            "two figures typed: {legend:?}"
+        );
+        assert_eq!(coag.x_lo, "0");
     }
 }

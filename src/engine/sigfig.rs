@@ -189,7 +189,11 @@ mod tests {
                 .iter()
                 .map(|&(value, sig_figs)| Measured { value, sig_figs })
                 .collect();
-            assert_eq!(sum_figures(&terms, result), expected, "{terms:?} = {result}");
+            assert_eq!(
+                sum_figures(&terms, result),
+                expected,
+                "{terms:?} = {result}"
+            );
         }
         check(&[(1.4, Some(2)), (1.05, Some(3))], 2.45, Some(2));
         check(&[(250.0, Some(2)), (1.25, Some(3))], 251.25, Some(2));

@@ -130,7 +130,11 @@ pub fn step_lines(t: &Trace) -> Vec<String> {
     let mut previous = t.start.clone();
     let mut sig = t.start_sig_figs;
     if t.steps.is_empty() {
-        return vec![format!("{} {}", written(previous.value, sig), label(&previous))];
+        return vec![format!(
+            "{} {}",
+            written(previous.value, sig),
+            label(&previous)
+        )];
     }
     let mut lines = Vec::with_capacity(t.steps.len());
     for step in &t.steps {

@@ -327,7 +327,11 @@ mod tests {
         assert_eq!(r.non_carbonate_hardness.value, expected.1, "non-carbonate");
         // Expected Mg from IUPAC weights as printed in the 2021 table (Mg 24.305, CaCO3
         // 100.086), not from the code's own molar-mass function.
-        assert!((r.magnesium.value - expected.2).abs() < 1e-3, "{:?}", r.magnesium);
+        assert!(
+            (r.magnesium.value - expected.2).abs() < 1e-3,
+            "{:?}",
+            r.magnesium
+        );
         assert_eq!(traces.len(), 1);
     }
 
@@ -347,7 +351,11 @@ mod tests {
             co2: m(5.0, 2),
         })
         .unwrap();
-        assert_eq!(r.magnesium.sig_figs, Some(1), "250 − 180 known to the tens: 70");
+        assert_eq!(
+            r.magnesium.sig_figs,
+            Some(1),
+            "250 − 180 known to the tens: 70"
+        );
     }
 
     #[test]
