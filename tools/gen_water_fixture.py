@@ -83,6 +83,9 @@ CHEMICALS = [
     ("CO2", [("CO2", 1)], 10.0),
     ("Al2(SO4)3·14H2O", [("Al2(SO4)3", 1), ("H2O", 14)], 30.0),
     ("FeCl3", [("FeCl3", 1)], 20.0),
+    ("Fe2(SO4)3", [("Fe2(SO4)3", 1)], 25.0),
+    # Polyaluminium chloride at 50 % basicity: any basicity is the same atoms per mg.
+    ("Al2(OH)3Cl3", [("Al2(OH)3Cl3", 1)], 15.0),
     ("Cl2", [("HCl", 1), ("HHyp", 1)], 5.0),
     ("NaOCl", [("NaHyp", 1)], 5.0),
 ]

@@ -61,6 +61,9 @@ struct Inner {
     fields: Rc<VecModel<FieldRow>>,
     epoch: RefCell<i32>,
     quit_on_root_back: bool,
+    /// Writes the calculator inputs a moment after the last change (see `keep_inputs_soon`).
+    keep_inputs: slint::Timer,
+    this: RefCell<std::rc::Weak<Inner>>,
 }
 
 /// A "show the work" line in the current language: headings and factor origins are
@@ -124,7 +127,11 @@ pub fn attach(window: &AppWindow, deps: Deps) -> AppHandle {
         fields: Rc::new(VecModel::default()),
         epoch: RefCell::new(0),
         quit_on_root_back: deps.quit_on_root_back,
+        keep_inputs: slint::Timer::default(),
+        this: RefCell::new(std::rc::Weak::new()),
     });
+    *inner.this.borrow_mut() = Rc::downgrade(&inner);
+    state.borrow_mut().restore_inputs();
 
     let tr = window.global::<Tr>();
     let weak_inner = Rc::downgrade(&inner);
@@ -234,19 +241,22 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             st.calc_note = None;
         }
         i.refresh_calc(true);
+        i.keep_inputs_soon();
     }));
     let weak = Rc::downgrade(inner);
     calc.on_edited(move |index, text| {
         let Some(i) = weak.upgrade() else { return };
         {
             let mut st = i.state.borrow_mut();
-            let view = st.calc.view();
-            if let Some(field) = view.fields.get(index.max(0) as usize) {
+            // The field list alone names the row; no need to compute a result for it.
+            let fields = super::calc::fields(st.calc.kind(), st.calc.mode());
+            if let Some(field) = fields.get(index.max(0) as usize) {
                 st.calc.edit(field.name, text.as_str());
             }
             st.calc_note = None;
         }
         i.refresh_calc(false);
+        i.keep_inputs_soon();
     });
     calc.on_log_dose(on_unit(|i| {
         let _ = i.state.borrow_mut().log_current_dose();
@@ -325,6 +335,21 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
 }
 
 impl Inner {
+    /// Saves the calculator inputs two seconds after the last change: a restart (an Android
+    /// activity killed in the background) finds them again, and typing never waits on storage.
+    fn keep_inputs_soon(&self) {
+        let weak = self.this.borrow().clone();
+        self.keep_inputs.start(
+            slint::TimerMode::SingleShot,
+            std::time::Duration::from_secs(2),
+            move || {
+                if let Some(i) = weak.upgrade() {
+                    i.state.borrow().save_inputs();
+                }
+            },
+        );
+    }
+
     fn window(&self) -> AppWindow {
         self.window
             .upgrade()

@@ -14,6 +14,7 @@ use super::seams::{
 };
 use super::units::{Quantity, Unit, UnitSystem};
 use crate::engine;
+use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, HashMap};
 use std::rc::Rc;
 
@@ -456,6 +457,76 @@ impl CalcController {
     }
 }
 
+/// What the operator has typed and chosen in the calculators, kept across a restart: an
+/// Android activity can be killed in the background, and the readings taken at the tap must
+/// still be there when the operator comes back. Texts are kept as typed, with the language and
+/// units they were typed in, so a restore in other settings converts them like a live switch.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct CalcInputs {
+    pub kind: String,
+    pub mode: String,
+    pub lang: String,
+    pub us_units: bool,
+    pub texts: BTreeMap<String, String>,
+    /// `kind/mode` → chosen product id.
+    pub products: BTreeMap<String, String>,
+}
+
+impl CalcController {
+    pub fn inputs(&self) -> CalcInputs {
+        CalcInputs {
+            kind: self.kind.code().into(),
+            mode: self.mode.code().into(),
+            lang: self.lang.tag().into(),
+            us_units: self.system == UnitSystem::Us,
+            texts: self
+                .texts
+                .iter()
+                .filter(|(_, t)| !t.trim().is_empty())
+                .map(|(k, v)| (k.to_string(), v.clone()))
+                .collect(),
+            products: self
+                .products
+                .iter()
+                .map(|((k, m), id)| (format!("{}/{}", k.code(), m.code()), id.clone()))
+                .collect(),
+        }
+    }
+
+    /// Puts back what [`inputs`](Self::inputs) kept; names that are no longer fields (an older
+    /// version's) are dropped, never guessed at.
+    pub fn restore(&mut self, saved: &CalcInputs) {
+        let (lang, system) = (self.lang, self.system);
+        self.lang = Lang::from_tag(&saved.lang).unwrap_or(lang);
+        self.system = if saved.us_units {
+            UnitSystem::Us
+        } else {
+            UnitSystem::Si
+        };
+        for (name, text) in &saved.texts {
+            self.edit(name, text);
+        }
+        for (key, id) in &saved.products {
+            let Some((k, m)) = key.split_once('/') else {
+                continue;
+            };
+            let kind = CalcKind::ALL.into_iter().find(|x| x.code() == k);
+            let mode = CalcMode::ALL.into_iter().find(|x| x.code() == m);
+            if let (Some(kind), Some(mode)) = (kind, mode) {
+                self.products.insert((kind, mode), id.clone());
+            }
+        }
+        if let Some(kind) = CalcKind::ALL.into_iter().find(|k| k.code() == saved.kind) {
+            self.set_kind(kind);
+            if let Some(mode) = CalcMode::ALL.into_iter().find(|m| m.code() == saved.mode) {
+                self.set_mode(mode);
+            }
+        }
+        self.set_lang(lang);
+        self.set_units(system);
+    }
+}
+
 /// How far a typed value limits a result's precision. Unit changes are exact factors, so the
 /// figures survive them; a pH's decimals are the figures of its hydrogen-ion activity (common
 /// practice for logarithms); a temperature only selects equilibrium constants and limits none.
@@ -798,6 +869,38 @@ mod tests {
         drop(seen);
         c.set_kind(CalcKind::Softening);
         assert!(c.view().products.is_empty());
+    }
+
+    #[test]
+    fn inputs_survive_a_restart_in_other_settings() {
+        let mut c = CalcController::new(Rc::new(Unconnected), Lang::Es, UnitSystem::Us);
+        c.set_kind(CalcKind::Chlorination);
+        c.set_mode(CalcMode::Dechlorination);
+        c.edit("flow", "1,5");
+        c.edit("residual-in", "0,80");
+        c.edit("ph", "");
+        let saved: CalcInputs =
+            serde_json::from_str(&serde_json::to_string(&c.inputs()).unwrap()).unwrap();
+        assert!(saved.texts.get("ph").is_none(), "empty fields are not kept");
+        let mut back = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Si);
+        back.restore(&saved);
+        assert_eq!(
+            (back.kind(), back.mode()),
+            (CalcKind::Chlorination, CalcMode::Dechlorination)
+        );
+        assert_eq!(
+            back.text("residual-in"),
+            "0.80",
+            "decimal mark of the new language"
+        );
+        assert_eq!(back.text("flow"), "5678", "1.5 MGD in m³/d");
+        let mut odd = saved.clone();
+        odd.texts.insert("no-such-field".into(), "1".into());
+        odd.kind = "retired-calculator".into();
+        let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Si);
+        c.restore(&odd);
+        assert_eq!(c.text("no-such-field"), "");
+        assert_eq!(c.kind(), CalcKind::PhControl);
     }
 
     #[test]

@@ -672,7 +672,7 @@ impl CalcEngine for DosingEngine {
                 let per_dose = mg_l / dose;
                 let points = water::curve(
                     &state,
-                    chemical,
+                    &chemical,
                     2.0 * mg_l.max(1.0),
                     CURVE_POINTS,
                     Precipitation::Hydroxide,
@@ -1087,23 +1087,42 @@ mod tests {
     }
 
     #[test]
-    fn coagulant_without_a_water_model_says_so() {
+    fn pacl_lowers_the_ph_less_than_alum_for_the_same_aluminium() {
         let engine = DosingEngine::new().unwrap();
-        let mut req = coagulation_request("pacl", CalcMode::AlkaliCaustic, 10.0);
-        req.values.insert("strength", 10.5);
-        req.values.insert("specific-gravity", 1.2);
-        let out = engine.compute(&req).expect("PACl result");
-        assert_eq!(extra(&out, "ph-after-coagulant"), None);
-        assert!(extra(&out, "alkalinity-consumed").unwrap() > 0.0);
+        let mut pacl = coagulation_request("pacl", CalcMode::AlkaliCaustic, 10.0);
+        pacl.values.insert("jar-dose", 3.0);
+        pacl.values.insert("strength", 10.5);
+        pacl.values.insert("specific-gravity", 1.2);
+        let pacl = engine.compute(&pacl).expect("PACl result");
+        // The same 3 mg/L of aluminium as alum·14H2O, from molar masses.
+        let alum_mg_l = 3.0
+            / crate::engine::formula::Formula::parse("Al")
+                .unwrap()
+                .molar_mass()
+            / 2.0
+            * crate::engine::formula::Formula::parse("Al2(SO4)3·14H2O")
+                .unwrap()
+                .molar_mass();
+        let mut alum = coagulation_request("alum-liquid", CalcMode::AlkaliCaustic, 10.0);
+        alum.values.insert("jar-dose", alum_mg_l);
+        let alum = engine.compute(&alum).expect("alum result");
+        let ph = |o: &CalcOutcome| extra(o, "ph-after-coagulant").expect("modelled");
         assert!(
-            out.cautions
-                .iter()
-                .any(|c| c.code == "coagulant-ph-not-modelled")
+            7.2 > ph(&pacl) && ph(&pacl) > ph(&alum),
+            "PACl {} alum {}",
+            ph(&pacl),
+            ph(&alum)
         );
         assert!(
-            !out.cautions
+            extra(&pacl, "alkalinity-consumed").unwrap()
+                < extra(&alum, "alkalinity-consumed").unwrap()
+        );
+        assert!(
+            !pacl
+                .cautions
                 .iter()
-                .any(|c| c.code == "give-water-for-ph-effect")
+                .any(|c| c.code == "give-water-for-ph-effect"
+                    || c.code == "coagulant-ph-not-modelled")
         );
     }
 

@@ -6,7 +6,7 @@
 //! state and pushes it into the Slint globals. Settings persist as a small JSON file in the
 //! data directory the platform injects (desktop: XDG data dir; Android: internal storage).
 
-use super::calc::{CalcController, Status, key};
+use super::calc::{CalcController, CalcInputs, Status, key};
 use super::dose_log::{DoseLog, Entry, LogError, NewEntry, now_utc_iso};
 use super::numbers::{self, Lang};
 use super::plot::{self, Range};
@@ -609,7 +609,38 @@ impl AppState {
     pub fn dose_unit(&self) -> Unit {
         Unit::MgPerL
     }
+
+    /// Puts back the calculator inputs kept by [`save_inputs`](Self::save_inputs), if any.
+    pub fn restore_inputs(&mut self) {
+        if let Some(saved) = self
+            .data_dir
+            .as_ref()
+            .and_then(|d| std::fs::read_to_string(d.join(INPUTS_FILE)).ok())
+            .and_then(|t| serde_json::from_str::<CalcInputs>(&t).ok())
+        {
+            self.calc.restore(&saved);
+        }
+    }
+
+    /// Keeps what was typed in the calculators, so a restart (an Android activity killed in
+    /// the background) comes back to the same readings. A preference-like file, written whole
+    /// to a temporary name and renamed, so a crash leaves the old or the new one, never half.
+    pub fn save_inputs(&self) {
+        let Some(dir) = &self.data_dir else {
+            return;
+        };
+        let Ok(text) = serde_json::to_string_pretty(&self.calc.inputs()) else {
+            return;
+        };
+        let tmp = dir.join(format!("{INPUTS_FILE}.tmp"));
+        if std::fs::create_dir_all(dir).is_ok() && std::fs::write(&tmp, text).is_ok() {
+            let _ = std::fs::rename(&tmp, dir.join(INPUTS_FILE));
+        }
+    }
 }
+
+/// Where the calculator inputs are kept between runs, in the data directory.
+const INPUTS_FILE: &str = "calculator-inputs.json";
 
 /// The axis ranges of a plot of `points`.
 fn ranges(points: &[(f64, f64)]) -> Option<(Range, Range)> {
@@ -884,5 +915,32 @@ mod tests {
             "two figures typed: {legend:?}"
         );
         assert_eq!(coag.x_lo, "0");
+    }
+
+    #[test]
+    fn calculator_inputs_come_back_after_a_restart() {
+        let dir = std::env::temp_dir().join(format!("molefeed-inputs-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        let open = || {
+            AppState::new(
+                Rc::new(Unconnected),
+                Box::new(MemoryLog::default()),
+                Some(dir.clone()),
+                None,
+            )
+        };
+        {
+            let mut s = open();
+            s.open_calculator(CalcKind::Softening);
+            s.calc.edit("total-hardness", "265");
+            s.save_inputs();
+        }
+        let mut s = open();
+        assert_eq!(s.calc.text("total-hardness"), "", "nothing until restored");
+        s.restore_inputs();
+        assert_eq!(s.calc.kind(), CalcKind::Softening);
+        assert_eq!(s.calc.text("total-hardness"), "265");
+        assert!(!dir.join("calculator-inputs.json.tmp").exists());
+        std::fs::remove_dir_all(&dir).unwrap();
     }
 }

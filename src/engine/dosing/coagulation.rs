@@ -18,7 +18,7 @@ use crate::engine::formula::Formula;
 use crate::engine::reaction::Reaction;
 use crate::engine::sigfig::Measured;
 use crate::engine::trace::{Origin, Quantity, Trace};
-use crate::engine::water::{Precipitation, WaterState};
+use crate::engine::water::{Chemical, Precipitation, WaterState};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::Serialize;
 
@@ -107,22 +107,26 @@ fn hydrolysis(catalog: &Catalog, c: Coagulant) -> Result<(Reaction, String)> {
             "Fe2(SO4)3".into(),
         ),
         Coagulant::Pacl { basicity_percent } => {
-            check_range("basicity", basicity_percent, 0.0, 90.0, "%")?;
-            // Al100(OH)m Cl(300−m): 100 Al atoms resolve basicity to 1/3 %, finer than any
-            // certificate states it.
-            let m = (3.0 * basicity_percent).round() as u32;
-            let oh = if m > 0 {
-                format!("(OH){m}")
-            } else {
-                String::new()
-            };
-            let formula = format!("Al100{oh}Cl{}", 300 - m);
+            let formula = pacl_formula(basicity_percent)?;
             (
                 Reaction::balance(&format!("{formula} + HCO3- -> Al(OH)3 + Cl- + CO2"))?,
                 formula,
             )
         }
     })
+}
+
+/// PACl of a basicity as one formula, Al100(OH)m Cl(300−m): 100 Al atoms resolve basicity to
+/// 1/3 %, finer than any certificate states it.
+fn pacl_formula(basicity_percent: f64) -> Result<String> {
+    check_range("basicity", basicity_percent, 0.0, 90.0, "%")?;
+    let m = (3.0 * basicity_percent).round() as u32;
+    let oh = if m > 0 {
+        format!("(OH){m}")
+    } else {
+        String::new()
+    };
+    Ok(format!("Al100{oh}Cl{}", 300 - m))
 }
 
 /// mg/L as CaCO3 per mg/L of HCO3⁻-equivalents: steps `mmol/L HCO3-` → `meq/L` → `mg/L CaCO3`.
@@ -348,18 +352,29 @@ pub struct CoagulationResult {
 /// The water-engine chemical for a coagulant and the mg/L of it that `dose` (as
 /// `c.dose_as()`) delivers. Alum doses as Al2O3 or as the 18-hydrate are carried to the
 /// 14-hydrate through their aluminium atoms (the hydration water does not change the water).
-pub fn coagulant_chemical(
-    c: Coagulant,
-    dose: f64,
-) -> Result<(&'static crate::engine::water::Chemical, f64)> {
+/// PACl is built for its basicity from its dissolution (Al³⁺, OH⁻ and Cl⁻), since its
+/// composition is a property of the product, not of a catalog entry.
+pub fn coagulant_chemical(c: Coagulant, dose: f64) -> Result<(Chemical, f64)> {
     let chemical = match c {
         Coagulant::Alum14 | Coagulant::Alum18 | Coagulant::AlumAsAl2o3 => {
-            water_chemical("Al2(SO4)3·14H2O")?
+            water_chemical("Al2(SO4)3·14H2O")?.clone()
         }
-        Coagulant::FerricChloride => water_chemical("FeCl3")?,
-        // Fe2(SO4)3 and PACl are not in the water-chemistry catalog: the lookup says so.
-        Coagulant::FerricSulfate => water_chemical("Fe2(SO4)3")?,
-        Coagulant::Pacl { .. } => water_chemical("PACl")?,
+        Coagulant::FerricChloride => water_chemical("FeCl3")?.clone(),
+        Coagulant::FerricSulfate => water_chemical("Fe2(SO4)3")?.clone(),
+        Coagulant::Pacl { basicity_percent } => {
+            let formula = pacl_formula(basicity_percent)?;
+            let products = if formula.contains("(OH)") {
+                "Al+3 + OH- + Cl-"
+            } else {
+                "Al+3 + Cl-"
+            };
+            crate::engine::water::Catalog::embedded()?.dissolving(
+                "pacl",
+                &formula,
+                "chemical.pacl",
+                &format!("{formula} -> {products}"),
+            )?
+        }
     };
     let dose_as = Formula::parse(c.dose_as())?;
     let (m_as, _) = molar_mass(c.dose_as())?;
@@ -370,10 +385,8 @@ pub fn coagulant_chemical(
     };
     let per_as = dose_as.count(metal) as f64;
     let per_chem = chemical.formula.count(metal) as f64;
-    Ok((
-        chemical,
-        dose / m_as * per_as / per_chem * chemical.molar_mass,
-    ))
+    let mg_l = dose / m_as * per_as / per_chem * chemical.molar_mass;
+    Ok((chemical, mg_l))
 }
 
 /// [`coagulation`] in the operator's water: pH, alkalinity and LSI after the coagulant (metal
@@ -399,7 +412,7 @@ pub fn coagulation_in_water(
     }
     let mut r = coagulation(catalog, input)?;
     let (chemical, mg_l) = coagulant_chemical(input.coagulant, input.dose.value)?;
-    let (after, effect) = dose_effect(water, chemical, mg_l, Precipitation::Hydroxide)?;
+    let (after, effect) = dose_effect(water, &chemical, mg_l, Precipitation::Hydroxide)?;
     let mut final_ph = effect.ph_after;
     let mut cautions: Vec<Caution> = r
         .cautions

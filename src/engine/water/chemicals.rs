@@ -42,6 +42,8 @@ impl Chemical {
 #[derive(Clone, Debug)]
 pub struct Catalog {
     pub chemicals: Vec<Chemical>,
+    /// Dissolved species and the conserved component each feeds (`None`: the solvent's own).
+    ions: Vec<(Formula, Option<Component>)>,
 }
 
 #[derive(Deserialize)]
@@ -87,50 +89,66 @@ impl Catalog {
             };
             ions.push((formula, component));
         }
-        let mut chemicals = Vec::new();
+        let mut catalog = Catalog {
+            chemicals: Vec::new(),
+            ions,
+        };
         for c in &raw.chemicals {
-            let formula = Formula::parse(&c.formula)?;
-            let reaction = Reaction::balance(&c.dissolution)?;
-            let own = reaction
-                .species()
+            let chemical = catalog.dissolving(&c.id, &c.formula, &c.name_key, &c.dissolution)?;
+            catalog.chemicals.push(chemical);
+        }
+        Ok(catalog)
+    }
+
+    /// A chemical described by its dissolution reaction, built the way the catalog's own are:
+    /// the reaction is balanced by the engine and what it adds is read from its products. For
+    /// compounds whose composition is a product property (a polyaluminium chloride of the
+    /// basicity on the certificate), so no fixed catalog entry can describe them.
+    pub fn dissolving(
+        &self,
+        id: &str,
+        formula: &str,
+        name_key: &str,
+        dissolution: &str,
+    ) -> Result<Chemical> {
+        let formula = Formula::parse(formula)?;
+        let reaction = Reaction::balance(dissolution)?;
+        let own = reaction
+            .species()
+            .iter()
+            .find(|s| s.side == Side::Reactant && s.formula.same_composition(&formula))
+            .ok_or_else(|| {
+                data_error(format!("{id}: dissolution does not start from {formula}"))
+            })?;
+        let per = own.coefficient as f64;
+        let mut adds = [0.0; NC];
+        for s in reaction
+            .species()
+            .iter()
+            .filter(|s| s.side == Side::Product)
+        {
+            let (_, component) = self
+                .ions
                 .iter()
-                .find(|s| s.side == Side::Reactant && s.formula.same_composition(&formula))
+                .find(|(f, _)| f.same_composition(&s.formula))
                 .ok_or_else(|| {
                     data_error(format!(
-                        "{}: dissolution does not start from {}",
-                        c.id, c.formula
+                        "{id}: product {} is not in the ion table",
+                        s.formula
                     ))
                 })?;
-            let per = own.coefficient as f64;
-            let mut adds = [0.0; NC];
-            for s in reaction
-                .species()
-                .iter()
-                .filter(|s| s.side == Side::Product)
-            {
-                let (_, component) = ions
-                    .iter()
-                    .find(|(f, _)| f.same_composition(&s.formula))
-                    .ok_or_else(|| {
-                        data_error(format!(
-                            "{}: product {} is not in the ion table",
-                            c.id, s.formula
-                        ))
-                    })?;
-                if let Some(component) = component {
-                    adds[component.index()] += s.coefficient as f64 / per;
-                }
+            if let Some(component) = component {
+                adds[component.index()] += s.coefficient as f64 / per;
             }
-            chemicals.push(Chemical {
-                id: c.id.clone(),
-                molar_mass: formula.molar_mass(),
-                formula,
-                name_key: c.name_key.clone(),
-                dissolution: reaction.to_string(),
-                adds,
-            });
         }
-        Ok(Catalog { chemicals })
+        Ok(Chemical {
+            id: id.to_string(),
+            molar_mass: formula.molar_mass(),
+            formula,
+            name_key: name_key.to_string(),
+            dissolution: reaction.to_string(),
+            adds,
+        })
     }
 
     /// The embedded catalog, parsed and balanced on first use.
