@@ -7,10 +7,10 @@
 
 mod common;
 
-use molefeed::app::dose_log::{DoseLog, MemoryLog, NewEntry};
+use molefeed::app::dose_log::{Amendment, DoseLog, MemoryLog, NewEntry};
 use molefeed::app::numbers::Lang;
 use molefeed::app::seams::{CalcKind, connected_engine};
-use molefeed::app::ui::{AppWindow, CalcAdapter, Nav, SettingsAdapter};
+use molefeed::app::ui::{AppWindow, CalcAdapter, LogAdapter, Nav, SettingsAdapter};
 use molefeed::app::{Deps, attach};
 use slint::platform::software_renderer::{MinimalSoftwareWindow, RepaintBufferType};
 use slint::platform::{Platform, WindowAdapter};
@@ -32,7 +32,7 @@ fn render(window: &MinimalSoftwareWindow, w: u32, h: u32) -> Vec<Rgb8Pixel> {
     window.set_size(PhysicalSize::new(w, h));
     let mut buffer = vec![Rgb8Pixel { r: 0, g: 0, b: 0 }; (w * h) as usize];
     // Two passes: the first lays out lazily created views, the second draws them settled.
-    for _ in 0..2 {
+    for _ in 0..3 {
         slint::platform::update_timers_and_animations();
         window.request_redraw();
         window.draw_if_needed(|renderer| {
@@ -97,6 +97,18 @@ fn seeded_log() -> Box<dyn DoseLog> {
         })
         .expect("seed entry");
     }
+    // One corrected and one voided entry, so the log screen shows both marks and a history.
+    log.correct(
+        4,
+        Amendment {
+            operator: "KT".into(),
+            reason: "flow meter read 10 % high".into(),
+            dose_mg_per_l: 1.9,
+            note: "checked against the chart recorder".into(),
+        },
+    )
+    .expect("seed correction");
+    log.void(2, "KT", "entered twice").expect("seed void");
     Box::new(log)
 }
 
@@ -135,7 +147,7 @@ fn every_screen_renders_with_text_at_three_sizes() {
         ] {
             st.calc.edit(name, text);
         }
-        st.select_entry(5);
+        st.select_entry(4);
     }
     handle.refresh();
     app.show().expect("show");
@@ -165,6 +177,20 @@ fn every_screen_renders_with_text_at_three_sizes() {
             }
         }
     }
+    // The log on a phone with an entry opened (its history and the change buttons), and a
+    // tablet with the correction form open.
+    app.global::<Nav>().invoke_go(3);
+    app.global::<LogAdapter>().set_compact_detail(true);
+    let pixels = render(&window, 400, 860);
+    save_png(&out.join("log-phone-detail.png"), &pixels, 400, 860);
+    if dark_pixels(&pixels, 400, 860, true) < 1500 {
+        failures.push("log-phone-detail.png has no text".into());
+    }
+    app.global::<LogAdapter>().invoke_open_correct();
+    let pixels = render(&window, 1280, 800);
+    save_png(&out.join("log-tablet-correct.png"), &pixels, 1280, 800);
+    app.global::<LogAdapter>().invoke_cancel_edit();
+    app.global::<LogAdapter>().set_compact_detail(false);
     // "Show the work" opened, on a desktop-sized window.
     app.global::<CalcAdapter>().set_show_work(true);
     app.global::<Nav>().invoke_go(1);

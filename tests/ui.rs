@@ -9,13 +9,13 @@
 mod common;
 
 use i_slint_backend_testing::ElementHandle;
-use molefeed::app::dose_log::MemoryLog;
+use molefeed::app::dose_log::{DoseLog, MemoryLog, NewEntry};
 use molefeed::app::i18n::Texts;
 use molefeed::app::numbers::{self, Lang};
 use molefeed::app::seams::{Unconnected, connected_engine};
-use molefeed::app::ui::{AppWindow, Nav};
+use molefeed::app::ui::{AppWindow, LogAdapter, Nav};
 use molefeed::app::{AppHandle, Deps, attach};
-use slint::ComponentHandle;
+use slint::{ComponentHandle, Model};
 use std::rc::Rc;
 
 fn start(engine: Rc<dyn molefeed::app::seams::CalcEngine>) -> (AppWindow, AppHandle) {
@@ -433,4 +433,163 @@ fn softening_shows_lime_and_soda_ash() {
     // Calcium above total hardness: a message in words, no number.
     type_into(&app, &en("field-calcium-hardness"), "300");
     assert_eq!(count(&app, &en("result-dose")), 0);
+}
+
+/// A window on a log that already holds operator-entered doses (two chemicals, two taps).
+fn start_with_log(width: f32, height: f32) -> (AppWindow, AppHandle) {
+    common::bundled_fonts_only();
+    i_slint_backend_testing::init_no_event_loop();
+    let mut log = MemoryLog::default();
+    for (when, point, chemical, dose) in [
+        ("2026-11-30T07:00:00Z", "Clearwell", "NaOCl", 1.5),
+        ("2026-12-01T07:00:00Z", "Raw water", "NaOH", 12.0),
+        ("2026-12-01T08:00:00Z", "Clearwell", "NaOCl", 1.7),
+    ] {
+        log.append(NewEntry {
+            when: when.into(),
+            site: "Demo site".into(),
+            point: point.into(),
+            chemical: chemical.into(),
+            dose_mg_per_l: dose,
+            feed_kg_per_day: None,
+            pump_setting_percent: None,
+            flow_m3_per_day: None,
+            product_l_per_hour: None,
+            trace: Vec::new(),
+            cautions: Vec::new(),
+            note: String::new(),
+            operator: "JM".into(),
+        })
+        .expect("seed entry");
+    }
+    let app = AppWindow::new().expect("window");
+    let handle = attach(
+        &app,
+        Deps {
+            engine: Rc::new(common::EchoEngine),
+            log: Box::new(log),
+            data_dir: None,
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    handle.state.borrow_mut().set_initials("KT");
+    handle.refresh();
+    app.window()
+        .set_size(slint::LogicalSize::new(width, height));
+    app.show().expect("show");
+    tap(&app, &en("nav-log"));
+    (app, handle)
+}
+
+/// The accessible label of a list row (place, chemical, dose, status word).
+fn row_label(point: &str, chemical: &str, dose: &str, status: &str) -> String {
+    let base = format!("Demo site · {point} {chemical} {dose}");
+    if status.is_empty() {
+        base
+    } else {
+        format!("{base} {status}")
+    }
+}
+
+#[test]
+fn correcting_an_entry_with_a_reason_adds_history_and_changes_the_value() {
+    let (app, handle) = start_with_log(1280.0, 2000.0);
+    tap(&app, &row_label("Clearwell", "NaOCl", "1.50", ""));
+    assert_eq!(app.global::<LogAdapter>().get_history().row_count(), 1);
+    tap(&app, &en("log-correct"));
+    type_into(&app, &en("log-edit-dose"), "1.8");
+    type_into(&app, &en("log-edit-reason"), "meter misread");
+    tap(&app, &en("log-save-correction"));
+    // The list shows the effective value, marked in words.
+    one(
+        &app,
+        &row_label("Clearwell", "NaOCl", "1.80", &en("log-status-corrected")),
+    );
+    assert_eq!(
+        count(&app, &row_label("Clearwell", "NaOCl", "1.50", "")),
+        0,
+        "the old value is still listed as current"
+    );
+    // The history has the original and the correction, with initials and the reason.
+    let history = app.global::<LogAdapter>().get_history();
+    assert_eq!(history.row_count(), 2);
+    let original = history.row_data(0).unwrap();
+    let correction = history.row_data(1).unwrap();
+    assert!(
+        original.heading.contains("JM") && original.heading.contains("1.50"),
+        "{original:?}"
+    );
+    assert!(
+        correction.heading.contains("KT") && correction.heading.contains("1.80"),
+        "{correction:?}"
+    );
+    one(&app, "Reason: meter misread");
+    one(&app, &en("log-detail-corrected"));
+    let entries = handle.state.borrow().entries();
+    assert_eq!(entries[0].data.dose_mg_per_l, 1.8);
+}
+
+#[test]
+fn voiding_without_a_reason_says_so_and_changes_nothing() {
+    let (app, handle) = start_with_log(1280.0, 2000.0);
+    tap(&app, &row_label("Raw water", "NaOH", "12.0", ""));
+    tap(&app, &en("log-void"));
+    tap(&app, &en("log-save-void"));
+    one(&app, &en("log-need-reason"));
+    assert!(handle.state.borrow().entries().iter().all(|e| !e.voided()));
+    assert_eq!(app.global::<LogAdapter>().get_history().row_count(), 1);
+    // With a reason the entry stays listed, marked voided in words.
+    type_into(&app, &en("log-edit-reason"), "logged at the wrong tap");
+    tap(&app, &en("log-save-void"));
+    one(
+        &app,
+        &row_label("Raw water", "NaOH", "12.0", &en("log-status-voided")),
+    );
+    assert_eq!(app.global::<LogAdapter>().get_history().row_count(), 2);
+    assert_eq!(
+        count(&app, &en("log-correct")),
+        0,
+        "a voided entry offers no change"
+    );
+}
+
+#[test]
+fn filtering_by_chemical_lists_only_that_chemical() {
+    let (app, _handle) = start_with_log(1280.0, 2000.0);
+    assert_eq!(app.global::<LogAdapter>().get_rows().row_count(), 3);
+    tap(&app, "NaOH");
+    let rows = app.global::<LogAdapter>().get_rows();
+    assert_eq!(rows.row_count(), 1);
+    assert_eq!(rows.row_data(0).unwrap().chemical, "NaOH");
+    one(&app, &row_label("Raw water", "NaOH", "12.0", ""));
+    assert_eq!(count(&app, &row_label("Clearwell", "NaOCl", "1.50", "")), 0);
+    // Combined with a tap that has no NaOH: nothing matches, and the list says so.
+    tap(&app, "Clearwell");
+    assert_eq!(app.global::<LogAdapter>().get_rows().row_count(), 0);
+    one(&app, &en("log-empty"));
+    tap(&app, &en("log-any-chemical"));
+    assert_eq!(app.global::<LogAdapter>().get_rows().row_count(), 2);
+}
+
+#[test]
+fn on_a_phone_the_entry_opens_full_width_with_large_targets() {
+    let (app, _handle) = start_with_log(400.0, 2000.0);
+    tap(&app, &row_label("Clearwell", "NaOCl", "1.70", ""));
+    // The detail replaces the list until "Back to the list".
+    assert_eq!(count(&app, &en("log-filter")), 0);
+    let back = one(&app, &format!("← {}", en("log-back-to-list")));
+    for label in [en("log-correct"), en("log-void")] {
+        let size = one(&app, &label).size();
+        assert!(
+            size.height >= 48.0 && size.width >= 48.0,
+            "{label}: {size:?}"
+        );
+    }
+    back.invoke_accessible_default_action();
+    one(&app, &en("log-filter"));
+    for label in ["NaOCl", "Clearwell", &en("log-range-today")] {
+        let size = one(&app, label).size();
+        assert!(size.height >= 48.0, "{label}: {size:?}");
+    }
 }

@@ -8,10 +8,11 @@
 use super::RunOptions;
 use super::calc::{FieldView, Status, key};
 use super::dose_log::{DoseLog, connected_log};
+use super::dose_log::{EntryStatus, ExportFormat, Revision, RevisionKind};
 use super::i18n::Texts;
 use super::numbers::{self, Lang};
 use super::seams::{CalcEngine, CalcKind, TraceLine, connected_engine};
-use super::state::{AppState, Note, PlotView, Screen};
+use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen};
 use super::ui::*;
 use super::units::{Unit, UnitSystem};
 use slint::{ComponentHandle, Model, ModelRc, SharedString, VecModel};
@@ -147,9 +148,6 @@ pub fn attach(window: &AppWindow, deps: Deps) -> AppHandle {
 
     wire(window, &inner);
     window
-        .global::<LogAdapter>()
-        .set_transfer_path(s(state.borrow().default_transfer_path()));
-    window
         .global::<AboutAdapter>()
         .set_version(s(env!("CARGO_PKG_VERSION")));
     inner.refresh_all();
@@ -265,13 +263,64 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
 
     let log = window.global::<LogAdapter>();
     log.on_filter_edited(on_text(|i, t| {
-        i.state.borrow_mut().log_filter = t.to_string();
+        i.state.borrow_mut().log_filter.text = t.to_string();
         i.refresh_log();
     }));
     log.on_select(on(|i, id| {
         i.state.borrow_mut().select_entry(id.max(0) as u64);
         i.refresh_log();
         i.refresh_plots();
+    }));
+    log.on_pick_range(on(|i, n| {
+        let range = DateRange::ALL.get(n.max(0) as usize).copied();
+        i.state.borrow_mut().log_filter.range = range.unwrap_or_default();
+        i.refresh_log();
+    }));
+    // Choice 0 is "any"; the others are the values present in the log, in the bridge's order.
+    log.on_pick_point(on(|i, n| {
+        let (points, _) = i.state.borrow().log_choices();
+        i.state.borrow_mut().log_filter.point = pick(&points, n);
+        i.refresh_log();
+    }));
+    log.on_pick_chemical(on(|i, n| {
+        let (_, chemicals) = i.state.borrow().log_choices();
+        i.state.borrow_mut().log_filter.chemical = pick(&chemicals, n);
+        i.refresh_log();
+    }));
+    log.on_pick_format(on(|i, n| {
+        let format = ExportFormat::ALL.get(n.max(0) as usize).copied();
+        i.state.borrow_mut().log_format = format.unwrap_or_default();
+        i.refresh_log();
+    }));
+    log.on_open_correct(on_unit(|i| {
+        i.state.borrow_mut().open_log_edit(LogEdit::Correct);
+        i.prefill_log_form();
+        i.refresh_log();
+    }));
+    log.on_open_void(on_unit(|i| {
+        i.state.borrow_mut().open_log_edit(LogEdit::Void);
+        i.prefill_log_form();
+        i.refresh_log();
+    }));
+    log.on_cancel_edit(on_unit(|i| {
+        i.state.borrow_mut().open_log_edit(LogEdit::None);
+        i.refresh_log();
+    }));
+    log.on_save_correct(on_unit(|i| {
+        let window = i.window();
+        let adapter = window.global::<LogAdapter>();
+        let (dose, note, reason) = (
+            adapter.get_edit_dose(),
+            adapter.get_edit_note(),
+            adapter.get_edit_reason(),
+        );
+        let _ = i.state.borrow_mut().correct_selected(&dose, &note, &reason);
+        i.refresh_all();
+    }));
+    log.on_save_void(on_unit(|i| {
+        let reason = i.window().global::<LogAdapter>().get_edit_reason();
+        let _ = i.state.borrow_mut().void_selected(&reason);
+        i.refresh_all();
     }));
     log.on_export(on_unit(|i| {
         let path = i.window().global::<LogAdapter>().get_transfer_path();
@@ -570,26 +619,116 @@ impl Inner {
         }
     }
 
+    /// Fills the correction form with the entry's current dose and note; the reason starts
+    /// empty, because each change needs its own.
+    fn prefill_log_form(&self) {
+        let w = self.window();
+        let adapter = w.global::<LogAdapter>();
+        let st = self.state.borrow();
+        if let Some(e) = st.selected_entry() {
+            adapter.set_edit_dose(s(numbers::format_sig(e.data.dose_mg_per_l, 6, st.lang())
+                .trim_end_matches('0')
+                .trim_end_matches(['.', ','])));
+            adapter.set_edit_note(s(&e.data.note));
+        }
+        adapter.set_edit_reason(s(""));
+    }
+
+    /// "corrected" / "voided" in words for the list; empty for an untouched entry.
+    fn status_word(&self, status: EntryStatus) -> String {
+        match status {
+            EntryStatus::Original => String::new(),
+            EntryStatus::Corrected => self.t(key("log-status-corrected")),
+            EntryStatus::Voided => self.t(key("log-status-voided")),
+        }
+    }
+
     fn refresh_log(&self) {
         let w = self.window();
         let st = self.state.borrow();
         let adapter = w.global::<LogAdapter>();
         let lang = st.lang();
+        let when = |iso: &str| iso.replace('T', " ").trim_end_matches('Z').to_string();
         adapter.set_rows(model(
             st.filtered_entries()
                 .into_iter()
                 .map(|e| LogRow {
                     id: e.id as i32,
-                    when: s(e.data.when.replace('T', " ").trim_end_matches('Z')),
-                    place: s(format!("{} · {}", e.data.site, e.data.point)),
+                    when: s(when(&e.data.when).get(..16).unwrap_or_default()),
+                    site: s(&e.data.site),
+                    place: s(&e.data.point),
                     chemical: s(self.name(&e.data.chemical)),
                     dose: s(numbers::format_sig(e.data.dose_mg_per_l, 3, lang)),
+                    status: s(self.status_word(e.status)),
+                    voided: e.voided(),
                 })
                 .collect(),
         ));
+        let filter = &st.log_filter;
+        let choice = |label: String, selected: bool| LogChoice {
+            label: s(label),
+            selected,
+        };
+        adapter.set_ranges(model(
+            DateRange::ALL
+                .iter()
+                .map(|r| choice(self.t(r.key()), *r == filter.range))
+                .collect(),
+        ));
+        let (points, chemicals) = st.log_choices();
+        let choices = |any: &str,
+                       values: &[String],
+                       picked: &Option<String>,
+                       show: &dyn Fn(&str) -> String| {
+            std::iter::once(choice(self.t(any), picked.is_none()))
+                .chain(
+                    values
+                        .iter()
+                        .map(|v| choice(show(v), picked.as_deref() == Some(v.as_str()))),
+                )
+                .collect::<Vec<_>>()
+        };
+        adapter.set_points(model(choices(
+            key("log-any-point"),
+            &points,
+            &filter.point,
+            &|v| v.to_string(),
+        )));
+        adapter.set_chemicals(model(choices(
+            key("log-any-chemical"),
+            &chemicals,
+            &filter.chemical,
+            &|v| self.name(v),
+        )));
+        adapter.set_formats(model(
+            ExportFormat::ALL
+                .iter()
+                .map(|f| {
+                    let label = match f {
+                        ExportFormat::Csv => self.t(key("log-format-csv")),
+                        ExportFormat::JsonLines => self.t(key("log-format-jsonl")),
+                    };
+                    choice(label, *f == st.log_format)
+                })
+                .collect(),
+        ));
+        adapter.set_export_folder(s(match st.export_folder() {
+            Some(folder) => self.texts.borrow().get_args(
+                key("log-export-folder"),
+                &[("path", folder.display().to_string())],
+            ),
+            None => self.t(key("log-no-export-folder")),
+        }));
+
         let selected = st.selected_entry();
         adapter.set_selected_id(selected.as_ref().map_or(-1, |e| e.id as i32));
-        let (detail, history) = match selected {
+        adapter.set_can_change(selected.as_ref().is_some_and(|e| !e.voided()));
+        adapter.set_editing(match st.log_edit {
+            LogEdit::None => 0,
+            LogEdit::Correct => 1,
+            LogEdit::Void => 2,
+        });
+        let (detail, status) = match &selected {
             Some(e) => {
                 let mass_unit = super::units::Quantity::MassPerDay.unit(st.units());
                 let opt = |v: Option<f64>, u: Unit| {
@@ -602,9 +741,14 @@ impl Inner {
                     })
                 };
                 let d = &e.data;
+                let status = match e.status {
+                    EntryStatus::Original => String::new(),
+                    EntryStatus::Corrected => self.t(key("log-detail-corrected")),
+                    EntryStatus::Voided => self.t(key("log-detail-voided")),
+                };
                 (
                     vec![
-                        format!("{}: {}", self.t("log-field-when"), d.when),
+                        format!("{}: {}", self.t("log-field-when"), when(&d.when)),
                         format!("{}: {}", self.t("log-field-site"), d.site),
                         format!("{}: {}", self.t("log-field-point"), d.point),
                         format!(
@@ -627,20 +771,66 @@ impl Inner {
                             self.t("result-pump"),
                             opt(d.pump_setting_percent, Unit::Percent)
                         ),
+                        format!("{}: {}", self.t("log-field-operator"), d.operator),
                         format!("{}: {}", self.t("log-field-note"), d.note),
                     ],
-                    e.history.clone(),
+                    status,
                 )
             }
-            None => (Vec::new(), Vec::new()),
+            None => (Vec::new(), String::new()),
         };
         adapter.set_detail(model(detail.into_iter().map(s).collect()));
-        adapter.set_history(model(history.into_iter().map(s).collect()));
-        adapter.set_status(s(st
-            .log_note
-            .as_ref()
-            .map(|n| self.note(n))
-            .unwrap_or_default()));
+        adapter.set_detail_status(s(status));
+        let history: Vec<HistoryRow> = if selected.is_some() {
+            st.selected_history()
+                .into_iter()
+                .map(|r| self.history_row(&r, lang))
+                .collect()
+        } else {
+            Vec::new()
+        };
+        adapter.set_history(model(history));
+        let note = |n: &Option<Note>| n.as_ref().map(|n| self.note(n)).unwrap_or_default();
+        adapter.set_edit_status(s(note(&st.log_edit_note)));
+        adapter.set_status(s(note(&st.log_note)));
+    }
+
+    /// One history line: "when · initials · what", then the reason (and note) below it.
+    fn history_row(&self, r: &Revision, lang: Lang) -> HistoryRow {
+        let texts = self.texts.borrow();
+        let dose = r.dose_mg_per_l.map(|d| {
+            format!(
+                "{} {}",
+                numbers::format_sig(d, 3, lang),
+                texts.get(&format!("unit-{}", Unit::MgPerL.code()))
+            )
+        });
+        let what = match r.kind {
+            RevisionKind::Logged => texts.get_args(
+                key("log-history-logged"),
+                &[("dose", dose.unwrap_or_default())],
+            ),
+            RevisionKind::Corrected => texts.get_args(
+                key("log-history-corrected"),
+                &[("dose", dose.unwrap_or_default())],
+            ),
+            RevisionKind::Voided => texts.get(key("log-history-voided")),
+        };
+        let when = r.when.replace('T', " ").trim_end_matches('Z').to_string();
+        let reason = if r.reason.is_empty() {
+            String::new()
+        } else {
+            texts.get_args(key("log-history-reason"), &[("reason", r.reason.clone())])
+        };
+        let note = match r.note.as_deref() {
+            Some(note) if !note.is_empty() => format!("{}: {note}", texts.get("log-field-note")),
+            _ => String::new(),
+        };
+        HistoryRow {
+            heading: s(format!("{when} · {} · {what}", r.operator)),
+            reason: s(reason),
+            note: s(note),
+        }
     }
 
     fn plot_data(&self, view: PlotView, title_key: &str, y_key: &str) -> PlotData {
@@ -687,4 +877,11 @@ impl Inner {
             key("plot-dose-axis"),
         ));
     }
+}
+
+/// Choice `n` of a filter row: 0 is "any", then the values in order.
+fn pick(values: &[String], n: i32) -> Option<String> {
+    (n > 0)
+        .then(|| values.get(n as usize - 1).cloned())
+        .flatten()
 }

@@ -1,10 +1,13 @@
-//! The seam between the UI and the dose log (built separately): a trait the screens use, and
-//! an in-memory stand-in so the app works before the persistent log is connected.
+//! The seam between the UI and the dose log: a trait the screens use, the crash-safe
+//! [`PersistentLog`] behind it, and an in-memory [`MemoryLog`] for tests and previews.
 //!
-//! Design choice: the UI only ever talks to [`DoseLog`]. The in-memory [`MemoryLog`] reports
-//! `persistent() == false`, which is what makes the Start screen show its "not saved" banner;
-//! the real log store will report `true`. Export/import use JSON lines so the stand-in can
-//! round-trip a file even before the real format lands.
+//! Design choice: the UI only ever talks to [`DoseLog`]. An [`Entry`] is what the list shows:
+//! the entry as it stands now (the latest correction applied) with its status in words;
+//! the full history (original, corrections, voids with time, initials and reason) is read
+//! only for the one entry the operator opens, so a 10 000-entry log still opens fast.
+//! Corrections and voids are new records that reference the original — nothing is edited or
+//! dropped. The in-memory [`MemoryLog`] reports `persistent() == false`, which is what makes
+//! the Start screen show its "not saved" banner.
 
 use serde::{Deserialize, Serialize};
 use std::path::Path;
@@ -32,29 +35,142 @@ pub struct NewEntry {
     #[serde(default)]
     pub cautions: Vec<String>,
     pub note: String,
-    /// Operator initials (remembered in Settings).
+    /// Operator initials (remembered in Settings). After a correction: who corrected it.
     #[serde(default)]
     pub operator: String,
 }
 
-/// A stored entry: what was recorded plus its id and its change history.
+/// How an entry stands now.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum EntryStatus {
+    #[default]
+    Original,
+    Corrected,
+    Voided,
+}
+
+impl EntryStatus {
+    pub fn code(self) -> &'static str {
+        match self {
+            EntryStatus::Original => "original",
+            EntryStatus::Corrected => "corrected",
+            EntryStatus::Voided => "voided",
+        }
+    }
+}
+
+/// A stored entry as it stands now: its screen number, the current content (latest
+/// correction applied) and its status.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct Entry {
     pub id: u64,
     #[serde(flatten)]
     pub data: NewEntry,
-    /// One line per change, oldest first (`created`, `edited note`, ...).
-    pub history: Vec<String>,
+    #[serde(default)]
+    pub status: EntryStatus,
+    /// How many corrections and voids reference this entry.
+    #[serde(default)]
+    pub revisions: u32,
+}
+
+impl Entry {
+    pub fn voided(&self) -> bool {
+        self.status == EntryStatus::Voided
+    }
+}
+
+/// What one record in an entry's history did.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum RevisionKind {
+    Logged,
+    Corrected,
+    Voided,
+}
+
+impl RevisionKind {
+    pub fn code(self) -> &'static str {
+        match self {
+            RevisionKind::Logged => "logged",
+            RevisionKind::Corrected => "corrected",
+            RevisionKind::Voided => "voided",
+        }
+    }
+}
+
+/// One record of an entry's history, oldest first: the original, then each correction/void.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Revision {
+    pub kind: RevisionKind,
+    /// UTC time, ISO 8601.
+    pub when: String,
+    pub operator: String,
+    /// Empty for the original entry; required for corrections and voids.
+    pub reason: String,
+    /// The dose and note this record states (none for a void).
+    pub dose_mg_per_l: Option<f64>,
+    pub note: Option<String>,
+}
+
+/// A correction: the new dose and note, who made it and why.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Amendment {
+    pub operator: String,
+    pub reason: String,
+    pub dose_mg_per_l: f64,
+    pub note: String,
+}
+
+/// The two export formats the operator can choose.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum ExportFormat {
+    #[default]
+    Csv,
+    JsonLines,
+}
+
+impl ExportFormat {
+    pub const ALL: [ExportFormat; 2] = [ExportFormat::Csv, ExportFormat::JsonLines];
+
+    pub fn extension(self) -> &'static str {
+        match self {
+            ExportFormat::Csv => "csv",
+            ExportFormat::JsonLines => "jsonl",
+        }
+    }
+}
+
+/// What an import did, counted in records (entries, corrections, voids).
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct ImportReport {
+    pub added: usize,
+    /// Records this log already had, identical: skipped.
+    pub already_present: usize,
+    /// Same id with different content: this log's copy was kept, theirs not imported.
+    pub conflicting: usize,
+    /// Records of the other file that could not be read (damage, newer format).
+    pub unreadable: usize,
 }
 
 #[derive(Clone, Debug, PartialEq)]
 pub enum LogError {
-    /// The store refused the entry (bad value, full disk, ...); `code` keys a translation.
+    /// The store refused the entry or the file (full disk, read-only, not a log, ...);
+    /// `code` keys a translation (`log-error-<code>`).
     Rejected {
         code: String,
         message: String,
     },
     Io(String),
+}
+
+impl LogError {
+    fn rejected(code: &str, message: impl Into<String>) -> LogError {
+        LogError::Rejected {
+            code: code.into(),
+            message: message.into(),
+        }
+    }
 }
 
 impl std::fmt::Display for LogError {
@@ -66,21 +182,105 @@ impl std::fmt::Display for LogError {
     }
 }
 
+/// The codes [`LogError::Rejected`] can carry (each has a `log-error-<code>` message).
+pub const ERROR_CODES: [&str; 13] = [
+    "bad-dose",
+    "not-saved",
+    "storage-full",
+    "read-only",
+    "locked",
+    "invalid-entry",
+    "not-a-log",
+    "future-version",
+    "same-log",
+    "unknown-entry",
+    "too-large",
+    "not-found",
+    "io",
+];
+
 /// SEAM FOR THE LOG: what the screens need from the dose log.
 pub trait DoseLog {
     /// Whether entries survive a restart. `false` shows the "not saved" banner.
     fn persistent(&self) -> bool;
     fn append(&mut self, entry: NewEntry) -> Result<u64, LogError>;
-    /// All entries, oldest first.
+    /// All entries as they stand now (voided ones included, marked), oldest first.
     fn entries(&self) -> Vec<Entry>;
-    fn export(&self, path: &Path) -> Result<usize, LogError>;
-    fn import(&mut self, path: &Path) -> Result<usize, LogError>;
+    /// The original entry and every correction and void of it, oldest first.
+    fn history(&self, id: u64) -> Result<Vec<Revision>, LogError>;
+    /// Records a correction of entry `id` (a new record; the original stays).
+    fn correct(&mut self, id: u64, fix: Amendment) -> Result<(), LogError>;
+    /// Records that entry `id` should not count (a new record; the original stays).
+    fn void(&mut self, id: u64, operator: &str, reason: &str) -> Result<(), LogError>;
+    /// Writes every entry (voided ones with their status) to `path`; returns the count.
+    fn export(&self, path: &Path, format: ExportFormat) -> Result<usize, LogError>;
+    /// Merges another device's file: new records added, known ones skipped, conflicts kept out.
+    fn import(&mut self, path: &Path) -> Result<ImportReport, LogError>;
 }
 
-/// Entries kept in memory only, until the persistent log is connected.
+/// A required reason or initials, checked the same way the persistent log does.
+fn require(field: &str, value: &str) -> Result<(), LogError> {
+    if value.trim().is_empty() {
+        return Err(LogError::rejected(
+            "invalid-entry",
+            format!("{field} must not be empty"),
+        ));
+    }
+    Ok(())
+}
+
+fn check_dose(dose: f64) -> Result<(), LogError> {
+    if !dose.is_finite() || dose < 0.0 {
+        return Err(LogError::rejected(
+            "bad-dose",
+            format!("dose {dose} is not a loggable value"),
+        ));
+    }
+    Ok(())
+}
+
+/// Writes `text` to a new file at `path`; a partly written file is removed again.
+fn write_new_file(
+    path: &Path,
+    write: impl FnOnce(&mut std::fs::File) -> Result<usize, LogError>,
+) -> Result<usize, LogError> {
+    let mut file = std::fs::File::create(path).map_err(|e| io_error("creating", path, &e))?;
+    let result = write(&mut file).and_then(|n| {
+        file.sync_all()
+            .map(|()| n)
+            .map_err(|e| io_error("writing", path, &e))
+    });
+    if result.is_err() {
+        drop(file);
+        let _ = std::fs::remove_file(path);
+    }
+    result
+}
+
+/// An I/O failure in words: full, read-only, missing folder, or the OS message.
+fn io_error(doing: &str, path: &Path, e: &std::io::Error) -> LogError {
+    if e.kind() == std::io::ErrorKind::NotFound {
+        return LogError::rejected(
+            "not-found",
+            format!("{doing} {}: no such file or folder", path.display()),
+        );
+    }
+    from_log_error(crate::log::Error::io(doing, path, e))
+}
+
+/// Entries kept in memory only (tests, previews, no data directory).
 #[derive(Default)]
 pub struct MemoryLog {
-    entries: Vec<Entry>,
+    entries: Vec<(Entry, Vec<Revision>)>,
+}
+
+impl MemoryLog {
+    fn slot(&mut self, id: u64) -> Result<&mut (Entry, Vec<Revision>), LogError> {
+        self.entries
+            .iter_mut()
+            .find(|(e, _)| e.id == id)
+            .ok_or_else(|| LogError::rejected("unknown-entry", format!("no entry {id}")))
+    }
 }
 
 impl DoseLog for MemoryLog {
@@ -89,55 +289,165 @@ impl DoseLog for MemoryLog {
     }
 
     fn append(&mut self, entry: NewEntry) -> Result<u64, LogError> {
-        if !entry.dose_mg_per_l.is_finite() || entry.dose_mg_per_l < 0.0 {
-            return Err(LogError::Rejected {
-                code: "bad-dose".into(),
-                message: format!("dose {} is not a loggable value", entry.dose_mg_per_l),
-            });
-        }
-        let id = self.entries.last().map_or(1, |e| e.id + 1);
-        self.entries.push(Entry {
-            id,
-            data: entry,
-            history: vec!["created".into()],
-        });
+        check_dose(entry.dose_mg_per_l)?;
+        let id = self.entries.last().map_or(1, |(e, _)| e.id + 1);
+        let logged = Revision {
+            kind: RevisionKind::Logged,
+            when: entry.when.clone(),
+            operator: entry.operator.clone(),
+            reason: String::new(),
+            dose_mg_per_l: Some(entry.dose_mg_per_l),
+            note: Some(entry.note.clone()),
+        };
+        self.entries.push((
+            Entry {
+                id,
+                data: entry,
+                status: EntryStatus::Original,
+                revisions: 0,
+            },
+            vec![logged],
+        ));
         Ok(id)
     }
 
     fn entries(&self) -> Vec<Entry> {
-        self.entries.clone()
+        self.entries.iter().map(|(e, _)| e.clone()).collect()
     }
 
-    fn export(&self, path: &Path) -> Result<usize, LogError> {
+    fn history(&self, id: u64) -> Result<Vec<Revision>, LogError> {
+        Ok(self
+            .entries
+            .iter()
+            .find(|(e, _)| e.id == id)
+            .map(|(_, h)| h.clone())
+            .unwrap_or_default())
+    }
+
+    fn correct(&mut self, id: u64, fix: Amendment) -> Result<(), LogError> {
+        require("reason", &fix.reason)?;
+        require("operator", &fix.operator)?;
+        check_dose(fix.dose_mg_per_l)?;
+        let (entry, history) = self.slot(id)?;
+        entry.data.dose_mg_per_l = fix.dose_mg_per_l;
+        entry.data.note = fix.note.clone();
+        entry.data.operator = fix.operator.clone();
+        entry.status = EntryStatus::Corrected;
+        entry.revisions += 1;
+        history.push(Revision {
+            kind: RevisionKind::Corrected,
+            when: now_utc_iso(),
+            operator: fix.operator,
+            reason: fix.reason,
+            dose_mg_per_l: Some(fix.dose_mg_per_l),
+            note: Some(fix.note),
+        });
+        Ok(())
+    }
+
+    fn void(&mut self, id: u64, operator: &str, reason: &str) -> Result<(), LogError> {
+        require("reason", reason)?;
+        require("operator", operator)?;
+        let (entry, history) = self.slot(id)?;
+        entry.status = EntryStatus::Voided;
+        entry.revisions += 1;
+        history.push(Revision {
+            kind: RevisionKind::Voided,
+            when: now_utc_iso(),
+            operator: operator.into(),
+            reason: reason.into(),
+            dose_mg_per_l: None,
+            note: None,
+        });
+        Ok(())
+    }
+
+    fn export(&self, path: &Path, format: ExportFormat) -> Result<usize, LogError> {
         let mut text = String::new();
-        for e in &self.entries {
-            text.push_str(&serde_json::to_string(e).map_err(|e| LogError::Io(e.to_string()))?);
+        if format == ExportFormat::Csv {
+            text.push_str("id,logged_at,site,status,operator,tap,chemical,dose_mg_per_L,note\n");
+        }
+        for (e, _) in &self.entries {
+            match format {
+                ExportFormat::JsonLines => text
+                    .push_str(&serde_json::to_string(e).map_err(|e| LogError::Io(e.to_string()))?),
+                ExportFormat::Csv => {
+                    let d = &e.data;
+                    let cells = [
+                        e.id.to_string(),
+                        d.when.clone(),
+                        d.site.clone(),
+                        e.status.code().to_string(),
+                        d.operator.clone(),
+                        d.point.clone(),
+                        d.chemical.clone(),
+                        d.dose_mg_per_l.to_string(),
+                        d.note.clone(),
+                    ];
+                    let quoted: Vec<String> = cells.iter().map(|c| csv_cell(c)).collect();
+                    text.push_str(&quoted.join(","));
+                }
+            }
             text.push('\n');
         }
-        std::fs::write(path, text).map_err(|e| LogError::Io(e.to_string()))?;
-        Ok(self.entries.len())
+        write_new_file(path, |file| {
+            use std::io::Write;
+            file.write_all(text.as_bytes())
+                .map_err(|e| io_error("writing", path, &e))?;
+            Ok(self.entries.len())
+        })
     }
 
-    fn import(&mut self, path: &Path) -> Result<usize, LogError> {
-        let text = std::fs::read_to_string(path).map_err(|e| LogError::Io(e.to_string()))?;
-        let mut added = 0;
-        for (n, line) in text
-            .lines()
-            .enumerate()
-            .filter(|(_, l)| !l.trim().is_empty())
-        {
-            let entry: Entry = serde_json::from_str(line)
-                .map_err(|e| LogError::Io(format!("line {}: {e}", n + 1)))?;
-            let mut data = entry.data;
-            data.note = if data.note.is_empty() {
-                format!("imported #{}", entry.id)
-            } else {
-                data.note
+    /// Reads this stand-in's own JSON Lines export. Ids are local numbers here, so an entry
+    /// counts as already present when its content (time, site, point, chemical, dose,
+    /// initials) matches one this log has.
+    fn import(&mut self, path: &Path) -> Result<ImportReport, LogError> {
+        let text = std::fs::read_to_string(path).map_err(|e| io_error("reading", path, &e))?;
+        let mut report = ImportReport::default();
+        for line in text.lines().filter(|l| !l.trim().is_empty()) {
+            let Ok(entry) = serde_json::from_str::<Entry>(line) else {
+                report.unreadable += 1;
+                continue;
             };
-            self.append(data)?;
-            added += 1;
+            let same = |e: &Entry| {
+                let (a, b) = (&e.data, &entry.data);
+                a.when == b.when
+                    && a.site == b.site
+                    && a.point == b.point
+                    && a.chemical == b.chemical
+                    && a.operator == b.operator
+            };
+            match self.entries.iter().find(|(e, _)| same(e)) {
+                Some((e, _)) if e.data == entry.data && e.status == entry.status => {
+                    report.already_present += 1
+                }
+                Some(_) => report.conflicting += 1,
+                None => {
+                    let status = entry.status;
+                    let id = self.append(entry.data)?;
+                    if let Ok((e, _)) = self.slot(id) {
+                        e.status = status;
+                    }
+                    report.added += 1;
+                }
+            }
         }
-        Ok(added)
+        if report == ImportReport::default() {
+            return Err(LogError::rejected(
+                "not-a-log",
+                format!("{} holds no dose log entries", path.display()),
+            ));
+        }
+        Ok(report)
+    }
+}
+
+/// RFC 4180: quote a cell with a comma, quote or line break, doubling its quotes.
+fn csv_cell(cell: &str) -> String {
+    if cell.contains([',', '"', '\n', '\r']) || cell.trim() != cell {
+        format!("\"{}\"", cell.replace('"', "\"\""))
+    } else {
+        cell.to_string()
     }
 }
 
@@ -193,7 +503,7 @@ impl PersistentLog {
         if let Some(i) = self.logs.iter().position(|(p, _)| *p == path) {
             return Ok(&mut self.logs[i].1);
         }
-        std::fs::create_dir_all(&self.dir).map_err(|e| LogError::Io(e.to_string()))?;
+        std::fs::create_dir_all(&self.dir).map_err(|e| io_error("creating", &self.dir, &e))?;
         let log = crate::log::Log::open(&path, &self.device).map_err(from_log_error)?;
         self.logs.push((path, log));
         Ok(&mut self.logs.last_mut().expect("just pushed").1)
@@ -208,20 +518,62 @@ impl PersistentLog {
         ids.push(id);
         ids.len() as u64
     }
+
+    /// The log id behind a screen number, and the open log that holds it.
+    fn find(&self, number: u64) -> Result<(uuid::Uuid, usize), LogError> {
+        let unknown = || LogError::rejected("unknown-entry", format!("no entry {number}"));
+        let id = *self
+            .ids
+            .borrow()
+            .get((number as usize).wrapping_sub(1))
+            .ok_or_else(unknown)?;
+        let at = self
+            .logs
+            .iter()
+            .position(|(_, log)| matches!(log.get(id), Ok(Some(_))))
+            .ok_or_else(unknown)?;
+        Ok((id, at))
+    }
+
+    /// Appends a correction or void to the log holding it; a storage failure keeps the
+    /// record pending and says "not saved", as for a new entry.
+    fn revise(&mut self, at: usize, draft: crate::log::Draft) -> Result<(), LogError> {
+        self.cache.replace(None);
+        let log = &mut self.logs[at].1;
+        let _ = log.retry_pending();
+        log.append(draft)
+            .map(|_| ())
+            .map_err(|e| not_saved(from_log_error(e)))
+    }
+}
+
+/// Storage failures while appending mean the record is kept pending: say "not saved".
+fn not_saved(e: LogError) -> LogError {
+    match e {
+        LogError::Rejected { code, message }
+            if matches!(code.as_str(), "storage-full" | "read-only" | "io") =>
+        {
+            LogError::rejected("not-saved", message)
+        }
+        other => other,
+    }
 }
 
 fn from_log_error(e: crate::log::Error) -> LogError {
     use crate::log::ErrorKind as K;
     let code = match e.kind() {
-        K::StorageFull | K::ReadOnly | K::Io => "not-saved",
+        K::StorageFull => "storage-full",
+        K::ReadOnly => "read-only",
+        K::Io => "io",
         K::Locked => "locked",
         K::InvalidEntry => "invalid-entry",
-        _ => return LogError::Io(e.to_string()),
+        K::NotALog => "not-a-log",
+        K::FutureVersion => "future-version",
+        K::SameLog => "same-log",
+        K::UnknownReference => "unknown-entry",
+        K::TooLarge => "too-large",
     };
-    LogError::Rejected {
-        code: code.into(),
-        message: e.to_string(),
-    }
+    LogError::rejected(code, e.to_string())
 }
 
 fn dose_of(entry: &NewEntry) -> crate::log::record::Dose {
@@ -247,6 +599,53 @@ fn dose_of(entry: &NewEntry) -> crate::log::record::Dose {
     }
 }
 
+fn utc_iso(at: &chrono::DateTime<chrono::FixedOffset>) -> String {
+    at.with_timezone(&chrono::Utc)
+        .format("%Y-%m-%dT%H:%M:%SZ")
+        .to_string()
+}
+
+fn revision_of(record: crate::log::Record) -> Revision {
+    use crate::log::Record as R;
+    match record {
+        R::Entry(e) => Revision {
+            kind: RevisionKind::Logged,
+            when: utc_iso(&e.at),
+            operator: e.dose.operator,
+            reason: String::new(),
+            dose_mg_per_l: Some(e.dose.dose_mg_per_l),
+            note: Some(e.dose.note),
+        },
+        R::Correction(c) => Revision {
+            kind: RevisionKind::Corrected,
+            when: utc_iso(&c.at),
+            operator: c.dose.operator,
+            reason: c.reason,
+            dose_mg_per_l: Some(c.dose.dose_mg_per_l),
+            note: Some(c.dose.note),
+        },
+        R::Void(v) => Revision {
+            kind: RevisionKind::Voided,
+            when: utc_iso(&v.at),
+            operator: v.operator,
+            reason: v.reason,
+            dose_mg_per_l: None,
+            note: None,
+        },
+    }
+}
+
+/// An entry's records in the order the log decides its current state: (time, id).
+fn ordered_history(
+    log: &crate::log::Log,
+    id: uuid::Uuid,
+) -> Result<Vec<crate::log::Record>, LogError> {
+    let mut records = log.history(id).map_err(from_log_error)?;
+    // The original first, then revisions as the log orders them.
+    records.sort_by_key(|r| (r.refers_to().is_some(), r.at(), r.id()));
+    Ok(records)
+}
+
 impl DoseLog for PersistentLog {
     /// True while every entry is on disk; a pending (unsynced) entry shows "not saved".
     fn persistent(&self) -> bool {
@@ -263,7 +662,9 @@ impl DoseLog for PersistentLog {
         self.cache.replace(None);
         let log = self.log_for(&site)?;
         let _ = log.retry_pending();
-        let id = log.append(draft).map_err(from_log_error)?;
+        let id = log
+            .append(draft)
+            .map_err(|e| not_saved(from_log_error(e)))?;
         Ok(self.number(id))
     }
 
@@ -272,33 +673,20 @@ impl DoseLog for PersistentLog {
             return cached.clone();
         }
         let mut out = Vec::new();
+        let all = crate::log::Query {
+            include_voided: true,
+            ..Default::default()
+        };
         for (_, log) in &self.logs {
-            let Ok(views) = log.current() else { continue };
+            // Built from the views (one read per entry); the full history is read only for
+            // the entry the operator opens.
+            let Ok(views) = log.query(&all) else { continue };
             for view in views {
-                // Built from the view (one read per entry), not from a history lookup per
-                // entry, which made opening a 10 000-entry log take most of a second.
-                let mut history = vec![format!("{} logged", view.at.to_rfc3339())];
-                if let Some(change) = &view.last_change {
-                    history.push(
-                        format!(
-                            "{} {:?} ({} revision(s)): {}",
-                            change.at.to_rfc3339(),
-                            change.kind,
-                            view.revisions,
-                            change.reason
-                        )
-                        .to_lowercase(),
-                    );
-                }
                 let dose = &view.dose;
                 out.push(Entry {
                     id: self.number(view.id),
                     data: NewEntry {
-                        when: view
-                            .at
-                            .with_timezone(&chrono::Utc)
-                            .format("%Y-%m-%dT%H:%M:%SZ")
-                            .to_string(),
+                        when: utc_iso(&view.at),
                         site: view.site.clone(),
                         point: dose.tap.clone(),
                         chemical: dose.chemical.clone(),
@@ -312,7 +700,12 @@ impl DoseLog for PersistentLog {
                         note: dose.note.clone(),
                         operator: dose.operator.clone(),
                     },
-                    history,
+                    status: match view.status {
+                        crate::log::Status::Original => EntryStatus::Original,
+                        crate::log::Status::Corrected => EntryStatus::Corrected,
+                        crate::log::Status::Voided => EntryStatus::Voided,
+                    },
+                    revisions: view.revisions,
                 });
             }
         }
@@ -321,33 +714,121 @@ impl DoseLog for PersistentLog {
         out
     }
 
-    /// CSV (or JSON Lines for a `.jsonl` path) of every current entry of the open sites.
-    fn export(&self, path: &Path) -> Result<usize, LogError> {
-        let mut file = std::fs::File::create(path).map_err(|e| LogError::Io(e.to_string()))?;
-        let jsonl = path.extension().is_some_and(|x| x == "jsonl");
-        let mut count = 0;
-        for (_, log) in &self.logs {
-            let query = crate::log::Query::default();
-            count += if jsonl {
-                crate::log::export::jsonl(log, &query, &mut file)
-            } else {
-                crate::log::export::csv(log, &query, &mut file)
-            }
-            .map_err(from_log_error)?;
-        }
-        Ok(count)
+    fn history(&self, number: u64) -> Result<Vec<Revision>, LogError> {
+        let (id, at) = self.find(number)?;
+        Ok(ordered_history(&self.logs[at].1, id)?
+            .into_iter()
+            .map(revision_of)
+            .collect())
     }
 
-    /// Merges another device's log file into the first open site log.
-    fn import(&mut self, path: &Path) -> Result<usize, LogError> {
-        let log = self
-            .logs
-            .first_mut()
-            .map(|(_, log)| log)
-            .ok_or_else(|| LogError::Io("no site log is open yet".into()))?;
-        let report = log.merge_from(path).map_err(from_log_error)?;
+    /// The correction carries the whole current content with the new dose and note; its
+    /// `operator` is whoever made the correction (the original's initials stay in history).
+    fn correct(&mut self, number: u64, fix: Amendment) -> Result<(), LogError> {
+        check_dose(fix.dose_mg_per_l)?;
+        let (id, at) = self.find(number)?;
+        let records = ordered_history(&self.logs[at].1, id)?;
+        let mut dose = records
+            .iter()
+            .rev()
+            .find_map(|r| match r {
+                crate::log::Record::Correction(c) => Some(c.dose.clone()),
+                _ => None,
+            })
+            .or_else(|| {
+                records.iter().find_map(|r| match r {
+                    crate::log::Record::Entry(e) => Some(e.dose.clone()),
+                    _ => None,
+                })
+            })
+            .ok_or_else(|| LogError::rejected("unknown-entry", format!("no entry {number}")))?;
+        dose.dose_mg_per_l = fix.dose_mg_per_l;
+        dose.note = fix.note;
+        dose.operator = fix.operator;
+        self.revise(
+            at,
+            crate::log::Draft::Correction {
+                at: None,
+                corrects: id,
+                reason: fix.reason,
+                dose,
+            },
+        )
+    }
+
+    fn void(&mut self, number: u64, operator: &str, reason: &str) -> Result<(), LogError> {
+        let (id, at) = self.find(number)?;
+        self.revise(
+            at,
+            crate::log::Draft::Void {
+                at: None,
+                operator: operator.into(),
+                voids: id,
+                reason: reason.into(),
+            },
+        )
+    }
+
+    /// CSV (fixed columns, units in the headers) or JSON Lines of every entry of the open
+    /// sites, voided ones included with their status, for the monthly report.
+    fn export(&self, path: &Path, format: ExportFormat) -> Result<usize, LogError> {
+        write_new_file(path, |file| {
+            let query = crate::log::Query {
+                include_voided: true,
+                ..Default::default()
+            };
+            let mut count = 0;
+            for (_, log) in &self.logs {
+                count += match format {
+                    ExportFormat::JsonLines => crate::log::export::jsonl(log, &query, file),
+                    ExportFormat::Csv => crate::log::export::csv(log, &query, file),
+                }
+                .map_err(from_log_error)?;
+            }
+            Ok(count)
+        })
+    }
+
+    /// Merges another device's log file into this device's log of the same site (the site
+    /// of the file's first entry): new records are appended, identical ones skipped,
+    /// conflicting ones (same id, other content) counted and left out.
+    fn import(&mut self, path: &Path) -> Result<ImportReport, LogError> {
+        if !path.is_file() {
+            return Err(LogError::rejected(
+                "not-found",
+                format!("{}: no such file", path.display()),
+            ));
+        }
+        let site = {
+            let source = crate::log::Log::open_read_only(path).map_err(from_log_error)?;
+            let all = crate::log::Query {
+                include_voided: true,
+                ..Default::default()
+            };
+            let first = source
+                .query(&all)
+                .map_err(from_log_error)?
+                .into_iter()
+                .next();
+            match first {
+                Some(view) => view.site,
+                None => {
+                    return Err(LogError::rejected(
+                        "not-a-log",
+                        format!("{} holds no dose log entries", path.display()),
+                    ));
+                }
+            }
+        };
         self.cache.replace(None);
-        Ok(report.added)
+        let log = self.log_for(&site)?;
+        let report = log.merge_from(path).map_err(from_log_error)?;
+        Ok(ImportReport {
+            added: report.added,
+            already_present: report.already_present,
+            conflicting: report.conflicting.len(),
+            unreadable: report.unreadable,
+        })
     }
 }
 
@@ -475,24 +956,145 @@ mod tests {
     }
 
     #[test]
-    fn export_then_import_round_trips() {
+    fn memory_export_then_import_round_trips_and_skips_duplicates() {
         let dir = std::env::temp_dir().join(format!("molefeed-log-{}", std::process::id()));
         std::fs::create_dir_all(&dir).unwrap();
         let path = dir.join("export.jsonl");
         let mut log = MemoryLog::default();
         log.append(entry(1.25)).unwrap();
-        log.append(entry(3.5)).unwrap();
-        assert_eq!(log.export(&path), Ok(2));
+        let mut later = entry(3.5);
+        later.when = "2026-12-01T09:00:00Z".into();
+        log.append(later).unwrap();
+        assert_eq!(log.export(&path, ExportFormat::JsonLines), Ok(2));
         let mut other = MemoryLog::default();
-        assert_eq!(other.import(&path), Ok(2));
+        let report = other.import(&path).unwrap();
+        assert_eq!((report.added, report.already_present), (2, 0));
         let doses: Vec<f64> = other
             .entries()
             .iter()
             .map(|e| e.data.dose_mg_per_l)
             .collect();
         assert_eq!(doses, vec![1.25, 3.5]);
-        assert_eq!(other.entries()[0].data.note, "imported #1");
+        let again = other.import(&path).unwrap();
+        assert_eq!((again.added, again.already_present), (0, 2));
         std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    /// One log implementation through correct → void, checked the same way for both.
+    fn corrections_and_voids_keep_the_original(log: &mut dyn DoseLog) {
+        let id = log.append(entry(1.5)).unwrap();
+        let other = log.append(entry(2.0)).unwrap();
+        let fix = |reason: &str, dose: f64| Amendment {
+            operator: "KT".into(),
+            reason: reason.into(),
+            dose_mg_per_l: dose,
+            note: "flow meter read wrong".into(),
+        };
+        assert!(
+            matches!(log.correct(id, fix("  ", 1.8)), Err(LogError::Rejected { ref code, .. }) if code == "invalid-entry"),
+            "a correction without a reason is refused"
+        );
+        assert_eq!(log.history(id).unwrap().len(), 1, "nothing recorded");
+        log.correct(id, fix("wrong flow reading", 1.8)).unwrap();
+        let now = log.entries();
+        let e = now.iter().find(|e| e.id == id).unwrap();
+        assert_eq!(e.data.dose_mg_per_l, 1.8);
+        assert_eq!(e.status, EntryStatus::Corrected);
+        assert_eq!(e.data.operator, "KT");
+        let history = log.history(id).unwrap();
+        let kinds: Vec<RevisionKind> = history.iter().map(|r| r.kind).collect();
+        assert_eq!(kinds, [RevisionKind::Logged, RevisionKind::Corrected]);
+        assert_eq!(history[0].dose_mg_per_l, Some(1.5), "original kept");
+        assert_eq!(history[0].operator, "JM");
+        assert_eq!(history[1].reason, "wrong flow reading");
+        assert!(log.void(other, "KT", "").is_err(), "void needs a reason");
+        assert_eq!(log.entries()[1].status, EntryStatus::Original);
+        log.void(other, "KT", "logged twice").unwrap();
+        let voided = log.entries().into_iter().find(|e| e.id == other).unwrap();
+        assert!(voided.voided());
+        assert_eq!(voided.data.dose_mg_per_l, 2.0, "the entry stays, marked");
+        let h = log.history(other).unwrap();
+        assert_eq!(h.len(), 2);
+        assert_eq!(
+            (h[1].kind, h[1].operator.as_str()),
+            (RevisionKind::Voided, "KT")
+        );
+        assert!(log.void(99, "KT", "no such").is_err());
+    }
+
+    #[test]
+    fn memory_log_corrects_and_voids_with_history() {
+        corrections_and_voids_keep_the_original(&mut MemoryLog::default());
+    }
+
+    #[test]
+    fn persistent_log_corrects_and_voids_with_history_on_disk() {
+        let dir = std::env::temp_dir().join(format!("molefeed-plog-fix-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        let mut log = PersistentLog::new(&dir, "test-device");
+        corrections_and_voids_keep_the_original(&mut log);
+        drop(log);
+        let reopened = PersistentLog::new(&dir, "test-device");
+        let entries = reopened.entries();
+        assert_eq!(entries.len(), 2, "voided entries stay listed");
+        assert_eq!(entries[0].data.dose_mg_per_l, 1.8);
+        assert_eq!(entries[0].status, EntryStatus::Corrected);
+        assert_eq!(reopened.history(1).unwrap().len(), 2);
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+
+    #[test]
+    fn persistent_export_in_both_formats_and_merge_reports_duplicates() {
+        let base = std::env::temp_dir().join(format!("molefeed-plog-x-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&base);
+        let mut ours = PersistentLog::new(&base.join("ours"), "tablet-a");
+        ours.append(entry(1.5)).unwrap();
+        ours.void(1, "JM", "test entry").unwrap();
+        let csv = base.join("out.csv");
+        assert_eq!(ours.export(&csv, ExportFormat::Csv), Ok(1));
+        let text = std::fs::read_to_string(&csv).unwrap();
+        assert!(text.starts_with("id,logged_at"), "{text}");
+        assert!(text.contains("voided"), "{text}");
+        let jsonl = base.join("out.jsonl");
+        assert_eq!(ours.export(&jsonl, ExportFormat::JsonLines), Ok(1));
+        let line = std::fs::read_to_string(&jsonl).unwrap();
+        assert!(serde_json::from_str::<serde_json::Value>(line.trim()).is_ok());
+        // A folder that does not exist is named in words, and no file is left behind.
+        let missing = base.join("no-such-folder/out.csv");
+        assert!(
+            matches!(ours.export(&missing, ExportFormat::Csv), Err(LogError::Rejected { ref code, .. }) if code == "not-found")
+        );
+        // Another device's log of the same site: its entries are added once.
+        let theirs_dir = base.join("theirs");
+        let mut theirs = PersistentLog::new(&theirs_dir, "tablet-b");
+        theirs.append(entry(2.5)).unwrap();
+        theirs.append(entry(2.6)).unwrap();
+        drop(theirs);
+        let file = crate::log::site_file(&theirs_dir, "North plant");
+        let first = ours.import(&file).unwrap();
+        assert_eq!(
+            (first.added, first.already_present, first.conflicting),
+            (2, 0, 0)
+        );
+        assert_eq!(ours.entries().len(), 3);
+        let second = ours.import(&file).unwrap();
+        assert_eq!((second.added, second.already_present), (0, 2));
+        // Not a log: refused in words, file untouched.
+        assert!(
+            matches!(ours.import(&csv), Err(LogError::Rejected { ref code, .. }) if code == "not-a-log")
+        );
+        assert!(
+            matches!(ours.import(&base.join("nothing.doselog")), Err(LogError::Rejected { ref code, .. }) if code == "not-found")
+        );
+        let _ = std::fs::remove_dir_all(&base);
+    }
+
+    #[test]
+    fn every_error_code_has_a_message_key() {
+        let keys = crate::app::keys::dynamic_keys();
+        for code in ERROR_CODES {
+            assert!(keys.contains(&format!("log-error-{code}")), "{code}");
+        }
     }
 
     #[test]

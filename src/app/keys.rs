@@ -217,7 +217,7 @@ pub fn dynamic_keys() -> Vec<String> {
             .map(|l| format!("caution-level-{}", l.code())),
     );
     keys.extend(
-        ["bad-dose", "not-saved", "locked", "invalid-entry"]
+        super::dose_log::ERROR_CODES
             .iter()
             .map(|code| format!("log-error-{code}")),
     );

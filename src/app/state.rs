@@ -7,7 +7,9 @@
 //! data directory the platform injects (desktop: XDG data dir; Android: internal storage).
 
 use super::calc::{CalcController, CalcInputs, Status, key};
-use super::dose_log::{DoseLog, Entry, LogError, NewEntry, now_utc_iso};
+use super::dose_log::{
+    Amendment, DoseLog, Entry, ExportFormat, LogError, NewEntry, Revision, now_utc_iso,
+};
 use super::numbers::{self, Lang};
 use super::plot::{self, Range};
 use super::seams::{CalcEngine, CalcKind, CalcMode, SeamError};
@@ -110,6 +112,66 @@ pub struct LatestDose {
     pub when: String,
 }
 
+/// Quick date ranges of the log list, in UTC calendar days (the list shows UTC times).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum DateRange {
+    #[default]
+    All,
+    Today,
+    Week,
+    Month,
+}
+
+impl DateRange {
+    pub const ALL: [DateRange; 4] = [
+        DateRange::All,
+        DateRange::Today,
+        DateRange::Week,
+        DateRange::Month,
+    ];
+
+    /// Earlier days included besides today; `None` is no limit.
+    fn days_back(self) -> Option<i64> {
+        match self {
+            DateRange::All => None,
+            DateRange::Today => Some(0),
+            DateRange::Week => Some(6),
+            DateRange::Month => Some(29),
+        }
+    }
+
+    /// Translation key of the chip.
+    pub fn key(self) -> &'static str {
+        match self {
+            DateRange::All => key("log-range-all"),
+            DateRange::Today => key("log-range-today"),
+            DateRange::Week => key("log-range-week"),
+            DateRange::Month => key("log-range-month"),
+        }
+    }
+}
+
+/// The log list's filters; all of them apply together.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct LogFilter {
+    /// Free text: site, point, chemical, initials or note contains it.
+    pub text: String,
+    pub range: DateRange,
+    /// A tap (sampling/dosing point) present in the log; `None` is any.
+    pub point: Option<String>,
+    /// A chemical present in the log; `None` is any.
+    pub chemical: Option<String>,
+}
+
+/// Which change form the log's detail pane shows.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum LogEdit {
+    #[default]
+    None,
+    Correct,
+    Void,
+}
+
 /// A drawn plot: command strings in the view box of [`plot`], or why there is none.
 #[derive(Clone, Debug, PartialEq, Default)]
 pub struct PlotView {
@@ -136,10 +198,15 @@ pub struct AppState {
     data_dir: Option<PathBuf>,
     history: Vec<Screen>,
     screen: Screen,
-    pub log_filter: String,
+    pub log_filter: LogFilter,
     selected: Option<u64>,
     pub calc_note: Option<Note>,
+    /// The export/import message.
     pub log_note: Option<Note>,
+    /// The open correction/void form and its message.
+    pub log_edit: LogEdit,
+    pub log_edit_note: Option<Note>,
+    pub log_format: ExportFormat,
 }
 
 impl AppState {
@@ -174,10 +241,13 @@ impl AppState {
             data_dir,
             history: Vec::new(),
             screen: Screen::Start,
-            log_filter: String::new(),
+            log_filter: LogFilter::default(),
             selected: None,
             calc_note: None,
             log_note: None,
+            log_edit: LogEdit::None,
+            log_edit_note: None,
+            log_format: ExportFormat::Csv,
         }
     }
 
@@ -403,25 +473,57 @@ impl AppState {
         self.log.entries()
     }
 
-    /// Entries matching the filter text (site, point or chemical contains it), newest first.
+    /// Entries matching every filter, newest first, with today's date from the clock.
     pub fn filtered_entries(&self) -> Vec<Entry> {
-        let needle = self.log_filter.trim().to_lowercase();
+        self.filtered_entries_on(&now_utc_iso()[..10])
+    }
+
+    /// Entries matching every filter, newest first; `today` is a UTC date (`2026-12-02`).
+    pub fn filtered_entries_on(&self, today: &str) -> Vec<Entry> {
+        let f = &self.log_filter;
+        let needle = f.text.trim().to_lowercase();
+        let since = f.range.days_back().map(|back| {
+            chrono::NaiveDate::parse_from_str(today, "%Y-%m-%d")
+                .map(|d| (d - chrono::Duration::days(back)).to_string())
+                .unwrap_or_default()
+        });
         let mut v: Vec<Entry> = self
             .log
             .entries()
             .into_iter()
             .filter(|e| {
-                needle.is_empty()
-                    || [&e.data.site, &e.data.point, &e.data.chemical]
-                        .iter()
-                        .any(|s| s.to_lowercase().contains(&needle))
+                let d = &e.data;
+                let day = d.when.get(..10).unwrap_or("");
+                since.as_deref().is_none_or(|s| day >= s && day <= today)
+                    && f.point.as_ref().is_none_or(|p| *p == d.point)
+                    && f.chemical.as_ref().is_none_or(|c| *c == d.chemical)
+                    && (needle.is_empty()
+                        || [&d.site, &d.point, &d.chemical, &d.operator, &d.note]
+                            .iter()
+                            .any(|s| s.to_lowercase().contains(&needle)))
             })
             .collect();
         v.reverse();
         v
     }
 
+    /// The taps and the chemicals present in the log, sorted, for the filter choices.
+    pub fn log_choices(&self) -> (Vec<String>, Vec<String>) {
+        let entries = self.log.entries();
+        let mut points: Vec<String> = entries.iter().map(|e| e.data.point.clone()).collect();
+        let mut chemicals: Vec<String> = entries.iter().map(|e| e.data.chemical.clone()).collect();
+        for list in [&mut points, &mut chemicals] {
+            list.sort();
+            list.dedup();
+        }
+        (points, chemicals)
+    }
+
     pub fn select_entry(&mut self, id: u64) {
+        if self.selected != Some(id) {
+            self.log_edit = LogEdit::None;
+            self.log_edit_note = None;
+        }
         self.selected = Some(id);
     }
 
@@ -430,12 +532,101 @@ impl AppState {
         self.log.entries().into_iter().find(|e| e.id == id)
     }
 
+    /// The selected entry's original and every correction and void, oldest first.
+    pub fn selected_history(&self) -> Vec<Revision> {
+        self.selected
+            .and_then(|id| self.log.history(id).ok())
+            .unwrap_or_default()
+    }
+
+    /// Opens the correction or void form for the selected entry. A voided entry stays as
+    /// it is: correcting it would silently bring it back.
+    pub fn open_log_edit(&mut self, edit: LogEdit) {
+        self.log_edit_note = None;
+        match self.selected_entry() {
+            Some(e) if e.voided() && edit != LogEdit::None => {
+                self.log_edit = LogEdit::None;
+                self.log_edit_note = Some(Note::new(key("log-entry-voided")));
+            }
+            Some(_) => self.log_edit = edit,
+            None => self.log_edit = LogEdit::None,
+        }
+    }
+
+    /// Checks what every change needs: an open entry that is not voided, initials, a reason.
+    fn change_target(&mut self, reason: &str) -> Result<Entry, Note> {
+        let entry = self
+            .selected_entry()
+            .ok_or_else(|| Note::new(key("log-pick-entry")))?;
+        if entry.voided() {
+            return Err(Note::new(key("log-entry-voided")));
+        }
+        if self.settings.initials.is_empty() {
+            return Err(Note::new(key("log-need-initials")));
+        }
+        if reason.trim().is_empty() {
+            return Err(Note::new(key("log-need-reason")));
+        }
+        Ok(entry)
+    }
+
+    /// "Correct…": records a correction of the selected entry's dose and note, with a reason.
+    pub fn correct_selected(&mut self, dose: &str, note: &str, reason: &str) -> Result<(), Note> {
+        let result = self.change_target(reason).and_then(|entry| {
+            let dose = numbers::parse(dose, self.lang())
+                .ok()
+                .filter(|d| d.is_finite() && *d >= 0.0)
+                .ok_or_else(|| Note::new(key("log-dose-invalid")))?;
+            let note = note.trim().to_string();
+            if dose == entry.data.dose_mg_per_l && note == entry.data.note {
+                return Err(Note::new(key("log-nothing-changed")));
+            }
+            let fix = Amendment {
+                operator: self.settings.initials.clone(),
+                reason: reason.trim().to_string(),
+                dose_mg_per_l: dose,
+                note,
+            };
+            self.log
+                .correct(entry.id, fix)
+                .map(|()| entry.id)
+                .map_err(|e| log_error_note(&e))
+        });
+        self.finish_change(result, key("log-corrected"))
+    }
+
+    /// "Void…": records that the selected entry should not count, with a reason.
+    pub fn void_selected(&mut self, reason: &str) -> Result<(), Note> {
+        let result = self.change_target(reason).and_then(|entry| {
+            let initials = self.settings.initials.clone();
+            self.log
+                .void(entry.id, &initials, reason.trim())
+                .map(|()| entry.id)
+                .map_err(|e| log_error_note(&e))
+        });
+        self.finish_change(result, key("log-voided"))
+    }
+
+    fn finish_change(&mut self, result: Result<u64, Note>, done: &str) -> Result<(), Note> {
+        match result {
+            Ok(id) => {
+                self.log_edit = LogEdit::None;
+                self.log_edit_note = Some(Note::new(done).arg("id", id));
+                Ok(())
+            }
+            Err(note) => {
+                self.log_edit_note = Some(note.clone());
+                Err(note)
+            }
+        }
+    }
+
     /// The newest entry for each (point, chemical) at the current site.
     pub fn latest_doses(&self) -> Vec<LatestDose> {
         let site = self.site().name.clone();
         let mut out: Vec<LatestDose> = Vec::new();
         let mut seen: Vec<(String, String)> = Vec::new();
-        for e in self.log.entries().iter().rev() {
+        for e in self.log.entries().iter().rev().filter(|e| !e.voided()) {
             let pair = (e.data.point.clone(), e.data.chemical.clone());
             if e.data.site != site || seen.contains(&pair) {
                 continue;
@@ -456,26 +647,64 @@ impl AppState {
         out
     }
 
+    /// Exports to the typed path, or (left empty) to a dated file in the export folder.
     pub fn export_log(&mut self, path: &str) {
-        self.log_note = Some(match self.log.export(&PathBuf::from(path.trim())) {
-            Ok(n) => Note::new(key("log-exported")).arg("count", n),
+        let format = self.log_format;
+        let target = if path.trim().is_empty() {
+            match self.default_export_path(format, &now_utc_iso()[..10]) {
+                Some(p) => p,
+                None => {
+                    self.log_note = Some(Note::new(key("log-need-path")));
+                    return;
+                }
+            }
+        } else {
+            PathBuf::from(path.trim())
+        };
+        self.log_note = Some(match self.log.export(&target, format) {
+            Ok(n) => Note::new(key("log-exported"))
+                .arg("count", n)
+                .arg("path", target.display()),
             Err(e) => log_error_note(&e),
         });
     }
 
+    /// Merges another device's log file; the message counts new, known and conflicting records.
     pub fn import_log(&mut self, path: &str) {
+        if path.trim().is_empty() {
+            self.log_note = Some(Note::new(key("log-need-import-path")));
+            return;
+        }
         self.log_note = Some(match self.log.import(&PathBuf::from(path.trim())) {
-            Ok(n) => Note::new(key("log-imported")).arg("count", n),
+            Ok(r) => Note::new(key("log-imported"))
+                .arg("added", r.added)
+                .arg("present", r.already_present)
+                .arg("conflicts", r.conflicting)
+                .arg("unreadable", r.unreadable),
             Err(e) => log_error_note(&e),
         });
+        self.selected = self
+            .selected
+            .filter(|id| self.log.entries().iter().any(|e| e.id == *id));
     }
 
-    /// A sensible default export path in the data directory.
-    pub fn default_transfer_path(&self) -> String {
-        self.data_dir
-            .as_ref()
-            .map(|d| d.join("dose-log.jsonl").display().to_string())
-            .unwrap_or_default()
+    /// The app's export folder (`<data dir>/exports`), when the platform gave a data dir.
+    pub fn export_folder(&self) -> Option<PathBuf> {
+        self.data_dir.as_ref().map(|d| d.join("exports"))
+    }
+
+    /// `<export folder>/molefeed-log-<today>.<ext>`, numbered so no earlier export is
+    /// overwritten; creates the folder.
+    pub fn default_export_path(&self, format: ExportFormat, today: &str) -> Option<PathBuf> {
+        let folder = self.export_folder()?;
+        std::fs::create_dir_all(&folder).ok()?;
+        let ext = format.extension();
+        (1..1000)
+            .map(|n| match n {
+                1 => folder.join(format!("molefeed-log-{today}.{ext}")),
+                n => folder.join(format!("molefeed-log-{today}-{n}.{ext}")),
+            })
+            .find(|p| !p.exists())
     }
 
     /// The titration curve for the calculator in use: coagulation when it is open (pH against
@@ -550,7 +779,12 @@ impl AppState {
 
     /// Logged doses of the chemical of the selected (or newest) entry, oldest first.
     pub fn trend_plot(&self) -> PlotView {
-        let entries = self.log.entries();
+        let entries: Vec<Entry> = self
+            .log
+            .entries()
+            .into_iter()
+            .filter(|e| !e.voided())
+            .collect();
         let Some(focus) = self.selected_entry().or_else(|| entries.last().cloned()) else {
             return PlotView {
                 message: Some(Note::new(key("plot-no-log"))),
@@ -785,12 +1019,171 @@ mod tests {
         s.pick_point(1);
         fill_feed(&mut s, "2");
         s.log_current_dose().unwrap();
-        s.log_filter = "clearW".into();
+        s.log_filter.text = "clearW".into();
         let rows = s.filtered_entries();
         assert_eq!(rows.len(), 1);
         assert_eq!(rows[0].data.dose_mg_per_l, 2.0);
-        s.log_filter = "test-chem".into();
+        s.log_filter.text = "test-chem".into();
         assert_eq!(s.filtered_entries().len(), 2);
+    }
+
+    fn seed(s: &mut AppState, when: &str, point: &str, chemical: &str, dose: f64) -> u64 {
+        s.log
+            .append(NewEntry {
+                when: when.into(),
+                site: "Demo site".into(),
+                point: point.into(),
+                chemical: chemical.into(),
+                dose_mg_per_l: dose,
+                feed_kg_per_day: None,
+                pump_setting_percent: None,
+                flow_m3_per_day: None,
+                product_l_per_hour: None,
+                trace: Vec::new(),
+                cautions: Vec::new(),
+                note: String::new(),
+                operator: "JM".into(),
+            })
+            .unwrap()
+    }
+
+    /// The doses the list shows for a filter on a fixed day, newest first.
+    fn shown(s: &mut AppState, filter: LogFilter) -> Vec<f64> {
+        s.log_filter = filter;
+        s.filtered_entries_on("2026-12-02")
+            .iter()
+            .map(|e| e.data.dose_mg_per_l)
+            .collect()
+    }
+
+    #[test]
+    fn date_point_and_chemical_filters_combine() {
+        let mut s = state(Rc::new(Unconnected));
+        seed(&mut s, "2026-10-15T08:00:00Z", "Clearwell", "NaOCl", 1.0);
+        seed(&mut s, "2026-11-28T08:00:00Z", "Clearwell", "NaOCl", 2.0);
+        seed(&mut s, "2026-12-02T06:00:00Z", "Raw water", "NaOH", 3.0);
+        seed(&mut s, "2026-12-02T07:00:00Z", "Clearwell", "NaOCl", 4.0);
+        let f = |range, point: Option<&str>, chemical: Option<&str>| LogFilter {
+            text: String::new(),
+            range,
+            point: point.map(str::to_string),
+            chemical: chemical.map(str::to_string),
+        };
+        let cases: [(LogFilter, &[f64]); 7] = [
+            (f(DateRange::All, None, None), &[4.0, 3.0, 2.0, 1.0]),
+            (f(DateRange::Today, None, None), &[4.0, 3.0]),
+            (f(DateRange::Week, None, None), &[4.0, 3.0, 2.0]),
+            (f(DateRange::Month, None, None), &[4.0, 3.0, 2.0]),
+            (f(DateRange::All, Some("Clearwell"), None), &[4.0, 2.0, 1.0]),
+            (
+                f(DateRange::Week, Some("Clearwell"), Some("NaOCl")),
+                &[4.0, 2.0],
+            ),
+            (f(DateRange::Today, None, Some("NaOH")), &[3.0]),
+        ];
+        for (filter, expected) in cases {
+            assert_eq!(shown(&mut s, filter.clone()), expected, "{filter:?}");
+        }
+        let (points, chemicals) = s.log_choices();
+        assert_eq!(points, ["Clearwell", "Raw water"]);
+        assert_eq!(chemicals, ["NaOCl", "NaOH"]);
+    }
+
+    #[test]
+    fn corrections_and_voids_need_a_reason_and_keep_history() {
+        let mut s = state(Rc::new(Unconnected));
+        let id = seed(&mut s, "2026-12-02T06:00:00Z", "Clearwell", "NaOCl", 1.5);
+        s.select_entry(id);
+        s.open_log_edit(LogEdit::Correct);
+        assert_eq!(s.log_edit, LogEdit::Correct);
+        assert_eq!(
+            s.correct_selected("1.8", "", "wrong meter")
+                .unwrap_err()
+                .key,
+            "log-need-initials"
+        );
+        s.set_initials("KT");
+        assert_eq!(
+            s.correct_selected("1.8", "", " ").unwrap_err().key,
+            "log-need-reason"
+        );
+        assert_eq!(
+            s.correct_selected("abc", "", "wrong meter")
+                .unwrap_err()
+                .key,
+            "log-dose-invalid"
+        );
+        assert_eq!(
+            s.correct_selected("1.5", "", "same").unwrap_err().key,
+            "log-nothing-changed"
+        );
+        assert_eq!(
+            s.selected_history().len(),
+            1,
+            "refused changes record nothing"
+        );
+        s.correct_selected("1.8", "meter fixed", "wrong meter")
+            .unwrap();
+        assert_eq!(s.log_edit, LogEdit::None, "form closes after saving");
+        assert_eq!(s.log_edit_note.as_ref().unwrap().key, "log-corrected");
+        let e = s.selected_entry().unwrap();
+        assert_eq!(
+            (e.data.dose_mg_per_l, e.data.note.as_str()),
+            (1.8, "meter fixed")
+        );
+        assert_eq!(s.selected_history().len(), 2);
+        assert_eq!(s.void_selected("").unwrap_err().key, "log-need-reason");
+        s.void_selected("logged at the wrong site").unwrap();
+        assert!(s.selected_entry().unwrap().voided());
+        assert_eq!(s.selected_history().len(), 3);
+        s.open_log_edit(LogEdit::Correct);
+        assert_eq!(s.log_edit, LogEdit::None, "a voided entry is not reopened");
+        assert_eq!(s.log_edit_note.as_ref().unwrap().key, "log-entry-voided");
+        assert!(
+            s.latest_doses().is_empty(),
+            "voided doses are not the latest"
+        );
+    }
+
+    #[test]
+    fn export_goes_to_a_dated_file_in_the_export_folder() {
+        let dir = std::env::temp_dir().join(format!("molefeed-export-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        let mut s = AppState::new(
+            Rc::new(Unconnected),
+            Box::new(MemoryLog::default()),
+            Some(dir.clone()),
+            None,
+        );
+        seed(&mut s, "2026-12-02T06:00:00Z", "Clearwell", "NaOCl", 1.5);
+        let first = s
+            .default_export_path(ExportFormat::Csv, "2026-12-02")
+            .unwrap();
+        assert_eq!(first, dir.join("exports/molefeed-log-2026-12-02.csv"));
+        std::fs::write(&first, "earlier").unwrap();
+        let second = s
+            .default_export_path(ExportFormat::JsonLines, "2026-12-02")
+            .unwrap();
+        assert!(second.ends_with("molefeed-log-2026-12-02.jsonl"));
+        let third = s
+            .default_export_path(ExportFormat::Csv, "2026-12-02")
+            .unwrap();
+        assert!(
+            third.ends_with("molefeed-log-2026-12-02-2.csv"),
+            "{third:?}"
+        );
+        s.log_format = ExportFormat::Csv;
+        s.export_log("  ");
+        let note = s.log_note.clone().unwrap();
+        assert_eq!(note.key, "log-exported");
+        let written = PathBuf::from(&note.args[1].1);
+        assert!(std::fs::read_to_string(&written).unwrap().contains("NaOCl"));
+        assert_eq!(std::fs::read_to_string(&first).unwrap(), "earlier");
+        s.import_log("");
+        assert_eq!(s.log_note.as_ref().unwrap().key, "log-need-import-path");
+        s.import_log(&dir.join("missing.doselog").display().to_string());
+        assert_eq!(s.log_note.as_ref().unwrap().key, "log-error-not-found");
+        std::fs::remove_dir_all(&dir).unwrap();
     }
 
     #[test]
