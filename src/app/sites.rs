@@ -309,6 +309,14 @@ pub fn save_pump(
     {
         return Err(note(key("site-pump-needs-liquid")));
     }
+    if site
+        .pumps
+        .iter()
+        .any(|p| p.name == name && !matches!(p.kind, PumpKind::Metering { .. }))
+    {
+        // Saving would turn a hose pump or feeder into a metering pump and lose its data.
+        return Err(note(key("site-pump-not-metering")));
+    }
     let capacity = required(&form.capacity, lang, key("site-capacity"))?;
     let unit = form.unit.unwrap_or(VolumeRateUnit::Gph);
     let mut edited = site.clone();

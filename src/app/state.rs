@@ -1238,6 +1238,18 @@ mod tests {
                 "site-pump-needs-liquid",
             ),
             (
+                "metering settings on the hose pump",
+                Box::new(|s| {
+                    s.save_pump(&PumpForm {
+                        name: "Alum peristaltic pump".into(),
+                        product: Some(1),
+                        capacity: "5".into(),
+                        unit: None,
+                    })
+                }),
+                "site-pump-not-metering",
+            ),
+            (
                 "reversed limit",
                 Box::new(|s| {
                     s.save_limit(&LimitForm {
