@@ -373,3 +373,41 @@ fn an_impossible_specific_gravity_is_refused_in_words() {
     tap(&app, &en("settings-save-product"));
     one(&app, &en("site-saved"));
 }
+
+#[test]
+fn the_calculator_starts_from_the_site_and_warns_against_its_permit() {
+    let (app, _handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-chlorination"));
+    // Prefilled from the demo plant: its hypochlorite as delivered, pump A, the typical flow.
+    let value = |label: &str| one(&app, label).accessible_value().unwrap_or_default();
+    assert_eq!(value(&en("field-strength")), "12.5");
+    assert_eq!(value(&en("field-specific-gravity")), "1.165");
+    assert_eq!(value(&en("field-pump-capacity")), "10");
+    assert_eq!(value(&en("field-flow")), "2.4");
+    type_into(&app, &en("field-chlorine-demand"), "1.5");
+    type_into(&app, &en("field-residual-target"), "4.5");
+    let texts = Texts::new(Lang::En);
+    let warning = texts.get_args(
+        "caution-site-limit-above",
+        &[
+            ("field", en("field-residual-target")),
+            ("value", "4.50".into()),
+            ("limit", "4.00".into()),
+            ("unit", "mg/L".into()),
+            (
+                "source",
+                "Plant permit (invented): 0.2 mg/L minimum entering distribution; \
+                 maximum as the federal MRDL"
+                    .into(),
+            ),
+        ],
+    );
+    one(&app, &format!("{}: {warning}", en("caution-level-warning")));
+    // Back inside the permit: the warning goes.
+    type_into(&app, &en("field-residual-target"), "1.0");
+    assert_eq!(
+        count(&app, &format!("{}: {warning}", en("caution-level-warning"))),
+        0
+    );
+}

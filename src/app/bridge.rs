@@ -179,6 +179,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             let mut st = i.state.borrow_mut();
             st.calc.set_kind(*kind);
             st.calc_note = None;
+            st.prefill_from_site();
         }
         i.refresh_calc(true);
     }));
@@ -187,6 +188,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             let mut st = i.state.borrow_mut();
             st.calc.set_product(n.max(0) as usize);
             st.calc_note = None;
+            st.prefill_from_site();
         }
         i.refresh_calc(false);
     }));
@@ -198,6 +200,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
                 st.calc.set_mode(*mode);
             }
             st.calc_note = None;
+            st.prefill_from_site();
         }
         i.refresh_calc(true);
     }));
