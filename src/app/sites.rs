@@ -42,7 +42,12 @@ struct SitesFile {
 
 /// A profile with only a name and taps, from an old `{name, points}` site.
 pub fn migrate(old: &LegacySite, units: UnitSystem) -> SiteProfile {
-    let mut site = empty_site(&old.name, units);
+    // A profile needs a name to validate; an old site saved without one still opens.
+    let name = match old.name.trim() {
+        "" => "Site",
+        name => name,
+    };
+    let mut site = empty_site(name, units);
     for name in &old.points {
         add_tap(&mut site, name);
     }

@@ -940,7 +940,7 @@ mod tests {
             dir.join("settings.json"),
             r#"{"lang":"es","us_units":false,"high_contrast":false,
                "sites":[{"name":"Planta Sur","points":["Agua cruda","Depósito"]},
-                        {"name":"Pozos","points":[]}],
+                        {"name":" ","points":["Pozo 1","Pozo 1"]}],
                "site_index":0,"point_index":1}"#,
         )
         .unwrap();
@@ -952,6 +952,12 @@ mod tests {
         assert_eq!(s.point(), Some("Depósito"));
         let ids: Vec<_> = s.site().sampling_taps.iter().map(|t| &t.id).collect();
         assert_eq!(ids, ["tap-1", "tap-2"]);
+        assert_eq!(s.settings.sites[1].name, "Site");
+        assert_eq!(
+            s.settings.sites[1].sampling_taps.len(),
+            1,
+            "duplicate tap kept once"
+        );
         let catalog = Catalog::builtin().unwrap();
         for site in &s.settings.sites {
             site.validate(&catalog).expect("migrated profile is valid");
@@ -1194,7 +1200,8 @@ mod tests {
             sg: sg.into(),
             certificate: "COA 1".into(),
         };
-        let cases: Vec<(&str, Box<dyn Fn(&mut AppState) -> bool>, &str)> = vec![
+        type Edit = Box<dyn Fn(&mut AppState) -> bool>;
+        let cases: Vec<(&str, Edit, &str)> = vec![
             (
                 "SG 5",
                 Box::new(move |s| s.save_product(&hypo("12.5", "5"))),
