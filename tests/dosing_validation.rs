@@ -561,6 +561,9 @@ fn catalog_and_demo_site_are_valid() {
             .iter()
             .all(|l| l.source.contains("CFR"))
     );
+    // The typical flow converts through exact definitions: 2.4 MGD = 2.4e6 gal/d × 3.785411784 L/gal.
+    let typical = site.typical_flow.expect("demo has a typical flow");
+    assert!((typical.m3_per_day().unwrap() - 2.4e6 * 3.785411784 / 1000.0).abs() < 1e-6);
     // Round trip through JSON.
     let again = SiteProfile::from_json(&site.to_json().unwrap(), &c).unwrap();
     assert_eq!(again, site);
@@ -631,6 +634,18 @@ fn broken_site_profiles_are_typed_errors() {
         edit(&|v| v["pumps"][3]["product"] = "hypo-bulk".into()),
         ErrorKind::InvalidInput,
         "cannot feed",
+    );
+    check(
+        "duplicate tap id",
+        edit(&|v| v["sampling_taps"][1]["id"] = v["sampling_taps"][0]["id"].clone()),
+        ErrorKind::InvalidInput,
+        "tap id",
+    );
+    check(
+        "zero typical flow",
+        edit(&|v| v["typical_flow"]["value"] = 0.0.into()),
+        ErrorKind::OutOfRange,
+        "flow",
     );
 }
 

@@ -82,8 +82,8 @@ fn seeded_log() -> Box<dyn DoseLog> {
     for (day, dose) in [(1, 1.6), (2, 1.8), (3, 1.7), (4, 2.1), (5, 1.9)] {
         log.append(NewEntry {
             when: format!("2026-11-0{day}T07:30:00Z"),
-            site: "Demo site".into(),
-            point: "Clearwell".into(),
+            site: "Harrowmere Tarn Water Works (demo)".into(),
+            point: "Clearwell effluent".into(),
             chemical: "NaOCl 12.5 %".into(),
             dose_mg_per_l: dose,
             feed_kg_per_day: None,
@@ -202,6 +202,21 @@ fn every_screen_renders_with_text_at_three_sizes() {
         1000,
     );
     app.global::<CalcAdapter>().set_show_work(false);
+    // The whole Settings screen (site profile editor) in a tall window, for review at phone
+    // and tablet width: the normal window shows only its top.
+    for (name, w, h) in [("phone", 400, 4800), ("tablet", 1280, 3600)] {
+        app.global::<Nav>().invoke_go(4);
+        let pixels = render(&window, w, h);
+        save_png(
+            &out.join(format!("settings-{name}-full.png")),
+            &pixels,
+            w,
+            h,
+        );
+        if dark_pixels(&pixels, w, h, w < 720) < 20_000 {
+            failures.push(format!("settings-{name}-full.png shows too little text"));
+        }
+    }
     // The Spanish and high-contrast variants of the calculator screen, for review.
     app.global::<SettingsAdapter>().invoke_set_lang(1);
     app.global::<SettingsAdapter>()

@@ -13,7 +13,7 @@ use molefeed::app::dose_log::{DoseLog, MemoryLog, NewEntry};
 use molefeed::app::i18n::Texts;
 use molefeed::app::numbers::{self, Lang};
 use molefeed::app::seams::{Unconnected, connected_engine};
-use molefeed::app::ui::{AppWindow, LogAdapter, Nav};
+use molefeed::app::ui::{AppWindow, LogAdapter, Nav, SettingsAdapter, StartAdapter};
 use molefeed::app::{AppHandle, Deps, attach};
 use slint::{ComponentHandle, Model};
 use std::rc::Rc;
@@ -592,4 +592,108 @@ fn on_a_phone_the_entry_opens_full_width_with_large_targets() {
         let size = one(&app, label).size();
         assert!(size.height >= 48.0, "{label}: {size:?}");
     }
+}
+
+#[test]
+fn a_tap_added_in_settings_is_offered_on_start() {
+    // Tall so the whole editor is in view (the finders skip scrolled-out elements).
+    let (app, handle) = start_at(Rc::new(common::EchoEngine), 400.0, 4000.0);
+    // A fresh start opens on the embedded demo plant and its taps.
+    let picker = || {
+        one(&app, &en("start-point"))
+            .accessible_value()
+            .unwrap_or_default()
+    };
+    assert_eq!(picker(), "Raw water tap at screen house");
+    tap(&app, &en("nav-settings"));
+    type_into(&app, &en("settings-tap-name"), "Filter 3 outlet");
+    tap(&app, &en("settings-add-tap"));
+    one(&app, &en("site-saved"));
+    tap(&app, &en("nav-start"));
+    assert_eq!(app.global::<Nav>().get_screen(), 0);
+    // The picker shows the new tap, chosen, and a logged dose would be recorded at it.
+    assert_eq!(picker(), "Filter 3 outlet");
+    let taps: Vec<String> = app
+        .global::<StartAdapter>()
+        .get_points()
+        .iter()
+        .map(|t| t.to_string())
+        .collect();
+    assert!(taps.contains(&"Filter 3 outlet".to_string()), "{taps:?}");
+    assert_eq!(handle.state.borrow().point(), Some("Filter 3 outlet"));
+}
+
+#[test]
+fn an_impossible_specific_gravity_is_refused_in_words() {
+    let (app, handle) = start_at(Rc::new(common::EchoEngine), 400.0, 4000.0);
+    tap(&app, &en("nav-settings"));
+    // The editor's form, loaded from the demo's hypochlorite entry by its Edit button's action.
+    app.global::<SettingsAdapter>().invoke_edit_product(0);
+    assert_eq!(
+        app.global::<SettingsAdapter>().get_strength().as_str(),
+        "12.5"
+    );
+    type_into(&app, &en("site-sg"), "5");
+    tap(&app, &en("settings-save-product"));
+    let message = app.global::<SettingsAdapter>().get_message().to_string();
+    assert!(
+        message.starts_with("Not saved") && message.contains("specific gravity"),
+        "{message}"
+    );
+    one(&app, &message);
+    let sg = handle
+        .state
+        .borrow()
+        .site()
+        .delivered_of("sodium-hypochlorite")
+        .and_then(|d| d.sg);
+    assert_eq!(sg, Some(1.165), "the refused SG replaced the stored one");
+    // A number in the wrong form is named, too; a good one is saved.
+    type_into(&app, &en("site-sg"), "1,2");
+    tap(&app, &en("settings-save-product"));
+    one(
+        &app,
+        &format!("{}: {}", en("site-sg"), en("number-wrong-mark")),
+    );
+    type_into(&app, &en("site-sg"), "1.2");
+    tap(&app, &en("settings-save-product"));
+    one(&app, &en("site-saved"));
+}
+
+#[test]
+fn the_calculator_starts_from_the_site_and_warns_against_its_permit() {
+    let (app, _handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-chlorination"));
+    // Prefilled from the demo plant: its hypochlorite as delivered, pump A, the typical flow.
+    let value = |label: &str| one(&app, label).accessible_value().unwrap_or_default();
+    assert_eq!(value(&en("field-strength")), "12.5");
+    assert_eq!(value(&en("field-specific-gravity")), "1.165");
+    assert_eq!(value(&en("field-pump-capacity")), "10");
+    assert_eq!(value(&en("field-flow")), "2.4");
+    type_into(&app, &en("field-chlorine-demand"), "1.5");
+    type_into(&app, &en("field-residual-target"), "4.5");
+    let texts = Texts::new(Lang::En);
+    let warning = texts.get_args(
+        "caution-site-limit-above",
+        &[
+            ("field", en("field-residual-target")),
+            ("value", "4.50".into()),
+            ("limit", "4.00".into()),
+            ("unit", "mg/L".into()),
+            (
+                "source",
+                "Plant permit (invented): 0.2 mg/L minimum entering distribution; \
+                 maximum as the federal MRDL"
+                    .into(),
+            ),
+        ],
+    );
+    one(&app, &format!("{}: {warning}", en("caution-level-warning")));
+    // Back inside the permit: the warning goes.
+    type_into(&app, &en("field-residual-target"), "1.0");
+    assert_eq!(
+        count(&app, &format!("{}: {warning}", en("caution-level-warning"))),
+        0
+    );
 }

@@ -12,9 +12,12 @@ use super::dose_log::{EntryStatus, ExportFormat, Revision, RevisionKind};
 use super::i18n::Texts;
 use super::numbers::{self, Lang};
 use super::seams::{CalcEngine, CalcKind, TraceLine, connected_engine};
+use super::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
 use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen};
 use super::ui::*;
 use super::units::{Unit, UnitSystem};
+use crate::engine::dosing::feed::PumpKind;
+use crate::engine::dosing::site::Limit;
 use slint::{ComponentHandle, Model, ModelRc, SharedString, VecModel};
 use std::cell::RefCell;
 use std::path::PathBuf;
@@ -218,6 +221,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             let mut st = i.state.borrow_mut();
             st.calc.set_kind(*kind);
             st.calc_note = None;
+            st.prefill_from_site();
         }
         i.refresh_calc(true);
     }));
@@ -226,6 +230,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             let mut st = i.state.borrow_mut();
             st.calc.set_product(n.max(0) as usize);
             st.calc_note = None;
+            st.prefill_from_site();
         }
         i.refresh_calc(false);
     }));
@@ -237,6 +242,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
                 st.calc.set_mode(*mode);
             }
             st.calc_note = None;
+            st.prefill_from_site();
         }
         i.refresh_calc(true);
         i.keep_inputs_soon();
@@ -361,24 +367,91 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.state.borrow_mut().set_initials(t);
     }));
     settings.on_rename_site(on_text(|i, t| {
-        i.state.borrow_mut().rename_site(t);
-        i.window()
-            .global::<SettingsAdapter>()
-            .set_site_name_edit(s(""));
+        if i.state.borrow_mut().rename_site(t) {
+            i.window()
+                .global::<SettingsAdapter>()
+                .set_site_name_edit(s(""));
+        }
         i.refresh_all();
     }));
     settings.on_add_site(on_text(|i, t| {
-        i.state.borrow_mut().add_site(t);
-        i.window().global::<SettingsAdapter>().set_new_site(s(""));
+        if i.state.borrow_mut().add_site(t) {
+            i.window()
+                .global::<SettingsAdapter>()
+                .set_site_name_edit(s(""));
+        }
+        i.refresh_all();
+    }));
+    settings.on_reset_demo(on_unit(|i| {
+        i.state.borrow_mut().reset_to_demo();
         i.refresh_all();
     }));
     settings.on_add_point(on_text(|i, t| {
-        i.state.borrow_mut().add_point(t);
-        i.window().global::<SettingsAdapter>().set_new_point(s(""));
+        if i.state.borrow_mut().add_point(t) {
+            i.window()
+                .global::<SettingsAdapter>()
+                .set_tap_name_edit(s(""));
+        }
+        i.refresh_all();
+    }));
+    settings.on_rename_point(on_text(|i, t| {
+        let index = i.state.borrow().settings.point_index;
+        if i.state.borrow_mut().rename_point(index, t) {
+            i.window()
+                .global::<SettingsAdapter>()
+                .set_tap_name_edit(s(""));
+        }
         i.refresh_all();
     }));
     settings.on_remove_point(on(|i, n| {
         i.state.borrow_mut().remove_point(n.max(0) as usize);
+        i.refresh_all();
+    }));
+    settings.on_save_product(on_unit(|i| {
+        let form = i.product_form();
+        i.state.borrow_mut().save_product(&form);
+        i.refresh_all();
+    }));
+    settings.on_edit_product(on(|i, n| i.load_product(n.max(0) as usize)));
+    settings.on_remove_product(on(|i, n| {
+        i.state.borrow_mut().remove_product(n.max(0) as usize);
+        i.refresh_all();
+    }));
+    settings.on_save_pump(on_unit(|i| {
+        let w = i.window();
+        let a = w.global::<SettingsAdapter>();
+        let form = PumpForm {
+            name: a.get_pump_name().to_string(),
+            product: usize::try_from(a.get_pump_product_index()).ok(),
+            capacity: a.get_pump_capacity().to_string(),
+            unit: sites::PUMP_UNITS
+                .get(a.get_pump_unit_index().max(0) as usize)
+                .copied(),
+        };
+        i.state.borrow_mut().save_pump(&form);
+        i.refresh_all();
+    }));
+    settings.on_edit_pump(on(|i, n| i.load_pump(n.max(0) as usize)));
+    settings.on_remove_pump(on(|i, n| {
+        i.state.borrow_mut().remove_pump(n.max(0) as usize);
+        i.refresh_all();
+    }));
+    settings.on_save_limit(on_unit(|i| {
+        let w = i.window();
+        let a = w.global::<SettingsAdapter>();
+        let form = LimitForm {
+            parameter: a.get_limit_parameter().to_string(),
+            min: a.get_limit_min().to_string(),
+            max: a.get_limit_max().to_string(),
+            unit: a.get_limit_unit().to_string(),
+            source: a.get_limit_source().to_string(),
+        };
+        i.state.borrow_mut().save_limit(&form);
+        i.refresh_all();
+    }));
+    settings.on_edit_limit(on(|i, n| i.load_limit(n.max(0) as usize)));
+    settings.on_remove_limit(on(|i, n| {
+        i.state.borrow_mut().remove_limit(n.max(0) as usize);
         i.refresh_all();
     }));
 }
@@ -440,7 +513,7 @@ impl Inner {
             st.settings.sites.iter().map(|x| s(&x.name)).collect(),
         ));
         start.set_site_index(st.settings.site_index as i32);
-        start.set_points(model(st.site().points.iter().map(s).collect()));
+        start.set_points(model(st.taps().into_iter().map(s).collect()));
         start.set_point_index(st.settings.point_index as i32);
         start.set_not_saved(!st.log_is_persistent());
         start.set_calculators(model(
@@ -470,9 +543,237 @@ impl Inner {
             settings.set_initials(s(st.initials()));
         }
         drop(st);
+        self.refresh_site_editor();
         self.refresh_calc(true);
         self.refresh_log();
         self.refresh_plots();
+    }
+
+    /// The product form as typed.
+    fn product_form(&self) -> ProductForm {
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
+        let st = self.state.borrow();
+        ProductForm {
+            product: st
+                .catalog()
+                .and_then(|c| c.products.get(a.get_catalog_index().max(0) as usize))
+                .map(|p| p.id.clone())
+                .unwrap_or_default(),
+            strength: a.get_strength().to_string(),
+            basis: sites::BASES
+                .get(a.get_basis_index().max(0) as usize)
+                .copied(),
+            sg: a.get_sg().to_string(),
+            certificate: a.get_certificate().to_string(),
+        }
+    }
+
+    fn number(&self, v: f64) -> String {
+        sites::show(v, self.state.borrow().lang())
+    }
+
+    /// Puts a delivered product into the form, to change it and save again.
+    fn load_product(&self, index: usize) {
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
+        let st = self.state.borrow();
+        let Some(d) = st.site().products.get(index).cloned() else {
+            return;
+        };
+        let catalog_index = st
+            .catalog()
+            .and_then(|c| c.products.iter().position(|p| p.id == d.product));
+        drop(st);
+        a.set_catalog_index(catalog_index.map_or(-1, |i| i as i32));
+        a.set_basis_index(
+            sites::BASES
+                .iter()
+                .position(|b| *b == d.strength_basis)
+                .map_or(-1, |i| i as i32),
+        );
+        a.set_strength(s(self.number(d.strength)));
+        a.set_sg(s(d.sg.map(|v| self.number(v)).unwrap_or_default()));
+        a.set_certificate(s(d.certificate.unwrap_or_default()));
+    }
+
+    fn load_pump(&self, index: usize) {
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
+        let st = self.state.borrow();
+        let Some(p) = st.site().pumps.get(index).cloned() else {
+            return;
+        };
+        let product = st.site().products.iter().position(|d| d.id == p.product);
+        drop(st);
+        a.set_pump_name(s(&p.name));
+        a.set_pump_product_index(product.map_or(-1, |i| i as i32));
+        if let PumpKind::Metering { capacity, unit } = p.kind {
+            a.set_pump_capacity(s(self.number(capacity)));
+            a.set_pump_unit_index(
+                sites::PUMP_UNITS
+                    .iter()
+                    .position(|u| *u == unit)
+                    .map_or(0, |i| i as i32),
+            );
+        } else {
+            a.set_pump_capacity(s(""));
+        }
+    }
+
+    fn load_limit(&self, index: usize) {
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
+        let Some(l) = self.state.borrow().site().limits.get(index).cloned() else {
+            return;
+        };
+        a.set_limit_parameter(s(&l.parameter));
+        a.set_limit_min(s(l.min.map(|v| self.number(v)).unwrap_or_default()));
+        a.set_limit_max(s(l.max.map(|v| self.number(v)).unwrap_or_default()));
+        a.set_limit_unit(s(&l.unit));
+        a.set_limit_source(s(&l.source));
+    }
+
+    fn limit_row(&self, l: &Limit) -> SiteRow {
+        let range = match (l.min, l.max) {
+            (Some(lo), Some(hi)) => format!("{}–{}", self.number(lo), self.number(hi)),
+            (Some(lo), None) => format!("≥ {}", self.number(lo)),
+            (None, Some(hi)) => format!("≤ {}", self.number(hi)),
+            (None, None) => String::new(),
+        };
+        SiteRow {
+            title: s(format!("{}: {range} {}", l.parameter, l.unit).trim_end()),
+            detail: s(&l.source),
+        }
+    }
+
+    /// A problem from the profile editor, in words.
+    fn site_problem(&self, problem: &SiteProblem) -> String {
+        match problem {
+            SiteProblem::Note(note) => {
+                // Arguments that are keys (a field's label, a number problem) are translated.
+                let texts = self.texts.borrow();
+                let args: Vec<(&str, String)> = note
+                    .args
+                    .iter()
+                    .map(|(k, v)| {
+                        let v = if texts.has(v) {
+                            texts.get(v)
+                        } else {
+                            v.clone()
+                        };
+                        (*k, v)
+                    })
+                    .collect();
+                texts.get_args(&note.key, &args)
+            }
+            SiteProblem::Engine(e) => self.texts.borrow().get_args(
+                key("site-invalid"),
+                &[("detail", self.texts.borrow().error(e))],
+            ),
+        }
+    }
+
+    /// The Settings screen's profile editor: lists, choices and the last edit's outcome.
+    fn refresh_site_editor(&self) {
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
+        let st = self.state.borrow();
+        let site = st.site();
+        let product_name = |catalog_id: &str| {
+            st.catalog()
+                .and_then(|c| c.product(catalog_id).ok())
+                .map_or(catalog_id.to_string(), |p| self.name(&p.name_key))
+        };
+        a.set_products(model(
+            site.products
+                .iter()
+                .map(|d| SiteRow {
+                    title: s(format!(
+                        "{} · {} % {}",
+                        product_name(&d.product),
+                        self.number(d.strength),
+                        self.t(sites::basis_key(d.strength_basis))
+                    )),
+                    detail: s([
+                        d.sg.map(|v| format!("{} {}", self.t("site-sg"), self.number(v)))
+                            .unwrap_or_default(),
+                        d.certificate.clone().unwrap_or_default(),
+                    ]
+                    .into_iter()
+                    .filter(|t| !t.is_empty())
+                    .collect::<Vec<_>>()
+                    .join(" · ")),
+                })
+                .collect(),
+        ));
+        let delivered: Vec<String> = site
+            .products
+            .iter()
+            .map(|d| format!("{} ({})", product_name(&d.product), d.id))
+            .collect();
+        a.set_pumps(model(
+            site.pumps
+                .iter()
+                .map(|p| {
+                    let feeds = site
+                        .products
+                        .iter()
+                        .find(|d| d.id == p.product)
+                        .map_or(p.product.clone(), |d| product_name(&d.product));
+                    let kind = match p.kind {
+                        PumpKind::Metering { capacity, unit } => {
+                            format!("{} {}", self.number(capacity), unit.symbol())
+                        }
+                        PumpKind::Peristaltic { .. } => self.t("site-pump-peristaltic"),
+                        PumpKind::DryFeeder { .. } => self.t("site-pump-dry"),
+                        PumpKind::GasFeeder { .. } => self.t("site-pump-gas"),
+                    };
+                    SiteRow {
+                        title: s(&p.name),
+                        detail: s(format!("{feeds} · {kind}")),
+                    }
+                })
+                .collect(),
+        ));
+        a.set_delivered(model(delivered.iter().map(s).collect()));
+        a.set_limits(model(
+            site.limits.iter().map(|l| self.limit_row(l)).collect(),
+        ));
+        a.set_default_limits(model(
+            st.site_limits()
+                .iter()
+                .filter(|l| !site.limits.iter().any(|own| own.parameter == l.parameter))
+                .map(|l| self.limit_row(l))
+                .collect(),
+        ));
+        a.set_catalog_products(model(
+            st.catalog()
+                .map(|c| {
+                    c.products
+                        .iter()
+                        .map(|p| s(self.name(&p.name_key)))
+                        .collect()
+                })
+                .unwrap_or_default(),
+        ));
+        a.set_bases(model(
+            sites::BASES
+                .iter()
+                .map(|b| s(self.t(sites::basis_key(*b))))
+                .collect(),
+        ));
+        a.set_pump_units(model(
+            sites::PUMP_UNITS.iter().map(|u| s(u.symbol())).collect(),
+        ));
+        let (message, ok) = match (&st.site_problem, st.site_saved) {
+            (Some(p), _) => (self.site_problem(p), false),
+            (None, true) => (self.t("site-saved"), true),
+            (None, false) => (String::new(), true),
+        };
+        a.set_message(s(message));
+        a.set_message_ok(ok);
+        a.set_message_section(st.site_section as i32);
     }
 
     fn field_row(&self, f: &FieldView) -> FieldRow {
@@ -567,17 +868,29 @@ impl Inner {
                     r.trace.iter().map(|line| trace_row(&texts, line)).collect(),
                 ));
                 let mut shown: Vec<(i32, String)> = Vec::new();
+                // The site's limits add their cautions to the engine's, worst first.
+                let mut cautions = r.cautions.clone();
+                cautions.extend(st.site_cautions());
+                cautions.sort_by_key(|c| std::cmp::Reverse(c.level));
                 adapter.set_cautions(model(
-                    r.cautions
+                    cautions
                         .iter()
                         .filter_map(|c| {
                             // Engine caution keys are translation keys as they stand.
                             let key = c.code.clone();
                             let text = if texts.has(&key) {
+                                // A parameter naming an input field is shown as its label.
                                 let args: Vec<(&str, String)> = c
                                     .params
                                     .iter()
-                                    .map(|(k, v)| (k.as_str(), v.clone()))
+                                    .map(|(k, v)| {
+                                        let v = if v.starts_with("field-") && texts.has(v) {
+                                            texts.get(v)
+                                        } else {
+                                            v.clone()
+                                        };
+                                        (k.as_str(), v)
+                                    })
                                     .collect();
                                 texts.get_args(&key, &args)
                             } else {

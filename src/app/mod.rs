@@ -14,6 +14,7 @@ pub mod keys;
 pub mod numbers;
 pub mod plot;
 pub mod seams;
+pub mod sites;
 pub mod state;
 pub mod units;
 

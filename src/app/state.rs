@@ -12,8 +12,11 @@ use super::dose_log::{
 };
 use super::numbers::{self, Lang};
 use super::plot::{self, Range};
-use super::seams::{CalcEngine, CalcKind, CalcMode, SeamError};
+use super::seams::{CalcEngine, CalcKind, CalcMode, Caution, SeamError};
+use super::sites::{self, LegacySite, LimitForm, Prefill, ProductForm, PumpForm, SiteProblem};
 use super::units::{Unit, UnitSystem};
+use crate::engine::dosing::catalog::Catalog;
+use crate::engine::dosing::site::{Limit, SiteProfile};
 use serde::{Deserialize, Serialize};
 use std::path::PathBuf;
 use std::rc::Rc;
@@ -44,24 +47,23 @@ impl Screen {
     }
 }
 
-/// A site and its dosing points (taps).
+/// What the operator chose in Settings; saved between runs in `settings.json`. The site
+/// profiles themselves are kept in `sites.json` (see [`super::sites`]); `sites` is filled from
+/// there on start and never written into this file.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
-pub struct SiteProfile {
-    pub name: String,
-    pub points: Vec<String>,
-}
-
-/// What the operator chose in Settings; saved between runs.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
 pub struct Settings {
     pub lang: String,
     pub us_units: bool,
     pub high_contrast: bool,
+    #[serde(skip)]
     pub sites: Vec<SiteProfile>,
+    /// Sites as the first versions saved them here (`{name, points}`): read once, migrated.
+    #[serde(rename = "sites", skip_serializing)]
+    legacy_sites: Vec<LegacySite>,
     pub site_index: usize,
     pub point_index: usize,
     /// Operator initials, remembered so logging a dose is one tap.
-    #[serde(default)]
     pub initials: String,
 }
 
@@ -71,10 +73,8 @@ impl Default for Settings {
             lang: "en".into(),
             us_units: true,
             high_contrast: false,
-            sites: vec![SiteProfile {
-                name: "Demo site".into(),
-                points: vec!["Raw water".into(), "Clearwell".into()],
-            }],
+            sites: Vec::new(),
+            legacy_sites: Vec::new(),
             site_index: 0,
             point_index: 0,
             initials: String::new(),
@@ -90,14 +90,14 @@ pub struct Note {
 }
 
 impl Note {
-    fn new(key: &str) -> Note {
+    pub(crate) fn new(key: &str) -> Note {
         Note {
             key: key.into(),
             args: Vec::new(),
         }
     }
 
-    fn arg(mut self, name: &'static str, value: impl ToString) -> Note {
+    pub(crate) fn arg(mut self, name: &'static str, value: impl ToString) -> Note {
         self.args.push((name, value.to_string()));
         self
     }
@@ -207,6 +207,16 @@ pub struct AppState {
     pub log_edit: LogEdit,
     pub log_edit_note: Option<Note>,
     pub log_format: ExportFormat,
+    catalog: Option<Catalog>,
+    prefill: Prefill,
+    /// Calculator variants whose product was already preselected from the site.
+    preselected: Vec<(CalcKind, CalcMode)>,
+    /// The Settings editor's last outcome: a problem in words, or "saved".
+    pub site_problem: Option<SiteProblem>,
+    pub site_saved: bool,
+    /// Which part of the editor the outcome belongs to (0 site, 1 taps, 2 products, 3 pumps,
+    /// 4 limits), so the message appears next to the button that was pressed.
+    pub site_section: u8,
 }
 
 impl AppState {
@@ -225,15 +235,19 @@ impl AppState {
         if let Some(lang) = lang_override {
             settings.lang = lang.tag().into();
         }
-        if settings.sites.is_empty() {
-            settings.sites = Settings::default().sites;
-        }
         let lang = Lang::from_tag(&settings.lang).unwrap_or(Lang::En);
         let system = if settings.us_units {
             UnitSystem::Us
         } else {
             UnitSystem::Si
         };
+        let catalog = Catalog::builtin().ok();
+        let legacy = std::mem::take(&mut settings.legacy_sites);
+        settings.sites = sites::load(data_dir.as_deref(), &legacy, system, catalog.as_ref());
+        let migrated = !legacy.is_empty()
+            && data_dir
+                .as_ref()
+                .is_some_and(|d| !d.join(sites::SITES_FILE).exists());
         AppState {
             calc: CalcController::new(engine, lang, system),
             settings,
@@ -248,7 +262,22 @@ impl AppState {
             log_edit: LogEdit::None,
             log_edit_note: None,
             log_format: ExportFormat::Csv,
+            catalog,
+            prefill: Prefill::default(),
+            preselected: Vec::new(),
+            site_problem: None,
+            site_saved: false,
+            site_section: 0,
         }
+        .saved_if(migrated)
+    }
+
+    /// Writes the migrated profiles at once, so the old sites are read only one time.
+    fn saved_if(self, migrated: bool) -> AppState {
+        if migrated {
+            self.save();
+        }
+        self
     }
 
     pub fn lang(&self) -> Lang {
@@ -271,6 +300,11 @@ impl AppState {
         if to != self.screen {
             self.history.push(self.screen);
             self.screen = to;
+            self.site_problem = None;
+            self.site_saved = false;
+            if to == Screen::Calculators {
+                self.prefill_from_site();
+            }
         }
     }
 
@@ -291,17 +325,20 @@ impl AppState {
         self.calc.set_kind(kind);
         self.calc_note = None;
         self.navigate(Screen::Calculators);
+        self.prefill_from_site();
     }
 
     pub fn set_lang(&mut self, lang: Lang) {
         self.settings.lang = lang.tag().into();
         self.calc.set_lang(lang);
+        self.prefill.follow(&self.calc);
         self.save();
     }
 
     pub fn set_units(&mut self, system: UnitSystem) {
         self.settings.us_units = system == UnitSystem::Us;
         self.calc.set_units(system);
+        self.prefill.follow(&self.calc);
         self.save();
     }
 
@@ -320,11 +357,25 @@ impl AppState {
         &mut self.settings.sites[i]
     }
 
+    /// The selected sampling tap's name: what the log records as the dose's point.
     pub fn point(&self) -> Option<&str> {
         self.site()
-            .points
+            .sampling_taps
             .get(self.settings.point_index)
-            .map(String::as_str)
+            .map(|t| t.name.as_str())
+    }
+
+    /// The tap names, in the picker's order.
+    pub fn taps(&self) -> Vec<String> {
+        self.site()
+            .sampling_taps
+            .iter()
+            .map(|t| t.name.clone())
+            .collect()
+    }
+
+    pub fn catalog(&self) -> Option<&Catalog> {
+        self.catalog.as_ref()
     }
 
     pub fn pick_site(&mut self, index: usize) {
@@ -336,7 +387,7 @@ impl AppState {
     }
 
     pub fn pick_point(&mut self, index: usize) {
-        if index < self.site().points.len() {
+        if index < self.site().sampling_taps.len() {
             self.settings.point_index = index;
             self.save();
         }
@@ -360,50 +411,201 @@ impl AppState {
         &self.settings.initials
     }
 
-    pub fn rename_site(&mut self, name: &str) {
-        let name = name.trim();
-        if !name.is_empty() {
-            self.site_mut().name = name.to_string();
+    /// Records the editor's outcome and saves when the edit went through.
+    fn edited(&mut self, section: u8, outcome: Result<(), SiteProblem>) -> bool {
+        self.site_section = section;
+        self.site_saved = outcome.is_ok();
+        self.site_problem = outcome.err();
+        if self.site_saved {
             self.save();
         }
+        self.site_saved
     }
 
-    pub fn add_site(&mut self, name: &str) {
+    fn need_name() -> Result<(), SiteProblem> {
+        Err(SiteProblem::Note(Note::new(key("site-need-name"))))
+    }
+
+    pub fn rename_site(&mut self, name: &str) -> bool {
+        let name = name.trim().to_string();
+        let outcome = if name.is_empty() {
+            Self::need_name()
+        } else {
+            self.site_mut().name = name;
+            Ok(())
+        };
+        self.edited(0, outcome)
+    }
+
+    pub fn add_site(&mut self, name: &str) -> bool {
         let name = name.trim();
-        if !name.is_empty() {
-            self.settings.sites.push(SiteProfile {
-                name: name.into(),
-                points: Vec::new(),
-            });
+        let outcome = if name.is_empty() {
+            Self::need_name()
+        } else {
+            self.settings
+                .sites
+                .push(sites::empty_site(name, self.units()));
             self.settings.site_index = self.settings.sites.len() - 1;
             self.settings.point_index = 0;
-            self.save();
-        }
+            Ok(())
+        };
+        self.edited(0, outcome)
     }
 
-    pub fn add_point(&mut self, name: &str) {
-        let name = name.trim();
-        if !name.is_empty() && !self.site().points.iter().any(|p| p == name) {
-            self.site_mut().points.push(name.to_string());
-            self.save();
-        }
+    /// Puts the embedded demo plant back in place of the current site.
+    pub fn reset_to_demo(&mut self) {
+        *self.site_mut() = sites::demo(self.catalog.as_ref());
+        self.settings.point_index = 0;
+        self.edited(0, Ok(()));
+    }
+
+    /// Adds a sampling tap and selects it (the operator is usually standing at it).
+    pub fn add_point(&mut self, name: &str) -> bool {
+        let added = sites::add_tap(self.site_mut(), name);
+        let outcome = if added {
+            self.settings.point_index = self.site().sampling_taps.len() - 1;
+            Ok(())
+        } else if name.trim().is_empty() {
+            Self::need_name()
+        } else {
+            Err(SiteProblem::Note(Note::new(key("site-tap-exists"))))
+        };
+        self.edited(1, outcome)
+    }
+
+    pub fn rename_point(&mut self, index: usize, name: &str) -> bool {
+        let name = name.trim().to_string();
+        let outcome = if name.is_empty() {
+            Self::need_name()
+        } else if self
+            .taps()
+            .iter()
+            .enumerate()
+            .any(|(i, t)| *t == name && i != index)
+        {
+            Err(SiteProblem::Note(Note::new(key("site-tap-exists"))))
+        } else if let Some(tap) = self.site_mut().sampling_taps.get_mut(index) {
+            tap.name = name;
+            Ok(())
+        } else {
+            return false;
+        };
+        self.edited(1, outcome)
     }
 
     pub fn remove_point(&mut self, index: usize) {
-        if index < self.site().points.len() {
-            self.site_mut().points.remove(index);
-            let len = self.site().points.len();
+        if index < self.site().sampling_taps.len() {
+            self.site_mut().sampling_taps.remove(index);
+            let len = self.site().sampling_taps.len();
             if self.settings.point_index >= len {
                 self.settings.point_index = len.saturating_sub(1);
             }
-            self.save();
+            self.edited(1, Ok(()));
         }
     }
 
-    /// Preferences only (never a dose record); a failed write just loses the preference.
+    pub fn save_product(&mut self, form: &ProductForm) -> bool {
+        let lang = self.lang();
+        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
+        let outcome = sites::save_product(
+            &mut self.settings.sites[i],
+            form,
+            lang,
+            self.catalog.as_ref(),
+        );
+        self.edited(2, outcome)
+    }
+
+    pub fn remove_product(&mut self, index: usize) -> bool {
+        let outcome = sites::remove_product(self.site_mut(), index);
+        self.edited(2, outcome)
+    }
+
+    pub fn save_pump(&mut self, form: &PumpForm) -> bool {
+        let lang = self.lang();
+        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
+        let outcome = sites::save_pump(
+            &mut self.settings.sites[i],
+            form,
+            lang,
+            self.catalog.as_ref(),
+        );
+        self.edited(3, outcome)
+    }
+
+    pub fn remove_pump(&mut self, index: usize) {
+        if index < self.site().pumps.len() {
+            self.site_mut().pumps.remove(index);
+            self.edited(3, Ok(()));
+        }
+    }
+
+    pub fn save_limit(&mut self, form: &LimitForm) -> bool {
+        let lang = self.lang();
+        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
+        let outcome = sites::save_limit(
+            &mut self.settings.sites[i],
+            form,
+            lang,
+            self.catalog.as_ref(),
+        );
+        self.edited(4, outcome)
+    }
+
+    pub fn remove_limit(&mut self, index: usize) {
+        if index < self.site().limits.len() {
+            self.site_mut().limits.remove(index);
+            self.edited(4, Ok(()));
+        }
+    }
+
+    /// The limits that apply at this site: the plant's permit entries, then the labelled
+    /// regulatory defaults it does not override.
+    pub fn site_limits(&self) -> Vec<Limit> {
+        sites::effective_limits(self.site())
+    }
+
+    /// Cautions the current calculator inputs raise against the site's limits (in addition to
+    /// the engine's own cautions on the result).
+    pub fn site_cautions(&self) -> Vec<Caution> {
+        self.calc
+            .current_request()
+            .map(|r| sites::limit_cautions(&r, &self.site_limits(), self.lang()))
+            .unwrap_or_default()
+    }
+
+    /// Fills the open calculator's empty inputs from the site: on the first visit to a
+    /// calculator variant the site's delivered product is chosen, then its strength, SG and
+    /// metering-pump capacity and the plant's typical flow fill fields the operator left empty.
+    pub fn prefill_from_site(&mut self) {
+        let (kind, mode) = (self.calc.kind(), self.calc.mode());
+        if !self.preselected.contains(&(kind, mode)) {
+            self.preselected.push((kind, mode));
+            let offered = self.calc.engine().products(kind, mode);
+            if let Some(i) = offered
+                .iter()
+                .position(|p| self.site().delivered_of(&p.id).is_some())
+            {
+                self.calc.set_product(i);
+            }
+        }
+        let view = self.calc.view();
+        let product = view.products.get(view.product_index).map(|p| p.id.clone());
+        let values = sites::site_values(
+            self.site(),
+            self.catalog.as_ref(),
+            product.as_deref(),
+            self.units(),
+        );
+        let lang = self.lang();
+        self.prefill.apply(&mut self.calc, &values, lang);
+    }
+
+    /// Preferences only (never a dose record); a failed write just loses the preference. The
+    /// profiles go first, so an interrupted save never leaves settings without sites.
     fn save(&self) {
         if let Some(dir) = &self.data_dir
-            && std::fs::create_dir_all(dir).is_ok()
+            && sites::save(dir, &self.settings.sites).is_ok()
             && let Ok(text) = serde_json::to_string_pretty(&self.settings)
         {
             let _ = std::fs::write(dir.join("settings.json"), text);
@@ -898,6 +1100,7 @@ mod tests {
     use super::*;
     use crate::app::dose_log::MemoryLog;
     use crate::app::seams::{CalcOutcome, CalcRequest, Unconnected};
+    use crate::app::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
 
     struct DoseEcho;
     impl CalcEngine for DoseEcho {
@@ -960,7 +1163,7 @@ mod tests {
         let entries = s.entries();
         assert_eq!(entries.len(), 2);
         assert_eq!(entries[0].id, id);
-        assert_eq!(entries[0].data.point, "Raw water");
+        assert_eq!(entries[0].data.point, "Raw water tap at screen house");
         let flow = entries[0]
             .data
             .flow_m3_per_day
@@ -1019,7 +1222,7 @@ mod tests {
         s.pick_point(1);
         fill_feed(&mut s, "2");
         s.log_current_dose().unwrap();
-        s.log_filter.text = "clearW".into();
+        s.log_filter.text = "SETTLED".into();
         let rows = s.filtered_entries();
         assert_eq!(rows.len(), 1);
         assert_eq!(rows[0].data.dose_mg_per_l, 2.0);
@@ -1189,17 +1392,461 @@ mod tests {
     #[test]
     fn site_profile_edits() {
         let mut s = state(Rc::new(Unconnected));
-        s.add_point("Filter effluent");
-        s.add_point("Filter effluent");
-        assert_eq!(s.site().points.len(), 3);
-        s.pick_point(2);
-        s.remove_point(2);
-        assert_eq!(s.point(), Some("Clearwell"));
-        s.rename_site("  East wells ");
+        let taps = s.taps().len();
+        assert!(s.add_point("Filter effluent"));
+        assert_eq!(s.point(), Some("Filter effluent"), "a new tap is chosen");
+        assert!(!s.add_point("Filter effluent"));
+        assert_eq!(problem_key(&s), Some("site-tap-exists".into()));
+        assert_eq!(s.taps().len(), taps + 1);
+        assert!(s.rename_point(taps, "Filter 2 effluent"));
+        assert_eq!(s.point(), Some("Filter 2 effluent"));
+        s.remove_point(taps);
+        assert_eq!(s.taps().len(), taps);
+        assert!(s.point().is_some());
+        assert!(!s.rename_site("   "));
+        assert_eq!(problem_key(&s), Some("site-need-name".into()));
+        assert!(s.rename_site("  East wells "));
         assert_eq!(s.site().name, "East wells");
-        s.add_site("River intake");
+        assert!(s.add_site("River intake"));
         assert_eq!(s.site().name, "River intake");
         assert_eq!(s.point(), None);
+        s.reset_to_demo();
+        assert!(s.site().name.contains("Harrowmere"));
+        assert_eq!(s.settings.sites.len(), 2);
+    }
+
+    fn problem_key(s: &AppState) -> Option<String> {
+        match &s.site_problem {
+            Some(SiteProblem::Note(n)) => Some(n.key.clone()),
+            Some(SiteProblem::Engine(e)) => Some(format!("engine:{}", e.kind().code())),
+            None => None,
+        }
+    }
+
+    fn temp_dir(name: &str) -> PathBuf {
+        let dir = std::env::temp_dir().join(format!("molefeed-{name}-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        dir
+    }
+
+    fn open(dir: &std::path::Path, engine: Rc<dyn CalcEngine>) -> AppState {
+        AppState::new(
+            engine,
+            Box::new(MemoryLog::default()),
+            Some(dir.to_path_buf()),
+            None,
+        )
+    }
+
+    #[test]
+    fn a_fresh_data_dir_opens_on_the_demo_site_and_keeps_edits() {
+        let dir = temp_dir("fresh-site");
+        let mut s = open(&dir, Rc::new(Unconnected));
+        assert!(s.site().name.contains("Harrowmere"), "{}", s.site().name);
+        assert_eq!(s.point(), Some("Raw water tap at screen house"));
+        assert!(!s.site().pumps.is_empty() && !s.site().products.is_empty());
+        assert!(s.add_point("Backwash return"));
+        drop(s);
+        let s = open(&dir, Rc::new(Unconnected));
+        assert_eq!(s.point(), Some("Backwash return"));
+        assert!(dir.join("sites.json").exists());
+        let settings = std::fs::read_to_string(dir.join("settings.json")).unwrap();
+        assert!(
+            !settings.contains("sites"),
+            "profiles kept out of settings: {settings}"
+        );
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn old_settings_sites_become_profiles_with_sampling_taps() {
+        let dir = temp_dir("migrate");
+        std::fs::create_dir_all(&dir).unwrap();
+        std::fs::write(
+            dir.join("settings.json"),
+            r#"{"lang":"es","us_units":false,"high_contrast":false,
+               "sites":[{"name":"Planta Sur","points":["Agua cruda","Depósito"]},
+                        {"name":" ","points":["Pozo 1","Pozo 1"]}],
+               "site_index":0,"point_index":1}"#,
+        )
+        .unwrap();
+        let s = open(&dir, Rc::new(Unconnected));
+        assert_eq!(s.lang(), Lang::Es);
+        assert_eq!(s.settings.sites.len(), 2);
+        assert_eq!(s.site().name, "Planta Sur");
+        assert_eq!(s.taps(), vec!["Agua cruda", "Depósito"]);
+        assert_eq!(s.point(), Some("Depósito"));
+        let ids: Vec<_> = s.site().sampling_taps.iter().map(|t| &t.id).collect();
+        assert_eq!(ids, ["tap-1", "tap-2"]);
+        assert_eq!(s.settings.sites[1].name, "Site");
+        assert_eq!(
+            s.settings.sites[1].sampling_taps.len(),
+            1,
+            "duplicate tap kept once"
+        );
+        let catalog = Catalog::builtin().unwrap();
+        for site in &s.settings.sites {
+            site.validate(&catalog).expect("migrated profile is valid");
+        }
+        // Migrated once: the profiles are in sites.json and survive the next start.
+        assert!(dir.join("sites.json").exists());
+        drop(s);
+        let s = open(&dir, Rc::new(Unconnected));
+        assert_eq!(s.taps(), vec!["Agua cruda", "Depósito"]);
+        // A damaged sites.json is kept aside, and the app still opens.
+        std::fs::write(dir.join("sites.json"), "{ not json").unwrap();
+        let s = open(&dir, Rc::new(Unconnected));
+        assert!(!s.settings.sites.is_empty());
+        assert!(dir.join("sites.json.unreadable").exists());
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    fn texts(s: &AppState) -> Vec<(&'static str, String)> {
+        [
+            "flow",
+            "strength",
+            "specific-gravity",
+            "pump-capacity",
+            "dose",
+        ]
+        .into_iter()
+        .map(|n| (n, s.calc.text(n).to_string()))
+        .collect()
+    }
+
+    fn expect(s: &AppState, want: &[(&'static str, &str)]) {
+        let got = texts(s);
+        for (name, text) in want {
+            let have = &got.iter().find(|(n, _)| n == name).unwrap().1;
+            assert_eq!(have, text, "field {name}: {got:?}");
+        }
+    }
+
+    #[test]
+    fn calculators_start_from_the_site_but_keep_what_was_typed() {
+        let mut s = state(crate::app::seams::connected_engine());
+        s.calc.edit("specific-gravity", "1.2");
+        s.open_calculator(CalcKind::FeedSetting);
+        let view = s.calc.view();
+        assert_eq!(
+            view.products[view.product_index].id, "sodium-hypochlorite",
+            "the delivered product is preselected"
+        );
+        // Hypochlorite as delivered: 12.5 % trade, pump A 10 gph; the demo's typical 2.4 MGD.
+        expect(
+            &s,
+            &[
+                ("flow", "2.4"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.2"),
+                ("pump-capacity", "10"),
+                ("dose", ""),
+            ],
+        );
+        // Another product: the app's own numbers follow it, the typed SG stays; the alum pump is
+        // peristaltic, so the capacity the app filled is cleared rather than left at 10 gph.
+        let alum = view.products.iter().position(|p| p.id == "alum-liquid");
+        if let Some(i) = alum {
+            s.calc.set_product(i);
+            s.prefill_from_site();
+            expect(
+                &s,
+                &[
+                    ("strength", "8.2"),
+                    ("specific-gravity", "1.2"),
+                    ("pump-capacity", ""),
+                ],
+            );
+        }
+        // A product the site does not stock: the app's numbers go, nothing typed is touched.
+        let caustic = view
+            .products
+            .iter()
+            .position(|p| p.id == "sulfuric-acid")
+            .expect("acid is offered for feed setting");
+        s.calc.edit("flow", "1.1");
+        s.calc.set_product(caustic);
+        s.prefill_from_site();
+        expect(
+            &s,
+            &[
+                ("flow", "1.1"),
+                ("strength", ""),
+                ("specific-gravity", "1.2"),
+                ("pump-capacity", ""),
+            ],
+        );
+        // Metric units: the caustic pump's 30 L/h arrives as typed in the profile.
+        let mut s = state(crate::app::seams::connected_engine());
+        s.set_units(UnitSystem::Si);
+        s.open_calculator(CalcKind::PhControl);
+        let view = s.calc.view();
+        assert_eq!(view.products[view.product_index].id, "sodium-hydroxide");
+        expect(
+            &s,
+            &[
+                ("strength", "25"),
+                ("specific-gravity", "1.27"),
+                ("pump-capacity", "30"),
+            ],
+        );
+        let flow: f64 = s.calc.text("flow").parse().unwrap();
+        assert!((flow - 9085.0).abs() < 1.0, "2.4 MGD in m³/d: {flow}");
+    }
+
+    fn request(kind: CalcKind, mode: CalcMode, values: &[(&'static str, f64)]) -> CalcRequest {
+        CalcRequest {
+            kind,
+            mode,
+            product: None,
+            values: values.iter().copied().collect(),
+            figures: Default::default(),
+        }
+    }
+
+    #[test]
+    fn targets_outside_the_site_limits_raise_warnings_naming_the_source() {
+        let s = state(Rc::new(Unconnected));
+        let limits = s.site_limits();
+        let chlorine = limits.iter().find(|l| l.parameter == "chlorine").unwrap();
+        assert!(
+            chlorine.source.contains("Plant permit"),
+            "the permit overrides"
+        );
+        assert!(
+            limits
+                .iter()
+                .any(|l| l.parameter == "ph" && l.source.contains("CFR"))
+        );
+        let free = (CalcKind::Chlorination, CalcMode::FreeChlorine);
+        let cases: &[(CalcKind, CalcMode, &'static str, f64, Option<&str>)] = &[
+            (free.0, free.1, "residual-target", 1.5, None),
+            (
+                free.0,
+                free.1,
+                "residual-target",
+                4.5,
+                Some("caution-site-limit-above"),
+            ),
+            (
+                free.0,
+                free.1,
+                "residual-target",
+                0.1,
+                Some("caution-site-limit-below"),
+            ),
+            (
+                CalcKind::PhControl,
+                CalcMode::Standard,
+                "ph-target",
+                7.4,
+                None,
+            ),
+            (
+                CalcKind::PhControl,
+                CalcMode::Standard,
+                "ph-target",
+                9.0,
+                Some("caution-site-limit-above"),
+            ),
+            (
+                CalcKind::PhControl,
+                CalcMode::Standard,
+                "ph-target",
+                6.0,
+                Some("caution-site-limit-below"),
+            ),
+            (
+                CalcKind::Chlorination,
+                CalcMode::Chloramine,
+                "chlorine-dose",
+                5.0,
+                Some("caution-site-limit-above"),
+            ),
+            (
+                CalcKind::FeedSetting,
+                CalcMode::Standard,
+                "dose",
+                50.0,
+                None,
+            ),
+        ];
+        for (kind, mode, field, value, want) in cases {
+            let got = sites::limit_cautions(
+                &request(*kind, *mode, &[(field, *value)]),
+                &limits,
+                Lang::En,
+            );
+            match want {
+                None => assert!(got.is_empty(), "{field} {value}: {got:?}"),
+                Some(code) => {
+                    assert_eq!(got.len(), 1, "{field} {value}: {got:?}");
+                    assert_eq!(got[0].code, *code);
+                    assert_eq!(got[0].level, crate::app::seams::CautionLevel::Warning);
+                    let source = &got[0].params.iter().find(|(k, _)| k == "source").unwrap().1;
+                    assert!(!source.is_empty());
+                    assert!(
+                        got[0]
+                            .params
+                            .contains(&("field".into(), format!("field-{field}")))
+                    );
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn site_cautions_follow_the_typed_target() {
+        let mut s = state(Rc::new(Unconnected));
+        s.calc.set_kind(CalcKind::Chlorination);
+        for (n, t) in [
+            ("flow", "1"),
+            ("chlorine-demand", "1"),
+            ("residual-target", "5"),
+            ("strength", "12.5"),
+            ("specific-gravity", "1.2"),
+            ("pump-capacity", "10"),
+        ] {
+            s.calc.edit(n, t);
+        }
+        let c = s.site_cautions();
+        assert_eq!(c.len(), 1, "{c:?}");
+        assert!(c[0].message.contains("Plant permit"), "{}", c[0].message);
+        s.calc.edit("residual-target", "2");
+        assert!(s.site_cautions().is_empty());
+    }
+
+    #[test]
+    fn editor_problems_are_reported_in_words_and_nothing_invalid_is_kept() {
+        let mut s = state(Rc::new(Unconnected));
+        let before = s.site().clone();
+        let hypo = |strength: &str, sg: &str| ProductForm {
+            product: "sodium-hypochlorite".into(),
+            strength: strength.into(),
+            basis: Some(crate::engine::dosing::catalog::StrengthBasis::Trade),
+            sg: sg.into(),
+            certificate: "COA 1".into(),
+        };
+        type Edit = Box<dyn Fn(&mut AppState) -> bool>;
+        let cases: Vec<(&str, Edit, &str)> = vec![
+            (
+                "SG 5",
+                Box::new(move |s| s.save_product(&hypo("12.5", "5"))),
+                "engine:out-of-range",
+            ),
+            (
+                "SG with a comma in English",
+                Box::new(move |s| s.save_product(&hypo("12.5", "1,2"))),
+                "site-number-problem",
+            ),
+            (
+                "no strength",
+                Box::new(move |s| s.save_product(&hypo("", "1.2"))),
+                "site-number-missing",
+            ),
+            (
+                "no SG for a liquid",
+                Box::new(move |s| s.save_product(&hypo("12.5", ""))),
+                "engine:invalid-input",
+            ),
+            (
+                "product a pump feeds",
+                Box::new(|s| s.remove_product(0)),
+                "site-product-in-use",
+            ),
+            (
+                "metering pump on lime",
+                Box::new(|s| {
+                    let lime = s
+                        .site()
+                        .products
+                        .iter()
+                        .position(|d| d.product == "hydrated-lime");
+                    s.save_pump(&PumpForm {
+                        name: "Lime pump".into(),
+                        product: lime,
+                        capacity: "5".into(),
+                        unit: None,
+                    })
+                }),
+                "site-pump-needs-liquid",
+            ),
+            (
+                "metering settings on the hose pump",
+                Box::new(|s| {
+                    s.save_pump(&PumpForm {
+                        name: "Alum peristaltic pump".into(),
+                        product: Some(1),
+                        capacity: "5".into(),
+                        unit: None,
+                    })
+                }),
+                "site-pump-not-metering",
+            ),
+            (
+                "reversed limit",
+                Box::new(|s| {
+                    s.save_limit(&LimitForm {
+                        parameter: "ph".into(),
+                        min: "8".into(),
+                        max: "7".into(),
+                        unit: String::new(),
+                        source: "Permit".into(),
+                    })
+                }),
+                "site-limit-reversed",
+            ),
+            (
+                "limit without a source",
+                Box::new(|s| {
+                    s.save_limit(&LimitForm {
+                        parameter: "ph".into(),
+                        max: "8".into(),
+                        ..LimitForm::default()
+                    })
+                }),
+                "site-need-source",
+            ),
+        ];
+        for (what, edit, want) in cases {
+            assert!(!edit(&mut s), "{what} was accepted");
+            assert_eq!(problem_key(&s).as_deref(), Some(want), "{what}");
+            assert_eq!(s.site(), &before, "{what} changed the profile");
+        }
+        // The same edits, well formed, go through; Spanish takes a decimal comma.
+        s.set_lang(Lang::Es);
+        assert!(s.save_product(&hypo("15", "1,21")));
+        let d = s.site().delivered_of("sodium-hypochlorite").unwrap();
+        assert_eq!((d.strength, d.sg), (15.0, Some(1.21)));
+        assert_eq!(
+            s.site().products.len(),
+            before.products.len(),
+            "replaced, not added"
+        );
+        assert!(s.save_limit(&LimitForm {
+            parameter: "pH".into(),
+            min: "6,8".into(),
+            max: "8,2".into(),
+            unit: String::new(),
+            source: "Permiso".into(),
+        }));
+        let ph = s
+            .site_limits()
+            .into_iter()
+            .find(|l| l.parameter == "ph")
+            .unwrap();
+        assert_eq!(
+            (ph.min, ph.max, ph.source.as_str()),
+            (Some(6.8), Some(8.2), "Permiso")
+        );
+        assert!(s.save_pump(&PumpForm {
+            name: "Hypo pump B".into(),
+            product: Some(0),
+            capacity: "4".into(),
+            unit: Some(crate::engine::dosing::units::VolumeRateUnit::Lph),
+        }));
+        assert!(s.site_saved);
+        s.site().validate(s.catalog().unwrap()).unwrap();
     }
 
     #[test]

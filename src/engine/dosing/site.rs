@@ -8,7 +8,7 @@
 
 use super::catalog::{Catalog, Form, Strength, StrengthBasis, check_sg, check_strength};
 use super::feed::{PumpKind, UsableRange};
-use super::units::{FlowUnit, LengthUnit, UnitSystem, VolumeUnit};
+use super::units::{Flow, FlowUnit, LengthUnit, UnitSystem, VolumeUnit};
 use crate::engine::sigfig::{Measured, count_sig_figs};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::{Deserialize, Serialize};
@@ -114,6 +114,22 @@ pub struct Limit {
     pub source: String,
 }
 
+/// The plant's usual flow (design or typical), so a calculator can start from it; the flow the
+/// operator reads off the meter always replaces it.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+pub struct TypicalFlow {
+    pub value: f64,
+    pub unit: FlowUnit,
+}
+
+impl TypicalFlow {
+    /// The flow in m³/d, through the exact unit definitions (rejects a non-positive flow).
+    pub fn m3_per_day(&self) -> Result<f64> {
+        let l_per_day = Flow::new(Measured::exact(self.value), self.unit).to_l_per_day()?;
+        Ok(l_per_day.value() / 1000.0)
+    }
+}
+
 /// A plant's profile.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct SiteProfile {
@@ -122,6 +138,8 @@ pub struct SiteProfile {
     pub note: Option<String>,
     #[serde(default)]
     pub units: UnitSystem,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub typical_flow: Option<TypicalFlow>,
     #[serde(default)]
     pub flow_meters: Vec<FlowMeter>,
     #[serde(default)]
@@ -273,6 +291,10 @@ impl SiteProfile {
         unique("product", self.products.iter().map(|p| p.id.as_str()))?;
         unique("pump", self.pumps.iter().map(|p| p.id.as_str()))?;
         unique("basin", self.contact_basins.iter().map(|p| p.id.as_str()))?;
+        unique("tap", self.sampling_taps.iter().map(|t| t.id.as_str()))?;
+        if let Some(flow) = &self.typical_flow {
+            flow.m3_per_day()?;
+        }
         for m in &self.flow_meters {
             check_positive("flow meter full scale", m.max, m.unit.symbol())
                 .map_err(|e| e.with("entry", &m.id))?;

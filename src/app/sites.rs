@@ -1,0 +1,561 @@
+//! The app's side of the site profiles: where they are stored, how the old settings' sites
+//! become profiles, the Settings editor's edits with validation in words, the calculator
+//! prefill, and the cautions a result raises against the plant's limits.
+//!
+//! Design choice: the profile type is the engine's [`SiteProfile`]; this module only stores,
+//! edits and reads it. Every edit is made on a copy that must pass
+//! [`SiteProfile::validate`] (after the app's own checks, which can say what is wrong in the
+//! operator's words) before it replaces the stored one, so a profile on disk is always one
+//! the engine accepts. Profiles are preferences, not dose records: they live in `sites.json`
+//! beside `settings.json`, written whole through a temporary file and a rename.
+
+use super::calc::{self, key};
+use super::numbers::{self, Lang};
+use super::seams::{CalcKind, CalcMode, CalcRequest, Caution, CautionLevel};
+use super::units::{Quantity, UnitSystem};
+use crate::engine;
+use crate::engine::dosing::catalog::{Catalog, Form, StrengthBasis};
+use crate::engine::dosing::feed::PumpKind;
+use crate::engine::dosing::site::{
+    DeliveredProduct, Limit, Pump, SamplingTap, SiteProfile, regulatory_defaults,
+};
+use crate::engine::dosing::units::VolumeRateUnit;
+use serde::{Deserialize, Serialize};
+use std::collections::HashMap;
+use std::path::Path;
+
+pub const SITES_FILE: &str = "sites.json";
+
+/// A site as the first versions of the app saved it inside `settings.json`.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct LegacySite {
+    pub name: String,
+    #[serde(default)]
+    pub points: Vec<String>,
+}
+
+#[derive(Serialize, Deserialize)]
+struct SitesFile {
+    version: u32,
+    sites: Vec<SiteProfile>,
+}
+
+/// A profile with only a name and taps, from an old `{name, points}` site.
+pub fn migrate(old: &LegacySite, units: UnitSystem) -> SiteProfile {
+    // A profile needs a name to validate; an old site saved without one still opens.
+    let name = match old.name.trim() {
+        "" => "Site",
+        name => name,
+    };
+    let mut site = empty_site(name, units);
+    for name in &old.points {
+        add_tap(&mut site, name);
+    }
+    site
+}
+
+pub fn empty_site(name: &str, units: UnitSystem) -> SiteProfile {
+    SiteProfile {
+        name: name.to_string(),
+        note: None,
+        units: match units {
+            UnitSystem::Us => engine::dosing::units::UnitSystem::Us,
+            UnitSystem::Si => engine::dosing::units::UnitSystem::Si,
+        },
+        typical_flow: None,
+        flow_meters: Vec::new(),
+        sampling_taps: Vec::new(),
+        contact_basins: Vec::new(),
+        products: Vec::new(),
+        pumps: Vec::new(),
+        pump_usable_range_percent: Default::default(),
+        day_tanks: Vec::new(),
+        limits: Vec::new(),
+    }
+}
+
+/// The embedded demo plant; a bare named site if the built-in data ever failed to load.
+pub fn demo(catalog: Option<&Catalog>) -> SiteProfile {
+    catalog
+        .and_then(|c| SiteProfile::demo(c).ok())
+        .unwrap_or_else(|| empty_site("Demo site", UnitSystem::Us))
+}
+
+/// Loads the stored profiles. Order: `sites.json`; else the old sites of `settings.json`,
+/// migrated; else the demo. An unreadable `sites.json` is kept aside (never deleted) before
+/// the app falls back, so nothing the operator entered is lost.
+pub fn load(
+    dir: Option<&Path>,
+    legacy: &[LegacySite],
+    units: UnitSystem,
+    catalog: Option<&Catalog>,
+) -> Vec<SiteProfile> {
+    if let Some(dir) = dir
+        && let Ok(text) = std::fs::read_to_string(dir.join(SITES_FILE))
+    {
+        match serde_json::from_str::<SitesFile>(&text) {
+            Ok(file) if !file.sites.is_empty() => return file.sites,
+            Ok(_) => {}
+            Err(_) => {
+                let _ = std::fs::rename(
+                    dir.join(SITES_FILE),
+                    dir.join(format!("{SITES_FILE}.unreadable")),
+                );
+            }
+        }
+    }
+    if !legacy.is_empty() {
+        return legacy.iter().map(|old| migrate(old, units)).collect();
+    }
+    vec![demo(catalog)]
+}
+
+/// Writes every profile (a preference write: temporary file, then rename over the old one).
+pub fn save(dir: &Path, sites: &[SiteProfile]) -> std::io::Result<()> {
+    std::fs::create_dir_all(dir)?;
+    let text = serde_json::to_string_pretty(&SitesFile {
+        version: 1,
+        sites: sites.to_vec(),
+    })
+    .map_err(std::io::Error::other)?;
+    let tmp = dir.join(format!("{SITES_FILE}.tmp"));
+    std::fs::write(&tmp, text)?;
+    std::fs::rename(tmp, dir.join(SITES_FILE))
+}
+
+/// An id not yet used in `taken`, from a stem (`tap-1`, `tap-2`, ...).
+fn fresh_id<'a>(stem: &str, taken: impl Iterator<Item = &'a str> + Clone) -> String {
+    (1..)
+        .map(|n| format!("{stem}-{n}"))
+        .find(|id| !taken.clone().any(|t| t == id))
+        .expect("an unused id exists")
+}
+
+/// Adds a tap; `false` when the name is blank or already there.
+pub fn add_tap(site: &mut SiteProfile, name: &str) -> bool {
+    let name = name.trim();
+    if name.is_empty() || site.sampling_taps.iter().any(|t| t.name == name) {
+        return false;
+    }
+    let id = fresh_id("tap", site.sampling_taps.iter().map(|t| t.id.as_str()));
+    site.sampling_taps.push(SamplingTap {
+        id,
+        name: name.to_string(),
+        parameters: Vec::new(),
+    });
+    true
+}
+
+/// What is wrong with an edit, for the Settings screen.
+#[derive(Clone, Debug, PartialEq)]
+pub enum SiteProblem {
+    /// The app's own check: a translation key and its arguments.
+    Note(super::state::Note),
+    /// The engine's validation refused the profile.
+    Engine(engine::Error),
+}
+
+fn note(k: &str) -> SiteProblem {
+    SiteProblem::Note(super::state::Note::new(k))
+}
+
+/// Parses a number the operator typed in `lang`; empty is `None`.
+fn number(text: &str, lang: Lang, field_key: &'static str) -> Result<Option<f64>, SiteProblem> {
+    match numbers::parse(text, lang) {
+        Ok(v) => Ok(Some(v)),
+        Err(numbers::NumberError::Empty) => Ok(None),
+        Err(e) => Err(SiteProblem::Note(
+            super::state::Note::new(key("site-number-problem"))
+                .arg("field", field_key)
+                .arg("problem", e.key()),
+        )),
+    }
+}
+
+fn required(text: &str, lang: Lang, field_key: &'static str) -> Result<f64, SiteProblem> {
+    number(text, lang, field_key)?.ok_or_else(|| {
+        SiteProblem::Note(
+            super::state::Note::new(key("site-number-missing")).arg("field", field_key),
+        )
+    })
+}
+
+/// Replaces `site` with `edited` only if the engine accepts the result.
+pub fn commit(
+    site: &mut SiteProfile,
+    edited: SiteProfile,
+    catalog: Option<&Catalog>,
+) -> Result<(), SiteProblem> {
+    if let Some(catalog) = catalog {
+        edited.validate(catalog).map_err(SiteProblem::Engine)?;
+    }
+    *site = edited;
+    Ok(())
+}
+
+/// The strength bases the Settings editor offers, in this order.
+pub const BASES: [StrengthBasis; 5] = [
+    StrengthBasis::Weight,
+    StrengthBasis::Trade,
+    StrengthBasis::AvailableChlorine,
+    StrengthBasis::AsAl2o3,
+    StrengthBasis::Purity,
+];
+
+/// Translation key of a strength basis.
+pub fn basis_key(b: StrengthBasis) -> &'static str {
+    match b {
+        StrengthBasis::Weight => key("site-basis-weight"),
+        StrengthBasis::Trade => key("site-basis-trade"),
+        StrengthBasis::AvailableChlorine => key("site-basis-available-chlorine"),
+        StrengthBasis::AsAl2o3 => key("site-basis-as-al2o3"),
+        StrengthBasis::Purity => key("site-basis-purity"),
+    }
+}
+
+/// The metering-pump capacity units the editor offers.
+pub const PUMP_UNITS: [VolumeRateUnit; 3] = [
+    VolumeRateUnit::Gph,
+    VolumeRateUnit::Lph,
+    VolumeRateUnit::MlPerMin,
+];
+
+/// A product as delivered, as typed in the editor.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct ProductForm {
+    /// Catalog id.
+    pub product: String,
+    pub strength: String,
+    pub basis: Option<StrengthBasis>,
+    pub sg: String,
+    pub certificate: String,
+}
+
+/// Adds the delivered product, or replaces the one of the same catalog product.
+pub fn save_product(
+    site: &mut SiteProfile,
+    form: &ProductForm,
+    lang: Lang,
+    catalog: Option<&Catalog>,
+) -> Result<(), SiteProblem> {
+    if form.product.is_empty() {
+        return Err(note(key("site-pick-product")));
+    }
+    let strength = required(&form.strength, lang, key("site-strength"))?;
+    let sg = number(&form.sg, lang, key("site-sg"))?;
+    let Some(basis) = form.basis else {
+        return Err(note(key("site-pick-basis")));
+    };
+    let mut edited = site.clone();
+    let id = edited
+        .delivered_of(&form.product)
+        .map(|d| d.id.clone())
+        .unwrap_or_else(|| fresh_id(&form.product, site.products.iter().map(|p| p.id.as_str())));
+    let certificate = form.certificate.trim();
+    let max_use = edited
+        .delivered_of(&form.product)
+        .and_then(|d| d.max_use_level_mg_l);
+    let entry = DeliveredProduct {
+        id: id.clone(),
+        product: form.product.clone(),
+        strength,
+        strength_basis: basis,
+        sg,
+        certificate: (!certificate.is_empty()).then(|| certificate.to_string()),
+        max_use_level_mg_l: max_use,
+    };
+    match edited.products.iter_mut().find(|p| p.id == id) {
+        Some(p) => *p = entry,
+        None => edited.products.push(entry),
+    }
+    commit(site, edited, catalog)
+}
+
+/// Removes a delivered product; refused while a pump still feeds it.
+pub fn remove_product(site: &mut SiteProfile, index: usize) -> Result<(), SiteProblem> {
+    let Some(p) = site.products.get(index) else {
+        return Ok(());
+    };
+    if let Some(pump) = site.pump_for(&p.id) {
+        return Err(SiteProblem::Note(
+            super::state::Note::new(key("site-product-in-use")).arg("pump", &pump.name),
+        ));
+    }
+    site.products.remove(index);
+    Ok(())
+}
+
+/// A metering pump as typed in the editor.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct PumpForm {
+    pub name: String,
+    /// Index into the site's delivered products.
+    pub product: Option<usize>,
+    pub capacity: String,
+    pub unit: Option<VolumeRateUnit>,
+}
+
+/// Adds a metering pump, or replaces the one with the same name.
+pub fn save_pump(
+    site: &mut SiteProfile,
+    form: &PumpForm,
+    lang: Lang,
+    catalog: Option<&Catalog>,
+) -> Result<(), SiteProblem> {
+    let name = form.name.trim();
+    if name.is_empty() {
+        return Err(note(key("site-need-name")));
+    }
+    let Some(delivered) = form.product.and_then(|i| site.products.get(i)) else {
+        return Err(note(key("site-pick-product")));
+    };
+    if let Some(c) = catalog
+        && c.product(&delivered.product).map(|p| p.form).ok() != Some(Form::Solution)
+    {
+        return Err(note(key("site-pump-needs-liquid")));
+    }
+    if site
+        .pumps
+        .iter()
+        .any(|p| p.name == name && !matches!(p.kind, PumpKind::Metering { .. }))
+    {
+        // Saving would turn a hose pump or feeder into a metering pump and lose its data.
+        return Err(note(key("site-pump-not-metering")));
+    }
+    let capacity = required(&form.capacity, lang, key("site-capacity"))?;
+    let unit = form.unit.unwrap_or(VolumeRateUnit::Gph);
+    let mut edited = site.clone();
+    let id = edited
+        .pumps
+        .iter()
+        .find(|p| p.name == name)
+        .map(|p| p.id.clone())
+        .unwrap_or_else(|| fresh_id("pump", site.pumps.iter().map(|p| p.id.as_str())));
+    let entry = Pump {
+        id: id.clone(),
+        name: name.to_string(),
+        product: delivered.id.clone(),
+        kind: PumpKind::Metering { capacity, unit },
+    };
+    match edited.pumps.iter_mut().find(|p| p.id == id) {
+        Some(p) => *p = entry,
+        None => edited.pumps.push(entry),
+    }
+    commit(site, edited, catalog)
+}
+
+/// A permit limit as typed in the editor.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct LimitForm {
+    pub parameter: String,
+    pub min: String,
+    pub max: String,
+    pub unit: String,
+    pub source: String,
+}
+
+/// Adds the plant's limit for a parameter, or replaces it.
+pub fn save_limit(
+    site: &mut SiteProfile,
+    form: &LimitForm,
+    lang: Lang,
+    catalog: Option<&Catalog>,
+) -> Result<(), SiteProblem> {
+    let parameter = form.parameter.trim().to_lowercase().replace(' ', "-");
+    if parameter.is_empty() {
+        return Err(note(key("site-need-parameter")));
+    }
+    let min = number(&form.min, lang, key("site-limit-min"))?;
+    let max = number(&form.max, lang, key("site-limit-max"))?;
+    if min.is_none() && max.is_none() {
+        return Err(note(key("site-limit-empty")));
+    }
+    if let (Some(lo), Some(hi)) = (min, max)
+        && lo > hi
+    {
+        return Err(note(key("site-limit-reversed")));
+    }
+    let source = form.source.trim();
+    if source.is_empty() {
+        return Err(note(key("site-need-source")));
+    }
+    let entry = Limit {
+        parameter: parameter.clone(),
+        min,
+        max,
+        unit: form.unit.trim().to_string(),
+        source: source.to_string(),
+    };
+    let mut edited = site.clone();
+    match edited.limits.iter_mut().find(|l| l.parameter == parameter) {
+        Some(l) => *l = entry,
+        None => edited.limits.push(entry),
+    }
+    commit(site, edited, catalog)
+}
+
+/// Every limit that applies: the plant's entries, then the regulatory defaults it did not
+/// override (each keeps its source).
+pub fn effective_limits(site: &SiteProfile) -> Vec<Limit> {
+    let mut out = site.limits.clone();
+    for d in regulatory_defaults() {
+        if !out.iter().any(|l| l.parameter == d.parameter) {
+            out.push(d);
+        }
+    }
+    out
+}
+
+/// Which limit parameter a calculator's target input is checked against.
+fn checked_inputs(kind: CalcKind, mode: CalcMode) -> &'static [(&'static str, &'static str)] {
+    match (kind, mode) {
+        (CalcKind::Chlorination, CalcMode::FreeChlorine) => &[("residual-target", "chlorine")],
+        (CalcKind::Chlorination, CalcMode::Chloramine) => &[("chlorine-dose", "chloramines")],
+        (CalcKind::PhControl, _) => &[("ph-target", "ph")],
+        _ => &[],
+    }
+}
+
+/// Cautions for targets outside the plant's limits: above a maximum or below a minimum, each
+/// naming the limit and its source. Values are compared in the limit's own terms (mg/L, pH).
+pub fn limit_cautions(request: &CalcRequest, limits: &[Limit], lang: Lang) -> Vec<Caution> {
+    let mut out = Vec::new();
+    for (field, parameter) in checked_inputs(request.kind, request.mode) {
+        let (Some(value), Some(limit)) = (
+            request.get(field),
+            limits.iter().find(|l| l.parameter == *parameter),
+        ) else {
+            continue;
+        };
+        let fmt = |v: f64| numbers::format_sig(v, 3, lang);
+        let (code, bound) = match (limit.min, limit.max) {
+            (_, Some(max)) if value > max => (key("caution-site-limit-above"), max),
+            (Some(min), _) if value < min => (key("caution-site-limit-below"), min),
+            _ => continue,
+        };
+        let field_key = format!("field-{field}");
+        out.push(Caution {
+            level: CautionLevel::Warning,
+            code: code.to_string(),
+            message: format!(
+                "{field} {} is outside the limit {} {} ({})",
+                fmt(value),
+                fmt(bound),
+                limit.unit,
+                limit.source
+            ),
+            params: vec![
+                ("field".into(), field_key),
+                ("value".into(), fmt(value)),
+                ("limit".into(), fmt(bound)),
+                ("unit".into(), limit.unit.clone()),
+                ("source".into(), limit.source.clone()),
+            ],
+        });
+    }
+    out
+}
+
+/// What the site can tell a calculator: values in the field's display unit, by field name.
+/// Strength is offered only on the basis the calculator reads it on (the catalog product's
+/// first basis), so a number on another basis is never shown as if it were comparable.
+pub fn site_values(
+    site: &SiteProfile,
+    catalog: Option<&Catalog>,
+    product: Option<&str>,
+    system: UnitSystem,
+) -> HashMap<&'static str, f64> {
+    let mut out = HashMap::new();
+    if let Some(flow) = site.typical_flow.and_then(|f| f.m3_per_day().ok()) {
+        out.insert("flow", Quantity::Flow.unit(system).from_si(flow));
+    }
+    let Some(delivered) = product.and_then(|p| site.delivered_of(p)) else {
+        return out;
+    };
+    let usual_basis = catalog
+        .and_then(|c| c.product(&delivered.product).ok())
+        .and_then(|p| p.strengths.first().map(|s| s.basis));
+    if usual_basis == Some(delivered.strength_basis) {
+        out.insert("strength", delivered.strength);
+    }
+    if let Some(sg) = delivered.sg {
+        out.insert("specific-gravity", sg);
+    }
+    if let Some(Pump {
+        kind: PumpKind::Metering { capacity, unit },
+        ..
+    }) = site.pump_for(&delivered.id)
+    {
+        let l_per_hour = capacity * unit.l_per_day() / 24.0;
+        out.insert(
+            "pump-capacity",
+            Quantity::VolumePerHour.unit(system).from_si(l_per_hour),
+        );
+    }
+    out
+}
+
+/// Remembers what the app filled in, so that it can refill its own text (another product
+/// chosen) but never what the operator typed.
+#[derive(Clone, Debug, Default)]
+pub struct Prefill {
+    filled: HashMap<&'static str, String>,
+}
+
+impl Prefill {
+    /// Fills `kind`/`mode`'s fields from `values`: a field is written when it is empty or still
+    /// holds the app's own earlier text; a field the app filled and the site no longer knows is
+    /// cleared rather than left with another product's number.
+    pub fn apply(
+        &mut self,
+        controller: &mut calc::CalcController,
+        values: &HashMap<&'static str, f64>,
+        lang: Lang,
+    ) {
+        for spec in calc::fields(controller.kind(), controller.mode()) {
+            let name = spec.name;
+            let current = controller.text(name).to_string();
+            let ours = self.filled.get(name).is_some_and(|t| *t == current);
+            if !(current.trim().is_empty() || ours) {
+                self.filled.remove(name);
+                continue;
+            }
+            match values.get(name) {
+                Some(v) => {
+                    let text = show(*v, lang);
+                    controller.edit(name, &text);
+                    self.filled.insert(name, text);
+                }
+                None if ours => {
+                    controller.edit(name, "");
+                    self.filled.remove(name);
+                }
+                None => {}
+            }
+        }
+    }
+
+    /// After a language or unit switch the controller rewrote every number: what it rewrote
+    /// from the app's text is still the app's.
+    pub fn follow(&mut self, controller: &calc::CalcController) {
+        for (name, text) in self.filled.iter_mut() {
+            *text = controller.text(name).to_string();
+        }
+    }
+}
+
+/// A profile number for display: up to 4 significant figures, no trailing zeros.
+pub fn show(v: f64, lang: Lang) -> String {
+    trim_zeros(&numbers::format_sig(v, 4, lang), lang)
+}
+
+/// `12.50` → `12.5`, `10.00` → `10`: a prefilled number shows the digits the profile has.
+fn trim_zeros(text: &str, lang: Lang) -> String {
+    let mark = lang.decimal_mark();
+    if !text.contains(mark) {
+        return text.to_string();
+    }
+    text.trim_end_matches('0')
+        .trim_end_matches(mark)
+        .to_string()
+}
