@@ -412,6 +412,19 @@ impl AppState {
     }
 
     /// Records the editor's outcome and saves when the edit went through.
+    /// Runs one of the editor's checked edits on the current site, with the language its
+    /// numbers are typed in and the catalog it is validated against.
+    fn edit_with(
+        &mut self,
+        section: u8,
+        edit: impl FnOnce(&mut SiteProfile, Lang, Option<&Catalog>) -> Result<(), SiteProblem>,
+    ) -> bool {
+        let lang = self.lang();
+        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
+        let outcome = edit(&mut self.settings.sites[i], lang, self.catalog.as_ref());
+        self.edited(section, outcome)
+    }
+
     fn edited(&mut self, section: u8, outcome: Result<(), SiteProblem>) -> bool {
         self.site_section = section;
         self.site_saved = outcome.is_ok();
@@ -505,15 +518,7 @@ impl AppState {
     }
 
     pub fn save_product(&mut self, form: &ProductForm) -> bool {
-        let lang = self.lang();
-        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
-        let outcome = sites::save_product(
-            &mut self.settings.sites[i],
-            form,
-            lang,
-            self.catalog.as_ref(),
-        );
-        self.edited(2, outcome)
+        self.edit_with(2, |site, lang, catalog| sites::save_product(site, form, lang, catalog))
     }
 
     pub fn remove_product(&mut self, index: usize) -> bool {
@@ -522,15 +527,7 @@ impl AppState {
     }
 
     pub fn save_pump(&mut self, form: &PumpForm) -> bool {
-        let lang = self.lang();
-        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
-        let outcome = sites::save_pump(
-            &mut self.settings.sites[i],
-            form,
-            lang,
-            self.catalog.as_ref(),
-        );
-        self.edited(3, outcome)
+        self.edit_with(3, |site, lang, catalog| sites::save_pump(site, form, lang, catalog))
     }
 
     pub fn remove_pump(&mut self, index: usize) {
@@ -541,15 +538,7 @@ impl AppState {
     }
 
     pub fn save_limit(&mut self, form: &LimitForm) -> bool {
-        let lang = self.lang();
-        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
-        let outcome = sites::save_limit(
-            &mut self.settings.sites[i],
-            form,
-            lang,
-            self.catalog.as_ref(),
-        );
-        self.edited(4, outcome)
+        self.edit_with(4, |site, lang, catalog| sites::save_limit(site, form, lang, catalog))
     }
 
     pub fn remove_limit(&mut self, index: usize) {
