@@ -518,7 +518,9 @@ impl AppState {
     }
 
     pub fn save_product(&mut self, form: &ProductForm) -> bool {
-        self.edit_with(2, |site, lang, catalog| sites::save_product(site, form, lang, catalog))
+        self.edit_with(2, |site, lang, catalog| {
+            sites::save_product(site, form, lang, catalog)
+        })
     }
 
     pub fn remove_product(&mut self, index: usize) -> bool {
@@ -527,7 +529,9 @@ impl AppState {
     }
 
     pub fn save_pump(&mut self, form: &PumpForm) -> bool {
-        self.edit_with(3, |site, lang, catalog| sites::save_pump(site, form, lang, catalog))
+        self.edit_with(3, |site, lang, catalog| {
+            sites::save_pump(site, form, lang, catalog)
+        })
     }
 
     pub fn remove_pump(&mut self, index: usize) {
@@ -538,7 +542,9 @@ impl AppState {
     }
 
     pub fn save_limit(&mut self, form: &LimitForm) -> bool {
-        self.edit_with(4, |site, lang, catalog| sites::save_limit(site, form, lang, catalog))
+        self.edit_with(4, |site, lang, catalog| {
+            sites::save_limit(site, form, lang, catalog)
+        })
     }
 
     pub fn remove_limit(&mut self, index: usize) {

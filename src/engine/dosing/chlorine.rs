@@ -53,14 +53,7 @@ fn mass_ratio_step(
         },
         s_from,
     )?;
-    trace.then(
-        Quantity::of(mol, "mmol/L", to),
-        Quantity::of(1.0, "mmol/L", from),
-        Origin::MoleRatio {
-            reaction: r.to_string(),
-        },
-        None,
-    )?;
+    trace.then_mole_ratio(&r, from, to, "mmol/L")?;
     trace.then(
         Quantity::of(m_to, "mg/L", to),
         Quantity::of(1.0, "mmol/L", to),
@@ -92,33 +85,12 @@ pub fn chlorine_per_ammonia_n(catalog: &Catalog, reaction: &str) -> Result<(f64,
         },
         None,
     )?;
-    let r = catalog.reaction(reaction)?;
-    let hocl_per_nh3 = r.mole_ratio("NH3", "HOCl")?;
-    t.then(
-        Quantity::of(
-            *hocl_per_nh3.numer() as f64 / *hocl_per_nh3.denom() as f64,
-            "mmol/L",
-            "HOCl",
-        ),
-        Quantity::of(1.0, "mmol/L", "NH3"),
-        Origin::MoleRatio {
-            reaction: r.to_string(),
-        },
-        None,
-    )?;
-    let h = catalog.reaction("chlorine-hydrolysis")?;
-    let cl2_per_hocl = h.mole_ratio("HOCl", "Cl2")?;
-    t.then(
-        Quantity::of(
-            *cl2_per_hocl.numer() as f64 / *cl2_per_hocl.denom() as f64,
-            "mmol/L",
-            "Cl2",
-        ),
-        Quantity::of(1.0, "mmol/L", "HOCl"),
-        Origin::MoleRatio {
-            reaction: h.to_string(),
-        },
-        None,
+    t.then_mole_ratio(&catalog.reaction(reaction)?, "NH3", "HOCl", "mmol/L")?;
+    t.then_mole_ratio(
+        &catalog.reaction("chlorine-hydrolysis")?,
+        "HOCl",
+        "Cl2",
+        "mmol/L",
     )?;
     let (m_cl2, s_cl2) = molar_mass("Cl2")?;
     t.then(
