@@ -444,3 +444,63 @@ fn merge_through_the_cli_is_idempotent() {
     assert_eq!(log.record_count(), 4);
     remove(&dir);
 }
+
+#[test]
+fn csv_defuses_text_a_spreadsheet_would_run_and_json_lines_keeps_it() {
+    let dir = fresh_dir("csv-formula");
+    let path = dir.join("site.doselog");
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    for (n, note) in [
+        "=HYPERLINK(\"http://x\",\"y\")",
+        "-0.2 after the fix",
+        "fine",
+    ]
+    .iter()
+    .enumerate()
+    {
+        let at = format!("2026-05-{:02}T09:00:00+00:00", n + 1);
+        log.append(draft(note, &at, "=tap")).unwrap();
+    }
+    drop(log);
+    let export = |format: &str| {
+        let out = molefeed(
+            &[
+                "log",
+                "export",
+                "--file",
+                path.to_str().unwrap(),
+                "--format",
+                format,
+            ],
+            "",
+        );
+        assert!(out.status.success(), "{}", text(&out.stderr));
+        out.stdout
+    };
+    let csv = export("csv");
+    let mut reader = csv::Reader::from_reader(csv.as_slice());
+    let column = |name: &str| export::CSV_COLUMNS.iter().position(|c| *c == name).unwrap();
+    let notes: Vec<(String, String)> = reader
+        .records()
+        .map(|r| {
+            let r = r.unwrap();
+            (r[column("note")].to_string(), r[column("tap")].to_string())
+        })
+        .collect();
+    assert_eq!(
+        notes,
+        [
+            (
+                "'=HYPERLINK(\"http://x\",\"y\")".to_string(),
+                "'=tap".to_string()
+            ),
+            ("'-0.2 after the fix".to_string(), "'=tap".to_string()),
+            ("fine".to_string(), "'=tap".to_string()),
+        ]
+    );
+    let jsonl = export("jsonl");
+    let first: serde_json::Value =
+        serde_json::from_str(text(&jsonl).lines().next().unwrap()).unwrap();
+    assert_eq!(first["dose"]["note"], "=HYPERLINK(\"http://x\",\"y\")");
+    let _ = std::fs::remove_dir_all(&dir);
+}

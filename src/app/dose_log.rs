@@ -384,7 +384,11 @@ impl DoseLog for MemoryLog {
                         d.dose_mg_per_l.to_string(),
                         d.note.clone(),
                     ];
-                    let quoted: Vec<String> = cells.iter().map(|c| csv_cell(c)).collect();
+                    // The log's own CSV rule: RFC 4180 quoting, formulas defused.
+                    let quoted: Vec<String> = cells
+                        .iter()
+                        .map(|c| crate::log::export::csv_text(c))
+                        .collect();
                     text.push_str(&quoted.join(","));
                 }
             }
@@ -439,15 +443,6 @@ impl DoseLog for MemoryLog {
             ));
         }
         Ok(report)
-    }
-}
-
-/// RFC 4180: quote a cell with a comma, quote or line break, doubling its quotes.
-fn csv_cell(cell: &str) -> String {
-    if cell.contains([',', '"', '\n', '\r']) || cell.trim() != cell {
-        format!("\"{}\"", cell.replace('"', "\"\""))
-    } else {
-        cell.to_string()
     }
 }
 

@@ -44,6 +44,24 @@ fn write_error(e: std::io::Error) -> Error {
     Error::io("writing the export to", std::path::Path::new("output"), &e)
 }
 
+/// Characters a spreadsheet takes as the start of a formula when a cell begins with them.
+const FORMULA_STARTS: [char; 6] = ['=', '+', '-', '@', '\t', '\r'];
+
+/// A text cell as written to CSV: one a spreadsheet would run as a formula (a note such as
+/// `=HYPERLINK(…)` typed on a shared tablet) gets a leading apostrophe, the usual defence
+/// (OWASP, "CSV Injection"), so the monthly report opens as text; then quoted if a CSV reader
+/// would otherwise misread it. Numbers are written by `plain` and never changed. The JSON Lines
+/// export keeps every text exactly.
+pub fn csv_text(field: &str) -> String {
+    let mut out = String::with_capacity(field.len() + 3);
+    if field.starts_with(FORMULA_STARTS) {
+        push_field(&mut out, &format!("'{field}"));
+    } else {
+        push_field(&mut out, field);
+    }
+    out
+}
+
 /// Appends `field` to `line`, quoted if a CSV reader would otherwise misread it.
 fn push_field(line: &mut String, field: &str) {
     let needs_quotes =
@@ -163,7 +181,11 @@ impl CsvRow {
 
     fn text(&mut self, field: &str) {
         self.separate();
-        push_field(&mut self.line, field);
+        if field.starts_with(FORMULA_STARTS) {
+            self.line.push_str(&csv_text(field));
+        } else {
+            push_field(&mut self.line, field);
+        }
     }
 
     /// A field assembled by `fill` in the scratch buffer, then quoted as needed.
@@ -298,6 +320,22 @@ mod tests {
         ];
         for (input, expected) in cases {
             assert_eq!(quoted(input), expected, "{input:?}");
+        }
+    }
+
+    #[test]
+    fn text_a_spreadsheet_would_run_is_defused() {
+        let cases = [
+            ("=SUM(A1:A9)", "'=SUM(A1:A9)"),
+            ("+1 mg/L", "'+1 mg/L"),
+            ("-0.2 after the fix", "'-0.2 after the fix"),
+            ("@user", "'@user"),
+            ("=1,2", "\"'=1,2\""),
+            ("a = b", "a = b"),
+            ("plain", "plain"),
+        ];
+        for (input, expected) in cases {
+            assert_eq!(csv_text(input), expected, "{input:?}");
         }
     }
 
