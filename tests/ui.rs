@@ -697,3 +697,37 @@ fn the_calculator_starts_from_the_site_and_warns_against_its_permit() {
         0
     );
 }
+
+#[test]
+fn ammonia_may_stay_empty_and_when_typed_adds_the_breakpoint_dose() {
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-chlorination"));
+    for (key, text) in [
+        ("field-flow", "2.40"),
+        ("field-chlorine-demand", "1.20"),
+        ("field-residual-target", "1.00"),
+        ("field-strength", "12.5"),
+        ("field-specific-gravity", "1.165"),
+        ("field-pump-capacity", "10.0"),
+    ] {
+        type_into(&app, &en(key), text);
+    }
+    let before = ready(&handle);
+    assert_eq!(count(&app, &en("result-breakpoint-dose")), 0);
+    type_into(&app, &en("field-ammonia-n"), "0.40");
+    let after = ready(&handle);
+    let shown = one(&app, &en("result-breakpoint-dose"))
+        .accessible_value()
+        .unwrap();
+    assert_eq!(
+        shown,
+        after
+            .extras
+            .iter()
+            .find(|e| e.key == "breakpoint-dose")
+            .unwrap()
+            .value
+    );
+    assert!(after.outcome.dose_mg_per_l > before.outcome.dose_mg_per_l);
+}

@@ -51,6 +51,7 @@ result-dose = Dose
 result-feed = Feed mass per day
 result-product = Product volume rate
 result-pump = Pump setting
+result-breakpoint-dose = Of which to reach breakpoint
 result-ph-after = pH reached
 result-alkalinity-after = Alkalinity after
 result-alkalinity-consumed = Alkalinity consumed
@@ -133,6 +134,7 @@ field-alkalinity-setpoint = Alkalinity to keep after coagulation
 field-excess-lime = Excess lime (as CaO)
 field-lime-purity = Lime purity
 field-soda-ash-purity = Soda ash purity
+field-ammonia-n = Ammonia-N in the water (leave empty if none)
 
 ## Units
 unit-m3-per-day = m³/d

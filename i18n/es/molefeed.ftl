@@ -51,6 +51,7 @@ result-dose = Dosis
 result-feed = Masa por día
 result-product = Caudal de producto
 result-pump = Ajuste de bomba
+result-breakpoint-dose = De ella, para llegar al punto de quiebre
 result-ph-after = pH alcanzado
 result-alkalinity-after = Alcalinidad después
 result-alkalinity-consumed = Alcalinidad consumida
@@ -133,6 +134,7 @@ field-alkalinity-setpoint = Alcalinidad a conservar tras la coagulación
 field-excess-lime = Exceso de cal (como CaO)
 field-lime-purity = Pureza de la cal
 field-soda-ash-purity = Pureza del carbonato de sodio
+field-ammonia-n = N amoniacal en el agua (dejar vacío si no hay)
 
 ## Unidades
 unit-m3-per-day = m³/d

@@ -28,10 +28,24 @@ pub const fn key(k: &'static str) -> &'static str {
 pub struct FieldSpec {
     pub name: &'static str,
     pub quantity: Quantity,
+    /// May be left empty: the engine then does without it (its label says so).
+    pub optional: bool,
 }
 
 const fn f(name: &'static str, quantity: Quantity) -> FieldSpec {
-    FieldSpec { name, quantity }
+    FieldSpec {
+        name,
+        quantity,
+        optional: false,
+    }
+}
+
+const fn optional(name: &'static str, quantity: Quantity) -> FieldSpec {
+    FieldSpec {
+        name,
+        quantity,
+        optional: true,
+    }
 }
 
 use Quantity as Q;
@@ -65,6 +79,8 @@ pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
             f("flow", Q::Flow),
             f("chlorine-demand", Q::Concentration),
             f("residual-target", Q::Concentration),
+            // Ammonia in the water: chlorine must pass breakpoint before a free residual forms.
+            optional("ammonia-n", Q::Concentration),
         ],
         (CalcKind::Coagulation, _) => vec![
             f("flow", Q::Flow),
@@ -334,7 +350,7 @@ impl CalcController {
                     None
                 }
                 Err(NumberError::Empty) => {
-                    empty = true;
+                    empty |= !spec.optional;
                     None
                 }
                 Err(e) => {
@@ -901,6 +917,34 @@ mod tests {
         c.restore(&odd);
         assert_eq!(c.text("no-such-field"), "");
         assert_eq!(c.kind(), CalcKind::PhControl);
+    }
+
+    #[test]
+    fn an_optional_field_may_stay_empty_but_not_be_wrong() {
+        let rec = Rc::new(Recorder::default());
+        let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Si);
+        c.set_kind(CalcKind::Chlorination);
+        fill(
+            &mut c,
+            &[
+                ("flow", "1000"),
+                ("chlorine-demand", "1.2"),
+                ("residual-target", "1.0"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.2"),
+                ("pump-capacity", "10"),
+            ],
+        );
+        assert!(matches!(c.view().status, Status::Ready(_)));
+        assert_eq!(rec.seen.borrow().last().unwrap().get("ammonia-n"), None);
+        c.edit("ammonia-n", "0.35");
+        assert!(matches!(c.view().status, Status::Ready(_)));
+        assert_eq!(
+            rec.seen.borrow().last().unwrap().get("ammonia-n"),
+            Some(0.35)
+        );
+        c.edit("ammonia-n", "0.3x");
+        assert_eq!(c.view().status, Status::Invalid);
     }
 
     #[test]

@@ -149,27 +149,43 @@ impl DosingEngine {
     fn free_chlorine(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
         let demand = measured(request, "chlorine-demand")?;
         let residual = measured(request, "residual-target")?;
+        let ammonia_n = request.get("ammonia-n").map(|value| Measured {
+            value,
+            sig_figs: request.figures("ammonia-n"),
+        });
         let c = chlorine_dose(
             &self.catalog,
             &ChlorineInput {
                 demand,
                 residual,
-                ammonia_n: None,
+                ammonia_n,
                 residual_limit_mg_l: None,
             },
         )?;
-        // A sum is known to the coarsest decimal place of its terms.
+        // A sum is known to the coarsest decimal place of its terms; the breakpoint term is
+        // as good as the ammonia reading it was scaled from.
+        let mut terms = vec![demand, residual];
+        if let (Some(n), Some(bp)) = (ammonia_n, c.breakpoint_mg_l) {
+            terms.push(Measured {
+                value: bp,
+                sig_figs: n.sig_figs,
+            });
+        }
         let dose = Measured {
             value: c.dose_mg_l,
-            sig_figs: sum_figures(&[demand, residual], c.dose_mg_l),
+            sig_figs: sum_figures(&terms, c.dose_mg_l),
         };
         let r = self.feed_for(request, dose)?;
-        Ok(outcome_of_feed(
-            self.name_key(request),
-            &r,
-            c.traces,
-            c.cautions,
-        ))
+        let mut out = outcome_of_feed(self.name_key(request), &r, c.traces, c.cautions);
+        out.figures = combine(out.figures, dose.sig_figs);
+        if let Some(bp) = c.breakpoint_mg_l {
+            out.extras.push(Extra {
+                key: "breakpoint-dose",
+                value: bp,
+                quantity: Q::Concentration,
+            });
+        }
+        Ok(out)
     }
 
     /// Chloramination: the ammonia (as N) for the chlorine dose and ratio (engine), then the
@@ -1221,6 +1237,37 @@ mod tests {
             engine.compute(&req).unwrap().figures.filter(|&f| f < 4),
             None,
             "exact inputs leave only the molar masses' figures"
+        );
+    }
+
+    #[test]
+    fn ammonia_in_the_water_adds_the_breakpoint_dose() {
+        let engine = DosingEngine::new().unwrap();
+        let mut req = feed_request("sodium-hypochlorite", 0.0);
+        req.kind = CalcKind::Chlorination;
+        req.mode = CalcMode::FreeChlorine;
+        req.values.remove("dose");
+        req.values.insert("chlorine-demand", 1.2);
+        req.values.insert("residual-target", 1.0);
+        let without = engine.compute(&req).unwrap();
+        assert_eq!(extra(&without, "breakpoint-dose"), None);
+        req.values.insert("ammonia-n", 0.4);
+        let with = engine.compute(&req).unwrap();
+        let ratio =
+            crate::engine::dosing::chlorine::chlorine_per_ammonia_n(&engine.catalog, "breakpoint")
+                .unwrap()
+                .0;
+        let bp = extra(&with, "breakpoint-dose").expect("breakpoint shown");
+        assert!((bp - 0.4 * ratio).abs() < 1e-12);
+        assert!((with.dose_mg_per_l.unwrap() - (2.2 + 0.4 * ratio)).abs() < 1e-9);
+        assert!(
+            with.trace
+                .contains(&TraceLine::Heading("breakpoint-dose".into()))
+        );
+        assert!(
+            with.cautions
+                .iter()
+                .any(|c| c.code == "breakpoint-practice-range")
         );
     }
 }

@@ -136,6 +136,7 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
 
 /// Further results the engine adapter reports (`result-<key>`).
 pub const EXTRA_KEYS: &[&str] = &[
+    "breakpoint-dose",
     "ph-after",
     "alkalinity-after",
     "alkalinity-consumed",
