@@ -644,10 +644,12 @@ impl AppState {
             flow_m3_per_day: self.calc.current_request().and_then(|r| r.get("flow")),
             product_l_per_hour: result.outcome.product_l_per_hour,
             trace: result.outcome.trace.iter().map(|l| l.plain()).collect(),
+            // What the card showed: the engine's cautions and the site's permit warnings.
             cautions: result
                 .outcome
                 .cautions
                 .iter()
+                .chain(self.site_cautions().iter())
                 .map(|c| c.code.clone())
                 .collect(),
             note: String::new(),
@@ -1709,6 +1711,38 @@ mod tests {
         assert!(c[0].message.contains("Plant permit"), "{}", c[0].message);
         s.calc.edit("residual-target", "2");
         assert!(s.site_cautions().is_empty());
+    }
+
+    #[test]
+    fn a_logged_dose_keeps_the_permit_warning_the_card_showed() {
+        struct Six;
+        impl CalcEngine for Six {
+            fn compute(&self, _: &CalcRequest) -> Result<CalcOutcome, SeamError> {
+                Ok(CalcOutcome {
+                    chemical: "product-sodium-hypochlorite".into(),
+                    dose_mg_per_l: Some(6.0),
+                    ..CalcOutcome::default()
+                })
+            }
+        }
+        let mut s = state(Rc::new(Six));
+        s.set_initials("AB");
+        s.calc.set_kind(CalcKind::Chlorination);
+        for (n, t) in [
+            ("flow", "1"),
+            ("chlorine-demand", "1"),
+            ("residual-target", "5"),
+            ("strength", "12.5"),
+            ("specific-gravity", "1.2"),
+            ("pump-capacity", "10"),
+        ] {
+            s.calc.edit(n, t);
+        }
+        let warned: Vec<String> = s.site_cautions().into_iter().map(|c| c.code).collect();
+        assert_eq!(warned.len(), 1);
+        s.log_current_dose().expect("logged");
+        let logged = &s.entries()[0].data.cautions;
+        assert!(logged.contains(&warned[0]), "{logged:?} lacks {warned:?}");
     }
 
     #[test]
