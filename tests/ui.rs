@@ -715,7 +715,9 @@ fn ammonia_may_stay_empty_and_when_typed_adds_the_breakpoint_dose() {
     }
     let before = ready(&handle);
     assert_eq!(count(&app, &en("result-breakpoint-dose")), 0);
-    type_into(&app, &en("field-ammonia-n"), "0.40");
+    // An optional field says so in its label.
+    let ammonia = format!("{} {}", en("field-ammonia-n"), en("field-optional"));
+    type_into(&app, &ammonia, "0.40");
     let after = ready(&handle);
     let shown = one(&app, &en("result-breakpoint-dose"))
         .accessible_value()

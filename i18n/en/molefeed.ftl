@@ -52,6 +52,8 @@ result-feed = Feed mass per day
 result-product = Product volume rate
 result-pump = Pump setting
 result-breakpoint-dose = Of which to reach breakpoint
+result-lsi-after = Langelier index after
+result-ccpp-after = Calcium carbonate precipitation potential after (+ deposits)
 result-ph-after = pH reached
 result-alkalinity-after = Alkalinity after
 result-alkalinity-consumed = Alkalinity consumed
@@ -134,7 +136,8 @@ field-alkalinity-setpoint = Alkalinity to keep after coagulation
 field-excess-lime = Excess lime (as CaO)
 field-lime-purity = Lime purity
 field-soda-ash-purity = Soda ash purity
-field-ammonia-n = Ammonia-N in the water (leave empty if none)
+field-ammonia-n = Ammonia-N in the water
+field-optional = (optional: leave empty if not measured)
 
 ## Units
 unit-m3-per-day = m³/d

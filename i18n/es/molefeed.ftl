@@ -52,6 +52,8 @@ result-feed = Masa por día
 result-product = Caudal de producto
 result-pump = Ajuste de bomba
 result-breakpoint-dose = De ella, para llegar al punto de quiebre
+result-lsi-after = Índice de Langelier después
+result-ccpp-after = Potencial de precipitación de carbonato de calcio después (+ deposita)
 result-ph-after = pH alcanzado
 result-alkalinity-after = Alcalinidad después
 result-alkalinity-consumed = Alcalinidad consumida
@@ -134,7 +136,8 @@ field-alkalinity-setpoint = Alcalinidad a conservar tras la coagulación
 field-excess-lime = Exceso de cal (como CaO)
 field-lime-purity = Pureza de la cal
 field-soda-ash-purity = Pureza del carbonato de sodio
-field-ammonia-n = N amoniacal en el agua (dejar vacío si no hay)
+field-ammonia-n = N amoniacal en el agua
+field-optional = (opcional: déjelo vacío si no se midió)
 
 ## Unidades
 unit-m3-per-day = m³/d

@@ -777,8 +777,13 @@ impl Inner {
     }
 
     fn field_row(&self, f: &FieldView) -> FieldRow {
+        let label = self.t(&format!("field-{}", f.name));
         FieldRow {
-            label: s(self.t(&format!("field-{}", f.name))),
+            label: s(if f.optional {
+                format!("{label} {}", self.t(key("field-optional")))
+            } else {
+                label
+            }),
             unit: s(self.unit(f.unit)),
             text: s(&f.text),
             error: s(f.error.map(|k| self.t(k)).unwrap_or_default()),

@@ -66,6 +66,8 @@ pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
             f("ph-target", Q::Ph),
             f("alkalinity", Q::AsCaCO3),
             f("temperature", Q::Temperature),
+            // With calcium, the card adds the Langelier index and CCPP the water leaves with.
+            optional("calcium-hardness", Q::AsCaCO3),
         ],
         (CalcKind::Chlorination, CalcMode::Chloramine) => vec![
             f("flow", Q::Flow),
@@ -141,6 +143,8 @@ pub fn all_field_names() -> Vec<&'static str> {
 #[derive(Clone, Debug, PartialEq)]
 pub struct FieldView {
     pub name: &'static str,
+    /// May stay empty (its label says so).
+    pub optional: bool,
     pub unit: Unit,
     pub text: String,
     /// Translation key of the problem with this field, if any.
@@ -360,6 +364,7 @@ impl CalcController {
             };
             views.push(FieldView {
                 name: spec.name,
+                optional: spec.optional,
                 unit,
                 text,
                 error,
@@ -442,8 +447,9 @@ impl CalcController {
             .iter()
             .map(|e| {
                 let unit = e.quantity.unit(self.system);
-                // A pH is shown to two decimals, the precision of a field meter (common practice).
-                let value = if e.quantity == Quantity::Ph {
+                // A pH (and an index made of pHs) is shown to two decimals, the precision of a
+                // field meter (common practice).
+                let value = if matches!(e.quantity, Quantity::Ph | Quantity::Index) {
                     numbers::format_fixed(e.value, 2, lang)
                 } else {
                     show(Some(e.value), unit)

@@ -43,7 +43,7 @@ use crate::engine::dosing::feed::{FeedInput, FeedResult, PumpKind, UsableRange, 
 use crate::engine::dosing::pumpcheck::{Measurement, PumpCheckInput, Tolerance, pump_check};
 use crate::engine::dosing::softening::{HardnessAnalysis, removal_from_analysis, softening};
 use crate::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
-use crate::engine::dosing::waterside::PhRange;
+use crate::engine::dosing::waterside::{PhRange, dose_effect};
 use crate::engine::dosing::{self, NamedTrace, Severity};
 use crate::engine::sigfig::{Measured, combine, sum_figures};
 use crate::engine::trace::Origin;
@@ -242,11 +242,15 @@ impl DosingEngine {
                     format!("{product} is not a pH chemical"),
                 )
             })?;
-        let state = WaterState::new(&WaterInput::new(
+        let mut input = WaterInput::new(
             value(request, "ph-raw")?,
             value(request, "temperature")?,
             value(request, "alkalinity")?,
-        ))?;
+        );
+        if let Some(calcium) = request.get("calcium-hardness") {
+            input = input.with_calcium_as_caco3(calcium);
+        }
+        let state = WaterState::new(&input)?;
         let chemical = water::Catalog::embedded()?.find(water_id)?;
         Ok((state, chemical))
     }
@@ -297,6 +301,23 @@ impl DosingEngine {
             value: d.water.alkalinity_mg_l_as_caco3,
             quantity: Q::AsCaCO3,
         });
+        // With calcium: how the treated water stands to calcium carbonate (scaling or corrosive).
+        if request.get("calcium-hardness").is_some() {
+            let (after, _) = dose_effect(&state, chemical, d.dose_mg_l, Precipitation::None)?;
+            let s = water::stability(&after)?;
+            if let Some(lsi) = s.langelier_index {
+                out.extras.push(Extra {
+                    key: "lsi-after",
+                    value: lsi,
+                    quantity: Q::Index,
+                });
+            }
+            out.extras.push(Extra {
+                key: "ccpp-after",
+                value: s.ccpp_mg_l_as_caco3,
+                quantity: Q::AsCaCO3,
+            });
+        }
         Ok(out)
     }
 
@@ -1269,5 +1290,38 @@ mod tests {
                 .iter()
                 .any(|c| c.code == "breakpoint-practice-range")
         );
+    }
+
+    #[test]
+    fn calcium_adds_the_langelier_index_and_ccpp_after_the_dose() {
+        let engine = DosingEngine::new().unwrap();
+        let mut req = request(
+            CalcKind::PhControl,
+            CalcMode::Standard,
+            "sodium-hydroxide",
+            &[
+                ("flow", 4000.0),
+                ("ph-raw", 7.0),
+                ("ph-target", 8.2),
+                ("alkalinity", 90.0),
+                ("temperature", 18.0),
+                ("strength", 25.0),
+                ("specific-gravity", 1.27),
+                ("pump-capacity", 20.0),
+            ],
+        );
+        let without = engine.compute(&req).unwrap();
+        assert_eq!(extra(&without, "lsi-after"), None);
+        req.values.insert("calcium-hardness", 120.0);
+        let with = engine.compute(&req).unwrap();
+        let state = WaterState::new(&WaterInput::new(7.0, 18.0, 90.0).with_calcium_as_caco3(120.0))
+            .unwrap();
+        let caustic = water::Catalog::embedded().unwrap().find("caustic").unwrap();
+        let d = water::dose_for_ph(&state, caustic, 8.2, Precipitation::None).unwrap();
+        let (after, _) = dose_effect(&state, caustic, d.dose_mg_l, Precipitation::None).unwrap();
+        let direct = water::stability(&after).unwrap();
+        assert_eq!(extra(&with, "lsi-after"), direct.langelier_index);
+        assert_eq!(extra(&with, "ccpp-after"), Some(direct.ccpp_mg_l_as_caco3));
+        assert_eq!(with.dose_mg_per_l, Some(d.dose_mg_l));
     }
 }

@@ -137,6 +137,8 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
 /// Further results the engine adapter reports (`result-<key>`).
 pub const EXTRA_KEYS: &[&str] = &[
     "breakpoint-dose",
+    "lsi-after",
+    "ccpp-after",
     "ph-after",
     "alkalinity-after",
     "alkalinity-consumed",

@@ -39,6 +39,8 @@ pub enum Quantity {
     Seconds,
     /// A mass ratio such as Cl₂ : N. Dimensionless.
     Ratio,
+    /// A dimensionless index such as the Langelier index, shown to two decimals.
+    Index,
 }
 
 /// The unit a value is shown in; `code()` is the translation-key stem (`unit-<code>`).
@@ -152,6 +154,7 @@ impl Quantity {
             (Quantity::Millilitres, _) => Unit::Millilitres,
             (Quantity::Seconds, _) => Unit::Seconds,
             (Quantity::Ratio, _) => Unit::Ratio,
+            (Quantity::Index, _) => Unit::NoUnit,
         }
     }
 }
