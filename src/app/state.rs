@@ -1692,20 +1692,25 @@ mod tests {
         }
     }
 
-    #[test]
-    fn site_cautions_follow_the_typed_target() {
-        let mut s = state(Rc::new(Unconnected));
+    /// Free chlorination with a residual target of `residual` mg/L (the demo permit allows 4).
+    fn fill_chlorination(s: &mut AppState, residual: &str) {
         s.calc.set_kind(CalcKind::Chlorination);
         for (n, t) in [
             ("flow", "1"),
             ("chlorine-demand", "1"),
-            ("residual-target", "5"),
+            ("residual-target", residual),
             ("strength", "12.5"),
             ("specific-gravity", "1.2"),
             ("pump-capacity", "10"),
         ] {
             s.calc.edit(n, t);
         }
+    }
+
+    #[test]
+    fn site_cautions_follow_the_typed_target() {
+        let mut s = state(Rc::new(Unconnected));
+        fill_chlorination(&mut s, "5");
         let c = s.site_cautions();
         assert_eq!(c.len(), 1, "{c:?}");
         assert!(c[0].message.contains("Plant permit"), "{}", c[0].message);
@@ -1727,17 +1732,7 @@ mod tests {
         }
         let mut s = state(Rc::new(Six));
         s.set_initials("AB");
-        s.calc.set_kind(CalcKind::Chlorination);
-        for (n, t) in [
-            ("flow", "1"),
-            ("chlorine-demand", "1"),
-            ("residual-target", "5"),
-            ("strength", "12.5"),
-            ("specific-gravity", "1.2"),
-            ("pump-capacity", "10"),
-        ] {
-            s.calc.edit(n, t);
-        }
+        fill_chlorination(&mut s, "5");
         let warned: Vec<String> = s.site_cautions().into_iter().map(|c| c.code).collect();
         assert_eq!(warned.len(), 1);
         s.log_current_dose().expect("logged");
