@@ -592,6 +592,23 @@ fn on_a_phone_the_entry_opens_full_width_with_large_targets() {
         let size = one(&app, label).size();
         assert!(size.height >= 48.0, "{label}: {size:?}");
     }
+    // The system back key closes an open entry first, then leaves the screen.
+    tap(&app, &row_label("Clearwell", "NaOCl", "1.70", ""));
+    assert_eq!(count(&app, &en("log-filter")), 0);
+    let log_screen = app.global::<Nav>().get_screen();
+    app.global::<Nav>().invoke_back();
+    assert_eq!(
+        app.global::<Nav>().get_screen(),
+        log_screen,
+        "still on the log"
+    );
+    one(&app, &en("log-filter"));
+    app.global::<Nav>().invoke_back();
+    assert_ne!(
+        app.global::<Nav>().get_screen(),
+        log_screen,
+        "back left the log"
+    );
 }
 
 #[test]

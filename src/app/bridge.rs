@@ -192,6 +192,14 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         }
     }));
     nav.on_back(on_unit(|i| {
+        // On a phone an open log entry covers the list: back closes it first, as a user of
+        // a phone expects, before it leaves the screen.
+        let window = i.window();
+        let log = window.global::<LogAdapter>();
+        if i.state.borrow().screen() == Screen::Log && log.get_compact_detail() {
+            log.set_compact_detail(false);
+            return;
+        }
         let moved = i.state.borrow_mut().back();
         if !moved && i.quit_on_root_back {
             let _ = slint::quit_event_loop();
