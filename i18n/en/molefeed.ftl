@@ -424,7 +424,6 @@ residual-above-limit = Target residual { $residual_mg_l } mg/L is above the limi
 ph-alkalinity-effect-from-water-engine = The effect on pH and alkalinity is calculated by the water-chemistry module.
 alkalinity-exhausted = The coagulant consumes { $consumed_mg_l } mg/L of alkalinity but the water has only { $raw_mg_l } mg/L: the pH will crash without added alkali.
 supplemental-alkali-needed = Add about { $mg_l } mg/L of { $alkali } (pure) to keep the alkalinity to keep.
-coagulant-ph-not-modelled = The pH after this coagulant is not calculated: the water-chemistry module has no model for it. Measure the pH after the rapid mix.
 give-water-for-ph-effect = The effect on pH is not calculated here; the pH calculators give it from the water.
 ph-outside-range = The water would leave at pH { $ph }, outside { $min }–{ $max }.
 softening-no-excess-lime = No excess lime entered: magnesium is not removed without it.

@@ -424,7 +424,6 @@ residual-above-limit = El residual objetivo de { $residual_mg_l } mg/L supera el
 ph-alkalinity-effect-from-water-engine = El efecto sobre el pH y la alcalinidad lo calcula el módulo de química del agua.
 alkalinity-exhausted = El coagulante consume { $consumed_mg_l } mg/L de alcalinidad pero el agua solo tiene { $raw_mg_l } mg/L: el pH caerá sin álcali añadido.
 supplemental-alkali-needed = Añada unos { $mg_l } mg/L de { $alkali } (puro) para conservar la alcalinidad deseada.
-coagulant-ph-not-modelled = No se calcula el pH tras este coagulante: el módulo de química del agua no tiene un modelo para él. Mida el pH después de la mezcla rápida.
 give-water-for-ph-effect = Aquí no se calcula el efecto sobre el pH; las calculadoras de pH lo dan a partir del agua.
 ph-outside-range = El agua saldría con pH { $ph }, fuera de { $min }–{ $max }.
 softening-no-excess-lime = No se indicó exceso de cal: sin él no se elimina el magnesio.

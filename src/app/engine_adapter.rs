@@ -36,8 +36,8 @@ use crate::engine::dosing::chlorine::{
     ChlorineInput, chloramination, chlorine_dose, dechlorination,
 };
 use crate::engine::dosing::coagulation::{
-    Alkali, Coagulant, CoagulationInput, SludgeInput, coagulant_chemical, coagulation,
-    coagulation_in_water, sludge,
+    Alkali, Coagulant, CoagulationInput, SludgeInput, coagulant_chemical, coagulation_in_water,
+    sludge,
 };
 use crate::engine::dosing::feed::{FeedInput, FeedResult, PumpKind, UsableRange, feed};
 use crate::engine::dosing::pumpcheck::{Measurement, PumpCheckInput, Tolerance, pump_check};
@@ -177,7 +177,6 @@ impl DosingEngine {
         };
         let r = self.feed_for(request, dose)?;
         let mut out = outcome_of_feed(self.name_key(request), &r, c.traces, c.cautions);
-        out.figures = combine(out.figures, dose.sig_figs);
         if let Some(bp) = c.breakpoint_mg_l {
             out.extras.push(Extra {
                 key: "breakpoint-dose",
@@ -271,7 +270,6 @@ impl DosingEngine {
         };
         let r = self.feed_for(request, dose)?;
         let mut out = outcome_of_feed(self.name_key(request), &r, Vec::new(), Vec::new());
-        out.figures = combine(out.figures, figures);
         out.trace.splice(
             0..0,
             [
@@ -339,8 +337,8 @@ impl DosingEngine {
 
     /// Coagulation: the jar-test dose of the chosen coagulant, its feed and pump setting; the
     /// alkalinity it consumes (balanced hydrolysis), the supplemental alkali for the residual
-    /// alkalinity to keep, the pH it leaves (water engine, metal precipitated as hydroxide, where
-    /// the engine models the coagulant) and the dry solids it makes.
+    /// alkalinity to keep, the pH it leaves (water engine, metal precipitated as hydroxide) and
+    /// the dry solids it makes.
     fn coagulation(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
         let coagulant = self.coagulant(request)?;
         let dose = measured(request, "jar-dose")?;
@@ -357,18 +355,9 @@ impl DosingEngine {
             value(request, "temperature")?,
             value(request, "alkalinity")?,
         ))?;
-        let modelled = coagulant_chemical(coagulant, dose.value).is_ok();
-        let mut c = if modelled {
-            coagulation_in_water(&self.catalog, &input, &water, PhRange::default())?
-        } else {
-            let mut c = coagulation(&self.catalog, &input)?;
-            // The pH is missing because the water engine has no model of this coagulant, not
-            // because the water was not given: say that instead.
-            c.cautions.retain(|x| x.key != "give-water-for-ph-effect");
-            c.cautions
-                .push(dosing::Caution::info("coagulant-ph-not-modelled"));
-            c
-        };
+        // Every coagulant has a water-engine chemical (PACl is built for its basicity), so the
+        // pH after it always comes from the equilibrium.
+        let mut c = coagulation_in_water(&self.catalog, &input, &water, PhRange::default())?;
         let solids = sludge(
             &self.catalog,
             &SludgeInput {
@@ -505,7 +494,6 @@ impl DosingEngine {
             soda_feed = Some(soda);
         }
         let mut out = outcome_of_feed(self.name_key(request), &lime, traces, cautions);
-        out.figures = combine(out.figures, lime_figures);
         let mut extra = |key, value, quantity| {
             out.extras.push(Extra {
                 key,
@@ -699,14 +687,16 @@ impl CalcEngine for DosingEngine {
             CalcKind::Coagulation => {
                 let coagulant = self.coagulant(request)?;
                 let dose = value(request, "jar-dose")?;
-                let (chemical, mg_l) = coagulant_chemical(coagulant, dose)?;
+                // mg/L of the engine's compound per mg/L dosed: a factor, so a zero dose
+                // cannot make it 0/0.
+                let (chemical, per_dose) = coagulant_chemical(coagulant, 1.0)?;
+                let mg_l = dose * per_dose;
                 let state = WaterState::new(&WaterInput::new(
                     value(request, "ph")?,
                     value(request, "temperature")?,
                     value(request, "alkalinity")?,
                 ))?;
                 // x stays in the coagulant as dosed: scale the engine's compound back to it.
-                let per_dose = mg_l / dose;
                 let points = water::curve(
                     &state,
                     &chemical,

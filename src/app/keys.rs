@@ -122,7 +122,6 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "ph-alkalinity-effect-from-water-engine",
     "alkalinity-exhausted",
     "supplemental-alkali-needed",
-    "coagulant-ph-not-modelled",
     "give-water-for-ph-effect",
     "ph-outside-range",
     "softening-no-excess-lime",
