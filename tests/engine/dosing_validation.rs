@@ -651,7 +651,7 @@ fn broken_site_profiles_are_typed_errors() {
 
 #[test]
 fn every_caution_key_is_documented() {
-    let notes = include_str!("../docs/dosing-notes.md");
+    let notes = include_str!("../../docs/dosing-notes.md");
     let c = catalog();
     let mut keys: Vec<String> = c
         .products
@@ -661,17 +661,17 @@ fn every_caution_key_is_documented() {
     keys.extend(c.products.iter().map(|p| p.name_key.clone()));
     // Keys emitted from code: found by scanning the engine sources for Caution constructors.
     for src in [
-        include_str!("../src/engine/dosing/feed.rs"),
-        include_str!("../src/engine/dosing/chlorine.rs"),
-        include_str!("../src/engine/dosing/coagulation.rs"),
-        include_str!("../src/engine/dosing/softening.rs"),
-        include_str!("../src/engine/dosing/pumpcheck.rs"),
-        include_str!("../src/engine/dosing/caution.rs"),
-        include_str!("../src/engine/dosing/catalog.rs"),
-        include_str!("../src/engine/dosing/site.rs"),
-        include_str!("../src/engine/dosing/waterside.rs"),
-        include_str!("../src/engine/dosing/neutralization.rs"),
-        include_str!("../src/cli/dosing.rs"),
+        include_str!("../../src/engine/dosing/feed.rs"),
+        include_str!("../../src/engine/dosing/chlorine.rs"),
+        include_str!("../../src/engine/dosing/coagulation.rs"),
+        include_str!("../../src/engine/dosing/softening.rs"),
+        include_str!("../../src/engine/dosing/pumpcheck.rs"),
+        include_str!("../../src/engine/dosing/caution.rs"),
+        include_str!("../../src/engine/dosing/catalog.rs"),
+        include_str!("../../src/engine/dosing/site.rs"),
+        include_str!("../../src/engine/dosing/waterside.rs"),
+        include_str!("../../src/engine/dosing/neutralization.rs"),
+        include_str!("../../src/cli/dosing.rs"),
     ] {
         for part in src.split("Caution::").skip(1) {
             if let Some(rest) = part.split_once("(\"") {

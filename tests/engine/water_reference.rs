@@ -13,7 +13,7 @@ use molefeed::engine::water::{
 use serde_json::Value;
 
 fn fixture() -> Value {
-    serde_json::from_str(include_str!("fixtures/water_phreeqc.json")).expect("fixture is JSON")
+    serde_json::from_str(include_str!("../fixtures/water_phreeqc.json")).expect("fixture is JSON")
 }
 
 fn num(v: &Value, key: &str) -> f64 {

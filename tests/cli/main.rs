@@ -1,0 +1,7 @@
+//! The command-line interface as a script sees it, in one test binary (see
+//! `tests/engine/main.rs` for why areas share a binary). Filter with e.g.
+//! `cargo test --test cli water_cli`.
+
+mod cli_chemistry;
+mod dosing_cli;
+mod water_cli;
