@@ -430,9 +430,24 @@ fn softening_shows_lime_and_soda_ash() {
         "—"
     );
     assert_cautions_shown(&app, &result);
-    // Calcium above total hardness: a message in words, no number.
+    // Calcium above total hardness: a message in words, with both readings, and no number.
     type_into(&app, &en("field-calcium-hardness"), "300");
     assert_eq!(count(&app, &en("result-dose")), 0);
+    assert_eq!(
+        one(&app, &en("calc-result")).accessible_value().unwrap(),
+        "Calcium hardness (300 mg/L) is more than the total hardness (265 mg/L): check both readings."
+    );
+    // The same refusal in Spanish: no English left in it.
+    tap(&app, &en("nav-settings"));
+    tap(&app, "Español");
+    let es = Texts::new(Lang::Es);
+    tap(&app, &es.get("nav-calculators"));
+    assert_eq!(
+        one(&app, &es.get("calc-result"))
+            .accessible_value()
+            .unwrap(),
+        "La dureza cálcica (300 mg/L) es mayor que la dureza total (265 mg/L): revise ambas lecturas."
+    );
 }
 
 /// A window on a log that already holds operator-entered doses (two chemicals, two taps).
@@ -653,10 +668,7 @@ fn an_impossible_specific_gravity_is_refused_in_words() {
     type_into(&app, &en("site-sg"), "5");
     tap(&app, &en("settings-save-product"));
     let message = app.global::<SettingsAdapter>().get_message().to_string();
-    assert!(
-        message.starts_with("Not saved") && message.contains("specific gravity"),
-        "{message}"
-    );
+    assert_eq!(message, "Not saved: Specific gravity 5 is outside 0.5–2.5.");
     one(&app, &message);
     let sg = handle
         .state

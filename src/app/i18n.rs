@@ -71,17 +71,44 @@ impl Texts {
         self.loader.get_args(key, map)
     }
 
-    /// An engine error in words: its kind's translation with the error's parameters, or the
-    /// engine's English message if a newer kind has no translation yet.
+    /// An engine error in words: the translation of its reason (or, without one, of its kind)
+    /// with the error's parameters; the engine's English message only if a newer error has no
+    /// translation yet. The quantity it names is translated too, and the sentence starts with a
+    /// capital unless its first word is written with one of its own (pH, TDS, Cl2).
     pub fn error(&self, e: &engine::Error) -> String {
-        let key = format!("error-{}", e.kind().code());
+        let key = match e.reason() {
+            Some(reason) => format!("error-reason-{reason}"),
+            None => format!("error-{}", e.kind().code()),
+        };
         if !self.has(&key) {
             return e.to_string();
         }
-        let mut args: Vec<(&str, String)> =
-            e.params().iter().map(|(k, v)| (*k, v.clone())).collect();
+        let mut args: Vec<(&str, String)> = e
+            .params()
+            .iter()
+            .map(|(name, value)| {
+                let value = match *name {
+                    "quantity" => self.quantity(value),
+                    // A unit follows a number with a space; an empty one leaves no gap.
+                    "unit" if !value.is_empty() => format!(" {value}"),
+                    _ => value.clone(),
+                };
+                (*name, value)
+            })
+            .collect();
         args.push(("message", e.message().to_string()));
-        self.get_args(&key, &args)
+        sentence_case(self.get_args(&key, &args))
+    }
+
+    /// A quantity name from the engine in the current language (the name itself if a newer
+    /// one has no translation).
+    fn quantity(&self, name: &str) -> String {
+        let key = super::keys::quantity_key(name);
+        if self.has(&key) {
+            self.get(&key)
+        } else {
+            name.to_string()
+        }
     }
 
     fn localize_number(&self, v: &str) -> String {
@@ -92,6 +119,19 @@ impl Texts {
             }
             _ => v.to_string(),
         }
+    }
+}
+
+/// Capitalises the first letter, unless the first word already has a capital in it.
+fn sentence_case(text: String) -> String {
+    let first_word = text.split_whitespace().next().unwrap_or("");
+    if first_word.chars().any(char::is_uppercase) {
+        return text;
+    }
+    let mut chars = text.chars();
+    match chars.next() {
+        Some(first) => first.to_uppercase().chain(chars).collect(),
+        None => text,
     }
 }
 
@@ -120,5 +160,60 @@ mod tests {
         assert!(!text.contains("outside"), "English leaked: {text}");
         let en = Texts::new(Lang::En).error(&e);
         assert!(en.contains("15.5"), "{en}");
+    }
+
+    /// One engine error in both languages, against the exact sentence.
+    fn check(error: engine::Error, english: &str, spanish: &str) {
+        assert_eq!(Texts::new(Lang::En).error(&error), english);
+        assert_eq!(Texts::new(Lang::Es).error(&error), spanish);
+    }
+
+    #[test]
+    fn reasons_and_quantities_are_said_in_the_operators_language() {
+        check(
+            engine::check_range("target pH", 15.5, 0.0, 14.0, "").unwrap_err(),
+            "Target pH 15.5 is outside 0–14.",
+            "pH objetivo 15,5 está fuera de 0–14.",
+        );
+        check(
+            engine::check_range("temperature", 61.0, 0.0, 50.0, "°C").unwrap_err(),
+            "Temperature 61 °C is outside 0–50 °C.",
+            "Temperatura 61 °C está fuera de 0–50 °C.",
+        );
+        check(
+            engine::check_positive("flow", 0.0, "m³/d").unwrap_err(),
+            "Flow must be greater than zero.",
+            "Caudal debe ser mayor que cero.",
+        );
+        check(
+            engine::check_positive("specific gravity", f64::NAN, "").unwrap_err(),
+            "Specific gravity must be a number.",
+            "Gravedad específica debe ser un número.",
+        );
+    }
+
+    #[test]
+    fn an_engine_refusal_with_a_reason_names_it_with_its_numbers() {
+        use crate::engine::dosing::softening::{self, HardnessAnalysis};
+        use crate::engine::sigfig::Measured;
+        let refused = softening::removal_from_analysis(&HardnessAnalysis {
+            total_hardness: Measured::new(150.0, 3),
+            calcium_hardness: Measured::new(180.0, 3),
+            alkalinity: Measured::new(120.0, 3),
+            co2: Measured::new(5.0, 1),
+        })
+        .unwrap_err();
+        assert_eq!(refused.reason(), Some("calcium-above-total-hardness"));
+        let es = Texts::new(Lang::Es).error(&refused);
+        assert!(es.starts_with("La dureza cálcica (180 mg/L)"), "{es}");
+        assert!(!es.contains("more than"), "English leaked: {es}");
+    }
+
+    #[test]
+    fn a_first_word_with_its_own_capitals_is_left_alone() {
+        assert_eq!(sentence_case("pH 9 is high".into()), "pH 9 is high");
+        assert_eq!(sentence_case("flow is zero".into()), "Flow is zero");
+        assert_eq!(sentence_case("ácido".into()), "Ácido");
+        assert_eq!(sentence_case(String::new()), "");
     }
 }

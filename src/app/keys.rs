@@ -201,6 +201,112 @@ pub const ORIGIN_CODES: &[&str] = &[
     "equilibrium",
 ];
 
+/// Why the engine refused an input (`error-reason-<code>`, set with `Error::because`). The
+/// source scan in the tests below finds every reason the engine or app gives, so a new one
+/// cannot reach the screen as a bare kind.
+pub const ERROR_REASONS: &[&str] = &[
+    "not-a-number",
+    "not-positive",
+    "needs-specific-gravity",
+    "basis-not-for-product",
+    "strength-above-pure",
+    "trade-strength-above-density",
+    "pump-needs-liquid",
+    "feeder-cannot-feed-product",
+    "needs-liquid-product",
+    "dilution-not-weaker",
+    "calcium-above-total-hardness",
+    "needs-basicity",
+    "alkalinity-differs-from-water",
+    "product-not-for-calculator",
+    "stability-needs-positive",
+    "site-id-used-twice",
+    "site-needs-name",
+    "pump-cannot-feed-product",
+    "tank-dimension-missing",
+    "limit-minimum-above-maximum",
+    "site-has-no-such-pump",
+    "factor-not-usable",
+];
+
+/// The quantity names the engine puts in its errors (`quantity` parameter), exactly as it
+/// writes them; each is translated through [`quantity_key`].
+pub const QUANTITY_NAMES: &[&str] = &[
+    "Cl2:NH3-N ratio",
+    "TDS",
+    "additives",
+    "alkali purity",
+    "alkalinity",
+    "alkalinity setpoint",
+    "ammonia-N",
+    "amount",
+    "baffling factor",
+    "basicity",
+    "basin volume",
+    "calcium",
+    "calcium-hardness",
+    "caught mass",
+    "check-pump threshold",
+    "chloride",
+    "chlorine demand",
+    "chlorine dose",
+    "chlorine residual",
+    "coagulant dose",
+    "conductivity",
+    "contact time",
+    "current setting",
+    "dose",
+    "drawdown volume",
+    "final volume",
+    "flow",
+    "flow meter full scale",
+    "level drop",
+    "lime purity",
+    "limit",
+    "magnesium",
+    "maximum dose",
+    "maximum speed",
+    "maximum use level",
+    "pH",
+    "points",
+    "potassium",
+    "precipitate",
+    "pump capacity",
+    "purity",
+    "soda ash purity",
+    "sodium",
+    "specific gravity",
+    "strength",
+    "sulfate",
+    "suspended solids",
+    "tank diameter",
+    "tank dimension",
+    "tank length",
+    "tank width",
+    "target dose",
+    "target pH",
+    "temperature",
+    "test time",
+    "tolerance",
+    "usable range maximum",
+    "usable range minimum",
+    "volume per revolution",
+];
+
+/// `quantity-<slug>`: the engine's name lower-cased, every run of other characters one `-`
+/// ("Cl2:NH3-N ratio" → `quantity-cl2-nh3-n-ratio`).
+pub fn quantity_key(name: &str) -> String {
+    let mut slug = String::with_capacity(name.len());
+    for c in name.chars() {
+        if c.is_ascii_alphanumeric() {
+            slug.push(c.to_ascii_lowercase());
+        } else if !slug.is_empty() && !slug.ends_with('-') {
+            slug.push('-');
+        }
+    }
+    format!("quantity-{}", slug.trim_end_matches('-'))
+}
+
 /// Keys built from codes at run time.
 pub fn dynamic_keys() -> Vec<String> {
     let mut keys = Vec::new();
@@ -227,6 +333,8 @@ pub fn dynamic_keys() -> Vec<String> {
     keys.extend(EXTRA_KEYS.iter().map(|k| format!("result-{k}")));
     keys.extend(TRACE_LABELS.iter().map(|k| format!("trace-{k}")));
     keys.extend(ORIGIN_CODES.iter().map(|k| format!("origin-{k}")));
+    keys.extend(ERROR_REASONS.iter().map(|r| format!("error-reason-{r}")));
+    keys.extend(QUANTITY_NAMES.iter().map(|q| quantity_key(q)));
     keys
 }
 
@@ -234,14 +342,11 @@ pub fn dynamic_keys() -> Vec<String> {
 mod tests {
     use super::*;
 
-    /// Every trace label the engine names (`NamedTrace::new("…")` in its sources) and every
-    /// caution key it raises is listed, so none reaches the screen untranslated.
-    #[test]
-    fn engine_labels_and_cautions_are_listed() {
-        // The engine and the app: what can reach the screen (the CLI prints keys as they are).
+    /// The Rust sources under `src/<dirs>`, keys.rs itself left out, as one text.
+    fn sources(dirs: &[&str]) -> String {
         let src = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
         let mut text = String::new();
-        let mut stack = vec![src.join("engine"), src.join("app")];
+        let mut stack: Vec<_> = dirs.iter().map(|d| src.join(d)).collect();
         while let Some(dir) = stack.pop() {
             for entry in std::fs::read_dir(dir).unwrap() {
                 let path = entry.unwrap().path();
@@ -253,16 +358,29 @@ mod tests {
                 }
             }
         }
-        let literals_after = |marker: &str| -> Vec<String> {
-            text.split(marker)
-                .skip(1)
-                .filter_map(|rest| {
-                    let rest = rest.trim_start();
-                    let rest = rest.strip_prefix('"')?;
-                    Some(rest[..rest.find('"')?].to_string())
-                })
-                .collect()
-        };
+        text
+    }
+
+    /// The string literals that directly follow `marker` in `text`.
+    fn literals_after(text: &str, marker: &str) -> Vec<String> {
+        text.split(marker)
+            .skip(1)
+            .filter_map(|rest| {
+                let rest = rest.trim_start();
+                let rest = rest.strip_prefix('"')?;
+                Some(rest[..rest.find('"')?].to_string())
+            })
+            .collect()
+    }
+
+    /// Every trace label the engine names (`NamedTrace::new("…")` in its sources), every
+    /// caution key and refusal reason it raises, and every quantity it names in an error is
+    /// listed, so none reaches the screen untranslated.
+    #[test]
+    fn engine_labels_and_cautions_are_listed() {
+        // The engine and the app: what can reach the screen (the CLI prints keys as they are).
+        let text = sources(&["engine", "app"]);
+        let literals_after = |marker: &str| literals_after(&text, marker);
         let mut missing: Vec<String> = literals_after("NamedTrace::new(")
             .into_iter()
             .filter(|label| !TRACE_LABELS.contains(&label.as_str()))
@@ -275,8 +393,48 @@ mod tests {
                     && !ENGINE_TEXT_KEYS.contains(&key.as_str())
             }));
         }
+        missing.extend(
+            literals_after(".because(")
+                .into_iter()
+                .filter(|reason| !ERROR_REASONS.contains(&reason.as_str())),
+        );
+        // Every place a quantity name enters an engine error: the range checks, the engine's
+        // own wrappers around them, and the `quantity` parameter set directly.
+        let engine_text = sources(&["engine"]);
+        let mut named = std::collections::BTreeSet::new();
+        for marker in [
+            "check_range(",
+            "check_positive(",
+            "check_chlorine(",
+            "optional(",
+            "needs(",
+            ".with(\"quantity\",",
+        ] {
+            named.extend(self::literals_after(&engine_text, marker));
+        }
+        // The scan itself must see the engine's names, or it would pass on nothing.
+        assert!(named.len() > 40, "the scan found only {named:?}");
+        missing.extend(
+            named
+                .into_iter()
+                .filter(|name| !QUANTITY_NAMES.contains(&name.as_str())),
+        );
         missing.sort();
         missing.dedup();
         assert!(missing.is_empty(), "not listed: {missing:?}");
+    }
+
+    #[test]
+    fn quantity_keys_are_kebab_case_and_distinct() {
+        let keys: std::collections::BTreeSet<String> =
+            QUANTITY_NAMES.iter().map(|q| quantity_key(q)).collect();
+        assert_eq!(keys.len(), QUANTITY_NAMES.len(), "two names share a key");
+        for (name, key) in [
+            ("Cl2:NH3-N ratio", "quantity-cl2-nh3-n-ratio"),
+            ("target pH", "quantity-target-ph"),
+            ("calcium-hardness", "quantity-calcium-hardness"),
+        ] {
+            assert_eq!(quantity_key(name), key);
+        }
     }
 }

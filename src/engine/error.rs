@@ -3,8 +3,9 @@
 //! Following ripgrep's style, [`Error`] is opaque: callers match on [`ErrorKind`] (which is
 //! `#[non_exhaustive]` so new failure modes are not breaking changes) and read the English
 //! message or the named parameters. The UI never shows the English message directly: it looks
-//! up the kind's [`ErrorKind::code`] in its translation files and fills in the parameters, so
-//! every error reaches the operator in words, in their language.
+//! up the error's reason (a stable code for a refusal the operator can meet, set with
+//! [`Error::because`]) or else its kind's [`ErrorKind::code`] in its translation files and fills
+//! in the parameters, so every error reaches the operator in words, in their language.
 
 use std::fmt;
 
@@ -67,12 +68,14 @@ impl ErrorKind {
     }
 }
 
-/// An engine failure: a kind, an English message, an optional column, and named parameters.
+/// An engine failure: a kind, an English message, an optional column, an optional reason
+/// code, and named parameters.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Error {
     kind: ErrorKind,
     message: String,
     column: Option<usize>,
+    reason: Option<&'static str>,
     params: Vec<(&'static str, String)>,
 }
 
@@ -82,8 +85,21 @@ impl Error {
             kind,
             message: message.into(),
             column: None,
+            reason: None,
             params: Vec::new(),
         }
+    }
+
+    /// Names why the input was refused, as a stable kebab-case code. A kind says what sort of
+    /// failure it is; the reason says which one, so a translation can say it precisely (for
+    /// example "calcium hardness is more than the total hardness" rather than "invalid input").
+    pub fn because(mut self, reason: &'static str) -> Error {
+        self.reason = Some(reason);
+        self
+    }
+
+    pub fn reason(&self) -> Option<&'static str> {
+        self.reason
     }
 
     /// Marks the 1-based column (in characters) of the input where the problem was found.
@@ -140,6 +156,7 @@ pub fn check_range(name: &'static str, value: f64, min: f64, max: f64, unit: &st
     if !value.is_finite() {
         return Err(
             Error::new(ErrorKind::InvalidInput, format!("{name} must be a number"))
+                .because("not-a-number")
                 .with("quantity", name),
         );
     }
@@ -162,6 +179,7 @@ pub fn check_positive(name: &'static str, value: f64, unit: &str) -> Result<f64>
     if !value.is_finite() {
         return Err(
             Error::new(ErrorKind::InvalidInput, format!("{name} must be a number"))
+                .because("not-a-number")
                 .with("quantity", name),
         );
     }
@@ -170,6 +188,7 @@ pub fn check_positive(name: &'static str, value: f64, unit: &str) -> Result<f64>
             ErrorKind::OutOfRange,
             format!("{name} must be greater than zero (got {value} {unit})"),
         )
+        .because("not-positive")
         .with("quantity", name)
         .with("value", value)
         .with("unit", unit));

@@ -158,7 +158,8 @@ impl Trace {
                     numerator.label(),
                     denominator.label()
                 ),
-            ));
+            )
+            .because("factor-not-usable"));
         }
         let value = current.value * numerator.value / denominator.value;
         let of = numerator.of.clone().or(if numerator.unit == current.unit {

@@ -413,6 +413,7 @@ pub fn check_strength(catalog: &Catalog, p: &Product, s: &Strength) -> Result<()
             ErrorKind::InvalidInput,
             format!("{} is a solution: give its specific gravity", p.id),
         )
+        .because("needs-specific-gravity")
         .with("quantity", "specific gravity"));
     }
     let wrong_basis = |why: &str| {
@@ -424,6 +425,7 @@ pub fn check_strength(catalog: &Catalog, p: &Product, s: &Strength) -> Result<()
                 p.id
             ),
         )
+        .because("basis-not-for-product")
         .with("basis", s.basis.code())
         .with("product", &p.id)
     };
@@ -449,6 +451,7 @@ pub fn check_strength(catalog: &Catalog, p: &Product, s: &Strength) -> Result<()
                         s.value.value, p.compound
                     ),
                 )
+                .because("strength-above-pure")
                 .with("quantity", "strength")
                 .with("value", s.value.value)
                 .with("max", format!("{max:.1}")));
@@ -465,6 +468,7 @@ pub fn check_strength(catalog: &Catalog, p: &Product, s: &Strength) -> Result<()
                         s.value.value
                     ),
                 )
+                .because("trade-strength-above-density")
                 .with("quantity", "strength")
                 .with("value", s.value.value));
             }
@@ -510,9 +514,10 @@ pub fn active_to_product(
                 s.value.sig_figs,
             )?;
             let litres = trace.value();
-            let sg = s
-                .sg
-                .ok_or_else(|| Error::new(ErrorKind::InvalidInput, "specific gravity missing"))?;
+            let sg = s.sg.ok_or_else(|| {
+                Error::new(ErrorKind::InvalidInput, "specific gravity missing")
+                    .because("needs-specific-gravity")
+            })?;
             Ok(ProductFeed {
                 product_kg_per_day: litres * sg.value,
                 product_l_per_day: Some(litres),

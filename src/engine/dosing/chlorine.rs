@@ -235,6 +235,7 @@ pub fn chlorine_dose_in_water(
             ErrorKind::InvalidInput,
             format!("{} is dosed as {}, not as Cl2", p.id, p.dose_as),
         )
+        .because("product-not-for-calculator")
         .with("product", &p.id));
     }
     let (effect, range_cautions, trace) =

@@ -51,6 +51,7 @@ impl Coagulant {
             "pacl" => Coagulant::Pacl {
                 basicity_percent: basicity_percent.ok_or_else(|| {
                     Error::new(ErrorKind::InvalidInput, "PACl needs its basicity in %")
+                        .because("needs-basicity")
                         .with("quantity", "basicity")
                 })?,
             },
@@ -408,6 +409,7 @@ pub fn coagulation_in_water(
                 input.raw_alkalinity.value
             ),
         )
+        .because("alkalinity-differs-from-water")
         .with("quantity", "alkalinity"));
     }
     let mut r = coagulation(catalog, input)?;

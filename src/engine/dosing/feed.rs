@@ -235,6 +235,7 @@ pub fn pump_setting(
                 ErrorKind::InvalidInput,
                 "a liquid pump needs a liquid product (give its specific gravity)",
             )
+            .because("pump-needs-liquid")
         })
     };
     let (trace, rpm) = match *kind {
@@ -394,6 +395,7 @@ pub fn feed(catalog: &Catalog, input: &FeedInput) -> Result<FeedResult> {
                         p.id, p.form
                     ),
                 )
+                .because("feeder-cannot-feed-product")
                 .with("product", &p.id));
             }
             Some(pump_setting(
@@ -469,6 +471,7 @@ pub fn grams_per_litre(catalog: &Catalog, p: &Product, s: &Strength) -> Result<T
                 p.id
             ),
         )
+        .because("needs-liquid-product")
         .with("product", &p.id));
     }
     let one = Trace::new(
@@ -477,9 +480,10 @@ pub fn grams_per_litre(catalog: &Catalog, p: &Product, s: &Strength) -> Result<T
         None,
     );
     let feed = active_to_product(catalog, p, s, one)?;
-    let litres = feed
-        .product_l_per_day
-        .ok_or_else(|| Error::new(ErrorKind::InvalidInput, "specific gravity missing"))?;
+    let litres = feed.product_l_per_day.ok_or_else(|| {
+        Error::new(ErrorKind::InvalidInput, "specific gravity missing")
+            .because("needs-specific-gravity")
+    })?;
     let mut t = Trace::new(
         Quantity::of(1000.0, "g", &p.dose_as),
         Origin::UnitDefinition,
@@ -510,6 +514,7 @@ pub fn dilution(catalog: &Catalog, input: &DilutionInput) -> Result<DilutionResu
             ErrorKind::Unreachable,
             "the target strength is not weaker than the concentrate",
         )
+        .because("dilution-not-weaker")
         .with("target_g_per_l", c2.value())
         .with("concentrate_g_per_l", c1.value()));
     }

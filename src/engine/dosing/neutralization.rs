@@ -73,6 +73,7 @@ pub fn neutralization(
                 p.id, p.dose_as, p.compound
             ),
         )
+        .because("product-not-for-calculator")
         .with("product", &p.id));
     }
     let chemical = water_chemical(&p.compound)?;

@@ -134,6 +134,7 @@ pub fn measured_rate(m: &Measurement, sg: Option<Measured>) -> Result<Trace> {
                     ErrorKind::InvalidInput,
                     "a catch test needs the product's specific gravity",
                 )
+                .because("needs-specific-gravity")
                 .with("quantity", "specific gravity")
             })?;
             t = Trace::new(
@@ -235,6 +236,7 @@ pub fn pump_check(catalog: &Catalog, input: &PumpCheckInput) -> Result<PumpCheck
                 p.id
             ),
         )
+        .because("needs-liquid-product")
     })?;
     let mut t = measured_rate(&input.measurement, strength.sg)?;
     let product_l = t.value();

@@ -245,15 +245,21 @@ pub fn regulatory_defaults() -> Vec<Limit> {
     ]
 }
 
-fn invalid(what: String, id: &str) -> Error {
-    Error::new(ErrorKind::InvalidInput, what).with("entry", id)
+fn invalid(reason: &'static str, what: String, id: &str) -> Error {
+    Error::new(ErrorKind::InvalidInput, what)
+        .because(reason)
+        .with("entry", id)
 }
 
 fn unique<'a>(kind: &str, ids: impl Iterator<Item = &'a str>) -> Result<()> {
     let mut seen: Vec<&str> = Vec::new();
     for id in ids {
         if seen.contains(&id) {
-            return Err(invalid(format!("{kind} id '{id}' is used twice"), id));
+            return Err(invalid(
+                "site-id-used-twice",
+                format!("{kind} id '{id}' is used twice"),
+                id,
+            ));
         }
         seen.push(id);
     }
@@ -285,7 +291,11 @@ impl SiteProfile {
     /// Checks references, ranges and strengths, naming the entry at fault.
     pub fn validate(&self, catalog: &Catalog) -> Result<()> {
         if self.name.trim().is_empty() {
-            return Err(invalid("the plant needs a name".into(), ""));
+            return Err(invalid(
+                "site-needs-name",
+                "the plant needs a name".into(),
+                "",
+            ));
         }
         unique("flow meter", self.flow_meters.iter().map(|m| m.id.as_str()))?;
         unique("product", self.products.iter().map(|p| p.id.as_str()))?;
@@ -335,6 +345,7 @@ impl SiteProfile {
             };
             if !fits {
                 return Err(invalid(
+                    "pump-cannot-feed-product",
                     format!("pump '{}' cannot feed '{}' ({:?})", pump.id, d.id, form),
                     &pump.id,
                 ));
@@ -348,7 +359,11 @@ impl SiteProfile {
             };
             for d in dims {
                 let v = d.ok_or_else(|| {
-                    invalid(format!("day tank '{}' is missing a dimension", t.id), &t.id)
+                    invalid(
+                        "tank-dimension-missing",
+                        format!("day tank '{}' is missing a dimension", t.id),
+                        &t.id,
+                    )
                 })?;
                 check_positive("tank dimension", v, "").map_err(|e| e.with("entry", &t.id))?;
             }
@@ -362,6 +377,7 @@ impl SiteProfile {
                 && lo > hi
             {
                 return Err(invalid(
+                    "limit-minimum-above-maximum",
                     format!("limit for {}: minimum above maximum", l.parameter),
                     &l.parameter,
                 ));
@@ -391,6 +407,7 @@ impl SiteProfile {
                 ErrorKind::InvalidInput,
                 format!("no pump '{id}' in the site profile"),
             )
+            .because("site-has-no-such-pump")
             .with("pump", id)
         })
     }

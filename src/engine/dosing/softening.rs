@@ -222,7 +222,10 @@ pub fn removal_from_analysis(a: &HardnessAnalysis) -> Result<(SofteningRemoval, 
                 a.calcium_hardness.value, a.total_hardness.value
             ),
         )
-        .with("quantity", "calcium-hardness"));
+        .because("calcium-above-total-hardness")
+        .with("quantity", "calcium-hardness")
+        .with("calcium", a.calcium_hardness.value)
+        .with("total", a.total_hardness.value));
     }
     let difference = |big: Measured, small: Measured| {
         let v = (big.value - small.value).max(0.0);

@@ -83,6 +83,7 @@ pub fn compound_for_chlorine(chemical: &Chemical, dose: Measured) -> Result<(f64
             ErrorKind::InvalidInput,
             format!("{} releases no free chlorine", chemical.id),
         )
+        .because("product-not-for-calculator")
         .with("chemical", &chemical.id));
     }
     let m_cl2 = water::chemicals::molar_mass("Cl2")?;
@@ -190,6 +191,7 @@ pub fn product_effect(
                 p.id, p.dose_as
             ),
         )
+        .because("product-not-for-calculator")
         .with("product", &p.id));
     };
     let precipitation = if chemical.is_coagulant() {

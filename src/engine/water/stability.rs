@@ -33,6 +33,7 @@ fn needs(what: &str) -> Error {
         ErrorKind::InvalidInput,
         format!("CaCO3 stability needs {what} greater than zero"),
     )
+    .because("stability-needs-positive")
     .with("quantity", what)
 }
 
