@@ -33,7 +33,7 @@ fn m(v: f64) -> Measured {
 fn breakpoint_and_monochloramine_ratios_from_balanced_reactions() {
     let c = catalog();
     let (bp, _) = chlorine::chlorine_per_ammonia_n(&c, "breakpoint").unwrap();
-    let (mono, _) = chlorine::chlorine_per_ammonia_n(&c, "monochloramine").unwrap();
+    let (mono, _) = chlorine::chlorine_per_ammonia_n(&c, "monochloramine-formation").unwrap();
     // Weiner, Applications of Environmental Aquatic Chemistry (CRC): 7.6:1 theoretical [C].
     check("breakpoint Cl2:NH3-N", bp, 7.6, 0.05);
     // 1:1 molar monochloramine = 5.06:1 Cl2:N by mass (references.md [D]; EPA 815-R-99-014).

@@ -529,6 +529,32 @@ fn day_tank_dilution() {
 }
 
 #[test]
+fn a_reaction_is_written_once_across_the_data_files() {
+    let shipped = catalog();
+    // The three the dosing calculators share with the chemistry core come from its file.
+    for id in [
+        "monochloramine-formation",
+        "ferric-chloride-bicarbonate",
+        "quicklime-slaking",
+    ] {
+        shipped.reaction(id).unwrap();
+    }
+    // The same equation under a second id, or a second entry under an id, is refused.
+    let mut repeated = shipped.clone();
+    let mut copy = repeated.reaction_entry("breakpoint").unwrap().clone();
+    copy.id = "breakpoint-again".into();
+    copy.equation = "HOCl + NH3 -> N2 + HCl + H2O".into();
+    repeated.reactions.push(copy);
+    let err = repeated.validate().unwrap_err();
+    assert_eq!(err.param("reaction"), Some("breakpoint-again"), "{err}");
+    let mut same_id = shipped.clone();
+    let mut other = same_id.reaction_entry("quicklime-slaking").unwrap().clone();
+    other.equation = "CaO + CO2 -> CaCO3".into();
+    same_id.reactions.push(other);
+    assert!(same_id.validate().is_err());
+}
+
+#[test]
 fn catalog_and_demo_site_are_valid() {
     let c = catalog();
     c.validate().unwrap();

@@ -8,7 +8,7 @@
 //! steps so the operator sees each factor with its origin.
 
 use crate::engine::formula::Formula;
-use crate::engine::reaction::Reaction;
+use crate::engine::reaction::{Reaction, Side};
 use crate::engine::sigfig::{Measured, combine, sig_figs_from_decimals};
 use crate::engine::trace::{Origin, Quantity, Trace};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
@@ -16,6 +16,9 @@ use serde::{Deserialize, Serialize};
 
 const PRODUCTS_JSON: &str = include_str!("../../../data/products.json");
 const REACTIONS_JSON: &str = include_str!("../../../data/dosing-reactions.json");
+/// The chemistry core's reactions (also the basis of equivalents): the dosing calculators use
+/// some of them too, so a reaction is written once, in one of the two files.
+const CORE_REACTIONS_JSON: &str = include_str!("../../../data/reactions.json");
 
 /// Physical form as delivered.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
@@ -210,6 +213,28 @@ impl Strength {
     }
 }
 
+/// The species of a balanced reaction with their coefficients, in an order that does not
+/// depend on how the equation was written: sorted, and taken in whichever direction sorts
+/// first, so `A + B -> C` and `C <- B + A` (or `C -> A + B`) compare equal.
+fn same_reaction_key(r: &Reaction) -> Vec<(bool, String, u64)> {
+    let side = |flip: bool| {
+        let mut key: Vec<(bool, String, u64)> = r
+            .species()
+            .iter()
+            .map(|s| {
+                (
+                    (s.side == Side::Product) != flip,
+                    s.formula.to_string(),
+                    s.coefficient,
+                )
+            })
+            .collect();
+        key.sort();
+        key
+    };
+    side(false).min(side(true))
+}
+
 /// Checks a specific gravity against the range any water-treatment liquid can have.
 pub fn check_sg(sg: f64) -> Result<f64> {
     check_range("specific gravity", sg, 0.5, 2.5, "")
@@ -228,15 +253,16 @@ impl Catalog {
     pub fn builtin() -> Result<Catalog> {
         let products: ProductsFile = serde_json::from_str(PRODUCTS_JSON)
             .map_err(|e| Error::new(ErrorKind::Syntax, format!("data/products.json: {e}")))?;
-        let reactions: ReactionsFile = serde_json::from_str(REACTIONS_JSON).map_err(|e| {
-            Error::new(
-                ErrorKind::Syntax,
-                format!("data/dosing-reactions.json: {e}"),
-            )
-        })?;
+        let reactions = |file: &str, text: &str| -> Result<Vec<ReactionEntry>> {
+            serde_json::from_str::<ReactionsFile>(text)
+                .map(|f| f.reactions)
+                .map_err(|e| Error::new(ErrorKind::Syntax, format!("{file}: {e}")))
+        };
+        let mut all = reactions("data/dosing-reactions.json", REACTIONS_JSON)?;
+        all.extend(reactions("data/reactions.json", CORE_REACTIONS_JSON)?);
         Ok(Catalog {
             products: products.products,
-            reactions: reactions.reactions,
+            reactions: all,
         })
     }
 
@@ -279,8 +305,21 @@ impl Catalog {
 
     /// Checks every formula and reaction in the catalog: used by tests and at app start.
     pub fn validate(&self) -> Result<()> {
+        let mut seen: Vec<(&str, Vec<(bool, String, u64)>)> =
+            Vec::with_capacity(self.reactions.len());
         for r in &self.reactions {
-            Reaction::balance(&r.equation).map_err(|e| e.with("reaction", &r.id))?;
+            let balanced = Reaction::balance(&r.equation).map_err(|e| e.with("reaction", &r.id))?;
+            let balanced = same_reaction_key(&balanced);
+            // A reaction written twice (in one file or across the two) could drift apart in
+            // its source or its species: one id and one balanced form each.
+            if let Some((earlier, _)) = seen.iter().find(|(id, b)| *id == r.id || *b == balanced) {
+                return Err(Error::new(
+                    ErrorKind::InvalidInput,
+                    format!("reaction '{}' repeats '{earlier}'", r.id),
+                )
+                .with("reaction", &r.id));
+            }
+            seen.push((&r.id, balanced));
         }
         for p in &self.products {
             Formula::parse(&p.compound)?;

@@ -1,7 +1,7 @@
 //! Chlorination: dose from demand and residual, breakpoint, chloramination, dechlorination,
 //! and CT / Giardia log inactivation for free chlorine.
 //!
-//! Design: each ratio is read from a balanced reaction in `data/dosing-reactions.json` and
+//! Design: each ratio is read from a balanced reaction in `data/` (see `Catalog::reaction`) and
 //! converted to a mass ratio with molar masses from the formulas, so 7.6:1, 5.06:1 and the
 //! dechlorination mg-per-mg values are outputs that tests compare with the literature. Trade
 //! practice values (10–15:1 breakpoint, the AWWA field doses for dechlorination) are carried
@@ -296,7 +296,7 @@ pub fn chloramination(
     check_chlorine("chlorine dose", chlorine.value)?;
     check_positive("Cl2:NH3-N ratio", ratio.value, "")?;
     check_range("Cl2:NH3-N ratio", ratio.value, 0.0, 100.0, "")?;
-    let (theory, theory_trace) = chlorine_per_ammonia_n(catalog, "monochloramine")?;
+    let (theory, theory_trace) = chlorine_per_ammonia_n(catalog, "monochloramine-formation")?;
     let mut t = Trace::new(
         Quantity::of(chlorine.value, "mg/L", "Cl2"),
         Origin::Measured,

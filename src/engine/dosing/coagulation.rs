@@ -96,11 +96,11 @@ fn hydrolysis(catalog: &Catalog, c: Coagulant) -> Result<(Reaction, String)> {
             "Al2(SO4)3·14H2O".into(),
         ),
         Coagulant::Alum18 => (
-            catalog.reaction("alum-18-alkalinity")?,
+            catalog.reaction("alum-18-bicarbonate")?,
             "Al2(SO4)3·18H2O".into(),
         ),
         Coagulant::FerricChloride => (
-            catalog.reaction("ferric-chloride-alkalinity")?,
+            catalog.reaction("ferric-chloride-bicarbonate")?,
             "FeCl3".into(),
         ),
         Coagulant::FerricSulfate => (

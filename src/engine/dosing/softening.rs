@@ -122,7 +122,7 @@ pub fn softening(catalog: &Catalog, input: &SofteningInput) -> Result<SofteningR
     )?;
     let (f_co2, t_co2) = factor(
         catalog,
-        "softening-carbon-dioxide",
+        "lime-carbon-dioxide",
         "CO2",
         "CO2",
         "Ca(OH)2",
@@ -130,7 +130,7 @@ pub fn softening(catalog: &Catalog, input: &SofteningInput) -> Result<SofteningR
     )?;
     let (f_alk, t_alk) = factor(
         catalog,
-        "softening-calcium-carbonate-hardness",
+        "lime-calcium-bicarbonate",
         "CaCO3",
         "Ca(HCO3)2",
         "Ca(OH)2",
@@ -146,7 +146,7 @@ pub fn softening(catalog: &Catalog, input: &SofteningInput) -> Result<SofteningR
     )?;
     let (f_nch, t_nch) = factor(
         catalog,
-        "softening-calcium-noncarbonate",
+        "soda-ash-noncarbonate-hardness",
         "CaCO3",
         "CaSO4",
         "Na2CO3",
