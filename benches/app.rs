@@ -21,13 +21,19 @@ fn find(app: &AppWindow, key: &str) -> ElementHandle {
 }
 
 fn keystroke(c: &mut Criterion) {
-    // SAFETY: set before Slint or fontconfig start any thread.
-    unsafe {
-        std::env::set_var(
-            "FONTCONFIG_FILE",
-            concat!(env!("CARGO_MANIFEST_DIR"), "/ui/fonts/fonts.conf"),
-        )
-    };
+    // Only the bundled font, as the UI tests render: an empty configuration plus the app's
+    // own fallback step. Set before Slint or fontconfig start any thread.
+    let folder = std::env::temp_dir().join(format!("molefeed-bench-fonts-{}", std::process::id()));
+    std::fs::create_dir_all(&folder).expect("temp folder");
+    let no_fonts = folder.join("no-fonts.conf");
+    std::fs::write(
+        &no_fonts,
+        "<?xml version=\"1.0\"?>\n<fontconfig></fontconfig>\n",
+    )
+    .expect("conf");
+    // SAFETY: no other thread exists yet.
+    unsafe { std::env::set_var("FONTCONFIG_FILE", &no_fonts) };
+    molefeed::app::fonts::use_bundled_font_as_fallback(&folder).expect("bundled font");
     i_slint_backend_testing::init_no_event_loop();
     let app = AppWindow::new().expect("window");
     let _handle = attach(

@@ -21,6 +21,8 @@ pub mod units;
 #[cfg(feature = "app")]
 mod bridge;
 #[cfg(feature = "app")]
+pub mod fonts;
+#[cfg(feature = "app")]
 pub mod i18n;
 
 /// The generated Slint types (`AppWindow` and the adapter globals).
@@ -61,6 +63,18 @@ impl RunOptions {
             lang,
             quit_on_root_back: false,
         }
+    }
+}
+
+/// Desktop start-up before the window: makes the bundled font visible to fontconfig where
+/// the platform uses it (see [`fonts`]). A failure is reported and the app starts anyway.
+#[cfg(feature = "app")]
+pub fn prepare_desktop_fonts() {
+    #[cfg(all(unix, not(target_os = "android"), not(target_vendor = "apple")))]
+    if let Some(dirs) = directories::ProjectDirs::from("", "", "Molefeed")
+        && let Err(e) = fonts::use_bundled_font_as_fallback(dirs.cache_dir())
+    {
+        eprintln!("molefeed: could not prepare the fallback font: {e}");
     }
 }
 

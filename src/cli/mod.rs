@@ -196,6 +196,7 @@ fn batch_line(line: &str) -> CliResult {
 /// `molefeed` with no arguments: the app, through the entry Android uses too.
 #[cfg(feature = "app")]
 fn open_app() -> i32 {
+    crate::app::prepare_desktop_fonts();
     match crate::app::run(crate::app::RunOptions::desktop()) {
         Ok(()) => 0,
         Err(e) => {

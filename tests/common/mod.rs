@@ -1,8 +1,10 @@
 //! Shared set-up for the UI test binaries: bundled fonts only, and a stand-in engine.
 //!
-//! Design choice: the harness points `FONTCONFIG_FILE` at `ui/fonts/fonts.conf` itself, before
-//! Slint starts, so plain `cargo test` renders with the repository's font and never with
-//! whatever the machine has installed.
+//! Design choice: the harness starts from a fontconfig configuration that lists no font at all
+//! (the machine a kiosk image or a bare container is) and then runs the app's own start-up
+//! step, `app::fonts`, which adds the bundled font. So plain `cargo test` renders with the
+//! repository's font, never with whatever the machine has installed, and every UI test run
+//! proves the app starts on a machine without fonts.
 #![allow(dead_code)]
 
 use molefeed::app::seams::{
@@ -15,13 +17,21 @@ static FONTS: Once = Once::new();
 /// Makes fontconfig see only the bundled fonts. Call first in every test.
 pub fn bundled_fonts_only() {
     FONTS.call_once(|| {
-        let conf = concat!(env!("CARGO_MANIFEST_DIR"), "/ui/fonts/fonts.conf");
-        assert!(std::path::Path::new(conf).exists(), "missing {conf}");
+        let folder = std::path::Path::new(env!("CARGO_TARGET_TMPDIR"))
+            .join(format!("fonts-{}", std::process::id()));
+        std::fs::create_dir_all(&folder).unwrap();
+        let no_fonts = folder.join("no-fonts.conf");
+        std::fs::write(
+            &no_fonts,
+            "<?xml version=\"1.0\"?>\n<fontconfig></fontconfig>\n",
+        )
+        .unwrap();
         // SAFETY: called once, before any Slint or fontconfig thread exists in this process
         // (each test binary calls this at the start of its tests).
         unsafe {
-            std::env::set_var("FONTCONFIG_FILE", conf);
+            std::env::set_var("FONTCONFIG_FILE", &no_fonts);
         }
+        molefeed::app::fonts::use_bundled_font_as_fallback(&folder).unwrap();
     });
 }
 
