@@ -1,5 +1,6 @@
 //! Property tests: round trips, monotonicity and "never panics" over the input space.
 
+use crate::support::m;
 use molefeed::engine::dosing::catalog::{Catalog, Strength, StrengthBasis};
 use molefeed::engine::dosing::chlorine::{self, ChlorineInput, ContactTime, CtInput};
 use molefeed::engine::dosing::coagulation::{self, Alkali, Coagulant, CoagulationInput};
@@ -8,12 +9,7 @@ use molefeed::engine::dosing::pumpcheck::{self, Measurement, PumpCheckInput, Tol
 use molefeed::engine::dosing::site::SiteProfile;
 use molefeed::engine::dosing::softening::{self, SofteningInput};
 use molefeed::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
-use molefeed::engine::sigfig::Measured;
 use proptest::prelude::*;
-
-fn m(v: f64) -> Measured {
-    Measured::exact(v)
-}
 
 const UNITS: [FlowUnit; 5] = [
     FlowUnit::Mgd,

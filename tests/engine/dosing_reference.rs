@@ -4,30 +4,14 @@
 //! balanced reactions and formulas; the published numbers are only ever on the expected side.
 //! Tolerances are the rounding of the published figure (e.g. 7.6 is good to ±0.05).
 
-use molefeed::engine::dosing::catalog::{Catalog, Strength, StrengthBasis};
+use crate::support::{catalog, check, m};
+use molefeed::engine::dosing::catalog::{Strength, StrengthBasis};
 use molefeed::engine::dosing::chlorine::{self, ChlorineInput, ContactTime, CtInput, ct_required};
 use molefeed::engine::dosing::coagulation::{self, Alkali, Coagulant};
 use molefeed::engine::dosing::feed::{self, FeedInput, PumpKind, UsableRange};
 use molefeed::engine::dosing::softening::{self, SofteningInput};
 use molefeed::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit, pounds_factor};
 use molefeed::engine::formula::Formula;
-use molefeed::engine::sigfig::Measured;
-
-fn catalog() -> Catalog {
-    Catalog::builtin().expect("embedded catalog parses")
-}
-
-/// The one comparison helper: `actual` within `tol` (absolute) of `expected`.
-fn check(what: &str, actual: f64, expected: f64, tol: f64) {
-    assert!(
-        (actual - expected).abs() <= tol,
-        "{what}: got {actual}, expected {expected} ± {tol}"
-    );
-}
-
-fn m(v: f64) -> Measured {
-    Measured::exact(v)
-}
 
 #[test]
 fn breakpoint_and_monochloramine_ratios_from_balanced_reactions() {

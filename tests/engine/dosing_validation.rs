@@ -3,8 +3,9 @@
 //! Every calculator must turn bad input (zero or negative flow, 0 % strength, impossible SG,
 //! NaN) into a typed error that names the quantity, never a panic or a silent number.
 
+use crate::support::{catalog, m};
 use molefeed::engine::ErrorKind;
-use molefeed::engine::dosing::catalog::{Catalog, Strength, StrengthBasis};
+use molefeed::engine::dosing::catalog::{Strength, StrengthBasis};
 use molefeed::engine::dosing::chlorine::{self, ChlorineInput, ContactTime, CtInput};
 use molefeed::engine::dosing::feed::{self, DilutionInput, FeedInput, PumpKind, UsableRange};
 use molefeed::engine::dosing::pumpcheck::{
@@ -13,15 +14,6 @@ use molefeed::engine::dosing::pumpcheck::{
 use molefeed::engine::dosing::site::{SiteProfile, regulatory_defaults};
 use molefeed::engine::dosing::units::{Flow, FlowUnit, LengthUnit, VolumeRateUnit};
 use molefeed::engine::dosing::{Caution, Severity};
-use molefeed::engine::sigfig::Measured;
-
-fn catalog() -> Catalog {
-    Catalog::builtin().unwrap()
-}
-
-fn m(v: f64) -> Measured {
-    Measured::exact(v)
-}
 
 fn hypo(strength: f64, basis: StrengthBasis, sg: Option<f64>) -> Strength {
     Strength::new(m(strength), basis, sg.map(m))

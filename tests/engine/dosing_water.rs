@@ -3,32 +3,16 @@
 //! Each reference check names its source beside the expected value; the engine's number is
 //! always the one computed from the water before and after the dose, never the published one.
 
+use crate::support::{catalog, check, m};
 use molefeed::engine::ErrorKind;
-use molefeed::engine::dosing::catalog::{Catalog, Strength, StrengthBasis};
+use molefeed::engine::dosing::catalog::{Strength, StrengthBasis};
 use molefeed::engine::dosing::chlorine::{self, ChlorineInput};
 use molefeed::engine::dosing::coagulation::{self, Alkali, Coagulant, CoagulationInput};
 use molefeed::engine::dosing::feed::{PumpKind, UsableRange};
 use molefeed::engine::dosing::neutralization::{self, NeutralizationInput};
 use molefeed::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
 use molefeed::engine::dosing::waterside::PhRange;
-use molefeed::engine::sigfig::Measured;
 use molefeed::engine::water::{WaterInput, WaterState};
-
-fn catalog() -> Catalog {
-    Catalog::builtin().expect("embedded catalog parses")
-}
-
-/// The one comparison helper: `actual` within `tol` (absolute) of `expected`.
-fn check(what: &str, actual: f64, expected: f64, tol: f64) {
-    assert!(
-        (actual - expected).abs() <= tol,
-        "{what}: got {actual}, expected {expected} ± {tol}"
-    );
-}
-
-fn m(v: f64) -> Measured {
-    Measured::exact(v)
-}
 
 fn water(ph: f64, t: f64, alk: f64) -> WaterState {
     WaterState::new(&WaterInput::new(ph, t, alk)).expect("valid water")

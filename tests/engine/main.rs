@@ -11,5 +11,6 @@ mod dosing_props;
 mod dosing_reference;
 mod dosing_validation;
 mod dosing_water;
+mod support;
 mod water_props;
 mod water_reference;
