@@ -233,6 +233,8 @@ pub struct CalcController {
     system: UnitSystem,
     texts: HashMap<&'static str, String>,
     products: HashMap<(CalcKind, CalcMode), String>,
+    /// Maximum use levels (mg/L of product) of the site's delivered products, by catalog id.
+    max_use_levels: HashMap<String, f64>,
 }
 
 impl CalcController {
@@ -245,7 +247,14 @@ impl CalcController {
             system,
             texts: HashMap::new(),
             products: HashMap::new(),
+            max_use_levels: HashMap::new(),
         }
+    }
+
+    /// The site's maximum use levels by catalog product id; each request carries the chosen
+    /// product's, so a dose above its certification is flagged by the engine.
+    pub fn set_max_use_levels(&mut self, levels: HashMap<String, f64>) {
+        self.max_use_levels = levels;
     }
 
     pub fn kind(&self) -> CalcKind {
@@ -370,12 +379,18 @@ impl CalcController {
                 error,
             });
         }
+        let product = self.product().2;
+        let max_use_level_mg_l = product
+            .as_ref()
+            .and_then(|id| self.max_use_levels.get(id))
+            .copied();
         let request = (!empty && !invalid).then(|| CalcRequest {
             kind: self.kind,
             mode: self.mode,
-            product: self.product().2,
+            product,
             values,
             figures,
+            max_use_level_mg_l,
         });
         (views, request, invalid)
     }
@@ -391,6 +406,7 @@ impl CalcController {
             system: self.system,
             texts: self.texts.clone(),
             products: self.products.clone(),
+            max_use_levels: self.max_use_levels.clone(),
         };
         probe.current_request()
     }

@@ -122,7 +122,7 @@ impl DosingEngine {
                 unit: VolumeRateUnit::Lph,
             }),
             usable_range: UsableRange::default(),
-            max_use_level_mg_l: None,
+            max_use_level_mg_l: request.max_use_level_mg_l,
         };
         feed(&self.catalog, &input)
     }
@@ -466,7 +466,10 @@ impl DosingEngine {
                     strength: Strength::new(purity, StrengthBasis::Purity, None),
                     pump: None,
                     usable_range: UsableRange::default(),
-                    max_use_level_mg_l: None,
+                    // The site's level belongs to the lime chosen, not to the soda ash.
+                    max_use_level_mg_l: request
+                        .max_use_level_mg_l
+                        .filter(|_| request.product.as_deref() == Some(product)),
                 },
             )
         };
@@ -772,6 +775,7 @@ mod tests {
                 ("pump-capacity", 15.0),
             ]),
             figures: BTreeMap::new(),
+            max_use_level_mg_l: None,
         }
     }
 
@@ -1024,6 +1028,7 @@ mod tests {
             product: Some(product.into()),
             values: values.iter().copied().collect(),
             figures: BTreeMap::new(),
+            max_use_level_mg_l: None,
         }
     }
 

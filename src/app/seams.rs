@@ -112,6 +112,10 @@ pub struct CalcRequest {
     /// Significant figures of each value as typed; a field absent here does not limit the
     /// precision of a result (temperature, or an input that was not typed).
     pub figures: BTreeMap<&'static str, u8>,
+    /// The maximum use level of the chosen product as the site received it (mg/L of product,
+    /// from its certification), so the engine can flag a dose above it; `None` when the site
+    /// records none.
+    pub max_use_level_mg_l: Option<f64>,
 }
 
 /// A product the operator can pick for a calculator; `name_key` is its translation key.
@@ -299,6 +303,7 @@ mod tests {
             product: None,
             values: BTreeMap::from([("flow", 1000.0)]),
             figures: BTreeMap::new(),
+            max_use_level_mg_l: None,
         };
         assert_eq!(Unconnected.compute(&request), Err(SeamError::NotConnected));
         assert_eq!(

@@ -456,6 +456,14 @@ pub fn limit_cautions(request: &CalcRequest, limits: &[Limit], lang: Lang) -> Ve
     out
 }
 
+/// The maximum use level of each delivered product that has one, by catalog product id.
+pub fn max_use_levels(site: &SiteProfile) -> HashMap<String, f64> {
+    site.products
+        .iter()
+        .filter_map(|d| Some((d.product.clone(), d.max_use_level_mg_l?)))
+        .collect()
+}
+
 /// What the site can tell a calculator: values in the field's display unit, by field name.
 /// Strength is offered only on the basis the calculator reads it on (the catalog product's
 /// first basis), so a number on another basis is never shown as if it were comparable.

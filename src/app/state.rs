@@ -573,6 +573,8 @@ impl AppState {
     /// calculator variant the site's delivered product is chosen, then its strength, SG and
     /// metering-pump capacity and the plant's typical flow fill fields the operator left empty.
     pub fn prefill_from_site(&mut self) {
+        self.calc
+            .set_max_use_levels(sites::max_use_levels(self.site()));
         let (kind, mode) = (self.calc.kind(), self.calc.mode());
         if !self.preselected.contains(&(kind, mode)) {
             self.preselected.push((kind, mode));
@@ -1598,6 +1600,7 @@ mod tests {
             product: None,
             values: values.iter().copied().collect(),
             figures: Default::default(),
+            max_use_level_mg_l: None,
         }
     }
 
@@ -1705,6 +1708,36 @@ mod tests {
         ] {
             s.calc.edit(n, t);
         }
+    }
+
+    #[test]
+    fn a_dose_above_the_delivered_products_max_use_level_is_flagged() {
+        // The demo plant's hypochlorite is certified to 100 mg/L of product; at 12.5 trade %
+        // and SG 1.2 that is about 10 mg/L as Cl2.
+        let mut s = state(crate::app::seams::connected_engine());
+        s.open_calculator(CalcKind::Chlorination);
+        fill_chlorination(&mut s, "2");
+        let codes = |s: &AppState| -> Vec<String> {
+            match s.calc.view().status {
+                Status::Ready(r) => r.cautions.iter().map(|c| c.code.clone()).collect(),
+                other => panic!("no result: {other:?}"),
+            }
+        };
+        let over = "dose-above-max-use-level".to_string();
+        assert!(
+            !codes(&s).contains(&over),
+            "3 mg/L flagged: {:?}",
+            codes(&s)
+        );
+        s.calc.edit("chlorine-demand", "12");
+        assert!(
+            codes(&s).contains(&over),
+            "14 mg/L not flagged: {:?}",
+            codes(&s)
+        );
+        // A site that records no level for the product raises nothing.
+        s.calc.set_max_use_levels(Default::default());
+        assert!(!codes(&s).contains(&over));
     }
 
     #[test]
