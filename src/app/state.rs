@@ -181,14 +181,15 @@ impl DateSpan {
 }
 
 impl DateRange {
-    /// The chips, in the order the Log screen shows them.
+    /// The chips, in the order the Log screen shows them: the months early, so that on a
+    /// phone, where the row scrolls sideways, the monthly report's range is in sight.
     pub const ALL: [DateRange; 7] = [
         DateRange::All,
         DateRange::Today,
-        DateRange::Week,
-        DateRange::Days30,
         DateRange::ThisMonth,
         DateRange::LastMonth,
+        DateRange::Week,
+        DateRange::Days30,
         DateRange::Custom,
     ];
 
