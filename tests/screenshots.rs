@@ -148,6 +148,8 @@ fn every_screen_renders_with_text_at_three_sizes() {
             st.calc.edit(name, text);
         }
         st.select_entry(4);
+        // November typed into the log's date fields: the same list on any day the test runs.
+        st.edit_log_dates("2026-11-01", "2026-11-30");
     }
     handle.refresh();
     app.show().expect("show");
@@ -191,6 +193,22 @@ fn every_screen_renders_with_text_at_three_sizes() {
     save_png(&out.join("log-tablet-correct.png"), &pixels, 1280, 800);
     app.global::<LogAdapter>().invoke_cancel_edit();
     app.global::<LogAdapter>().set_compact_detail(false);
+    // A reversed pair of days on a phone: the message in words must fit beside nothing.
+    handle
+        .state
+        .borrow_mut()
+        .edit_log_dates("2026-11-30", "2026-11-01");
+    handle.refresh();
+    let pixels = render(&window, 400, 860);
+    save_png(&out.join("log-phone-date-problem.png"), &pixels, 400, 860);
+    if dark_pixels(&pixels, 400, 860, true) < 1500 {
+        failures.push("log-phone-date-problem.png has no text".into());
+    }
+    handle
+        .state
+        .borrow_mut()
+        .edit_log_dates("2026-11-01", "2026-11-30");
+    handle.refresh();
     // "Show the work" opened, on a desktop-sized window.
     app.global::<CalcAdapter>().set_show_work(true);
     app.global::<Nav>().invoke_go(1);

@@ -627,6 +627,119 @@ fn on_a_phone_the_entry_opens_full_width_with_large_targets() {
 }
 
 #[test]
+fn typed_days_filter_the_list_and_the_export_holds_exactly_those_entries() {
+    common::bundled_fonts_only();
+    i_slint_backend_testing::init_no_event_loop();
+    let dir = std::env::temp_dir().join(format!("molefeed-ui-export-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    let mut log = MemoryLog::default();
+    for (when, point, dose) in [
+        ("2026-10-31T23:59:00Z", "Clearwell", 1.1),
+        ("2026-11-01T00:05:00Z", "Clearwell", 2.2),
+        ("2026-11-30T23:55:00Z", "Raw water", 3.3),
+        ("2026-12-01T06:00:00Z", "Clearwell", 4.4),
+    ] {
+        log.append(NewEntry {
+            when: when.into(),
+            site: "Demo site".into(),
+            point: point.into(),
+            chemical: "NaOCl".into(),
+            dose_mg_per_l: dose,
+            feed_kg_per_day: None,
+            pump_setting_percent: None,
+            flow_m3_per_day: None,
+            product_l_per_hour: None,
+            trace: Vec::new(),
+            cautions: Vec::new(),
+            note: String::new(),
+            operator: "JM".into(),
+        })
+        .expect("seed entry");
+    }
+    let app = AppWindow::new().expect("window");
+    let _handle = attach(
+        &app,
+        Deps {
+            engine: Rc::new(common::EchoEngine),
+            log: Box::new(log),
+            data_dir: Some(dir.clone()),
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    app.window()
+        .set_size(slint::LogicalSize::new(400.0, 2400.0));
+    app.show().expect("show");
+    tap(&app, &en("nav-log"));
+    let rows = || app.global::<LogAdapter>().get_rows().row_count();
+    assert_eq!(rows(), 4);
+
+    // A day that does not exist: said in words, nothing listed, nothing exported.
+    type_into(&app, &en("log-date-from"), "2026-11-31");
+    one(
+        &app,
+        "The From date “2026-11-31” is not a day of the calendar. Type year-month-day, for example 2026-11-30 (or 20261130).",
+    );
+    assert_eq!(rows(), 0);
+    tap(&app, &en("log-export"));
+    one(&app, &en("log-export-fix-dates"));
+
+    // November, typed (the digits alone, as a numeric keypad types them, for the end).
+    type_into(&app, &en("log-date-from"), "2026-11-01");
+    type_into(&app, &en("log-date-to"), "20261130");
+    assert_eq!(rows(), 2);
+    // The chip row scrolls sideways on a phone, so the choice is read from the model.
+    let ranges = app.global::<LogAdapter>().get_ranges();
+    let chosen: Vec<_> = ranges.iter().filter(|r| r.selected).collect();
+    assert_eq!(chosen.len(), 1);
+    assert_eq!(
+        chosen[0].label,
+        en("log-range-custom"),
+        "typing chose typed dates"
+    );
+    let summary = app.global::<LogAdapter>().get_date_summary();
+    assert_eq!(
+        summary,
+        "Entries shown: 2, from 2026-11-01 to 2026-11-30 (UTC days)."
+    );
+    tap(&app, &en("log-export"));
+    let file = dir.join("exports/molefeed-log-2026-11-01_2026-11-30.csv");
+    let status = app.global::<LogAdapter>().get_status();
+    assert_eq!(
+        status,
+        format!(
+            "Entries exported: 2 (from 2026-11-01 to 2026-11-30, UTC days). File: {}",
+            file.display()
+        )
+    );
+    let text = std::fs::read_to_string(&file).expect("the export is where the message says");
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines.len(), 3, "header and two rows: {text}");
+    assert!(
+        lines[1].contains("2026-11-01T00:05:00Z") && lines[1].contains(",2.2,"),
+        "{text}"
+    );
+    assert!(
+        lines[2].contains("2026-11-30T23:55:00Z") && lines[2].contains(",3.3,"),
+        "{text}"
+    );
+
+    // A quick range replaces the typed days with its own.
+    tap(&app, &en("log-range-all"));
+    assert_eq!(app.global::<LogAdapter>().get_date_from(), "");
+    assert_eq!(rows(), 4);
+    // The date fields are full-size touch targets at phone width.
+    for label in [en("log-date-from"), en("log-date-to")] {
+        let size = one(&app, &label).size();
+        assert!(
+            size.height >= 48.0 && size.width >= 96.0,
+            "{label}: {size:?}"
+        );
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
 fn a_tap_added_in_settings_is_offered_on_start() {
     // Tall so the whole editor is in view (the finders skip scrolled-out elements).
     let (app, handle) = start_at(Rc::new(common::EchoEngine), 400.0, 4000.0);

@@ -13,7 +13,7 @@ use super::i18n::Texts;
 use super::numbers::{self, Lang};
 use super::seams::{CalcEngine, CalcKind, TraceLine, connected_engine};
 use super::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
-use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen};
+use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen, utc_today};
 use super::ui::*;
 use super::units::{Unit, UnitSystem};
 use crate::engine::dosing::feed::PumpKind;
@@ -287,7 +287,16 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     }));
     log.on_pick_range(on(|i, n| {
         let range = DateRange::ALL.get(n.max(0) as usize).copied();
-        i.state.borrow_mut().log_filter.range = range.unwrap_or_default();
+        i.state
+            .borrow_mut()
+            .pick_log_range(range.unwrap_or_default(), utc_today());
+        i.refresh_log();
+    }));
+    log.on_dates_edited(on_unit(|i| {
+        let window = i.window();
+        let adapter = window.global::<LogAdapter>();
+        let (from, to) = (adapter.get_date_from(), adapter.get_date_to());
+        i.state.borrow_mut().edit_log_dates(&from, &to);
         i.refresh_log();
     }));
     // Choice 0 is "any"; the others are the values present in the log, in the bridge's order.
@@ -491,7 +500,11 @@ impl Inner {
     }
 
     fn note(&self, note: &Note) -> String {
-        self.texts.borrow().get_args(&note.key, &note.args)
+        let mut args = note.args.clone();
+        for (name, phrase) in &note.parts {
+            args.push((*name, self.note(phrase)));
+        }
+        self.texts.borrow().get_args(&note.key, &args)
     }
 
     /// A chemical or product name: translated when it is a known key, else as given.
@@ -975,8 +988,32 @@ impl Inner {
         let adapter = w.global::<LogAdapter>();
         let lang = st.lang();
         let when = |iso: &str| iso.replace('T', " ").trim_end_matches('Z').to_string();
+        let today = utc_today();
+        let listed = st.filtered_entries_on(today);
+        // Only a quick range writes the fields: typed text is left exactly as typed.
+        let (from, to) = st.log_date_texts(today);
+        if adapter.get_date_from() != from.as_str() {
+            adapter.set_date_from(s(from));
+        }
+        if adapter.get_date_to() != to.as_str() {
+            adapter.set_date_to(s(to));
+        }
+        match st.log_span(today) {
+            Ok(span) => {
+                adapter.set_date_problem(s(""));
+                adapter.set_date_summary(s(self.note(
+                    &Note::new(key("log-showing"))
+                        .arg("count", listed.len())
+                        .part("span", span.phrase()),
+                )));
+            }
+            Err(problem) => {
+                adapter.set_date_problem(s(self.note(&problem)));
+                adapter.set_date_summary(s(""));
+            }
+        }
         adapter.set_rows(model(
-            st.filtered_entries()
+            listed
                 .into_iter()
                 .map(|e| LogRow {
                     id: e.id as i32,

@@ -183,7 +183,7 @@ impl std::fmt::Display for LogError {
 }
 
 /// The codes [`LogError::Rejected`] can carry (each has a `log-error-<code>` message).
-pub const ERROR_CODES: [&str; 13] = [
+pub const ERROR_CODES: [&str; 14] = [
     "bad-dose",
     "not-saved",
     "storage-full",
@@ -196,6 +196,7 @@ pub const ERROR_CODES: [&str; 13] = [
     "unknown-entry",
     "too-large",
     "not-found",
+    "exists",
     "io",
 ];
 
@@ -212,8 +213,10 @@ pub trait DoseLog {
     fn correct(&mut self, id: u64, fix: Amendment) -> Result<(), LogError>;
     /// Records that entry `id` should not count (a new record; the original stays).
     fn void(&mut self, id: u64, operator: &str, reason: &str) -> Result<(), LogError>;
-    /// Writes every entry (voided ones with their status) to `path`; returns the count.
-    fn export(&self, path: &Path, format: ExportFormat) -> Result<usize, LogError>;
+    /// Writes the entries numbered in `only` — the ones the operator's filtered list shows,
+    /// voided ones with their status — to a new file at `path`, each site's entries together
+    /// and oldest first; returns the count. A file already at `path` is never replaced (`exists`).
+    fn export(&self, path: &Path, format: ExportFormat, only: &[u64]) -> Result<usize, LogError>;
     /// Merges another device's file: new records added, known ones skipped, conflicts kept out.
     fn import(&mut self, path: &Path) -> Result<ImportReport, LogError>;
 }
@@ -244,7 +247,9 @@ fn write_new_file(
     path: &Path,
     write: impl FnOnce(&mut std::fs::File) -> Result<usize, LogError>,
 ) -> Result<usize, LogError> {
-    let mut file = std::fs::File::create(path).map_err(|e| io_error("creating", path, &e))?;
+    // `create_new`: an earlier report at the same path is never truncated, and the clean-up
+    // below can only ever remove the file this call made.
+    let mut file = std::fs::File::create_new(path).map_err(|e| io_error("creating", path, &e))?;
     let result = write(&mut file).and_then(|n| {
         file.sync_all()
             .map(|()| n)
@@ -264,6 +269,9 @@ fn io_error(doing: &str, path: &Path, e: &std::io::Error) -> LogError {
             "not-found",
             format!("{doing} {}: no such file or folder", path.display()),
         );
+    }
+    if e.kind() == std::io::ErrorKind::AlreadyExists {
+        return LogError::rejected("exists", path.display().to_string());
     }
     from_log_error(crate::log::Error::io(doing, path, e))
 }
@@ -362,12 +370,18 @@ impl DoseLog for MemoryLog {
         Ok(())
     }
 
-    fn export(&self, path: &Path, format: ExportFormat) -> Result<usize, LogError> {
+    fn export(&self, path: &Path, format: ExportFormat, only: &[u64]) -> Result<usize, LogError> {
         let mut text = String::new();
         if format == ExportFormat::Csv {
             text.push_str("id,logged_at,site,status,operator,tap,chemical,dose_mg_per_L,note\n");
         }
-        for (e, _) in &self.entries {
+        let chosen: Vec<&Entry> = self
+            .entries
+            .iter()
+            .map(|(e, _)| e)
+            .filter(|e| only.contains(&e.id))
+            .collect();
+        for e in &chosen {
             match format {
                 ExportFormat::JsonLines => text
                     .push_str(&serde_json::to_string(e).map_err(|e| LogError::Io(e.to_string()))?),
@@ -398,7 +412,7 @@ impl DoseLog for MemoryLog {
             use std::io::Write;
             file.write_all(text.as_bytes())
                 .map_err(|e| io_error("writing", path, &e))?;
-            Ok(self.entries.len())
+            Ok(chosen.len())
         })
     }
 
@@ -764,19 +778,30 @@ impl DoseLog for PersistentLog {
         )
     }
 
-    /// CSV (fixed columns, units in the headers) or JSON Lines of every entry of the open
-    /// sites, voided ones included with their status, for the monthly report.
-    fn export(&self, path: &Path, format: ExportFormat) -> Result<usize, LogError> {
+    /// CSV (fixed columns, units in the headers, one header row for all sites) or JSON Lines
+    /// of the chosen entries of the open sites, voided ones included with their status, for
+    /// the monthly report. The log selects by id, so the file holds exactly the list's rows.
+    fn export(&self, path: &Path, format: ExportFormat, only: &[u64]) -> Result<usize, LogError> {
+        let chosen: std::collections::HashSet<uuid::Uuid> = {
+            let ids = self.ids.borrow();
+            only.iter()
+                .filter_map(|n| ids.get((*n as usize).wrapping_sub(1)).copied())
+                .collect()
+        };
         write_new_file(path, |file| {
             let query = crate::log::Query {
                 include_voided: true,
+                only: Some(chosen),
                 ..Default::default()
             };
+            if format == ExportFormat::Csv {
+                crate::log::export::csv_header(file).map_err(from_log_error)?;
+            }
             let mut count = 0;
             for (_, log) in &self.logs {
                 count += match format {
                     ExportFormat::JsonLines => crate::log::export::jsonl(log, &query, file),
-                    ExportFormat::Csv => crate::log::export::csv(log, &query, file),
+                    ExportFormat::Csv => crate::log::export::csv_rows(log, &query, file),
                 }
                 .map_err(from_log_error)?;
             }
@@ -960,7 +985,7 @@ mod tests {
         let mut later = entry(3.5);
         later.when = "2026-12-01T09:00:00Z".into();
         log.append(later).unwrap();
-        assert_eq!(log.export(&path, ExportFormat::JsonLines), Ok(2));
+        assert_eq!(log.export(&path, ExportFormat::JsonLines, &[1, 2]), Ok(2));
         let mut other = MemoryLog::default();
         let report = other.import(&path).unwrap();
         assert_eq!((report.added, report.already_present), (2, 0));
@@ -1046,19 +1071,24 @@ mod tests {
         ours.append(entry(1.5)).unwrap();
         ours.void(1, "JM", "test entry").unwrap();
         let csv = base.join("out.csv");
-        assert_eq!(ours.export(&csv, ExportFormat::Csv), Ok(1));
+        assert_eq!(ours.export(&csv, ExportFormat::Csv, &[1]), Ok(1));
         let text = std::fs::read_to_string(&csv).unwrap();
         assert!(text.starts_with("id,logged_at"), "{text}");
         assert!(text.contains("voided"), "{text}");
         let jsonl = base.join("out.jsonl");
-        assert_eq!(ours.export(&jsonl, ExportFormat::JsonLines), Ok(1));
+        assert_eq!(ours.export(&jsonl, ExportFormat::JsonLines, &[1]), Ok(1));
         let line = std::fs::read_to_string(&jsonl).unwrap();
         assert!(serde_json::from_str::<serde_json::Value>(line.trim()).is_ok());
         // A folder that does not exist is named in words, and no file is left behind.
         let missing = base.join("no-such-folder/out.csv");
         assert!(
-            matches!(ours.export(&missing, ExportFormat::Csv), Err(LogError::Rejected { ref code, .. }) if code == "not-found")
+            matches!(ours.export(&missing, ExportFormat::Csv, &[1]), Err(LogError::Rejected { ref code, .. }) if code == "not-found")
         );
+        // An earlier export at the same path is refused in words and left as it was.
+        assert!(
+            matches!(ours.export(&csv, ExportFormat::Csv, &[1]), Err(LogError::Rejected { ref code, .. }) if code == "exists")
+        );
+        assert_eq!(std::fs::read_to_string(&csv).unwrap(), text);
         // Another device's log of the same site: its entries are added once.
         let theirs_dir = base.join("theirs");
         let mut theirs = PersistentLog::new(&theirs_dir, "tablet-b");
@@ -1081,6 +1111,60 @@ mod tests {
         assert!(
             matches!(ours.import(&base.join("nothing.doselog")), Err(LogError::Rejected { ref code, .. }) if code == "not-found")
         );
+        let _ = std::fs::remove_dir_all(&base);
+    }
+
+    /// Both logs export only the chosen entries; the persistent one gathers two sites into
+    /// one CSV with a single header row.
+    #[test]
+    fn export_writes_only_the_chosen_entries() {
+        let base = std::env::temp_dir().join(format!("molefeed-plog-only-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&base);
+        std::fs::create_dir_all(&base).unwrap();
+        let mut persistent = PersistentLog::new(&base.join("logs"), "tablet-a");
+        let mut memory = MemoryLog::default();
+        for log in [&mut persistent as &mut dyn DoseLog, &mut memory] {
+            for (site, dose) in [
+                ("North plant", 1.1),
+                ("South plant", 2.2),
+                ("North plant", 3.3),
+            ] {
+                let mut e = entry(dose);
+                e.site = site.into();
+                log.append(e).unwrap();
+            }
+            log.void(3, "JM", "entered twice").unwrap();
+        }
+        for (name, log) in [
+            ("persistent", &persistent as &dyn DoseLog),
+            ("memory", &memory),
+        ] {
+            let path = base.join(format!("{name}.csv"));
+            assert_eq!(
+                log.export(&path, ExportFormat::Csv, &[2, 3]),
+                Ok(2),
+                "{name}"
+            );
+            let text = std::fs::read_to_string(&path).unwrap();
+            let lines: Vec<Vec<&str>> = text.lines().map(|l| l.split(',').collect()).collect();
+            assert!(
+                lines[0][0] == "id" && lines[0][1] == "logged_at",
+                "{name}: {text}"
+            );
+            let column = |title: &str| lines[0].iter().position(|c| *c == title).unwrap();
+            let (dose, status) = (column("dose_mg_per_L"), column("status"));
+            let mut rows: Vec<(&str, &str)> = lines[1..]
+                .iter()
+                .map(|cells| (cells[dose], cells[status]))
+                .collect();
+            // Grouped by site in the persistent log: compare as a set.
+            rows.sort();
+            assert_eq!(
+                rows,
+                [("2.2", "original"), ("3.3", "voided")],
+                "{name}: one header, the chosen rows, the void marked: {text}"
+            );
+        }
         let _ = std::fs::remove_dir_all(&base);
     }
 

@@ -17,6 +17,7 @@ use super::sites::{self, LegacySite, LimitForm, Prefill, ProductForm, PumpForm, 
 use super::units::{Unit, UnitSystem};
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::site::{Limit, SiteProfile};
+use chrono::{Datelike, Days, Months, NaiveDate};
 use serde::{Deserialize, Serialize};
 use std::path::PathBuf;
 use std::rc::Rc;
@@ -87,6 +88,9 @@ impl Default for Settings {
 pub struct Note {
     pub key: String,
     pub args: Vec<(&'static str, String)>,
+    /// Arguments that are phrases of their own (a date span inside the export message):
+    /// translated first, then passed in, so each language words the whole sentence.
+    pub parts: Vec<(&'static str, Note)>,
 }
 
 impl Note {
@@ -94,11 +98,17 @@ impl Note {
         Note {
             key: key.into(),
             args: Vec::new(),
+            parts: Vec::new(),
         }
     }
 
     pub(crate) fn arg(mut self, name: &'static str, value: impl ToString) -> Note {
         self.args.push((name, value.to_string()));
+        self
+    }
+
+    pub(crate) fn part(mut self, name: &'static str, phrase: Note) -> Note {
+        self.parts.push((name, phrase));
         self
     }
 }
@@ -112,32 +122,99 @@ pub struct LatestDose {
     pub when: String,
 }
 
-/// Quick date ranges of the log list, in UTC calendar days (the list shows UTC times).
+/// The date choices of the log list, in UTC calendar days (the list shows UTC times): quick
+/// ranges that follow the clock, or the From / To dates the operator typed (`Custom`).
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub enum DateRange {
     #[default]
     All,
     Today,
+    /// Today and the six days before it.
     Week,
-    Month,
+    /// Today and the 29 days before it.
+    Days30,
+    /// The calendar month of today, first to last day.
+    ThisMonth,
+    /// The calendar month before today's: what the monthly report covers.
+    LastMonth,
+    Custom,
+}
+
+/// First and last day of a date filter, both included; `None` is an open end.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct DateSpan {
+    pub from: Option<NaiveDate>,
+    pub to: Option<NaiveDate>,
+}
+
+impl DateSpan {
+    fn between(from: Option<NaiveDate>, to: Option<NaiveDate>) -> DateSpan {
+        DateSpan { from, to }
+    }
+
+    pub fn contains(&self, day: NaiveDate) -> bool {
+        self.from.is_none_or(|f| day >= f) && self.to.is_none_or(|t| day <= t)
+    }
+
+    /// The span in words, for the summary under the fields and the export message.
+    pub fn phrase(&self) -> Note {
+        match (self.from, self.to) {
+            (Some(f), Some(t)) => Note::new(key("log-span-between"))
+                .arg("from", f)
+                .arg("to", t),
+            (Some(f), None) => Note::new(key("log-span-from")).arg("from", f),
+            (None, Some(t)) => Note::new(key("log-span-until")).arg("to", t),
+            (None, None) => Note::new(key("log-span-all")),
+        }
+    }
+
+    /// The part of an export's file name that says what it covers; an unlimited export is
+    /// named by its day, as before, since it holds the log as of that day.
+    pub fn file_stem(&self, today: NaiveDate) -> String {
+        match (self.from, self.to) {
+            (Some(f), Some(t)) => format!("{f}_{t}"),
+            (Some(f), None) => format!("{f}_onwards"),
+            (None, Some(t)) => format!("until_{t}"),
+            (None, None) => today.to_string(),
+        }
+    }
 }
 
 impl DateRange {
-    pub const ALL: [DateRange; 4] = [
+    /// The chips, in the order the Log screen shows them: the months early, so that on a
+    /// phone, where the row scrolls sideways, the monthly report's range is in sight.
+    pub const ALL: [DateRange; 7] = [
         DateRange::All,
         DateRange::Today,
+        DateRange::ThisMonth,
+        DateRange::LastMonth,
         DateRange::Week,
-        DateRange::Month,
+        DateRange::Days30,
+        DateRange::Custom,
     ];
 
-    /// Earlier days included besides today; `None` is no limit.
-    fn days_back(self) -> Option<i64> {
-        match self {
-            DateRange::All => None,
-            DateRange::Today => Some(0),
-            DateRange::Week => Some(6),
-            DateRange::Month => Some(29),
-        }
+    /// The days a quick range covers on `today`; `None` for `Custom`, whose days are typed.
+    /// Month ends come from chrono's calendar (28 to 31 days, leap years included).
+    pub fn span_on(self, today: NaiveDate) -> Option<DateSpan> {
+        let days_back = |n| today.checked_sub_days(Days::new(n));
+        let month_start = today.with_day(1);
+        let month_end = |first: NaiveDate| {
+            first
+                .checked_add_months(Months::new(1))
+                .and_then(|next| next.pred_opt())
+        };
+        Some(match self {
+            DateRange::All => DateSpan::default(),
+            DateRange::Today => DateSpan::between(Some(today), Some(today)),
+            DateRange::Week => DateSpan::between(days_back(6), Some(today)),
+            DateRange::Days30 => DateSpan::between(days_back(29), Some(today)),
+            DateRange::ThisMonth => DateSpan::between(month_start, month_start.and_then(month_end)),
+            DateRange::LastMonth => {
+                let first = month_start.and_then(|d| d.checked_sub_months(Months::new(1)));
+                DateSpan::between(first, month_start.and_then(|d| d.pred_opt()))
+            }
+            DateRange::Custom => return None,
+        })
     }
 
     /// Translation key of the chip.
@@ -146,9 +223,39 @@ impl DateRange {
             DateRange::All => key("log-range-all"),
             DateRange::Today => key("log-range-today"),
             DateRange::Week => key("log-range-week"),
-            DateRange::Month => key("log-range-month"),
+            DateRange::Days30 => key("log-range-30-days"),
+            DateRange::ThisMonth => key("log-range-this-month"),
+            DateRange::LastMonth => key("log-range-last-month"),
+            DateRange::Custom => key("log-range-custom"),
         }
     }
+}
+
+/// A typed day: `2026-11-30`, or its eight digits `20261130` — all a numeric keypad can type,
+/// as it has no hyphen. Empty is an open end. The year must have four digits, so `26-11-30`
+/// is refused rather than read as the year 26; chrono checks the day exists (no 30 February).
+pub fn parse_day(text: &str) -> Result<Option<NaiveDate>, ()> {
+    let text = text.trim();
+    if text.is_empty() {
+        return Ok(None);
+    }
+    let digits = |s: &str| !s.is_empty() && s.chars().all(|c| c.is_ascii_digit());
+    let format = if text.len() == 8 && digits(text) {
+        "%Y%m%d"
+    } else {
+        match text.split('-').collect::<Vec<_>>()[..] {
+            [y, m, d] if y.len() == 4 && digits(y) && digits(m) && digits(d) => "%Y-%m-%d",
+            _ => return Err(()),
+        }
+    };
+    NaiveDate::parse_from_str(text, format)
+        .map(Some)
+        .map_err(|_| ())
+}
+
+/// Today's date in UTC, the calendar the list's times are shown in.
+pub fn utc_today() -> NaiveDate {
+    chrono::Utc::now().date_naive()
 }
 
 /// The log list's filters; all of them apply together.
@@ -157,6 +264,10 @@ pub struct LogFilter {
     /// Free text: site, point, chemical, initials or note contains it.
     pub text: String,
     pub range: DateRange,
+    /// The From / To fields as typed (a quick range fills them with its days); they decide
+    /// the dates only while `range` is `Custom`.
+    pub from_text: String,
+    pub to_text: String,
     /// A tap (sampling/dosing point) present in the log; `None` is any.
     pub point: Option<String>,
     /// A chemical present in the log; `None` is any.
@@ -676,26 +787,82 @@ impl AppState {
 
     /// Entries matching every filter, newest first, with today's date from the clock.
     pub fn filtered_entries(&self) -> Vec<Entry> {
-        self.filtered_entries_on(&now_utc_iso()[..10])
+        self.filtered_entries_on(utc_today())
     }
 
-    /// Entries matching every filter, newest first; `today` is a UTC date (`2026-12-02`).
-    pub fn filtered_entries_on(&self, today: &str) -> Vec<Entry> {
+    /// Chooses a date chip: a quick range fills the From / To fields with its days (empty for
+    /// an open end); "typed dates" keeps what the fields show, now fixed rather than following
+    /// the clock.
+    pub fn pick_log_range(&mut self, range: DateRange, today: NaiveDate) {
+        let (from, to) = self.log_date_texts(today);
+        let f = &mut self.log_filter;
+        f.range = range;
+        (f.from_text, f.to_text) = (from, to);
+    }
+
+    /// The operator typed in the From or To field: the typed dates decide from now on.
+    pub fn edit_log_dates(&mut self, from: &str, to: &str) {
+        let f = &mut self.log_filter;
+        f.range = DateRange::Custom;
+        f.from_text = from.to_string();
+        f.to_text = to.to_string();
+    }
+
+    /// What the From / To fields show: a quick range's days on `today`, or what was typed.
+    pub fn log_date_texts(&self, today: NaiveDate) -> (String, String) {
         let f = &self.log_filter;
+        match f.range.span_on(today) {
+            Some(span) => {
+                let text = |d: Option<NaiveDate>| d.map(|d| d.to_string()).unwrap_or_default();
+                (text(span.from), text(span.to))
+            }
+            None => (f.from_text.clone(), f.to_text.clone()),
+        }
+    }
+
+    /// The days the list covers on `today`, or why the typed dates cannot be used (in words,
+    /// never a guess: a bad date filters nothing until it is fixed).
+    pub fn log_span(&self, today: NaiveDate) -> Result<DateSpan, Note> {
+        let f = &self.log_filter;
+        if let Some(span) = f.range.span_on(today) {
+            return Ok(span);
+        }
+        let from = parse_day(&f.from_text)
+            .map_err(|()| Note::new(key("log-from-bad")).arg("text", f.from_text.trim()))?;
+        let to = parse_day(&f.to_text)
+            .map_err(|()| Note::new(key("log-to-bad")).arg("text", f.to_text.trim()))?;
+        if let (Some(a), Some(b)) = (from, to)
+            && a > b
+        {
+            return Err(Note::new(key("log-dates-reversed"))
+                .arg("from", a)
+                .arg("to", b));
+        }
+        Ok(DateSpan::between(from, to))
+    }
+
+    /// Entries matching every filter, newest first, on the UTC day `today`. Nothing while
+    /// the typed dates cannot be read ([`log_span`](Self::log_span) says why).
+    pub fn filtered_entries_on(&self, today: NaiveDate) -> Vec<Entry> {
+        let f = &self.log_filter;
+        let Ok(span) = self.log_span(today) else {
+            return Vec::new();
+        };
         let needle = f.text.trim().to_lowercase();
-        let since = f.range.days_back().map(|back| {
-            chrono::NaiveDate::parse_from_str(today, "%Y-%m-%d")
-                .map(|d| (d - chrono::Duration::days(back)).to_string())
-                .unwrap_or_default()
-        });
+        let utc_day = |when: &str| {
+            chrono::DateTime::parse_from_rfc3339(when)
+                .ok()
+                .map(|t| t.with_timezone(&chrono::Utc).date_naive())
+        };
         let mut v: Vec<Entry> = self
             .log
             .entries()
             .into_iter()
             .filter(|e| {
                 let d = &e.data;
-                let day = d.when.get(..10).unwrap_or("");
-                since.as_deref().is_none_or(|s| day >= s && day <= today)
+                let dated = span == DateSpan::default()
+                    || utc_day(&d.when).is_some_and(|day| span.contains(day));
+                dated
                     && f.point.as_ref().is_none_or(|p| *p == d.point)
                     && f.chemical.as_ref().is_none_or(|c| *c == d.chemical)
                     && (needle.is_empty()
@@ -848,26 +1015,57 @@ impl AppState {
         out
     }
 
-    /// Exports to the typed path, or (left empty) to a dated file in the export folder.
+    /// Exports what the list shows to the typed path, or (left empty) to a file in the export
+    /// folder named by its dates.
     pub fn export_log(&mut self, path: &str) {
+        self.export_log_on(path, utc_today());
+    }
+
+    /// Exports exactly the entries the list shows on the UTC day `today` — date range, tap,
+    /// chemical and free text applied, voided entries with their status — and says how many
+    /// went out and which days they cover.
+    pub fn export_log_on(&mut self, path: &str, today: NaiveDate) {
+        self.log_note = Some(match self.export_listed(path, today) {
+            Ok(note) | Err(note) => note,
+        });
+    }
+
+    fn export_listed(&self, path: &str, today: NaiveDate) -> Result<Note, Note> {
+        let span = self
+            .log_span(today)
+            .map_err(|_| Note::new(key("log-export-fix-dates")))?;
+        let listed: Vec<u64> = self
+            .filtered_entries_on(today)
+            .iter()
+            .map(|e| e.id)
+            .collect();
+        if listed.is_empty() {
+            return Err(Note::new(key("log-export-nothing")));
+        }
         let format = self.log_format;
         let target = if path.trim().is_empty() {
-            match self.default_export_path(format, &now_utc_iso()[..10]) {
-                Some(p) => p,
-                None => {
-                    self.log_note = Some(Note::new(key("log-need-path")));
-                    return;
-                }
-            }
+            self.default_export_path(format, &span.file_stem(today))
+                .ok_or_else(|| Note::new(key("log-need-path")))?
         } else {
             PathBuf::from(path.trim())
         };
-        self.log_note = Some(match self.log.export(&target, format) {
-            Ok(n) => Note::new(key("log-exported"))
-                .arg("count", n)
-                .arg("path", target.display()),
-            Err(e) => log_error_note(&e),
+        let f = &self.log_filter;
+        let narrowed = f.point.is_some() || f.chemical.is_some() || !f.text.trim().is_empty();
+        let filters = Note::new(if narrowed {
+            key("log-export-narrowed")
+        } else {
+            key("log-export-not-narrowed")
         });
+        self.log
+            .export(&target, format, &listed)
+            .map(|n| {
+                Note::new(key("log-exported"))
+                    .arg("count", n)
+                    .arg("path", target.display())
+                    .part("span", span.phrase())
+                    .part("filters", filters)
+            })
+            .map_err(|e| log_error_note(&e))
     }
 
     /// Merges another device's log file; the message counts new, known and conflicting records.
@@ -894,16 +1092,17 @@ impl AppState {
         self.data_dir.as_ref().map(|d| d.join("exports"))
     }
 
-    /// `<export folder>/molefeed-log-<today>.<ext>`, numbered so no earlier export is
-    /// overwritten; creates the folder.
-    pub fn default_export_path(&self, format: ExportFormat, today: &str) -> Option<PathBuf> {
+    /// `<export folder>/molefeed-log-<stem>.<ext>` (the stem names the days, see
+    /// [`DateSpan::file_stem`]), numbered so no earlier export is overwritten; creates the
+    /// folder.
+    pub fn default_export_path(&self, format: ExportFormat, stem: &str) -> Option<PathBuf> {
         let folder = self.export_folder()?;
         std::fs::create_dir_all(&folder).ok()?;
         let ext = format.extension();
         (1..1000)
             .map(|n| match n {
-                1 => folder.join(format!("molefeed-log-{today}.{ext}")),
-                n => folder.join(format!("molefeed-log-{today}-{n}.{ext}")),
+                1 => folder.join(format!("molefeed-log-{stem}.{ext}")),
+                n => folder.join(format!("molefeed-log-{stem}-{n}.{ext}")),
             })
             .find(|p| !p.exists())
     }
@@ -1252,7 +1451,7 @@ mod tests {
     /// The doses the list shows for a filter on a fixed day, newest first.
     fn shown(s: &mut AppState, filter: LogFilter) -> Vec<f64> {
         s.log_filter = filter;
-        s.filtered_entries_on("2026-12-02")
+        s.filtered_entries_on(day("2026-12-02"))
             .iter()
             .map(|e| e.data.dose_mg_per_l)
             .collect()
@@ -1266,16 +1465,16 @@ mod tests {
         seed(&mut s, "2026-12-02T06:00:00Z", "Raw water", "NaOH", 3.0);
         seed(&mut s, "2026-12-02T07:00:00Z", "Clearwell", "NaOCl", 4.0);
         let f = |range, point: Option<&str>, chemical: Option<&str>| LogFilter {
-            text: String::new(),
             range,
             point: point.map(str::to_string),
             chemical: chemical.map(str::to_string),
+            ..LogFilter::default()
         };
         let cases: [(LogFilter, &[f64]); 7] = [
             (f(DateRange::All, None, None), &[4.0, 3.0, 2.0, 1.0]),
             (f(DateRange::Today, None, None), &[4.0, 3.0]),
             (f(DateRange::Week, None, None), &[4.0, 3.0, 2.0]),
-            (f(DateRange::Month, None, None), &[4.0, 3.0, 2.0]),
+            (f(DateRange::Days30, None, None), &[4.0, 3.0, 2.0]),
             (f(DateRange::All, Some("Clearwell"), None), &[4.0, 2.0, 1.0]),
             (
                 f(DateRange::Week, Some("Clearwell"), Some("NaOCl")),
@@ -1289,6 +1488,238 @@ mod tests {
         let (points, chemicals) = s.log_choices();
         assert_eq!(points, ["Clearwell", "Raw water"]);
         assert_eq!(chemicals, ["NaOCl", "NaOH"]);
+    }
+
+    fn day(text: &str) -> NaiveDate {
+        NaiveDate::parse_from_str(text, "%Y-%m-%d").unwrap()
+    }
+
+    /// `""` is an open end.
+    fn span_text(span: DateSpan) -> (String, String) {
+        let text = |d: Option<NaiveDate>| d.map(|d| d.to_string()).unwrap_or_default();
+        (text(span.from), text(span.to))
+    }
+
+    #[test]
+    fn quick_ranges_are_utc_calendar_days() {
+        fn check(range: DateRange, today: &str, expected: Option<(&str, &str)>) {
+            let got = range.span_on(day(today)).map(span_text);
+            let want = expected.map(|(f, t)| (f.to_string(), t.to_string()));
+            assert_eq!(got, want, "{range:?} on {today}");
+        }
+        use DateRange::*;
+        check(LastMonth, "2026-12-02", Some(("2026-11-01", "2026-11-30")));
+        check(LastMonth, "2026-12-01", Some(("2026-11-01", "2026-11-30")));
+        check(LastMonth, "2026-12-31", Some(("2026-11-01", "2026-11-30")));
+        check(LastMonth, "2028-03-01", Some(("2028-02-01", "2028-02-29")));
+        check(LastMonth, "2027-03-01", Some(("2027-02-01", "2027-02-28")));
+        check(LastMonth, "2027-01-01", Some(("2026-12-01", "2026-12-31")));
+        check(LastMonth, "2026-08-31", Some(("2026-07-01", "2026-07-31")));
+        check(ThisMonth, "2026-12-02", Some(("2026-12-01", "2026-12-31")));
+        check(ThisMonth, "2028-02-15", Some(("2028-02-01", "2028-02-29")));
+        check(ThisMonth, "2026-04-30", Some(("2026-04-01", "2026-04-30")));
+        check(ThisMonth, "2026-01-01", Some(("2026-01-01", "2026-01-31")));
+        check(Today, "2026-12-02", Some(("2026-12-02", "2026-12-02")));
+        check(Week, "2026-12-02", Some(("2026-11-26", "2026-12-02")));
+        check(Week, "2026-03-03", Some(("2026-02-25", "2026-03-03")));
+        check(Days30, "2026-12-02", Some(("2026-11-03", "2026-12-02")));
+        check(All, "2026-12-02", Some(("", "")));
+        check(Custom, "2026-12-02", None);
+    }
+
+    #[test]
+    fn typed_dates_are_read_or_refused_in_words() {
+        fn check(from: &str, to: &str, expected: Result<(&str, &str), &str>) {
+            let mut s = state(Rc::new(Unconnected));
+            s.edit_log_dates(from, to);
+            assert_eq!(
+                s.log_filter.range,
+                DateRange::Custom,
+                "typing makes it custom"
+            );
+            let got = s.log_span(day("2026-12-02")).map(span_text);
+            let got = got.as_ref().map_err(|n| n.key.as_str());
+            let want = expected.map(|(f, t)| (f.to_string(), t.to_string()));
+            assert_eq!(got, want.as_ref().map_err(|k| *k), "{from:?} .. {to:?}");
+        }
+        check("2026-11-01", "2026-11-30", Ok(("2026-11-01", "2026-11-30")));
+        check("20261101", "20261130", Ok(("2026-11-01", "2026-11-30")));
+        check(" 2026-11-01 ", "", Ok(("2026-11-01", "")));
+        check("", "2026-11-30", Ok(("", "2026-11-30")));
+        check("", "", Ok(("", "")));
+        check("  ", "\t", Ok(("", "")));
+        check("2026-11-30", "2026-11-30", Ok(("2026-11-30", "2026-11-30")));
+        check("2028-02-29", "", Ok(("2028-02-29", "")));
+        check("2026-02-29", "", Err("log-from-bad"));
+        check("2026-11-31", "", Err("log-from-bad"));
+        check("2026-13-01", "", Err("log-from-bad"));
+        check("26-11-01", "", Err("log-from-bad"));
+        check("+2026-11-01", "", Err("log-from-bad"));
+        check("2026-11", "", Err("log-from-bad"));
+        check("2026/11/01", "", Err("log-from-bad"));
+        check("yesterday", "", Err("log-from-bad"));
+        check("2026111", "", Err("log-from-bad"));
+        check("", "30/11/2026", Err("log-to-bad"));
+        check("", "2026-1130", Err("log-to-bad"));
+        check("", "202611301", Err("log-to-bad"));
+        check("2026-12-01", "2026-11-30", Err("log-dates-reversed"));
+        check("20261201", "2026-11-30", Err("log-dates-reversed"));
+    }
+
+    #[test]
+    fn a_date_problem_names_what_was_typed() {
+        let mut s = state(Rc::new(Unconnected));
+        s.edit_log_dates("2026-12-01", "2026-11-30");
+        let note = s.log_span(day("2026-12-02")).unwrap_err();
+        assert_eq!(
+            note.args,
+            [("from", "2026-12-01".into()), ("to", "2026-11-30".into())]
+        );
+        s.edit_log_dates(" 2026-02-30 ", "");
+        let note = s.log_span(day("2026-12-02")).unwrap_err();
+        assert_eq!(note.args, [("text", "2026-02-30".into())]);
+    }
+
+    #[test]
+    fn quick_ranges_fill_the_fields_and_typing_takes_over() {
+        let mut s = state(Rc::new(Unconnected));
+        let today = day("2026-12-02");
+        let fields = |s: &AppState| s.log_date_texts(today);
+        assert_eq!(fields(&s), (String::new(), String::new()), "All: both open");
+        s.pick_log_range(DateRange::LastMonth, today);
+        assert_eq!(fields(&s), ("2026-11-01".into(), "2026-11-30".into()));
+        // "Typed dates" keeps the days the fields show, now fixed.
+        s.pick_log_range(DateRange::Custom, today);
+        assert_eq!(fields(&s), ("2026-11-01".into(), "2026-11-30".into()));
+        assert_eq!(
+            span_text(s.log_span(day("2027-05-05")).unwrap()),
+            ("2026-11-01".into(), "2026-11-30".into()),
+            "typed days do not follow the clock"
+        );
+        s.pick_log_range(DateRange::Week, today);
+        s.edit_log_dates("2026-11-2", "2026-11-26");
+        assert_eq!(s.log_filter.range, DateRange::Custom);
+        assert_eq!(
+            fields(&s),
+            ("2026-11-2".into(), "2026-11-26".into()),
+            "kept as typed"
+        );
+        s.pick_log_range(DateRange::All, today);
+        assert_eq!(fields(&s), (String::new(), String::new()));
+    }
+
+    /// The dose column and status of each data row of an export, in file order.
+    fn csv_rows(path: &std::path::Path) -> Vec<(String, String)> {
+        let text = std::fs::read_to_string(path).unwrap();
+        let mut lines = text.lines().map(|l| l.split(',').collect::<Vec<_>>());
+        let header = lines.next().expect("a header row");
+        let column = |t: &str| header.iter().position(|c| *c == t).unwrap();
+        let (dose, status) = (column("dose_mg_per_L"), column("status"));
+        lines
+            .map(|cells| (cells[dose].to_string(), cells[status].to_string()))
+            .collect()
+    }
+
+    #[test]
+    fn last_month_exports_only_its_entries_to_a_file_named_by_its_days() {
+        let dir = temp_dir("month-export");
+        let mut s = open(&dir, Rc::new(Unconnected));
+        let today = day("2026-12-02");
+        seed(&mut s, "2026-10-31T23:59:59Z", "Clearwell", "NaOCl", 1.0);
+        seed(&mut s, "2026-11-01T00:00:00Z", "Clearwell", "NaOCl", 2.0);
+        let raw = seed(&mut s, "2026-11-15T08:00:00Z", "Raw water", "NaOH", 3.0);
+        seed(&mut s, "2026-11-30T23:59:59Z", "Clearwell", "NaOCl", 4.0);
+        seed(&mut s, "2026-12-01T00:00:00Z", "Clearwell", "NaOCl", 5.0);
+        s.set_initials("KT");
+        s.select_entry(raw);
+        s.void_selected("wrong tap").unwrap();
+
+        s.pick_log_range(DateRange::LastMonth, today);
+        s.export_log_on("", today);
+        let note = s.log_note.clone().unwrap();
+        assert_eq!(note.key, "log-exported", "{note:?}");
+        assert!(note.args.contains(&("count", "3".into())), "{note:?}");
+        let span = &note.parts.iter().find(|(n, _)| *n == "span").unwrap().1;
+        assert_eq!(span.key, "log-span-between");
+        assert_eq!(
+            span.args,
+            [("from", "2026-11-01".into()), ("to", "2026-11-30".into())]
+        );
+        let first = dir.join("exports/molefeed-log-2026-11-01_2026-11-30.csv");
+        let rows = |dose: &str, status: &str| (dose.to_string(), status.to_string());
+        // Oldest first; the voided entry is in the report, marked.
+        let november = [
+            rows("2", "original"),
+            rows("3", "voided"),
+            rows("4", "original"),
+        ];
+        assert_eq!(csv_rows(&first), november);
+
+        // Again: a numbered file, the first left as it was.
+        s.export_log_on("", today);
+        let second = dir.join("exports/molefeed-log-2026-11-01_2026-11-30-2.csv");
+        assert_eq!(csv_rows(&second), november);
+        assert_eq!(csv_rows(&first), november);
+
+        // A tap and free text narrow the file as they narrow the list, and the message says so.
+        s.log_filter.point = Some("Clearwell".into());
+        s.export_log_on("", today);
+        let third = dir.join("exports/molefeed-log-2026-11-01_2026-11-30-3.csv");
+        assert_eq!(
+            csv_rows(&third),
+            [rows("2", "original"), rows("4", "original")]
+        );
+        let filters = &s.log_note.as_ref().unwrap().parts[1];
+        assert_eq!(filters, &("filters", Note::new("log-export-narrowed")));
+        s.log_filter.point = None;
+        s.log_filter.text = "raw wat".into();
+        let typed = dir.join("november-raw.csv");
+        s.export_log_on(&typed.display().to_string(), today);
+        assert_eq!(csv_rows(&typed), [rows("3", "voided")]);
+
+        // Open ends and typed days name the file by what they cover.
+        s.log_filter.text.clear();
+        s.edit_log_dates("2026-11-30", "");
+        s.export_log_on("", today);
+        let onwards = dir.join("exports/molefeed-log-2026-11-30_onwards.csv");
+        assert_eq!(
+            csv_rows(&onwards),
+            [rows("4", "original"), rows("5", "original")]
+        );
+        s.edit_log_dates("", "20261031");
+        s.export_log_on("", today);
+        let until = dir.join("exports/molefeed-log-until_2026-10-31.csv");
+        assert_eq!(csv_rows(&until), [rows("1", "original")]);
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn bad_dates_or_an_empty_list_export_nothing() {
+        let dir = temp_dir("no-export");
+        let mut s = open(&dir, Rc::new(Unconnected));
+        let today = day("2026-12-02");
+        seed(&mut s, "2026-11-15T08:00:00Z", "Clearwell", "NaOCl", 1.0);
+        let cases = [
+            ("2026-11-31", "", "log-export-fix-dates"),
+            ("2026-12-01", "2026-11-01", "log-export-fix-dates"),
+            ("2026-12-01", "2026-12-31", "log-export-nothing"),
+        ];
+        for (from, to, want) in cases {
+            s.edit_log_dates(from, to);
+            assert!(s.filtered_entries_on(today).len() <= 1);
+            s.export_log_on("", today);
+            assert_eq!(s.log_note.as_ref().unwrap().key, want, "{from}..{to}");
+        }
+        s.edit_log_dates("2026-11-31", "");
+        assert!(
+            s.filtered_entries_on(today).is_empty(),
+            "a bad date lists nothing"
+        );
+        let written = std::fs::read_dir(dir.join("exports"))
+            .map(|d| d.count())
+            .unwrap_or(0);
+        assert_eq!(written, 0, "no file was written");
+        let _ = std::fs::remove_dir_all(&dir);
     }
 
     #[test]

@@ -84,6 +84,7 @@ fn query(args: &Args) -> Result<Query, CliError> {
         tap: args.text("tap")?.map(String::from),
         chemical: args.text("chemical")?.map(String::from),
         include_voided: args.switch("include-voided"),
+        only: None,
     })
 }
 

@@ -268,8 +268,19 @@ fn join_lines(lines: &[Text<'_>], out: &mut String) {
 
 /// Writes the matching entries as CSV with a header row; returns the number of rows.
 pub fn csv(log: &Log, query: &Query, out: &mut dyn Write) -> Result<usize> {
+    csv_header(out)?;
+    csv_rows(log, query, out)
+}
+
+/// The CSV header row alone: an export that gathers several logs (one per site) into one
+/// file writes it once, then each log's rows.
+pub fn csv_header(out: &mut dyn Write) -> Result<()> {
+    writeln!(out, "{}", CSV_COLUMNS.join(",")).map_err(write_error)
+}
+
+/// Writes the matching entries as CSV rows without a header; returns the number of rows.
+pub fn csv_rows(log: &Log, query: &Query, out: &mut dyn Write) -> Result<usize> {
     let mut out = std::io::BufWriter::new(out);
-    writeln!(out, "{}", CSV_COLUMNS.join(",")).map_err(write_error)?;
     let mut rows = 0;
     let mut row = CsvRow::default();
     log.for_each_raw(query, |raw| {

@@ -224,6 +224,10 @@ pub struct Query {
     pub tap: Option<String>,
     pub chemical: Option<String>,
     pub include_voided: bool,
+    /// Only these entries (ids of originals); `None` is every entry. The app passes the
+    /// entries its list shows, so an export holds exactly what the operator saw filtered —
+    /// the list counts UTC days and searches free text, which the fields above cannot say.
+    pub only: Option<std::collections::HashSet<Uuid>>,
 }
 
 fn days_since_epoch(date: NaiveDate) -> i64 {
@@ -613,6 +617,11 @@ impl Log {
                 let root = &self.index.slots[r as usize];
                 let day = root.local_day();
                 if day < from || day > to {
+                    return false;
+                }
+                if let Some(only) = &query.only
+                    && !only.contains(&Uuid::from_u128(root.id))
+                {
                     return false;
                 }
                 if !query.include_voided && self.index.is_voided(r) {

@@ -468,6 +468,7 @@ fn queries_by_date_tap_chemical_and_latest_per_point() {
                 tap: tap.map(String::from),
                 chemical: chemical.map(String::from),
                 include_voided: false,
+                only: None,
             })
             .unwrap();
         views.into_iter().map(|v| v.dose.note).collect::<Vec<_>>()
@@ -488,6 +489,42 @@ fn queries_by_date_tap_chemical_and_latest_per_point() {
         .map(|v| v.dose.note)
         .collect();
     assert_eq!(latest, ["alum", "mar31", "apr"]);
+}
+
+#[test]
+fn a_query_naming_entries_keeps_only_those_and_still_honours_the_other_filters() {
+    let scratch = temp_dir("only");
+    let mut log = Log::open(&scratch.join("o.doselog"), "tab-1").unwrap();
+    let mut ids = Vec::new();
+    for (tap, note) in [("inlet", "one"), ("outlet", "two"), ("inlet", "three")] {
+        ids.push(
+            log.append(entry(tap, "chlorine", "2026-03-04T08:00:00+00:00", note))
+                .unwrap(),
+        );
+    }
+    log.append(Draft::Void {
+        at: None,
+        operator: "AB".into(),
+        voids: ids[2],
+        reason: "twice".into(),
+    })
+    .unwrap();
+    let q = |only: &[Uuid], tap: Option<&str>, include_voided: bool| {
+        log.query(&Query {
+            tap: tap.map(String::from),
+            include_voided,
+            only: Some(only.iter().copied().collect()),
+            ..Query::default()
+        })
+        .unwrap()
+        .into_iter()
+        .map(|v| v.dose.note)
+        .collect::<Vec<_>>()
+    };
+    assert_eq!(q(&[ids[0], ids[2]], None, true), ["one", "three"]);
+    assert_eq!(q(&[ids[0], ids[2]], None, false), ["one"]);
+    assert_eq!(q(&[ids[1], ids[2]], Some("inlet"), true), ["three"]);
+    assert_eq!(q(&[], None, true), Vec::<String>::new());
 }
 
 #[test]
