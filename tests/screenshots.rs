@@ -7,7 +7,7 @@
 
 mod common;
 
-use molefeed::app::dose_log::{Amendment, DoseLog, MemoryLog, NewEntry};
+use molefeed::app::dose_log::{Amendment, DoseLog, MemoryLog};
 use molefeed::app::numbers::Lang;
 use molefeed::app::seams::{CalcKind, connected_engine};
 use molefeed::app::ui::{AppWindow, CalcAdapter, LogAdapter, Nav, SettingsAdapter};
@@ -80,21 +80,13 @@ fn seeded_log() -> Box<dyn DoseLog> {
     // Operator-entered records (what a person typed into the log), not computed doses.
     let mut log = MemoryLog::default();
     for (day, dose) in [(1, 1.6), (2, 1.8), (3, 1.7), (4, 2.1), (5, 1.9)] {
-        log.append(NewEntry {
-            when: format!("2026-11-0{day}T07:30:00Z"),
-            site: "Harrowmere Tarn Water Works (demo)".into(),
-            point: "Clearwell effluent".into(),
-            chemical: "NaOCl 12.5 %".into(),
-            dose_mg_per_l: dose,
-            feed_kg_per_day: None,
-            pump_setting_percent: None,
-            flow_m3_per_day: None,
-            product_l_per_hour: None,
-            trace: Vec::new(),
-            cautions: Vec::new(),
-            note: String::new(),
-            operator: "JM".into(),
-        })
+        log.append(common::typed_entry(
+            &format!("2026-11-0{day}T07:30:00Z"),
+            "Harrowmere Tarn Water Works (demo)",
+            "Clearwell effluent",
+            "NaOCl 12.5 %",
+            dose,
+        ))
         .expect("seed entry");
     }
     // One corrected and one voided entry, so the log screen shows both marks and a history.

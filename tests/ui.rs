@@ -9,7 +9,7 @@
 mod common;
 
 use i_slint_backend_testing::ElementHandle;
-use molefeed::app::dose_log::{DoseLog, MemoryLog, NewEntry};
+use molefeed::app::dose_log::{DoseLog, MemoryLog};
 use molefeed::app::i18n::Texts;
 use molefeed::app::numbers::{self, Lang};
 use molefeed::app::seams::{Unconnected, connected_engine};
@@ -460,21 +460,13 @@ fn start_with_log(width: f32, height: f32) -> (AppWindow, AppHandle) {
         ("2026-12-01T07:00:00Z", "Raw water", "NaOH", 12.0),
         ("2026-12-01T08:00:00Z", "Clearwell", "NaOCl", 1.7),
     ] {
-        log.append(NewEntry {
-            when: when.into(),
-            site: "Demo site".into(),
-            point: point.into(),
-            chemical: chemical.into(),
-            dose_mg_per_l: dose,
-            feed_kg_per_day: None,
-            pump_setting_percent: None,
-            flow_m3_per_day: None,
-            product_l_per_hour: None,
-            trace: Vec::new(),
-            cautions: Vec::new(),
-            note: String::new(),
-            operator: "JM".into(),
-        })
+        log.append(common::typed_entry(
+            when,
+            "Demo site",
+            point,
+            chemical,
+            dose,
+        ))
         .expect("seed entry");
     }
     let app = AppWindow::new().expect("window");
@@ -639,22 +631,8 @@ fn typed_days_filter_the_list_and_the_export_holds_exactly_those_entries() {
         ("2026-11-30T23:55:00Z", "Raw water", 3.3),
         ("2026-12-01T06:00:00Z", "Clearwell", 4.4),
     ] {
-        log.append(NewEntry {
-            when: when.into(),
-            site: "Demo site".into(),
-            point: point.into(),
-            chemical: "NaOCl".into(),
-            dose_mg_per_l: dose,
-            feed_kg_per_day: None,
-            pump_setting_percent: None,
-            flow_m3_per_day: None,
-            product_l_per_hour: None,
-            trace: Vec::new(),
-            cautions: Vec::new(),
-            note: String::new(),
-            operator: "JM".into(),
-        })
-        .expect("seed entry");
+        log.append(common::typed_entry(when, "Demo site", point, "NaOCl", dose))
+            .expect("seed entry");
     }
     let app = AppWindow::new().expect("window");
     let _handle = attach(

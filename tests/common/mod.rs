@@ -7,6 +7,7 @@
 //! proves the app starts on a machine without fonts.
 #![allow(dead_code)]
 
+use molefeed::app::dose_log::NewEntry;
 use molefeed::app::seams::{
     CalcEngine, CalcOutcome, CalcRequest, Caution, CautionLevel, SeamError, TraceLine,
 };
@@ -67,5 +68,25 @@ impl CalcEngine for EchoEngine {
                 },
             ],
         })
+    }
+}
+
+/// A dose as an operator typed it into the log: no computed feed, trace or cautions, initials
+/// "JM". The UI and screenshot tests seed their logs with these.
+pub fn typed_entry(when: &str, site: &str, point: &str, chemical: &str, dose: f64) -> NewEntry {
+    NewEntry {
+        when: when.into(),
+        site: site.into(),
+        point: point.into(),
+        chemical: chemical.into(),
+        dose_mg_per_l: dose,
+        feed_kg_per_day: None,
+        pump_setting_percent: None,
+        flow_m3_per_day: None,
+        product_l_per_hour: None,
+        trace: Vec::new(),
+        cautions: Vec::new(),
+        note: String::new(),
+        operator: "JM".into(),
     }
 }
