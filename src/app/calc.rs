@@ -384,7 +384,7 @@ impl CalcController {
             .as_ref()
             .and_then(|id| self.max_use_levels.get(id))
             .copied();
-        let request = (!empty && !invalid).then(|| CalcRequest {
+        let request = (!empty && !invalid).then_some(CalcRequest {
             kind: self.kind,
             mode: self.mode,
             product,
@@ -919,7 +919,7 @@ mod tests {
         c.edit("ph", "");
         let saved: CalcInputs =
             serde_json::from_str(&serde_json::to_string(&c.inputs()).unwrap()).unwrap();
-        assert!(saved.texts.get("ph").is_none(), "empty fields are not kept");
+        assert!(!saved.texts.contains_key("ph"), "empty fields are not kept");
         let mut back = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Si);
         back.restore(&saved);
         assert_eq!(

@@ -234,7 +234,7 @@ impl DateRange {
 /// A typed day: `2026-11-30`, or its eight digits `20261130` — all a numeric keypad can type,
 /// as it has no hyphen. Empty is an open end. The year must have four digits, so `26-11-30`
 /// is refused rather than read as the year 26; chrono checks the day exists (no 30 February).
-pub fn parse_day(text: &str) -> Result<Option<NaiveDate>, ()> {
+pub fn parse_day(text: &str) -> Result<Option<NaiveDate>, NotADay> {
     let text = text.trim();
     if text.is_empty() {
         return Ok(None);
@@ -245,13 +245,17 @@ pub fn parse_day(text: &str) -> Result<Option<NaiveDate>, ()> {
     } else {
         match text.split('-').collect::<Vec<_>>()[..] {
             [y, m, d] if y.len() == 4 && digits(y) && digits(m) && digits(d) => "%Y-%m-%d",
-            _ => return Err(()),
+            _ => return Err(NotADay),
         }
     };
     NaiveDate::parse_from_str(text, format)
         .map(Some)
-        .map_err(|_| ())
+        .map_err(|_| NotADay)
 }
+
+/// Text that is not a day [`parse_day`] reads; the screen says which field it was in.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct NotADay;
 
 /// Today's date in UTC, the calendar the list's times are shown in.
 pub fn utc_today() -> NaiveDate {
@@ -828,9 +832,9 @@ impl AppState {
             return Ok(span);
         }
         let from = parse_day(&f.from_text)
-            .map_err(|()| Note::new(key("log-from-bad")).arg("text", f.from_text.trim()))?;
+            .map_err(|NotADay| Note::new(key("log-from-bad")).arg("text", f.from_text.trim()))?;
         let to = parse_day(&f.to_text)
-            .map_err(|()| Note::new(key("log-to-bad")).arg("text", f.to_text.trim()))?;
+            .map_err(|NotADay| Note::new(key("log-to-bad")).arg("text", f.to_text.trim()))?;
         if let (Some(a), Some(b)) = (from, to)
             && a > b
         {

@@ -213,10 +213,13 @@ impl Strength {
     }
 }
 
+/// (is a product, formula, coefficient) for each species of a balanced reaction.
+type SpeciesKey = Vec<(bool, String, u64)>;
+
 /// The species of a balanced reaction with their coefficients, in an order that does not
 /// depend on how the equation was written: sorted, and taken in whichever direction sorts
 /// first, so `A + B -> C` and `C <- B + A` (or `C -> A + B`) compare equal.
-fn same_reaction_key(r: &Reaction) -> Vec<(bool, String, u64)> {
+fn same_reaction_key(r: &Reaction) -> SpeciesKey {
     let side = |flip: bool| {
         let mut key: Vec<(bool, String, u64)> = r
             .species()
@@ -305,8 +308,7 @@ impl Catalog {
 
     /// Checks every formula and reaction in the catalog: used by tests and at app start.
     pub fn validate(&self) -> Result<()> {
-        let mut seen: Vec<(&str, Vec<(bool, String, u64)>)> =
-            Vec::with_capacity(self.reactions.len());
+        let mut seen: Vec<(&str, SpeciesKey)> = Vec::with_capacity(self.reactions.len());
         for r in &self.reactions {
             let balanced = Reaction::balance(&r.equation).map_err(|e| e.with("reaction", &r.id))?;
             let balanced = same_reaction_key(&balanced);
