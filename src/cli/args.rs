@@ -120,6 +120,7 @@ impl Args {
         parse_number(text).map(Some).ok_or_else(|| CliError {
             kind: "invalid-input".into(),
             message: format!("--{name} must be a number, got '{text}'"),
+            reason: None,
         })
     }
 

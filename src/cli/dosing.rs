@@ -70,6 +70,7 @@ fn measured(args: &Args, name: &str) -> Result<Option<Measured>, CliError> {
     Measured::parse(text).map(Some).map_err(|_| CliError {
         kind: "invalid-input".into(),
         message: format!("--{name} must be a number, got '{text}'"),
+        reason: None,
     })
 }
 

@@ -36,6 +36,7 @@ fn log_error(e: log::Error) -> CliError {
     CliError {
         kind: e.kind().code().into(),
         message: e.to_string(),
+        reason: None,
     }
 }
 
@@ -110,6 +111,7 @@ fn append(args: &Args) -> CliResult {
     let draft: Draft = serde_json::from_str(&text).map_err(|e| CliError {
         kind: "invalid-entry".into(),
         message: format!("the entry on stdin is not valid: {e}"),
+        reason: None,
     })?;
     let id = log.append(draft).map_err(log_error)?;
     Ok(Report {
@@ -166,6 +168,7 @@ fn history(args: &Args) -> CliResult {
         return Err(CliError {
             kind: log::ErrorKind::UnknownReference.code().into(),
             message: format!("no entry {id} in this log"),
+            reason: None,
         });
     }
     let human = records

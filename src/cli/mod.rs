@@ -1,7 +1,8 @@
 //! The command-line interface: the machine interface used by tests, scripts and support staff.
 //!
 //! Every subcommand prints human text, or exactly one JSON object with `--json`. Failures exit
-//! non-zero with one line on stderr (and, with `--json`, `{"error": {"kind", "message"}}` on
+//! non-zero with one line on stderr (and, with `--json`, `{"error": {"kind", "message"}}`, plus
+//! the engine's `reason` code where it gave one, on
 //! stdout) so scripts never have to parse prose. Each subcommand is a function from parsed
 //! [`Args`] to a [`Report`]; `molefeed batch` calls the same functions, so a batch line and the
 //! subcommand always agree.
@@ -28,6 +29,8 @@ pub struct Report {
 pub struct CliError {
     pub kind: String,
     pub message: String,
+    /// The engine's reason code, where it gave one (what the app translates).
+    pub reason: Option<&'static str>,
 }
 
 impl CliError {
@@ -35,6 +38,7 @@ impl CliError {
         CliError {
             kind: "usage".into(),
             message: message.into(),
+            reason: None,
         }
     }
 
@@ -42,11 +46,16 @@ impl CliError {
         CliError {
             kind: "io".into(),
             message: message.into(),
+            reason: None,
         }
     }
 
     pub fn to_json(&self) -> Value {
-        json!({"error": {"kind": self.kind, "message": self.message}})
+        let mut error = json!({"kind": self.kind, "message": self.message});
+        if let Some(reason) = self.reason {
+            error["reason"] = json!(reason);
+        }
+        json!({ "error": error })
     }
 }
 
@@ -55,6 +64,7 @@ impl From<crate::engine::Error> for CliError {
         CliError {
             kind: e.kind().code().into(),
             message: e.to_string(),
+            reason: e.reason(),
         }
     }
 }

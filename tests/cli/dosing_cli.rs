@@ -198,9 +198,15 @@ fn errors_and_typos_fail_cleanly() {
     ));
     assert_eq!(code, 1);
     assert_eq!(json["error"]["kind"], "out-of-range");
+    // The same reason code the app translates, so a script can tell refusals apart.
+    assert_eq!(json["error"]["reason"], "not-positive");
     let (code, json, _) = run(&format!(
         "feed --flow 2.5 --flow-unit mgd --dose 3 {HYPO} --sg 3.1 --json"
     ));
+    assert!(
+        json["error"].get("reason").is_none(),
+        "a usage error has no reason: {json}"
+    );
     assert_eq!(code, 2, "duplicate --sg is a usage error: {json}");
     let (code, json, _) = run(
         "feed --flow 2.5 --flow-unit mgd --dose 3 --product sodium-hypochlorite --strength 12.5 --strength-basis trade --sg 2.6 --json",
