@@ -115,6 +115,32 @@ SELECTED_OUTPUT 1
 """
 
 
+# phreeqc.dat has no brucite: the engine's constants (data/water-constants.json, from WATEQ4F as
+# shipped in phreeqpython's wateq4f_PWN.dat) are given to PHREEQC here, so the softening check
+# tests the simultaneous equilibrium, not a different constant.
+BRUCITE = """
+PHASES
+Brucite
+    Mg(OH)2 + 2H+ = Mg+2 + 2H2O
+    -log_k 16.84
+    -delta_h -27.1 kcal
+"""
+
+SELECT_SOFTENING = """
+SELECTED_OUTPUT 1
+    -reset false
+    -high_precision true
+    -pH true
+    -alkalinity true
+    -totals Ca Mg C(4)
+    -equilibrium_phases Calcite Brucite
+"""
+
+# Lime doses (mg/L Ca(OH)2) for the softening check: from part of the carbonate hardness to
+# well past it (excess lime, magnesium removal).
+SOFTENING_LIME = (60.0, 180.0, 350.0)
+
+
 def solution_block(w, extra=""):
     wid, t, ph, alk, ca, mg, na, k, cl, so4 = w
     lines = [
@@ -223,6 +249,26 @@ def main():
                         "ionic_strength": r["mu"],
                         "si_calcite": r["si_Calcite"],
                     })
+    # Lime softening at equilibrium: calcite and brucite may precipitate (not dissolve) together.
+    softening = []
+    for w in WATERS:
+        w = balance_chloride(w)
+        for dose in SOFTENING_LIME:
+            text = HYPOCHLORITE + BRUCITE + solution_block(w)
+            text += f"REACTION 1\n    Ca(OH)2 1\n    {dose / mass('Ca(OH)2'):.12g} mmol\n"
+            text += "EQUILIBRIUM_PHASES 1\n    Calcite 0 0\n    Brucite 0 0\n"
+            text += SELECT_SOFTENING + "END\n"
+            r = run(pp, text)
+            softening.append({
+                "water": w[0],
+                "lime_mg_l": dose,
+                "ph": r["pH"],
+                "alkalinity_mg_l_as_caco3": r["Alk(eq/kgw)"] * 1000 * M["CaCO3"] / 2,
+                "calcium_mg_l_as_caco3": r["Ca(mol/kgw)"] * 1000 * M["CaCO3"],
+                "magnesium_mg_l_as_caco3": r["Mg(mol/kgw)"] * 1000 * M["CaCO3"],
+                "calcite_mg_l": r["d_Calcite"] * 1000 * M["CaCO3"],
+                "brucite_mg_l": r["d_Brucite"] * 1000 * mass("Mg(OH)2"),
+            })
     out = {
         "about": "PHREEQC reference results for the water engine, written by tools/gen_water_fixture.py; do not edit by hand.",
         "source": "PHREEQC 3 (IPhreeqc bundled with phreeqpython) with phreeqc.dat (Parkhurst & Appelo 2013, USGS TM 6-A43) plus a hypochlorite species (Morris 1966)",
@@ -235,12 +281,14 @@ def main():
         "units": "concentrations in mg/L as given to the engine; PHREEQC got the same numbers of mmol per kg of water",
         "waters": waters,
         "doses": doses,
+        "softening": softening,
     }
     path = os.path.join(os.path.dirname(__file__), "..", "tests", "fixtures", "water_phreeqc.json")
     with open(path, "w") as f:
         json.dump(out, f, indent=1)
         f.write("\n")
-    print(f"wrote {len(waters)} waters and {len(doses)} dosed cases to {os.path.normpath(path)}")
+    print(f"wrote {len(waters)} waters, {len(doses)} dosed and {len(softening)} softening cases"
+          f" to {os.path.normpath(path)}")
 
 
 if __name__ == "__main__":

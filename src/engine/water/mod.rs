@@ -13,12 +13,14 @@
 pub mod activity;
 pub mod chemicals;
 pub mod constants;
+pub mod softening;
 pub mod solve;
 pub mod speciation;
 pub mod stability;
 
 pub use chemicals::{Catalog, Chemical};
 pub use constants::Component;
+pub use softening::{Softened, soften};
 pub use stability::{Stability, stability};
 
 use crate::engine::{Error, ErrorKind, Result, check_range};

@@ -9,7 +9,7 @@
 
 use super::constants::Component;
 use super::solve::brent;
-use super::speciation::Problem;
+use super::speciation::{Problem, Solver, Speciation};
 use super::{WaterState, masses};
 use crate::engine::{Error, ErrorKind, Result};
 
@@ -119,16 +119,28 @@ fn phs(state: &WaterState, calcite: usize, alk: f64, guess: f64) -> Option<f64> 
 
 /// mol/L of CaCO3 to precipitate (+) or dissolve (−) for SI = 0 in a closed system.
 fn ccpp(state: &WaterState, calcite: usize) -> Result<f64> {
-    let s = &state.solver;
-    let si0 = s.saturation_index(&state.sp, calcite);
+    let si0 = state.solver.saturation_index(&state.sp, calcite);
+    calcite_to_saturation(&state.solver, &state.problem, &state.sp, si0, calcite).map(|(x, _)| x)
+}
+
+/// The CaCO3 (mol/L) that leaves (+) or joins (−) the water of problem `base`, whose
+/// speciation `sp0` has calcite saturation index `si0`, for SI = 0, and the speciation then.
+/// Caps in `base` (hydroxide phases) stay in force at every step, so a phase that
+/// precipitates alongside calcite is kept at its own equilibrium.
+pub(super) fn calcite_to_saturation(
+    s: &Solver,
+    base: &Problem,
+    sp0: &Speciation,
+    si0: f64,
+    calcite: usize,
+) -> Result<(f64, Speciation)> {
     if si0 == 0.0 {
-        return Ok(0.0);
+        return Ok((0.0, sp0.clone()));
     }
-    let base: Problem = state.problem.clone();
     let ca = base.totals[Component::Ca.index()];
     let dic = base.totals[Component::CO3.index()];
     let mut failure = None;
-    let mut warm = state.sp.clone();
+    let mut warm = sp0.clone();
     let mut si_after = |x: f64| {
         let mut p = base.clone();
         p.totals[Component::Ca.index()] = ca - x;
@@ -162,10 +174,14 @@ fn ccpp(state: &WaterState, calcite: usize) -> Result<f64> {
     if let Some(e) = failure {
         return Err(e);
     }
-    root.ok_or_else(|| {
+    let x = root.ok_or_else(|| {
         Error::new(
             ErrorKind::OutOfRange,
             "no amount of CaCO3 brings this water to saturation",
         )
-    })
+    })?;
+    let mut p = base.clone();
+    p.totals[Component::Ca.index()] = ca - x;
+    p.totals[Component::CO3.index()] = dic - x;
+    Ok((x, s.solve(&p, Some(sp0))?))
 }
