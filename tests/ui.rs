@@ -414,17 +414,15 @@ fn softening_shows_lime_and_soda_ash() {
     }
     let result = ready(&handle);
     assert_eq!(result.chemical, "product-quicklime");
-    assert_eq!(
-        one(&app, &en("result-soda-ash-dose"))
-            .accessible_value()
-            .unwrap(),
-        result
-            .extras
-            .iter()
-            .find(|e| e.key == "soda-ash-dose")
-            .unwrap()
-            .value
-    );
+    for key in ["soda-ash-dose", "ph-softened", "hardness-softened"] {
+        assert_eq!(
+            one(&app, &en(&format!("result-{key}")))
+                .accessible_value()
+                .unwrap(),
+            result.extras.iter().find(|e| e.key == key).unwrap().value,
+            "{key}"
+        );
+    }
     assert_eq!(
         one(&app, &en("result-pump")).accessible_value().unwrap(),
         "—"

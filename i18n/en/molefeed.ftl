@@ -68,6 +68,8 @@ result-soda-ash-as-delivered = Soda ash as delivered
 result-free-co2 = Free carbon dioxide (from pH and alkalinity)
 result-magnesium-removed = Magnesium to remove (as Mg)
 result-non-carbonate-hardness = Non-carbonate hardness
+result-ph-softened = pH after softening, at equilibrium
+result-hardness-softened = Hardness left, at equilibrium (a basin leaves more)
 
 ## Show the work
 trace-ph-adjustment = Dose to reach the target pH

@@ -68,6 +68,8 @@ result-soda-ash-as-delivered = Carbonato de sodio tal como se entrega
 result-free-co2 = Dióxido de carbono libre (de pH y alcalinidad)
 result-magnesium-removed = Magnesio a eliminar (como Mg)
 result-non-carbonate-hardness = Dureza no carbonatada
+result-ph-softened = pH tras el ablandamiento, en equilibrio
+result-hardness-softened = Dureza restante, en equilibrio (un decantador deja más)
 
 ## Mostrar el cálculo
 trace-ph-adjustment = Dosis para alcanzar el pH objetivo

@@ -919,7 +919,10 @@ mod tests {
         c.edit("ph", "");
         let saved: CalcInputs =
             serde_json::from_str(&serde_json::to_string(&c.inputs()).unwrap()).unwrap();
-        assert!(!saved.texts.keys().any(|k| k == "ph"), "empty fields are not kept");
+        assert!(
+            !saved.texts.keys().any(|k| k == "ph"),
+            "empty fields are not kept"
+        );
         let mut back = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Si);
         back.restore(&saved);
         assert_eq!(

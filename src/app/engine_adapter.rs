@@ -524,7 +524,44 @@ impl DosingEngine {
             removal.non_carbonate_hardness.value,
             Q::AsCaCO3,
         );
+        let softened = self.softened_water(request, s.lime_caoh2_mg_l, s.soda_ash_mg_l)?;
+        extra("ph-softened", softened.water.ph, Q::Index);
+        extra(
+            "hardness-softened",
+            softened.calcium_hardness_mg_l_as_caco3 + softened.magnesium_hardness_mg_l_as_caco3,
+            Q::AsCaCO3,
+        );
         Ok(out)
+    }
+
+    /// The water the doses would leave at equilibrium: the analysis as a water (calcium and
+    /// magnesium from the hardness readings), the soda ash dissolved, then the lime added with
+    /// calcite and brucite precipitating (`water::soften`). Lime is counted as Ca(OH)2 whether
+    /// it is fed hydrated or as quicklime: slaking makes the one from the other, mole for mole.
+    fn softened_water(
+        &self,
+        request: &CalcRequest,
+        lime_caoh2_mg_l: f64,
+        soda_ash_mg_l: f64,
+    ) -> Result<water::Softened, Error> {
+        let total = value(request, "total-hardness")?;
+        let calcium = value(request, "calcium-hardness")?;
+        let water = WaterState::new(
+            &WaterInput::new(
+                value(request, "ph")?,
+                value(request, "temperature")?,
+                value(request, "alkalinity")?,
+            )
+            .with_calcium_as_caco3(calcium)
+            .with_magnesium_as_caco3(total - calcium),
+        )?;
+        let chemicals = water::Catalog::embedded()?;
+        let with_soda = water.dosed(
+            chemicals.find("soda-ash")?,
+            soda_ash_mg_l,
+            Precipitation::None,
+        )?;
+        water::soften(&with_soda, chemicals.find("lime")?, lime_caoh2_mg_l)
     }
 
     /// Pump cross-check: the dose a drawdown actually delivers, and the setting to reach the
@@ -1222,6 +1259,37 @@ mod tests {
             ))
             .unwrap();
         assert_eq!(quick.dose_mg_per_l, Some(direct.lime_cao_mg_l));
+        // The equilibrium end point: the same water through the water engine directly.
+        let chemicals = water::Catalog::embedded().unwrap();
+        let raw = WaterState::new(
+            &WaterInput::new(7.6, 14.0, 180.0)
+                .with_calcium_as_caco3(190.0)
+                .with_magnesium_as_caco3(70.0),
+        )
+        .unwrap();
+        let soda = raw
+            .dosed(
+                chemicals.find("Na2CO3").unwrap(),
+                direct.soda_ash_mg_l,
+                Precipitation::None,
+            )
+            .unwrap();
+        let end = water::soften(
+            &soda,
+            chemicals.find("Ca(OH)2").unwrap(),
+            direct.lime_caoh2_mg_l,
+        )
+        .unwrap();
+        assert_eq!(extra(&out, "ph-softened"), Some(end.water.ph));
+        assert_eq!(
+            extra(&out, "hardness-softened"),
+            Some(end.calcium_hardness_mg_l_as_caco3 + end.magnesium_hardness_mg_l_as_caco3)
+        );
+        // Excess lime takes the water past pH 10 and most of the hardness out.
+        assert!(end.water.ph > 10.0, "{}", end.water.ph);
+        assert!(extra(&out, "hardness-softened").unwrap() < 100.0);
+        // Quicklime is the same moles of lime: the same end point.
+        assert_eq!(extra(&quick, "ph-softened"), Some(end.water.ph));
     }
 
     #[test]

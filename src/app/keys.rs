@@ -152,6 +152,8 @@ pub const EXTRA_KEYS: &[&str] = &[
     "free-co2",
     "magnesium-removed",
     "non-carbonate-hardness",
+    "ph-softened",
+    "hardness-softened",
 ];
 
 /// Trace labels (`trace-<label>`): the engine's named traces and the adapter's own.
