@@ -1,9 +1,10 @@
 //! Timing of the water engine: forward pH after a dose, dose for a target pH, a 200-point
-//! curve, and stability, on an invented moderately hard water.
+//! curve, stability, and lime softening to equilibrium, on an invented moderately hard water.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use molefeed::engine::water::{
-    Catalog, Precipitation, WaterInput, WaterState, curve, dose_for_ph, ph_after, stability,
+    Catalog, Precipitation, WaterInput, WaterState, curve, dose_for_ph, ph_after, soften,
+    stability,
 };
 use std::hint::black_box;
 
@@ -40,6 +41,9 @@ fn benches(c: &mut Criterion) {
         b.iter(|| WaterState::new(black_box(&WaterInput::new(7.4, 15.0, 110.0))))
     });
     c.bench_function("stability", |b| b.iter(|| stability(black_box(&state))));
+    c.bench_function("soften with 150 mg/L lime to equilibrium", |b| {
+        b.iter(|| soften(&state, lime, black_box(150.0)))
+    });
 }
 
 criterion_group!(water_benches, benches);
