@@ -3,8 +3,7 @@
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use molefeed::engine::water::{
-    Catalog, Precipitation, WaterInput, WaterState, curve, dose_for_ph, ph_after, soften,
-    stability,
+    Catalog, Precipitation, WaterInput, WaterState, curve, dose_for_ph, ph_after, soften, stability,
 };
 use std::hint::black_box;
 

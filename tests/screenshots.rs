@@ -304,3 +304,65 @@ fn coagulation_and_its_curve_render() {
     }
     assert!(failures.is_empty(), "blank or textless: {failures:?}");
 }
+
+/// Chlorine gas on a phone, English and Spanish (the longer labels), in a window tall enough
+/// to hold the inputs and the whole results card: the feeder fields, the rate to set, the
+/// feeder setting and the "no product volume" sentence must fit at 400 px.
+#[test]
+fn chlorine_gas_renders_at_phone_width() {
+    common::bundled_fonts_only();
+    let window = MinimalSoftwareWindow::new(RepaintBufferType::NewBuffer);
+    slint::platform::set_platform(Box::new(Headless(window.clone())))
+        .expect("first platform on this thread");
+    let app = AppWindow::new().expect("window");
+    let handle = attach(
+        &app,
+        Deps {
+            engine: connected_engine(),
+            log: seeded_log(),
+            data_dir: None,
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    {
+        let mut st = handle.state.borrow_mut();
+        st.open_calculator(CalcKind::Chlorination);
+        let gas = st
+            .calc
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "chlorine-gas")
+            .expect("chlorine gas offered");
+        st.calc.set_product(gas);
+        st.prefill_from_site();
+        for (name, text) in [
+            ("chlorine-demand", "1.50"),
+            ("residual-target", "1.00"),
+            ("purity", "100.0"),
+            ("gas-feeder-capacity", "100.0"),
+        ] {
+            st.calc.edit(name, text);
+        }
+    }
+    handle.refresh();
+    app.show().expect("show");
+    let out = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
+    std::fs::create_dir_all(&out).unwrap();
+    let (w, h) = (400, 2200);
+    let mut failures = Vec::new();
+    for (lang, name) in [
+        (0, "calculators-phone-chlorine-gas"),
+        (1, "calculators-phone-chlorine-gas-es"),
+    ] {
+        app.global::<SettingsAdapter>().invoke_set_lang(lang);
+        app.global::<Nav>().invoke_go(1);
+        let pixels = render(&window, w, h);
+        save_png(&out.join(format!("{name}.png")), &pixels, w, h);
+        if dark_pixels(&pixels, w, h, true) < 5000 {
+            failures.push(name);
+        }
+    }
+    assert!(failures.is_empty(), "blank or textless: {failures:?}");
+}

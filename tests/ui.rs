@@ -423,8 +423,12 @@ fn softening_shows_lime_and_soda_ash() {
             "{key}"
         );
     }
+    // Lime is dry-fed: its card speaks of a feeder; without the feeder's scale, no setting.
+    assert_eq!(count(&app, &en("result-pump")), 0);
     assert_eq!(
-        one(&app, &en("result-pump")).accessible_value().unwrap(),
+        one(&app, &en("result-feeder-setting"))
+            .accessible_value()
+            .unwrap(),
         "—"
     );
     assert_cautions_shown(&app, &result);
@@ -850,4 +854,96 @@ fn ammonia_may_stay_empty_and_when_typed_adds_the_breakpoint_dose() {
             .value
     );
     assert!(after.outcome.dose_mg_per_l > before.outcome.dose_mg_per_l);
+}
+
+/// Chlorine gas through a rotameter, typed from scratch: the feeder setting on screen is the
+/// engine's `feed()` with a gas feeder, rounded as the card says.
+#[test]
+fn chlorine_gas_is_set_on_its_gas_feeder() {
+    use molefeed::engine::dosing::catalog::{Catalog, Strength, StrengthBasis};
+    use molefeed::engine::dosing::feed::{FeedInput, PumpKind, UsableRange, feed};
+    use molefeed::engine::dosing::units::{Flow, FlowUnit, MassRateUnit};
+    use molefeed::engine::sigfig::Measured;
+
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-chlorination"));
+    tap(&app, &en("product-chlorine-gas"));
+    for (key, text) in [
+        ("field-flow", "2.40"),
+        ("field-chlorine-demand", "1.50"),
+        ("field-residual-target", "1.00"),
+        ("field-purity", "100.0"),
+        ("field-gas-feeder-capacity", "100.0"),
+    ] {
+        type_into(&app, &en(key), text);
+    }
+    let result = ready(&handle);
+    assert_eq!(result.chemical, "product-chlorine-gas");
+    let catalog = Catalog::builtin().unwrap();
+    let direct = feed(
+        &catalog,
+        &FeedInput {
+            flow: Flow::new(Measured::exact(2.40), FlowUnit::Mgd),
+            dose: Measured::exact(2.50),
+            product: "chlorine-gas".into(),
+            strength: Strength::new(Measured::exact(100.0), StrengthBasis::Purity, None),
+            pump: Some(PumpKind::GasFeeder {
+                capacity: 100.0,
+                unit: MassRateUnit::LbPerDay,
+            }),
+            usable_range: UsableRange::default(),
+            max_use_level_mg_l: None,
+        },
+    )
+    .unwrap();
+    let percent = direct.pump.unwrap().percent;
+    let shown = |key: &str| one(&app, &en(key)).accessible_value().unwrap();
+    assert_eq!(
+        shown("result-feeder-setting"),
+        numbers::format_sig(percent, result.figures, Lang::En)
+    );
+    assert_eq!(
+        shown("result-feeder-rate"),
+        numbers::format_sig(direct.product_lb_per_day, result.figures, Lang::En)
+    );
+    assert_eq!(shown("result-dose"), "2.50");
+    assert_cautions_shown(&app, &result);
+}
+
+/// A gas has no specific gravity and no product volume: neither is asked for nor shown, and
+/// the card says why; back on hypochlorite both return.
+#[test]
+fn chlorine_gas_offers_no_specific_gravity_or_product_volume() {
+    let (app, _handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-chlorination"));
+    // Hypochlorite (the demo plant's) first: its SG and pump are asked for.
+    one(&app, &en("field-specific-gravity"));
+    one(&app, &en("field-pump-capacity"));
+    tap(&app, &en("product-chlorine-gas"));
+    for label in [
+        "field-specific-gravity",
+        "field-pump-capacity",
+        "field-strength",
+    ] {
+        assert_eq!(count(&app, &en(label)), 0, "{label} offered for a gas");
+    }
+    one(&app, &en("field-purity"));
+    one(&app, &en("field-gas-feeder-capacity"));
+    type_into(&app, &en("field-chlorine-demand"), "1.5");
+    type_into(&app, &en("field-residual-target"), "1.0");
+    type_into(&app, &en("field-purity"), "100");
+    type_into(&app, &en("field-gas-feeder-capacity"), "100");
+    assert_eq!(count(&app, &en("result-product")), 0, "a volume for a gas");
+    assert_eq!(count(&app, &en("result-pump")), 0);
+    let note = Texts::new(Lang::En).get_args(
+        "result-no-volume-gas",
+        &[("product", en("product-chlorine-gas"))],
+    );
+    one(&app, &note);
+    tap(&app, &en("product-sodium-hypochlorite"));
+    one(&app, &en("field-specific-gravity"));
+    one(&app, &en("result-product"));
+    assert_eq!(count(&app, &note), 0);
 }

@@ -46,6 +46,16 @@ calc-no-cautions = The engine raised no cautions for these inputs. Check them ag
 calc-cautions-pending = Cautions appear with the result.
 advisory-note = Advisory only: a licensed operator decides the feed, under the plant's permit and local codes.
 
+# Calculators: gas and dry feeders (products fed by mass)
+field-purity = Product purity
+field-gas-feeder-capacity = Gas feeder (rotameter) full scale
+field-dry-feeder-capacity = Dry feeder full scale
+field-lime-feeder-capacity = Lime feeder full scale
+result-feeder-rate = Feeder rate to set (product)
+result-feeder-setting = Feeder setting (% of full scale)
+result-no-volume-gas = No product volume: { $product } is a gas, fed and set by mass.
+result-no-volume-dry = No product volume: { $product } is a dry chemical, fed and set by mass.
+
 ## Result figures
 result-dose = Dose
 result-feed = Feed mass per day

@@ -46,6 +46,16 @@ calc-no-cautions = El motor no señaló precauciones para estas entradas. Compá
 calc-cautions-pending = Las precauciones aparecen con el resultado.
 advisory-note = Solo orientativo: un operador con licencia decide la dosificación, según el permiso de la planta y la normativa local.
 
+# Calculadoras: dosificadores de gas y de sólidos (productos dosificados por masa)
+field-purity = Pureza del producto
+field-gas-feeder-capacity = Escala completa del dosificador de gas (rotámetro)
+field-dry-feeder-capacity = Escala completa del dosificador de sólidos
+field-lime-feeder-capacity = Escala completa del dosificador de cal
+result-feeder-rate = Caudal a ajustar en el dosificador (producto)
+result-feeder-setting = Ajuste del dosificador (% de la escala)
+result-no-volume-gas = Sin volumen de producto: { $product } es un gas, se dosifica y ajusta por masa.
+result-no-volume-dry = Sin volumen de producto: { $product } es un sólido seco, se dosifica y ajusta por masa.
+
 ## Cifras del resultado
 result-dose = Dosis
 result-feed = Masa por día

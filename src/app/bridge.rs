@@ -261,7 +261,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         {
             let mut st = i.state.borrow_mut();
             // The field list alone names the row; no need to compute a result for it.
-            let fields = super::calc::fields(st.calc.kind(), st.calc.mode());
+            let fields = st.calc.fields();
             if let Some(field) = fields.get(index.max(0) as usize) {
                 st.calc.edit(field.name, text.as_str());
             }
@@ -868,7 +868,13 @@ impl Inner {
                 adapter.set_feed_unit(s(self.unit(r.feed_unit)));
                 adapter.set_product(s(&r.product));
                 adapter.set_product_unit(s(self.unit(r.product_unit)));
+                adapter.set_product_caption(s(self.t(r.product_caption)));
                 adapter.set_pump(s(&r.pump));
+                adapter.set_pump_caption(s(self.t(r.pump_caption)));
+                adapter.set_no_volume_note(s(r
+                    .no_volume_note
+                    .map(|k| texts.get_args(k, &[("product", self.name(&r.chemical))]))
+                    .unwrap_or_default()));
                 adapter.set_extras(model(
                     r.extras
                         .iter()
@@ -949,6 +955,7 @@ impl Inner {
                 adapter.set_feed(s(""));
                 adapter.set_product(s(""));
                 adapter.set_pump(s(""));
+                adapter.set_no_volume_note(s(""));
                 adapter.set_chemical(s(""));
                 adapter.set_extras(model(Vec::new()));
                 adapter.set_figures_note(s(""));

@@ -9,8 +9,8 @@
 
 use super::numbers::{self, Lang, NumberError};
 use super::seams::{
-    CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, ProductChoice, SeamError,
-    TraceLine,
+    CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, FeedForm, ProductChoice,
+    SeamError, TraceLine,
 };
 use super::units::{Quantity, Unit, UnitSystem};
 use crate::engine;
@@ -56,9 +56,31 @@ const PRODUCT: [FieldSpec; 3] = [
     f("pump-capacity", Q::VolumePerHour),
 ];
 
-/// The inputs of `kind` in `mode`, in screen order. Values reach the engine in SI under these
-/// names (`flow` m³/d, `temperature` °C, concentrations mg/L, percentages as percent).
-pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
+/// A gas or dry product is fed by mass: its purity and the feeder's full scale, no SG. The
+/// names differ from the liquid ones so that a liquid's strength, SG or pump volume can never
+/// feed a gas or dry calculation (and the other way round) after the product is switched.
+const GAS: [FieldSpec; 2] = [
+    f("purity", Q::Percent),
+    f("gas-feeder-capacity", Q::MassPerDay),
+];
+const DRY: [FieldSpec; 2] = [
+    f("purity", Q::Percent),
+    f("dry-feeder-capacity", Q::MassPerDay),
+];
+
+/// The product inputs for a product fed as `form`.
+fn product_fields(form: FeedForm) -> &'static [FieldSpec] {
+    match form {
+        FeedForm::Liquid => &PRODUCT,
+        FeedForm::Gas => &GAS,
+        FeedForm::Dry => &DRY,
+    }
+}
+
+/// The inputs of `kind` in `mode` for a product fed as `form`, in screen order. Values reach
+/// the engine in SI under these names (`flow` m³/d, `temperature` °C, concentrations mg/L,
+/// percentages as percent, feeder scales kg/d).
+pub fn fields(kind: CalcKind, mode: CalcMode, form: FeedForm) -> Vec<FieldSpec> {
     let mut v = match (kind, mode) {
         (CalcKind::PhControl, _) => vec![
             f("flow", Q::Flow),
@@ -103,6 +125,8 @@ pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
                 f("temperature", Q::Temperature),
                 f("excess-lime", Q::Concentration),
                 f("lime-purity", Q::Percent),
+                // The lime feeder's full scale gives its setting; without it, kg/d only.
+                optional("lime-feeder-capacity", Q::MassPerDay),
                 f("soda-ash-purity", Q::Percent),
             ];
         }
@@ -120,23 +144,30 @@ pub fn fields(kind: CalcKind, mode: CalcMode) -> Vec<FieldSpec> {
         }
         (CalcKind::FeedSetting, _) => vec![f("flow", Q::Flow), f("dose", Q::Concentration)],
     };
-    v.extend(PRODUCT);
+    v.extend(product_fields(form));
     v
 }
 
-/// Every field name any calculator uses (for the translation check).
-pub fn all_field_names() -> Vec<&'static str> {
-    let mut names = Vec::new();
+/// Every field any calculator uses with any product form, each name once.
+fn all_fields() -> Vec<FieldSpec> {
+    let mut specs: Vec<FieldSpec> = Vec::new();
     for kind in CalcKind::ALL {
         for &mode in kind.modes() {
-            for spec in fields(kind, mode) {
-                if !names.contains(&spec.name) {
-                    names.push(spec.name);
+            for form in FeedForm::ALL {
+                for spec in fields(kind, mode, form) {
+                    if !specs.iter().any(|s| s.name == spec.name) {
+                        specs.push(spec);
+                    }
                 }
             }
         }
     }
-    names
+    specs
+}
+
+/// Every field name any calculator uses (for the translation check).
+pub fn all_field_names() -> Vec<&'static str> {
+    all_fields().into_iter().map(|s| s.name).collect()
 }
 
 /// One input row as the screen shows it.
@@ -160,7 +191,14 @@ pub struct ResultView {
     pub feed_unit: Unit,
     pub product: String,
     pub product_unit: Unit,
+    /// Translation key of the third big number's caption: the product volume for a liquid,
+    /// the rate to set for a gas or dry feeder.
+    pub product_caption: &'static str,
     pub pump: String,
+    /// Translation key of the fourth big number's caption: pump or feeder setting.
+    pub pump_caption: &'static str,
+    /// Says in words why no product volume is shown (a product fed by mass).
+    pub no_volume_note: Option<&'static str>,
     /// Further results under the big numbers, in display units.
     pub extras: Vec<ExtraView>,
     /// Significant figures every number on the card is rounded to.
@@ -289,6 +327,17 @@ impl CalcController {
         }
     }
 
+    /// How the chosen product is fed (a calculator without a choice feeds liquids).
+    pub fn form(&self) -> FeedForm {
+        let (list, index, _) = self.product();
+        list.get(index).map_or(FeedForm::Liquid, |p| p.form)
+    }
+
+    /// The inputs the current calculator asks for with the chosen product, in screen order.
+    pub fn fields(&self) -> Vec<FieldSpec> {
+        fields(self.kind, self.mode, self.form())
+    }
+
     /// The chosen product (the first offered when none was chosen) and its index.
     fn product(&self) -> (Vec<ProductChoice>, usize, Option<String>) {
         let list = self.engine.products(self.kind, self.mode);
@@ -326,9 +375,8 @@ impl CalcController {
     pub fn set_units(&mut self, system: UnitSystem) {
         let old = self.system;
         let lang = self.lang;
-        let quantities: HashMap<&'static str, Quantity> = CalcKind::ALL
-            .iter()
-            .flat_map(|k| k.modes().iter().flat_map(move |m| fields(*k, *m)))
+        let quantities: HashMap<&'static str, Quantity> = all_fields()
+            .into_iter()
             .map(|s| (s.name, s.quantity))
             .collect();
         for (name, text) in self.texts.iter_mut() {
@@ -351,7 +399,7 @@ impl CalcController {
         let mut figures = BTreeMap::new();
         let mut empty = false;
         let mut invalid = false;
-        for spec in fields(self.kind, self.mode) {
+        for spec in self.fields() {
             let unit = spec.quantity.unit(self.system);
             let text = self.text(spec.name).to_string();
             let error = match numbers::parse(&text, self.lang) {
@@ -444,7 +492,7 @@ impl CalcController {
             .figures
             .map_or(RESULT_FIGURES, |f| u32::from(f).clamp(1, MAX_FIGURES));
         let limiting = outcome.figures.and_then(|f| {
-            fields(self.kind, self.mode)
+            self.fields()
                 .into_iter()
                 .map(|spec| spec.name)
                 .find(|name| request.figures(name) == Some(f))
@@ -455,7 +503,17 @@ impl CalcController {
             })
         };
         let feed_unit = Quantity::MassPerDay.unit(self.system);
-        let product_unit = Quantity::VolumePerHour.unit(self.system);
+        // A gas or dry product has no volume worth showing: its third number is the mass of
+        // product per day the feeder is set to, said in words.
+        let form = self.form();
+        let (product_value, product_unit) = if form.by_mass() {
+            (outcome.product_kg_per_day, feed_unit)
+        } else {
+            (
+                outcome.product_l_per_hour,
+                Quantity::VolumePerHour.unit(self.system),
+            )
+        };
         let mut cautions = outcome.cautions.clone();
         cautions.sort_by_key(|c| std::cmp::Reverse(c.level));
         let extras = outcome
@@ -482,9 +540,22 @@ impl CalcController {
             dose: show(outcome.dose_mg_per_l, Unit::MgPerL),
             feed: show(outcome.feed_kg_per_day, feed_unit),
             feed_unit,
-            product: show(outcome.product_l_per_hour, product_unit),
+            product: show(product_value, product_unit),
             product_unit,
+            product_caption: match form {
+                FeedForm::Liquid => key("result-product"),
+                FeedForm::Gas | FeedForm::Dry => key("result-feeder-rate"),
+            },
             pump: show(outcome.pump_setting_percent, Unit::Percent),
+            pump_caption: match form {
+                FeedForm::Liquid => key("result-pump"),
+                FeedForm::Gas | FeedForm::Dry => key("result-feeder-setting"),
+            },
+            no_volume_note: match form {
+                FeedForm::Liquid => None,
+                FeedForm::Gas => Some(key("result-no-volume-gas")),
+                FeedForm::Dry => Some(key("result-no-volume-dry")),
+            },
             extras,
             figures,
             limiting,
@@ -605,13 +676,18 @@ mod tests {
             if kind != CalcKind::FeedSetting {
                 return Vec::new();
             }
-            ["first", "second"]
-                .iter()
-                .map(|id| ProductChoice {
-                    id: id.to_string(),
-                    name_key: format!("product-{id}"),
-                })
-                .collect()
+            [
+                ("first", FeedForm::Liquid),
+                ("second", FeedForm::Liquid),
+                ("gas", FeedForm::Gas),
+            ]
+            .iter()
+            .map(|(id, form)| ProductChoice {
+                id: id.to_string(),
+                name_key: format!("product-{id}"),
+                form: *form,
+            })
+            .collect()
         }
 
         fn compute(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
@@ -627,6 +703,7 @@ mod tests {
                 dose_mg_per_l: request.get("dose"),
                 feed_kg_per_day: request.get("flow"),
                 product_l_per_hour: request.get("pump-capacity"),
+                product_kg_per_day: request.get("gas-feeder-capacity"),
                 pump_setting_percent: None,
                 extras: Vec::new(),
                 figures: request.figures("dose"),
@@ -897,7 +974,7 @@ mod tests {
             ],
         );
         let view = c.view();
-        assert_eq!(view.products.len(), 2);
+        assert_eq!(view.products.len(), 3);
         assert_eq!(view.product_index, 0);
         c.set_product(1);
         assert_eq!(c.view().product_index, 1);
@@ -983,5 +1060,71 @@ mod tests {
         assert!(!names.contains(&"chlorine-demand"));
         c.set_kind(CalcKind::Softening);
         assert_eq!(c.mode(), CalcMode::Standard);
+    }
+
+    #[test]
+    fn a_gas_asks_for_purity_and_feeder_scale_and_never_uses_a_liquids_numbers() {
+        let rec = Rc::new(Recorder::default());
+        let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Us);
+        c.set_kind(CalcKind::FeedSetting);
+        fill(
+            &mut c,
+            &[
+                ("flow", "1"),
+                ("dose", "2.0"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.2"),
+                ("pump-capacity", "10"),
+            ],
+        );
+        assert!(matches!(c.view().status, Status::Ready(_)));
+        c.set_product(2);
+        assert_eq!(c.form(), FeedForm::Gas);
+        let names: Vec<_> = c.view().fields.iter().map(|f| f.name).collect();
+        assert_eq!(names, ["flow", "dose", "purity", "gas-feeder-capacity"]);
+        // The liquid's numbers are still typed, but the gas waits for its own.
+        assert_eq!(c.view().status, Status::Incomplete);
+        fill(
+            &mut c,
+            &[("purity", "99.5"), ("gas-feeder-capacity", "100")],
+        );
+        let Status::Ready(r) = c.view().status else {
+            panic!("expected a result")
+        };
+        let seen = rec.seen.borrow().last().cloned().unwrap();
+        for liquid in ["strength", "specific-gravity", "pump-capacity"] {
+            assert_eq!(seen.get(liquid), None, "{liquid} reached a gas calculation");
+        }
+        // The feeder scale is typed in lb/d and reaches the engine in kg/d.
+        assert!((seen.get("gas-feeder-capacity").unwrap() - 45.359237).abs() < 1e-9);
+        assert_eq!(seen.get("purity"), Some(99.5));
+        // No volume for a gas: the third number is the mass rate to set, said in words.
+        assert_eq!(r.product_caption, "result-feeder-rate");
+        assert_eq!(r.pump_caption, "result-feeder-setting");
+        assert_eq!(r.no_volume_note, Some("result-no-volume-gas"));
+        assert_eq!(
+            (r.product.as_str(), r.product_unit),
+            ("100", Unit::LbPerDay)
+        );
+        // Back to a liquid: its own inputs and captions again.
+        c.set_product(0);
+        let Status::Ready(r) = c.view().status else {
+            panic!("expected a result")
+        };
+        assert_eq!(r.product_caption, "result-product");
+        assert_eq!(r.no_volume_note, None);
+        assert_eq!(rec.seen.borrow().last().unwrap().get("purity"), None);
+    }
+
+    #[test]
+    fn softening_asks_for_the_lime_feeder_as_an_option() {
+        let specs = fields(CalcKind::Softening, CalcMode::Standard, FeedForm::Dry);
+        let feeder = specs
+            .iter()
+            .find(|s| s.name == "lime-feeder-capacity")
+            .expect("lime feeder field");
+        assert!(feeder.optional);
+        assert_eq!(feeder.quantity, Quantity::MassPerDay);
+        assert!(!specs.iter().any(|s| s.name == "specific-gravity"));
     }
 }

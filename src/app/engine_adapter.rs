@@ -6,21 +6,30 @@
 //! were typed with, and go to the engine as [`Measured`] values with those units named
 //! explicitly (`FlowUnit::M3d`, `VolumeRateUnit::Lph`), so "show the work" and the rounding of
 //! the card follow what was measured. The advisory caution is dropped because the results
-//! card shows the advisory note permanently.
+//! card shows the advisory note permanently. How a product is fed follows its catalog
+//! form: a solution through a metering pump, a gas through a gas feeder (rotameter) and a dry
+//! chemical through a dry feeder, both set by mass, so the pump kind is never assumed.
 
 use super::seams::{
     CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, CautionLevel, Curve, Extra,
-    ProductChoice, SeamError, StepOrigin, TraceLine,
+    FeedForm, ProductChoice, SeamError, StepOrigin, TraceLine,
 };
 use super::units::Quantity as Q;
 
-/// pH-adjustment chemicals: the water-chemistry engine's id and the dosing catalog's liquid
-/// product of the same compound (a test checks the pairing against both catalogs).
-const PH_CHEMICALS: [(&str, &str); 3] = [
+/// pH-adjustment chemicals: the water-chemistry engine's id and the dosing catalog's product
+/// of the same compound (a test checks the pairing against both catalogs). Liquids first,
+/// then the gas and the dry chemicals, each fed as its catalog form says.
+const PH_CHEMICALS: [(&str, &str); 6] = [
     ("caustic", "sodium-hydroxide"),
     ("sulfuric-acid", "sulfuric-acid"),
     ("hydrochloric-acid", "hydrochloric-acid"),
+    ("carbon-dioxide", "carbon-dioxide"),
+    ("lime", "hydrated-lime"),
+    ("soda-ash", "soda-ash"),
 ];
+
+/// Dechlorinating agents by the compound their dose is expressed as.
+const DECHLOR_AGENTS: [&str; 6] = ["SO2", "NaHSO3", "Na2S2O5", "Na2SO3", "Na2S2O3", "C6H8O6"];
 
 /// Liquid coagulants a metering pump feeds, from the dosing catalog.
 const COAGULANTS: [&str; 4] = ["alum-liquid", "ferric-chloride", "ferric-sulfate", "pacl"];
@@ -42,7 +51,7 @@ use crate::engine::dosing::coagulation::{
 use crate::engine::dosing::feed::{FeedInput, FeedResult, PumpKind, UsableRange, feed};
 use crate::engine::dosing::pumpcheck::{Measurement, PumpCheckInput, Tolerance, pump_check};
 use crate::engine::dosing::softening::{HardnessAnalysis, removal_from_analysis, softening};
-use crate::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
+use crate::engine::dosing::units::{Flow, FlowUnit, MassRateUnit, VolumeRateUnit};
 use crate::engine::dosing::waterside::{PhRange, dose_effect};
 use crate::engine::dosing::{self, NamedTrace, Severity};
 use crate::engine::sigfig::{Measured, combine, sum_figures};
@@ -65,25 +74,38 @@ impl DosingEngine {
     /// Liquid products with a typical strength (what a metering pump feeds), optionally only
     /// those whose dose is expressed as `dose_as`.
     fn solution_products(&self, dose_as: Option<&[&str]>) -> Vec<ProductChoice> {
-        self.catalog
+        self.offered(dose_as)
+            .into_iter()
+            .filter(|p| p.form == FeedForm::Liquid)
+            .collect()
+    }
+
+    /// Every product a pump or feeder can be set for, optionally only those dosed as
+    /// `dose_as`: liquids with a typical strength, then gases, then dry chemicals. A gas or dry
+    /// product is offered only when its usual strength is a purity, the one input it asks for
+    /// (calcium hypochlorite and dry alum, rated on another basis, are left out).
+    fn offered(&self, dose_as: Option<&[&str]>) -> Vec<ProductChoice> {
+        let mut list: Vec<ProductChoice> = self
+            .catalog
             .products
             .iter()
-            .filter(|p| p.form == Form::Solution && !p.strengths.is_empty())
-            .filter(|p| dose_as.is_none_or(|d| d.contains(&p.dose_as.as_str())))
-            .map(|p| ProductChoice {
-                id: p.id.clone(),
-                name_key: p.name_key.clone(),
+            .filter(|p| match p.form {
+                Form::Solution => !p.strengths.is_empty(),
+                Form::Gas | Form::Dry => {
+                    p.strengths.first().map(|s| s.basis) == Some(StrengthBasis::Purity)
+                }
             })
-            .collect()
+            .filter(|p| dose_as.is_none_or(|d| d.contains(&p.dose_as.as_str())))
+            .map(choice)
+            .collect();
+        list.sort_by_key(|c| FeedForm::ALL.iter().position(|f| *f == c.form));
+        list
     }
 
     fn listed(&self, ids: &[&str]) -> Vec<ProductChoice> {
         ids.iter()
             .filter_map(|id| self.catalog.product(id).ok())
-            .map(|p| ProductChoice {
-                id: p.id.clone(),
-                name_key: p.name_key.clone(),
-            })
+            .map(choice)
             .collect()
     }
 
@@ -94,7 +116,8 @@ impl DosingEngine {
             .ok_or_else(|| Error::new(ErrorKind::UnknownChemical, "no product chosen"))
     }
 
-    /// The chosen product's id and its strength as typed, on the product's usual basis.
+    /// The chosen product's id and its strength as typed, on the product's usual basis: a
+    /// liquid's strength with its SG, a gas's or dry chemical's purity without one.
     fn product_strength(&self, request: &CalcRequest) -> Result<(String, Strength), Error> {
         let product_id = self.chosen(request)?.to_string();
         let product = self.catalog.product(&product_id)?;
@@ -102,12 +125,35 @@ impl DosingEngine {
             .strengths
             .first()
             .map_or(StrengthBasis::Weight, |s| s.basis);
-        let strength = Strength::new(
-            measured(request, "strength")?,
-            basis,
-            Some(measured(request, "specific-gravity")?),
-        );
+        let strength = match product.form {
+            Form::Solution => Strength::new(
+                measured(request, "strength")?,
+                basis,
+                Some(measured(request, "specific-gravity")?),
+            ),
+            Form::Gas | Form::Dry => Strength::new(measured(request, "purity")?, basis, None),
+        };
         Ok((product_id, strength))
+    }
+
+    /// The pump or feeder the chosen product's form calls for, at the full scale typed
+    /// (a volume per hour for a pump, a mass per day for a feeder, both in SI).
+    fn pump_for(&self, request: &CalcRequest) -> Result<PumpKind, Error> {
+        let product = self.catalog.product(self.chosen(request)?)?;
+        Ok(match product.form {
+            Form::Solution => PumpKind::Metering {
+                capacity: value(request, "pump-capacity")?,
+                unit: VolumeRateUnit::Lph,
+            },
+            Form::Gas => PumpKind::GasFeeder {
+                capacity: value(request, "gas-feeder-capacity")?,
+                unit: MassRateUnit::KgPerDay,
+            },
+            Form::Dry => PumpKind::DryFeeder {
+                capacity: value(request, "dry-feeder-capacity")?,
+                unit: MassRateUnit::KgPerDay,
+            },
+        })
     }
 
     fn feed_for(&self, request: &CalcRequest, dose: Measured) -> Result<FeedResult, Error> {
@@ -117,10 +163,7 @@ impl DosingEngine {
             dose,
             product,
             strength,
-            pump: Some(PumpKind::Metering {
-                capacity: value(request, "pump-capacity")?,
-                unit: VolumeRateUnit::Lph,
-            }),
+            pump: Some(self.pump_for(request)?),
             usable_range: UsableRange::default(),
             max_use_level_mg_l: request.max_use_level_mg_l,
         };
@@ -456,7 +499,15 @@ impl DosingEngine {
         let mut with_excess = terms.to_vec();
         with_excess.push(measured(request, "excess-lime")?);
         let lime_figures = sum_figures(&with_excess, s.lime_cao_mg_l);
-        let dry_feed = |product: &str, dose: Measured, purity: Measured| {
+        // The lime feeder's setting when its full scale is given; soda ash has its own
+        // feeder, not asked for here.
+        let lime_feeder = request
+            .get("lime-feeder-capacity")
+            .map(|capacity| PumpKind::DryFeeder {
+                capacity,
+                unit: MassRateUnit::KgPerDay,
+            });
+        let dry_feed = |product: &str, dose: Measured, purity: Measured, pump: Option<PumpKind>| {
             feed(
                 &self.catalog,
                 &FeedInput {
@@ -464,7 +515,7 @@ impl DosingEngine {
                     dose,
                     product: product.to_string(),
                     strength: Strength::new(purity, StrengthBasis::Purity, None),
-                    pump: None,
+                    pump,
                     usable_range: UsableRange::default(),
                     // The site's level belongs to the lime chosen, not to the soda ash.
                     max_use_level_mg_l: request
@@ -480,6 +531,7 @@ impl DosingEngine {
                 sig_figs: lime_figures,
             },
             lime_purity,
+            lime_feeder,
         )?;
         let mut cautions = s.cautions.clone();
         let mut soda_feed = None;
@@ -491,6 +543,7 @@ impl DosingEngine {
                     sig_figs: removal.non_carbonate_hardness.sig_figs,
                 },
                 soda_purity,
+                None,
             )?;
             traces.extend(soda.traces.iter().cloned());
             cautions.extend(soda.cautions.iter().cloned());
@@ -588,6 +641,7 @@ impl DosingEngine {
             dose_mg_per_l: Some(r.actual_dose_mg_l),
             feed_kg_per_day: Some(r.active_kg_per_day),
             product_l_per_hour: Some(r.product_l_per_day / 24.0),
+            product_kg_per_day: None,
             pump_setting_percent: r.suggested_setting_percent,
             extras: Vec::new(),
             figures: figures_of(&r.traces),
@@ -682,11 +736,25 @@ fn outcome_of_feed(
         dose_mg_per_l: Some(r.dose_mg_l),
         feed_kg_per_day: Some(r.active_kg_per_day),
         product_l_per_hour: r.product_l_per_h,
+        product_kg_per_day: Some(r.product_kg_per_day),
         pump_setting_percent: r.pump.as_ref().map(|p| p.percent),
         extras: Vec::new(),
         figures: figures_of(&traces),
         trace: trace_lines(&traces),
         cautions: cautions(&dosing::caution::finish(before)),
+    }
+}
+
+/// A catalog product as a choice, with the form that decides its inputs.
+fn choice(p: &crate::engine::dosing::catalog::Product) -> ProductChoice {
+    ProductChoice {
+        id: p.id.clone(),
+        name_key: p.name_key.clone(),
+        form: match p.form {
+            Form::Solution => FeedForm::Liquid,
+            Form::Gas => FeedForm::Gas,
+            Form::Dry => FeedForm::Dry,
+        },
     }
 }
 
@@ -766,14 +834,14 @@ impl CalcEngine for DosingEngine {
             (CalcKind::PhControl, _) => self.listed(&PH_CHEMICALS.map(|(_, product)| product)),
             (CalcKind::Coagulation, _) => self.listed(&COAGULANTS),
             (CalcKind::Softening, _) => self.listed(&LIMES),
-            (CalcKind::FeedSetting | CalcKind::PumpCheck, _) => self.solution_products(None),
-            (CalcKind::Chlorination, CalcMode::FreeChlorine) => {
-                self.solution_products(Some(&["Cl2"]))
+            (CalcKind::FeedSetting, _) => self.offered(None),
+            // A drawdown test measures a liquid's volume.
+            (CalcKind::PumpCheck, _) => self.solution_products(None),
+            (CalcKind::Chlorination, CalcMode::FreeChlorine) => self.offered(Some(&["Cl2"])),
+            (CalcKind::Chlorination, CalcMode::Chloramine) => self.offered(Some(&["N"])),
+            (CalcKind::Chlorination, CalcMode::Dechlorination) => {
+                self.offered(Some(&DECHLOR_AGENTS))
             }
-            (CalcKind::Chlorination, CalcMode::Chloramine) => self.solution_products(Some(&["N"])),
-            (CalcKind::Chlorination, CalcMode::Dechlorination) => self.solution_products(Some(&[
-                "SO2", "NaHSO3", "Na2S2O5", "Na2SO3", "Na2S2O3", "C6H8O6",
-            ])),
             _ => Vec::new(),
         }
     }
@@ -1386,5 +1454,346 @@ mod tests {
         assert_eq!(extra(&with, "lsi-after"), direct.langelier_index);
         assert_eq!(extra(&with, "ccpp-after"), Some(direct.ccpp_mg_l_as_caco3));
         assert_eq!(with.dose_mg_per_l, Some(d.dose_mg_l));
+    }
+
+    /// A gas or dry product's case: the calculator's request, the dose its own engine
+    /// calculator gives, and the feeder the card must be set for.
+    struct ByMass {
+        request: CalcRequest,
+        dose: f64,
+        feeder: PumpKind,
+    }
+
+    /// The card's numbers are the engine's `feed()` for that dose with that feeder: feed mass,
+    /// product mass to set, the feeder's % of full scale; no product volume; the product's
+    /// hazard cautions are on the card.
+    fn check(engine: &DosingEngine, case: ByMass) {
+        let product = case.request.product.clone().unwrap();
+        let out = engine
+            .compute(&case.request)
+            .unwrap_or_else(|e| panic!("{product}: {e:?}"));
+        let purity = case
+            .request
+            .get("purity")
+            .or(case.request.get("lime-purity"));
+        let direct = feed(
+            &engine.catalog,
+            &FeedInput {
+                flow: Flow::new(
+                    Measured::exact(case.request.get("flow").unwrap()),
+                    FlowUnit::M3d,
+                ),
+                dose: Measured::exact(case.dose),
+                product: product.clone(),
+                strength: Strength::new(
+                    Measured::exact(purity.unwrap()),
+                    StrengthBasis::Purity,
+                    None,
+                ),
+                pump: Some(case.feeder),
+                usable_range: UsableRange::default(),
+                max_use_level_mg_l: None,
+            },
+        )
+        .unwrap_or_else(|e| panic!("{product} direct: {e:?}"));
+        let close = |a: Option<f64>, b: f64| a.is_some_and(|a| (a - b).abs() <= 1e-9 * b.abs());
+        assert!(
+            close(out.dose_mg_per_l, case.dose),
+            "{product} dose {out:?}"
+        );
+        assert!(
+            close(out.feed_kg_per_day, direct.active_kg_per_day),
+            "{product} feed"
+        );
+        assert!(
+            close(out.product_kg_per_day, direct.product_kg_per_day),
+            "{product} rate to set"
+        );
+        let setting = direct.pump.as_ref().expect("a feeder setting").percent;
+        assert!(
+            close(out.pump_setting_percent, setting),
+            "{product} setting"
+        );
+        assert_eq!(
+            out.product_l_per_hour, None,
+            "{product}: a volume for a gas/dry feed"
+        );
+        for hazard in &engine.catalog.product(&product).unwrap().hazards {
+            assert!(
+                out.cautions.iter().any(|c| &c.code == hazard),
+                "{product}: {hazard} not on the card"
+            );
+        }
+        assert!(
+            out.trace
+                .contains(&TraceLine::Heading("pump-setting".into())),
+            "{product}: the feeder setting's work is shown"
+        );
+    }
+
+    const FLOW: f64 = 9084.99;
+
+    fn gas(kg_per_day: f64) -> PumpKind {
+        PumpKind::GasFeeder {
+            capacity: kg_per_day,
+            unit: MassRateUnit::KgPerDay,
+        }
+    }
+
+    fn dry(kg_per_day: f64) -> PumpKind {
+        PumpKind::DryFeeder {
+            capacity: kg_per_day,
+            unit: MassRateUnit::KgPerDay,
+        }
+    }
+
+    fn ph_dose(water_id: &str, raw: f64, target: f64, alkalinity: f64) -> f64 {
+        let state = WaterState::new(&WaterInput::new(raw, 15.0, alkalinity)).unwrap();
+        let chemical = water::Catalog::embedded().unwrap().find(water_id).unwrap();
+        water::dose_for_ph(&state, chemical, target, Precipitation::None)
+            .unwrap()
+            .dose_mg_l
+    }
+
+    #[test]
+    fn gas_and_dry_feeds_are_the_engines_feeder_settings() {
+        let engine = DosingEngine::new().unwrap();
+        let chlorination = |mode, product, values: &[(&'static str, f64)]| {
+            request(CalcKind::Chlorination, mode, product, values)
+        };
+        let ph = |product, capacity: (&'static str, f64), raw, target| {
+            request(
+                CalcKind::PhControl,
+                CalcMode::Standard,
+                product,
+                &[
+                    ("flow", FLOW),
+                    ("ph-raw", raw),
+                    ("ph-target", target),
+                    ("alkalinity", 60.0),
+                    ("temperature", 15.0),
+                    ("purity", 98.0),
+                    capacity,
+                ],
+            )
+        };
+        let so2_ratio = dechlorination(&engine.catalog, Measured::exact(1.0), "sulfur-dioxide")
+            .unwrap()
+            .agent_mg_l;
+        let meta_ratio = dechlorination(
+            &engine.catalog,
+            Measured::exact(1.0),
+            "sodium-metabisulfite",
+        )
+        .unwrap()
+        .agent_mg_l;
+        let ammonia_n = chloramination(&engine.catalog, Measured::exact(4.0), Measured::exact(4.5))
+            .unwrap()
+            .ammonia_n_mg_l;
+        let cases = [
+            // Chlorine gas through a rotameter: dose = demand + residual.
+            ByMass {
+                request: chlorination(
+                    CalcMode::FreeChlorine,
+                    "chlorine-gas",
+                    &[
+                        ("flow", FLOW),
+                        ("chlorine-demand", 1.5),
+                        ("residual-target", 1.0),
+                        ("purity", 100.0),
+                        ("gas-feeder-capacity", 45.359237),
+                    ],
+                ),
+                dose: 2.5,
+                feeder: gas(45.359237),
+            },
+            // A liquid's SG and pump volume left over in the request change nothing.
+            ByMass {
+                request: chlorination(
+                    CalcMode::FreeChlorine,
+                    "chlorine-gas",
+                    &[
+                        ("flow", FLOW),
+                        ("chlorine-demand", 0.8),
+                        ("residual-target", 0.6),
+                        ("purity", 99.5),
+                        ("gas-feeder-capacity", 90.7),
+                        ("specific-gravity", 1.2),
+                        ("pump-capacity", 15.0),
+                        ("strength", 12.5),
+                    ],
+                ),
+                dose: 1.4,
+                feeder: gas(90.7),
+            },
+            ByMass {
+                request: chlorination(
+                    CalcMode::Dechlorination,
+                    "sulfur-dioxide",
+                    &[
+                        ("flow", FLOW),
+                        ("residual-in", 2.0),
+                        ("purity", 100.0),
+                        ("gas-feeder-capacity", 40.0),
+                    ],
+                ),
+                dose: 2.0 * so2_ratio,
+                feeder: gas(40.0),
+            },
+            ByMass {
+                request: chlorination(
+                    CalcMode::Dechlorination,
+                    "sodium-metabisulfite",
+                    &[
+                        ("flow", FLOW),
+                        ("residual-in", 2.0),
+                        ("purity", 97.0),
+                        ("dry-feeder-capacity", 60.0),
+                    ],
+                ),
+                dose: 2.0 * meta_ratio,
+                feeder: dry(60.0),
+            },
+            ByMass {
+                request: chlorination(
+                    CalcMode::Chloramine,
+                    "ammonium-sulfate",
+                    &[
+                        ("flow", FLOW),
+                        ("chlorine-dose", 4.0),
+                        ("cl2-n-ratio", 4.5),
+                        ("purity", 99.0),
+                        ("dry-feeder-capacity", 50.0),
+                    ],
+                ),
+                dose: ammonia_n,
+                feeder: dry(50.0),
+            },
+            ByMass {
+                request: ph("carbon-dioxide", ("gas-feeder-capacity", 200.0), 8.8, 7.8),
+                dose: ph_dose("carbon-dioxide", 8.8, 7.8, 60.0),
+                feeder: gas(200.0),
+            },
+            ByMass {
+                request: ph("hydrated-lime", ("dry-feeder-capacity", 181.4), 6.6, 7.6),
+                dose: ph_dose("lime", 6.6, 7.6, 60.0),
+                feeder: dry(181.4),
+            },
+            ByMass {
+                request: ph("soda-ash", ("dry-feeder-capacity", 300.0), 6.6, 7.6),
+                dose: ph_dose("soda-ash", 6.6, 7.6, 60.0),
+                feeder: dry(300.0),
+            },
+        ];
+        for case in cases {
+            check(&engine, case);
+        }
+    }
+
+    #[test]
+    fn chlorine_gas_is_offered_beside_hypochlorite_with_its_cautions() {
+        let engine = DosingEngine::new().unwrap();
+        let offered = engine.products(CalcKind::Chlorination, CalcMode::FreeChlorine);
+        let ids: Vec<_> = offered.iter().map(|p| (p.id.as_str(), p.form)).collect();
+        assert_eq!(
+            ids,
+            [
+                ("sodium-hypochlorite", FeedForm::Liquid),
+                ("chlorine-gas", FeedForm::Gas)
+            ],
+            "the liquid stays first, the gas beside it"
+        );
+        let req = request(
+            CalcKind::Chlorination,
+            CalcMode::FreeChlorine,
+            "chlorine-gas",
+            &[
+                ("flow", FLOW),
+                ("chlorine-demand", 1.5),
+                ("residual-target", 1.0),
+                ("purity", 100.0),
+                ("gas-feeder-capacity", 45.359237),
+            ],
+        );
+        let out = engine.compute(&req).unwrap();
+        let codes: Vec<_> = out.cautions.iter().map(|c| c.code.as_str()).collect();
+        // The gas's handling cautions, and — as for hypochlorite — the pointer to the pH and
+        // alkalinity effect, which the engine models for the gas as well.
+        for code in [
+            "hazard-toxic-gas",
+            "ppe-scba-gas",
+            "give-water-for-ph-effect",
+        ] {
+            assert!(codes.contains(&code), "{code} missing from {codes:?}");
+        }
+        // A feeder over its scale is the engine's danger, on the card.
+        let mut small = req.clone();
+        small.values.insert("gas-feeder-capacity", 5.0);
+        let out = engine.compute(&small).unwrap();
+        assert!(out.pump_setting_percent.unwrap() > 100.0);
+        assert!(out.cautions.iter().any(|c| c.code == "pump-over-capacity"));
+        // No feeder scale typed: the engine is not asked with a made-up one.
+        let mut none = req.clone();
+        none.values.remove("gas-feeder-capacity");
+        assert!(matches!(
+            engine.compute(&none),
+            Err(SeamError::Engine(e)) if e.kind() == ErrorKind::InvalidInput
+        ));
+        // Every product a calculator offers is one the engine can feed with its form's feeder.
+        for kind in CalcKind::ALL {
+            for &mode in kind.modes() {
+                for p in engine.products(kind, mode) {
+                    let product = engine.catalog.product(&p.id).unwrap();
+                    let expected = match product.form {
+                        Form::Solution => FeedForm::Liquid,
+                        Form::Gas => FeedForm::Gas,
+                        Form::Dry => FeedForm::Dry,
+                    };
+                    assert_eq!(p.form, expected, "{}", p.id);
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn softening_gives_the_lime_feeders_setting_when_its_scale_is_given() {
+        let engine = DosingEngine::new().unwrap();
+        let mut values = vec![
+            ("flow", 4000.0),
+            ("total-hardness", 260.0),
+            ("calcium-hardness", 190.0),
+            ("alkalinity", 180.0),
+            ("ph", 7.6),
+            ("temperature", 14.0),
+            ("excess-lime", 35.0),
+            ("lime-purity", 94.0),
+            ("soda-ash-purity", 98.0),
+        ];
+        let without = engine
+            .compute(&request(
+                CalcKind::Softening,
+                CalcMode::Standard,
+                "hydrated-lime",
+                &values,
+            ))
+            .unwrap();
+        assert_eq!(without.pump_setting_percent, None);
+        // 400 lb/d, the demo plant's lime feeder, in kg/d.
+        let scale = crate::app::units::Unit::LbPerDay.to_si(400.0);
+        values.push(("lime-feeder-capacity", scale));
+        let req = request(
+            CalcKind::Softening,
+            CalcMode::Standard,
+            "hydrated-lime",
+            &values,
+        );
+        check(
+            &engine,
+            ByMass {
+                dose: without.dose_mg_per_l.unwrap(),
+                request: req,
+                feeder: dry(scale),
+            },
+        );
     }
 }

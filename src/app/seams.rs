@@ -123,6 +123,36 @@ pub struct CalcRequest {
 pub struct ProductChoice {
     pub id: String,
     pub name_key: String,
+    /// How it is fed, which decides the product inputs the calculator asks for.
+    pub form: FeedForm,
+}
+
+/// How a product reaches the water: a liquid through a metering pump (strength, SG, pump
+/// volume), or a gas or dry chemical through a feeder set by mass (purity, feeder scale).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
+pub enum FeedForm {
+    #[default]
+    Liquid,
+    Gas,
+    Dry,
+}
+
+impl FeedForm {
+    pub const ALL: [FeedForm; 3] = [FeedForm::Liquid, FeedForm::Gas, FeedForm::Dry];
+
+    /// Stable code, the stem of the form's translation keys.
+    pub fn code(self) -> &'static str {
+        match self {
+            FeedForm::Liquid => "liquid",
+            FeedForm::Gas => "gas",
+            FeedForm::Dry => "dry",
+        }
+    }
+
+    /// Fed by mass: there is no product volume to show, and the setting is a feeder's.
+    pub fn by_mass(self) -> bool {
+        self != FeedForm::Liquid
+    }
 }
 
 impl CalcRequest {
@@ -180,7 +210,9 @@ pub struct CalcOutcome {
     pub dose_mg_per_l: Option<f64>,
     pub feed_kg_per_day: Option<f64>,
     pub product_l_per_hour: Option<f64>,
-    /// Metering-pump setting, percent of full stroke/speed.
+    /// Product as delivered per day: the rate a gas or dry feeder is set to.
+    pub product_kg_per_day: Option<f64>,
+    /// Pump setting, percent of full stroke/speed, or a feeder's percent of full scale.
     pub pump_setting_percent: Option<f64>,
     /// Further results a calculator reports beside the four big numbers (alkalinity
     /// consumed, pH after, soda ash ...), shown as a list under them.

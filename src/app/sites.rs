@@ -484,21 +484,37 @@ pub fn site_values(
         .and_then(|c| c.product(&delivered.product).ok())
         .and_then(|p| p.strengths.first().map(|s| s.basis));
     if usual_basis == Some(delivered.strength_basis) {
-        out.insert("strength", delivered.strength);
+        // A purity is asked for under its own names (a gas or dry feed, the lime of softening),
+        // so it never lands in a liquid's strength field.
+        if delivered.strength_basis == StrengthBasis::Purity {
+            out.insert("purity", delivered.strength);
+            out.insert("lime-purity", delivered.strength);
+        } else {
+            out.insert("strength", delivered.strength);
+        }
     }
     if let Some(sg) = delivered.sg {
         out.insert("specific-gravity", sg);
     }
-    if let Some(Pump {
-        kind: PumpKind::Metering { capacity, unit },
-        ..
-    }) = site.pump_for(&delivered.id)
-    {
-        let l_per_hour = capacity * unit.l_per_day() / 24.0;
-        out.insert(
-            "pump-capacity",
-            Quantity::VolumePerHour.unit(system).from_si(l_per_hour),
-        );
+    let per_day = |kg: f64| Quantity::MassPerDay.unit(system).from_si(kg);
+    match site.pump_for(&delivered.id).map(|p| p.kind) {
+        Some(PumpKind::Metering { capacity, unit }) => {
+            let l_per_hour = capacity * unit.l_per_day() / 24.0;
+            out.insert(
+                "pump-capacity",
+                Quantity::VolumePerHour.unit(system).from_si(l_per_hour),
+            );
+        }
+        Some(PumpKind::GasFeeder { capacity, unit }) => {
+            out.insert("gas-feeder-capacity", per_day(capacity * unit.kg_per_day()));
+        }
+        Some(PumpKind::DryFeeder { capacity, unit }) => {
+            let scale = per_day(capacity * unit.kg_per_day());
+            out.insert("dry-feeder-capacity", scale);
+            out.insert("lime-feeder-capacity", scale);
+        }
+        // A hose pump's capacity is not a volume per hour the field takes.
+        Some(PumpKind::Peristaltic { .. }) | None => {}
     }
     out
 }
@@ -520,7 +536,7 @@ impl Prefill {
         values: &HashMap<&'static str, f64>,
         lang: Lang,
     ) {
-        for spec in calc::fields(controller.kind(), controller.mode()) {
+        for spec in controller.fields() {
             let name = spec.name;
             let current = controller.text(name).to_string();
             let ours = self.filled.get(name).is_some_and(|t| *t == current);

@@ -2028,6 +2028,41 @@ mod tests {
         assert!((flow - 9085.0).abs() < 1.0, "2.4 MGD in m³/d: {flow}");
     }
 
+    #[test]
+    fn a_dry_feeder_is_prefilled_by_mass_and_a_liquid_number_never_reaches_it() {
+        let mut s = state(crate::app::seams::connected_engine());
+        let expect = |s: &AppState, want: &[(&str, &str)]| {
+            for (name, text) in want {
+                assert_eq!(s.calc.text(name), *text, "field {name}");
+            }
+        };
+        // Softening: the demo's lime silo (94 %) and its 400 lb/d volumetric feeder.
+        s.open_calculator(CalcKind::Softening);
+        expect(
+            &s,
+            &[("lime-purity", "94"), ("lime-feeder-capacity", "400")],
+        );
+        // pH adjustment with hydrated lime: purity and dry feeder, no SG or pump volume.
+        s.open_calculator(CalcKind::PhControl);
+        expect(&s, &[("specific-gravity", "1.27")]);
+        let lime = s
+            .calc
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "hydrated-lime")
+            .expect("lime is offered for pH");
+        s.calc.set_product(lime);
+        s.prefill_from_site();
+        expect(&s, &[("purity", "94"), ("dry-feeder-capacity", "400")]);
+        let names: Vec<_> = s.calc.fields().iter().map(|f| f.name).collect();
+        assert!(!names.contains(&"specific-gravity") && !names.contains(&"pump-capacity"));
+        // Typed text is the operator's: a later prefill leaves it.
+        s.calc.edit("dry-feeder-capacity", "350");
+        s.prefill_from_site();
+        expect(&s, &[("dry-feeder-capacity", "350")]);
+    }
+
     fn request(kind: CalcKind, mode: CalcMode, values: &[(&'static str, f64)]) -> CalcRequest {
         CalcRequest {
             kind,

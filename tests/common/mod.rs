@@ -48,6 +48,7 @@ impl CalcEngine for EchoEngine {
             dose_mg_per_l: request.get("dose"),
             feed_kg_per_day: request.get("flow"),
             product_l_per_hour: request.get("pump-capacity"),
+            product_kg_per_day: None,
             pump_setting_percent: request.get("strength"),
             extras: Vec::new(),
             // Exact: the card shows its default three figures, whatever was typed.
