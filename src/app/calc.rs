@@ -263,13 +263,41 @@ const RESULT_FIGURES: u32 = 3;
 /// setting is more digits than any pump or scale can be set to.
 const MAX_FIGURES: u32 = 4;
 
+/// Fields that describe the product or its pump rather than the water: what is typed in them
+/// belongs to the product chosen when it was typed. A hypochlorite's 12.5 % must never become
+/// the caustic's strength when the operator moves to pH control; the flow, the pH and the
+/// other readings of the water carry over between calculators and products.
+const PRODUCT_FIELDS: [&str; 10] = [
+    "strength",
+    "specific-gravity",
+    "pump-capacity",
+    "purity",
+    "gas-feeder-capacity",
+    "dry-feeder-capacity",
+    "lime-purity",
+    "lime-feeder-capacity",
+    "pump-setting",
+    "drawdown-volume",
+];
+
+/// Where a field's text is kept: its name, and for a product's own field the product's id.
+type Slot = (&'static str, Option<String>);
+
+/// `name` or `name@product`, the key a slot is saved under.
+fn slot_key((name, product): &Slot) -> String {
+    match product {
+        Some(id) => format!("{name}@{id}"),
+        None => name.to_string(),
+    }
+}
+
 pub struct CalcController {
     engine: Rc<dyn CalcEngine>,
     kind: CalcKind,
     mode: CalcMode,
     lang: Lang,
     system: UnitSystem,
-    texts: HashMap<&'static str, String>,
+    texts: HashMap<Slot, String>,
     products: HashMap<(CalcKind, CalcMode), String>,
     /// Maximum use levels (mg/L of product) of the site's delivered products, by catalog id.
     max_use_levels: HashMap<String, f64>,
@@ -349,15 +377,54 @@ impl CalcController {
         (list, index, id)
     }
 
-    /// Records what the operator typed in field `name`.
+    /// The slot of field `name` for the product chosen now.
+    fn slot(&self, name: &'static str, product: Option<&str>) -> Slot {
+        if PRODUCT_FIELDS.contains(&name) {
+            (name, product.map(str::to_string))
+        } else {
+            (name, None)
+        }
+    }
+
+    /// Records what the operator typed in field `name` (for the chosen product, if the field
+    /// is one of the product's own).
     pub fn edit(&mut self, name: &str, text: &str) {
         if let Some(spec) = all_field_names().into_iter().find(|n| *n == name) {
-            self.texts.insert(spec, text.to_string());
+            let slot = self.slot(spec, self.product().2.as_deref());
+            self.texts.insert(slot, text.to_string());
         }
     }
 
     pub fn text(&self, name: &str) -> &str {
-        self.texts.get(name).map_or("", String::as_str)
+        let Some(spec) = all_field_names().into_iter().find(|n| *n == name) else {
+            return "";
+        };
+        self.text_for(spec, self.product().2.as_deref())
+    }
+
+    /// Where field `name`'s text is kept for the product chosen now: `name`, or
+    /// `name@product` for a product's own field (see [`PRODUCT_FIELDS`]).
+    pub fn slot_key(&self, name: &str) -> Option<String> {
+        let spec = all_field_names().into_iter().find(|n| *n == name)?;
+        Some(slot_key(&self.slot(spec, self.product().2.as_deref())))
+    }
+
+    /// The text kept under a [`slot_key`](Self::slot_key), whatever product is chosen now.
+    pub fn text_at(&self, key: &str) -> &str {
+        let (name, product) = match key.split_once('@') {
+            Some((name, id)) => (name, Some(id.to_string())),
+            None => (key, None),
+        };
+        let Some(name) = all_field_names().into_iter().find(|n| *n == name) else {
+            return "";
+        };
+        self.texts.get(&(name, product)).map_or("", String::as_str)
+    }
+
+    fn text_for(&self, name: &'static str, product: Option<&str>) -> &str {
+        self.texts
+            .get(&self.slot(name, product))
+            .map_or("", String::as_str)
     }
 
     /// Switches the language, rewriting typed numbers with the new decimal mark.
@@ -379,7 +446,7 @@ impl CalcController {
             .into_iter()
             .map(|s| (s.name, s.quantity))
             .collect();
-        for (name, text) in self.texts.iter_mut() {
+        for ((name, _), text) in self.texts.iter_mut() {
             let q = quantities[name];
             if q.unit(old) == q.unit(system) {
                 continue;
@@ -399,9 +466,10 @@ impl CalcController {
         let mut figures = BTreeMap::new();
         let mut empty = false;
         let mut invalid = false;
+        let product = self.product().2;
         for spec in self.fields() {
             let unit = spec.quantity.unit(self.system);
-            let text = self.text(spec.name).to_string();
+            let text = self.text_for(spec.name, product.as_deref()).to_string();
             let error = match numbers::parse(&text, self.lang) {
                 Ok(v) => {
                     values.insert(spec.name, unit.to_si(v));
@@ -427,7 +495,6 @@ impl CalcController {
                 error,
             });
         }
-        let product = self.product().2;
         let max_use_level_mg_l = product
             .as_ref()
             .and_then(|id| self.max_use_levels.get(id))
@@ -592,7 +659,7 @@ impl CalcController {
                 .texts
                 .iter()
                 .filter(|(_, t)| !t.trim().is_empty())
-                .map(|(k, v)| (k.to_string(), v.clone()))
+                .map(|(slot, v)| (slot_key(slot), v.clone()))
                 .collect(),
             products: self
                 .products
@@ -612,8 +679,20 @@ impl CalcController {
         } else {
             UnitSystem::Si
         };
-        for (name, text) in &saved.texts {
-            self.edit(name, text);
+        let fields = all_field_names();
+        for (key, text) in &saved.texts {
+            let (name, product) = match key.split_once('@') {
+                Some((name, id)) => (name, Some(id.to_string())),
+                None => (key.as_str(), None),
+            };
+            let Some(name) = fields.iter().copied().find(|n| *n == name) else {
+                continue;
+            };
+            // A product's own field saved without its product (an older file) has no owner:
+            // dropped rather than given to whichever product happens to be chosen.
+            if PRODUCT_FIELDS.contains(&name) == product.is_some() {
+                self.texts.insert((name, product), text.clone());
+            }
         }
         for (key, id) in &saved.products {
             let Some((k, m)) = key.split_once('/') else {
@@ -978,6 +1057,23 @@ mod tests {
         assert_eq!(view.product_index, 0);
         c.set_product(1);
         assert_eq!(c.view().product_index, 1);
+        // The second product's own numbers are its own: until they are typed, no request.
+        let requests = rec.seen.borrow().len();
+        c.view();
+        assert_eq!(
+            rec.seen.borrow().len(),
+            requests,
+            "computed with another product's strength"
+        );
+        fill(
+            &mut c,
+            &[
+                ("strength", "10"),
+                ("specific-gravity", "1.3"),
+                ("pump-capacity", "5"),
+            ],
+        );
+        c.view();
         let seen = rec.seen.borrow();
         assert_eq!(seen[0].product.as_deref(), Some("first"));
         assert_eq!(seen.last().unwrap().product.as_deref(), Some("second"));

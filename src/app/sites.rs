@@ -520,10 +520,11 @@ pub fn site_values(
 }
 
 /// Remembers what the app filled in, so that it can refill its own text (another product
-/// chosen) but never what the operator typed.
+/// chosen) but never what the operator typed. Keyed by the controller's slot, so the app's
+/// strength for one product is never mistaken for its strength for another.
 #[derive(Clone, Debug, Default)]
 pub struct Prefill {
-    filled: HashMap<&'static str, String>,
+    filled: HashMap<String, String>,
 }
 
 impl Prefill {
@@ -538,32 +539,43 @@ impl Prefill {
     ) {
         for spec in controller.fields() {
             let name = spec.name;
+            let Some(slot) = controller.slot_key(name) else {
+                continue;
+            };
             let current = controller.text(name).to_string();
-            let ours = self.filled.get(name).is_some_and(|t| *t == current);
+            let ours = self.filled.get(&slot).is_some_and(|t| *t == current);
             if !(current.trim().is_empty() || ours) {
-                self.filled.remove(name);
+                self.filled.remove(&slot);
                 continue;
             }
             match values.get(name) {
                 Some(v) => {
                     let text = show(*v, lang);
                     controller.edit(name, &text);
-                    self.filled.insert(name, text);
+                    self.filled.insert(slot, text);
                 }
                 None if ours => {
                     controller.edit(name, "");
-                    self.filled.remove(name);
+                    self.filled.remove(&slot);
                 }
                 None => {}
             }
         }
     }
 
-    /// After a language or unit switch the controller rewrote every number: what it rewrote
-    /// from the app's text is still the app's.
-    pub fn follow(&mut self, controller: &calc::CalcController) {
-        for (name, text) in self.filled.iter_mut() {
-            *text = controller.text(name).to_string();
+    /// Runs a language or unit `switch`, which rewrites every number: text the app filled
+    /// and the operator left alone is still the app's afterwards; text the operator typed
+    /// over the app's is the operator's, and stays so.
+    pub fn through(
+        &mut self,
+        controller: &mut calc::CalcController,
+        switch: impl FnOnce(&mut calc::CalcController),
+    ) {
+        self.filled
+            .retain(|slot, text| controller.text_at(slot) == text.as_str());
+        switch(controller);
+        for (slot, text) in self.filled.iter_mut() {
+            *text = controller.text_at(slot).to_string();
         }
     }
 }

@@ -445,15 +445,14 @@ impl AppState {
 
     pub fn set_lang(&mut self, lang: Lang) {
         self.settings.lang = lang.tag().into();
-        self.calc.set_lang(lang);
-        self.prefill.follow(&self.calc);
+        self.prefill.through(&mut self.calc, |c| c.set_lang(lang));
         self.save();
     }
 
     pub fn set_units(&mut self, system: UnitSystem) {
         self.settings.us_units = system == UnitSystem::Us;
-        self.calc.set_units(system);
-        self.prefill.follow(&self.calc);
+        self.prefill
+            .through(&mut self.calc, |c| c.set_units(system));
         self.save();
     }
 
@@ -1959,57 +1958,52 @@ mod tests {
     #[test]
     fn calculators_start_from_the_site_but_keep_what_was_typed() {
         let mut s = state(crate::app::seams::connected_engine());
-        s.calc.edit("specific-gravity", "1.2");
         s.open_calculator(CalcKind::FeedSetting);
         let view = s.calc.view();
         assert_eq!(
             view.products[view.product_index].id, "sodium-hypochlorite",
             "the delivered product is preselected"
         );
-        // Hypochlorite as delivered: 12.5 % trade, pump A 10 gph; the demo's typical 2.4 MGD.
+        // Hypochlorite as delivered: 12.5 % trade, SG 1.165, pump A 10 gph; typical 2.4 MGD.
         expect(
             &s,
             &[
                 ("flow", "2.4"),
                 ("strength", "12.5"),
-                ("specific-gravity", "1.2"),
+                ("specific-gravity", "1.165"),
                 ("pump-capacity", "10"),
                 ("dose", ""),
             ],
         );
-        // Another product: the app's own numbers follow it, the typed SG stays; the alum pump is
-        // peristaltic, so the capacity the app filled is cleared rather than left at 10 gph.
-        let alum = view.products.iter().position(|p| p.id == "alum-liquid");
-        if let Some(i) = alum {
-            s.calc.set_product(i);
-            s.prefill_from_site();
-            expect(
-                &s,
-                &[
-                    ("strength", "8.2"),
-                    ("specific-gravity", "1.2"),
-                    ("pump-capacity", ""),
-                ],
-            );
-        }
-        // A product the site does not stock: the app's numbers go, nothing typed is touched.
-        let caustic = view
-            .products
-            .iter()
-            .position(|p| p.id == "sulfuric-acid")
-            .expect("acid is offered for feed setting");
+        // The operator measures the SG of this delivery: typed, it is the hypochlorite's.
+        s.calc.edit("specific-gravity", "1.2");
+        // Another product: its own numbers from the site; the alum pump is peristaltic, so no
+        // metering-pump capacity is filled.
+        choose(&mut s, "alum-liquid");
+        expect(
+            &s,
+            &[
+                ("strength", "8.2"),
+                ("specific-gravity", "1.33"),
+                ("pump-capacity", ""),
+            ],
+        );
+        // A product the site does not stock: nothing of another product's; the flow, a reading
+        // of the water, carries over.
         s.calc.edit("flow", "1.1");
-        s.calc.set_product(caustic);
-        s.prefill_from_site();
+        choose(&mut s, "sulfuric-acid");
         expect(
             &s,
             &[
                 ("flow", "1.1"),
                 ("strength", ""),
-                ("specific-gravity", "1.2"),
+                ("specific-gravity", ""),
                 ("pump-capacity", ""),
             ],
         );
+        // Back on hypochlorite: what was typed for it is still there.
+        choose(&mut s, "sodium-hypochlorite");
+        expect(&s, &[("specific-gravity", "1.2"), ("strength", "12.5")]);
         // Metric units: the caustic pump's 30 L/h arrives as typed in the profile.
         let mut s = state(crate::app::seams::connected_engine());
         s.set_units(UnitSystem::Si);
@@ -2178,6 +2172,82 @@ mod tests {
         ] {
             s.calc.edit(n, t);
         }
+    }
+
+    /// What a product's own numbers are typed as in the open calculator, by field.
+    fn field_text(s: &AppState, name: &str) -> String {
+        let view = s.calc.view();
+        let field = view.fields.iter().find(|f| f.name == name);
+        field.map_or_else(String::new, |f| f.text.clone())
+    }
+
+    fn choose(s: &mut AppState, product: &str) {
+        let view = s.calc.view();
+        let i = view.products.iter().position(|p| p.id == product);
+        s.calc
+            .set_product(i.unwrap_or_else(|| panic!("{product} not offered")));
+        s.prefill_from_site();
+    }
+
+    #[test]
+    fn a_products_own_numbers_never_carry_to_another_product() {
+        let mut s = state(crate::app::seams::connected_engine());
+        s.open_calculator(CalcKind::FeedSetting);
+        choose(&mut s, "sodium-hypochlorite");
+        for (name, text) in [
+            ("strength", "11"),
+            ("specific-gravity", "1.15"),
+            ("pump-capacity", "9"),
+        ] {
+            s.calc.edit(name, text);
+        }
+        // Caustic in pH control: the site's caustic (25 %, SG 1.27), not the hypochlorite typed.
+        s.open_calculator(CalcKind::PhControl);
+        choose(&mut s, "sodium-hydroxide");
+        assert_eq!(field_text(&s, "strength"), "25");
+        assert_eq!(field_text(&s, "specific-gravity"), "1.27");
+        let request = s.calc.current_request();
+        assert!(
+            request.is_none_or(|r| r.get("strength") == Some(0.25)),
+            "caustic computed at a hypochlorite strength"
+        );
+        // Back on hypochlorite, what was typed for it is still there.
+        s.open_calculator(CalcKind::FeedSetting);
+        choose(&mut s, "sodium-hypochlorite");
+        assert_eq!(field_text(&s, "strength"), "11");
+        assert_eq!(field_text(&s, "pump-capacity"), "9");
+        // Readings of the water are the water's, whatever the product: flow carries over.
+        s.calc.edit("flow", "3");
+        choose(&mut s, "ferric-chloride");
+        assert_eq!(field_text(&s, "flow"), "3");
+    }
+
+    #[test]
+    fn typed_text_stays_typed_through_a_language_or_unit_switch() {
+        let mut s = state(crate::app::seams::connected_engine());
+        s.open_calculator(CalcKind::FeedSetting);
+        assert_eq!(field_text(&s, "flow"), "2.4", "the site's typical flow");
+        assert_eq!(field_text(&s, "strength"), "12.5");
+        // The operator reads the plant's flow meter and types over the app's number.
+        s.calc.edit("flow", "1.10");
+        s.set_lang(Lang::Es);
+        s.navigate(Screen::Start);
+        s.navigate(Screen::Calculators);
+        assert_eq!(
+            field_text(&s, "flow"),
+            "1,10",
+            "typed flow replaced after the switch"
+        );
+        // The app's own number is still the app's: it follows the site.
+        assert_eq!(field_text(&s, "strength"), "12,5");
+        s.set_units(UnitSystem::Si);
+        s.navigate(Screen::Start);
+        s.navigate(Screen::Calculators);
+        let flow = numbers::parse(&field_text(&s, "flow"), Lang::Es).unwrap();
+        assert!(
+            (flow - 4164.0).abs() < 1.0,
+            "1.10 MGD in m³/d, still typed: {flow}"
+        );
     }
 
     #[test]
@@ -2470,6 +2540,8 @@ mod tests {
             ("ph", "7.1"),
             ("strength", "8.3"),
             ("specific-gravity", "1.335"),
+            // The alum's own pump: the caustic pump's 5 L/h typed above is the caustic's.
+            ("pump-capacity", "20"),
         ] {
             s.calc.edit(n, t);
         }
