@@ -105,6 +105,11 @@ pub fn fields(kind: CalcKind, mode: CalcMode, form: FeedForm) -> Vec<FieldSpec> 
             f("residual-target", Q::Concentration),
             // Ammonia in the water: chlorine must pass breakpoint before a free residual forms.
             optional("ammonia-n", Q::Concentration),
+            // With all three, the card adds the pH and alkalinity the chlorine leaves: gas
+            // lowers both, hypochlorite raises the pH.
+            optional("ph", Q::Ph),
+            optional("alkalinity", Q::AsCaCO3),
+            optional("temperature", Q::Temperature),
         ],
         (CalcKind::Coagulation, _) => vec![
             f("flow", Q::Flow),

@@ -42,7 +42,7 @@ const SODA_ASH: &str = "soda-ash";
 const CURVE_POINTS: usize = 60;
 use crate::engine::dosing::catalog::{Catalog, Form, Strength, StrengthBasis};
 use crate::engine::dosing::chlorine::{
-    ChlorineInput, chloramination, chlorine_dose, dechlorination,
+    ChlorineInput, chloramination, chlorine_dose, chlorine_dose_in_water, dechlorination,
 };
 use crate::engine::dosing::coagulation::{
     Alkali, Coagulant, CoagulationInput, SludgeInput, coagulant_chemical, coagulation_in_water,
@@ -196,15 +196,31 @@ impl DosingEngine {
             value,
             sig_figs: request.figures("ammonia-n"),
         });
-        let c = chlorine_dose(
-            &self.catalog,
-            &ChlorineInput {
-                demand,
-                residual,
-                ammonia_n,
-                residual_limit_mg_l: None,
-            },
-        )?;
+        let input = ChlorineInput {
+            demand,
+            residual,
+            ammonia_n,
+            residual_limit_mg_l: None,
+        };
+        // The water, when all of it was given: the chlorine's effect on pH and alkalinity.
+        let water = match (
+            request.get("ph"),
+            request.get("temperature"),
+            request.get("alkalinity"),
+        ) {
+            (Some(ph), Some(t), Some(alk)) => Some(WaterState::new(&WaterInput::new(ph, t, alk))?),
+            _ => None,
+        };
+        let c = match &water {
+            Some(w) => chlorine_dose_in_water(
+                &self.catalog,
+                &input,
+                self.chosen(request)?,
+                w,
+                PhRange::default(),
+            )?,
+            None => chlorine_dose(&self.catalog, &input)?,
+        };
         // A sum is known to the coarsest decimal place of its terms; the breakpoint term is
         // as good as the ammonia reading it was scaled from.
         let mut terms = vec![demand, residual];
@@ -225,6 +241,18 @@ impl DosingEngine {
                 key: "breakpoint-dose",
                 value: bp,
                 quantity: Q::Concentration,
+            });
+        }
+        if let Some(effect) = &c.water {
+            out.extras.push(Extra {
+                key: "ph-after",
+                value: effect.ph_after,
+                quantity: Q::Ph,
+            });
+            out.extras.push(Extra {
+                key: "alkalinity-after",
+                value: effect.alkalinity_after_mg_l_as_caco3,
+                quantity: Q::AsCaCO3,
             });
         }
         Ok(out)
@@ -1688,6 +1716,95 @@ mod tests {
         for case in cases {
             check(&engine, case);
         }
+    }
+
+    #[test]
+    fn with_the_water_given_chlorine_shows_the_ph_and_alkalinity_it_leaves() {
+        let engine = DosingEngine::new().unwrap();
+        let water = [("ph", 7.2), ("alkalinity", 60.0), ("temperature", 12.0)];
+        let effect = |product: &str, form: &[(&'static str, f64)]| {
+            let mut values = vec![
+                ("flow", FLOW),
+                ("chlorine-demand", 1.5),
+                ("residual-target", 1.0),
+            ];
+            values.extend_from_slice(form);
+            values.extend_from_slice(&water);
+            let out = engine
+                .compute(&request(
+                    CalcKind::Chlorination,
+                    CalcMode::FreeChlorine,
+                    product,
+                    &values,
+                ))
+                .unwrap();
+            let direct = chlorine_dose_in_water(
+                &engine.catalog,
+                &ChlorineInput {
+                    demand: Measured::exact(1.5),
+                    residual: Measured::exact(1.0),
+                    ammonia_n: None,
+                    residual_limit_mg_l: None,
+                },
+                product,
+                &WaterState::new(&WaterInput::new(7.2, 12.0, 60.0)).unwrap(),
+                PhRange::default(),
+            )
+            .unwrap()
+            .water
+            .unwrap();
+            assert_eq!(extra(&out, "ph-after"), Some(direct.ph_after), "{product}");
+            assert_eq!(
+                extra(&out, "alkalinity-after"),
+                Some(direct.alkalinity_after_mg_l_as_caco3),
+                "{product}"
+            );
+            let codes: Vec<_> = out.cautions.iter().map(|c| c.code.clone()).collect();
+            assert!(
+                codes.contains(&"ph-effect-chlorine-as-fed".to_string()),
+                "{codes:?}"
+            );
+            assert!(
+                !codes.contains(&"give-water-for-ph-effect".to_string()),
+                "{codes:?}"
+            );
+            direct
+        };
+        let gas = effect(
+            "chlorine-gas",
+            &[("purity", 100.0), ("gas-feeder-capacity", 45.359237)],
+        );
+        let hypo = effect(
+            "sodium-hypochlorite",
+            &[
+                ("strength", 12.5),
+                ("specific-gravity", 1.2),
+                ("pump-capacity", 15.0),
+            ],
+        );
+        // Chlorine gas hydrolyses to an acid; hypochlorite brings its base with it.
+        assert!(
+            gas.ph_after < 7.2 && gas.alkalinity_after_mg_l_as_caco3 < 60.0,
+            "{gas:?}"
+        );
+        assert!(hypo.ph_after > 7.2, "{hypo:?}");
+        // Without the whole water, no pH numbers: the card says what to give instead.
+        let partial = engine
+            .compute(&request(
+                CalcKind::Chlorination,
+                CalcMode::FreeChlorine,
+                "chlorine-gas",
+                &[
+                    ("flow", FLOW),
+                    ("chlorine-demand", 1.5),
+                    ("residual-target", 1.0),
+                    ("purity", 100.0),
+                    ("gas-feeder-capacity", 45.359237),
+                    ("ph", 7.2),
+                ],
+            ))
+            .unwrap();
+        assert_eq!(extra(&partial, "ph-after"), None);
     }
 
     #[test]
