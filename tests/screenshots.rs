@@ -123,19 +123,28 @@ fn every_screen_renders_with_text_at_three_sizes() {
     );
     {
         let mut st = handle.state.borrow_mut();
-        // The feed & pump setting calculator, computed by the real dosing engine.
-        st.calc.set_kind(CalcKind::FeedSetting);
+        // pH adjustment with caustic, for the titration curve on the Plots screen (a product's
+        // own numbers are typed with that product chosen).
+        st.calc.set_kind(CalcKind::PhControl);
         for (name, text) in [
             ("flow", "2.4"),
-            ("dose", "2.5"),
-            ("strength", "12.5"),
-            ("specific-gravity", "1.2"),
-            ("pump-capacity", "10"),
-            // pH-adjustment readings, for the titration curve on the Plots screen.
             ("ph-raw", "6.7"),
             ("ph-target", "7.3"),
             ("alkalinity", "38"),
             ("temperature", "58"),
+            ("strength", "25"),
+            ("specific-gravity", "1.27"),
+            ("pump-capacity", "8"),
+        ] {
+            st.calc.edit(name, text);
+        }
+        // The feed & pump setting calculator, computed by the real dosing engine.
+        st.calc.set_kind(CalcKind::FeedSetting);
+        for (name, text) in [
+            ("dose", "2.5"),
+            ("strength", "12.5"),
+            ("specific-gravity", "1.2"),
+            ("pump-capacity", "10"),
         ] {
             st.calc.edit(name, text);
         }

@@ -996,7 +996,7 @@ impl Inner {
         let lang = st.lang();
         let when = |iso: &str| iso.replace('T', " ").trim_end_matches('Z').to_string();
         let today = utc_today();
-        let listed = st.filtered_entries_on(today);
+        let (all, listed) = st.filtered_on(today);
         // Only a quick range writes the fields: typed text is left exactly as typed.
         let (from, to) = st.log_date_texts(today);
         if adapter.get_date_from() != from.as_str() {
@@ -1021,7 +1021,8 @@ impl Inner {
         }
         adapter.set_rows(model(
             listed
-                .into_iter()
+                .iter()
+                .map(|&i| &all[i])
                 .map(|e| LogRow {
                     id: e.id as i32,
                     when: s(when(&e.data.when).get(..16).unwrap_or_default()),

@@ -11,6 +11,7 @@
 
 use serde::{Deserialize, Serialize};
 use std::path::Path;
+use std::rc::Rc;
 
 /// A dose the operator decided to record.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
@@ -206,7 +207,9 @@ pub trait DoseLog {
     fn persistent(&self) -> bool;
     fn append(&mut self, entry: NewEntry) -> Result<u64, LogError>;
     /// All entries as they stand now (voided ones included, marked), oldest first.
-    fn entries(&self) -> Vec<Entry>;
+    /// Shared rather than copied: the screens read the list several times a refresh, and a
+    /// copy of a 10 000-entry log each time was most of the start-up.
+    fn entries(&self) -> Rc<Vec<Entry>>;
     /// The original entry and every correction and void of it, oldest first.
     fn history(&self, id: u64) -> Result<Vec<Revision>, LogError>;
     /// Records a correction of entry `id` (a new record; the original stays).
@@ -319,8 +322,8 @@ impl DoseLog for MemoryLog {
         Ok(id)
     }
 
-    fn entries(&self) -> Vec<Entry> {
-        self.entries.iter().map(|(e, _)| e.clone()).collect()
+    fn entries(&self) -> Rc<Vec<Entry>> {
+        Rc::new(self.entries.iter().map(|(e, _)| e.clone()).collect())
     }
 
     fn history(&self, id: u64) -> Result<Vec<Revision>, LogError> {
@@ -474,7 +477,7 @@ pub struct PersistentLog {
     ids: std::cell::RefCell<Vec<uuid::Uuid>>,
     /// The screens ask for the entries several times per refresh; reading 10 000 records
     /// each time would stall the UI, so they are read once and again only after a change.
-    cache: std::cell::RefCell<Option<Vec<Entry>>>,
+    cache: std::cell::RefCell<Option<Rc<Vec<Entry>>>>,
 }
 
 impl PersistentLog {
@@ -677,9 +680,9 @@ impl DoseLog for PersistentLog {
         Ok(self.number(id))
     }
 
-    fn entries(&self) -> Vec<Entry> {
+    fn entries(&self) -> Rc<Vec<Entry>> {
         if let Some(cached) = self.cache.borrow().as_ref() {
-            return cached.clone();
+            return Rc::clone(cached);
         }
         let mut out = Vec::new();
         let all = crate::log::Query {
@@ -719,7 +722,8 @@ impl DoseLog for PersistentLog {
             }
         }
         out.sort_by(|a, b| a.data.when.cmp(&b.data.when));
-        self.cache.replace(Some(out.clone()));
+        let out = Rc::new(out);
+        self.cache.replace(Some(Rc::clone(&out)));
         out
     }
 
@@ -1030,7 +1034,12 @@ mod tests {
         assert!(log.void(other, "KT", "").is_err(), "void needs a reason");
         assert_eq!(log.entries()[1].status, EntryStatus::Original);
         log.void(other, "KT", "logged twice").unwrap();
-        let voided = log.entries().into_iter().find(|e| e.id == other).unwrap();
+        let voided = log
+            .entries()
+            .iter()
+            .find(|e| e.id == other)
+            .cloned()
+            .unwrap();
         assert!(voided.voided());
         assert_eq!(voided.data.dose_mg_per_l, 2.0, "the entry stays, marked");
         let h = log.history(other).unwrap();

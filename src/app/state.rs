@@ -784,7 +784,7 @@ impl AppState {
         }
     }
 
-    pub fn entries(&self) -> Vec<Entry> {
+    pub fn entries(&self) -> std::rc::Rc<Vec<Entry>> {
         self.log.entries()
     }
 
@@ -847,9 +847,17 @@ impl AppState {
     /// Entries matching every filter, newest first, on the UTC day `today`. Nothing while
     /// the typed dates cannot be read ([`log_span`](Self::log_span) says why).
     pub fn filtered_entries_on(&self, today: NaiveDate) -> Vec<Entry> {
+        let (all, listed) = self.filtered_on(today);
+        listed.into_iter().map(|i| all[i].clone()).collect()
+    }
+
+    /// The log and the positions in it of the entries matching every filter, newest first:
+    /// the list reads them in place rather than copying a long log on every refresh.
+    pub fn filtered_on(&self, today: NaiveDate) -> (std::rc::Rc<Vec<Entry>>, Vec<usize>) {
+        let all = self.log.entries();
         let f = &self.log_filter;
         let Ok(span) = self.log_span(today) else {
-            return Vec::new();
+            return (all, Vec::new());
         };
         let needle = f.text.trim().to_lowercase();
         let utc_day = |when: &str| {
@@ -857,11 +865,11 @@ impl AppState {
                 .ok()
                 .map(|t| t.with_timezone(&chrono::Utc).date_naive())
         };
-        let mut v: Vec<Entry> = self
-            .log
-            .entries()
-            .into_iter()
-            .filter(|e| {
+        let listed = all
+            .iter()
+            .enumerate()
+            .rev()
+            .filter(|(_, e)| {
                 let d = &e.data;
                 let dated = span == DateSpan::default()
                     || utc_day(&d.when).is_some_and(|day| span.contains(day));
@@ -873,9 +881,9 @@ impl AppState {
                             .iter()
                             .any(|s| s.to_lowercase().contains(&needle)))
             })
+            .map(|(i, _)| i)
             .collect();
-        v.reverse();
-        v
+        (all, listed)
     }
 
     /// The taps and the chemicals present in the log, sorted, for the filter choices.
@@ -900,7 +908,7 @@ impl AppState {
 
     pub fn selected_entry(&self) -> Option<Entry> {
         let id = self.selected?;
-        self.log.entries().into_iter().find(|e| e.id == id)
+        self.log.entries().iter().find(|e| e.id == id).cloned()
     }
 
     /// The selected entry's original and every correction and void, oldest first.
@@ -1182,20 +1190,16 @@ impl AppState {
 
     /// Logged doses of the chemical of the selected (or newest) entry, oldest first.
     pub fn trend_plot(&self) -> PlotView {
-        let entries: Vec<Entry> = self
-            .log
-            .entries()
-            .into_iter()
-            .filter(|e| !e.voided())
-            .collect();
-        let Some(focus) = self.selected_entry().or_else(|| entries.last().cloned()) else {
+        // Read in place: a copy of a long log here was a large part of the start-up.
+        let all = self.log.entries();
+        let entries = || all.iter().filter(|e| !e.voided());
+        let Some(focus) = self.selected_entry().or_else(|| entries().next_back().cloned()) else {
             return PlotView {
                 message: Some(Note::new(key("plot-no-log"))),
                 ..PlotView::default()
             };
         };
-        let series: Vec<&Entry> = entries
-            .iter()
+        let series: Vec<&Entry> = entries()
             .filter(|e| e.data.chemical == focus.data.chemical && e.data.point == focus.data.point)
             .collect();
         // Days since the series' first entry, so a gap of a week looks like a week.
