@@ -1193,7 +1193,10 @@ impl AppState {
         // Read in place: a copy of a long log here was a large part of the start-up.
         let all = self.log.entries();
         let entries = || all.iter().filter(|e| !e.voided());
-        let Some(focus) = self.selected_entry().or_else(|| entries().next_back().cloned()) else {
+        let Some(focus) = self
+            .selected_entry()
+            .or_else(|| entries().next_back().cloned())
+        else {
             return PlotView {
                 message: Some(Note::new(key("plot-no-log"))),
                 ..PlotView::default()
