@@ -11,7 +11,7 @@ use molefeed::app::dose_log::{Amendment, DoseLog, MemoryLog};
 use molefeed::app::numbers::Lang;
 use molefeed::app::seams::{CalcKind, connected_engine};
 use molefeed::app::ui::{AppWindow, CalcAdapter, LogAdapter, Nav, SettingsAdapter};
-use molefeed::app::{Deps, attach};
+use molefeed::app::{AppHandle, Deps, attach};
 use slint::platform::software_renderer::{MinimalSoftwareWindow, RepaintBufferType};
 use slint::platform::{Platform, WindowAdapter};
 use slint::{ComponentHandle, PhysicalSize, Rgb8Pixel};
@@ -104,8 +104,9 @@ fn seeded_log() -> Box<dyn DoseLog> {
     Box::new(log)
 }
 
-#[test]
-fn every_screen_renders_with_text_at_three_sizes() {
+/// The app on this thread's own software-rendered window, with the real engine and the seeded
+/// log, in English.
+fn headless_app() -> (Rc<MinimalSoftwareWindow>, AppWindow, AppHandle) {
     common::bundled_fonts_only();
     let window = MinimalSoftwareWindow::new(RepaintBufferType::NewBuffer);
     slint::platform::set_platform(Box::new(Headless(window.clone())))
@@ -121,6 +122,12 @@ fn every_screen_renders_with_text_at_three_sizes() {
             quit_on_root_back: false,
         },
     );
+    (window, app, handle)
+}
+
+#[test]
+fn every_screen_renders_with_text_at_three_sizes() {
+    let (window, app, handle) = headless_app();
     {
         let mut st = handle.state.borrow_mut();
         // pH adjustment with caustic, for the titration curve on the Plots screen (a product's
@@ -263,21 +270,7 @@ fn every_screen_renders_with_text_at_three_sizes() {
 /// curve). Rendered for review and checked to hold text.
 #[test]
 fn coagulation_and_its_curve_render() {
-    common::bundled_fonts_only();
-    let window = MinimalSoftwareWindow::new(RepaintBufferType::NewBuffer);
-    slint::platform::set_platform(Box::new(Headless(window.clone())))
-        .expect("first platform on this thread");
-    let app = AppWindow::new().expect("window");
-    let handle = attach(
-        &app,
-        Deps {
-            engine: connected_engine(),
-            log: seeded_log(),
-            data_dir: None,
-            lang: Some(Lang::En),
-            quit_on_root_back: false,
-        },
-    );
+    let (window, app, handle) = headless_app();
     {
         let mut st = handle.state.borrow_mut();
         st.open_calculator(CalcKind::Coagulation);
@@ -319,21 +312,7 @@ fn coagulation_and_its_curve_render() {
 /// feeder setting and the "no product volume" sentence must fit at 400 px.
 #[test]
 fn chlorine_gas_renders_at_phone_width() {
-    common::bundled_fonts_only();
-    let window = MinimalSoftwareWindow::new(RepaintBufferType::NewBuffer);
-    slint::platform::set_platform(Box::new(Headless(window.clone())))
-        .expect("first platform on this thread");
-    let app = AppWindow::new().expect("window");
-    let handle = attach(
-        &app,
-        Deps {
-            engine: connected_engine(),
-            log: seeded_log(),
-            data_dir: None,
-            lang: Some(Lang::En),
-            quit_on_root_back: false,
-        },
-    );
+    let (window, app, handle) = headless_app();
     {
         let mut st = handle.state.borrow_mut();
         st.open_calculator(CalcKind::Chlorination);
