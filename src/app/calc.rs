@@ -286,7 +286,7 @@ const PRODUCT_FIELDS: [&str; 10] = [
 ];
 
 /// Where a field's text is kept: its name, and for a product's own field the product's id.
-type Slot = (&'static str, Option<String>);
+pub type Slot = (&'static str, Option<String>);
 
 /// `name` or `name@product`, the key a slot is saved under.
 fn slot_key((name, product): &Slot) -> String {
@@ -382,7 +382,7 @@ impl CalcController {
         (list, index, id)
     }
 
-    /// The slot of field `name` for the product chosen now.
+    /// The slot of field `name` when `product` is chosen.
     fn slot(&self, name: &'static str, product: Option<&str>) -> Slot {
         if PRODUCT_FIELDS.contains(&name) {
             (name, product.map(str::to_string))
@@ -391,45 +391,36 @@ impl CalcController {
         }
     }
 
+    /// Where field `name`'s text is kept for the product chosen now (see
+    /// [`PRODUCT_FIELDS`]); the product list is looked up only for a product's own field.
+    pub fn slot_of(&self, name: &str) -> Option<Slot> {
+        let spec = all_field_names().into_iter().find(|n| *n == name)?;
+        let product = PRODUCT_FIELDS
+            .contains(&spec)
+            .then(|| self.product().2)
+            .flatten();
+        Some((spec, product))
+    }
+
     /// Records what the operator typed in field `name` (for the chosen product, if the field
     /// is one of the product's own).
     pub fn edit(&mut self, name: &str, text: &str) {
-        if let Some(spec) = all_field_names().into_iter().find(|n| *n == name) {
-            let slot = self.slot(spec, self.product().2.as_deref());
+        if let Some(slot) = self.slot_of(name) {
             self.texts.insert(slot, text.to_string());
         }
     }
 
     pub fn text(&self, name: &str) -> &str {
-        let Some(spec) = all_field_names().into_iter().find(|n| *n == name) else {
-            return "";
-        };
-        self.text_for(spec, self.product().2.as_deref())
+        self.slot_of(name).map_or("", |slot| self.text_in(&slot))
     }
 
-    /// Where field `name`'s text is kept for the product chosen now: `name`, or
-    /// `name@product` for a product's own field (see [`PRODUCT_FIELDS`]).
-    pub fn slot_key(&self, name: &str) -> Option<String> {
-        let spec = all_field_names().into_iter().find(|n| *n == name)?;
-        Some(slot_key(&self.slot(spec, self.product().2.as_deref())))
-    }
-
-    /// The text kept under a [`slot_key`](Self::slot_key), whatever product is chosen now.
-    pub fn text_at(&self, key: &str) -> &str {
-        let (name, product) = match key.split_once('@') {
-            Some((name, id)) => (name, Some(id.to_string())),
-            None => (key, None),
-        };
-        let Some(name) = all_field_names().into_iter().find(|n| *n == name) else {
-            return "";
-        };
-        self.texts.get(&(name, product)).map_or("", String::as_str)
+    /// The text kept in `slot`, whatever product is chosen now.
+    pub fn text_in(&self, slot: &Slot) -> &str {
+        self.texts.get(slot).map_or("", String::as_str)
     }
 
     fn text_for(&self, name: &'static str, product: Option<&str>) -> &str {
-        self.texts
-            .get(&self.slot(name, product))
-            .map_or("", String::as_str)
+        self.text_in(&self.slot(name, product))
     }
 
     /// Switches the language, rewriting typed numbers with the new decimal mark.

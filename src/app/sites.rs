@@ -524,7 +524,7 @@ pub fn site_values(
 /// strength for one product is never mistaken for its strength for another.
 #[derive(Clone, Debug, Default)]
 pub struct Prefill {
-    filled: HashMap<String, String>,
+    filled: HashMap<calc::Slot, String>,
 }
 
 impl Prefill {
@@ -539,7 +539,7 @@ impl Prefill {
     ) {
         for spec in controller.fields() {
             let name = spec.name;
-            let Some(slot) = controller.slot_key(name) else {
+            let Some(slot) = controller.slot_of(name) else {
                 continue;
             };
             let current = controller.text(name).to_string();
@@ -572,10 +572,10 @@ impl Prefill {
         switch: impl FnOnce(&mut calc::CalcController),
     ) {
         self.filled
-            .retain(|slot, text| controller.text_at(slot) == text.as_str());
+            .retain(|slot, text| controller.text_in(slot) == text.as_str());
         switch(controller);
         for (slot, text) in self.filled.iter_mut() {
-            *text = controller.text_at(slot).to_string();
+            *text = controller.text_in(slot).to_string();
         }
     }
 }
