@@ -12,9 +12,9 @@
 use super::chemicals::{Chemical, molar_mass};
 use super::constants::Component;
 use super::speciation::Speciation;
-use super::stability::calcite_to_saturation;
+use super::stability::{calcite_to_saturation, phase};
 use super::{MAX_MG_L, Precipitation, WaterResult, WaterState, masses};
-use crate::engine::{Error, ErrorKind, Result, check_range};
+use crate::engine::{Result, check_range};
 
 /// The water after a softening dose, with what precipitated.
 #[derive(Clone, Debug, PartialEq)]
@@ -29,15 +29,6 @@ pub struct Softened {
     pub calcium_hardness_mg_l_as_caco3: f64,
     /// Magnesium left in solution, mg/L as CaCO3.
     pub magnesium_hardness_mg_l_as_caco3: f64,
-}
-
-fn phase(state: &WaterState, name: &str) -> Result<usize> {
-    state.solver.table.phase_index(name).ok_or_else(|| {
-        Error::new(
-            ErrorKind::InvalidInput,
-            format!("no {name} in the water constants"),
-        )
-    })
 }
 
 /// `dose_mg_l` of `chemical` (usually lime) added to `state`, then calcite and brucite

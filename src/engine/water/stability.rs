@@ -28,6 +28,16 @@ pub struct Stability {
     pub si_calcite: f64,
 }
 
+/// The index of mineral `name` in the constants; its absence is a data error, typed.
+pub(super) fn phase(state: &WaterState, name: &str) -> Result<usize> {
+    state.solver.table.phase_index(name).ok_or_else(|| {
+        Error::new(
+            ErrorKind::InvalidInput,
+            format!("no {name} in the water constants"),
+        )
+    })
+}
+
 fn needs(what: &str) -> Error {
     Error::new(
         ErrorKind::InvalidInput,
@@ -49,10 +59,7 @@ pub fn stability(state: &WaterState) -> Result<Stability> {
     if dic <= 0.0 || alk <= 0.0 {
         return Err(needs("alkalinity"));
     }
-    let calcite = s
-        .table
-        .phase_index("Calcite")
-        .ok_or_else(|| Error::new(ErrorKind::InvalidInput, "no calcite in the constants"))?;
+    let calcite = phase(state, "Calcite")?;
     let ph = state.ph();
     let si = s.saturation_index(&state.sp, calcite);
 
