@@ -912,6 +912,17 @@ mod tests {
         }
     }
 
+    /// Free chlorination with hypochlorite on the feed request's flow and product numbers.
+    fn free_chlorine_request(demand: f64, residual: f64) -> CalcRequest {
+        let mut req = feed_request("sodium-hypochlorite", 0.0);
+        req.kind = CalcKind::Chlorination;
+        req.mode = CalcMode::FreeChlorine;
+        req.values.remove("dose");
+        req.values.insert("chlorine-demand", demand);
+        req.values.insert("residual-target", residual);
+        req
+    }
+
     #[test]
     fn feed_setting_is_the_engines_feed_result() {
         let engine = DosingEngine::new().expect("built-in catalog");
@@ -964,12 +975,7 @@ mod tests {
     #[test]
     fn free_chlorine_dose_comes_from_the_chlorine_engine() {
         let engine = DosingEngine::new().unwrap();
-        let mut request = feed_request("sodium-hypochlorite", 0.0);
-        request.kind = CalcKind::Chlorination;
-        request.mode = CalcMode::FreeChlorine;
-        request.values.remove("dose");
-        request.values.insert("chlorine-demand", 1.4);
-        request.values.insert("residual-target", 1.0);
+        let mut request = free_chlorine_request(1.4, 1.0);
         assert!(
             engine
                 .products(CalcKind::Chlorination, CalcMode::FreeChlorine)
@@ -1391,12 +1397,7 @@ mod tests {
     #[test]
     fn typed_figures_limit_the_result() {
         let engine = DosingEngine::new().unwrap();
-        let mut req = feed_request("sodium-hypochlorite", 0.0);
-        req.kind = CalcKind::Chlorination;
-        req.mode = CalcMode::FreeChlorine;
-        req.values.remove("dose");
-        req.values.insert("chlorine-demand", 1.4);
-        req.values.insert("residual-target", 1.05);
+        let mut req = free_chlorine_request(1.4, 1.05);
         for (name, n) in [
             ("flow", 4),
             ("chlorine-demand", 2),
@@ -1423,12 +1424,7 @@ mod tests {
     #[test]
     fn ammonia_in_the_water_adds_the_breakpoint_dose() {
         let engine = DosingEngine::new().unwrap();
-        let mut req = feed_request("sodium-hypochlorite", 0.0);
-        req.kind = CalcKind::Chlorination;
-        req.mode = CalcMode::FreeChlorine;
-        req.values.remove("dose");
-        req.values.insert("chlorine-demand", 1.2);
-        req.values.insert("residual-target", 1.0);
+        let mut req = free_chlorine_request(1.2, 1.0);
         let without = engine.compute(&req).unwrap();
         assert_eq!(extra(&without, "breakpoint-dose"), None);
         req.values.insert("ammonia-n", 0.4);

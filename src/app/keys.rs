@@ -382,21 +382,20 @@ mod tests {
     fn engine_labels_and_cautions_are_listed() {
         // The engine and the app: what can reach the screen (the CLI prints keys as they are).
         let text = sources(&["engine", "app"]);
-        let literals_after = |marker: &str| literals_after(&text, marker);
-        let mut missing: Vec<String> = literals_after("NamedTrace::new(")
+        let mut missing: Vec<String> = literals_after(&text, "NamedTrace::new(")
             .into_iter()
             .filter(|label| !TRACE_LABELS.contains(&label.as_str()))
             .collect();
         for marker in ["Caution::info(", "Caution::warning(", "Caution::danger("] {
             // The advisory is shown by the card itself; CT has no calculator in the app yet.
-            missing.extend(literals_after(marker).into_iter().filter(|key| {
+            missing.extend(literals_after(&text, marker).into_iter().filter(|key| {
                 key != "advisory-operator-decides"
                     && !key.starts_with("ct-")
                     && !ENGINE_TEXT_KEYS.contains(&key.as_str())
             }));
         }
         missing.extend(
-            literals_after(".because(")
+            literals_after(&text, ".because(")
                 .into_iter()
                 .filter(|reason| !ERROR_REASONS.contains(&reason.as_str())),
         );
@@ -412,7 +411,7 @@ mod tests {
             "needs(",
             ".with(\"quantity\",",
         ] {
-            named.extend(self::literals_after(&engine_text, marker));
+            named.extend(literals_after(&engine_text, marker));
         }
         // The scan itself must see the engine's names, or it would pass on nothing.
         assert!(named.len() > 40, "the scan found only {named:?}");
