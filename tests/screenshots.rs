@@ -354,3 +354,47 @@ fn chlorine_gas_renders_at_phone_width() {
     }
     assert!(failures.is_empty(), "blank or textless: {failures:?}");
 }
+
+/// Softening with its equilibrium lines and the lime feeder, on a tall phone window and a
+/// tablet: the longer result labels ("Hardness left, at equilibrium …") must fit.
+#[test]
+fn softening_renders_with_its_equilibrium_lines() {
+    let (window, app, handle) = headless_app();
+    {
+        let mut st = handle.state.borrow_mut();
+        st.open_calculator(CalcKind::Softening);
+        for (name, text) in [
+            ("total-hardness", "265"),
+            ("calcium-hardness", "190"),
+            ("alkalinity", "175"),
+            ("ph", "7.45"),
+            ("temperature", "55"),
+            ("excess-lime", "35"),
+            ("soda-ash-purity", "98"),
+        ] {
+            st.calc.edit(name, text);
+        }
+        let shown: Vec<&str> = match st.calc.view().status {
+            molefeed::app::calc::Status::Ready(r) => r.extras.iter().map(|e| e.key).collect(),
+            other => panic!("no softening result: {other:?}"),
+        };
+        assert!(shown.contains(&"ph-softened"), "{shown:?}");
+    }
+    handle.refresh();
+    app.show().expect("show");
+    let out = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
+    std::fs::create_dir_all(&out).unwrap();
+    let mut failures = Vec::new();
+    app.global::<Nav>().invoke_go(1);
+    for (name, w, h, phone) in [
+        ("calculators-phone-softening", 400, 2400, true),
+        ("calculators-tablet-softening", 1280, 1400, false),
+    ] {
+        let pixels = render(&window, w, h);
+        save_png(&out.join(format!("{name}.png")), &pixels, w, h);
+        if dark_pixels(&pixels, w, h, phone) < 5000 {
+            failures.push(name);
+        }
+    }
+    assert!(failures.is_empty(), "blank or textless: {failures:?}");
+}
