@@ -76,7 +76,7 @@ fn en(key: &str) -> String {
 
 fn fill_feed_setting(app: &AppWindow, flow: &str) {
     tap(app, &en("nav-calculators"));
-    tap(app, &en("calc-feed-setting"));
+    tap(app, &en("calc-feed"));
     type_into(app, &en("field-flow"), flow);
     type_into(app, &en("field-dose"), "2");
     type_into(app, &en("field-strength"), "12.5");
@@ -115,7 +115,7 @@ fn the_phone_layout_has_the_same_controls() {
     // Tall enough that nothing is scrolled out of view: the finders only see visible elements.
     let (app, _handle) = start_at(Rc::new(common::EchoEngine), 400.0, 2000.0);
     // On a phone the calculator is opened from the Start screen's quick entries.
-    tap(&app, &en("calc-feed-setting"));
+    tap(&app, &en("calc-feed"));
     assert_eq!(app.global::<Nav>().get_screen(), 1);
     type_into(&app, &en("field-flow"), "1");
     type_into(&app, &en("field-dose"), "2");
@@ -225,7 +225,7 @@ fn switching_language_changes_labels_and_the_decimal_mark() {
     one(&app, &es.get("settings-language"));
     // Spanish input takes a comma and results use one.
     tap(&app, &es.get("nav-calculators"));
-    tap(&app, &es.get("calc-feed-setting"));
+    tap(&app, &es.get("calc-feed"));
     type_into(&app, &es.get("field-flow"), "1");
     type_into(&app, &es.get("field-dose"), "2,5");
     type_into(&app, &es.get("field-strength"), "12,5");

@@ -18,13 +18,12 @@ start-latest-none = Nothing logged yet at this site.
 start-quick = Open a calculator
 
 ## Calculators
-calc-ph-control = pH adjustment
+calc-ph-adjustment = pH adjustment
 calc-chlorination = Chlorination
 calc-coagulation = Coagulation
 calc-softening = Softening
 calc-pump-check = Pump cross-check
-calc-feed-setting = Feed & pump setting
-mode-standard = Standard
+calc-feed = Feed & pump setting
 mode-free-chlorine = Free chlorine
 mode-chloramine = Chloramine
 mode-dechlorination = Dechlorination
@@ -62,6 +61,7 @@ result-feed = Feed mass per day
 result-product = Product volume rate
 result-pump = Pump setting
 result-breakpoint-dose = Of which to reach breakpoint
+result-deviation = Deviation from the target dose
 result-lsi-after = Langelier index after
 result-ccpp-after = Calcium carbonate precipitation potential after (+ deposits)
 result-ph-after = pH reached
@@ -72,9 +72,8 @@ result-ph-after-coagulant = pH after the coagulant
 result-supplemental-alkali = Supplemental alkali (pure)
 result-ph-after-alkali = pH after the alkali
 result-coagulant-solids = Dry solids from the coagulant
-result-lime-as-delivered = Lime as delivered
 result-soda-ash-dose = Soda ash (pure)
-result-soda-ash-as-delivered = Soda ash as delivered
+result-soda-ash-product-mass-rate = Soda ash as delivered
 result-free-co2 = Free carbon dioxide (from pH and alkalinity)
 result-magnesium-removed = Magnesium to remove (as Mg)
 result-non-carbonate-hardness = Non-carbonate hardness
@@ -218,6 +217,13 @@ error-reason-tank-dimension-missing = Day tank { $entry } is missing a dimension
 error-reason-limit-minimum-above-maximum = The limit for { $entry } has its minimum above its maximum.
 error-reason-site-has-no-such-pump = The site profile has no pump { $pump }.
 error-reason-factor-not-usable = A conversion step came out as zero or not a number: check the inputs.
+error-reason-missing-input = An entry this calculation needs is missing.
+error-reason-not-finite = An entry is not a finite number.
+error-reason-unknown-calculator = There is no such calculator.
+error-reason-unknown-mode = This calculator has no such variant.
+error-reason-no-product-chosen = Choose a product first.
+error-reason-result-not-finite = The calculation gave no usable number: check the entries.
+error-reason-no-curve = This calculator draws no titration curve.
 
 ## Quantities named in messages (the engine's names)
 quantity-cl2-nh3-n-ratio = Cl2:NH3-N ratio
@@ -381,9 +387,9 @@ plot-ph-axis = pH
 plot-dose-axis = mg/L
 plot-titrant-axis = Titrant added, mg/L
 plot-days-axis = Days since the first entry
-plot-need-coagulation-inputs = Fill in the coagulation measurements to draw the curve.
+plot-need-inputs-coagulation = Fill in the coagulation measurements to draw the curve.
 plot-chosen-point = The curve starts at the pH measured now ({ $start }). The thin lines cross at the chosen dose, { $dose } mg/L, and the pH it reaches, { $ph }.
-plot-need-ph-inputs = Fill in the pH adjustment measurements to draw the curve.
+plot-need-inputs-ph-adjustment = Fill in the pH adjustment measurements to draw the curve.
 plot-need-two = At least two logged doses of one chemical at one point are needed for a trend.
 plot-no-log = Nothing logged yet.
 plot-no-data = No data to draw.
@@ -457,8 +463,8 @@ site-need-parameter = Name the parameter the limit is for.
 site-limit-empty = Give a minimum, a maximum, or both.
 site-limit-reversed = The minimum is above the maximum.
 site-need-source = Say where the limit comes from (permit, rule).
-caution-site-limit-above = { $field } { $value } is above this site's limit of { $limit } { $unit } ({ $source }).
-caution-site-limit-below = { $field } { $value } is below this site's minimum of { $limit } { $unit } ({ $source }).
+site-limit-above = { $field } { $value } is above this site's limit of { $limit } { $unit } ({ $source }).
+site-limit-below = { $field } { $value } is below this site's minimum of { $limit } { $unit } ({ $source }).
 
 ## About
 about-advisory = Molefeed works the chemistry from your measurements. Its results are advice, not instructions: a licensed operator decides every feed, under the plant's permit and local codes.
@@ -493,6 +499,8 @@ product-aqua-ammonia = Aqua ammonia
 product-ammonium-sulfate = Ammonium sulfate
 product-sulfuric-acid = Sulfuric acid
 product-hydrochloric-acid = Hydrochloric acid
+product-carbon-dioxide = Carbon dioxide
+product-sodium-bicarbonate = Sodium bicarbonate
 
 ## Engine cautions (keys as the engine emits them)
 hazard-toxic-gas = Toxic gas. Work only with leak detection, ventilation and a second person present.

@@ -18,13 +18,12 @@ start-latest-none = Aún no hay registros en este sitio.
 start-quick = Abrir una calculadora
 
 ## Calculadoras
-calc-ph-control = Ajuste de pH
+calc-ph-adjustment = Ajuste de pH
 calc-chlorination = Cloración
 calc-coagulation = Coagulación
 calc-softening = Ablandamiento
 calc-pump-check = Verificación de bomba
-calc-feed-setting = Dosificación y bomba
-mode-standard = Estándar
+calc-feed = Dosificación y bomba
 mode-free-chlorine = Cloro libre
 mode-chloramine = Cloramina
 mode-dechlorination = Decloración
@@ -62,6 +61,7 @@ result-feed = Masa por día
 result-product = Caudal de producto
 result-pump = Ajuste de bomba
 result-breakpoint-dose = De ella, para llegar al punto de quiebre
+result-deviation = Desviación de la dosis objetivo
 result-lsi-after = Índice de Langelier después
 result-ccpp-after = Potencial de precipitación de carbonato de calcio después (+ deposita)
 result-ph-after = pH alcanzado
@@ -72,9 +72,8 @@ result-ph-after-coagulant = pH después del coagulante
 result-supplemental-alkali = Álcali suplementario (puro)
 result-ph-after-alkali = pH después del álcali
 result-coagulant-solids = Sólidos secos del coagulante
-result-lime-as-delivered = Cal tal como se entrega
 result-soda-ash-dose = Carbonato de sodio (puro)
-result-soda-ash-as-delivered = Carbonato de sodio tal como se entrega
+result-soda-ash-product-mass-rate = Carbonato de sodio tal como se entrega
 result-free-co2 = Dióxido de carbono libre (de pH y alcalinidad)
 result-magnesium-removed = Magnesio a eliminar (como Mg)
 result-non-carbonate-hardness = Dureza no carbonatada
@@ -218,6 +217,13 @@ error-reason-tank-dimension-missing = Al tanque de día { $entry } le falta una 
 error-reason-limit-minimum-above-maximum = El límite de { $entry } tiene el mínimo por encima del máximo.
 error-reason-site-has-no-such-pump = El perfil de la planta no tiene la bomba { $pump }.
 error-reason-factor-not-usable = Un paso de conversión dio cero o un valor no numérico: revise los datos.
+error-reason-missing-input = Falta un dato que este cálculo necesita.
+error-reason-not-finite = Un dato no es un número finito.
+error-reason-unknown-calculator = No existe esa calculadora.
+error-reason-unknown-mode = Esta calculadora no tiene esa variante.
+error-reason-no-product-chosen = Elija primero un producto.
+error-reason-result-not-finite = El cálculo no dio un número utilizable: revise los datos.
+error-reason-no-curve = Esta calculadora no traza curva de valoración.
 
 ## Magnitudes nombradas en los mensajes (nombres del motor)
 quantity-cl2-nh3-n-ratio = relación Cl2:NH3-N
@@ -381,9 +387,9 @@ plot-ph-axis = pH
 plot-dose-axis = mg/L
 plot-titrant-axis = Titulante añadido, mg/L
 plot-days-axis = Días desde la primera entrada
-plot-need-coagulation-inputs = Complete las mediciones de coagulación para dibujar la curva.
+plot-need-inputs-coagulation = Complete las mediciones de coagulación para dibujar la curva.
 plot-chosen-point = La curva empieza en el pH medido ahora ({ $start }). Las líneas finas se cruzan en la dosis elegida, { $dose } mg/L, y el pH que alcanza, { $ph }.
-plot-need-ph-inputs = Complete las mediciones de ajuste de pH para trazar la curva.
+plot-need-inputs-ph-adjustment = Complete las mediciones de ajuste de pH para trazar la curva.
 plot-need-two = Se necesitan al menos dos dosis registradas de un producto en un punto para ver la tendencia.
 plot-no-log = Aún no hay registros.
 plot-no-data = No hay datos que trazar.
@@ -457,8 +463,8 @@ site-need-parameter = Indique el parámetro al que se refiere el límite.
 site-limit-empty = Indique un mínimo, un máximo o ambos.
 site-limit-reversed = El mínimo es mayor que el máximo.
 site-need-source = Indique de dónde sale el límite (permiso, norma).
-caution-site-limit-above = { $field } { $value } supera el límite de este sitio de { $limit } { $unit } ({ $source }).
-caution-site-limit-below = { $field } { $value } está por debajo del mínimo de este sitio de { $limit } { $unit } ({ $source }).
+site-limit-above = { $field } { $value } supera el límite de este sitio de { $limit } { $unit } ({ $source }).
+site-limit-below = { $field } { $value } está por debajo del mínimo de este sitio de { $limit } { $unit } ({ $source }).
 
 ## Acerca de
 about-advisory = Molefeed resuelve la química a partir de sus mediciones. Sus resultados son orientación, no instrucciones: un operador con licencia decide cada dosificación, según el permiso de la planta y la normativa local.
@@ -493,6 +499,8 @@ product-aqua-ammonia = Amoníaco acuoso
 product-ammonium-sulfate = Sulfato de amonio
 product-sulfuric-acid = Ácido sulfúrico
 product-hydrochloric-acid = Ácido clorhídrico
+product-carbon-dioxide = Dióxido de carbono
+product-sodium-bicarbonate = Bicarbonato de sodio
 
 ## Precauciones del motor (claves tal como las emite el motor)
 hazard-toxic-gas = Gas tóxico. Trabaje solo con detección de fugas, ventilación y una segunda persona presente.

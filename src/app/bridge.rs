@@ -15,9 +15,9 @@ use super::seams::{CalcEngine, CalcKind, TraceLine, connected_engine};
 use super::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
 use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen, utc_today};
 use super::ui::*;
-use super::units::{Unit, UnitSystem};
 use crate::engine::dosing::feed::PumpKind;
 use crate::engine::dosing::site::Limit;
+use crate::engine::quantity::{Unit, UnitSystem};
 use slint::{ComponentHandle, Model, ModelRc, SharedString, VecModel};
 use std::cell::RefCell;
 use std::path::PathBuf;
@@ -217,7 +217,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     start.on_open_calculator(on(|i, n| {
-        if let Some(kind) = CalcKind::ALL.get(n.max(0) as usize) {
+        if let Some(kind) = CalcKind::all().get(n.max(0) as usize) {
             i.state.borrow_mut().open_calculator(*kind);
             i.refresh_all();
         }
@@ -225,7 +225,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
 
     let calc = window.global::<CalcAdapter>();
     calc.on_pick_kind(on(|i, n| {
-        if let Some(kind) = CalcKind::ALL.get(n.max(0) as usize) {
+        if let Some(kind) = CalcKind::all().get(n.max(0) as usize) {
             let mut st = i.state.borrow_mut();
             st.calc.set_kind(*kind);
             st.calc_note = None;
@@ -538,7 +538,7 @@ impl Inner {
         start.set_point_index(st.settings.point_index as i32);
         start.set_not_saved(!st.log_is_persistent());
         start.set_calculators(model(
-            CalcKind::ALL
+            CalcKind::all()
                 .iter()
                 .map(|k| s(self.t(&format!("calc-{}", k.code()))))
                 .collect(),
@@ -818,7 +818,7 @@ impl Inner {
         let st = self.state.borrow();
         let view = st.calc.view();
         let adapter = w.global::<CalcAdapter>();
-        let kind_index = CalcKind::ALL
+        let kind_index = CalcKind::all()
             .iter()
             .position(|k| *k == view.kind)
             .unwrap_or(0);
@@ -900,9 +900,8 @@ impl Inner {
                     r.trace.iter().map(|line| trace_row(&texts, line)).collect(),
                 ));
                 let mut shown: Vec<(i32, String)> = Vec::new();
-                // The site's limits add their cautions to the engine's, worst first.
+                // The engine's cautions, the site's limits among them, worst first.
                 let mut cautions = r.cautions.clone();
-                cautions.extend(st.site_cautions());
                 cautions.sort_by_key(|c| std::cmp::Reverse(c.level));
                 adapter.set_cautions(model(
                     cautions
@@ -1101,7 +1100,7 @@ impl Inner {
         });
         let (detail, status) = match &selected {
             Some(e) => {
-                let mass_unit = super::units::Quantity::MassPerDay.unit(st.units());
+                let mass_unit = crate::engine::quantity::Quantity::MassPerDay.unit(st.units());
                 let opt = |v: Option<f64>, u: Unit| {
                     v.map_or("—".to_string(), |v| {
                         format!(

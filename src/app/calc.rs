@@ -12,8 +12,9 @@ use super::seams::{
     CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, FeedForm, ProductChoice,
     SeamError, TraceLine,
 };
-use super::units::{Quantity, Unit, UnitSystem};
 use crate::engine;
+use crate::engine::dosing::site::Limit;
+use crate::engine::quantity::{Quantity, Unit, UnitSystem};
 use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, HashMap};
 use std::rc::Rc;
@@ -32,132 +33,45 @@ pub struct FieldSpec {
     pub optional: bool,
 }
 
-const fn f(name: &'static str, quantity: Quantity) -> FieldSpec {
-    FieldSpec {
-        name,
-        quantity,
-        optional: false,
+impl FieldSpec {
+    fn of(input: &engine::calculators::Input) -> FieldSpec {
+        FieldSpec {
+            name: input.name,
+            quantity: input.quantity,
+            optional: input.optional,
+        }
     }
 }
 
-const fn optional(name: &'static str, quantity: Quantity) -> FieldSpec {
-    FieldSpec {
-        name,
-        quantity,
-        optional: true,
-    }
-}
-
-use Quantity as Q;
-
-const PRODUCT: [FieldSpec; 3] = [
-    f("strength", Q::Percent),
-    f("specific-gravity", Q::SpecificGravity),
-    f("pump-capacity", Q::VolumePerHour),
-];
-
-/// A gas or dry product is fed by mass: its purity and the feeder's full scale, no SG. The
-/// names differ from the liquid ones so that a liquid's strength, SG or pump volume can never
-/// feed a gas or dry calculation (and the other way round) after the product is switched.
-const GAS: [FieldSpec; 2] = [
-    f("purity", Q::Percent),
-    f("gas-feeder-capacity", Q::MassPerDay),
-];
-const DRY: [FieldSpec; 2] = [
-    f("purity", Q::Percent),
-    f("dry-feeder-capacity", Q::MassPerDay),
-];
-
-/// The product inputs for a product fed as `form`.
-fn product_fields(form: FeedForm) -> &'static [FieldSpec] {
-    match form {
-        FeedForm::Liquid => &PRODUCT,
-        FeedForm::Gas => &GAS,
-        FeedForm::Dry => &DRY,
-    }
-}
-
-/// The inputs of `kind` in `mode` for a product fed as `form`, in screen order. Values reach
-/// the engine in SI under these names (`flow` m³/d, `temperature` °C, concentrations mg/L,
-/// percentages as percent, feeder scales kg/d).
+/// The inputs of `kind` in `mode` for a product fed as `form`, in screen order, as the
+/// engine's calculator table lists them. Values reach the engine in SI under these names.
 pub fn fields(kind: CalcKind, mode: CalcMode, form: FeedForm) -> Vec<FieldSpec> {
-    let mut v = match (kind, mode) {
-        (CalcKind::PhControl, _) => vec![
-            f("flow", Q::Flow),
-            f("ph-raw", Q::Ph),
-            f("ph-target", Q::Ph),
-            f("alkalinity", Q::AsCaCO3),
-            f("temperature", Q::Temperature),
-            // With calcium, the card adds the Langelier index and CCPP the water leaves with.
-            optional("calcium-hardness", Q::AsCaCO3),
-        ],
-        (CalcKind::Chlorination, CalcMode::Chloramine) => vec![
-            f("flow", Q::Flow),
-            f("chlorine-dose", Q::Concentration),
-            f("cl2-n-ratio", Q::Ratio),
-        ],
-        (CalcKind::Chlorination, CalcMode::Dechlorination) => {
-            vec![f("flow", Q::Flow), f("residual-in", Q::Concentration)]
-        }
-        (CalcKind::Chlorination, _) => vec![
-            f("flow", Q::Flow),
-            f("chlorine-demand", Q::Concentration),
-            f("residual-target", Q::Concentration),
-            // Ammonia in the water: chlorine must pass breakpoint before a free residual forms.
-            optional("ammonia-n", Q::Concentration),
-            // With all three, the card adds the pH and alkalinity the chlorine leaves: gas
-            // lowers both, hypochlorite raises the pH.
-            optional("ph", Q::Ph),
-            optional("alkalinity", Q::AsCaCO3),
-            optional("temperature", Q::Temperature),
-        ],
-        (CalcKind::Coagulation, _) => vec![
-            f("flow", Q::Flow),
-            f("jar-dose", Q::Concentration),
-            f("alkalinity", Q::AsCaCO3),
-            f("alkalinity-setpoint", Q::AsCaCO3),
-            f("ph", Q::Ph),
-            f("temperature", Q::Temperature),
-        ],
-        (CalcKind::Softening, _) => {
-            // Lime and soda ash are dry-fed: purities instead of strength, SG and a pump.
-            return vec![
-                f("flow", Q::Flow),
-                f("total-hardness", Q::AsCaCO3),
-                f("calcium-hardness", Q::AsCaCO3),
-                f("alkalinity", Q::AsCaCO3),
-                f("ph", Q::Ph),
-                f("temperature", Q::Temperature),
-                f("excess-lime", Q::Concentration),
-                f("lime-purity", Q::Percent),
-                // The lime feeder's full scale gives its setting; without it, kg/d only.
-                optional("lime-feeder-capacity", Q::MassPerDay),
-                f("soda-ash-purity", Q::Percent),
-            ];
-        }
-        (CalcKind::PumpCheck, _) => {
-            // A drawdown test needs no pump capacity: the product fields without it.
-            return vec![
-                f("flow", Q::Flow),
-                f("dose", Q::Concentration),
-                f("drawdown-volume", Q::Millilitres),
-                f("drawdown-time", Q::Seconds),
-                f("pump-setting", Q::Percent),
-                PRODUCT[0],
-                PRODUCT[1],
-            ];
-        }
-        (CalcKind::FeedSetting, _) => vec![f("flow", Q::Flow), f("dose", Q::Concentration)],
-    };
-    v.extend(product_fields(form));
-    v
+    let _ = kind;
+    engine::calculators::inputs_for_form(mode.calculator(), form)
+        .iter()
+        .map(FieldSpec::of)
+        .collect()
+}
+
+/// Whether field `name` describes a product or its pump rather than the water: what is
+/// typed in it belongs to the product chosen when it was typed (the table's product scope).
+/// A hypochlorite's 12.5 % must never become the caustic's strength when the operator moves
+/// to pH control; the flow, the pH and the other readings of the water carry over.
+fn is_product_field(name: &str) -> bool {
+    engine::calculators::all().iter().any(|c| {
+        FeedForm::ALL.iter().any(|&form| {
+            engine::calculators::inputs_for_form(c, form)
+                .iter()
+                .any(|i| i.name == name && i.scope == engine::calculators::Scope::Product)
+        })
+    })
 }
 
 /// Every field any calculator uses with any product form, each name once.
 fn all_fields() -> Vec<FieldSpec> {
     let mut specs: Vec<FieldSpec> = Vec::new();
-    for kind in CalcKind::ALL {
-        for &mode in kind.modes() {
+    for kind in CalcKind::all() {
+        for mode in kind.modes() {
             for form in FeedForm::ALL {
                 for spec in fields(kind, mode, form) {
                     if !specs.iter().any(|s| s.name == spec.name) {
@@ -219,7 +133,7 @@ pub struct ResultView {
 /// A further result as shown: label `result-<key>`, formatted value and its unit.
 #[derive(Clone, Debug, PartialEq)]
 pub struct ExtraView {
-    pub key: &'static str,
+    pub key: String,
     pub value: String,
     pub unit: Unit,
 }
@@ -268,23 +182,6 @@ const RESULT_FIGURES: u32 = 3;
 /// setting is more digits than any pump or scale can be set to.
 const MAX_FIGURES: u32 = 4;
 
-/// Fields that describe the product or its pump rather than the water: what is typed in them
-/// belongs to the product chosen when it was typed. A hypochlorite's 12.5 % must never become
-/// the caustic's strength when the operator moves to pH control; the flow, the pH and the
-/// other readings of the water carry over between calculators and products.
-const PRODUCT_FIELDS: [&str; 10] = [
-    "strength",
-    "specific-gravity",
-    "pump-capacity",
-    "purity",
-    "gas-feeder-capacity",
-    "dry-feeder-capacity",
-    "lime-purity",
-    "lime-feeder-capacity",
-    "pump-setting",
-    "drawdown-volume",
-];
-
 /// Where a field's text is kept: its name, and for a product's own field the product's id.
 pub type Slot = (&'static str, Option<String>);
 
@@ -306,20 +203,29 @@ pub struct CalcController {
     products: HashMap<(CalcKind, CalcMode), String>,
     /// Maximum use levels (mg/L of product) of the site's delivered products, by catalog id.
     max_use_levels: HashMap<String, f64>,
+    /// The site's own limits, which every request carries for the engine's limit check.
+    limits: Vec<Limit>,
 }
 
 impl CalcController {
     pub fn new(engine: Rc<dyn CalcEngine>, lang: Lang, system: UnitSystem) -> CalcController {
         CalcController {
             engine,
-            kind: CalcKind::PhControl,
-            mode: CalcMode::Standard,
+            // The table's first screen and its first variant.
+            kind: CalcKind::all()[0],
+            mode: CalcKind::all()[0].modes()[0],
             lang,
             system,
             texts: HashMap::new(),
             products: HashMap::new(),
             max_use_levels: HashMap::new(),
+            limits: Vec::new(),
         }
+    }
+
+    /// The site's own limits (the engine adds the regulatory defaults where it sets none).
+    pub fn set_limits(&mut self, limits: Vec<Limit>) {
+        self.limits = limits;
     }
 
     /// The site's maximum use levels by catalog product id; each request carries the chosen
@@ -384,7 +290,7 @@ impl CalcController {
 
     /// The slot of field `name` when `product` is chosen.
     fn slot(&self, name: &'static str, product: Option<&str>) -> Slot {
-        if PRODUCT_FIELDS.contains(&name) {
+        if is_product_field(name) {
             (name, product.map(str::to_string))
         } else {
             (name, None)
@@ -395,10 +301,7 @@ impl CalcController {
     /// [`PRODUCT_FIELDS`]); the product list is looked up only for a product's own field.
     pub fn slot_of(&self, name: &str) -> Option<Slot> {
         let spec = all_field_names().into_iter().find(|n| *n == name)?;
-        let product = PRODUCT_FIELDS
-            .contains(&spec)
-            .then(|| self.product().2)
-            .flatten();
+        let product = is_product_field(spec).then(|| self.product().2).flatten();
         Some((spec, product))
     }
 
@@ -502,6 +405,7 @@ impl CalcController {
             values,
             figures,
             max_use_level_mg_l,
+            limits: self.limits.clone(),
         });
         (views, request, invalid)
     }
@@ -518,6 +422,7 @@ impl CalcController {
             texts: self.texts.clone(),
             products: self.products.clone(),
             max_use_levels: self.max_use_levels.clone(),
+            limits: self.limits.clone(),
         };
         probe.current_request()
     }
@@ -592,7 +497,7 @@ impl CalcController {
                     show(Some(e.value), unit)
                 };
                 ExtraView {
-                    key: e.key,
+                    key: e.key.clone(),
                     value,
                     unit,
                 }
@@ -686,7 +591,7 @@ impl CalcController {
             };
             // A product's own field saved without its product (an older file) has no owner:
             // dropped rather than given to whichever product happens to be chosen.
-            if PRODUCT_FIELDS.contains(&name) == product.is_some() {
+            if is_product_field(name) == product.is_some() {
                 self.texts.insert((name, product), text.clone());
             }
         }
@@ -694,15 +599,15 @@ impl CalcController {
             let Some((k, m)) = key.split_once('/') else {
                 continue;
             };
-            let kind = CalcKind::ALL.into_iter().find(|x| x.code() == k);
-            let mode = CalcMode::ALL.into_iter().find(|x| x.code() == m);
+            let kind = CalcKind::all().into_iter().find(|x| x.code() == k);
+            let mode = CalcMode::all().into_iter().find(|x| x.code() == m);
             if let (Some(kind), Some(mode)) = (kind, mode) {
                 self.products.insert((kind, mode), id.clone());
             }
         }
-        if let Some(kind) = CalcKind::ALL.into_iter().find(|k| k.code() == saved.kind) {
+        if let Some(kind) = CalcKind::all().into_iter().find(|k| k.code() == saved.kind) {
             self.set_kind(kind);
-            if let Some(mode) = CalcMode::ALL.into_iter().find(|m| m.code() == saved.mode) {
+            if let Some(mode) = CalcMode::all().into_iter().find(|m| m.code() == saved.mode) {
                 self.set_mode(mode);
             }
         }
@@ -711,15 +616,11 @@ impl CalcController {
     }
 }
 
-/// How far a typed value limits a result's precision. Unit changes are exact factors, so the
-/// figures survive them; a pH's decimals are the figures of its hydrogen-ion activity (common
-/// practice for logarithms); a temperature only selects equilibrium constants and limits none.
+/// How far a typed value limits a result's precision: the engine's rule, on the text with
+/// the language's decimal mark made a point.
 fn typed_figures(quantity: Quantity, text: &str, lang: Lang) -> Option<u8> {
-    match quantity {
-        Quantity::Temperature => None,
-        Quantity::Ph => Some(numbers::decimals(text).clamp(1, 15) as u8),
-        _ => numbers::figures(text, lang),
-    }
+    numbers::parse(text, lang).ok()?;
+    engine::calculators::given_figures(quantity, &text.trim().replace(',', "."))
 }
 
 fn reformat(text: &str, v: f64, lang: Lang) -> String {
@@ -748,7 +649,7 @@ mod tests {
 
     impl CalcEngine for Recorder {
         fn products(&self, kind: CalcKind, _mode: CalcMode) -> Vec<ProductChoice> {
-            if kind != CalcKind::FeedSetting {
+            if kind != CalcKind::of("feed") {
                 return Vec::new();
             }
             [
@@ -760,7 +661,9 @@ mod tests {
             .map(|(id, form)| ProductChoice {
                 id: id.to_string(),
                 name_key: format!("product-{id}"),
+                name: id.to_string(),
                 form: *form,
+                strength_basis: "weight",
             })
             .collect()
         }
@@ -811,7 +714,7 @@ mod tests {
     fn incomplete_until_every_field_has_a_number() {
         let rec = Rc::new(Recorder::default());
         let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Si);
-        c.set_kind(CalcKind::FeedSetting);
+        c.set_kind(CalcKind::of("feed"));
         assert_eq!(c.view().status, Status::Incomplete);
         fill(&mut c, &[("flow", "1000"), ("dose", "2")]);
         assert_eq!(c.view().status, Status::Incomplete);
@@ -825,7 +728,7 @@ mod tests {
     fn invalid_text_gives_a_field_error_and_no_numbers() {
         let rec = Rc::new(Recorder::default());
         let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Si);
-        c.set_kind(CalcKind::FeedSetting);
+        c.set_kind(CalcKind::of("feed"));
         fill(
             &mut c,
             &[
@@ -847,7 +750,7 @@ mod tests {
     fn values_reach_the_engine_in_si_and_come_back_in_display_units() {
         let rec = Rc::new(Recorder::default());
         let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Us);
-        c.set_kind(CalcKind::FeedSetting);
+        c.set_kind(CalcKind::of("feed"));
         fill(
             &mut c,
             &[
@@ -885,7 +788,7 @@ mod tests {
     fn spanish_comma_input_and_output() {
         let rec = Rc::new(Recorder::default());
         let mut c = CalcController::new(rec.clone(), Lang::Es, UnitSystem::Si);
-        c.set_kind(CalcKind::FeedSetting);
+        c.set_kind(CalcKind::of("feed"));
         fill(
             &mut c,
             &[
@@ -911,7 +814,7 @@ mod tests {
         fn check(dose: &str, flow: &str, shown_dose: &str, shown_feed: &str, figures: u32) {
             let rec = Rc::new(Recorder::default());
             let mut c = CalcController::new(rec, Lang::En, UnitSystem::Si);
-            c.set_kind(CalcKind::FeedSetting);
+            c.set_kind(CalcKind::of("feed"));
             fill(
                 &mut c,
                 &[
@@ -949,12 +852,12 @@ mod tests {
                     dose_mg_per_l: Some(1.0),
                     extras: vec![
                         super::super::seams::Extra {
-                            key: "ph-after",
+                            key: "ph-after".into(),
                             value: 7.456,
                             quantity: Quantity::Ph,
                         },
                         super::super::seams::Extra {
-                            key: "coagulant-solids",
+                            key: "coagulant-solids".into(),
                             value: 45.359237,
                             quantity: Quantity::MassPerDay,
                         },
@@ -966,7 +869,7 @@ mod tests {
             }
         }
         let mut c = CalcController::new(Rc::new(Extras), Lang::Es, UnitSystem::Us);
-        c.set_kind(CalcKind::FeedSetting);
+        c.set_kind(CalcKind::of("feed"));
         for n in [
             "flow",
             "dose",
@@ -982,7 +885,7 @@ mod tests {
         let shown: Vec<_> = r
             .extras
             .iter()
-            .map(|e| (e.key, e.value.as_str(), e.unit))
+            .map(|e| (e.key.as_str(), e.value.as_str(), e.unit))
             .collect();
         assert_eq!(
             shown,
@@ -999,7 +902,7 @@ mod tests {
     fn engine_refusal_and_unconnected_engine_are_reported() {
         let rec = Rc::new(Recorder::default());
         let mut c = CalcController::new(rec, Lang::En, UnitSystem::Si);
-        c.set_kind(CalcKind::FeedSetting);
+        c.set_kind(CalcKind::of("feed"));
         let inputs = [
             ("flow", "0"),
             ("dose", "2"),
@@ -1013,7 +916,7 @@ mod tests {
             Some("error-out-of-range")
         );
         let mut u = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Si);
-        u.set_kind(CalcKind::FeedSetting);
+        u.set_kind(CalcKind::of("feed"));
         fill(&mut u, &inputs);
         assert_eq!(u.view().status, Status::NotConnected);
     }
@@ -1037,7 +940,7 @@ mod tests {
     fn the_chosen_product_goes_with_the_request() {
         let rec = Rc::new(Recorder::default());
         let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Si);
-        c.set_kind(CalcKind::FeedSetting);
+        c.set_kind(CalcKind::of("feed"));
         fill(
             &mut c,
             &[
@@ -1074,15 +977,15 @@ mod tests {
         assert_eq!(seen[0].product.as_deref(), Some("first"));
         assert_eq!(seen.last().unwrap().product.as_deref(), Some("second"));
         drop(seen);
-        c.set_kind(CalcKind::Softening);
+        c.set_kind(CalcKind::of("softening"));
         assert!(c.view().products.is_empty());
     }
 
     #[test]
     fn inputs_survive_a_restart_in_other_settings() {
         let mut c = CalcController::new(Rc::new(Unconnected), Lang::Es, UnitSystem::Us);
-        c.set_kind(CalcKind::Chlorination);
-        c.set_mode(CalcMode::Dechlorination);
+        c.set_kind(CalcKind::of("chlorination"));
+        c.set_mode(CalcMode::of("dechlorination"));
         c.edit("flow", "1,5");
         c.edit("residual-in", "0,80");
         c.edit("ph", "");
@@ -1096,7 +999,7 @@ mod tests {
         back.restore(&saved);
         assert_eq!(
             (back.kind(), back.mode()),
-            (CalcKind::Chlorination, CalcMode::Dechlorination)
+            (CalcKind::of("chlorination"), CalcMode::of("dechlorination"))
         );
         assert_eq!(
             back.text("residual-in"),
@@ -1110,14 +1013,14 @@ mod tests {
         let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Si);
         c.restore(&odd);
         assert_eq!(c.text("no-such-field"), "");
-        assert_eq!(c.kind(), CalcKind::PhControl);
+        assert_eq!(c.kind(), CalcKind::of("ph-adjustment"));
     }
 
     #[test]
     fn an_optional_field_may_stay_empty_but_not_be_wrong() {
         let rec = Rc::new(Recorder::default());
         let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Si);
-        c.set_kind(CalcKind::Chlorination);
+        c.set_kind(CalcKind::of("chlorination"));
         fill(
             &mut c,
             &[
@@ -1144,21 +1047,21 @@ mod tests {
     #[test]
     fn chlorination_modes_change_the_inputs() {
         let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Si);
-        c.set_kind(CalcKind::Chlorination);
-        assert_eq!(c.mode(), CalcMode::FreeChlorine);
-        c.set_mode(CalcMode::Dechlorination);
+        c.set_kind(CalcKind::of("chlorination"));
+        assert_eq!(c.mode(), CalcMode::of("free-chlorine"));
+        c.set_mode(CalcMode::of("dechlorination"));
         let names: Vec<_> = c.view().fields.iter().map(|f| f.name).collect();
         assert!(names.contains(&"residual-in"));
         assert!(!names.contains(&"chlorine-demand"));
-        c.set_kind(CalcKind::Softening);
-        assert_eq!(c.mode(), CalcMode::Standard);
+        c.set_kind(CalcKind::of("softening"));
+        assert_eq!(c.mode(), CalcMode::of("softening"));
     }
 
     #[test]
     fn a_gas_asks_for_purity_and_feeder_scale_and_never_uses_a_liquids_numbers() {
         let rec = Rc::new(Recorder::default());
         let mut c = CalcController::new(rec.clone(), Lang::En, UnitSystem::Us);
-        c.set_kind(CalcKind::FeedSetting);
+        c.set_kind(CalcKind::of("feed"));
         fill(
             &mut c,
             &[
@@ -1210,7 +1113,11 @@ mod tests {
 
     #[test]
     fn softening_asks_for_the_lime_feeder_as_an_option() {
-        let specs = fields(CalcKind::Softening, CalcMode::Standard, FeedForm::Dry);
+        let specs = fields(
+            CalcKind::of("softening"),
+            CalcMode::of("softening"),
+            FeedForm::Dry,
+        );
         let feeder = specs
             .iter()
             .find(|s| s.name == "lime-feeder-capacity")

@@ -6,9 +6,9 @@
 //! same enumerations the code uses, so a new variant without a translation fails the check.
 
 use super::calc::all_field_names;
-use super::seams::{CalcKind, CalcMode, CautionLevel};
-use super::units::Unit;
+use super::seams::{CalcKind, CautionLevel};
 use crate::engine::ErrorKind;
+use crate::engine::quantity::Unit;
 
 /// Every engine error kind. The match makes adding a kind a compile error here until it is
 /// listed (the enum is `non_exhaustive` only outside this crate).
@@ -57,28 +57,9 @@ pub fn all_error_kinds() -> Vec<ErrorKind> {
 /// dosing notes). The bridge translates them when a translation exists and otherwise shows
 /// the key with its parameters, so a new engine key degrades to readable, not to blank.
 pub const ENGINE_TEXT_KEYS: &[&str] = &[
-    "product-chlorine-gas",
-    "product-sodium-hypochlorite",
-    "product-calcium-hypochlorite",
-    "product-alum-liquid",
-    "product-alum-dry",
-    "product-ferric-chloride",
-    "product-ferric-sulfate",
-    "product-pacl",
-    "product-sodium-hydroxide",
-    "product-hydrated-lime",
-    "product-quicklime",
-    "product-soda-ash",
-    "product-sulfur-dioxide",
-    "product-sodium-bisulfite",
-    "product-sodium-metabisulfite",
-    "product-sodium-sulfite",
-    "product-sodium-thiosulfate",
-    "product-ascorbic-acid",
-    "product-aqua-ammonia",
-    "product-ammonium-sulfate",
-    "product-sulfuric-acid",
-    "product-hydrochloric-acid",
+    // The calculator table's check of targets against the plant's limits.
+    "site-limit-above",
+    "site-limit-below",
     "hazard-toxic-gas",
     "hazard-toxic-vapour",
     "hazard-corrosive",
@@ -133,31 +114,24 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "ph-effect-chlorine-as-fed",
 ];
 
-/// Further results the engine adapter reports (`result-<key>`).
-pub const EXTRA_KEYS: &[&str] = &[
-    "breakpoint-dose",
-    "lsi-after",
-    "ccpp-after",
-    "ph-after",
-    "alkalinity-after",
-    "alkalinity-consumed",
-    "alkalinity-remaining",
-    "ph-after-coagulant",
-    "supplemental-alkali",
-    "ph-after-alkali",
-    "coagulant-solids",
-    "lime-as-delivered",
-    "soda-ash-dose",
-    "soda-ash-as-delivered",
-    "free-co2",
-    "magnesium-removed",
-    "non-carbonate-hardness",
-    "ph-softened",
-    "hardness-softened",
-];
+/// Further results listed under the card's big numbers (`result-<id>` with dashes): every
+/// result of the calculator table that has no big place of its own.
+pub fn extra_keys() -> Vec<String> {
+    let mut keys: Vec<String> = crate::engine::calculators::all()
+        .iter()
+        .flat_map(|c| c.results.iter())
+        .filter(|r| !super::engine_adapter::BIG_RESULTS.contains(&r.id))
+        .map(|r| r.id.replace('_', "-"))
+        .collect();
+    keys.sort();
+    keys.dedup();
+    keys
+}
 
 /// Trace labels (`trace-<label>`): the engine's named traces and the adapter's own.
 pub const TRACE_LABELS: &[&str] = &[
+    "product-feed",
+    "product-strength",
     "ph-adjustment",
     "active-feed-si",
     "active-feed-us",
@@ -184,8 +158,6 @@ pub const TRACE_LABELS: &[&str] = &[
     "magnesium-from-hardness",
     "monochloramine-ratio",
     "pounds-factor",
-    "product-feed",
-    "product-strength",
     "pump-setting",
     "soda-ash-per-nch",
     "solids-per-dose",
@@ -207,6 +179,14 @@ pub const ORIGIN_CODES: &[&str] = &[
 /// source scan in the tests below finds every reason the engine or app gives, so a new one
 /// cannot reach the screen as a bare kind.
 pub const ERROR_REASONS: &[&str] = &[
+    "product-not-for-calculator",
+    "missing-input",
+    "not-finite",
+    "result-not-finite",
+    "unknown-calculator",
+    "unknown-mode",
+    "no-product-chosen",
+    "no-curve",
     "not-a-number",
     "not-positive",
     "needs-specific-gravity",
@@ -220,7 +200,6 @@ pub const ERROR_REASONS: &[&str] = &[
     "calcium-above-total-hardness",
     "needs-basicity",
     "alkalinity-differs-from-water",
-    "product-not-for-calculator",
     "stability-needs-positive",
     "site-id-used-twice",
     "site-needs-name",
@@ -313,8 +292,21 @@ pub fn quantity_key(name: &str) -> String {
 pub fn dynamic_keys() -> Vec<String> {
     let mut keys = Vec::new();
     keys.extend(Unit::ALL.iter().map(|u| format!("unit-{}", u.code())));
-    keys.extend(CalcKind::ALL.iter().map(|k| format!("calc-{}", k.code())));
-    keys.extend(CalcMode::ALL.iter().map(|m| format!("mode-{}", m.code())));
+    keys.extend(CalcKind::all().iter().map(|k| format!("calc-{}", k.code())));
+    // Every product's name, from the catalog itself.
+    if let Ok(catalog) = crate::engine::dosing::catalog::Catalog::builtin() {
+        keys.extend(catalog.products.iter().map(|p| p.name_key.clone()));
+    }
+    // A variant's chip is shown only where a screen has more than one.
+    for kind in CalcKind::all() {
+        let modes = kind.modes();
+        if modes.len() > 1 {
+            keys.extend(modes.iter().map(|m| format!("mode-{}", m.code())));
+        }
+        if modes.iter().any(|m| m.calculator().has_curve()) {
+            keys.push(format!("plot-need-inputs-{}", kind.code()));
+        }
+    }
     keys.extend(all_field_names().iter().map(|f| format!("field-{f}")));
     keys.extend(
         all_error_kinds()
@@ -332,7 +324,7 @@ pub fn dynamic_keys() -> Vec<String> {
             .map(|code| format!("log-error-{code}")),
     );
     keys.extend(ENGINE_TEXT_KEYS.iter().map(|k| k.to_string()));
-    keys.extend(EXTRA_KEYS.iter().map(|k| format!("result-{k}")));
+    keys.extend(extra_keys().iter().map(|k| format!("result-{k}")));
     keys.extend(TRACE_LABELS.iter().map(|k| format!("trace-{k}")));
     keys.extend(ORIGIN_CODES.iter().map(|k| format!("origin-{k}")));
     keys.extend(ERROR_REASONS.iter().map(|r| format!("error-reason-{r}")));

@@ -16,7 +16,6 @@ pub mod plot;
 pub mod seams;
 pub mod sites;
 pub mod state;
-pub mod units;
 
 #[cfg(feature = "app")]
 mod bridge;

@@ -6,96 +6,106 @@
 //! answers [`SeamError::NotConnected`] and the UI says so in words: the app never makes up a
 //! dose. Tests plug in their own implementations to check wiring and formatting.
 
-use super::units::Quantity;
 use crate::engine;
+use crate::engine::calculators;
+pub use crate::engine::calculators::{Curve, FeedForm, ProductChoice, StepOrigin, TraceLine};
+use crate::engine::dosing::site::Limit;
+use crate::engine::quantity::Quantity;
 use std::collections::BTreeMap;
 use std::rc::Rc;
 
-/// The calculators the app offers, in menu order.
+/// A calculator screen of the app: a group of the engine's calculator table (`calc-<code>`),
+/// in the table's order. Nothing here names a calculator: the menu is the table's.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-pub enum CalcKind {
-    PhControl,
-    Chlorination,
-    Coagulation,
-    Softening,
-    PumpCheck,
-    FeedSetting,
-}
+pub struct CalcKind(&'static str);
 
 impl CalcKind {
-    pub const ALL: [CalcKind; 6] = [
-        CalcKind::PhControl,
-        CalcKind::Chlorination,
-        CalcKind::Coagulation,
-        CalcKind::Softening,
-        CalcKind::PumpCheck,
-        CalcKind::FeedSetting,
-    ];
-
-    /// Stable code; the translation key is `calc-<code>`.
-    pub fn code(self) -> &'static str {
-        match self {
-            CalcKind::PhControl => "ph-control",
-            CalcKind::Chlorination => "chlorination",
-            CalcKind::Coagulation => "coagulation",
-            CalcKind::Softening => "softening",
-            CalcKind::PumpCheck => "pump-check",
-            CalcKind::FeedSetting => "feed-setting",
-        }
+    /// Every screen, in the table's order.
+    pub fn all() -> Vec<CalcKind> {
+        calculators::groups()
+            .into_iter()
+            .map(|(group, _)| CalcKind(group))
+            .collect()
     }
 
-    /// The variants a calculator offers (chlorination has three; the others one).
-    pub fn modes(self) -> &'static [CalcMode] {
-        match self {
-            CalcKind::Chlorination => &[
-                CalcMode::FreeChlorine,
-                CalcMode::Chloramine,
-                CalcMode::Dechlorination,
-            ],
-            // Coagulation's variants are the alkali that keeps the residual alkalinity.
-            CalcKind::Coagulation => &[
-                CalcMode::AlkaliCaustic,
-                CalcMode::AlkaliLime,
-                CalcMode::AlkaliSodaAsh,
-            ],
-            _ => &[CalcMode::Standard],
+    /// The screen whose code is `code`.
+    pub fn find(code: &str) -> Option<CalcKind> {
+        CalcKind::all().into_iter().find(|k| k.0 == code)
+    }
+
+    /// The screen `code` names (for code and tests that name one by a literal).
+    #[cfg(test)]
+    pub fn of(code: &str) -> CalcKind {
+        CalcKind::find(code).expect("a group of the calculator table")
+    }
+
+    /// Stable code (the table's group); the translation key is `calc-<code>`.
+    pub fn code(self) -> &'static str {
+        self.0
+    }
+
+    /// The variants the screen offers: each calculator of the group, or each mode of its one
+    /// calculator (coagulation: the alkali that keeps the residual alkalinity).
+    pub fn modes(self) -> Vec<CalcMode> {
+        let mut out = Vec::new();
+        for c in calculators::all()
+            .iter()
+            .filter(|c| c.in_app && c.group == self.0)
+        {
+            if c.modes.is_empty() {
+                out.push(CalcMode {
+                    calculator: c.id,
+                    mode: None,
+                });
+            }
+            out.extend(c.modes.iter().map(|&m| CalcMode {
+                calculator: c.id,
+                mode: Some(m),
+            }));
         }
+        out
     }
 }
 
-/// A calculator variant; the translation key is `mode-<code>`.
+/// A variant of a screen: one calculator of the table and, where it has modes, one mode. The
+/// translation key of its chip is `mode-<code>`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-pub enum CalcMode {
-    Standard,
-    FreeChlorine,
-    Chloramine,
-    Dechlorination,
-    AlkaliCaustic,
-    AlkaliLime,
-    AlkaliSodaAsh,
+pub struct CalcMode {
+    pub calculator: &'static str,
+    pub mode: Option<&'static str>,
 }
 
 impl CalcMode {
-    pub const ALL: [CalcMode; 7] = [
-        CalcMode::Standard,
-        CalcMode::FreeChlorine,
-        CalcMode::Chloramine,
-        CalcMode::Dechlorination,
-        CalcMode::AlkaliCaustic,
-        CalcMode::AlkaliLime,
-        CalcMode::AlkaliSodaAsh,
-    ];
+    /// Every variant of every screen.
+    pub fn all() -> Vec<CalcMode> {
+        CalcKind::all()
+            .into_iter()
+            .flat_map(CalcKind::modes)
+            .collect()
+    }
 
+    /// The variant whose code is `code`.
+    pub fn find(code: &str) -> Option<CalcMode> {
+        CalcMode::all().into_iter().find(|m| m.code() == code)
+    }
+
+    /// The variant `code` names (for tests that name one by a literal).
+    #[cfg(test)]
+    pub fn of(code: &str) -> CalcMode {
+        CalcMode::find(code).expect("a calculator or mode of the table")
+    }
+
+    /// Stable code: the mode, else the calculator's id.
     pub fn code(self) -> &'static str {
-        match self {
-            CalcMode::Standard => "standard",
-            CalcMode::FreeChlorine => "free-chlorine",
-            CalcMode::Chloramine => "chloramine",
-            CalcMode::Dechlorination => "dechlorination",
-            CalcMode::AlkaliCaustic => "alkali-caustic",
-            CalcMode::AlkaliLime => "alkali-lime",
-            CalcMode::AlkaliSodaAsh => "alkali-soda-ash",
-        }
+        self.mode.unwrap_or(self.calculator)
+    }
+
+    /// The table's calculator this variant runs.
+    pub fn calculator(self) -> &'static calculators::Calculator {
+        calculators::all()
+            .iter()
+            .find(|c| c.id == self.calculator)
+            .expect("a variant is made only from the table")
     }
 }
 
@@ -116,43 +126,9 @@ pub struct CalcRequest {
     /// from its certification), so the engine can flag a dose above it; `None` when the site
     /// records none.
     pub max_use_level_mg_l: Option<f64>,
-}
-
-/// A product the operator can pick for a calculator; `name_key` is its translation key.
-#[derive(Clone, Debug, PartialEq)]
-pub struct ProductChoice {
-    pub id: String,
-    pub name_key: String,
-    /// How it is fed, which decides the product inputs the calculator asks for.
-    pub form: FeedForm,
-}
-
-/// How a product reaches the water: a liquid through a metering pump (strength, SG, pump
-/// volume), or a gas or dry chemical through a feeder set by mass (purity, feeder scale).
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
-pub enum FeedForm {
-    #[default]
-    Liquid,
-    Gas,
-    Dry,
-}
-
-impl FeedForm {
-    pub const ALL: [FeedForm; 3] = [FeedForm::Liquid, FeedForm::Gas, FeedForm::Dry];
-
-    /// Stable code, the stem of the form's translation keys.
-    pub fn code(self) -> &'static str {
-        match self {
-            FeedForm::Liquid => "liquid",
-            FeedForm::Gas => "gas",
-            FeedForm::Dry => "dry",
-        }
-    }
-
-    /// Fed by mass: there is no product volume to show, and the setting is a feeder's.
-    pub fn by_mass(self) -> bool {
-        self != FeedForm::Liquid
-    }
+    /// The site's own limits; the engine checks targets against them (and the regulatory
+    /// defaults where the site sets none).
+    pub limits: Vec<Limit>,
 }
 
 impl CalcRequest {
@@ -228,52 +204,9 @@ pub struct CalcOutcome {
 /// A further result: translation key `result-<key>`, value in SI for `quantity`.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Extra {
-    pub key: &'static str,
+    pub key: String,
     pub value: f64,
     pub quantity: Quantity,
-}
-
-/// Where a step's factor comes from; translated as `origin-<code>` with `$detail`.
-#[derive(Clone, Debug, PartialEq)]
-pub struct StepOrigin {
-    pub code: &'static str,
-    pub detail: String,
-}
-
-/// One line of "show the work".
-#[derive(Clone, Debug, PartialEq)]
-pub enum TraceLine {
-    /// A named trace begins; its title is the translation `trace-<label>`.
-    Heading(String),
-    /// A conversion step (`previous × factor = result`), with its factor's origin.
-    Step {
-        text: String,
-        origin: Option<StepOrigin>,
-    },
-    /// The result rounded to the figures its inputs support, or a note from the adapter.
-    Result(String),
-}
-
-impl TraceLine {
-    /// The line as stored in the dose log: language-neutral, headings as `[label]`.
-    pub fn plain(&self) -> String {
-        match self {
-            TraceLine::Heading(label) => format!("[{label}]"),
-            TraceLine::Step {
-                text,
-                origin: Some(o),
-            } => format!("  {text}   ({}: {})", o.code, o.detail),
-            TraceLine::Step { text, origin: None } => format!("  {text}"),
-            TraceLine::Result(text) => format!("  {text}"),
-        }
-    }
-}
-
-/// A titration curve: titrant added (mg/L) against pH.
-#[derive(Clone, Debug, PartialEq, Default)]
-pub struct Curve {
-    pub titrant: String,
-    pub points: Vec<(f64, f64)>,
 }
 
 /// Why the seam could not answer.
@@ -330,12 +263,13 @@ mod tests {
     #[test]
     fn unconnected_engine_refuses_rather_than_inventing() {
         let request = CalcRequest {
-            kind: CalcKind::FeedSetting,
-            mode: CalcMode::Standard,
+            kind: CalcKind::of("feed"),
+            mode: CalcMode::of("feed"),
             product: None,
             values: BTreeMap::from([("flow", 1000.0)]),
             figures: BTreeMap::new(),
             max_use_level_mg_l: None,
+            limits: Vec::new(),
         };
         assert_eq!(Unconnected.compute(&request), Err(SeamError::NotConnected));
         assert_eq!(
@@ -350,13 +284,33 @@ mod tests {
     }
 
     #[test]
-    fn codes_are_distinct() {
-        let mut codes: Vec<_> = CalcKind::ALL.iter().map(|k| k.code()).collect();
-        codes.extend(CalcMode::ALL.iter().map(|m| m.code()));
-        let n = codes.len();
-        codes.sort();
-        codes.dedup();
-        assert_eq!(codes.len(), n);
-        assert_eq!(CalcKind::Chlorination.modes().len(), 3);
+    fn the_menu_is_the_tables_groups_and_codes_are_distinct() {
+        let kinds: Vec<_> = CalcKind::all().iter().map(|k| k.code()).collect();
+        assert_eq!(
+            kinds,
+            [
+                "ph-adjustment",
+                "chlorination",
+                "coagulation",
+                "softening",
+                "pump-check",
+                "feed"
+            ]
+        );
+        let mut modes: Vec<_> = CalcMode::all().iter().map(|m| m.code()).collect();
+        let n = modes.len();
+        modes.sort();
+        modes.dedup();
+        assert_eq!(modes.len(), n);
+        let chlorination: Vec<_> = CalcKind::of("chlorination")
+            .modes()
+            .iter()
+            .map(|m| m.code())
+            .collect();
+        assert_eq!(
+            chlorination,
+            ["free-chlorine", "chloramine", "dechlorination"]
+        );
+        assert_eq!(CalcKind::of("coagulation").modes()[1].code(), "alkali-lime");
     }
 }

@@ -11,8 +11,6 @@
 
 use super::calc::{self, key};
 use super::numbers::{self, Lang};
-use super::seams::{CalcKind, CalcMode, CalcRequest, Caution, CautionLevel};
-use super::units::{Quantity, UnitSystem};
 use crate::engine;
 use crate::engine::dosing::catalog::{Catalog, Form, StrengthBasis};
 use crate::engine::dosing::feed::PumpKind;
@@ -20,6 +18,7 @@ use crate::engine::dosing::site::{
     DeliveredProduct, Limit, Pump, SamplingTap, SiteProfile, regulatory_defaults,
 };
 use crate::engine::dosing::units::VolumeRateUnit;
+use crate::engine::quantity::{Quantity, UnitSystem};
 use serde::{Deserialize, Serialize};
 use std::collections::HashMap;
 use std::path::Path;
@@ -402,56 +401,6 @@ pub fn effective_limits(site: &SiteProfile) -> Vec<Limit> {
         if !out.iter().any(|l| l.parameter == d.parameter) {
             out.push(d);
         }
-    }
-    out
-}
-
-/// Which limit parameter a calculator's target input is checked against.
-fn checked_inputs(kind: CalcKind, mode: CalcMode) -> &'static [(&'static str, &'static str)] {
-    match (kind, mode) {
-        (CalcKind::Chlorination, CalcMode::FreeChlorine) => &[("residual-target", "chlorine")],
-        (CalcKind::Chlorination, CalcMode::Chloramine) => &[("chlorine-dose", "chloramines")],
-        (CalcKind::PhControl, _) => &[("ph-target", "ph")],
-        _ => &[],
-    }
-}
-
-/// Cautions for targets outside the plant's limits: above a maximum or below a minimum, each
-/// naming the limit and its source. Values are compared in the limit's own terms (mg/L, pH).
-pub fn limit_cautions(request: &CalcRequest, limits: &[Limit], lang: Lang) -> Vec<Caution> {
-    let mut out = Vec::new();
-    for (field, parameter) in checked_inputs(request.kind, request.mode) {
-        let (Some(value), Some(limit)) = (
-            request.get(field),
-            limits.iter().find(|l| l.parameter == *parameter),
-        ) else {
-            continue;
-        };
-        let fmt = |v: f64| numbers::format_sig(v, 3, lang);
-        let (code, bound) = match (limit.min, limit.max) {
-            (_, Some(max)) if value > max => (key("caution-site-limit-above"), max),
-            (Some(min), _) if value < min => (key("caution-site-limit-below"), min),
-            _ => continue,
-        };
-        let field_key = format!("field-{field}");
-        out.push(Caution {
-            level: CautionLevel::Warning,
-            code: code.to_string(),
-            message: format!(
-                "{field} {} is outside the limit {} {} ({})",
-                fmt(value),
-                fmt(bound),
-                limit.unit,
-                limit.source
-            ),
-            params: vec![
-                ("field".into(), field_key),
-                ("value".into(), fmt(value)),
-                ("limit".into(), fmt(bound)),
-                ("unit".into(), limit.unit.clone()),
-                ("source".into(), limit.source.clone()),
-            ],
-        });
     }
     out
 }

@@ -12,11 +12,11 @@ use super::dose_log::{
 };
 use super::numbers::{self, Lang};
 use super::plot::{self, Range};
-use super::seams::{CalcEngine, CalcKind, CalcMode, Caution, SeamError};
+use super::seams::{CalcEngine, CalcKind, CalcMode, SeamError};
 use super::sites::{self, LegacySite, LimitForm, Prefill, ProductForm, PumpForm, SiteProblem};
-use super::units::{Unit, UnitSystem};
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::site::{Limit, SiteProfile};
+use crate::engine::quantity::{Unit, UnitSystem};
 use chrono::{Datelike, Days, Months, NaiveDate};
 use serde::{Deserialize, Serialize};
 use std::path::PathBuf;
@@ -674,21 +674,13 @@ impl AppState {
         sites::effective_limits(self.site())
     }
 
-    /// Cautions the current calculator inputs raise against the site's limits (in addition to
-    /// the engine's own cautions on the result).
-    pub fn site_cautions(&self) -> Vec<Caution> {
-        self.calc
-            .current_request()
-            .map(|r| sites::limit_cautions(&r, &self.site_limits(), self.lang()))
-            .unwrap_or_default()
-    }
-
     /// Fills the open calculator's empty inputs from the site: on the first visit to a
     /// calculator variant the site's delivered product is chosen, then its strength, SG and
     /// metering-pump capacity and the plant's typical flow fill fields the operator left empty.
     pub fn prefill_from_site(&mut self) {
         self.calc
             .set_max_use_levels(sites::max_use_levels(self.site()));
+        self.calc.set_limits(self.site().limits.clone());
         let (kind, mode) = (self.calc.kind(), self.calc.mode());
         if !self.preselected.contains(&(kind, mode)) {
             self.preselected.push((kind, mode));
@@ -760,12 +752,11 @@ impl AppState {
             flow_m3_per_day: self.calc.current_request().and_then(|r| r.get("flow")),
             product_l_per_hour: result.outcome.product_l_per_hour,
             trace: result.outcome.trace.iter().map(|l| l.plain()).collect(),
-            // What the card showed: the engine's cautions and the site's permit warnings.
+            // What the card showed: the engine's cautions, the site's limits among them.
             cautions: result
                 .outcome
                 .cautions
                 .iter()
-                .chain(self.site_cautions().iter())
                 .map(|c| c.code.clone())
                 .collect(),
             note: String::new(),
@@ -1118,26 +1109,27 @@ impl AppState {
             .find(|p| !p.exists())
     }
 
-    /// The titration curve for the calculator in use: coagulation when it is open (pH against
-    /// coagulant, hydroxide precipitating), otherwise pH adjustment. The chosen dose and the pH
-    /// it reaches are marked on it and said in words.
+    /// The titration curve for the calculator in use when it draws one (coagulation: pH
+    /// against coagulant, hydroxide precipitating), otherwise the first screen of the table
+    /// that draws one (pH adjustment). The chosen dose and the pH it reaches are marked on it
+    /// and said in words.
     pub fn titration_plot(&self) -> PlotView {
-        let (kind, mode, need) = if self.calc.kind() == CalcKind::Coagulation {
-            (
-                CalcKind::Coagulation,
-                self.calc.mode(),
-                key("plot-need-coagulation-inputs"),
-            )
+        let open = (self.calc.kind(), self.calc.mode());
+        let (kind, mode) = if open.1.calculator().has_curve() {
+            open
         } else {
-            (
-                CalcKind::PhControl,
-                CalcMode::Standard,
-                key("plot-need-ph-inputs"),
-            )
+            CalcKind::all()
+                .into_iter()
+                .find_map(|k| {
+                    let m = k.modes().into_iter().find(|m| m.calculator().has_curve())?;
+                    Some((k, m))
+                })
+                .unwrap_or(open)
         };
+        let need = format!("plot-need-inputs-{}", kind.code());
         let Some(request) = self.calc.request_for(kind, mode) else {
             return PlotView {
-                message: Some(Note::new(need)),
+                message: Some(Note::new(&need)),
                 ..PlotView::default()
             };
         };
@@ -1164,7 +1156,8 @@ impl AppState {
         let ph = outcome.as_ref().and_then(|o| {
             o.extras
                 .iter()
-                .find(|e| e.key == "ph-after" || e.key == "ph-after-coagulant")
+                // The pH the dose leaves: the first pH the calculator reports after it.
+                .find(|e| e.key.starts_with("ph-after"))
                 .map(|e| e.value)
         });
         if let (Some(dose), Some(ph), Some((x, y))) = (dose, ph, ranges(&curve.points)) {
@@ -1308,7 +1301,7 @@ mod tests {
     use super::*;
     use crate::app::dose_log::MemoryLog;
     use crate::app::seams::{CalcOutcome, CalcRequest, Unconnected};
-    use crate::app::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
+    use crate::app::sites::{LimitForm, ProductForm, PumpForm, SiteProblem};
 
     struct DoseEcho;
     impl CalcEngine for DoseEcho {
@@ -1326,7 +1319,7 @@ mod tests {
     }
 
     fn fill_feed(s: &mut AppState, dose: &str) {
-        s.calc.set_kind(CalcKind::FeedSetting);
+        s.calc.set_kind(CalcKind::of("feed"));
         for (n, t) in [
             ("flow", "1"),
             ("dose", dose),
@@ -1343,9 +1336,9 @@ mod tests {
         let mut s = state(Rc::new(Unconnected));
         assert!(!s.back());
         s.navigate(Screen::Settings);
-        s.open_calculator(CalcKind::Softening);
+        s.open_calculator(CalcKind::of("softening"));
         assert_eq!(s.screen(), Screen::Calculators);
-        assert_eq!(s.calc.kind(), CalcKind::Softening);
+        assert_eq!(s.calc.kind(), CalcKind::of("softening"));
         assert!(s.back());
         assert_eq!(s.screen(), Screen::Settings);
         assert!(s.back());
@@ -1965,7 +1958,7 @@ mod tests {
     #[test]
     fn calculators_start_from_the_site_but_keep_what_was_typed() {
         let mut s = state(crate::app::seams::connected_engine());
-        s.open_calculator(CalcKind::FeedSetting);
+        s.open_calculator(CalcKind::of("feed"));
         let view = s.calc.view();
         assert_eq!(
             view.products[view.product_index].id, "sodium-hypochlorite",
@@ -2014,7 +2007,7 @@ mod tests {
         // Metric units: the caustic pump's 30 L/h arrives as typed in the profile.
         let mut s = state(crate::app::seams::connected_engine());
         s.set_units(UnitSystem::Si);
-        s.open_calculator(CalcKind::PhControl);
+        s.open_calculator(CalcKind::of("ph-adjustment"));
         let view = s.calc.view();
         assert_eq!(view.products[view.product_index].id, "sodium-hydroxide");
         expect(
@@ -2038,13 +2031,13 @@ mod tests {
             }
         };
         // Softening: the demo's lime silo (94 %) and its 400 lb/d volumetric feeder.
-        s.open_calculator(CalcKind::Softening);
+        s.open_calculator(CalcKind::of("softening"));
         expect(
             &s,
             &[("lime-purity", "94"), ("lime-feeder-capacity", "400")],
         );
         // pH adjustment with hydrated lime: purity and dry feeder, no SG or pump volume.
-        s.open_calculator(CalcKind::PhControl);
+        s.open_calculator(CalcKind::of("ph-adjustment"));
         expect(&s, &[("specific-gravity", "1.27")]);
         let lime = s
             .calc
@@ -2064,14 +2057,11 @@ mod tests {
         expect(&s, &[("dry-feeder-capacity", "350")]);
     }
 
-    fn request(kind: CalcKind, mode: CalcMode, values: &[(&'static str, f64)]) -> CalcRequest {
-        CalcRequest {
-            kind,
-            mode,
-            product: None,
-            values: values.iter().copied().collect(),
-            figures: Default::default(),
-            max_use_level_mg_l: None,
+    /// The cautions the card shows, through the real engine.
+    fn card_cautions(s: &AppState) -> Vec<crate::app::seams::Caution> {
+        match s.calc.view().status {
+            Status::Ready(r) => r.cautions,
+            other => panic!("no result: {other:?}"),
         }
     }
 
@@ -2089,86 +2079,44 @@ mod tests {
                 .iter()
                 .any(|l| l.parameter == "ph" && l.source.contains("CFR"))
         );
-        let free = (CalcKind::Chlorination, CalcMode::FreeChlorine);
-        let cases: &[(CalcKind, CalcMode, &'static str, f64, Option<&str>)] = &[
-            (free.0, free.1, "residual-target", 1.5, None),
-            (
-                free.0,
-                free.1,
-                "residual-target",
-                4.5,
-                Some("caution-site-limit-above"),
-            ),
-            (
-                free.0,
-                free.1,
-                "residual-target",
-                0.1,
-                Some("caution-site-limit-below"),
-            ),
-            (
-                CalcKind::PhControl,
-                CalcMode::Standard,
-                "ph-target",
-                7.4,
-                None,
-            ),
-            (
-                CalcKind::PhControl,
-                CalcMode::Standard,
-                "ph-target",
-                9.0,
-                Some("caution-site-limit-above"),
-            ),
-            (
-                CalcKind::PhControl,
-                CalcMode::Standard,
-                "ph-target",
-                6.0,
-                Some("caution-site-limit-below"),
-            ),
-            (
-                CalcKind::Chlorination,
-                CalcMode::Chloramine,
-                "chlorine-dose",
-                5.0,
-                Some("caution-site-limit-above"),
-            ),
-            (
-                CalcKind::FeedSetting,
-                CalcMode::Standard,
-                "dose",
-                50.0,
-                None,
-            ),
-        ];
-        for (kind, mode, field, value, want) in cases {
-            let got = sites::limit_cautions(
-                &request(*kind, *mode, &[(field, *value)]),
-                &limits,
-                Lang::En,
-            );
-            match want {
-                None => assert!(got.is_empty(), "{field} {value}: {got:?}"),
-                Some(code) => {
-                    assert_eq!(got.len(), 1, "{field} {value}: {got:?}");
-                    assert_eq!(got[0].code, *code);
-                    assert_eq!(got[0].level, crate::app::seams::CautionLevel::Warning);
-                    let source = &got[0].params.iter().find(|(k, _)| k == "source").unwrap().1;
-                    assert!(!source.is_empty());
-                    assert!(
-                        got[0]
-                            .params
-                            .contains(&("field".into(), format!("field-{field}")))
-                    );
-                }
-            }
-        }
+        // Through the real engine, which checks every target against the site's limits.
+        let mut s = state(crate::app::seams::connected_engine());
+        fill_chlorination(&mut s, "4.5");
+        s.prefill_from_site();
+        let cautions = card_cautions(&s);
+        let breach = cautions
+            .iter()
+            .find(|c| c.code == "site-limit-above")
+            .unwrap_or_else(|| panic!("no limit caution: {cautions:?}"));
+        assert_eq!(breach.level, crate::app::seams::CautionLevel::Warning);
+        assert!(
+            breach
+                .params
+                .contains(&("field".into(), "field-residual-target".into()))
+        );
+        assert!(
+            breach
+                .params
+                .iter()
+                .any(|(k, v)| k == "source" && v.contains("Plant permit")),
+            "{breach:?}"
+        );
+        s.calc.edit("residual-target", "0.1");
+        assert!(
+            card_cautions(&s)
+                .iter()
+                .any(|c| c.code == "site-limit-below")
+        );
+        s.calc.edit("residual-target", "1.5");
+        assert!(
+            !card_cautions(&s)
+                .iter()
+                .any(|c| c.code.starts_with("site-limit"))
+        );
     }
 
-    /// Free chlorination with a residual target of `residual` mg/L (the demo permit allows 4).
     fn fill_chlorination(s: &mut AppState, residual: &str) {
-        s.calc.set_kind(CalcKind::Chlorination);
+        s.calc.set_kind(CalcKind::of("chlorination"));
         for (n, t) in [
             ("flow", "1"),
             ("chlorine-demand", "1"),
@@ -2199,7 +2147,7 @@ mod tests {
     #[test]
     fn a_products_own_numbers_never_carry_to_another_product() {
         let mut s = state(crate::app::seams::connected_engine());
-        s.open_calculator(CalcKind::FeedSetting);
+        s.open_calculator(CalcKind::of("feed"));
         choose(&mut s, "sodium-hypochlorite");
         for (name, text) in [
             ("strength", "11"),
@@ -2209,7 +2157,7 @@ mod tests {
             s.calc.edit(name, text);
         }
         // Caustic in pH control: the site's caustic (25 %, SG 1.27), not the hypochlorite typed.
-        s.open_calculator(CalcKind::PhControl);
+        s.open_calculator(CalcKind::of("ph-adjustment"));
         choose(&mut s, "sodium-hydroxide");
         assert_eq!(field_text(&s, "strength"), "25");
         assert_eq!(field_text(&s, "specific-gravity"), "1.27");
@@ -2219,7 +2167,7 @@ mod tests {
             "caustic computed at a hypochlorite strength"
         );
         // Back on hypochlorite, what was typed for it is still there.
-        s.open_calculator(CalcKind::FeedSetting);
+        s.open_calculator(CalcKind::of("feed"));
         choose(&mut s, "sodium-hypochlorite");
         assert_eq!(field_text(&s, "strength"), "11");
         assert_eq!(field_text(&s, "pump-capacity"), "9");
@@ -2232,7 +2180,7 @@ mod tests {
     #[test]
     fn typed_text_stays_typed_through_a_language_or_unit_switch() {
         let mut s = state(crate::app::seams::connected_engine());
-        s.open_calculator(CalcKind::FeedSetting);
+        s.open_calculator(CalcKind::of("feed"));
         assert_eq!(field_text(&s, "flow"), "2.4", "the site's typical flow");
         assert_eq!(field_text(&s, "strength"), "12.5");
         // The operator reads the plant's flow meter and types over the app's number.
@@ -2262,7 +2210,7 @@ mod tests {
         // The demo plant's hypochlorite is certified to 100 mg/L of product; at 12.5 trade %
         // and SG 1.2 that is about 10 mg/L as Cl2.
         let mut s = state(crate::app::seams::connected_engine());
-        s.open_calculator(CalcKind::Chlorination);
+        s.open_calculator(CalcKind::of("chlorination"));
         fill_chlorination(&mut s, "2");
         let codes = |s: &AppState| -> Vec<String> {
             match s.calc.view().status {
@@ -2288,32 +2236,16 @@ mod tests {
     }
 
     #[test]
-    fn site_cautions_follow_the_typed_target() {
-        let mut s = state(Rc::new(Unconnected));
-        fill_chlorination(&mut s, "5");
-        let c = s.site_cautions();
-        assert_eq!(c.len(), 1, "{c:?}");
-        assert!(c[0].message.contains("Plant permit"), "{}", c[0].message);
-        s.calc.edit("residual-target", "2");
-        assert!(s.site_cautions().is_empty());
-    }
-
-    #[test]
     fn a_logged_dose_keeps_the_permit_warning_the_card_showed() {
-        struct Six;
-        impl CalcEngine for Six {
-            fn compute(&self, _: &CalcRequest) -> Result<CalcOutcome, SeamError> {
-                Ok(CalcOutcome {
-                    chemical: "product-sodium-hypochlorite".into(),
-                    dose_mg_per_l: Some(6.0),
-                    ..CalcOutcome::default()
-                })
-            }
-        }
-        let mut s = state(Rc::new(Six));
+        let mut s = state(crate::app::seams::connected_engine());
         s.set_initials("AB");
         fill_chlorination(&mut s, "5");
-        let warned: Vec<String> = s.site_cautions().into_iter().map(|c| c.code).collect();
+        s.prefill_from_site();
+        let warned: Vec<String> = card_cautions(&s)
+            .into_iter()
+            .filter(|c| c.code.starts_with("site-limit"))
+            .map(|c| c.code)
+            .collect();
         assert_eq!(warned.len(), 1);
         s.log_current_dose().expect("logged");
         let logged = &s.entries()[0].data.cautions;
@@ -2485,7 +2417,7 @@ mod tests {
         let mut s = state(Rc::new(Unconnected));
         assert_eq!(
             s.titration_plot().message.unwrap().key,
-            "plot-need-ph-inputs"
+            "plot-need-inputs-ph-adjustment"
         );
         for (n, t) in [
             ("flow", "1"),
@@ -2536,10 +2468,10 @@ mod tests {
             "{legend:?}"
         );
 
-        s.open_calculator(CalcKind::Coagulation);
+        s.open_calculator(CalcKind::of("coagulation"));
         assert_eq!(
             s.titration_plot().message.unwrap().key,
-            "plot-need-coagulation-inputs"
+            "plot-need-inputs-coagulation"
         );
         for (n, t) in [
             ("jar-dose", "25"),
@@ -2577,14 +2509,14 @@ mod tests {
         };
         {
             let mut s = open();
-            s.open_calculator(CalcKind::Softening);
+            s.open_calculator(CalcKind::of("softening"));
             s.calc.edit("total-hardness", "265");
             s.save_inputs();
         }
         let mut s = open();
         assert_eq!(s.calc.text("total-hardness"), "", "nothing until restored");
         s.restore_inputs();
-        assert_eq!(s.calc.kind(), CalcKind::Softening);
+        assert_eq!(s.calc.kind(), CalcKind::of("softening"));
         assert_eq!(s.calc.text("total-hardness"), "265");
         assert!(!dir.join("calculator-inputs.json.tmp").exists());
         std::fs::remove_dir_all(&dir).unwrap();

@@ -545,6 +545,7 @@ pub fn neutralize_feed(args: &Args) -> CliResult {
             usable_range: f.usable_range,
             max_use_level_mg_l: f.max_use_level_mg_l,
             ph_range: ph_range(site.as_ref()),
+            dose_sig_figs: None,
         },
     )?;
     let mut lines = vec![format!(

@@ -8,12 +8,15 @@
 //! subcommand always agree.
 
 mod args;
+mod calc;
 mod chemistry;
 mod dosing;
 mod log_cmd;
 mod water;
 
 pub use args::Args;
+/// The dosing subcommands, as `dispatch` routes them.
+pub use dosing::COMMANDS as DOSING_COMMANDS;
 
 use serde_json::{Value, json};
 use std::io::Write;
@@ -79,6 +82,8 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "convert" => chemistry::convert(args),
         "reactions" => chemistry::reactions(args),
         "equivalent" => chemistry::equivalent(args),
+        "calculators" => calc::list(args),
+        "calc" => calc::run(args),
         c if dosing::COMMANDS.contains(&c) => dosing::run(c, args),
         "log" => log_cmd::run(args),
         "ph-after" => water::ph_after(args).map(advisory),
@@ -122,6 +127,8 @@ usage: molefeed                       open the app on the built-in demo site
 
 water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [ions]; see docs/water-notes.md)
 dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
+calculators: calculators [--json]                 every calculator, its inputs (units, basis) and result ids
+            calc ID --INPUT VALUE ... [--product P] [--units si|us] [--site FILE] [--json]   (calc ID --help)
 dosing:     feed | neutralize-feed | chlorine | coagulation | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
 chemistry:  mass FORMULA
             balance \"EQUATION\" [--per SPECIES]

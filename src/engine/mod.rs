@@ -5,12 +5,14 @@
 //! and parsed into immutable values; every public function that takes user input returns
 //! [`Result`]; nothing here panics on what an operator types.
 
+pub mod calculators;
 pub mod convert;
 pub mod dosing;
 pub mod elements;
 pub mod equivalents;
 mod error;
 pub mod formula;
+pub mod quantity;
 pub mod reaction;
 pub mod sigfig;
 pub mod trace;

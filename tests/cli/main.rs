@@ -2,6 +2,7 @@
 //! `tests/engine/main.rs` for why areas share a binary). Filter with e.g.
 //! `cargo test --test cli water_cli`.
 
+mod calc_cli;
 mod cli_chemistry;
 mod dosing_cli;
 mod water_cli;

@@ -221,16 +221,8 @@ const FLAGS: [&str; 24] = [
     "volume",
     "volume-unit",
 ];
-const COMMANDS: [&str; 8] = [
-    "feed",
-    "chlorine",
-    "dechlor",
-    "ct",
-    "soften",
-    "pump-check",
-    "dilute",
-    "sludge",
-];
+/// The CLI's dosing subcommands, from the code itself.
+const COMMANDS: [&str; 10] = molefeed::cli::DOSING_COMMANDS;
 const VALUES: [&str; 12] = [
     "2.5",
     "-1",
@@ -251,7 +243,7 @@ proptest! {
 
     /// Any mix of dosing flags and values is a report or an error from the CLI, never a panic.
     #[test]
-    fn cli_never_panics(cmd in 0usize..8, picks in proptest::collection::vec((0usize..24, 0usize..12), 0..10)) {
+    fn cli_never_panics(cmd in 0usize..10, picks in proptest::collection::vec((0usize..24, 0usize..12), 0..10)) {
         let mut words: Vec<String> = Vec::new();
         for (f, v) in picks {
             words.push(format!("--{}", FLAGS[f]));
@@ -260,5 +252,71 @@ proptest! {
         if let Ok(args) = molefeed::cli::Args::parse(&words) {
             let _ = molefeed::cli::dispatch(COMMANDS[cmd], &args);
         }
+    }
+}
+
+/// Every number anywhere in a JSON value is finite (serde_json writes a non-finite f64 as
+/// null, so a null where a number belongs is the trace of one).
+fn all_finite(v: &serde_json::Value) -> bool {
+    match v {
+        serde_json::Value::Number(n) => n.as_f64().is_some_and(f64::is_finite),
+        serde_json::Value::Array(a) => a.iter().all(all_finite),
+        serde_json::Value::Object(o) => o.iter().all(|(k, v)| {
+            // A result's value is never null: a result not computed is absent instead.
+            !(k == "value" && v.is_null()) && all_finite(v)
+        }),
+        _ => true,
+    }
+}
+
+/// Values a calculator input may be given: ordinary, zero, negative, huge, tiny, not a number.
+const CALC_VALUES: [f64; 9] = [2.5, 7.2, 0.0, -1.0, 1e308, 1e-300, 150.0, 12.5, 1.2];
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(256))]
+
+    /// Every calculator of the table, with any of its products and any mix of values, gives an
+    /// outcome whose every number is finite, or an error: never a panic, never `Ok(NaN)`. The
+    /// calculators come from the table itself, so a new one is covered without editing this.
+    #[test]
+    fn every_calculator_of_the_table_is_finite_or_refuses(
+        which in 0usize..64,
+        product in 0usize..32,
+        picks in proptest::collection::vec(0usize..9, 16),
+        leave_out in 0usize..20,
+    ) {
+        use molefeed::engine::calculators::{self, Calculators, Request};
+        let table = calculators::all();
+        let calc = &table[which % table.len()];
+        let c = Calculators::new().unwrap();
+        let products = c.products(calc);
+        let mut request = Request::new(calc);
+        request.product = products.get(product % products.len().max(1)).map(|p| p.id.clone());
+        for (i, input) in c.inputs(calc, request.product.as_deref()).iter().enumerate() {
+            if i != leave_out {
+                request.values.insert(input.name, CALC_VALUES[picks[i % picks.len()]]);
+            }
+        }
+        if let Ok(outcome) = c.compute(&request) {
+            for r in &outcome.results {
+                prop_assert!(r.value.is_finite(), "{}: {} = {}", calc.id, r.id, r.value);
+            }
+            let json = serde_json::to_value(&outcome).unwrap();
+            prop_assert!(all_finite(&json), "{}: {json}", calc.id);
+        }
+    }
+}
+
+/// The CLI's subcommands as the code lists them (not a copy): `dispatch` knows each one.
+#[test]
+fn every_listed_dosing_command_is_dispatched() {
+    let args = molefeed::cli::Args::parse(&[]).unwrap();
+    for command in molefeed::cli::DOSING_COMMANDS {
+        let e = molefeed::cli::dispatch(command, &args).err();
+        assert!(
+            e.as_ref()
+                .is_none_or(|e| !e.message.contains("unknown command")),
+            "{command}: {e:?}"
+        );
     }
 }

@@ -293,6 +293,7 @@ fn neutral(
         usable_range: UsableRange::default(),
         max_use_level_mg_l: None,
         ph_range: PhRange::default(),
+        dose_sig_figs: None,
     }
 }
 

@@ -92,6 +92,9 @@ pub struct TypicalStrength {
 pub struct Product {
     pub id: String,
     pub name_key: String,
+    /// The product's English name, for records that must read the same in any language (the
+    /// dose log, the CLI); the screens translate `name_key` instead.
+    pub name: String,
     /// The active compound in the product, as a formula.
     pub compound: String,
     /// The substance a dose in mg/L is expressed as (Cl2 for chlorine products, N for ammonia).

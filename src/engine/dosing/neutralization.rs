@@ -33,6 +33,9 @@ pub struct NeutralizationInput {
     pub max_use_level_mg_l: Option<f64>,
     /// The range the adjusted pH is judged against.
     pub ph_range: PhRange,
+    /// Significant figures the dose is known to: an equilibrium dose is as good as the
+    /// readings behind it (alkalinity and the two pHs); `None` when they were exact.
+    pub dose_sig_figs: Option<u8>,
 }
 
 /// Result of [`neutralization`].
@@ -83,7 +86,10 @@ pub fn neutralization(
         catalog,
         &FeedInput {
             flow: input.flow,
-            dose: Measured::exact(n.dose_mg_l),
+            dose: Measured {
+                value: n.dose_mg_l,
+                sig_figs: input.dose_sig_figs,
+            },
             product: p.id.clone(),
             strength: input.strength,
             pump: input.pump,

@@ -419,14 +419,20 @@ impl SiteProfile {
 
     /// The limit that applies: the plant's own entry, else the regulatory default, else none.
     pub fn effective_limit(&self, parameter: &str) -> Option<Limit> {
-        self.limits
-            .iter()
-            .find(|l| l.parameter == parameter)
-            .cloned()
-            .or_else(|| {
-                regulatory_defaults()
-                    .into_iter()
-                    .find(|l| l.parameter == parameter)
-            })
+        effective_limit(&self.limits, parameter)
     }
+}
+
+/// The limit on `parameter` that applies given a plant's own entries: its entry, else the
+/// regulatory default, else none. The one place a limit is chosen; every check goes through it.
+pub fn effective_limit(plant: &[Limit], parameter: &str) -> Option<Limit> {
+    plant
+        .iter()
+        .find(|l| l.parameter == parameter)
+        .cloned()
+        .or_else(|| {
+            regulatory_defaults()
+                .into_iter()
+                .find(|l| l.parameter == parameter)
+        })
 }

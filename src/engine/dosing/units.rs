@@ -380,8 +380,8 @@ impl LengthUnit {
     }
 }
 
-/// Which system a site reports in.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default)]
+/// Which system a site reports in, and the operator reads and types in.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize, Deserialize, Default)]
 #[serde(rename_all = "kebab-case")]
 pub enum UnitSystem {
     #[default]

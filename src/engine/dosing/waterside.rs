@@ -35,6 +35,11 @@ impl Default for PhRange {
 }
 
 impl PhRange {
+    /// The pH range a plant's own limits give (else the regulatory default).
+    pub fn from_limits(plant: &[super::site::Limit]) -> PhRange {
+        PhRange::from_limit(super::site::effective_limit(plant, "ph"))
+    }
+
     fn from_limit(limit: Option<super::site::Limit>) -> PhRange {
         // A missing side means "no bound on that side", not the default: a site that sets only
         // a minimum has chosen not to cap the pH.

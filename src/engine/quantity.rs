@@ -1,19 +1,17 @@
-//! Display units: what the operator reads and types, converted to and from the SI values the
-//! engine works in.
+//! Quantities and the units they are read and typed in, converted to and from the SI values
+//! the calculators work in.
 //!
-//! Design choice: each quantity has exactly one SI unit (the engine's) and one display unit per
-//! unit system, so a controller never guesses. Only exact, defined conversion factors live here
-//! (the US gallon, the avoirdupois pound, the Fahrenheit scale); no chemistry.
+//! Design choice: each quantity has exactly one SI unit (the calculators') and one display
+//! unit per unit system, so no front end ever guesses or converts on its own. Only exact,
+//! defined conversion factors live here (the US gallon, the avoirdupois pound, the Fahrenheit
+//! scale); no chemistry.
 
-/// The operator's unit system, chosen in Settings.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-pub enum UnitSystem {
-    Us,
-    Si,
-}
+pub use super::dosing::units::UnitSystem;
+use serde::Serialize;
 
 /// A measured quantity a field or a result carries.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
 pub enum Quantity {
     /// Plant or process flow. SI: m³/d. US: MGD.
     Flow,
@@ -43,7 +41,8 @@ pub enum Quantity {
     Index,
 }
 
-/// The unit a value is shown in; `code()` is the translation-key stem (`unit-<code>`).
+/// The unit a value is shown in; `code()` is the translation-key stem (`unit-<code>`) and the
+/// unit's name on the command line (`--flow-unit mgd`).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum Unit {
     CubicMetresPerDay,
@@ -110,6 +109,34 @@ impl Unit {
         }
     }
 
+    /// The unit whose code is `code`.
+    pub fn from_code(code: &str) -> Option<Unit> {
+        Unit::ALL.into_iter().find(|u| u.code() == code)
+    }
+
+    /// The unit as written beside a number in a record or on the command line (`mg/L`,
+    /// `m³/d`); the screens translate [`code`](Self::code) instead.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            Unit::CubicMetresPerDay => "m³/d",
+            Unit::Mgd => "MGD",
+            Unit::MgPerL => "mg/L",
+            Unit::MgPerLAsCaCO3 => "mg/L as CaCO3",
+            Unit::PhUnits => "pH",
+            Unit::Celsius => "°C",
+            Unit::Fahrenheit => "°F",
+            Unit::KgPerDay => "kg/d",
+            Unit::LbPerDay => "lb/d",
+            Unit::LitresPerHour => "L/h",
+            Unit::GallonsPerHour => "gal/h",
+            Unit::Percent => "%",
+            Unit::NoUnit => "1",
+            Unit::Millilitres => "mL",
+            Unit::Seconds => "s",
+            Unit::Ratio => "ratio",
+        }
+    }
+
     /// Converts a value shown in this unit to the quantity's SI unit.
     pub fn to_si(self, v: f64) -> f64 {
         match self {
@@ -134,6 +161,19 @@ impl Unit {
 }
 
 impl Quantity {
+    /// The units a value of this quantity may be typed in: the SI unit first, then the US one
+    /// where it differs.
+    pub fn units(self) -> Vec<Unit> {
+        let si = self.unit(UnitSystem::Si);
+        let us = self.unit(UnitSystem::Us);
+        if si == us { vec![si] } else { vec![si, us] }
+    }
+
+    /// The SI unit the calculators take and give this quantity in.
+    pub fn si(self) -> Unit {
+        self.unit(UnitSystem::Si)
+    }
+
     /// The unit this quantity is shown in under `system`.
     pub fn unit(self, system: UnitSystem) -> Unit {
         use UnitSystem::*;

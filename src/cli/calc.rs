@@ -1,0 +1,313 @@
+//! `molefeed calculators` and `molefeed calc ID`: the calculator table on the command line.
+//!
+//! Design choice: nothing here knows a calculator by name. The flags of `calc ID` are the
+//! table's input names (`--residual-target 1.0`), each with `--NAME-unit` for a quantity that
+//! has more than one unit (or `--units si|us` for all of them; an ambiguous quantity without
+//! either is refused rather than guessed); values go to the engine in SI with the figures they
+//! were written with, and the [`Outcome`] comes back in the one shape the app shows and the log
+//! records. `--help` is generated from the table.
+
+use super::{Args, CliError, CliResult, Report};
+use crate::engine::calculators::{
+    self, Calculator, Calculators, Input, Outcome, Request, given_figures, shown_figures,
+};
+use crate::engine::dosing::caution::render;
+use crate::engine::dosing::site::SiteProfile;
+use crate::engine::quantity::{Quantity, Unit, UnitSystem};
+use crate::engine::sigfig::{Measured, format_sig};
+use serde_json::{Map, Value, json};
+
+fn table() -> Result<Calculators, CliError> {
+    Ok(Calculators::new()?)
+}
+
+fn unit_names(q: Quantity) -> Vec<&'static str> {
+    q.units().into_iter().map(Unit::code).collect()
+}
+
+fn input_json(i: &Input) -> Value {
+    json!({
+        "name": i.name,
+        "quantity": i.quantity,
+        "units": unit_names(i.quantity),
+        "si_unit": i.quantity.si().symbol(),
+        "basis": i.basis,
+        "optional": i.optional,
+        "scope": i.scope,
+    })
+}
+
+/// `molefeed calculators`: every calculator with its inputs, products and result ids.
+pub fn list(args: &Args) -> CliResult {
+    let _ = args.switch("json");
+    let c = table()?;
+    let mut human = String::new();
+    let mut list = Vec::new();
+    for calc in calculators::all() {
+        let products: Vec<String> = c.products(calc).into_iter().map(|p| p.id).collect();
+        let inputs: Vec<Value> = c.all_inputs(calc).iter().map(input_json).collect();
+        let results: Vec<Value> = calc
+            .results
+            .iter()
+            .map(|r| json!({"id": r.id, "quantity": r.quantity, "unit": r.quantity.si().symbol(), "headline": r.headline}))
+            .collect();
+        human.push_str(&format!(
+            "{:<16} inputs: {}\n{:<16} results: {}\n",
+            calc.id,
+            c.all_inputs(calc)
+                .iter()
+                .map(|i| i.name)
+                .collect::<Vec<_>>()
+                .join(", "),
+            "",
+            calc.results
+                .iter()
+                .map(|r| r.id)
+                .collect::<Vec<_>>()
+                .join(", ")
+        ));
+        list.push(json!({
+            "id": calc.id,
+            "group": calc.group,
+            "modes": calc.modes,
+            "in_app": calc.in_app,
+            "curve": calc.has_curve(),
+            "products": products,
+            "inputs": inputs,
+            "results": results,
+        }));
+    }
+    Ok(Report {
+        human,
+        json: json!({ "calculators": list }),
+    })
+}
+
+/// `molefeed calc ID --help`: the inputs with their units and bases, from the table.
+pub fn help(calc: &Calculator) -> Result<String, CliError> {
+    let c = table()?;
+    let mut out = format!(
+        "molefeed calc {} [--product ID] [--mode M] --INPUT VALUE ... [--units si|us] [--site FILE] [--json]\n\n",
+        calc.id
+    );
+    if !calc.modes.is_empty() {
+        out.push_str(&format!("modes: {}\n", calc.modes.join(", ")));
+    }
+    let products = c.products(calc);
+    if !products.is_empty() {
+        out.push_str(&format!(
+            "products: {}\n",
+            products
+                .iter()
+                .map(|p| p.id.as_str())
+                .collect::<Vec<_>>()
+                .join(", ")
+        ));
+    }
+    out.push_str("inputs:\n");
+    for i in c.all_inputs(calc) {
+        let units = unit_names(i.quantity);
+        let unit = if units.len() > 1 {
+            format!("--{}-unit {}", i.name, units.join("|"))
+        } else {
+            format!("in {}", i.quantity.si().symbol())
+        };
+        out.push_str(&format!(
+            "  --{:<22} {}{}{}\n",
+            i.name,
+            unit,
+            i.basis.map_or(String::new(), |b| format!(", as {b}")),
+            if i.optional { " (optional)" } else { "" }
+        ));
+    }
+    out.push_str(&format!(
+        "results: {}\n",
+        calc.results
+            .iter()
+            .map(|r| format!("{} ({})", r.id, r.quantity.si().symbol()))
+            .collect::<Vec<_>>()
+            .join(", ")
+    ));
+    out.push_str("Results are advisory; a licensed operator decides, under the plant's permit and local codes.\n");
+    Ok(out)
+}
+
+/// The unit an input's value was given in: its own `--NAME-unit`, else the `--units` system,
+/// else its only unit; a quantity with two units and neither flag is refused.
+fn unit_of(args: &Args, input: &Input, system: Option<UnitSystem>) -> Result<Unit, CliError> {
+    let units = input.quantity.units();
+    if let Some(code) = args.text(&format!("{}-unit", input.name))? {
+        return units
+            .iter()
+            .copied()
+            .find(|u| u.code() == code)
+            .ok_or_else(|| {
+                CliError::usage(format!(
+                    "--{}-unit must be one of {}, got '{code}'",
+                    input.name,
+                    unit_names(input.quantity).join(", ")
+                ))
+            });
+    }
+    match (units.as_slice(), system) {
+        ([only], _) => Ok(*only),
+        (_, Some(system)) => Ok(input.quantity.unit(system)),
+        _ => Err(CliError::usage(format!(
+            "--{} needs its unit: --{}-unit {} (or --units si|us)",
+            input.name,
+            input.name,
+            unit_names(input.quantity).join("|")
+        ))),
+    }
+}
+
+/// The request the flags make for `calc`, with the site's limits and maximum use level.
+pub fn request(
+    c: &Calculators,
+    calc: &'static Calculator,
+    args: &Args,
+) -> Result<Request, CliError> {
+    let mut request = Request::new(calc);
+    if let Some(mode) = args.text("mode")? {
+        request.mode = Some(
+            calc.modes
+                .iter()
+                .copied()
+                .find(|m| *m == mode)
+                .ok_or_else(|| {
+                    CliError::usage(format!(
+                        "{} has no mode '{mode}' (modes: {})",
+                        calc.id,
+                        calc.modes.join(", ")
+                    ))
+                })?,
+        );
+    }
+    request.product = args.text("product")?.map(str::to_string);
+    let system = match args.text("units")? {
+        None => None,
+        Some("si") => Some(UnitSystem::Si),
+        Some("us") => Some(UnitSystem::Us),
+        Some(other) => {
+            return Err(CliError::usage(format!(
+                "--units must be si or us, got '{other}'"
+            )));
+        }
+    };
+    if let Some(path) = args.text("site")? {
+        let text = std::fs::read_to_string(path)
+            .map_err(|e| CliError::io(format!("cannot read site profile {path}: {e}")))?;
+        let site = SiteProfile::from_json(&text, c.catalog())?;
+        request.limits = site.limits.clone();
+        request.max_use_level_mg_l = request
+            .product
+            .as_deref()
+            .and_then(|id| site.delivered_of(id))
+            .and_then(|d| d.max_use_level_mg_l);
+    }
+    for input in c.inputs(calc, request.product.as_deref()) {
+        let Some(text) = args.text(input.name)? else {
+            continue;
+        };
+        let given = Measured::parse(text).map_err(|_| CliError {
+            kind: "invalid-input".into(),
+            message: format!("--{} must be a number, got '{text}'", input.name),
+            reason: Some("not-a-number"),
+        })?;
+        let unit = unit_of(args, &input, system)?;
+        request.values.insert(input.name, unit.to_si(given.value));
+        if let Some(f) = given_figures(input.quantity, text) {
+            request.figures.insert(input.name, f);
+        }
+    }
+    Ok(request)
+}
+
+/// A number as printed: to the figures the outcome supports; a pH or index to two decimals.
+pub fn shown(value: f64, quantity: Quantity, figures: u32) -> String {
+    match quantity {
+        Quantity::Ph | Quantity::Index => format!("{value:.2}"),
+        _ => format_sig(value, figures as u8),
+    }
+}
+
+fn unit_text(quantity: Quantity, basis: Option<&str>) -> String {
+    let symbol = quantity.si().symbol();
+    match (symbol, basis) {
+        ("1", None) => String::new(),
+        ("1", Some(b)) => format!("as {b}"),
+        (s, None) => s.to_string(),
+        // The unit already names its basis.
+        (s, Some(b)) if s.ends_with(b) => s.to_string(),
+        (s, Some(b)) => format!("{s} as {b}"),
+    }
+}
+
+/// The outcome as printed and as its JSON object: results keyed by their stable ids.
+pub fn report(outcome: &Outcome) -> Report {
+    let figures = shown_figures(outcome);
+    let mut results = Map::new();
+    let mut lines = Vec::new();
+    if let Some(p) = &outcome.product {
+        lines.push(format!("{} ({})", p.name, outcome.calculator));
+    }
+    for r in &outcome.results {
+        let unit = r.quantity.si().symbol();
+        results.insert(
+            r.id.to_string(),
+            json!({"value": r.value, "unit": unit, "basis": r.basis, "headline": r.headline}),
+        );
+        lines.push(format!(
+            "{:<28} {} {}",
+            r.id,
+            shown(r.value, r.quantity, figures),
+            unit_text(r.quantity, r.basis.as_deref())
+        ));
+    }
+    let mut inputs = Map::new();
+    for i in &outcome.inputs {
+        inputs.insert(
+            i.name.to_string(),
+            json!({"value": i.value, "unit": i.quantity.si().symbol(), "basis": i.basis}),
+        );
+    }
+    let traces: Vec<String> = outcome.trace_lines().iter().map(|l| l.plain()).collect();
+    let mut human = lines.join("\n");
+    human.push_str("\n\n");
+    for t in &traces {
+        human.push_str(t);
+        human.push('\n');
+    }
+    human.push('\n');
+    human.push_str(&render(&outcome.cautions));
+    let json = json!({
+        "calculator": outcome.calculator,
+        "mode": outcome.mode,
+        "product": outcome.product.as_ref().map(|p| json!({"id": p.id, "name": p.name, "form": p.form})),
+        "chemical": outcome.chemical,
+        "results": results,
+        "setting": outcome.setting.map(|s| json!({"device": s.device.code(), "percent": s.percent})),
+        "figures": figures,
+        "inputs": inputs,
+        "traces": traces,
+        "cautions": outcome.cautions,
+    });
+    Report { human, json }
+}
+
+/// `molefeed calc ID ...`: runs any calculator of the table.
+pub fn run(args: &Args) -> CliResult {
+    let _ = args.switch("json");
+    let id = args.required_positional(0, "calculator id (see 'molefeed calculators')")?;
+    let calc = calculators::find(id)?;
+    if args.switch("help") {
+        return Ok(Report {
+            human: help(calc)?,
+            json: json!({"help": help(calc)?}),
+        });
+    }
+    let c = table()?;
+    let request = request(&c, calc, args)?;
+    let outcome = c.compute(&request)?;
+    Ok(report(&outcome))
+}

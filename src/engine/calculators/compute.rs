@@ -1,0 +1,777 @@
+//! The compute functions of the table: each maps a [`Request`]'s named SI values onto the
+//! dosing and water engines' typed inputs, and their results onto one [`Outcome`].
+//!
+//! Design choice: no chemistry of its own. Values arrive in SI with the figures they were
+//! given with and go to the engines as [`Measured`] values with their units named
+//! (`FlowUnit::M3d`, `VolumeRateUnit::Lph`), so "show the work" follows what was measured.
+//! How a product is fed follows its catalog form: a solution through a metering pump, a gas
+//! through a gas feeder and a dry chemical through a dry feeder, never assumed.
+
+use super::table::{LIMES, PH_PRODUCTS};
+use super::{Calculators, Curve, Device, Outcome, Request, ResultValue, Setting};
+use crate::engine::dosing::NamedTrace;
+use crate::engine::dosing::catalog::{Form, Strength, StrengthBasis};
+use crate::engine::dosing::caution::Caution;
+use crate::engine::dosing::chlorine::{
+    ChlorineInput, chloramination, chlorine_dose, chlorine_dose_in_water,
+};
+use crate::engine::dosing::coagulation::{
+    Alkali, Coagulant, CoagulationInput, SludgeInput, coagulant_chemical, coagulation_in_water,
+    sludge,
+};
+use crate::engine::dosing::feed::{FeedInput, FeedResult, PumpKind, UsableRange};
+use crate::engine::dosing::neutralization::{NeutralizationInput, neutralization};
+use crate::engine::dosing::pumpcheck::{Measurement, PumpCheckInput, Tolerance};
+use crate::engine::dosing::softening::{HardnessAnalysis, removal_from_analysis};
+use crate::engine::dosing::units::{Flow, FlowUnit, MassRateUnit, VolumeRateUnit};
+use crate::engine::dosing::waterside::{PhRange, dose_effect, water_chemical};
+use crate::engine::dosing::{chlorine, feed as feeding, pumpcheck, softening as soften};
+use crate::engine::quantity::Quantity as Q;
+use crate::engine::sigfig::{Measured, combine, sum_figures};
+use crate::engine::trace::{Origin, Quantity, Trace};
+use crate::engine::water::{self, Precipitation, WaterInput, WaterState};
+use crate::engine::{Error, ErrorKind, Result};
+
+/// Points on a drawn titration curve.
+pub(super) const CURVE_POINTS: usize = 60;
+
+fn value(request: &Request, name: &str) -> Result<f64> {
+    request.get(name).ok_or_else(|| {
+        Error::new(ErrorKind::InvalidInput, format!("{name} is missing"))
+            .because("missing-input")
+            .with("input", name.to_string())
+    })
+}
+
+/// A given input with the significant figures it was given with.
+fn measured(request: &Request, name: &str) -> Result<Measured> {
+    Ok(Measured {
+        value: value(request, name)?,
+        sig_figs: request.figures(name),
+    })
+}
+
+fn flow(request: &Request) -> Result<Flow> {
+    Ok(Flow::new(measured(request, "flow")?, FlowUnit::M3d))
+}
+
+fn chosen(request: &Request) -> Result<&str> {
+    request.product.as_deref().ok_or_else(|| {
+        Error::new(ErrorKind::UnknownChemical, "no product chosen").because("no-product-chosen")
+    })
+}
+
+fn result(id: &'static str, value: f64, quantity: Q, basis: Option<&str>) -> ResultValue {
+    ResultValue {
+        id,
+        value,
+        quantity,
+        basis: basis.map(str::to_string),
+        headline: false,
+    }
+}
+
+fn headline(id: &'static str, value: f64, quantity: Q, basis: Option<&str>) -> ResultValue {
+    ResultValue {
+        headline: true,
+        ..result(id, value, quantity, basis)
+    }
+}
+
+/// The outcome's shape before the table fills in the calculator, product and inputs.
+fn outcome(chemical: String) -> Outcome {
+    Outcome {
+        calculator: "",
+        mode: None,
+        product: None,
+        chemical,
+        results: Vec::new(),
+        setting: None,
+        figures: None,
+        traces: Vec::new(),
+        cautions: Vec::new(),
+        inputs: Vec::new(),
+    }
+}
+
+impl Calculators {
+    /// The chosen product's strength as given, on the product's usual basis: a liquid's
+    /// strength with its SG, a gas's or dry chemical's purity without one.
+    fn strength(&self, request: &Request) -> Result<(String, Strength)> {
+        let id = chosen(request)?.to_string();
+        let product = self.catalog.product(&id)?;
+        let basis = product
+            .strengths
+            .first()
+            .map_or(StrengthBasis::Weight, |s| s.basis);
+        let strength = match product.form {
+            Form::Solution => Strength::new(
+                measured(request, "strength")?,
+                basis,
+                Some(measured(request, "specific-gravity")?),
+            ),
+            Form::Gas | Form::Dry => Strength::new(measured(request, "purity")?, basis, None),
+        };
+        Ok((id, strength))
+    }
+
+    /// The pump or feeder the chosen product's form calls for, at the full scale given.
+    fn pump(&self, request: &Request) -> Result<PumpKind> {
+        let product = self.catalog.product(chosen(request)?)?;
+        Ok(match product.form {
+            Form::Solution => PumpKind::Metering {
+                capacity: value(request, "pump-capacity")?,
+                unit: VolumeRateUnit::Lph,
+            },
+            Form::Gas => PumpKind::GasFeeder {
+                capacity: value(request, "gas-feeder-capacity")?,
+                unit: MassRateUnit::KgPerDay,
+            },
+            Form::Dry => PumpKind::DryFeeder {
+                capacity: value(request, "dry-feeder-capacity")?,
+                unit: MassRateUnit::KgPerDay,
+            },
+        })
+    }
+
+    fn feed_for(&self, request: &Request, dose: Measured) -> Result<FeedResult> {
+        let (product, strength) = self.strength(request)?;
+        feeding::feed(
+            &self.catalog,
+            &FeedInput {
+                flow: flow(request)?,
+                dose,
+                product,
+                strength,
+                pump: Some(self.pump(request)?),
+                usable_range: UsableRange::default(),
+                max_use_level_mg_l: request.max_use_level_mg_l,
+            },
+        )
+    }
+
+    /// A feed result as the outcome's results, after the steps (if any) that led to its dose.
+    fn feed_outcome(
+        &self,
+        r: &FeedResult,
+        mut traces: Vec<NamedTrace>,
+        mut cautions: Vec<Caution>,
+    ) -> Result<Outcome> {
+        let form = self.catalog.product(&r.product)?.form;
+        traces.extend(r.traces.iter().cloned());
+        cautions.extend(r.cautions.iter().cloned());
+        let by_mass = form != Form::Solution;
+        let mut out = outcome(r.dose_as.clone());
+        out.results.push(headline(
+            "dose",
+            r.dose_mg_l,
+            Q::Concentration,
+            Some(&r.dose_as),
+        ));
+        out.results.push(headline(
+            "feed_mass_rate",
+            r.active_kg_per_day,
+            Q::MassPerDay,
+            Some(&r.dose_as),
+        ));
+        if let Some(lph) = r.product_l_per_h.filter(|_| !by_mass) {
+            out.results.push(headline(
+                "product_volume_rate",
+                lph,
+                Q::VolumePerHour,
+                Some("product"),
+            ));
+        }
+        // A gas or dry chemical is set by mass of product: its third big number.
+        out.results.push(ResultValue {
+            headline: by_mass,
+            ..result(
+                "product_mass_rate",
+                r.product_kg_per_day,
+                Q::MassPerDay,
+                Some("product"),
+            )
+        });
+        if let Some(pump) = &r.pump {
+            let (id, device) = match form {
+                Form::Solution => ("pump_setting", Device::MeteringPump),
+                Form::Gas => ("feeder_setting", Device::GasFeeder),
+                Form::Dry => ("feeder_setting", Device::DryFeeder),
+            };
+            out.results
+                .push(headline(id, pump.percent, Q::Percent, None));
+            out.setting = Some(Setting {
+                device,
+                percent: pump.percent,
+            });
+        }
+        out.traces = traces;
+        out.cautions = cautions;
+        Ok(out)
+    }
+}
+
+pub(super) fn feed(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let r = c.feed_for(request, measured(request, "dose")?)?;
+    c.feed_outcome(&r, Vec::new(), Vec::new())
+}
+
+/// Free chlorine: the dose from demand + residual (and breakpoint), then the product's feed.
+pub(super) fn free_chlorine(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let demand = measured(request, "chlorine-demand")?;
+    let residual = measured(request, "residual-target")?;
+    let ammonia_n = request.get("ammonia-n").map(|value| Measured {
+        value,
+        sig_figs: request.figures("ammonia-n"),
+    });
+    let input = ChlorineInput {
+        demand,
+        residual,
+        ammonia_n,
+        // The plant's limit is checked once, by the table, for every calculator alike.
+        residual_limit_mg_l: None,
+    };
+    // The water, when all of it was given: the chlorine's effect on pH and alkalinity.
+    let water = match (
+        request.get("ph"),
+        request.get("temperature"),
+        request.get("alkalinity"),
+    ) {
+        (Some(ph), Some(t), Some(alk)) => Some(WaterState::new(&WaterInput::new(ph, t, alk))?),
+        _ => None,
+    };
+    let dosed = match &water {
+        Some(w) => chlorine_dose_in_water(
+            &c.catalog,
+            &input,
+            chosen(request)?,
+            w,
+            PhRange::from_limits(&request.limits),
+        )?,
+        None => chlorine_dose(&c.catalog, &input)?,
+    };
+    // A sum is known to the coarsest decimal place of its terms; the breakpoint term is as good
+    // as the ammonia reading it was scaled from.
+    let mut terms = vec![demand, residual];
+    if let (Some(n), Some(bp)) = (ammonia_n, dosed.breakpoint_mg_l) {
+        terms.push(Measured {
+            value: bp,
+            sig_figs: n.sig_figs,
+        });
+    }
+    let dose = Measured {
+        value: dosed.dose_mg_l,
+        sig_figs: sum_figures(&terms, dosed.dose_mg_l),
+    };
+    let r = c.feed_for(request, dose)?;
+    let mut out = c.feed_outcome(&r, dosed.traces, dosed.cautions)?;
+    if let Some(bp) = dosed.breakpoint_mg_l {
+        out.results
+            .push(result("breakpoint_dose", bp, Q::Concentration, Some("Cl2")));
+    }
+    if let Some(effect) = &dosed.water {
+        out.results
+            .push(result("ph_after", effect.ph_after, Q::Ph, None));
+        out.results.push(result(
+            "alkalinity_after",
+            effect.alkalinity_after_mg_l_as_caco3,
+            Q::AsCaCO3,
+            Some("CaCO3"),
+        ));
+    }
+    Ok(out)
+}
+
+/// Chloramination: the ammonia (as N) for the chlorine dose and ratio, then its feed.
+pub(super) fn chloramine(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let chlorine = measured(request, "chlorine-dose")?;
+    let ratio = measured(request, "cl2-n-ratio")?;
+    let a = chloramination(&c.catalog, chlorine, ratio)?;
+    let dose = Measured {
+        value: a.ammonia_n_mg_l,
+        sig_figs: combine(chlorine.sig_figs, ratio.sig_figs),
+    };
+    let r = c.feed_for(request, dose)?;
+    c.feed_outcome(&r, a.traces, a.cautions)
+}
+
+/// Dechlorination: the stoichiometric agent dose for the residual, then its feed.
+pub(super) fn dechlorination(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let residual = measured(request, "residual-in")?;
+    let d = chlorine::dechlorination(&c.catalog, residual, chosen(request)?)?;
+    let dose = Measured {
+        value: d.agent_mg_l,
+        sig_figs: d
+            .traces
+            .iter()
+            .fold(None, |acc, t| combine(acc, t.trace.sig_figs())),
+    };
+    let r = c.feed_for(request, dose)?;
+    c.feed_outcome(&r, d.traces, d.cautions)
+}
+
+/// The water as measured before a pH adjustment.
+fn raw_water(request: &Request) -> Result<WaterState> {
+    let mut input = WaterInput::new(
+        value(request, "ph-raw")?,
+        value(request, "temperature")?,
+        value(request, "alkalinity")?,
+    );
+    if let Some(calcium) = request.get("calcium-hardness") {
+        input = input.with_calcium_as_caco3(calcium);
+    }
+    WaterState::new(&input)
+}
+
+/// pH adjustment: the dose that reaches the target pH (water engine) and its feed, in the one
+/// call `molefeed neutralize-feed` makes too, with its pH-range and zero-dose cautions.
+pub(super) fn ph_adjustment(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let state = raw_water(request)?;
+    let (product, strength) = c.strength(request)?;
+    // An equilibrium dose is as good as the alkalinity and the two pH readings behind it.
+    let figures = ["alkalinity", "ph-raw", "ph-target"]
+        .iter()
+        .fold(None, |acc, name| combine(acc, request.figures(name)));
+    let n = neutralization(
+        &c.catalog,
+        &state,
+        &NeutralizationInput {
+            product,
+            strength,
+            target_ph: value(request, "ph-target")?,
+            flow: flow(request)?,
+            pump: Some(c.pump(request)?),
+            usable_range: UsableRange::default(),
+            max_use_level_mg_l: request.max_use_level_mg_l,
+            ph_range: PhRange::from_limits(&request.limits),
+            dose_sig_figs: figures,
+        },
+    )?;
+    let equilibrium = NamedTrace::new(
+        "ph-adjustment",
+        Trace::new(
+            Quantity::of(
+                n.dose_mg_l,
+                "mg/L",
+                format!(
+                    "{} (pH {:.2} → {:.2})",
+                    n.feed.dose_as, n.ph_before, n.ph_after
+                ),
+            ),
+            Origin::Equilibrium,
+            figures,
+        ),
+    );
+    let mut out = c.feed_outcome(&n.feed, vec![equilibrium], n.cautions.clone())?;
+    out.results
+        .push(result("ph_after", n.ph_after, Q::Ph, None));
+    out.results.push(result(
+        "alkalinity_after",
+        n.alkalinity_after_mg_l_as_caco3,
+        Q::AsCaCO3,
+        Some("CaCO3"),
+    ));
+    // With calcium: how the treated water stands to calcium carbonate.
+    if request.get("calcium-hardness").is_some() {
+        let chemical = water_chemical(&c.catalog.product(chosen(request)?)?.compound)?;
+        let (after, _) = dose_effect(&state, chemical, n.dose_mg_l, Precipitation::None)?;
+        let s = water::stability(&after)?;
+        if let Some(lsi) = s.langelier_index {
+            out.results.push(result("lsi_after", lsi, Q::Index, None));
+        }
+        out.results.push(result(
+            "ccpp_after",
+            s.ccpp_mg_l_as_caco3,
+            Q::AsCaCO3,
+            Some("CaCO3"),
+        ));
+    }
+    Ok(out)
+}
+
+/// The pH against the chosen chemical's dose, to twice the dose that reaches the target.
+pub(super) fn ph_adjustment_curve(c: &Calculators, request: &Request) -> Result<Curve> {
+    let state = raw_water(request)?;
+    let product = c.catalog.product(chosen(request)?)?;
+    if !PH_PRODUCTS.contains(&product.id.as_str()) {
+        return Err(Error::new(
+            ErrorKind::UnknownChemical,
+            format!("{} is not a pH chemical", product.id),
+        )
+        .because("product-not-for-calculator"));
+    }
+    let chemical = water_chemical(&product.compound)?;
+    let target = value(request, "ph-target")?;
+    let max = water::dose_for_ph(&state, chemical, target, Precipitation::None)
+        .map_or(100.0, |d| (2.0 * d.dose_mg_l).max(1.0));
+    let points = water::curve(&state, chemical, max, CURVE_POINTS, Precipitation::None)?;
+    Ok(Curve {
+        titrant: product.name_key.clone(),
+        points: points.iter().map(|p| (p.dose_mg_l, p.ph)).collect(),
+    })
+}
+
+/// The coagulant the chosen product is, from the dose basis the catalog gives it.
+fn coagulant(c: &Calculators, request: &Request) -> Result<Coagulant> {
+    let product = c.catalog.product(chosen(request)?)?;
+    let basicity = product.strengths.iter().find_map(|s| s.basicity_percent);
+    Coagulant::parse(
+        match product.dose_as.as_str() {
+            "Al2(SO4)3·14H2O" => "alum",
+            "FeCl3" => "ferric-chloride",
+            "Fe2(SO4)3" => "ferric-sulfate",
+            "Al" => "pacl",
+            other => other,
+        },
+        basicity,
+    )
+}
+
+/// The supplemental alkali a coagulation mode stands for.
+fn alkali_of(mode: Option<&str>) -> Alkali {
+    match mode {
+        Some("alkali-lime") => Alkali::HydratedLime,
+        Some("alkali-soda-ash") => Alkali::SodaAsh,
+        _ => Alkali::Caustic,
+    }
+}
+
+fn coagulation_water(request: &Request) -> Result<WaterState> {
+    WaterState::new(&WaterInput::new(
+        value(request, "ph")?,
+        value(request, "temperature")?,
+        value(request, "alkalinity")?,
+    ))
+}
+
+/// Coagulation: the jar-test dose's feed and pump setting; the alkalinity it consumes, the
+/// supplemental alkali for the residual alkalinity to keep, the pH it leaves (metal
+/// precipitated as hydroxide) and the dry solids it makes.
+pub(super) fn coagulation(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let coagulant = coagulant(c, request)?;
+    let dose = measured(request, "jar-dose")?;
+    let input = CoagulationInput {
+        coagulant,
+        dose,
+        raw_alkalinity: measured(request, "alkalinity")?,
+        residual_alkalinity_setpoint: value(request, "alkalinity-setpoint")?,
+        alkali: alkali_of(request.mode),
+        alkali_purity_percent: 100.0,
+    };
+    let water = coagulation_water(request)?;
+    let mut co = coagulation_in_water(
+        &c.catalog,
+        &input,
+        &water,
+        PhRange::from_limits(&request.limits),
+    )?;
+    let solids = sludge(
+        &c.catalog,
+        &SludgeInput {
+            flow: flow(request)?,
+            coagulant,
+            dose,
+            suspended_solids_mg_l: 0.0,
+            additives_mg_l: 0.0,
+        },
+    )?;
+    let r = c.feed_for(request, dose)?;
+    let mut traces = std::mem::take(&mut co.traces);
+    traces.extend(solids.traces.iter().cloned());
+    let mut out = c.feed_outcome(&r, traces, co.cautions.clone())?;
+    let caco3 = Some("CaCO3");
+    out.results.push(result(
+        "alkalinity_consumed",
+        co.alkalinity_consumed_mg_l,
+        Q::AsCaCO3,
+        caco3,
+    ));
+    out.results.push(result(
+        "alkalinity_remaining",
+        co.alkalinity_remaining_mg_l.max(0.0),
+        Q::AsCaCO3,
+        caco3,
+    ));
+    if let Some(w) = &co.water {
+        out.results
+            .push(result("ph_after_coagulant", w.ph_after, Q::Ph, None));
+    }
+    if co.alkali_mg_l > 0.0 {
+        out.results.push(result(
+            "supplemental_alkali",
+            co.alkali_mg_l,
+            Q::Concentration,
+            Some(alkali_of(request.mode).formula()),
+        ));
+        if let Some(w) = &co.water_with_alkali {
+            out.results
+                .push(result("ph_after_alkali", w.ph_after, Q::Ph, None));
+        }
+    }
+    out.results.push(result(
+        "coagulant_solids",
+        solids.dry_solids_kg_per_day,
+        Q::MassPerDay,
+        Some("dry solids"),
+    ));
+    Ok(out)
+}
+
+/// The pH against the coagulant as dosed, to twice the jar dose (hydroxide precipitating).
+pub(super) fn coagulation_curve(c: &Calculators, request: &Request) -> Result<Curve> {
+    let coagulant = coagulant(c, request)?;
+    let dose = value(request, "jar-dose")?;
+    // mg/L of the engine's compound per mg/L dosed: a factor, so a zero dose cannot make 0/0.
+    let (chemical, per_dose) = coagulant_chemical(coagulant, 1.0)?;
+    let state = coagulation_water(request)?;
+    let points = water::curve(
+        &state,
+        &chemical,
+        2.0 * (dose * per_dose).max(1.0),
+        CURVE_POINTS,
+        Precipitation::Hydroxide,
+    )?;
+    Ok(Curve {
+        titrant: c.catalog.product(chosen(request)?)?.name_key.clone(),
+        // x stays in the coagulant as dosed: the engine's compound scaled back to it.
+        points: points
+            .iter()
+            .map(|p| (p.dose_mg_l / per_dose, p.ph))
+            .collect(),
+    })
+}
+
+/// Lime–soda softening: lime and soda ash from the tap analysis (free CO2 from the water
+/// engine), each with its daily feed as delivered, and the water the doses leave at
+/// equilibrium.
+pub(super) fn softening(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let lime_id = chosen(request)?.to_string();
+    if !LIMES.contains(&lime_id.as_str()) {
+        return Err(Error::new(
+            ErrorKind::UnknownChemical,
+            format!("{lime_id} is not a lime"),
+        )
+        .because("product-not-for-calculator"));
+    }
+    let water = coagulation_water(request)?;
+    let co2 = water.result()?.co2_mg_l;
+    let (removal, mut traces) = removal_from_analysis(&HardnessAnalysis {
+        total_hardness: measured(request, "total-hardness")?,
+        calcium_hardness: measured(request, "calcium-hardness")?,
+        alkalinity: measured(request, "alkalinity")?,
+        co2: Measured {
+            value: co2,
+            sig_figs: combine(request.figures("ph"), request.figures("alkalinity")),
+        },
+    })?;
+    let lime_purity = measured(request, "lime-purity")?;
+    let soda_purity = measured(request, "soda-ash-purity")?;
+    let excess = measured(request, "excess-lime")?;
+    let s = soften::softening(
+        &c.catalog,
+        &removal.input(excess.value, lime_purity.value, soda_purity.value),
+    )?;
+    traces.extend(s.traces.iter().cloned());
+    let quick = lime_id == "quicklime";
+    let lime_dose = if quick {
+        s.lime_cao_mg_l
+    } else {
+        s.lime_caoh2_mg_l
+    };
+    // Lime is a sum of terms, each a removal times a derived factor.
+    let mut terms: Vec<Measured> = [
+        (removal.co2, s.cao_per_co2),
+        (removal.carbonate_hardness, s.cao_per_alkalinity),
+        (removal.magnesium, s.cao_per_mg),
+    ]
+    .map(|(m, f)| Measured {
+        value: m.value * f,
+        sig_figs: m.sig_figs,
+    })
+    .to_vec();
+    terms.push(excess);
+    let lime_figures = sum_figures(&terms, s.lime_cao_mg_l);
+    // The lime feeder's setting when its full scale is given; soda ash has its own feeder,
+    // not asked for here.
+    let lime_feeder = request
+        .get("lime-feeder-capacity")
+        .map(|capacity| PumpKind::DryFeeder {
+            capacity,
+            unit: MassRateUnit::KgPerDay,
+        });
+    let dry_feed = |product: &str, dose: Measured, purity: Measured, pump: Option<PumpKind>| {
+        feeding::feed(
+            &c.catalog,
+            &FeedInput {
+                flow: flow(request)?,
+                dose,
+                product: product.to_string(),
+                strength: Strength::new(purity, StrengthBasis::Purity, None),
+                pump,
+                usable_range: UsableRange::default(),
+                // The site's level belongs to the lime chosen, not to the soda ash.
+                max_use_level_mg_l: request
+                    .max_use_level_mg_l
+                    .filter(|_| request.product.as_deref() == Some(product)),
+            },
+        )
+    };
+    let lime = dry_feed(
+        &lime_id,
+        Measured {
+            value: lime_dose,
+            sig_figs: lime_figures,
+        },
+        lime_purity,
+        lime_feeder,
+    )?;
+    // Quicklime is slaked before it is fed; hydrated lime is not (the engine's softening
+    // cautions were written for quicklime).
+    let mut cautions: Vec<Caution> = s
+        .cautions
+        .iter()
+        .filter(|c| quick || !c.key.contains("quicklime"))
+        .cloned()
+        .collect();
+    let mut soda_feed = None;
+    if s.soda_ash_mg_l > 0.0 {
+        let soda = dry_feed(
+            "soda-ash",
+            Measured {
+                value: s.soda_ash_mg_l,
+                sig_figs: removal.non_carbonate_hardness.sig_figs,
+            },
+            soda_purity,
+            None,
+        )?;
+        traces.extend(soda.traces.iter().cloned());
+        cautions.extend(soda.cautions.iter().cloned());
+        soda_feed = Some(soda);
+    }
+    let mut out = c.feed_outcome(&lime, traces, cautions)?;
+    out.results.push(result(
+        "soda_ash_dose",
+        s.soda_ash_mg_l,
+        Q::Concentration,
+        Some("Na2CO3"),
+    ));
+    if let Some(soda) = &soda_feed {
+        out.results.push(result(
+            "soda_ash_product_mass_rate",
+            soda.product_kg_per_day,
+            Q::MassPerDay,
+            Some("product"),
+        ));
+    }
+    out.results
+        .push(result("free_co2", co2, Q::Concentration, Some("CO2")));
+    out.results.push(result(
+        "magnesium_removed",
+        removal.magnesium.value,
+        Q::Concentration,
+        Some("Mg"),
+    ));
+    out.results.push(result(
+        "non_carbonate_hardness",
+        removal.non_carbonate_hardness.value,
+        Q::AsCaCO3,
+        Some("CaCO3"),
+    ));
+    let softened = softened_water(request, s.lime_caoh2_mg_l, s.soda_ash_mg_l)?;
+    out.results
+        .push(result("ph_softened", softened.water.ph, Q::Ph, None));
+    out.results.push(result(
+        "hardness_softened",
+        softened.calcium_hardness_mg_l_as_caco3 + softened.magnesium_hardness_mg_l_as_caco3,
+        Q::AsCaCO3,
+        Some("CaCO3"),
+    ));
+    Ok(out)
+}
+
+/// The water the doses would leave at equilibrium: the analysis as a water (calcium and
+/// magnesium from the hardness readings), the soda ash dissolved, then the lime added with
+/// calcite and brucite precipitating. Lime is counted as Ca(OH)2 whether fed hydrated or as
+/// quicklime: slaking makes the one from the other, mole for mole.
+fn softened_water(
+    request: &Request,
+    lime_caoh2_mg_l: f64,
+    soda_ash_mg_l: f64,
+) -> Result<water::Softened> {
+    let total = value(request, "total-hardness")?;
+    let calcium = value(request, "calcium-hardness")?;
+    let water = WaterState::new(
+        &WaterInput::new(
+            value(request, "ph")?,
+            value(request, "temperature")?,
+            value(request, "alkalinity")?,
+        )
+        .with_calcium_as_caco3(calcium)
+        .with_magnesium_as_caco3(total - calcium),
+    )?;
+    let chemicals = water::Catalog::embedded()?;
+    let with_soda = water.dosed(
+        chemicals.find("soda-ash")?,
+        soda_ash_mg_l,
+        Precipitation::None,
+    )?;
+    water::soften(&with_soda, chemicals.find("lime")?, lime_caoh2_mg_l)
+}
+
+/// Pump cross-check: the dose a drawdown actually delivers and how far it is from the
+/// target, then the setting that would reach the target.
+pub(super) fn pump_check(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let (product, strength) = c.strength(request)?;
+    let r = pumpcheck::pump_check(
+        &c.catalog,
+        &PumpCheckInput {
+            measurement: Measurement::Drawdown {
+                ml: measured(request, "drawdown-volume")?,
+                seconds: measured(request, "drawdown-time")?,
+            },
+            flow: flow(request)?,
+            product: product.clone(),
+            strength,
+            target_dose: measured(request, "dose")?,
+            current_setting_percent: Some(value(request, "pump-setting")?),
+            tolerance: Tolerance::default(),
+        },
+    )?;
+    let dose_as = c.catalog.product(&product)?.dose_as.clone();
+    let mut out = outcome(dose_as.clone());
+    out.results.push(headline(
+        "actual_dose",
+        r.actual_dose_mg_l,
+        Q::Concentration,
+        Some(&dose_as),
+    ));
+    out.results
+        .push(headline("deviation", r.deviation_percent, Q::Percent, None));
+    out.results.push(headline(
+        "feed_mass_rate",
+        r.active_kg_per_day,
+        Q::MassPerDay,
+        Some(&dose_as),
+    ));
+    out.results.push(headline(
+        "product_volume_rate",
+        r.product_l_per_day / 24.0,
+        Q::VolumePerHour,
+        Some("product"),
+    ));
+    if let Some(percent) = r.suggested_setting_percent {
+        out.results.push(headline(
+            "suggested_pump_setting",
+            percent,
+            Q::Percent,
+            None,
+        ));
+        out.setting = Some(Setting {
+            device: Device::MeteringPump,
+            percent,
+        });
+    }
+    out.traces = r.traces;
+    out.cautions = r.cautions;
+    Ok(out)
+}

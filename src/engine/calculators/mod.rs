@@ -1,0 +1,690 @@
+//! The calculator table: every calculator Molefeed offers, each defined once.
+//!
+//! Design choice: a calculator is a [`Calculator`] value in one static table — its stable id,
+//! its modes, its inputs (quantity, the units it accepts, the basis where the quantity has one,
+//! whether it describes the water, the product or the calculation), the products it offers, the
+//! results it gives and one compute function. The command line, the app and the dose log are
+//! generic over this table: they read a calculator's inputs from it, hand the values over in SI
+//! as a [`Request`], and show, print or record the one uniform [`Outcome`] that comes back. No
+//! front end knows any calculator by name, so a calculator added here appears everywhere at
+//! once, and the CLI and the app cannot compute the same thing two ways.
+//!
+//! Checks that belong to every calculator live here, once: the plant's limits on a target
+//! (through [`site::effective_limit`]), and the guard that no result is ever a non-finite
+//! number.
+
+mod compute;
+mod show;
+mod table;
+
+pub use show::{StepOrigin, TraceLine, trace_lines};
+pub use table::TABLE;
+
+use super::dosing::catalog::{Catalog, Form, Product, StrengthBasis};
+use super::dosing::caution::{self, Caution};
+use super::dosing::site::{self, Limit};
+use super::dosing::{NamedTrace, Severity};
+use super::quantity::Quantity;
+use super::sigfig::{combine, count_sig_figs, format_sig};
+use super::{Error, ErrorKind, Result};
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// Where an input's value belongs: a reading of the water (carries over between calculators),
+/// a number of the product or its pump (kept per product), or a choice of this calculation.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Scope {
+    Water,
+    Product,
+    Calculation,
+}
+
+/// One input of a calculator.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct Input {
+    /// Stable kebab-case name: the CLI flag (`--residual-target`), the app's field
+    /// (`field-<name>`), the log's input name.
+    pub name: &'static str,
+    pub quantity: Quantity,
+    /// What a value is expressed as, where the quantity has a basis ("as CaCO3", "as Cl2",
+    /// "trade", "purity").
+    pub basis: Option<&'static str>,
+    /// May be left out: the calculator then does without it.
+    pub optional: bool,
+    pub scope: Scope,
+    /// The plant limit (parameter of [`Limit`]) this input, a target, is checked against.
+    pub limit: Option<&'static str>,
+}
+
+/// How a product reaches the water: a liquid through a metering pump (strength, SG, pump
+/// volume), or a gas or dry chemical through a feeder set by mass (purity, feeder scale).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum FeedForm {
+    #[default]
+    Liquid,
+    Gas,
+    Dry,
+}
+
+impl FeedForm {
+    pub const ALL: [FeedForm; 3] = [FeedForm::Liquid, FeedForm::Gas, FeedForm::Dry];
+
+    /// Stable code, the stem of the form's translation keys.
+    pub fn code(self) -> &'static str {
+        match self {
+            FeedForm::Liquid => "liquid",
+            FeedForm::Gas => "gas",
+            FeedForm::Dry => "dry",
+        }
+    }
+
+    /// Fed by mass: there is no product volume, and the setting is a feeder's.
+    pub fn by_mass(self) -> bool {
+        self != FeedForm::Liquid
+    }
+
+    fn of(form: Form) -> FeedForm {
+        match form {
+            Form::Solution => FeedForm::Liquid,
+            Form::Gas => FeedForm::Gas,
+            Form::Dry => FeedForm::Dry,
+        }
+    }
+}
+
+/// A product a calculator offers.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ProductChoice {
+    pub id: String,
+    /// Translation key of its name (the screens).
+    pub name_key: String,
+    /// Its English name (the CLI and the log).
+    pub name: String,
+    pub form: FeedForm,
+    /// The basis its strength is typed on (`trade`, `weight`, `as-al2o3`, `purity` ...).
+    pub strength_basis: &'static str,
+}
+
+impl ProductChoice {
+    fn of(p: &Product) -> ProductChoice {
+        ProductChoice {
+            id: p.id.clone(),
+            name_key: p.name_key.clone(),
+            name: p.name.clone(),
+            form: FeedForm::of(p.form),
+            strength_basis: p
+                .strengths
+                .first()
+                .map_or(StrengthBasis::Weight, |s| s.basis)
+                .code(),
+        }
+    }
+}
+
+/// A result a calculator gives, as its table entry lists it.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct ResultSpec {
+    /// Stable snake_case id (`dose`, `product_volume_rate`, `pump_setting`): the CLI's JSON key,
+    /// the app's caption (`result-<id>` with dashes), the log's result id.
+    pub id: &'static str,
+    pub quantity: Quantity,
+    /// One of the big numbers at the top of the card (the rest are listed under them).
+    pub headline: bool,
+}
+
+const fn headline(id: &'static str, quantity: Quantity) -> ResultSpec {
+    ResultSpec {
+        id,
+        quantity,
+        headline: true,
+    }
+}
+
+const fn secondary(id: &'static str, quantity: Quantity) -> ResultSpec {
+    ResultSpec {
+        id,
+        quantity,
+        headline: false,
+    }
+}
+
+/// The products a calculator offers.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Offer {
+    /// No product choice (none is fed, or the calculator is about water only).
+    None,
+    /// Every product a pump or feeder can be set for, optionally only those whose dose is
+    /// expressed as one of the given compounds.
+    Feedable(Option<&'static [&'static str]>),
+    /// Liquids only (a drawdown measures a volume).
+    Liquids,
+    /// These catalog products, in this order.
+    Listed(&'static [&'static str]),
+}
+
+/// Which product inputs a calculator asks for once a product is chosen.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum ProductInputs {
+    /// None (the calculator's own inputs cover the product).
+    None,
+    /// Strength and SG for a liquid, purity for a gas or dry chemical, and the full scale of
+    /// the pump or feeder that form calls for.
+    Feed,
+    /// Strength and SG only (a drawdown test needs no pump capacity).
+    Strength,
+}
+
+/// A titration curve a calculator can draw: x is the titrant in mg/L, y the pH.
+#[derive(Clone, Debug, PartialEq, Default, Serialize)]
+pub struct Curve {
+    /// Translation key of the titrant's name.
+    pub titrant: String,
+    pub points: Vec<(f64, f64)>,
+}
+
+/// One calculator: its definition and its compute function.
+pub struct Calculator {
+    /// Stable id (`molefeed calc ID`, the log's calculator, the app's `calc-<id>` mode label).
+    pub id: &'static str,
+    /// The app's menu entry it sits under (`calc-<group>`); calculators sharing a group are
+    /// offered as its variants.
+    pub group: &'static str,
+    /// Variants of the calculation itself (coagulation: the alkali that keeps the residual
+    /// alkalinity); `mode-<code>` is a mode's label. Empty: one way only.
+    pub modes: &'static [&'static str],
+    /// The calculator's own inputs, in screen order; the product's follow (see `product_inputs`).
+    pub inputs: &'static [Input],
+    pub product_inputs: ProductInputs,
+    pub offer: Offer,
+    pub results: &'static [ResultSpec],
+    /// Shown on the app's Start screen and in `molefeed calculators`; the CLI-only ones are
+    /// scripting tools without a card.
+    pub in_app: bool,
+    compute: fn(&Calculators, &Request) -> Result<Outcome>,
+    curve: Option<fn(&Calculators, &Request) -> Result<Curve>>,
+}
+
+impl std::fmt::Debug for Calculator {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("Calculator").field("id", &self.id).finish()
+    }
+}
+
+impl PartialEq for Calculator {
+    fn eq(&self, other: &Calculator) -> bool {
+        self.id == other.id
+    }
+}
+
+impl Calculator {
+    /// Draws a titration curve for this calculator, when it has one.
+    pub fn has_curve(&self) -> bool {
+        self.curve.is_some()
+    }
+
+    /// The mode a request names, else the first (or none for a calculator without modes).
+    fn mode(&self, asked: Option<&str>) -> Result<Option<&'static str>> {
+        match asked {
+            None => Ok(self.modes.first().copied()),
+            Some(m) => self
+                .modes
+                .iter()
+                .copied()
+                .find(|x| *x == m)
+                .map(Some)
+                .ok_or_else(|| {
+                    Error::new(
+                        ErrorKind::InvalidInput,
+                        format!(
+                            "{} has no mode '{m}' (modes: {})",
+                            self.id,
+                            self.modes.join(", ")
+                        ),
+                    )
+                    .because("unknown-mode")
+                }),
+        }
+    }
+}
+
+/// Every calculator in table order.
+pub fn all() -> &'static [Calculator] {
+    &TABLE
+}
+
+/// The calculator with id `id`.
+pub fn find(id: &str) -> Result<&'static Calculator> {
+    TABLE.iter().find(|c| c.id == id).ok_or_else(|| {
+        let ids: Vec<&str> = TABLE.iter().map(|c| c.id).collect();
+        Error::new(
+            ErrorKind::InvalidInput,
+            format!("no calculator '{id}' (calculators: {})", ids.join(", ")),
+        )
+        .because("unknown-calculator")
+    })
+}
+
+/// The inputs `calculator` asks for with a product fed as `form` (strength on no particular
+/// basis), in screen order.
+pub fn inputs_for_form(calculator: &Calculator, form: FeedForm) -> Vec<Input> {
+    let mut v = calculator.inputs.to_vec();
+    v.extend(table::product_inputs(calculator.product_inputs, form, None));
+    v
+}
+
+/// The app's menu: each group once, in table order, with its calculators.
+pub fn groups() -> Vec<(&'static str, Vec<&'static Calculator>)> {
+    let mut out: Vec<(&'static str, Vec<&'static Calculator>)> = Vec::new();
+    for c in TABLE.iter().filter(|c| c.in_app) {
+        match out.iter_mut().find(|(g, _)| *g == c.group) {
+            Some((_, list)) => list.push(c),
+            None => out.push((c.group, vec![c])),
+        }
+    }
+    out
+}
+
+/// What a front end asks a calculator: the values the operator gave, in SI, by input name.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct Request {
+    pub calculator: &'static str,
+    pub mode: Option<&'static str>,
+    /// The catalog id of the product chosen, for calculators that offer a choice.
+    pub product: Option<String>,
+    /// Every given input in its quantity's SI unit (`flow` m³/d, `temperature` °C,
+    /// concentrations mg/L, percentages as percent, feeder scales kg/d).
+    pub values: BTreeMap<&'static str, f64>,
+    /// Significant figures each value was given with; an input absent here limits nothing
+    /// (a temperature, or an exact number).
+    pub figures: BTreeMap<&'static str, u8>,
+    /// The chosen product's maximum use level as the site received it (mg/L of product).
+    pub max_use_level_mg_l: Option<f64>,
+    /// The plant's own limits; the regulatory defaults apply where it sets none.
+    pub limits: Vec<Limit>,
+}
+
+impl Request {
+    pub fn new(calculator: &'static Calculator) -> Request {
+        Request {
+            calculator: calculator.id,
+            mode: calculator.modes.first().copied(),
+            ..Request::default()
+        }
+    }
+
+    pub fn get(&self, name: &str) -> Option<f64> {
+        self.values.get(name).copied()
+    }
+
+    /// The significant figures `name` was given with, if it limits precision.
+    pub fn figures(&self, name: &str) -> Option<u8> {
+        self.figures.get(name).copied()
+    }
+}
+
+/// One computed result: value in SI, with what it is expressed as.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ResultValue {
+    pub id: &'static str,
+    pub value: f64,
+    pub quantity: Quantity,
+    /// What the value is expressed as: the compound of a dose ("Cl2", "N"), "product" for a
+    /// rate of product as delivered, "CaCO3" for alkalinity and hardness.
+    pub basis: Option<String>,
+    pub headline: bool,
+}
+
+/// What fed the dose: the pump or feeder and the setting the calculator gives for it.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Device {
+    MeteringPump,
+    GasFeeder,
+    DryFeeder,
+}
+
+impl Device {
+    pub fn code(self) -> &'static str {
+        match self {
+            Device::MeteringPump => "metering-pump",
+            Device::GasFeeder => "gas-feeder",
+            Device::DryFeeder => "dry-feeder",
+        }
+    }
+}
+
+/// The setting to put on the pump or feeder.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct Setting {
+    pub device: Device,
+    pub percent: f64,
+}
+
+/// An input as the calculation used it.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct InputUsed {
+    pub name: &'static str,
+    pub value: f64,
+    pub quantity: Quantity,
+    pub basis: Option<&'static str>,
+    pub figures: Option<u8>,
+}
+
+/// The product a result is for.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ProductUsed {
+    pub id: String,
+    pub name_key: String,
+    pub name: String,
+    pub form: FeedForm,
+}
+
+/// What every calculator returns: the same shape for the CLI, the app and the log.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Outcome {
+    pub calculator: &'static str,
+    pub mode: Option<&'static str>,
+    pub product: Option<ProductUsed>,
+    /// The compound the dose is expressed as ("Cl2", "N", "NaOH").
+    pub chemical: String,
+    /// Results in table order; one that was not computed is absent, never zero.
+    pub results: Vec<ResultValue>,
+    pub setting: Option<Setting>,
+    /// Significant figures the inputs support for the results (the least precise measured
+    /// input along the traces); `None` when every input was exact.
+    pub figures: Option<u8>,
+    pub traces: Vec<NamedTrace>,
+    /// Most severe first; the advisory note is always the last.
+    pub cautions: Vec<Caution>,
+    /// The inputs as used, in the calculator's order.
+    pub inputs: Vec<InputUsed>,
+}
+
+impl Outcome {
+    pub fn result(&self, id: &str) -> Option<&ResultValue> {
+        self.results.iter().find(|r| r.id == id)
+    }
+
+    /// "Show the work" as lines: a heading per trace, each step with its factor's origin.
+    pub fn trace_lines(&self) -> Vec<TraceLine> {
+        trace_lines(&self.traces)
+    }
+}
+
+/// The calculators with the built-in product catalog: what a front end holds to compute.
+pub struct Calculators {
+    catalog: Catalog,
+}
+
+impl Calculators {
+    pub fn new() -> Result<Calculators> {
+        Ok(Calculators {
+            catalog: Catalog::builtin()?,
+        })
+    }
+
+    pub fn catalog(&self) -> &Catalog {
+        &self.catalog
+    }
+
+    /// The products `calculator` offers, in the order to show them.
+    pub fn products(&self, calculator: &Calculator) -> Vec<ProductChoice> {
+        let feedable = |p: &&Product| match p.form {
+            Form::Solution => !p.strengths.is_empty(),
+            // A gas or dry product is offered only when its usual strength is a purity, the one
+            // input it asks for (calcium hypochlorite and dry alum, rated otherwise, are not).
+            Form::Gas | Form::Dry => {
+                p.strengths.first().map(|s| s.basis) == Some(StrengthBasis::Purity)
+            }
+        };
+        let mut list: Vec<ProductChoice> = match calculator.offer {
+            Offer::None => Vec::new(),
+            Offer::Listed(ids) => ids
+                .iter()
+                .filter_map(|id| self.catalog.product(id).ok())
+                .map(ProductChoice::of)
+                .collect(),
+            Offer::Liquids => self
+                .catalog
+                .products
+                .iter()
+                .filter(feedable)
+                .filter(|p| p.form == Form::Solution)
+                .map(ProductChoice::of)
+                .collect(),
+            Offer::Feedable(dose_as) => self
+                .catalog
+                .products
+                .iter()
+                .filter(feedable)
+                .filter(|p| dose_as.is_none_or(|d| d.contains(&p.dose_as.as_str())))
+                .map(ProductChoice::of)
+                .collect(),
+        };
+        if matches!(calculator.offer, Offer::Feedable(_)) {
+            list.sort_by_key(|c| FeedForm::ALL.iter().position(|f| *f == c.form));
+        }
+        list
+    }
+
+    /// The product `id` as `calculator` offers it.
+    fn offered(&self, calculator: &Calculator, id: &str) -> Result<ProductChoice> {
+        self.products(calculator)
+            .into_iter()
+            .find(|p| p.id == id)
+            .ok_or_else(|| {
+                Error::new(
+                    ErrorKind::UnknownChemical,
+                    format!("{} does not offer product '{id}'", calculator.id),
+                )
+                .because("product-not-for-calculator")
+                .with("product", id)
+            })
+    }
+
+    /// The inputs `calculator` asks for when `product` is chosen, in screen order. Without a
+    /// product (or for a calculator without a choice) the product inputs of a liquid follow.
+    pub fn inputs(&self, calculator: &Calculator, product: Option<&str>) -> Vec<Input> {
+        let choice = product
+            .and_then(|id| self.catalog.product(id).ok())
+            .map(ProductChoice::of);
+        let form = choice.as_ref().map_or(FeedForm::Liquid, |c| c.form);
+        let basis = choice.as_ref().map(|c| c.strength_basis);
+        let mut v = calculator.inputs.to_vec();
+        v.extend(table::product_inputs(
+            calculator.product_inputs,
+            form,
+            basis,
+        ));
+        v
+    }
+
+    /// Every input any product of `calculator` may ask for, each name once.
+    pub fn all_inputs(&self, calculator: &Calculator) -> Vec<Input> {
+        let mut v = calculator.inputs.to_vec();
+        for form in FeedForm::ALL {
+            for i in table::product_inputs(calculator.product_inputs, form, None) {
+                if !v.iter().any(|x| x.name == i.name) {
+                    v.push(i);
+                }
+            }
+        }
+        v
+    }
+
+    /// Runs one calculation. Every input the calculator asks for must be present unless it is
+    /// optional; the plant's limits on targets are checked; no result is ever non-finite.
+    pub fn compute(&self, request: &Request) -> Result<Outcome> {
+        let calculator = find(request.calculator)?;
+        let mode = calculator.mode(request.mode)?;
+        let product = match (&request.product, calculator.offer) {
+            (_, Offer::None) => None,
+            (Some(id), _) => Some(self.offered(calculator, id)?),
+            (None, _) => {
+                return Err(Error::new(ErrorKind::UnknownChemical, "no product chosen")
+                    .because("no-product-chosen"));
+            }
+        };
+        let inputs = self.inputs(calculator, product.as_ref().map(|p| p.id.as_str()));
+        for input in &inputs {
+            match request.get(input.name) {
+                Some(v) if !v.is_finite() => {
+                    return Err(Error::new(
+                        ErrorKind::InvalidInput,
+                        format!("{} must be a finite number", input.name),
+                    )
+                    .because("not-finite")
+                    .with("input", input.name));
+                }
+                None if !input.optional => {
+                    return Err(Error::new(
+                        ErrorKind::InvalidInput,
+                        format!("{} is missing", input.name),
+                    )
+                    .because("missing-input")
+                    .with("input", input.name));
+                }
+                _ => {}
+            }
+        }
+        let request = Request {
+            mode,
+            ..request.clone()
+        };
+        let mut outcome = (calculator.compute)(self, &request)?;
+        outcome.calculator = calculator.id;
+        outcome.mode = mode;
+        outcome.product = product.map(|p| ProductUsed {
+            id: p.id,
+            name_key: p.name_key,
+            name: p.name,
+            form: p.form,
+        });
+        outcome.inputs = inputs
+            .iter()
+            .filter_map(|i| {
+                Some(InputUsed {
+                    name: i.name,
+                    value: request.get(i.name)?,
+                    quantity: i.quantity,
+                    basis: i.basis,
+                    figures: request.figures(i.name),
+                })
+            })
+            .collect();
+        let mut cautions = std::mem::take(&mut outcome.cautions);
+        cautions.extend(limit_cautions(&inputs, &request));
+        outcome.cautions = caution::finish(cautions);
+        if outcome.figures.is_none() {
+            outcome.figures = outcome
+                .traces
+                .iter()
+                .fold(None, |acc, t| combine(acc, t.trace.sig_figs()));
+        }
+        finite(&outcome)?;
+        Ok(outcome)
+    }
+
+    /// The titration curve of a calculator that draws one (x: titrant mg/L, y: pH).
+    pub fn curve(&self, request: &Request) -> Result<Curve> {
+        let calculator = find(request.calculator)?;
+        let curve = calculator.curve.ok_or_else(|| {
+            Error::new(
+                ErrorKind::InvalidInput,
+                format!("{} draws no titration curve", calculator.id),
+            )
+            .because("no-curve")
+        })?;
+        let request = Request {
+            mode: calculator.mode(request.mode)?,
+            ..request.clone()
+        };
+        let c = curve(self, &request)?;
+        if c.points
+            .iter()
+            .any(|(x, y)| !x.is_finite() || !y.is_finite())
+        {
+            return Err(not_finite("curve"));
+        }
+        Ok(c)
+    }
+}
+
+/// How far a value given as `text` (a plain decimal with a `.` mark) limits the precision of a
+/// result. Unit changes are exact factors, so the figures survive them; a pH's decimals are
+/// the figures of its hydrogen-ion activity (common practice for logarithms); a temperature
+/// only selects equilibrium constants and limits none. The CLI and the app both count this way.
+pub fn given_figures(quantity: Quantity, text: &str) -> Option<u8> {
+    match quantity {
+        Quantity::Temperature => None,
+        Quantity::Ph => {
+            let decimals = text.trim().split_once('.').map_or(0, |(_, after)| {
+                after.chars().filter(char::is_ascii_digit).count()
+            });
+            Some(decimals.clamp(1, 15) as u8)
+        }
+        _ => count_sig_figs(text),
+    }
+}
+
+/// Significant figures a card or a printout rounds an outcome's numbers to: what the inputs
+/// support, at most four (beyond that a setting is more digits than any pump or scale takes),
+/// three when every input was exact.
+pub fn shown_figures(outcome: &Outcome) -> u32 {
+    outcome.figures.map_or(3, |f| u32::from(f).clamp(1, 4))
+}
+
+fn not_finite(what: &str) -> Error {
+    Error::new(
+        ErrorKind::InvalidInput,
+        format!("the calculation gave no finite number for {what}; check the inputs"),
+    )
+    .because("result-not-finite")
+    .with("result", what.to_string())
+}
+
+/// Refuses an outcome with a non-finite number anywhere an operator could read it.
+fn finite(outcome: &Outcome) -> Result<()> {
+    if let Some(r) = outcome.results.iter().find(|r| !r.value.is_finite()) {
+        return Err(not_finite(r.id));
+    }
+    if outcome.setting.is_some_and(|s| !s.percent.is_finite()) {
+        return Err(not_finite("setting"));
+    }
+    Ok(())
+}
+
+/// Cautions for targets outside the plant's limits: above a maximum or below a minimum, each
+/// naming the limit and its source. The one limit check every calculator shares.
+fn limit_cautions(inputs: &[Input], request: &Request) -> Vec<Caution> {
+    let mut out = Vec::new();
+    for input in inputs {
+        let (Some(parameter), Some(value)) = (input.limit, request.get(input.name)) else {
+            continue;
+        };
+        let Some(limit) = site::effective_limit(&request.limits, parameter) else {
+            continue;
+        };
+        let (key, bound) = match (limit.min, limit.max) {
+            (_, Some(max)) if value > max => ("site-limit-above", max),
+            (Some(min), _) if value < min => ("site-limit-below", min),
+            _ => continue,
+        };
+        out.push(
+            Caution::new(Severity::Warning, key)
+                .with("field", format!("field-{}", input.name))
+                .with("value", format_sig(value, 3))
+                .with("limit", format_sig(bound, 3))
+                .with("unit", &limit.unit)
+                .with("source", &limit.source),
+        );
+    }
+    out
+}
+
+#[cfg(test)]
+mod reference_tests;
+#[cfg(test)]
+mod tests;

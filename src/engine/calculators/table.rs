@@ -1,0 +1,338 @@
+//! The table itself: one entry per calculator, in the order the app lists them.
+//!
+//! Design choice: the entries are plain data (inputs, results, offers) beside a compute
+//! function from [`super::compute`]; reading one entry tells everything a front end will ask
+//! and show for that calculator.
+
+use super::compute;
+use super::{Calculator, Input, Offer, ProductInputs, ResultSpec, Scope, headline, secondary};
+use super::{FeedForm, Quantity as Q};
+
+const fn water(name: &'static str, quantity: Q) -> Input {
+    Input {
+        name,
+        quantity,
+        basis: None,
+        optional: false,
+        scope: Scope::Water,
+        limit: None,
+    }
+}
+
+const fn own(name: &'static str, quantity: Q) -> Input {
+    Input {
+        scope: Scope::Calculation,
+        ..water(name, quantity)
+    }
+}
+
+const fn product(name: &'static str, quantity: Q) -> Input {
+    Input {
+        scope: Scope::Product,
+        ..water(name, quantity)
+    }
+}
+
+const fn as_caco3(input: Input) -> Input {
+    Input {
+        basis: Some("CaCO3"),
+        ..input
+    }
+}
+
+const fn based(input: Input, basis: &'static str) -> Input {
+    Input {
+        basis: Some(basis),
+        ..input
+    }
+}
+
+const fn optional(input: Input) -> Input {
+    Input {
+        optional: true,
+        ..input
+    }
+}
+
+const fn limited(input: Input, parameter: &'static str) -> Input {
+    Input {
+        limit: Some(parameter),
+        ..input
+    }
+}
+
+const FLOW: Input = water("flow", Q::Flow);
+
+/// The results of a dose fed through a pump or feeder, in card order: the dose, the active
+/// chemical per day, the product as delivered (volume for a liquid, mass for a gas or dry
+/// chemical) and the setting of the pump or feeder.
+const FEED_RESULTS: [ResultSpec; 6] = [
+    headline("dose", Q::Concentration),
+    headline("feed_mass_rate", Q::MassPerDay),
+    headline("product_volume_rate", Q::VolumePerHour),
+    headline("product_mass_rate", Q::MassPerDay),
+    headline("pump_setting", Q::Percent),
+    headline("feeder_setting", Q::Percent),
+];
+
+/// pH-adjustment chemicals, liquids first, then the gas and the dry chemicals.
+pub(super) const PH_PRODUCTS: [&str; 6] = [
+    "sodium-hydroxide",
+    "sulfuric-acid",
+    "hydrochloric-acid",
+    "carbon-dioxide",
+    "hydrated-lime",
+    "soda-ash",
+];
+
+/// Dechlorinating agents by the compound their dose is expressed as.
+const DECHLOR_AGENTS: [&str; 6] = ["SO2", "NaHSO3", "Na2S2O5", "Na2SO3", "Na2S2O3", "C6H8O6"];
+
+/// Liquid coagulants a metering pump feeds.
+const COAGULANTS: [&str; 4] = ["alum-liquid", "ferric-chloride", "ferric-sulfate", "pacl"];
+
+/// Lime products for softening; soda ash is the other softening chemical.
+pub(super) const LIMES: [&str; 2] = ["hydrated-lime", "quicklime"];
+
+/// The product inputs `kind` asks for with a product fed as `form`, its strength on `basis`.
+pub(super) fn product_inputs(
+    kind: ProductInputs,
+    form: FeedForm,
+    basis: Option<&'static str>,
+) -> Vec<Input> {
+    // A gas's or dry chemical's numbers have other names than a liquid's, so that a liquid's
+    // strength, SG or pump volume can never feed a gas or dry calculation after a switch.
+    let strength = match form {
+        FeedForm::Liquid => vec![
+            product("strength", Q::Percent),
+            product("specific-gravity", Q::SpecificGravity),
+        ],
+        FeedForm::Gas | FeedForm::Dry => vec![product("purity", Q::Percent)],
+    };
+    let strength: Vec<Input> = strength
+        .into_iter()
+        .map(|i| match (i.quantity, basis) {
+            (Q::Percent, Some(b)) => based(i, b),
+            (Q::Percent, None) if i.name == "purity" => based(i, "purity"),
+            _ => i,
+        })
+        .collect();
+    let scale = match form {
+        FeedForm::Liquid => product("pump-capacity", Q::VolumePerHour),
+        FeedForm::Gas => product("gas-feeder-capacity", Q::MassPerDay),
+        FeedForm::Dry => product("dry-feeder-capacity", Q::MassPerDay),
+    };
+    match kind {
+        ProductInputs::None => Vec::new(),
+        ProductInputs::Strength => strength,
+        ProductInputs::Feed => {
+            let mut v = strength;
+            v.push(scale);
+            v
+        }
+    }
+}
+
+pub static TABLE: [Calculator; 8] = [
+    Calculator {
+        id: "ph-adjustment",
+        group: "ph-adjustment",
+        modes: &[],
+        inputs: &[
+            FLOW,
+            water("ph-raw", Q::Ph),
+            limited(own("ph-target", Q::Ph), "ph"),
+            as_caco3(water("alkalinity", Q::AsCaCO3)),
+            water("temperature", Q::Temperature),
+            // With calcium, the Langelier index and CCPP the water leaves with.
+            optional(as_caco3(water("calcium-hardness", Q::AsCaCO3))),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Listed(&PH_PRODUCTS),
+        results: &[
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            FEED_RESULTS[5],
+            secondary("ph_after", Q::Ph),
+            secondary("alkalinity_after", Q::AsCaCO3),
+            secondary("lsi_after", Q::Index),
+            secondary("ccpp_after", Q::AsCaCO3),
+        ],
+        in_app: true,
+        compute: compute::ph_adjustment,
+        curve: Some(compute::ph_adjustment_curve),
+    },
+    Calculator {
+        id: "free-chlorine",
+        group: "chlorination",
+        modes: &[],
+        inputs: &[
+            FLOW,
+            own("chlorine-demand", Q::Concentration),
+            limited(own("residual-target", Q::Concentration), "chlorine"),
+            // Ammonia in the water: chlorine must pass breakpoint before a free residual forms.
+            optional(based(water("ammonia-n", Q::Concentration), "N")),
+            // With all three, the pH and alkalinity the chlorine leaves.
+            optional(water("ph", Q::Ph)),
+            optional(as_caco3(water("alkalinity", Q::AsCaCO3))),
+            optional(water("temperature", Q::Temperature)),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Feedable(Some(&["Cl2"])),
+        results: &[
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            FEED_RESULTS[5],
+            secondary("breakpoint_dose", Q::Concentration),
+            secondary("ph_after", Q::Ph),
+            secondary("alkalinity_after", Q::AsCaCO3),
+        ],
+        in_app: true,
+        compute: compute::free_chlorine,
+        curve: None,
+    },
+    Calculator {
+        id: "chloramine",
+        group: "chlorination",
+        modes: &[],
+        inputs: &[
+            FLOW,
+            limited(
+                based(own("chlorine-dose", Q::Concentration), "Cl2"),
+                "chloramines",
+            ),
+            own("cl2-n-ratio", Q::Ratio),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Feedable(Some(&["N"])),
+        results: &FEED_RESULTS,
+        in_app: true,
+        compute: compute::chloramine,
+        curve: None,
+    },
+    Calculator {
+        id: "dechlorination",
+        group: "chlorination",
+        modes: &[],
+        inputs: &[FLOW, based(own("residual-in", Q::Concentration), "Cl2")],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Feedable(Some(&DECHLOR_AGENTS)),
+        results: &FEED_RESULTS,
+        in_app: true,
+        compute: compute::dechlorination,
+        curve: None,
+    },
+    Calculator {
+        id: "coagulation",
+        group: "coagulation",
+        // The alkali that keeps the residual alkalinity.
+        modes: &["alkali-caustic", "alkali-lime", "alkali-soda-ash"],
+        inputs: &[
+            FLOW,
+            own("jar-dose", Q::Concentration),
+            as_caco3(water("alkalinity", Q::AsCaCO3)),
+            as_caco3(own("alkalinity-setpoint", Q::AsCaCO3)),
+            water("ph", Q::Ph),
+            water("temperature", Q::Temperature),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Listed(&COAGULANTS),
+        results: &[
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            secondary("alkalinity_consumed", Q::AsCaCO3),
+            secondary("alkalinity_remaining", Q::AsCaCO3),
+            secondary("ph_after_coagulant", Q::Ph),
+            secondary("supplemental_alkali", Q::Concentration),
+            secondary("ph_after_alkali", Q::Ph),
+            secondary("coagulant_solids", Q::MassPerDay),
+        ],
+        in_app: true,
+        compute: compute::coagulation,
+        curve: Some(compute::coagulation_curve),
+    },
+    Calculator {
+        id: "softening",
+        group: "softening",
+        modes: &[],
+        // Lime and soda ash are dry-fed: purities instead of strength, SG and a pump.
+        inputs: &[
+            FLOW,
+            as_caco3(water("total-hardness", Q::AsCaCO3)),
+            as_caco3(water("calcium-hardness", Q::AsCaCO3)),
+            as_caco3(water("alkalinity", Q::AsCaCO3)),
+            water("ph", Q::Ph),
+            water("temperature", Q::Temperature),
+            based(own("excess-lime", Q::Concentration), "CaO"),
+            based(product("lime-purity", Q::Percent), "purity"),
+            // The lime feeder's full scale gives its setting; without it, kg/d only.
+            optional(product("lime-feeder-capacity", Q::MassPerDay)),
+            // Soda ash is not the product chosen (a lime is): its purity is this calculation's.
+            based(own("soda-ash-purity", Q::Percent), "purity"),
+        ],
+        product_inputs: ProductInputs::None,
+        offer: Offer::Listed(&LIMES),
+        results: &[
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[3],
+            FEED_RESULTS[5],
+            secondary("soda_ash_dose", Q::Concentration),
+            secondary("soda_ash_product_mass_rate", Q::MassPerDay),
+            secondary("free_co2", Q::Concentration),
+            secondary("magnesium_removed", Q::Concentration),
+            secondary("non_carbonate_hardness", Q::AsCaCO3),
+            secondary("ph_softened", Q::Ph),
+            secondary("hardness_softened", Q::AsCaCO3),
+        ],
+        in_app: true,
+        compute: compute::softening,
+        curve: None,
+    },
+    Calculator {
+        id: "pump-check",
+        group: "pump-check",
+        modes: &[],
+        // A drawdown test needs no pump capacity: the product's strength and SG only.
+        inputs: &[
+            FLOW,
+            own("dose", Q::Concentration),
+            product("drawdown-volume", Q::Millilitres),
+            own("drawdown-time", Q::Seconds),
+            product("pump-setting", Q::Percent),
+        ],
+        product_inputs: ProductInputs::Strength,
+        offer: Offer::Liquids,
+        results: &[
+            headline("actual_dose", Q::Concentration),
+            headline("deviation", Q::Percent),
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            headline("suggested_pump_setting", Q::Percent),
+        ],
+        in_app: true,
+        compute: compute::pump_check,
+        curve: None,
+    },
+    Calculator {
+        id: "feed",
+        group: "feed",
+        modes: &[],
+        inputs: &[FLOW, own("dose", Q::Concentration)],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Feedable(None),
+        results: &FEED_RESULTS,
+        in_app: true,
+        compute: compute::feed,
+        curve: None,
+    },
+];

@@ -1,0 +1,183 @@
+//! `molefeed calculators` and `molefeed calc ID`: the calculator table on the command line,
+//! end to end through the binary, and its parity with the older subcommands.
+
+use serde_json::Value;
+use std::process::Command;
+
+fn run(args: &[&str]) -> (i32, Value, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_molefeed"))
+        .args(args)
+        .output()
+        .expect("binary runs");
+    let stdout = String::from_utf8_lossy(&out.stdout).to_string();
+    let json = serde_json::from_str(stdout.trim()).unwrap_or(Value::Null);
+    (out.status.code().unwrap_or(-1), json, stdout)
+}
+
+fn words(text: &str) -> Vec<&str> {
+    text.split_whitespace().collect()
+}
+
+/// The one helper: run `calc`, expect success, and return the JSON.
+fn calc(args: &str) -> Value {
+    let (code, json, text) = run(&words(args));
+    assert_eq!(code, 0, "{args}: {text}");
+    json
+}
+
+fn result(json: &Value, id: &str) -> Option<f64> {
+    json["results"][id]["value"].as_f64()
+}
+
+#[test]
+fn calculators_lists_every_calculator_the_app_shows_with_inputs_and_results() {
+    let (code, json, text) = run(&["calculators", "--json"]);
+    assert_eq!(code, 0, "{text}");
+    let listed: Vec<&str> = json["calculators"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["id"].as_str().unwrap())
+        .collect();
+    // Every variant the app's screens offer is a calculator of the list.
+    for mode in molefeed::app::seams::CalcMode::all() {
+        assert!(
+            listed.contains(&mode.calculator),
+            "{} missing from {listed:?}",
+            mode.calculator
+        );
+    }
+    for id in [
+        "ph-adjustment",
+        "free-chlorine",
+        "chloramine",
+        "dechlorination",
+        "coagulation",
+        "softening",
+        "pump-check",
+        "feed",
+    ] {
+        assert!(listed.contains(&id), "{id}");
+    }
+    let feed = &json["calculators"][listed.iter().position(|c| *c == "feed").unwrap()];
+    let flow = feed["inputs"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|i| i["name"] == "flow")
+        .unwrap();
+    assert_eq!(flow["units"], serde_json::json!(["m3-per-day", "mgd"]));
+    let strength = feed["inputs"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|i| i["name"] == "purity")
+        .unwrap();
+    assert_eq!(strength["basis"], "purity");
+    assert!(
+        feed["results"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|r| r["id"] == "pump_setting" && r["unit"] == "%")
+    );
+}
+
+const CAUSTIC: &str = "--product sodium-hydroxide --strength 25 --specific-gravity 1.27";
+
+#[test]
+fn calc_ph_adjustment_and_neutralize_feed_give_the_same_dose_and_pump_setting() {
+    let table = calc(&format!(
+        "calc ph-adjustment --flow 1.5 --flow-unit mgd --ph-raw 6.9 --ph-target 7.8 --alkalinity 40 \
+         --temperature 15 --temperature-unit celsius {CAUSTIC} --pump-capacity 2 --pump-capacity-unit gal-per-hour --json"
+    ));
+    let (code, old, text) = run(&words(
+        "neutralize-feed --flow 1.5 --flow-unit mgd --ph 6.9 --target-ph 7.8 --alkalinity 40 \
+         --temperature 15 --product sodium-hydroxide --strength 25 --strength-basis weight --sg 1.27 \
+         --pump-capacity 2 --pump-unit gph --json",
+    ));
+    assert_eq!(code, 0, "{text}");
+    let dose = result(&table, "dose").unwrap();
+    let old_dose = old["dose_mg_l"].as_f64().unwrap();
+    assert!(
+        (dose - old_dose).abs() <= 1e-9 * old_dose,
+        "{dose} vs {old_dose}"
+    );
+    let pump = result(&table, "pump_setting").unwrap();
+    let old_pump = old["pump_percent"].as_f64().unwrap();
+    assert!(
+        (pump - old_pump).abs() <= 1e-9 * old_pump,
+        "{pump} vs {old_pump}"
+    );
+    assert_eq!(table["results"]["dose"]["basis"], "NaOH");
+    assert_eq!(table["results"]["dose"]["unit"], "mg/L");
+}
+
+#[test]
+fn a_gas_feed_prints_no_product_volume_and_no_pump_setting() {
+    let json = calc(
+        "calc feed --product chlorine-gas --flow 9000 --flow-unit m3-per-day --dose 2.0 \
+         --purity 100 --gas-feeder-capacity 100 --gas-feeder-capacity-unit kg-per-day --json",
+    );
+    assert!(
+        json["results"].get("product_volume_rate").is_none(),
+        "{json}"
+    );
+    assert!(json["results"].get("pump_setting").is_none(), "{json}");
+    // 9000 m³/d × 2.0 mg/L = 18.0 kg/d on a 100 kg/d feeder.
+    assert!((result(&json, "feeder_setting").unwrap() - 18.0).abs() < 1e-9);
+    assert_eq!(json["setting"]["device"], "gas-feeder");
+    assert_eq!(json["product"]["name"], "Chlorine gas");
+    assert!(json["inputs"]["flow"]["value"].as_f64().unwrap() == 9000.0);
+}
+
+#[test]
+fn a_quantity_with_two_units_and_no_unit_given_is_refused() {
+    let (code, _, _) = run(&words(
+        "calc feed --product chlorine-gas --flow 2 --dose 2 --purity 100 --gas-feeder-capacity 100 --json",
+    ));
+    assert_eq!(code, 2, "flow without its unit must not be guessed");
+    // `--units us` settles every quantity at once: 2 MGD, 100 lb/d.
+    let json = calc(
+        "calc feed --product chlorine-gas --flow 2 --dose 2.0 --purity 100 --gas-feeder-capacity 100 --units us --json",
+    );
+    // 2 MGD × 2.0 mg/L × 8.345 lb/(MG·mg/L) = 33.38 lb/d of a 100 lb/d feeder.
+    let setting = result(&json, "feeder_setting").unwrap();
+    assert!(
+        (setting - 2.0 * 2.0 * 3.785411784 / 0.45359237).abs() < 1e-6,
+        "{setting}"
+    );
+}
+
+#[test]
+fn a_misspelt_input_is_an_error_not_ignored() {
+    let (code, _, _) = run(&words(
+        "calc feed --product chlorine-gas --flow 2 --units si --dose 2 --purity 100 \
+         --gas-feeder-capacity 100 --dosse 3",
+    ));
+    assert_eq!(code, 2);
+}
+
+#[test]
+fn help_is_generated_from_the_table() {
+    let (code, _, text) = run(&["calc", "softening", "--help"]);
+    assert_eq!(code, 0, "{text}");
+    assert!(text.contains("--lime-purity"), "{text}");
+    assert!(text.contains("as purity"), "{text}");
+    assert!(text.contains("--flow-unit m3-per-day|mgd"), "{text}");
+    assert!(text.contains("(optional)"), "{text}");
+    assert!(text.contains("hardness_softened"), "{text}");
+}
+
+#[test]
+fn an_unknown_calculator_names_the_ones_there_are() {
+    let (code, json, _) = run(&["calc", "fluoridaton", "--json"]);
+    assert_eq!(code, 1);
+    assert_eq!(json["error"]["reason"], "unknown-calculator");
+    assert!(
+        json["error"]["message"]
+            .as_str()
+            .unwrap()
+            .contains("free-chlorine")
+    );
+}
