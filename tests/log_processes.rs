@@ -504,3 +504,71 @@ fn csv_defuses_text_a_spreadsheet_would_run_and_json_lines_keeps_it() {
     assert_eq!(first["dose"]["note"], "=HYPERLINK(\"http://x\",\"y\")");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// A log file holding exactly these payloads, framed as a device would write them.
+fn crafted_log(path: &Path, payloads: &[Vec<u8>]) -> Vec<u8> {
+    let mut bytes = log::frame::header().to_vec();
+    for p in payloads {
+        log::frame::encode(p, &mut bytes).unwrap();
+    }
+    std::fs::write(path, &bytes).unwrap();
+    bytes
+}
+
+fn foreign(note: &str, at: &str) -> log::Record {
+    let mut dose = log::record::example_dose();
+    dose.note = note.into();
+    log::Record::Entry(log::Entry {
+        id: uuid::Uuid::now_v7(),
+        device: "tab-b".into(),
+        at: chrono::DateTime::parse_from_rfc3339(at).unwrap(),
+        site: "Riverside".into(),
+        dose,
+    })
+}
+
+#[test]
+fn a_crafted_six_mebibyte_file_imports_in_linear_time() {
+    let dir = fresh_dir("crafted");
+    let (a, b) = (dir.join("a.doselog"), dir.join("b.doselog"));
+    drop(Log::open(&a, "tab-a").unwrap());
+    let first = log::record::encode(&foreign("first", "2026-11-05T09:00:00+00:00"));
+    let last = log::record::encode(&foreign("last", "2026-11-06T09:00:00+00:00"));
+    let mut bytes = crafted_log(&b, std::slice::from_ref(&first));
+    // Every 12 bytes a record mark claiming almost a megabyte, with a wrong checksum.
+    let mut n = 0u32;
+    while bytes.len() < 6 << 20 {
+        bytes.extend_from_slice(&log::frame::RECORD_MARK);
+        bytes.extend_from_slice(&(log::frame::MAX_PAYLOAD - n % 4096).to_le_bytes());
+        bytes.extend_from_slice(&n.to_le_bytes());
+        n += 1;
+    }
+    log::frame::encode(&last, &mut bytes).unwrap();
+    std::fs::write(&b, &bytes).unwrap();
+    let started = Instant::now();
+    let mut child = Command::new(BIN)
+        .args(["log", "merge", "--file", a.to_str().unwrap(), "--from"])
+        .arg(&b)
+        .arg("--json")
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    // Quadratic scanning took about 24 s for this file in a release build; linear scanning
+    // takes well under a second there and a few seconds in a test build.
+    let limit = Duration::from_secs(20);
+    while child.try_wait().unwrap().is_none() {
+        if started.elapsed() > limit {
+            child.kill().unwrap();
+            child.wait().unwrap();
+            panic!("importing a crafted 6 MiB file took more than {limit:?}");
+        }
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    let out = child.wait_with_output().unwrap();
+    println!("crafted 6 MiB import: {:?}", started.elapsed());
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let reply: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(reply["added"], 2, "{reply}");
+    remove(&dir);
+}

@@ -144,7 +144,7 @@ impl Recovery {
             let action = if self.tail_cut {
                 "cut off"
             } else {
-                "not cut (read-only)"
+                "left in place (only a writer cuts it)"
             };
             out.push(format!(
                 "incomplete last record at byte {} ({} bytes, from an interrupted write): {action}",
@@ -153,7 +153,7 @@ impl Recovery {
         }
         for d in &self.damaged {
             out.push(format!(
-                "damaged data at byte {} ({} bytes): kept in the file, records before and after it loaded",
+                "damaged data at byte {} ({} bytes): kept in the file, every intact record around it loaded",
                 d.offset, d.len
             ));
         }
@@ -333,6 +333,17 @@ impl Log {
                     format!("{} has no complete log header", name.display()),
                 )
                 .with("path", name.display()));
+            }
+            frame::HeaderCheck::Damaged => {
+                return Err(Error::new(
+                    ErrorKind::NotALog,
+                    format!(
+                        "the log header of {} is damaged (its checksum does not match); the file was left untouched — salvage copies its intact records into a new log",
+                        name.display()
+                    ),
+                )
+                .with("path", name.display())
+                .with("reason", "damaged-header"));
             }
             frame::HeaderCheck::NotALog(why) => {
                 return Err(Error::new(

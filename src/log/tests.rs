@@ -307,6 +307,8 @@ fn foreign_damaged_and_future_files_are_refused_untouched() {
     let dir = temp_dir("refuse");
     let mut future = frame::header();
     future[8..10].copy_from_slice(&2u16.to_le_bytes());
+    let crc = crc32fast::hash(&future[..12]);
+    future[12..].copy_from_slice(&crc.to_le_bytes());
     let mut damaged_header = frame::header().to_vec();
     damaged_header[13] ^= 1;
     let cases: [(&str, Vec<u8>, ErrorKind, &str); 4] = [
@@ -328,12 +330,7 @@ fn foreign_damaged_and_future_files_are_refused_untouched() {
             ErrorKind::FutureVersion,
             "newer app (log format 2",
         ),
-        (
-            "header",
-            damaged_header,
-            ErrorKind::NotALog,
-            "header is damaged",
-        ),
+        ("header", damaged_header, ErrorKind::NotALog, "header of"),
     ];
     for (name, bytes, kind, words) in cases {
         let path = dir.join(name);
@@ -600,4 +597,31 @@ fn site_files_have_portable_names_inside_the_given_directory() {
         path.file_name().and_then(|n| n.to_str()),
         Some("Riverside___North___old__works.doselog")
     );
+}
+
+#[test]
+fn a_flipped_byte_in_the_last_record_is_damage_kept_on_disk() {
+    let (_scratch, path, ids) = file_with(&["a", "b", "c"]);
+    let log = Log::open(&path, "tab-1").unwrap();
+    let last = log.index.slot_of(ids[2].as_u128()).unwrap();
+    let at = log.index.slots[last as usize].offset + 60;
+    drop(log);
+    let mut bytes = std::fs::read(&path).unwrap();
+    bytes[at as usize] ^= 0x04;
+    std::fs::write(&path, &bytes).unwrap();
+
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    assert_eq!(log.recovery().torn_tail, None);
+    assert_eq!(log.recovery().damaged.len(), 1, "{:?}", log.recovery());
+    assert_eq!(
+        std::fs::read(&path).unwrap(),
+        bytes,
+        "the writer cut the record"
+    );
+    assert_eq!(notes(&log), ["a", "b"]);
+    log.append(simple("d")).unwrap();
+    drop(log);
+    let log = Log::open(&path, "tab-1").unwrap();
+    assert_eq!(notes(&log), ["a", "b", "d"]);
+    assert_eq!(&std::fs::read(&path).unwrap()[..bytes.len()], &bytes[..]);
 }
