@@ -3,7 +3,8 @@
 //! Design choice: `append` reads exactly one JSON draft on stdin and reports the id only when
 //! `Log::append` returned, that is after the record was synced to disk, so a script that saw
 //! an id may rely on it. Export text goes to stdout through the ordinary report, so the same
-//! functions serve `molefeed batch`.
+//! functions serve `molefeed batch`. The reading commands (list, history, export) open the log
+//! read-only, so they work beside a writer and on read-only media and never change the file.
 
 use super::{Args, CliError, CliResult, Report};
 use crate::log::{self, Draft, Log, Query, export};
@@ -60,13 +61,14 @@ fn open(args: &Args) -> Result<Log, CliError> {
     Log::open(Path::new(file), &device).map_err(log_error)
 }
 
-/// For reading commands: a mistyped path must not create an empty log and list nothing.
+/// For reading commands: read-only, so a mistyped path creates nothing and a read changes
+/// nothing.
 fn open_existing(args: &Args) -> Result<Log, CliError> {
     let file = args.required_text("file")?;
     if !Path::new(file).exists() {
         return Err(CliError::io(format!("no log file at {file}")));
     }
-    open(args)
+    Log::open_read_only(Path::new(file)).map_err(log_error)
 }
 
 fn date(args: &Args, name: &str) -> Result<Option<NaiveDate>, CliError> {

@@ -351,7 +351,15 @@ fn read_only_storage_gives_a_typed_error() {
     assert_eq!(err.kind(), ErrorKind::ReadOnly, "{}", err.message());
     assert!(err.message().contains("read-only"));
 
-    // A path below a regular file cannot be created by anyone, root included.
+    // A path below a regular file cannot be created by anyone, root included; and a missing
+    // directory is never created for a log.
+    let missing = temp_dir("nodir");
+    let err = Log::open(&missing.join("a/b/site.doselog"), "tab-1")
+        .err()
+        .unwrap();
+    assert_eq!(err.kind(), ErrorKind::Io, "{}", err.message());
+    assert!(!missing.join("a").exists(), "a directory was created");
+
     let dir = temp_dir("notdir");
     let blocker = dir.join("blocker");
     std::fs::write(&blocker, b"x").unwrap();
@@ -599,6 +607,62 @@ fn site_files_have_portable_names_inside_the_given_directory() {
     );
 }
 
+/// The bytes and modification time of a file, to show that a read left it alone.
+fn snapshot(path: &Path) -> (Vec<u8>, std::time::SystemTime) {
+    (
+        std::fs::read(path).unwrap(),
+        std::fs::metadata(path).unwrap().modified().unwrap(),
+    )
+}
+
+#[test]
+fn a_reader_never_writes_a_header_or_cuts_a_tail() {
+    let (scratch, path, _) = file_with(&["a", "b"]);
+    let mut half = Vec::new();
+    frame::encode(
+        &record::encode(&foreign_entry("x", "2026-03-04T08:00:00+00:00")),
+        &mut half,
+    )
+    .unwrap();
+    half.truncate(half.len() / 2);
+    OpenOptions::new()
+        .append(true)
+        .open(&path)
+        .unwrap()
+        .write_all(&half)
+        .unwrap();
+    let before = snapshot(&path);
+    std::thread::sleep(std::time::Duration::from_millis(20));
+    let reader = Log::open_read_only(&path).unwrap();
+    assert_eq!(notes(&reader), ["a", "b"]);
+    assert!(reader.recovery().torn_tail.is_some());
+    assert!(!reader.recovery().tail_cut);
+    assert!(reader.recovery().messages()[0].contains("left in place"));
+    drop(reader);
+    assert_eq!(snapshot(&path), before, "a read changed the file");
+
+    // An empty file reached through a symlink stays empty for a reader.
+    let empty = scratch.join("empty.doselog");
+    std::fs::write(&empty, b"").unwrap();
+    let link = scratch.join("link.doselog");
+    std::os::unix::fs::symlink(&empty, &link).unwrap();
+    let err = Log::open_read_only(&link).err().unwrap();
+    assert_eq!(err.kind(), ErrorKind::NotALog, "{}", err.message());
+    assert_eq!(std::fs::read(&empty).unwrap(), b"", "a header was written");
+}
+
+#[test]
+fn a_reader_shares_the_file_with_a_writer_and_a_second_writer_does_not() {
+    let (_scratch, path, _) = file_with(&["a"]);
+    let mut writer = Log::open(&path, "tab-1").unwrap();
+    let reader = Log::open_read_only(&path).unwrap();
+    writer.append(simple("b")).unwrap();
+    assert_eq!(notes(&reader), ["a"], "the reader's view is what it opened");
+    assert_eq!(notes(&Log::open_read_only(&path).unwrap()), ["a", "b"]);
+    let err = Log::open(&path, "tab-2").err().unwrap();
+    assert_eq!(err.kind(), ErrorKind::Locked);
+}
+
 #[test]
 fn a_flipped_byte_in_the_last_record_is_damage_kept_on_disk() {
     let (_scratch, path, ids) = file_with(&["a", "b", "c"]);
@@ -624,4 +688,39 @@ fn a_flipped_byte_in_the_last_record_is_damage_kept_on_disk() {
     let log = Log::open(&path, "tab-1").unwrap();
     assert_eq!(notes(&log), ["a", "b", "d"]);
     assert_eq!(&std::fs::read(&path).unwrap()[..bytes.len()], &bytes[..]);
+}
+
+#[test]
+fn a_writer_whose_file_is_deleted_or_replaced_acknowledges_nothing_more() {
+    let (scratch, path, _) = file_with(&["a"]);
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    std::fs::remove_file(&path).unwrap();
+    let err = log.append(simple("lost")).unwrap_err();
+    assert_eq!(err.kind(), ErrorKind::FileReplaced, "{}", err.message());
+    assert!(err.message().contains("deleted or replaced"));
+    assert_eq!(log.pending().len(), 1, "the entry is kept as not saved");
+    let again = log.append(simple("also lost")).unwrap_err();
+    assert_eq!(again.kind(), ErrorKind::FileReplaced);
+    assert_eq!(log.pending().len(), 2);
+    drop(log);
+
+    // Another file moved into its place.
+    let (_other_scratch, other, _) = file_with(&["other"]);
+    let mut log = Log::open(&scratch.join("fresh.doselog"), "tab-1").unwrap();
+    log.append(simple("saved")).unwrap();
+    std::fs::rename(&other, scratch.join("fresh.doselog")).unwrap();
+    let err = log.append(simple("lost")).unwrap_err();
+    assert_eq!(err.kind(), ErrorKind::FileReplaced);
+}
+
+fn foreign_entry(note: &str, at: &str) -> Record {
+    let mut dose = record::example_dose();
+    dose.note = note.into();
+    Record::Entry(Entry {
+        id: Uuid::now_v7(),
+        device: "tab-b".into(),
+        at: DateTime::parse_from_rfc3339(at).unwrap(),
+        site: "Riverside".into(),
+        dose,
+    })
 }
