@@ -27,12 +27,14 @@ pub mod frame;
 mod index;
 pub mod merge;
 pub mod record;
+mod salvage;
 #[doc(hidden)]
 pub mod sample;
 
 pub use error::{Error, ErrorKind, Result};
 pub use frame::Span;
 pub use record::{Correction, CrossCheck, Dose, Draft, Entry, Kind, Quantity, Record, Void};
+pub use salvage::{SalvageReport, salvage};
 
 use chrono::{DateTime, FixedOffset, NaiveDate, SubsecRound};
 use index::{Index, Inserted};

@@ -713,6 +713,43 @@ fn a_writer_whose_file_is_deleted_or_replaced_acknowledges_nothing_more() {
     assert_eq!(err.kind(), ErrorKind::FileReplaced);
 }
 
+#[test]
+fn a_flipped_header_bit_is_damage_and_salvage_recovers_every_record() {
+    let (scratch, path, _) = file_with(&["a", "b", "c"]);
+    let mut bytes = std::fs::read(&path).unwrap();
+    bytes[9] ^= 0x40; // version 1 would read as 16385
+    std::fs::write(&path, &bytes).unwrap();
+    let err = Log::open(&path, "tab-1").err().unwrap();
+    assert_eq!(err.kind(), ErrorKind::NotALog, "{}", err.message());
+    assert_eq!(err.param("reason"), Some("damaged-header"));
+    assert!(err.message().contains("damaged"), "{}", err.message());
+    assert!(!err.message().contains("newer"), "{}", err.message());
+
+    let before = snapshot(&path);
+    let saved = scratch.join("saved.doselog");
+    let report = salvage(&path, &saved).unwrap();
+    assert_eq!(report.records, 3);
+    assert!(!report.header_intact);
+    assert!(report.damaged.is_empty());
+    assert_eq!(snapshot(&path), before, "salvage changed the damaged file");
+    let log = Log::open(&saved, "tab-1").unwrap();
+    assert!(log.recovery().is_clean(), "{:?}", log.recovery());
+    assert_eq!(notes(&log), ["a", "b", "c"]);
+    drop(log);
+
+    // Never over an existing file.
+    let kept = snapshot(&saved);
+    let err = salvage(&path, &saved).unwrap_err();
+    assert_eq!(err.kind(), ErrorKind::Io, "{}", err.message());
+    assert_eq!(snapshot(&saved), kept);
+    // Nothing to salvage from a file that is no log, and no file is left behind.
+    let text = scratch.join("text.txt");
+    std::fs::write(&text, b"just some words, no records at all").unwrap();
+    let err = salvage(&text, &scratch.join("none.doselog")).unwrap_err();
+    assert_eq!(err.kind(), ErrorKind::NotALog);
+    assert!(!scratch.join("none.doselog").exists());
+}
+
 fn foreign_entry(note: &str, at: &str) -> Record {
     let mut dose = record::example_dose();
     dose.note = note.into();
