@@ -745,6 +745,86 @@ fn foreign(note: &str, at: &str) -> log::Record {
 }
 
 #[test]
+fn the_human_merge_summary_names_everything_left_out() {
+    let dir = fresh_dir("merge-summary");
+    let (a, b) = (dir.join("a.doselog"), dir.join("b.doselog"));
+    Log::open(&a, "tab-a")
+        .unwrap()
+        .append(draft("a0", "2026-03-01T10:00:00+00:00", "T"))
+        .unwrap();
+    let good = foreign("good", "2026-11-05T09:00:00+00:00");
+    let lying = foreign("lying", "2026-11-05T10:00:00+00:00");
+    let mut lying_payload = log::record::encode(&lying);
+    lying_payload[18..26].copy_from_slice(&0i64.to_le_bytes());
+    let future_void = log::Record::Void(log::Void {
+        id: uuid::Uuid::now_v7(),
+        device: "tab-b".into(),
+        at: chrono::DateTime::parse_from_rfc3339("9999-12-31T00:00:00+00:00").unwrap(),
+        site: "Riverside".into(),
+        operator: "CD".into(),
+        voids: good.id(),
+        reason: "hide".into(),
+    });
+    let mut second = good.clone();
+    if let log::Record::Entry(e) = &mut second {
+        e.dose.note = "second version".into();
+    }
+    let mut bytes = crafted_log(
+        &b,
+        &[
+            log::record::encode(&good),
+            lying_payload,
+            log::record::encode(&future_void),
+            log::record::encode(&second),
+        ],
+    );
+    // Damage between two intact records.
+    bytes.extend_from_slice(b"not a record");
+    let mut tail_record = Vec::new();
+    log::frame::encode(
+        &log::record::encode(&foreign("after", "2026-11-07T09:00:00+00:00")),
+        &mut tail_record,
+    )
+    .unwrap();
+    bytes.extend_from_slice(&tail_record);
+    std::fs::write(&b, &bytes).unwrap();
+
+    let out = molefeed(
+        &[
+            "log",
+            "merge",
+            "--file",
+            a.to_str().unwrap(),
+            "--from",
+            b.to_str().unwrap(),
+        ],
+        "",
+    );
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let human = text(&out.stdout);
+    let first_line = human.lines().next().unwrap();
+    assert!(
+        first_line.starts_with("added 2, already present 0, conflicting 0, refused 2"),
+        "{human}"
+    );
+    let line_about = |id: uuid::Uuid, word: &str| {
+        human
+            .lines()
+            .any(|l| l.starts_with(word) && l.contains(&id.to_string()))
+    };
+    assert!(line_about(lying.id(), "refused:"), "{human}");
+    assert!(line_about(future_void.id(), "refused:"), "{human}");
+    assert!(human.contains("after this device's clock"), "{human}");
+    assert!(human.contains("key and body disagree"), "{human}");
+    assert!(line_about(good.id(), "dropped:"), "{human}");
+    assert!(
+        human.lines().any(|l| l.contains("damaged data at byte")),
+        "{human}"
+    );
+    remove(&dir);
+}
+
+#[test]
 fn a_crafted_six_mebibyte_file_imports_in_linear_time() {
     let dir = fresh_dir("crafted");
     let (a, b) = (dir.join("a.doselog"), dir.join("b.doselog"));
@@ -787,5 +867,62 @@ fn a_crafted_six_mebibyte_file_imports_in_linear_time() {
     assert!(out.status.success(), "{}", text(&out.stderr));
     let reply: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(reply["added"], 2, "{reply}");
+    remove(&dir);
+}
+
+#[test]
+fn salvage_copies_the_records_behind_a_damaged_header() {
+    let dir = fresh_dir("salvage");
+    let (damaged, saved) = (dir.join("damaged.doselog"), dir.join("saved.doselog"));
+    let mut log = Log::open(&damaged, "tab-1").unwrap();
+    for n in 0..3 {
+        log.append(draft(&format!("n{n}"), "2026-03-02T10:00:00+00:00", "T"))
+            .unwrap();
+    }
+    drop(log);
+    let mut bytes = std::fs::read(&damaged).unwrap();
+    bytes[9] ^= 0x40;
+    std::fs::write(&damaged, &bytes).unwrap();
+    let before = snapshot(&damaged);
+
+    let listed = molefeed(&["log", "list", "--file", damaged.to_str().unwrap()], "");
+    assert_eq!(listed.status.code(), Some(1));
+    let said = text(&listed.stderr);
+    assert!(
+        said.contains("damaged") && !said.contains("newer"),
+        "{said}"
+    );
+
+    let out = molefeed(
+        &[
+            "log",
+            "salvage",
+            "--file",
+            damaged.to_str().unwrap(),
+            "--to",
+            saved.to_str().unwrap(),
+        ],
+        "",
+    );
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    assert!(
+        text(&out.stdout).starts_with("salvaged 3 records"),
+        "{}",
+        text(&out.stdout)
+    );
+    assert!(text(&out.stdout).contains("damaged: the log header"));
+    assert_eq!(
+        snapshot(&damaged),
+        before,
+        "salvage changed the damaged file"
+    );
+    let notes: Vec<String> = Log::open_read_only(&saved)
+        .unwrap()
+        .current()
+        .unwrap()
+        .into_iter()
+        .map(|v| v.dose.note)
+        .collect();
+    assert_eq!(notes, ["n0", "n1", "n2"]);
     remove(&dir);
 }

@@ -17,18 +17,19 @@ use std::path::Path;
 pub fn run(args: &Args) -> CliResult {
     match args.required_positional(
         0,
-        "log command: append, list, history, export, merge or template",
+        "log command: append, list, history, export, merge, salvage or template",
     )? {
         "template" => template(),
         "append" => append(args),
         "list" => list(args),
         "export" => export_cmd(args),
         "merge" => merge(args),
+        "salvage" => salvage(args),
         "history" => history(args),
         // Not in the help: drives the crash test by appending until killed.
         "soak" => soak(args),
         other => Err(CliError::usage(format!(
-            "unknown log command '{other}'; try append, list, history, export, merge or template"
+            "unknown log command '{other}'; try append, list, history, export, merge, salvage or template"
         ))),
     }
 }
@@ -225,30 +226,83 @@ fn merge(args: &Args) -> CliResult {
     let mut log = open(args)?;
     let other = args.required_text("from")?;
     let report = log.merge_from(Path::new(other)).map_err(log_error)?;
-    let human = format!(
-        "added {}, already present {}, conflicting {}{}\n",
+    let source = &report.source_recovery;
+    let mut human = format!(
+        "added {}, already present {}, conflicting {}, refused {}, dropped {}, unreadable {}, damaged regions {}\n",
         report.added,
         report.already_present,
         report.conflicting.len(),
-        if report.unreadable > 0 {
-            format!(", unreadable {}", report.unreadable)
-        } else {
-            String::new()
+        report.refused.len(),
+        report.dropped_duplicates.len(),
+        source.unreadable.len(),
+        source.damaged.len() + usize::from(source.torn_tail.is_some()),
+    );
+    for id in &report.conflicting {
+        human.push_str(&format!(
+            "conflict: {id} differs between the logs; this log's copy is kept\n"
+        ));
+    }
+    for r in &report.refused {
+        let id =
+            r.id.map_or_else(|| "record".to_string(), |id| id.to_string());
+        human.push_str(&format!(
+            "refused: {id} at byte {} of {other} {}\n",
+            r.offset, r.reason
+        ));
+    }
+    for id in &report.dropped_duplicates {
+        human.push_str(&format!(
+            "dropped: a second copy of {id} in {other}; only the first was considered\n"
+        ));
+    }
+    for m in source.messages() {
+        // Duplicates are listed above as dropped.
+        if !m.contains("appears more than once") {
+            human.push_str(&format!("in {other}: {m}\n"));
         }
-    ) + &report
-        .conflicting
-        .iter()
-        .map(|id| format!("conflict: {id} differs between the logs; this log's copy is kept\n"))
-        .collect::<String>();
+    }
     Ok(Report {
         human,
         json: json!({
             "added": report.added,
             "already_present": report.already_present,
             "conflicting": report.conflicting,
+            "refused": report.refused,
+            "dropped_duplicates": report.dropped_duplicates,
             "unreadable": report.unreadable,
-            "source_recovery": report.source_recovery.messages(),
+            "source_recovery": source.messages(),
         }),
+    })
+}
+
+/// `log salvage --file F --to G`: copies the intact records of a log whose header is damaged
+/// into a new log G; F is only read.
+fn salvage(args: &Args) -> CliResult {
+    let from = args.required_text("file")?;
+    let to = args.required_text("to")?;
+    let report = log::salvage(Path::new(from), Path::new(to)).map_err(log_error)?;
+    let mut human = format!(
+        "salvaged {} records from {from} into {to}; {from} was not changed\n",
+        report.records
+    );
+    if !report.header_intact {
+        human.push_str(&format!("damaged: the log header of {from}\n"));
+    }
+    for d in &report.damaged {
+        human.push_str(&format!(
+            "damaged: {} bytes at byte {} of {from} held no intact record\n",
+            d.len, d.offset
+        ));
+    }
+    if let Some(t) = report.torn_tail {
+        human.push_str(&format!(
+            "incomplete last record: {} bytes at byte {} of {from}, not copied\n",
+            t.len, t.offset
+        ));
+    }
+    Ok(Report {
+        human,
+        json: serde_json::to_value(&report).map_err(|e| CliError::io(e.to_string()))?,
     })
 }
 

@@ -761,3 +761,109 @@ fn foreign_entry(note: &str, at: &str) -> Record {
         dose,
     })
 }
+
+/// A log file holding exactly these payloads, framed as a device would write them.
+fn crafted_log(path: &Path, payloads: &[Vec<u8>]) {
+    let mut bytes = frame::header().to_vec();
+    for p in payloads {
+        frame::encode(p, &mut bytes).unwrap();
+    }
+    std::fs::write(path, bytes).unwrap();
+}
+
+#[test]
+fn merge_checks_each_record_as_a_whole_and_reports_what_it_left_out() {
+    let dir = temp_dir("merge-checks");
+    let (a_path, b_path) = (dir.join("a.doselog"), dir.join("b.doselog"));
+    let mut a = Log::open(&a_path, "tab-a").unwrap();
+    let ours = a.append(simple("ours")).unwrap();
+    let now = DateTime::parse_from_rfc3339("2026-11-10T12:00:00+00:00").unwrap();
+
+    let good = foreign_entry("good", "2026-11-05T09:00:00+00:00");
+    // Body 5 Nov at the inlet; key 1970 and another tap.
+    let lying = foreign_entry("lying", "2026-11-05T10:00:00+00:00");
+    let mut lying_payload = record::encode(&lying);
+    lying_payload[18..26].copy_from_slice(&0i64.to_le_bytes());
+    let correction = |corrects: Uuid, site: &str, at: &str| {
+        let mut dose = record::example_dose();
+        dose.note = "corrected".into();
+        Record::Correction(Correction {
+            id: Uuid::now_v7(),
+            device: "tab-b".into(),
+            at: DateTime::parse_from_rfc3339(at).unwrap(),
+            site: site.into(),
+            corrects,
+            reason: "typo".into(),
+            dose,
+        })
+    };
+    let far_future = correction(ours, "Riverside", "9999-12-31T00:00:00+00:00");
+    let within = correction(good.id(), "Riverside", "2026-11-10T12:30:00+00:00");
+    let orphan_void = Record::Void(Void {
+        id: Uuid::now_v7(),
+        device: "tab-b".into(),
+        at: DateTime::parse_from_rfc3339("2026-11-06T09:00:00+00:00").unwrap(),
+        site: "Riverside".into(),
+        operator: "CD".into(),
+        voids: Uuid::now_v7(),
+        reason: "hide it".into(),
+    });
+    let other_site = correction(ours, "Hilltop", "2026-11-06T09:00:00+00:00");
+    let mut second_copy = good.clone();
+    if let Record::Entry(e) = &mut second_copy {
+        e.dose.note = "second version".into();
+    }
+    crafted_log(
+        &b_path,
+        &[
+            record::encode(&within),
+            record::encode(&good),
+            lying_payload,
+            record::encode(&far_future),
+            record::encode(&orphan_void),
+            record::encode(&other_site),
+            record::encode(&second_copy),
+        ],
+    );
+
+    let report = a.merge_at(&b_path, now).unwrap();
+    assert_eq!(report.added, 2, "{report:?}");
+    let refused: Vec<(Option<Uuid>, &str)> = report
+        .refused
+        .iter()
+        .map(|r| (r.id, r.reason.as_str()))
+        .collect();
+    let reason_of = |id: Uuid| {
+        refused
+            .iter()
+            .find(|(i, _)| *i == Some(id))
+            .map(|(_, r)| *r)
+            .unwrap_or_else(|| panic!("{id} not refused: {refused:?}"))
+    };
+    assert!(reason_of(lying.id()).contains("key and body disagree"));
+    assert!(reason_of(far_future.id()).contains("after this device's clock"));
+    assert!(reason_of(orphan_void.id()).contains("neither in this log"));
+    assert!(reason_of(other_site.id()).contains("site 'Hilltop'"));
+    assert_eq!(report.refused.len(), 4);
+    assert_eq!(report.dropped_duplicates, vec![good.id()]);
+    assert_eq!(report.unreadable, 4);
+
+    // What was imported is found by date and tap; the entry stands as corrected here.
+    let november = Query {
+        from: NaiveDate::from_ymd_opt(2026, 11, 1),
+        to: NaiveDate::from_ymd_opt(2026, 11, 30),
+        ..Query::default()
+    };
+    let views = a.query(&november).unwrap();
+    assert_eq!(views.len(), 1);
+    assert_eq!(views[0].id, good.id());
+    assert_eq!(views[0].dose.note, "corrected");
+    assert!(a.get(lying.id()).unwrap().is_none());
+    let mine = a.query(&Query::default()).unwrap();
+    let mine = mine.iter().find(|v| v.id == ours).unwrap();
+    assert_eq!(
+        mine.status,
+        Status::Original,
+        "no imported revision reached it"
+    );
+}
