@@ -752,8 +752,8 @@ fn the_human_merge_summary_names_everything_left_out() {
         .unwrap()
         .append(draft("a0", "2026-03-01T10:00:00+00:00", "T"))
         .unwrap();
-    let good = foreign("good", "2026-11-05T09:00:00+00:00");
-    let lying = foreign("lying", "2026-11-05T10:00:00+00:00");
+    let good = foreign("good", "2025-11-05T09:00:00+00:00");
+    let lying = foreign("lying", "2025-11-05T10:00:00+00:00");
     let mut lying_payload = log::record::encode(&lying);
     lying_payload[18..26].copy_from_slice(&0i64.to_le_bytes());
     let future_void = log::Record::Void(log::Void {
@@ -782,7 +782,7 @@ fn the_human_merge_summary_names_everything_left_out() {
     bytes.extend_from_slice(b"not a record");
     let mut tail_record = Vec::new();
     log::frame::encode(
-        &log::record::encode(&foreign("after", "2026-11-07T09:00:00+00:00")),
+        &log::record::encode(&foreign("after", "2025-11-07T09:00:00+00:00")),
         &mut tail_record,
     )
     .unwrap();
@@ -829,8 +829,8 @@ fn a_crafted_six_mebibyte_file_imports_in_linear_time() {
     let dir = fresh_dir("crafted");
     let (a, b) = (dir.join("a.doselog"), dir.join("b.doselog"));
     drop(Log::open(&a, "tab-a").unwrap());
-    let first = log::record::encode(&foreign("first", "2026-11-05T09:00:00+00:00"));
-    let last = log::record::encode(&foreign("last", "2026-11-06T09:00:00+00:00"));
+    let first = log::record::encode(&foreign("first", "2025-11-05T09:00:00+00:00"));
+    let last = log::record::encode(&foreign("last", "2025-11-06T09:00:00+00:00"));
     let mut bytes = crafted_log(&b, std::slice::from_ref(&first));
     // Every 12 bytes a record mark claiming almost a megabyte, with a wrong checksum.
     let mut n = 0u32;
