@@ -246,7 +246,7 @@ fn merge(args: &Args) -> CliResult {
         let id =
             r.id.map_or_else(|| "record".to_string(), |id| id.to_string());
         human.push_str(&format!(
-            "refused: {id} at byte {} of {other} {}\n",
+            "refused: {id} at byte {} of {other}: {}\n",
             r.offset, r.reason
         ));
     }

@@ -122,7 +122,7 @@ impl Log {
                                 "dated {}, more than {} h after this device's clock ({}); import again once that time has passed",
                                 theirs.at().to_rfc3339(),
                                 CLOCK_TOLERANCE.num_hours(),
-                                now.to_rfc3339()
+                                now.to_rfc3339_opts(chrono::SecondsFormat::Secs, true)
                             ),
                         );
                     } else {
