@@ -899,6 +899,14 @@ fn salvage_copies_the_records_behind_a_damaged_header() {
         said.contains("damaged") && !said.contains("newer"),
         "{said}"
     );
+    assert!(said.contains("molefeed log salvage --file"), "{said}");
+    let listed = molefeed(
+        &["log", "list", "--file", damaged.to_str().unwrap(), "--json"],
+        "",
+    );
+    let reply: serde_json::Value = serde_json::from_slice(&listed.stdout).unwrap();
+    assert_eq!(reply["error"]["kind"], "not-a-log");
+    assert_eq!(reply["error"]["reason"], "damaged-header");
 
     let out = molefeed(
         &[

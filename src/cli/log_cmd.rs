@@ -35,6 +35,15 @@ pub fn run(args: &Args) -> CliResult {
 }
 
 fn log_error(e: log::Error) -> CliError {
+    // A damaged header is the one refusal the command line can do something about.
+    if e.param("reason") == Some("damaged-header") {
+        let file = e.param("path").unwrap_or("FILE");
+        return CliError {
+            kind: e.kind().code().into(),
+            message: format!("{e} (molefeed log salvage --file {file} --to NEW-FILE)"),
+            reason: Some("damaged-header"),
+        };
+    }
     CliError {
         kind: e.kind().code().into(),
         message: e.to_string(),
