@@ -762,6 +762,8 @@ fn the_human_merge_summary_names_everything_left_out() {
     let lying = foreign("lying", "2025-11-05T10:00:00+00:00");
     let mut lying_payload = log::record::encode(&lying);
     lying_payload[18..26].copy_from_slice(&0i64.to_le_bytes());
+    // The key's tap starts after the fixed key (44 bytes) and its length: "clearwell inlet".
+    lying_payload[46] ^= 0x20;
     let future_void = log::Record::Void(log::Void {
         id: uuid::Uuid::now_v7(),
         device: "tab-b".into(),

@@ -784,6 +784,8 @@ fn merge_checks_each_record_as_a_whole_and_reports_what_it_left_out() {
     let lying = foreign_entry("lying", "2026-11-05T10:00:00+00:00");
     let mut lying_payload = record::encode(&lying);
     lying_payload[18..26].copy_from_slice(&0i64.to_le_bytes());
+    // The key's tap starts after the fixed key (44 bytes) and its length: "clearwell inlet".
+    lying_payload[46] ^= 0x20;
     let correction = |corrects: Uuid, site: &str, at: &str| {
         let mut dose = record::example_dose();
         dose.note = "corrected".into();
