@@ -504,3 +504,442 @@ fn csv_defuses_text_a_spreadsheet_would_run_and_json_lines_keeps_it() {
     assert_eq!(first["dose"]["note"], "=HYPERLINK(\"http://x\",\"y\")");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// The bytes and modification time of a file, to show that a command left it alone.
+fn snapshot(path: &Path) -> (Vec<u8>, std::time::SystemTime) {
+    (
+        std::fs::read(path).unwrap(),
+        std::fs::metadata(path).unwrap().modified().unwrap(),
+    )
+}
+
+/// Whether this process runs as root, for whom permission bits do not stop writes.
+fn running_as_root() -> bool {
+    use std::os::unix::fs::MetadataExt;
+    std::fs::metadata("/proc/self").unwrap().uid() == 0
+}
+
+/// Makes `path` unwritable for this process: read-only permissions, and for root (whom
+/// permissions do not stop) the immutable attribute. Returns an undo.
+fn make_unwritable(path: &Path) -> impl FnOnce() {
+    use std::os::unix::fs::PermissionsExt;
+    std::fs::set_permissions(path, std::fs::Permissions::from_mode(0o444)).unwrap();
+    let root = running_as_root();
+    if root {
+        let status = Command::new("chattr").arg("+i").arg(path).status().unwrap();
+        assert!(
+            status.success(),
+            "chattr +i failed: the test needs it as root"
+        );
+    }
+    let writable = std::fs::OpenOptions::new().write(true).open(path);
+    assert!(
+        writable.is_err(),
+        "the file is still writable: the test would prove nothing"
+    );
+    let path = path.to_path_buf();
+    move || {
+        if root {
+            Command::new("chattr")
+                .arg("-i")
+                .arg(&path)
+                .status()
+                .unwrap();
+        }
+        std::fs::set_permissions(&path, std::fs::Permissions::from_mode(0o644)).unwrap();
+    }
+}
+
+#[test]
+fn reading_commands_work_on_an_unwritable_file_and_never_change_it() {
+    let dir = fresh_dir("readonly");
+    let path = dir.join("site.doselog");
+    let file = path.to_str().unwrap();
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    let id = log
+        .append(draft("kept", "2026-03-02T10:00:00+00:00", "T"))
+        .unwrap();
+    drop(log);
+    // An interrupted write at the end: a reader reports it and leaves it in place.
+    let mut torn = Vec::new();
+    log::frame::encode(b"an interrupted write", &mut torn).unwrap();
+    torn.truncate(15);
+    std::fs::OpenOptions::new()
+        .append(true)
+        .open(&path)
+        .unwrap()
+        .write_all(&torn)
+        .unwrap();
+    let undo = make_unwritable(&path);
+    let before = snapshot(&path);
+    std::thread::sleep(Duration::from_millis(20));
+    let outputs = [
+        molefeed(&["log", "list", "--file", file], ""),
+        molefeed(&["log", "export", "--file", file, "--format", "csv"], ""),
+        molefeed(
+            &["log", "history", "--file", file, "--id", &id.to_string()],
+            "",
+        ),
+    ];
+    let after = snapshot(&path);
+    undo();
+    for out in &outputs {
+        assert!(out.status.success(), "{}", text(&out.stderr));
+    }
+    assert!(
+        text(&outputs[0].stdout).ends_with("1 entries\n"),
+        "{}",
+        text(&outputs[0].stdout)
+    );
+    assert!(
+        text(&outputs[1].stdout).contains("kept"),
+        "the export holds the note"
+    );
+    assert!(
+        text(&outputs[0].stdout).contains("left in place"),
+        "{}",
+        text(&outputs[0].stdout)
+    );
+    assert_eq!(after, before, "a read changed the file");
+
+    // An empty file reached through a symlink: a reader refuses it and writes nothing.
+    let empty = dir.join("empty.doselog");
+    std::fs::write(&empty, b"").unwrap();
+    let link = dir.join("link.doselog");
+    std::os::unix::fs::symlink(&empty, &link).unwrap();
+    let listed = molefeed(&["log", "list", "--file", link.to_str().unwrap()], "");
+    assert_eq!(listed.status.code(), Some(1));
+    assert_eq!(std::fs::read(&empty).unwrap(), b"", "a header was written");
+    remove(&dir);
+}
+
+#[test]
+fn reading_commands_work_beside_a_running_writer() {
+    let dir = fresh_dir("beside");
+    let path = dir.join("site.doselog");
+    let file = path.to_str().unwrap();
+    let mut writer = Command::new(BIN)
+        .args(["log", "soak", "--file", file, "--device", "writer"])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let mut first = String::new();
+    BufReader::new(writer.stdout.as_mut().unwrap())
+        .read_line(&mut first)
+        .unwrap();
+    let listed = molefeed(&["log", "list", "--file", file, "--json"], "");
+    let exported = molefeed(&["log", "export", "--file", file, "--format", "jsonl"], "");
+    let second_writer = molefeed(
+        &["log", "append", "--file", file, "--device", "second"],
+        &text(&molefeed(&["log", "template"], "").stdout),
+    );
+    writer.kill().unwrap();
+    writer.wait().unwrap();
+    assert!(listed.status.success(), "{}", text(&listed.stderr));
+    let reply: serde_json::Value = serde_json::from_slice(&listed.stdout).unwrap();
+    let ids: Vec<&str> = reply["entries"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|e| e["id"].as_str().unwrap())
+        .collect();
+    assert!(ids.contains(&first.trim()), "{first} not listed");
+    assert!(exported.status.success(), "{}", text(&exported.stderr));
+    assert_eq!(second_writer.status.code(), Some(1), "two writers at once");
+    assert!(text(&second_writer.stderr).contains("another copy of the app"));
+    remove(&dir);
+}
+
+#[test]
+fn a_writer_whose_file_is_deleted_stops_acknowledging() {
+    let dir = fresh_dir("deleted");
+    let path = dir.join("site.doselog");
+    let file = path.to_str().unwrap();
+    let mut writer = Command::new(BIN)
+        .args(["log", "soak", "--file", file, "--device", "first"])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let stdout = writer.stdout.take().unwrap();
+    let (lines_tx, lines) = std::sync::mpsc::channel::<String>();
+    std::thread::spawn(move || {
+        for line in BufReader::new(stdout).lines().map_while(Result::ok) {
+            if lines_tx.send(line).is_err() {
+                break;
+            }
+        }
+    });
+    lines.recv_timeout(Duration::from_secs(10)).unwrap();
+    // Stopped, the writer cannot print: every id it printed before is drained, so ids that
+    // arrive later were acknowledged after the deletion (at most one append can have passed
+    // its check before the file went and print after).
+    let signal = |name: &str| {
+        let sent = Command::new("kill")
+            .args([name, &writer.id().to_string()])
+            .status()
+            .unwrap();
+        assert!(sent.success());
+    };
+    signal("-STOP");
+    while lines.recv_timeout(Duration::from_millis(200)).is_ok() {}
+    std::fs::remove_file(&path).unwrap();
+    signal("-CONT");
+    let deleted_at = Instant::now();
+    let mut after = 0;
+    let exit = loop {
+        while lines.try_recv().is_ok() {
+            after += 1;
+        }
+        if let Some(status) = writer.try_wait().unwrap() {
+            break Some(status);
+        }
+        if deleted_at.elapsed() > Duration::from_secs(10) {
+            writer.kill().unwrap();
+            writer.wait().unwrap();
+            break None;
+        }
+        std::thread::sleep(Duration::from_millis(20));
+    };
+    std::thread::sleep(Duration::from_millis(100));
+    while lines.try_recv().is_ok() {
+        after += 1;
+    }
+    let stderr = {
+        let mut s = String::new();
+        std::io::Read::read_to_string(writer.stderr.as_mut().unwrap(), &mut s).unwrap();
+        s
+    };
+    let status = exit.expect("the writer kept acknowledging into a deleted file");
+    assert!(!status.success());
+    assert!(stderr.contains("deleted or replaced"), "{stderr}");
+    assert!(
+        after <= 1,
+        "{after} ids acknowledged after the file was deleted"
+    );
+    // A new writer starts a new file at the same path.
+    let appended = molefeed(
+        &["log", "append", "--file", file, "--device", "second"],
+        &text(&molefeed(&["log", "template"], "").stdout),
+    );
+    assert!(appended.status.success(), "{}", text(&appended.stderr));
+    assert_eq!(Log::open_read_only(&path).unwrap().record_count(), 1);
+    remove(&dir);
+}
+
+/// A log file holding exactly these payloads, framed as a device would write them.
+fn crafted_log(path: &Path, payloads: &[Vec<u8>]) -> Vec<u8> {
+    let mut bytes = log::frame::header().to_vec();
+    for p in payloads {
+        log::frame::encode(p, &mut bytes).unwrap();
+    }
+    std::fs::write(path, &bytes).unwrap();
+    bytes
+}
+
+fn foreign(note: &str, at: &str) -> log::Record {
+    let mut dose = log::record::example_dose();
+    dose.note = note.into();
+    log::Record::Entry(log::Entry {
+        id: uuid::Uuid::now_v7(),
+        device: "tab-b".into(),
+        at: chrono::DateTime::parse_from_rfc3339(at).unwrap(),
+        site: "Riverside".into(),
+        dose,
+    })
+}
+
+#[test]
+fn the_human_merge_summary_names_everything_left_out() {
+    let dir = fresh_dir("merge-summary");
+    let (a, b) = (dir.join("a.doselog"), dir.join("b.doselog"));
+    Log::open(&a, "tab-a")
+        .unwrap()
+        .append(draft("a0", "2026-03-01T10:00:00+00:00", "T"))
+        .unwrap();
+    let good = foreign("good", "2025-11-05T09:00:00+00:00");
+    let lying = foreign("lying", "2025-11-05T10:00:00+00:00");
+    let mut lying_payload = log::record::encode(&lying);
+    lying_payload[18..26].copy_from_slice(&0i64.to_le_bytes());
+    // The key's tap starts after the fixed key (44 bytes) and its length: "clearwell inlet".
+    lying_payload[46] ^= 0x20;
+    let future_void = log::Record::Void(log::Void {
+        id: uuid::Uuid::now_v7(),
+        device: "tab-b".into(),
+        at: chrono::DateTime::parse_from_rfc3339("9999-12-31T00:00:00+00:00").unwrap(),
+        site: "Riverside".into(),
+        operator: "CD".into(),
+        voids: good.id(),
+        reason: "hide".into(),
+    });
+    let mut second = good.clone();
+    if let log::Record::Entry(e) = &mut second {
+        e.dose.note = "second version".into();
+    }
+    let mut bytes = crafted_log(
+        &b,
+        &[
+            log::record::encode(&good),
+            lying_payload,
+            log::record::encode(&future_void),
+            log::record::encode(&second),
+        ],
+    );
+    // Damage between two intact records.
+    bytes.extend_from_slice(b"not a record");
+    let mut tail_record = Vec::new();
+    log::frame::encode(
+        &log::record::encode(&foreign("after", "2025-11-07T09:00:00+00:00")),
+        &mut tail_record,
+    )
+    .unwrap();
+    bytes.extend_from_slice(&tail_record);
+    std::fs::write(&b, &bytes).unwrap();
+
+    let out = molefeed(
+        &[
+            "log",
+            "merge",
+            "--file",
+            a.to_str().unwrap(),
+            "--from",
+            b.to_str().unwrap(),
+        ],
+        "",
+    );
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let human = text(&out.stdout);
+    println!("{human}");
+    let first_line = human.lines().next().unwrap();
+    assert!(
+        first_line.starts_with("added 2, already present 0, conflicting 0, refused 2"),
+        "{human}"
+    );
+    let line_about = |id: uuid::Uuid, word: &str| {
+        human
+            .lines()
+            .any(|l| l.starts_with(word) && l.contains(&id.to_string()))
+    };
+    assert!(line_about(lying.id(), "refused:"), "{human}");
+    assert!(line_about(future_void.id(), "refused:"), "{human}");
+    assert!(human.contains("after this device's clock"), "{human}");
+    assert!(human.contains("key and body disagree"), "{human}");
+    assert!(line_about(good.id(), "dropped:"), "{human}");
+    assert!(
+        human.lines().any(|l| l.contains("damaged data at byte")),
+        "{human}"
+    );
+    remove(&dir);
+}
+
+#[test]
+fn a_crafted_six_mebibyte_file_imports_in_linear_time() {
+    let dir = fresh_dir("crafted");
+    let (a, b) = (dir.join("a.doselog"), dir.join("b.doselog"));
+    drop(Log::open(&a, "tab-a").unwrap());
+    let first = log::record::encode(&foreign("first", "2025-11-05T09:00:00+00:00"));
+    let last = log::record::encode(&foreign("last", "2025-11-06T09:00:00+00:00"));
+    let mut bytes = crafted_log(&b, std::slice::from_ref(&first));
+    // Every 12 bytes a record mark claiming almost a megabyte, with a wrong checksum.
+    let mut n = 0u32;
+    while bytes.len() < 6 << 20 {
+        bytes.extend_from_slice(&log::frame::RECORD_MARK);
+        bytes.extend_from_slice(&(log::frame::MAX_PAYLOAD - n % 4096).to_le_bytes());
+        bytes.extend_from_slice(&n.to_le_bytes());
+        n += 1;
+    }
+    log::frame::encode(&last, &mut bytes).unwrap();
+    std::fs::write(&b, &bytes).unwrap();
+    let started = Instant::now();
+    let mut child = Command::new(BIN)
+        .args(["log", "merge", "--file", a.to_str().unwrap(), "--from"])
+        .arg(&b)
+        .arg("--json")
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    // Quadratic scanning took about 24 s for this file in a release build; linear scanning
+    // takes well under a second there and a few seconds in a test build.
+    let limit = Duration::from_secs(20);
+    while child.try_wait().unwrap().is_none() {
+        if started.elapsed() > limit {
+            child.kill().unwrap();
+            child.wait().unwrap();
+            panic!("importing a crafted 6 MiB file took more than {limit:?}");
+        }
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    let out = child.wait_with_output().unwrap();
+    println!("crafted 6 MiB import: {:?}", started.elapsed());
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let reply: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(reply["added"], 2, "{reply}");
+    remove(&dir);
+}
+
+#[test]
+fn salvage_copies_the_records_behind_a_damaged_header() {
+    let dir = fresh_dir("salvage");
+    let (damaged, saved) = (dir.join("damaged.doselog"), dir.join("saved.doselog"));
+    let mut log = Log::open(&damaged, "tab-1").unwrap();
+    for n in 0..3 {
+        log.append(draft(&format!("n{n}"), "2026-03-02T10:00:00+00:00", "T"))
+            .unwrap();
+    }
+    drop(log);
+    let mut bytes = std::fs::read(&damaged).unwrap();
+    bytes[9] ^= 0x40;
+    std::fs::write(&damaged, &bytes).unwrap();
+    let before = snapshot(&damaged);
+
+    let listed = molefeed(&["log", "list", "--file", damaged.to_str().unwrap()], "");
+    assert_eq!(listed.status.code(), Some(1));
+    let said = text(&listed.stderr);
+    assert!(
+        said.contains("damaged") && !said.contains("newer"),
+        "{said}"
+    );
+    assert!(said.contains("molefeed log salvage --file"), "{said}");
+    let listed = molefeed(
+        &["log", "list", "--file", damaged.to_str().unwrap(), "--json"],
+        "",
+    );
+    let reply: serde_json::Value = serde_json::from_slice(&listed.stdout).unwrap();
+    assert_eq!(reply["error"]["kind"], "not-a-log");
+    assert_eq!(reply["error"]["reason"], "damaged-header");
+
+    let out = molefeed(
+        &[
+            "log",
+            "salvage",
+            "--file",
+            damaged.to_str().unwrap(),
+            "--to",
+            saved.to_str().unwrap(),
+        ],
+        "",
+    );
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    assert!(
+        text(&out.stdout).starts_with("salvaged 3 records"),
+        "{}",
+        text(&out.stdout)
+    );
+    assert!(text(&out.stdout).contains("damaged: the log header"));
+    assert_eq!(
+        snapshot(&damaged),
+        before,
+        "salvage changed the damaged file"
+    );
+    let notes: Vec<String> = Log::open_read_only(&saved)
+        .unwrap()
+        .current()
+        .unwrap()
+        .into_iter()
+        .map(|v| v.dose.note)
+        .collect();
+    assert_eq!(notes, ["n0", "n1", "n2"]);
+    remove(&dir);
+}

@@ -584,6 +584,8 @@ fn from_log_error(e: crate::log::Error) -> LogError {
         K::SameLog => "same-log",
         K::UnknownReference => "unknown-entry",
         K::TooLarge => "too-large",
+        // The file is gone under the writer: as for any failed write, the entry was not saved.
+        K::FileReplaced => "io",
     };
     LogError::rejected(code, e.to_string())
 }

@@ -3,7 +3,8 @@
 //! Design choice: `append` reads exactly one JSON draft on stdin and reports the id only when
 //! `Log::append` returned, that is after the record was synced to disk, so a script that saw
 //! an id may rely on it. Export text goes to stdout through the ordinary report, so the same
-//! functions serve `molefeed batch`.
+//! functions serve `molefeed batch`. The reading commands (list, history, export) open the log
+//! read-only, so they work beside a writer and on read-only media and never change the file.
 
 use super::{Args, CliError, CliResult, Report};
 use crate::log::{self, Draft, Log, Query, export};
@@ -16,23 +17,33 @@ use std::path::Path;
 pub fn run(args: &Args) -> CliResult {
     match args.required_positional(
         0,
-        "log command: append, list, history, export, merge or template",
+        "log command: append, list, history, export, merge, salvage or template",
     )? {
         "template" => template(),
         "append" => append(args),
         "list" => list(args),
         "export" => export_cmd(args),
         "merge" => merge(args),
+        "salvage" => salvage(args),
         "history" => history(args),
         // Not in the help: drives the crash test by appending until killed.
         "soak" => soak(args),
         other => Err(CliError::usage(format!(
-            "unknown log command '{other}'; try append, list, history, export, merge or template"
+            "unknown log command '{other}'; try append, list, history, export, merge, salvage or template"
         ))),
     }
 }
 
 fn log_error(e: log::Error) -> CliError {
+    // A damaged header is the one refusal the command line can do something about.
+    if e.param("reason") == Some("damaged-header") {
+        let file = e.param("path").unwrap_or("FILE");
+        return CliError {
+            kind: e.kind().code().into(),
+            message: format!("{e} (molefeed log salvage --file {file} --to NEW-FILE)"),
+            reason: Some("damaged-header"),
+        };
+    }
     CliError {
         kind: e.kind().code().into(),
         message: e.to_string(),
@@ -60,13 +71,14 @@ fn open(args: &Args) -> Result<Log, CliError> {
     Log::open(Path::new(file), &device).map_err(log_error)
 }
 
-/// For reading commands: a mistyped path must not create an empty log and list nothing.
+/// For reading commands: read-only, so a mistyped path creates nothing and a read changes
+/// nothing.
 fn open_existing(args: &Args) -> Result<Log, CliError> {
     let file = args.required_text("file")?;
     if !Path::new(file).exists() {
         return Err(CliError::io(format!("no log file at {file}")));
     }
-    open(args)
+    Log::open_read_only(Path::new(file)).map_err(log_error)
 }
 
 fn date(args: &Args, name: &str) -> Result<Option<NaiveDate>, CliError> {
@@ -223,30 +235,83 @@ fn merge(args: &Args) -> CliResult {
     let mut log = open(args)?;
     let other = args.required_text("from")?;
     let report = log.merge_from(Path::new(other)).map_err(log_error)?;
-    let human = format!(
-        "added {}, already present {}, conflicting {}{}\n",
+    let source = &report.source_recovery;
+    let mut human = format!(
+        "added {}, already present {}, conflicting {}, refused {}, dropped {}, unreadable {}, damaged regions {}\n",
         report.added,
         report.already_present,
         report.conflicting.len(),
-        if report.unreadable > 0 {
-            format!(", unreadable {}", report.unreadable)
-        } else {
-            String::new()
+        report.refused.len(),
+        report.dropped_duplicates.len(),
+        source.unreadable.len(),
+        source.damaged.len() + usize::from(source.torn_tail.is_some()),
+    );
+    for id in &report.conflicting {
+        human.push_str(&format!(
+            "conflict: {id} differs between the logs; this log's copy is kept\n"
+        ));
+    }
+    for r in &report.refused {
+        let id =
+            r.id.map_or_else(|| "record".to_string(), |id| id.to_string());
+        human.push_str(&format!(
+            "refused: {id} at byte {} of {other}: {}\n",
+            r.offset, r.reason
+        ));
+    }
+    for id in &report.dropped_duplicates {
+        human.push_str(&format!(
+            "dropped: a second copy of {id} in {other}; only the first was considered\n"
+        ));
+    }
+    for m in source.messages() {
+        // Duplicates are listed above as dropped.
+        if !m.contains("appears more than once") {
+            human.push_str(&format!("in {other}: {m}\n"));
         }
-    ) + &report
-        .conflicting
-        .iter()
-        .map(|id| format!("conflict: {id} differs between the logs; this log's copy is kept\n"))
-        .collect::<String>();
+    }
     Ok(Report {
         human,
         json: json!({
             "added": report.added,
             "already_present": report.already_present,
             "conflicting": report.conflicting,
+            "refused": report.refused,
+            "dropped_duplicates": report.dropped_duplicates,
             "unreadable": report.unreadable,
-            "source_recovery": report.source_recovery.messages(),
+            "source_recovery": source.messages(),
         }),
+    })
+}
+
+/// `log salvage --file F --to G`: copies the intact records of a log whose header is damaged
+/// into a new log G; F is only read.
+fn salvage(args: &Args) -> CliResult {
+    let from = args.required_text("file")?;
+    let to = args.required_text("to")?;
+    let report = log::salvage(Path::new(from), Path::new(to)).map_err(log_error)?;
+    let mut human = format!(
+        "salvaged {} records from {from} into {to}; {from} was not changed\n",
+        report.records
+    );
+    if !report.header_intact {
+        human.push_str(&format!("damaged: the log header of {from}\n"));
+    }
+    for d in &report.damaged {
+        human.push_str(&format!(
+            "damaged: {} bytes at byte {} of {from} held no intact record\n",
+            d.len, d.offset
+        ));
+    }
+    if let Some(t) = report.torn_tail {
+        human.push_str(&format!(
+            "incomplete last record: {} bytes at byte {} of {from}, not copied\n",
+            t.len, t.offset
+        ));
+    }
+    Ok(Report {
+        human,
+        json: serde_json::to_value(&report).map_err(|e| CliError::io(e.to_string()))?,
     })
 }
 

@@ -4,7 +4,9 @@
 //! `#[non_exhaustive]` [`ErrorKind`] and read named parameters. The kinds are chosen by what
 //! the caller can do next: `StorageFull` and `ReadOnly` mean "the entry is kept pending, tell
 //! the operator it is not saved and retry later", `Locked` means "another copy of the app has
-//! this log open", `NotALog` and `FutureVersion` mean "leave this file alone".
+//! this log open", `NotALog` and `FutureVersion` mean "leave this file alone" (a `NotALog`
+//! with the `reason` parameter `damaged-header` can be salvaged), `FileReplaced` means "this
+//! writer's file is gone: reopen".
 
 use std::fmt;
 use std::io;
@@ -31,6 +33,9 @@ pub enum ErrorKind {
     TooLarge,
     /// A log was asked to import itself.
     SameLog,
+    /// The log file was deleted or replaced while a writer had it open; that writer
+    /// acknowledges nothing more (the entry stays pending) until the log is opened again.
+    FileReplaced,
     /// Any other input/output failure.
     Io,
 }
@@ -48,6 +53,7 @@ impl ErrorKind {
             ErrorKind::UnknownReference => "unknown-reference",
             ErrorKind::TooLarge => "too-large",
             ErrorKind::SameLog => "same-log",
+            ErrorKind::FileReplaced => "file-replaced",
             ErrorKind::Io => "io",
         }
     }

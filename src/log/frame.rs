@@ -7,9 +7,16 @@
 //!
 //! Design choice: the record mark starts with byte 0xF7, which never occurs in UTF-8 text, so
 //! after damage in the middle of the file the scan can resynchronise on the next mark and keep
-//! every intact record after the damage instead of truncating it away. Only a bad region with
-//! no intact frame after it is a torn tail. The scan reads through a sliding window rather
-//! than loading the whole file, so opening a large log does not double its memory.
+//! every intact record after the damage instead of truncating it away. A bad region with no
+//! intact frame after it is a torn tail only when it can be nothing but an interrupted write
+//! (a proper prefix of a frame, or zeros); otherwise it may be an acknowledged record damaged
+//! later, and it is reported as damage and kept. The scan reads through a sliding window
+//! rather than loading the whole file, so opening a large log does not double its memory.
+//!
+//! Resynchronising stays linear in the file size even when every byte could start a frame
+//! claiming a megabyte: after the first bad frame, one pass keeps a running CRC of the file
+//! and checks each candidate frame from two snapshots of it (at the payload's start and end)
+//! with CRC-32's combine rule, instead of hashing each candidate's payload again.
 
 use std::io;
 
@@ -44,8 +51,11 @@ pub enum HeaderCheck {
     Empty,
     /// A proper prefix of our own header: creation was interrupted, no record can exist.
     Truncated,
-    /// Not our magic, or our magic with a damaged header; the reason says which.
+    /// Not our magic; the reason says why.
     NotALog(&'static str),
+    /// Our magic with a header that fails its checksum: the records after it may be intact
+    /// (see `Log::salvage`).
+    Damaged,
     /// Written by a newer format version.
     Future(u16),
 }
@@ -66,13 +76,18 @@ pub fn check_header(bytes: &[u8]) -> HeaderCheck {
     if bytes[..8] != MAGIC {
         return HeaderCheck::NotALog("the file does not start with the dose log mark");
     }
+    // The checksum first: a flipped bit in the version field is damage, and must not read as
+    // a file from a newer app.
+    let stored = u32::from_le_bytes([bytes[12], bytes[13], bytes[14], bytes[15]]);
+    if crc32fast::hash(&bytes[..12]) != stored {
+        return HeaderCheck::Damaged;
+    }
     let version = u16::from_le_bytes([bytes[8], bytes[9]]);
     if version > FORMAT_VERSION {
         return HeaderCheck::Future(version);
     }
-    let stored = u32::from_le_bytes([bytes[12], bytes[13], bytes[14], bytes[15]]);
-    if version == 0 || crc32fast::hash(&bytes[..12]) != stored {
-        return HeaderCheck::NotALog("the log header is damaged");
+    if version == 0 {
+        return HeaderCheck::Damaged;
     }
     HeaderCheck::Valid
 }
@@ -206,20 +221,6 @@ impl<'a, R: ReadAt + ?Sized> Window<'a, R> {
         on_record(offset, payload);
         Ok(Some(end))
     }
-
-    /// The offset of the next intact frame after `offset`, without reporting its payload.
-    fn next_intact(&mut self, offset: u64) -> io::Result<Option<u64>> {
-        let mut candidate = offset + 1;
-        while self.file_len - candidate >= FRAME_OVERHEAD {
-            if self.get(candidate, 1)?[0] == RECORD_MARK[0]
-                && self.frame(candidate, &mut |_, _| {})?.is_some()
-            {
-                return Ok(Some(candidate));
-            }
-            candidate += 1;
-        }
-        Ok(None)
-    }
 }
 
 /// Walks every frame after the header, calling `on_record(frame_offset, payload)` for each
@@ -234,31 +235,250 @@ pub fn scan<R: ReadAt + ?Sized>(
         end: HEADER_LEN.min(file_len),
         ..ScanOutcome::default()
     };
+    // Fast path: a healthy log is one frame after another, each hashed once.
     let mut offset = HEADER_LEN;
     while offset < file_len {
-        if let Some(end) = window.frame(offset, &mut on_record)? {
-            offset = end;
-            outcome.end = end;
+        match window.frame(offset, &mut on_record)? {
+            Some(end) => {
+                offset = end;
+                outcome.end = end;
+            }
+            None => break,
+        }
+    }
+    if offset >= file_len {
+        return Ok(outcome);
+    }
+    // Something is wrong at `offset`: find every intact frame after it in one pass, then
+    // follow the chain through them.
+    let intact = intact_frames_after(source, offset)?;
+    let mut next = 0;
+    loop {
+        while intact.get(next).is_some_and(|&(start, _)| start < offset) {
+            next += 1;
+        }
+        if offset >= file_len {
+            break;
+        }
+        let Some(&(start, end)) = intact.get(next) else {
+            let rest = Span {
+                offset,
+                len: file_len - offset,
+            };
+            if is_interrupted_write(&mut window, rest)? {
+                outcome.torn_tail = Some(rest);
+            } else {
+                // May be an acknowledged record damaged later: keep it, append after it.
+                outcome.damaged.push(rest);
+                outcome.end = file_len;
+            }
+            break;
+        };
+        if start > offset {
+            outcome.damaged.push(Span {
+                offset,
+                len: start - offset,
+            });
+        }
+        let payload = window.get(
+            start + FRAME_OVERHEAD,
+            (end - start - FRAME_OVERHEAD) as usize,
+        )?;
+        on_record(start, payload);
+        offset = end;
+        outcome.end = end;
+        next += 1;
+    }
+    Ok(outcome)
+}
+
+/// Whether the bad bytes at the end of a file can only be an interrupted write, which no
+/// acknowledged record can be: a proper prefix of a frame as this app writes them (the mark,
+/// then a length that runs past the end of the file), or zeros left by a crash after the file
+/// grew but before its data arrived. A complete frame with a bad checksum, a length field whose
+/// true value makes the checksum match, or other bytes are damage.
+fn is_interrupted_write<R: ReadAt + ?Sized>(
+    window: &mut Window<'_, R>,
+    rest: Span,
+) -> io::Result<bool> {
+    let head_len = rest.len.min(FRAME_OVERHEAD) as usize;
+    let head = window.get(rest.offset, head_len)?.to_vec();
+    let mark_len = head_len.min(RECORD_MARK.len());
+    if head[..mark_len] == RECORD_MARK[..mark_len] {
+        if head_len < 8 {
+            return Ok(true);
+        }
+        let len = u32::from_le_bytes([head[4], head[5], head[6], head[7]]);
+        if len > MAX_PAYLOAD || FRAME_OVERHEAD + len as u64 <= rest.len {
+            return Ok(false);
+        }
+        if head_len < FRAME_OVERHEAD as usize {
+            return Ok(true);
+        }
+        // A damaged length field of a complete last frame also "runs past the end": check the
+        // checksum with the length the remaining bytes actually have.
+        let present = rest.len - FRAME_OVERHEAD;
+        let stored = u32::from_le_bytes([head[8], head[9], head[10], head[11]]);
+        let mut crc = crc32fast::Hasher::new();
+        crc.update(&(present as u32).to_le_bytes());
+        crc.update(window.get(rest.offset + FRAME_OVERHEAD, present as usize)?);
+        return Ok(crc.finalize() != stored);
+    }
+    let mut at = rest.offset;
+    let end = rest.offset + rest.len;
+    while at < end {
+        let n = (end - at).min(WINDOW as u64) as usize;
+        if window.get(at, n)?.iter().any(|&b| b != 0) {
+            return Ok(false);
+        }
+        at += n as u64;
+    }
+    Ok(true)
+}
+
+/// A record mark with a plausible length: a frame if its checksum holds.
+#[derive(Clone, Copy)]
+struct Candidate {
+    start: u64,
+    end: u64,
+    len_bytes: [u8; 4],
+    stored: u32,
+}
+
+/// The next candidate frame starting at or after `*from`; advances `*from` past it.
+fn next_candidate<R: ReadAt + ?Sized>(
+    window: &mut Window<'_, R>,
+    from: &mut u64,
+) -> io::Result<Option<Candidate>> {
+    let file_len = window.file_len;
+    while file_len.saturating_sub(*from) >= FRAME_OVERHEAD {
+        let chunk = (file_len - *from).min(64 * 1024) as usize;
+        let hit = window
+            .get(*from, chunk)?
+            .iter()
+            .position(|&b| b == RECORD_MARK[0]);
+        let Some(i) = hit else {
+            *from += chunk as u64;
+            continue;
+        };
+        let start = *from + i as u64;
+        *from = start + 1;
+        if file_len - start < FRAME_OVERHEAD {
+            return Ok(None);
+        }
+        let head = window.get(start, FRAME_OVERHEAD as usize)?;
+        if head[..4] != RECORD_MARK {
             continue;
         }
-        match window.next_intact(offset)? {
-            Some(next) => {
-                outcome.damaged.push(Span {
-                    offset,
-                    len: next - offset,
-                });
-                offset = next;
-            }
-            None => {
-                outcome.torn_tail = Some(Span {
-                    offset,
-                    len: file_len - offset,
-                });
+        let len_bytes = [head[4], head[5], head[6], head[7]];
+        let stored = u32::from_le_bytes([head[8], head[9], head[10], head[11]]);
+        let len = u32::from_le_bytes(len_bytes);
+        let end = start + FRAME_OVERHEAD + len as u64;
+        if len <= MAX_PAYLOAD && end <= file_len {
+            return Ok(Some(Candidate {
+                start,
+                end,
+                len_bytes,
+                stored,
+            }));
+        }
+    }
+    Ok(None)
+}
+
+/// Every intact frame starting after `after`, as (start, end) in file order, found in one
+/// pass: each byte is hashed once, whatever the candidates claim.
+///
+/// With `Q(k)` the CRC of the bytes from `after` to `k`, the CRC of the bytes from `a` to `e`
+/// is `Q(e) ^ shift(Q(a), e - a)` (CRC-32's combine rule), so a candidate's frame checksum
+/// follows from the running CRC at its payload's start and end.
+fn intact_frames_after<R: ReadAt + ?Sized>(source: &R, after: u64) -> io::Result<Vec<(u64, u64)>> {
+    use std::cmp::Reverse;
+    let mut marks = Window::new(source)?;
+    let mut bytes = Window::new(source)?;
+    let mut search_from = after + 1;
+    let mut upcoming = next_candidate(&mut marks, &mut search_from)?;
+    // (payload end, frame start, the running CRC the payload end must show)
+    let mut awaiting: std::collections::BinaryHeap<Reverse<(u64, u64, u32)>> = Default::default();
+    let mut running = crc32fast::Hasher::new();
+    let mut hashed = after;
+    let mut found = Vec::new();
+    loop {
+        let payload_start = upcoming.map(|c| c.start + FRAME_OVERHEAD);
+        let payload_end = awaiting.peek().map(|Reverse((end, _, _))| *end);
+        let Some(at) = payload_start.into_iter().chain(payload_end).min() else {
+            break;
+        };
+        while hashed < at {
+            let n = (at - hashed).min(WINDOW as u64) as usize;
+            running.update(bytes.get(hashed, n)?);
+            hashed += n as u64;
+        }
+        let q = running.clone().finalize();
+        if let Some(c) = upcoming.filter(|c| c.start + FRAME_OVERHEAD == at) {
+            let len = (c.end - at) as u32;
+            let expected = c.stored ^ crc_shift(crc32fast::hash(&c.len_bytes) ^ q, len);
+            awaiting.push(Reverse((c.end, c.start, expected)));
+            upcoming = next_candidate(&mut marks, &mut search_from)?;
+        }
+        while let Some(&Reverse((end, start, expected))) = awaiting.peek() {
+            if end != at {
                 break;
+            }
+            awaiting.pop();
+            if q == expected {
+                found.push((start, end));
             }
         }
     }
-    Ok(outcome)
+    found.sort_unstable();
+    Ok(found)
+}
+
+/// The reflected CRC-32 polynomial (IEEE 802.3), as crc32fast uses it.
+const CRC_POLY: u32 = 0xEDB8_8320;
+
+/// `a(x) * b(x) mod p(x)` in the reflected bit order of CRC-32 (bit 31 is x^0).
+fn crc_mul(a: u32, mut b: u32) -> u32 {
+    let mut product = 0;
+    let mut bit = 1u32 << 31;
+    while bit != 0 {
+        if a & bit != 0 {
+            product ^= b;
+        }
+        bit >>= 1;
+        b = if b & 1 != 0 {
+            (b >> 1) ^ CRC_POLY
+        } else {
+            b >> 1
+        };
+    }
+    product
+}
+
+/// `x^(8n) mod p(x)` for n up to [`MAX_PAYLOAD`], as two 1025-entry tables (n = 1024 h + l),
+/// so a shift costs two multiplications instead of twenty.
+fn crc_powers() -> &'static ([u32; 1025], [u32; 1025]) {
+    static POWERS: std::sync::OnceLock<([u32; 1025], [u32; 1025])> = std::sync::OnceLock::new();
+    POWERS.get_or_init(|| {
+        let x_to_8 = 1u32 << (31 - 8);
+        let mut low = [1u32 << 31; 1025];
+        for n in 1..low.len() {
+            low[n] = crc_mul(low[n - 1], x_to_8);
+        }
+        let mut high = [1u32 << 31; 1025];
+        for n in 1..high.len() {
+            high[n] = crc_mul(high[n - 1], low[1024]);
+        }
+        (low, high)
+    })
+}
+
+/// The CRC of `A` followed by `len` bytes equals `crc_shift(crc(A), len) ^ crc(those bytes)`.
+fn crc_shift(crc: u32, len: u32) -> u32 {
+    let (low, high) = crc_powers();
+    let power = crc_mul(high[(len >> 10) as usize], low[(len & 1023) as usize]);
+    crc_mul(power, crc)
 }
 
 #[cfg(test)]
@@ -266,7 +486,8 @@ mod tests {
     use super::*;
 
     /// Builds a file from a compact recipe: `H` a valid header, `r<text>` a frame holding
-    /// `<text>`, `x<n>` n garbage bytes (0xAA), `t<n>` the first n bytes of a frame for "torn".
+    /// `<text>`, `x<n>` n garbage bytes (0xAA), `z<n>` n zeros, `t<n>` the first n bytes of a
+    /// frame for "torn".
     /// Words are separated by spaces.
     fn build(recipe: &str) -> Vec<u8> {
         let mut out = Vec::new();
@@ -276,6 +497,7 @@ mod tests {
                 "H" => out.extend_from_slice(&header()),
                 "r" => encode(rest.as_bytes(), &mut out).unwrap(),
                 "x" => out.extend(std::iter::repeat_n(0xAA, rest.parse().unwrap())),
+                "z" => out.extend(std::iter::repeat_n(0, rest.parse().unwrap())),
                 "t" => {
                     let mut frame = Vec::new();
                     encode(b"torn", &mut frame).unwrap();
@@ -328,11 +550,15 @@ mod tests {
         check("H ra rbb", "a,bb | - | - | 43");
         check("H ra t5", "a | - | 29+5 | 29");
         check("H ra t15", "a | - | 29+15 | 29");
-        check("H ra x3", "a | - | 29+3 | 29");
+        check("H ra t4", "a | - | 29+4 | 29");
+        check("H ra t2", "a | - | 29+2 | 29");
+        check("H ra z9", "a | - | 29+9 | 29");
+        // Bytes no interrupted write leaves are damage, kept: appends go after them.
+        check("H ra x3", "a | 29+3 | - | 32");
         check("H x7 ra", "a | 16+7 | - | 36");
         check("H ra x40 rbb x2 rc", "a,bb,c | 29+40,83+2 | - | 98");
         check("H ra t10 rbb", "a,bb | 29+10 | - | 53");
-        check("H x100", " | - | 16+100 | 16");
+        check("H x100", " | 16+100 | - | 116");
     }
 
     #[test]
@@ -373,7 +599,8 @@ mod tests {
 
     proptest::proptest! {
         /// Whatever single byte is damaged, every other record is still found, and the damage
-        /// is reported where it is: as a torn tail only when nothing intact follows it.
+        /// is reported where it is — in the last record too, which is never taken for an
+        /// interrupted write and cut.
         #[test]
         fn one_flipped_byte_costs_at_most_its_own_record(
             payloads in proptest::collection::vec("[ -~]{0,40}", 1..12),
@@ -401,13 +628,9 @@ mod tests {
                 .collect();
             proptest::prop_assert_eq!(found, expected);
             let bad = Span { offset: frames[hit].start as u64, len: frames[hit].len() as u64 };
-            if hit == frames.len() - 1 {
-                proptest::prop_assert_eq!(outcome.torn_tail, Some(bad));
-                proptest::prop_assert!(outcome.damaged.is_empty());
-            } else {
-                proptest::prop_assert_eq!(outcome.damaged, vec![bad]);
-                proptest::prop_assert_eq!(outcome.torn_tail, None);
-            }
+            proptest::prop_assert_eq!(outcome.damaged, vec![bad]);
+            proptest::prop_assert_eq!(outcome.torn_tail, None);
+            proptest::prop_assert_eq!(outcome.end, file.len() as u64);
         }
 
         /// A file cut anywhere keeps every complete record and reports the rest as torn.
@@ -459,12 +682,92 @@ mod tests {
         ));
         let mut future = good;
         future[8..10].copy_from_slice(&7u16.to_le_bytes());
+        let crc = crc32fast::hash(&future[..12]);
+        future[12..].copy_from_slice(&crc.to_le_bytes());
         assert_eq!(check_header(&future), HeaderCheck::Future(7));
-        let mut flipped = good;
-        flipped[11] ^= 0x40;
+        // One flipped bit anywhere after the magic is damage, never a newer format
+        // (bit 6 of byte 9 made version 1 read as 16385).
+        for byte in 8..16 {
+            for bit in 0..8 {
+                let mut flipped = good;
+                flipped[byte] ^= 1 << bit;
+                assert_eq!(check_header(&flipped), HeaderCheck::Damaged, "{byte}.{bit}");
+            }
+        }
+    }
+
+    #[test]
+    fn crc_shift_follows_the_combine_rule() {
+        let data: Vec<u8> = (0..5000u32).map(|n| (n * 7 + n / 13) as u8).collect();
+        for split in [0, 1, 7, 1023, 1024, 1025, 4999, 5000] {
+            let (a, b) = data.split_at(split);
+            let combined = crc_shift(crc32fast::hash(a), b.len() as u32) ^ crc32fast::hash(b);
+            assert_eq!(combined, crc32fast::hash(&data), "split at {split}");
+        }
+        // Lengths up to a whole payload use both tables.
+        let big = vec![0x5Au8; MAX_PAYLOAD as usize];
+        let whole = [&b"head"[..], &big].concat();
         assert_eq!(
-            check_header(&flipped),
-            HeaderCheck::NotALog("the log header is damaged")
+            crc_shift(crc32fast::hash(b"head"), MAX_PAYLOAD) ^ crc32fast::hash(&big),
+            crc32fast::hash(&whole)
+        );
+    }
+
+    /// Reads through to a byte slice and fails once more than `budget` bytes were read.
+    struct Budget<'a> {
+        bytes: &'a [u8],
+        read: std::cell::Cell<u64>,
+        budget: u64,
+    }
+
+    impl ReadAt for Budget<'_> {
+        fn byte_len(&self) -> io::Result<u64> {
+            Ok(self.bytes.len() as u64)
+        }
+
+        fn read_exact_at(&self, offset: u64, buf: &mut [u8]) -> io::Result<()> {
+            self.read.set(self.read.get() + buf.len() as u64);
+            if self.read.get() > self.budget {
+                return Err(io::Error::other(
+                    "read budget exceeded: the scan is not linear",
+                ));
+            }
+            self.bytes.read_exact_at(offset, buf)
+        }
+    }
+
+    /// A file whose every 12 bytes are a record mark claiming almost a megabyte.
+    fn crafted(total: usize) -> Vec<u8> {
+        let mut file = build("H ra");
+        let mut n = 0u32;
+        while file.len() + 12 < total {
+            file.extend_from_slice(&RECORD_MARK);
+            file.extend_from_slice(&(MAX_PAYLOAD - n % 4096).to_le_bytes());
+            file.extend_from_slice(&n.to_le_bytes());
+            n += 1;
+        }
+        encode(b"after", &mut file).unwrap();
+        file
+    }
+
+    #[test]
+    fn a_crafted_file_costs_linear_reads() {
+        let file = crafted(3 << 20);
+        let source = Budget {
+            bytes: &file,
+            read: std::cell::Cell::new(0),
+            budget: 6 * file.len() as u64,
+        };
+        let mut found = Vec::new();
+        let outcome = scan(&source, |_, p| found.push(p.to_vec())).unwrap();
+        assert_eq!(found, [b"a".to_vec(), b"after".to_vec()]);
+        assert_eq!(outcome.damaged.len(), 1);
+        assert_eq!(outcome.damaged[0].offset, 29);
+        assert_eq!(outcome.torn_tail, None);
+        println!(
+            "read {} bytes for a file of {}",
+            source.read.get(),
+            file.len()
         );
     }
 }

@@ -9,8 +9,14 @@
 //! - Writes go to an explicit offset (the end of the last intact frame) rather than in append
 //!   mode, so a failed or short write is simply overwritten by the retry and never leaves
 //!   garbage between two acknowledged records.
-//! - The file is held with an exclusive lock for the life of a [`Log`], so a second copy of
-//!   the app gets [`ErrorKind::Locked`] instead of interleaving its writes.
+//! - A writer opens under an exclusive lock (so it can repair an interrupted write while no
+//!   one reads), then keeps a shared lock for the life of the [`Log`]: readers
+//!   ([`Log::open_read_only`], shared lock, read-only file) work beside it, while a second
+//!   writer, which needs the exclusive lock, gets [`ErrorKind::Locked`] instead of
+//!   interleaving its writes.
+//! - Before acknowledging, a writer checks that its path still names the file it has open;
+//!   a log deleted or replaced under it gets [`ErrorKind::FileReplaced`], never an id.
+//! - The log creates the file it is asked for, never a directory.
 //! - Storage is a trait ([`Storage`]), so tests inject disks that fail or write short.
 //! - Paths are always passed in: [`default_dir`] serves desktops, Android passes the app's
 //!   internal data path.
@@ -21,12 +27,14 @@ pub mod frame;
 mod index;
 pub mod merge;
 pub mod record;
+mod salvage;
 #[doc(hidden)]
 pub mod sample;
 
 pub use error::{Error, ErrorKind, Result};
 pub use frame::Span;
 pub use record::{Correction, CrossCheck, Dose, Draft, Entry, Kind, Quantity, Record, Void};
+pub use salvage::{SalvageReport, salvage};
 
 use chrono::{DateTime, FixedOffset, NaiveDate, SubsecRound};
 use index::{Index, Inserted};
@@ -44,11 +52,42 @@ pub trait Storage: frame::ReadAt + Send {
     /// Makes everything written so far durable.
     fn sync(&mut self) -> io::Result<()>;
     fn set_len(&mut self, len: u64) -> io::Result<()>;
+    /// Whether the storage is still what its name refers to: `false` once the file was
+    /// deleted or another file put in its place, where new entries would be lost.
+    fn still_named(&self) -> io::Result<bool> {
+        Ok(true)
+    }
 }
 
 /// A locked log file. Uses seek + read/write on `&File`, which works on every platform.
 pub struct FileStorage {
     file: File,
+    path: PathBuf,
+    /// Device and inode of the open file, to notice when its path names another file.
+    identity: Option<(u64, u64)>,
+}
+
+impl FileStorage {
+    fn new(file: File, path: &Path) -> FileStorage {
+        let identity = file.metadata().ok().as_ref().and_then(file_identity);
+        FileStorage {
+            file,
+            path: path.to_path_buf(),
+            identity,
+        }
+    }
+}
+
+#[cfg(unix)]
+fn file_identity(meta: &std::fs::Metadata) -> Option<(u64, u64)> {
+    use std::os::unix::fs::MetadataExt;
+    Some((meta.dev(), meta.ino()))
+}
+
+#[cfg(not(unix))]
+fn file_identity(_meta: &std::fs::Metadata) -> Option<(u64, u64)> {
+    // No portable identity in std elsewhere; such platforms skip the check.
+    None
 }
 
 impl frame::ReadAt for FileStorage {
@@ -75,6 +114,17 @@ impl Storage for FileStorage {
 
     fn set_len(&mut self, len: u64) -> io::Result<()> {
         self.file.set_len(len)
+    }
+
+    fn still_named(&self) -> io::Result<bool> {
+        let Some(identity) = self.identity else {
+            return Ok(true);
+        };
+        match std::fs::metadata(&self.path) {
+            Ok(meta) => Ok(file_identity(&meta) == Some(identity)),
+            Err(e) if e.kind() == io::ErrorKind::NotFound => Ok(false),
+            Err(e) => Err(e),
+        }
     }
 }
 
@@ -144,7 +194,7 @@ impl Recovery {
             let action = if self.tail_cut {
                 "cut off"
             } else {
-                "not cut (read-only)"
+                "left in place (only a writer cuts it)"
             };
             out.push(format!(
                 "incomplete last record at byte {} ({} bytes, from an interrupted write): {action}",
@@ -153,7 +203,7 @@ impl Recovery {
         }
         for d in &self.damaged {
             out.push(format!(
-                "damaged data at byte {} ({} bytes): kept in the file, records before and after it loaded",
+                "damaged data at byte {} ({} bytes): kept in the file, every intact record around it loaded",
                 d.offset, d.len
             ));
         }
@@ -256,13 +306,16 @@ pub struct Log {
     end: u64,
     /// Bytes may exist after `end` (a cut that failed, a failed write): cut before writing.
     dirty_tail: bool,
+    /// The file was deleted or replaced under this writer: nothing more is acknowledged.
+    replaced: bool,
     index: Index,
     pending: Vec<Record>,
     recovery: Recovery,
 }
 
 impl Log {
-    /// Opens (creating if needed) the log at `path` for writing, under an exclusive lock.
+    /// Opens (creating the file if needed, never its directory) the log at `path` for
+    /// writing: the only kind of open that writes a header or cuts an interrupted write.
     /// Records written by this log carry `device_id`.
     pub fn open(path: &Path, device_id: &str) -> Result<Log> {
         if device_id.trim().is_empty() {
@@ -271,10 +324,6 @@ impl Log {
                     .with("field", "device"),
             );
         }
-        let parent = path.parent().filter(|p| !p.as_os_str().is_empty());
-        if let Some(dir) = parent {
-            std::fs::create_dir_all(dir).map_err(|e| Error::io("creating", dir, &e))?;
-        }
         let file = OpenOptions::new()
             .read(true)
             .write(true)
@@ -282,22 +331,40 @@ impl Log {
             .truncate(false)
             .open(path)
             .map_err(|e| Error::io("opening", path, &e))?;
+        // The same open file description, so changing its lock later changes this one.
+        let lock_handle = file
+            .try_clone()
+            .map_err(|e| Error::io("opening", path, &e))?;
         lock(&file, path, true)?;
-        let log = Log::from_storage(Box::new(FileStorage { file }), path, device_id, true)?;
+        let log = Log::from_storage(
+            Box::new(FileStorage::new(file, path)),
+            path,
+            device_id,
+            true,
+        )?;
         if log.recovery.header_written {
             // A new file's name is durable only once its directory is synced.
+            let parent = path.parent().filter(|p| !p.as_os_str().is_empty());
             if let Some(dir) = parent {
                 sync_dir(dir).map_err(|e| Error::io("syncing", dir, &e))?;
             }
         }
+        share_lock(&lock_handle, path)?;
         Ok(log)
     }
 
-    /// Opens another log only to read it (for merging): shared lock, nothing is cut or written.
+    /// Opens a log only to read it (listing, exports, merging): the file is opened read-only
+    /// under a shared lock, so this works on read-only media and beside a writer, and nothing
+    /// is ever written — no header into an empty file, no cut of a torn tail.
     pub fn open_read_only(path: &Path) -> Result<Log> {
         let file = File::open(path).map_err(|e| Error::io("opening", path, &e))?;
         lock(&file, path, false)?;
-        Log::from_storage(Box::new(FileStorage { file }), path, "read-only", false)
+        Log::from_storage(
+            Box::new(FileStorage::new(file, path)),
+            path,
+            "read-only",
+            false,
+        )
     }
 
     /// Opens a log on any storage; `name` appears in messages. Public so tests and other
@@ -333,6 +400,17 @@ impl Log {
                     format!("{} has no complete log header", name.display()),
                 )
                 .with("path", name.display()));
+            }
+            frame::HeaderCheck::Damaged => {
+                return Err(Error::new(
+                    ErrorKind::NotALog,
+                    format!(
+                        "the log header of {} is damaged (its checksum does not match); the file was left untouched — salvage copies its intact records into a new log",
+                        name.display()
+                    ),
+                )
+                .with("path", name.display())
+                .with("reason", "damaged-header"));
             }
             frame::HeaderCheck::NotALog(why) => {
                 return Err(Error::new(
@@ -378,6 +456,7 @@ impl Log {
             writable,
             end: outcome.end,
             dirty_tail,
+            replaced: false,
             index,
             pending: Vec::new(),
             recovery,
@@ -508,6 +587,19 @@ impl Log {
                 format!("{} is open read-only", self.name.display()),
             ));
         }
+        let replaced = || {
+            Error::new(
+                ErrorKind::FileReplaced,
+                format!(
+                    "{} was deleted or replaced while this app had it open; the entry was not saved — open the log again",
+                    self.name.display()
+                ),
+            )
+            .with("path", self.name.display())
+        };
+        if self.replaced {
+            return Err(replaced());
+        }
         let mut bytes = Vec::new();
         let mut offsets = Vec::with_capacity(payloads.len());
         for payload in payloads {
@@ -532,6 +624,12 @@ impl Log {
             .write_all_at(self.end, &bytes)
             .and_then(|()| self.storage.sync())
             .map_err(fail)?;
+        // Synced, but into the file the path still names? Otherwise the entries are gone
+        // with a deleted file, or hidden from a writer that created a new one.
+        if !self.storage.still_named().map_err(fail)? {
+            self.replaced = true;
+            return Err(replaced());
+        }
         self.dirty_tail = false;
         self.end += bytes.len() as u64;
         for (payload, offset) in payloads.iter().zip(offsets) {
@@ -816,6 +914,37 @@ fn index_payload(index: &mut Index, recovery: &mut Recovery, frame_offset: u64, 
 /// tells those apart from a copy that really has the file open.
 const LOCK_PATIENCE: std::time::Duration = std::time::Duration::from_millis(750);
 
+/// Turns a writer's exclusive lock into a shared one once its repairs are done: readers may
+/// then share the file, and a second writer still cannot take the exclusive lock it needs.
+#[cfg(unix)]
+fn share_lock(file: &File, path: &Path) -> Result<()> {
+    // flock converts in place; should another process take the file in the instant the
+    // conversion leaves it unlocked, this writer steps back with `Locked`.
+    match file.try_lock_shared() {
+        Ok(()) => Ok(()),
+        Err(std::fs::TryLockError::WouldBlock) => Err(locked(path)),
+        Err(std::fs::TryLockError::Error(e)) => Err(Error::io("locking", path, &e)),
+    }
+}
+
+#[cfg(not(unix))]
+fn share_lock(_file: &File, _path: &Path) -> Result<()> {
+    // Elsewhere a second lock on the same handle would stack, not convert: keep the exclusive
+    // lock, and readers get `Locked` while a writer is open.
+    Ok(())
+}
+
+fn locked(path: &Path) -> Error {
+    Error::new(
+        ErrorKind::Locked,
+        format!(
+            "{} is open in another copy of the app; close it there first",
+            path.display()
+        ),
+    )
+    .with("path", path.display())
+}
+
 fn lock(file: &File, path: &Path, exclusive: bool) -> Result<()> {
     let try_once = || {
         if exclusive {
@@ -834,14 +963,7 @@ fn lock(file: &File, path: &Path, exclusive: bool) -> Result<()> {
     }
     match result {
         Ok(()) => Ok(()),
-        Err(std::fs::TryLockError::WouldBlock) => Err(Error::new(
-            ErrorKind::Locked,
-            format!(
-                "{} is open in another copy of the app; close it there first",
-                path.display()
-            ),
-        )
-        .with("path", path.display())),
+        Err(std::fs::TryLockError::WouldBlock) => Err(locked(path)),
         Err(std::fs::TryLockError::Error(e)) => Err(Error::io("locking", path, &e)),
     }
 }

@@ -287,21 +287,35 @@ impl std::fmt::Display for PayloadError {
 
 const FIXED_KEY: usize = 1 + 1 + 16 + 8 + 2 + 16;
 
-/// Encodes a validated record as a payload: binary key, then JSON.
-pub fn encode(record: &Record) -> Vec<u8> {
+/// The key a record's body implies: the only key it may be stored or imported with.
+pub fn key_of(record: &Record) -> Key<'_> {
     let (tap, chemical) = match record.dose() {
         Some(d) => (d.tap.as_str(), d.chemical.as_str()),
         None => ("", ""),
     };
     let at = record.at();
+    Key {
+        kind: record.kind(),
+        id: record.id(),
+        at_ms: at.timestamp_millis(),
+        offset_min: (at.offset().local_minus_utc() / 60) as i16,
+        refers_to: record.refers_to(),
+        tap,
+        chemical,
+    }
+}
+
+/// Encodes a validated record as a payload: binary key, then JSON.
+pub fn encode(record: &Record) -> Vec<u8> {
+    let key = key_of(record);
+    let (tap, chemical) = (key.tap, key.chemical);
     let mut out = Vec::with_capacity(FIXED_KEY + 4 + tap.len() + chemical.len() + 768);
     out.push(RECORD_VERSION);
-    out.push(record.kind() as u8);
-    out.extend_from_slice(record.id().as_bytes());
-    out.extend_from_slice(&at.timestamp_millis().to_le_bytes());
-    let offset_min = (at.offset().local_minus_utc() / 60) as i16;
-    out.extend_from_slice(&offset_min.to_le_bytes());
-    out.extend_from_slice(record.refers_to().unwrap_or(Uuid::nil()).as_bytes());
+    out.push(key.kind as u8);
+    out.extend_from_slice(key.id.as_bytes());
+    out.extend_from_slice(&key.at_ms.to_le_bytes());
+    out.extend_from_slice(&key.offset_min.to_le_bytes());
+    out.extend_from_slice(key.refers_to.unwrap_or(Uuid::nil()).as_bytes());
     for name in [tap, chemical] {
         // Validation caps names far below u16::MAX; truncating would corrupt the key.
         let len = u16::try_from(name.len()).unwrap_or(u16::MAX);
@@ -381,9 +395,11 @@ pub fn decode(payload: &[u8]) -> std::result::Result<Record, PayloadError> {
         Kind::Correction => Record::Correction(serde_json::from_str(json).map_err(bad)?),
         Kind::Void => Record::Void(serde_json::from_str(json).map_err(bad)?),
     };
-    if record.id() != key.id || record.refers_to() != key.refers_to {
+    // Queries filter on the key alone: a key naming another day, tap or chemical than the
+    // body would list the record where date and tap queries cannot find it.
+    if key_of(&record) != key {
         return Err(PayloadError::Malformed(
-            "key and body disagree on the id or reference".into(),
+            "its key and body disagree (id, reference, time, tap or chemical)".into(),
         ));
     }
     Ok(record)
@@ -541,9 +557,15 @@ mod tests {
     #[test]
     fn key_body_disagreement_is_malformed() {
         let record = entry();
-        let mut payload = encode(&record);
-        payload[2] ^= 0xFF;
-        assert!(matches!(decode(&payload), Err(PayloadError::Malformed(_))));
+        // The id, the time (1970 instead of the body's day), the UTC offset, and the tap.
+        for at in [2, 18, 25, 26, FIXED_KEY + 2] {
+            let mut payload = encode(&record);
+            payload[at] ^= 0x41;
+            assert!(
+                matches!(decode(&payload), Err(PayloadError::Malformed(_))),
+                "byte {at}"
+            );
+        }
     }
 
     #[test]

@@ -307,6 +307,8 @@ fn foreign_damaged_and_future_files_are_refused_untouched() {
     let dir = temp_dir("refuse");
     let mut future = frame::header();
     future[8..10].copy_from_slice(&2u16.to_le_bytes());
+    let crc = crc32fast::hash(&future[..12]);
+    future[12..].copy_from_slice(&crc.to_le_bytes());
     let mut damaged_header = frame::header().to_vec();
     damaged_header[13] ^= 1;
     let cases: [(&str, Vec<u8>, ErrorKind, &str); 4] = [
@@ -328,12 +330,7 @@ fn foreign_damaged_and_future_files_are_refused_untouched() {
             ErrorKind::FutureVersion,
             "newer app (log format 2",
         ),
-        (
-            "header",
-            damaged_header,
-            ErrorKind::NotALog,
-            "header is damaged",
-        ),
+        ("header", damaged_header, ErrorKind::NotALog, "header of"),
     ];
     for (name, bytes, kind, words) in cases {
         let path = dir.join(name);
@@ -354,7 +351,15 @@ fn read_only_storage_gives_a_typed_error() {
     assert_eq!(err.kind(), ErrorKind::ReadOnly, "{}", err.message());
     assert!(err.message().contains("read-only"));
 
-    // A path below a regular file cannot be created by anyone, root included.
+    // A path below a regular file cannot be created by anyone, root included; and a missing
+    // directory is never created for a log.
+    let missing = temp_dir("nodir");
+    let err = Log::open(&missing.join("a/b/site.doselog"), "tab-1")
+        .err()
+        .unwrap();
+    assert_eq!(err.kind(), ErrorKind::Io, "{}", err.message());
+    assert!(!missing.join("a").exists(), "a directory was created");
+
     let dir = temp_dir("notdir");
     let blocker = dir.join("blocker");
     std::fs::write(&blocker, b"x").unwrap();
@@ -599,5 +604,268 @@ fn site_files_have_portable_names_inside_the_given_directory() {
     assert_eq!(
         path.file_name().and_then(|n| n.to_str()),
         Some("Riverside___North___old__works.doselog")
+    );
+}
+
+/// The bytes and modification time of a file, to show that a read left it alone.
+fn snapshot(path: &Path) -> (Vec<u8>, std::time::SystemTime) {
+    (
+        std::fs::read(path).unwrap(),
+        std::fs::metadata(path).unwrap().modified().unwrap(),
+    )
+}
+
+#[test]
+fn a_reader_never_writes_a_header_or_cuts_a_tail() {
+    let (scratch, path, _) = file_with(&["a", "b"]);
+    let mut half = Vec::new();
+    frame::encode(
+        &record::encode(&foreign_entry("x", "2026-03-04T08:00:00+00:00")),
+        &mut half,
+    )
+    .unwrap();
+    half.truncate(half.len() / 2);
+    OpenOptions::new()
+        .append(true)
+        .open(&path)
+        .unwrap()
+        .write_all(&half)
+        .unwrap();
+    let before = snapshot(&path);
+    std::thread::sleep(std::time::Duration::from_millis(20));
+    let reader = Log::open_read_only(&path).unwrap();
+    assert_eq!(notes(&reader), ["a", "b"]);
+    assert!(reader.recovery().torn_tail.is_some());
+    assert!(!reader.recovery().tail_cut);
+    assert!(reader.recovery().messages()[0].contains("left in place"));
+    drop(reader);
+    assert_eq!(snapshot(&path), before, "a read changed the file");
+
+    // An empty file reached through a symlink stays empty for a reader.
+    let empty = scratch.join("empty.doselog");
+    std::fs::write(&empty, b"").unwrap();
+    let link = scratch.join("link.doselog");
+    std::os::unix::fs::symlink(&empty, &link).unwrap();
+    let err = Log::open_read_only(&link).err().unwrap();
+    assert_eq!(err.kind(), ErrorKind::NotALog, "{}", err.message());
+    assert_eq!(std::fs::read(&empty).unwrap(), b"", "a header was written");
+}
+
+#[test]
+fn a_reader_shares_the_file_with_a_writer_and_a_second_writer_does_not() {
+    let (_scratch, path, _) = file_with(&["a"]);
+    let mut writer = Log::open(&path, "tab-1").unwrap();
+    let reader = Log::open_read_only(&path).unwrap();
+    writer.append(simple("b")).unwrap();
+    assert_eq!(notes(&reader), ["a"], "the reader's view is what it opened");
+    assert_eq!(notes(&Log::open_read_only(&path).unwrap()), ["a", "b"]);
+    let err = Log::open(&path, "tab-2").err().unwrap();
+    assert_eq!(err.kind(), ErrorKind::Locked);
+}
+
+#[test]
+fn a_flipped_byte_in_the_last_record_is_damage_kept_on_disk() {
+    let (_scratch, path, ids) = file_with(&["a", "b", "c"]);
+    let log = Log::open(&path, "tab-1").unwrap();
+    let last = log.index.slot_of(ids[2].as_u128()).unwrap();
+    let at = log.index.slots[last as usize].offset + 60;
+    drop(log);
+    let mut bytes = std::fs::read(&path).unwrap();
+    bytes[at as usize] ^= 0x04;
+    std::fs::write(&path, &bytes).unwrap();
+
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    assert_eq!(log.recovery().torn_tail, None);
+    assert_eq!(log.recovery().damaged.len(), 1, "{:?}", log.recovery());
+    assert_eq!(
+        std::fs::read(&path).unwrap(),
+        bytes,
+        "the writer cut the record"
+    );
+    assert_eq!(notes(&log), ["a", "b"]);
+    log.append(simple("d")).unwrap();
+    drop(log);
+    let log = Log::open(&path, "tab-1").unwrap();
+    assert_eq!(notes(&log), ["a", "b", "d"]);
+    assert_eq!(&std::fs::read(&path).unwrap()[..bytes.len()], &bytes[..]);
+}
+
+#[test]
+fn a_writer_whose_file_is_deleted_or_replaced_acknowledges_nothing_more() {
+    let (scratch, path, _) = file_with(&["a"]);
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    std::fs::remove_file(&path).unwrap();
+    let err = log.append(simple("lost")).unwrap_err();
+    assert_eq!(err.kind(), ErrorKind::FileReplaced, "{}", err.message());
+    assert!(err.message().contains("deleted or replaced"));
+    assert_eq!(log.pending().len(), 1, "the entry is kept as not saved");
+    let again = log.append(simple("also lost")).unwrap_err();
+    assert_eq!(again.kind(), ErrorKind::FileReplaced);
+    assert_eq!(log.pending().len(), 2);
+    drop(log);
+
+    // Another file moved into its place.
+    let (_other_scratch, other, _) = file_with(&["other"]);
+    let mut log = Log::open(&scratch.join("fresh.doselog"), "tab-1").unwrap();
+    log.append(simple("saved")).unwrap();
+    std::fs::rename(&other, scratch.join("fresh.doselog")).unwrap();
+    let err = log.append(simple("lost")).unwrap_err();
+    assert_eq!(err.kind(), ErrorKind::FileReplaced);
+}
+
+#[test]
+fn a_flipped_header_bit_is_damage_and_salvage_recovers_every_record() {
+    let (scratch, path, _) = file_with(&["a", "b", "c"]);
+    let mut bytes = std::fs::read(&path).unwrap();
+    bytes[9] ^= 0x40; // version 1 would read as 16385
+    std::fs::write(&path, &bytes).unwrap();
+    let err = Log::open(&path, "tab-1").err().unwrap();
+    assert_eq!(err.kind(), ErrorKind::NotALog, "{}", err.message());
+    assert_eq!(err.param("reason"), Some("damaged-header"));
+    assert!(err.message().contains("damaged"), "{}", err.message());
+    assert!(!err.message().contains("newer"), "{}", err.message());
+
+    let before = snapshot(&path);
+    let saved = scratch.join("saved.doselog");
+    let report = salvage(&path, &saved).unwrap();
+    assert_eq!(report.records, 3);
+    assert!(!report.header_intact);
+    assert!(report.damaged.is_empty());
+    assert_eq!(snapshot(&path), before, "salvage changed the damaged file");
+    let log = Log::open(&saved, "tab-1").unwrap();
+    assert!(log.recovery().is_clean(), "{:?}", log.recovery());
+    assert_eq!(notes(&log), ["a", "b", "c"]);
+    drop(log);
+
+    // Never over an existing file.
+    let kept = snapshot(&saved);
+    let err = salvage(&path, &saved).unwrap_err();
+    assert_eq!(err.kind(), ErrorKind::Io, "{}", err.message());
+    assert_eq!(snapshot(&saved), kept);
+    // Nothing to salvage from a file that is no log, and no file is left behind.
+    let text = scratch.join("text.txt");
+    std::fs::write(&text, b"just some words, no records at all").unwrap();
+    let err = salvage(&text, &scratch.join("none.doselog")).unwrap_err();
+    assert_eq!(err.kind(), ErrorKind::NotALog);
+    assert!(!scratch.join("none.doselog").exists());
+}
+
+fn foreign_entry(note: &str, at: &str) -> Record {
+    let mut dose = record::example_dose();
+    dose.note = note.into();
+    Record::Entry(Entry {
+        id: Uuid::now_v7(),
+        device: "tab-b".into(),
+        at: DateTime::parse_from_rfc3339(at).unwrap(),
+        site: "Riverside".into(),
+        dose,
+    })
+}
+
+/// A log file holding exactly these payloads, framed as a device would write them.
+fn crafted_log(path: &Path, payloads: &[Vec<u8>]) {
+    let mut bytes = frame::header().to_vec();
+    for p in payloads {
+        frame::encode(p, &mut bytes).unwrap();
+    }
+    std::fs::write(path, bytes).unwrap();
+}
+
+#[test]
+fn merge_checks_each_record_as_a_whole_and_reports_what_it_left_out() {
+    let dir = temp_dir("merge-checks");
+    let (a_path, b_path) = (dir.join("a.doselog"), dir.join("b.doselog"));
+    let mut a = Log::open(&a_path, "tab-a").unwrap();
+    let ours = a.append(simple("ours")).unwrap();
+    let now = DateTime::parse_from_rfc3339("2026-11-10T12:00:00+00:00").unwrap();
+
+    let good = foreign_entry("good", "2026-11-05T09:00:00+00:00");
+    // Body 5 Nov at the inlet; key 1970 and another tap.
+    let lying = foreign_entry("lying", "2026-11-05T10:00:00+00:00");
+    let mut lying_payload = record::encode(&lying);
+    lying_payload[18..26].copy_from_slice(&0i64.to_le_bytes());
+    // The key's tap starts after the fixed key (44 bytes) and its length: "clearwell inlet".
+    lying_payload[46] ^= 0x20;
+    let correction = |corrects: Uuid, site: &str, at: &str| {
+        let mut dose = record::example_dose();
+        dose.note = "corrected".into();
+        Record::Correction(Correction {
+            id: Uuid::now_v7(),
+            device: "tab-b".into(),
+            at: DateTime::parse_from_rfc3339(at).unwrap(),
+            site: site.into(),
+            corrects,
+            reason: "typo".into(),
+            dose,
+        })
+    };
+    let far_future = correction(ours, "Riverside", "9999-12-31T00:00:00+00:00");
+    let within = correction(good.id(), "Riverside", "2026-11-10T12:30:00+00:00");
+    let orphan_void = Record::Void(Void {
+        id: Uuid::now_v7(),
+        device: "tab-b".into(),
+        at: DateTime::parse_from_rfc3339("2026-11-06T09:00:00+00:00").unwrap(),
+        site: "Riverside".into(),
+        operator: "CD".into(),
+        voids: Uuid::now_v7(),
+        reason: "hide it".into(),
+    });
+    let other_site = correction(ours, "Hilltop", "2026-11-06T09:00:00+00:00");
+    let mut second_copy = good.clone();
+    if let Record::Entry(e) = &mut second_copy {
+        e.dose.note = "second version".into();
+    }
+    crafted_log(
+        &b_path,
+        &[
+            record::encode(&within),
+            record::encode(&good),
+            lying_payload,
+            record::encode(&far_future),
+            record::encode(&orphan_void),
+            record::encode(&other_site),
+            record::encode(&second_copy),
+        ],
+    );
+
+    let report = a.merge_at(&b_path, now).unwrap();
+    assert_eq!(report.added, 2, "{report:?}");
+    let refused: Vec<(Option<Uuid>, &str)> = report
+        .refused
+        .iter()
+        .map(|r| (r.id, r.reason.as_str()))
+        .collect();
+    let reason_of = |id: Uuid| {
+        refused
+            .iter()
+            .find(|(i, _)| *i == Some(id))
+            .map(|(_, r)| *r)
+            .unwrap_or_else(|| panic!("{id} not refused: {refused:?}"))
+    };
+    assert!(reason_of(lying.id()).contains("key and body disagree"));
+    assert!(reason_of(far_future.id()).contains("after this device's clock"));
+    assert!(reason_of(orphan_void.id()).contains("neither in this log"));
+    assert!(reason_of(other_site.id()).contains("site 'Hilltop'"));
+    assert_eq!(report.refused.len(), 4);
+    assert_eq!(report.dropped_duplicates, vec![good.id()]);
+    assert_eq!(report.unreadable, 4);
+
+    // What was imported is found by date and tap; the entry stands as corrected here.
+    let november = Query {
+        from: NaiveDate::from_ymd_opt(2026, 11, 1),
+        to: NaiveDate::from_ymd_opt(2026, 11, 30),
+        ..Query::default()
+    };
+    let views = a.query(&november).unwrap();
+    assert_eq!(views.len(), 1);
+    assert_eq!(views[0].id, good.id());
+    assert_eq!(views[0].dose.note, "corrected");
+    assert!(a.get(lying.id()).unwrap().is_none());
+    let mine = a.query(&Query::default()).unwrap();
+    let mine = mine.iter().find(|v| v.id == ours).unwrap();
+    assert_eq!(
+        mine.status,
+        Status::Original,
+        "no imported revision reached it"
     );
 }
