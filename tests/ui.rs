@@ -371,7 +371,7 @@ fn coagulation_shows_alkalinity_ph_and_the_alkali_chosen() {
             extra.key
         );
     }
-    let keys: Vec<_> = result.extras.iter().map(|e| e.key).collect();
+    let keys: Vec<_> = result.extras.iter().map(|e| e.key.as_str()).collect();
     for k in [
         "alkalinity-consumed",
         "ph-after-coagulant",
@@ -797,7 +797,7 @@ fn the_calculator_starts_from_the_site_and_warns_against_its_permit() {
     type_into(&app, &en("field-residual-target"), "4.5");
     let texts = Texts::new(Lang::En);
     let warning = texts.get_args(
-        "caution-site-limit-above",
+        "site-limit-above",
         &[
             ("field", en("field-residual-target")),
             ("value", "4.50".into()),

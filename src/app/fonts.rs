@@ -92,9 +92,7 @@ fn write_if_changed(path: &Path, bytes: &[u8]) -> io::Result<()> {
         return Ok(());
     }
     // Written aside and renamed, so a start interrupted mid-write never leaves a torn font.
-    let partial = path.with_extension("partial");
-    std::fs::write(&partial, bytes)?;
-    std::fs::rename(&partial, path)
+    super::files::write_whole(path, bytes)
 }
 
 #[cfg(test)]

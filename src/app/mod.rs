@@ -10,6 +10,7 @@
 pub mod calc;
 pub mod dose_log;
 pub mod engine_adapter;
+pub mod files;
 pub mod keys;
 pub mod numbers;
 pub mod plot;

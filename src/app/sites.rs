@@ -117,9 +117,7 @@ pub fn save(dir: &Path, sites: &[SiteProfile]) -> std::io::Result<()> {
         sites: sites.to_vec(),
     })
     .map_err(std::io::Error::other)?;
-    let tmp = dir.join(format!("{SITES_FILE}.tmp"));
-    std::fs::write(&tmp, text)?;
-    std::fs::rename(tmp, dir.join(SITES_FILE))
+    super::files::write_whole(&dir.join(SITES_FILE), text.as_bytes())
 }
 
 /// An id not yet used in `taken`, from a stem (`tap-1`, `tap-2`, ...).

@@ -711,7 +711,7 @@ impl AppState {
             && sites::save(dir, &self.settings.sites).is_ok()
             && let Ok(text) = serde_json::to_string_pretty(&self.settings)
         {
-            let _ = std::fs::write(dir.join("settings.json"), text);
+            let _ = super::files::write_whole(&dir.join("settings.json"), text.as_bytes());
         }
     }
 
@@ -1269,9 +1269,8 @@ impl AppState {
         let Ok(text) = serde_json::to_string_pretty(&self.calc.inputs()) else {
             return;
         };
-        let tmp = dir.join(format!("{INPUTS_FILE}.tmp"));
-        if std::fs::create_dir_all(dir).is_ok() && std::fs::write(&tmp, text).is_ok() {
-            let _ = std::fs::rename(&tmp, dir.join(INPUTS_FILE));
+        if std::fs::create_dir_all(dir).is_ok() {
+            let _ = super::files::write_whole(&dir.join(INPUTS_FILE), text.as_bytes());
         }
     }
 }
