@@ -5,6 +5,7 @@
 mod batch_cli;
 mod cli_chemistry;
 mod dosing_cli;
+mod fuzz_cli;
 mod log_cli;
 mod numbers_cli;
 mod output_cli;
