@@ -467,7 +467,7 @@ fn answer_line(line: &BatchLine, answer: &mut Vec<u8>) -> Result<(), CliError> {
             return Err(CliError {
                 kind: "line-too-long".into(),
                 message: format!(
-                    "batch line of {bytes} bytes or more is longer than {MAX_BATCH_LINE} bytes; it was not read"
+                    "batch line of {bytes} bytes is longer than {MAX_BATCH_LINE} bytes; it was skipped unread"
                 ),
                 reason: None,
             });

@@ -145,10 +145,12 @@ fn an_oversize_line_is_refused_without_being_held_in_memory() {
     stdin.write_all(b"\n").unwrap();
     stdin.flush().unwrap();
     let mut next_answer = || {
-        answers.recv_timeout(Duration::from_secs(60)).unwrap_or_else(|_| {
-            child.kill().unwrap();
-            panic!("the batch did not answer while its stdin stayed open");
-        })
+        answers
+            .recv_timeout(Duration::from_secs(60))
+            .unwrap_or_else(|_| {
+                child.kill().unwrap();
+                panic!("the batch did not answer while its stdin stayed open");
+            })
     };
     let (first, second) = (next_answer(), next_answer());
     // The batch now waits for more input: its peak so far covers the whole 100 MB line.
