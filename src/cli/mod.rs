@@ -236,8 +236,9 @@ fn write_report(report: &Report, json: bool, out: &mut dyn Write) -> Result<(), 
 pub const LARGEST_OUTPUT: f64 = 1e15;
 
 /// The one guard between a result and the output, used by every command and by `batch`:
-/// fails if `value` holds a number beyond [`LARGEST_OUTPUT`], or a caution parameter written
-/// as a number that is not finite or beyond it (parameters are text, so `inf` could pass).
+/// fails if `value` holds a number beyond [`LARGEST_OUTPUT`] (a percentage beyond
+/// [`LARGEST_PERCENT`]), or a caution parameter written as a number that is not finite or
+/// beyond those limits (parameters are text, so `inf` could pass).
 ///
 /// A non-finite number cannot reach here as a JSON number (serde_json turns it into
 /// `null`); that is why inputs are bounded where they are parsed (`args`) and why
@@ -266,7 +267,9 @@ fn find_bad_number(value: &Value, path: &mut Vec<String>) -> Option<String> {
     match value {
         Value::Number(n) => {
             let v = n.as_f64()?;
-            (!v.is_finite() || v.abs() > LARGEST_OUTPUT).then(|| v.to_string())
+            // The quantity is named by the nearest object key (array indexes name nothing).
+            let name = path.iter().rev().find(|p| p.parse::<usize>().is_err());
+            beyond_limit(name.map_or("", String::as_str), v).then(|| v.to_string())
         }
         Value::Array(items) => items.iter().enumerate().find_map(|(i, item)| {
             path.push(i.to_string());
@@ -299,9 +302,24 @@ fn find_bad_number(value: &Value, path: &mut Vec<String>) -> Option<String> {
 
 /// A caution parameter is a `[name, text]` pair; text that reads as a number must be one.
 fn bad_caution_parameter(param: &Value) -> Option<String> {
+    let name = param.get(0)?.as_str()?;
     let text = param.get(1)?.as_str()?;
     let v: f64 = text.trim().parse().ok()?;
-    (!v.is_finite() || v.abs() > LARGEST_OUTPUT).then(|| format!("'{text}'"))
+    beyond_limit(name, v).then(|| format!("{name} '{text}'"))
+}
+
+/// The largest magnitude of a percentage: a pump set to a hundred times its full output is
+/// not a setting but a mistyped capacity, and is refused rather than printed as `2.5e14 %`.
+pub const LARGEST_PERCENT: f64 = 1e4;
+
+/// Whether the number `v` of the quantity called `name` cannot be printed as a result.
+fn beyond_limit(name: &str, v: f64) -> bool {
+    let limit = if name.contains("percent") {
+        LARGEST_PERCENT
+    } else {
+        LARGEST_OUTPUT
+    };
+    !v.is_finite() || v.abs() > limit
 }
 
 /// Fails if human text holds a word Rust prints for a number that is not one (`NaN`, `inf`),
@@ -594,6 +612,13 @@ mod tests {
         }
         let e = check_numbers(&json!({"a": [1, {"b": -1e16}]})).unwrap_err();
         assert!(e.message.contains("a.1.b"), "{}", e.message);
+        // A percentage has its own, lower limit; other quantities may be that large.
+        assert!(check_numbers(&json!({"pump_percent": 2.5e14})).is_err());
+        assert!(check_numbers(&json!({"pumps": [{"percent": [2e4]}]})).is_err());
+        assert!(check_numbers(&json!({"gal_per_day": 2.5e14, "pump_percent": 250.0})).is_ok());
+        let caution =
+            json!({"cautions": [{"key": "pump-above-range", "params": [["percent", "2.5e14"]]}]});
+        assert!(check_numbers(&caution).is_err());
     }
 
     #[test]

@@ -133,6 +133,35 @@ fn a_result_beyond_any_plant_is_an_error_not_a_number() {
 }
 
 #[test]
+fn a_pump_setting_of_a_mistyped_capacity_is_refused_not_printed() {
+    // A capacity of 1e-12 gph puts 2.5 gph of product at 2.5e14 % of full output.
+    let mut args = with_hypo(&["feed", "--flow", "2.5", "--flow-unit", "mgd", "--dose", "3"]);
+    args.pop();
+    args.extend(["--pump-capacity", "1e-12", "--pump-unit", "gph"]);
+    let human = run_with_input(&args, b"", LIMIT);
+    assert_eq!(human.status.code(), Some(1), "{}", text(&human.stdout));
+    assert!(
+        !text(&human.stdout).contains("e14"),
+        "{}",
+        text(&human.stdout)
+    );
+    args.push("--json");
+    let (code, json, stdout) = run_json(&args);
+    assert_eq!(code, Some(1), "{stdout}");
+    assert_eq!(json["error"]["kind"], "result-not-a-number", "{stdout}");
+    // The same pump at a real capacity answers: 2.5 gph of 10 gph is 25 %.
+    let mut real = args.clone();
+    let capacity = real.iter().position(|a| *a == "1e-12").unwrap();
+    real[capacity] = "10";
+    let (code, json, stdout) = run_json(&real);
+    assert_eq!(code, Some(0), "{stdout}");
+    assert!(
+        (json["pump_percent"].as_f64().unwrap() - 25.0).abs() < 1e-9,
+        "{stdout}"
+    );
+}
+
+#[test]
 fn the_same_conversion_within_range_still_answers() {
     let (code, json, stdout) = run_json(&[
         "convert",
