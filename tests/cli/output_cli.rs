@@ -93,3 +93,29 @@ fn a_command_line_without_a_command_answers_json_when_asked() {
         );
     }
 }
+
+#[test]
+fn an_error_message_is_one_line_whatever_the_input_held() {
+    let out = run_with_input(
+        &["frob\nmolefeed: forged\u{1b}[2J", "--json"],
+        b"",
+        Duration::from_secs(30),
+    );
+    assert_eq!(out.status.code(), Some(2));
+    let stderr = text(&out.stderr);
+    assert_eq!(stderr.lines().count(), 1, "{stderr:?}");
+    assert!(!stderr.contains('\u{1b}'), "{stderr:?}");
+    assert!(
+        stderr.contains("frob\\nmolefeed: forged\\u{1b}[2J"),
+        "{stderr:?}"
+    );
+    // The JSON error keeps the text exactly; JSON escapes it on its own.
+    let error = &json_of(&out)["error"];
+    assert!(
+        error["message"]
+            .as_str()
+            .unwrap()
+            .contains("frob\nmolefeed"),
+        "{error}"
+    );
+}
