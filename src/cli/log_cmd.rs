@@ -186,6 +186,8 @@ fn recovery_json(log: &Log) -> serde_json::Value {
     })
 }
 
+/// `log list` as a [`Report`], for callers of [`super::dispatch`]; the command line and
+/// `batch` stream it through [`list_to`] instead, without holding the list.
 fn list(args: &Args) -> CliResult {
     let mut out = Vec::new();
     list_to(args, true, &mut out)?;
@@ -316,6 +318,8 @@ fn history(args: &Args) -> CliResult {
     })
 }
 
+/// `log export` as a [`Report`], for callers of [`super::dispatch`]; the command line and
+/// `batch` stream it through [`export_to`] instead.
 fn export_cmd(args: &Args) -> CliResult {
     let mut text = Vec::new();
     let json = export_to(args, false, &mut text).and_then(|()| {
