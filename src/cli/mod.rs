@@ -157,17 +157,43 @@ pub fn main(argv: &[String]) -> i32 {
             Err(e) => fail(&e, json),
         };
     }
-    let mut out = std::io::BufWriter::new(std::io::stdout().lock());
+    let mut out = Tracked {
+        inner: std::io::BufWriter::new(std::io::stdout().lock()),
+        started: false,
+    };
     let result = run(command, &argv[1..], json, &mut out)
         .and_then(|()| out.flush().map_err(CliError::output));
     match result {
         Ok(()) => 0,
         Err(e) => {
-            // What was buffered before the failure is still the answer's start; the error
-            // object goes after it on its own line (the exit status is the verdict).
-            let _unwritable = out.flush();
+            // A streamed answer may have begun before the failure: its line is ended so the
+            // error object stands on a line of its own (the exit status is the verdict).
+            let ended = if out.started && e.kind != OUTPUT_FAILED {
+                writeln!(out)
+            } else {
+                Ok(())
+            };
+            let _unwritable = ended.and_then(|()| out.flush());
             fail(&e, json)
         }
+    }
+}
+
+/// A writer that notes whether any output went through it.
+struct Tracked<W> {
+    inner: W,
+    started: bool,
+}
+
+impl<W: Write> Write for Tracked<W> {
+    fn write(&mut self, bytes: &[u8]) -> std::io::Result<usize> {
+        let written = self.inner.write(bytes)?;
+        self.started |= written > 0;
+        Ok(written)
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.inner.flush()
     }
 }
 
@@ -269,7 +295,7 @@ fn find_bad_number(value: &Value, path: &mut Vec<String>) -> Option<String> {
             let v = n.as_f64()?;
             // The quantity is named by the nearest object key (array indexes name nothing).
             let name = path.iter().rev().find(|p| p.parse::<usize>().is_err());
-            beyond_limit(name.map_or("", String::as_str), v).then(|| v.to_string())
+            beyond_limit(name.map_or("", String::as_str), v).then(|| format!("{v:e}"))
         }
         Value::Array(items) => items.iter().enumerate().find_map(|(i, item)| {
             path.push(i.to_string());

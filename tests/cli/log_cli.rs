@@ -282,3 +282,43 @@ fn soak_refuses_a_note_size_no_record_can_hold() {
     }
     remove(&dir);
 }
+
+/// An entry whose stored dose no plant can have (a crafted or imported record) stops the
+/// listing with an error naming it; the part already streamed is cut off by a line end, so
+/// the error object is a line of its own that a script can read.
+#[test]
+fn a_listing_stopped_by_an_impossible_number_ends_with_a_readable_error() {
+    let dir = scratch("list-guard");
+    let path = dir.join("site.doselog");
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    log.append(entry_with("T1", "fine", "2026-05-01T08:00:00+00:00"))
+        .unwrap();
+    let mut dose = molefeed::log::record::example_dose();
+    dose.dose_mg_per_l = 1e300;
+    let impossible = log
+        .append(Draft::Entry {
+            at: Some(chrono::DateTime::parse_from_rfc3339("2026-05-02T08:00:00+00:00").unwrap()),
+            site: "Hillside works".into(),
+            dose,
+        })
+        .unwrap();
+    drop(log);
+    let out = run_with_input(
+        &["log", "list", "--json", "--file", path.to_str().unwrap()],
+        b"",
+        LIMIT,
+    );
+    assert_eq!(out.status.code(), Some(1), "{}", text(&out.stderr));
+    let stdout = text(&out.stdout);
+    let last = stdout.lines().last().unwrap();
+    let error: serde_json::Value =
+        serde_json::from_str(last).unwrap_or_else(|e| panic!("{e}: {last}"));
+    assert_eq!(error["error"]["kind"], "result-not-a-number", "{last}");
+    let message = error["error"]["message"].as_str().unwrap();
+    assert!(message.contains(&impossible.to_string()), "{message}");
+    assert!(message.contains("1e300"), "{message}");
+    // The entry itself never reached the listing; only the error names it.
+    let listing = &stdout[..stdout.len() - last.len() - 1];
+    assert!(!listing.contains(&impossible.to_string()), "{listing}");
+    remove(&dir);
+}
