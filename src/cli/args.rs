@@ -2,6 +2,10 @@
 //!
 //! Strict because a mistyped flag on a dosing calculation must not be silently ignored:
 //! every flag given must be read by the subcommand, or the command fails with a usage error.
+//! For the same reason a flag value written as a number is checked once, here, for every
+//! subcommand: a value no measurement can take (`1e-300`, `1e30`) is refused before any
+//! calculator sees it, because such inputs overflow or underflow into results that are not
+//! numbers.
 
 use super::CliError;
 use serde_json::Value;
@@ -14,7 +18,18 @@ pub struct Args {
     positional: Vec<String>,
     flags: BTreeMap<String, Option<String>>,
     used: RefCell<Vec<String>>,
+    /// Built from a `molefeed batch` line: stdin carries the batch, so no command may read it.
+    from_batch: bool,
 }
+
+/// The smallest magnitude a numeric flag may have (other than zero). Far below any reading a
+/// plant takes in any unit the CLI accepts, and far above the underflow that turns a
+/// quotient into NaN.
+pub const SMALLEST_INPUT: f64 = 1e-12;
+
+/// The largest magnitude a numeric flag may have: above a day's flow of the largest plants
+/// in litres, and far below where a product of two inputs overflows.
+pub const LARGEST_INPUT: f64 = 1e12;
 
 impl Args {
     /// Parses command-line words. A flag takes the next word as its value unless that word is
@@ -46,7 +61,10 @@ impl Args {
 
     /// Builds arguments from a batch request's `args` object (names as the long flags, `_` for `-`).
     pub fn from_json(value: &Value) -> Result<Args, CliError> {
-        let mut args = Args::default();
+        let mut args = Args {
+            from_batch: true,
+            ..Args::default()
+        };
         let Some(object) = value.as_object() else {
             return if value.is_null() {
                 Ok(args)
@@ -73,10 +91,18 @@ impl Args {
     }
 
     fn insert(&mut self, name: &str, value: Option<String>) -> Result<(), CliError> {
+        if let Some(text) = &value {
+            check_magnitude(name, text)?;
+        }
         if self.flags.insert(name.to_string(), value).is_some() {
             return Err(CliError::usage(format!("--{name} given twice")));
         }
         Ok(())
+    }
+
+    /// True when these arguments came from a `molefeed batch` line, whose stdin is the batch.
+    pub fn in_batch(&self) -> bool {
+        self.from_batch
     }
 
     fn mark(&self, name: &str) {
@@ -141,6 +167,29 @@ impl Args {
     }
 }
 
+/// Refuses a flag value that is written as a number outside what a measurement can be.
+/// Only text with a digit counts as a number here, so names such as a formula `NaN` pass
+/// untouched; `Args::number` refuses `inf` and `NaN` where a number is read.
+fn check_magnitude(name: &str, text: &str) -> Result<(), CliError> {
+    if !text.bytes().any(|b| b.is_ascii_digit()) {
+        return Ok(());
+    }
+    let Ok(value) = text.trim().parse::<f64>() else {
+        return Ok(());
+    };
+    let magnitude = value.abs();
+    if magnitude == 0.0 || (SMALLEST_INPUT..=LARGEST_INPUT).contains(&magnitude) {
+        return Ok(());
+    }
+    Err(CliError {
+        kind: "invalid-input".into(),
+        message: format!(
+            "--{name} {text} is outside what a measurement can be (0, or {SMALLEST_INPUT:e} to {LARGEST_INPUT:e} in size)"
+        ),
+        reason: None,
+    })
+}
+
 fn is_flag(word: &str) -> bool {
     word.starts_with("--") && word.len() > 2
 }
@@ -189,6 +238,32 @@ mod tests {
         for bad in ["abc", "NaN", "inf", ""] {
             let args = Args::from_json(&serde_json::json!({ "dose": bad })).unwrap();
             assert!(args.number("dose").is_err(), "{bad}");
+        }
+    }
+
+    #[test]
+    fn numbers_no_measurement_can_take_are_refused_when_parsed() {
+        for bad in ["1e-300", "4e-320", "1e30", "-1e13", "1e400"] {
+            let e = Args::parse(&words(&format!("--flow {bad}"))).unwrap_err();
+            assert_eq!(e.kind, "invalid-input", "{bad}");
+            assert!(e.message.contains("--flow"), "{bad}: {}", e.message);
+            let e = Args::from_json(&serde_json::json!({ "flow": bad })).unwrap_err();
+            assert_eq!(e.kind, "invalid-input", "{bad}");
+        }
+        for good in [
+            "0",
+            "-0.0",
+            "1e-12",
+            "2.5",
+            "-3",
+            "1e12",
+            "NaN",
+            "2026-03-01",
+        ] {
+            assert!(
+                Args::parse(&words(&format!("--flow {good}"))).is_ok(),
+                "{good}"
+            );
         }
     }
 }

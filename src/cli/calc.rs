@@ -195,8 +195,7 @@ pub fn request(
         }
     };
     if let Some(path) = args.text("site")? {
-        let text = std::fs::read_to_string(path)
-            .map_err(|e| CliError::io(format!("cannot read site profile {path}: {e}")))?;
+        let text = super::read_input_file(path, "site profile")?;
         let site = SiteProfile::from_json(&text, c.catalog())?;
         request.limits = site.limits.clone();
         request.max_use_level_mg_l = request

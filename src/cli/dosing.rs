@@ -93,8 +93,7 @@ fn site(args: &Args, catalog: &Catalog) -> Result<Option<SiteProfile>, CliError>
     let Some(path) = args.text("site")? else {
         return Ok(None);
     };
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| CliError::io(format!("cannot read site profile {path}: {e}")))?;
+    let text = super::read_input_file(path, "site profile")?;
     Ok(Some(SiteProfile::from_json(&text, catalog)?))
 }
 

@@ -1,17 +1,32 @@
 //! `molefeed log ...`: the dose log for scripts, support staff and tests.
 //!
-//! Design choice: `append` reads exactly one JSON draft on stdin and reports the id only when
+//! Design choice: `append` reads exactly one JSON draft (on stdin, or from `--entry`, which a
+//! batch line must use because stdin carries the batch) and reports the id only when
 //! `Log::append` returned, that is after the record was synced to disk, so a script that saw
-//! an id may rely on it. Export text goes to stdout through the ordinary report, so the same
-//! functions serve `molefeed batch`. The reading commands (list, history, export) open the log
-//! read-only, so they work beside a writer and on read-only media and never change the file.
+//! an id may rely on it. `list` and `export` write entry by entry through [`stream`], so their
+//! memory does not grow with the log; the same functions serve `molefeed batch`. The reading
+//! commands (list, history, export) open the log read-only, so they work beside a writer and on
+//! read-only media and never change the file. Human output shows the operator's text through
+//! [`one_line`], so a newline in a tap name cannot forge a line and a terminal escape is shown,
+//! not run.
 
-use super::{Args, CliError, CliResult, Report};
+use super::{Args, CliError, CliResult, Report, check_numbers, one_line};
 use crate::log::{self, Draft, Log, Query, export};
 use chrono::NaiveDate;
 use serde_json::json;
 use std::io::{Read, Write};
 use std::path::Path;
+
+/// `log list` and `log export`, written to `out` as the log is read; `None` for the other
+/// log commands, which answer with a [`Report`]. Every flag is checked before the first byte
+/// is written, so a typo fails cleanly instead of after half a listing.
+pub fn stream(args: &Args, json: bool, out: &mut dyn Write) -> Option<Result<(), CliError>> {
+    match args.positional(0)? {
+        "list" => Some(list_to(args, json, out)),
+        "export" => Some(export_to(args, json, out)),
+        _ => None,
+    }
+}
 
 /// Dispatches `molefeed log SUBCOMMAND`.
 pub fn run(args: &Args) -> CliResult {
@@ -68,7 +83,32 @@ fn device(args: &Args) -> Result<String, CliError> {
 fn open(args: &Args) -> Result<Log, CliError> {
     let file = args.required_text("file")?;
     let device = device(args)?;
-    Log::open(Path::new(file), &device).map_err(log_error)
+    let path = Path::new(file);
+    usable_log_path(path)?;
+    Log::open(path, &device).map_err(log_error)
+}
+
+/// A log path the command line may open: a regular file (a FIFO or a device would block or
+/// never end), or a new file in a directory that exists. A mistyped `a/b/c.doselog` must not
+/// leave a trail of new directories behind.
+fn usable_log_path(path: &Path) -> Result<(), CliError> {
+    match std::fs::metadata(path) {
+        Ok(meta) if meta.is_file() => Ok(()),
+        Ok(_) => Err(CliError::io(format!(
+            "{} is not a regular file; a dose log is one",
+            path.display()
+        ))),
+        Err(_) => {
+            let parent = path.parent().filter(|p| !p.as_os_str().is_empty());
+            match parent {
+                Some(dir) if !dir.is_dir() => Err(CliError::io(format!(
+                    "no directory {}; create it first (the log does not create directories)",
+                    dir.display()
+                ))),
+                _ => Ok(()),
+            }
+        }
+    }
 }
 
 /// For reading commands: read-only, so a mistyped path creates nothing and a read changes
@@ -78,6 +118,7 @@ fn open_existing(args: &Args) -> Result<Log, CliError> {
     if !Path::new(file).exists() {
         return Err(CliError::io(format!("no log file at {file}")));
     }
+    usable_log_path(Path::new(file))?;
     Log::open_read_only(Path::new(file)).map_err(log_error)
 }
 
@@ -115,11 +156,30 @@ fn template() -> CliResult {
 }
 
 fn append(args: &Args) -> CliResult {
+    let given = args.text("entry")?;
+    if given.is_none() && args.in_batch() {
+        return Err(CliError::usage(
+            "inside batch, stdin carries the batch: give the entry as \"entry\" in the line's args",
+        ));
+    }
     let mut log = open(args)?;
     let mut text = String::new();
-    std::io::stdin()
-        .read_to_string(&mut text)
-        .map_err(|e| CliError::io(format!("reading the entry from stdin: {e}")))?;
+    match given {
+        Some(entry) => text.push_str(entry),
+        None => {
+            // Twice the largest record is room for any entry; more is not one entry.
+            let limit = 2 * u64::from(log::frame::MAX_PAYLOAD);
+            std::io::stdin()
+                .take(limit + 1)
+                .read_to_string(&mut text)
+                .map_err(|e| CliError::io(format!("reading the entry from stdin: {e}")))?;
+            if text.len() as u64 > limit {
+                return Err(CliError::usage(format!(
+                    "the entry on stdin is longer than {limit} bytes"
+                )));
+            }
+        }
+    }
     let draft: Draft = serde_json::from_str(&text).map_err(|e| CliError {
         kind: "invalid-entry".into(),
         message: format!("the entry on stdin is not valid: {e}"),
@@ -140,32 +200,86 @@ fn recovery_json(log: &Log) -> serde_json::Value {
     })
 }
 
+/// `log list` as a [`Report`], for callers of [`super::dispatch`]; the command line and
+/// `batch` stream it through [`list_to`] instead, without holding the list.
 fn list(args: &Args) -> CliResult {
+    let mut out = Vec::new();
+    list_to(args, true, &mut out)?;
+    let json = serde_json::from_slice(&out).map_err(|e| CliError::io(e.to_string()))?;
+    let mut human = Vec::new();
+    list_to(args, false, &mut human)?;
+    Ok(Report {
+        human: String::from_utf8_lossy(&human).into_owned(),
+        json,
+    })
+}
+
+/// Writes the matching entries one at a time: `{"entries":[…],"recovery":{…}}` with `json`,
+/// else one line each and the count. Each entry passes [`check_numbers`] on its way out.
+fn list_to(args: &Args, json: bool, out: &mut dyn Write) -> Result<(), CliError> {
     let log = open_existing(args)?;
     let query = query(args)?;
-    let views = log.query(&query).map_err(log_error)?;
-    let mut human = String::new();
-    for m in log.recovery().messages() {
-        human.push_str(&format!("recovery: {m}\n"));
+    args.switch("json");
+    args.reject_unused()?;
+    let written = |r: std::io::Result<()>| r.map_err(CliError::output);
+    if json {
+        written(out.write_all(b"{\"entries\":["))?;
+    } else {
+        for m in log.recovery().messages() {
+            written(writeln!(out, "recovery: {}", one_line(&m)))?;
+        }
     }
-    for v in &views {
-        human.push_str(&format!(
-            "{}  {}  {} / {}  {} mg/L  pump {} %  [{}] {}\n",
-            v.at.format("%Y-%m-%d %H:%M %:z"),
-            v.dose.operator,
-            v.dose.tap,
-            v.dose.chemical,
-            v.dose.dose_mg_per_l,
-            v.dose.pump_setting_percent,
-            v.status.word(),
-            v.id,
-        ));
-    }
-    human.push_str(&format!("{} entries\n", views.len()));
-    Ok(Report {
-        human,
-        json: json!({"entries": views, "recovery": recovery_json(&log)}),
+    let mut count = 0usize;
+    each_view(&log, &query, |v| {
+        let value = serde_json::to_value(&v).map_err(|e| CliError::io(e.to_string()))?;
+        check_numbers(&value).map_err(|e| CliError {
+            message: format!("entry {}: {}", v.id, e.message),
+            ..e
+        })?;
+        count += 1;
+        written(if json {
+            let comma = if count > 1 { "," } else { "" };
+            write!(out, "{comma}{value}")
+        } else {
+            writeln!(
+                out,
+                "{}  {}  {} / {}  {} mg/L  pump {} %  [{}] {}",
+                v.at.format("%Y-%m-%d %H:%M %:z"),
+                one_line(&v.dose.operator),
+                one_line(&v.dose.tap),
+                one_line(&v.dose.chemical),
+                v.dose.dose_mg_per_l,
+                v.dose.pump_setting_percent,
+                v.status.word(),
+                v.id,
+            )
+        })
+    })?;
+    written(if json {
+        writeln!(out, "],\"recovery\":{}}}", recovery_json(&log))
+    } else {
+        writeln!(out, "{count} entries")
     })
+}
+
+/// [`Log::for_each`] with a step that fails as the command line does: the step's own
+/// error (a write that failed, a number refused) ends the walk and is the one reported.
+fn each_view(
+    log: &Log,
+    query: &Query,
+    mut step: impl FnMut(log::View) -> Result<(), CliError>,
+) -> Result<(), CliError> {
+    let mut failure = None;
+    let walked = log.for_each(query, |view| {
+        step(view).map_err(|e| {
+            failure = Some(e);
+            log::Error::new(log::ErrorKind::Io, "stopped by the command line")
+        })
+    });
+    match failure {
+        Some(e) => Err(e),
+        None => walked.map_err(log_error),
+    }
 }
 
 /// `log history --file F --id ID`: the original entry and every correction and void of it.
@@ -187,17 +301,28 @@ fn history(args: &Args) -> CliResult {
         .iter()
         .map(|r| match r {
             log::Record::Entry(e) => {
-                format!("{}  entry       {} by {}\n", e.at, e.id, e.dose.operator)
+                format!(
+                    "{}  entry       {} by {}\n",
+                    e.at,
+                    e.id,
+                    one_line(&e.dose.operator)
+                )
             }
             log::Record::Correction(c) => {
                 format!(
                     "{}  correction  {} by {}: {}\n",
-                    c.at, c.id, c.dose.operator, c.reason
+                    c.at,
+                    c.id,
+                    one_line(&c.dose.operator),
+                    one_line(&c.reason)
                 )
             }
             log::Record::Void(v) => format!(
                 "{}  void        {} by {}: {}\n",
-                v.at, v.id, v.operator, v.reason
+                v.at,
+                v.id,
+                one_line(&v.operator),
+                one_line(&v.reason)
             ),
         })
         .collect();
@@ -207,33 +332,96 @@ fn history(args: &Args) -> CliResult {
     })
 }
 
+/// `log export` as a [`Report`], for callers of [`super::dispatch`]; the command line and
+/// `batch` stream it through [`export_to`] instead.
 fn export_cmd(args: &Args) -> CliResult {
+    let mut text = Vec::new();
+    let json = export_to(args, false, &mut text).and_then(|()| {
+        let mut summary = Vec::new();
+        export_to(args, true, &mut summary)?;
+        serde_json::from_slice(&summary).map_err(|e| CliError::io(e.to_string()))
+    })?;
+    Ok(Report {
+        human: String::from_utf8(text).map_err(|e| CliError::io(e.to_string()))?,
+        json,
+    })
+}
+
+/// Writes the export to `out` as it is read (with `json`, only the row count and the
+/// recovery report: the export itself is the text). A failed write is the command's error.
+fn export_to(args: &Args, json: bool, out: &mut dyn Write) -> Result<(), CliError> {
     let log = open_existing(args)?;
     let format = args.required_text("format")?;
     let query = query(args)?;
-    let mut out = Vec::new();
-    let rows = match format {
-        "csv" => export::csv(&log, &query, &mut out),
-        "jsonl" => export::jsonl(&log, &query, &mut out),
+    let write: fn(&Log, &Query, &mut dyn Write) -> log::Result<usize> = match format {
+        "csv" => export::csv,
+        "jsonl" => export::jsonl,
         other => {
             return Err(CliError::usage(format!(
                 "--format must be csv or jsonl, got '{other}'"
             )));
         }
+    };
+    args.switch("json");
+    args.reject_unused()?;
+    let mut sink = std::io::sink();
+    let mut target = Watched {
+        inner: if json { &mut sink } else { out },
+        failed: None,
+    };
+    let rows = write(&log, &query, &mut target);
+    if let Some(e) = target.failed {
+        return Err(CliError::output(e));
     }
-    .map_err(log_error)?;
+    let rows = rows.map_err(log_error)?;
     for m in log.recovery().messages() {
-        eprintln!("molefeed: recovery: {m}");
+        // A note beside the export; a failing stderr leaves the export itself intact.
+        let _note_lost = writeln!(std::io::stderr(), "molefeed: recovery: {}", one_line(&m));
     }
-    Ok(Report {
-        human: String::from_utf8(out).map_err(|e| CliError::io(e.to_string()))?,
-        json: json!({"rows": rows, "recovery": recovery_json(&log)}),
-    })
+    if json {
+        writeln!(
+            out,
+            "{}",
+            json!({"rows": rows, "recovery": recovery_json(&log)})
+        )
+        .map_err(CliError::output)?;
+    }
+    Ok(())
+}
+
+/// A writer that remembers its first failure, so a failed write of the export is reported
+/// as the output failing rather than as whatever the exporter made of it.
+struct Watched<'a> {
+    inner: &'a mut dyn Write,
+    failed: Option<std::io::Error>,
+}
+
+impl Write for Watched<'_> {
+    fn write(&mut self, bytes: &[u8]) -> std::io::Result<usize> {
+        self.inner.write(bytes).inspect_err(|e| self.remember(e))
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.inner.flush().inspect_err(|e| self.remember(e))
+    }
+}
+
+impl Watched<'_> {
+    fn remember(&mut self, e: &std::io::Error) {
+        if self.failed.is_none() {
+            self.failed = Some(std::io::Error::new(e.kind(), e.to_string()));
+        }
+    }
 }
 
 fn merge(args: &Args) -> CliResult {
     let mut log = open(args)?;
     let other = args.required_text("from")?;
+    if std::fs::metadata(other).is_ok_and(|m| !m.is_file()) {
+        return Err(CliError::io(format!(
+            "{other} is not a regular file; merge reads another device's log file"
+        )));
+    }
     let report = log.merge_from(Path::new(other)).map_err(log_error)?;
     let source = &report.source_recovery;
     let mut human = format!(
@@ -316,15 +504,26 @@ fn salvage(args: &Args) -> CliResult {
 }
 
 /// Appends `--count` entries (default: until killed), printing each id once it is on disk.
-/// `--note-bytes` pads each note so that a kill is likely to land inside a write.
+/// `--note-bytes` pads each note so that a kill is likely to land inside a write. Refused
+/// inside a batch: its ids would break the batch's one-JSON-answer-per-line stream.
 fn soak(args: &Args) -> CliResult {
-    let mut log = open(args)?;
+    if args.in_batch() {
+        return Err(CliError::usage("log soak cannot run inside batch"));
+    }
     let count = args
         .number("count")?
         .map_or(u64::MAX, |n| n.max(0.0) as u64);
-    let padding = args
-        .number("note-bytes")?
-        .map_or(0, |n| n.max(0.0) as usize);
+    let largest_note = log::frame::MAX_PAYLOAD as usize;
+    let padding = match args.number("note-bytes")? {
+        None => 0,
+        Some(n) if (0.0..=largest_note as f64).contains(&n) => n as usize,
+        Some(n) => {
+            return Err(CliError::usage(format!(
+                "--note-bytes must be from 0 to {largest_note}, got {n}"
+            )));
+        }
+    };
+    let mut log = open(args)?;
     let mut out = std::io::stdout().lock();
     for n in 0..count {
         let mut dose = log::record::example_dose();
@@ -338,7 +537,7 @@ fn soak(args: &Args) -> CliResult {
             .map_err(log_error)?;
         writeln!(out, "{id}")
             .and_then(|()| out.flush())
-            .map_err(|e| CliError::io(e.to_string()))?;
+            .map_err(CliError::output)?;
     }
     Ok(Report {
         human: String::new(),

@@ -44,8 +44,21 @@ fn write_error(e: std::io::Error) -> Error {
     Error::io("writing the export to", std::path::Path::new("output"), &e)
 }
 
-/// Characters a spreadsheet takes as the start of a formula when a cell begins with them.
-const FORMULA_STARTS: [char; 6] = ['=', '+', '-', '@', '\t', '\r'];
+/// Characters a spreadsheet takes as the start of a formula when a cell begins with them: the
+/// OWASP list (with NUL and LF, which some readers drop to expose what follows) and the
+/// full-width forms some spreadsheets fold into the ASCII ones.
+const FORMULA_STARTS: [char; 12] = [
+    '=', '+', '-', '@', '\t', '\r', '\n', '\0', '\u{ff1d}', '\u{ff0b}', '\u{ff0d}', '\u{ff20}',
+];
+
+/// The mark put before a cell a spreadsheet would run. A cell that already begins with it
+/// gets one more, so taking one mark off any marked cell ([`csv_cell_text`]) gives back
+/// exactly the text that was logged.
+const DEFUSE_MARK: char = '\'';
+
+fn needs_mark(field: &str) -> bool {
+    field.starts_with(FORMULA_STARTS) || field.starts_with(DEFUSE_MARK)
+}
 
 /// A text cell as written to CSV: one a spreadsheet would run as a formula (a note such as
 /// `=HYPERLINK(…)` typed on a shared tablet) gets a leading apostrophe, the usual defence
@@ -54,12 +67,18 @@ const FORMULA_STARTS: [char; 6] = ['=', '+', '-', '@', '\t', '\r'];
 /// export keeps every text exactly.
 pub fn csv_text(field: &str) -> String {
     let mut out = String::with_capacity(field.len() + 3);
-    if field.starts_with(FORMULA_STARTS) {
-        push_field(&mut out, &format!("'{field}"));
+    if needs_mark(field) {
+        push_field(&mut out, &format!("{DEFUSE_MARK}{field}"));
     } else {
         push_field(&mut out, field);
     }
     out
+}
+
+/// The logged text of a text cell as a CSV reader returns it (quoting already undone): the
+/// inverse of [`csv_text`], for reading an export back.
+pub fn csv_cell_text(cell: &str) -> &str {
+    cell.strip_prefix(DEFUSE_MARK).unwrap_or(cell)
 }
 
 /// Appends `field` to `line`, quoted if a CSV reader would otherwise misread it.
@@ -181,7 +200,7 @@ impl CsvRow {
 
     fn text(&mut self, field: &str) {
         self.separate();
-        if field.starts_with(FORMULA_STARTS) {
+        if needs_mark(field) {
             self.line.push_str(&csv_text(field));
         } else {
             push_field(&mut self.line, field);
@@ -344,6 +363,15 @@ mod tests {
             ("=1,2", "\"'=1,2\""),
             ("a = b", "a = b"),
             ("plain", "plain"),
+            ("\0=1+1", "'\0=1+1"),
+            ("\n=1+1", "\"'\n=1+1\""),
+            ("\t=1", "'\t=1"),
+            ("\r=1", "\"'\r=1\""),
+            ("\u{ff1d}1+1", "'\u{ff1d}1+1"),
+            ("\u{ff0b}1", "'\u{ff0b}1"),
+            ("\u{ff0d}1", "'\u{ff0d}1"),
+            ("\u{ff20}user", "'\u{ff20}user"),
+            ("'quoted", "''quoted"),
         ];
         for (input, expected) in cases {
             assert_eq!(csv_text(input), expected, "{input:?}");

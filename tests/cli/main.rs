@@ -2,7 +2,13 @@
 //! `tests/engine/main.rs` for why areas share a binary). Filter with e.g.
 //! `cargo test --test cli water_cli`.
 
+mod batch_cli;
 mod calc_cli;
 mod cli_chemistry;
 mod dosing_cli;
+mod fuzz_cli;
+mod log_cli;
+mod numbers_cli;
+mod output_cli;
+mod support;
 mod water_cli;

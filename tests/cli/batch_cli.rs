@@ -1,0 +1,166 @@
+//! `molefeed batch` as a script drives it: every line answered in order (bad bytes, bad
+//! JSON, oversize lines included), a failed line makes the exit code non-zero, nothing in a
+//! batch reads stdin again, and an oversize line is refused before it is held in memory.
+
+use crate::support::{BIN, peak_kib, remove, run_with_input, scratch, text};
+use serde_json::Value;
+use std::io::{BufRead, BufReader, Write};
+use std::process::{Command, Stdio};
+use std::time::Duration;
+
+const MASS_H2O: &str = r#"{"command":"mass","args":{"positional":["H2O"]}}"#;
+
+fn answers(stdout: &[u8]) -> Vec<Value> {
+    text(stdout)
+        .lines()
+        .map(|l| serde_json::from_str(l).unwrap_or_else(|e| panic!("{e}: {l}")))
+        .collect()
+}
+
+fn error_kind(answer: &Value) -> &str {
+    answer["error"]["kind"].as_str().unwrap_or("(no error)")
+}
+
+#[test]
+fn every_line_gets_an_answer_in_order_and_a_bad_line_fails_the_batch() {
+    let mut input = Vec::new();
+    input.extend_from_slice(MASS_H2O.as_bytes());
+    input.extend_from_slice(
+        b"\n{\"command\":\"mass\",\"args\":{\"positional\":[\"H\xff\xfeO\"]}}\n",
+    );
+    input.extend_from_slice(b"\n"); // blank: no request, no answer
+    input.extend_from_slice(b"not json\n");
+    input.extend_from_slice(&vec![b' '; molefeed::cli::MAX_BATCH_LINE]);
+    input.extend_from_slice(b"x\n");
+    input.extend_from_slice(b"{\"command\":\"mass\",\"args\":{\"positional\":[\"NaCl\"]}}"); // no final newline
+    let out = run_with_input(&["batch"], &input, Duration::from_secs(60));
+    assert_eq!(out.status.code(), Some(1), "{}", text(&out.stderr));
+    let answers = answers(&out.stdout);
+    assert_eq!(answers.len(), 5, "{}", text(&out.stdout));
+    let h2o = answers[0]["molar_mass_g_mol"].as_f64().unwrap();
+    assert!((h2o - 18.015).abs() < 0.001, "{}", answers[0]);
+    assert_eq!(error_kind(&answers[1]), "not-utf8");
+    assert_eq!(error_kind(&answers[2]), "usage");
+    assert_eq!(error_kind(&answers[3]), "line-too-long");
+    let nacl = answers[4]["molar_mass_g_mol"].as_f64().unwrap();
+    assert!((nacl - 58.44).abs() < 0.01, "{}", answers[4]);
+}
+
+#[test]
+fn a_batch_of_good_lines_exits_zero() {
+    let input = format!("{MASS_H2O}\r\n{MASS_H2O}\n");
+    let out = run_with_input(&["batch"], input.as_bytes(), Duration::from_secs(30));
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert_eq!(answers(&out.stdout).len(), 2);
+}
+
+#[test]
+fn log_append_inside_a_batch_takes_its_entry_from_the_line_and_never_reads_stdin() {
+    let dir = scratch("batch-append");
+    let log = dir.join("site.doselog");
+    let log_text = log.to_str().unwrap();
+    let template = run_with_input(&["log", "template", "--json"], b"", Duration::from_secs(30));
+    let entry: Value = serde_json::from_slice(&template.stdout).unwrap();
+    let with_entry = serde_json::json!({
+        "command": "log",
+        "args": {"positional": ["append"], "file": log_text, "device": "tab-1", "entry": entry},
+    });
+    let without_entry = serde_json::json!({
+        "command": "log",
+        "args": {"positional": ["append"], "file": log_text, "device": "tab-1"},
+    });
+    let list = serde_json::json!({
+        "command": "log",
+        "args": {"positional": ["list"], "file": log_text},
+    });
+    // Without an entry the old batch locked stdin a second time and hung here.
+    let input = format!("{without_entry}\n{with_entry}\n{list}\n");
+    let out = run_with_input(&["batch"], input.as_bytes(), Duration::from_secs(30));
+    let answers = answers(&out.stdout);
+    assert_eq!(answers.len(), 3, "{}", text(&out.stdout));
+    assert_eq!(error_kind(&answers[0]), "usage");
+    assert!(
+        answers[0]["error"]["message"]
+            .as_str()
+            .unwrap()
+            .contains("\"entry\""),
+        "{}",
+        answers[0]
+    );
+    let id = answers[1]["id"].as_str().expect("an id").to_string();
+    let listed = answers[2]["entries"].as_array().unwrap();
+    assert_eq!(listed.len(), 1, "{}", answers[2]);
+    assert_eq!(listed[0]["id"], id.as_str());
+    assert_eq!(out.status.code(), Some(1), "the first line failed");
+    remove(&dir);
+}
+
+#[test]
+fn a_soak_inside_a_batch_is_refused_and_writes_no_bare_ids() {
+    let dir = scratch("batch-soak");
+    let log = dir.join("soak.doselog");
+    let line = serde_json::json!({
+        "command": "log",
+        "args": {"positional": ["soak"], "file": log.to_str().unwrap(), "count": 2},
+    });
+    let out = run_with_input(
+        &["batch"],
+        format!("{line}\n").as_bytes(),
+        Duration::from_secs(30),
+    );
+    let answers = answers(&out.stdout);
+    assert_eq!(answers.len(), 1, "{}", text(&out.stdout));
+    assert_eq!(error_kind(&answers[0]), "usage");
+    remove(&dir);
+}
+
+/// A 100 MB line is answered with an error while the batch's peak memory stays far below
+/// the line's size: the length is counted as the bytes stream past, never held.
+#[test]
+fn an_oversize_line_is_refused_without_being_held_in_memory() {
+    let mut child = Command::new(BIN)
+        .arg("batch")
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut stdin = child.stdin.take().unwrap();
+    // Answers are read on a thread so a batch that never answers fails the test in time.
+    let stdout = BufReader::new(child.stdout.take().unwrap());
+    let (answer_tx, answers) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        for line in stdout.lines() {
+            if answer_tx.send(line.unwrap()).is_err() {
+                break;
+            }
+        }
+    });
+    let chunk = vec![b'7'; 1 << 20];
+    for _ in 0..100 {
+        stdin.write_all(&chunk).unwrap();
+    }
+    stdin.write_all(b"\n").unwrap();
+    stdin.write_all(MASS_H2O.as_bytes()).unwrap();
+    stdin.write_all(b"\n").unwrap();
+    stdin.flush().unwrap();
+    let mut next_answer = || {
+        answers
+            .recv_timeout(Duration::from_secs(60))
+            .unwrap_or_else(|_| {
+                child.kill().unwrap();
+                panic!("the batch did not answer while its stdin stayed open");
+            })
+    };
+    let (first, second) = (next_answer(), next_answer());
+    // The batch now waits for more input: its peak so far covers the whole 100 MB line.
+    let peak_mib = peak_kib(child.id()) / 1024;
+    drop(stdin);
+    let status = child.wait().unwrap();
+    let first: Value = serde_json::from_str(&first).unwrap();
+    assert_eq!(error_kind(&first), "line-too-long", "{first}");
+    let second: Value = serde_json::from_str(&second).unwrap();
+    assert!(second["molar_mass_g_mol"].is_number(), "{second}");
+    assert_eq!(status.code(), Some(1));
+    assert!(peak_mib < 40, "peak {peak_mib} MiB for a 100 MB line");
+}
