@@ -601,3 +601,60 @@ fn site_files_have_portable_names_inside_the_given_directory() {
         Some("Riverside___North___old__works.doselog")
     );
 }
+
+/// Writes `tests/fixtures/log-v1.doselog` with this build's record version 1, once, so that
+/// later versions can prove they still read it. Run by hand:
+/// `cargo test --no-default-features --lib write_v1_fixture -- --ignored`.
+#[test]
+#[ignore]
+fn write_v1_fixture() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/log-v1.doselog");
+    let _ = std::fs::remove_file(&path);
+    let mut log = Log::open(&path, "fixture-tablet").unwrap();
+    let at = |t: &str| Some(DateTime::parse_from_rfc3339(t).unwrap());
+    let first = log
+        .append(Draft::Entry {
+            at: at("2026-03-04T07:15:00+02:00"),
+            site: "Riverside WTP".into(),
+            dose: record::example_dose(),
+        })
+        .unwrap();
+    // What the app wrote for a gas feed: zeros where nothing was computed.
+    let mut gas = record::example_dose();
+    gas.tap = "Filter effluent".into();
+    gas.chemical = "product-chlorine-gas".into();
+    gas.product = "product-chlorine-gas".into();
+    gas.flow_m3_per_h = 375.0;
+    gas.dose_mg_per_l = 2.0;
+    gas.feed_rate_l_per_h = 0.0;
+    gas.pump_setting_percent = 0.0;
+    gas.inputs.clear();
+    gas.results.clear();
+    gas.cautions = vec!["hazard-toxic-gas".into()];
+    gas.cross_check = None;
+    let second = log
+        .append(Draft::Entry {
+            at: at("2026-03-04T09:30:00+02:00"),
+            site: "Riverside WTP".into(),
+            dose: gas,
+        })
+        .unwrap();
+    let mut fixed = record::example_dose();
+    fixed.operator = "KT".into();
+    fixed.dose_mg_per_l = 1.6;
+    fixed.note = "meter read again".into();
+    log.append(Draft::Correction {
+        at: at("2026-03-04T10:00:00+02:00"),
+        corrects: first,
+        reason: "wrong flow reading".into(),
+        dose: fixed,
+    })
+    .unwrap();
+    log.append(Draft::Void {
+        at: at("2026-03-04T11:00:00+02:00"),
+        operator: "KT".into(),
+        voids: second,
+        reason: "logged at the wrong tap".into(),
+    })
+    .unwrap();
+}
