@@ -6,6 +6,7 @@
 //! functions serve `molefeed batch`.
 
 use super::{Args, CliError, CliResult, Report};
+use crate::engine::dosing::units::UnitSystem;
 use crate::log::{self, Draft, Log, Query, export};
 use chrono::NaiveDate;
 use serde_json::json;
@@ -137,14 +138,23 @@ fn list(args: &Args) -> CliResult {
         human.push_str(&format!("recovery: {m}\n"));
     }
     for v in &views {
+        // What was not computed is said as a dash, never as 0.
+        let dose = v
+            .dose
+            .dose_mg_per_l()
+            .map_or_else(|| "—".to_string(), |d| d.to_string());
+        let setting = v.dose.setting.as_ref().map_or_else(
+            || "no setting".to_string(),
+            |s| format!("{} {} %", s.device, s.percent),
+        );
         human.push_str(&format!(
-            "{}  {}  {} / {}  {} mg/L  pump {} %  [{}] {}\n",
+            "{}  {}  {} / {}  {} mg/L  {}  [{}] {}\n",
             v.at.format("%Y-%m-%d %H:%M %:z"),
             v.dose.operator,
             v.dose.tap,
             v.dose.chemical,
-            v.dose.dose_mg_per_l,
-            v.dose.pump_setting_percent,
+            dose,
+            setting,
             v.status.word(),
             v.id,
         ));
@@ -195,13 +205,26 @@ fn history(args: &Args) -> CliResult {
     })
 }
 
+/// `--units us|si`: the unit system of the CSV's numbers (the site's); SI when not given.
+fn units(args: &Args) -> Result<UnitSystem, CliError> {
+    match args.text("units")? {
+        None | Some("si") => Ok(UnitSystem::Si),
+        Some("us") => Ok(UnitSystem::Us),
+        Some(other) => Err(CliError::usage(format!(
+            "--units must be us or si, got '{other}'"
+        ))),
+    }
+}
+
 fn export_cmd(args: &Args) -> CliResult {
     let log = open_existing(args)?;
     let format = args.required_text("format")?;
     let query = query(args)?;
     let mut out = Vec::new();
+    // Read even for JSON Lines, whose numbers keep their logged units: a flag is never ignored.
+    let units = units(args)?;
     let rows = match format {
-        "csv" => export::csv(&log, &query, &mut out),
+        "csv" => export::csv(&log, &query, units, &mut out),
         "jsonl" => export::jsonl(&log, &query, &mut out),
         other => {
             return Err(CliError::usage(format!(

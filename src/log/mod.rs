@@ -26,7 +26,10 @@ pub mod sample;
 
 pub use error::{Error, ErrorKind, Result};
 pub use frame::Span;
-pub use record::{Correction, CrossCheck, Dose, Draft, Entry, Kind, Quantity, Record, Void};
+pub use record::{
+    Correction, CrossCheck, Dose, Draft, Entry, Kind, LoggedCaution, LoggedInput, LoggedResult,
+    ProductRef, Record, Setting, Void,
+};
 
 use chrono::{DateTime, FixedOffset, NaiveDate, SubsecRound};
 use index::{Index, Inserted};
