@@ -9,7 +9,7 @@
 mod common;
 
 use i_slint_backend_testing::ElementHandle;
-use molefeed::app::dose_log::{DoseLog, PersistentLog};
+use molefeed::app::dose_log::PersistentLog;
 use molefeed::app::i18n::Texts;
 use molefeed::app::numbers::{self, Lang};
 use molefeed::app::seams::{Unconnected, connected_engine};
