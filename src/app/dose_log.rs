@@ -773,9 +773,13 @@ pub fn dose_of(
             true,
         );
     }
-    // A pump's setting for a liquid; a gas or dry feeder's for a product fed by mass.
+    // A pump's setting for a liquid; a gas or dry feeder's for a product fed by mass. Above
+    // full scale it is no setting anyone can make: logged as what it is, with no `setting`.
     let pump = outcome.pump_setting_percent;
-    let setting_id = if form.by_mass() {
+    let settable = pump.filter(|p| (0.0..=100.0).contains(p));
+    let setting_id = if settable.is_none() {
+        BEYOND_FULL_SCALE
+    } else if form.by_mass() {
         result_id::FEEDER_SETTING
     } else {
         result_id::PUMP_SETTING
@@ -785,7 +789,7 @@ pub fn dose_of(
         let id = crate::log::record::snake_case(extra.key);
         result(&id, Some(extra.value), view.unit, &view.value, false);
     }
-    let setting = pump.filter(|p| p.is_finite()).map(|percent| Setting {
+    let setting = settable.map(|percent| Setting {
         device: match form {
             FeedForm::Liquid => "metering-pump",
             FeedForm::Gas => "gas-feeder",
@@ -866,6 +870,9 @@ pub fn dose_of(
         note: String::new(),
     })
 }
+
+/// The result id of a setting the card computed above 100 % of the pump's or feeder's scale.
+pub const BEYOND_FULL_SCALE: &str = "setting_beyond_full_scale";
 
 /// The engine's stable calculator id (and mode, where the id alone does not say it) of an app
 /// calculator variant.
@@ -1321,6 +1328,46 @@ mod tests {
         assert_eq!(json["dose"]["setting"]["device"], "gas-feeder");
         assert_eq!(json["dose"]["product"]["name"], "Chlorine gas");
         assert_eq!(json["dose"]["inputs"][0]["text"], "9000");
+    }
+
+    /// 9000 m³/d × 2 g/m³ = 18 kg/d of Cl2; hypochlorite at 12.5 trade % holds 125 g/L of
+    /// available chlorine, so 144 L/d = 6 L/h; a 1 L/h pump would have to run at 600 %: logged
+    /// as that, never as a setting, and the entry is kept.
+    #[test]
+    fn a_setting_beyond_full_scale_is_logged_as_what_it_is() {
+        let mut calc =
+            CalcController::new(crate::app::seams::connected_engine(), Lang::En, Shown::Si);
+        calc.set_kind(CalcKind::FeedSetting);
+        let hypo = calc
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "sodium-hypochlorite")
+            .expect("hypochlorite is offered");
+        calc.set_product(hypo);
+        for (name, text) in [
+            ("flow", "9000"),
+            ("dose", "2"),
+            ("strength", "12.5"),
+            ("specific-gravity", "1.2"),
+            ("pump-capacity", "1"),
+        ] {
+            calc.edit(name, text);
+        }
+        let request = calc.current_request().unwrap();
+        let catalog = Catalog::builtin().unwrap();
+        let d = dose_of(&calc.view(), &request, Some(&catalog), by()).unwrap();
+        assert_eq!(d.setting, None);
+        assert_eq!(d.result("pump_setting"), None);
+        let beyond = d
+            .result(BEYOND_FULL_SCALE)
+            .expect("the number the card showed");
+        assert!((beyond.value - 600.0).abs() < 1e-6, "{}", beyond.value);
+        let volume = d.result("product_volume_rate").unwrap();
+        assert!((volume.value - 6.0).abs() < 1e-9, "{}", volume.value);
+        assert_eq!(volume.unit, "L/h");
+        let mut log = PersistentLog::scratch();
+        assert_eq!(log.append("North plant", None, d), Ok(1));
     }
 
     #[test]
