@@ -5,7 +5,7 @@
 //! Rendering is not included (the software renderer draws on the next frame, in its own time).
 use criterion::{Criterion, criterion_group, criterion_main};
 use i_slint_backend_testing::ElementHandle;
-use molefeed::app::dose_log::MemoryLog;
+use molefeed::app::dose_log::PersistentLog;
 use molefeed::app::i18n::Texts;
 use molefeed::app::numbers::Lang;
 use molefeed::app::seams::connected_engine;
@@ -40,7 +40,7 @@ fn keystroke(c: &mut Criterion) {
         &app,
         Deps {
             engine: connected_engine(),
-            log: Box::new(MemoryLog::default()),
+            log: Box::new(PersistentLog::scratch()),
             data_dir: None,
             lang: Some(Lang::En),
             quit_on_root_back: false,

@@ -3,6 +3,7 @@
 //! Targets on the project's 2-core machine: append ≤ 5 ms, open ≤ 200 ms, export ≤ 500 ms.
 
 use criterion::{Criterion, criterion_group, criterion_main};
+use molefeed::engine::dosing::units::UnitSystem;
 use molefeed::log::{Draft, Log, Query, export, record, sample};
 use std::path::PathBuf;
 use std::time::Duration;
@@ -50,7 +51,13 @@ fn open_and_export(c: &mut Criterion) {
     let log = Log::open(&path, "bench").expect("open");
     group.bench_function("csv_export", |b| {
         b.iter(|| {
-            let rows = export::csv(&log, &Query::default(), &mut std::io::sink()).expect("export");
+            let rows = export::csv(
+                &log,
+                &Query::default(),
+                UnitSystem::Si,
+                &mut std::io::sink(),
+            )
+            .expect("export");
             assert_eq!(rows, ENTRIES);
         })
     });

@@ -4,6 +4,7 @@
 //!
 //! Run with `cargo run --release --no-default-features --example log_memory`.
 
+use molefeed::engine::dosing::units::UnitSystem;
 use molefeed::log::{Log, Query, export, sample};
 use std::path::Path;
 
@@ -54,7 +55,12 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let (opened_in, open_cpu) = (started.elapsed(), cpu_time() - cpu);
     let after_open = status_kib("VmHWM:").unwrap_or(0);
     let (started, cpu) = (std::time::Instant::now(), cpu_time());
-    let rows = export::csv(&log, &Query::default(), &mut std::io::sink())?;
+    let rows = export::csv(
+        &log,
+        &Query::default(),
+        UnitSystem::Si,
+        &mut std::io::sink(),
+    )?;
     let (exported_in, export_cpu) = (started.elapsed(), cpu_time() - cpu);
     let after_export = status_kib("VmHWM:").unwrap_or(0);
     println!(

@@ -2,6 +2,7 @@
 //! the lock, and the `molefeed log` commands end to end (template, append, list, export,
 //! merge), with the CSV export read back by an independent CSV parser.
 
+use molefeed::engine::dosing::units::UnitSystem;
 use molefeed::log::{self, Draft, Log, Query, Status, export};
 use std::collections::HashSet;
 use std::io::{BufRead, BufReader, Write};
@@ -218,10 +219,11 @@ fn template_append_list_round_trip() {
     let entries = reply["entries"].as_array().unwrap();
     assert_eq!(entries.len(), 1);
     assert_eq!(entries[0]["id"], id.to_string());
-    assert_eq!(entries[0]["dose"]["pump_setting_percent"], 42.5);
+    assert_eq!(entries[0]["dose"]["setting"]["percent"], 42.5);
     assert_eq!(reply["recovery"]["clean"], true);
 
-    let correction = serde_json::json!({
+    // Writers write version 2 only: a correction in the old four-number shape is refused.
+    let old_shape = serde_json::json!({
         "type": "correction",
         "corrects": id,
         "reason": "pump was set to 40 %",
@@ -231,12 +233,34 @@ fn template_append_list_round_trip() {
             "feed_rate_l_per_h": 5.04, "pump_setting_percent": 40.0
         }
     });
+    let refused = molefeed(&["log", "append", "--file", file], &old_shape.to_string());
+    assert_eq!(refused.status.code(), Some(1), "{}", text(&refused.stdout));
+    // A correction is a whole recomputed result: every number of the new setting together.
+    let mut fixed = log::record::example_dose();
+    fixed.operator = "AB".into();
+    for r in &mut fixed.results {
+        if r.id == "pump_setting" {
+            (r.value, r.shown) = (40.0, "40.0".into());
+        }
+    }
+    fixed.setting.as_mut().unwrap().percent = 40.0;
+    let correction = serde_json::json!({
+        "type": "correction",
+        "corrects": id,
+        "reason": "pump was set to 40 %",
+        "dose": fixed,
+    });
     let corrected = molefeed(&["log", "append", "--file", file], &correction.to_string());
     assert!(corrected.status.success(), "{}", text(&corrected.stderr));
     let listed = molefeed(&["log", "list", "--file", file, "--json"], "");
     let reply: serde_json::Value = serde_json::from_slice(&listed.stdout).unwrap();
     assert_eq!(reply["entries"][0]["status"], "corrected");
-    assert_eq!(reply["entries"][0]["dose"]["pump_setting_percent"], 40.0);
+    assert_eq!(reply["entries"][0]["dose"]["setting"]["percent"], 40.0);
+    assert_eq!(
+        reply["entries"][0]["dose"],
+        serde_json::to_value(&fixed).unwrap(),
+        "the whole corrected result is current"
+    );
     let history = molefeed(
         &[
             "log",
@@ -254,7 +278,7 @@ fn template_append_list_round_trip() {
     assert_eq!(records.len(), 2);
     assert_eq!(records[0]["type"], "entry");
     assert_eq!(
-        records[0]["dose"]["pump_setting_percent"], 42.5,
+        records[0]["dose"]["setting"]["percent"], 42.5,
         "the original is unchanged"
     );
     assert_eq!(records[1]["type"], "correction");
@@ -271,12 +295,18 @@ fn template_append_list_round_trip() {
     remove(&dir);
 }
 
+/// Sets result `id` of `dose` to `value` in `unit`.
+fn set(dose: &mut log::record::Dose, id: &str, value: f64, unit: &str) {
+    let r = dose.results.iter_mut().find(|r| r.id == id).unwrap();
+    (r.value, r.unit) = (value, unit.into());
+}
+
 fn draft(note: &str, at: &str, tap: &str) -> Draft {
     let mut dose = log::record::example_dose();
     dose.note = note.into();
     dose.tap = tap.into();
-    dose.flow_m3_per_h = 1234.5;
-    dose.dose_mg_per_l = 0.1 + 0.2;
+    set(&mut dose, "flow", 1234.5, "m³/h");
+    set(&mut dose, "dose", 0.1 + 0.2, "mg/L");
     Draft::Entry {
         at: Some(chrono::DateTime::parse_from_rfc3339(at).unwrap()),
         site: "Riverside, \"north\" works".into(),
@@ -314,8 +344,8 @@ fn csv_export_round_trips_through_a_csv_parser() {
     let mut corrected = log::record::example_dose();
     corrected.note = "plain, corrected".into();
     corrected.tap = "tap, \"A\"".into();
-    corrected.flow_m3_per_h = 1234.5;
-    corrected.dose_mg_per_l = 0.1 + 0.2;
+    set(&mut corrected, "flow", 1234.5, "m³/h");
+    set(&mut corrected, "dose", 0.1 + 0.2, "mg/L");
     let correction = log
         .append(Draft::Correction {
             at: None,
@@ -346,17 +376,19 @@ fn csv_export_round_trips_through_a_csv_parser() {
     assert!(out.status.success(), "{}", text(&out.stderr));
     let mut reader = csv::Reader::from_reader(out.stdout.as_slice());
     let header: Vec<String> = reader.headers().unwrap().iter().map(String::from).collect();
-    assert_eq!(header, export::CSV_COLUMNS);
+    let columns = export::csv_columns(UnitSystem::Si);
+    assert_eq!(header, columns);
     let rows: Vec<csv::StringRecord> = reader.records().map(Result::unwrap).collect();
     assert_eq!(rows.len(), 5, "March only, voided entry left out");
-    let column = |name: &str| export::CSV_COLUMNS.iter().position(|c| *c == name).unwrap();
+    let column = |name: &str| columns.iter().position(|c| *c == name).unwrap();
     for (row, (note, id)) in rows.iter().zip(notes.iter().zip(&ids)) {
-        assert_eq!(row.len(), export::CSV_COLUMNS.len());
+        assert_eq!(row.len(), columns.len());
         assert_eq!(&row[column("id")], id.to_string());
         assert_eq!(&row[column("note")], note.as_str());
         assert_eq!(&row[column("site")], "Riverside, \"north\" works");
         assert_eq!(&row[column("tap")], "tap, \"A\"");
-        assert_eq!(&row[column("flow_m3_per_h")], "1234.5");
+        // 1234.5 m³/h × 24 h/d, in the SI report's m³/d.
+        assert_eq!(&row[column("flow_m3_per_d")], "29628");
         assert_eq!(
             row[column("dose_mg_per_L")].parse::<f64>().unwrap(),
             0.1 + 0.2
@@ -370,6 +402,7 @@ fn csv_export_round_trips_through_a_csv_parser() {
     assert_eq!(&rows[0][column("revisions")], "1");
     assert_eq!(&rows[0][column("last_change_id")], correction.to_string());
     assert_eq!(&rows[0][column("last_change_reason")], "typo, \"fixed\"");
+    assert_eq!(&rows[0][column("correction_reason")], "typo, \"fixed\"");
     assert_eq!(&rows[1][column("status")], "original");
     assert_eq!(&rows[1][column("last_change_reason")], "");
 
@@ -479,7 +512,8 @@ fn csv_defuses_text_a_spreadsheet_would_run_and_json_lines_keeps_it() {
     };
     let csv = export("csv");
     let mut reader = csv::Reader::from_reader(csv.as_slice());
-    let column = |name: &str| export::CSV_COLUMNS.iter().position(|c| *c == name).unwrap();
+    let columns = export::csv_columns(UnitSystem::Si);
+    let column = |name: &str| columns.iter().position(|c| *c == name).unwrap();
     let notes: Vec<(String, String)> = reader
         .records()
         .map(|r| {
@@ -503,6 +537,257 @@ fn csv_defuses_text_a_spreadsheet_would_run_and_json_lines_keeps_it() {
         serde_json::from_str(text(&jsonl).lines().next().unwrap()).unwrap();
     assert_eq!(first["dose"]["note"], "=HYPERLINK(\"http://x\",\"y\")");
     let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// The site's units in the report: the same entries in US and SI, each number checked against
+/// a hand conversion (1 MGD = 3785.411784 m³/d exactly; 1 lb = 0.45359237 kg; 1 gal =
+/// 3.785411784 L), every number header naming its unit, and an empty cell for a gas feed's
+/// product volume and pump setting, which were never computed.
+#[test]
+fn csv_writes_the_sites_units_and_leaves_what_was_not_computed_empty() {
+    let dir = fresh_dir("csv-units");
+    let path = dir.join("site.doselog");
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    let mut liquid = log::record::example_dose();
+    set(&mut liquid, "flow", 1.0, "MGD");
+    set(&mut liquid, "feed_mass_rate", 100.0, "lb/d");
+    set(&mut liquid, "product_volume_rate", 2.0, "gal/h");
+    let mut gas = log::record::example_dose();
+    gas.calculator = "free-chlorine".into();
+    gas.product = Some(log::record::ProductRef {
+        id: "chlorine-gas".into(),
+        name: "Chlorine gas".into(),
+    });
+    gas.results
+        .retain(|r| r.id != "product_volume_rate" && r.id != "pump_setting");
+    gas.setting = None;
+    gas.cross_check = None;
+    set(&mut gas, "flow", 3785.411784, "m³/d");
+    for (n, dose) in [liquid, gas].into_iter().enumerate() {
+        log.append(Draft::Entry {
+            at: Some(
+                chrono::DateTime::parse_from_rfc3339(&format!("2026-06-0{}T08:00:00Z", n + 1))
+                    .unwrap(),
+            ),
+            site: "Riverside".into(),
+            dose,
+        })
+        .unwrap();
+    }
+    drop(log);
+    let export = |units: &str| {
+        let out = molefeed(
+            &[
+                "log",
+                "export",
+                "--file",
+                path.to_str().unwrap(),
+                "--format",
+                "csv",
+                "--units",
+                units,
+            ],
+            "",
+        );
+        assert!(out.status.success(), "{}", text(&out.stderr));
+        let mut reader = csv::Reader::from_reader(out.stdout.as_slice());
+        let header: Vec<String> = reader.headers().unwrap().iter().map(String::from).collect();
+        let rows: Vec<Vec<String>> = reader
+            .records()
+            .map(|r| r.unwrap().iter().map(String::from).collect())
+            .collect();
+        (header, rows)
+    };
+    let close = |cell: &str, want: f64| {
+        let got: f64 = cell
+            .parse()
+            .unwrap_or_else(|_| panic!("'{cell}' is not a number"));
+        assert!(
+            (got - want).abs() <= 1e-9 * want.abs().max(1.0),
+            "{got} vs {want}"
+        );
+    };
+    let (us, us_rows) = export("us");
+    let (si, si_rows) = export("si");
+    let number_headers = |h: &[String]| -> Vec<String> {
+        h.iter()
+            .filter(|c| {
+                c.starts_with("flow")
+                    || c.contains("rate")
+                    || c.starts_with("dose")
+                    || c.contains("setting_percent")
+            })
+            .cloned()
+            .collect()
+    };
+    assert_eq!(
+        number_headers(&us),
+        [
+            "flow_MGD",
+            "dose_mg_per_L",
+            "feed_mass_rate_lb_per_d",
+            "product_volume_rate_gal_per_h",
+            "product_mass_rate_lb_per_d",
+            "pump_setting_percent",
+            "feeder_setting_percent",
+            "cross_check_feed_rate_gal_per_h"
+        ]
+    );
+    assert_eq!(
+        number_headers(&si),
+        [
+            "flow_m3_per_d",
+            "dose_mg_per_L",
+            "feed_mass_rate_kg_per_d",
+            "product_volume_rate_L_per_h",
+            "product_mass_rate_kg_per_d",
+            "pump_setting_percent",
+            "feeder_setting_percent",
+            "cross_check_feed_rate_L_per_h"
+        ]
+    );
+    let cell = |header: &[String], row: &[String], name: &str| {
+        row[header.iter().position(|c| c == name).unwrap()].clone()
+    };
+    // The liquid feed, logged in US units.
+    close(&cell(&us, &us_rows[0], "flow_MGD"), 1.0);
+    close(&cell(&si, &si_rows[0], "flow_m3_per_d"), 3785.411784);
+    close(
+        &cell(&si, &si_rows[0], "feed_mass_rate_kg_per_d"),
+        45.359237,
+    );
+    close(
+        &cell(&si, &si_rows[0], "product_volume_rate_L_per_h"),
+        7.570823568,
+    );
+    close(
+        &cell(&us, &us_rows[0], "product_volume_rate_gal_per_h"),
+        2.0,
+    );
+    close(
+        &cell(&us, &us_rows[0], "cross_check_feed_rate_gal_per_h"),
+        5.1 / 3.785411784,
+    );
+    close(&cell(&us, &us_rows[0], "pump_setting_percent"), 42.5);
+    assert_eq!(cell(&us, &us_rows[0], "product_mass_rate_lb_per_d"), "");
+    // The gas feed, logged in SI: nothing invented.
+    close(&cell(&us, &us_rows[1], "flow_MGD"), 1.0);
+    close(
+        &cell(&us, &us_rows[1], "feed_mass_rate_lb_per_d"),
+        18.144 / 0.45359237,
+    );
+    for (header, rows, volume) in [
+        (&us, &us_rows, "product_volume_rate_gal_per_h"),
+        (&si, &si_rows, "product_volume_rate_L_per_h"),
+    ] {
+        assert_eq!(cell(header, &rows[1], volume), "");
+        assert_eq!(cell(header, &rows[1], "pump_setting_percent"), "");
+        assert_eq!(cell(header, &rows[1], "setting_device"), "");
+        assert_eq!(cell(header, &rows[1], "product"), "Chlorine gas");
+        assert_eq!(cell(header, &rows[1], "calculator"), "free-chlorine");
+    }
+    let jsonl = molefeed(
+        &[
+            "log",
+            "export",
+            "--file",
+            path.to_str().unwrap(),
+            "--format",
+            "jsonl",
+        ],
+        "",
+    );
+    let gas: serde_json::Value =
+        serde_json::from_str(text(&jsonl.stdout).lines().nth(1).unwrap()).unwrap();
+    let ids: Vec<&str> = gas["dose"]["results"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["id"].as_str().unwrap())
+        .collect();
+    assert_eq!(ids, ["flow", "dose", "feed_mass_rate"]);
+    assert!(gas["dose"].get("setting").is_none(), "{gas}");
+    let bad = molefeed(
+        &[
+            "log",
+            "export",
+            "--file",
+            path.to_str().unwrap(),
+            "--format",
+            "csv",
+            "--units",
+            "imperial",
+        ],
+        "",
+    );
+    assert_eq!(bad.status.code(), Some(2));
+    remove(&dir);
+}
+
+/// `tests/fixtures/log-v1.doselog` was written once by the version-1 code (two entries, a
+/// correction and a void; see its README). It must keep reading: every record in the
+/// version-2 shape, its four numbers carried as they were, zeros included.
+#[test]
+fn a_version_1_log_file_still_reads_and_exports() {
+    let dir = fresh_dir("v1");
+    let path = dir.join("old.doselog");
+    std::fs::copy(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/log-v1.doselog"),
+        &path,
+    )
+    .unwrap();
+    let log = Log::open_read_only(&path).unwrap();
+    assert!(log.recovery().is_clean(), "{:?}", log.recovery().messages());
+    let views = log
+        .query(&Query {
+            include_voided: true,
+            ..Query::default()
+        })
+        .unwrap();
+    assert_eq!(views.len(), 2);
+    let first = &views[0].dose;
+    assert_eq!(views[0].status, Status::Corrected);
+    assert_eq!(first.calculator, log::record::CALCULATOR_UNRECORDED);
+    assert_eq!(first.operator, "KT", "the correction is current");
+    assert_eq!(first.dose_mg_per_l(), Some(1.6));
+    let result = |d: &log::record::Dose, id: &str| d.result(id).map(|r| (r.value, r.unit.clone()));
+    assert_eq!(result(first, "flow"), Some((420.0, "m³/h".to_string())));
+    assert_eq!(result(first, "pump_setting"), Some((42.5, "%".to_string())));
+    assert_eq!(first.note, "meter read again");
+    let gas = &views[1].dose;
+    assert_eq!(views[1].status, Status::Voided);
+    assert_eq!(
+        result(gas, "product_volume_rate"),
+        Some((0.0, "L/h".to_string())),
+        "a version-1 zero cannot be told from a real one: carried as written"
+    );
+    assert_eq!(gas.cautions[0].text, "hazard-toxic-gas");
+    let history = log.history(views[0].id).unwrap();
+    assert_eq!(history.len(), 2);
+    drop(log);
+    let out = molefeed(
+        &[
+            "log",
+            "export",
+            "--file",
+            path.to_str().unwrap(),
+            "--format",
+            "csv",
+            "--include-voided",
+        ],
+        "",
+    );
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let mut reader = csv::Reader::from_reader(out.stdout.as_slice());
+    let header: Vec<String> = reader.headers().unwrap().iter().map(String::from).collect();
+    let rows: Vec<csv::StringRecord> = reader.records().map(Result::unwrap).collect();
+    assert_eq!(rows.len(), 2);
+    let column = |name: &str| header.iter().position(|c| c == name).unwrap();
+    // 420 m³/h × 24 h/d.
+    assert_eq!(&rows[0][column("flow_m3_per_d")], "10080");
+    assert_eq!(&rows[0][column("dose_mg_per_L")], "1.6");
+    assert_eq!(&rows[1][column("status")], "voided");
+    remove(&dir);
 }
 
 /// The bytes and modification time of a file, to show that a command left it alone.

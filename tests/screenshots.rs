@@ -7,7 +7,7 @@
 
 mod common;
 
-use molefeed::app::dose_log::{Amendment, DoseLog, MemoryLog};
+use molefeed::app::dose_log::{Amendment, DoseLog, PersistentLog};
 use molefeed::app::numbers::Lang;
 use molefeed::app::seams::{CalcKind, connected_engine};
 use molefeed::app::ui::{AppWindow, CalcAdapter, LogAdapter, Nav, SettingsAdapter};
@@ -78,25 +78,30 @@ fn distinct_colours(pixels: &[Rgb8Pixel]) -> usize {
 
 fn seeded_log() -> Box<dyn DoseLog> {
     // Operator-entered records (what a person typed into the log), not computed doses.
-    let mut log = MemoryLog::default();
+    let mut log = PersistentLog::scratch();
     for (day, dose) in [(1, 1.6), (2, 1.8), (3, 1.7), (4, 2.1), (5, 1.9)] {
-        log.append(common::typed_entry(
+        common::log_typed(
+            &mut log,
             &format!("2026-11-0{day}T07:30:00Z"),
             "Harrowmere Tarn Water Works (demo)",
             "Clearwell effluent",
             "NaOCl 12.5 %",
             dose,
-        ))
+        )
         .expect("seed entry");
     }
+    // The correction is a whole recomputed result: entry 4 as recomputed at 1.9 mg/L.
+    let mut recomputed = log.entries()[3].dose.clone();
+    recomputed.operator = "KT".into();
+    recomputed.note = "checked against the chart recorder".into();
+    recomputed.results[0].value = 1.9;
+    recomputed.results[0].shown = "1.9".into();
     // One corrected and one voided entry, so the log screen shows both marks and a history.
     log.correct(
         4,
         Amendment {
-            operator: "KT".into(),
             reason: "flow meter read 10 % high".into(),
-            dose_mg_per_l: 1.9,
-            note: "checked against the chart recorder".into(),
+            dose: recomputed,
         },
     )
     .expect("seed correction");

@@ -9,7 +9,7 @@
 mod common;
 
 use i_slint_backend_testing::ElementHandle;
-use molefeed::app::dose_log::{DoseLog, MemoryLog};
+use molefeed::app::dose_log::PersistentLog;
 use molefeed::app::i18n::Texts;
 use molefeed::app::numbers::{self, Lang};
 use molefeed::app::seams::{Unconnected, connected_engine};
@@ -34,7 +34,7 @@ fn start_at(
         &app,
         Deps {
             engine,
-            log: Box::new(MemoryLog::default()),
+            log: Box::new(PersistentLog::scratch()),
             data_dir: None,
             lang: Some(Lang::En),
             quit_on_root_back: false,
@@ -251,8 +251,8 @@ fn log_button_stores_the_dose_in_the_log() {
     tap(&app, &en("calc-log-dose"));
     let entries = handle.state.borrow().entries();
     assert_eq!(entries.len(), 1);
-    assert_eq!(entries[0].data.dose_mg_per_l, 2.0);
-    assert_eq!(entries[0].data.chemical, "echo-product");
+    assert_eq!(entries[0].dose.dose_mg_per_l(), Some(2.0));
+    assert_eq!(entries[0].dose.chemical, "echo-product");
     // The Start screen lists it and warns that the in-memory log is not saved.
     tap(&app, &en("nav-start"));
     one(&app, &en("banner-not-saved"));
@@ -294,7 +294,7 @@ fn log_button_writes_the_dose_to_the_crash_safe_log_file() {
     fill_feed_setting(&app, "1");
     tap(&app, &en("calc-log-dose"));
     assert!(handle.state.borrow().log_is_persistent());
-    let site = handle.state.borrow().entries()[0].data.site.clone();
+    let site = handle.state.borrow().entries()[0].site.clone();
     drop(handle);
     drop(app);
     // The entry is on disk: a fresh open of the site's file (the app's lock is released) finds it.
@@ -303,7 +303,7 @@ fn log_button_writes_the_dose_to_the_crash_safe_log_file() {
     let views = log.current().unwrap();
     assert_eq!(views.len(), 1);
     assert_eq!(views[0].dose.operator, "KT");
-    assert_eq!(views[0].dose.dose_mg_per_l, 2.0);
+    assert_eq!(views[0].dose.dose_mg_per_l(), Some(2.0));
     assert_eq!(views[0].dose.chemical, "echo-product");
     let _ = std::fs::remove_dir_all(&dir);
 }
@@ -456,20 +456,13 @@ fn softening_shows_lime_and_soda_ash() {
 fn start_with_log(width: f32, height: f32) -> (AppWindow, AppHandle) {
     common::bundled_fonts_only();
     i_slint_backend_testing::init_no_event_loop();
-    let mut log = MemoryLog::default();
+    let mut log = PersistentLog::scratch();
     for (when, point, chemical, dose) in [
         ("2026-11-30T07:00:00Z", "Clearwell", "NaOCl", 1.5),
         ("2026-12-01T07:00:00Z", "Raw water", "NaOH", 12.0),
         ("2026-12-01T08:00:00Z", "Clearwell", "NaOCl", 1.7),
     ] {
-        log.append(common::typed_entry(
-            when,
-            "Demo site",
-            point,
-            chemical,
-            dose,
-        ))
-        .expect("seed entry");
+        common::log_typed(&mut log, when, "Demo site", point, chemical, dose).expect("seed entry");
     }
     let app = AppWindow::new().expect("window");
     let handle = attach(
@@ -504,16 +497,26 @@ fn row_label(point: &str, chemical: &str, dose: &str, status: &str) -> String {
 #[test]
 fn correcting_an_entry_with_a_reason_adds_history_and_changes_the_value() {
     let (app, handle) = start_with_log(1280.0, 2000.0);
+    // A correction records a recomputed result: the feed setting recomputed at 1.8 mg/L.
+    fill_feed_setting(&app, "1");
+    type_into(&app, &en("field-dose"), "1.8");
+    tap(&app, &en("nav-log"));
     tap(&app, &row_label("Clearwell", "NaOCl", "1.50", ""));
     assert_eq!(app.global::<LogAdapter>().get_history().row_count(), 1);
     tap(&app, &en("log-correct"));
     type_into(&app, &en("log-edit-dose"), "1.8");
     type_into(&app, &en("log-edit-reason"), "meter misread");
     tap(&app, &en("log-save-correction"));
-    // The list shows the effective value, marked in words.
+    // The list shows the effective value, marked in words; the recomputed card names its
+    // chemical as the stand-in engine does.
     one(
         &app,
-        &row_label("Clearwell", "NaOCl", "1.80", &en("log-status-corrected")),
+        &row_label(
+            "Clearwell",
+            "echo-product",
+            "1.80",
+            &en("log-status-corrected"),
+        ),
     );
     assert_eq!(
         count(&app, &row_label("Clearwell", "NaOCl", "1.50", "")),
@@ -536,7 +539,11 @@ fn correcting_an_entry_with_a_reason_adds_history_and_changes_the_value() {
     one(&app, "Reason: meter misread");
     one(&app, &en("log-detail-corrected"));
     let entries = handle.state.borrow().entries();
-    assert_eq!(entries[0].data.dose_mg_per_l, 1.8);
+    assert_eq!(entries[0].dose.dose_mg_per_l(), Some(1.8));
+    assert!(
+        entries[0].dose.result("flow").is_some(),
+        "the whole recomputed result"
+    );
 }
 
 #[test]
@@ -626,15 +633,14 @@ fn typed_days_filter_the_list_and_the_export_holds_exactly_those_entries() {
     i_slint_backend_testing::init_no_event_loop();
     let dir = std::env::temp_dir().join(format!("molefeed-ui-export-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
-    let mut log = MemoryLog::default();
+    let mut log = PersistentLog::scratch();
     for (when, point, dose) in [
         ("2026-10-31T23:59:00Z", "Clearwell", 1.1),
         ("2026-11-01T00:05:00Z", "Clearwell", 2.2),
         ("2026-11-30T23:55:00Z", "Raw water", 3.3),
         ("2026-12-01T06:00:00Z", "Clearwell", 4.4),
     ] {
-        log.append(common::typed_entry(when, "Demo site", point, "NaOCl", dose))
-            .expect("seed entry");
+        common::log_typed(&mut log, when, "Demo site", point, "NaOCl", dose).expect("seed entry");
     }
     let app = AppWindow::new().expect("window");
     let _handle = attach(

@@ -971,10 +971,11 @@ impl Inner {
         let adapter = w.global::<LogAdapter>();
         let st = self.state.borrow();
         if let Some(e) = st.selected_entry() {
-            adapter.set_edit_dose(s(numbers::format_sig(e.data.dose_mg_per_l, 6, st.lang())
+            let dose = e.dose.dose_mg_per_l().unwrap_or_default();
+            adapter.set_edit_dose(s(numbers::format_sig(dose, 6, st.lang())
                 .trim_end_matches('0')
                 .trim_end_matches(['.', ','])));
-            adapter.set_edit_note(s(&e.data.note));
+            adapter.set_edit_note(s(&e.dose.note));
         }
         adapter.set_edit_reason(s(""));
     }
@@ -1024,11 +1025,14 @@ impl Inner {
                 .map(|&i| &all[i])
                 .map(|e| LogRow {
                     id: e.id as i32,
-                    when: s(when(&e.data.when).get(..16).unwrap_or_default()),
-                    site: s(&e.data.site),
-                    place: s(&e.data.point),
-                    chemical: s(self.name(&e.data.chemical)),
-                    dose: s(numbers::format_sig(e.data.dose_mg_per_l, 3, lang)),
+                    when: s(when(&e.when).get(..16).unwrap_or_default()),
+                    site: s(&e.site),
+                    place: s(&e.dose.tap),
+                    chemical: s(self.name(&e.dose.chemical)),
+                    dose: s(e
+                        .dose
+                        .dose_mg_per_l()
+                        .map_or_else(|| "—".into(), |d| numbers::format_sig(d, 3, lang))),
                     status: s(self.status_word(e.status)),
                     voided: e.voided(),
                 })
@@ -1100,17 +1104,13 @@ impl Inner {
         });
         let (detail, status) = match &selected {
             Some(e) => {
-                let mass_unit = crate::engine::quantity::Quantity::MassPerDay.unit(st.units());
-                let opt = |v: Option<f64>, u: Unit| {
-                    v.map_or("—".to_string(), |v| {
-                        format!(
-                            "{} {}",
-                            numbers::format_sig(u.from_si(v), 3, lang),
-                            self.unit(u)
-                        )
+                // Each result as the card showed it, in the unit it was logged in.
+                let shown = |id: &str| {
+                    e.dose.result(id).map_or("—".to_string(), |r| {
+                        format!("{} {}", r.shown, r.unit).trim_end().to_string()
                     })
                 };
-                let d = &e.data;
+                let d = &e.dose;
                 let status = match e.status {
                     EntryStatus::Original => String::new(),
                     EntryStatus::Corrected => self.t(key("log-detail-corrected")),
@@ -1118,29 +1118,27 @@ impl Inner {
                 };
                 (
                     vec![
-                        format!("{}: {}", self.t("log-field-when"), when(&d.when)),
-                        format!("{}: {}", self.t("log-field-site"), d.site),
-                        format!("{}: {}", self.t("log-field-point"), d.point),
+                        format!("{}: {}", self.t("log-field-when"), when(&e.when)),
+                        format!("{}: {}", self.t("log-field-site"), e.site),
+                        format!("{}: {}", self.t("log-field-point"), d.tap),
                         format!(
                             "{}: {}",
                             self.t("log-field-chemical"),
-                            self.name(&d.chemical)
+                            d.product
+                                .as_ref()
+                                .map_or_else(|| self.name(&d.chemical), |p| p.name.clone())
                         ),
-                        format!(
-                            "{}: {}",
-                            self.t("result-dose"),
-                            opt(Some(d.dose_mg_per_l), Unit::MgPerL)
-                        ),
-                        format!(
-                            "{}: {}",
-                            self.t("result-feed"),
-                            opt(d.feed_kg_per_day, mass_unit)
-                        ),
-                        format!(
-                            "{}: {}",
-                            self.t("result-pump"),
-                            opt(d.pump_setting_percent, Unit::Percent)
-                        ),
+                        format!("{}: {}", self.t("result-dose"), shown("dose")),
+                        format!("{}: {}", self.t("result-feed"), shown("feed_mass_rate")),
+                        if d.result("feeder_setting").is_some() {
+                            format!(
+                                "{}: {}",
+                                self.t("result-feeder-setting"),
+                                shown("feeder_setting")
+                            )
+                        } else {
+                            format!("{}: {}", self.t("result-pump"), shown("pump_setting"))
+                        },
                         format!("{}: {}", self.t("log-field-operator"), d.operator),
                         format!("{}: {}", self.t("log-field-note"), d.note),
                     ],

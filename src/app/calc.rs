@@ -700,6 +700,7 @@ mod tests {
                         params: vec![],
                     },
                 ],
+                table: None,
             })
         }
     }

@@ -1,45 +1,27 @@
 //! The seam between the UI and the dose log: a trait the screens use, the crash-safe
-//! [`PersistentLog`] behind it, and an in-memory [`MemoryLog`] for tests and previews.
+//! [`PersistentLog`] behind it, and [`dose_of`], the one place a calculator result becomes the
+//! log's own record.
 //!
-//! Design choice: the UI only ever talks to [`DoseLog`]. An [`Entry`] is what the list shows:
-//! the entry as it stands now (the latest correction applied) with its status in words;
-//! the full history (original, corrections, voids with time, initials and reason) is read
-//! only for the one entry the operator opens, so a 10 000-entry log still opens fast.
-//! Corrections and voids are new records that reference the original — nothing is edited or
-//! dropped. The in-memory [`MemoryLog`] reports `persistent() == false`, which is what makes
-//! the Start screen show its "not saved" banner.
+//! Design choice: the UI only ever talks to [`DoseLog`], and what it stores is the log's own
+//! [`Dose`] — there is no second entry type to drift from it. An [`Entry`] is what the list
+//! shows: the entry as it stands now (the latest correction applied) with its status; the full
+//! history (original, corrections, voids with time, initials and reason) is read only for the
+//! one entry the operator opens, so a 10 000-entry log still opens fast. Corrections and voids
+//! are new records that reference the original — nothing is edited or dropped. Without a data
+//! directory (tests, previews) the same log writes to a scratch directory removed on drop
+//! ([`PersistentLog::scratch`]), so every test goes through the real encoding; it reports
+//! `persistent() == false`, which is what makes the Start screen show its "not saved" banner.
 
+use super::calc::{CalcView, Status};
+use super::numbers::{self, Lang};
+use crate::engine::calculators::{InputUsed, ResultValue};
+use crate::engine::dosing::units::UnitSystem;
+use crate::engine::quantity::Unit;
+use crate::log::record::Dose;
+use chrono::{DateTime, FixedOffset};
 use serde::{Deserialize, Serialize};
 use std::path::Path;
 use std::rc::Rc;
-
-/// A dose the operator decided to record.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
-pub struct NewEntry {
-    /// UTC time, ISO 8601 (`2026-12-02T01:15:00Z`).
-    pub when: String,
-    pub site: String,
-    pub point: String,
-    pub chemical: String,
-    pub dose_mg_per_l: f64,
-    pub feed_kg_per_day: Option<f64>,
-    pub pump_setting_percent: Option<f64>,
-    /// Plant flow when the dose was computed, m³/d (the persistent log wants m³/h).
-    #[serde(default)]
-    pub flow_m3_per_day: Option<f64>,
-    /// Product volume rate, L/h.
-    #[serde(default)]
-    pub product_l_per_hour: Option<f64>,
-    /// "Show the work" and the cautions as they were shown, so the record keeps them.
-    #[serde(default)]
-    pub trace: Vec<String>,
-    #[serde(default)]
-    pub cautions: Vec<String>,
-    pub note: String,
-    /// Operator initials (remembered in Settings). After a correction: who corrected it.
-    #[serde(default)]
-    pub operator: String,
-}
 
 /// How an entry stands now.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
@@ -61,17 +43,17 @@ impl EntryStatus {
     }
 }
 
-/// A stored entry as it stands now: its screen number, the current content (latest
-/// correction applied) and its status.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+/// A stored entry as it stands now: its screen number, when and where it was logged, the
+/// current content (latest correction applied) and its status.
+#[derive(Clone, Debug, PartialEq)]
 pub struct Entry {
     pub id: u64,
-    #[serde(flatten)]
-    pub data: NewEntry,
-    #[serde(default)]
+    /// UTC time, ISO 8601 (`2026-12-02T01:15:00Z`).
+    pub when: String,
+    pub site: String,
+    pub dose: Dose,
     pub status: EntryStatus,
     /// How many corrections and voids reference this entry.
-    #[serde(default)]
     pub revisions: u32,
 }
 
@@ -114,13 +96,11 @@ pub struct Revision {
     pub note: Option<String>,
 }
 
-/// A correction: the new dose and note, who made it and why.
+/// A correction: the whole recomputed result (its `operator` is who corrected it) and why.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Amendment {
-    pub operator: String,
     pub reason: String,
-    pub dose_mg_per_l: f64,
-    pub note: String,
+    pub dose: Dose,
 }
 
 /// The two export formats the operator can choose.
@@ -205,7 +185,13 @@ pub const ERROR_CODES: [&str; 14] = [
 pub trait DoseLog {
     /// Whether entries survive a restart. `false` shows the "not saved" banner.
     fn persistent(&self) -> bool;
-    fn append(&mut self, entry: NewEntry) -> Result<u64, LogError>;
+    /// Logs `dose` for `site`, at `at` (the log's clock when `None`).
+    fn append(
+        &mut self,
+        site: &str,
+        at: Option<DateTime<FixedOffset>>,
+        dose: Dose,
+    ) -> Result<u64, LogError>;
     /// All entries as they stand now (voided ones included, marked), oldest first.
     /// Shared rather than copied: the screens read the list several times a refresh, and a
     /// copy of a 10 000-entry log each time was most of the start-up.
@@ -219,30 +205,16 @@ pub trait DoseLog {
     /// Writes the entries numbered in `only` — the ones the operator's filtered list shows,
     /// voided ones with their status — to a new file at `path`, each site's entries together
     /// and oldest first; returns the count. A file already at `path` is never replaced (`exists`).
-    fn export(&self, path: &Path, format: ExportFormat, only: &[u64]) -> Result<usize, LogError>;
+    /// CSV numbers are written in `units` (the site's), each header naming its unit.
+    fn export(
+        &self,
+        path: &Path,
+        format: ExportFormat,
+        only: &[u64],
+        units: UnitSystem,
+    ) -> Result<usize, LogError>;
     /// Merges another device's file: new records added, known ones skipped, conflicts kept out.
     fn import(&mut self, path: &Path) -> Result<ImportReport, LogError>;
-}
-
-/// A required reason or initials, checked the same way the persistent log does.
-fn require(field: &str, value: &str) -> Result<(), LogError> {
-    if value.trim().is_empty() {
-        return Err(LogError::rejected(
-            "invalid-entry",
-            format!("{field} must not be empty"),
-        ));
-    }
-    Ok(())
-}
-
-fn check_dose(dose: f64) -> Result<(), LogError> {
-    if !dose.is_finite() || dose < 0.0 {
-        return Err(LogError::rejected(
-            "bad-dose",
-            format!("dose {dose} is not a loggable value"),
-        ));
-    }
-    Ok(())
 }
 
 /// Writes `text` to a new file at `path`; a partly written file is removed again.
@@ -279,190 +251,6 @@ fn io_error(doing: &str, path: &Path, e: &std::io::Error) -> LogError {
     from_log_error(crate::log::Error::io(doing, path, e))
 }
 
-/// Entries kept in memory only (tests, previews, no data directory).
-#[derive(Default)]
-pub struct MemoryLog {
-    entries: Vec<(Entry, Vec<Revision>)>,
-}
-
-impl MemoryLog {
-    fn slot(&mut self, id: u64) -> Result<&mut (Entry, Vec<Revision>), LogError> {
-        self.entries
-            .iter_mut()
-            .find(|(e, _)| e.id == id)
-            .ok_or_else(|| LogError::rejected("unknown-entry", format!("no entry {id}")))
-    }
-}
-
-impl DoseLog for MemoryLog {
-    fn persistent(&self) -> bool {
-        false
-    }
-
-    fn append(&mut self, entry: NewEntry) -> Result<u64, LogError> {
-        check_dose(entry.dose_mg_per_l)?;
-        let id = self.entries.last().map_or(1, |(e, _)| e.id + 1);
-        let logged = Revision {
-            kind: RevisionKind::Logged,
-            when: entry.when.clone(),
-            operator: entry.operator.clone(),
-            reason: String::new(),
-            dose_mg_per_l: Some(entry.dose_mg_per_l),
-            note: Some(entry.note.clone()),
-        };
-        self.entries.push((
-            Entry {
-                id,
-                data: entry,
-                status: EntryStatus::Original,
-                revisions: 0,
-            },
-            vec![logged],
-        ));
-        Ok(id)
-    }
-
-    fn entries(&self) -> Rc<Vec<Entry>> {
-        Rc::new(self.entries.iter().map(|(e, _)| e.clone()).collect())
-    }
-
-    fn history(&self, id: u64) -> Result<Vec<Revision>, LogError> {
-        Ok(self
-            .entries
-            .iter()
-            .find(|(e, _)| e.id == id)
-            .map(|(_, h)| h.clone())
-            .unwrap_or_default())
-    }
-
-    fn correct(&mut self, id: u64, fix: Amendment) -> Result<(), LogError> {
-        require("reason", &fix.reason)?;
-        require("operator", &fix.operator)?;
-        check_dose(fix.dose_mg_per_l)?;
-        let (entry, history) = self.slot(id)?;
-        entry.data.dose_mg_per_l = fix.dose_mg_per_l;
-        entry.data.note = fix.note.clone();
-        entry.data.operator = fix.operator.clone();
-        entry.status = EntryStatus::Corrected;
-        entry.revisions += 1;
-        history.push(Revision {
-            kind: RevisionKind::Corrected,
-            when: now_utc_iso(),
-            operator: fix.operator,
-            reason: fix.reason,
-            dose_mg_per_l: Some(fix.dose_mg_per_l),
-            note: Some(fix.note),
-        });
-        Ok(())
-    }
-
-    fn void(&mut self, id: u64, operator: &str, reason: &str) -> Result<(), LogError> {
-        require("reason", reason)?;
-        require("operator", operator)?;
-        let (entry, history) = self.slot(id)?;
-        entry.status = EntryStatus::Voided;
-        entry.revisions += 1;
-        history.push(Revision {
-            kind: RevisionKind::Voided,
-            when: now_utc_iso(),
-            operator: operator.into(),
-            reason: reason.into(),
-            dose_mg_per_l: None,
-            note: None,
-        });
-        Ok(())
-    }
-
-    fn export(&self, path: &Path, format: ExportFormat, only: &[u64]) -> Result<usize, LogError> {
-        let mut text = String::new();
-        if format == ExportFormat::Csv {
-            text.push_str("id,logged_at,site,status,operator,tap,chemical,dose_mg_per_L,note\n");
-        }
-        let chosen: Vec<&Entry> = self
-            .entries
-            .iter()
-            .map(|(e, _)| e)
-            .filter(|e| only.contains(&e.id))
-            .collect();
-        for e in &chosen {
-            match format {
-                ExportFormat::JsonLines => text
-                    .push_str(&serde_json::to_string(e).map_err(|e| LogError::Io(e.to_string()))?),
-                ExportFormat::Csv => {
-                    let d = &e.data;
-                    let cells = [
-                        e.id.to_string(),
-                        d.when.clone(),
-                        d.site.clone(),
-                        e.status.code().to_string(),
-                        d.operator.clone(),
-                        d.point.clone(),
-                        d.chemical.clone(),
-                        d.dose_mg_per_l.to_string(),
-                        d.note.clone(),
-                    ];
-                    // The log's own CSV rule: RFC 4180 quoting, formulas defused.
-                    let quoted: Vec<String> = cells
-                        .iter()
-                        .map(|c| crate::log::export::csv_text(c))
-                        .collect();
-                    text.push_str(&quoted.join(","));
-                }
-            }
-            text.push('\n');
-        }
-        write_new_file(path, |file| {
-            use std::io::Write;
-            file.write_all(text.as_bytes())
-                .map_err(|e| io_error("writing", path, &e))?;
-            Ok(chosen.len())
-        })
-    }
-
-    /// Reads this stand-in's own JSON Lines export. Ids are local numbers here, so an entry
-    /// counts as already present when its content (time, site, point, chemical, dose,
-    /// initials) matches one this log has.
-    fn import(&mut self, path: &Path) -> Result<ImportReport, LogError> {
-        let text = std::fs::read_to_string(path).map_err(|e| io_error("reading", path, &e))?;
-        let mut report = ImportReport::default();
-        for line in text.lines().filter(|l| !l.trim().is_empty()) {
-            let Ok(entry) = serde_json::from_str::<Entry>(line) else {
-                report.unreadable += 1;
-                continue;
-            };
-            let same = |e: &Entry| {
-                let (a, b) = (&e.data, &entry.data);
-                a.when == b.when
-                    && a.site == b.site
-                    && a.point == b.point
-                    && a.chemical == b.chemical
-                    && a.operator == b.operator
-            };
-            match self.entries.iter().find(|(e, _)| same(e)) {
-                Some((e, _)) if e.data == entry.data && e.status == entry.status => {
-                    report.already_present += 1
-                }
-                Some(_) => report.conflicting += 1,
-                None => {
-                    let status = entry.status;
-                    let id = self.append(entry.data)?;
-                    if let Ok((e, _)) = self.slot(id) {
-                        e.status = status;
-                    }
-                    report.added += 1;
-                }
-            }
-        }
-        if report == ImportReport::default() {
-            return Err(LogError::rejected(
-                "not-a-log",
-                format!("{} holds no dose log entries", path.display()),
-            ));
-        }
-        Ok(report)
-    }
-}
-
 /// The crash-safe dose log ([`crate::log`]) behind the screens' [`DoseLog`] seam.
 ///
 /// One log file per site, opened when the site is first used and kept open (and locked) for
@@ -478,6 +266,18 @@ pub struct PersistentLog {
     /// The screens ask for the entries several times per refresh; reading 10 000 records
     /// each time would stall the UI, so they are read once and again only after a change.
     cache: std::cell::RefCell<Option<Rc<Vec<Entry>>>>,
+    /// A scratch log ([`PersistentLog::scratch`]): its directory goes when it is dropped.
+    scratch: bool,
+}
+
+impl Drop for PersistentLog {
+    fn drop(&mut self) {
+        if self.scratch {
+            // Close (and unlock) the files first, then remove what only this log wrote.
+            self.logs.clear();
+            let _ = std::fs::remove_dir_all(&self.dir);
+        }
+    }
 }
 
 impl PersistentLog {
@@ -507,7 +307,29 @@ impl PersistentLog {
             logs,
             ids: Default::default(),
             cache: Default::default(),
+            scratch: false,
         }
+    }
+
+    /// The same log in a fresh directory under the system's temporary folder, removed when the
+    /// log is dropped: for tests and previews, and for an app started without a data directory.
+    /// Entries go through the real encoding and files, yet do not survive the app, so
+    /// [`DoseLog::persistent`] says `false` and the screens say "not saved".
+    pub fn scratch() -> PersistentLog {
+        use std::sync::atomic::{AtomicU32, Ordering};
+        static COUNTER: AtomicU32 = AtomicU32::new(0);
+        let nanos = std::time::SystemTime::now()
+            .duration_since(std::time::UNIX_EPOCH)
+            .map_or(0, |d| d.subsec_nanos());
+        let dir = std::env::temp_dir().join(format!(
+            "molefeed-scratch-log-{}-{}-{nanos}",
+            std::process::id(),
+            COUNTER.fetch_add(1, Ordering::Relaxed)
+        ));
+        let _ = std::fs::remove_dir_all(&dir);
+        let mut log = PersistentLog::new(&dir, "scratch");
+        log.scratch = true;
+        log
     }
 
     fn log_for(&mut self, site: &str) -> Result<&mut crate::log::Log, LogError> {
@@ -590,29 +412,6 @@ fn from_log_error(e: crate::log::Error) -> LogError {
     LogError::rejected(code, e.to_string())
 }
 
-fn dose_of(entry: &NewEntry) -> crate::log::record::Dose {
-    crate::log::record::Dose {
-        operator: entry.operator.clone(),
-        tap: if entry.point.trim().is_empty() {
-            "—".into()
-        } else {
-            entry.point.clone()
-        },
-        chemical: entry.chemical.clone(),
-        product: entry.chemical.clone(),
-        flow_m3_per_h: entry.flow_m3_per_day.map_or(0.0, |q| q / 24.0),
-        dose_mg_per_l: entry.dose_mg_per_l,
-        feed_rate_l_per_h: entry.product_l_per_hour.unwrap_or(0.0),
-        pump_setting_percent: entry.pump_setting_percent.unwrap_or(0.0),
-        inputs: Vec::new(),
-        results: Vec::new(),
-        trace: entry.trace.clone(),
-        cautions: entry.cautions.clone(),
-        cross_check: None,
-        note: entry.note.clone(),
-    }
-}
-
 fn utc_iso(at: &chrono::DateTime<chrono::FixedOffset>) -> String {
     at.with_timezone(&chrono::Utc)
         .format("%Y-%m-%dT%H:%M:%SZ")
@@ -625,17 +424,17 @@ fn revision_of(record: crate::log::Record) -> Revision {
         R::Entry(e) => Revision {
             kind: RevisionKind::Logged,
             when: utc_iso(&e.at),
+            dose_mg_per_l: e.dose.dose_mg_per_l(),
             operator: e.dose.operator,
             reason: String::new(),
-            dose_mg_per_l: Some(e.dose.dose_mg_per_l),
             note: Some(e.dose.note),
         },
         R::Correction(c) => Revision {
             kind: RevisionKind::Corrected,
             when: utc_iso(&c.at),
+            dose_mg_per_l: c.dose.dose_mg_per_l(),
             operator: c.dose.operator,
             reason: c.reason,
-            dose_mg_per_l: Some(c.dose.dose_mg_per_l),
             note: Some(c.dose.note),
         },
         R::Void(v) => Revision {
@@ -663,18 +462,22 @@ fn ordered_history(
 impl DoseLog for PersistentLog {
     /// True while every entry is on disk; a pending (unsynced) entry shows "not saved".
     fn persistent(&self) -> bool {
-        self.logs.iter().all(|(_, log)| log.pending().is_empty())
+        !self.scratch && self.logs.iter().all(|(_, log)| log.pending().is_empty())
     }
 
-    fn append(&mut self, entry: NewEntry) -> Result<u64, LogError> {
-        let site = entry.site.clone();
+    fn append(
+        &mut self,
+        site: &str,
+        at: Option<DateTime<FixedOffset>>,
+        dose: Dose,
+    ) -> Result<u64, LogError> {
         let draft = crate::log::record::Draft::Entry {
-            at: None,
-            site: site.clone(),
-            dose: dose_of(&entry),
+            at,
+            site: site.to_string(),
+            dose,
         };
         self.cache.replace(None);
-        let log = self.log_for(&site)?;
+        let log = self.log_for(site)?;
         let _ = log.retry_pending();
         let id = log
             .append(draft)
@@ -696,24 +499,11 @@ impl DoseLog for PersistentLog {
             // the entry the operator opens.
             let Ok(views) = log.query(&all) else { continue };
             for view in views {
-                let dose = &view.dose;
                 out.push(Entry {
                     id: self.number(view.id),
-                    data: NewEntry {
-                        when: utc_iso(&view.at),
-                        site: view.site.clone(),
-                        point: dose.tap.clone(),
-                        chemical: dose.chemical.clone(),
-                        dose_mg_per_l: dose.dose_mg_per_l,
-                        feed_kg_per_day: None,
-                        pump_setting_percent: Some(dose.pump_setting_percent),
-                        flow_m3_per_day: Some(dose.flow_m3_per_h * 24.0),
-                        product_l_per_hour: Some(dose.feed_rate_l_per_h),
-                        trace: dose.trace.clone(),
-                        cautions: dose.cautions.clone(),
-                        note: dose.note.clone(),
-                        operator: dose.operator.clone(),
-                    },
+                    when: utc_iso(&view.at),
+                    site: view.site,
+                    dose: view.dose,
                     status: match view.status {
                         crate::log::Status::Original => EntryStatus::Original,
                         crate::log::Status::Corrected => EntryStatus::Corrected,
@@ -723,7 +513,7 @@ impl DoseLog for PersistentLog {
                 });
             }
         }
-        out.sort_by(|a, b| a.data.when.cmp(&b.data.when));
+        out.sort_by(|a, b| a.when.cmp(&b.when));
         let out = Rc::new(out);
         self.cache.replace(Some(Rc::clone(&out)));
         out
@@ -737,36 +527,17 @@ impl DoseLog for PersistentLog {
             .collect())
     }
 
-    /// The correction carries the whole current content with the new dose and note; its
-    /// `operator` is whoever made the correction (the original's initials stay in history).
+    /// The correction is the whole recomputed result; its `operator` is whoever made the
+    /// correction (the original's initials stay in history).
     fn correct(&mut self, number: u64, fix: Amendment) -> Result<(), LogError> {
-        check_dose(fix.dose_mg_per_l)?;
         let (id, at) = self.find(number)?;
-        let records = ordered_history(&self.logs[at].1, id)?;
-        let mut dose = records
-            .iter()
-            .rev()
-            .find_map(|r| match r {
-                crate::log::Record::Correction(c) => Some(c.dose.clone()),
-                _ => None,
-            })
-            .or_else(|| {
-                records.iter().find_map(|r| match r {
-                    crate::log::Record::Entry(e) => Some(e.dose.clone()),
-                    _ => None,
-                })
-            })
-            .ok_or_else(|| LogError::rejected("unknown-entry", format!("no entry {number}")))?;
-        dose.dose_mg_per_l = fix.dose_mg_per_l;
-        dose.note = fix.note;
-        dose.operator = fix.operator;
         self.revise(
             at,
             crate::log::Draft::Correction {
                 at: None,
                 corrects: id,
                 reason: fix.reason,
-                dose,
+                dose: fix.dose,
             },
         )
     }
@@ -787,7 +558,13 @@ impl DoseLog for PersistentLog {
     /// CSV (fixed columns, units in the headers, one header row for all sites) or JSON Lines
     /// of the chosen entries of the open sites, voided ones included with their status, for
     /// the monthly report. The log selects by id, so the file holds exactly the list's rows.
-    fn export(&self, path: &Path, format: ExportFormat, only: &[u64]) -> Result<usize, LogError> {
+    fn export(
+        &self,
+        path: &Path,
+        format: ExportFormat,
+        only: &[u64],
+        units: UnitSystem,
+    ) -> Result<usize, LogError> {
         let chosen: std::collections::HashSet<uuid::Uuid> = {
             let ids = self.ids.borrow();
             only.iter()
@@ -801,13 +578,13 @@ impl DoseLog for PersistentLog {
                 ..Default::default()
             };
             if format == ExportFormat::Csv {
-                crate::log::export::csv_header(file).map_err(from_log_error)?;
+                crate::log::export::csv_header(units, file).map_err(from_log_error)?;
             }
             let mut count = 0;
             for (_, log) in &self.logs {
                 count += match format {
                     ExportFormat::JsonLines => crate::log::export::jsonl(log, &query, file),
-                    ExportFormat::Csv => crate::log::export::csv_rows(log, &query, file),
+                    ExportFormat::Csv => crate::log::export::csv_rows(log, &query, units, file),
                 }
                 .map_err(from_log_error)?;
             }
@@ -859,12 +636,12 @@ impl DoseLog for PersistentLog {
 }
 
 /// SEAM FOR THE LOG: the store the app uses. With a data directory it is the crash-safe log
-/// (files in `<data dir>/logs/`); without one (tests, previews) nothing is written and the
-/// Start screen says entries are not saved.
+/// (files in `<data dir>/logs/`); without one (tests, previews) a scratch log that is gone
+/// when the app closes, and the Start screen says entries are not saved.
 pub fn connected_log(data_dir: Option<&Path>) -> Box<dyn DoseLog> {
     match data_dir {
         Some(dir) => Box::new(PersistentLog::new(&dir.join("logs"), &device_id())),
-        None => Box::new(MemoryLog::default()),
+        None => Box::new(PersistentLog::scratch()),
     }
 }
 
@@ -906,40 +683,124 @@ pub fn iso_from_unix(secs: i64) -> String {
     )
 }
 
+/// Who logs a result and where, besides the card itself.
+#[derive(Clone, Copy, Debug)]
+pub struct Logging<'a> {
+    /// Operator initials (after a correction: who corrected it).
+    pub operator: &'a str,
+    /// The tap or dosing point.
+    pub tap: &'a str,
+    /// The language the numbers were shown and typed in (a decimal comma in Spanish).
+    pub lang: Lang,
+    /// The unit system the card showed its numbers in.
+    pub units: UnitSystem,
+}
+
+/// What the result card shows, as the log's record: "Log this dose" and a correction both go
+/// through here, and through the log's one conversion of an outcome
+/// ([`crate::log::shown::dose_of_outcome`]), which `molefeed calc --log` uses too. This
+/// function adds only the card's texts: each number as the card showed it, each input as typed,
+/// each caution as worded. `None` when the card shows no result with a dose.
+pub fn dose_of(card: &CalcView, by: Logging<'_>) -> Option<Dose> {
+    let Status::Ready(shown) = &card.status else {
+        return None;
+    };
+    shown.outcome.dose_mg_per_l?;
+    let outcome = shown.outcome.table.as_deref()?;
+    let result_text = |r: &ResultValue, unit: Unit| -> String {
+        let card_text = match r.id {
+            "dose" | "actual_dose" => Some(shown.dose.clone()),
+            "feed_mass_rate" => Some(shown.feed.clone()),
+            "product_volume_rate" | "product_mass_rate" if unit == shown.product_unit => {
+                Some(shown.product.clone())
+            }
+            id if super::engine_adapter::SETTING.contains(&id) => Some(shown.pump.clone()),
+            id => shown
+                .extras
+                .iter()
+                .find(|e| e.key == id.replace('_', "-"))
+                .map(|e| e.value.clone()),
+        };
+        card_text
+            .unwrap_or_else(|| numbers::format_sig(unit.from_si(r.value), shown.figures, by.lang))
+    };
+    let input_text = |i: &InputUsed| -> Option<String> {
+        card.fields
+            .iter()
+            .find(|f| f.name == i.name)
+            .map(|f| f.text.trim().to_string())
+            .filter(|t| !t.is_empty())
+    };
+    let caution_text = |c: &crate::engine::dosing::Caution| -> String {
+        shown
+            .cautions
+            .iter()
+            .find(|x| x.code == c.key)
+            .map_or_else(|| c.key.clone(), |x| x.message.clone())
+    };
+    let tap = if by.tap.trim().is_empty() {
+        "—"
+    } else {
+        by.tap
+    };
+    Some(crate::log::shown::dose_of_outcome(
+        outcome,
+        &crate::log::shown::Shown {
+            system: by.units,
+            result: &result_text,
+            input: &input_text,
+            caution: &caution_text,
+        },
+        by.operator,
+        tap,
+    ))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::app::calc::CalcController;
+    use crate::app::numbers::Lang;
+    use crate::app::seams::{CalcKind, CalcRequest};
+    use crate::engine::dosing::catalog::Catalog;
+    use crate::engine::quantity::UnitSystem as Shown;
+    use crate::log::ProductRef;
+    use crate::log::record::example_dose;
+    use crate::log::shown::BEYOND_FULL_SCALE;
 
-    fn entry(dose: f64) -> NewEntry {
-        NewEntry {
-            when: "2026-12-01T08:00:00Z".into(),
-            site: "North plant".into(),
-            point: "Clearwell".into(),
-            chemical: "NaOCl".into(),
-            dose_mg_per_l: dose,
-            feed_kg_per_day: None,
-            pump_setting_percent: Some(40.0),
-            flow_m3_per_day: Some(9000.0),
-            product_l_per_hour: Some(7.5),
-            trace: vec!["step".into()],
-            cautions: vec!["hazard-corrosive".into()],
-            note: String::new(),
-            operator: "JM".into(),
-        }
+    /// The example hypochlorite feed with its dose result set to `mg_l`.
+    fn dose(mg_l: f64) -> Dose {
+        let mut d = example_dose();
+        let r = d.results.iter_mut().find(|r| r.id == "dose").unwrap();
+        r.value = mg_l;
+        r.shown = mg_l.to_string();
+        d
+    }
+
+    fn doses(log: &dyn DoseLog) -> Vec<Option<f64>> {
+        log.entries()
+            .iter()
+            .map(|e| e.dose.dose_mg_per_l())
+            .collect()
     }
 
     #[test]
-    fn memory_log_appends_and_is_not_persistent() {
-        let mut log = MemoryLog::default();
+    fn scratch_log_writes_real_records_and_is_not_persistent() {
+        let mut log = PersistentLog::scratch();
+        let dir = log.dir.clone();
         assert!(!log.persistent());
-        assert_eq!(log.append(entry(1.5)), Ok(1));
-        assert_eq!(log.append(entry(2.0)), Ok(2));
-        assert_eq!(log.entries().len(), 2);
-        assert_eq!(log.entries()[1].data.dose_mg_per_l, 2.0);
-        assert!(matches!(
-            log.append(entry(f64::NAN)),
-            Err(LogError::Rejected { .. })
-        ));
+        assert_eq!(log.append("North plant", None, dose(1.5)), Ok(1));
+        assert_eq!(log.append("North plant", None, dose(2.0)), Ok(2));
+        assert_eq!(doses(&log), [Some(1.5), Some(2.0)]);
+        assert_eq!(log.entries()[1].dose, dose(2.0), "read back whole");
+        let mut bad = dose(1.0);
+        bad.results[1].value = f64::NAN;
+        assert!(
+            matches!(log.append("North plant", None, bad), Err(LogError::Rejected { ref code, .. }) if code == "invalid-entry")
+        );
+        assert!(crate::log::site_file(&dir, "North plant").is_file());
+        drop(log);
+        assert!(!dir.exists(), "a scratch log leaves nothing behind");
     }
 
     #[test]
@@ -947,18 +808,17 @@ mod tests {
         let dir = std::env::temp_dir().join(format!("molefeed-plog-{}", std::process::id()));
         let _ = std::fs::remove_dir_all(&dir);
         let mut log = PersistentLog::new(&dir, "test-device");
-        assert_eq!(log.append(entry(1.5)), Ok(1));
-        assert_eq!(log.append(entry(2.0)), Ok(2));
+        assert_eq!(log.append("North plant", None, dose(1.5)), Ok(1));
+        assert_eq!(log.append("North plant", None, dose(2.0)), Ok(2));
         assert!(log.persistent());
         drop(log);
         let reopened =
             crate::log::Log::open(&crate::log::site_file(&dir, "North plant"), "other").unwrap();
         let views = reopened.current().unwrap();
         assert_eq!(views.len(), 2);
-        assert_eq!(views[1].dose.dose_mg_per_l, 2.0);
+        assert_eq!(views[1].dose.dose_mg_per_l(), Some(2.0));
         assert_eq!(views[0].dose.operator, "JM");
-        assert_eq!(views[0].dose.tap, "Clearwell");
-        assert!((views[0].dose.flow_m3_per_h - 9000.0 / 24.0).abs() < 1e-9);
+        assert_eq!(views[0].dose.tap, "Clearwell inlet");
         drop(reopened);
         let mut again = PersistentLog::new(&dir, "test-device");
         assert_eq!(
@@ -966,72 +826,55 @@ mod tests {
             2,
             "earlier entries show before anything is logged"
         );
-        again.append(entry(3.0)).unwrap();
-        let doses: Vec<f64> = again
-            .entries()
-            .iter()
-            .map(|e| e.data.dose_mg_per_l)
-            .collect();
-        assert_eq!(doses, [1.5, 2.0, 3.0]);
-        let mut bad = entry(1.0);
+        again.append("North plant", None, dose(3.0)).unwrap();
+        assert_eq!(doses(&again), [Some(1.5), Some(2.0), Some(3.0)]);
+        let mut bad = dose(1.0);
         bad.operator = String::new();
         assert!(
-            matches!(again.append(bad), Err(LogError::Rejected { ref code, .. }) if code == "invalid-entry")
+            matches!(again.append("North plant", None, bad), Err(LogError::Rejected { ref code, .. }) if code == "invalid-entry")
         );
         let _ = std::fs::remove_dir_all(&dir);
     }
 
-    #[test]
-    fn memory_export_then_import_round_trips_and_skips_duplicates() {
-        let dir = std::env::temp_dir().join(format!("molefeed-log-{}", std::process::id()));
-        std::fs::create_dir_all(&dir).unwrap();
-        let path = dir.join("export.jsonl");
-        let mut log = MemoryLog::default();
-        log.append(entry(1.25)).unwrap();
-        let mut later = entry(3.5);
-        later.when = "2026-12-01T09:00:00Z".into();
-        log.append(later).unwrap();
-        assert_eq!(log.export(&path, ExportFormat::JsonLines, &[1, 2]), Ok(2));
-        let mut other = MemoryLog::default();
-        let report = other.import(&path).unwrap();
-        assert_eq!((report.added, report.already_present), (2, 0));
-        let doses: Vec<f64> = other
-            .entries()
-            .iter()
-            .map(|e| e.data.dose_mg_per_l)
-            .collect();
-        assert_eq!(doses, vec![1.25, 3.5]);
-        let again = other.import(&path).unwrap();
-        assert_eq!((again.added, again.already_present), (0, 2));
-        std::fs::remove_dir_all(&dir).unwrap();
-    }
-
-    /// One log implementation through correct → void, checked the same way for both.
+    /// A correction is a whole recomputed result: the new flow, feed and setting replace the
+    /// old ones together, so a corrected dose never sits beside the old pump setting.
     fn corrections_and_voids_keep_the_original(log: &mut dyn DoseLog) {
-        let id = log.append(entry(1.5)).unwrap();
-        let other = log.append(entry(2.0)).unwrap();
-        let fix = |reason: &str, dose: f64| Amendment {
-            operator: "KT".into(),
+        let id = log.append("North plant", None, dose(1.5)).unwrap();
+        let other = log.append("North plant", None, dose(2.0)).unwrap();
+        let mut recomputed = dose(1.8);
+        recomputed.operator = "KT".into();
+        recomputed.note = "flow meter read wrong".into();
+        for r in &mut recomputed.results {
+            match r.id.as_str() {
+                "flow" => r.value = 12000.0,
+                "feed_mass_rate" => r.value = 21.6,
+                "product_volume_rate" => r.value = 6.0,
+                "pump_setting" => r.value = 50.6,
+                _ => {}
+            }
+        }
+        recomputed.setting.as_mut().unwrap().percent = 50.6;
+        let fix = |reason: &str| Amendment {
             reason: reason.into(),
-            dose_mg_per_l: dose,
-            note: "flow meter read wrong".into(),
+            dose: recomputed.clone(),
         };
         assert!(
-            matches!(log.correct(id, fix("  ", 1.8)), Err(LogError::Rejected { ref code, .. }) if code == "invalid-entry"),
+            matches!(log.correct(id, fix("  ")), Err(LogError::Rejected { ref code, .. }) if code == "invalid-entry"),
             "a correction without a reason is refused"
         );
         assert_eq!(log.history(id).unwrap().len(), 1, "nothing recorded");
-        log.correct(id, fix("wrong flow reading", 1.8)).unwrap();
+        log.correct(id, fix("wrong flow reading")).unwrap();
         let now = log.entries();
         let e = now.iter().find(|e| e.id == id).unwrap();
-        assert_eq!(e.data.dose_mg_per_l, 1.8);
+        assert_eq!(e.dose, recomputed, "the whole recomputed result is current");
+        assert_eq!(e.dose.result("pump_setting").unwrap().value, 50.6);
         assert_eq!(e.status, EntryStatus::Corrected);
-        assert_eq!(e.data.operator, "KT");
         let history = log.history(id).unwrap();
         let kinds: Vec<RevisionKind> = history.iter().map(|r| r.kind).collect();
         assert_eq!(kinds, [RevisionKind::Logged, RevisionKind::Corrected]);
         assert_eq!(history[0].dose_mg_per_l, Some(1.5), "original kept");
         assert_eq!(history[0].operator, "JM");
+        assert_eq!(history[1].operator, "KT");
         assert_eq!(history[1].reason, "wrong flow reading");
         assert!(log.void(other, "KT", "").is_err(), "void needs a reason");
         assert_eq!(log.entries()[1].status, EntryStatus::Original);
@@ -1043,7 +886,11 @@ mod tests {
             .cloned()
             .unwrap();
         assert!(voided.voided());
-        assert_eq!(voided.data.dose_mg_per_l, 2.0, "the entry stays, marked");
+        assert_eq!(
+            voided.dose.dose_mg_per_l(),
+            Some(2.0),
+            "the entry stays, marked"
+        );
         let h = log.history(other).unwrap();
         assert_eq!(h.len(), 2);
         assert_eq!(
@@ -1054,8 +901,8 @@ mod tests {
     }
 
     #[test]
-    fn memory_log_corrects_and_voids_with_history() {
-        corrections_and_voids_keep_the_original(&mut MemoryLog::default());
+    fn scratch_log_corrects_and_voids_with_history() {
+        corrections_and_voids_keep_the_original(&mut PersistentLog::scratch());
     }
 
     #[test]
@@ -1068,7 +915,8 @@ mod tests {
         let reopened = PersistentLog::new(&dir, "test-device");
         let entries = reopened.entries();
         assert_eq!(entries.len(), 2, "voided entries stay listed");
-        assert_eq!(entries[0].data.dose_mg_per_l, 1.8);
+        assert_eq!(entries[0].dose.dose_mg_per_l(), Some(1.8));
+        assert_eq!(entries[0].dose.result("flow").unwrap().value, 12000.0);
         assert_eq!(entries[0].status, EntryStatus::Corrected);
         assert_eq!(reopened.history(1).unwrap().len(), 2);
         let _ = std::fs::remove_dir_all(&dir);
@@ -1079,32 +927,38 @@ mod tests {
         let base = std::env::temp_dir().join(format!("molefeed-plog-x-{}", std::process::id()));
         let _ = std::fs::remove_dir_all(&base);
         let mut ours = PersistentLog::new(&base.join("ours"), "tablet-a");
-        ours.append(entry(1.5)).unwrap();
+        ours.append("North plant", None, dose(1.5)).unwrap();
         ours.void(1, "JM", "test entry").unwrap();
         let csv = base.join("out.csv");
-        assert_eq!(ours.export(&csv, ExportFormat::Csv, &[1]), Ok(1));
+        assert_eq!(
+            ours.export(&csv, ExportFormat::Csv, &[1], UnitSystem::Si),
+            Ok(1)
+        );
         let text = std::fs::read_to_string(&csv).unwrap();
         assert!(text.starts_with("id,logged_at"), "{text}");
         assert!(text.contains("voided"), "{text}");
         let jsonl = base.join("out.jsonl");
-        assert_eq!(ours.export(&jsonl, ExportFormat::JsonLines, &[1]), Ok(1));
+        assert_eq!(
+            ours.export(&jsonl, ExportFormat::JsonLines, &[1], UnitSystem::Si),
+            Ok(1)
+        );
         let line = std::fs::read_to_string(&jsonl).unwrap();
         assert!(serde_json::from_str::<serde_json::Value>(line.trim()).is_ok());
         // A folder that does not exist is named in words, and no file is left behind.
         let missing = base.join("no-such-folder/out.csv");
         assert!(
-            matches!(ours.export(&missing, ExportFormat::Csv, &[1]), Err(LogError::Rejected { ref code, .. }) if code == "not-found")
+            matches!(ours.export(&missing, ExportFormat::Csv, &[1], UnitSystem::Si), Err(LogError::Rejected { ref code, .. }) if code == "not-found")
         );
         // An earlier export at the same path is refused in words and left as it was.
         assert!(
-            matches!(ours.export(&csv, ExportFormat::Csv, &[1]), Err(LogError::Rejected { ref code, .. }) if code == "exists")
+            matches!(ours.export(&csv, ExportFormat::Csv, &[1], UnitSystem::Si), Err(LogError::Rejected { ref code, .. }) if code == "exists")
         );
         assert_eq!(std::fs::read_to_string(&csv).unwrap(), text);
         // Another device's log of the same site: its entries are added once.
         let theirs_dir = base.join("theirs");
         let mut theirs = PersistentLog::new(&theirs_dir, "tablet-b");
-        theirs.append(entry(2.5)).unwrap();
-        theirs.append(entry(2.6)).unwrap();
+        theirs.append("North plant", None, dose(2.5)).unwrap();
+        theirs.append("North plant", None, dose(2.6)).unwrap();
         drop(theirs);
         let file = crate::log::site_file(&theirs_dir, "North plant");
         let first = ours.import(&file).unwrap();
@@ -1125,58 +979,231 @@ mod tests {
         let _ = std::fs::remove_dir_all(&base);
     }
 
-    /// Both logs export only the chosen entries; the persistent one gathers two sites into
-    /// one CSV with a single header row.
+    /// The export holds only the chosen entries, two sites' logs in one CSV with a single
+    /// header row.
     #[test]
     fn export_writes_only_the_chosen_entries() {
-        let base = std::env::temp_dir().join(format!("molefeed-plog-only-{}", std::process::id()));
-        let _ = std::fs::remove_dir_all(&base);
-        std::fs::create_dir_all(&base).unwrap();
-        let mut persistent = PersistentLog::new(&base.join("logs"), "tablet-a");
-        let mut memory = MemoryLog::default();
-        for log in [&mut persistent as &mut dyn DoseLog, &mut memory] {
-            for (site, dose) in [
-                ("North plant", 1.1),
-                ("South plant", 2.2),
-                ("North plant", 3.3),
-            ] {
-                let mut e = entry(dose);
-                e.site = site.into();
-                log.append(e).unwrap();
-            }
-            log.void(3, "JM", "entered twice").unwrap();
-        }
-        for (name, log) in [
-            ("persistent", &persistent as &dyn DoseLog),
-            ("memory", &memory),
+        let mut log = PersistentLog::scratch();
+        for (site, mg_l) in [
+            ("North plant", 1.1),
+            ("South plant", 2.2),
+            ("North plant", 3.3),
         ] {
-            let path = base.join(format!("{name}.csv"));
-            assert_eq!(
-                log.export(&path, ExportFormat::Csv, &[2, 3]),
-                Ok(2),
-                "{name}"
-            );
-            let text = std::fs::read_to_string(&path).unwrap();
-            let lines: Vec<Vec<&str>> = text.lines().map(|l| l.split(',').collect()).collect();
-            assert!(
-                lines[0][0] == "id" && lines[0][1] == "logged_at",
-                "{name}: {text}"
-            );
-            let column = |title: &str| lines[0].iter().position(|c| *c == title).unwrap();
-            let (dose, status) = (column("dose_mg_per_L"), column("status"));
-            let mut rows: Vec<(&str, &str)> = lines[1..]
-                .iter()
-                .map(|cells| (cells[dose], cells[status]))
-                .collect();
-            // Grouped by site in the persistent log: compare as a set.
-            rows.sort();
-            assert_eq!(
-                rows,
-                [("2.2", "original"), ("3.3", "voided")],
-                "{name}: one header, the chosen rows, the void marked: {text}"
-            );
+            log.append(site, None, dose(mg_l)).unwrap();
         }
-        let _ = std::fs::remove_dir_all(&base);
+        log.void(3, "JM", "entered twice").unwrap();
+        let path = log.dir.join("chosen.csv");
+        assert_eq!(
+            log.export(&path, ExportFormat::Csv, &[2, 3], UnitSystem::Si),
+            Ok(2)
+        );
+        let mut reader = csv::Reader::from_path(&path).unwrap();
+        let header = reader.headers().unwrap().clone();
+        let column = |title: &str| header.iter().position(|c| c == title).unwrap();
+        let (dose_at, status) = (column("dose_mg_per_L"), column("status"));
+        let mut rows: Vec<(String, String)> = reader
+            .records()
+            .map(|r| {
+                let r = r.unwrap();
+                (r[dose_at].to_string(), r[status].to_string())
+            })
+            .collect();
+        // Grouped by site in the file: compare as a set.
+        rows.sort();
+        assert_eq!(
+            rows,
+            [
+                ("2.2".to_string(), "original".to_string()),
+                ("3.3".to_string(), "voided".to_string())
+            ]
+        );
+    }
+
+    /// The calculator card for a chlorine-gas feed, through the real engine and controller.
+    fn gas_feed_card(capacity: &str) -> (CalcView, CalcRequest) {
+        let mut calc =
+            CalcController::new(crate::app::seams::connected_engine(), Lang::En, Shown::Si);
+        calc.set_kind(CalcKind::of("feed"));
+        let gas = calc
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "chlorine-gas")
+            .expect("chlorine gas is offered");
+        calc.set_product(gas);
+        for (name, text) in [
+            ("flow", "9000"),
+            ("dose", "2.0"),
+            ("purity", "100"),
+            ("gas-feeder-capacity", capacity),
+        ] {
+            calc.edit(name, text);
+        }
+        let view = calc.view();
+        let request = calc.current_request().expect("complete inputs");
+        (view, request)
+    }
+
+    fn by() -> Logging<'static> {
+        Logging {
+            operator: "JM",
+            tap: "Clearwell",
+            lang: Lang::En,
+            units: Shown::Si,
+        }
+    }
+
+    /// 9000 m³/d × 2.0 g/m³ = 18 kg/d of Cl2, fed as gas: no volume, so no
+    /// product_volume_rate; the feeder is set by mass.
+    #[test]
+    fn a_gas_feed_logs_what_the_card_showed_and_nothing_it_did_not() {
+        let (card, _) = gas_feed_card("100");
+        let d = dose_of(&card, by()).expect("a dose to log");
+        assert_eq!(d.calculator, "feed");
+        assert_eq!(d.chemical, "Cl2");
+        assert_eq!(
+            d.product,
+            Some(ProductRef {
+                id: "chlorine-gas".into(),
+                name: "Chlorine gas".into()
+            })
+        );
+        assert_eq!(d.result("product_volume_rate"), None, "no volume for a gas");
+        let value = |id: &str| d.result(id).map(|r| (r.value, r.unit.as_str()));
+        assert_eq!(value("flow"), Some((9000.0, "m³/d")));
+        assert_eq!(value("dose"), Some((2.0, "mg/L")));
+        let (feed, unit) = value("feed_mass_rate").unwrap();
+        assert!(
+            (feed - 18.0).abs() < 1e-9 && unit == "kg/d",
+            "{feed} {unit}"
+        );
+        let (product, unit) = value("product_mass_rate").unwrap();
+        assert!(
+            (product - 18.0).abs() < 1e-9 && unit == "kg/d",
+            "{product} {unit}"
+        );
+        let setting = d.setting.as_ref().expect("a feeder scale was typed");
+        assert_eq!(setting.device, "gas-feeder");
+        assert!((setting.percent - 18.0).abs() < 1e-9, "{}", setting.percent);
+        assert_eq!(d.result("pump_setting"), None, "a gas feeder is not a pump");
+        let (feeder, unit) = value("feeder_setting").unwrap();
+        assert!(
+            (feeder - 18.0).abs() < 1e-9 && unit == "%",
+            "{feeder} {unit}"
+        );
+        let flow = d.inputs.iter().find(|i| i.name == "flow").unwrap();
+        assert_eq!((flow.text.as_str(), flow.value), ("9000", 9000.0));
+        assert!(!d.cautions.is_empty(), "chlorine gas carries its hazards");
+        assert!(d.cautions.iter().all(|c| !c.text.is_empty()));
+    }
+
+    /// The whole path: card → record → real file → CSV (empty cells, not 0) and JSON Lines.
+    #[test]
+    fn a_gas_feed_round_trips_through_the_file_and_both_exports() {
+        let (card, _) = gas_feed_card("100");
+        let d = dose_of(&card, by()).unwrap();
+        assert_eq!(d.result("pump_setting"), None);
+        assert_eq!(d.result("product_volume_rate"), None);
+        let mut log = PersistentLog::scratch();
+        let id = log.append("North plant", None, d.clone()).unwrap();
+        assert_eq!(
+            log.entries()[0].dose,
+            d,
+            "read back from the file as logged"
+        );
+        let csv_path = log.dir.join("gas.csv");
+        log.export(&csv_path, ExportFormat::Csv, &[id], UnitSystem::Us)
+            .unwrap();
+        let mut reader = csv::Reader::from_path(&csv_path).unwrap();
+        let header = reader.headers().unwrap().clone();
+        let row = reader.records().next().unwrap().unwrap();
+        let cell = |title: &str| {
+            let at = header.iter().position(|c| c == title);
+            row[at.unwrap_or_else(|| panic!("no column {title}: {header:?}"))].to_string()
+        };
+        assert_eq!(cell("product_volume_rate_gal_per_h"), "");
+        assert_eq!(cell("pump_setting_percent"), "");
+        assert_eq!(cell("feeder_setting_percent"), "18");
+        assert_eq!(cell("setting_device"), "gas-feeder");
+        assert_eq!(cell("product"), "Chlorine gas");
+        assert_eq!(cell("calculator"), "feed");
+        // 9000 m³/d ÷ 3785.411784 m³/d per MGD; 18 kg/d ÷ 0.45359237 kg/lb.
+        let number = |title: &str| cell(title).parse::<f64>().unwrap();
+        assert!((number("flow_MGD") - 9000.0 / 3785.411784).abs() < 1e-9);
+        assert!((number("feed_mass_rate_lb_per_d") - 18.0 / 0.45359237).abs() < 1e-9);
+        assert!((number("product_mass_rate_lb_per_d") - 18.0 / 0.45359237).abs() < 1e-9);
+        let jsonl_path = log.dir.join("gas.jsonl");
+        log.export(&jsonl_path, ExportFormat::JsonLines, &[id], UnitSystem::Us)
+            .unwrap();
+        let text = std::fs::read_to_string(&jsonl_path).unwrap();
+        let json: serde_json::Value = serde_json::from_str(text.trim()).unwrap();
+        let results = json["dose"]["results"].as_array().unwrap();
+        let ids: Vec<&str> = results.iter().map(|r| r["id"].as_str().unwrap()).collect();
+        assert_eq!(
+            ids,
+            [
+                "flow",
+                "dose",
+                "feed_mass_rate",
+                "product_mass_rate",
+                "feeder_setting"
+            ],
+            "only what was computed"
+        );
+        assert_eq!(json["dose"]["setting"]["device"], "gas-feeder");
+        assert_eq!(json["dose"]["product"]["name"], "Chlorine gas");
+        assert_eq!(json["dose"]["inputs"][0]["text"], "9000");
+    }
+
+    /// 9000 m³/d × 2 g/m³ = 18 kg/d of Cl2; hypochlorite at 12.5 trade % holds 125 g/L of
+    /// available chlorine, so 144 L/d = 6 L/h; a 1 L/h pump would have to run at 600 %: logged
+    /// as that, never as a setting, and the entry is kept.
+    #[test]
+    fn a_setting_beyond_full_scale_is_logged_as_what_it_is() {
+        let mut calc =
+            CalcController::new(crate::app::seams::connected_engine(), Lang::En, Shown::Si);
+        calc.set_kind(CalcKind::of("feed"));
+        let hypo = calc
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "sodium-hypochlorite")
+            .expect("hypochlorite is offered");
+        calc.set_product(hypo);
+        for (name, text) in [
+            ("flow", "9000"),
+            ("dose", "2"),
+            ("strength", "12.5"),
+            ("specific-gravity", "1.2"),
+            ("pump-capacity", "1"),
+        ] {
+            calc.edit(name, text);
+        }
+        let d = dose_of(&calc.view(), by()).unwrap();
+        assert_eq!(d.setting, None);
+        assert_eq!(d.result("pump_setting"), None);
+        let beyond = d
+            .result(BEYOND_FULL_SCALE)
+            .expect("the number the card showed");
+        assert!((beyond.value - 600.0).abs() < 1e-6, "{}", beyond.value);
+        let volume = d.result("product_volume_rate").unwrap();
+        assert!((volume.value - 6.0).abs() < 1e-9, "{}", volume.value);
+        assert_eq!(volume.unit, "L/h");
+        let mut log = PersistentLog::scratch();
+        assert_eq!(log.append("North plant", None, d), Ok(1));
+    }
+
+    #[test]
+    fn product_names_are_english_words_not_keys() {
+        // The log records the catalog's English name; every product has one, in words.
+        let catalog = Catalog::builtin().unwrap();
+        for p in &catalog.products {
+            assert!(!p.name.trim().is_empty(), "{}", p.id);
+            assert!(!p.name.starts_with("product-"), "{}: {}", p.id, p.name);
+            assert!(p.name.chars().next().unwrap().is_uppercase(), "{}", p.name);
+        }
+        let names: Vec<&str> = catalog.products.iter().map(|p| p.name.as_str()).collect();
+        assert!(names.contains(&"Sodium hypochlorite") && names.contains(&"Carbon dioxide"));
     }
 
     #[test]

@@ -42,7 +42,7 @@ fn table_request(request: &CalcRequest) -> Request {
 /// dose, the active chemical per day, the product (volume for a liquid, mass for a gas or dry
 /// chemical) and the pump or feeder setting.
 const DOSE: [&str; 2] = ["dose", "actual_dose"];
-const SETTING: [&str; 3] = ["pump_setting", "feeder_setting", "suggested_pump_setting"];
+pub const SETTING: [&str; 3] = ["pump_setting", "feeder_setting", "suggested_pump_setting"];
 const FEED: &str = "feed_mass_rate";
 const PRODUCT: [&str; 2] = ["product_volume_rate", "product_mass_rate"];
 
@@ -82,6 +82,7 @@ fn card_of(o: &Outcome) -> CalcOutcome {
         figures: o.figures,
         trace: o.trace_lines(),
         cautions: cautions(&o.cautions),
+        table: Some(Box::new(o.clone())),
     }
 }
 

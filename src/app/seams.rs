@@ -199,6 +199,8 @@ pub struct CalcOutcome {
     /// "Show the work": headings and one line per conversion step, as the engine writes them.
     pub trace: Vec<TraceLine>,
     pub cautions: Vec<Caution>,
+    /// The engine's whole outcome, which the dose log records (`None` for a stand-in engine).
+    pub table: Option<Box<calculators::Outcome>>,
 }
 
 /// A further result: translation key `result-<key>`, value in SI for `quantity`.

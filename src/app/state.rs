@@ -8,7 +8,7 @@
 
 use super::calc::{CalcController, CalcInputs, Status, key};
 use super::dose_log::{
-    Amendment, DoseLog, Entry, ExportFormat, LogError, NewEntry, Revision, now_utc_iso,
+    Amendment, DoseLog, Entry, ExportFormat, LogError, Logging, Revision, dose_of,
 };
 use super::numbers::{self, Lang};
 use super::plot::{self, Range};
@@ -722,46 +722,23 @@ impl AppState {
 
     /// "Log this dose": records the current result for the selected site and point.
     pub fn log_current_dose(&mut self) -> Result<u64, Note> {
-        let result = match self.calc.view().status {
-            Status::Ready(r) => r,
-            _ => {
-                let note = Note::new(key("log-nothing-to-log"));
-                self.calc_note = Some(note.clone());
-                return Err(note);
-            }
-        };
-        let Some(dose) = result.outcome.dose_mg_per_l else {
-            let note = Note::new(key("log-nothing-to-log"));
-            self.calc_note = Some(note.clone());
-            return Err(note);
-        };
+        let nothing = Note::new(key("log-nothing-to-log"));
+        if !matches!(self.calc.view().status, Status::Ready(_)) {
+            self.calc_note = Some(nothing.clone());
+            return Err(nothing);
+        }
         if self.settings.initials.is_empty() {
             let note = Note::new(key("log-need-initials"));
             self.calc_note = Some(note.clone());
             return Err(note);
         }
-        let entry = NewEntry {
-            operator: self.settings.initials.clone(),
-            when: now_utc_iso(),
-            site: self.site().name.clone(),
-            point: self.point().unwrap_or("").to_string(),
-            chemical: result.chemical.clone(),
-            dose_mg_per_l: dose,
-            feed_kg_per_day: result.outcome.feed_kg_per_day,
-            pump_setting_percent: result.outcome.pump_setting_percent,
-            flow_m3_per_day: self.calc.current_request().and_then(|r| r.get("flow")),
-            product_l_per_hour: result.outcome.product_l_per_hour,
-            trace: result.outcome.trace.iter().map(|l| l.plain()).collect(),
-            // What the card showed: the engine's cautions, the site's limits among them.
-            cautions: result
-                .outcome
-                .cautions
-                .iter()
-                .map(|c| c.code.clone())
-                .collect(),
-            note: String::new(),
+        let initials = self.settings.initials.clone();
+        let Some(dose) = self.card_dose(&initials, self.point().unwrap_or("")) else {
+            self.calc_note = Some(nothing.clone());
+            return Err(nothing);
         };
-        match self.log.append(entry) {
+        let site = self.site().name.clone();
+        match self.log.append(&site, None, dose) {
             Ok(id) => {
                 self.calc_note = Some(Note::new(key("log-saved")).arg("id", id));
                 self.selected = Some(id);
@@ -773,6 +750,20 @@ impl AppState {
                 Err(note)
             }
         }
+    }
+
+    /// The calculator card as the log records it ([`dose_of`]): with the engine's cautions
+    /// and the site's permit warnings, as the card showed them. `None` without a dose.
+    fn card_dose(&self, operator: &str, tap: &str) -> Option<crate::log::record::Dose> {
+        dose_of(
+            &self.calc.view(),
+            Logging {
+                operator,
+                tap,
+                lang: self.lang(),
+                units: self.units(),
+            },
+        )
     }
 
     pub fn entries(&self) -> std::rc::Rc<Vec<Entry>> {
@@ -861,14 +852,15 @@ impl AppState {
             .enumerate()
             .rev()
             .filter(|(_, e)| {
-                let d = &e.data;
+                let d = &e.dose;
                 let dated = span == DateSpan::default()
-                    || utc_day(&d.when).is_some_and(|day| span.contains(day));
+                    || utc_day(&e.when).is_some_and(|day| span.contains(day));
+                let product = d.product.as_ref().map_or("", |p| p.name.as_str());
                 dated
-                    && f.point.as_ref().is_none_or(|p| *p == d.point)
+                    && f.point.as_ref().is_none_or(|p| *p == d.tap)
                     && f.chemical.as_ref().is_none_or(|c| *c == d.chemical)
                     && (needle.is_empty()
-                        || [&d.site, &d.point, &d.chemical, &d.operator, &d.note]
+                        || [&e.site, &d.tap, &d.chemical, product, &d.operator, &d.note]
                             .iter()
                             .any(|s| s.to_lowercase().contains(&needle)))
             })
@@ -880,8 +872,8 @@ impl AppState {
     /// The taps and the chemicals present in the log, sorted, for the filter choices.
     pub fn log_choices(&self) -> (Vec<String>, Vec<String>) {
         let entries = self.log.entries();
-        let mut points: Vec<String> = entries.iter().map(|e| e.data.point.clone()).collect();
-        let mut chemicals: Vec<String> = entries.iter().map(|e| e.data.chemical.clone()).collect();
+        let mut points: Vec<String> = entries.iter().map(|e| e.dose.tap.clone()).collect();
+        let mut chemicals: Vec<String> = entries.iter().map(|e| e.dose.chemical.clone()).collect();
         for list in [&mut points, &mut chemicals] {
             list.sort();
             list.dedup();
@@ -940,22 +932,41 @@ impl AppState {
         Ok(entry)
     }
 
-    /// "Correct…": records a correction of the selected entry's dose and note, with a reason.
+    /// "Correct…": records a correction of the selected entry, with a reason. A correction is a
+    /// whole recomputed result: the calculator's current card for the entry's calculator (at
+    /// the entry's tap), whose dose is the one typed in the form, so the corrected dose never
+    /// sits beside the old flow or pump setting. Fix the readings in the calculator first.
     pub fn correct_selected(&mut self, dose: &str, note: &str, reason: &str) -> Result<(), Note> {
         let result = self.change_target(reason).and_then(|entry| {
-            let dose = numbers::parse(dose, self.lang())
+            let lang = self.lang();
+            let typed = numbers::parse(dose, lang)
                 .ok()
                 .filter(|d| d.is_finite() && *d >= 0.0)
                 .ok_or_else(|| Note::new(key("log-dose-invalid")))?;
-            let note = note.trim().to_string();
-            if dose == entry.data.dose_mg_per_l && note == entry.data.note {
+            let initials = self.settings.initials.clone();
+            let mut fixed = self
+                .card_dose(&initials, &entry.dose.tap)
+                .filter(|d| d.calculator == entry.dose.calculator)
+                .ok_or_else(|| Note::new(key("log-correct-needs-result")))?;
+            let shown = fixed
+                .result(crate::log::record::result_id::DOSE)
+                .map(|r| r.shown.clone())
+                .unwrap_or_default();
+            if numbers::parse(&shown, lang).ok() != Some(typed) {
+                return Err(Note::new(key("log-correct-dose-differs")).arg("dose", shown));
+            }
+            fixed.tap = entry.dose.tap.clone();
+            fixed.note = note.trim().to_string();
+            let unchanged = crate::log::record::Dose {
+                operator: fixed.operator.clone(),
+                ..entry.dose.clone()
+            };
+            if fixed == unchanged {
                 return Err(Note::new(key("log-nothing-changed")));
             }
             let fix = Amendment {
-                operator: self.settings.initials.clone(),
                 reason: reason.trim().to_string(),
-                dose_mg_per_l: dose,
-                note,
+                dose: fixed,
             };
             self.log
                 .correct(entry.id, fix)
@@ -997,21 +1008,19 @@ impl AppState {
         let mut out: Vec<LatestDose> = Vec::new();
         let mut seen: Vec<(String, String)> = Vec::new();
         for e in self.log.entries().iter().rev().filter(|e| !e.voided()) {
-            let pair = (e.data.point.clone(), e.data.chemical.clone());
-            if e.data.site != site || seen.contains(&pair) {
+            let pair = (e.dose.tap.clone(), e.dose.chemical.clone());
+            if e.site != site || seen.contains(&pair) {
                 continue;
             }
             seen.push(pair);
             out.push(LatestDose {
-                point: e.data.point.clone(),
-                chemical: e.data.chemical.clone(),
-                dose: numbers::format_sig(e.data.dose_mg_per_l, 3, self.lang()),
-                when: e
-                    .data
-                    .when
-                    .replace('T', " ")
-                    .trim_end_matches('Z')
-                    .to_string(),
+                point: e.dose.tap.clone(),
+                chemical: e.dose.chemical.clone(),
+                dose: e
+                    .dose
+                    .dose_mg_per_l()
+                    .map_or_else(|| "—".into(), |d| numbers::format_sig(d, 3, self.lang())),
+                when: e.when.replace('T', " ").trim_end_matches('Z').to_string(),
             });
         }
         out
@@ -1059,7 +1068,7 @@ impl AppState {
             key("log-export-not-narrowed")
         });
         self.log
-            .export(&target, format, &listed)
+            .export(&target, format, &listed, self.site().units)
             .map(|n| {
                 Note::new(key("log-exported"))
                     .arg("count", n)
@@ -1196,18 +1205,18 @@ impl AppState {
             };
         };
         let series: Vec<&Entry> = entries()
-            .filter(|e| e.data.chemical == focus.data.chemical && e.data.point == focus.data.point)
+            .filter(|e| e.dose.chemical == focus.dose.chemical && e.dose.tap == focus.dose.tap)
             .collect();
         // Days since the series' first entry, so a gap of a week looks like a week.
         let days = |e: &Entry| {
-            chrono::DateTime::parse_from_rfc3339(&e.data.when)
+            chrono::DateTime::parse_from_rfc3339(&e.when)
                 .ok()
                 .map(|t| t.timestamp() as f64 / 86_400.0)
         };
         let first = series.first().and_then(|e| days(e));
         let points: Vec<(f64, f64)> = series
             .iter()
-            .filter_map(|e| Some((days(e)? - first?, e.data.dose_mg_per_l)))
+            .filter_map(|e| Some((days(e)? - first?, e.dose.dose_mg_per_l()?)))
             .collect();
         if points.len() < 2 {
             return PlotView {
@@ -1215,7 +1224,7 @@ impl AppState {
                 ..PlotView::default()
             };
         }
-        let label = format!("{} · {}", focus.data.chemical, focus.data.point);
+        let label = format!("{} · {}", focus.dose.chemical, focus.dose.tap);
         self.plot_of(&points, key("plot-days-axis"), &label)
     }
 
@@ -1298,23 +1307,13 @@ fn log_error_note(e: &LogError) -> Note {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::app::dose_log::MemoryLog;
-    use crate::app::seams::{CalcOutcome, CalcRequest, Unconnected};
+    use crate::app::dose_log::PersistentLog;
+    use crate::app::seams::Unconnected;
     use crate::app::sites::{LimitForm, ProductForm, PumpForm, SiteProblem};
-
-    struct DoseEcho;
-    impl CalcEngine for DoseEcho {
-        fn compute(&self, r: &CalcRequest) -> Result<CalcOutcome, SeamError> {
-            Ok(CalcOutcome {
-                chemical: "test-chemical".into(),
-                dose_mg_per_l: r.get("dose"),
-                ..CalcOutcome::default()
-            })
-        }
-    }
+    use crate::log::record::{Dose, example_dose};
 
     fn state(engine: Rc<dyn CalcEngine>) -> AppState {
-        AppState::new(engine, Box::new(MemoryLog::default()), None, None)
+        AppState::new(engine, Box::new(PersistentLog::scratch()), None, None)
     }
 
     fn fill_feed(s: &mut AppState, dose: &str) {
@@ -1347,7 +1346,7 @@ mod tests {
 
     #[test]
     fn logging_a_dose_stores_it_and_updates_latest() {
-        let mut s = state(Rc::new(DoseEcho));
+        let mut s = state(crate::app::seams::connected_engine());
         assert!(!s.log_is_persistent());
         assert!(s.log_current_dose().is_err(), "nothing computed yet");
         fill_feed(&mut s, "1.5");
@@ -1363,12 +1362,24 @@ mod tests {
         let entries = s.entries();
         assert_eq!(entries.len(), 2);
         assert_eq!(entries[0].id, id);
-        assert_eq!(entries[0].data.point, "Raw water tap at screen house");
+        assert_eq!(entries[0].dose.tap, "Raw water tap at screen house");
         let flow = entries[0]
-            .data
-            .flow_m3_per_day
+            .dose
+            .result("flow")
             .expect("flow kept with the entry");
-        assert!((flow - 3785.411784).abs() < 1e-6, "{flow}");
+        assert_eq!(
+            (flow.value, flow.unit.as_str()),
+            (1.0, "MGD"),
+            "as typed and shown"
+        );
+        // Through the real engine: a liquid on a metering pump has a pump setting and no
+        // feeder setting, which is absent rather than zero.
+        assert!(entries[0].dose.result("pump_setting").is_some());
+        assert_eq!(
+            entries[0].dose.result("feeder_setting"),
+            None,
+            "not computed, not logged"
+        );
         let latest = s.latest_doses();
         assert_eq!(latest.len(), 1);
         assert_eq!(latest[0].dose, "2.25");
@@ -1386,23 +1397,7 @@ mod tests {
             ("2026-11-02T08:00:00Z", 2.0),
             ("2026-11-11T08:00:00Z", 3.0),
         ] {
-            s.log
-                .append(NewEntry {
-                    operator: "AB".into(),
-                    when: when.into(),
-                    site: "Demo site".into(),
-                    point: "Clearwell".into(),
-                    chemical: "caustic".into(),
-                    dose_mg_per_l: dose,
-                    feed_kg_per_day: None,
-                    pump_setting_percent: None,
-                    flow_m3_per_day: None,
-                    product_l_per_hour: None,
-                    trace: Vec::new(),
-                    cautions: Vec::new(),
-                    note: String::new(),
-                })
-                .unwrap();
+            seed(&mut s, when, "Clearwell", "NaOH", dose);
         }
         let trend = s.trend_plot();
         assert_eq!(trend.x_key, "plot-days-axis");
@@ -1415,7 +1410,7 @@ mod tests {
 
     #[test]
     fn filter_matches_point_and_chemical() {
-        let mut s = state(Rc::new(DoseEcho));
+        let mut s = state(crate::app::seams::connected_engine());
         s.set_initials("AB");
         fill_feed(&mut s, "1");
         s.log_current_dose().unwrap();
@@ -1425,28 +1420,26 @@ mod tests {
         s.log_filter.text = "SETTLED".into();
         let rows = s.filtered_entries();
         assert_eq!(rows.len(), 1);
-        assert_eq!(rows[0].data.dose_mg_per_l, 2.0);
-        s.log_filter.text = "test-chem".into();
+        assert_eq!(rows[0].dose.dose_mg_per_l(), Some(2.0));
+        // Both doses are of the same compound (the product's dose basis, such as Cl2).
+        let chemical = s.entries()[0].dose.chemical.to_lowercase();
+        s.log_filter.text = chemical;
         assert_eq!(s.filtered_entries().len(), 2);
     }
 
+    /// A logged dose at `point` of `chemical`, as the example feed with its dose set.
+    fn logged(point: &str, chemical: &str, dose: f64) -> Dose {
+        let mut d = example_dose();
+        d.tap = point.into();
+        d.chemical = chemical.into();
+        d.results.iter_mut().find(|r| r.id == "dose").unwrap().value = dose;
+        d
+    }
+
     fn seed(s: &mut AppState, when: &str, point: &str, chemical: &str, dose: f64) -> u64 {
+        let at = chrono::DateTime::parse_from_rfc3339(when).unwrap();
         s.log
-            .append(NewEntry {
-                when: when.into(),
-                site: "Demo site".into(),
-                point: point.into(),
-                chemical: chemical.into(),
-                dose_mg_per_l: dose,
-                feed_kg_per_day: None,
-                pump_setting_percent: None,
-                flow_m3_per_day: None,
-                product_l_per_hour: None,
-                trace: Vec::new(),
-                cautions: Vec::new(),
-                note: String::new(),
-                operator: "JM".into(),
-            })
+            .append("Demo site", Some(at), logged(point, chemical, dose))
             .unwrap()
     }
 
@@ -1455,7 +1448,7 @@ mod tests {
         s.log_filter = filter;
         s.filtered_entries_on(day("2026-12-02"))
             .iter()
-            .map(|e| e.data.dose_mg_per_l)
+            .map(|e| e.dose.dose_mg_per_l().unwrap())
             .collect()
     }
 
@@ -1612,13 +1605,16 @@ mod tests {
 
     /// The dose column and status of each data row of an export, in file order.
     fn csv_rows(path: &std::path::Path) -> Vec<(String, String)> {
-        let text = std::fs::read_to_string(path).unwrap();
-        let mut lines = text.lines().map(|l| l.split(',').collect::<Vec<_>>());
-        let header = lines.next().expect("a header row");
-        let column = |t: &str| header.iter().position(|c| *c == t).unwrap();
+        let mut reader = csv::Reader::from_path(path).unwrap();
+        let header = reader.headers().expect("a header row").clone();
+        let column = |t: &str| header.iter().position(|c| c == t).unwrap();
         let (dose, status) = (column("dose_mg_per_L"), column("status"));
-        lines
-            .map(|cells| (cells[dose].to_string(), cells[status].to_string()))
+        reader
+            .records()
+            .map(|cells| {
+                let cells = cells.unwrap();
+                (cells[dose].to_string(), cells[status].to_string())
+            })
             .collect()
     }
 
@@ -1724,10 +1720,19 @@ mod tests {
         let _ = std::fs::remove_dir_all(&dir);
     }
 
+    /// A correction records the calculator's recomputed card whole: the new flow comes with
+    /// the new dose, and a dose typed that the card does not show is refused.
     #[test]
     fn corrections_and_voids_need_a_reason_and_keep_history() {
-        let mut s = state(Rc::new(Unconnected));
-        let id = seed(&mut s, "2026-12-02T06:00:00Z", "Clearwell", "NaOCl", 1.5);
+        let mut s = state(crate::app::seams::connected_engine());
+        // The seed is a feed-setting entry, as the card below computes.
+        let id = seed(
+            &mut s,
+            "2026-12-02T06:00:00Z",
+            "Clearwell",
+            "test-chemical",
+            1.5,
+        );
         s.select_entry(id);
         s.open_log_edit(LogEdit::Correct);
         assert_eq!(s.log_edit, LogEdit::Correct);
@@ -1749,9 +1754,17 @@ mod tests {
             "log-dose-invalid"
         );
         assert_eq!(
-            s.correct_selected("1.5", "", "same").unwrap_err().key,
-            "log-nothing-changed"
+            s.correct_selected("1.8", "", "wrong meter")
+                .unwrap_err()
+                .key,
+            "log-correct-needs-result",
+            "nothing computed yet"
         );
+        fill_feed(&mut s, "1.8");
+        // Typed to three figures, so the card shows the dose as 1.8, to the two it was typed with.
+        s.calc.edit("flow", "2.00");
+        let differs = s.correct_selected("2.5", "", "wrong meter").unwrap_err();
+        assert_eq!(differs.key, "log-correct-dose-differs");
         assert_eq!(
             s.selected_history().len(),
             1,
@@ -1763,8 +1776,30 @@ mod tests {
         assert_eq!(s.log_edit_note.as_ref().unwrap().key, "log-corrected");
         let e = s.selected_entry().unwrap();
         assert_eq!(
-            (e.data.dose_mg_per_l, e.data.note.as_str()),
-            (1.8, "meter fixed")
+            (e.dose.dose_mg_per_l(), e.dose.note.as_str()),
+            (Some(1.8), "meter fixed")
+        );
+        let flow = e.dose.result("flow").expect("the recomputed flow");
+        assert_eq!((flow.value, flow.shown.as_str()), (2.0, "2.00"));
+        // The whole result is the recomputed card's, not the seed's.
+        let Status::Ready(card) = s.calc.view().status else {
+            panic!("the card shows a result")
+        };
+        let volume = e
+            .dose
+            .result("product_volume_rate")
+            .expect("recomputed with the card");
+        assert_eq!(volume.shown, card.product);
+        assert_eq!(
+            (e.dose.operator.as_str(), e.dose.tap.as_str()),
+            ("KT", "Clearwell")
+        );
+        s.open_log_edit(LogEdit::Correct);
+        assert_eq!(
+            s.correct_selected("1.8", "meter fixed", "again")
+                .unwrap_err()
+                .key,
+            "log-nothing-changed"
         );
         assert_eq!(s.selected_history().len(), 2);
         assert_eq!(s.void_selected("").unwrap_err().key, "log-need-reason");
@@ -1786,7 +1821,7 @@ mod tests {
         let _ = std::fs::remove_dir_all(&dir);
         let mut s = AppState::new(
             Rc::new(Unconnected),
-            Box::new(MemoryLog::default()),
+            Box::new(PersistentLog::scratch()),
             Some(dir.clone()),
             None,
         );
@@ -1864,7 +1899,7 @@ mod tests {
     fn open(dir: &std::path::Path, engine: Rc<dyn CalcEngine>) -> AppState {
         AppState::new(
             engine,
-            Box::new(MemoryLog::default()),
+            Box::new(PersistentLog::scratch()),
             Some(dir.to_path_buf()),
             None,
         )
@@ -2247,7 +2282,12 @@ mod tests {
             .collect();
         assert_eq!(warned.len(), 1);
         s.log_current_dose().expect("logged");
-        let logged = &s.entries()[0].data.cautions;
+        let logged: Vec<String> = s.entries()[0]
+            .dose
+            .cautions
+            .iter()
+            .map(|c| c.code.clone())
+            .collect();
         assert!(logged.contains(&warned[0]), "{logged:?} lacks {warned:?}");
     }
 
@@ -2391,7 +2431,7 @@ mod tests {
         {
             let mut s = AppState::new(
                 Rc::new(Unconnected),
-                Box::new(MemoryLog::default()),
+                Box::new(PersistentLog::scratch()),
                 Some(dir.clone()),
                 None,
             );
@@ -2401,7 +2441,7 @@ mod tests {
         }
         let s = AppState::new(
             Rc::new(Unconnected),
-            Box::new(MemoryLog::default()),
+            Box::new(PersistentLog::scratch()),
             Some(dir.clone()),
             None,
         );
@@ -2501,7 +2541,7 @@ mod tests {
         let open = || {
             AppState::new(
                 Rc::new(Unconnected),
-                Box::new(MemoryLog::default()),
+                Box::new(PersistentLog::scratch()),
                 Some(dir.clone()),
                 None,
             )

@@ -11,6 +11,7 @@
 //! not run.
 
 use super::{Args, CliError, CliResult, Report, check_numbers, one_line};
+use crate::engine::dosing::units::UnitSystem;
 use crate::log::{self, Draft, Log, Query, export};
 use chrono::NaiveDate;
 use serde_json::json;
@@ -241,15 +242,24 @@ fn list_to(args: &Args, json: bool, out: &mut dyn Write) -> Result<(), CliError>
             let comma = if count > 1 { "," } else { "" };
             write!(out, "{comma}{value}")
         } else {
+            // What was not computed is said as a dash, never as 0.
+            let dose = v
+                .dose
+                .dose_mg_per_l()
+                .map_or_else(|| "—".to_string(), |d| d.to_string());
+            let setting = v.dose.setting.as_ref().map_or_else(
+                || "no setting".to_string(),
+                |s| format!("{} {} %", s.device, s.percent),
+            );
             writeln!(
                 out,
-                "{}  {}  {} / {}  {} mg/L  pump {} %  [{}] {}",
+                "{}  {}  {} / {}  {} mg/L  {}  [{}] {}",
                 v.at.format("%Y-%m-%d %H:%M %:z"),
                 one_line(&v.dose.operator),
                 one_line(&v.dose.tap),
                 one_line(&v.dose.chemical),
-                v.dose.dose_mg_per_l,
-                v.dose.pump_setting_percent,
+                dose,
+                one_line(&setting),
                 v.status.word(),
                 v.id,
             )
@@ -332,6 +342,17 @@ fn history(args: &Args) -> CliResult {
     })
 }
 
+/// `--units us|si`: the unit system of the CSV's numbers (the site's); SI when not given.
+fn units(args: &Args) -> Result<UnitSystem, CliError> {
+    match args.text("units")? {
+        None | Some("si") => Ok(UnitSystem::Si),
+        Some("us") => Ok(UnitSystem::Us),
+        Some(other) => Err(CliError::usage(format!(
+            "--units must be us or si, got '{other}'"
+        ))),
+    }
+}
+
 /// `log export` as a [`Report`], for callers of [`super::dispatch`]; the command line and
 /// `batch` stream it through [`export_to`] instead.
 fn export_cmd(args: &Args) -> CliResult {
@@ -353,9 +374,16 @@ fn export_to(args: &Args, json: bool, out: &mut dyn Write) -> Result<(), CliErro
     let log = open_existing(args)?;
     let format = args.required_text("format")?;
     let query = query(args)?;
-    let write: fn(&Log, &Query, &mut dyn Write) -> log::Result<usize> = match format {
-        "csv" => export::csv,
-        "jsonl" => export::jsonl,
+    // Read even for JSON Lines, whose numbers keep their logged units: a flag is never ignored.
+    let units = units(args)?;
+    let write = |log: &Log, query: &Query, out: &mut dyn Write| -> log::Result<usize> {
+        match format {
+            "csv" => export::csv(log, query, units, out),
+            _ => export::jsonl(log, query, out),
+        }
+    };
+    match format {
+        "csv" | "jsonl" => {}
         other => {
             return Err(CliError::usage(format!(
                 "--format must be csv or jsonl, got '{other}'"

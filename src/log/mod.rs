@@ -30,10 +30,14 @@ pub mod record;
 mod salvage;
 #[doc(hidden)]
 pub mod sample;
+pub mod shown;
 
 pub use error::{Error, ErrorKind, Result};
 pub use frame::Span;
-pub use record::{Correction, CrossCheck, Dose, Draft, Entry, Kind, Quantity, Record, Void};
+pub use record::{
+    Correction, CrossCheck, Dose, Draft, Entry, Kind, LoggedCaution, LoggedInput, LoggedResult,
+    ProductRef, Record, Setting, Void,
+};
 pub use salvage::{SalvageReport, salvage};
 
 use chrono::{DateTime, FixedOffset, NaiveDate, SubsecRound};

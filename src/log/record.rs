@@ -2,29 +2,115 @@
 //!
 //! These types belong to the log, not the engine: the engine may change how it computes, but
 //! a record written today must read the same in ten years, so the log copies what was shown
-//! (inputs, results, trace summary, cautions) as plain values.
+//! (inputs as typed, results with their units, the setting, trace, cautions) as plain values.
 //!
 //! Design choice: a payload is a small binary key followed by the record as JSON. The key
 //! holds exactly what the in-memory index needs (kind, id, time, reference, tap, chemical), so
 //! opening a log of 100 000 entries parses no JSON at all; the JSON stays the readable,
 //! versioned source of the full record. The first byte is the record version: a reader
-//! refuses versions it does not know instead of guessing.
+//! refuses versions it does not know instead of guessing. Version 2 ([`Dose`]) keeps every
+//! result as a named value with its unit, so a value that was not computed is absent rather
+//! than 0; version 1 payloads (four fixed numbers) still read, converted in memory by
+//! [`DoseV1::upgrade`], and are never written again.
 
 use super::error::{Error, ErrorKind, Result};
 use chrono::{DateTime, FixedOffset};
 use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
-/// The payload layout this build writes and reads.
-pub const RECORD_VERSION: u8 = 1;
+/// The payload layout this build writes.
+pub const RECORD_VERSION: u8 = 2;
+/// The first layout: read and converted, never written.
+pub const RECORD_VERSION_1: u8 = 1;
 
-/// A named value with its unit, as the calculation screen showed it.
+/// The stable ids of the results the monthly report reads; a calculator may log others.
+pub mod result_id {
+    /// Plant flow as the calculation used it.
+    pub const FLOW: &str = "flow";
+    pub const DOSE: &str = "dose";
+    /// Active chemical mass per time.
+    pub const FEED_MASS_RATE: &str = "feed_mass_rate";
+    /// Product volume per time (a liquid through a metering pump).
+    pub const PRODUCT_VOLUME_RATE: &str = "product_volume_rate";
+    /// Product mass per time (a gas or dry product through a feeder).
+    pub const PRODUCT_MASS_RATE: &str = "product_mass_rate";
+    /// A metering pump's setting, percent of full stroke or speed (also in
+    /// [`super::Dose::setting`]).
+    pub const PUMP_SETTING: &str = "pump_setting";
+    /// A gas or dry feeder's setting, percent of full scale (also in [`super::Dose::setting`]).
+    pub const FEEDER_SETTING: &str = "feeder_setting";
+}
+
+/// What sets the feed: the three kinds of device a [`Setting`] can be for.
+pub const DEVICES: [&str; 3] = ["metering-pump", "gas-feeder", "dry-feeder"];
+
+/// The calculator id of an entry converted from version 1, which did not record it.
+pub const CALCULATOR_UNRECORDED: &str = "unrecorded-v1";
+
+/// The product as the catalog names it: its id and a readable English name.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
-pub struct Quantity {
+pub struct ProductRef {
+    pub id: String,
+    /// Readable English, such as "Sodium hypochlorite" (never a translation key).
     pub name: String,
+}
+
+/// One input as the operator typed it.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct LoggedInput {
+    /// The calculator's input name, such as `flow` or `chlorine-demand`.
+    pub name: String,
+    /// Exactly as typed (decimal comma and all), so the record shows what was entered.
+    pub text: String,
+    /// `text` read as a number, in `unit`.
     pub value: f64,
     pub unit: String,
+    /// What the value is expressed as, where the quantity has one (CaCO3, Cl2, trade %).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub basis: Option<String>,
+}
+
+/// One result as the card showed it.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct LoggedResult {
+    /// Stable snake_case id ([`result_id`] lists those the report reads).
+    pub id: String,
+    /// Full precision, in `unit`.
+    pub value: f64,
+    /// The text the operator saw, rounded to the figures the inputs support.
+    pub shown: String,
+    pub unit: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub basis: Option<String>,
+    /// One of the big numbers of the card (the others were listed under them).
+    #[serde(default)]
+    pub headline: bool,
+}
+
+/// The setting the operator was told to make, on which device.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Setting {
+    /// One of [`DEVICES`].
+    pub device: String,
+    /// Percent of full stroke, speed or scale, 0–100.
+    pub percent: f64,
+    pub shown: String,
+}
+
+/// A caution as shown with the result.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct LoggedCaution {
+    /// `info`, `warning` or `danger`.
+    pub severity: String,
+    /// Stable caution code.
+    pub code: String,
+    /// The words shown, in English.
+    pub text: String,
 }
 
 /// An independent check of the pump, such as a calibration-column drawdown.
@@ -36,10 +122,11 @@ pub struct CrossCheck {
     pub agrees: bool,
 }
 
-/// What an operator records about one dose change; a correction replaces all of it.
+/// What an operator records about one dose change: what the calculation showed. A correction
+/// carries a whole new one, recomputed.
 ///
-/// The four headline numbers have fixed units (in their names) because the monthly report
-/// is built from them; everything else the calculation showed is kept in the lists.
+/// Only what was computed is here: a result the calculator did not produce (the product volume
+/// of a gas feed, the setting of a feeder nobody named) is absent, never 0.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Dose {
@@ -47,26 +134,244 @@ pub struct Dose {
     pub operator: String,
     /// The tap or dosing point.
     pub tap: String,
+    /// The stable id of the calculator that computed it (`free-chlorine`, `feed`, ...).
+    pub calculator: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mode: Option<String>,
+    /// The compound the dose is expressed as (`Cl2`, `N`, `NaOH`); with `tap`, the index key.
     pub chemical: String,
-    pub product: String,
-    pub flow_m3_per_h: f64,
-    pub dose_mg_per_l: f64,
-    pub feed_rate_l_per_h: f64,
-    pub pump_setting_percent: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub product: Option<ProductRef>,
     #[serde(default)]
-    pub inputs: Vec<Quantity>,
+    pub inputs: Vec<LoggedInput>,
     #[serde(default)]
-    pub results: Vec<Quantity>,
+    pub results: Vec<LoggedResult>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub setting: Option<Setting>,
     /// The trace summary lines shown with the result.
     #[serde(default)]
     pub trace: Vec<String>,
-    /// The cautions shown with the result.
     #[serde(default)]
-    pub cautions: Vec<String>,
-    #[serde(default)]
+    pub cautions: Vec<LoggedCaution>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub cross_check: Option<CrossCheck>,
     #[serde(default)]
     pub note: String,
+}
+
+impl Dose {
+    /// The result with this id, if it was computed.
+    pub fn result(&self, id: &str) -> Option<&LoggedResult> {
+        self.results.iter().find(|r| r.id == id)
+    }
+
+    /// The dose in mg/L, if one was computed.
+    pub fn dose_mg_per_l(&self) -> Option<f64> {
+        self.result(result_id::DOSE).map(|r| r.value)
+    }
+
+    fn validate(&self) -> Result<()> {
+        initials(&self.operator)?;
+        required("tap", &self.tap)?;
+        required("calculator", &self.calculator)?;
+        required("chemical", &self.chemical)?;
+        if let Some(mode) = &self.mode {
+            required("mode", mode)?;
+        }
+        if let Some(product) = &self.product {
+            required("product.id", &product.id)?;
+            required("product.name", &product.name)?;
+        }
+        for input in &self.inputs {
+            required("inputs.name", &input.name)?;
+            finite("inputs.value", &input.name, input.value)?;
+        }
+        for (i, r) in self.results.iter().enumerate() {
+            required("results.id", &r.id)?;
+            finite("results.value", &r.id, r.value)?;
+            if self.results[..i].iter().any(|earlier| earlier.id == r.id) {
+                return Err(invalid(
+                    "results.id",
+                    format!("result {} is logged twice", r.id),
+                ));
+            }
+            check_well_known(r)?;
+        }
+        if let Some(setting) = &self.setting {
+            if !DEVICES.contains(&setting.device.as_str()) {
+                return Err(invalid(
+                    "setting.device",
+                    format!(
+                        "setting device '{}' is not one of {}",
+                        setting.device,
+                        DEVICES.join(", ")
+                    ),
+                ));
+            }
+            percent("setting.percent", setting.percent)?;
+        }
+        for caution in &self.cautions {
+            required("cautions.severity", &caution.severity)?;
+            required("cautions.code", &caution.code)?;
+        }
+        if let Some(check) = &self.cross_check {
+            required("cross_check.method", &check.method)?;
+            non_negative("cross_check.feed_rate_l_per_h", check.feed_rate_l_per_h)?;
+        }
+        Ok(())
+    }
+}
+
+/// The report converts the well-known results to the site's units, so each must carry a unit
+/// it can read, and a rate or dose below zero is a mistake, not a dose.
+fn check_well_known(r: &LoggedResult) -> Result<()> {
+    use result_id::*;
+    let field = "results.unit";
+    let readable = match r.id.as_str() {
+        FLOW => crate::engine::dosing::units::FlowUnit::parse(&r.unit).is_ok(),
+        DOSE => r.unit == "mg/L",
+        FEED_MASS_RATE | PRODUCT_MASS_RATE => {
+            crate::engine::dosing::units::MassRateUnit::parse(&r.unit).is_ok()
+        }
+        PRODUCT_VOLUME_RATE => crate::engine::dosing::units::VolumeRateUnit::parse(&r.unit).is_ok(),
+        PUMP_SETTING | FEEDER_SETTING => {
+            percent("results.value", r.value)?;
+            r.unit == "%"
+        }
+        _ => return Ok(()),
+    };
+    if !readable {
+        return Err(invalid(
+            field,
+            format!(
+                "result {} has a unit the report cannot read: '{}'",
+                r.id, r.unit
+            ),
+        ));
+    }
+    non_negative("results.value", r.value).map(|_| ())
+}
+
+/// Version 1's entry body: four headline numbers in fixed units, plain caution texts. Kept
+/// only to read old files; see [`DoseV1::upgrade`].
+#[derive(Clone, Debug, PartialEq, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct DoseV1 {
+    operator: String,
+    tap: String,
+    chemical: String,
+    product: String,
+    flow_m3_per_h: f64,
+    dose_mg_per_l: f64,
+    feed_rate_l_per_h: f64,
+    pump_setting_percent: f64,
+    #[serde(default)]
+    inputs: Vec<QuantityV1>,
+    #[serde(default)]
+    results: Vec<QuantityV1>,
+    #[serde(default)]
+    trace: Vec<String>,
+    #[serde(default)]
+    cautions: Vec<String>,
+    #[serde(default)]
+    cross_check: Option<CrossCheck>,
+    #[serde(default)]
+    note: String,
+}
+
+/// Version 1's named value.
+#[derive(Clone, Debug, PartialEq, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct QuantityV1 {
+    name: String,
+    value: f64,
+    unit: String,
+}
+
+impl DoseV1 {
+    /// The version-2 shape of a version-1 body. Version 1 wrote 0.0 where nothing was
+    /// computed, and a stored 0.0 cannot be told from a real zero, so the four numbers are all
+    /// carried as they were (a v1 gas feed keeps its 0 L/h); the calculator was not recorded
+    /// ([`CALCULATOR_UNRECORDED`]), the product text becomes both id and name, and caution
+    /// texts keep their words with an `unrecorded` code and severity.
+    pub(crate) fn upgrade(self) -> Dose {
+        let number = |id: &str, value: f64, unit: &str| LoggedResult {
+            id: id.into(),
+            value,
+            shown: value.to_string(),
+            unit: unit.into(),
+            basis: None,
+            headline: id != result_id::FLOW,
+        };
+        let mut results = vec![
+            number(result_id::FLOW, self.flow_m3_per_h, "m³/h"),
+            number(result_id::DOSE, self.dose_mg_per_l, "mg/L"),
+            number(
+                result_id::PRODUCT_VOLUME_RATE,
+                self.feed_rate_l_per_h,
+                "L/h",
+            ),
+            number(result_id::PUMP_SETTING, self.pump_setting_percent, "%"),
+        ];
+        // Version 1's free list, named in words: kept under ids made from those words.
+        results.extend(self.results.into_iter().map(|q| LoggedResult {
+            id: format!("v1_{}", snake_case(&q.name)),
+            shown: q.value.to_string(),
+            value: q.value,
+            unit: q.unit,
+            basis: None,
+            headline: false,
+        }));
+        Dose {
+            operator: self.operator,
+            tap: self.tap,
+            calculator: CALCULATOR_UNRECORDED.into(),
+            mode: None,
+            chemical: self.chemical,
+            product: (!self.product.trim().is_empty()).then(|| ProductRef {
+                id: self.product.clone(),
+                name: self.product,
+            }),
+            inputs: self
+                .inputs
+                .into_iter()
+                .map(|q| LoggedInput {
+                    name: q.name,
+                    text: q.value.to_string(),
+                    value: q.value,
+                    unit: q.unit,
+                    basis: None,
+                })
+                .collect(),
+            results,
+            setting: None,
+            trace: self.trace,
+            cautions: self
+                .cautions
+                .into_iter()
+                .map(|text| LoggedCaution {
+                    severity: "unrecorded".into(),
+                    code: "unrecorded".into(),
+                    text,
+                })
+                .collect(),
+            cross_check: self.cross_check,
+            note: self.note,
+        }
+    }
+}
+
+/// `product feed` → `product_feed`: a stable id from version 1's free-text names.
+pub(crate) fn snake_case(words: &str) -> String {
+    let mut out = String::with_capacity(words.len());
+    for c in words.trim().chars() {
+        if c.is_alphanumeric() {
+            out.extend(c.to_lowercase());
+        } else if !out.ends_with('_') {
+            out.push('_');
+        }
+    }
+    out.trim_matches('_').to_string()
 }
 
 /// A dose change as first logged.
@@ -182,31 +487,7 @@ impl Record {
             Record::Entry(_) => {}
         }
         if let Some(dose) = self.dose() {
-            initials(&dose.operator)?;
-            required("tap", &dose.tap)?;
-            required("chemical", &dose.chemical)?;
-            required("product", &dose.product)?;
-            non_negative("flow_m3_per_h", dose.flow_m3_per_h)?;
-            non_negative("dose_mg_per_l", dose.dose_mg_per_l)?;
-            non_negative("feed_rate_l_per_h", dose.feed_rate_l_per_h)?;
-            let pump = non_negative("pump_setting_percent", dose.pump_setting_percent)?;
-            if pump > 100.0 {
-                return Err(invalid(
-                    "pump_setting_percent",
-                    format!("pump_setting_percent {pump} is above 100"),
-                ));
-            }
-            for q in dose.inputs.iter().chain(&dose.results) {
-                if !q.value.is_finite() {
-                    return Err(invalid(
-                        "inputs",
-                        format!("{} must be a finite number", q.name),
-                    ));
-                }
-            }
-            if let Some(check) = &dose.cross_check {
-                non_negative("cross_check.feed_rate_l_per_h", check.feed_rate_l_per_h)?;
-            }
+            dose.validate()?;
         }
         Ok(())
     }
@@ -241,6 +522,22 @@ fn initials(value: &str) -> Result<()> {
         ));
     }
     Ok(())
+}
+
+fn finite(field: &'static str, name: &str, value: f64) -> Result<()> {
+    if !value.is_finite() {
+        return Err(invalid(field, format!("{name} must be a finite number")));
+    }
+    Ok(())
+}
+
+/// A setting is a share of full scale: above 100 % it is not a setting.
+fn percent(field: &'static str, value: f64) -> Result<f64> {
+    let value = non_negative(field, value)?;
+    if value > 100.0 {
+        return Err(invalid(field, format!("{field} {value} is above 100")));
+    }
+    Ok(value)
 }
 
 fn non_negative(field: &'static str, value: f64) -> Result<f64> {
@@ -336,7 +633,7 @@ pub fn encode(record: &Record) -> Vec<u8> {
 pub fn decode_key(payload: &[u8]) -> std::result::Result<(Key<'_>, &[u8]), PayloadError> {
     let malformed = |why: &str| PayloadError::Malformed(why.to_string());
     let version = *payload.first().ok_or_else(|| malformed("empty payload"))?;
-    if version != RECORD_VERSION {
+    if version != RECORD_VERSION && version != RECORD_VERSION_1 {
         return Err(PayloadError::UnsupportedVersion(version));
     }
     if payload.len() < FIXED_KEY {
@@ -390,10 +687,21 @@ pub fn decode(payload: &[u8]) -> std::result::Result<Record, PayloadError> {
     let json = std::str::from_utf8(json)
         .map_err(|_| PayloadError::Malformed("record body is not UTF-8".into()))?;
     let bad = |e: serde_json::Error| PayloadError::Malformed(e.to_string());
-    let record = match key.kind {
-        Kind::Entry => Record::Entry(serde_json::from_str(json).map_err(bad)?),
-        Kind::Correction => Record::Correction(serde_json::from_str(json).map_err(bad)?),
-        Kind::Void => Record::Void(serde_json::from_str(json).map_err(bad)?),
+    let record = match (key.kind, payload[0]) {
+        (Kind::Entry, RECORD_VERSION_1) => Record::Entry(
+            serde_json::from_str::<EntryV1>(json)
+                .map_err(bad)?
+                .upgrade(),
+        ),
+        (Kind::Correction, RECORD_VERSION_1) => Record::Correction(
+            serde_json::from_str::<CorrectionV1>(json)
+                .map_err(bad)?
+                .upgrade(),
+        ),
+        (Kind::Entry, _) => Record::Entry(serde_json::from_str(json).map_err(bad)?),
+        (Kind::Correction, _) => Record::Correction(serde_json::from_str(json).map_err(bad)?),
+        // A void has the same body in both versions.
+        (Kind::Void, _) => Record::Void(serde_json::from_str(json).map_err(bad)?),
     };
     // Queries filter on the key alone: a key naming another day, tap or chemical than the
     // body would list the record where date and tap queries cannot find it.
@@ -403,6 +711,54 @@ pub fn decode(payload: &[u8]) -> std::result::Result<Record, PayloadError> {
         ));
     }
     Ok(record)
+}
+
+/// Version 1's entry: the same envelope around a [`DoseV1`].
+#[derive(Deserialize)]
+struct EntryV1 {
+    id: Uuid,
+    device: String,
+    at: DateTime<FixedOffset>,
+    site: String,
+    dose: DoseV1,
+}
+
+impl EntryV1 {
+    fn upgrade(self) -> Entry {
+        Entry {
+            id: self.id,
+            device: self.device,
+            at: self.at,
+            site: self.site,
+            dose: self.dose.upgrade(),
+        }
+    }
+}
+
+/// Version 1's correction: the same envelope around a [`DoseV1`].
+#[derive(Deserialize)]
+struct CorrectionV1 {
+    id: Uuid,
+    device: String,
+    at: DateTime<FixedOffset>,
+    site: String,
+    corrects: Uuid,
+    reason: String,
+    dose: DoseV1,
+}
+
+impl CorrectionV1 {
+    fn upgrade(self) -> Correction {
+        Correction {
+            id: self.id,
+            device: self.device,
+            at: self.at,
+            site: self.site,
+            corrects: self.corrects,
+            reason: self.reason,
+            dose: self.dose.upgrade(),
+        }
+    }
 }
 
 /// What a person or the UI submits: the log adds the id, the device and (unless given) the
@@ -432,57 +788,63 @@ pub enum Draft {
     },
 }
 
-/// A realistic example, for `molefeed log template`, tests and benches.
+/// A realistic example, for `molefeed log template`, tests and benches: a hypochlorite feed
+/// through a metering pump, as the card showed it.
 pub fn example_dose() -> Dose {
+    let input = |name: &str, text: &str, value: f64, unit: &str, basis: Option<&str>| LoggedInput {
+        name: name.into(),
+        text: text.into(),
+        value,
+        unit: unit.into(),
+        basis: basis.map(String::from),
+    };
+    let result = |id: &str, value: f64, shown: &str, unit: &str, headline: bool| LoggedResult {
+        id: id.into(),
+        value,
+        shown: shown.into(),
+        unit: unit.into(),
+        basis: (id == result_id::DOSE || id == result_id::FEED_MASS_RATE).then(|| "Cl2".into()),
+        headline,
+    };
     Dose {
         operator: "JM".into(),
         tap: "Clearwell inlet".into(),
-        chemical: "sodium hypochlorite".into(),
-        product: "NaOCl 12.5 % (w/w)".into(),
-        flow_m3_per_h: 420.0,
-        dose_mg_per_l: 1.8,
-        feed_rate_l_per_h: 5.04,
-        pump_setting_percent: 42.5,
+        calculator: "feed".into(),
+        mode: None,
+        chemical: "Cl2".into(),
+        product: Some(ProductRef {
+            id: "sodium-hypochlorite".into(),
+            name: "Sodium hypochlorite".into(),
+        }),
         inputs: vec![
-            Quantity {
-                name: "plant flow".into(),
-                value: 420.0,
-                unit: "m3/h".into(),
-            },
-            Quantity {
-                name: "target dose".into(),
-                value: 1.8,
-                unit: "mg/L as Cl2".into(),
-            },
-            Quantity {
-                name: "product strength".into(),
-                value: 12.5,
-                unit: "% w/w".into(),
-            },
-            Quantity {
-                name: "product density".into(),
-                value: 1.2,
-                unit: "kg/L".into(),
-            },
+            input("flow", "10080", 10080.0, "m³/d", None),
+            input("dose", "1.8", 1.8, "mg/L", Some("Cl2")),
+            input("strength", "12.5", 12.5, "%", Some("weight")),
+            input("specific-gravity", "1.2", 1.2, "", None),
+            input("pump-capacity", "11.86", 11.86, "L/h", None),
         ],
         results: vec![
-            Quantity {
-                name: "chlorine demand".into(),
-                value: 0.756,
-                unit: "kg/h".into(),
-            },
-            Quantity {
-                name: "product feed".into(),
-                value: 5.04,
-                unit: "L/h".into(),
-            },
+            result(result_id::FLOW, 10080.0, "10080", "m³/d", false),
+            result(result_id::DOSE, 1.8, "1.80", "mg/L", true),
+            result(result_id::FEED_MASS_RATE, 18.144, "18.1", "kg/d", true),
+            result(result_id::PRODUCT_VOLUME_RATE, 5.04, "5.04", "L/h", true),
+            result(result_id::PUMP_SETTING, 42.5, "42.5", "%", true),
         ],
+        setting: Some(Setting {
+            device: "metering-pump".into(),
+            percent: 42.5,
+            shown: "42.5".into(),
+        }),
         trace: vec![
-            "0.756 kg/h Cl2 = 420 m3/h x 1.8 g/m3".into(),
-            "product = 0.756 kg/h / 0.125 / 1.2 kg/L = 5.04 L/h".into(),
+            "18.144 kg/d Cl2 = 10080 m³/d x 1.8 g/m³".into(),
+            "product = 18.144 kg/d / 0.125 / 1.2 kg/L = 120.96 L/d = 5.04 L/h".into(),
             "pump at 42.5 % of 11.86 L/h maximum".into(),
         ],
-        cautions: vec!["Product strength falls with storage age; check monthly.".into()],
+        cautions: vec![LoggedCaution {
+            severity: "info".into(),
+            code: "strength-decays".into(),
+            text: "Product strength falls with storage age; check monthly.".into(),
+        }],
         cross_check: Some(CrossCheck {
             method: "calibration column drawdown".into(),
             feed_rate_l_per_h: 5.1,
@@ -516,7 +878,7 @@ mod tests {
         assert_eq!(key.at_ms, record.at().timestamp_millis());
         assert_eq!(key.offset_min, 120);
         assert_eq!(key.tap, "Clearwell inlet");
-        assert_eq!(key.chemical, "sodium hypochlorite");
+        assert_eq!(key.chemical, "Cl2");
         assert_eq!(key.refers_to, None);
         assert_eq!(decode(&payload).unwrap(), record);
     }
@@ -571,13 +933,26 @@ mod tests {
     #[test]
     fn validation_names_the_field() {
         type Spoil = fn(&mut Dose);
-        let cases: [(&str, Spoil); 6] = [
+        let cases: [(&str, Spoil); 13] = [
             ("operator", |d| d.operator = "J M".into()),
             ("operator", |d| d.operator = String::new()),
             ("tap", |d| d.tap = "  ".into()),
-            ("flow_m3_per_h", |d| d.flow_m3_per_h = f64::NAN),
-            ("pump_setting_percent", |d| d.pump_setting_percent = 101.0),
-            ("dose_mg_per_l", |d| d.dose_mg_per_l = -1.0),
+            ("calculator", |d| d.calculator = String::new()),
+            ("chemical", |d| d.chemical = " ".into()),
+            ("product.name", |d| {
+                d.product.as_mut().unwrap().name = String::new()
+            }),
+            ("results.value", |d| d.results[0].value = f64::NAN),
+            ("results.value", |d| d.results[1].value = -1.0),
+            ("results.unit", |d| d.results[3].unit = "buckets".into()),
+            ("results.id", |d| d.results[2].id = "dose".into()),
+            ("setting.percent", |d| {
+                d.setting.as_mut().unwrap().percent = 101.0
+            }),
+            ("setting.device", |d| {
+                d.setting.as_mut().unwrap().device = "pump".into()
+            }),
+            ("inputs.value", |d| d.inputs[0].value = f64::INFINITY),
         ];
         for (field, spoil) in cases {
             let Record::Entry(mut e) = entry() else {
@@ -589,6 +964,87 @@ mod tests {
             assert_eq!(err.param("field"), Some(field), "{}", err.message());
         }
         assert!(entry().validate().is_ok());
+    }
+
+    /// A pump setting above 100 % in the results list is refused like one in `setting`.
+    #[test]
+    fn a_setting_above_full_scale_is_refused_wherever_it_is() {
+        let Record::Entry(mut e) = entry() else {
+            unreachable!()
+        };
+        e.dose.results[4].value = 100.5;
+        let err = Record::Entry(e).validate().unwrap_err();
+        assert_eq!(
+            err.param("field"),
+            Some("results.value"),
+            "{}",
+            err.message()
+        );
+    }
+
+    /// Nothing computed, nothing stored: a gas feed has no product volume and no pump, and the
+    /// JSON says so by leaving them out rather than writing 0.
+    #[test]
+    fn absent_results_stay_absent_in_the_payload() {
+        let Record::Entry(mut e) = entry() else {
+            unreachable!()
+        };
+        e.dose
+            .results
+            .retain(|r| r.id != "product_volume_rate" && r.id != "pump_setting");
+        e.dose.setting = None;
+        let record = Record::Entry(e);
+        record.validate().unwrap();
+        let payload = encode(&record);
+        assert_eq!(payload[0], 2, "written as version 2");
+        let (_, json) = decode_key(&payload).unwrap();
+        let text = std::str::from_utf8(json).unwrap();
+        assert!(!text.contains("product_volume_rate"), "{text}");
+        assert!(!text.contains("\"setting\""), "{text}");
+        let Record::Entry(back) = decode(&payload).unwrap() else {
+            unreachable!()
+        };
+        assert_eq!(back.dose.result("product_volume_rate"), None);
+        assert_eq!(back.dose.setting, None);
+        assert_eq!(back.dose.result("dose").map(|r| r.value), Some(1.8));
+    }
+
+    /// A version-1 payload (the layout before named results) decodes into the version-2 shape
+    /// with its four numbers as results in their version-1 units, zeros included.
+    #[test]
+    fn version_1_payload_reads_as_version_2() {
+        let body = r#"{"id":"0190f0c2-0000-7000-8000-000000000001","device":"t","at":"2026-03-04T07:15:00+02:00","site":"Riverside","dose":{"operator":"JM","tap":"Inlet","chemical":"product-chlorine-gas","product":"product-chlorine-gas","flow_m3_per_h":375.0,"dose_mg_per_l":2.0,"feed_rate_l_per_h":0.0,"pump_setting_percent":0.0,"inputs":[],"results":[{"name":"chlorine demand","value":0.75,"unit":"kg/h"}],"trace":[],"cautions":["Toxic gas"],"cross_check":null,"note":"n"}}"#;
+        let id: Uuid = "0190f0c2-0000-7000-8000-000000000001".parse().unwrap();
+        let mut payload = vec![1u8, 1];
+        payload.extend_from_slice(id.as_bytes());
+        // The key's time is the body's (a key that disagrees with its body is refused).
+        let at = DateTime::parse_from_rfc3339("2026-03-04T07:15:00+02:00").unwrap();
+        payload.extend_from_slice(&at.timestamp_millis().to_le_bytes());
+        payload.extend_from_slice(&120i16.to_le_bytes());
+        payload.extend_from_slice(Uuid::nil().as_bytes());
+        for name in ["Inlet", "product-chlorine-gas"] {
+            payload.extend_from_slice(&(name.len() as u16).to_le_bytes());
+            payload.extend_from_slice(name.as_bytes());
+        }
+        payload.extend_from_slice(body.as_bytes());
+        let Record::Entry(e) = decode(&payload).unwrap() else {
+            panic!("not an entry")
+        };
+        let d = &e.dose;
+        assert_eq!(d.calculator, CALCULATOR_UNRECORDED);
+        let got = |id: &str| d.result(id).map(|r| (r.value, r.unit.as_str()));
+        assert_eq!(got("flow"), Some((375.0, "m³/h")));
+        assert_eq!(got("dose"), Some((2.0, "mg/L")));
+        assert_eq!(
+            got("product_volume_rate"),
+            Some((0.0, "L/h")),
+            "carried, not dropped"
+        );
+        assert_eq!(got("pump_setting"), Some((0.0, "%")));
+        assert_eq!(got("v1_chlorine_demand"), Some((0.75, "kg/h")));
+        assert_eq!(d.cautions[0].text, "Toxic gas");
+        assert_eq!(d.note, "n");
+        assert!(Record::Entry(e.clone()).validate().is_ok());
     }
 
     #[test]

@@ -33,7 +33,13 @@ pub fn sample_entry(n: usize) -> Record {
     let mut dose = record::example_dose();
     dose.tap = TAPS[n % TAPS.len()].into();
     dose.chemical = CHEMICALS[(n / 7) % CHEMICALS.len()].into();
-    dose.pump_setting_percent = (n % 1000) as f64 / 10.0;
+    let setting = (n % 1000) as f64 / 10.0;
+    if let Some(pump) = dose.results.iter_mut().find(|r| r.id == "pump_setting") {
+        pump.value = setting;
+    }
+    if let Some(s) = dose.setting.as_mut() {
+        s.percent = setting;
+    }
     dose.note = format!("routine change {n}, checked at the dosing skid");
     Record::Entry(Entry {
         id: Uuid::now_v7(),

@@ -71,14 +71,9 @@ fn csv_defuses_every_formula_start_and_reads_back_exactly() {
     );
     assert!(out.status.success(), "{}", text(&out.stderr));
     let mut reader = csv::Reader::from_reader(out.stdout.as_slice());
-    let note = export::CSV_COLUMNS
-        .iter()
-        .position(|c| *c == "note")
-        .unwrap();
-    let tap = export::CSV_COLUMNS
-        .iter()
-        .position(|c| *c == "tap")
-        .unwrap();
+    let columns = export::csv_columns(molefeed::engine::quantity::UnitSystem::Si);
+    let note = columns.iter().position(|c| *c == "note").unwrap();
+    let tap = columns.iter().position(|c| *c == "tap").unwrap();
     let rows: Vec<csv::StringRecord> = reader.records().map(Result::unwrap).collect();
     assert_eq!(rows.len(), HOSTILE.len() + 1);
     for (row, logged) in rows.iter().zip(HOSTILE) {
@@ -294,7 +289,12 @@ fn a_listing_stopped_by_an_impossible_number_ends_with_a_readable_error() {
     log.append(entry_with("T1", "fine", "2026-05-01T08:00:00+00:00"))
         .unwrap();
     let mut dose = molefeed::log::record::example_dose();
-    dose.dose_mg_per_l = 1e300;
+    // A crafted record: its dose result holds a number no plant can have.
+    dose.results
+        .iter_mut()
+        .find(|r| r.id == "dose")
+        .expect("the example has a dose")
+        .value = 1e300;
     let impossible = log
         .append(Draft::Entry {
             at: Some(chrono::DateTime::parse_from_rfc3339("2026-05-02T08:00:00+00:00").unwrap()),

@@ -7,10 +7,11 @@
 //! proves the app starts on a machine without fonts.
 #![allow(dead_code)]
 
-use molefeed::app::dose_log::NewEntry;
+use molefeed::app::dose_log::{DoseLog, LogError};
 use molefeed::app::seams::{
     CalcEngine, CalcOutcome, CalcRequest, Caution, CautionLevel, SeamError, TraceLine,
 };
+use molefeed::log::record::{Dose, LoggedResult};
 use std::sync::Once;
 
 static FONTS: Once = Once::new();
@@ -72,22 +73,39 @@ impl CalcEngine for EchoEngine {
     }
 }
 
-/// A dose as an operator typed it into the log: no computed feed, trace or cautions, initials
-/// "JM". The UI and screenshot tests seed their logs with these.
-pub fn typed_entry(when: &str, site: &str, point: &str, chemical: &str, dose: f64) -> NewEntry {
-    NewEntry {
-        when: when.into(),
-        site: site.into(),
-        point: point.into(),
+/// Logs a dose as an operator typed it: a feed-setting entry with only its dose (no computed
+/// feed, setting, trace or cautions), initials "JM". The UI and screenshot tests seed their
+/// logs with these.
+pub fn log_typed(
+    log: &mut dyn DoseLog,
+    when: &str,
+    site: &str,
+    point: &str,
+    chemical: &str,
+    dose: f64,
+) -> Result<u64, LogError> {
+    let dose = Dose {
+        operator: "JM".into(),
+        tap: point.into(),
+        calculator: "feed".into(),
+        mode: None,
         chemical: chemical.into(),
-        dose_mg_per_l: dose,
-        feed_kg_per_day: None,
-        pump_setting_percent: None,
-        flow_m3_per_day: None,
-        product_l_per_hour: None,
+        product: None,
+        inputs: Vec::new(),
+        results: vec![LoggedResult {
+            id: "dose".into(),
+            value: dose,
+            shown: dose.to_string(),
+            unit: "mg/L".into(),
+            basis: None,
+            headline: true,
+        }],
+        setting: None,
         trace: Vec::new(),
         cautions: Vec::new(),
+        cross_check: None,
         note: String::new(),
-        operator: "JM".into(),
-    }
+    };
+    let at = chrono::DateTime::parse_from_rfc3339(when).expect("an RFC 3339 time");
+    log.append(site, Some(at), dose)
 }
