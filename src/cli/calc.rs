@@ -87,7 +87,7 @@ pub fn list(args: &Args) -> CliResult {
 pub fn help(calc: &Calculator) -> Result<String, CliError> {
     let c = table()?;
     let mut out = format!(
-        "molefeed calc {} [--product ID] [--mode M] --INPUT VALUE ... [--units si|us] [--site FILE] [--json]\n\n",
+        "molefeed calc {} [--product ID] [--mode M] --INPUT VALUE ... [--units si|us] [--site FILE] [--json]\n                  [--log FILE --initials XX --tap TAP --site FILE]   record what is printed\n\n",
         calc.id
     );
     if !calc.modes.is_empty() {
@@ -161,12 +161,21 @@ fn unit_of(args: &Args, input: &Input, system: Option<UnitSystem>) -> Result<Uni
     }
 }
 
+/// What the flags said besides the request: the plant's name (from `--site`) and each input's
+/// text as typed, where it was typed in the unit the outcome is printed in (SI).
+#[derive(Default)]
+pub struct Given {
+    pub site_name: Option<String>,
+    pub typed_si: std::collections::BTreeMap<&'static str, String>,
+}
+
 /// The request the flags make for `calc`, with the site's limits and maximum use level.
-pub fn request(
+fn request(
     c: &Calculators,
     calc: &'static Calculator,
     args: &Args,
-) -> Result<Request, CliError> {
+) -> Result<(Request, Given), CliError> {
+    let mut given = Given::default();
     let mut request = Request::new(calc);
     if let Some(mode) = args.text("mode")? {
         request.mode = Some(
@@ -197,6 +206,7 @@ pub fn request(
     if let Some(path) = args.text("site")? {
         let text = super::read_input_file(path, "site profile")?;
         let site = SiteProfile::from_json(&text, c.catalog())?;
+        given.site_name = Some(site.name.clone());
         request.limits = site.limits.clone();
         request.max_use_level_mg_l = request
             .product
@@ -208,18 +218,21 @@ pub fn request(
         let Some(text) = args.text(input.name)? else {
             continue;
         };
-        let given = Measured::parse(text).map_err(|_| CliError {
+        let value = Measured::parse(text).map_err(|_| CliError {
             kind: "invalid-input".into(),
             message: format!("--{} must be a number, got '{text}'", input.name),
             reason: Some("not-a-number"),
         })?;
         let unit = unit_of(args, &input, system)?;
-        request.values.insert(input.name, unit.to_si(given.value));
+        request.values.insert(input.name, unit.to_si(value.value));
         if let Some(f) = given_figures(input.quantity, text) {
             request.figures.insert(input.name, f);
         }
+        if unit == input.quantity.si() {
+            given.typed_si.insert(input.name, text.trim().to_string());
+        }
     }
-    Ok(request)
+    Ok((request, given))
 }
 
 /// A number as printed: to the figures the outcome supports; a pH or index to two decimals.
@@ -306,7 +319,61 @@ pub fn run(args: &Args) -> CliResult {
         });
     }
     let c = table()?;
-    let request = request(&c, calc, args)?;
+    let (request, given) = request(&c, calc, args)?;
     let outcome = c.compute(&request)?;
-    Ok(report(&outcome))
+    let mut report = report(&outcome);
+    if let Some(id) = log_outcome(args, &outcome, &given)? {
+        report.human.push_str(&format!("\nlogged as entry {id}\n"));
+        report.json["logged"] = json!(id.to_string());
+    }
+    Ok(report)
+}
+
+/// `--log FILE --initials XX --tap TAP` (with `--site FILE` for the plant's name): appends
+/// exactly what was printed, through the log's one conversion of an outcome, the one the app's
+/// "Log this dose" uses. The id is reported only once the entry is on disk.
+fn log_outcome(
+    args: &Args,
+    outcome: &Outcome,
+    given: &Given,
+) -> Result<Option<uuid::Uuid>, CliError> {
+    let Some(file) = args.text("log")? else {
+        return Ok(None);
+    };
+    let initials = args.required_text("initials")?;
+    let tap = args.required_text("tap")?;
+    let site = given.site_name.clone().ok_or_else(|| {
+        CliError::usage("--log needs --site FILE: an entry records the plant it was made for")
+    })?;
+    let figures = shown_figures(outcome);
+    let result = |r: &crate::engine::calculators::ResultValue, unit: Unit| {
+        shown(unit.from_si(r.value), r.quantity, figures)
+    };
+    let input = |i: &crate::engine::calculators::InputUsed| given.typed_si.get(i.name).cloned();
+    let caution =
+        |c: &crate::engine::dosing::Caution| render(std::slice::from_ref(c)).trim().to_string();
+    let dose = crate::log::shown::dose_of_outcome(
+        outcome,
+        &crate::log::shown::Shown {
+            // The command line prints in SI; the record keeps what it printed.
+            system: UnitSystem::Si,
+            result: &result,
+            input: &input,
+            caution: &caution,
+        },
+        initials,
+        tap,
+    );
+    let path = std::path::Path::new(file);
+    super::log_cmd::usable_log_path(path)?;
+    let device = super::log_cmd::device(args)?;
+    let mut log = crate::log::Log::open(path, &device).map_err(super::log_cmd::log_error)?;
+    let id = log
+        .append(crate::log::Draft::Entry {
+            at: None,
+            site,
+            dose,
+        })
+        .map_err(super::log_cmd::log_error)?;
+    Ok(Some(id))
 }

@@ -50,7 +50,7 @@ pub fn run(args: &Args) -> CliResult {
     }
 }
 
-fn log_error(e: log::Error) -> CliError {
+pub(super) fn log_error(e: log::Error) -> CliError {
     // A damaged header is the one refusal the command line can do something about.
     if e.param("reason") == Some("damaged-header") {
         let file = e.param("path").unwrap_or("FILE");
@@ -68,7 +68,7 @@ fn log_error(e: log::Error) -> CliError {
 }
 
 /// The device id for records written from the command line: `--device`, else the host name.
-fn device(args: &Args) -> Result<String, CliError> {
+pub(super) fn device(args: &Args) -> Result<String, CliError> {
     if let Some(d) = args.text("device")? {
         return Ok(d.to_string());
     }
@@ -92,7 +92,7 @@ fn open(args: &Args) -> Result<Log, CliError> {
 /// A log path the command line may open: a regular file (a FIFO or a device would block or
 /// never end), or a new file in a directory that exists. A mistyped `a/b/c.doselog` must not
 /// leave a trail of new directories behind.
-fn usable_log_path(path: &Path) -> Result<(), CliError> {
+pub(super) fn usable_log_path(path: &Path) -> Result<(), CliError> {
     match std::fs::metadata(path) {
         Ok(meta) if meta.is_file() => Ok(()),
         Ok(_) => Err(CliError::io(format!(

@@ -181,3 +181,67 @@ fn an_unknown_calculator_names_the_ones_there_are() {
             .contains("free-chlorine")
     );
 }
+
+/// `calc feed ... --log`: the entry holds what was printed — inputs and results with units, the
+/// product's English name — and nothing that was not computed (a gas has no product volume
+/// and no pump setting, not 0), read back through the log's own JSON Lines export.
+#[test]
+fn a_logged_gas_feed_carries_what_was_printed_and_no_invented_zeros() {
+    let dir = std::env::temp_dir().join(format!("molefeed-calc-log-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let log = dir.join("plant.doselog");
+    let site = concat!(env!("CARGO_MANIFEST_DIR"), "/data/demo-site.json");
+    let printed = calc(&format!(
+        "calc feed --product chlorine-gas --flow 9000 --flow-unit m3-per-day --dose 2.0 \
+         --purity 100 --gas-feeder-capacity 100 --gas-feeder-capacity-unit kg-per-day \
+         --site {site} --log {} --initials JM --tap clearwell --json",
+        log.display()
+    ));
+    assert!(printed["logged"].is_string(), "{printed}");
+    let (code, _, text) = run(&[
+        "log",
+        "export",
+        "--file",
+        log.to_str().unwrap(),
+        "--format",
+        "jsonl",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    let entry: Value = serde_json::from_str(text.lines().next().unwrap()).unwrap();
+    let dose = &entry["dose"];
+    assert_eq!(dose["calculator"], "feed");
+    assert_eq!(dose["product"]["name"], "Chlorine gas");
+    assert_eq!(dose["chemical"], "Cl2");
+    let results = dose["results"].as_array().unwrap();
+    let ids: Vec<&str> = results.iter().map(|r| r["id"].as_str().unwrap()).collect();
+    assert!(!ids.contains(&"product_volume_rate"), "{ids:?}");
+    assert!(!ids.contains(&"pump_setting"), "{ids:?}");
+    let result = |id: &str| results.iter().find(|r| r["id"] == id).unwrap();
+    // 9000 m³/d × 2.0 g/m³ = 18.0 kg/d of Cl2, on a 100 kg/d feeder: 18.0 %.
+    assert_eq!(result("feed_mass_rate")["unit"], "kg/d");
+    assert!((result("feed_mass_rate")["value"].as_f64().unwrap() - 18.0).abs() < 1e-9);
+    assert_eq!(
+        result("feed_mass_rate")["shown"],
+        printed_value(&printed, "feed_mass_rate")
+    );
+    assert_eq!(dose["setting"]["device"], "gas-feeder");
+    let flow = dose["inputs"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|i| i["name"] == "flow")
+        .unwrap();
+    assert_eq!(
+        (flow["text"].as_str(), flow["unit"].as_str()),
+        (Some("9000"), Some("m³/d"))
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// The number as the human printout shows it, from the same outcome printed without --json.
+fn printed_value(json: &Value, id: &str) -> String {
+    let value = json["results"][id]["value"].as_f64().unwrap();
+    let figures = json["figures"].as_u64().unwrap() as u8;
+    molefeed::engine::sigfig::format_sig(value, figures)
+}

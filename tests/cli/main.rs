@@ -10,5 +10,6 @@ mod fuzz_cli;
 mod log_cli;
 mod numbers_cli;
 mod output_cli;
+mod parity_cli;
 mod support;
 mod water_cli;

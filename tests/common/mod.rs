@@ -69,6 +69,8 @@ impl CalcEngine for EchoEngine {
                     params: vec![],
                 },
             ],
+            // No engine outcome: a stand-in result is never logged.
+            table: None,
         })
     }
 }

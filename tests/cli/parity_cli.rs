@@ -1,0 +1,166 @@
+//! Parity of the command line and the app: every variant the app offers, with every product it
+//! offers, computed through `molefeed calc` (a real process, flags parsed and converted) and
+//! through the app's calculator controller (fields typed as text, parsed and converted), must
+//! give the same results and the same cautions. Both front ends are generic over the engine's
+//! calculator table, so this is the test that they stay so.
+
+use molefeed::app::calc::{CalcController, Status};
+use molefeed::app::numbers::Lang;
+use molefeed::app::seams::{CalcKind, connected_engine};
+use molefeed::engine::calculators::{Calculators, Input};
+use molefeed::engine::quantity::UnitSystem;
+use serde_json::Value;
+use std::process::Command;
+
+/// A plausible reading for an input, by name (an invented plant's numbers); a product's
+/// strength and SG come from the catalog's first typical strength.
+fn reading(input: &Input, strength: Option<(f64, Option<f64>)>) -> Option<String> {
+    let v = match input.name {
+        "flow" => "5000",
+        "ph-raw" => "6.9",
+        "ph-target" => "7.8",
+        "alkalinity" => "60",
+        "temperature" => "15",
+        "calcium-hardness" => "80",
+        "chlorine-demand" => "1.2",
+        "residual-target" => "1.5",
+        "ph" => "7.4",
+        "chlorine-dose" => "3.5",
+        "cl2-n-ratio" => "4.5",
+        "residual-in" => "0.8",
+        "jar-dose" => "30",
+        "alkalinity-setpoint" => "20",
+        "total-hardness" => "250",
+        "excess-lime" => "35",
+        "lime-purity" => "93",
+        "lime-feeder-capacity" => "600",
+        "soda-ash-purity" => "98",
+        "dose" => "2.5",
+        "drawdown-volume" => "140",
+        "drawdown-time" => "60",
+        "pump-setting" => "30",
+        "pump-capacity" => "12",
+        "gas-feeder-capacity" => "150",
+        "dry-feeder-capacity" => "600",
+        "strength" | "purity" => return strength.map(|(s, _)| s.to_string()),
+        "specific-gravity" => return strength.and_then(|(_, sg)| sg).map(|sg| sg.to_string()),
+        // Optional readings the cases leave out (ammonia in the water).
+        _ if input.optional => return None,
+        other => panic!("no reading for {other}: add one"),
+    };
+    Some(v.to_string())
+}
+
+#[test]
+fn every_calculator_the_app_shows_gives_the_same_numbers_and_cautions_on_the_command_line() {
+    let table = Calculators::new().unwrap();
+    let mut compared = 0;
+    let mut refused = 0;
+    for kind in CalcKind::all() {
+        for mode in kind.modes() {
+            let calc = mode.calculator();
+            for product in table.products(calc) {
+                let strength = table
+                    .catalog()
+                    .product(&product.id)
+                    .unwrap()
+                    .strengths
+                    .first()
+                    .map(|s| (s.value, s.sg));
+                let inputs: Vec<(Input, String)> = table
+                    .inputs(calc, Some(&product.id))
+                    .into_iter()
+                    .filter_map(|i| reading(&i, strength).map(|t| (i, t)))
+                    .collect();
+                // The app: the screen, the variant, the product, then every field typed.
+                let mut app = CalcController::new(connected_engine(), Lang::En, UnitSystem::Si);
+                app.set_kind(kind);
+                app.set_mode(mode);
+                let index = app
+                    .view()
+                    .products
+                    .iter()
+                    .position(|p| p.id == product.id)
+                    .unwrap();
+                app.set_product(index);
+                for (input, text) in &inputs {
+                    app.edit(input.name, text);
+                }
+                let view = app.view();
+                // The command line, as a script would call it.
+                let mut args = vec![
+                    "calc".to_string(),
+                    calc.id.to_string(),
+                    "--product".into(),
+                    product.id.clone(),
+                    "--units".into(),
+                    "si".into(),
+                    "--json".into(),
+                ];
+                if let Some(m) = mode.mode {
+                    args.extend(["--mode".to_string(), m.to_string()]);
+                }
+                for (input, text) in &inputs {
+                    args.extend([format!("--{}", input.name), text.clone()]);
+                }
+                let out = Command::new(env!("CARGO_BIN_EXE_molefeed"))
+                    .args(&args)
+                    .output()
+                    .unwrap();
+                let stdout = String::from_utf8_lossy(&out.stdout);
+                let cli: Value = serde_json::from_str(stdout.trim()).unwrap();
+                let card = match view.status {
+                    Status::Ready(card) => card,
+                    // A refusal (an acid asked to raise the pH) is the same refusal in both.
+                    Status::Refused(e) => {
+                        assert!(!out.status.success(), "{args:?}: the CLI computed {stdout}");
+                        assert_eq!(cli["error"]["kind"], e.kind().code(), "{args:?}");
+                        assert_eq!(cli["error"]["reason"].as_str(), e.reason(), "{args:?}");
+                        refused += 1;
+                        continue;
+                    }
+                    other => panic!("{} / {}: the app shows {other:?}", calc.id, product.id),
+                };
+                assert!(out.status.success(), "{args:?}: {stdout}");
+                let outcome = card.outcome.table.expect("the engine's outcome");
+                let cli_results = cli["results"].as_object().unwrap();
+                assert_eq!(
+                    cli_results.len(),
+                    outcome.results.len(),
+                    "{} / {}: {cli_results:?} vs {:?}",
+                    calc.id,
+                    product.id,
+                    outcome.results
+                );
+                for r in &outcome.results {
+                    let v = cli_results[r.id]["value"].as_f64().unwrap();
+                    assert!(
+                        (v - r.value).abs() <= 1e-12 * r.value.abs().max(1e-9),
+                        "{} / {}: {} CLI {v} app {}",
+                        calc.id,
+                        product.id,
+                        r.id,
+                        r.value
+                    );
+                }
+                let cli_cautions: Vec<&str> = cli["cautions"]
+                    .as_array()
+                    .unwrap()
+                    .iter()
+                    .map(|c| c["key"].as_str().unwrap())
+                    .collect();
+                let app_cautions: Vec<&str> =
+                    outcome.cautions.iter().map(|c| c.key.as_str()).collect();
+                assert_eq!(cli_cautions, app_cautions, "{} / {}", calc.id, product.id);
+                // The card shows every engine caution but the advisory, which it shows itself.
+                assert_eq!(card.cautions.len() + 1, outcome.cautions.len());
+                compared += 1;
+            }
+        }
+    }
+    // Every variant with every product: the table's size, counted so a silent skip fails.
+    assert!(compared >= 25, "only {compared} cases compared");
+    println!(
+        "parity: {compared} calculator/product cases identical, {refused} refused alike by both"
+    );
+}
