@@ -241,7 +241,7 @@ fn switching_language_changes_labels_and_the_decimal_mark() {
 
 #[test]
 fn log_button_stores_the_dose_in_the_log() {
-    let (app, handle) = start(Rc::new(common::EchoEngine));
+    let (app, handle) = start(connected_engine());
     fill_feed_setting(&app, "1");
     assert!(handle.state.borrow().entries().is_empty());
     // Without initials nothing is logged, and the operator is told why.
@@ -252,7 +252,7 @@ fn log_button_stores_the_dose_in_the_log() {
     let entries = handle.state.borrow().entries();
     assert_eq!(entries.len(), 1);
     assert_eq!(entries[0].dose.dose_mg_per_l(), Some(2.0));
-    assert_eq!(entries[0].dose.chemical, "echo-product");
+    assert_eq!(entries[0].dose.chemical, "Cl2");
     // The Start screen lists it and warns that the in-memory log is not saved.
     tap(&app, &en("nav-start"));
     one(&app, &en("banner-not-saved"));
@@ -261,7 +261,7 @@ fn log_button_stores_the_dose_in_the_log() {
 
 #[test]
 fn back_returns_to_the_previous_screen() {
-    let (app, _handle) = start(Rc::new(common::EchoEngine));
+    let (app, _handle) = start(connected_engine());
     tap(&app, &en("nav-log"));
     tap(&app, &en("nav-about"));
     app.global::<Nav>().invoke_back();
@@ -280,7 +280,7 @@ fn log_button_writes_the_dose_to_the_crash_safe_log_file() {
     let handle = attach(
         &app,
         Deps {
-            engine: Rc::new(common::EchoEngine),
+            engine: connected_engine(),
             log: Box::new(molefeed::app::dose_log::PersistentLog::new(&dir, "ui-test")),
             data_dir: None,
             lang: Some(Lang::En),
@@ -304,7 +304,7 @@ fn log_button_writes_the_dose_to_the_crash_safe_log_file() {
     assert_eq!(views.len(), 1);
     assert_eq!(views[0].dose.operator, "KT");
     assert_eq!(views[0].dose.dose_mg_per_l(), Some(2.0));
-    assert_eq!(views[0].dose.chemical, "echo-product");
+    assert_eq!(views[0].dose.chemical, "Cl2");
     let _ = std::fs::remove_dir_all(&dir);
 }
 
@@ -468,7 +468,7 @@ fn start_with_log(width: f32, height: f32) -> (AppWindow, AppHandle) {
     let handle = attach(
         &app,
         Deps {
-            engine: Rc::new(common::EchoEngine),
+            engine: connected_engine(),
             log: Box::new(log),
             data_dir: None,
             lang: Some(Lang::En),
@@ -497,8 +497,9 @@ fn row_label(point: &str, chemical: &str, dose: &str, status: &str) -> String {
 #[test]
 fn correcting_an_entry_with_a_reason_adds_history_and_changes_the_value() {
     let (app, handle) = start_with_log(1280.0, 2000.0);
-    // A correction records a recomputed result: the feed setting recomputed at 1.8 mg/L.
-    fill_feed_setting(&app, "1");
+    // A correction records a recomputed result: the feed setting recomputed at 1.8 mg/L (the
+    // flow typed to three figures, so the card shows the dose to the two it was typed with).
+    fill_feed_setting(&app, "1.00");
     type_into(&app, &en("field-dose"), "1.8");
     tap(&app, &en("nav-log"));
     tap(&app, &row_label("Clearwell", "NaOCl", "1.50", ""));
@@ -507,16 +508,11 @@ fn correcting_an_entry_with_a_reason_adds_history_and_changes_the_value() {
     type_into(&app, &en("log-edit-dose"), "1.8");
     type_into(&app, &en("log-edit-reason"), "meter misread");
     tap(&app, &en("log-save-correction"));
-    // The list shows the effective value, marked in words; the recomputed card names its
-    // chemical as the stand-in engine does.
+    // The list shows the effective value, marked in words; the recomputed card names what
+    // its dose is expressed as (hypochlorite is dosed as Cl2).
     one(
         &app,
-        &row_label(
-            "Clearwell",
-            "echo-product",
-            "1.80",
-            &en("log-status-corrected"),
-        ),
+        &row_label("Clearwell", "Cl2", "1.80", &en("log-status-corrected")),
     );
     assert_eq!(
         count(&app, &row_label("Clearwell", "NaOCl", "1.50", "")),
