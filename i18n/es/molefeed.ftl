@@ -167,6 +167,10 @@ unit-none = { "" }
 unit-ml = mL
 unit-s = s
 unit-ratio = : 1
+unit-min = min
+unit-l = L
+unit-gal = gal
+unit-mg-min-per-l = mg·min/L
 
 ## Entrada de números
 number-empty = Escriba un número.

@@ -115,10 +115,11 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
 ];
 
 /// Further results listed under the card's big numbers (`result-<id>` with dashes): every
-/// result of the calculator table that has no big place of its own.
+/// result of a calculator the app shows that has no big place of its own.
 pub fn extra_keys() -> Vec<String> {
     let mut keys: Vec<String> = crate::engine::calculators::all()
         .iter()
+        .filter(|c| c.in_app)
         .flat_map(|c| c.results.iter())
         .filter(|r| !super::engine_adapter::BIG_RESULTS.contains(&r.id))
         .map(|r| r.id.replace('_', "-"))

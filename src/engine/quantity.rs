@@ -39,6 +39,12 @@ pub enum Quantity {
     Ratio,
     /// A dimensionless index such as the Langelier index, shown to two decimals.
     Index,
+    /// A time in minutes (a contact time). min in both systems.
+    Minutes,
+    /// A batch or basin volume. SI: L. US: gal.
+    Volume,
+    /// Concentration × time, the disinfection credit. mg·min/L in both systems.
+    ConcentrationTime,
 }
 
 /// The unit a value is shown in; `code()` is the translation-key stem (`unit-<code>`) and the
@@ -61,6 +67,10 @@ pub enum Unit {
     Millilitres,
     Seconds,
     Ratio,
+    Minutes,
+    Litres,
+    Gallons,
+    MgMinPerL,
 }
 
 /// m³ in one US gallon (exact by definition: 231 in³).
@@ -69,7 +79,7 @@ const M3_PER_GALLON: f64 = 3.785_411_784e-3;
 const KG_PER_POUND: f64 = 0.453_592_37;
 
 impl Unit {
-    pub const ALL: [Unit; 16] = [
+    pub const ALL: [Unit; 20] = [
         Unit::CubicMetresPerDay,
         Unit::Mgd,
         Unit::MgPerL,
@@ -86,6 +96,10 @@ impl Unit {
         Unit::Millilitres,
         Unit::Seconds,
         Unit::Ratio,
+        Unit::Minutes,
+        Unit::Litres,
+        Unit::Gallons,
+        Unit::MgMinPerL,
     ];
 
     pub fn code(self) -> &'static str {
@@ -106,6 +120,10 @@ impl Unit {
             Unit::Millilitres => "ml",
             Unit::Seconds => "s",
             Unit::Ratio => "ratio",
+            Unit::Minutes => "min",
+            Unit::Litres => "l",
+            Unit::Gallons => "gal",
+            Unit::MgMinPerL => "mg-min-per-l",
         }
     }
 
@@ -134,6 +152,10 @@ impl Unit {
             Unit::Millilitres => "mL",
             Unit::Seconds => "s",
             Unit::Ratio => "ratio",
+            Unit::Minutes => "min",
+            Unit::Litres => "L",
+            Unit::Gallons => "gal",
+            Unit::MgMinPerL => "mg·min/L",
         }
     }
 
@@ -144,6 +166,7 @@ impl Unit {
             Unit::Fahrenheit => (v - 32.0) * 5.0 / 9.0,
             Unit::LbPerDay => v * KG_PER_POUND,
             Unit::GallonsPerHour => v * M3_PER_GALLON * 1000.0,
+            Unit::Gallons => v * M3_PER_GALLON * 1000.0,
             _ => v,
         }
     }
@@ -155,6 +178,7 @@ impl Unit {
             Unit::Fahrenheit => v * 9.0 / 5.0 + 32.0,
             Unit::LbPerDay => v / KG_PER_POUND,
             Unit::GallonsPerHour => v / (M3_PER_GALLON * 1000.0),
+            Unit::Gallons => v / (M3_PER_GALLON * 1000.0),
             _ => v,
         }
     }
@@ -195,6 +219,10 @@ impl Quantity {
             (Quantity::Seconds, _) => Unit::Seconds,
             (Quantity::Ratio, _) => Unit::Ratio,
             (Quantity::Index, _) => Unit::NoUnit,
+            (Quantity::Minutes, _) => Unit::Minutes,
+            (Quantity::Volume, Si) => Unit::Litres,
+            (Quantity::Volume, Us) => Unit::Gallons,
+            (Quantity::ConcentrationTime, _) => Unit::MgMinPerL,
         }
     }
 }
@@ -224,6 +252,8 @@ mod tests {
         assert!((Unit::Fahrenheit.to_si(212.0) - 100.0).abs() < 1e-12);
         assert!((Unit::LbPerDay.to_si(1.0) - 0.45359237).abs() < 1e-15);
         assert!((Unit::GallonsPerHour.to_si(1.0) - 3.785411784).abs() < 1e-12);
+        // 1 US gallon is 231 in³ = 3.785411784 L exactly.
+        assert!((Unit::Gallons.to_si(1.0) - 3.785411784).abs() < 1e-12);
     }
 
     #[test]

@@ -56,6 +56,9 @@ fn calculators_lists_every_calculator_the_app_shows_with_inputs_and_results() {
         "softening",
         "pump-check",
         "feed",
+        "ct",
+        "dilution",
+        "sludge",
     ] {
         assert!(listed.contains(&id), "{id}");
     }

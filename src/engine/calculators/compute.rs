@@ -17,7 +17,7 @@ use crate::engine::dosing::chlorine::{
 };
 use crate::engine::dosing::coagulation::{
     Alkali, Coagulant, CoagulationInput, SludgeInput, coagulant_chemical, coagulation_in_water,
-    sludge,
+    sludge as sludge_of,
 };
 use crate::engine::dosing::feed::{FeedInput, FeedResult, PumpKind, UsableRange};
 use crate::engine::dosing::neutralization::{NeutralizationInput, neutralization};
@@ -465,7 +465,7 @@ pub(super) fn coagulation(c: &Calculators, request: &Request) -> Result<Outcome>
         &water,
         PhRange::from_limits(&request.limits),
     )?;
-    let solids = sludge(
+    let solids = sludge_of(
         &c.catalog,
         &SludgeInput {
             flow: flow(request)?,
@@ -771,6 +771,125 @@ pub(super) fn pump_check(c: &Calculators, request: &Request) -> Result<Outcome> 
             percent,
         });
     }
+    out.traces = r.traces;
+    out.cautions = r.cautions;
+    Ok(out)
+}
+
+/// CT for free chlorine: T10 from a tracer study, or from the basin's volume, baffling factor
+/// and the flow through it; the CT the regression requires for 1- and 3-log Giardia.
+pub(super) fn ct(_c: &Calculators, request: &Request) -> Result<Outcome> {
+    use crate::engine::dosing::chlorine::{ContactTime, CtInput, ct_free_chlorine};
+    let contact = match request.get("t10") {
+        Some(t10) => ContactTime::T10Minutes(t10),
+        None => ContactTime::Basin {
+            // m³/d → L/min; L stay L.
+            flow_l_per_min: value(request, "flow")? * 1000.0 / 1440.0,
+            volume_l: value(request, "basin-volume")?,
+            baffling_factor: value(request, "baffling-factor")?,
+        },
+    };
+    let r = ct_free_chlorine(&CtInput {
+        residual: measured(request, "residual")?,
+        ph: value(request, "ph")?,
+        temperature_c: value(request, "temperature")?,
+        contact,
+    })?;
+    let mut out = outcome("Cl2".into());
+    let cl2 = Some("Cl2");
+    out.results
+        .push(headline("ct", r.ct_mg_min_l, Q::ConcentrationTime, cl2));
+    out.results.push(headline(
+        "ct_required_3log",
+        r.ct_required_3log_mg_min_l,
+        Q::ConcentrationTime,
+        cl2,
+    ));
+    out.results.push(headline(
+        "inactivation_ratio",
+        r.inactivation_ratio,
+        Q::Ratio,
+        None,
+    ));
+    out.results.push(headline(
+        "giardia_log_inactivation",
+        r.giardia_log_inactivation,
+        Q::Index,
+        None,
+    ));
+    out.results
+        .push(result("t10", r.t10_minutes, Q::Minutes, None));
+    out.results.push(result(
+        "ct_required_1log",
+        r.ct_required_1log_mg_min_l,
+        Q::ConcentrationTime,
+        cl2,
+    ));
+    out.traces = r.traces;
+    out.cautions = r.cautions;
+    Ok(out)
+}
+
+/// Making a weaker batch from a concentrate: how much concentrate and how much water.
+pub(super) fn dilution(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let (product, concentrate) = c.strength(request)?;
+    let target = Strength::new(
+        measured(request, "target-strength")?,
+        concentrate.basis,
+        Some(measured(request, "target-specific-gravity")?),
+    );
+    let r = feeding::dilution(
+        &c.catalog,
+        &feeding::DilutionInput {
+            product: product.clone(),
+            concentrate,
+            target,
+            final_volume_l: value(request, "final-volume")?,
+        },
+    )?;
+    let mut out = outcome(c.catalog.product(&product)?.dose_as.clone());
+    out.results.push(headline(
+        "concentrate_volume",
+        r.concentrate_l,
+        Q::Volume,
+        Some("product"),
+    ));
+    out.results.push(headline(
+        "water_volume",
+        r.water_l,
+        Q::Volume,
+        Some("water"),
+    ));
+    out.traces = r.traces;
+    out.cautions = r.cautions;
+    Ok(out)
+}
+
+/// Dry solids a coagulant dose makes, with the raw water's solids and other additives.
+pub(super) fn sludge(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let r = sludge_of(
+        &c.catalog,
+        &SludgeInput {
+            flow: flow(request)?,
+            coagulant: coagulant(c, request)?,
+            dose: measured(request, "dose")?,
+            suspended_solids_mg_l: request.get("suspended-solids").unwrap_or(0.0),
+            additives_mg_l: request.get("additives").unwrap_or(0.0),
+        },
+    )?;
+    let mut out = outcome("dry solids".into());
+    out.results.push(headline(
+        "solids_concentration",
+        r.solids_mg_l,
+        Q::Concentration,
+        Some("dry solids"),
+    ));
+    out.results.push(headline(
+        "dry_solids_mass_rate",
+        r.dry_solids_kg_per_day,
+        Q::MassPerDay,
+        Some("dry solids"),
+    ));
     out.traces = r.traces;
     out.cautions = r.cautions;
     Ok(out)

@@ -133,7 +133,7 @@ pub(super) fn product_inputs(
     }
 }
 
-pub static TABLE: [Calculator; 8] = [
+pub static TABLE: [Calculator; 11] = [
     Calculator {
         id: "ph-adjustment",
         group: "ph-adjustment",
@@ -333,6 +333,76 @@ pub static TABLE: [Calculator; 8] = [
         results: &FEED_RESULTS,
         in_app: true,
         compute: compute::feed,
+        curve: None,
+    },
+    // Scripting tools without a card of their own in the app.
+    Calculator {
+        id: "ct",
+        group: "ct",
+        modes: &[],
+        inputs: &[
+            based(own("residual", Q::Concentration), "Cl2"),
+            water("ph", Q::Ph),
+            water("temperature", Q::Temperature),
+            // T10 from a tracer study; without it, the basin's volume and baffling at a flow.
+            optional(own("t10", Q::Minutes)),
+            optional(FLOW),
+            optional(own("basin-volume", Q::Volume)),
+            optional(own("baffling-factor", Q::Ratio)),
+        ],
+        product_inputs: ProductInputs::None,
+        offer: Offer::None,
+        results: &[
+            headline("ct", Q::ConcentrationTime),
+            headline("ct_required_3log", Q::ConcentrationTime),
+            headline("inactivation_ratio", Q::Ratio),
+            headline("giardia_log_inactivation", Q::Index),
+            secondary("t10", Q::Minutes),
+            secondary("ct_required_1log", Q::ConcentrationTime),
+        ],
+        in_app: false,
+        compute: compute::ct,
+        curve: None,
+    },
+    Calculator {
+        id: "dilution",
+        group: "dilution",
+        modes: &[],
+        inputs: &[
+            own("target-strength", Q::Percent),
+            // The engine reads a solution's strength with its SG, the weaker one's too.
+            own("target-specific-gravity", Q::SpecificGravity),
+            own("final-volume", Q::Volume),
+        ],
+        product_inputs: ProductInputs::Strength,
+        offer: Offer::Liquids,
+        results: &[
+            headline("concentrate_volume", Q::Volume),
+            headline("water_volume", Q::Volume),
+        ],
+        in_app: false,
+        compute: compute::dilution,
+        curve: None,
+    },
+    Calculator {
+        id: "sludge",
+        group: "sludge",
+        modes: &[],
+        inputs: &[
+            FLOW,
+            own("dose", Q::Concentration),
+            // Raw-water suspended solids removed (measured, or b × NTU with the plant's own b).
+            optional(own("suspended-solids", Q::Concentration)),
+            optional(own("additives", Q::Concentration)),
+        ],
+        product_inputs: ProductInputs::None,
+        offer: Offer::Listed(&COAGULANTS),
+        results: &[
+            headline("solids_concentration", Q::Concentration),
+            headline("dry_solids_mass_rate", Q::MassPerDay),
+        ],
+        in_app: false,
+        compute: compute::sludge,
         curve: None,
     },
 ];

@@ -350,3 +350,77 @@ fn product_inputs_follow_the_form_and_name_the_strength_basis() {
         [("purity", Some("purity")), ("gas-feeder-capacity", None)]
     );
 }
+
+/// CT by hand: 1.0 mg/L for a T10 of 30 min is 30 mg·min/L; a 1 000 000 L basin with baffling
+/// 0.3 at 14 400 m³/d (10 000 L/min) has T = 100 min and T10 = 30 min, the same credit.
+#[test]
+fn ct_from_a_tracer_t10_and_from_a_basin_agree_by_hand() {
+    let c = calculators();
+    let water = [("residual", 1.0), ("ph", 7.5), ("temperature", 10.0)];
+    let tracer = c
+        .compute(&request("ct", None, &with(&water, &[("t10", 30.0)])))
+        .unwrap();
+    check_listed(&tracer);
+    assert!((tracer.result("ct").unwrap().value - 30.0).abs() < 1e-9);
+    let basin = c
+        .compute(&request(
+            "ct",
+            None,
+            &with(
+                &water,
+                &[
+                    ("flow", 14_400.0),
+                    ("basin-volume", 1_000_000.0),
+                    ("baffling-factor", 0.3),
+                ],
+            ),
+        ))
+        .unwrap();
+    assert!((basin.result("t10").unwrap().value - 30.0).abs() < 1e-9);
+    assert!((basin.result("ct").unwrap().value - 30.0).abs() < 1e-9);
+    // Neither a T10 nor a basin: refused, naming what is missing.
+    let e = c.compute(&request("ct", None, &water)).unwrap_err();
+    assert_eq!(e.reason(), Some("missing-input"));
+}
+
+/// 12.5 trade % hypochlorite is 125 g/L of available chlorine; 100 L at 1.25 trade % needs
+/// 12.5 kg of it, so 10 L of the concentrate and 90 L of water (trade % is per volume).
+#[test]
+fn dilution_of_a_trade_strength_by_hand() {
+    let out = calculators()
+        .compute(&request(
+            "dilution",
+            Some("sodium-hypochlorite"),
+            &[
+                ("strength", 12.5),
+                ("specific-gravity", 1.16),
+                ("target-strength", 1.25),
+                // About the SG of a 1.25 trade % solution (common practice; the volumes do not
+                // depend on it for a strength per volume).
+                ("target-specific-gravity", 1.02),
+                ("final-volume", 100.0),
+            ],
+        ))
+        .unwrap();
+    check_listed(&out);
+    assert!((out.result("concentrate_volume").unwrap().value - 10.0).abs() < 1e-9);
+    assert!((out.result("water_volume").unwrap().value - 90.0).abs() < 1e-9);
+}
+
+/// The dry solids per day are the solids concentration carried by the day's flow:
+/// mg/L × m³/d ÷ 1000 = kg/d.
+#[test]
+fn sludge_mass_is_its_concentration_times_the_flow() {
+    let out = calculators()
+        .compute(&request(
+            "sludge",
+            Some("ferric-chloride"),
+            &[("flow", 8000.0), ("dose", 40.0), ("suspended-solids", 10.0)],
+        ))
+        .unwrap();
+    check_listed(&out);
+    let mg_l = out.result("solids_concentration").unwrap().value;
+    let kg_d = out.result("dry_solids_mass_rate").unwrap().value;
+    assert!(mg_l > 10.0, "the raw solids are part of it: {mg_l}");
+    assert!((kg_d - mg_l * 8000.0 / 1000.0).abs() < 1e-9 * kg_d);
+}
