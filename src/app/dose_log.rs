@@ -761,7 +761,7 @@ mod tests {
     use super::*;
     use crate::app::calc::CalcController;
     use crate::app::numbers::Lang;
-    use crate::app::seams::{CalcKind, CalcRequest};
+    use crate::app::seams::CalcKind;
     use crate::engine::dosing::catalog::Catalog;
     use crate::engine::quantity::UnitSystem as Shown;
     use crate::log::ProductRef;
@@ -1019,29 +1019,37 @@ mod tests {
         );
     }
 
-    /// The calculator card for a chlorine-gas feed, through the real engine and controller.
-    fn gas_feed_card(capacity: &str) -> (CalcView, CalcRequest) {
+    /// The feed calculator's card for `product` with `fields` typed, through the real engine
+    /// and controller.
+    fn feed_card(product: &str, fields: &[(&str, &str)]) -> CalcView {
         let mut calc =
             CalcController::new(crate::app::seams::connected_engine(), Lang::En, Shown::Si);
         calc.set_kind(CalcKind::of("feed"));
-        let gas = calc
+        let index = calc
             .view()
             .products
             .iter()
-            .position(|p| p.id == "chlorine-gas")
-            .expect("chlorine gas is offered");
-        calc.set_product(gas);
-        for (name, text) in [
-            ("flow", "9000"),
-            ("dose", "2.0"),
-            ("purity", "100"),
-            ("gas-feeder-capacity", capacity),
-        ] {
+            .position(|p| p.id == product)
+            .unwrap_or_else(|| panic!("{product} is offered"));
+        calc.set_product(index);
+        for (name, text) in fields {
             calc.edit(name, text);
         }
-        let view = calc.view();
-        let request = calc.current_request().expect("complete inputs");
-        (view, request)
+        assert!(calc.current_request().is_some(), "complete inputs");
+        calc.view()
+    }
+
+    /// The card for a chlorine-gas feed on a gas feeder of `capacity` kg/d.
+    fn gas_feed_card(capacity: &str) -> CalcView {
+        feed_card(
+            "chlorine-gas",
+            &[
+                ("flow", "9000"),
+                ("dose", "2.0"),
+                ("purity", "100"),
+                ("gas-feeder-capacity", capacity),
+            ],
+        )
     }
 
     fn by() -> Logging<'static> {
@@ -1057,7 +1065,7 @@ mod tests {
     /// product_volume_rate; the feeder is set by mass.
     #[test]
     fn a_gas_feed_logs_what_the_card_showed_and_nothing_it_did_not() {
-        let (card, _) = gas_feed_card("100");
+        let card = gas_feed_card("100");
         let d = dose_of(&card, by()).expect("a dose to log");
         assert_eq!(d.calculator, "feed");
         assert_eq!(d.chemical, "Cl2");
@@ -1100,7 +1108,7 @@ mod tests {
     /// The whole path: card → record → real file → CSV (empty cells, not 0) and JSON Lines.
     #[test]
     fn a_gas_feed_round_trips_through_the_file_and_both_exports() {
-        let (card, _) = gas_feed_card("100");
+        let card = gas_feed_card("100");
         let d = dose_of(&card, by()).unwrap();
         assert_eq!(d.result("pump_setting"), None);
         assert_eq!(d.result("product_volume_rate"), None);
@@ -1160,26 +1168,17 @@ mod tests {
     /// as that, never as a setting, and the entry is kept.
     #[test]
     fn a_setting_beyond_full_scale_is_logged_as_what_it_is() {
-        let mut calc =
-            CalcController::new(crate::app::seams::connected_engine(), Lang::En, Shown::Si);
-        calc.set_kind(CalcKind::of("feed"));
-        let hypo = calc
-            .view()
-            .products
-            .iter()
-            .position(|p| p.id == "sodium-hypochlorite")
-            .expect("hypochlorite is offered");
-        calc.set_product(hypo);
-        for (name, text) in [
-            ("flow", "9000"),
-            ("dose", "2"),
-            ("strength", "12.5"),
-            ("specific-gravity", "1.2"),
-            ("pump-capacity", "1"),
-        ] {
-            calc.edit(name, text);
-        }
-        let d = dose_of(&calc.view(), by()).unwrap();
+        let card = feed_card(
+            "sodium-hypochlorite",
+            &[
+                ("flow", "9000"),
+                ("dose", "2"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.2"),
+                ("pump-capacity", "1"),
+            ],
+        );
+        let d = dose_of(&card, by()).unwrap();
         assert_eq!(d.setting, None);
         assert_eq!(d.result("pump_setting"), None);
         let beyond = d
