@@ -85,6 +85,9 @@ pub type CliResult = Result<Report, CliError>;
 
 /// The subcommands, by name. `batch` and the app-opening default are handled in [`main`].
 pub fn dispatch(command: &str, args: &Args) -> CliResult {
+    if command != "calc" && args.switch("help") {
+        return command_help(command);
+    }
     let result = match command {
         "mass" => chemistry::mass(args),
         "balance" => chemistry::balance(args),
@@ -110,6 +113,46 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
     args.switch("json");
     args.reject_unused()?;
     Ok(result)
+}
+
+/// The calculator of the table each older dosing subcommand computes (tests hold the two to the
+/// same numbers): its `--help` points there, where the inputs are listed from the table.
+const OLDER_FORMS: [(&str, &str); 10] = [
+    ("feed", "feed"),
+    ("neutralize-feed", "ph-adjustment"),
+    ("chlorine", "free-chlorine"),
+    ("dechlor", "dechlorination"),
+    ("coagulation", "coagulation"),
+    ("soften", "softening"),
+    ("pump-check", "pump-check"),
+    ("ct", "ct"),
+    ("dilute", "dilution"),
+    ("sludge", "sludge"),
+];
+
+/// `molefeed COMMAND --help`: the command's lines of the overview, and for an older dosing
+/// subcommand the calculator it stands for, with that calculator's inputs from the table.
+fn command_help(command: &str) -> CliResult {
+    let mut text: String = HELP
+        .lines()
+        .filter(|l| l.contains(command))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    if text.is_empty() {
+        return Err(CliError::usage(format!(
+            "unknown command '{command}'; try 'molefeed help'"
+        )));
+    }
+    if let Some((_, id)) = OLDER_FORMS.iter().find(|(old, _)| *old == command) {
+        text.push_str(&format!(
+            "\n'molefeed {command}' is the older form of 'molefeed calc {id}' (see docs/dosing-notes.md for its flags). The calculator's inputs:\n\n"
+        ));
+        text.push_str(&calc::help(crate::engine::calculators::find(id)?)?);
+    }
+    Ok(Report {
+        json: json!({ "help": text }),
+        human: text,
+    })
 }
 
 /// Water-chemistry results carry the same advisory caution as every dosing result: the

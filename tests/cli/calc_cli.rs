@@ -248,3 +248,16 @@ fn printed_value(json: &Value, id: &str) -> String {
     let figures = json["figures"].as_u64().unwrap() as u8;
     molefeed::engine::sigfig::format_sig(value, figures)
 }
+
+/// `molefeed feed --help` used to answer "missing --dose": an older subcommand's help names
+/// the calculator it stands for and lists that calculator's inputs from the table.
+#[test]
+fn an_older_subcommand_answers_help_with_its_calculator() {
+    let (code, _, text) = run(&["neutralize-feed", "--help"]);
+    assert_eq!(code, 0, "{text}");
+    assert!(text.contains("molefeed calc ph-adjustment"), "{text}");
+    assert!(text.contains("--ph-target"), "{text}");
+    let (code, json, _) = run(&["stability", "--help", "--json"]);
+    assert_eq!(code, 0);
+    assert!(json["help"].as_str().unwrap().contains("stability"));
+}
