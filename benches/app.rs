@@ -50,7 +50,7 @@ fn keystroke(c: &mut Criterion) {
         .set_size(slint::LogicalSize::new(1280.0, 800.0));
     app.show().expect("show");
     find(&app, "nav-calculators").invoke_accessible_default_action();
-    find(&app, "calc-feed-setting").invoke_accessible_default_action();
+    find(&app, "calc-feed").invoke_accessible_default_action();
     let flow = find(&app, "field-flow");
     for (field, text) in [
         ("field-dose", "2"),
