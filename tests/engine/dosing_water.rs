@@ -592,13 +592,18 @@ mod props {
                 &catalog(), &chlorine_input(demand, 0.5), product, &w, PhRange::default(),
             ) {
                 let e = r.water.unwrap();
-                // Well above the HOCl pKa (about 7.5) a hypochlorite hardly hydrolyses, and the
-                // ionic strength it adds lowers the pH of a carbonate water by a few thousandths:
-                // its direction is asserted only below pH 8.5, where hydrolysis dominates.
+                // Well above the HOCl pKa a hypochlorite hardly hydrolyses, and the ionic
+                // strength it adds lowers the pH of a carbonate water by a few thousandths: its
+                // direction is asserted only below pKa + 0.9, where hydrolysis dominates. The
+                // pKa falls with temperature (Morris 1966, the form in data/water-constants.json:
+                // 7.54 at 25 °C, 7.41 at 46 °C), so a fixed pH 8.5 let a hot, very alkaline water
+                // at pH 8.36 fail by 0.002.
+                let kelvin = t + 273.15;
+                let pka = 3000.0 / kelvin - 10.0686 + 0.0253 * kelvin;
                 let slack = 1e-3;
                 if product == "chlorine-gas" {
                     prop_assert!(e.ph_after <= e.ph_before + slack, "{} -> {}", e.ph_before, e.ph_after);
-                } else if e.ph_before < 8.5 {
+                } else if e.ph_before < pka + 0.9 {
                     prop_assert!(e.ph_after >= e.ph_before - slack, "{} -> {}", e.ph_before, e.ph_after);
                 }
             }
