@@ -3,7 +3,8 @@
 //! Design choice: nothing here knows a calculator by name. The flags of `calc ID` are the
 //! table's input names (`--residual-target 1.0`), each with `--NAME-unit` for a quantity that
 //! has more than one unit (or `--units si|us` for all of them; an ambiguous quantity without
-//! either is refused rather than guessed); values go to the engine in SI with the figures they
+//! either is refused rather than guessed); the printout is in the `--units` system (SI without
+//! it), the JSON always in SI; values go to the engine in SI with the figures they
 //! were written with, and the [`Outcome`] comes back in the one shape the app shows and the log
 //! records. `--help` is generated from the table.
 
@@ -161,12 +162,14 @@ fn unit_of(args: &Args, input: &Input, system: Option<UnitSystem>) -> Result<Uni
     }
 }
 
-/// What the flags said besides the request: the plant's name (from `--site`) and each input's
-/// text as typed, where it was typed in the unit the outcome is printed in (SI).
+/// What the flags said besides the request: the plant's name (from `--site`), the unit system
+/// the human printout uses (`--units`, else SI), and each input's text as typed where it was
+/// typed in that system's unit.
 #[derive(Default)]
 pub struct Given {
     pub site_name: Option<String>,
-    pub typed_si: std::collections::BTreeMap<&'static str, String>,
+    pub system: UnitSystem,
+    pub typed: std::collections::BTreeMap<&'static str, String>,
 }
 
 /// The request the flags make for `calc`, with the site's limits and maximum use level.
@@ -203,6 +206,7 @@ fn request(
             )));
         }
     };
+    given.system = system.unwrap_or(UnitSystem::Si);
     if let Some(path) = args.text("site")? {
         let text = super::read_input_file(path, "site profile")?;
         let site = SiteProfile::from_json(&text, c.catalog())?;
@@ -228,8 +232,8 @@ fn request(
         if let Some(f) = given_figures(input.quantity, text) {
             request.figures.insert(input.name, f);
         }
-        if unit == input.quantity.si() {
-            given.typed_si.insert(input.name, text.trim().to_string());
+        if unit == input.quantity.unit(given.system) {
+            given.typed.insert(input.name, text.trim().to_string());
         }
     }
     Ok((request, given))
@@ -243,8 +247,8 @@ pub fn shown(value: f64, quantity: Quantity, figures: u32) -> String {
     }
 }
 
-fn unit_text(quantity: Quantity, basis: Option<&str>) -> String {
-    let symbol = quantity.si().symbol();
+fn unit_text(unit: Unit, basis: Option<&str>) -> String {
+    let symbol = unit.symbol();
     match (symbol, basis) {
         ("1", None) => String::new(),
         ("1", Some(b)) => format!("as {b}"),
@@ -255,8 +259,9 @@ fn unit_text(quantity: Quantity, basis: Option<&str>) -> String {
     }
 }
 
-/// The outcome as printed and as its JSON object: results keyed by their stable ids.
-pub fn report(outcome: &Outcome) -> Report {
+/// The outcome as printed (in `system`'s units) and as its JSON object (SI, results keyed by
+/// their stable ids).
+pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
     let figures = shown_figures(outcome);
     let mut results = Map::new();
     let mut lines = Vec::new();
@@ -269,11 +274,12 @@ pub fn report(outcome: &Outcome) -> Report {
             r.id.to_string(),
             json!({"value": r.value, "unit": unit, "basis": r.basis, "headline": r.headline}),
         );
+        let shown_unit = r.quantity.unit(system);
         lines.push(format!(
             "{:<28} {} {}",
             r.id,
-            shown(r.value, r.quantity, figures),
-            unit_text(r.quantity, r.basis.as_deref())
+            shown(shown_unit.from_si(r.value), r.quantity, figures),
+            unit_text(shown_unit, r.basis.as_deref())
         ));
     }
     let mut inputs = Map::new();
@@ -321,7 +327,7 @@ pub fn run(args: &Args) -> CliResult {
     let c = table()?;
     let (request, given) = request(&c, calc, args)?;
     let outcome = c.compute(&request)?;
-    let mut report = report(&outcome);
+    let mut report = report(&outcome, given.system);
     if let Some(id) = log_outcome(args, &outcome, &given)? {
         report.human.push_str(&format!("\nlogged as entry {id}\n"));
         report.json["logged"] = json!(id.to_string());
@@ -349,14 +355,14 @@ fn log_outcome(
     let result = |r: &crate::engine::calculators::ResultValue, unit: Unit| {
         shown(unit.from_si(r.value), r.quantity, figures)
     };
-    let input = |i: &crate::engine::calculators::InputUsed| given.typed_si.get(i.name).cloned();
+    let input = |i: &crate::engine::calculators::InputUsed| given.typed.get(i.name).cloned();
     let caution =
         |c: &crate::engine::dosing::Caution| render(std::slice::from_ref(c)).trim().to_string();
     let dose = crate::log::shown::dose_of_outcome(
         outcome,
         &crate::log::shown::Shown {
-            // The command line prints in SI; the record keeps what it printed.
-            system: UnitSystem::Si,
+            // The record keeps what was printed, in the units it was printed in.
+            system: given.system,
             result: &result,
             input: &input,
             caution: &caution,
