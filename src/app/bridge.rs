@@ -13,7 +13,7 @@ use super::i18n::Texts;
 use super::numbers::{self, Lang};
 use super::seams::{CalcEngine, CalcKind, TraceLine, connected_engine};
 use super::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
-use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen, utc_today};
+use super::state::{AppState, DateRange, DetailValue, LogEdit, Note, PlotView, Screen, utc_today};
 use super::ui::*;
 use crate::engine::dosing::feed::PumpKind;
 use crate::engine::dosing::site::Limit;
@@ -1102,51 +1102,23 @@ impl Inner {
             LogEdit::Correct => 1,
             LogEdit::Void => 2,
         });
-        let (detail, status) = match &selected {
-            Some(e) => {
-                // Each result as the card showed it, in the unit it was logged in.
-                let shown = |id: &str| {
-                    e.dose.result(id).map_or("—".to_string(), |r| {
-                        format!("{} {}", r.shown, r.unit).trim_end().to_string()
-                    })
-                };
-                let d = &e.dose;
-                let status = match e.status {
-                    EntryStatus::Original => String::new(),
-                    EntryStatus::Corrected => self.t(key("log-detail-corrected")),
-                    EntryStatus::Voided => self.t(key("log-detail-voided")),
-                };
-                (
-                    vec![
-                        format!("{}: {}", self.t("log-field-when"), when(&e.when)),
-                        format!("{}: {}", self.t("log-field-site"), e.site),
-                        format!("{}: {}", self.t("log-field-point"), d.tap),
-                        format!(
-                            "{}: {}",
-                            self.t("log-field-chemical"),
-                            d.product
-                                .as_ref()
-                                .map_or_else(|| self.name(&d.chemical), |p| p.name.clone())
-                        ),
-                        format!("{}: {}", self.t("result-dose"), shown("dose")),
-                        format!("{}: {}", self.t("result-feed"), shown("feed_mass_rate")),
-                        if d.result("feeder_setting").is_some() {
-                            format!(
-                                "{}: {}",
-                                self.t("result-feeder-setting"),
-                                shown("feeder_setting")
-                            )
-                        } else {
-                            format!("{}: {}", self.t("result-pump"), shown("pump_setting"))
-                        },
-                        format!("{}: {}", self.t("log-field-operator"), d.operator),
-                        format!("{}: {}", self.t("log-field-note"), d.note),
-                    ],
-                    status,
-                )
-            }
-            None => (Vec::new(), String::new()),
+        let status = match selected.as_ref().map(|e| e.status) {
+            Some(EntryStatus::Corrected) => self.t(key("log-detail-corrected")),
+            Some(EntryStatus::Voided) => self.t(key("log-detail-voided")),
+            Some(EntryStatus::Original) | None => String::new(),
         };
+        let detail: Vec<String> = st
+            .selected_detail()
+            .into_iter()
+            .map(|row| {
+                let value = match row.value {
+                    DetailValue::Text(t) => t,
+                    DetailValue::Name(n) => self.name(&n),
+                    DetailValue::When(w) => when(&w),
+                };
+                format!("{}: {}", self.t(row.label), value)
+            })
+            .collect();
         adapter.set_detail(model(detail.into_iter().map(s).collect()));
         adapter.set_detail_status(s(status));
         let history: Vec<HistoryRow> = if selected.is_some() {

@@ -306,6 +306,45 @@ pub struct PlotView {
     pub message: Option<Note>,
 }
 
+/// One row of a log entry's detail: a label (translation key) and its value.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DetailRow {
+    pub label: &'static str,
+    pub value: DetailValue,
+}
+
+/// A detail value: text as recorded, a name that may be a translation key, or a time the
+/// screen formats.
+#[derive(Clone, Debug, PartialEq)]
+pub enum DetailValue {
+    Text(String),
+    Name(String),
+    When(String),
+}
+
+impl DetailRow {
+    fn text(label: &'static str, value: &str) -> DetailRow {
+        DetailRow {
+            label,
+            value: DetailValue::Text(value.to_string()),
+        }
+    }
+
+    fn name(label: &'static str, value: &str) -> DetailRow {
+        DetailRow {
+            label,
+            value: DetailValue::Name(value.to_string()),
+        }
+    }
+
+    fn when(label: &'static str, value: &str) -> DetailRow {
+        DetailRow {
+            label,
+            value: DetailValue::When(value.to_string()),
+        }
+    }
+}
+
 pub struct AppState {
     pub settings: Settings,
     pub calc: CalcController,
@@ -892,6 +931,42 @@ impl AppState {
     pub fn selected_entry(&self) -> Option<Entry> {
         let id = self.selected?;
         self.log.entries().iter().find(|e| e.id == id).cloned()
+    }
+
+    /// The detail of the selected entry, as rows of a label (a translation key) and a value:
+    /// each number as the card showed it, in the unit it was logged in; what was not computed
+    /// is a dash. The bridge only translates the labels.
+    pub fn selected_detail(&self) -> Vec<DetailRow> {
+        let Some(e) = self.selected_entry() else {
+            return Vec::new();
+        };
+        let d = &e.dose;
+        let shown = |id: &str| {
+            d.result(id).map_or("—".to_string(), |r| {
+                format!("{} {}", r.shown, r.unit).trim_end().to_string()
+            })
+        };
+        let (setting_label, setting) = if d.result("feeder_setting").is_some() {
+            (key("result-feeder-setting"), shown("feeder_setting"))
+        } else {
+            (key("result-pump"), shown("pump_setting"))
+        };
+        vec![
+            DetailRow::when(key("log-field-when"), &e.when),
+            DetailRow::text(key("log-field-site"), &e.site),
+            DetailRow::text(key("log-field-point"), &d.tap),
+            // The product's English name as recorded, else the compound (translated if a
+            // name key).
+            match &d.product {
+                Some(p) => DetailRow::text(key("log-field-chemical"), &p.name),
+                None => DetailRow::name(key("log-field-chemical"), &d.chemical),
+            },
+            DetailRow::text(key("result-dose"), &shown("dose")),
+            DetailRow::text(key("result-feed"), &shown("feed_mass_rate")),
+            DetailRow::text(setting_label, &setting),
+            DetailRow::text(key("log-field-operator"), &d.operator),
+            DetailRow::text(key("log-field-note"), &d.note),
+        ]
     }
 
     /// The selected entry's original and every correction and void, oldest first.
@@ -2267,6 +2342,53 @@ mod tests {
         // A site that records no level for the product raises nothing.
         s.calc.set_max_use_levels(Default::default());
         assert!(!codes(&s).contains(&over));
+    }
+
+    /// The Log screen's detail of a gas feed: its feeder setting (not a pump's), the product's
+    /// English name, and the numbers as the card showed them with their units.
+    #[test]
+    fn the_detail_of_a_logged_gas_feed_shows_what_the_card_showed() {
+        let mut s = state(crate::app::seams::connected_engine());
+        s.set_initials("AB");
+        s.set_units(UnitSystem::Si);
+        s.calc.set_kind(CalcKind::of("feed"));
+        let gas = s
+            .calc
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "chlorine-gas");
+        s.calc.set_product(gas.expect("chlorine gas is offered"));
+        // Typed to three figures or more, so the card shows three (a whole "9000" would count
+        // as one figure today).
+        for (n, t) in [
+            ("flow", "9000.0"),
+            ("dose", "2.00"),
+            ("purity", "100.0"),
+            ("gas-feeder-capacity", "100.0"),
+        ] {
+            s.calc.edit(n, t);
+        }
+        assert!(s.selected_detail().is_empty(), "nothing selected");
+        s.log_current_dose().expect("logged");
+        let rows = s.selected_detail();
+        let value = |label: &str| {
+            rows.iter()
+                .find(|r| r.label == label)
+                .map(|r| r.value.clone())
+                .unwrap_or_else(|| panic!("no {label} row: {rows:?}"))
+        };
+        assert_eq!(
+            value("log-field-chemical"),
+            DetailValue::Text("Chlorine gas".into())
+        );
+        // 9000 m³/d × 2.00 g/m³ = 18.0 kg/d, 18.0 % of a 100 kg/d feeder.
+        assert_eq!(value("result-feed"), DetailValue::Text("18.0 kg/d".into()));
+        assert_eq!(
+            value("result-feeder-setting"),
+            DetailValue::Text("18.0 %".into())
+        );
+        assert!(rows.iter().all(|r| r.label != "result-pump"));
     }
 
     #[test]
