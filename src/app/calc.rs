@@ -89,6 +89,35 @@ pub fn all_field_names() -> Vec<&'static str> {
     all_fields().into_iter().map(|s| s.name).collect()
 }
 
+/// Every field name of the table and which of them are a product's own, derived once per
+/// controller: the keystroke path looks names up here instead of walking the table.
+#[derive(Debug)]
+struct FieldIndex {
+    names: Vec<&'static str>,
+    product: Vec<&'static str>,
+}
+
+impl FieldIndex {
+    fn build() -> FieldIndex {
+        let names = all_field_names();
+        let product = names
+            .iter()
+            .copied()
+            .filter(|n| is_product_field(n))
+            .collect();
+        FieldIndex { names, product }
+    }
+
+    /// The field called `name`, as the table spells it.
+    fn find(&self, name: &str) -> Option<&'static str> {
+        self.names.iter().copied().find(|n| *n == name)
+    }
+
+    fn is_product(&self, name: &str) -> bool {
+        self.product.contains(&name)
+    }
+}
+
 /// One input row as the screen shows it.
 #[derive(Clone, Debug, PartialEq)]
 pub struct FieldView {
@@ -205,6 +234,7 @@ pub struct CalcController {
     max_use_levels: HashMap<String, f64>,
     /// The site's own limits, which every request carries for the engine's limit check.
     limits: Vec<Limit>,
+    fields: Rc<FieldIndex>,
 }
 
 impl CalcController {
@@ -220,6 +250,7 @@ impl CalcController {
             products: HashMap::new(),
             max_use_levels: HashMap::new(),
             limits: Vec::new(),
+            fields: Rc::new(FieldIndex::build()),
         }
     }
 
@@ -290,7 +321,7 @@ impl CalcController {
 
     /// The slot of field `name` when `product` is chosen.
     fn slot(&self, name: &'static str, product: Option<&str>) -> Slot {
-        if is_product_field(name) {
+        if self.fields.is_product(name) {
             (name, product.map(str::to_string))
         } else {
             (name, None)
@@ -298,10 +329,14 @@ impl CalcController {
     }
 
     /// Where field `name`'s text is kept for the product chosen now (see
-    /// [`PRODUCT_FIELDS`]); the product list is looked up only for a product's own field.
+    /// [`is_product_field`]); the product list is looked up only for a product's own field.
     pub fn slot_of(&self, name: &str) -> Option<Slot> {
-        let spec = all_field_names().into_iter().find(|n| *n == name)?;
-        let product = is_product_field(spec).then(|| self.product().2).flatten();
+        let spec = self.fields.find(name)?;
+        let product = self
+            .fields
+            .is_product(spec)
+            .then(|| self.product().2)
+            .flatten();
         Some((spec, product))
     }
 
@@ -423,6 +458,7 @@ impl CalcController {
             products: self.products.clone(),
             max_use_levels: self.max_use_levels.clone(),
             limits: self.limits.clone(),
+            fields: self.fields.clone(),
         };
         probe.current_request()
     }
@@ -580,18 +616,18 @@ impl CalcController {
         } else {
             UnitSystem::Si
         };
-        let fields = all_field_names();
+        let fields = self.fields.clone();
         for (key, text) in &saved.texts {
             let (name, product) = match key.split_once('@') {
                 Some((name, id)) => (name, Some(id.to_string())),
                 None => (key.as_str(), None),
             };
-            let Some(name) = fields.iter().copied().find(|n| *n == name) else {
+            let Some(name) = fields.find(name) else {
                 continue;
             };
             // A product's own field saved without its product (an older file) has no owner:
             // dropped rather than given to whichever product happens to be chosen.
-            if is_product_field(name) == product.is_some() {
+            if fields.is_product(name) == product.is_some() {
                 self.texts.insert((name, product), text.clone());
             }
         }

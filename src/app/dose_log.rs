@@ -708,13 +708,15 @@ pub fn dose_of(card: &CalcView, by: Logging<'_>) -> Option<Dose> {
     shown.outcome.dose_mg_per_l?;
     let outcome = shown.outcome.table.as_deref()?;
     let result_text = |r: &ResultValue, unit: Unit| -> String {
+        // The card's big places, by the same result ids the adapter placed them by.
+        use super::engine_adapter::{DOSE, FEED, PRODUCT, SETTING};
         let card_text = match r.id {
-            "dose" | "actual_dose" => Some(shown.dose.clone()),
-            "feed_mass_rate" => Some(shown.feed.clone()),
-            "product_volume_rate" | "product_mass_rate" if unit == shown.product_unit => {
+            id if DOSE.contains(&id) => Some(shown.dose.clone()),
+            id if id == FEED => Some(shown.feed.clone()),
+            id if PRODUCT.contains(&id) && unit == shown.product_unit => {
                 Some(shown.product.clone())
             }
-            id if super::engine_adapter::SETTING.contains(&id) => Some(shown.pump.clone()),
+            id if SETTING.contains(&id) => Some(shown.pump.clone()),
             id => shown
                 .extras
                 .iter()

@@ -41,10 +41,10 @@ fn table_request(request: &CalcRequest) -> Request {
 /// Results the card shows as its big numbers, by id, in the order of its four places: the
 /// dose, the active chemical per day, the product (volume for a liquid, mass for a gas or dry
 /// chemical) and the pump or feeder setting.
-const DOSE: [&str; 2] = ["dose", "actual_dose"];
+pub const DOSE: [&str; 2] = ["dose", "actual_dose"];
 pub const SETTING: [&str; 3] = ["pump_setting", "feeder_setting", "suggested_pump_setting"];
-const FEED: &str = "feed_mass_rate";
-const PRODUCT: [&str; 2] = ["product_volume_rate", "product_mass_rate"];
+pub const FEED: &str = "feed_mass_rate";
+pub const PRODUCT: [&str; 2] = ["product_volume_rate", "product_mass_rate"];
 
 /// Every result id with a big place on the card.
 pub const BIG_RESULTS: [&str; 8] = [
@@ -52,7 +52,7 @@ pub const BIG_RESULTS: [&str; 8] = [
 ];
 
 /// The outcome as the card carries it; every result not in a big place is listed under them.
-fn card_of(o: &Outcome) -> CalcOutcome {
+fn card_of(o: Outcome) -> CalcOutcome {
     let get = |ids: &[&str]| {
         o.results
             .iter()
@@ -82,7 +82,7 @@ fn card_of(o: &Outcome) -> CalcOutcome {
         figures: o.figures,
         trace: o.trace_lines(),
         cautions: cautions(&o.cautions),
-        table: Some(Box::new(o.clone())),
+        table: Some(Box::new(o)),
     }
 }
 
@@ -116,7 +116,7 @@ impl CalcEngine for DosingEngine {
 
     fn compute(&self, request: &CalcRequest) -> Result<CalcOutcome, SeamError> {
         let outcome = self.calculators.compute(&table_request(request))?;
-        Ok(card_of(&outcome))
+        Ok(card_of(outcome))
     }
 
     fn titration_curve(&self, request: &CalcRequest) -> Result<Curve, SeamError> {
