@@ -25,10 +25,24 @@ pub fn remove(dir: &Path) {
 /// Runs the binary with `stdin` as its input, collecting stdout and stderr, and fails the
 /// test if it has not finished within `limit` (a hang is a failure, not a stuck suite).
 pub fn run_with_input(args: &[&str], stdin: &[u8], limit: Duration) -> Output {
+    run_fed(args, stdin, Stdio::piped(), limit)
+}
+
+/// Runs the binary with stdout going to `/dev/full`, where every write fails with ENOSPC.
+pub fn run_into_full_device(args: &[&str], stdin: &[u8]) -> Output {
+    let full = std::fs::OpenOptions::new()
+        .write(true)
+        .open("/dev/full")
+        .expect("/dev/full exists on Linux");
+    run_fed(args, stdin, Stdio::from(full), Duration::from_secs(60))
+}
+
+/// Runs the binary fed `stdin`, its stdout going to `stdout`, within `limit`.
+fn run_fed(args: &[&str], stdin: &[u8], stdout: Stdio, limit: Duration) -> Output {
     let mut child = Command::new(BIN)
         .args(args)
         .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
+        .stdout(stdout)
         .stderr(Stdio::piped())
         .spawn()
         .unwrap();
@@ -40,29 +54,6 @@ pub fn run_with_input(args: &[&str], stdin: &[u8], limit: Duration) -> Output {
         let _ = input.write_all(&stdin);
     });
     let output = wait_within(child, limit);
-    feeder.join().unwrap();
-    output
-}
-
-/// Runs the binary with stdout going to `/dev/full`, where every write fails with ENOSPC.
-pub fn run_into_full_device(args: &[&str], stdin: &[u8]) -> Output {
-    let full = std::fs::OpenOptions::new()
-        .write(true)
-        .open("/dev/full")
-        .expect("/dev/full exists on Linux");
-    let mut child = Command::new(BIN)
-        .args(args)
-        .stdin(Stdio::piped())
-        .stdout(Stdio::from(full))
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
-    let mut input = child.stdin.take().unwrap();
-    let stdin = stdin.to_vec();
-    let feeder = std::thread::spawn(move || {
-        let _ = input.write_all(&stdin);
-    });
-    let output = wait_within(child, Duration::from_secs(60));
     feeder.join().unwrap();
     output
 }
