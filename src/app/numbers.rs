@@ -232,7 +232,7 @@ mod tests {
         }
         check("2.50", Lang::En, Some(3), 2);
         check("2,50", Lang::Es, Some(3), 2);
-        check("1500", Lang::En, Some(2), 0);
+        check("1500", Lang::En, Some(4), 0);
         check("1500.", Lang::En, Some(4), 0);
         check("0.0120", Lang::En, Some(3), 4);
         check("7", Lang::En, Some(1), 0);

@@ -1036,7 +1036,14 @@ impl AppState {
                 operator: fixed.operator.clone(),
                 ..entry.dose.clone()
             };
-            if fixed == unchanged {
+            // Ranges are left out of "nothing changed": they are sums of re-run calculations
+            // and may differ in their last bits where every number shown is the same.
+            let without_ranges = |d: &crate::log::record::Dose| {
+                let mut d = d.clone();
+                d.results.iter_mut().for_each(|r| r.range = None);
+                d
+            };
+            if without_ranges(&fixed) == without_ranges(&unchanged) {
                 return Err(Note::new(key("log-nothing-changed")));
             }
             let fix = Amendment {

@@ -10,12 +10,14 @@
 
 use super::{Args, CliError, CliResult, Report};
 use crate::engine::calculators::{
-    self, Calculator, Calculators, Input, Outcome, Request, given_figures, shown_figures,
+    self, Calculator, Calculators, Input, Outcome, Request, ResultValue, given_figures,
+    shown_figures,
 };
 use crate::engine::dosing::caution::render;
 use crate::engine::dosing::site::SiteProfile;
+use crate::engine::precision::{split_tolerance, tolerance_to_si};
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
-use crate::engine::sigfig::{Measured, format_sig};
+use crate::engine::sigfig::{Measured, format_sig, shown_decimals};
 use serde_json::{Map, Value, json};
 
 fn table() -> Result<Calculators, CliError> {
@@ -212,6 +214,7 @@ fn request(
         let site = SiteProfile::from_json(&text, c.catalog())?;
         given.site_name = Some(site.name.clone());
         request.limits = site.limits.clone();
+        request.precisions = site.precisions();
         request.max_use_level_mg_l = request
             .product
             .as_deref()
@@ -222,14 +225,29 @@ fn request(
         let Some(text) = args.text(input.name)? else {
             continue;
         };
-        let value = Measured::parse(text).map_err(|_| CliError {
+        // "140±2": the reading with a precision of its own.
+        let (reading, tolerance) = split_tolerance(text);
+        let not_a_number = |what: &str| CliError {
             kind: "invalid-input".into(),
-            message: format!("--{} must be a number, got '{text}'", input.name),
+            message: format!(
+                "--{} must be a number (or 'number ± number'), got '{what}'",
+                input.name
+            ),
             reason: Some("not-a-number"),
-        })?;
+        };
+        let value = Measured::parse(reading).map_err(|_| not_a_number(text))?;
         let unit = unit_of(args, &input, system)?;
         request.values.insert(input.name, unit.to_si(value.value));
-        if let Some(f) = given_figures(input.quantity, text) {
+        if let Some(t) = tolerance {
+            let t = Measured::parse(t)
+                .ok()
+                .filter(|t| t.value >= 0.0)
+                .ok_or_else(|| not_a_number(text))?;
+            request
+                .tolerances
+                .insert(input.name, tolerance_to_si(unit, value.value, t.value));
+        }
+        if let Some(f) = given_figures(input.quantity, reading) {
             request.figures.insert(input.name, f);
         }
         if unit == input.quantity.unit(given.system) {
@@ -244,6 +262,26 @@ pub fn shown(value: f64, quantity: Quantity, figures: u32) -> String {
     match quantity {
         Quantity::Ph | Quantity::Index => format!("{value:.2}"),
         _ => format_sig(value, figures as u8),
+    }
+}
+
+/// A result as printed, in `unit`: its value and, where the readings' precision leaves room,
+/// the range it allows to the same decimals ("26.3 (25.0–27.7)").
+pub fn shown_with_range(r: &ResultValue, unit: Unit, figures: u32) -> String {
+    let value = shown(unit.from_si(r.value), r.quantity, figures);
+    let Some(range) = r.range else {
+        return value;
+    };
+    let decimals = shown_decimals(&value);
+    let (low, high) = (unit.from_si(range.low), unit.from_si(range.high));
+    let (low, high) = (format!("{low:.decimals$}"), format!("{high:.decimals$}"));
+    if low == value && high == value {
+        value
+    } else if low.starts_with('-') || high.starts_with('-') {
+        // A dash between negative numbers reads as a minus sign.
+        format!("{value} ({low} to {high})")
+    } else {
+        format!("{value} ({low}–{high})")
     }
 }
 
@@ -270,15 +308,18 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
     }
     for r in &outcome.results {
         let unit = r.quantity.si().symbol();
-        results.insert(
-            r.id.to_string(),
-            json!({"value": r.value, "unit": unit, "basis": r.basis, "headline": r.headline}),
-        );
+        let mut entry =
+            json!({"value": r.value, "unit": unit, "basis": r.basis, "headline": r.headline});
+        if let Some(range) = r.range {
+            entry["low"] = json!(range.low);
+            entry["high"] = json!(range.high);
+        }
+        results.insert(r.id.to_string(), entry);
         let shown_unit = r.quantity.unit(system);
         lines.push(format!(
             "{:<28} {} {}",
             r.id,
-            shown(shown_unit.from_si(r.value), r.quantity, figures),
+            shown_with_range(r, shown_unit, figures),
             unit_text(shown_unit, r.basis.as_deref())
         ));
     }
@@ -286,7 +327,8 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
     for i in &outcome.inputs {
         inputs.insert(
             i.name.to_string(),
-            json!({"value": i.value, "unit": i.quantity.si().symbol(), "basis": i.basis}),
+            json!({"value": i.value, "unit": i.quantity.si().symbol(), "basis": i.basis,
+                "tolerance": i.tolerance}),
         );
     }
     let traces: Vec<String> = outcome.trace_lines().iter().map(|l| l.plain()).collect();
@@ -352,9 +394,7 @@ fn log_outcome(
         CliError::usage("--log needs --site FILE: an entry records the plant it was made for")
     })?;
     let figures = shown_figures(outcome);
-    let result = |r: &crate::engine::calculators::ResultValue, unit: Unit| {
-        shown(unit.from_si(r.value), r.quantity, figures)
-    };
+    let result = |r: &ResultValue, unit: Unit| shown_with_range(r, unit, figures);
     let input = |i: &crate::engine::calculators::InputUsed| given.typed.get(i.name).cloned();
     let caution =
         |c: &crate::engine::dosing::Caution| render(std::slice::from_ref(c)).trim().to_string();

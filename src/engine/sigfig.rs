@@ -1,7 +1,7 @@
 //! Significant figures: how many digits a result can stand behind.
 //!
 //! A measured input carries the significant figures it was written with (`12.5` has three,
-//! `0.0040` two, `1200` two, `1200.` four). Exact numbers (stoichiometric coefficients,
+//! `0.0040` two, `60` two, `1200` four). Exact numbers (stoichiometric coefficients,
 //! defined unit factors such as 1 gal = 3.785411784 L) carry none and never limit a result.
 //! A product or quotient is good to the fewest significant figures among its measured factors.
 //! The raw value is always kept; rounding happens only when a number is shown.
@@ -54,9 +54,12 @@ impl Measured {
 
 /// Significant figures of a decimal written as text; `None` if it is not a plain decimal.
 ///
-/// Leading zeros never count; trailing zeros count after a decimal point; trailing zeros of
-/// a whole number without a point are taken as not significant (`1200` has two), the usual
-/// convention. A zero value (`0`, `0.0`) is given one significant figure.
+/// Leading zeros never count; trailing zeros count, after a decimal point and in a whole
+/// number too: an operator who reads a stopwatch at "60" s or a column at "140" mL read it to
+/// the second or the millilitre, and taking such a reading as one or two figures rounded real
+/// deviations away (a textbook reads `1200` as two figures; a field reading is not written that
+/// way). Scientific notation states its figures (`1.2e3` has two). A zero value (`0`, `0.0`)
+/// is given one significant figure.
 pub fn count_sig_figs(text: &str) -> Option<u8> {
     let text = text.trim().trim_start_matches(['+', '-']);
     let mantissa = match text.find(['e', 'E']) {
@@ -69,18 +72,12 @@ pub fn count_sig_figs(text: &str) -> Option<u8> {
     {
         return None;
     }
-    let has_point = mantissa.contains('.');
     let digits: String = mantissa.chars().filter(char::is_ascii_digit).collect();
     let significant = digits.trim_start_matches('0');
     if significant.is_empty() {
         return Some(1);
     }
-    let count = if has_point {
-        significant.len()
-    } else {
-        significant.trim_end_matches('0').len()
-    };
-    Some(count.clamp(1, u8::MAX as usize) as u8)
+    Some(significant.len().clamp(1, u8::MAX as usize) as u8)
 }
 
 /// The precision of a product or quotient: the least among the measured factors.
@@ -162,6 +159,16 @@ pub fn format_sig(value: f64, sig: u8) -> String {
     format!("{rounded:.decimals$}")
 }
 
+/// Decimal places of a number as shown (`"26.3"` has one, `"140"` none; the decimal mark may
+/// be `.` or `,`), so that a range beside it is shown to the same place. Scientific notation
+/// counts its mantissa's decimals.
+pub fn shown_decimals(text: &str) -> usize {
+    let mantissa = text.split(['e', 'E']).next().unwrap_or("");
+    mantissa.split_once(['.', ',']).map_or(0, |(_, after)| {
+        after.chars().take_while(char::is_ascii_digit).count()
+    })
+}
+
 /// Formats a value that may be exact (`None`): exact values print without trailing noise.
 pub fn format_measured(value: f64, sig_figs: Option<u8>) -> String {
     match sig_figs {
@@ -212,8 +219,13 @@ mod tests {
     fn counting() {
         check("12.5", Some(3));
         check("0.0040", Some(2));
-        check("1200", Some(2));
+        // A whole-number reading counts its trailing zeros: "60" s from a stopwatch is two
+        // figures, not one.
+        check("60", Some(2));
+        check("140", Some(3));
+        check("1200", Some(4));
         check("1200.", Some(4));
+        check("1.2e3", Some(2));
         check("1200.0", Some(5));
         check("7", Some(1));
         check("0", Some(1));

@@ -88,6 +88,10 @@ pub struct LoggedResult {
     /// One of the big numbers of the card (the others were listed under them).
     #[serde(default)]
     pub headline: bool,
+    /// The range the precision of the readings allowed, low and high, in `unit` (absent when
+    /// every input was exact, and in entries written before ranges were shown).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub range: Option<[f64; 2]>,
 }
 
 /// The setting the operator was told to make, on which device.
@@ -302,6 +306,7 @@ impl DoseV1 {
             unit: unit.into(),
             basis: None,
             headline: id != result_id::FLOW,
+            range: None,
         };
         let mut results = vec![
             number(result_id::FLOW, self.flow_m3_per_h, "m³/h"),
@@ -321,6 +326,7 @@ impl DoseV1 {
             unit: q.unit,
             basis: None,
             headline: false,
+            range: None,
         }));
         Dose {
             operator: self.operator,
@@ -805,6 +811,7 @@ pub fn example_dose() -> Dose {
         unit: unit.into(),
         basis: (id == result_id::DOSE || id == result_id::FEED_MASS_RATE).then(|| "Cl2".into()),
         headline,
+        range: None,
     };
     Dose {
         operator: "JM".into(),

@@ -70,6 +70,7 @@ pub fn dose_of_outcome(outcome: &Outcome, shown: &Shown<'_>, operator: &str, tap
             unit: flow.unit.clone(),
             basis: None,
             headline: false,
+            range: None,
         });
     }
     let settable = outcome
@@ -93,6 +94,9 @@ pub fn dose_of_outcome(outcome: &Outcome, shown: &Shown<'_>, operator: &str, tap
             unit: unit_text.into(),
             basis: r.basis.clone().or(implied.map(String::from)),
             headline: r.headline,
+            range: r
+                .range
+                .map(|range| [unit.from_si(range.low), unit.from_si(range.high)]),
         });
     }
     let setting = settable.map(|s| Setting {

@@ -224,10 +224,21 @@ fn a_logged_gas_feed_carries_what_was_printed_and_no_invented_zeros() {
     // 9000 m³/d × 2.0 g/m³ = 18.0 kg/d of Cl2, on a 100 kg/d feeder: 18.0 %.
     assert_eq!(result("feed_mass_rate")["unit"], "kg/d");
     assert!((result("feed_mass_rate")["value"].as_f64().unwrap() - 18.0).abs() < 1e-9);
-    assert_eq!(
-        result("feed_mass_rate")["shown"],
-        printed_value(&printed, "feed_mass_rate")
+    // Shown as printed, with the range of a flow meter's default ±2 %: 17.64–18.36 kg/d.
+    assert_eq!(result("feed_mass_rate")["shown"], "18.0 (17.6–18.4)");
+    let range = result("feed_mass_rate")["range"]
+        .as_array()
+        .unwrap()
+        .clone();
+    assert!(
+        (range[0].as_f64().unwrap() - 17.64).abs() < 1e-9,
+        "{range:?}"
     );
+    assert!(
+        (range[1].as_f64().unwrap() - 18.36).abs() < 1e-9,
+        "{range:?}"
+    );
+    assert_eq!(printed["results"]["feed_mass_rate"]["low"], range[0]);
     assert_eq!(dose["setting"]["device"], "gas-feeder");
     let flow = dose["inputs"]
         .as_array()
@@ -242,13 +253,6 @@ fn a_logged_gas_feed_carries_what_was_printed_and_no_invented_zeros() {
     let _ = std::fs::remove_dir_all(&dir);
 }
 
-/// The number as the human printout shows it, from the same outcome printed without --json.
-fn printed_value(json: &Value, id: &str) -> String {
-    let value = json["results"][id]["value"].as_f64().unwrap();
-    let figures = json["figures"].as_u64().unwrap() as u8;
-    molefeed::engine::sigfig::format_sig(value, figures)
-}
-
 /// `molefeed feed --help` used to answer "missing --dose": an older subcommand's help names
 /// the calculator it stands for and lists that calculator's inputs from the table.
 #[test]
@@ -260,4 +264,71 @@ fn an_older_subcommand_answers_help_with_its_calculator() {
     let (code, json, _) = run(&["stability", "--help", "--json"]);
     assert_eq!(code, 0);
     assert!(json["help"].as_str().unwrap().contains("stability"));
+}
+
+/// The pump cross-check prints the actual dose and the deviation first, each with the range the
+/// readings allow, at three figures at least: 140 mL in 60 s of 12.5 % trade hypochlorite
+/// (125 mg/mL available chlorine) into 9,100 m³/d is 2.77 mg/L, −7.69 % from 3.0. Rounded to
+/// one figure ("60" s taken as one figure), the card once said "3 mg/L" and hid the under-feed.
+#[test]
+fn a_cross_check_prints_its_deviation_first_with_ranges() {
+    let (code, _, out) = run(&[
+        "calc",
+        "pump-check",
+        "--flow",
+        "9100",
+        "--flow-unit",
+        "m3-per-day",
+        "--dose",
+        "3.0",
+        "--drawdown-volume",
+        "140",
+        "--drawdown-time",
+        "60",
+        "--pump-setting",
+        "24.3",
+        "--product",
+        "sodium-hypochlorite",
+        "--strength",
+        "12.5",
+        "--specific-gravity",
+        "1.16",
+    ]);
+    assert_eq!(code, 0, "{out}");
+    let lines: Vec<&str> = out.lines().skip(1).take(2).collect();
+    assert!(
+        lines[0].starts_with("actual_dose") && lines[0].contains(" 2.77 ("),
+        "{out}"
+    );
+    assert!(
+        lines[1].starts_with("deviation") && lines[1].contains(" -7.69 ("),
+        "{out}"
+    );
+    // A typed "± 0" makes the flow exact: only the column and the stopwatch are left.
+    // Dose range by hand: 2.7692 × (1 − 2/140 − (1 − 60/60.5)) = 2.7069 and
+    // 2.7692 × (1 + 2/140 + (60/59.5 − 1)) = 2.8320.
+    let (code, _, out) = run(&[
+        "calc",
+        "pump-check",
+        "--flow",
+        "9100 ± 0",
+        "--flow-unit",
+        "m3-per-day",
+        "--dose",
+        "3.0",
+        "--drawdown-volume",
+        "140",
+        "--drawdown-time",
+        "60",
+        "--pump-setting",
+        "24.3",
+        "--product",
+        "sodium-hypochlorite",
+        "--strength",
+        "12.5",
+        "--specific-gravity",
+        "1.16",
+    ]);
+    assert_eq!(code, 0, "{out}");
+    assert!(out.contains("2.77 (2.71–2.83) mg/L"), "{out}");
 }

@@ -101,6 +101,7 @@ pub fn log_typed(
             unit: "mg/L".into(),
             basis: None,
             headline: true,
+            range: None,
         }],
         setting: None,
         trace: Vec::new(),

@@ -14,6 +14,8 @@ use molefeed::engine::dosing::pumpcheck::{
 use molefeed::engine::dosing::site::{SiteProfile, regulatory_defaults};
 use molefeed::engine::dosing::units::{Flow, FlowUnit, LengthUnit, VolumeRateUnit};
 use molefeed::engine::dosing::{Caution, Severity};
+use molefeed::engine::precision::{Instrument, Precision};
+use serde_json::json;
 
 fn hypo(strength: f64, basis: StrengthBasis, sg: Option<f64>) -> Strength {
     Strength::new(m(strength), basis, sg.map(m))
@@ -582,6 +584,17 @@ fn catalog_and_demo_site_are_valid() {
     // The typical flow converts through exact definitions: 2.4 MGD = 2.4e6 gal/d × 3.785411784 L/gal.
     let typical = site.typical_flow.expect("demo has a typical flow");
     assert!((typical.m3_per_day().unwrap() - 2.4e6 * 3.785411784 / 1000.0).abs() < 1e-6);
+    // The demo plant's bench photometer is better than a pocket kit; its other instruments
+    // keep the defaults.
+    let precisions = site.precisions();
+    assert_eq!(
+        precisions.get(&Instrument::Colorimeter),
+        Some(&Precision {
+            absolute: 0.02,
+            relative_percent: 3.0
+        })
+    );
+    assert_eq!(precisions.len(), 1);
     // Round trip through JSON.
     let again = SiteProfile::from_json(&site.to_json().unwrap(), &c).unwrap();
     assert_eq!(again, site);
@@ -637,6 +650,18 @@ fn broken_site_profiles_are_typed_errors() {
         edit(&|v| v["contact_basins"][0]["baffling_factor"] = 2.0.into()),
         ErrorKind::OutOfRange,
         "baffling",
+    );
+    check(
+        "unknown instrument",
+        edit(&|v| v["instrument_precision"]["sundial"] = json!({"absolute": 1.0})),
+        ErrorKind::InvalidInput,
+        "sundial",
+    );
+    check(
+        "negative precision",
+        edit(&|v| v["instrument_precision"]["ph-meter"] = json!({"absolute": -0.1})),
+        ErrorKind::InvalidInput,
+        "ph-meter",
     );
     check(
         "limit min > max",

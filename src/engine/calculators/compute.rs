@@ -68,6 +68,7 @@ fn result(id: &'static str, value: f64, quantity: Q, basis: Option<&str>) -> Res
         quantity,
         basis: basis.map(str::to_string),
         headline: false,
+        range: None,
     }
 }
 

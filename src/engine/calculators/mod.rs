@@ -14,9 +14,11 @@
 //! number.
 
 mod compute;
+pub mod ranges;
 mod show;
 mod table;
 
+pub use super::precision::{Instrument, Precision, Range};
 pub use show::{StepOrigin, TraceLine, trace_lines};
 pub use table::TABLE;
 
@@ -55,6 +57,9 @@ pub struct Input {
     pub scope: Scope,
     /// The plant limit (parameter of [`Limit`]) this input, a target, is checked against.
     pub limit: Option<&'static str>,
+    /// What the value is read with; its precision gives the results their range. `None`: a
+    /// target, a choice or label data, exact unless the operator types a "± x".
+    pub instrument: Option<Instrument>,
 }
 
 /// How a product reaches the water: a liquid through a metering pump (strength, SG, pump
@@ -303,6 +308,10 @@ pub struct Request {
     pub max_use_level_mg_l: Option<f64>,
     /// The plant's own limits; the regulatory defaults apply where it sets none.
     pub limits: Vec<Limit>,
+    /// A "± x" the operator typed for a reading, in its quantity's SI unit, by input name.
+    pub tolerances: BTreeMap<&'static str, f64>,
+    /// The site's precision of its instruments, where it differs from the defaults.
+    pub precisions: BTreeMap<Instrument, Precision>,
 }
 
 impl Request {
@@ -334,6 +343,9 @@ pub struct ResultValue {
     /// rate of product as delivered, "CaCO3" for alkalinity and hardness.
     pub basis: Option<String>,
     pub headline: bool,
+    /// The range the readings' precision allows (same unit as `value`); `None` when every
+    /// input was exact, or when a reading moved by its precision could not be computed.
+    pub range: Option<Range>,
 }
 
 /// What fed the dose: the pump or feeder and the setting the calculator gives for it.
@@ -370,6 +382,8 @@ pub struct InputUsed {
     pub quantity: Quantity,
     pub basis: Option<&'static str>,
     pub figures: Option<u8>,
+    /// The ± the range was found with (SI), typed or from the instrument's precision.
+    pub tolerance: Option<f64>,
 }
 
 /// The product a result is for.
@@ -515,7 +529,8 @@ impl Calculators {
     }
 
     /// Runs one calculation. Every input the calculator asks for must be present unless it is
-    /// optional; the plant's limits on targets are checked; no result is ever non-finite.
+    /// optional; the plant's limits on targets are checked; no result is ever non-finite; each
+    /// result carries the range the precision of the readings allows.
     pub fn compute(&self, request: &Request) -> Result<Outcome> {
         let calculator = find(request.calculator)?;
         let mode = calculator.mode(request.mode)?;
@@ -571,11 +586,13 @@ impl Calculators {
                     quantity: i.quantity,
                     basis: i.basis,
                     figures: request.figures(i.name),
+                    tolerance: ranges::tolerance(i, &request),
                 })
             })
             .collect();
         let mut cautions = std::mem::take(&mut outcome.cautions);
         cautions.extend(limit_cautions(&inputs, &request));
+        cautions.extend(ranges(calculator, self, &inputs, &request, &mut outcome));
         outcome.cautions = caution::finish(cautions);
         if outcome.figures.is_none() {
             outcome.figures = outcome
@@ -629,11 +646,14 @@ pub fn given_figures(quantity: Quantity, text: &str) -> Option<u8> {
     }
 }
 
-/// Significant figures a card or a printout rounds an outcome's numbers to: what the inputs
-/// support, at most four (beyond that a setting is more digits than any pump or scale takes),
-/// three when every input was exact.
+/// Significant figures a card or a printout shows an outcome's numbers with: never fewer than
+/// three (a setting rounded to one or two figures hides the deviations a cross-check exists to
+/// catch: 26.3 % shown as "30 %"), four when the inputs support four or more (beyond that a
+/// setting is more digits than any pump or scale takes). How far a number can be trusted is
+/// said by its range, not by dropping digits; the significant figures of the inputs stay in
+/// the show-the-work lines.
 pub fn shown_figures(outcome: &Outcome) -> u32 {
-    outcome.figures.map_or(3, |f| u32::from(f).clamp(1, 4))
+    outcome.figures.map_or(3, |f| u32::from(f).clamp(3, 4))
 }
 
 fn not_finite(what: &str) -> Error {
@@ -654,6 +674,53 @@ fn finite(outcome: &Outcome) -> Result<()> {
         return Err(not_finite("setting"));
     }
     Ok(())
+}
+
+/// Gives each result of `outcome` its range: the calculator is run again with each uncertain
+/// reading moved down and up by its precision (see [`ranges`]). A moved reading the
+/// calculator refuses (a flow moved to zero) leaves the results without a range and says which
+/// reading, rather than showing a range narrower than the truth.
+fn ranges(
+    calculator: &Calculator,
+    calculators: &Calculators,
+    inputs: &[Input],
+    request: &Request,
+    outcome: &mut Outcome,
+) -> Vec<Caution> {
+    let mut moved: Vec<Vec<[f64; 2]>> = vec![Vec::new(); outcome.results.len()];
+    let mut any = false;
+    for (name, requests) in ranges::moved_requests(inputs, request) {
+        any = true;
+        let [low, high] = requests.map(|r| (calculator.compute)(calculators, &r));
+        let (Ok(low), Ok(high)) = (low, high) else {
+            for r in &mut outcome.results {
+                r.range = None;
+            }
+            return vec![
+                Caution::new(Severity::Info, "range-unavailable")
+                    .with("field", format!("field-{name}")),
+            ];
+        };
+        for (r, pair) in outcome.results.iter().zip(moved.iter_mut()) {
+            let at = |o: &Outcome| o.result(r.id).map(|x| x.value).filter(|v| v.is_finite());
+            match (at(&low), at(&high)) {
+                (Some(a), Some(b)) => pair.push([a, b]),
+                // The result is not computed at the moved reading (no setting without a
+                // capacity): it has no range to give.
+                _ => pair.push([f64::NAN, f64::NAN]),
+            }
+        }
+    }
+    if !any {
+        return Vec::new();
+    }
+    for (r, pair) in outcome.results.iter_mut().zip(&moved) {
+        r.range = pair
+            .iter()
+            .all(|p| p[0].is_finite() && p[1].is_finite())
+            .then(|| ranges::worst_case(r.value, pair));
+    }
+    Vec::new()
 }
 
 /// Cautions for targets outside the plant's limits: above a maximum or below a minimum, each

@@ -6,7 +6,7 @@
 
 use super::compute;
 use super::{Calculator, Input, Offer, ProductInputs, ResultSpec, Scope, headline, secondary};
-use super::{FeedForm, Quantity as Q};
+use super::{FeedForm, Instrument, Quantity as Q};
 
 const fn water(name: &'static str, quantity: Q) -> Input {
     Input {
@@ -16,20 +16,34 @@ const fn water(name: &'static str, quantity: Q) -> Input {
         optional: false,
         scope: Scope::Water,
         limit: None,
+        // A reading of the water is measured, with the instrument usual for its quantity.
+        instrument: Instrument::for_water(quantity),
     }
 }
 
+/// A number of this calculation: a target or a choice, exact unless read with an instrument.
 const fn own(name: &'static str, quantity: Q) -> Input {
     Input {
         scope: Scope::Calculation,
+        instrument: None,
         ..water(name, quantity)
     }
 }
 
+/// A number of the product or its pump: label data, exact unless read with an instrument.
 const fn product(name: &'static str, quantity: Q) -> Input {
     Input {
         scope: Scope::Product,
+        instrument: None,
         ..water(name, quantity)
+    }
+}
+
+/// An input read with `instrument`, whose precision gives the results their range.
+const fn read_with(input: Input, instrument: Instrument) -> Input {
+    Input {
+        instrument: Some(instrument),
+        ..input
     }
 }
 
@@ -171,7 +185,10 @@ pub static TABLE: [Calculator; 11] = [
         modes: &[],
         inputs: &[
             FLOW,
-            own("chlorine-demand", Q::Concentration),
+            read_with(
+                own("chlorine-demand", Q::Concentration),
+                Instrument::Colorimeter,
+            ),
             limited(own("residual-target", Q::Concentration), "chlorine"),
             // Ammonia in the water: chlorine must pass breakpoint before a free residual forms.
             optional(based(water("ammonia-n", Q::Concentration), "N")),
@@ -220,7 +237,16 @@ pub static TABLE: [Calculator; 11] = [
         id: "dechlorination",
         group: "chlorination",
         modes: &[],
-        inputs: &[FLOW, based(own("residual-in", Q::Concentration), "Cl2")],
+        inputs: &[
+            FLOW,
+            based(
+                read_with(
+                    own("residual-in", Q::Concentration),
+                    Instrument::Colorimeter,
+                ),
+                "Cl2",
+            ),
+        ],
         product_inputs: ProductInputs::Feed,
         offer: Offer::Feedable(Some(&DECHLOR_AGENTS)),
         results: &FEED_RESULTS,
@@ -306,8 +332,11 @@ pub static TABLE: [Calculator; 11] = [
         inputs: &[
             FLOW,
             own("dose", Q::Concentration),
-            product("drawdown-volume", Q::Millilitres),
-            own("drawdown-time", Q::Seconds),
+            read_with(
+                product("drawdown-volume", Q::Millilitres),
+                Instrument::GraduatedColumn,
+            ),
+            read_with(own("drawdown-time", Q::Seconds), Instrument::Stopwatch),
             product("pump-setting", Q::Percent),
         ],
         product_inputs: ProductInputs::Strength,
@@ -341,7 +370,10 @@ pub static TABLE: [Calculator; 11] = [
         group: "ct",
         modes: &[],
         inputs: &[
-            based(own("residual", Q::Concentration), "Cl2"),
+            based(
+                read_with(own("residual", Q::Concentration), Instrument::Colorimeter),
+                "Cl2",
+            ),
             water("ph", Q::Ph),
             water("temperature", Q::Temperature),
             // T10 from a tracer study; without it, the basin's volume and baffling at a flow.

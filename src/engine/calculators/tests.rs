@@ -424,3 +424,104 @@ fn sludge_mass_is_its_concentration_times_the_flow() {
     assert!(mg_l > 10.0, "the raw solids are part of it: {mg_l}");
     assert!((kg_d - mg_l * 8000.0 / 1000.0).abs() < 1e-9 * kg_d);
 }
+
+/// One range case: the result `id` of `r` lies in `low..=high` (each to 0.1 %), derived by hand
+/// beside the case.
+fn check_range(r: &Request, id: &str, value: f64, low: f64, high: f64) {
+    let o = calculators().compute(r).expect("computes");
+    let res = o.result(id).unwrap_or_else(|| panic!("{id} computed"));
+    let close = |a: f64, b: f64| (a - b).abs() <= 1e-3 * b.abs().max(1e-9);
+    assert!(
+        close(res.value, value),
+        "{id} = {} (want {value})",
+        res.value
+    );
+    let range = res.range.unwrap_or_else(|| panic!("{id} has a range"));
+    assert!(
+        close(range.low, low) && close(range.high, high),
+        "{id} range {range:?} (want {low}..{high})"
+    );
+}
+
+/// The pump cross-check: 12.5 % trade hypochlorite is 125 mg/mL of available chlorine by the
+/// definition of trade percent (White, Handbook of Chlorination); 140 mL in 60 s is 201,600 mL/d,
+/// 25.2 kg/d, which in 9,100 m³/d is 2.7692 mg/L. Worst-case range with the default precisions
+/// (flow ±2 %, column ±2 mL, stopwatch ±0.5 s): the dose goes as volume / (time × flow), so
+/// the low side is 1 − (1 − 1/1.02) − 2/140 − (1 − 60/60.5) and the high side
+/// 1 + (1/0.98 − 1) + 2/140 + (60/59.5 − 1).
+#[test]
+fn a_cross_checks_dose_carries_the_range_of_its_readings() {
+    let r = request(
+        "pump-check",
+        Some("sodium-hypochlorite"),
+        &[
+            ("flow", 9100.0),
+            ("dose", 3.0),
+            ("drawdown-volume", 140.0),
+            ("drawdown-time", 60.0),
+            ("pump-setting", 24.3),
+            ("strength", 12.5),
+            ("specific-gravity", 1.16),
+        ],
+    );
+    let dose = 140.0 / 60.0 * 86_400.0 * 125.0 / 9.1e6;
+    let low = 1.0 - (1.0 - 1.0 / 1.02) - 2.0 / 140.0 - (1.0 - 60.0 / 60.5);
+    let high = 1.0 + (1.0 / 0.98 - 1.0) + 2.0 / 140.0 + (60.0 / 59.5 - 1.0);
+    check_range(&r, "actual_dose", dose, dose * low, dose * high);
+    // The setting to reach 3.0 mg/L goes as 1 / dose: its range is the dose's, inverted.
+    let setting = 24.3 * 3.0 / dose;
+    let o = calculators().compute(&r).unwrap();
+    let s = o.result("suggested_pump_setting").unwrap();
+    let range = s.range.unwrap();
+    assert!((s.value - setting).abs() < 1e-6 * setting);
+    assert!(range.low < setting && setting < range.high);
+    // The deviation is the first thing a cross-check is for: −7.69 %, printed beside its range.
+    let deviation = (dose - 3.0) / 3.0 * 100.0;
+    assert!((o.result("deviation").unwrap().value - deviation).abs() < 1e-6);
+}
+
+/// A site's own precision replaces the default, and a typed "± x" replaces both; a reading
+/// typed as exact (± 0) gives no range. The feed rate goes as the flow, so its range is the
+/// flow's relative precision.
+#[test]
+fn a_sites_precision_and_a_typed_tolerance_set_the_range() {
+    let base = with(&LIQUID, &[("flow", 10_000.0), ("dose", 2.0)]);
+    let mut r = request("feed", Some("sodium-hypochlorite"), &base);
+    // 10,000 m³/d × 2 mg/L = 20 kg/d.
+    check_range(&r, "feed_mass_rate", 20.0, 19.6, 20.4);
+    r.precisions
+        .insert(Instrument::FlowMeter, Precision::relative(1.0));
+    check_range(&r, "feed_mass_rate", 20.0, 19.8, 20.2);
+    r.tolerances.insert("flow", 500.0);
+    check_range(&r, "feed_mass_rate", 20.0, 19.0, 21.0);
+    // The dose is a target, exact: its range is itself.
+    check_range(&r, "dose", 2.0, 2.0, 2.0);
+    r.tolerances.insert("flow", 0.0);
+    let o = calculators().compute(&r).unwrap();
+    assert!(o.results.iter().all(|x| x.range.is_none()), "{o:?}");
+}
+
+/// A reading whose precision reaches an impossible value (a flow of zero) leaves the results
+/// without a range and says which reading, rather than a range narrower than the truth.
+#[test]
+fn a_range_that_cannot_be_computed_is_said_not_narrowed() {
+    let mut r = request(
+        "feed",
+        Some("sodium-hypochlorite"),
+        &with(&LIQUID, &[("flow", 100.0), ("dose", 2.0)]),
+    );
+    r.tolerances.insert("flow", 150.0);
+    let o = calculators()
+        .compute(&r)
+        .expect("the central value still computes");
+    assert!(o.results.iter().all(|x| x.range.is_none()));
+    let c = o
+        .cautions
+        .iter()
+        .find(|c| c.key == "range-unavailable")
+        .expect("a caution names the reading");
+    assert!(
+        c.params.contains(&("field".into(), "field-flow".into())),
+        "{c:?}"
+    );
+}

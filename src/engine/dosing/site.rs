@@ -9,9 +9,11 @@
 use super::catalog::{Catalog, Form, Strength, StrengthBasis, check_sg, check_strength};
 use super::feed::{PumpKind, UsableRange};
 use super::units::{Flow, FlowUnit, LengthUnit, UnitSystem, VolumeUnit};
+use crate::engine::precision::{Instrument, Precision, precisions_from_codes};
 use crate::engine::sigfig::{Measured, count_sig_figs};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
 
 const DEMO_SITE_JSON: &str = include_str!("../../../data/demo-site.json");
 
@@ -156,6 +158,11 @@ pub struct SiteProfile {
     pub day_tanks: Vec<DayTank>,
     #[serde(default)]
     pub limits: Vec<Limit>,
+    /// The plant's own precision of its instruments, by instrument code (`flow-meter`,
+    /// `ph-meter` ...), where it differs from the defaults; absolute parts in the SI unit of
+    /// what the instrument reads (mg/L, °C, s, mL, g). The ranges shown beside results follow.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub instrument_precision: BTreeMap<String, Precision>,
 }
 
 fn limit(parameter: &str, min: Option<f64>, max: Option<f64>, unit: &str, source: &str) -> Limit {
@@ -278,6 +285,11 @@ impl SiteProfile {
         Ok(site)
     }
 
+    /// The precision of the plant's instruments where it states its own.
+    pub fn precisions(&self) -> BTreeMap<Instrument, Precision> {
+        precisions_from_codes(&self.instrument_precision)
+    }
+
     /// The embedded demo plant.
     pub fn demo(catalog: &Catalog) -> Result<SiteProfile> {
         SiteProfile::from_json(DEMO_SITE_JSON, catalog)
@@ -298,6 +310,23 @@ impl SiteProfile {
             ));
         }
         unique("flow meter", self.flow_meters.iter().map(|m| m.id.as_str()))?;
+        for (code, p) in &self.instrument_precision {
+            if Instrument::from_code(code).is_none() {
+                let known: Vec<&str> = Instrument::ALL.iter().map(|i| i.code()).collect();
+                return Err(invalid(
+                    "site-unknown-instrument",
+                    format!("no instrument '{code}' (instruments: {})", known.join(", ")),
+                    code,
+                ));
+            }
+            if !p.is_valid() {
+                return Err(invalid(
+                    "site-precision-invalid",
+                    format!("the precision of '{code}' must be finite and not negative"),
+                    code,
+                ));
+            }
+        }
         unique("product", self.products.iter().map(|p| p.id.as_str()))?;
         unique("pump", self.pumps.iter().map(|p| p.id.as_str()))?;
         unique("basin", self.contact_basins.iter().map(|p| p.id.as_str()))?;
