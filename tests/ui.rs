@@ -359,7 +359,8 @@ fn coagulation_shows_alkalinity_ph_and_the_alkali_chosen() {
     let result = ready(&handle);
     assert_eq!(
         one(&app, &en("result-dose")).accessible_value().unwrap(),
-        "32"
+        "32.0",
+        "three figures at least, whatever was typed"
     );
     for extra in &result.extras {
         assert_eq!(
@@ -381,11 +382,12 @@ fn coagulation_shows_alkalinity_ph_and_the_alkali_chosen() {
         assert!(keys.contains(&k), "{k} missing from {keys:?}");
     }
     assert_cautions_shown(&app, &result);
-    // Two figures typed for the jar dose and the alkalinity: two shown, and said why.
-    assert_eq!(result.figures, 2);
+    // Two figures typed for the jar dose and the alkalinity: three shown all the same (the
+    // ranges say how far they hold), and the least precise entry named.
+    assert_eq!(result.figures, 3);
     let note = Texts::new(Lang::En).get_args(
         "calc-figures-limited",
-        &[("figures", "2".into()), ("field", en("field-jar-dose"))],
+        &[("figures", "3".into()), ("field", en("field-jar-dose"))],
     );
     assert_eq!(count(&app, &note), 1, "figures note {note:?} not shown");
     // The work is shown with translated headings.

@@ -30,8 +30,8 @@ mode-dechlorination = Dechlorination
 mode-alkali-caustic = Alkali: caustic soda
 mode-alkali-lime = Alkali: hydrated lime
 mode-alkali-soda-ash = Alkali: soda ash
-calc-figures = Rounded to { $figures } significant figures.
-calc-figures-limited = Rounded to { $figures } significant figures: { $field } is the least precise entry.
+calc-figures = Shown to { $figures } figures. Beside each number: the range the precision of the readings allows (type “± x” after a reading for your own).
+calc-figures-limited = Shown to { $figures } figures. Beside each number: the range the precision of the readings allows (type “± x” after a reading for your own). { $field } is the least precise entry.
 calc-inputs = Measurements
 calc-result = Result
 calc-incomplete = Fill in every measurement to see the feed.
@@ -57,6 +57,8 @@ result-no-volume-dry = No product volume: { $product } is a dry chemical, fed an
 
 ## Result figures
 result-dose = Dose
+result-actual-dose = Actual dose delivered
+result-suggested-pump-setting = Pump setting for the target dose
 result-feed = Feed mass per day
 result-product = Product volume rate
 result-pump = Pump setting
@@ -470,6 +472,7 @@ site-limit-empty = Give a minimum, a maximum, or both.
 site-limit-reversed = The minimum is above the maximum.
 site-need-source = Say where the limit comes from (permit, rule).
 site-limit-above = { $field } { $value } is above this site's limit of { $limit } { $unit } ({ $source }).
+range-unavailable = No range shown: { $field } moved by its precision gives no result. Check that reading.
 site-limit-below = { $field } { $value } is below this site's minimum of { $limit } { $unit } ({ $source }).
 
 ## About

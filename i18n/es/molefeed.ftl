@@ -30,8 +30,8 @@ mode-dechlorination = Decloración
 mode-alkali-caustic = Álcali: sosa cáustica
 mode-alkali-lime = Álcali: cal hidratada
 mode-alkali-soda-ash = Álcali: carbonato de sodio
-calc-figures = Redondeado a { $figures } cifras significativas.
-calc-figures-limited = Redondeado a { $figures } cifras significativas: { $field } es la entrada menos precisa.
+calc-figures = Se muestran { $figures } cifras. Junto a cada número: el intervalo que permite la precisión de las lecturas (escriba «± x» tras una lectura para indicar la suya).
+calc-figures-limited = Se muestran { $figures } cifras. Junto a cada número: el intervalo que permite la precisión de las lecturas (escriba «± x» tras una lectura para indicar la suya). { $field } es la entrada menos precisa.
 calc-inputs = Mediciones
 calc-result = Resultado
 calc-incomplete = Complete todas las mediciones para ver la dosificación.
@@ -57,6 +57,8 @@ result-no-volume-dry = Sin volumen de producto: { $product } es un sólido seco,
 
 ## Cifras del resultado
 result-dose = Dosis
+result-actual-dose = Dosis real entregada
+result-suggested-pump-setting = Ajuste de bomba para la dosis objetivo
 result-feed = Masa por día
 result-product = Caudal de producto
 result-pump = Ajuste de bomba
@@ -470,6 +472,7 @@ site-limit-empty = Indique un mínimo, un máximo o ambos.
 site-limit-reversed = El mínimo es mayor que el máximo.
 site-need-source = Indique de dónde sale el límite (permiso, norma).
 site-limit-above = { $field } { $value } supera el límite de este sitio de { $limit } { $unit } ({ $source }).
+range-unavailable = Sin intervalo: { $field } desplazado según su precisión no da resultado. Revise esa lectura.
 site-limit-below = { $field } { $value } está por debajo del mínimo de este sitio de { $limit } { $unit } ({ $source }).
 
 ## Acerca de

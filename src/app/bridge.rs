@@ -863,7 +863,14 @@ impl Inner {
                 adapter.set_has_result(true);
                 adapter.set_message(s(""));
                 adapter.set_chemical(s(self.name(&r.chemical)));
+                adapter.set_dose_caption(s(texts.get(&r.dose_caption)));
                 adapter.set_dose(s(&r.dose));
+                let [dose_range, feed_range, product_range, pump_range] =
+                    r.ranges.clone().map(|x| s(x.unwrap_or_default()));
+                adapter.set_dose_range(dose_range);
+                adapter.set_feed_range(feed_range);
+                adapter.set_product_range(product_range);
+                adapter.set_pump_range(pump_range);
                 adapter.set_feed(s(&r.feed));
                 adapter.set_feed_unit(s(self.unit(r.feed_unit)));
                 adapter.set_product(s(&r.product));
@@ -875,15 +882,15 @@ impl Inner {
                     .no_volume_note
                     .map(|k| texts.get_args(k, &[("product", self.name(&r.chemical))]))
                     .unwrap_or_default()));
+                let row = |e: &super::calc::ExtraView| ExtraRow {
+                    label: s(texts.get(&format!("result-{}", e.key))),
+                    value: s(&e.value),
+                    unit: s(texts.get(&format!("unit-{}", e.unit.code()))),
+                    range: s(e.range.clone().unwrap_or_default()),
+                };
+                adapter.set_leads(model(r.extras.iter().filter(|e| e.lead).map(row).collect()));
                 adapter.set_extras(model(
-                    r.extras
-                        .iter()
-                        .map(|e| ExtraRow {
-                            label: s(texts.get(&format!("result-{}", e.key))),
-                            value: s(&e.value),
-                            unit: s(texts.get(&format!("unit-{}", e.unit.code()))),
-                        })
-                        .collect(),
+                    r.extras.iter().filter(|e| !e.lead).map(row).collect(),
                 ));
                 let figures = r.figures.to_string();
                 adapter.set_figures_note(s(match r.limiting {

@@ -7,6 +7,7 @@
 //! and formatted strings; the Slint bridge only translates and copies. A field that does not
 //! parse produces a message and no number, never a partial result.
 
+use super::engine_adapter::{DOSE, FEED, PRODUCT, SETTING};
 use super::numbers::{self, Lang, NumberError};
 use super::seams::{
     CalcEngine, CalcKind, CalcMode, CalcOutcome, CalcRequest, Caution, FeedForm, ProductChoice,
@@ -14,6 +15,9 @@ use super::seams::{
 };
 use crate::engine;
 use crate::engine::dosing::site::Limit;
+use crate::engine::precision::{
+    Instrument, Precision, Range, range_text, split_tolerance, tolerance_to_si,
+};
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
 use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, HashMap};
@@ -134,6 +138,9 @@ pub struct FieldView {
 #[derive(Clone, Debug, PartialEq)]
 pub struct ResultView {
     pub chemical: String,
+    /// Translation key of the first big number's caption: the dose, or a cross-check's actual
+    /// dose.
+    pub dose_caption: String,
     pub dose: String,
     pub feed: String,
     pub feed_unit: Unit,
@@ -147,6 +154,9 @@ pub struct ResultView {
     pub pump_caption: &'static str,
     /// Says in words why no product volume is shown (a product fed by mass).
     pub no_volume_note: Option<&'static str>,
+    /// The range beside each big number (dose, feed, product, setting) that the precision of
+    /// the readings allows; `None` where it adds nothing.
+    pub ranges: [Option<String>; 4],
     /// Further results under the big numbers, in display units.
     pub extras: Vec<ExtraView>,
     /// Significant figures every number on the card is rounded to.
@@ -165,6 +175,11 @@ pub struct ExtraView {
     pub key: String,
     pub value: String,
     pub unit: Unit,
+    /// The range the readings' precision allows, formatted like `value`.
+    pub range: Option<String>,
+    /// A headline without a big place (a cross-check's deviation): shown before the big
+    /// numbers.
+    pub lead: bool,
 }
 
 /// What the results card says.
@@ -234,6 +249,8 @@ pub struct CalcController {
     max_use_levels: HashMap<String, f64>,
     /// The site's own limits, which every request carries for the engine's limit check.
     limits: Vec<Limit>,
+    /// The site's precision of its instruments, where it differs from the defaults.
+    precisions: BTreeMap<Instrument, Precision>,
     fields: Rc<FieldIndex>,
 }
 
@@ -250,6 +267,7 @@ impl CalcController {
             products: HashMap::new(),
             max_use_levels: HashMap::new(),
             limits: Vec::new(),
+            precisions: BTreeMap::new(),
             fields: Rc::new(FieldIndex::build()),
         }
     }
@@ -257,6 +275,11 @@ impl CalcController {
     /// The site's own limits (the engine adds the regulatory defaults where it sets none).
     pub fn set_limits(&mut self, limits: Vec<Limit>) {
         self.limits = limits;
+    }
+
+    /// The site's precision of its instruments (the defaults apply where it states none).
+    pub fn set_precisions(&mut self, precisions: BTreeMap<Instrument, Precision>) {
+        self.precisions = precisions;
     }
 
     /// The site's maximum use levels by catalog product id; each request carries the chosen
@@ -398,25 +421,39 @@ impl CalcController {
         let mut views = Vec::new();
         let mut values = BTreeMap::new();
         let mut figures = BTreeMap::new();
+        let mut tolerances = BTreeMap::new();
         let mut empty = false;
         let mut invalid = false;
         let product = self.product().2;
         for spec in self.fields() {
             let unit = spec.quantity.unit(self.system);
             let text = self.text_for(spec.name, product.as_deref()).to_string();
-            let error = match numbers::parse(&text, self.lang) {
-                Ok(v) => {
+            // "140 ± 2": the reading with a precision of the operator's own.
+            let (reading, tolerance) = split_tolerance(&text);
+            let tolerance = tolerance.map(|t| {
+                numbers::parse(t, self.lang)
+                    .and_then(|t| (t >= 0.0).then_some(t).ok_or(NumberError::NotANumber))
+            });
+            let error = match (numbers::parse(reading, self.lang), tolerance) {
+                (Ok(_), Some(Err(e))) => {
+                    invalid = true;
+                    Some(e.key())
+                }
+                (Ok(v), tolerance) => {
                     values.insert(spec.name, unit.to_si(v));
-                    if let Some(n) = typed_figures(spec.quantity, &text, self.lang) {
+                    if let Some(Ok(t)) = tolerance {
+                        tolerances.insert(spec.name, tolerance_to_si(unit, v, t));
+                    }
+                    if let Some(n) = typed_figures(spec.quantity, reading, self.lang) {
                         figures.insert(spec.name, n);
                     }
                     None
                 }
-                Err(NumberError::Empty) => {
+                (Err(NumberError::Empty), _) => {
                     empty |= !spec.optional;
                     None
                 }
-                Err(e) => {
+                (Err(e), _) => {
                     invalid = true;
                     Some(e.key())
                 }
@@ -441,6 +478,8 @@ impl CalcController {
             figures,
             max_use_level_mg_l,
             limits: self.limits.clone(),
+            tolerances,
+            precisions: self.precisions.clone(),
         });
         (views, request, invalid)
     }
@@ -458,6 +497,7 @@ impl CalcController {
             products: self.products.clone(),
             max_use_levels: self.max_use_levels.clone(),
             limits: self.limits.clone(),
+            precisions: self.precisions.clone(),
             fields: self.fields.clone(),
         };
         probe.current_request()
@@ -492,9 +532,11 @@ impl CalcController {
 
     fn result_view(&self, request: &CalcRequest, outcome: CalcOutcome) -> ResultView {
         let lang = self.lang;
-        let figures = outcome
-            .figures
-            .map_or(RESULT_FIGURES, |f| u32::from(f).clamp(1, MAX_FIGURES));
+        // Never fewer than three figures: how far a number can be trusted is said by its
+        // range, not by dropping digits a cross-check needs.
+        let figures = outcome.figures.map_or(RESULT_FIGURES, |f| {
+            u32::from(f).clamp(RESULT_FIGURES, MAX_FIGURES)
+        });
         let limiting = outcome.figures.and_then(|f| {
             self.fields()
                 .into_iter()
@@ -506,6 +548,14 @@ impl CalcController {
                 numbers::format_sig(unit.from_si(v), figures, lang)
             })
         };
+        // The range beside a value shown as `text` in `unit`, to the same decimals.
+        let range = |r: Option<Range>, text: &str, unit: Unit| {
+            let r = r?;
+            let decimals = engine::sigfig::shown_decimals(text);
+            let at = |v: f64| numbers::format_fixed(unit.from_si(v), decimals, lang);
+            range_text(text, &at(r.low), &at(r.high))
+        };
+        let ranged = |ids: &[&str]| ids.iter().find_map(|id| outcome.ranges.get(id)).copied();
         let feed_unit = Quantity::MassPerDay.unit(self.system);
         // A gas or dry product has no volume worth showing: its third number is the mass of
         // product per day the feeder is set to, said in words.
@@ -534,32 +584,56 @@ impl CalcController {
                 };
                 ExtraView {
                     key: e.key.clone(),
+                    range: range(e.range, &value, unit),
                     value,
                     unit,
+                    lead: e.headline,
                 }
             })
             .collect();
+        let dose = show(outcome.dose_mg_per_l, Unit::MgPerL);
+        let feed = show(outcome.feed_kg_per_day, feed_unit);
+        let product = show(product_value, product_unit);
+        let pump = show(outcome.pump_setting_percent, Unit::Percent);
+        let product_id = if form.by_mass() {
+            PRODUCT[1]
+        } else {
+            PRODUCT[0]
+        };
+        let ranges = [
+            range(ranged(&DOSE), &dose, Unit::MgPerL),
+            range(ranged(&[FEED]), &feed, feed_unit),
+            range(ranged(&[product_id]), &product, product_unit),
+            range(ranged(&SETTING), &pump, Unit::Percent),
+        ];
         ResultView {
             chemical: outcome.chemical.clone(),
-            dose: show(outcome.dose_mg_per_l, Unit::MgPerL),
-            feed: show(outcome.feed_kg_per_day, feed_unit),
+            dose_caption: format!(
+                "result-{}",
+                outcome.dose_id.unwrap_or(DOSE[0]).replace('_', "-")
+            ),
+            dose,
+            feed,
             feed_unit,
-            product: show(product_value, product_unit),
+            product,
             product_unit,
             product_caption: match form {
                 FeedForm::Liquid => key("result-product"),
                 FeedForm::Gas | FeedForm::Dry => key("result-feeder-rate"),
             },
-            pump: show(outcome.pump_setting_percent, Unit::Percent),
-            pump_caption: match form {
-                FeedForm::Liquid => key("result-pump"),
-                FeedForm::Gas | FeedForm::Dry => key("result-feeder-setting"),
+            pump,
+            pump_caption: match (form, outcome.setting_id) {
+                // A cross-check's setting is the one that would reach the target.
+                (_, Some(id)) if id == SETTING[2] => key("result-suggested-pump-setting"),
+                (FeedForm::Liquid, _) => key("result-pump"),
+                (FeedForm::Gas | FeedForm::Dry, _) => key("result-feeder-setting"),
             },
             no_volume_note: match form {
                 FeedForm::Liquid => None,
                 FeedForm::Gas => Some(key("result-no-volume-gas")),
                 FeedForm::Dry => Some(key("result-no-volume-dry")),
             },
+            ranges,
             extras,
             figures,
             limiting,
@@ -737,6 +811,7 @@ mod tests {
                     },
                 ],
                 table: None,
+                ..CalcOutcome::default()
             })
         }
     }
@@ -839,13 +914,13 @@ mod tests {
         let Status::Ready(r) = c.view().status else {
             panic!("expected a result")
         };
-        assert_eq!(r.dose, "2,5", "two figures typed, two shown");
+        assert_eq!(r.dose, "2,50", "two figures typed, three shown at least");
         assert_eq!(rec.seen.borrow()[0].get("dose"), Some(2.5));
         assert_eq!(rec.seen.borrow()[0].figures("dose"), Some(2));
     }
 
     #[test]
-    fn results_keep_the_figures_the_inputs_support() {
+    fn results_show_three_figures_at_least_and_four_at_most() {
         // The recorder reports the figures of "dose" as the result's; flow (m³/d) comes back
         // as the feed, so the rounding of one number by another's precision is visible.
         fn check(dose: &str, flow: &str, shown_dose: &str, shown_feed: &str, figures: u32) {
@@ -872,11 +947,93 @@ mod tests {
             );
             assert_eq!(r.limiting, Some("dose"));
         }
-        check("2", "3785", "2", "4000", 1);
-        check("2.0", "3785", "2.0", "3800", 2);
+        // Fewer figures typed never round a setpoint coarser than three: a card once showed
+        // "3" for 2.77 mg/L. The range says how far the number can be trusted.
+        check("2", "3785", "2.00", "3790", 3);
+        check("2.0", "3785", "2.00", "3790", 3);
         check("2.50", "3785", "2.50", "3790", 3);
         // More figures than a pump can be set to are not shown.
         check("2.50000", "3785.4", "2.500", "3785", 4);
+    }
+
+    /// A "± x" typed after a reading reaches the engine as that reading's precision, in SI; a
+    /// tolerance that is not a number, or negative, is the field's error, never dropped.
+    #[test]
+    fn a_typed_tolerance_goes_with_its_reading() {
+        let rec = Rc::new(Recorder::default());
+        let mut c = CalcController::new(rec.clone(), Lang::Es, UnitSystem::Us);
+        c.set_kind(CalcKind::of("feed"));
+        fill(
+            &mut c,
+            &[
+                ("flow", "2,4 ± 0,1"),
+                ("dose", "2,5"),
+                ("strength", "12,5"),
+                ("specific-gravity", "1,2"),
+                ("pump-capacity", "10"),
+            ],
+        );
+        assert!(matches!(c.view().status, Status::Ready(_)));
+        let seen = rec.seen.borrow()[0].clone();
+        // 0.1 MGD is 378.5411784 m³/d (1 US gal = 3.785411784 L, exact).
+        let t = seen.tolerances.get("flow").copied().unwrap();
+        assert!((t - 378.541_178_4).abs() < 1e-6, "{t}");
+        assert_eq!(seen.figures("flow"), Some(2), "the reading's own figures");
+        for bad in ["2,4 ± x", "2,4 ± -0,1"] {
+            c.edit("flow", bad);
+            let v = c.view();
+            assert_eq!(v.status, Status::Invalid, "{bad}");
+            let flow = v.fields.iter().find(|f| f.name == "flow").unwrap();
+            assert!(flow.error.is_some(), "{bad}");
+        }
+    }
+
+    /// The cross-check's card through the real engine: its first place is the actual dose,
+    /// captioned so, its deviation leads the list, and each carries the range of the readings.
+    /// By hand (12.5 % trade = 125 mg/mL available chlorine): 140 mL in 60 s into 9,100 m³/d
+    /// is 2.7692 mg/L; with the flow typed exact, the column (±2 mL) and the stopwatch
+    /// (±0.5 s) give 2.7692 × (1 − 2/140 − (1 − 60/60.5)) = 2.707 to
+    /// 2.7692 × (1 + 2/140 + (60/59.5 − 1)) = 2.832.
+    #[test]
+    fn a_cross_checks_card_leads_with_its_actual_dose_and_deviation() {
+        let engine = Rc::new(super::super::engine_adapter::DosingEngine::new().unwrap());
+        let mut c = CalcController::new(engine, Lang::En, UnitSystem::Si);
+        c.set_kind(CalcKind::of("pump-check"));
+        let product = c
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "sodium-hypochlorite")
+            .unwrap();
+        c.set_product(product);
+        fill(
+            &mut c,
+            &[
+                ("flow", "9100 ± 0"),
+                ("dose", "3.0"),
+                ("drawdown-volume", "140"),
+                ("drawdown-time", "60"),
+                ("pump-setting", "24.3"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.16"),
+            ],
+        );
+        let Status::Ready(r) = c.view().status else {
+            panic!("expected a result: {:?}", c.view().status)
+        };
+        assert_eq!(r.dose_caption, "result-actual-dose");
+        assert_eq!(
+            (r.dose.as_str(), r.ranges[0].as_deref()),
+            ("2.77", Some("2.71–2.83"))
+        );
+        let lead = &r.extras[0];
+        assert!(lead.lead, "{lead:?}");
+        assert_eq!(
+            (lead.key.as_str(), lead.value.as_str()),
+            ("deviation", "-7.69")
+        );
+        assert!(lead.range.is_some(), "{lead:?}");
+        assert_eq!(r.pump_caption, "result-suggested-pump-setting");
     }
 
     #[test]
@@ -892,11 +1049,15 @@ mod tests {
                             key: "ph-after".into(),
                             value: 7.456,
                             quantity: Quantity::Ph,
+                            range: None,
+                            headline: false,
                         },
                         super::super::seams::Extra {
                             key: "coagulant-solids".into(),
                             value: 45.359237,
                             quantity: Quantity::MassPerDay,
+                            range: None,
+                            headline: false,
                         },
                     ],
                     figures: Some(3),

@@ -710,18 +710,23 @@ pub fn dose_of(card: &CalcView, by: Logging<'_>) -> Option<Dose> {
     let result_text = |r: &ResultValue, unit: Unit| -> String {
         // The card's big places, by the same result ids the adapter placed them by.
         use super::engine_adapter::{DOSE, FEED, PRODUCT, SETTING};
+        // A number with the range shown beside it, as the card showed both.
+        let with = |value: &String, range: &Option<String>| match range {
+            Some(range) => format!("{value} ({range})"),
+            None => value.clone(),
+        };
         let card_text = match r.id {
-            id if DOSE.contains(&id) => Some(shown.dose.clone()),
-            id if id == FEED => Some(shown.feed.clone()),
+            id if DOSE.contains(&id) => Some(with(&shown.dose, &shown.ranges[0])),
+            id if id == FEED => Some(with(&shown.feed, &shown.ranges[1])),
             id if PRODUCT.contains(&id) && unit == shown.product_unit => {
-                Some(shown.product.clone())
+                Some(with(&shown.product, &shown.ranges[2]))
             }
-            id if SETTING.contains(&id) => Some(shown.pump.clone()),
+            id if SETTING.contains(&id) => Some(with(&shown.pump, &shown.ranges[3])),
             id => shown
                 .extras
                 .iter()
                 .find(|e| e.key == id.replace('_', "-"))
-                .map(|e| e.value.clone()),
+                .map(|e| with(&e.value, &e.range)),
         };
         card_text
             .unwrap_or_else(|| numbers::format_sig(unit.from_si(r.value), shown.figures, by.lang))

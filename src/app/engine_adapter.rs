@@ -35,6 +35,8 @@ fn table_request(request: &CalcRequest) -> Request {
     r.figures = request.figures.clone();
     r.max_use_level_mg_l = request.max_use_level_mg_l;
     r.limits = request.limits.clone();
+    r.tolerances = request.tolerances.clone();
+    r.precisions = request.precisions.clone();
     r
 }
 
@@ -53,12 +55,8 @@ pub const BIG_RESULTS: [&str; 8] = [
 
 /// The outcome as the card carries it; every result not in a big place is listed under them.
 fn card_of(o: Outcome) -> CalcOutcome {
-    let get = |ids: &[&str]| {
-        o.results
-            .iter()
-            .find(|r| ids.contains(&r.id))
-            .map(|r| r.value)
-    };
+    let find = |ids: &[&str]| o.results.iter().find(|r| ids.contains(&r.id));
+    let get = |ids: &[&str]| find(ids).map(|r| r.value);
     CalcOutcome {
         chemical: o
             .product
@@ -69,6 +67,13 @@ fn card_of(o: Outcome) -> CalcOutcome {
         product_l_per_hour: get(&PRODUCT[..1]),
         product_kg_per_day: get(&PRODUCT[1..]),
         pump_setting_percent: get(&SETTING),
+        dose_id: find(&DOSE).map(|r| r.id),
+        setting_id: find(&SETTING).map(|r| r.id),
+        ranges: o
+            .results
+            .iter()
+            .filter_map(|r| Some((r.id, r.range?)))
+            .collect(),
         extras: o
             .results
             .iter()
@@ -77,6 +82,8 @@ fn card_of(o: Outcome) -> CalcOutcome {
                 key: r.id.replace('_', "-"),
                 value: r.value,
                 quantity: r.quantity,
+                range: r.range,
+                headline: r.headline,
             })
             .collect(),
         figures: o.figures,

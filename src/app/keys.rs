@@ -326,6 +326,12 @@ pub fn dynamic_keys() -> Vec<String> {
     );
     keys.extend(ENGINE_TEXT_KEYS.iter().map(|k| k.to_string()));
     keys.extend(extra_keys().iter().map(|k| format!("result-{k}")));
+    // The dose place is captioned by the id of the result in it (a cross-check's actual dose).
+    keys.extend(
+        super::engine_adapter::DOSE
+            .iter()
+            .map(|id| format!("result-{}", id.replace('_', "-"))),
+    );
     keys.extend(TRACE_LABELS.iter().map(|k| format!("trace-{k}")));
     keys.extend(ORIGIN_CODES.iter().map(|k| format!("origin-{k}")));
     keys.extend(ERROR_REASONS.iter().map(|r| format!("error-reason-{r}")));

@@ -10,6 +10,7 @@ use crate::engine;
 use crate::engine::calculators;
 pub use crate::engine::calculators::{Curve, FeedForm, ProductChoice, StepOrigin, TraceLine};
 use crate::engine::dosing::site::Limit;
+use crate::engine::precision::{Instrument, Precision, Range};
 use crate::engine::quantity::Quantity;
 use std::collections::BTreeMap;
 use std::rc::Rc;
@@ -129,6 +130,10 @@ pub struct CalcRequest {
     /// The site's own limits; the engine checks targets against them (and the regulatory
     /// defaults where the site sets none).
     pub limits: Vec<Limit>,
+    /// A "± x" the operator typed beside a reading, in SI, by input name.
+    pub tolerances: BTreeMap<&'static str, f64>,
+    /// The site's precision of its instruments, where it differs from the defaults.
+    pub precisions: BTreeMap<Instrument, Precision>,
 }
 
 impl CalcRequest {
@@ -190,6 +195,12 @@ pub struct CalcOutcome {
     pub product_kg_per_day: Option<f64>,
     /// Pump setting, percent of full stroke/speed, or a feeder's percent of full scale.
     pub pump_setting_percent: Option<f64>,
+    /// The stable ids of the results in the dose and setting places (`actual_dose` and
+    /// `suggested_pump_setting` for a cross-check), which caption them.
+    pub dose_id: Option<&'static str>,
+    pub setting_id: Option<&'static str>,
+    /// The range each result may lie in given the precision of the readings, by result id.
+    pub ranges: BTreeMap<&'static str, Range>,
     /// Further results a calculator reports beside the four big numbers (alkalinity
     /// consumed, pH after, soda ash ...), shown as a list under them.
     pub extras: Vec<Extra>,
@@ -209,6 +220,10 @@ pub struct Extra {
     pub key: String,
     pub value: f64,
     pub quantity: Quantity,
+    /// The range the precision of the readings allows, in SI.
+    pub range: Option<Range>,
+    /// A headline without a big place of its own (a cross-check's deviation): shown first.
+    pub headline: bool,
 }
 
 /// Why the seam could not answer.
@@ -272,6 +287,8 @@ mod tests {
             figures: BTreeMap::new(),
             max_use_level_mg_l: None,
             limits: Vec::new(),
+            tolerances: BTreeMap::new(),
+            precisions: BTreeMap::new(),
         };
         assert_eq!(Unconnected.compute(&request), Err(SeamError::NotConnected));
         assert_eq!(

@@ -720,6 +720,7 @@ impl AppState {
         self.calc
             .set_max_use_levels(sites::max_use_levels(self.site()));
         self.calc.set_limits(self.site().limits.clone());
+        self.calc.set_precisions(self.site().precisions());
         let (kind, mode) = (self.calc.kind(), self.calc.mode());
         if !self.preselected.contains(&(kind, mode)) {
             self.preselected.push((kind, mode));
@@ -1023,9 +1024,10 @@ impl AppState {
                 .card_dose(&initials, &entry.dose.tap)
                 .filter(|d| d.calculator == entry.dose.calculator)
                 .ok_or_else(|| Note::new(key("log-correct-needs-result")))?;
+            // The dose as shown, without the range beside it.
             let shown = fixed
                 .result(crate::log::record::result_id::DOSE)
-                .map(|r| r.shown.clone())
+                .and_then(|r| r.shown.split(" (").next().map(str::to_string))
                 .unwrap_or_default();
             if numbers::parse(&shown, lang).ok() != Some(typed) {
                 return Err(Note::new(key("log-correct-dose-differs")).arg("dose", shown));
@@ -1871,7 +1873,9 @@ mod tests {
             .dose
             .result("product_volume_rate")
             .expect("recomputed with the card");
-        assert_eq!(volume.shown, card.product);
+        // As the card showed it: the number and the range beside it.
+        let range = card.ranges[2].as_deref().expect("a flow meter's range");
+        assert_eq!(volume.shown, format!("{} ({range})", card.product));
         assert_eq!(
             (e.dose.operator.as_str(), e.dose.tap.as_str()),
             ("KT", "Clearwell")
@@ -2389,11 +2393,15 @@ mod tests {
             value("log-field-chemical"),
             DetailValue::Text("Chlorine gas".into())
         );
-        // 9000 m³/d × 2.00 g/m³ = 18.0 kg/d, 18.0 % of a 100 kg/d feeder.
-        assert_eq!(value("result-feed"), DetailValue::Text("18.0 kg/d".into()));
+        // 9000 m³/d × 2.00 g/m³ = 18.0 kg/d, 18.0 % of a 100 kg/d feeder; the flow meter's
+        // default ±2 % gives 17.64–18.36 for both.
+        assert_eq!(
+            value("result-feed"),
+            DetailValue::Text("18.0 (17.6–18.4) kg/d".into())
+        );
         assert_eq!(
             value("result-feeder-setting"),
-            DetailValue::Text("18.0 %".into())
+            DetailValue::Text("18.0 (17.6–18.4) %".into())
         );
         assert!(rows.iter().all(|r| r.label != "result-pump"));
     }

@@ -15,7 +15,7 @@ use crate::engine::calculators::{
 };
 use crate::engine::dosing::caution::render;
 use crate::engine::dosing::site::SiteProfile;
-use crate::engine::precision::{split_tolerance, tolerance_to_si};
+use crate::engine::precision::{range_text, split_tolerance, tolerance_to_si};
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
 use crate::engine::sigfig::{Measured, format_sig, shown_decimals};
 use serde_json::{Map, Value, json};
@@ -275,13 +275,9 @@ pub fn shown_with_range(r: &ResultValue, unit: Unit, figures: u32) -> String {
     let decimals = shown_decimals(&value);
     let (low, high) = (unit.from_si(range.low), unit.from_si(range.high));
     let (low, high) = (format!("{low:.decimals$}"), format!("{high:.decimals$}"));
-    if low == value && high == value {
-        value
-    } else if low.starts_with('-') || high.starts_with('-') {
-        // A dash between negative numbers reads as a minus sign.
-        format!("{value} ({low} to {high})")
-    } else {
-        format!("{value} ({low}–{high})")
+    match range_text(&value, &low, &high) {
+        Some(range) => format!("{value} ({range})"),
+        None => value,
     }
 }
 

@@ -192,6 +192,19 @@ pub fn tolerance_to_si(unit: super::quantity::Unit, value: f64, tolerance: f64) 
     (unit.to_si(value + tolerance) - unit.to_si(value)).abs()
 }
 
+/// The range beside a value, from texts formatted alike (same decimals, same decimal mark):
+/// `None` when it says nothing the value does not (an exact result). Negative bounds are spaced
+/// around the dash, which would otherwise read as a minus sign.
+pub fn range_text(value: &str, low: &str, high: &str) -> Option<String> {
+    if low == value && high == value {
+        None
+    } else if low.starts_with('-') || high.starts_with('-') {
+        Some(format!("{low} – {high}"))
+    } else {
+        Some(format!("{low}–{high}"))
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -210,6 +223,19 @@ mod tests {
         check("7.2 +/- 0.1", "7.2", Some("0.1"));
         check("1,5 ± 0,1", "1,5", Some("0,1"));
         check("-3", "-3", None);
+    }
+
+    #[test]
+    fn a_range_is_shown_only_where_it_says_something() {
+        assert_eq!(range_text("3.00", "3.00", "3.00"), None);
+        assert_eq!(
+            range_text("26.3", "25.0", "27.7").as_deref(),
+            Some("25.0–27.7")
+        );
+        assert_eq!(
+            range_text("-7.69", "-11.6", "-3.72").as_deref(),
+            Some("-11.6 – -3.72")
+        );
     }
 
     #[test]

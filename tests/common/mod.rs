@@ -71,6 +71,7 @@ impl CalcEngine for EchoEngine {
             ],
             // No engine outcome: a stand-in result is never logged.
             table: None,
+            ..CalcOutcome::default()
         })
     }
 }
