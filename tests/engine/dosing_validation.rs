@@ -476,7 +476,8 @@ fn pump_check_verdicts() {
 #[test]
 fn day_tank_dilution() {
     let c = catalog();
-    // 12.5 trade % (125 g/L) down to 1.0 trade % (10 g/L) in 100 L: 8 L concentrate + 92 L water.
+    // 12.5 trade % (125 g/L) down to 1.0 trade % (10 g/L) in 100 L: 8 L concentrate. Water by
+    // mass (hand balance): 100 L × 1.01 − 8 L × 1.16 = 101 − 9.28 = 91.72 kg, so 91.72 L.
     let r = feed::dilution(
         &c,
         &DilutionInput {
@@ -488,7 +489,7 @@ fn day_tank_dilution() {
     )
     .unwrap();
     assert!((r.concentrate_l - 8.0).abs() < 1e-9, "{}", r.concentrate_l);
-    assert!((r.water_l - 92.0).abs() < 1e-9);
+    assert!((r.water_l - 91.72).abs() < 1e-9, "{}", r.water_l);
     assert!(r.cautions.iter().any(|c| c.key == "add-chemical-to-water"));
     // Mixed bases are put on one g/L basis first: 50 % NaOH SG 1.52 = 760 g/L; 25 % SG 1.27 = 317.5 g/L.
     let naoh = feed::dilution(
@@ -503,6 +504,9 @@ fn day_tank_dilution() {
     .unwrap();
     assert!((naoh.concentrate_g_per_l - 760.0).abs() < 1e-9);
     assert!((naoh.concentrate_l - 1000.0 * 317.5 / 760.0).abs() < 1e-9);
+    // Volumes are not additive: by mass, 1000 L × 1.27 = 1270 kg of batch holds 317.5 kg NaOH,
+    // so 635 kg of 50 % concentrate, and 1270 − 635 = 635 kg (L) of water, not 1000 − 417.8.
+    assert!((naoh.water_l - 635.0).abs() < 1e-9, "{}", naoh.water_l);
     let up = feed::dilution(
         &c,
         &DilutionInput {
