@@ -281,7 +281,20 @@ pub(super) fn free_chlorine(c: &Calculators, request: &Request) -> Result<Outcom
             Some("CaCO3"),
         ));
     }
-    if let Some(consumed) = dosed.breakpoint_alkalinity_mg_l_as_caco3 {
+    // Without the water, the stoichiometric alkalinity the breakpoint takes is still known
+    // from the product chosen.
+    let consumed = match (dosed.breakpoint_alkalinity_mg_l_as_caco3, ammonia_n) {
+        (Some(consumed), _) => Some(consumed),
+        (None, Some(n)) if n.value > 0.0 => {
+            let (per_n, per_n_trace) =
+                chlorine::breakpoint_alkalinity_per_n(&c.catalog, chosen(request)?)?;
+            out.traces
+                .push(NamedTrace::new("breakpoint-alkalinity-ratio", per_n_trace));
+            Some(per_n * n.value)
+        }
+        _ => None,
+    };
+    if let Some(consumed) = consumed {
         out.results.push(result(
             "breakpoint_alkalinity_consumed",
             consumed,

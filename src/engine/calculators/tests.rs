@@ -640,6 +640,16 @@ fn free_chlorine_reports_the_breakpoint_end_state() {
         );
         assert!(has(&out, "ph-effect-end-state"));
         assert!(value_of(&out, "ph_after") < 7.6, "{product}");
+        // Without the water no pH, but the stoichiometric alkalinity is still the product's.
+        let no_water: Vec<(&'static str, f64)> = with(&water, &form)
+            .into_iter()
+            .filter(|(n, _)| *n != "ph")
+            .collect();
+        let out = calculators()
+            .compute(&request("free-chlorine", Some(product), &no_water))
+            .unwrap();
+        assert!(out.result("ph_after").is_none());
+        assert!((value_of(&out, "breakpoint_alkalinity_consumed") - consumed).abs() < 1e-9);
     }
 }
 
