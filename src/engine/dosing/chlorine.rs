@@ -131,7 +131,7 @@ fn protons_per_hocl(catalog: &Catalog, chemical: &crate::engine::water::Chemical
     let protonation = catalog.reaction("hypochlorite-protonation")?;
     let per_ocl = protonation.mole_ratio("OCl-", "H+")?;
     let per_ocl = *per_ocl.numer() as f64 / *per_ocl.denom() as f64;
-    let [h, oh, ocl, hocl] = ["H+", "OH-", "OCl-", "HOCl"].map(|f| Formula::parse(f));
+    let [h, oh, ocl, hocl] = ["H+", "OH-", "OCl-", "HOCl"].map(Formula::parse);
     let (h, oh, ocl, hocl) = (h?, oh?, ocl?, hocl?);
     let (mut protons, mut free) = (0.0, 0.0);
     for s in dissolution
