@@ -625,6 +625,7 @@ impl CalcController {
             pump_caption: match (form, outcome.setting_id) {
                 // A cross-check's setting is the one that would reach the target.
                 (_, Some(id)) if id == SETTING[2] => key("result-suggested-pump-setting"),
+                (_, Some(id)) if id == SETTING[3] => key("result-suggested-feeder-setting"),
                 (FeedForm::Liquid, _) => key("result-pump"),
                 (FeedForm::Gas | FeedForm::Dry, _) => key("result-feeder-setting"),
             },

@@ -44,13 +44,18 @@ fn table_request(request: &CalcRequest) -> Request {
 /// dose, the active chemical per day, the product (volume for a liquid, mass for a gas or dry
 /// chemical) and the pump or feeder setting.
 pub const DOSE: [&str; 2] = ["dose", "actual_dose"];
-pub const SETTING: [&str; 3] = ["pump_setting", "feeder_setting", "suggested_pump_setting"];
+pub const SETTING: [&str; 4] = [
+    "pump_setting",
+    "feeder_setting",
+    "suggested_pump_setting",
+    "suggested_feeder_setting",
+];
 pub const FEED: &str = "feed_mass_rate";
 pub const PRODUCT: [&str; 2] = ["product_volume_rate", "product_mass_rate"];
 
 /// Every result id with a big place on the card.
-pub const BIG_RESULTS: [&str; 8] = [
-    DOSE[0], DOSE[1], SETTING[0], SETTING[1], SETTING[2], FEED, PRODUCT[0], PRODUCT[1],
+pub const BIG_RESULTS: [&str; 9] = [
+    DOSE[0], DOSE[1], SETTING[0], SETTING[1], SETTING[2], SETTING[3], FEED, PRODUCT[0], PRODUCT[1],
 ];
 
 /// The outcome as the card carries it; every result not in a big place is listed under them.

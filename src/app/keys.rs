@@ -107,11 +107,19 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "ph-outside-range",
     "softening-no-excess-lime",
     "sludge-estimate-only",
+    "sludge-basis",
+    "sludge-basis-alternative",
     "chloramine-practice-range",
     "chloramine-ratio-above-theoretical",
     "dechlor-field-dose-separate",
     "dechlor-oxygen-demand",
-    "ph-effect-chlorine-as-fed",
+    "ph-effect-end-state",
+    "ph-effect-demand-acid",
+    "natural-ammonia-covers-ratio",
+    "natural-ammonia-credited",
+    "natural-ammonia-broken-first",
+    "chlorine-short-of-natural-breakpoint",
+    "free-ammonia-nitrification",
 ];
 
 /// Further results listed under the card's big numbers (`result-<id>` with dashes): every
@@ -143,6 +151,8 @@ pub const TRACE_LABELS: &[&str] = &[
     "ammonia-dose",
     "breakpoint-dose",
     "breakpoint-ratio",
+    "breakpoint-alkalinity",
+    "breakpoint-alkalinity-ratio",
     "chlorine-as-compound",
     "concentrate-strength",
     "contact-time",
@@ -163,6 +173,8 @@ pub const TRACE_LABELS: &[&str] = &[
     "soda-ash-per-nch",
     "solids-per-dose",
     "target-strength",
+    "batch-mass",
+    "concentrate-mass",
 ];
 
 /// Where a step's factor comes from (`origin-<code>`), as the adapter names them.
@@ -198,6 +210,7 @@ pub const ERROR_REASONS: &[&str] = &[
     "feeder-cannot-feed-product",
     "needs-liquid-product",
     "dilution-not-weaker",
+    "dilution-masses-inconsistent",
     "calcium-above-total-hardness",
     "needs-basicity",
     "alkalinity-differs-from-water",

@@ -328,7 +328,12 @@ mod tests {
             .collect();
         assert_eq!(
             chlorination,
-            ["free-chlorine", "chloramine", "dechlorination"]
+            [
+                "free-chlorine",
+                "ammonia-with-chlorine",
+                "ammonia-after-chlorine",
+                "dechlorination"
+            ]
         );
         assert_eq!(CalcKind::of("coagulation").modes()[1].code(), "alkali-lime");
     }

@@ -813,7 +813,8 @@ pub fn pump_check(args: &Args) -> CliResult {
     let mut lines = vec![
         format!(
             "measured {} L/d of product → {} kg/d active → actual dose {} mg/L",
-            fmt(r.product_l_per_day),
+            // The command's measurements are volumes, so a volume is always there.
+            r.product_l_per_day.map_or_else(String::new, fmt),
             fmt(r.active_kg_per_day),
             fmt(r.actual_dose_mg_l)
         ),

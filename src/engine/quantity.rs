@@ -35,6 +35,9 @@ pub enum Quantity {
     Millilitres,
     /// A time read with a stopwatch. s in both systems.
     Seconds,
+    /// A small mass weighed on a scale (a dry feeder's catch, a cylinder's loss). g in both
+    /// systems.
+    Grams,
     /// A mass ratio such as Cl₂ : N. Dimensionless.
     Ratio,
     /// A dimensionless index such as the Langelier index, shown to two decimals.
@@ -66,6 +69,7 @@ pub enum Unit {
     NoUnit,
     Millilitres,
     Seconds,
+    Grams,
     Ratio,
     Minutes,
     Litres,
@@ -79,7 +83,7 @@ const M3_PER_GALLON: f64 = 3.785_411_784e-3;
 const KG_PER_POUND: f64 = 0.453_592_37;
 
 impl Unit {
-    pub const ALL: [Unit; 20] = [
+    pub const ALL: [Unit; 21] = [
         Unit::CubicMetresPerDay,
         Unit::Mgd,
         Unit::MgPerL,
@@ -95,6 +99,7 @@ impl Unit {
         Unit::NoUnit,
         Unit::Millilitres,
         Unit::Seconds,
+        Unit::Grams,
         Unit::Ratio,
         Unit::Minutes,
         Unit::Litres,
@@ -119,6 +124,7 @@ impl Unit {
             Unit::NoUnit => "none",
             Unit::Millilitres => "ml",
             Unit::Seconds => "s",
+            Unit::Grams => "g",
             Unit::Ratio => "ratio",
             Unit::Minutes => "min",
             Unit::Litres => "l",
@@ -151,6 +157,7 @@ impl Unit {
             Unit::NoUnit => "1",
             Unit::Millilitres => "mL",
             Unit::Seconds => "s",
+            Unit::Grams => "g",
             Unit::Ratio => "ratio",
             Unit::Minutes => "min",
             Unit::Litres => "L",
@@ -217,6 +224,7 @@ impl Quantity {
             (Quantity::SpecificGravity, _) => Unit::NoUnit,
             (Quantity::Millilitres, _) => Unit::Millilitres,
             (Quantity::Seconds, _) => Unit::Seconds,
+            (Quantity::Grams, _) => Unit::Grams,
             (Quantity::Ratio, _) => Unit::Ratio,
             (Quantity::Index, _) => Unit::NoUnit,
             (Quantity::Minutes, _) => Unit::Minutes,

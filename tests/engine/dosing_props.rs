@@ -90,6 +90,40 @@ proptest! {
         prop_assert!(check.deviation_percent.abs() < 1e-6);
     }
 
+    /// dose → product kg/d of a dry chemical or a gas → that mass caught (or weighed off the
+    /// cylinder) over a timed interval → the dose again: the weighed catch is the exact inverse
+    /// of the feed's strength conversion, purity and compound included.
+    #[test]
+    fn feed_then_weighed_catch_returns_the_dose(
+        flow in 0.01..500.0f64, unit in 0usize..5, dose in 0.05..200.0f64,
+        which in 0usize..5, purity in 50.0..100.0f64, seconds in 10.0..7200.0f64,
+    ) {
+        let c = Catalog::builtin().unwrap();
+        let product = ["hydrated-lime", "quicklime", "soda-ash", "chlorine-gas", "ammonium-sulfate"][which];
+        let strength = Strength::new(m(purity), StrengthBasis::Purity, None);
+        let r = feed::feed(&c, &FeedInput {
+            flow: Flow::new(m(flow), UNITS[unit]),
+            dose: m(dose),
+            product: product.into(),
+            strength,
+            pump: None,
+            usable_range: UsableRange::default(),
+            max_use_level_mg_l: None,
+        }).unwrap();
+        let grams = r.product_kg_per_day * 1000.0 * seconds / 86_400.0;
+        let check = pumpcheck::pump_check(&c, &PumpCheckInput {
+            measurement: Measurement::Weighed { grams: m(grams), seconds: m(seconds) },
+            flow: Flow::new(m(flow), UNITS[unit]),
+            product: product.into(),
+            strength,
+            target_dose: m(dose),
+            current_setting_percent: None,
+            tolerance: Tolerance::default(),
+        }).unwrap();
+        prop_assert!((check.actual_dose_mg_l - dose).abs() <= 1e-9 * dose, "{} vs {}", check.actual_dose_mg_l, dose);
+        prop_assert!(check.product_l_per_day.is_none());
+    }
+
     /// More flow or more dose never means less chemical.
     #[test]
     fn feed_is_monotonic_in_flow_and_dose(

@@ -66,7 +66,7 @@ fn chlorine_gas_consumes_alkalinity_as_its_hydrolysis_acid() {
         );
         assert!(e.ph_after < e.ph_before, "chlorine gas lowers pH");
         assert!(!keys(&r.cautions).contains(&"give-water-for-ph-effect"));
-        assert!(keys(&r.cautions).contains(&"ph-effect-chlorine-as-fed"));
+        assert!(keys(&r.cautions).contains(&"ph-effect-end-state"));
     }
 }
 
@@ -678,4 +678,146 @@ fn cli_site_supplies_product_strength_and_pump() {
     assert_eq!(j["product"], "sodium-hypochlorite");
     assert!(num(&j, "ph_after") > 7.2);
     assert!(j["feed"]["pump"]["percent"].is_number());
+}
+
+// ---- Breakpoint end state ----
+//
+// Hand derivation from the balanced equations (no PHREEQC): breakpoint is
+// 2 NH4+ + 3 HOCl -> N2 + 3 H2O + 5 H+ + 3 Cl-, i.e. 5/2 H+ per N. Chlorine gas forms each HOCl
+// with one more H+ (Cl2 + H2O -> HOCl + H+ + Cl-): 5/2 + 3/2 = 4 eq per N. A hypochlorite takes
+// one up (OCl- + H+ -> HOCl): 5/2 - 3/2 = 1 eq per N. One eq is 100.087/2 mg CaCO3; one mmol N is
+// 14.007 mg (IUPAC atomic weights, typed here by hand). So 4 × 50.0435 / 14.007 = 14.29 mg/L as
+// CaCO3 per mg/L NH3-N with gas (this confirms Metcalf & Eddy's 14.3, references.md §4 [M]) and
+// 3.57 with hypochlorite. Weiner's "about 11" (references.md §4 [C]) is not confirmed: it is
+// 3 eq per N (10.7), the HCl of NH3 + 1.5 Cl2 -> 0.5 N2 + 3 HCl, which leaves out the proton
+// the ammonium form gives up at any pH below about 9.
+const EQ_CACO3: f64 = 100.087 / 2.0;
+const N: f64 = 14.007;
+const CL2: f64 = 70.906;
+
+#[test]
+fn breakpoint_alkalinity_per_n_follows_the_balanced_reactions() {
+    let c = catalog();
+    for (product, eq_per_n) in [
+        ("chlorine-gas", 4.0),
+        ("sodium-hypochlorite", 1.0),
+        ("calcium-hypochlorite", 1.0),
+    ] {
+        let (per_n, _) = chlorine::breakpoint_alkalinity_per_n(&c, product).unwrap();
+        check(product, per_n, eq_per_n * EQ_CACO3 / N, 0.005);
+    }
+    let (gas, _) = chlorine::breakpoint_alkalinity_per_n(&c, "chlorine-gas").unwrap();
+    check("Metcalf & Eddy 14.3 (references.md §4)", gas, 14.3, 0.05);
+}
+
+/// The end state by charge balance: alkalinity is a proton balance, so it changes by exactly
+/// the protons the reactions release whatever the speciation (the water's charge imbalance is
+/// carried unchanged). After: raw − eq/N × N − (±1 eq per Cl2 of residual still free: gas
+/// releases one, hypochlorite brings one). Expected values are that hand sum.
+#[test]
+fn breakpoint_end_state_alkalinity_is_the_hand_charge_balance() {
+    let c = catalog();
+    let (ammonia, residual, raw_alk) = (2.0, 1.0, 100.0);
+    for (product, eq_per_n, eq_per_cl2) in [
+        ("chlorine-gas", 4.0, -1.0),
+        ("sodium-hypochlorite", 1.0, 1.0),
+    ] {
+        let input = ChlorineInput {
+            ammonia_n: Some(m(ammonia)),
+            ..chlorine_input(0.0, residual)
+        };
+        let r = chlorine::chlorine_dose_in_water(
+            &c,
+            &input,
+            product,
+            &water(7.5, 15.0, raw_alk),
+            PhRange::default(),
+        )
+        .unwrap();
+        let e = r.water.as_ref().unwrap();
+        let want =
+            raw_alk - eq_per_n * ammonia * EQ_CACO3 / N + eq_per_cl2 * residual / CL2 * EQ_CACO3;
+        check(product, e.alkalinity_after_mg_l_as_caco3, want, 0.02);
+        check(
+            "breakpoint alkalinity consumed",
+            r.breakpoint_alkalinity_mg_l_as_caco3.unwrap(),
+            eq_per_n * ammonia * EQ_CACO3 / N,
+            0.01,
+        );
+        assert!(keys(&r.cautions).contains(&"ph-effect-end-state"));
+        assert!(
+            !keys(&r.cautions).contains(&"ph-effect-demand-acid"),
+            "no demand given"
+        );
+    }
+}
+
+/// The end-state pH by hand: a closed carbonate system, bicarbonate over CO2 at pK1' = 6.42
+/// (15 °C, Plummer & Busenberg 1982, from memory; activity left out, which moves both pH the
+/// same way), the carbonate total fixed by the raw pH and alkalinity. Gas, 2 mg/L NH3-N, no
+/// residual: alkalinity 100 → 71.4 mg/L as CaCO3, pH 7.5 → about 6.69.
+#[test]
+fn breakpoint_end_state_ph_matches_a_hand_carbonate_balance() {
+    let c = catalog();
+    let input = ChlorineInput {
+        ammonia_n: Some(m(2.0)),
+        ..chlorine_input(0.0, 0.0)
+    };
+    let r = chlorine::chlorine_dose_in_water(
+        &c,
+        &input,
+        "chlorine-gas",
+        &water(7.5, 15.0, 100.0),
+        PhRange::default(),
+    )
+    .unwrap();
+    let e = r.water.as_ref().unwrap();
+    let pk1 = 6.42;
+    let alk = 100.0 / EQ_CACO3; // meq/L, nearly all bicarbonate at pH 7.5
+    let total = alk * (1.0 + 10f64.powf(pk1 - 7.5));
+    let after = alk - 4.0 * 2.0 / N;
+    let want = pk1 + (after / (total - after)).log10();
+    check("end-state pH (gas)", e.ph_after, want, 0.03);
+    // The same water before breakpoint is not what the operator lives with: as fed, the acid
+    // of the hydrolysis alone would leave the pH far higher.
+    assert!(e.ph_after < 6.8, "{e:?}");
+}
+
+/// The demand's share is counted as free chlorine; the caution says how much more alkalinity
+/// it may take (one proton per Cl2: 50.04/70.906 = 0.706 mg/L as CaCO3 per mg/L, references.md
+/// §4 "0.71" [C]).
+#[test]
+fn breakpoint_with_demand_names_the_acid_still_to_come() {
+    let c = catalog();
+    let input = ChlorineInput {
+        ammonia_n: Some(m(0.5)),
+        ..chlorine_input(2.0, 1.0)
+    };
+    let r = chlorine::chlorine_dose_in_water(
+        &c,
+        &input,
+        "sodium-hypochlorite",
+        &water(7.2, 12.0, 60.0),
+        PhRange::default(),
+    )
+    .unwrap();
+    let caution = r
+        .cautions
+        .iter()
+        .find(|c| c.key == "ph-effect-demand-acid")
+        .expect("demand caution");
+    let more: f64 = caution
+        .params
+        .iter()
+        .find(|(k, _)| k == "more_mg_l")
+        .unwrap()
+        .1
+        .parse()
+        .unwrap();
+    check(
+        "more alkalinity for 2 mg/L demand",
+        more,
+        2.0 * EQ_CACO3 / CL2,
+        0.05,
+    );
 }

@@ -13,7 +13,8 @@ use crate::engine::dosing::NamedTrace;
 use crate::engine::dosing::catalog::{Form, Strength, StrengthBasis};
 use crate::engine::dosing::caution::Caution;
 use crate::engine::dosing::chlorine::{
-    ChlorineInput, chloramination, chlorine_dose, chlorine_dose_in_water,
+    AmmoniaPoint, ChlorineInput, chloramination_with_natural_ammonia, chlorine_dose,
+    chlorine_dose_in_water,
 };
 use crate::engine::dosing::coagulation::{
     Alkali, Coagulant, CoagulationInput, SludgeInput, coagulant_chemical, coagulation_in_water,
@@ -270,6 +271,7 @@ pub(super) fn free_chlorine(c: &Calculators, request: &Request) -> Result<Outcom
         out.results
             .push(result("breakpoint_dose", bp, Q::Concentration, Some("Cl2")));
     }
+    // The end state after breakpoint: what the operator's water is left with.
     if let Some(effect) = &dosed.water {
         out.results
             .push(result("ph_after", effect.ph_after, Q::Ph, None));
@@ -280,20 +282,81 @@ pub(super) fn free_chlorine(c: &Calculators, request: &Request) -> Result<Outcom
             Some("CaCO3"),
         ));
     }
+    // Without the water, the stoichiometric alkalinity the breakpoint takes is still known
+    // from the product chosen.
+    let consumed = match (dosed.breakpoint_alkalinity_mg_l_as_caco3, ammonia_n) {
+        (Some(consumed), _) => Some(consumed),
+        (None, Some(n)) if n.value > 0.0 => {
+            let (per_n, per_n_trace) =
+                chlorine::breakpoint_alkalinity_per_n(&c.catalog, chosen(request)?)?;
+            out.traces
+                .push(NamedTrace::new("breakpoint-alkalinity-ratio", per_n_trace));
+            Some(per_n * n.value)
+        }
+        _ => None,
+    };
+    if let Some(consumed) = consumed {
+        out.results.push(result(
+            "breakpoint_alkalinity_consumed",
+            consumed,
+            Q::AsCaCO3,
+            Some("CaCO3"),
+        ));
+    }
     Ok(out)
 }
 
-/// Chloramination: the ammonia (as N) for the chlorine dose and ratio, then its feed.
+/// Chloramination: the ammonia (as N) for the chlorine dose and ratio, crediting the ammonia
+/// already in the water as the mode's ammonia point allows, then its feed. When the water
+/// already holds what the ratio needs (or no free chlorine reaches a downstream ammonia point)
+/// the dose is 0 and nothing is fed: no feed rate and no setting, a caution says why.
 pub(super) fn chloramine(c: &Calculators, request: &Request) -> Result<Outcome> {
     let chlorine = measured(request, "chlorine-dose")?;
     let ratio = measured(request, "cl2-n-ratio")?;
-    let a = chloramination(&c.catalog, chlorine, ratio)?;
-    let dose = Measured {
-        value: a.ammonia_n_mg_l,
-        sig_figs: combine(chlorine.sig_figs, ratio.sig_figs),
+    let natural = request.get("ammonia-n").map(|value| Measured {
+        value,
+        sig_figs: request.figures("ammonia-n"),
+    });
+    let point = match request.mode {
+        Some("ammonia-after-chlorine") => AmmoniaPoint::AfterChlorine,
+        _ => AmmoniaPoint::WithChlorine,
     };
-    let r = c.feed_for(request, dose)?;
-    c.feed_outcome(&r, a.traces, a.cautions)
+    let a = chloramination_with_natural_ammonia(&c.catalog, chlorine, ratio, natural, point)?;
+    let mut out = if a.ammonia_n_mg_l > 0.0 {
+        let figures = combine(
+            combine(chlorine.sig_figs, ratio.sig_figs),
+            natural.and_then(|n| n.sig_figs),
+        );
+        let dose = Measured {
+            value: a.ammonia_n_mg_l,
+            sig_figs: figures,
+        };
+        let r = c.feed_for(request, dose)?;
+        c.feed_outcome(&r, a.traces.clone(), a.cautions.clone())?
+    } else {
+        let dose_as = c.catalog.product(chosen(request)?)?.dose_as.clone();
+        let mut out = outcome(dose_as.clone());
+        out.results
+            .push(headline("dose", 0.0, Q::Concentration, Some(&dose_as)));
+        out.traces = a.traces.clone();
+        out.cautions = a.cautions.clone();
+        out
+    };
+    if let Some(free) = a.free_chlorine_at_ammonia_mg_l {
+        out.results.push(result(
+            "free_chlorine_at_ammonia_point",
+            free,
+            Q::Concentration,
+            Some("Cl2"),
+        ));
+    }
+    out.results.push(result(
+        "free_ammonia_left",
+        a.free_ammonia_n_mg_l,
+        Q::Concentration,
+        Some("N"),
+    ));
+    Ok(out)
 }
 
 /// Dechlorination: the stoichiometric agent dose for the residual, then its feed.
@@ -719,22 +782,43 @@ fn softened_water(
     water::soften(&with_soda, chemicals.find("lime")?, lime_caoh2_mg_l)
 }
 
-/// Pump cross-check: the dose a drawdown actually delivers and how far it is from the
-/// target, then the setting that would reach the target.
+/// Pump or feeder cross-check: the dose a drawdown (liquid) or a weighed catch (a chemical fed
+/// by mass: a dry feeder's catch, a gas cylinder's scale loss) actually delivers and how far it
+/// is from the target, then the setting that would reach the target.
 pub(super) fn pump_check(c: &Calculators, request: &Request) -> Result<Outcome> {
     let (product, strength) = c.strength(request)?;
-    let r = pumpcheck::pump_check(
-        &c.catalog,
-        &PumpCheckInput {
-            measurement: Measurement::Drawdown {
+    let form = c.catalog.product(&product)?.form;
+    let (measurement, setting, device) = match form {
+        Form::Solution => (
+            Measurement::Drawdown {
                 ml: measured(request, "drawdown-volume")?,
                 seconds: measured(request, "drawdown-time")?,
             },
+            value(request, "pump-setting")?,
+            Device::MeteringPump,
+        ),
+        Form::Gas | Form::Dry => (
+            Measurement::Weighed {
+                grams: measured(request, "catch-mass")?,
+                seconds: measured(request, "catch-time")?,
+            },
+            value(request, "feeder-setting")?,
+            if form == Form::Gas {
+                Device::GasFeeder
+            } else {
+                Device::DryFeeder
+            },
+        ),
+    };
+    let r = pumpcheck::pump_check(
+        &c.catalog,
+        &PumpCheckInput {
+            measurement,
             flow: flow(request)?,
             product: product.clone(),
             strength,
             target_dose: measured(request, "dose")?,
-            current_setting_percent: Some(value(request, "pump-setting")?),
+            current_setting_percent: Some(setting),
             tolerance: Tolerance::default(),
         },
     )?;
@@ -754,23 +838,28 @@ pub(super) fn pump_check(c: &Calculators, request: &Request) -> Result<Outcome> 
         Q::MassPerDay,
         Some(&dose_as),
     ));
-    out.results.push(headline(
-        "product_volume_rate",
-        r.product_l_per_day / 24.0,
-        Q::VolumePerHour,
-        Some("product"),
-    ));
+    match r.product_l_per_day {
+        Some(l_per_day) => out.results.push(headline(
+            "product_volume_rate",
+            l_per_day / 24.0,
+            Q::VolumePerHour,
+            Some("product"),
+        )),
+        None => out.results.push(headline(
+            "product_mass_rate",
+            r.product_kg_per_day,
+            Q::MassPerDay,
+            Some("product"),
+        )),
+    }
     if let Some(percent) = r.suggested_setting_percent {
-        out.results.push(headline(
-            "suggested_pump_setting",
-            percent,
-            Q::Percent,
-            None,
-        ));
-        out.setting = Some(Setting {
-            device: Device::MeteringPump,
-            percent,
-        });
+        let id = if device == Device::MeteringPump {
+            "suggested_pump_setting"
+        } else {
+            "suggested_feeder_setting"
+        };
+        out.results.push(headline(id, percent, Q::Percent, None));
+        out.setting = Some(Setting { device, percent });
     }
     out.traces = r.traces;
     out.cautions = r.cautions;
@@ -879,18 +968,33 @@ pub(super) fn sludge(c: &Calculators, request: &Request) -> Result<Outcome> {
         },
     )?;
     let mut out = outcome("dry solids".into());
+    // Each number says what the solids are counted as (the floc formula).
     out.results.push(headline(
         "solids_concentration",
         r.solids_mg_l,
         Q::Concentration,
-        Some("dry solids"),
+        Some(&r.floc),
     ));
     out.results.push(headline(
         "dry_solids_mass_rate",
         r.dry_solids_kg_per_day,
         Q::MassPerDay,
-        Some("dry solids"),
+        Some(&r.floc),
     ));
+    if let Some(alt) = &r.alternative {
+        out.results.push(result(
+            "alternative_solids_concentration",
+            alt.solids_mg_l,
+            Q::Concentration,
+            Some(&alt.floc),
+        ));
+        out.results.push(result(
+            "alternative_dry_solids_mass_rate",
+            alt.dry_solids_kg_per_day,
+            Q::MassPerDay,
+            Some(&alt.floc),
+        ));
+    }
     out.traces = r.traces;
     out.cautions = r.cautions;
     Ok(out)

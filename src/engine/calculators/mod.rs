@@ -179,6 +179,10 @@ pub enum ProductInputs {
     Feed,
     /// Strength and SG only (a drawdown test needs no pump capacity).
     Strength,
+    /// The product's strength and the field test its form calls for: a liquid's drawdown
+    /// (volume, time, pump setting), a dry or gas feeder's weighed catch (mass, time, feeder
+    /// setting).
+    FieldTest,
 }
 
 /// A titration curve a calculator can draw: x is the titrant in mg/L, y the pH.

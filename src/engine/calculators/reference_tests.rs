@@ -966,7 +966,7 @@ fn with_the_water_given_chlorine_shows_the_ph_and_alkalinity_it_leaves() {
             "{product}"
         );
         let codes = keys(&out);
-        assert!(codes.contains(&"ph-effect-chlorine-as-fed"), "{codes:?}");
+        assert!(codes.contains(&"ph-effect-end-state"), "{codes:?}");
         assert!(!codes.contains(&"give-water-for-ph-effect"), "{codes:?}");
         direct
     };

@@ -136,9 +136,32 @@ pub(super) fn product_inputs(
         FeedForm::Gas => product("gas-feeder-capacity", Q::MassPerDay),
         FeedForm::Dry => product("dry-feeder-capacity", Q::MassPerDay),
     };
+    // A field test measures what the pump or feeder delivers: a volume drawn down for a
+    // liquid, a mass weighed for a chemical fed by mass (a dry feeder's catch, a gas
+    // cylinder's scale loss).
+    let test = match form {
+        FeedForm::Liquid => [
+            read_with(
+                product("drawdown-volume", Q::Millilitres),
+                Instrument::GraduatedColumn,
+            ),
+            read_with(own("drawdown-time", Q::Seconds), Instrument::Stopwatch),
+            product("pump-setting", Q::Percent),
+        ],
+        FeedForm::Gas | FeedForm::Dry => [
+            read_with(product("catch-mass", Q::Grams), Instrument::Scale),
+            read_with(own("catch-time", Q::Seconds), Instrument::Stopwatch),
+            product("feeder-setting", Q::Percent),
+        ],
+    };
     match kind {
         ProductInputs::None => Vec::new(),
         ProductInputs::Strength => strength,
+        ProductInputs::FieldTest => {
+            let mut v = test.to_vec();
+            v.extend(strength);
+            v
+        }
         ProductInputs::Feed => {
             let mut v = strength;
             v.push(scale);
@@ -207,8 +230,10 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[4],
             FEED_RESULTS[5],
             secondary("breakpoint_dose", Q::Concentration),
+            // After breakpoint (end state), when the water is given.
             secondary("ph_after", Q::Ph),
             secondary("alkalinity_after", Q::AsCaCO3),
+            secondary("breakpoint_alkalinity_consumed", Q::AsCaCO3),
         ],
         in_app: true,
         compute: compute::free_chlorine,
@@ -217,7 +242,10 @@ pub static TABLE: [Calculator; 11] = [
     Calculator {
         id: "chloramine",
         group: "chlorination",
-        modes: &[],
+        // Where the ammonia is fed: with the chlorine (the natural ammonia counts toward the
+        // ratio) or downstream after a free-chlorine contact (it is taken through breakpoint
+        // first). See `dosing::chlorine::chloramination_with_natural_ammonia`.
+        modes: &["ammonia-with-chlorine", "ammonia-after-chlorine"],
         inputs: &[
             FLOW,
             limited(
@@ -225,10 +253,21 @@ pub static TABLE: [Calculator; 11] = [
                 "chloramines",
             ),
             own("cl2-n-ratio", Q::Ratio),
+            // Ammonia already in the water.
+            optional(based(water("ammonia-n", Q::Concentration), "N")),
         ],
         product_inputs: ProductInputs::Feed,
         offer: Offer::Feedable(Some(&["N"])),
-        results: &FEED_RESULTS,
+        results: &[
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            FEED_RESULTS[5],
+            secondary("free_chlorine_at_ammonia_point", Q::Concentration),
+            secondary("free_ammonia_left", Q::Concentration),
+        ],
         in_app: true,
         compute: compute::chloramine,
         curve: None,
@@ -328,25 +367,20 @@ pub static TABLE: [Calculator; 11] = [
         id: "pump-check",
         group: "pump-check",
         modes: &[],
-        // A drawdown test needs no pump capacity: the product's strength and SG only.
-        inputs: &[
-            FLOW,
-            own("dose", Q::Concentration),
-            read_with(
-                product("drawdown-volume", Q::Millilitres),
-                Instrument::GraduatedColumn,
-            ),
-            read_with(own("drawdown-time", Q::Seconds), Instrument::Stopwatch),
-            product("pump-setting", Q::Percent),
-        ],
-        product_inputs: ProductInputs::Strength,
-        offer: Offer::Liquids,
+        // A field test needs no pump capacity: what was measured, the setting during the test
+        // and the product's strength (a drawdown for a liquid, a weighed catch for a chemical
+        // fed by mass).
+        inputs: &[FLOW, own("dose", Q::Concentration)],
+        product_inputs: ProductInputs::FieldTest,
+        offer: Offer::Feedable(None),
         results: &[
             headline("actual_dose", Q::Concentration),
             headline("deviation", Q::Percent),
             FEED_RESULTS[1],
             FEED_RESULTS[2],
+            FEED_RESULTS[3],
             headline("suggested_pump_setting", Q::Percent),
+            headline("suggested_feeder_setting", Q::Percent),
         ],
         in_app: true,
         compute: compute::pump_check,
@@ -432,6 +466,9 @@ pub static TABLE: [Calculator; 11] = [
         results: &[
             headline("solids_concentration", Q::Concentration),
             headline("dry_solids_mass_rate", Q::MassPerDay),
+            // Iron: the published alternative basis (hydrated floc, 2.9 × Fe) beside 1.9 × Fe.
+            secondary("alternative_solids_concentration", Q::Concentration),
+            secondary("alternative_dry_solids_mass_rate", Q::MassPerDay),
         ],
         in_app: false,
         compute: compute::sludge,

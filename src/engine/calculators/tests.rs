@@ -384,7 +384,8 @@ fn ct_from_a_tracer_t10_and_from_a_basin_agree_by_hand() {
 }
 
 /// 12.5 trade % hypochlorite is 125 g/L of available chlorine; 100 L at 1.25 trade % needs
-/// 12.5 kg of it, so 10 L of the concentrate and 90 L of water (trade % is per volume).
+/// 12.5 kg of it, so 10 L of the concentrate (trade % is per volume). The water by mass (hand
+/// balance): 100 L × 1.02 − 10 L × 1.16 = 102 − 11.6 = 90.4 kg, so 90.4 L, not 90.
 #[test]
 fn dilution_of_a_trade_strength_by_hand() {
     let out = calculators()
@@ -395,8 +396,7 @@ fn dilution_of_a_trade_strength_by_hand() {
                 ("strength", 12.5),
                 ("specific-gravity", 1.16),
                 ("target-strength", 1.25),
-                // About the SG of a 1.25 trade % solution (common practice; the volumes do not
-                // depend on it for a strength per volume).
+                // About the SG of a 1.25 trade % solution (common practice).
                 ("target-specific-gravity", 1.02),
                 ("final-volume", 100.0),
             ],
@@ -404,7 +404,57 @@ fn dilution_of_a_trade_strength_by_hand() {
         .unwrap();
     check_listed(&out);
     assert!((out.result("concentrate_volume").unwrap().value - 10.0).abs() < 1e-9);
-    assert!((out.result("water_volume").unwrap().value - 90.0).abs() < 1e-9);
+    assert!((out.result("water_volume").unwrap().value - 90.4).abs() < 1e-9);
+}
+
+/// The case, a hand mass balance: 50 % caustic (SG 1.52, references.md §6 [C]) to 25 %
+/// (SG 1.27, references.md §6 [M], used here only as the typed target), 100 L. The batch weighs
+/// 100 × 1.27 = 127 kg and holds 31.75 kg NaOH, i.e. 63.5 kg of 50 % concentrate (41.78 L);
+/// the water is 127 − 63.5 = 63.5 kg, 63.5 L — adding volumes would say 58.2 L.
+#[test]
+fn dilution_of_caustic_balances_masses_not_volumes() {
+    let out = calculators()
+        .compute(&request(
+            "dilution",
+            Some("sodium-hydroxide"),
+            &[
+                ("strength", 50.0),
+                ("specific-gravity", 1.52),
+                ("target-strength", 25.0),
+                ("target-specific-gravity", 1.27),
+                ("final-volume", 100.0),
+            ],
+        ))
+        .unwrap();
+    check_listed(&out);
+    let conc = out.result("concentrate_volume").unwrap().value;
+    assert!((conc - 63.5 / 1.52).abs() < 1e-9, "{conc}");
+    let water = out.result("water_volume").unwrap().value;
+    assert!((water - 63.5).abs() < 1e-9, "{water}");
+    // The heat of dilution: water first, chemical into it, slowly.
+    assert!(
+        out.cautions
+            .iter()
+            .any(|c| c.key == "add-chemical-to-water")
+    );
+    // A target SG that makes the batch lighter than its concentrate (possible only on a
+    // per-volume basis: 10 trade % at SG 0.9 from 12.5 trade % at 1.16) is refused, never
+    // printed as a negative volume.
+    let e = calculators()
+        .compute(&request(
+            "dilution",
+            Some("sodium-hypochlorite"),
+            &[
+                ("strength", 12.5),
+                ("specific-gravity", 1.16),
+                ("target-strength", 10.0),
+                ("target-specific-gravity", 0.9),
+                ("final-volume", 100.0),
+            ],
+        ))
+        .unwrap_err();
+    // (A plausibility check of SG against strength may refuse it first, with its own reason.)
+    assert!(e.reason().is_some(), "{e}");
 }
 
 /// The dry solids per day are the solids concentration carried by the day's flow:
@@ -423,6 +473,322 @@ fn sludge_mass_is_its_concentration_times_the_flow() {
     let kg_d = out.result("dry_solids_mass_rate").unwrap().value;
     assert!(mg_l > 10.0, "the raw solids are part of it: {mg_l}");
     assert!((kg_d - mg_l * 8000.0 / 1000.0).abs() < 1e-9 * kg_d);
+}
+
+// ---- Chloramination with ammonia already in the water ----
+//
+// Hand figures: monochloramine 1:1 molar is 70.906/14.007 = 5.06 Cl2:N; breakpoint
+// 2 NH3 : 3 Cl2 is 3 × 70.906 / (2 × 14.007) = 7.593 (IUPAC atomic weights, typed by hand).
+
+const AQUA_AMMONIA: [(&str, f64); 3] = [
+    ("strength", 19.0),
+    ("specific-gravity", 0.93),
+    ("pump-capacity", 10.0),
+];
+
+fn chloramine(mode: &'static str, values: &[(&'static str, f64)]) -> Result<Outcome> {
+    let mut r = request(
+        "chloramine",
+        Some("aqua-ammonia"),
+        &with(&with(&[("flow", 5000.0)], values), &AQUA_AMMONIA),
+    );
+    r.mode = Some(mode);
+    calculators().compute(&r)
+}
+
+fn value_of(out: &Outcome, id: &str) -> f64 {
+    out.result(id)
+        .unwrap_or_else(|| panic!("{id} absent"))
+        .value
+}
+
+fn has(out: &Outcome, key: &str) -> bool {
+    out.cautions.iter().any(|c| c.key == key)
+}
+
+/// The plant: 3.3 mg/L Cl2 at 4.5:1 with 0.2 mg/L NH3-N in the water, ammonia fed with
+/// the chlorine: 3.3/4.5 − 0.2 = 0.533 mg/L N (not 1.07).
+#[test]
+fn chloramine_with_chlorine_credits_the_natural_ammonia() {
+    let out = chloramine(
+        "ammonia-with-chlorine",
+        &[
+            ("chlorine-dose", 3.3),
+            ("cl2-n-ratio", 4.5),
+            ("ammonia-n", 0.2),
+        ],
+    )
+    .unwrap();
+    check_listed(&out);
+    assert!((value_of(&out, "dose") - (3.3 / 4.5 - 0.2)).abs() < 1e-9);
+    assert!(has(&out, "natural-ammonia-credited"));
+    // 0.733 N in all, 3.3/5.06 = 0.652 of it combined: 0.081 free, below the caution's 0.1.
+    assert!(
+        (value_of(&out, "free_ammonia_left") - (3.3 / 4.5 - 3.3 * 14.007 / 70.906)).abs() < 1e-3
+    );
+    assert!(!has(&out, "free-ammonia-nitrification"));
+    // Without natural ammonia the mode changes nothing: C / R.
+    let plain = chloramine(
+        "ammonia-with-chlorine",
+        &[("chlorine-dose", 3.3), ("cl2-n-ratio", 4.5)],
+    )
+    .unwrap();
+    assert!((value_of(&plain, "dose") - 3.3 / 4.5).abs() < 1e-9);
+}
+
+/// Chlorine first, ammonia downstream: the natural 0.2 mg/L N takes 0.2 × 7.593 = 1.519 mg/L
+/// of the chlorine through breakpoint; feeding 3.0 + 1.519 leaves 3.0 free at the ammonia
+/// point, which is fed 3.0/4.5 = 0.667 mg/L N (the downstream figure).
+#[test]
+fn chloramine_downstream_feeds_on_the_free_chlorine_left_after_breakpoint() {
+    let bp = 3.0 * 70.906 / (2.0 * 14.007);
+    let out = chloramine(
+        "ammonia-after-chlorine",
+        &[
+            ("chlorine-dose", 3.0 + 0.2 * bp),
+            ("cl2-n-ratio", 4.5),
+            ("ammonia-n", 0.2),
+        ],
+    )
+    .unwrap();
+    check_listed(&out);
+    assert!((value_of(&out, "free_chlorine_at_ammonia_point") - 3.0).abs() < 1e-3);
+    assert!((value_of(&out, "dose") - 3.0 / 4.5).abs() < 1e-3);
+    assert!(has(&out, "natural-ammonia-broken-first"));
+    assert!(out.setting.is_some());
+}
+
+/// When the water already holds what the ratio needs, or the chlorine cannot pass breakpoint
+/// on it before a downstream ammonia point, nothing is fed: dose 0, no feed rate, no setting,
+/// and a caution says why; the free ammonia left is named (nitrification).
+#[test]
+fn chloramine_feeds_nothing_when_the_natural_ammonia_suffices() {
+    let out = chloramine(
+        "ammonia-with-chlorine",
+        &[
+            ("chlorine-dose", 1.0),
+            ("cl2-n-ratio", 4.5),
+            ("ammonia-n", 0.5),
+        ],
+    )
+    .unwrap();
+    check_listed(&out);
+    assert_eq!(value_of(&out, "dose"), 0.0);
+    assert!(out.result("feed_mass_rate").is_none() && out.setting.is_none());
+    assert!(has(&out, "natural-ammonia-covers-ratio"));
+    // 0.5 − 1.0 × 14.007/70.906 = 0.30 mg/L N left free.
+    assert!((value_of(&out, "free_ammonia_left") - (0.5 - 14.007 / 70.906)).abs() < 1e-3);
+    assert!(has(&out, "free-ammonia-nitrification"));
+    let short = chloramine(
+        "ammonia-after-chlorine",
+        &[
+            ("chlorine-dose", 1.0),
+            ("cl2-n-ratio", 4.5),
+            ("ammonia-n", 0.5),
+        ],
+    )
+    .unwrap();
+    assert_eq!(value_of(&short, "dose"), 0.0);
+    assert_eq!(value_of(&short, "free_chlorine_at_ammonia_point"), 0.0);
+    assert!(has(&short, "chlorine-short-of-natural-breakpoint"));
+}
+
+// ---- Breakpoint end state through the table ----
+
+/// Free chlorine with ammonia and the water: pH and alkalinity are the end state after
+/// breakpoint, and the stoichiometric alkalinity the breakpoint takes is listed: 4 eq per N
+/// for chlorine gas, 1 for hypochlorite (hand derivation, see tests/engine/dosing_water.rs),
+/// 1 mg/L N × 4 × 50.0435/14.007 = 14.29 and 3.57 mg/L as CaCO3.
+#[test]
+fn free_chlorine_reports_the_breakpoint_end_state() {
+    let water = [
+        ("flow", 5000.0),
+        ("chlorine-demand", 0.0),
+        ("residual-target", 1.0),
+        ("ammonia-n", 1.0),
+        ("ph", 7.6),
+        ("alkalinity", 80.0),
+        ("temperature", 15.0),
+    ];
+    for (product, form, eq) in [
+        (
+            "chlorine-gas",
+            vec![("purity", 100.0), ("gas-feeder-capacity", 100.0)],
+            4.0,
+        ),
+        ("sodium-hypochlorite", LIQUID.to_vec(), 1.0),
+    ] {
+        let out = calculators()
+            .compute(&request(
+                "free-chlorine",
+                Some(product),
+                &with(&water, &form),
+            ))
+            .unwrap();
+        check_listed(&out);
+        let consumed = value_of(&out, "breakpoint_alkalinity_consumed");
+        assert!(
+            (consumed - eq * 100.087 / 2.0 / 14.007).abs() < 0.01,
+            "{product}: {consumed}"
+        );
+        // The end state: raw − breakpoint − (±) the residual still free (1 mg/L Cl2: ∓0.706).
+        let residual = if eq > 1.0 { -1.0 } else { 1.0 } * 100.087 / 2.0 / 70.906;
+        let after = value_of(&out, "alkalinity_after");
+        assert!(
+            (after - (80.0 - consumed + residual)).abs() < 0.02,
+            "{product}: {after}"
+        );
+        assert!(has(&out, "ph-effect-end-state"));
+        assert!(value_of(&out, "ph_after") < 7.6, "{product}");
+        // Without the water no pH, but the stoichiometric alkalinity is still the product's.
+        let no_water: Vec<(&'static str, f64)> = with(&water, &form)
+            .into_iter()
+            .filter(|(n, _)| *n != "ph")
+            .collect();
+        let out = calculators()
+            .compute(&request("free-chlorine", Some(product), &no_water))
+            .unwrap();
+        assert!(out.result("ph_after").is_none());
+        assert!((value_of(&out, "breakpoint_alkalinity_consumed") - consumed).abs() < 1e-9);
+    }
+}
+
+// ---- Dry and gas feeders in the cross-check ----
+
+/// A hydrated-lime feeder's catch, by hand: 150 g in 60 s is 2.5 g/s = 216 kg/d of product;
+/// at 95 % purity 205.2 kg/d Ca(OH)2; over 5000 m³/d that is 41.04 mg/L. Target 40: +2.6 %,
+/// and the feeder at 40 % should go to 40 × 40/41.04 = 38.99 %.
+#[test]
+fn dry_feeder_catch_test_by_hand() {
+    let out = calculators()
+        .compute(&request(
+            "pump-check",
+            Some("hydrated-lime"),
+            &[
+                ("flow", 5000.0),
+                ("dose", 40.0),
+                ("catch-mass", 150.0),
+                ("catch-time", 60.0),
+                ("feeder-setting", 40.0),
+                ("purity", 95.0),
+            ],
+        ))
+        .unwrap();
+    check_listed(&out);
+    let actual = 150.0 / 60.0 * 86.4 * 0.95 * 1000.0 / 5000.0;
+    assert!((value_of(&out, "actual_dose") - actual).abs() < 1e-9);
+    assert!((value_of(&out, "deviation") - (actual - 40.0) / 40.0 * 100.0).abs() < 1e-9);
+    assert!((value_of(&out, "product_mass_rate") - 216.0).abs() < 1e-9);
+    assert!((value_of(&out, "feed_mass_rate") - 205.2).abs() < 1e-9);
+    assert!((value_of(&out, "suggested_feeder_setting") - 40.0 * 40.0 / actual).abs() < 1e-9);
+    assert!(out.result("product_volume_rate").is_none());
+    assert_eq!(out.setting.unwrap().device, Device::DryFeeder);
+    // The inputs a dry product asks for: the catch, not a drawdown.
+    let names: Vec<&str> = calculators()
+        .inputs(find("pump-check").unwrap(), Some("hydrated-lime"))
+        .iter()
+        .map(|i| i.name)
+        .collect();
+    assert!(
+        names.contains(&"catch-mass") && !names.contains(&"drawdown-volume"),
+        "{names:?}"
+    );
+}
+
+/// A gas feeder checked by the cylinder's scale loss: 1.2 kg lost in 2 h is 14.4 kg/d of
+/// chlorine (100 % purity); over 5000 m³/d that is 2.88 mg/L.
+#[test]
+fn gas_feeder_scale_loss_by_hand() {
+    let out = calculators()
+        .compute(&request(
+            "pump-check",
+            Some("chlorine-gas"),
+            &[
+                ("flow", 5000.0),
+                ("dose", 3.0),
+                ("catch-mass", 1200.0),
+                ("catch-time", 7200.0),
+                ("feeder-setting", 50.0),
+                ("purity", 100.0),
+            ],
+        ))
+        .unwrap();
+    check_listed(&out);
+    assert!((value_of(&out, "actual_dose") - 2.88).abs() < 1e-9);
+    assert_eq!(out.setting.unwrap().device, Device::GasFeeder);
+}
+
+// ---- Sludge: the basis of each coefficient, and the alternative ----
+
+/// Ferric chloride, 40 mg/L as FeCl3, 8000 m³/d. Published basis bare Fe(OH)3 (1.9 × Fe):
+/// 40 × 106.867/162.20 = 26.35 mg/L. Alternative, hydrated floc Fe(OH)3·3H2O (2.9 × Fe):
+/// 40 × 160.91/162.20 = 39.68 mg/L (molar masses by hand from IUPAC atomic weights).
+#[test]
+fn ferric_sludge_names_its_basis_and_shows_the_alternative() {
+    let out = calculators()
+        .compute(&request(
+            "sludge",
+            Some("ferric-chloride"),
+            &[("flow", 8000.0), ("dose", 40.0)],
+        ))
+        .unwrap();
+    check_listed(&out);
+    let primary = out.result("solids_concentration").unwrap();
+    assert!(
+        (primary.value - 40.0 * 106.867 / 162.204).abs() < 0.02,
+        "{primary:?}"
+    );
+    assert_eq!(primary.basis.as_deref(), Some("Fe(OH)3"));
+    let alt = out.result("alternative_solids_concentration").unwrap();
+    assert!(
+        (alt.value - 40.0 * 160.913 / 162.204).abs() < 0.02,
+        "{alt:?}"
+    );
+    assert_eq!(alt.basis.as_deref(), Some("Fe(OH)3·3H2O"));
+    assert!(
+        (value_of(&out, "alternative_dry_solids_mass_rate") - alt.value * 8000.0 / 1000.0).abs()
+            < 1e-9
+    );
+    assert!(has(&out, "sludge-basis") && has(&out, "sludge-basis-alternative"));
+}
+
+/// Alum: the published 0.44 × alum dose is the hydrated floc, 2 Al(OH)3·3H2O per
+/// Al2(SO4)3·14H2O: 2 × 132.05 / 594.4 = 0.444 (hand). No alternative is printed for alum.
+#[test]
+fn alum_sludge_is_the_hydrated_floc_without_an_alternative() {
+    let out = calculators()
+        .compute(&request(
+            "sludge",
+            Some("alum-liquid"),
+            &[("flow", 8000.0), ("dose", 30.0)],
+        ))
+        .unwrap();
+    let primary = out.result("solids_concentration").unwrap();
+    assert!(
+        (primary.value / 30.0 - 2.0 * 132.049 / 594.4).abs() < 0.001,
+        "{primary:?}"
+    );
+    assert_eq!(primary.basis.as_deref(), Some("Al(OH)3·3H2O"));
+    assert!(out.result("alternative_solids_concentration").is_none());
+}
+
+/// The per-metal factors from molar masses against the published coefficients (references.md
+/// §5, Cornwell / AWWA 1987 [M]: 1.9 × Fe, some editions 2.9 × Fe): Fe(OH)3/Fe = 1.914,
+/// Fe(OH)3·3H2O/Fe = 2.881.
+#[test]
+fn sludge_factors_per_iron_match_the_published_pair() {
+    use crate::engine::dosing::coagulation::{Coagulant, Floc, floc_per_metal};
+    let c = calculators();
+    let bare = floc_per_metal(c.catalog(), Coagulant::FerricChloride, Floc::Bare).unwrap();
+    let hydrated = floc_per_metal(c.catalog(), Coagulant::FerricChloride, Floc::Hydrated).unwrap();
+    assert!(
+        (bare - 106.867 / 55.845).abs() < 1e-3 && (bare - 1.9).abs() < 0.05,
+        "{bare}"
+    );
+    assert!(
+        (hydrated - 160.913 / 55.845).abs() < 1e-3 && (hydrated - 2.9).abs() < 0.05,
+        "{hydrated}"
+    );
 }
 
 /// One range case: the result `id` of `r` lies in `low..=high` (each to 0.1 %), derived by hand

@@ -9,15 +9,33 @@
 //! alkalinity effect of the chlorine product comes from the water engine when the operator
 //! gives the water ([`chlorine_dose_in_water`]): chlorine gas releases acid, hypochlorites
 //! release base, and only the equilibrium model says how far the pH moves in a given water.
+//!
+//! Breakpoint end state: with ammonia in the water, the pH and alkalinity reported are those
+//! the operator lives with after the reaction, not those of the chlorine as fed. The water
+//! engine takes the raw water with its ammonia (at the measured pH and alkalinity), adds the
+//! chlorine product, then runs the balanced breakpoint reaction
+//! 2 NH4⁺ + 3 HOCl → N2 + 3 H2O + 5 H⁺ + 3 Cl⁻ (`breakpoint-ammonium-hypochlorous` in
+//! `data/reactions.json`) to the ammonia's extent, and solves the carbonate equilibrium
+//! again. The stoichiometric alkalinity consumed per mg/L NH3-N is derived beside it
+//! ([`breakpoint_alkalinity_per_n`]) from the same reaction and the product's own dissolution:
+//! chlorine gas releases a proton per HOCl it forms (`chlorine-hydrolysis`), a hypochlorite
+//! takes one up (`hypochlorite-protonation`), so gas consumes 4 equivalents per N (about 14.3
+//! mg/L as CaCO3 per mg/L N) and hypochlorite 1 (about 3.57). The chlorine that meets the
+//! other demand is counted as still free: what the demand turns it into is not known, and a
+//! caution says how much more alkalinity it may take.
+//!
+//! Chloramination with ammonia already in the water ([`chloramination_with_natural_ammonia`]):
+//! where the ammonia is fed decides what the natural ammonia is worth (see that function).
 
 use super::NamedTrace;
 use super::catalog::{Catalog, molar_mass};
 use super::caution::{Caution, finish};
-use super::waterside::{PhRange, WaterEffect, product_effect};
+use super::waterside::{PhRange, WaterEffect, compound_for_chlorine, water_chemical};
 use crate::engine::formula::Formula;
+use crate::engine::reaction::{Reaction, Side};
 use crate::engine::sigfig::Measured;
 use crate::engine::trace::{Origin, Quantity, Trace};
-use crate::engine::water::WaterState;
+use crate::engine::water::{Precipitation, WaterState};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::Serialize;
 
@@ -104,6 +122,116 @@ pub fn chlorine_per_ammonia_n(catalog: &Catalog, reaction: &str) -> Result<(f64,
     Ok((t.value(), t))
 }
 
+/// Protons released per HOCl that the free chlorine of `chemical` forms, from its balanced
+/// dissolution reaction: each H⁺ it releases counts +1, each OH⁻ −1, and each OCl⁻ takes up
+/// the protons of `hypochlorite-protonation` (OCl⁻ + H⁺ → HOCl) to become HOCl. Chlorine gas:
+/// +1; sodium or calcium hypochlorite: −1.
+fn protons_per_hocl(catalog: &Catalog, chemical: &crate::engine::water::Chemical) -> Result<f64> {
+    let dissolution = Reaction::balance(&chemical.dissolution)?;
+    let protonation = catalog.reaction("hypochlorite-protonation")?;
+    let per_ocl = protonation.mole_ratio("OCl-", "H+")?;
+    let per_ocl = *per_ocl.numer() as f64 / *per_ocl.denom() as f64;
+    let [h, oh, ocl, hocl] = ["H+", "OH-", "OCl-", "HOCl"].map(Formula::parse);
+    let (h, oh, ocl, hocl) = (h?, oh?, ocl?, hocl?);
+    let (mut protons, mut free) = (0.0, 0.0);
+    for s in dissolution
+        .species()
+        .iter()
+        .filter(|s| s.side == Side::Product)
+    {
+        let n = s.coefficient as f64;
+        if s.formula.same_composition(&h) {
+            protons += n;
+        } else if s.formula.same_composition(&oh) {
+            protons -= n;
+        } else if s.formula.same_composition(&ocl) {
+            protons -= n * per_ocl;
+            free += n;
+        } else if s.formula.same_composition(&hocl) {
+            free += n;
+        }
+    }
+    if free <= 0.0 {
+        return Err(Error::new(
+            ErrorKind::InvalidInput,
+            format!("{} releases no free chlorine", chemical.id),
+        )
+        .because("product-not-for-calculator")
+        .with("chemical", &chemical.id));
+    }
+    Ok(protons / free)
+}
+
+/// Alkalinity consumed (mg/L as CaCO3) per mg/L NH3-N taken through breakpoint by the chlorine
+/// product `product` (a dosing-catalog id), derived from balanced reactions only: the protons
+/// the breakpoint reaction releases per NH4⁺ (5/2), plus the HOCl it consumes per NH4⁺ (3/2)
+/// times the protons the product releases forming each HOCl ([`protons_per_hocl`]), one
+/// equivalent of alkalinity per proton, as CaCO3 through its equivalent weight. Ammonia is
+/// taken as NH4⁺, its form at any pH below about 9 (pKa 9.25).
+pub fn breakpoint_alkalinity_per_n(catalog: &Catalog, product: &str) -> Result<(f64, Trace)> {
+    let p = catalog.product(product)?;
+    let chemical = water_chemical(&p.compound)?;
+    let h_per_hocl = protons_per_hocl(catalog, chemical)?;
+    let bp = catalog.reaction("breakpoint-ammonium-hypochlorous")?;
+    let ratio = |to: &str| -> Result<f64> {
+        let r = bp.mole_ratio("NH4+", to)?;
+        Ok(*r.numer() as f64 / *r.denom() as f64)
+    };
+    let eq_per_nh4 = ratio("H+")? + ratio("HOCl")? * h_per_hocl;
+    let mut t = Trace::new(Quantity::of(1.0, "mg/L", "N"), Origin::Measured, None);
+    let (m_n, s_n) = molar_mass("N")?;
+    t.then(
+        Quantity::of(1.0, "mmol/L", "N"),
+        Quantity::of(m_n, "mg/L", "N"),
+        Origin::MolarMass {
+            formula: "N".into(),
+        },
+        s_n,
+    )?;
+    let nh4 = Formula::parse("NH4+")?;
+    t.then(
+        Quantity::of(1.0, "mmol/L", "NH4+"),
+        Quantity::of(nh4.count("N") as f64, "mmol/L", "N"),
+        Origin::MolarMass {
+            formula: "NH4+".into(),
+        },
+        None,
+    )?;
+    t.then(
+        Quantity::of(eq_per_nh4, "meq/L", "alkalinity"),
+        Quantity::of(1.0, "mmol/L", "NH4+"),
+        Origin::MoleRatio {
+            reaction: format!("{bp}; {}", chemical.dissolution),
+        },
+        None,
+    )?;
+    let co3 = Formula::parse("CO3^2-")?;
+    let (m_caco3, s_caco3) = molar_mass("CaCO3")?;
+    t.then(
+        Quantity::of(
+            m_caco3 / co3.charge().unsigned_abs() as f64,
+            "mg/L",
+            "CaCO3",
+        ),
+        Quantity::of(1.0, "meq/L", "alkalinity"),
+        Origin::MolarMass {
+            formula: "CaCO3".into(),
+        },
+        s_caco3,
+    )?;
+    Ok((t.value(), t))
+}
+
+/// Alkalinity (mg/L as CaCO3) that one more proton per mg/L of Cl2 would take: what the
+/// chlorine meeting a demand may still consume if it ends as chloride (HOCl → H⁺ + Cl⁻ once
+/// reduced; the reductant's own acid–base change is not counted). About 0.71.
+fn demand_alkalinity_per_cl2() -> Result<f64> {
+    let (m_cl2, _) = molar_mass("Cl2")?;
+    let (m_caco3, _) = molar_mass("CaCO3")?;
+    let co3 = Formula::parse("CO3^2-")?;
+    Ok(m_caco3 / co3.charge().unsigned_abs() as f64 / m_cl2)
+}
+
 /// Inputs for [`chlorine_dose`].
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct ChlorineInput {
@@ -128,6 +256,9 @@ pub struct ChlorineResult {
     pub dose_practice_mg_l: Option<(f64, f64)>,
     /// Cl2:NH3-N mass ratio at breakpoint, derived from the balanced reaction (about 7.6).
     pub breakpoint_ratio: f64,
+    /// Alkalinity the breakpoint reaction consumes with the product fed, mg/L as CaCO3
+    /// (stoichiometric; with the water given, only then, as the product is known).
+    pub breakpoint_alkalinity_mg_l_as_caco3: Option<f64>,
     /// The parts of the dose, in mg/L as Cl2, so the sum can be shown term by term.
     pub dose_terms: Vec<(String, f64)>,
     /// The chlorine product whose effect on the water was calculated (dosing catalog id).
@@ -209,6 +340,7 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
         breakpoint_practice_mg_l: practice,
         dose_practice_mg_l: practice.map(|(lo, hi)| (lo + base, hi + base)),
         breakpoint_ratio: ratio,
+        breakpoint_alkalinity_mg_l_as_caco3: None,
         dose_terms: terms,
         product: None,
         water: None,
@@ -218,9 +350,13 @@ pub fn chlorine_dose(catalog: &Catalog, input: &ChlorineInput) -> Result<Chlorin
 }
 
 /// [`chlorine_dose`] plus the effect of feeding that dose as `product` (a dosing-catalog id
-/// dosed as Cl2: chlorine gas, sodium or calcium hypochlorite) on the operator's water: pH and
-/// alkalinity after, from the water engine, and a `ph-outside-range` warning outside
-/// `ph_range`. The chlorine is taken as still free (HOCl/OCl⁻, not yet reduced by the demand).
+/// dosed as Cl2: chlorine gas, sodium or calcium hypochlorite) on the operator's water, as the
+/// end state: the raw water with its ammonia (`input.ammonia_n`, at the measured pH and
+/// alkalinity), the product added, the ammonia taken through the balanced breakpoint reaction
+/// to N2, the carbonate equilibrium solved again; a `ph-outside-range` warning outside
+/// `ph_range`. The chlorine beyond breakpoint (demand and residual) is counted as still free
+/// (HOCl/OCl⁻); the `ph-effect-demand-acid` caution says how much more alkalinity the demand
+/// may take if it reduces its share to chloride.
 pub fn chlorine_dose_in_water(
     catalog: &Catalog,
     input: &ChlorineInput,
@@ -238,17 +374,69 @@ pub fn chlorine_dose_in_water(
         .because("product-not-for-calculator")
         .with("product", &p.id));
     }
-    let (effect, range_cautions, trace) =
-        product_effect(catalog, &p.id, r.dose_mg_l, water, ph_range)?;
+    let chemical = water_chemical(&p.compound)?;
+    let (compound, compound_trace) = compound_for_chlorine(chemical, Measured::exact(r.dose_mg_l))?;
+    let ammonia = input.ammonia_n.map_or(0.0, |n| n.value);
+    let raw = if ammonia > 0.0 {
+        water.with_ammonia_as_n(ammonia)?
+    } else {
+        water.clone()
+    };
+    let fed = raw.dosed(chemical, compound, Precipitation::None)?;
+    let mut traces = std::mem::take(&mut r.traces);
+    traces.push(NamedTrace::new("chlorine-as-compound", compound_trace));
+    let end = if ammonia > 0.0 {
+        let (m_n, _) = molar_mass("N")?;
+        let bp = catalog.reaction("breakpoint-ammonium-hypochlorous")?;
+        let (per_n, per_n_trace) = breakpoint_alkalinity_per_n(catalog, &p.id)?;
+        let mut consumed = Trace::new(
+            Quantity::of(ammonia, "mg/L", "N"),
+            Origin::Measured,
+            input.ammonia_n.and_then(|n| n.sig_figs),
+        );
+        consumed.then(
+            Quantity::of(per_n, "mg/L", "CaCO3"),
+            Quantity::of(1.0, "mg/L", "N"),
+            Origin::MoleRatio {
+                reaction: bp.to_string(),
+            },
+            None,
+        )?;
+        r.breakpoint_alkalinity_mg_l_as_caco3 = Some(consumed.value());
+        traces.push(NamedTrace::new("breakpoint-alkalinity-ratio", per_n_trace));
+        traces.push(NamedTrace::new("breakpoint-alkalinity", consumed));
+        fed.reacted(&bp, "NH4+", ammonia / m_n)?
+    } else {
+        fed
+    };
+    let before_alk = raw.alkalinity_mg_l_as_caco3();
+    let after_alk = end.alkalinity_mg_l_as_caco3();
+    let effect = WaterEffect {
+        chemical: chemical.id.clone(),
+        compound_mg_l: compound,
+        ph_before: raw.ph(),
+        ph_after: end.ph(),
+        alkalinity_before_mg_l_as_caco3: before_alk,
+        alkalinity_after_mg_l_as_caco3: after_alk,
+        alkalinity_change_mg_l_as_caco3: after_alk - before_alk,
+        langelier_index_after: crate::engine::water::stability(&end)
+            .ok()
+            .and_then(|s| s.langelier_index),
+    };
     let mut cautions: Vec<Caution> = r
         .cautions
         .into_iter()
         .filter(|c| c.key != "give-water-for-ph-effect")
         .collect();
-    cautions.extend(range_cautions);
-    // The engine's numbers are for the chlorine as fed; the demand and ammonia reactions that
-    // follow change the pH again, and the operator should know the number is not the tap's.
-    cautions.push(Caution::info("ph-effect-chlorine-as-fed"));
+    cautions.extend(ph_range.check(effect.ph_after));
+    // What the numbers are: the end state after breakpoint, the rest of the chlorine free.
+    cautions.push(Caution::info("ph-effect-end-state"));
+    if input.demand.value > 0.0 {
+        cautions.push(Caution::info("ph-effect-demand-acid").with(
+            "more_mg_l",
+            format!("{:.1}", input.demand.value * demand_alkalinity_per_cl2()?),
+        ));
+    }
     if effect.alkalinity_after_mg_l_as_caco3 < 0.0 {
         cautions.push(
             Caution::danger("alkalinity-exhausted")
@@ -262,44 +450,167 @@ pub fn chlorine_dose_in_water(
                 ),
         );
     }
-    r.traces
-        .extend(trace.map(|t| NamedTrace::new("chlorine-as-compound", t)));
+    r.traces = traces;
     r.product = Some(p.id.clone());
     r.water = Some(effect);
     r.cautions = finish(cautions);
     Ok(r)
 }
 
+/// Where the ammonia is fed relative to the chlorine: what the ammonia already in the water is
+/// worth depends on it (see [`chloramination_with_natural_ammonia`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum AmmoniaPoint {
+    /// Ammonia fed with the chlorine (or ahead of it): all the ammonia meets the chlorine at
+    /// once, the natural ammonia counts toward the ratio.
+    WithChlorine,
+    /// Chlorine first, a free-chlorine contact, ammonia fed downstream: the natural ammonia is
+    /// taken through breakpoint by the chlorine before the ammonia point.
+    AfterChlorine,
+}
+
+/// Free ammonia (mg/L as N) above which a caution names the nitrification risk. Common
+/// practice (utilities running chloramines commonly aim at or below about 0.1 mg/L free
+/// ammonia-N entering the distribution system; AWWA Manual M56, from memory).
+pub const FREE_AMMONIA_CAUTION_MG_L: f64 = 0.1;
+
 /// Result of [`chloramination`].
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct ChloramineResult {
     pub chlorine_mg_l: f64,
     pub ratio: f64,
-    /// Ammonia to add, mg/L as N.
+    /// Ammonia to add, mg/L as N (0 when the water already holds what the ratio needs).
     pub ammonia_n_mg_l: f64,
     /// Same, as mg/L NH3.
     pub ammonia_nh3_mg_l: f64,
     /// Cl2:NH3-N mass ratio of 1:1 molar monochloramine, derived (about 5.06).
     pub theoretical_ratio: f64,
+    /// Ammonia already in the water, mg/L as N (0 when not given).
+    pub natural_ammonia_n_mg_l: f64,
+    pub point: AmmoniaPoint,
+    /// Chlorine the natural ammonia takes through breakpoint before a downstream ammonia
+    /// point, mg/L as Cl2 (`AfterChlorine` with natural ammonia only).
+    pub natural_breakpoint_mg_l: Option<f64>,
+    /// Free chlorine reaching a downstream ammonia point, mg/L as Cl2 (`AfterChlorine` only).
+    pub free_chlorine_at_ammonia_mg_l: Option<f64>,
+    /// Ammonia-N left uncombined once the chlorine has formed monochloramine (1:1 molar),
+    /// mg/L as N: what feeds nitrification.
+    pub free_ammonia_n_mg_l: f64,
     pub traces: Vec<NamedTrace>,
     pub cautions: Vec<Caution>,
 }
 
-/// Ammonia feed for a chosen Cl2:NH3-N mass ratio; flags ratios above the monochloramine
-/// stoichiometry (dichloramine and breakpoint territory: tastes, odours, residual loss).
+/// Ammonia feed for a chosen Cl2:NH3-N mass ratio, in water without ammonia of its own (or
+/// with ammonia fed with the chlorine); see [`chloramination_with_natural_ammonia`].
 pub fn chloramination(
     catalog: &Catalog,
     chlorine: Measured,
     ratio: Measured,
 ) -> Result<ChloramineResult> {
+    chloramination_with_natural_ammonia(catalog, chlorine, ratio, None, AmmoniaPoint::WithChlorine)
+}
+
+/// Ammonia feed for a chosen Cl2:NH3-N mass ratio, crediting the ammonia already in the water
+/// as where the ammonia is fed allows; flags ratios above the monochloramine stoichiometry
+/// (dichloramine and breakpoint territory: tastes, odours, residual loss).
+///
+/// The model, with chlorine dose C (mg/L as Cl2), ratio R, natural ammonia N0 (mg/L as N),
+/// the breakpoint ratio B (about 7.6, `breakpoint`) and the monochloramine ratio M (about
+/// 5.06, `monochloramine-formation`), both derived from the balanced reactions:
+///
+/// - Ammonia with the chlorine: all the ammonia meets all the chlorine, so the ratio holds for
+///   the total: feed C/R − N0. When N0 ≥ C/R the water already holds what the ratio needs:
+///   feed nothing (`natural-ammonia-covers-ratio`).
+/// - Chlorine first, ammonia downstream: the chlorine meets the natural ammonia alone during
+///   the free-chlorine contact. Beyond breakpoint (C ≥ B·N0) the natural ammonia goes to N2,
+///   taking B·N0 of the chlorine; the free chlorine left, F = C − B·N0, reaches the ammonia
+///   point, which is fed F/R. Short of breakpoint (C < B·N0) no free chlorine reaches the
+///   ammonia point: the chlorine is already combined (or lost on the breakpoint hump) with
+///   the natural ammonia, ammonia fed there would only be free ammonia, so feed nothing
+///   (`chlorine-short-of-natural-breakpoint`). Any other demand met during the free contact
+///   lowers F further: the free chlorine measured just ahead of the ammonia point is the
+///   better number to type as C when it is known.
+///
+/// In both cases the ammonia left uncombined once the chlorine has formed monochloramine at
+/// 1:1 molar (total ammonia − chlorine combined ÷ M) is reported; above
+/// [`FREE_AMMONIA_CAUTION_MG_L`] a caution names the nitrification risk.
+pub fn chloramination_with_natural_ammonia(
+    catalog: &Catalog,
+    chlorine: Measured,
+    ratio: Measured,
+    natural: Option<Measured>,
+    point: AmmoniaPoint,
+) -> Result<ChloramineResult> {
     check_positive("chlorine dose", chlorine.value, "mg/L")?;
     check_chlorine("chlorine dose", chlorine.value)?;
     check_positive("Cl2:NH3-N ratio", ratio.value, "")?;
     check_range("Cl2:NH3-N ratio", ratio.value, 0.0, 100.0, "")?;
+    let n0 = match natural {
+        Some(n) => check_range("ammonia-N", n.value, 0.0, 100.0, "mg/L")?,
+        None => 0.0,
+    };
     let (theory, theory_trace) = chlorine_per_ammonia_n(catalog, "monochloramine-formation")?;
+    let mut traces = vec![NamedTrace::new("monochloramine-ratio", theory_trace)];
+    let mut cautions = vec![
+        Caution::info("chloramine-practice-range")
+            .with("low", CHLORAMINE_PRACTICE.0)
+            .with("high", CHLORAMINE_PRACTICE.1),
+        Caution::danger("incompatible-ammonia-chloramine-gas"),
+    ];
+    // The chlorine that combines with ammonia at the ammonia point, and the natural ammonia
+    // still there to be combined.
+    let (combining, natural_left, natural_bp, free_at_point) = match point {
+        AmmoniaPoint::WithChlorine => (chlorine.value, n0, None, None),
+        AmmoniaPoint::AfterChlorine if n0 > 0.0 => {
+            let (bp_ratio, bp_trace) = chlorine_per_ammonia_n(catalog, "breakpoint")?;
+            let mut t = Trace::new(
+                Quantity::of(n0, "mg/L", "N"),
+                Origin::Measured,
+                natural.and_then(|n| n.sig_figs),
+            );
+            t.then(
+                Quantity::of(bp_ratio, "mg/L", "Cl2"),
+                Quantity::of(1.0, "mg/L", "N"),
+                Origin::MoleRatio {
+                    reaction: catalog.reaction("breakpoint")?.to_string(),
+                },
+                bp_trace.sig_figs(),
+            )?;
+            let bp = t.value();
+            traces.push(NamedTrace::new("breakpoint-ratio", bp_trace));
+            traces.push(NamedTrace::new("breakpoint-dose", t));
+            if chlorine.value >= bp {
+                let free = chlorine.value - bp;
+                cautions.push(
+                    Caution::info("natural-ammonia-broken-first")
+                        .with("breakpoint_mg_l", format!("{bp:.2}"))
+                        .with("free_mg_l", format!("{free:.2}")),
+                );
+                (free, 0.0, Some(bp), Some(free))
+            } else {
+                cautions.push(
+                    Caution::warning("chlorine-short-of-natural-breakpoint")
+                        .with("dose_mg_l", format!("{:.2}", chlorine.value))
+                        .with("breakpoint_mg_l", format!("{bp:.2}")),
+                );
+                // All the chlorine is combined with the natural ammonia before the ammonia
+                // point; none is free there.
+                let left = (n0 - chlorine.value / theory).max(0.0);
+                (0.0, left, Some(bp), Some(0.0))
+            }
+        }
+        AmmoniaPoint::AfterChlorine => (chlorine.value, 0.0, None, Some(chlorine.value)),
+    };
     let mut t = Trace::new(
-        Quantity::of(chlorine.value, "mg/L", "Cl2"),
-        Origin::Measured,
+        Quantity::of(combining, "mg/L", "Cl2"),
+        if free_at_point.is_some() && n0 > 0.0 {
+            Origin::Constant {
+                source: "free chlorine left after breakpoint of the ammonia in the water (trace breakpoint-dose)".into(),
+            }
+        } else {
+            Origin::Measured
+        },
         chlorine.sig_figs,
     );
     t.then(
@@ -308,16 +619,53 @@ pub fn chloramination(
         Origin::Measured,
         ratio.sig_figs,
     )?;
-    let n = t.value();
+    let needed = t.value();
+    let credited = match point {
+        AmmoniaPoint::WithChlorine => natural_left,
+        AmmoniaPoint::AfterChlorine => 0.0,
+    };
+    if credited > 0.0 && needed > credited {
+        t.then(
+            Quantity::of(needed - credited, "mg/L", "N"),
+            Quantity::of(needed, "mg/L", "N"),
+            Origin::Constant {
+                source: format!("less {credited} mg/L ammonia-N already in the water"),
+            },
+            None,
+        )?;
+    }
+    let n = if combining > 0.0 {
+        (needed - credited).max(0.0)
+    } else {
+        0.0
+    };
+    if point == AmmoniaPoint::WithChlorine && n0 > 0.0 {
+        if n0 >= needed {
+            cautions.push(
+                Caution::warning("natural-ammonia-covers-ratio")
+                    .with("natural_n_mg_l", format!("{n0:.2}"))
+                    .with("needed_n_mg_l", format!("{needed:.2}"))
+                    .with("ratio", ratio.value),
+            );
+        } else {
+            cautions.push(
+                Caution::info("natural-ammonia-credited")
+                    .with("natural_n_mg_l", format!("{n0:.2}")),
+            );
+        }
+    }
+    // Monochloramine is 1:1 molar: the chlorine combining holds combining ÷ M of ammonia-N.
+    let total_n = n + natural_left;
+    let free_ammonia = (total_n - combining / theory).max(0.0);
+    if free_ammonia > FREE_AMMONIA_CAUTION_MG_L {
+        cautions.push(
+            Caution::warning("free-ammonia-nitrification")
+                .with("free_n_mg_l", format!("{free_ammonia:.2}")),
+        );
+    }
     let nh3 = Formula::parse("NH3")?;
     let (m_n, _) = molar_mass("N")?;
     let nh3_mg = n / m_n * nh3.molar_mass() / nh3.count("N") as f64;
-    let mut cautions = vec![
-        Caution::info("chloramine-practice-range")
-            .with("low", CHLORAMINE_PRACTICE.0)
-            .with("high", CHLORAMINE_PRACTICE.1),
-        Caution::danger("incompatible-ammonia-chloramine-gas"),
-    ];
     if ratio.value > theory {
         cautions.push(
             Caution::warning("chloramine-ratio-above-theoretical")
@@ -325,16 +673,26 @@ pub fn chloramination(
                 .with("theoretical", format!("{theory:.2}")),
         );
     }
+    if n <= 0.0 {
+        cautions.push(Caution::warning("zero-dose"));
+    }
+    // With nothing to feed the trace would show what the ratio needs, not a dose: the caution
+    // says why nothing is fed instead.
+    if n > 0.0 {
+        traces.push(NamedTrace::new("ammonia-dose", t));
+    }
     Ok(ChloramineResult {
         chlorine_mg_l: chlorine.value,
         ratio: ratio.value,
         ammonia_n_mg_l: n,
         ammonia_nh3_mg_l: nh3_mg,
         theoretical_ratio: theory,
-        traces: vec![
-            NamedTrace::new("monochloramine-ratio", theory_trace),
-            NamedTrace::new("ammonia-dose", t),
-        ],
+        natural_ammonia_n_mg_l: n0,
+        point,
+        natural_breakpoint_mg_l: natural_bp,
+        free_chlorine_at_ammonia_mg_l: free_at_point,
+        free_ammonia_n_mg_l: free_ammonia,
+        traces,
         cautions: finish(cautions),
     })
 }

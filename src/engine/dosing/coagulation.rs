@@ -209,11 +209,88 @@ pub fn alkalinity_per_dose(catalog: &Catalog, c: Coagulant) -> Result<(f64, Trac
     Ok((t.value(), t))
 }
 
-/// Dry solids per mg/L of coagulant dose (mg/L of hydroxide sludge), with the trace. For
-/// alum the hydroxide is counted with three waters of hydration, Al(OH)3·3H2O, the form the
-/// published alum sludge coefficient assumes (Cornwell, AWWA Water Treatment Plant Waste
-/// Management, 1987 [M: edition and wording recalled]); for iron, Fe(OH)3.
+/// How the metal hydroxide in the sludge is counted: the bare hydroxide of the hydrolysis
+/// reaction, or the hydrated floc of a `sludge-floc-*-hydrated` reaction in `data/`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Floc {
+    Bare,
+    Hydrated,
+}
+
+/// Where each published sludge coefficient comes from, beside the basis it implies.
+pub const SLUDGE_SOURCE_ALUMINIUM: &str = "0.44 × alum dose, hydrated floc Al(OH)3·3H2O: Cornwell, AWWA Water Treatment Plant Waste Management (1987) [M]; Lang et al. (1985) metric form";
+pub const SLUDGE_SOURCE_IRON: &str = "1.9 × Fe, bare Fe(OH)3: Cornwell, AWWA Water Treatment Plant Waste Management (1987) [M]; Lang et al. (1985) metric form";
+pub const SLUDGE_SOURCE_IRON_ALTERNATIVE: &str = "2.9 × Fe, hydrated floc Fe(OH)3·3H2O: the alternative some editions print (Cornwell / AWWA 1987) [M]";
+
+impl Coagulant {
+    fn is_iron(self) -> bool {
+        matches!(self, Coagulant::FerricChloride | Coagulant::FerricSulfate)
+    }
+
+    /// The basis of the published sludge coefficient for this coagulant and its source: alum
+    /// (and PACl, aluminium alike) as the hydrated floc (0.44 × alum dose), iron as bare
+    /// Fe(OH)3 (1.9 × Fe).
+    pub fn published_floc(self) -> (Floc, &'static str) {
+        if self.is_iron() {
+            (Floc::Bare, SLUDGE_SOURCE_IRON)
+        } else {
+            (Floc::Hydrated, SLUDGE_SOURCE_ALUMINIUM)
+        }
+    }
+
+    /// The published alternative basis, where one is printed (iron: 2.9 × Fe, hydrated).
+    pub fn alternative_floc(self) -> Option<(Floc, &'static str)> {
+        self.is_iron()
+            .then_some((Floc::Hydrated, SLUDGE_SOURCE_IRON_ALTERNATIVE))
+    }
+}
+
+/// The formula the sludge solid is counted as: the hydrolysis hydroxide, or the hydrated floc
+/// read from the product of its `sludge-floc-*-hydrated` reaction (with that reaction).
+fn floc_formula(catalog: &Catalog, c: Coagulant, floc: Floc) -> Result<(String, Option<Reaction>)> {
+    let hyd = c.hydroxide();
+    match floc {
+        Floc::Bare => Ok((hyd.to_string(), None)),
+        Floc::Hydrated => {
+            let id = if c.is_iron() {
+                "sludge-floc-iron-hydrated"
+            } else {
+                "sludge-floc-aluminium-hydrated"
+            };
+            let r = catalog.reaction(id)?;
+            let solid = r
+                .species()
+                .iter()
+                .find(|s| s.side == crate::engine::reaction::Side::Product)
+                .map(|s| s.written.clone())
+                .ok_or_else(|| {
+                    Error::new(ErrorKind::InvalidInput, format!("{id} has no product"))
+                })?;
+            Ok((solid, Some(r)))
+        }
+    }
+}
+
+/// Dry solids per mg/L of coagulant dose (mg/L of hydroxide sludge) on the published basis
+/// ([`Coagulant::published_floc`]), with the trace.
 pub fn solids_per_dose(catalog: &Catalog, c: Coagulant) -> Result<(f64, Trace)> {
+    solids_per_dose_as(catalog, c, c.published_floc().0)
+}
+
+/// mg of floc per mg of the coagulant's metal (Fe(OH)3/Fe = 1.91, Fe(OH)3·3H2O/Fe = 2.88,
+/// Al(OH)3·3H2O/Al = 4.89), from molar masses: the form the published iron coefficient is
+/// printed in.
+pub fn floc_per_metal(catalog: &Catalog, c: Coagulant, floc: Floc) -> Result<f64> {
+    let (solid, _) = floc_formula(catalog, c, floc)?;
+    let metal = if c.is_iron() { "Fe" } else { "Al" };
+    let f = Formula::parse(&solid)?;
+    let (m_metal, _) = molar_mass(metal)?;
+    Ok(f.molar_mass() / (f.count(metal) as f64 * m_metal))
+}
+
+/// Dry solids per mg/L of coagulant dose, the metal counted as `floc`, with the trace.
+pub fn solids_per_dose_as(catalog: &Catalog, c: Coagulant, floc: Floc) -> Result<(f64, Trace)> {
     let (r, reactant) = hydrolysis(catalog, c)?;
     let mut t = Trace::new(
         Quantity::of(1.0, "mg/L", c.dose_as()),
@@ -222,30 +299,17 @@ pub fn solids_per_dose(catalog: &Catalog, c: Coagulant) -> Result<(f64, Trace)> 
     );
     dose_to_reactant_mmol(c, &reactant, &mut t)?;
     let hyd = c.hydroxide();
-    let ratio = r.mole_ratio(&reactant, hyd)?;
-    let solid = if hyd == "Al(OH)3" {
-        "Al(OH)3·3H2O"
-    } else {
-        hyd
-    };
-    let (m, s) = molar_mass(solid)?;
+    t.then_mole_ratio(&r, &reactant, hyd, "mmol/L")?;
+    let (solid, hydration) = floc_formula(catalog, c, floc)?;
+    if let Some(h) = &hydration {
+        t.then_mole_ratio(h, hyd, &solid, "mmol/L")?;
+    }
+    let (m, s) = molar_mass(&solid)?;
     t.then(
-        Quantity::of(
-            *ratio.numer() as f64 / *ratio.denom() as f64,
-            "mmol/L",
-            solid,
-        ),
-        Quantity::of(1.0, "mmol/L", &reactant),
-        Origin::MoleRatio {
-            reaction: r.to_string(),
-        },
-        None,
-    )?;
-    t.then(
-        Quantity::of(m, "mg/L", solid),
-        Quantity::of(1.0, "mmol/L", solid),
+        Quantity::of(m, "mg/L", &solid),
+        Quantity::of(1.0, "mmol/L", &solid),
         Origin::MolarMass {
-            formula: solid.into(),
+            formula: solid.clone(),
         },
         s,
     )?;
@@ -533,12 +597,27 @@ pub struct SludgeInput {
 /// Result of [`sludge`].
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct SludgeResult {
+    /// The formula the metal's solids are counted as on the published basis, and its source.
+    pub floc: String,
+    pub source: &'static str,
     pub solids_per_mg: f64,
     pub solids_mg_l: f64,
     pub dry_solids_kg_per_day: f64,
     pub dry_solids_lb_per_day: f64,
+    /// The same on the published alternative basis, where one is printed (iron: 2.9 × Fe).
+    pub alternative: Option<SludgeAlternative>,
     pub traces: Vec<NamedTrace>,
     pub cautions: Vec<Caution>,
+}
+
+/// Dry solids on a coagulant's published alternative basis.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct SludgeAlternative {
+    pub floc: String,
+    pub source: &'static str,
+    pub solids_per_mg: f64,
+    pub solids_mg_l: f64,
+    pub dry_solids_kg_per_day: f64,
 }
 
 /// Dry solids produced per day.
@@ -569,7 +648,40 @@ pub fn sludge(catalog: &Catalog, input: &SludgeInput) -> Result<SludgeResult> {
     )?;
     let mgd = input.flow.to_mgd()?.value();
     let lb = mgd * mg_l * pounds_factor().value();
+    let (floc, source) = input.coagulant.published_floc();
+    let floc_text = floc_formula(catalog, input.coagulant, floc)?.0;
+    // Each coefficient with the basis and the source it stands on.
+    let mut cautions = vec![
+        Caution::info("sludge-estimate-only"),
+        Caution::info("sludge-basis")
+            .with("floc", &floc_text)
+            .with("source", source),
+    ];
+    let alternative = match input.coagulant.alternative_floc() {
+        Some((alt, alt_source)) => {
+            let (k_alt, _) = solids_per_dose_as(catalog, input.coagulant, alt)?;
+            cautions.push(
+                Caution::info("sludge-basis-alternative")
+                    .with("floc", floc_formula(catalog, input.coagulant, alt)?.0)
+                    .with("source", alt_source),
+            );
+            let alt_mg_l =
+                k_alt * input.dose.value + input.suspended_solids_mg_l + input.additives_mg_l;
+            Some(SludgeAlternative {
+                floc: floc_formula(catalog, input.coagulant, alt)?.0,
+                source: alt_source,
+                solids_per_mg: k_alt,
+                solids_mg_l: alt_mg_l,
+                // Same flow, same conversion as the published basis: kg/d scale with mg/L.
+                dry_solids_kg_per_day: si.value() * alt_mg_l / mg_l,
+            })
+        }
+        None => None,
+    };
     Ok(SludgeResult {
+        floc: floc_text,
+        source,
+        alternative,
         solids_per_mg: k,
         solids_mg_l: mg_l,
         dry_solids_kg_per_day: si.value(),
@@ -578,6 +690,6 @@ pub fn sludge(catalog: &Catalog, input: &SludgeInput) -> Result<SludgeResult> {
             NamedTrace::new("solids-per-dose", k_trace),
             NamedTrace::new("dry-solids", si),
         ],
-        cautions: finish(vec![Caution::info("sludge-estimate-only")]),
+        cautions: finish(cautions),
     })
 }

@@ -504,6 +504,12 @@ pub fn grams_per_litre(catalog: &Catalog, p: &Product, s: &Strength) -> Result<T
 }
 
 /// Day-tank batching: how much concentrate and water make `final_volume_l` at the target strength.
+///
+/// Volumes of solutions are not additive (50 % caustic and water shrink on mixing), so only
+/// masses are balanced: the active chemical gives the concentrate volume (C1·V1 = C2·V2 on a
+/// g/L basis), and the water is the batch's mass less the concentrate's, each from its SG:
+/// water = V_final·SG_target − V_concentrate·SG_concentrate, in kg of water and so in litres
+/// (the SGs are relative to water, whose density cancels). Both SGs are therefore required.
 pub fn dilution(catalog: &Catalog, input: &DilutionInput) -> Result<DilutionResult> {
     let p = catalog.product(&input.product)?;
     check_positive("final volume", input.final_volume_l, "L")?;
@@ -518,6 +524,13 @@ pub fn dilution(catalog: &Catalog, input: &DilutionInput) -> Result<DilutionResu
         .with("target_g_per_l", c2.value())
         .with("concentrate_g_per_l", c1.value()));
     }
+    let sg_of = |s: &Strength| {
+        s.sg.ok_or_else(|| {
+            Error::new(ErrorKind::InvalidInput, "specific gravity missing")
+                .because("needs-specific-gravity")
+        })
+    };
+    let (sg1, sg2) = (sg_of(&input.concentrate)?, sg_of(&input.target)?);
     let mut v = Trace::new(
         Quantity::of(input.final_volume_l, "L", "batch"),
         Origin::Measured,
@@ -540,17 +553,45 @@ pub fn dilution(catalog: &Catalog, input: &DilutionInput) -> Result<DilutionResu
         c1.sig_figs(),
     )?;
     let conc = v.value();
+    // Each mass as volume × SG × 1 kg/L of water; the water's own density cancels when its
+    // mass is turned back into litres.
+    let mass = |litres: f64, what: &str, sg: Measured| -> Result<Trace> {
+        let mut t = Trace::new(Quantity::of(litres, "L", what), Origin::Measured, None);
+        t.then(
+            Quantity::of(sg.value, "kg", what),
+            Quantity::of(1.0, "L", what),
+            Origin::Product {
+                name: format!("specific gravity of the {what} (× 1 kg/L of water)"),
+            },
+            sg.sig_figs,
+        )?;
+        Ok(t)
+    };
+    let batch = mass(input.final_volume_l, "batch", sg2)?;
+    let concentrate = mass(conc, "concentrate", sg1)?;
+    let water = batch.value() - concentrate.value();
+    if water <= 0.0 {
+        return Err(Error::new(
+            ErrorKind::InvalidInput,
+            "the batch would weigh no more than the concentrate in it: check both specific gravities",
+        )
+        .because("dilution-masses-inconsistent")
+        .with("batch_kg", batch.value())
+        .with("concentrate_kg", concentrate.value()));
+    }
     let mut cautions = product_cautions(p);
     cautions.push(Caution::danger("add-chemical-to-water"));
     Ok(DilutionResult {
         concentrate_g_per_l: c1.value(),
         target_g_per_l: c2.value(),
         concentrate_l: conc,
-        water_l: input.final_volume_l - conc,
+        water_l: water,
         traces: vec![
             NamedTrace::new("concentrate-strength", c1),
             NamedTrace::new("target-strength", c2),
             NamedTrace::new("dilution", v),
+            NamedTrace::new("batch-mass", batch),
+            NamedTrace::new("concentrate-mass", concentrate),
         ],
         cautions: finish(cautions),
     })

@@ -1,5 +1,8 @@
 //! Pump cross-check: from a drawdown, a catch test or a day-tank level drop to the dose the
-//! plant is actually getting, its deviation from target, and a verdict.
+//! plant is actually getting, its deviation from target, and a verdict; and the same for a
+//! feeder set by mass: a dry chemical's catch (what the feeder delivers in a timed interval,
+//! weighed) or a gas cylinder's scale loss over a timed interval, rate = mass ÷ time, active
+//! = product × purity (through the strength conversion the feed calculator uses).
 //!
 //! Design: the measured product rate is pushed back through the same strength conversion the
 //! feed calculator uses (the `product-strength` trace is the forward conversion of 1 kg/d), so
@@ -32,6 +35,9 @@ pub enum Measurement {
     Drawdown { ml: Measured, seconds: Measured },
     /// Product mass caught, g, over `seconds` (converted to volume with the SG).
     Catch { grams: Measured, seconds: Measured },
+    /// Product mass delivered by a feeder set by mass, g, over `seconds`: a dry feeder's catch
+    /// weighed, or the weight a gas cylinder lost on its scale. No volume is involved.
+    Weighed { grams: Measured, seconds: Measured },
     /// Level drop in a day tank over `minutes`.
     TankDrop {
         shape: TankShape,
@@ -94,7 +100,10 @@ pub struct PumpCheckInput {
 /// Result of [`pump_check`].
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct PumpCheckResult {
-    pub product_l_per_day: f64,
+    /// Litres of product per day measured (`None` for a product weighed, fed by mass).
+    pub product_l_per_day: Option<f64>,
+    /// Kilograms of product per day, as delivered.
+    pub product_kg_per_day: f64,
     pub active_kg_per_day: f64,
     pub actual_dose_mg_l: f64,
     pub target_dose_mg_l: f64,
@@ -156,6 +165,13 @@ pub fn measured_rate(m: &Measurement, sg: Option<Measured>) -> Result<Trace> {
                 Origin::UnitDefinition,
                 None,
             )?;
+        }
+        Measurement::Weighed { .. } => {
+            return Err(Error::new(
+                ErrorKind::InvalidInput,
+                "a weighed catch is a mass of product, not a volume",
+            )
+            .because("needs-liquid-product"));
         }
         Measurement::TankDrop {
             shape,
@@ -228,27 +244,59 @@ pub fn pump_check(catalog: &Catalog, input: &PumpCheckInput) -> Result<PumpCheck
     );
     let (strength, sg_note) = resolve_sg(p, &input.strength);
     let forward = active_to_product(catalog, p, &strength, one)?;
-    let l_per_kg = forward.product_l_per_day.ok_or_else(|| {
-        Error::new(
-            ErrorKind::InvalidInput,
-            format!(
-                "{} is not a liquid; a pump check measures a liquid feed",
-                p.id
-            ),
-        )
-        .because("needs-liquid-product")
-    })?;
-    let mut t = measured_rate(&input.measurement, strength.sg)?;
-    let product_l = t.value();
-    t.then(
-        Quantity::of(1.0, "kg/d", &p.dose_as),
-        Quantity::new(l_per_kg, "L/d"),
-        Origin::Product {
-            name: "strength as delivered (trace product-strength)".into(),
-        },
-        forward.trace.sig_figs(),
-    )?;
+    let (mut t, product_l) = match input.measurement {
+        // A feeder set by mass: the product weighed per time, back through the product's
+        // strength (purity) to the active chemical.
+        Measurement::Weighed { grams, seconds } => {
+            check_positive("caught mass", grams.value, "g")?;
+            check_positive("test time", seconds.value, "s")?;
+            let mut t = Trace::new(
+                Quantity::new(grams.value / seconds.value, "g/s"),
+                Origin::Measured,
+                combine(grams.sig_figs, seconds.sig_figs),
+            );
+            t.then(
+                Quantity::new(86_400.0 / 1000.0, "kg/d"),
+                Quantity::new(1.0, "g/s"),
+                Origin::UnitDefinition,
+                None,
+            )?;
+            t.then(
+                Quantity::of(1.0, "kg/d", &p.dose_as),
+                Quantity::new(forward.product_kg_per_day, "kg/d"),
+                Origin::Product {
+                    name: "strength as delivered (trace product-strength)".into(),
+                },
+                forward.trace.sig_figs(),
+            )?;
+            (t, None)
+        }
+        _ => {
+            let l_per_kg = forward.product_l_per_day.ok_or_else(|| {
+                Error::new(
+                    ErrorKind::InvalidInput,
+                    format!(
+                        "{} is not a liquid; weigh what its feeder delivers instead",
+                        p.id
+                    ),
+                )
+                .because("needs-liquid-product")
+            })?;
+            let mut t = measured_rate(&input.measurement, strength.sg)?;
+            let product_l = t.value();
+            t.then(
+                Quantity::of(1.0, "kg/d", &p.dose_as),
+                Quantity::new(l_per_kg, "L/d"),
+                Origin::Product {
+                    name: "strength as delivered (trace product-strength)".into(),
+                },
+                forward.trace.sig_figs(),
+            )?;
+            (t, Some(product_l))
+        }
+    };
     let kg = t.value();
+    let product_kg = kg * forward.product_kg_per_day;
     let flow = input.flow.to_l_per_day()?;
     t.then(
         Quantity::of(1_000_000.0, "mg/d", &p.dose_as),
@@ -295,6 +343,7 @@ pub fn pump_check(catalog: &Catalog, input: &PumpCheckInput) -> Result<PumpCheck
     }
     Ok(PumpCheckResult {
         product_l_per_day: product_l,
+        product_kg_per_day: product_kg,
         active_kg_per_day: kg,
         actual_dose_mg_l: actual,
         target_dose_mg_l: target,

@@ -151,6 +151,16 @@ impl Catalog {
         })
     }
 
+    /// The conserved component a dissolved species feeds (`None`: the solvent's own, or a gas
+    /// that leaves); an error for a species the ion table does not know.
+    pub fn component_of(&self, species: &Formula) -> Result<Option<Component>> {
+        self.ions
+            .iter()
+            .find(|(f, _)| f.same_composition(species))
+            .map(|(_, c)| *c)
+            .ok_or_else(|| data_error(format!("{species} is not in the ion table")))
+    }
+
     /// The embedded catalog, parsed and balanced on first use.
     pub fn embedded() -> Result<&'static Catalog> {
         static CATALOG: OnceLock<Result<Catalog>> = OnceLock::new();

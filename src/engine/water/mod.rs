@@ -139,6 +139,7 @@ pub(crate) struct Masses {
     pub cl: f64,
     pub so4: f64,
     pub co2: f64,
+    pub n: f64,
 }
 
 pub(crate) fn masses() -> Result<Masses> {
@@ -155,6 +156,7 @@ pub(crate) fn masses() -> Result<Masses> {
                 cl: m("Cl")?,
                 so4: m("SO4")?,
                 co2: m("CO2")?,
+                n: m("N")?,
             })
         })
         .clone()
@@ -401,6 +403,95 @@ impl WaterState {
             problem.totals[c.index()] = self.solver.dissolved(&sp, c);
             problem.caps[c.index()] = None;
         }
+        let sp = Speciation {
+            totals: problem.totals,
+            ..sp
+        };
+        Ok(WaterState {
+            solver: self.solver.clone(),
+            problem,
+            sp,
+            basis: self.basis,
+        })
+    }
+}
+
+impl WaterState {
+    /// The same water at the same measured pH and alkalinity with `mg_l_n` mg/L of total
+    /// ammonia (NH4+ + NH3, as N) in it: the NH3 share is part of the alkalinity the titration
+    /// measured, so the carbonate total is solved again as [`WaterState::new`] does.
+    pub fn with_ammonia_as_n(&self, mg_l_n: f64) -> Result<WaterState> {
+        let n = check_range("ammonia-N", mg_l_n, 0.0, MAX_MG_L, "mg/L")?;
+        let mut problem = self.problem.clone();
+        problem.totals[Component::NH4.index()] = n / masses()?.n / 1000.0;
+        let sp = self
+            .solver
+            .at_ph_and_alkalinity(self.ph(), self.alkalinity_eq(), &problem)?;
+        problem.totals = sp.totals;
+        problem.z_excess = self.solver.charge_sum(&sp);
+        Ok(WaterState {
+            solver: self.solver.clone(),
+            problem,
+            sp,
+            basis: self.basis,
+        })
+    }
+
+    /// The water after `reaction` has run to `extent_mmol_l` mmol/L of `per` (one of its
+    /// reactants) consumed: each dissolved species of the reaction moves its component's total
+    /// by its coefficient (reactants leave, products arrive; H+, OH-, H2O and gases that leave
+    /// feed none, the charge balance takes care of the protons). The breakpoint end state is
+    /// this with the breakpoint reaction. A reactant whose component would go below zero is
+    /// refused: the reaction cannot run further than the water holds.
+    pub fn reacted(
+        &self,
+        reaction: &crate::engine::reaction::Reaction,
+        per: &str,
+        extent_mmol_l: f64,
+    ) -> Result<WaterState> {
+        use crate::engine::reaction::Side;
+        // Called with amounts the engine derived, never typed: a bad one is a program error,
+        // still refused rather than solved.
+        if !(extent_mmol_l.is_finite() && (0.0..=1000.0).contains(&extent_mmol_l)) {
+            return Err(Error::new(
+                ErrorKind::OutOfRange,
+                format!("reaction extent {extent_mmol_l} mmol/L is out of range"),
+            ));
+        }
+        let extent = extent_mmol_l;
+        let per_formula = crate::engine::formula::Formula::parse(per)?;
+        let own = reaction
+            .species()
+            .iter()
+            .find(|s| s.side == Side::Reactant && s.formula.same_composition(&per_formula))
+            .ok_or_else(|| {
+                Error::new(
+                    ErrorKind::NotInReaction,
+                    format!("{per} is not a reactant of {reaction}"),
+                )
+            })?;
+        let scale = extent / 1000.0 / own.coefficient as f64;
+        let catalog = Catalog::embedded()?;
+        let mut problem = self.problem.clone();
+        for s in reaction.species() {
+            let Some(c) = catalog.component_of(&s.formula)? else {
+                continue;
+            };
+            let sign = if s.side == Side::Reactant { -1.0 } else { 1.0 };
+            problem.totals[c.index()] += sign * s.coefficient as f64 * scale;
+        }
+        // A few ulps below zero is the same total consumed; more is a reaction the water
+        // cannot run.
+        for t in problem.totals.iter_mut() {
+            if *t < -1e-12 {
+                return Err(Error::new(
+                    ErrorKind::Unreachable,
+                    format!("{reaction}: the water holds too little {per} for this extent"),
+                ));
+            }
+            *t = t.max(0.0);
+        }
+        let sp = self.solver.solve(&problem, Some(&self.sp))?;
         let sp = Speciation {
             totals: problem.totals,
             ..sp
