@@ -561,6 +561,9 @@ chloramine-ratio-above-theoretical = The ratio { $ratio }:1 is above the monochl
 dechlor-field-dose-separate = This is the dose the balanced reaction needs; field practice often feeds more. Start here and adjust on a residual test.
 dechlor-oxygen-demand = An overdose of the agent consumes dissolved oxygen and lowers the pH of the receiving water.
 ph-effect-chlorine-as-fed = The effect on pH is that of the chlorine product as fed.
+ct-regression-not-table = The CT required is from the EPA regression (Smith et al. 1995); compliance uses the plant's approved method.
+ct-outside-table-range = The inputs are outside the range of the EPA tables (0.5–25 °C, pH 6–9, 0.4–3 mg/L).
+ct-below-3log = CT { $ct } mg·min/L is below the { $required } mg·min/L needed for 3-log Giardia inactivation.
 
 settings-initials = Operator initials
 log-need-initials = Enter your initials in Settings first: each logged dose records who set it.

@@ -561,6 +561,9 @@ chloramine-ratio-above-theoretical = La relación { $ratio }:1 supera la de la m
 dechlor-field-dose-separate = Esta es la dosis que pide la reacción balanceada; en campo suele dosificarse más. Parta de aquí y ajuste con una prueba de residual.
 dechlor-oxygen-demand = Una sobredosis del agente consume oxígeno disuelto y baja el pH del agua receptora.
 ph-effect-chlorine-as-fed = El efecto sobre el pH es el del producto de cloro tal como se dosifica.
+ct-regression-not-table = El CT requerido sale de la regresión de la EPA (Smith et al. 1995); el cumplimiento se verifica con el método aprobado de la planta.
+ct-outside-table-range = Los datos están fuera del intervalo de las tablas de la EPA (0,5–25 °C, pH 6–9, 0,4–3 mg/L).
+ct-below-3log = El CT de { $ct } mg·min/L está por debajo de los { $required } mg·min/L necesarios para inactivar 3 log de Giardia.
 
 settings-initials = Iniciales del operador
 log-need-initials = Primero escriba sus iniciales en Ajustes: cada dosis registrada guarda quién la fijó.

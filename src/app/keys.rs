@@ -112,6 +112,10 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "dechlor-field-dose-separate",
     "dechlor-oxygen-demand",
     "ph-effect-chlorine-as-fed",
+    // CT has no card in the app; the command line prints these sentences.
+    "ct-regression-not-table",
+    "ct-outside-table-range",
+    "ct-below-3log",
 ];
 
 /// Further results listed under the card's big numbers (`result-<id>` with dashes): every

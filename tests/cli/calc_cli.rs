@@ -101,13 +101,13 @@ fn calc_ph_adjustment_and_neutralize_feed_give_the_same_dose_and_pump_setting() 
     ));
     assert_eq!(code, 0, "{text}");
     let dose = result(&table, "dose").unwrap();
-    let old_dose = old["dose_mg_l"].as_f64().unwrap();
+    let old_dose = result(&old, "dose").unwrap();
     assert!(
         (dose - old_dose).abs() <= 1e-9 * old_dose,
         "{dose} vs {old_dose}"
     );
     let pump = result(&table, "pump_setting").unwrap();
-    let old_pump = old["pump_percent"].as_f64().unwrap();
+    let old_pump = result(&old, "pump_setting").unwrap();
     assert!(
         (pump - old_pump).abs() <= 1e-9 * old_pump,
         "{pump} vs {old_pump}"
