@@ -7,7 +7,7 @@
 //! [`Args`] to a [`Report`]; `molefeed batch` calls the same functions, so a batch line and the
 //! subcommand always agree.
 
-mod aliases;
+pub mod aliases;
 mod args;
 mod calc;
 mod chemistry;
