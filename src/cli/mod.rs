@@ -161,8 +161,11 @@ fn advisory(mut report: Report) -> Report {
         let cautions = object
             .entry("cautions")
             .or_insert_with(|| Value::Array(Vec::new()));
-        if let Some(list) = cautions.as_array_mut() {
-            list.push(serde_json::to_value(&caution).unwrap_or(Value::Null));
+        if let (Some(list), Value::Array(advisory)) = (
+            cautions.as_array_mut(),
+            calc::cautions_json(std::slice::from_ref(&caution)),
+        ) {
+            list.extend(advisory);
         }
     }
     report

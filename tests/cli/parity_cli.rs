@@ -175,26 +175,32 @@ fn every_calculator_the_app_shows_gives_the_same_numbers_and_cautions_on_the_com
 
 /// The older command's flag that gives the table's input `name`, if it has one of its own.
 fn old_flag(alias: &Alias, name: &str) -> Option<&'static str> {
-    alias.flags.iter().find_map(|(flag, becomes)| match becomes {
-        Becomes::Input(i) if *i == name => Some(*flag),
-        Becomes::Strength if name == "strength" || name == "purity" => Some(*flag),
-        Becomes::FeederScale if name.ends_with("feeder-capacity") => Some(*flag),
-        _ => None,
-    })
+    alias
+        .flags
+        .iter()
+        .find_map(|(flag, becomes)| match becomes {
+            Becomes::Input(i) if *i == name => Some(*flag),
+            Becomes::Strength if name == "strength" || name == "purity" => Some(*flag),
+            Becomes::FeederScale if name.ends_with("feeder-capacity") => Some(*flag),
+            _ => None,
+        })
 }
 
 /// The older unit flag and code that give `unit` (a table code) for the input `name`.
 fn old_unit(alias: &Alias, name: &str, unit: &str) -> Option<(&'static str, &'static str)> {
-    alias.flags.iter().find_map(|(flag, becomes)| match becomes {
-        Becomes::UnitOf(i, map) if *i == name => map
-            .iter()
-            .find(|(_, new)| *new == unit)
-            .map(|(old, _)| (*flag, *old)),
-        Becomes::FeederUnit if name.ends_with("feeder-capacity") && unit == "kg-per-day" => {
-            Some((*flag, "kg/d"))
-        }
-        _ => None,
-    })
+    alias
+        .flags
+        .iter()
+        .find_map(|(flag, becomes)| match becomes {
+            Becomes::UnitOf(i, map) if *i == name => map
+                .iter()
+                .find(|(_, new)| *new == unit)
+                .map(|(old, _)| (*flag, *old)),
+            Becomes::FeederUnit if name.ends_with("feeder-capacity") && unit == "kg-per-day" => {
+                Some((*flag, "kg/d"))
+            }
+            _ => None,
+        })
 }
 
 /// The JSON a command line prints, and whether it succeeded.
@@ -204,8 +210,8 @@ fn json_of(args: &[String]) -> (bool, Value) {
         .output()
         .unwrap();
     let stdout = String::from_utf8_lossy(&out.stdout);
-    let json = serde_json::from_str(stdout.trim())
-        .unwrap_or_else(|e| panic!("{args:?}: {e}: {stdout}"));
+    let json =
+        serde_json::from_str(stdout.trim()).unwrap_or_else(|e| panic!("{args:?}: {e}: {stdout}"));
     (out.status.success(), json)
 }
 
@@ -248,11 +254,10 @@ fn every_older_command_prints_what_calc_prints_for_the_same_readings() {
                 if let (Some(id), Some(p)) = (id, product) {
                     new.extend(["--product".to_string(), id.to_string()]);
                     let named = alias.flags.iter().find_map(|(flag, b)| match b {
-                        Becomes::Product(map) if map.is_empty() => Some((*flag, id)),
-                        Becomes::Product(map) => map
-                            .iter()
-                            .find(|(_, n)| *n == id)
-                            .map(|(o, _)| (*flag, *o)),
+                        Becomes::Product([]) => Some((*flag, id)),
+                        Becomes::Product(map) => {
+                            map.iter().find(|(_, n)| *n == id).map(|(o, _)| (*flag, *o))
+                        }
                         _ => None,
                     });
                     let (flag, name) = named.expect("the alias names the product");
@@ -276,10 +281,9 @@ fn every_older_command_prints_what_calc_prints_for_the_same_readings() {
                 if let Some(m) = mode {
                     new.extend(["--mode".to_string(), m.to_string()]);
                     let value = alias.flags.iter().find_map(|(flag, b)| match b {
-                        Becomes::Mode(map) => map
-                            .iter()
-                            .find(|(_, n)| n == m)
-                            .map(|(o, _)| (*flag, *o)),
+                        Becomes::Mode(map) => {
+                            map.iter().find(|(_, n)| n == m).map(|(o, _)| (*flag, *o))
+                        }
                         _ => None,
                     });
                     match value {
@@ -313,7 +317,10 @@ fn every_older_command_prints_what_calc_prints_for_the_same_readings() {
                     compared += 1;
                     commands.insert(alias.command);
                 } else {
-                    assert_eq!(json_old["error"]["kind"], json_new["error"]["kind"], "{old:?}");
+                    assert_eq!(
+                        json_old["error"]["kind"], json_new["error"]["kind"],
+                        "{old:?}"
+                    );
                     assert_eq!(json_old["error"]["reason"], json_new["error"]["reason"]);
                 }
             }

@@ -454,8 +454,7 @@ fn num(j: &serde_json::Value, id: &str) -> f64 {
         .unwrap_or_else(|| panic!("no result {id}: {j}"))
 }
 
-const GAS_FEED: &str =
-    "--product chlorine-gas --strength 100 --feeder-capacity 100 --feeder-unit kg/d --gas --flow 2.5 --flow-unit mgd";
+const GAS_FEED: &str = "--product chlorine-gas --strength 100 --feeder-capacity 100 --feeder-unit kg/d --gas --flow 2.5 --flow-unit mgd";
 
 #[test]
 fn cli_chlorine_reports_the_water_after() {
@@ -472,7 +471,9 @@ fn cli_chlorine_reports_the_water_after() {
         0.02,
     );
     // Without the water: no pH, and the note asking for it.
-    let (code, j) = run(&format!("chlorine --demand 1.4 --residual 1.0 {GAS_FEED} --json"));
+    let (code, j) = run(&format!(
+        "chlorine --demand 1.4 --residual 1.0 {GAS_FEED} --json"
+    ));
     assert_eq!(code, 0, "{j}");
     assert!(j["results"].get("ph_after").is_none());
     assert!(
@@ -550,7 +551,8 @@ fn carbon_dioxide_and_bicarbonate_have_products() {
 
 #[test]
 fn cli_coagulation_with_and_without_the_water() {
-    let feed = "--flow 2 --flow-unit mgd --strength 48.5 --sg 1.33 --pump-capacity 20 --pump-unit gph";
+    let feed =
+        "--flow 2 --flow-unit mgd --strength 48.5 --sg 1.33 --pump-capacity 20 --pump-unit gph";
     let (code, j) = run(&format!(
         "coagulation --coagulant alum --dose 30 --alkalinity 80 --ph 7.4 --temperature 15 {feed} --json"
     ));
