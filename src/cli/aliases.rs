@@ -97,7 +97,7 @@ const COAGULANTS: &[(&str, &str)] = &[
 ];
 
 const NO_PERISTALTIC: &str = "give the pump's output at 100 % with --pump-capacity and --pump-unit (the table sets a metering pump by its capacity)";
-const NO_USABLE_RANGE: &str = "the table checks every setting against the usable range of the site profile's pumps; set it there";
+const NO_USABLE_RANGE: &str = "the table checks every setting against the engine's one usable range of a pump (common practice), not a range given per command";
 const NO_FEED_WATER: &str = "the feed calculator takes no water; for the dose's effect on the water use 'molefeed ph-after'";
 const NO_IONS: &str = "the table's pH adjustment takes the water's pH, alkalinity, temperature and --calcium-as-caco3 only; for the other ions use 'molefeed dose-for-ph'";
 
@@ -803,8 +803,15 @@ pub fn help(alias: &Alias) -> String {
     );
     for (flag, becomes) in alias.flags {
         let what = match becomes {
+            Input(i) if i == flag => "the same".into(),
             Input(i) => format!("--{i}"),
-            UnitOf(i, _) => format!("--{i}-unit"),
+            UnitOf(i, map) => format!(
+                "--{i}-unit ({})",
+                map.iter()
+                    .map(|(old, new)| format!("{old} → {new}"))
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ),
             Product(_) => "--product".into(),
             Mode(_) => "--mode".into(),
             Strength => "--strength (a liquid) or --purity (a gas or dry product)".into(),
@@ -820,7 +827,10 @@ pub fn help(alias: &Alias) -> String {
         out.push_str(&format!("  --{flag:<20} {what}\n"));
     }
     for (name, value) in alias.defaults {
-        out.push_str(&format!("  (without it, --{name} {value})\n"));
+        out.push_str(&match name.strip_suffix("-unit") {
+            Some(input) => format!("  --{input} without its unit is in {value}\n"),
+            None => format!("  without --{name}: {value}\n"),
+        });
     }
     out.push_str("The calculator's own flags are accepted too.\n");
     out
