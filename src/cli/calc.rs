@@ -374,7 +374,8 @@ fn log_outcome(
         shown(unit.from_si(r.value), r.quantity, figures)
     };
     let input = |i: &crate::engine::calculators::InputUsed| given.typed.get(i.name).cloned();
-    let caution = super::words::caution_line;
+    // The record has the severity of its own: the words are the sentence as printed.
+    let caution = super::words::caution_text;
     let dose = crate::log::shown::dose_of_outcome(
         outcome,
         &crate::log::shown::Shown {

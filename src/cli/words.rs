@@ -117,18 +117,22 @@ fn severity_word(severity: Severity) -> &'static str {
     }
 }
 
-/// One caution as printed: `[warning] sentence`, or, where the catalog has no sentence for it,
-/// `[warning] code (name=value, ...)` so nothing is lost.
-pub fn caution_line(c: &Caution) -> String {
-    let sev = severity_word(c.severity);
+/// A caution's words: its sentence, or, where the catalog has no sentence for it, its code with
+/// the parameters (`code (name=value, ...)`) so nothing is lost. What the log records.
+pub fn caution_text(c: &Caution) -> String {
     match sentence(&c.key, &c.params) {
-        Some(text) => format!("[{sev}] {text}"),
-        None if c.params.is_empty() => format!("[{sev}] {}", c.key),
+        Some(text) => text,
+        None if c.params.is_empty() => c.key.clone(),
         None => {
             let p: Vec<String> = c.params.iter().map(|(n, v)| format!("{n}={v}")).collect();
-            format!("[{sev}] {} ({})", c.key, p.join(", "))
+            format!("{} ({})", c.key, p.join(", "))
         }
     }
+}
+
+/// One caution as printed: `[warning] ` and its words.
+pub fn caution_line(c: &Caution) -> String {
+    format!("[{}] {}", severity_word(c.severity), caution_text(c))
 }
 
 /// Cautions as printed, one line each.
