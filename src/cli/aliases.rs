@@ -162,6 +162,11 @@ const TABLE: [Alias; 10] = [
             ("ph", Input("ph-raw")),
             ("calcium-as-caco3", Input("calcium-hardness")),
             ("magnesium-as-caco3", Refused(NO_IONS)),
+            ("magnesium-as-mg", Refused(NO_IONS)),
+            (
+                "calcium-as-ca",
+                Refused("the table's pH adjustment takes calcium as CaCO3: --calcium-as-caco3")
+            ),
             ("sodium", Refused(NO_IONS)),
             ("potassium", Refused(NO_IONS)),
             ("chloride", Refused(NO_IONS)),

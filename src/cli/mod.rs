@@ -177,7 +177,7 @@ const HELP: &str =
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
-water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [--calcium-as-caco3 --magnesium-as-caco3 ions]; see docs/water-notes.md)
+water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [--calcium-as-caco3|--calcium-as-ca --magnesium-as-caco3|--magnesium-as-mg ions]; see docs/water-notes.md)
 dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
 calculators: calculators [--json]                 every calculator, its inputs (units, basis) and result ids
             calc ID --INPUT VALUE ... [--product P] [--units si|us] [--site FILE] [--json]   (calc ID --help)

@@ -13,10 +13,8 @@ use serde_json::{Value, json};
 /// `--calcium` and `--magnesium` once meant mg/L as CaCO3 here and, in the older softening
 /// command, mg/L as the ion: a number typed for one read as the other is 2.5 to 4 times off.
 /// Each is refused with a sentence naming the flags that state their basis.
-pub(super) const CALCIUM_REFUSED: &str =
-    "--calcium is ambiguous: give --calcium-as-caco3 (mg/L as CaCO3)";
-pub(super) const MAGNESIUM_REFUSED: &str =
-    "--magnesium is ambiguous: give --magnesium-as-caco3 (mg/L as CaCO3)";
+pub(super) const CALCIUM_REFUSED: &str = "--calcium is ambiguous: give --calcium-as-caco3 (mg/L as CaCO3) or --calcium-as-ca (mg/L of the ion)";
+pub(super) const MAGNESIUM_REFUSED: &str = "--magnesium is ambiguous: give --magnesium-as-caco3 (mg/L as CaCO3) or --magnesium-as-mg (mg/L of the ion)";
 
 pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
     // Read here so `molefeed batch` (which always sets it) accepts every water command.
@@ -29,7 +27,7 @@ pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
             return Err(CliError::usage(why));
         }
     }
-    let input = WaterInput {
+    let mut input = WaterInput {
         calcium_mg_l_as_caco3: args.number("calcium-as-caco3")?,
         magnesium_mg_l_as_caco3: args.number("magnesium-as-caco3")?,
         sodium_mg_l: args.number("sodium")?,
@@ -44,6 +42,23 @@ pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
             args.required_number("alkalinity")?,
         )
     };
+    // The same ions as mg/L of the ion itself; the engine converts with its molar masses.
+    if let Some(ca) = args.number("calcium-as-ca")? {
+        if input.calcium_mg_l_as_caco3.is_some() {
+            return Err(CliError::usage(
+                "give calcium once: --calcium-as-caco3 or --calcium-as-ca",
+            ));
+        }
+        input = input.with_calcium_as_ion(ca)?;
+    }
+    if let Some(mg) = args.number("magnesium-as-mg")? {
+        if input.magnesium_mg_l_as_caco3.is_some() {
+            return Err(CliError::usage(
+                "give magnesium once: --magnesium-as-caco3 or --magnesium-as-mg",
+            ));
+        }
+        input = input.with_magnesium_as_ion(mg)?;
+    }
     Ok(WaterState::new(&input)?)
 }
 
