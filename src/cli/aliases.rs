@@ -759,8 +759,8 @@ pub fn run(alias: &Alias, args: &Args) -> CliResult {
     let report = super::calc::run(&calc_args).map_err(|e| hint(alias, e))?;
     calc_args.reject_unused().map_err(|e| CliError {
         message: format!(
-            "{} (the translation of 'molefeed {}' is out of step with the calculator table)",
-            e.message, alias.command
+            "{}: 'molefeed {}' runs 'molefeed calc {}', which does not take it here (with this product, see 'molefeed calc {} --help')",
+            e.message, alias.command, alias.calculator, alias.calculator
         ),
         ..e
     })?;
