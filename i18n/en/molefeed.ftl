@@ -586,6 +586,9 @@ chlorine-short-of-natural-breakpoint = The chlorine ({ $dose_mg_l } mg/L) does n
 free-ammonia-nitrification = About { $free_n_mg_l } mg/L of ammonia-N is left uncombined: free ammonia feeds nitrification in the distribution system.
 dechlor-field-dose-separate = This is the dose the balanced reaction needs; field practice often feeds more. Start here and adjust on a residual test.
 dechlor-oxygen-demand = An overdose of the agent consumes dissolved oxygen and lowers the pH of the receiving water.
+ct-regression-not-table = The CT required is from the EPA regression (Smith et al. 1995); compliance uses the plant's approved method.
+ct-outside-table-range = The inputs are outside the range of the EPA tables (0.5–25 °C, pH 6–9, 0.4–3 mg/L).
+ct-below-3log = CT { $ct } mg·min/L is below the { $required } mg·min/L needed for 3-log Giardia inactivation.
 
 settings-initials = Operator initials
 log-need-initials = Enter your initials in Settings first: each logged dose records who set it.

@@ -586,6 +586,9 @@ chlorine-short-of-natural-breakpoint = El cloro ({ $dose_mg_l } mg/L) no lleva e
 free-ammonia-nitrification = Quedan unos { $free_n_mg_l } mg/L de N amoniacal sin combinar: el amoníaco libre alimenta la nitrificación en la red.
 dechlor-field-dose-separate = Esta es la dosis que pide la reacción balanceada; en campo suele dosificarse más. Parta de aquí y ajuste con una prueba de residual.
 dechlor-oxygen-demand = Una sobredosis del agente consume oxígeno disuelto y baja el pH del agua receptora.
+ct-regression-not-table = El CT requerido sale de la regresión de la EPA (Smith et al. 1995); el cumplimiento se verifica con el método aprobado de la planta.
+ct-outside-table-range = Los datos están fuera del intervalo de las tablas de la EPA (0,5–25 °C, pH 6–9, 0,4–3 mg/L).
+ct-below-3log = El CT de { $ct } mg·min/L está por debajo de los { $required } mg·min/L necesarios para inactivar 3 log de Giardia.
 
 settings-initials = Iniciales del operador
 log-need-initials = Primero escriba sus iniciales en Ajustes: cada dosis registrada guarda quién la fijó.

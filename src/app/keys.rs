@@ -120,6 +120,12 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "natural-ammonia-broken-first",
     "chlorine-short-of-natural-breakpoint",
     "free-ammonia-nitrification",
+    // A reading moved by its precision that the calculator refuses (`calculators::ranges`).
+    "range-unavailable",
+    // CT has no card in the app; the command line prints these sentences.
+    "ct-regression-not-table",
+    "ct-outside-table-range",
+    "ct-below-3log",
 ];
 
 /// Further results listed under the card's big numbers (`result-<id>` with dashes): every

@@ -13,7 +13,6 @@ use crate::engine::calculators::{
     self, Calculator, Calculators, Input, Outcome, Request, ResultValue, given_figures,
     shown_figures,
 };
-use crate::engine::dosing::caution::render;
 use crate::engine::dosing::site::SiteProfile;
 use crate::engine::precision::{range_text, split_tolerance, tolerance_to_si};
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
@@ -90,7 +89,7 @@ pub fn list(args: &Args) -> CliResult {
 pub fn help(calc: &Calculator) -> Result<String, CliError> {
     let c = table()?;
     let mut out = format!(
-        "molefeed calc {} [--product ID] [--mode M] --INPUT VALUE ... [--units si|us] [--site FILE] [--json]\n                  [--log FILE --initials XX --tap TAP --site FILE]   record what is printed\n\n",
+        "molefeed calc {} [--product ID] [--mode M] --INPUT VALUE ... [--units si|us] [--site FILE] [--max-use-level MG_L] [--json]\n                  [--log FILE --initials XX --tap TAP --site FILE]   record what is printed\n\n",
         calc.id
     );
     if !calc.modes.is_empty() {
@@ -221,6 +220,10 @@ fn request(
             .and_then(|id| site.delivered_of(id))
             .and_then(|d| d.max_use_level_mg_l);
     }
+    // The product's maximum use level from its certificate (mg/L of product), over the site's.
+    if let Some(level) = args.number("max-use-level")? {
+        request.max_use_level_mg_l = Some(level);
+    }
     for input in c.inputs(calc, request.product.as_deref()) {
         let Some(text) = args.text(input.name)? else {
             continue;
@@ -335,7 +338,7 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
         human.push('\n');
     }
     human.push('\n');
-    human.push_str(&render(&outcome.cautions));
+    human.push_str(&super::words::cautions(&outcome.cautions));
     let json = json!({
         "calculator": outcome.calculator,
         "mode": outcome.mode,
@@ -346,9 +349,24 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
         "figures": figures,
         "inputs": inputs,
         "traces": traces,
-        "cautions": outcome.cautions,
+        "cautions": cautions_json(&outcome.cautions),
     });
     Report { human, json }
+}
+
+/// Cautions for a script: the engine's codes and parameters, and beside them the English
+/// sentence the human printout shows, where the catalog has one.
+pub fn cautions_json(cautions: &[crate::engine::dosing::Caution]) -> Value {
+    cautions
+        .iter()
+        .map(|c| {
+            let mut v = json!({"severity": c.severity, "key": c.key, "params": c.params});
+            if let Some(text) = super::words::sentence(&c.key, &c.params) {
+                v["text"] = json!(text);
+            }
+            v
+        })
+        .collect()
 }
 
 /// `molefeed calc ID ...`: runs any calculator of the table.
@@ -392,8 +410,8 @@ fn log_outcome(
     let figures = shown_figures(outcome);
     let result = |r: &ResultValue, unit: Unit| shown_with_range(r, unit, figures);
     let input = |i: &crate::engine::calculators::InputUsed| given.typed.get(i.name).cloned();
-    let caution =
-        |c: &crate::engine::dosing::Caution| render(std::slice::from_ref(c)).trim().to_string();
+    // The record has the severity of its own: the words are the sentence as printed.
+    let caution = super::words::caution_text;
     let dose = crate::log::shown::dose_of_outcome(
         outcome,
         &crate::log::shown::Shown {

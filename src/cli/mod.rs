@@ -7,16 +7,24 @@
 //! [`Args`] to a [`Report`]; `molefeed batch` calls the same functions, so a batch line and the
 //! subcommand always agree.
 
+pub mod aliases;
 mod args;
 mod calc;
 mod chemistry;
-mod dosing;
 mod log_cmd;
 mod water;
+mod words;
 
+/// The older dosing subcommands, each a thin alias of `calc`, as `dispatch` routes them.
+pub use aliases::COMMANDS as DOSING_COMMANDS;
 pub use args::Args;
-/// The dosing subcommands, as `dispatch` routes them.
-pub use dosing::COMMANDS as DOSING_COMMANDS;
+/// Each older subcommand and the calculator of the table it stands for.
+pub fn aliases() -> Vec<(&'static str, &'static str)> {
+    aliases::ALIASES
+        .iter()
+        .map(|a| (a.command, a.calculator))
+        .collect()
+}
 
 use serde_json::{Value, json};
 use std::io::{Read, Write};
@@ -96,7 +104,7 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "equivalent" => chemistry::equivalent(args),
         "calculators" => calc::list(args),
         "calc" => calc::run(args),
-        c if dosing::COMMANDS.contains(&c) => dosing::run(c, args),
+        c if aliases::find(c).is_some() => aliases::run_command(c, args),
         "log" => log_cmd::run(args),
         "ph-after" => water::ph_after(args).map(advisory),
         "dose-for-ph" => water::dose_for_ph(args).map(advisory),
@@ -115,21 +123,6 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
     Ok(result)
 }
 
-/// The calculator of the table each older dosing subcommand computes (tests hold the two to the
-/// same numbers): its `--help` points there, where the inputs are listed from the table.
-const OLDER_FORMS: [(&str, &str); 10] = [
-    ("feed", "feed"),
-    ("neutralize-feed", "ph-adjustment"),
-    ("chlorine", "free-chlorine"),
-    ("dechlor", "dechlorination"),
-    ("coagulation", "coagulation"),
-    ("soften", "softening"),
-    ("pump-check", "pump-check"),
-    ("ct", "ct"),
-    ("dilute", "dilution"),
-    ("sludge", "sludge"),
-];
-
 /// `molefeed COMMAND --help`: the command's lines of the overview, and for an older dosing
 /// subcommand the calculator it stands for, with that calculator's inputs from the table.
 fn command_help(command: &str) -> CliResult {
@@ -143,11 +136,13 @@ fn command_help(command: &str) -> CliResult {
             "unknown command '{command}'; try 'molefeed help'"
         )));
     }
-    if let Some((_, id)) = OLDER_FORMS.iter().find(|(old, _)| *old == command) {
-        text.push_str(&format!(
-            "\n'molefeed {command}' is the older form of 'molefeed calc {id}' (see docs/dosing-notes.md for its flags). The calculator's inputs:\n\n"
-        ));
-        text.push_str(&calc::help(crate::engine::calculators::find(id)?)?);
+    if let Some(alias) = aliases::find(command) {
+        text.push('\n');
+        text.push_str(&aliases::help(alias));
+        text.push_str("\nThe calculator's inputs:\n\n");
+        text.push_str(&calc::help(crate::engine::calculators::find(
+            alias.calculator,
+        )?)?);
     }
     Ok(Report {
         json: json!({ "help": text }),
@@ -159,13 +154,18 @@ fn command_help(command: &str) -> CliResult {
 /// numbers inform; a licensed operator decides under the permit and local codes.
 fn advisory(mut report: Report) -> Report {
     let caution = crate::engine::dosing::Caution::advisory();
-    report.human.push_str("\n[note] advisory-operator-decides: results are advisory; a licensed operator decides, under the plant's permit and local codes\n");
+    report.human.push('\n');
+    report.human.push_str(&words::caution_line(&caution));
+    report.human.push('\n');
     if let Some(object) = report.json.as_object_mut() {
         let cautions = object
             .entry("cautions")
             .or_insert_with(|| Value::Array(Vec::new()));
-        if let Some(list) = cautions.as_array_mut() {
-            list.push(serde_json::to_value(&caution).unwrap_or(Value::Null));
+        if let (Some(list), Value::Array(advisory)) = (
+            cautions.as_array_mut(),
+            calc::cautions_json(std::slice::from_ref(&caution)),
+        ) {
+            list.extend(advisory);
         }
     }
     report
@@ -177,11 +177,11 @@ const HELP: &str =
 usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
-water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [ions]; see docs/water-notes.md)
+water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [--calcium-as-caco3|--calcium-as-ca --magnesium-as-caco3|--magnesium-as-mg ions]; see docs/water-notes.md)
 dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
 calculators: calculators [--json]                 every calculator, its inputs (units, basis) and result ids
             calc ID --INPUT VALUE ... [--product P] [--units si|us] [--site FILE] [--json]   (calc ID --help)
-dosing:     feed | neutralize-feed | chlorine | coagulation | dechlor | ct | soften | pump-check | dilute | sludge  (--json, --site FILE; see docs/dosing-notes.md)
+dosing:     feed | neutralize-feed | chlorine | coagulation | dechlor | ct | soften | pump-check | dilute | sludge  (older forms of calc: COMMAND --help shows how their flags translate)
 chemistry:  mass FORMULA
             balance \"EQUATION\" [--per SPECIES]
             convert \"EQUATION\" --from F --amount N --unit g|kg|mg|mol|mmol --to F [--to-unit U]

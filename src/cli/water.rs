@@ -10,29 +10,26 @@ use crate::engine::water::{
 };
 use serde_json::{Value, json};
 
-/// The water from the shared flags, when the operator gave it (any of the `triggers` flags,
-/// e.g. `--ph`, `--temperature`, `--alkalinity`; then all three are required). For calculators
-/// where the water is optional (the dosing commands); the ion flags without the water are left
-/// unread, so the strict parser rejects them.
-pub(super) fn optional_water_state(
-    args: &Args,
-    triggers: &[&str],
-) -> Result<Option<WaterState>, CliError> {
-    let given = triggers
-        .iter()
-        .any(|f| args.text(f).map(|v| v.is_some()).unwrap_or(true));
-    if !given {
-        return Ok(None);
-    }
-    water_state(args).map(Some)
-}
+/// `--calcium` and `--magnesium` once meant mg/L as CaCO3 here and, in the older softening
+/// command, mg/L as the ion: a number typed for one read as the other is 2.5 to 4 times off.
+/// Each is refused with a sentence naming the flags that state their basis.
+pub(super) const CALCIUM_REFUSED: &str = "--calcium is ambiguous: give --calcium-as-caco3 (mg/L as CaCO3) or --calcium-as-ca (mg/L of the ion)";
+pub(super) const MAGNESIUM_REFUSED: &str = "--magnesium is ambiguous: give --magnesium-as-caco3 (mg/L as CaCO3) or --magnesium-as-mg (mg/L of the ion)";
 
 pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
     // Read here so `molefeed batch` (which always sets it) accepts every water command.
     args.switch("json");
-    let input = WaterInput {
-        calcium_mg_l_as_caco3: args.number("calcium")?,
-        magnesium_mg_l_as_caco3: args.number("magnesium")?,
+    for (old, why) in [
+        ("calcium", CALCIUM_REFUSED),
+        ("magnesium", MAGNESIUM_REFUSED),
+    ] {
+        if args.text(old).is_err() || args.text(old)?.is_some() {
+            return Err(CliError::usage(why));
+        }
+    }
+    let mut input = WaterInput {
+        calcium_mg_l_as_caco3: args.number("calcium-as-caco3")?,
+        magnesium_mg_l_as_caco3: args.number("magnesium-as-caco3")?,
         sodium_mg_l: args.number("sodium")?,
         potassium_mg_l: args.number("potassium")?,
         chloride_mg_l: args.number("chloride")?,
@@ -45,6 +42,23 @@ pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
             args.required_number("alkalinity")?,
         )
     };
+    // The same ions as mg/L of the ion itself; the engine converts with its molar masses.
+    if let Some(ca) = args.number("calcium-as-ca")? {
+        if input.calcium_mg_l_as_caco3.is_some() {
+            return Err(CliError::usage(
+                "give calcium once: --calcium-as-caco3 or --calcium-as-ca",
+            ));
+        }
+        input = input.with_calcium_as_ion(ca)?;
+    }
+    if let Some(mg) = args.number("magnesium-as-mg")? {
+        if input.magnesium_mg_l_as_caco3.is_some() {
+            return Err(CliError::usage(
+                "give magnesium once: --magnesium-as-caco3 or --magnesium-as-mg",
+            ));
+        }
+        input = input.with_magnesium_as_ion(mg)?;
+    }
     Ok(WaterState::new(&input)?)
 }
 
@@ -239,16 +253,31 @@ pub fn coagulant(args: &Args) -> CliResult {
     })
 }
 
-/// `molefeed neutralize --chemical X --target-ph P [--purity F] WATER`
+/// `molefeed neutralize --chemical X --target-ph P [--purity PERCENT] WATER`
+///
+/// The purity is in percent, as everywhere else; a value that looks like a fraction (1 or
+/// less, the older meaning of this flag) is refused, because read as percent it would be a
+/// dose a hundred times too large.
 pub fn neutralize(args: &Args) -> CliResult {
     let chem = chemical(args)?;
     let target = args.required_number("target-ph")?;
-    let purity = args.number("purity")?.unwrap_or(1.0);
+    let percent = args.number("purity")?.unwrap_or(100.0);
+    if percent <= 1.0 {
+        return Err(CliError {
+            kind: "invalid-input".into(),
+            message: format!(
+                "--purity {percent} looks like a fraction: the purity is in percent (90 for 90 %)"
+            ),
+            reason: None,
+        });
+    }
+    // `water::neutralize` takes the purity as a fraction of one.
+    let purity = percent / 100.0;
     let state = water_state(args)?;
     let n = water::neutralize(&state, chem, target, purity)?;
     Ok(Report {
         human: format!(
-            "{:.2} mg/L {} ({:.2} mg/L of product at purity {purity}) -> pH {:.2}, alkalinity {:.1} mg/L as CaCO3, LSI {}\n",
+            "{:.2} mg/L {} ({:.2} mg/L of product at purity {percent} %) -> pH {:.2}, alkalinity {:.1} mg/L as CaCO3, LSI {}\n",
             n.dose_mg_l,
             chem.id,
             n.product_mg_l,

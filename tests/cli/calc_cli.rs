@@ -101,13 +101,13 @@ fn calc_ph_adjustment_and_neutralize_feed_give_the_same_dose_and_pump_setting() 
     ));
     assert_eq!(code, 0, "{text}");
     let dose = result(&table, "dose").unwrap();
-    let old_dose = old["dose_mg_l"].as_f64().unwrap();
+    let old_dose = result(&old, "dose").unwrap();
     assert!(
         (dose - old_dose).abs() <= 1e-9 * old_dose,
         "{dose} vs {old_dose}"
     );
     let pump = result(&table, "pump_setting").unwrap();
-    let old_pump = old["pump_percent"].as_f64().unwrap();
+    let old_pump = result(&old, "pump_setting").unwrap();
     assert!(
         (pump - old_pump).abs() <= 1e-9 * old_pump,
         "{pump} vs {old_pump}"
@@ -250,6 +250,18 @@ fn a_logged_gas_feed_carries_what_was_printed_and_no_invented_zeros() {
         (flow["text"].as_str(), flow["unit"].as_str()),
         (Some("9000"), Some("m³/d"))
     );
+    // The cautions are recorded in the words printed: the advisory's English sentence
+    // (`advisory-note` in i18n/en/molefeed.ftl), its severity beside it.
+    let advisory = dose["cautions"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["code"] == "advisory-operator-decides")
+        .unwrap();
+    assert_eq!(
+        advisory["text"],
+        "Advisory only: a licensed operator decides the feed, under the plant's permit and local codes."
+    );
     let _ = std::fs::remove_dir_all(&dir);
 }
 
@@ -261,6 +273,9 @@ fn an_older_subcommand_answers_help_with_its_calculator() {
     assert_eq!(code, 0, "{text}");
     assert!(text.contains("molefeed calc ph-adjustment"), "{text}");
     assert!(text.contains("--ph-target"), "{text}");
+    // And how its older flags translate.
+    assert!(text.contains("--target-ph"), "{text}");
+    assert!(text.contains("--calcium-as-caco3"), "{text}");
     let (code, json, _) = run(&["stability", "--help", "--json"]);
     assert_eq!(code, 0);
     assert!(json["help"].as_str().unwrap().contains("stability"));

@@ -41,27 +41,27 @@ impl Rng {
 }
 
 const HYPO: &str = "--product sodium-hypochlorite --strength 12.5 --strength-basis trade --sg 1.16";
-const WATER: &str = "--ph 7.4 --temperature 12 --alkalinity 90 --calcium 110 --magnesium 35 --sodium 18 --chloride 22 --sulfate 35";
+const WATER: &str = "--ph 7.4 --temperature 12 --alkalinity 90 --calcium-as-caco3 110 --magnesium-as-caco3 35 --sodium 18 --chloride 22 --sulfate 35";
 
 /// Valid (or nearly valid) requests the mutations start from, one per command.
 fn templates() -> Vec<(String, String)> {
     let t = |c: &str, a: String| (c.to_string(), a);
     vec![
         t("feed", format!("--flow 2.5 --flow-unit mgd --dose 3.0 {HYPO} --pump-capacity 10 --pump-unit gph")),
-        t("chlorine", format!("--demand 1.4 --residual 1.0 --ammonia-n 0.3 --flow 2.5 --flow-unit mgd {HYPO}")),
-        t("dechlor", "--residual 2.0 --agent NaHSO3 --flow 1.2 --flow-unit mgd --product sodium-bisulfite --strength 38 --strength-basis weight --sg 1.36".into()),
+        t("chlorine", format!("--demand 1.4 --residual 1.0 --ammonia-n 0.3 --flow 2.5 --flow-unit mgd {HYPO} --pump-capacity 10 --pump-unit gph")),
+        t("dechlor", "--residual 2.0 --agent NaHSO3 --flow 1.2 --flow-unit mgd --product sodium-bisulfite --strength 38 --strength-basis weight --sg 1.36 --pump-capacity 5 --pump-unit gph".into()),
         t("ct", "--residual 1.0 --ph 7 --temperature 10 --volume 250000 --volume-unit gal --baffling 0.5 --flow 2 --flow-unit mgd".into()),
-        t("soften", "--alkalinity 200 --excess-lime 35 --nch 50".into()),
-        t("pump-check", format!("--drawdown-ml 250 --seconds 60 --flow 2.5 --flow-unit mgd {HYPO} --target-dose 3.0")),
+        t("soften", "--flow 5000 --flow-unit m3-per-day --product hydrated-lime --total-hardness 250 --calcium-hardness 200 --alkalinity 200 --ph 7.6 --temperature 15 --excess-lime 35 --lime-purity 93 --soda-ash-purity 98".into()),
+        t("pump-check", format!("--drawdown-ml 250 --seconds 60 --flow 2.5 --flow-unit mgd {HYPO} --target-dose 3.0 --current-setting 30")),
         t("dilute", "--product sodium-hypochlorite --strength 12.5 --strength-basis trade --sg 1.16 --target-strength 1 --target-basis trade --target-sg 1.02 --volume 200 --volume-unit L".into()),
-        t("sludge", "--coagulant alum --dose 30 --turbidity 8 --ss-per-ntu 1.5 --flow 2 --flow-unit mgd".into()),
-        t("coagulation", format!("--coagulant alum --dose 30 {WATER}")),
-        t("neutralize-feed", format!("--target-ph 8.2 --flow 2 --flow-unit mgd --product sodium-hydroxide --strength 50 --strength-basis weight --sg 1.52 {WATER}")),
+        t("sludge", "--coagulant alum --dose 30 --suspended-solids 12 --flow 2 --flow-unit mgd".into()),
+        t("coagulation", "--coagulant alum --dose 30 --ph 7.4 --temperature 12 --alkalinity 90 --flow 2 --flow-unit mgd --strength 48.5 --sg 1.33 --pump-capacity 20 --pump-unit gph".into()),
+        t("neutralize-feed", "--target-ph 8.2 --flow 2 --flow-unit mgd --product sodium-hydroxide --strength 50 --strength-basis weight --sg 1.52 --pump-capacity 10 --pump-unit gph --ph 7.4 --temperature 12 --alkalinity 90 --calcium-as-caco3 110".into()),
         t("ph-after", format!("--chemical Ca(OH)2 --dose 15 {WATER}")),
         t("dose-for-ph", format!("--chemical NaOH --target-ph 8.8 {WATER}")),
         t("stability", WATER.into()),
         t("coagulant", format!("--chemical FeCl3 --dose 25 {WATER}")),
-        t("neutralize", format!("--chemical CaO --target-ph 8.2 --purity 0.92 {WATER}")),
+        t("neutralize", format!("--chemical CaO --target-ph 8.2 --purity 92 {WATER}")),
         t("curve", format!("--chemical H2SO4 --max-dose 40 --points 50 {WATER}")),
         t("convert", "--from Cl2 --amount 10 --unit kg --to NH3".into()),
         t("mass", String::new()),

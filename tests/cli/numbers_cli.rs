@@ -156,7 +156,7 @@ fn a_pump_setting_of_a_mistyped_capacity_is_refused_not_printed() {
     let (code, json, stdout) = run_json(&real);
     assert_eq!(code, Some(0), "{stdout}");
     assert!(
-        (json["pump_percent"].as_f64().unwrap() - 25.0).abs() < 1e-9,
+        (json["results"]["pump_setting"]["value"].as_f64().unwrap() - 25.0).abs() < 1e-9,
         "{stdout}"
     );
 }

@@ -119,3 +119,77 @@ fn an_error_message_is_one_line_whatever_the_input_held() {
         "{error}"
     );
 }
+
+/// Human output says its cautions in words, from the catalog the app translates
+/// (`i18n/en/molefeed.ftl`); the JSON keeps the codes and adds the same sentence.
+#[test]
+fn cautions_print_as_sentences_and_json_keeps_the_codes() {
+    let calc = [
+        "calc",
+        "ct",
+        "--residual",
+        "0.5",
+        "--ph",
+        "7.5",
+        "--temperature",
+        "15",
+        "--temperature-unit",
+        "celsius",
+        "--t10",
+        "20",
+    ];
+    let water = [
+        "stability",
+        "--ph",
+        "8.1",
+        "--temperature",
+        "20",
+        "--alkalinity",
+        "120",
+        "--calcium-as-caco3",
+        "150",
+    ];
+    for args in [&calc[..], &water[..]] {
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_molefeed"))
+            .args(args)
+            .output()
+            .unwrap();
+        let human = String::from_utf8_lossy(&out.stdout);
+        assert!(out.status.success(), "{args:?}: {human}");
+        // The English text of `advisory-note`, which the advisory code prints as.
+        assert!(
+            human.contains("[note] Advisory only: a licensed operator decides the feed"),
+            "{human}"
+        );
+        assert!(!human.contains("advisory-operator-decides"), "{human}");
+        assert!(!human.contains("{ $"), "{human}");
+        let json_out = std::process::Command::new(env!("CARGO_BIN_EXE_molefeed"))
+            .args(args)
+            .arg("--json")
+            .output()
+            .unwrap();
+        let json: serde_json::Value = serde_json::from_slice(&json_out.stdout).unwrap();
+        let advisory = json["cautions"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["key"] == "advisory-operator-decides")
+            .unwrap_or_else(|| panic!("{json}"));
+        assert!(
+            advisory["text"]
+                .as_str()
+                .unwrap()
+                .starts_with("Advisory only")
+        );
+    }
+    // CT 0.5 × 20 = 10 mg·min/L, below the 3-log requirement: its sentence, numbers filled in.
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_molefeed"))
+        .args(calc)
+        .output()
+        .unwrap();
+    let human = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        human.contains("[warning] CT 10 mg·min/L is below the "),
+        "{human}"
+    );
+}

@@ -4,7 +4,7 @@
 use molefeed::cli::{Args, dispatch};
 use serde_json::Value;
 
-const WATER: &str = "--ph 7.4 --temperature 12 --alkalinity 90 --calcium 110 --magnesium 35 --sodium 18 --chloride 22 --sulfate 35 --json";
+const WATER: &str = "--ph 7.4 --temperature 12 --alkalinity 90 --calcium-as-caco3 110 --magnesium-as-caco3 35 --sodium 18 --chloride 22 --sulfate 35 --json";
 
 fn run(command: &str, flags: &str) -> Result<Value, String> {
     let mut words: Vec<String> = flags.split_whitespace().map(String::from).collect();
@@ -74,7 +74,7 @@ fn every_water_command_reports_its_fields() {
     assert!((per_mg - 0.5).abs() < 0.03, "{per_mg}");
     check(
         "neutralize",
-        "--chemical CaO --target-ph 8.2 --purity 0.92",
+        "--chemical CaO --target-ph 8.2 --purity 92",
         &["dose_mg_l", "product_mg_l", "ph"],
     );
     let curve = run("curve", "--chemical H2SO4 --max-dose 40 --points 200").unwrap();
@@ -109,6 +109,13 @@ fn failures_have_typed_kinds() {
         ),
         ("ph-after", "--chemical NaOH --dose 3 --dsoe 4", "usage"),
         ("ph-after", "--chemical NaOH", "usage"),
+        // The purity is in percent: a fraction (its older meaning) is refused, not read as
+        // a hundredth of a percent.
+        (
+            "neutralize",
+            "--chemical CaO --target-ph 8.2 --purity 0.92",
+            "invalid-input",
+        ),
     ] {
         assert_eq!(run(command, flags).unwrap_err(), kind, "{command} {flags}");
     }
@@ -125,7 +132,7 @@ fn every_water_result_carries_the_advisory_caution() {
             "20",
             "--alkalinity",
             "120",
-            "--calcium",
+            "--calcium-as-caco3",
             "150",
             "--json",
         ][..],
@@ -161,4 +168,54 @@ fn every_water_result_carries_the_advisory_caution() {
             "{args:?}: {keys:?}"
         );
     }
+}
+
+/// `--calcium` and `--magnesium` did not say their basis (as CaCO3 here, as the ion in the
+/// older softening command): each is refused with a sentence naming the flag that does.
+#[test]
+fn hardness_flags_state_their_basis() {
+    for (old, new) in [
+        ("--calcium", "--calcium-as-caco3"),
+        ("--magnesium", "--magnesium-as-caco3"),
+    ] {
+        let words: Vec<String> = format!("--ph 7.4 --temperature 12 --alkalinity 90 {old} 35")
+            .split_whitespace()
+            .map(String::from)
+            .collect();
+        let e = dispatch("stability", &Args::parse(&words).unwrap())
+            .err()
+            .unwrap();
+        assert_eq!(e.kind, "usage", "{old}");
+        assert!(e.message.contains(new), "{old}: {}", e.message);
+    }
+}
+
+/// The same water with its calcium and magnesium as the ions: 44.05 mg/L Ca is 110.0 mg/L as
+/// CaCO3 (× 100.087/40.078) and 8.500 mg/L Mg is 35.0 mg/L as CaCO3 (× 100.087/24.305), IUPAC
+/// atomic weights; the pH after a dose comes out the same to the third decimal.
+#[test]
+fn calcium_and_magnesium_may_be_given_as_the_ion() {
+    let as_ion = "--ph 7.4 --temperature 12 --alkalinity 90 --calcium-as-ca 44.05 --magnesium-as-mg 8.500 --sodium 18 --chloride 22 --sulfate 35";
+    let as_caco3 = WATER.trim_end_matches(" --json");
+    let ph = |water: &str| {
+        let words: Vec<String> = format!("--chemical NaOH --dose 5 {water}")
+            .split_whitespace()
+            .map(String::from)
+            .collect();
+        dispatch("ph-after", &Args::parse(&words).unwrap())
+            .unwrap_or_else(|e| panic!("{water}: {}", e.message))
+            .json["ph"]
+            .as_f64()
+            .unwrap()
+    };
+    assert!((ph(as_ion) - ph(as_caco3)).abs() < 1e-3);
+    let both: Vec<String> =
+        "--ph 7.4 --temperature 12 --alkalinity 90 --calcium-as-ca 44 --calcium-as-caco3 110"
+            .split_whitespace()
+            .map(String::from)
+            .collect();
+    let e = dispatch("stability", &Args::parse(&both).unwrap())
+        .err()
+        .unwrap();
+    assert_eq!(e.kind, "usage");
 }

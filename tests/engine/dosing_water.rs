@@ -447,42 +447,45 @@ fn run(args: &str) -> (i32, serde_json::Value) {
     (out.status.code().unwrap_or(-1), json)
 }
 
-fn num(j: &serde_json::Value, key: &str) -> f64 {
-    j[key]
+/// A result of `molefeed calc` (or an older command, its alias), in SI.
+fn num(j: &serde_json::Value, id: &str) -> f64 {
+    j["results"][id]["value"]
         .as_f64()
-        .unwrap_or_else(|| panic!("no number at {key}: {j}"))
+        .unwrap_or_else(|| panic!("no result {id}: {j}"))
 }
+
+const GAS_FEED: &str = "--product chlorine-gas --strength 100 --feeder-capacity 100 --feeder-unit kg/d --gas --flow 2.5 --flow-unit mgd";
 
 #[test]
 fn cli_chlorine_reports_the_water_after() {
-    let (code, j) = run(
-        "chlorine --demand 1.4 --residual 1.0 --ph 7.2 --temperature 12 --alkalinity 60 --product chlorine-gas --json",
-    );
+    let (code, j) = run(&format!(
+        "chlorine --demand 1.4 --residual 1.0 --ph 7.2 --temperature 12 --alkalinity 60 {GAS_FEED} --json"
+    ));
     assert_eq!(code, 0, "{j}");
     assert!(num(&j, "ph_after") < 7.2);
     // 0.71 mg/L as CaCO3 per mg/L Cl2 (references.md §4 [C]) × 2.4 mg/L.
     check(
         "CLI alkalinity after",
-        num(&j, "alkalinity_after_mg_l_as_caco3"),
+        num(&j, "alkalinity_after"),
         60.0 - 0.71 * 2.4,
         0.02,
     );
     // Without the water: no pH, and the note asking for it.
-    let (code, j) = run("chlorine --demand 1.4 --residual 1.0 --json");
-    assert_eq!(code, 0);
-    assert!(j["ph_after"].is_null());
+    let (code, j) = run(&format!(
+        "chlorine --demand 1.4 --residual 1.0 {GAS_FEED} --json"
+    ));
+    assert_eq!(code, 0, "{j}");
+    assert!(j["results"].get("ph_after").is_none());
     assert!(
         j["cautions"]
             .to_string()
             .contains("give-water-for-ph-effect")
     );
-    // The water without a product is a usage error; an ion flag without the water is rejected.
-    let (code, _) = run(
-        "chlorine --demand 1.4 --residual 1.0 --ph 7.2 --temperature 12 --alkalinity 60 --json",
-    );
-    assert_ne!(code, 0);
-    let (code, _) = run("chlorine --demand 1.4 --residual 1.0 --calcium 50 --json");
-    assert_ne!(code, 0);
+    // An ion flag the calculator does not take is rejected, not ignored.
+    let (code, _) = run(&format!(
+        "chlorine --demand 1.4 --residual 1.0 {GAS_FEED} --calcium 50 --json"
+    ));
+    assert_eq!(code, 2);
 }
 
 #[test]
@@ -490,23 +493,25 @@ fn cli_neutralize_feed_gives_dose_feed_and_pump() {
     let (code, j) = run(
         "neutralize-feed --product sodium-hydroxide --strength 50 --strength-basis weight --sg 1.52 \
          --target-ph 7.8 --flow 2.5 --flow-unit mgd --pump-capacity 10 --pump-unit gph \
-         --ph 6.6 --temperature 15 --alkalinity 40 --calcium 60 --json",
+         --ph 6.6 --temperature 15 --alkalinity 40 --calcium-as-caco3 60 --json",
     );
     assert_eq!(code, 0, "{j}");
     check("pH after", num(&j, "ph_after"), 7.8, 1e-6);
-    assert!(num(&j, "dose_mg_l") > 0.0);
-    assert!(num(&j, "pump_percent") > 0.0);
-    assert!(j["langelier_index_after"].is_number());
+    assert!(num(&j, "dose") > 0.0);
+    assert!(num(&j, "pump_setting") > 0.0);
+    assert!(j["results"]["lsi_after"]["value"].is_number());
     assert!(
         j["cautions"]
             .to_string()
             .contains("hazard-corrosive-caustic")
     );
-    let (code, _) = run(
+    let (code, j) = run(
         "neutralize-feed --product sulfuric-acid --strength 93 --strength-basis weight --sg 1.835 \
-         --target-ph 8.0 --flow 2.5 --flow-unit mgd --ph 6.6 --temperature 15 --alkalinity 40 --json",
+         --target-ph 8.0 --flow 2.5 --flow-unit mgd --pump-capacity 10 --pump-unit gph \
+         --ph 6.6 --temperature 15 --alkalinity 40 --json",
     );
-    assert_ne!(code, 0, "an acid cannot raise the pH");
+    assert_eq!(code, 1, "an acid cannot raise the pH: {j}");
+    assert_eq!(j["error"]["kind"], "unreachable", "{j}");
 }
 
 #[test]
@@ -546,27 +551,31 @@ fn carbon_dioxide_and_bicarbonate_have_products() {
 
 #[test]
 fn cli_coagulation_with_and_without_the_water() {
-    let (code, j) = run(
-        "coagulation --coagulant alum --dose 30 --alkalinity 80 --ph 7.4 --temperature 15 --calcium 100 --json",
-    );
+    let feed =
+        "--flow 2 --flow-unit mgd --strength 48.5 --sg 1.33 --pump-capacity 20 --pump-unit gph";
+    let (code, j) = run(&format!(
+        "coagulation --coagulant alum --dose 30 --alkalinity 80 --ph 7.4 --temperature 15 {feed} --json"
+    ));
     assert_eq!(code, 0, "{j}");
-    // Alum 0.505 mg/L as CaCO3 per mg/L (references.md §5 [D]), from the water engine.
+    // Alum 0.505 mg/L as CaCO3 per mg/L (references.md §5 [D]).
     check(
-        "CLI alum alkalinity change",
-        num(&j["water"], "alkalinity_change_mg_l_as_caco3"),
-        -0.505 * 30.0,
+        "CLI alum alkalinity consumed",
+        num(&j, "alkalinity_consumed"),
+        0.505 * 30.0,
         0.02,
     );
-    assert!(num(&j["water"], "ph_after") < 7.4);
-    assert!(j["water"]["langelier_index_after"].is_number());
-    let (code, j) = run("coagulation --coagulant alum --dose 30 --alkalinity 80 --json");
-    assert_eq!(code, 0, "{j}");
-    assert!(j["water"].is_null());
-    assert!(
-        j["cautions"]
-            .to_string()
-            .contains("give-water-for-ph-effect")
-    );
+    assert!(num(&j, "ph_after_coagulant") < 7.4);
+    // The table's coagulation needs the water; without it the missing reading is named.
+    let (code, j) = run(&format!(
+        "coagulation --coagulant alum --dose 30 --alkalinity 80 {feed} --json"
+    ));
+    assert_eq!(code, 1, "{j}");
+    assert_eq!(j["error"]["reason"], "missing-input", "{j}");
+    // A flag the calculator does not take is refused, not ignored.
+    let (code, _) = run(&format!(
+        "coagulation --coagulant alum --dose 30 --alkalinity 80 --ph 7.4 --temperature 15 {feed} --calcium 100 --json"
+    ));
+    assert_eq!(code, 2);
 }
 
 mod props {
@@ -628,33 +637,17 @@ mod props {
 }
 
 #[test]
-fn cli_feed_with_the_water() {
+fn cli_feed_takes_no_water_and_says_where_its_effect_is() {
     let (code, j) = run(
         "feed --flow 2.5 --flow-unit mgd --dose 3.0 --product sodium-hypochlorite --strength 12.5 \
-         --strength-basis trade --sg 1.16 --ph 7.2 --temperature 12 --alkalinity 60 --json",
+         --strength-basis trade --sg 1.16 --pump-capacity 10 --pump-unit gph \
+         --ph 7.2 --temperature 12 --alkalinity 60 --json",
     );
-    assert_eq!(code, 0, "{j}");
-    assert!(num(&j["water"], "ph_after") > 7.2);
-    // 3.0 mg/L as Cl2 of NaOCl: 3.0 / 0.952 mg/L NaOCl (White 1972 [C]).
-    check(
-        "NaOCl compound",
-        num(&j["water"], "compound_mg_l"),
-        3.0 / 0.952,
-        0.005,
-    );
-    // Ammonia is dosed as N: the feed is given, with a note instead of the pH.
-    let (code, j) = run(
-        "feed --flow 2.5 --flow-unit mgd --dose 1 --product aqua-ammonia --strength 19 \
-         --strength-basis weight --sg 0.93 --ph 7.2 --temperature 12 --alkalinity 60 --json",
-    );
-    assert_eq!(code, 0, "{j}");
-    assert!(j["water"].is_null());
+    assert_eq!(code, 2, "{j}");
     assert!(
-        j["cautions"]
-            .to_string()
-            .contains("water-effect-not-available")
+        j["error"]["message"].as_str().unwrap().contains("ph-after"),
+        "{j}"
     );
-    assert!(num(&j, "active_kg_per_day") > 0.0);
 }
 
 #[test]
@@ -665,9 +658,9 @@ fn cli_site_supplies_product_strength_and_pump() {
          --ph 6.6 --temperature 15 --alkalinity 40 --json"
     ));
     assert_eq!(code, 0, "{j}");
-    assert_eq!(j["product"], "sodium-hydroxide");
+    assert_eq!(j["product"]["id"], "sodium-hydroxide");
     assert!(
-        num(&j, "pump_percent") > 0.0,
+        num(&j, "pump_setting") > 0.0,
         "the site's caustic pump is used"
     );
     let (code, j) = run(&format!(
@@ -675,9 +668,9 @@ fn cli_site_supplies_product_strength_and_pump() {
          --temperature 12 --alkalinity 60 --flow 2.5 --flow-unit mgd --json"
     ));
     assert_eq!(code, 0, "{j}");
-    assert_eq!(j["product"], "sodium-hypochlorite");
+    assert_eq!(j["product"]["id"], "sodium-hypochlorite");
     assert!(num(&j, "ph_after") > 7.2);
-    assert!(j["feed"]["pump"]["percent"].is_number());
+    assert!(num(&j, "pump_setting") > 0.0);
 }
 
 // ---- Breakpoint end state ----
