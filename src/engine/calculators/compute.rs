@@ -436,7 +436,7 @@ pub(super) fn ph_adjustment(c: &Calculators, request: &Request) -> Result<Outcom
         Some("CaCO3"),
     ));
     // With calcium: how the treated water stands to calcium carbonate.
-    if request.get("calcium-hardness").is_some() {
+    if request.get("calcium-hardness").is_some() && !request.headlines_only {
         let chemical = water_chemical(&c.catalog.product(chosen(request)?)?.compound)?;
         let (after, _) = dose_effect(&state, chemical, n.dose_mg_l, Precipitation::None)?;
         let s = water::stability(&after)?;
@@ -741,6 +741,9 @@ pub(super) fn softening(c: &Calculators, request: &Request) -> Result<Outcome> {
         Q::AsCaCO3,
         Some("CaCO3"),
     ));
+    if request.headlines_only {
+        return Ok(out);
+    }
     let softened = softened_water(request, s.lime_caoh2_mg_l, s.soda_ash_mg_l)?;
     out.results
         .push(result("ph_softened", softened.water.ph, Q::Ph, None));

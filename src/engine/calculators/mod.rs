@@ -316,6 +316,10 @@ pub struct Request {
     pub tolerances: BTreeMap<&'static str, f64>,
     /// The site's precision of its instruments, where it differs from the defaults.
     pub precisions: BTreeMap<Instrument, Precision>,
+    /// Only the headline results are wanted: set on the runs that find a range, so that a
+    /// calculator may skip a secondary result that costs an equilibrium solve of its own (the
+    /// softened water's pH, the Langelier index after a pH adjustment).
+    pub headlines_only: bool,
 }
 
 impl Request {
@@ -691,12 +695,15 @@ fn ranges(
     request: &Request,
     outcome: &mut Outcome,
 ) -> Vec<Caution> {
+    let jobs: Vec<(&'static str, [Request; 2])> =
+        ranges::moved_requests(inputs, request).collect();
+    if jobs.is_empty() {
+        return Vec::new();
+    }
+    let runs = ranges::run_all(&jobs, |r| (calculator.compute)(calculators, r));
     let mut moved: Vec<Vec<[f64; 2]>> = vec![Vec::new(); outcome.results.len()];
-    let mut any = false;
-    for (name, requests) in ranges::moved_requests(inputs, request) {
-        any = true;
-        let [low, high] = requests.map(|r| (calculator.compute)(calculators, &r));
-        let (Ok(low), Ok(high)) = (low, high) else {
+    for ((name, _), run) in jobs.iter().zip(runs) {
+        let Some([Ok(low), Ok(high)]) = run else {
             for r in &mut outcome.results {
                 r.range = None;
             }
@@ -714,9 +721,6 @@ fn ranges(
                 _ => pair.push([f64::NAN, f64::NAN]),
             }
         }
-    }
-    if !any {
-        return Vec::new();
     }
     for (r, pair) in outcome.results.iter_mut().zip(&moved) {
         r.range = pair

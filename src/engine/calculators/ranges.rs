@@ -53,10 +53,53 @@ pub(super) fn moved_requests<'a>(
         let moved = |x: f64| {
             let mut r = request.clone();
             r.values.insert(input.name, x);
+            r.headlines_only = true;
             r
         };
         Some((input.name, [moved(low), moved(v + t)]))
     })
+}
+
+/// Runs `compute` on every moved request, the pairs spread over the machine's cores (at most
+/// four): the runs are independent pure calculations, and a phone has the cores to spare while
+/// the operator types. The answers come back in the order of `jobs`; a pair whose thread could
+/// not finish is `None` (the range is then said to be unavailable, never narrowed).
+pub(super) fn run_all<T, F>(jobs: &[(&'static str, [Request; 2])], compute: F) -> Vec<Option<[T; 2]>>
+where
+    T: Send,
+    F: Fn(&Request) -> T + Sync,
+{
+    let pair = |(_, [low, high]): &(&'static str, [Request; 2])| [compute(low), compute(high)];
+    let threads = std::thread::available_parallelism()
+        .map_or(1, |n| n.get())
+        .min(4)
+        .min(jobs.len());
+    if threads <= 1 {
+        return jobs.iter().map(|j| Some(pair(j))).collect();
+    }
+    // Job i goes to thread i % threads, so a dear input and a cheap one share the load.
+    let mut out: Vec<Option<[T; 2]>> = (0..jobs.len()).map(|_| None).collect();
+    std::thread::scope(|scope| {
+        let handles: Vec<_> = (0..threads)
+            .map(|t| {
+                let pair = &pair;
+                scope.spawn(move || {
+                    jobs.iter()
+                        .enumerate()
+                        .skip(t)
+                        .step_by(threads)
+                        .map(|(i, j)| (i, pair(j)))
+                        .collect::<Vec<_>>()
+                })
+            })
+            .collect();
+        for h in handles {
+            for (i, answer) in h.join().unwrap_or_default() {
+                out[i] = Some(answer);
+            }
+        }
+    });
+    out
 }
 
 /// Adds each input's deviations, side by side: `central` the value at the readings as given,
