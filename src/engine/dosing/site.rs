@@ -423,6 +423,68 @@ impl SiteProfile {
     }
 }
 
+/// What a calculation checks against the plant besides its limits: how far its flow meters
+/// read, and which product each of its pumps and feeders is set up for. A front end that knows
+/// the site passes `site.facts()` with the request, whatever the calculator.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct SiteFacts {
+    pub flow_meters: Vec<MeterScale>,
+    pub pumps: Vec<PumpFeeds>,
+}
+
+/// A flow meter's full scale, in m³/d and as the site states it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct MeterScale {
+    pub name: String,
+    pub full_scale_m3_d: f64,
+    /// The full scale in the meter's own unit ("6 MGD").
+    pub stated: String,
+}
+
+/// A pump or feeder and the catalog product of the delivered product it feeds.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PumpFeeds {
+    pub id: String,
+    pub name: String,
+    pub product: String,
+}
+
+impl SiteProfile {
+    /// The site's meters and pumps as a calculation checks them (a meter whose scale cannot
+    /// be converted, or a pump whose product is not stocked, is left out: `validate` refuses
+    /// both before a profile is stored).
+    pub fn facts(&self) -> SiteFacts {
+        SiteFacts {
+            flow_meters: self
+                .flow_meters
+                .iter()
+                .filter_map(|m| {
+                    let l_per_day = Flow::new(Measured::exact(m.max), m.unit)
+                        .to_l_per_day()
+                        .ok()?
+                        .value();
+                    Some(MeterScale {
+                        name: m.name.clone(),
+                        full_scale_m3_d: l_per_day / 1000.0,
+                        stated: format!("{} {}", m.max, m.unit.symbol()),
+                    })
+                })
+                .collect(),
+            pumps: self
+                .pumps
+                .iter()
+                .filter_map(|p| {
+                    Some(PumpFeeds {
+                        id: p.id.clone(),
+                        name: p.name.clone(),
+                        product: self.delivered(&p.product).ok()?.product.clone(),
+                    })
+                })
+                .collect(),
+        }
+    }
+}
+
 /// The limit on `parameter` that applies given a plant's own entries: its entry, else the
 /// regulatory default, else none. The one place a limit is chosen; every check goes through it.
 pub fn effective_limit(plant: &[Limit], parameter: &str) -> Option<Limit> {
