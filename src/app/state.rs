@@ -2339,9 +2339,11 @@ mod tests {
             "14 mg/L not flagged: {:?}",
             codes(&s)
         );
-        // A site that records no level for the product raises nothing.
+        // A site that records no level for the product: the catalog's typical level is
+        // checked instead, and named as typical.
         s.calc.set_max_use_levels(Default::default());
-        assert!(!codes(&s).contains(&over));
+        assert!(codes(&s).contains(&over));
+        assert!(codes(&s).contains(&"max-use-level-typical".to_string()));
     }
 
     /// The Log screen's detail of a gas feed: its feeder setting (not a pump's), the product's

@@ -50,7 +50,7 @@ pub fn list(args: &Args) -> CliResult {
         let results: Vec<Value> = calc
             .results
             .iter()
-            .map(|r| json!({"id": r.id, "quantity": r.quantity, "unit": r.quantity.si().symbol(), "headline": r.headline}))
+            .map(|r| json!({"id": r.id, "quantity": r.quantity, "unit": r.quantity.si().symbol(), "basis": r.basis, "headline": r.headline}))
             .collect();
         human.push_str(&format!(
             "{:<16} inputs: {}\n{:<16} results: {}\n",
@@ -117,7 +117,10 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
             "  --{:<22} {}{}{}\n",
             i.name,
             unit,
-            i.basis.map_or(String::new(), |b| format!(", as {b}")),
+            i.basis.map_or(String::new(), |b| format!(
+                ", {}",
+                calculators::basis_text(b)
+            )),
             if i.optional { " (optional)" } else { "" }
         ));
     }
@@ -125,7 +128,15 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
         "results: {}\n",
         calc.results
             .iter()
-            .map(|r| format!("{} ({})", r.id, r.quantity.si().symbol()))
+            .map(|r| match r.basis {
+                Some(b) => format!(
+                    "{} ({} {})",
+                    r.id,
+                    r.quantity.si().symbol(),
+                    calculators::basis_text(b)
+                ),
+                None => format!("{} ({})", r.id, r.quantity.si().symbol()),
+            })
             .collect::<Vec<_>>()
             .join(", ")
     ));
@@ -217,6 +228,9 @@ fn request(
             .as_deref()
             .and_then(|id| site.delivered_of(id))
             .and_then(|d| d.max_use_level_mg_l);
+        // The site's meters and pumps for the engine's guards; `--pump ID` names the one used.
+        request.site = Some(site.facts());
+        request.pump = args.text("pump")?.map(str::to_string);
     }
     for input in c.inputs(calc, request.product.as_deref()) {
         let Some(text) = args.text(input.name)? else {

@@ -6,7 +6,12 @@
 
 use super::compute;
 use super::{Calculator, Input, Offer, ProductInputs, ResultSpec, Scope, headline, secondary};
+use super::{DOSE_AS, PRODUCT, STRENGTH_BASIS};
 use super::{FeedForm, Quantity as Q};
+
+const CACO3: &str = "CaCO3";
+const CL2: &str = "Cl2";
+const DRY_SOLIDS: &str = "dry solids";
 
 const fn water(name: &'static str, quantity: Q) -> Input {
     Input {
@@ -67,10 +72,10 @@ const FLOW: Input = water("flow", Q::Flow);
 /// chemical per day, the product as delivered (volume for a liquid, mass for a gas or dry
 /// chemical) and the setting of the pump or feeder.
 const FEED_RESULTS: [ResultSpec; 6] = [
-    headline("dose", Q::Concentration),
-    headline("feed_mass_rate", Q::MassPerDay),
-    headline("product_volume_rate", Q::VolumePerHour),
-    headline("product_mass_rate", Q::MassPerDay),
+    headline("dose", Q::Concentration).on(DOSE_AS),
+    headline("feed_mass_rate", Q::MassPerDay).on(DOSE_AS),
+    headline("product_volume_rate", Q::VolumePerHour).on(PRODUCT),
+    headline("product_mass_rate", Q::MassPerDay).on(PRODUCT),
     headline("pump_setting", Q::Percent),
     headline("feeder_setting", Q::Percent),
 ];
@@ -157,9 +162,9 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[4],
             FEED_RESULTS[5],
             secondary("ph_after", Q::Ph),
-            secondary("alkalinity_after", Q::AsCaCO3),
+            secondary("alkalinity_after", Q::AsCaCO3).on(CACO3),
             secondary("lsi_after", Q::Index),
-            secondary("ccpp_after", Q::AsCaCO3),
+            secondary("ccpp_after", Q::AsCaCO3).on(CACO3),
         ],
         in_app: true,
         compute: compute::ph_adjustment,
@@ -171,8 +176,11 @@ pub static TABLE: [Calculator; 11] = [
         modes: &[],
         inputs: &[
             FLOW,
-            own("chlorine-demand", Q::Concentration),
-            limited(own("residual-target", Q::Concentration), "chlorine"),
+            based(own("chlorine-demand", Q::Concentration), CL2),
+            limited(
+                based(own("residual-target", Q::Concentration), CL2),
+                "chlorine",
+            ),
             // Ammonia in the water: chlorine must pass breakpoint before a free residual forms.
             optional(based(water("ammonia-n", Q::Concentration), "N")),
             // With all three, the pH and alkalinity the chlorine leaves.
@@ -189,9 +197,9 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[3],
             FEED_RESULTS[4],
             FEED_RESULTS[5],
-            secondary("breakpoint_dose", Q::Concentration),
+            secondary("breakpoint_dose", Q::Concentration).on(CL2),
             secondary("ph_after", Q::Ph),
-            secondary("alkalinity_after", Q::AsCaCO3),
+            secondary("alkalinity_after", Q::AsCaCO3).on(CACO3),
         ],
         in_app: true,
         compute: compute::free_chlorine,
@@ -235,7 +243,7 @@ pub static TABLE: [Calculator; 11] = [
         modes: &["alkali-caustic", "alkali-lime", "alkali-soda-ash"],
         inputs: &[
             FLOW,
-            own("jar-dose", Q::Concentration),
+            based(own("jar-dose", Q::Concentration), DOSE_AS),
             as_caco3(water("alkalinity", Q::AsCaCO3)),
             as_caco3(own("alkalinity-setpoint", Q::AsCaCO3)),
             water("ph", Q::Ph),
@@ -249,12 +257,13 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[2],
             FEED_RESULTS[3],
             FEED_RESULTS[4],
-            secondary("alkalinity_consumed", Q::AsCaCO3),
-            secondary("alkalinity_remaining", Q::AsCaCO3),
+            secondary("alkalinity_consumed", Q::AsCaCO3).on(CACO3),
+            secondary("alkalinity_remaining", Q::AsCaCO3).on(CACO3),
             secondary("ph_after_coagulant", Q::Ph),
-            secondary("supplemental_alkali", Q::Concentration),
+            // As the mode's alkali (NaOH, Ca(OH)2, Na2CO3): the outcome names which.
+            secondary("supplemental_alkali", Q::Concentration).on("alkali"),
             secondary("ph_after_alkali", Q::Ph),
-            secondary("coagulant_solids", Q::MassPerDay),
+            secondary("coagulant_solids", Q::MassPerDay).on(DRY_SOLIDS),
         ],
         in_app: true,
         compute: compute::coagulation,
@@ -286,13 +295,13 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[1],
             FEED_RESULTS[3],
             FEED_RESULTS[5],
-            secondary("soda_ash_dose", Q::Concentration),
-            secondary("soda_ash_product_mass_rate", Q::MassPerDay),
-            secondary("free_co2", Q::Concentration),
-            secondary("magnesium_removed", Q::Concentration),
-            secondary("non_carbonate_hardness", Q::AsCaCO3),
+            secondary("soda_ash_dose", Q::Concentration).on("Na2CO3"),
+            secondary("soda_ash_product_mass_rate", Q::MassPerDay).on(PRODUCT),
+            secondary("free_co2", Q::Concentration).on("CO2"),
+            secondary("magnesium_removed", Q::Concentration).on("Mg"),
+            secondary("non_carbonate_hardness", Q::AsCaCO3).on(CACO3),
             secondary("ph_softened", Q::Ph),
-            secondary("hardness_softened", Q::AsCaCO3),
+            secondary("hardness_softened", Q::AsCaCO3).on(CACO3),
         ],
         in_app: true,
         compute: compute::softening,
@@ -305,15 +314,15 @@ pub static TABLE: [Calculator; 11] = [
         // A drawdown test needs no pump capacity: the product's strength and SG only.
         inputs: &[
             FLOW,
-            own("dose", Q::Concentration),
-            product("drawdown-volume", Q::Millilitres),
+            based(own("dose", Q::Concentration), DOSE_AS),
+            based(product("drawdown-volume", Q::Millilitres), PRODUCT),
             own("drawdown-time", Q::Seconds),
             product("pump-setting", Q::Percent),
         ],
         product_inputs: ProductInputs::Strength,
         offer: Offer::Liquids,
         results: &[
-            headline("actual_dose", Q::Concentration),
+            headline("actual_dose", Q::Concentration).on(DOSE_AS),
             headline("deviation", Q::Percent),
             FEED_RESULTS[1],
             FEED_RESULTS[2],
@@ -327,7 +336,7 @@ pub static TABLE: [Calculator; 11] = [
         id: "feed",
         group: "feed",
         modes: &[],
-        inputs: &[FLOW, own("dose", Q::Concentration)],
+        inputs: &[FLOW, based(own("dose", Q::Concentration), DOSE_AS)],
         product_inputs: ProductInputs::Feed,
         offer: Offer::Feedable(None),
         results: &FEED_RESULTS,
@@ -353,12 +362,12 @@ pub static TABLE: [Calculator; 11] = [
         product_inputs: ProductInputs::None,
         offer: Offer::None,
         results: &[
-            headline("ct", Q::ConcentrationTime),
-            headline("ct_required_3log", Q::ConcentrationTime),
+            headline("ct", Q::ConcentrationTime).on(CL2),
+            headline("ct_required_3log", Q::ConcentrationTime).on(CL2),
             headline("inactivation_ratio", Q::Ratio),
             headline("giardia_log_inactivation", Q::Index),
             secondary("t10", Q::Minutes),
-            secondary("ct_required_1log", Q::ConcentrationTime),
+            secondary("ct_required_1log", Q::ConcentrationTime).on(CL2),
         ],
         in_app: false,
         compute: compute::ct,
@@ -369,7 +378,7 @@ pub static TABLE: [Calculator; 11] = [
         group: "dilution",
         modes: &[],
         inputs: &[
-            own("target-strength", Q::Percent),
+            based(own("target-strength", Q::Percent), STRENGTH_BASIS),
             // The engine reads a solution's strength with its SG, the weaker one's too.
             own("target-specific-gravity", Q::SpecificGravity),
             own("final-volume", Q::Volume),
@@ -377,8 +386,8 @@ pub static TABLE: [Calculator; 11] = [
         product_inputs: ProductInputs::Strength,
         offer: Offer::Liquids,
         results: &[
-            headline("concentrate_volume", Q::Volume),
-            headline("water_volume", Q::Volume),
+            headline("concentrate_volume", Q::Volume).on(PRODUCT),
+            headline("water_volume", Q::Volume).on("water"),
         ],
         in_app: false,
         compute: compute::dilution,
@@ -390,16 +399,16 @@ pub static TABLE: [Calculator; 11] = [
         modes: &[],
         inputs: &[
             FLOW,
-            own("dose", Q::Concentration),
+            based(own("dose", Q::Concentration), DOSE_AS),
             // Raw-water suspended solids removed (measured, or b × NTU with the plant's own b).
-            optional(own("suspended-solids", Q::Concentration)),
-            optional(own("additives", Q::Concentration)),
+            optional(based(own("suspended-solids", Q::Concentration), DRY_SOLIDS)),
+            optional(based(own("additives", Q::Concentration), DRY_SOLIDS)),
         ],
         product_inputs: ProductInputs::None,
         offer: Offer::Listed(&COAGULANTS),
         results: &[
-            headline("solids_concentration", Q::Concentration),
-            headline("dry_solids_mass_rate", Q::MassPerDay),
+            headline("solids_concentration", Q::Concentration).on(DRY_SOLIDS),
+            headline("dry_solids_mass_rate", Q::MassPerDay).on(DRY_SOLIDS),
         ],
         in_app: false,
         compute: compute::sludge,
