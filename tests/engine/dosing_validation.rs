@@ -144,8 +144,10 @@ fn bad_strengths_and_specific_gravities_are_rejected() {
             "specific gravity",
         ),
         (
+            // On a basis its density table does not cover (the table gives trade %), so no SG
+            // can be taken from it.
             "no SG for a solution",
-            hypo(12.5, StrengthBasis::Trade, None),
+            hypo(10.7, StrengthBasis::AvailableChlorine, None),
             ErrorKind::InvalidInput,
             "specific gravity",
         ),
