@@ -13,7 +13,7 @@ use super::seams::{
     SeamError, TraceLine,
 };
 use crate::engine;
-use crate::engine::dosing::site::Limit;
+use crate::engine::dosing::site::{Limit, SiteFacts};
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
 use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, HashMap};
@@ -234,6 +234,8 @@ pub struct CalcController {
     max_use_levels: HashMap<String, f64>,
     /// The site's own limits, which every request carries for the engine's limit check.
     limits: Vec<Limit>,
+    /// The site's meters and pumps, which every request carries for the engine's guards.
+    site: Option<SiteFacts>,
     fields: Rc<FieldIndex>,
 }
 
@@ -250,6 +252,7 @@ impl CalcController {
             products: HashMap::new(),
             max_use_levels: HashMap::new(),
             limits: Vec::new(),
+            site: None,
             fields: Rc::new(FieldIndex::build()),
         }
     }
@@ -257,6 +260,11 @@ impl CalcController {
     /// The site's own limits (the engine adds the regulatory defaults where it sets none).
     pub fn set_limits(&mut self, limits: Vec<Limit>) {
         self.limits = limits;
+    }
+
+    /// The site's flow meters and pumps (a flow above every meter's full scale is cautioned).
+    pub fn set_site_facts(&mut self, site: Option<SiteFacts>) {
+        self.site = site;
     }
 
     /// The site's maximum use levels by catalog product id; each request carries the chosen
@@ -441,6 +449,7 @@ impl CalcController {
             figures,
             max_use_level_mg_l,
             limits: self.limits.clone(),
+            site: self.site.clone(),
         });
         (views, request, invalid)
     }
@@ -458,6 +467,7 @@ impl CalcController {
             products: self.products.clone(),
             max_use_levels: self.max_use_levels.clone(),
             limits: self.limits.clone(),
+            site: self.site.clone(),
             fields: self.fields.clone(),
         };
         probe.current_request()

@@ -35,6 +35,7 @@ fn table_request(request: &CalcRequest) -> Request {
     r.figures = request.figures.clone();
     r.max_use_level_mg_l = request.max_use_level_mg_l;
     r.limits = request.limits.clone();
+    r.site = request.site.clone();
     r
 }
 

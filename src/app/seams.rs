@@ -129,6 +129,8 @@ pub struct CalcRequest {
     /// The site's own limits; the engine checks targets against them (and the regulatory
     /// defaults where the site sets none).
     pub limits: Vec<Limit>,
+    /// The site's flow meters and pumps (`SiteProfile::facts`) for the engine's guards.
+    pub site: Option<crate::engine::dosing::site::SiteFacts>,
 }
 
 impl CalcRequest {
@@ -272,6 +274,7 @@ mod tests {
             figures: BTreeMap::new(),
             max_use_level_mg_l: None,
             limits: Vec::new(),
+            site: None,
         };
         assert_eq!(Unconnected.compute(&request), Err(SeamError::NotConnected));
         assert_eq!(

@@ -720,6 +720,7 @@ impl AppState {
         self.calc
             .set_max_use_levels(sites::max_use_levels(self.site()));
         self.calc.set_limits(self.site().limits.clone());
+        self.calc.set_site_facts(Some(self.site().facts()));
         let (kind, mode) = (self.calc.kind(), self.calc.mode());
         if !self.preselected.contains(&(kind, mode)) {
             self.preselected.push((kind, mode));
@@ -2312,6 +2313,26 @@ mod tests {
             (flow - 4164.0).abs() < 1.0,
             "1.10 MGD in m³/d, still typed: {flow}"
         );
+    }
+
+    #[test]
+    fn a_flow_above_the_demo_plants_meters_is_questioned() {
+        // The demo plant's meters read to 6 MGD; the request carries them to the engine.
+        let mut s = state(crate::app::seams::connected_engine());
+        s.open_calculator(CalcKind::of("chlorination"));
+        fill_chlorination(&mut s, "2");
+        let codes = |s: &AppState| -> Vec<String> {
+            match s.calc.view().status {
+                Status::Ready(r) => r.cautions.iter().map(|c| c.code.clone()).collect(),
+                other => panic!("no result: {other:?}"),
+            }
+        };
+        let above = "flow-above-meter-range".to_string();
+        s.calc.edit("flow", "2.4");
+        assert!(!codes(&s).contains(&above), "{:?}", codes(&s));
+        s.calc.edit("flow", "60");
+        s.calc.edit("pump-capacity", "1000");
+        assert!(codes(&s).contains(&above), "{:?}", codes(&s));
     }
 
     #[test]
