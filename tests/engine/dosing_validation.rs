@@ -610,6 +610,14 @@ fn broken_site_profiles_are_typed_errors() {
         ErrorKind::OutOfRange,
         "specific gravity",
     );
+    // The demo's 25 % caustic with the SG of water: 1.274 expected (CRC Handbook, in the
+    // catalog's density table), 21 % off.
+    check(
+        "caustic 25 % at SG 1.0",
+        edit(&|v| v["products"][2]["sg"] = 1.0.into()),
+        ErrorKind::OutOfRange,
+        "does not belong",
+    );
     check(
         "0 % strength",
         edit(&|v| v["products"][0]["strength"] = 0.0.into()),

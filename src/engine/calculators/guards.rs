@@ -11,21 +11,15 @@
 //! checked; none changes a value silently. Every threshold says where it comes from.
 
 use super::{Calculator, Calculators, Device, Input, Outcome, Request, resolve_basis};
-use crate::engine::dosing::catalog::{Catalog, Form, Product, StrengthBasis, molar_mass};
+use crate::engine::dosing::catalog::{
+    Catalog, Form, Product, StrengthBasis, check_sg_against_strength, molar_mass,
+};
 use crate::engine::dosing::caution::Caution;
 use crate::engine::dosing::feed::UsableRange;
 use crate::engine::quantity::Quantity;
 use crate::engine::sigfig::format_sig;
 use crate::engine::water::{WaterInput, WaterState};
 use crate::engine::{Error, ErrorKind, Result};
-
-/// A typed SG further than this from the product's density relation (in % of the relation's
-/// SG) is refused: temperature (±15 °C moves a caustic's or an acid's SG by about 1 %), a
-/// certificate's strength tolerance (about 1 %) and impurities (a hypochlorite's salt, a
-/// ferric's free acid: 1-3 %) together stay well inside it (from memory), while the typos it
-/// exists for — 1.0 (water) or 0.5 for 50 % caustic at 1.52, a digit dropped — are 30-70 %
-/// off and misfeed the product by as much. Between a table's own tolerance and this, a caution.
-const SG_REFUSED_PERCENT: f64 = 10.0;
 
 /// The lowest total-alkalinity titration end point: Standard Methods 2320 B lists pH 4.3-4.9
 /// by alkalinity (4.3 at the highest, from memory). A water already below it has nothing left
@@ -210,9 +204,9 @@ fn fractions(catalog: &Catalog, inputs: &[Input], request: &Request) -> Result<(
     Ok(())
 }
 
-/// A typed SG against the chosen product's density relation at the typed strength: beyond
-/// [`SG_REFUSED_PERCENT`] refused, beyond the table's own tolerance cautioned, each naming the
-/// SG expected. No relation for the product, or a strength outside the table: nothing to say.
+/// A typed SG against the chosen product's density relation at the typed strength
+/// ([`check_sg_against_strength`]: refused when far off, cautioned beyond the table's own
+/// tolerance). No relation for the product, or a strength outside the table: nothing to say.
 fn sg_against_strength(
     catalog: &Catalog,
     request: &Request,
@@ -232,34 +226,14 @@ fn sg_against_strength(
     let Some(basis) = p.strengths.first().map(|s| s.basis) else {
         return Ok(None);
     };
-    let Some((expected, table)) = p.expected_sg(basis, strength) else {
-        return Ok(None);
-    };
-    let off = (sg / expected - 1.0) * 100.0;
-    let expected_text = format!("{expected:.3}");
-    if off.abs() > SG_REFUSED_PERCENT {
-        return Err(Error::new(
-            ErrorKind::OutOfRange,
-            format!(
-                "SG {sg} does not belong to {} at {strength} % {}: its density table gives {expected_text} at {} °C",
-                p.id,
-                basis.code(),
-                table.temperature_c
-            ),
-        )
-        .because("sg-does-not-match-strength")
-        .with("input", sg_input)
-        .with("sg", sg)
-        .with("strength", strength)
-        .with("expected", expected_text)
-        .with("product", &p.id));
-    }
-    Ok((off.abs() > table.tolerance_percent).then(|| {
+    let off =
+        check_sg_against_strength(p, basis, strength, sg).map_err(|e| e.with("input", sg_input))?;
+    Ok(off.map(|(expected, tolerance)| {
         Caution::warning("sg-unlike-strength")
             .with("sg", sg)
             .with("strength", strength)
-            .with("expected", expected_text)
-            .with("tolerance", table.tolerance_percent)
+            .with("expected", format!("{expected:.3}"))
+            .with("tolerance", tolerance)
             .with("product", &p.id)
     }))
 }

@@ -305,6 +305,49 @@ fn same_reaction_key(r: &Reaction) -> SpeciesKey {
     side(false).min(side(true))
 }
 
+/// A typed SG further than this from the product's density relation (in % of the relation's
+/// SG) is refused: temperature (±15 °C moves a caustic's or an acid's SG by about 1 %), a
+/// certificate's strength tolerance (about 1 %) and impurities (a hypochlorite's salt, a
+/// ferric's free acid: 1-3 %) together stay well inside it (from memory), while the typos it
+/// exists for — 1.0 (water) or 0.5 for 50 % caustic at 1.52, a digit dropped — are 30-70 %
+/// off and misfeed the product by as much. Between a table's own tolerance and this, the
+/// caller cautions.
+pub const SG_REFUSED_PERCENT: f64 = 10.0;
+
+/// A typed SG against `p`'s density relation at `strength` on `basis`: an error beyond
+/// [`SG_REFUSED_PERCENT`], else the SG expected and the table's tolerance when the SG is off by
+/// more than that tolerance, else `None` (also without a relation at that strength). The one
+/// check the calculator guards and the site profile share.
+pub fn check_sg_against_strength(
+    p: &Product,
+    basis: StrengthBasis,
+    strength: f64,
+    sg: f64,
+) -> Result<Option<(f64, f64)>> {
+    let Some((expected, table)) = p.expected_sg(basis, strength) else {
+        return Ok(None);
+    };
+    let off = (sg / expected - 1.0) * 100.0;
+    let expected_text = format!("{expected:.3}");
+    if off.abs() > SG_REFUSED_PERCENT {
+        return Err(Error::new(
+            ErrorKind::OutOfRange,
+            format!(
+                "SG {sg} does not belong to {} at {strength} % {}: its density table gives {expected_text} at {} °C",
+                p.id,
+                basis.code(),
+                table.temperature_c
+            ),
+        )
+        .because("sg-does-not-match-strength")
+        .with("sg", sg)
+        .with("strength", strength)
+        .with("expected", expected_text)
+        .with("product", &p.id));
+    }
+    Ok((off.abs() > table.tolerance_percent).then_some((expected, table.tolerance_percent)))
+}
+
 /// Checks a specific gravity against the range any water-treatment liquid can have.
 pub fn check_sg(sg: f64) -> Result<f64> {
     check_range("specific gravity", sg, 0.5, 2.5, "")

@@ -6,7 +6,9 @@
 //! what the plant's permit says; regulatory defaults exist only where a federal rule sets a
 //! number, each labelled with its source, and a plant entry for the same parameter overrides it.
 
-use super::catalog::{Catalog, Form, Strength, StrengthBasis, check_sg, check_strength};
+use super::catalog::{
+    Catalog, Form, Strength, StrengthBasis, check_sg, check_sg_against_strength, check_strength,
+};
 use super::feed::{PumpKind, UsableRange};
 use super::units::{Flow, FlowUnit, LengthUnit, UnitSystem, VolumeUnit};
 use crate::engine::sigfig::{Measured, count_sig_figs};
@@ -325,6 +327,12 @@ impl SiteProfile {
                 check_sg(sg).map_err(|e| e.with("entry", &d.id))?;
             }
             check_strength(catalog, p, &d.strength()).map_err(|e| e.with("entry", &d.id))?;
+            // A certificate's SG far from the product's density relation is a typo that would
+            // misfeed every dose from this site (the calculators refuse it too).
+            if let Some(sg) = d.sg {
+                check_sg_against_strength(p, d.strength_basis, d.strength, sg)
+                    .map_err(|e| e.with("entry", &d.id))?;
+            }
             if let Some(mul) = d.max_use_level_mg_l {
                 check_positive("maximum use level", mul, "mg/L")
                     .map_err(|e| e.with("entry", &d.id))?;
