@@ -14,7 +14,7 @@ use super::seams::{
     SeamError, TraceLine,
 };
 use crate::engine;
-use crate::engine::dosing::site::Limit;
+use crate::engine::dosing::site::{Limit, SiteFacts};
 use crate::engine::precision::{
     Instrument, Precision, Range, range_text, split_tolerance, tolerance_to_si,
 };
@@ -251,6 +251,8 @@ pub struct CalcController {
     limits: Vec<Limit>,
     /// The site's precision of its instruments, where it differs from the defaults.
     precisions: BTreeMap<Instrument, Precision>,
+    /// The site's meters and pumps, which every request carries for the engine's guards.
+    site: Option<SiteFacts>,
     fields: Rc<FieldIndex>,
 }
 
@@ -268,6 +270,7 @@ impl CalcController {
             max_use_levels: HashMap::new(),
             limits: Vec::new(),
             precisions: BTreeMap::new(),
+            site: None,
             fields: Rc::new(FieldIndex::build()),
         }
     }
@@ -280,6 +283,11 @@ impl CalcController {
     /// The site's precision of its instruments (the defaults apply where it states none).
     pub fn set_precisions(&mut self, precisions: BTreeMap<Instrument, Precision>) {
         self.precisions = precisions;
+    }
+
+    /// The site's flow meters and pumps (a flow above every meter's full scale is cautioned).
+    pub fn set_site_facts(&mut self, site: Option<SiteFacts>) {
+        self.site = site;
     }
 
     /// The site's maximum use levels by catalog product id; each request carries the chosen
@@ -480,6 +488,7 @@ impl CalcController {
             limits: self.limits.clone(),
             tolerances,
             precisions: self.precisions.clone(),
+            site: self.site.clone(),
         });
         (views, request, invalid)
     }
@@ -498,6 +507,7 @@ impl CalcController {
             max_use_levels: self.max_use_levels.clone(),
             limits: self.limits.clone(),
             precisions: self.precisions.clone(),
+            site: self.site.clone(),
             fields: self.fields.clone(),
         };
         probe.current_request()

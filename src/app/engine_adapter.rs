@@ -37,6 +37,7 @@ fn table_request(request: &CalcRequest) -> Request {
     r.limits = request.limits.clone();
     r.tolerances = request.tolerances.clone();
     r.precisions = request.precisions.clone();
+    r.site = request.site.clone();
     r
 }
 

@@ -91,6 +91,14 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "pump-below-usable-range",
     "setting-fraction-of-percent",
     "dose-above-max-use-level",
+    // The table's plausibility guards (`engine::calculators::guards`).
+    "max-use-level-typical",
+    "sg-unlike-strength",
+    "water-co2-high",
+    "pump-too-small",
+    "setting-beyond-full-scale",
+    "flow-above-meter-range",
+    "pump-not-for-product",
     "strength-unusual",
     "sg-from-density-table",
     "add-chemical-to-water",
@@ -228,6 +236,12 @@ pub const ERROR_REASONS: &[&str] = &[
     "limit-minimum-above-maximum",
     "site-has-no-such-pump",
     "factor-not-usable",
+    "implausible-magnitude",
+    "percent-looks-like-fraction",
+    "sg-does-not-match-strength",
+    "alkalinity-below-end-point",
+    "water-co2-beyond-solubility",
+    "gas-dose-beyond-solubility",
 ];
 
 /// The quantity names the engine puts in its errors (`quantity` parameter), exactly as it

@@ -134,6 +134,8 @@ pub struct CalcRequest {
     pub tolerances: BTreeMap<&'static str, f64>,
     /// The site's precision of its instruments, where it differs from the defaults.
     pub precisions: BTreeMap<Instrument, Precision>,
+    /// The site's flow meters and pumps (`SiteProfile::facts`) for the engine's guards.
+    pub site: Option<crate::engine::dosing::site::SiteFacts>,
 }
 
 impl CalcRequest {
@@ -289,6 +291,7 @@ mod tests {
             limits: Vec::new(),
             tolerances: BTreeMap::new(),
             precisions: BTreeMap::new(),
+            site: None,
         };
         assert_eq!(Unconnected.compute(&request), Err(SeamError::NotConnected));
         assert_eq!(

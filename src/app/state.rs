@@ -721,6 +721,7 @@ impl AppState {
             .set_max_use_levels(sites::max_use_levels(self.site()));
         self.calc.set_limits(self.site().limits.clone());
         self.calc.set_precisions(self.site().precisions());
+        self.calc.set_site_facts(Some(self.site().facts()));
         let (kind, mode) = (self.calc.kind(), self.calc.mode());
         if !self.preselected.contains(&(kind, mode)) {
             self.preselected.push((kind, mode));
@@ -2326,6 +2327,26 @@ mod tests {
     }
 
     #[test]
+    fn a_flow_above_the_demo_plants_meters_is_questioned() {
+        // The demo plant's meters read to 6 MGD; the request carries them to the engine.
+        let mut s = state(crate::app::seams::connected_engine());
+        s.open_calculator(CalcKind::of("chlorination"));
+        fill_chlorination(&mut s, "2");
+        let codes = |s: &AppState| -> Vec<String> {
+            match s.calc.view().status {
+                Status::Ready(r) => r.cautions.iter().map(|c| c.code.clone()).collect(),
+                other => panic!("no result: {other:?}"),
+            }
+        };
+        let above = "flow-above-meter-range".to_string();
+        s.calc.edit("flow", "2.4");
+        assert!(!codes(&s).contains(&above), "{:?}", codes(&s));
+        s.calc.edit("flow", "60");
+        s.calc.edit("pump-capacity", "1000");
+        assert!(codes(&s).contains(&above), "{:?}", codes(&s));
+    }
+
+    #[test]
     fn a_dose_above_the_delivered_products_max_use_level_is_flagged() {
         // The demo plant's hypochlorite is certified to 100 mg/L of product; at 12.5 trade %
         // and SG 1.2 that is about 10 mg/L as Cl2.
@@ -2350,9 +2371,11 @@ mod tests {
             "14 mg/L not flagged: {:?}",
             codes(&s)
         );
-        // A site that records no level for the product raises nothing.
+        // A site that records no level for the product: the catalog's typical level is
+        // checked instead, and named as typical.
         s.calc.set_max_use_levels(Default::default());
-        assert!(!codes(&s).contains(&over));
+        assert!(codes(&s).contains(&over));
+        assert!(codes(&s).contains(&"max-use-level-typical".to_string()));
     }
 
     /// The Log screen's detail of a gas feed: its feeder setting (not a pump's), the product's

@@ -51,7 +51,7 @@ pub fn list(args: &Args) -> CliResult {
         let results: Vec<Value> = calc
             .results
             .iter()
-            .map(|r| json!({"id": r.id, "quantity": r.quantity, "unit": r.quantity.si().symbol(), "headline": r.headline}))
+            .map(|r| json!({"id": r.id, "quantity": r.quantity, "unit": r.quantity.si().symbol(), "basis": r.basis, "headline": r.headline}))
             .collect();
         human.push_str(&format!(
             "{:<16} inputs: {}\n{:<16} results: {}\n",
@@ -118,7 +118,10 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
             "  --{:<22} {}{}{}\n",
             i.name,
             unit,
-            i.basis.map_or(String::new(), |b| format!(", as {b}")),
+            i.basis.map_or(String::new(), |b| format!(
+                ", {}",
+                calculators::basis_text(b)
+            )),
             if i.optional { " (optional)" } else { "" }
         ));
     }
@@ -126,7 +129,15 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
         "results: {}\n",
         calc.results
             .iter()
-            .map(|r| format!("{} ({})", r.id, r.quantity.si().symbol()))
+            .map(|r| match r.basis {
+                Some(b) => format!(
+                    "{} ({} {})",
+                    r.id,
+                    r.quantity.si().symbol(),
+                    calculators::basis_text(b)
+                ),
+                None => format!("{} ({})", r.id, r.quantity.si().symbol()),
+            })
             .collect::<Vec<_>>()
             .join(", ")
     ));
@@ -219,6 +230,9 @@ fn request(
             .as_deref()
             .and_then(|id| site.delivered_of(id))
             .and_then(|d| d.max_use_level_mg_l);
+        // The site's meters and pumps for the engine's guards; `--pump ID` names the one used.
+        request.site = Some(site.facts());
+        request.pump = args.text("pump")?.map(str::to_string);
     }
     // The product's maximum use level from its certificate (mg/L of product), over the site's.
     if let Some(level) = args.number("max-use-level")? {

@@ -191,7 +191,62 @@ impl Unit {
     }
 }
 
+/// The magnitudes a value of a quantity can have at a plant, in SI: the smallest non-zero size
+/// and the largest. A typed value beyond them is refused before any arithmetic (a slipped
+/// exponent, a field filled with a value meant for another unit), and a vanishing one cannot
+/// underflow into 0/0 further down. Zero and negative values are not judged here: each
+/// calculator's own checks name what they mean.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Magnitude {
+    pub smallest: f64,
+    pub largest: f64,
+}
+
+impl Magnitude {
+    /// True when `v` is beyond what the quantity can be at a plant (zero is not judged).
+    pub fn rules_out(self, v: f64) -> bool {
+        v.abs() > self.largest || (v != 0.0 && v.abs() < self.smallest)
+    }
+}
+
 impl Quantity {
+    /// The plausible magnitudes of this quantity, in its SI unit; the one place they are set.
+    /// All are far outside what a plant meets (common practice, each bound says why), so they
+    /// refuse only values no plant can have.
+    pub fn magnitude(self) -> Magnitude {
+        let m = |smallest: f64, largest: f64| Magnitude { smallest, largest };
+        match self {
+            // 1 L/d to 2×10⁷ m³/d: the largest drinking-water plants treat a few 10⁶ m³/d
+            // (from memory).
+            Quantity::Flow => m(1e-3, 2e7),
+            // 1 ng/L to 10 % (100 000 mg/L, a stock solution, not a water).
+            Quantity::Concentration | Quantity::AsCaCO3 => m(1e-6, 1e5),
+            // The pH scale of water solutions; no smallest (pH 0 is a number, not a vanishing one).
+            Quantity::Ph => m(0.0, 14.0),
+            // Liquid water at a plant; °F typed as °C (e.g. 212) is refused.
+            Quantity::Temperature => m(0.0, 100.0),
+            // 1 mg/d to 10⁸ kg/d.
+            Quantity::MassPerDay => m(1e-6, 1e8),
+            // 1 µL/h to 10⁶ L/h.
+            Quantity::VolumePerHour => m(1e-6, 1e6),
+            // Percentages beyond 100 are each calculator's to name (strength above pure, a
+            // setting beyond full scale); 1000 % is no typing of a percentage.
+            Quantity::Percent => m(1e-6, 1e3),
+            Quantity::SpecificGravity => m(1e-3, 100.0),
+            // A calibration column or a catch: 1 nL to 10 m³; a stopwatch: up to ~4 months.
+            Quantity::Millilitres => m(1e-6, 1e7),
+            // A catch or a cylinder's scale loss: 1 µg to 10 t.
+            Quantity::Grams => m(1e-6, 1e7),
+            Quantity::Seconds => m(1e-6, 1e7),
+            Quantity::Ratio => m(1e-9, 1e4),
+            Quantity::Index => m(0.0, 100.0),
+            Quantity::Minutes => m(1e-6, 1e7),
+            // A basin of 10⁹ m³ is a lake.
+            Quantity::Volume => m(1e-6, 1e12),
+            Quantity::ConcentrationTime => m(1e-6, 1e7),
+        }
+    }
+
     /// The units a value of this quantity may be typed in: the SI unit first, then the US one
     /// where it differs.
     pub fn units(self) -> Vec<Unit> {

@@ -166,7 +166,13 @@ fn help_is_generated_from_the_table() {
     let (code, _, text) = run(&["calc", "softening", "--help"]);
     assert_eq!(code, 0, "{text}");
     assert!(text.contains("--lime-purity"), "{text}");
-    assert!(text.contains("as purity"), "{text}");
+    // Every strength and concentration names its basis in words.
+    assert!(text.contains("% purity"), "{text}");
+    assert!(
+        text.contains("--excess-lime            in mg/L, as CaO"),
+        "{text}"
+    );
+    assert!(text.contains("free_co2 (mg/L as CO2)"), "{text}");
     assert!(text.contains("--flow-unit m3-per-day|mgd"), "{text}");
     assert!(text.contains("(optional)"), "{text}");
     assert!(text.contains("hardness_softened"), "{text}");
@@ -346,4 +352,70 @@ fn a_cross_check_prints_its_deviation_first_with_ranges() {
     ]);
     assert_eq!(code, 0, "{out}");
     assert!(out.contains("2.77 (2.71–2.83) mg/L"), "{out}");
+}
+
+enum Guarded {
+    Refused(&'static str),
+    Caution(&'static str),
+}
+
+/// The table's plausibility guards reach the command line as they are: a refusal (exit 1 with
+/// the reason in the JSON) or a named caution on a printed result.
+#[test]
+fn the_tables_guards_refuse_or_caution_on_the_command_line() {
+    use Guarded::*;
+    let site = concat!(env!("CARGO_MANIFEST_DIR"), "/data/demo-site.json");
+    let hypo = "calc feed --product sodium-hypochlorite --units si --dose 2 --strength 12.5 \
+                --specific-gravity 1.165 --json";
+    let cases = [
+        (
+            "calc feed --product sodium-hydroxide --units si --flow 9000 --dose 10 --strength 50 \
+             --specific-gravity 1.0 --pump-capacity 30 --json"
+                .to_string(),
+            Refused("sg-does-not-match-strength"),
+        ),
+        (
+            "calc softening --product hydrated-lime --units si --flow 4000 --total-hardness 250 \
+             --calcium-hardness 180 --alkalinity 200 --ph 7.4 --temperature 12 --excess-lime 35 \
+             --lime-purity 0.9 --soda-ash-purity 98 --json"
+                .to_string(),
+            Refused("percent-looks-like-fraction"),
+        ),
+        (
+            format!("{hypo} --flow 9000 --pump-capacity 15 --site {site} --pump alum-hose-pump"),
+            Caution("pump-not-for-product"),
+        ),
+        // 60 MGD at a plant whose meters read to about 6 MGD.
+        (
+            format!("{hypo} --flow 227125 --pump-capacity 1000 --site {site}"),
+            Caution("flow-above-meter-range"),
+        ),
+        (
+            format!("{hypo} --flow 9000 --pump-capacity 1"),
+            Caution("pump-too-small"),
+        ),
+    ];
+    for (args, expect) in cases {
+        let (code, json, text) = run(&words(&args));
+        match expect {
+            Refused(reason) => {
+                assert_eq!(code, 1, "{args}: {text}");
+                assert_eq!(json["error"]["reason"], reason, "{args}: {text}");
+            }
+            Caution(key) => {
+                assert_eq!(code, 0, "{args}: {text}");
+                let keys: Vec<&str> = json["cautions"]
+                    .as_array()
+                    .unwrap()
+                    .iter()
+                    .filter_map(|c| c["key"].as_str())
+                    .collect();
+                assert!(keys.contains(&key), "{args}: {keys:?}");
+                // A caution about the pump's size comes without a setting to set.
+                if key == "pump-too-small" {
+                    assert!(json["results"].get("pump_setting").is_none(), "{text}");
+                }
+            }
+        }
+    }
 }

@@ -251,11 +251,10 @@ fn errors_and_typos_fail_cleanly() {
         "feed --flow 2.5 --flow-unit mgd --dose 3 --product sodium-hypochlorite --strength 12.5 --strength-basis trade --sg 2.6 {PUMP} --json"
     ));
     assert_eq!(code, 1, "{json}");
-    assert!(
-        json["error"]["message"]
-            .as_str()
-            .unwrap()
-            .contains("specific gravity")
+    // SG 2.6 is beyond any hypochlorite: refused against the product's density table.
+    assert_eq!(
+        json["error"]["reason"], "sg-does-not-match-strength",
+        "{json}"
     );
     let (code, _, _) = run(&format!(
         "feed --flow 2.5 --flow-unit mgd --dose 3 {HYPO} --pump-capacty 10 --json"

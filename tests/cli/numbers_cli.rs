@@ -134,7 +134,8 @@ fn a_result_beyond_any_plant_is_an_error_not_a_number() {
 
 #[test]
 fn a_pump_setting_of_a_mistyped_capacity_is_refused_not_printed() {
-    // A capacity of 1e-12 gph puts 2.5 gph of product at 2.5e14 % of full output.
+    // A capacity of 1e-12 gph would put 2.5 gph of product at 2.5e14 % of full output: no
+    // pump is that small, and the capacity is refused as typed, before any setting.
     let mut args = with_hypo(&["feed", "--flow", "2.5", "--flow-unit", "mgd", "--dose", "3"]);
     args.pop();
     args.extend(["--pump-capacity", "1e-12", "--pump-unit", "gph"]);
@@ -148,7 +149,7 @@ fn a_pump_setting_of_a_mistyped_capacity_is_refused_not_printed() {
     args.push("--json");
     let (code, json, stdout) = run_json(&args);
     assert_eq!(code, Some(1), "{stdout}");
-    assert_eq!(json["error"]["kind"], "result-not-a-number", "{stdout}");
+    assert_eq!(json["error"]["reason"], "implausible-magnitude", "{stdout}");
     // The same pump at a real capacity answers: 2.5 gph of 10 gph is 25 %.
     let mut real = args.clone();
     let capacity = real.iter().position(|a| *a == "1e-12").unwrap();

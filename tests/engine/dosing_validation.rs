@@ -146,8 +146,10 @@ fn bad_strengths_and_specific_gravities_are_rejected() {
             "specific gravity",
         ),
         (
+            // On a basis its density table does not cover (the table gives trade %), so no SG
+            // can be taken from it.
             "no SG for a solution",
-            hypo(12.5, StrengthBasis::Trade, None),
+            hypo(10.7, StrengthBasis::AvailableChlorine, None),
             ErrorKind::InvalidInput,
             "specific gravity",
         ),
@@ -624,6 +626,14 @@ fn broken_site_profiles_are_typed_errors() {
         edit(&|v| v["products"][0]["sg"] = 3.0.into()),
         ErrorKind::OutOfRange,
         "specific gravity",
+    );
+    // The demo's 25 % caustic with the SG of water: 1.274 expected (CRC Handbook, in the
+    // catalog's density table), 21 % off.
+    check(
+        "caustic 25 % at SG 1.0",
+        edit(&|v| v["products"][2]["sg"] = 1.0.into()),
+        ErrorKind::OutOfRange,
+        "does not belong",
     );
     check(
         "0 % strength",

@@ -10,10 +10,13 @@
 //! once, and the CLI and the app cannot compute the same thing two ways.
 //!
 //! Checks that belong to every calculator live here, once: the plant's limits on a target
-//! (through [`site::effective_limit`]), and the guard that no result is ever a non-finite
-//! number.
+//! (through [`site::effective_limit`]), the guard that no result is ever a non-finite
+//! number, and the plausibility guards of [`guards`] (magnitudes, percent typed as a fraction,
+//! SG against strength, the water's CO2, gas solubility, maximum use level, the site's meters
+//! and pumps, a setting beyond full scale).
 
 mod compute;
+mod guards;
 pub mod ranges;
 mod show;
 mod table;
@@ -24,7 +27,7 @@ pub use table::TABLE;
 
 use super::dosing::catalog::{Catalog, Form, Product, StrengthBasis};
 use super::dosing::caution::{self, Caution};
-use super::dosing::site::{self, Limit};
+use super::dosing::site::{self, Limit, SiteFacts};
 use super::dosing::{NamedTrace, Severity};
 use super::quantity::Quantity;
 use super::sigfig::{combine, count_sig_figs, format_sig};
@@ -137,6 +140,19 @@ pub struct ResultSpec {
     pub quantity: Quantity,
     /// One of the big numbers at the top of the card (the rest are listed under them).
     pub headline: bool,
+    /// What the value is expressed as (a compound, [`PRODUCT`], [`DOSE_AS`] for the chosen
+    /// product's dose compound); `None` for a pH, an index, a setting or a ratio.
+    pub basis: Option<&'static str>,
+}
+
+impl ResultSpec {
+    /// The same result, expressed as `basis`.
+    pub(super) const fn on(self, basis: &'static str) -> ResultSpec {
+        ResultSpec {
+            basis: Some(basis),
+            ..self
+        }
+    }
 }
 
 const fn headline(id: &'static str, quantity: Quantity) -> ResultSpec {
@@ -144,6 +160,7 @@ const fn headline(id: &'static str, quantity: Quantity) -> ResultSpec {
         id,
         quantity,
         headline: true,
+        basis: None,
     }
 }
 
@@ -152,6 +169,69 @@ const fn secondary(id: &'static str, quantity: Quantity) -> ResultSpec {
         id,
         quantity,
         headline: false,
+        basis: None,
+    }
+}
+
+/// Basis code of an input or result expressed as the chosen product's dose compound (Cl2 for
+/// a chlorine product, N for ammonia, the coagulant as delivered …); resolved per product.
+pub const DOSE_AS: &str = "dose-as";
+/// Basis code of a strength on the chosen product's own strength basis; resolved per product.
+pub const STRENGTH_BASIS: &str = "strength-basis";
+/// Basis of a rate, volume or mass of the product as delivered.
+pub const PRODUCT: &str = "product";
+
+/// The compounds the catalog's products are dosed as, so that a resolved basis is a
+/// `&'static str` like every other (a test holds this list to the catalog).
+const DOSE_COMPOUNDS: [&str; 20] = [
+    "Cl2",
+    "N",
+    "Al",
+    "Al2(SO4)3·14H2O",
+    "FeCl3",
+    "Fe2(SO4)3",
+    "NaOH",
+    "H2SO4",
+    "HCl",
+    "CO2",
+    "Ca(OH)2",
+    "CaO",
+    "Na2CO3",
+    "NaHCO3",
+    "SO2",
+    "NaHSO3",
+    "Na2S2O5",
+    "Na2SO3",
+    "Na2S2O3",
+    "C6H8O6",
+];
+
+/// `basis` with the product's own filled in for [`DOSE_AS`] and [`STRENGTH_BASIS`].
+fn resolve_basis(basis: Option<&'static str>, product: Option<&Product>) -> Option<&'static str> {
+    match (basis, product) {
+        (Some(DOSE_AS), Some(p)) => DOSE_COMPOUNDS
+            .iter()
+            .copied()
+            .find(|c| *c == p.dose_as)
+            .or(basis),
+        (Some(STRENGTH_BASIS), Some(p)) => p.strengths.first().map(|s| s.basis.code()).or(basis),
+        _ => basis,
+    }
+}
+
+/// A basis code in words, for listings and printouts: "% trade", "% by weight", "as Cl2".
+pub fn basis_text(basis: &str) -> String {
+    match basis {
+        "trade" => "% trade".into(),
+        "weight" => "% by weight".into(),
+        "as-al2o3" => "% as Al2O3".into(),
+        "available-chlorine" => "% as available Cl2".into(),
+        "purity" => "% purity".into(),
+        STRENGTH_BASIS => "% on the product's strength basis".into(),
+        DOSE_AS => "as the product's dose compound".into(),
+        PRODUCT => "as product".into(),
+        "water" => "of water".into(),
+        other => format!("as {other}"),
     }
 }
 
@@ -320,6 +400,11 @@ pub struct Request {
     /// calculator may skip a secondary result that costs an equilibrium solve of its own (the
     /// softened water's pH, the Langelier index after a pH adjustment).
     pub headlines_only: bool,
+    /// The plant's flow meters and pumps (`SiteProfile::facts`), when a site is known: a flow
+    /// above every meter's full scale and a pump set up for another product are cautioned.
+    pub site: Option<SiteFacts>,
+    /// The id of the site's pump or feeder the operator says feeds this dose, if named.
+    pub pump: Option<String>,
 }
 
 impl Request {
@@ -509,9 +594,8 @@ impl Calculators {
     /// The inputs `calculator` asks for when `product` is chosen, in screen order. Without a
     /// product (or for a calculator without a choice) the product inputs of a liquid follow.
     pub fn inputs(&self, calculator: &Calculator, product: Option<&str>) -> Vec<Input> {
-        let choice = product
-            .and_then(|id| self.catalog.product(id).ok())
-            .map(ProductChoice::of);
+        let chosen = product.and_then(|id| self.catalog.product(id).ok());
+        let choice = chosen.map(ProductChoice::of);
         let form = choice.as_ref().map_or(FeedForm::Liquid, |c| c.form);
         let basis = choice.as_ref().map(|c| c.strength_basis);
         let mut v = calculator.inputs.to_vec();
@@ -520,6 +604,9 @@ impl Calculators {
             form,
             basis,
         ));
+        for i in &mut v {
+            i.basis = resolve_basis(i.basis, chosen);
+        }
         v
     }
 
@@ -572,10 +659,13 @@ impl Calculators {
                 _ => {}
             }
         }
+        let (max_use_level, typical) = guards::max_use_level(&self.catalog, request);
         let request = Request {
             mode,
+            max_use_level_mg_l: max_use_level,
             ..request.clone()
         };
+        let mut guarded = guards::before(self, &inputs, &request)?;
         let mut outcome = (calculator.compute)(self, &request)?;
         outcome.calculator = calculator.id;
         outcome.mode = mode;
@@ -598,9 +688,17 @@ impl Calculators {
                 })
             })
             .collect();
+        guarded.extend(guards::after(
+            self,
+            calculator,
+            &request,
+            typical,
+            &mut outcome,
+        )?);
         let mut cautions = std::mem::take(&mut outcome.cautions);
         cautions.extend(limit_cautions(&inputs, &request));
         cautions.extend(ranges(calculator, self, &inputs, &request, &mut outcome));
+        cautions.extend(guarded);
         outcome.cautions = caution::finish(cautions);
         if outcome.figures.is_none() {
             outcome.figures = outcome
@@ -695,8 +793,7 @@ fn ranges(
     request: &Request,
     outcome: &mut Outcome,
 ) -> Vec<Caution> {
-    let jobs: Vec<(&'static str, [Request; 2])> =
-        ranges::moved_requests(inputs, request).collect();
+    let jobs: Vec<(&'static str, [Request; 2])> = ranges::moved_requests(inputs, request).collect();
     if jobs.is_empty() {
         return Vec::new();
     }

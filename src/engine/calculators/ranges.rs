@@ -64,7 +64,10 @@ pub(super) fn moved_requests<'a>(
 /// four): the runs are independent pure calculations, and a phone has the cores to spare while
 /// the operator types. The answers come back in the order of `jobs`; a pair whose thread could
 /// not finish is `None` (the range is then said to be unavailable, never narrowed).
-pub(super) fn run_all<T, F>(jobs: &[(&'static str, [Request; 2])], compute: F) -> Vec<Option<[T; 2]>>
+pub(super) fn run_all<T, F>(
+    jobs: &[(&'static str, [Request; 2])],
+    compute: F,
+) -> Vec<Option<[T; 2]>>
 where
     T: Send,
     F: Fn(&Request) -> T + Sync,

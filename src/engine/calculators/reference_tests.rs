@@ -739,6 +739,17 @@ fn check(engine: &Calculators, case: ByMass) {
         "{product} rate to set"
     );
     let setting = direct.pump.as_ref().expect("a feeder setting").percent;
+    // Beyond full scale the engine presents no setting, only the caution that says so.
+    if setting > 100.0 {
+        assert_eq!(got(&out, "feeder_setting"), None, "{product} setting");
+        assert_eq!(out.setting, None, "{product} setting");
+        assert!(
+            out.cautions.iter().any(|c| c.key == "pump-too-small"),
+            "{product}: {:?}",
+            out.cautions
+        );
+        return;
+    }
     assert!(
         close(got(&out, "feeder_setting"), setting),
         "{product} setting"
@@ -1046,12 +1057,22 @@ fn chlorine_gas_is_offered_beside_hypochlorite_with_its_cautions() {
     let mut small = req.clone();
     small.values.insert("gas-feeder-capacity", 5.0);
     let out = engine.compute(&small).unwrap();
-    assert!(got(&out, "feeder_setting").unwrap() > 100.0);
+    // No setting is presented: the caution names the scale that would put the feed at 90 %
+    // of it (the rate to set ÷ 0.9, by hand from the usable band's top).
+    assert_eq!(got(&out, "feeder_setting"), None);
+    assert_eq!(out.setting, None);
+    let rate = got(&out, "product_mass_rate").unwrap();
+    let too_small = out
+        .cautions
+        .iter()
+        .find(|c| c.key == "pump-too-small" && c.severity == Severity::Danger)
+        .expect("the feeder is too small");
+    let needed: f64 = too_small.param("capacity_needed").unwrap().parse().unwrap();
     assert!(
-        out.cautions
-            .iter()
-            .any(|c| c.key == "pump-over-capacity" && c.severity == Severity::Danger)
+        (needed / (rate / 0.9) - 1.0).abs() < 1e-2,
+        "{needed} vs {rate}"
     );
+    assert_eq!(too_small.param("unit"), Some("kg/d"));
     // No feeder scale given: the engine is not asked with a made-up one.
     let mut none = req.clone();
     none.values.remove("gas-feeder-capacity");

@@ -6,7 +6,12 @@
 
 use super::compute;
 use super::{Calculator, Input, Offer, ProductInputs, ResultSpec, Scope, headline, secondary};
+use super::{DOSE_AS, PRODUCT, STRENGTH_BASIS};
 use super::{FeedForm, Instrument, Quantity as Q};
+
+const CACO3: &str = "CaCO3";
+const CL2: &str = "Cl2";
+const DRY_SOLIDS: &str = "dry solids";
 
 const fn water(name: &'static str, quantity: Q) -> Input {
     Input {
@@ -81,10 +86,10 @@ const FLOW: Input = water("flow", Q::Flow);
 /// chemical per day, the product as delivered (volume for a liquid, mass for a gas or dry
 /// chemical) and the setting of the pump or feeder.
 const FEED_RESULTS: [ResultSpec; 6] = [
-    headline("dose", Q::Concentration),
-    headline("feed_mass_rate", Q::MassPerDay),
-    headline("product_volume_rate", Q::VolumePerHour),
-    headline("product_mass_rate", Q::MassPerDay),
+    headline("dose", Q::Concentration).on(DOSE_AS),
+    headline("feed_mass_rate", Q::MassPerDay).on(DOSE_AS),
+    headline("product_volume_rate", Q::VolumePerHour).on(PRODUCT),
+    headline("product_mass_rate", Q::MassPerDay).on(PRODUCT),
     headline("pump_setting", Q::Percent),
     headline("feeder_setting", Q::Percent),
 ];
@@ -141,15 +146,21 @@ pub(super) fn product_inputs(
     // cylinder's scale loss).
     let test = match form {
         FeedForm::Liquid => [
-            read_with(
-                product("drawdown-volume", Q::Millilitres),
-                Instrument::GraduatedColumn,
+            based(
+                read_with(
+                    product("drawdown-volume", Q::Millilitres),
+                    Instrument::GraduatedColumn,
+                ),
+                PRODUCT,
             ),
             read_with(own("drawdown-time", Q::Seconds), Instrument::Stopwatch),
             product("pump-setting", Q::Percent),
         ],
         FeedForm::Gas | FeedForm::Dry => [
-            read_with(product("catch-mass", Q::Grams), Instrument::Scale),
+            based(
+                read_with(product("catch-mass", Q::Grams), Instrument::Scale),
+                PRODUCT,
+            ),
             read_with(own("catch-time", Q::Seconds), Instrument::Stopwatch),
             product("feeder-setting", Q::Percent),
         ],
@@ -194,9 +205,9 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[4],
             FEED_RESULTS[5],
             secondary("ph_after", Q::Ph),
-            secondary("alkalinity_after", Q::AsCaCO3),
+            secondary("alkalinity_after", Q::AsCaCO3).on(CACO3),
             secondary("lsi_after", Q::Index),
-            secondary("ccpp_after", Q::AsCaCO3),
+            secondary("ccpp_after", Q::AsCaCO3).on(CACO3),
         ],
         in_app: true,
         compute: compute::ph_adjustment,
@@ -208,11 +219,17 @@ pub static TABLE: [Calculator; 11] = [
         modes: &[],
         inputs: &[
             FLOW,
-            read_with(
-                own("chlorine-demand", Q::Concentration),
-                Instrument::Colorimeter,
+            based(
+                read_with(
+                    own("chlorine-demand", Q::Concentration),
+                    Instrument::Colorimeter,
+                ),
+                CL2,
             ),
-            limited(own("residual-target", Q::Concentration), "chlorine"),
+            limited(
+                based(own("residual-target", Q::Concentration), CL2),
+                "chlorine",
+            ),
             // Ammonia in the water: chlorine must pass breakpoint before a free residual forms.
             optional(based(water("ammonia-n", Q::Concentration), "N")),
             // With all three, the pH and alkalinity the chlorine leaves.
@@ -229,11 +246,11 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[3],
             FEED_RESULTS[4],
             FEED_RESULTS[5],
-            secondary("breakpoint_dose", Q::Concentration),
+            secondary("breakpoint_dose", Q::Concentration).on(CL2),
             // After breakpoint (end state), when the water is given.
             secondary("ph_after", Q::Ph),
-            secondary("alkalinity_after", Q::AsCaCO3),
-            secondary("breakpoint_alkalinity_consumed", Q::AsCaCO3),
+            secondary("alkalinity_after", Q::AsCaCO3).on(CACO3),
+            secondary("breakpoint_alkalinity_consumed", Q::AsCaCO3).on(CACO3),
         ],
         in_app: true,
         compute: compute::free_chlorine,
@@ -265,8 +282,8 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[3],
             FEED_RESULTS[4],
             FEED_RESULTS[5],
-            secondary("free_chlorine_at_ammonia_point", Q::Concentration),
-            secondary("free_ammonia_left", Q::Concentration),
+            secondary("free_chlorine_at_ammonia_point", Q::Concentration).on(CL2),
+            secondary("free_ammonia_left", Q::Concentration).on("N"),
         ],
         in_app: true,
         compute: compute::chloramine,
@@ -300,7 +317,7 @@ pub static TABLE: [Calculator; 11] = [
         modes: &["alkali-caustic", "alkali-lime", "alkali-soda-ash"],
         inputs: &[
             FLOW,
-            own("jar-dose", Q::Concentration),
+            based(own("jar-dose", Q::Concentration), DOSE_AS),
             as_caco3(water("alkalinity", Q::AsCaCO3)),
             as_caco3(own("alkalinity-setpoint", Q::AsCaCO3)),
             water("ph", Q::Ph),
@@ -314,12 +331,13 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[2],
             FEED_RESULTS[3],
             FEED_RESULTS[4],
-            secondary("alkalinity_consumed", Q::AsCaCO3),
-            secondary("alkalinity_remaining", Q::AsCaCO3),
+            secondary("alkalinity_consumed", Q::AsCaCO3).on(CACO3),
+            secondary("alkalinity_remaining", Q::AsCaCO3).on(CACO3),
             secondary("ph_after_coagulant", Q::Ph),
-            secondary("supplemental_alkali", Q::Concentration),
+            // As the mode's alkali (NaOH, Ca(OH)2, Na2CO3): the outcome names which.
+            secondary("supplemental_alkali", Q::Concentration).on("alkali"),
             secondary("ph_after_alkali", Q::Ph),
-            secondary("coagulant_solids", Q::MassPerDay),
+            secondary("coagulant_solids", Q::MassPerDay).on(DRY_SOLIDS),
         ],
         in_app: true,
         compute: compute::coagulation,
@@ -351,13 +369,13 @@ pub static TABLE: [Calculator; 11] = [
             FEED_RESULTS[1],
             FEED_RESULTS[3],
             FEED_RESULTS[5],
-            secondary("soda_ash_dose", Q::Concentration),
-            secondary("soda_ash_product_mass_rate", Q::MassPerDay),
-            secondary("free_co2", Q::Concentration),
-            secondary("magnesium_removed", Q::Concentration),
-            secondary("non_carbonate_hardness", Q::AsCaCO3),
+            secondary("soda_ash_dose", Q::Concentration).on("Na2CO3"),
+            secondary("soda_ash_product_mass_rate", Q::MassPerDay).on(PRODUCT),
+            secondary("free_co2", Q::Concentration).on("CO2"),
+            secondary("magnesium_removed", Q::Concentration).on("Mg"),
+            secondary("non_carbonate_hardness", Q::AsCaCO3).on(CACO3),
             secondary("ph_softened", Q::Ph),
-            secondary("hardness_softened", Q::AsCaCO3),
+            secondary("hardness_softened", Q::AsCaCO3).on(CACO3),
         ],
         in_app: true,
         compute: compute::softening,
@@ -370,11 +388,11 @@ pub static TABLE: [Calculator; 11] = [
         // A field test needs no pump capacity: what was measured, the setting during the test
         // and the product's strength (a drawdown for a liquid, a weighed catch for a chemical
         // fed by mass).
-        inputs: &[FLOW, own("dose", Q::Concentration)],
+        inputs: &[FLOW, based(own("dose", Q::Concentration), DOSE_AS)],
         product_inputs: ProductInputs::FieldTest,
         offer: Offer::Feedable(None),
         results: &[
-            headline("actual_dose", Q::Concentration),
+            headline("actual_dose", Q::Concentration).on(DOSE_AS),
             headline("deviation", Q::Percent),
             FEED_RESULTS[1],
             FEED_RESULTS[2],
@@ -390,7 +408,7 @@ pub static TABLE: [Calculator; 11] = [
         id: "feed",
         group: "feed",
         modes: &[],
-        inputs: &[FLOW, own("dose", Q::Concentration)],
+        inputs: &[FLOW, based(own("dose", Q::Concentration), DOSE_AS)],
         product_inputs: ProductInputs::Feed,
         offer: Offer::Feedable(None),
         results: &FEED_RESULTS,
@@ -419,12 +437,12 @@ pub static TABLE: [Calculator; 11] = [
         product_inputs: ProductInputs::None,
         offer: Offer::None,
         results: &[
-            headline("ct", Q::ConcentrationTime),
-            headline("ct_required_3log", Q::ConcentrationTime),
+            headline("ct", Q::ConcentrationTime).on(CL2),
+            headline("ct_required_3log", Q::ConcentrationTime).on(CL2),
             headline("inactivation_ratio", Q::Ratio),
             headline("giardia_log_inactivation", Q::Index),
             secondary("t10", Q::Minutes),
-            secondary("ct_required_1log", Q::ConcentrationTime),
+            secondary("ct_required_1log", Q::ConcentrationTime).on(CL2),
         ],
         in_app: false,
         compute: compute::ct,
@@ -435,7 +453,7 @@ pub static TABLE: [Calculator; 11] = [
         group: "dilution",
         modes: &[],
         inputs: &[
-            own("target-strength", Q::Percent),
+            based(own("target-strength", Q::Percent), STRENGTH_BASIS),
             // The engine reads a solution's strength with its SG, the weaker one's too.
             own("target-specific-gravity", Q::SpecificGravity),
             own("final-volume", Q::Volume),
@@ -443,8 +461,8 @@ pub static TABLE: [Calculator; 11] = [
         product_inputs: ProductInputs::Strength,
         offer: Offer::Liquids,
         results: &[
-            headline("concentrate_volume", Q::Volume),
-            headline("water_volume", Q::Volume),
+            headline("concentrate_volume", Q::Volume).on(PRODUCT),
+            headline("water_volume", Q::Volume).on("water"),
         ],
         in_app: false,
         compute: compute::dilution,
@@ -456,19 +474,19 @@ pub static TABLE: [Calculator; 11] = [
         modes: &[],
         inputs: &[
             FLOW,
-            own("dose", Q::Concentration),
+            based(own("dose", Q::Concentration), DOSE_AS),
             // Raw-water suspended solids removed (measured, or b × NTU with the plant's own b).
-            optional(own("suspended-solids", Q::Concentration)),
-            optional(own("additives", Q::Concentration)),
+            optional(based(own("suspended-solids", Q::Concentration), DRY_SOLIDS)),
+            optional(based(own("additives", Q::Concentration), DRY_SOLIDS)),
         ],
         product_inputs: ProductInputs::None,
         offer: Offer::Listed(&COAGULANTS),
         results: &[
-            headline("solids_concentration", Q::Concentration),
-            headline("dry_solids_mass_rate", Q::MassPerDay),
+            headline("solids_concentration", Q::Concentration).on(DRY_SOLIDS),
+            headline("dry_solids_mass_rate", Q::MassPerDay).on(DRY_SOLIDS),
             // Iron: the published alternative basis (hydrated floc, 2.9 × Fe) beside 1.9 × Fe.
-            secondary("alternative_solids_concentration", Q::Concentration),
-            secondary("alternative_dry_solids_mass_rate", Q::MassPerDay),
+            secondary("alternative_solids_concentration", Q::Concentration).on(DRY_SOLIDS),
+            secondary("alternative_dry_solids_mass_rate", Q::MassPerDay).on(DRY_SOLIDS),
         ],
         in_app: false,
         compute: compute::sludge,

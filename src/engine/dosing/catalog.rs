@@ -110,6 +110,66 @@ pub struct Product {
     /// Specific gravity by strength, where the trade uses a table instead of a certificate value.
     #[serde(default)]
     pub density_table: Option<DensityTable>,
+    /// A typical NSF/ANSI/CAN 60 maximum use level, used only when the site records none.
+    #[serde(default)]
+    pub typical_max_use_level: Option<TypicalMaxUseLevel>,
+    /// A gas's solubility in water (Henry's law), for a dose no water can dissolve.
+    #[serde(default)]
+    pub henry: Option<Henry>,
+}
+
+/// A typical maximum use level (mg/L of product as delivered) with its source; a product's own
+/// certificate may differ, so a site's figure always replaces it.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct TypicalMaxUseLevel {
+    pub mg_l: f64,
+    pub source: String,
+}
+
+/// Henry's law solubility of a gas: Hcp at 25 °C and its van 't Hoff temperature dependence,
+/// in the form of Sander's compilation.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Henry {
+    /// mol/(m³·Pa) at 298.15 K.
+    pub hcp_mol_per_m3_pa: f64,
+    /// d ln Hcp / d(1/T), K.
+    pub d_ln_hcp_d_inv_t_k: f64,
+    pub source: String,
+}
+
+/// One standard atmosphere, Pa (exact by definition).
+const PA_PER_ATM: f64 = 101_325.0;
+
+impl Henry {
+    /// mg/L of the gas that dissolves at `temperature_c` under one atmosphere of the gas itself:
+    /// Hcp(T) = Hcp° · exp(B · (1/T − 1/298.15 K)); mol/m³ × g/mol = g/m³ = mg/L.
+    pub fn solubility_mg_l_at_1_atm(&self, molar_mass: f64, temperature_c: f64) -> f64 {
+        let t = temperature_c + 273.15;
+        let hcp =
+            self.hcp_mol_per_m3_pa * (self.d_ln_hcp_d_inv_t_k * (1.0 / t - 1.0 / 298.15)).exp();
+        hcp * PA_PER_ATM * molar_mass
+    }
+}
+
+impl Product {
+    /// The SG the product's density table gives at `strength` on `basis`, with the table;
+    /// `None` without a table, on another basis or outside the table's strengths.
+    pub fn expected_sg(&self, basis: StrengthBasis, strength: f64) -> Option<(f64, &DensityTable)> {
+        let t = self.density_table.as_ref()?;
+        Some((t.sg_at(basis, strength)?, t))
+    }
+
+    /// The lowest strength the catalog lists for the product as delivered, on any basis.
+    pub fn lowest_typical_strength(&self) -> Option<f64> {
+        self.strengths
+            .iter()
+            .map(|s| s.value)
+            .min_by(|a, b| a.total_cmp(b))
+    }
+}
+
+fn default_tolerance() -> f64 {
+    3.0
 }
 
 /// Specific gravity against strength at one temperature, with its source.
@@ -118,6 +178,10 @@ pub struct DensityTable {
     pub basis: StrengthBasis,
     pub temperature_c: f64,
     pub source: String,
+    /// How far (in % of the table's SG) a typed SG may stand from the table before a caution;
+    /// the table's source note says why (3 % when it does not).
+    #[serde(default = "default_tolerance")]
+    pub tolerance_percent: f64,
     /// (strength %, SG) pairs in increasing strength.
     pub points: Vec<(f64, f64)>,
 }
@@ -241,6 +305,49 @@ fn same_reaction_key(r: &Reaction) -> SpeciesKey {
     side(false).min(side(true))
 }
 
+/// A typed SG further than this from the product's density relation (in % of the relation's
+/// SG) is refused: temperature (±15 °C moves a caustic's or an acid's SG by about 1 %), a
+/// certificate's strength tolerance (about 1 %) and impurities (a hypochlorite's salt, a
+/// ferric's free acid: 1-3 %) together stay well inside it (from memory), while the typos it
+/// exists for — 1.0 (water) or 0.5 for 50 % caustic at 1.52, a digit dropped — are 30-70 %
+/// off and misfeed the product by as much. Between a table's own tolerance and this, the
+/// caller cautions.
+pub const SG_REFUSED_PERCENT: f64 = 10.0;
+
+/// A typed SG against `p`'s density relation at `strength` on `basis`: an error beyond
+/// [`SG_REFUSED_PERCENT`], else the SG expected and the table's tolerance when the SG is off by
+/// more than that tolerance, else `None` (also without a relation at that strength). The one
+/// check the calculator guards and the site profile share.
+pub fn check_sg_against_strength(
+    p: &Product,
+    basis: StrengthBasis,
+    strength: f64,
+    sg: f64,
+) -> Result<Option<(f64, f64)>> {
+    let Some((expected, table)) = p.expected_sg(basis, strength) else {
+        return Ok(None);
+    };
+    let off = (sg / expected - 1.0) * 100.0;
+    let expected_text = format!("{expected:.3}");
+    if off.abs() > SG_REFUSED_PERCENT {
+        return Err(Error::new(
+            ErrorKind::OutOfRange,
+            format!(
+                "SG {sg} does not belong to {} at {strength} % {}: its density table gives {expected_text} at {} °C",
+                p.id,
+                basis.code(),
+                table.temperature_c
+            ),
+        )
+        .because("sg-does-not-match-strength")
+        .with("sg", sg)
+        .with("strength", strength)
+        .with("expected", expected_text)
+        .with("product", &p.id));
+    }
+    Ok((off.abs() > table.tolerance_percent).then_some((expected, table.tolerance_percent)))
+}
+
 /// Checks a specific gravity against the range any water-treatment liquid can have.
 pub fn check_sg(sg: f64) -> Result<f64> {
     check_range("specific gravity", sg, 0.5, 2.5, "")
@@ -338,6 +445,39 @@ impl Catalog {
                     check_sg(*sg).map_err(|e| e.with("product", &p.id))?;
                     check_range("strength", *strength, 0.0, 100.0, "%")?;
                 }
+                // Built-in data, checked by the catalog tests: no quantity name an operator sees.
+                if !(0.5..=10.0).contains(&t.tolerance_percent) {
+                    return Err(Error::new(
+                        ErrorKind::InvalidInput,
+                        format!("{}: SG tolerance outside 0.5-10 %", p.id),
+                    ));
+                }
+                // The catalog's own strengths must sit on its own relation.
+                for s in &p.strengths {
+                    if let (Some(sg), Some((expected, _))) = (s.sg, p.expected_sg(s.basis, s.value))
+                        && ((sg / expected - 1.0) * 100.0).abs() > t.tolerance_percent
+                    {
+                        return Err(Error::new(
+                            ErrorKind::InvalidInput,
+                            format!(
+                                "{}: typical SG {sg} is off its density table ({expected:.3})",
+                                p.id
+                            ),
+                        )
+                        .with("product", &p.id));
+                    }
+                }
+            }
+            if let Some(m) = &p.typical_max_use_level {
+                check_positive("maximum use level", m.mg_l, "mg/L")?;
+            }
+            if let Some(h) = &p.henry
+                && !(h.hcp_mol_per_m3_pa > 0.0 && h.d_ln_hcp_d_inv_t_k.is_finite())
+            {
+                return Err(Error::new(
+                    ErrorKind::InvalidInput,
+                    format!("{}: Henry's law constant must be positive", p.id),
+                ));
             }
             for t in &p.strengths {
                 let s = Strength::new(Measured::exact(t.value), t.basis, t.sg.map(Measured::exact));

@@ -6,7 +6,9 @@
 //! what the plant's permit says; regulatory defaults exist only where a federal rule sets a
 //! number, each labelled with its source, and a plant entry for the same parameter overrides it.
 
-use super::catalog::{Catalog, Form, Strength, StrengthBasis, check_sg, check_strength};
+use super::catalog::{
+    Catalog, Form, Strength, StrengthBasis, check_sg, check_sg_against_strength, check_strength,
+};
 use super::feed::{PumpKind, UsableRange};
 use super::units::{Flow, FlowUnit, LengthUnit, UnitSystem, VolumeUnit};
 use crate::engine::precision::{Instrument, Precision, precisions_from_codes};
@@ -354,6 +356,12 @@ impl SiteProfile {
                 check_sg(sg).map_err(|e| e.with("entry", &d.id))?;
             }
             check_strength(catalog, p, &d.strength()).map_err(|e| e.with("entry", &d.id))?;
+            // A certificate's SG far from the product's density relation is a typo that would
+            // misfeed every dose from this site (the calculators refuse it too).
+            if let Some(sg) = d.sg {
+                check_sg_against_strength(p, d.strength_basis, d.strength, sg)
+                    .map_err(|e| e.with("entry", &d.id))?;
+            }
             if let Some(mul) = d.max_use_level_mg_l {
                 check_positive("maximum use level", mul, "mg/L")
                     .map_err(|e| e.with("entry", &d.id))?;
@@ -449,6 +457,68 @@ impl SiteProfile {
     /// The limit that applies: the plant's own entry, else the regulatory default, else none.
     pub fn effective_limit(&self, parameter: &str) -> Option<Limit> {
         effective_limit(&self.limits, parameter)
+    }
+}
+
+/// What a calculation checks against the plant besides its limits: how far its flow meters
+/// read, and which product each of its pumps and feeders is set up for. A front end that knows
+/// the site passes `site.facts()` with the request, whatever the calculator.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct SiteFacts {
+    pub flow_meters: Vec<MeterScale>,
+    pub pumps: Vec<PumpFeeds>,
+}
+
+/// A flow meter's full scale, in m³/d and as the site states it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct MeterScale {
+    pub name: String,
+    pub full_scale_m3_d: f64,
+    /// The full scale in the meter's own unit ("6 MGD").
+    pub stated: String,
+}
+
+/// A pump or feeder and the catalog product of the delivered product it feeds.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PumpFeeds {
+    pub id: String,
+    pub name: String,
+    pub product: String,
+}
+
+impl SiteProfile {
+    /// The site's meters and pumps as a calculation checks them (a meter whose scale cannot
+    /// be converted, or a pump whose product is not stocked, is left out: `validate` refuses
+    /// both before a profile is stored).
+    pub fn facts(&self) -> SiteFacts {
+        SiteFacts {
+            flow_meters: self
+                .flow_meters
+                .iter()
+                .filter_map(|m| {
+                    let l_per_day = Flow::new(Measured::exact(m.max), m.unit)
+                        .to_l_per_day()
+                        .ok()?
+                        .value();
+                    Some(MeterScale {
+                        name: m.name.clone(),
+                        full_scale_m3_d: l_per_day / 1000.0,
+                        stated: format!("{} {}", m.max, m.unit.symbol()),
+                    })
+                })
+                .collect(),
+            pumps: self
+                .pumps
+                .iter()
+                .filter_map(|p| {
+                    Some(PumpFeeds {
+                        id: p.id.clone(),
+                        name: p.name.clone(),
+                        product: self.delivered(&p.product).ok()?.product.clone(),
+                    })
+                })
+                .collect(),
+        }
     }
 }
 
