@@ -369,7 +369,9 @@ const TABLE: [Alias; 10] = [
 /// The older commands read a temperature in °C.
 const CELSIUS: (&str, &str) = ("temperature-unit", "celsius");
 
-const NO_OTHER_TEST: &str = "the table's pump check is a drawdown: --drawdown-ml and --seconds";
+const NO_OTHER_TEST: &str = "this older form takes a drawdown (--drawdown-ml and --seconds); \
+    for a dry or gas feeder's weighed catch use 'molefeed calc pump-check --catch-mass G \
+    --catch-time S --feeder-setting P'";
 const MAGNESIUM_SOFTEN: &str = "softening takes the hardness, not the magnesium: --total-hardness and --calcium-hardness, both mg/L as CaCO3 (the magnesium is their difference)";
 
 /// The flags every alias passes on to `calc` unchanged.
