@@ -277,11 +277,11 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
 
     let log = window.global::<LogAdapter>();
     log.on_filter_edited(on_text(|i, t| {
-        i.state.borrow_mut().log_filter.text = t.to_string();
+        i.state.borrow_mut().log.filter.text = t.to_string();
         i.refresh_log();
     }));
     log.on_select(on(|i, id| {
-        i.state.borrow_mut().select_entry(id.max(0) as u64);
+        i.state.borrow_mut().log.select(id.max(0) as u64);
         i.refresh_log();
         i.refresh_plots();
     }));
@@ -289,44 +289,45 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         let range = DateRange::ALL.get(n.max(0) as usize).copied();
         i.state
             .borrow_mut()
-            .pick_log_range(range.unwrap_or_default(), utc_today());
+            .log
+            .pick_range(range.unwrap_or_default(), utc_today());
         i.refresh_log();
     }));
     log.on_dates_edited(on_unit(|i| {
         let window = i.window();
         let adapter = window.global::<LogAdapter>();
         let (from, to) = (adapter.get_date_from(), adapter.get_date_to());
-        i.state.borrow_mut().edit_log_dates(&from, &to);
+        i.state.borrow_mut().log.edit_dates(&from, &to);
         i.refresh_log();
     }));
     // Choice 0 is "any"; the others are the values present in the log, in the bridge's order.
     log.on_pick_point(on(|i, n| {
-        let (points, _) = i.state.borrow().log_choices();
-        i.state.borrow_mut().log_filter.point = pick(&points, n);
+        let (points, _) = i.state.borrow().log.choices();
+        i.state.borrow_mut().log.filter.point = pick(&points, n);
         i.refresh_log();
     }));
     log.on_pick_chemical(on(|i, n| {
-        let (_, chemicals) = i.state.borrow().log_choices();
-        i.state.borrow_mut().log_filter.chemical = pick(&chemicals, n);
+        let (_, chemicals) = i.state.borrow().log.choices();
+        i.state.borrow_mut().log.filter.chemical = pick(&chemicals, n);
         i.refresh_log();
     }));
     log.on_pick_format(on(|i, n| {
         let format = ExportFormat::ALL.get(n.max(0) as usize).copied();
-        i.state.borrow_mut().log_format = format.unwrap_or_default();
+        i.state.borrow_mut().log.format = format.unwrap_or_default();
         i.refresh_log();
     }));
     log.on_open_correct(on_unit(|i| {
-        i.state.borrow_mut().open_log_edit(LogEdit::Correct);
+        i.state.borrow_mut().log.open_edit(LogEdit::Correct);
         i.prefill_log_form();
         i.refresh_log();
     }));
     log.on_open_void(on_unit(|i| {
-        i.state.borrow_mut().open_log_edit(LogEdit::Void);
+        i.state.borrow_mut().log.open_edit(LogEdit::Void);
         i.prefill_log_form();
         i.refresh_log();
     }));
     log.on_cancel_edit(on_unit(|i| {
-        i.state.borrow_mut().open_log_edit(LogEdit::None);
+        i.state.borrow_mut().log.open_edit(LogEdit::None);
         i.refresh_log();
     }));
     log.on_save_correct(on_unit(|i| {
@@ -347,12 +348,16 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     }));
     log.on_export(on_unit(|i| {
         let path = i.window().global::<LogAdapter>().get_transfer_path();
-        i.state.borrow_mut().export_log(&path);
+        {
+            let mut st = i.state.borrow_mut();
+            let st = &mut *st;
+            st.log.export(&st.session, &path);
+        }
         i.refresh_log();
     }));
     log.on_import(on_unit(|i| {
         let path = i.window().global::<LogAdapter>().get_transfer_path();
-        i.state.borrow_mut().import_log(&path);
+        i.state.borrow_mut().log.import(&path);
         i.refresh_all();
     }));
 
@@ -412,7 +417,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     settings.on_rename_point(on_text(|i, t| {
-        let index = i.state.borrow().settings.point_index;
+        let index = i.state.borrow().session.settings.point_index;
         if i.state.borrow_mut().rename_point(index, t) {
             i.window()
                 .global::<SettingsAdapter>()
@@ -527,15 +532,20 @@ impl Inner {
         w.global::<Tr>().set_epoch(*self.epoch.borrow());
         w.global::<Nav>().set_screen(st.screen() as i32);
         w.global::<Theme>()
-            .set_high_contrast(st.settings.high_contrast);
+            .set_high_contrast(st.session.settings.high_contrast);
 
         let start = w.global::<StartAdapter>();
         start.set_sites(model(
-            st.settings.sites.iter().map(|x| s(&x.name)).collect(),
+            st.session
+                .settings
+                .sites
+                .iter()
+                .map(|x| s(&x.name))
+                .collect(),
         ));
-        start.set_site_index(st.settings.site_index as i32);
+        start.set_site_index(st.session.settings.site_index as i32);
         start.set_points(model(st.taps().into_iter().map(s).collect()));
-        start.set_point_index(st.settings.point_index as i32);
+        start.set_point_index(st.session.settings.point_index as i32);
         start.set_not_saved(!st.log_is_persistent());
         start.set_calculators(model(
             CalcKind::all()
@@ -558,7 +568,7 @@ impl Inner {
         let settings = w.global::<SettingsAdapter>();
         settings.set_lang_index(if st.lang() == Lang::Es { 1 } else { 0 });
         settings.set_units_index(if st.units() == UnitSystem::Si { 1 } else { 0 });
-        settings.set_high_contrast(st.settings.high_contrast);
+        settings.set_high_contrast(st.session.settings.high_contrast);
         settings.set_site_name(s(&st.site().name));
         if settings.get_initials().as_str() != st.initials() {
             settings.set_initials(s(st.initials()));
@@ -970,7 +980,7 @@ impl Inner {
         let w = self.window();
         let adapter = w.global::<LogAdapter>();
         let st = self.state.borrow();
-        if let Some(e) = st.selected_entry() {
+        if let Some(e) = st.log.selected_entry() {
             let dose = e.dose.dose_mg_per_l().unwrap_or_default();
             adapter.set_edit_dose(s(numbers::format_sig(dose, 6, st.lang())
                 .trim_end_matches('0')
@@ -996,16 +1006,16 @@ impl Inner {
         let lang = st.lang();
         let when = |iso: &str| iso.replace('T', " ").trim_end_matches('Z').to_string();
         let today = utc_today();
-        let (all, listed) = st.filtered_on(today);
+        let (all, listed) = st.log.filtered_on(today);
         // Only a quick range writes the fields: typed text is left exactly as typed.
-        let (from, to) = st.log_date_texts(today);
+        let (from, to) = st.log.date_texts(today);
         if adapter.get_date_from() != from.as_str() {
             adapter.set_date_from(s(from));
         }
         if adapter.get_date_to() != to.as_str() {
             adapter.set_date_to(s(to));
         }
-        match st.log_span(today) {
+        match st.log.span(today) {
             Ok(span) => {
                 adapter.set_date_problem(s(""));
                 adapter.set_date_summary(s(self.note(
@@ -1038,7 +1048,7 @@ impl Inner {
                 })
                 .collect(),
         ));
-        let filter = &st.log_filter;
+        let filter = &st.log.filter;
         let choice = |label: String, selected: bool| LogChoice {
             label: s(label),
             selected,
@@ -1049,7 +1059,7 @@ impl Inner {
                 .map(|r| choice(self.t(r.key()), *r == filter.range))
                 .collect(),
         ));
-        let (points, chemicals) = st.log_choices();
+        let (points, chemicals) = st.log.choices();
         let choices = |any: &str,
                        values: &[String],
                        picked: &Option<String>,
@@ -1082,11 +1092,11 @@ impl Inner {
                         ExportFormat::Csv => self.t(key("log-format-csv")),
                         ExportFormat::JsonLines => self.t(key("log-format-jsonl")),
                     };
-                    choice(label, *f == st.log_format)
+                    choice(label, *f == st.log.format)
                 })
                 .collect(),
         ));
-        adapter.set_export_folder(s(match st.export_folder() {
+        adapter.set_export_folder(s(match st.session.export_folder() {
             Some(folder) => self.texts.borrow().get_args(
                 key("log-export-folder"),
                 &[("path", folder.display().to_string())],
@@ -1094,10 +1104,10 @@ impl Inner {
             None => self.t(key("log-no-export-folder")),
         }));
 
-        let selected = st.selected_entry();
+        let selected = st.log.selected_entry();
         adapter.set_selected_id(selected.as_ref().map_or(-1, |e| e.id as i32));
         adapter.set_can_change(selected.as_ref().is_some_and(|e| !e.voided()));
-        adapter.set_editing(match st.log_edit {
+        adapter.set_editing(match st.log.edit {
             LogEdit::None => 0,
             LogEdit::Correct => 1,
             LogEdit::Void => 2,
@@ -1108,6 +1118,7 @@ impl Inner {
             Some(EntryStatus::Original) | None => String::new(),
         };
         let detail: Vec<String> = st
+            .log
             .selected_detail()
             .into_iter()
             .map(|row| {
@@ -1122,7 +1133,8 @@ impl Inner {
         adapter.set_detail(model(detail.into_iter().map(s).collect()));
         adapter.set_detail_status(s(status));
         let history: Vec<HistoryRow> = if selected.is_some() {
-            st.selected_history()
+            st.log
+                .selected_history()
                 .into_iter()
                 .map(|r| self.history_row(&r, lang))
                 .collect()
@@ -1131,8 +1143,8 @@ impl Inner {
         };
         adapter.set_history(model(history));
         let note = |n: &Option<Note>| n.as_ref().map(|n| self.note(n)).unwrap_or_default();
-        adapter.set_edit_status(s(note(&st.log_edit_note)));
-        adapter.set_status(s(note(&st.log_note)));
+        adapter.set_edit_status(s(note(&st.log.edit_note)));
+        adapter.set_status(s(note(&st.log.note)));
     }
 
     /// One history line: "when · initials · what", then the reason (and note) below it.

@@ -12,9 +12,11 @@ pub mod dose_log;
 pub mod engine_adapter;
 pub mod files;
 pub mod keys;
+pub mod log_screen;
 pub mod numbers;
 pub mod plot;
 pub mod seams;
+pub mod session;
 pub mod sites;
 pub mod state;
 

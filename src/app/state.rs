@@ -7,18 +7,19 @@
 //! data directory the platform injects (desktop: XDG data dir; Android: internal storage).
 
 use super::calc::{CalcController, CalcInputs, Status, key};
-use super::dose_log::{
-    Amendment, DoseLog, Entry, ExportFormat, LogError, Logging, Revision, dose_of,
+use super::dose_log::{DoseLog, Entry, Logging, dose_of};
+pub use super::log_screen::{
+    DateRange, DateSpan, DetailRow, DetailValue, LatestDose, LogEdit, LogFilter, LogScreen,
+    NotADay, parse_day, utc_today,
 };
 use super::numbers::{self, Lang};
 use super::plot::{self, Range};
 use super::seams::{CalcEngine, CalcKind, CalcMode, SeamError};
-use super::sites::{self, LegacySite, LimitForm, Prefill, ProductForm, PumpForm, SiteProblem};
+pub use super::session::{Note, Session, Settings};
+use super::sites::{self, LimitForm, Prefill, ProductForm, PumpForm, SiteProblem};
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::site::{Limit, SiteProfile};
 use crate::engine::quantity::{Unit, UnitSystem};
-use chrono::{Datelike, Days, Months, NaiveDate};
-use serde::{Deserialize, Serialize};
 use std::path::PathBuf;
 use std::rc::Rc;
 
@@ -48,245 +49,6 @@ impl Screen {
     }
 }
 
-/// What the operator chose in Settings; saved between runs in `settings.json`. The site
-/// profiles themselves are kept in `sites.json` (see [`super::sites`]); `sites` is filled from
-/// there on start and never written into this file.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
-pub struct Settings {
-    pub lang: String,
-    pub us_units: bool,
-    pub high_contrast: bool,
-    #[serde(skip)]
-    pub sites: Vec<SiteProfile>,
-    /// Sites as the first versions saved them here (`{name, points}`): read once, migrated.
-    #[serde(rename = "sites", skip_serializing)]
-    legacy_sites: Vec<LegacySite>,
-    pub site_index: usize,
-    pub point_index: usize,
-    /// Operator initials, remembered so logging a dose is one tap.
-    pub initials: String,
-}
-
-impl Default for Settings {
-    fn default() -> Settings {
-        Settings {
-            lang: "en".into(),
-            us_units: true,
-            high_contrast: false,
-            sites: Vec::new(),
-            legacy_sites: Vec::new(),
-            site_index: 0,
-            point_index: 0,
-            initials: String::new(),
-        }
-    }
-}
-
-/// A short message for the operator: a translation key and its arguments.
-#[derive(Clone, Debug, PartialEq, Default)]
-pub struct Note {
-    pub key: String,
-    pub args: Vec<(&'static str, String)>,
-    /// Arguments that are phrases of their own (a date span inside the export message):
-    /// translated first, then passed in, so each language words the whole sentence.
-    pub parts: Vec<(&'static str, Note)>,
-}
-
-impl Note {
-    pub(crate) fn new(key: &str) -> Note {
-        Note {
-            key: key.into(),
-            args: Vec::new(),
-            parts: Vec::new(),
-        }
-    }
-
-    pub(crate) fn arg(mut self, name: &'static str, value: impl ToString) -> Note {
-        self.args.push((name, value.to_string()));
-        self
-    }
-
-    pub(crate) fn part(mut self, name: &'static str, phrase: Note) -> Note {
-        self.parts.push((name, phrase));
-        self
-    }
-}
-
-/// One row of "latest logged dose" on the Start screen.
-#[derive(Clone, Debug, PartialEq)]
-pub struct LatestDose {
-    pub point: String,
-    pub chemical: String,
-    pub dose: String,
-    pub when: String,
-}
-
-/// The date choices of the log list, in UTC calendar days (the list shows UTC times): quick
-/// ranges that follow the clock, or the From / To dates the operator typed (`Custom`).
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
-pub enum DateRange {
-    #[default]
-    All,
-    Today,
-    /// Today and the six days before it.
-    Week,
-    /// Today and the 29 days before it.
-    Days30,
-    /// The calendar month of today, first to last day.
-    ThisMonth,
-    /// The calendar month before today's: what the monthly report covers.
-    LastMonth,
-    Custom,
-}
-
-/// First and last day of a date filter, both included; `None` is an open end.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
-pub struct DateSpan {
-    pub from: Option<NaiveDate>,
-    pub to: Option<NaiveDate>,
-}
-
-impl DateSpan {
-    fn between(from: Option<NaiveDate>, to: Option<NaiveDate>) -> DateSpan {
-        DateSpan { from, to }
-    }
-
-    pub fn contains(&self, day: NaiveDate) -> bool {
-        self.from.is_none_or(|f| day >= f) && self.to.is_none_or(|t| day <= t)
-    }
-
-    /// The span in words, for the summary under the fields and the export message.
-    pub fn phrase(&self) -> Note {
-        match (self.from, self.to) {
-            (Some(f), Some(t)) => Note::new(key("log-span-between"))
-                .arg("from", f)
-                .arg("to", t),
-            (Some(f), None) => Note::new(key("log-span-from")).arg("from", f),
-            (None, Some(t)) => Note::new(key("log-span-until")).arg("to", t),
-            (None, None) => Note::new(key("log-span-all")),
-        }
-    }
-
-    /// The part of an export's file name that says what it covers; an unlimited export is
-    /// named by its day, as before, since it holds the log as of that day.
-    pub fn file_stem(&self, today: NaiveDate) -> String {
-        match (self.from, self.to) {
-            (Some(f), Some(t)) => format!("{f}_{t}"),
-            (Some(f), None) => format!("{f}_onwards"),
-            (None, Some(t)) => format!("until_{t}"),
-            (None, None) => today.to_string(),
-        }
-    }
-}
-
-impl DateRange {
-    /// The chips, in the order the Log screen shows them: the months early, so that on a
-    /// phone, where the row scrolls sideways, the monthly report's range is in sight.
-    pub const ALL: [DateRange; 7] = [
-        DateRange::All,
-        DateRange::Today,
-        DateRange::ThisMonth,
-        DateRange::LastMonth,
-        DateRange::Week,
-        DateRange::Days30,
-        DateRange::Custom,
-    ];
-
-    /// The days a quick range covers on `today`; `None` for `Custom`, whose days are typed.
-    /// Month ends come from chrono's calendar (28 to 31 days, leap years included).
-    pub fn span_on(self, today: NaiveDate) -> Option<DateSpan> {
-        let days_back = |n| today.checked_sub_days(Days::new(n));
-        let month_start = today.with_day(1);
-        let month_end = |first: NaiveDate| {
-            first
-                .checked_add_months(Months::new(1))
-                .and_then(|next| next.pred_opt())
-        };
-        Some(match self {
-            DateRange::All => DateSpan::default(),
-            DateRange::Today => DateSpan::between(Some(today), Some(today)),
-            DateRange::Week => DateSpan::between(days_back(6), Some(today)),
-            DateRange::Days30 => DateSpan::between(days_back(29), Some(today)),
-            DateRange::ThisMonth => DateSpan::between(month_start, month_start.and_then(month_end)),
-            DateRange::LastMonth => {
-                let first = month_start.and_then(|d| d.checked_sub_months(Months::new(1)));
-                DateSpan::between(first, month_start.and_then(|d| d.pred_opt()))
-            }
-            DateRange::Custom => return None,
-        })
-    }
-
-    /// Translation key of the chip.
-    pub fn key(self) -> &'static str {
-        match self {
-            DateRange::All => key("log-range-all"),
-            DateRange::Today => key("log-range-today"),
-            DateRange::Week => key("log-range-week"),
-            DateRange::Days30 => key("log-range-30-days"),
-            DateRange::ThisMonth => key("log-range-this-month"),
-            DateRange::LastMonth => key("log-range-last-month"),
-            DateRange::Custom => key("log-range-custom"),
-        }
-    }
-}
-
-/// A typed day: `2026-11-30`, or its eight digits `20261130` — all a numeric keypad can type,
-/// as it has no hyphen. Empty is an open end. The year must have four digits, so `26-11-30`
-/// is refused rather than read as the year 26; chrono checks the day exists (no 30 February).
-pub fn parse_day(text: &str) -> Result<Option<NaiveDate>, NotADay> {
-    let text = text.trim();
-    if text.is_empty() {
-        return Ok(None);
-    }
-    let digits = |s: &str| !s.is_empty() && s.chars().all(|c| c.is_ascii_digit());
-    let format = if text.len() == 8 && digits(text) {
-        "%Y%m%d"
-    } else {
-        match text.split('-').collect::<Vec<_>>()[..] {
-            [y, m, d] if y.len() == 4 && digits(y) && digits(m) && digits(d) => "%Y-%m-%d",
-            _ => return Err(NotADay),
-        }
-    };
-    NaiveDate::parse_from_str(text, format)
-        .map(Some)
-        .map_err(|_| NotADay)
-}
-
-/// Text that is not a day [`parse_day`] reads; the screen says which field it was in.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub struct NotADay;
-
-/// Today's date in UTC, the calendar the list's times are shown in.
-pub fn utc_today() -> NaiveDate {
-    chrono::Utc::now().date_naive()
-}
-
-/// The log list's filters; all of them apply together.
-#[derive(Clone, Debug, Default, PartialEq)]
-pub struct LogFilter {
-    /// Free text: site, point, chemical, initials or note contains it.
-    pub text: String,
-    pub range: DateRange,
-    /// The From / To fields as typed (a quick range fills them with its days); they decide
-    /// the dates only while `range` is `Custom`.
-    pub from_text: String,
-    pub to_text: String,
-    /// A tap (sampling/dosing point) present in the log; `None` is any.
-    pub point: Option<String>,
-    /// A chemical present in the log; `None` is any.
-    pub chemical: Option<String>,
-}
-
-/// Which change form the log's detail pane shows.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
-pub enum LogEdit {
-    #[default]
-    None,
-    Correct,
-    Void,
-}
-
 /// A drawn plot: command strings in the view box of [`plot`], or why there is none.
 #[derive(Clone, Debug, PartialEq, Default)]
 pub struct PlotView {
@@ -306,62 +68,13 @@ pub struct PlotView {
     pub message: Option<Note>,
 }
 
-/// One row of a log entry's detail: a label (translation key) and its value.
-#[derive(Clone, Debug, PartialEq)]
-pub struct DetailRow {
-    pub label: &'static str,
-    pub value: DetailValue,
-}
-
-/// A detail value: text as recorded, a name that may be a translation key, or a time the
-/// screen formats.
-#[derive(Clone, Debug, PartialEq)]
-pub enum DetailValue {
-    Text(String),
-    Name(String),
-    When(String),
-}
-
-impl DetailRow {
-    fn text(label: &'static str, value: &str) -> DetailRow {
-        DetailRow {
-            label,
-            value: DetailValue::Text(value.to_string()),
-        }
-    }
-
-    fn name(label: &'static str, value: &str) -> DetailRow {
-        DetailRow {
-            label,
-            value: DetailValue::Name(value.to_string()),
-        }
-    }
-
-    fn when(label: &'static str, value: &str) -> DetailRow {
-        DetailRow {
-            label,
-            value: DetailValue::When(value.to_string()),
-        }
-    }
-}
-
 pub struct AppState {
-    pub settings: Settings,
+    pub session: Session,
     pub calc: CalcController,
-    log: Box<dyn DoseLog>,
-    data_dir: Option<PathBuf>,
+    pub log: LogScreen,
     history: Vec<Screen>,
     screen: Screen,
-    pub log_filter: LogFilter,
-    selected: Option<u64>,
     pub calc_note: Option<Note>,
-    /// The export/import message.
-    pub log_note: Option<Note>,
-    /// The open correction/void form and its message.
-    pub log_edit: LogEdit,
-    pub log_edit_note: Option<Note>,
-    pub log_format: ExportFormat,
-    catalog: Option<Catalog>,
     prefill: Prefill,
     /// Calculator variants whose product was already preselected from the site.
     preselected: Vec<(CalcKind, CalcMode)>,
@@ -381,69 +94,28 @@ impl AppState {
         data_dir: Option<PathBuf>,
         lang_override: Option<Lang>,
     ) -> AppState {
-        let mut settings = data_dir
-            .as_ref()
-            .and_then(|d| std::fs::read_to_string(d.join("settings.json")).ok())
-            .and_then(|t| serde_json::from_str::<Settings>(&t).ok())
-            .unwrap_or_default();
-        if let Some(lang) = lang_override {
-            settings.lang = lang.tag().into();
-        }
-        let lang = Lang::from_tag(&settings.lang).unwrap_or(Lang::En);
-        let system = if settings.us_units {
-            UnitSystem::Us
-        } else {
-            UnitSystem::Si
-        };
-        let catalog = Catalog::builtin().ok();
-        let legacy = std::mem::take(&mut settings.legacy_sites);
-        settings.sites = sites::load(data_dir.as_deref(), &legacy, system, catalog.as_ref());
-        let migrated = !legacy.is_empty()
-            && data_dir
-                .as_ref()
-                .is_some_and(|d| !d.join(sites::SITES_FILE).exists());
+        let session = Session::open(data_dir, lang_override);
         AppState {
-            calc: CalcController::new(engine, lang, system),
-            settings,
-            log,
-            data_dir,
+            calc: CalcController::new(engine, session.lang(), session.units()),
+            session,
+            log: LogScreen::new(log),
             history: Vec::new(),
             screen: Screen::Start,
-            log_filter: LogFilter::default(),
-            selected: None,
             calc_note: None,
-            log_note: None,
-            log_edit: LogEdit::None,
-            log_edit_note: None,
-            log_format: ExportFormat::Csv,
-            catalog,
             prefill: Prefill::default(),
             preselected: Vec::new(),
             site_problem: None,
             site_saved: false,
             site_section: 0,
         }
-        .saved_if(migrated)
-    }
-
-    /// Writes the migrated profiles at once, so the old sites are read only one time.
-    fn saved_if(self, migrated: bool) -> AppState {
-        if migrated {
-            self.save();
-        }
-        self
     }
 
     pub fn lang(&self) -> Lang {
-        Lang::from_tag(&self.settings.lang).unwrap_or(Lang::En)
+        self.session.lang()
     }
 
     pub fn units(&self) -> UnitSystem {
-        if self.settings.us_units {
-            UnitSystem::Us
-        } else {
-            UnitSystem::Si
-        }
+        self.session.units()
     }
 
     pub fn screen(&self) -> Screen {
@@ -483,85 +155,57 @@ impl AppState {
     }
 
     pub fn set_lang(&mut self, lang: Lang) {
-        self.settings.lang = lang.tag().into();
+        self.session.set_lang(lang);
         self.prefill.through(&mut self.calc, |c| c.set_lang(lang));
-        self.save();
     }
 
     pub fn set_units(&mut self, system: UnitSystem) {
-        self.settings.us_units = system == UnitSystem::Us;
+        self.session.set_units(system);
         self.prefill
             .through(&mut self.calc, |c| c.set_units(system));
-        self.save();
     }
 
     pub fn set_high_contrast(&mut self, on: bool) {
-        self.settings.high_contrast = on;
-        self.save();
+        self.session.set_high_contrast(on);
     }
 
     pub fn site(&self) -> &SiteProfile {
-        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
-        &self.settings.sites[i]
+        self.session.site()
     }
 
     fn site_mut(&mut self) -> &mut SiteProfile {
-        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
-        &mut self.settings.sites[i]
+        self.session.site_mut()
     }
 
     /// The selected sampling tap's name: what the log records as the dose's point.
     pub fn point(&self) -> Option<&str> {
-        self.site()
-            .sampling_taps
-            .get(self.settings.point_index)
-            .map(|t| t.name.as_str())
+        self.session.point()
     }
 
     /// The tap names, in the picker's order.
     pub fn taps(&self) -> Vec<String> {
-        self.site()
-            .sampling_taps
-            .iter()
-            .map(|t| t.name.clone())
-            .collect()
+        self.session.taps()
     }
 
     pub fn catalog(&self) -> Option<&Catalog> {
-        self.catalog.as_ref()
+        self.session.catalog()
     }
 
     pub fn pick_site(&mut self, index: usize) {
-        if index < self.settings.sites.len() {
-            self.settings.site_index = index;
-            self.settings.point_index = 0;
-            self.save();
-        }
+        self.session.pick_site(index);
     }
 
     pub fn pick_point(&mut self, index: usize) {
-        if index < self.site().sampling_taps.len() {
-            self.settings.point_index = index;
-            self.save();
-        }
+        self.session.pick_point(index);
     }
 
     /// Keeps up to 8 letters or digits, upper-cased, as the log requires.
     pub fn set_initials(&mut self, text: &str) {
-        let initials: String = text
-            .chars()
-            .filter(|c| c.is_alphanumeric())
-            .take(8)
-            .collect::<String>()
-            .to_uppercase();
-        if initials != self.settings.initials {
-            self.settings.initials = initials;
-            self.save();
-        }
+        self.session.set_initials(text);
     }
 
     pub fn initials(&self) -> &str {
-        &self.settings.initials
+        self.session.initials()
     }
 
     /// Records the editor's outcome and saves when the edit went through.
@@ -573,8 +217,8 @@ impl AppState {
         edit: impl FnOnce(&mut SiteProfile, Lang, Option<&Catalog>) -> Result<(), SiteProblem>,
     ) -> bool {
         let lang = self.lang();
-        let i = self.settings.site_index.min(self.settings.sites.len() - 1);
-        let outcome = edit(&mut self.settings.sites[i], lang, self.catalog.as_ref());
+        let (site, catalog) = self.session.site_and_catalog();
+        let outcome = edit(site, lang, catalog);
         self.edited(section, outcome)
     }
 
@@ -583,7 +227,7 @@ impl AppState {
         self.site_saved = outcome.is_ok();
         self.site_problem = outcome.err();
         if self.site_saved {
-            self.save();
+            self.session.save();
         }
         self.site_saved
     }
@@ -608,11 +252,11 @@ impl AppState {
         let outcome = if name.is_empty() {
             Self::need_name()
         } else {
-            self.settings
-                .sites
-                .push(sites::empty_site(name, self.units()));
-            self.settings.site_index = self.settings.sites.len() - 1;
-            self.settings.point_index = 0;
+            let site = sites::empty_site(name, self.units());
+            let settings = &mut self.session.settings;
+            settings.sites.push(site);
+            settings.site_index = settings.sites.len() - 1;
+            settings.point_index = 0;
             Ok(())
         };
         self.edited(0, outcome)
@@ -620,8 +264,8 @@ impl AppState {
 
     /// Puts the embedded demo plant back in place of the current site.
     pub fn reset_to_demo(&mut self) {
-        *self.site_mut() = sites::demo(self.catalog.as_ref());
-        self.settings.point_index = 0;
+        *self.session.site_mut() = sites::demo(self.session.catalog());
+        self.session.settings.point_index = 0;
         self.edited(0, Ok(()));
     }
 
@@ -629,7 +273,7 @@ impl AppState {
     pub fn add_point(&mut self, name: &str) -> bool {
         let added = sites::add_tap(self.site_mut(), name);
         let outcome = if added {
-            self.settings.point_index = self.site().sampling_taps.len() - 1;
+            self.session.settings.point_index = self.site().sampling_taps.len() - 1;
             Ok(())
         } else if name.trim().is_empty() {
             Self::need_name()
@@ -663,8 +307,8 @@ impl AppState {
         if index < self.site().sampling_taps.len() {
             self.site_mut().sampling_taps.remove(index);
             let len = self.site().sampling_taps.len();
-            if self.settings.point_index >= len {
-                self.settings.point_index = len.saturating_sub(1);
+            if self.session.settings.point_index >= len {
+                self.session.settings.point_index = len.saturating_sub(1);
             }
             self.edited(1, Ok(()));
         }
@@ -735,7 +379,7 @@ impl AppState {
         let product = view.products.get(view.product_index).map(|p| p.id.clone());
         let values = sites::site_values(
             self.site(),
-            self.catalog.as_ref(),
+            self.session.catalog(),
             product.as_deref(),
             self.units(),
         );
@@ -743,20 +387,31 @@ impl AppState {
         self.prefill.apply(&mut self.calc, &values, lang);
     }
 
-    /// Preferences only (never a dose record); a failed write just loses the preference. The
-    /// profiles go first, so an interrupted save never leaves settings without sites.
-    fn save(&self) {
-        if let Some(dir) = &self.data_dir
-            && sites::save(dir, &self.settings.sites).is_ok()
-            && let Ok(text) = serde_json::to_string_pretty(&self.settings)
-        {
-            let _ = super::files::write_whole(&dir.join("settings.json"), text.as_bytes());
-        }
-    }
-
     /// Whether logged doses survive a restart (drives the "not saved" banner).
     pub fn log_is_persistent(&self) -> bool {
         self.log.persistent()
+    }
+
+    pub fn entries(&self) -> std::rc::Rc<Vec<Entry>> {
+        self.log.entries()
+    }
+
+    /// The newest entry for each (point, chemical) at the current site.
+    pub fn latest_doses(&self) -> Vec<LatestDose> {
+        self.log.latest_doses(&self.session)
+    }
+
+    /// "Correct…" on the Log screen, with the calculator's current card as the recomputed
+    /// result (see [`LogScreen::correct_selected`]).
+    pub fn correct_selected(&mut self, dose: &str, note: &str, reason: &str) -> Result<(), Note> {
+        let (calc, session) = (&self.calc, &self.session);
+        let card = |operator: &str, tap: &str| card_dose(calc, session, operator, tap);
+        self.log.correct_selected(session, card, dose, note, reason)
+    }
+
+    /// "Void…" on the Log screen.
+    pub fn void_selected(&mut self, reason: &str) -> Result<(), Note> {
+        self.log.void_selected(&self.session, reason)
     }
 
     /// "Log this dose": records the current result for the selected site and point.
@@ -766,431 +421,29 @@ impl AppState {
             self.calc_note = Some(nothing.clone());
             return Err(nothing);
         }
-        if self.settings.initials.is_empty() {
+        if self.session.initials().is_empty() {
             let note = Note::new(key("log-need-initials"));
             self.calc_note = Some(note.clone());
             return Err(note);
         }
-        let initials = self.settings.initials.clone();
+        let initials = self.session.initials().to_string();
         let Some(dose) = self.card_dose(&initials, self.point().unwrap_or("")) else {
             self.calc_note = Some(nothing.clone());
             return Err(nothing);
         };
         let site = self.site().name.clone();
-        match self.log.append(&site, None, dose) {
-            Ok(id) => {
-                self.calc_note = Some(Note::new(key("log-saved")).arg("id", id));
-                self.selected = Some(id);
-                Ok(id)
-            }
-            Err(e) => {
-                let note = log_error_note(&e);
-                self.calc_note = Some(note.clone());
-                Err(note)
-            }
-        }
+        let logged = self.log.record(&site, dose);
+        self.calc_note = Some(match &logged {
+            Ok(id) => Note::new(key("log-saved")).arg("id", id),
+            Err(note) => note.clone(),
+        });
+        logged
     }
 
     /// The calculator card as the log records it ([`dose_of`]): with the engine's cautions
     /// and the site's permit warnings, as the card showed them. `None` without a dose.
     fn card_dose(&self, operator: &str, tap: &str) -> Option<crate::log::record::Dose> {
-        dose_of(
-            &self.calc.view(),
-            Logging {
-                operator,
-                tap,
-                lang: self.lang(),
-                units: self.units(),
-            },
-        )
-    }
-
-    pub fn entries(&self) -> std::rc::Rc<Vec<Entry>> {
-        self.log.entries()
-    }
-
-    /// Entries matching every filter, newest first, with today's date from the clock.
-    pub fn filtered_entries(&self) -> Vec<Entry> {
-        self.filtered_entries_on(utc_today())
-    }
-
-    /// Chooses a date chip: a quick range fills the From / To fields with its days (empty for
-    /// an open end); "typed dates" keeps what the fields show, now fixed rather than following
-    /// the clock.
-    pub fn pick_log_range(&mut self, range: DateRange, today: NaiveDate) {
-        let (from, to) = self.log_date_texts(today);
-        let f = &mut self.log_filter;
-        f.range = range;
-        (f.from_text, f.to_text) = (from, to);
-    }
-
-    /// The operator typed in the From or To field: the typed dates decide from now on.
-    pub fn edit_log_dates(&mut self, from: &str, to: &str) {
-        let f = &mut self.log_filter;
-        f.range = DateRange::Custom;
-        f.from_text = from.to_string();
-        f.to_text = to.to_string();
-    }
-
-    /// What the From / To fields show: a quick range's days on `today`, or what was typed.
-    pub fn log_date_texts(&self, today: NaiveDate) -> (String, String) {
-        let f = &self.log_filter;
-        match f.range.span_on(today) {
-            Some(span) => {
-                let text = |d: Option<NaiveDate>| d.map(|d| d.to_string()).unwrap_or_default();
-                (text(span.from), text(span.to))
-            }
-            None => (f.from_text.clone(), f.to_text.clone()),
-        }
-    }
-
-    /// The days the list covers on `today`, or why the typed dates cannot be used (in words,
-    /// never a guess: a bad date filters nothing until it is fixed).
-    pub fn log_span(&self, today: NaiveDate) -> Result<DateSpan, Note> {
-        let f = &self.log_filter;
-        if let Some(span) = f.range.span_on(today) {
-            return Ok(span);
-        }
-        let from = parse_day(&f.from_text)
-            .map_err(|NotADay| Note::new(key("log-from-bad")).arg("text", f.from_text.trim()))?;
-        let to = parse_day(&f.to_text)
-            .map_err(|NotADay| Note::new(key("log-to-bad")).arg("text", f.to_text.trim()))?;
-        if let (Some(a), Some(b)) = (from, to)
-            && a > b
-        {
-            return Err(Note::new(key("log-dates-reversed"))
-                .arg("from", a)
-                .arg("to", b));
-        }
-        Ok(DateSpan::between(from, to))
-    }
-
-    /// Entries matching every filter, newest first, on the UTC day `today`. Nothing while
-    /// the typed dates cannot be read ([`log_span`](Self::log_span) says why).
-    pub fn filtered_entries_on(&self, today: NaiveDate) -> Vec<Entry> {
-        let (all, listed) = self.filtered_on(today);
-        listed.into_iter().map(|i| all[i].clone()).collect()
-    }
-
-    /// The log and the positions in it of the entries matching every filter, newest first:
-    /// the list reads them in place rather than copying a long log on every refresh.
-    pub fn filtered_on(&self, today: NaiveDate) -> (std::rc::Rc<Vec<Entry>>, Vec<usize>) {
-        let all = self.log.entries();
-        let f = &self.log_filter;
-        let Ok(span) = self.log_span(today) else {
-            return (all, Vec::new());
-        };
-        let needle = f.text.trim().to_lowercase();
-        let utc_day = |when: &str| {
-            chrono::DateTime::parse_from_rfc3339(when)
-                .ok()
-                .map(|t| t.with_timezone(&chrono::Utc).date_naive())
-        };
-        let listed = all
-            .iter()
-            .enumerate()
-            .rev()
-            .filter(|(_, e)| {
-                let d = &e.dose;
-                let dated = span == DateSpan::default()
-                    || utc_day(&e.when).is_some_and(|day| span.contains(day));
-                let product = d.product.as_ref().map_or("", |p| p.name.as_str());
-                dated
-                    && f.point.as_ref().is_none_or(|p| *p == d.tap)
-                    && f.chemical.as_ref().is_none_or(|c| *c == d.chemical)
-                    && (needle.is_empty()
-                        || [&e.site, &d.tap, &d.chemical, product, &d.operator, &d.note]
-                            .iter()
-                            .any(|s| s.to_lowercase().contains(&needle)))
-            })
-            .map(|(i, _)| i)
-            .collect();
-        (all, listed)
-    }
-
-    /// The taps and the chemicals present in the log, sorted, for the filter choices.
-    pub fn log_choices(&self) -> (Vec<String>, Vec<String>) {
-        let entries = self.log.entries();
-        let mut points: Vec<String> = entries.iter().map(|e| e.dose.tap.clone()).collect();
-        let mut chemicals: Vec<String> = entries.iter().map(|e| e.dose.chemical.clone()).collect();
-        for list in [&mut points, &mut chemicals] {
-            list.sort();
-            list.dedup();
-        }
-        (points, chemicals)
-    }
-
-    pub fn select_entry(&mut self, id: u64) {
-        if self.selected != Some(id) {
-            self.log_edit = LogEdit::None;
-            self.log_edit_note = None;
-        }
-        self.selected = Some(id);
-    }
-
-    pub fn selected_entry(&self) -> Option<Entry> {
-        let id = self.selected?;
-        self.log.entries().iter().find(|e| e.id == id).cloned()
-    }
-
-    /// The detail of the selected entry, as rows of a label (a translation key) and a value:
-    /// each number as the card showed it, in the unit it was logged in; what was not computed
-    /// is a dash. The bridge only translates the labels.
-    pub fn selected_detail(&self) -> Vec<DetailRow> {
-        let Some(e) = self.selected_entry() else {
-            return Vec::new();
-        };
-        let d = &e.dose;
-        let shown = |id: &str| {
-            d.result(id).map_or("—".to_string(), |r| {
-                format!("{} {}", r.shown, r.unit).trim_end().to_string()
-            })
-        };
-        let (setting_label, setting) = if d.result("feeder_setting").is_some() {
-            (key("result-feeder-setting"), shown("feeder_setting"))
-        } else {
-            (key("result-pump"), shown("pump_setting"))
-        };
-        vec![
-            DetailRow::when(key("log-field-when"), &e.when),
-            DetailRow::text(key("log-field-site"), &e.site),
-            DetailRow::text(key("log-field-point"), &d.tap),
-            // The product's English name as recorded, else the compound (translated if a
-            // name key).
-            match &d.product {
-                Some(p) => DetailRow::text(key("log-field-chemical"), &p.name),
-                None => DetailRow::name(key("log-field-chemical"), &d.chemical),
-            },
-            DetailRow::text(key("result-dose"), &shown("dose")),
-            DetailRow::text(key("result-feed"), &shown("feed_mass_rate")),
-            DetailRow::text(setting_label, &setting),
-            DetailRow::text(key("log-field-operator"), &d.operator),
-            DetailRow::text(key("log-field-note"), &d.note),
-        ]
-    }
-
-    /// The selected entry's original and every correction and void, oldest first.
-    pub fn selected_history(&self) -> Vec<Revision> {
-        self.selected
-            .and_then(|id| self.log.history(id).ok())
-            .unwrap_or_default()
-    }
-
-    /// Opens the correction or void form for the selected entry. A voided entry stays as
-    /// it is: correcting it would silently bring it back.
-    pub fn open_log_edit(&mut self, edit: LogEdit) {
-        self.log_edit_note = None;
-        match self.selected_entry() {
-            Some(e) if e.voided() && edit != LogEdit::None => {
-                self.log_edit = LogEdit::None;
-                self.log_edit_note = Some(Note::new(key("log-entry-voided")));
-            }
-            Some(_) => self.log_edit = edit,
-            None => self.log_edit = LogEdit::None,
-        }
-    }
-
-    /// Checks what every change needs: an open entry that is not voided, initials, a reason.
-    fn change_target(&mut self, reason: &str) -> Result<Entry, Note> {
-        let entry = self
-            .selected_entry()
-            .ok_or_else(|| Note::new(key("log-pick-entry")))?;
-        if entry.voided() {
-            return Err(Note::new(key("log-entry-voided")));
-        }
-        if self.settings.initials.is_empty() {
-            return Err(Note::new(key("log-need-initials")));
-        }
-        if reason.trim().is_empty() {
-            return Err(Note::new(key("log-need-reason")));
-        }
-        Ok(entry)
-    }
-
-    /// "Correct…": records a correction of the selected entry, with a reason. A correction is a
-    /// whole recomputed result: the calculator's current card for the entry's calculator (at
-    /// the entry's tap), whose dose is the one typed in the form, so the corrected dose never
-    /// sits beside the old flow or pump setting. Fix the readings in the calculator first.
-    pub fn correct_selected(&mut self, dose: &str, note: &str, reason: &str) -> Result<(), Note> {
-        let result = self.change_target(reason).and_then(|entry| {
-            let lang = self.lang();
-            let typed = numbers::parse(dose, lang)
-                .ok()
-                .filter(|d| d.is_finite() && *d >= 0.0)
-                .ok_or_else(|| Note::new(key("log-dose-invalid")))?;
-            let initials = self.settings.initials.clone();
-            let mut fixed = self
-                .card_dose(&initials, &entry.dose.tap)
-                .filter(|d| d.calculator == entry.dose.calculator)
-                .ok_or_else(|| Note::new(key("log-correct-needs-result")))?;
-            let shown = fixed
-                .result(crate::log::record::result_id::DOSE)
-                .map(|r| r.shown.clone())
-                .unwrap_or_default();
-            if numbers::parse(&shown, lang).ok() != Some(typed) {
-                return Err(Note::new(key("log-correct-dose-differs")).arg("dose", shown));
-            }
-            fixed.tap = entry.dose.tap.clone();
-            fixed.note = note.trim().to_string();
-            let unchanged = crate::log::record::Dose {
-                operator: fixed.operator.clone(),
-                ..entry.dose.clone()
-            };
-            if fixed == unchanged {
-                return Err(Note::new(key("log-nothing-changed")));
-            }
-            let fix = Amendment {
-                reason: reason.trim().to_string(),
-                dose: fixed,
-            };
-            self.log
-                .correct(entry.id, fix)
-                .map(|()| entry.id)
-                .map_err(|e| log_error_note(&e))
-        });
-        self.finish_change(result, key("log-corrected"))
-    }
-
-    /// "Void…": records that the selected entry should not count, with a reason.
-    pub fn void_selected(&mut self, reason: &str) -> Result<(), Note> {
-        let result = self.change_target(reason).and_then(|entry| {
-            let initials = self.settings.initials.clone();
-            self.log
-                .void(entry.id, &initials, reason.trim())
-                .map(|()| entry.id)
-                .map_err(|e| log_error_note(&e))
-        });
-        self.finish_change(result, key("log-voided"))
-    }
-
-    fn finish_change(&mut self, result: Result<u64, Note>, done: &str) -> Result<(), Note> {
-        match result {
-            Ok(id) => {
-                self.log_edit = LogEdit::None;
-                self.log_edit_note = Some(Note::new(done).arg("id", id));
-                Ok(())
-            }
-            Err(note) => {
-                self.log_edit_note = Some(note.clone());
-                Err(note)
-            }
-        }
-    }
-
-    /// The newest entry for each (point, chemical) at the current site.
-    pub fn latest_doses(&self) -> Vec<LatestDose> {
-        let site = self.site().name.clone();
-        let mut out: Vec<LatestDose> = Vec::new();
-        let mut seen: Vec<(String, String)> = Vec::new();
-        for e in self.log.entries().iter().rev().filter(|e| !e.voided()) {
-            let pair = (e.dose.tap.clone(), e.dose.chemical.clone());
-            if e.site != site || seen.contains(&pair) {
-                continue;
-            }
-            seen.push(pair);
-            out.push(LatestDose {
-                point: e.dose.tap.clone(),
-                chemical: e.dose.chemical.clone(),
-                dose: e
-                    .dose
-                    .dose_mg_per_l()
-                    .map_or_else(|| "—".into(), |d| numbers::format_sig(d, 3, self.lang())),
-                when: e.when.replace('T', " ").trim_end_matches('Z').to_string(),
-            });
-        }
-        out
-    }
-
-    /// Exports what the list shows to the typed path, or (left empty) to a file in the export
-    /// folder named by its dates.
-    pub fn export_log(&mut self, path: &str) {
-        self.export_log_on(path, utc_today());
-    }
-
-    /// Exports exactly the entries the list shows on the UTC day `today` — date range, tap,
-    /// chemical and free text applied, voided entries with their status — and says how many
-    /// went out and which days they cover.
-    pub fn export_log_on(&mut self, path: &str, today: NaiveDate) {
-        self.log_note = Some(match self.export_listed(path, today) {
-            Ok(note) | Err(note) => note,
-        });
-    }
-
-    fn export_listed(&self, path: &str, today: NaiveDate) -> Result<Note, Note> {
-        let span = self
-            .log_span(today)
-            .map_err(|_| Note::new(key("log-export-fix-dates")))?;
-        let listed: Vec<u64> = self
-            .filtered_entries_on(today)
-            .iter()
-            .map(|e| e.id)
-            .collect();
-        if listed.is_empty() {
-            return Err(Note::new(key("log-export-nothing")));
-        }
-        let format = self.log_format;
-        let target = if path.trim().is_empty() {
-            self.default_export_path(format, &span.file_stem(today))
-                .ok_or_else(|| Note::new(key("log-need-path")))?
-        } else {
-            PathBuf::from(path.trim())
-        };
-        let f = &self.log_filter;
-        let narrowed = f.point.is_some() || f.chemical.is_some() || !f.text.trim().is_empty();
-        let filters = Note::new(if narrowed {
-            key("log-export-narrowed")
-        } else {
-            key("log-export-not-narrowed")
-        });
-        self.log
-            .export(&target, format, &listed, self.site().units)
-            .map(|n| {
-                Note::new(key("log-exported"))
-                    .arg("count", n)
-                    .arg("path", target.display())
-                    .part("span", span.phrase())
-                    .part("filters", filters)
-            })
-            .map_err(|e| log_error_note(&e))
-    }
-
-    /// Merges another device's log file; the message counts new, known and conflicting records.
-    pub fn import_log(&mut self, path: &str) {
-        if path.trim().is_empty() {
-            self.log_note = Some(Note::new(key("log-need-import-path")));
-            return;
-        }
-        self.log_note = Some(match self.log.import(&PathBuf::from(path.trim())) {
-            Ok(r) => Note::new(key("log-imported"))
-                .arg("added", r.added)
-                .arg("present", r.already_present)
-                .arg("conflicts", r.conflicting)
-                .arg("unreadable", r.unreadable),
-            Err(e) => log_error_note(&e),
-        });
-        self.selected = self
-            .selected
-            .filter(|id| self.log.entries().iter().any(|e| e.id == *id));
-    }
-
-    /// The app's export folder (`<data dir>/exports`), when the platform gave a data dir.
-    pub fn export_folder(&self) -> Option<PathBuf> {
-        self.data_dir.as_ref().map(|d| d.join("exports"))
-    }
-
-    /// `<export folder>/molefeed-log-<stem>.<ext>` (the stem names the days, see
-    /// [`DateSpan::file_stem`]), numbered so no earlier export is overwritten; creates the
-    /// folder.
-    pub fn default_export_path(&self, format: ExportFormat, stem: &str) -> Option<PathBuf> {
-        let folder = self.export_folder()?;
-        std::fs::create_dir_all(&folder).ok()?;
-        let ext = format.extension();
-        (1..1000)
-            .map(|n| match n {
-                1 => folder.join(format!("molefeed-log-{stem}.{ext}")),
-                n => folder.join(format!("molefeed-log-{stem}-{n}.{ext}")),
-            })
-            .find(|p| !p.exists())
+        card_dose(&self.calc, &self.session, operator, tap)
     }
 
     /// The titration curve for the calculator in use when it draws one (coagulation: pH
@@ -1271,6 +524,7 @@ impl AppState {
         let all = self.log.entries();
         let entries = || all.iter().filter(|e| !e.voided());
         let Some(focus) = self
+            .log
             .selected_entry()
             .or_else(|| entries().next_back().cloned())
         else {
@@ -1334,9 +588,8 @@ impl AppState {
     /// Puts back the calculator inputs kept by [`save_inputs`](Self::save_inputs), if any.
     pub fn restore_inputs(&mut self) {
         if let Some(saved) = self
-            .data_dir
-            .as_ref()
-            .and_then(|d| std::fs::read_to_string(d.join(INPUTS_FILE)).ok())
+            .session
+            .read_file(INPUTS_FILE)
             .and_then(|t| serde_json::from_str::<CalcInputs>(&t).ok())
         {
             self.calc.restore(&saved);
@@ -1347,14 +600,8 @@ impl AppState {
     /// the background) comes back to the same readings. A preference-like file, written whole
     /// to a temporary name and renamed, so a crash leaves the old or the new one, never half.
     pub fn save_inputs(&self) {
-        let Some(dir) = &self.data_dir else {
-            return;
-        };
-        let Ok(text) = serde_json::to_string_pretty(&self.calc.inputs()) else {
-            return;
-        };
-        if std::fs::create_dir_all(dir).is_ok() {
-            let _ = super::files::write_whole(&dir.join(INPUTS_FILE), text.as_bytes());
+        if let Ok(text) = serde_json::to_string_pretty(&self.calc.inputs()) {
+            let _ = self.session.write_file(INPUTS_FILE, text.as_bytes());
         }
     }
 }
@@ -1362,21 +609,31 @@ impl AppState {
 /// Where the calculator inputs are kept between runs, in the data directory.
 const INPUTS_FILE: &str = "calculator-inputs.json";
 
+/// The calculator card as the log records it ([`dose_of`]), in the session's language and
+/// units.
+fn card_dose(
+    calc: &CalcController,
+    session: &Session,
+    operator: &str,
+    tap: &str,
+) -> Option<crate::log::record::Dose> {
+    dose_of(
+        &calc.view(),
+        Logging {
+            operator,
+            tap,
+            lang: session.lang(),
+            units: session.units(),
+        },
+    )
+}
+
 /// The axis ranges of a plot of `points`.
 fn ranges(points: &[(f64, f64)]) -> Option<(Range, Range)> {
     Some((
         Range::around(points.iter().map(|p| p.0))?,
         Range::around(points.iter().map(|p| p.1))?,
     ))
-}
-
-fn log_error_note(e: &LogError) -> Note {
-    match e {
-        LogError::Rejected { code, message } => {
-            Note::new(&format!("log-error-{code}")).arg("detail", message)
-        }
-        LogError::Io(message) => Note::new(key("log-io-error")).arg("detail", message),
-    }
 }
 
 #[cfg(test)]
@@ -1492,307 +749,14 @@ mod tests {
         s.pick_point(1);
         fill_feed(&mut s, "2");
         s.log_current_dose().unwrap();
-        s.log_filter.text = "SETTLED".into();
-        let rows = s.filtered_entries();
+        s.log.filter.text = "SETTLED".into();
+        let rows = s.log.filtered_entries();
         assert_eq!(rows.len(), 1);
         assert_eq!(rows[0].dose.dose_mg_per_l(), Some(2.0));
         // Both doses are of the same compound (the product's dose basis, such as Cl2).
         let chemical = s.entries()[0].dose.chemical.to_lowercase();
-        s.log_filter.text = chemical;
-        assert_eq!(s.filtered_entries().len(), 2);
-    }
-
-    /// A logged dose at `point` of `chemical`, as the example feed with its dose set.
-    fn logged(point: &str, chemical: &str, dose: f64) -> Dose {
-        let mut d = example_dose();
-        d.tap = point.into();
-        d.chemical = chemical.into();
-        d.results.iter_mut().find(|r| r.id == "dose").unwrap().value = dose;
-        d
-    }
-
-    fn seed(s: &mut AppState, when: &str, point: &str, chemical: &str, dose: f64) -> u64 {
-        let at = chrono::DateTime::parse_from_rfc3339(when).unwrap();
-        s.log
-            .append("Demo site", Some(at), logged(point, chemical, dose))
-            .unwrap()
-    }
-
-    /// The doses the list shows for a filter on a fixed day, newest first.
-    fn shown(s: &mut AppState, filter: LogFilter) -> Vec<f64> {
-        s.log_filter = filter;
-        s.filtered_entries_on(day("2026-12-02"))
-            .iter()
-            .map(|e| e.dose.dose_mg_per_l().unwrap())
-            .collect()
-    }
-
-    #[test]
-    fn date_point_and_chemical_filters_combine() {
-        let mut s = state(Rc::new(Unconnected));
-        seed(&mut s, "2026-10-15T08:00:00Z", "Clearwell", "NaOCl", 1.0);
-        seed(&mut s, "2026-11-28T08:00:00Z", "Clearwell", "NaOCl", 2.0);
-        seed(&mut s, "2026-12-02T06:00:00Z", "Raw water", "NaOH", 3.0);
-        seed(&mut s, "2026-12-02T07:00:00Z", "Clearwell", "NaOCl", 4.0);
-        let f = |range, point: Option<&str>, chemical: Option<&str>| LogFilter {
-            range,
-            point: point.map(str::to_string),
-            chemical: chemical.map(str::to_string),
-            ..LogFilter::default()
-        };
-        let cases: [(LogFilter, &[f64]); 7] = [
-            (f(DateRange::All, None, None), &[4.0, 3.0, 2.0, 1.0]),
-            (f(DateRange::Today, None, None), &[4.0, 3.0]),
-            (f(DateRange::Week, None, None), &[4.0, 3.0, 2.0]),
-            (f(DateRange::Days30, None, None), &[4.0, 3.0, 2.0]),
-            (f(DateRange::All, Some("Clearwell"), None), &[4.0, 2.0, 1.0]),
-            (
-                f(DateRange::Week, Some("Clearwell"), Some("NaOCl")),
-                &[4.0, 2.0],
-            ),
-            (f(DateRange::Today, None, Some("NaOH")), &[3.0]),
-        ];
-        for (filter, expected) in cases {
-            assert_eq!(shown(&mut s, filter.clone()), expected, "{filter:?}");
-        }
-        let (points, chemicals) = s.log_choices();
-        assert_eq!(points, ["Clearwell", "Raw water"]);
-        assert_eq!(chemicals, ["NaOCl", "NaOH"]);
-    }
-
-    fn day(text: &str) -> NaiveDate {
-        NaiveDate::parse_from_str(text, "%Y-%m-%d").unwrap()
-    }
-
-    /// `""` is an open end.
-    fn span_text(span: DateSpan) -> (String, String) {
-        let text = |d: Option<NaiveDate>| d.map(|d| d.to_string()).unwrap_or_default();
-        (text(span.from), text(span.to))
-    }
-
-    #[test]
-    fn quick_ranges_are_utc_calendar_days() {
-        fn check(range: DateRange, today: &str, expected: Option<(&str, &str)>) {
-            let got = range.span_on(day(today)).map(span_text);
-            let want = expected.map(|(f, t)| (f.to_string(), t.to_string()));
-            assert_eq!(got, want, "{range:?} on {today}");
-        }
-        use DateRange::*;
-        check(LastMonth, "2026-12-02", Some(("2026-11-01", "2026-11-30")));
-        check(LastMonth, "2026-12-01", Some(("2026-11-01", "2026-11-30")));
-        check(LastMonth, "2026-12-31", Some(("2026-11-01", "2026-11-30")));
-        check(LastMonth, "2028-03-01", Some(("2028-02-01", "2028-02-29")));
-        check(LastMonth, "2027-03-01", Some(("2027-02-01", "2027-02-28")));
-        check(LastMonth, "2027-01-01", Some(("2026-12-01", "2026-12-31")));
-        check(LastMonth, "2026-08-31", Some(("2026-07-01", "2026-07-31")));
-        check(ThisMonth, "2026-12-02", Some(("2026-12-01", "2026-12-31")));
-        check(ThisMonth, "2028-02-15", Some(("2028-02-01", "2028-02-29")));
-        check(ThisMonth, "2026-04-30", Some(("2026-04-01", "2026-04-30")));
-        check(ThisMonth, "2026-01-01", Some(("2026-01-01", "2026-01-31")));
-        check(Today, "2026-12-02", Some(("2026-12-02", "2026-12-02")));
-        check(Week, "2026-12-02", Some(("2026-11-26", "2026-12-02")));
-        check(Week, "2026-03-03", Some(("2026-02-25", "2026-03-03")));
-        check(Days30, "2026-12-02", Some(("2026-11-03", "2026-12-02")));
-        check(All, "2026-12-02", Some(("", "")));
-        check(Custom, "2026-12-02", None);
-    }
-
-    #[test]
-    fn typed_dates_are_read_or_refused_in_words() {
-        fn check(from: &str, to: &str, expected: Result<(&str, &str), &str>) {
-            let mut s = state(Rc::new(Unconnected));
-            s.edit_log_dates(from, to);
-            assert_eq!(
-                s.log_filter.range,
-                DateRange::Custom,
-                "typing makes it custom"
-            );
-            let got = s.log_span(day("2026-12-02")).map(span_text);
-            let got = got.as_ref().map_err(|n| n.key.as_str());
-            let want = expected.map(|(f, t)| (f.to_string(), t.to_string()));
-            assert_eq!(got, want.as_ref().map_err(|k| *k), "{from:?} .. {to:?}");
-        }
-        check("2026-11-01", "2026-11-30", Ok(("2026-11-01", "2026-11-30")));
-        check("20261101", "20261130", Ok(("2026-11-01", "2026-11-30")));
-        check(" 2026-11-01 ", "", Ok(("2026-11-01", "")));
-        check("", "2026-11-30", Ok(("", "2026-11-30")));
-        check("", "", Ok(("", "")));
-        check("  ", "\t", Ok(("", "")));
-        check("2026-11-30", "2026-11-30", Ok(("2026-11-30", "2026-11-30")));
-        check("2028-02-29", "", Ok(("2028-02-29", "")));
-        check("2026-02-29", "", Err("log-from-bad"));
-        check("2026-11-31", "", Err("log-from-bad"));
-        check("2026-13-01", "", Err("log-from-bad"));
-        check("26-11-01", "", Err("log-from-bad"));
-        check("+2026-11-01", "", Err("log-from-bad"));
-        check("2026-11", "", Err("log-from-bad"));
-        check("2026/11/01", "", Err("log-from-bad"));
-        check("yesterday", "", Err("log-from-bad"));
-        check("2026111", "", Err("log-from-bad"));
-        check("", "30/11/2026", Err("log-to-bad"));
-        check("", "2026-1130", Err("log-to-bad"));
-        check("", "202611301", Err("log-to-bad"));
-        check("2026-12-01", "2026-11-30", Err("log-dates-reversed"));
-        check("20261201", "2026-11-30", Err("log-dates-reversed"));
-    }
-
-    #[test]
-    fn a_date_problem_names_what_was_typed() {
-        let mut s = state(Rc::new(Unconnected));
-        s.edit_log_dates("2026-12-01", "2026-11-30");
-        let note = s.log_span(day("2026-12-02")).unwrap_err();
-        assert_eq!(
-            note.args,
-            [("from", "2026-12-01".into()), ("to", "2026-11-30".into())]
-        );
-        s.edit_log_dates(" 2026-02-30 ", "");
-        let note = s.log_span(day("2026-12-02")).unwrap_err();
-        assert_eq!(note.args, [("text", "2026-02-30".into())]);
-    }
-
-    #[test]
-    fn quick_ranges_fill_the_fields_and_typing_takes_over() {
-        let mut s = state(Rc::new(Unconnected));
-        let today = day("2026-12-02");
-        let fields = |s: &AppState| s.log_date_texts(today);
-        assert_eq!(fields(&s), (String::new(), String::new()), "All: both open");
-        s.pick_log_range(DateRange::LastMonth, today);
-        assert_eq!(fields(&s), ("2026-11-01".into(), "2026-11-30".into()));
-        // "Typed dates" keeps the days the fields show, now fixed.
-        s.pick_log_range(DateRange::Custom, today);
-        assert_eq!(fields(&s), ("2026-11-01".into(), "2026-11-30".into()));
-        assert_eq!(
-            span_text(s.log_span(day("2027-05-05")).unwrap()),
-            ("2026-11-01".into(), "2026-11-30".into()),
-            "typed days do not follow the clock"
-        );
-        s.pick_log_range(DateRange::Week, today);
-        s.edit_log_dates("2026-11-2", "2026-11-26");
-        assert_eq!(s.log_filter.range, DateRange::Custom);
-        assert_eq!(
-            fields(&s),
-            ("2026-11-2".into(), "2026-11-26".into()),
-            "kept as typed"
-        );
-        s.pick_log_range(DateRange::All, today);
-        assert_eq!(fields(&s), (String::new(), String::new()));
-    }
-
-    /// The dose column and status of each data row of an export, in file order.
-    fn csv_rows(path: &std::path::Path) -> Vec<(String, String)> {
-        let mut reader = csv::Reader::from_path(path).unwrap();
-        let header = reader.headers().expect("a header row").clone();
-        let column = |t: &str| header.iter().position(|c| c == t).unwrap();
-        let (dose, status) = (column("dose_mg_per_L"), column("status"));
-        reader
-            .records()
-            .map(|cells| {
-                let cells = cells.unwrap();
-                (cells[dose].to_string(), cells[status].to_string())
-            })
-            .collect()
-    }
-
-    #[test]
-    fn last_month_exports_only_its_entries_to_a_file_named_by_its_days() {
-        let dir = temp_dir("month-export");
-        let mut s = open(&dir, Rc::new(Unconnected));
-        let today = day("2026-12-02");
-        seed(&mut s, "2026-10-31T23:59:59Z", "Clearwell", "NaOCl", 1.0);
-        seed(&mut s, "2026-11-01T00:00:00Z", "Clearwell", "NaOCl", 2.0);
-        let raw = seed(&mut s, "2026-11-15T08:00:00Z", "Raw water", "NaOH", 3.0);
-        seed(&mut s, "2026-11-30T23:59:59Z", "Clearwell", "NaOCl", 4.0);
-        seed(&mut s, "2026-12-01T00:00:00Z", "Clearwell", "NaOCl", 5.0);
-        s.set_initials("KT");
-        s.select_entry(raw);
-        s.void_selected("wrong tap").unwrap();
-
-        s.pick_log_range(DateRange::LastMonth, today);
-        s.export_log_on("", today);
-        let note = s.log_note.clone().unwrap();
-        assert_eq!(note.key, "log-exported", "{note:?}");
-        assert!(note.args.contains(&("count", "3".into())), "{note:?}");
-        let span = &note.parts.iter().find(|(n, _)| *n == "span").unwrap().1;
-        assert_eq!(span.key, "log-span-between");
-        assert_eq!(
-            span.args,
-            [("from", "2026-11-01".into()), ("to", "2026-11-30".into())]
-        );
-        let first = dir.join("exports/molefeed-log-2026-11-01_2026-11-30.csv");
-        let rows = |dose: &str, status: &str| (dose.to_string(), status.to_string());
-        // Oldest first; the voided entry is in the report, marked.
-        let november = [
-            rows("2", "original"),
-            rows("3", "voided"),
-            rows("4", "original"),
-        ];
-        assert_eq!(csv_rows(&first), november);
-
-        // Again: a numbered file, the first left as it was.
-        s.export_log_on("", today);
-        let second = dir.join("exports/molefeed-log-2026-11-01_2026-11-30-2.csv");
-        assert_eq!(csv_rows(&second), november);
-        assert_eq!(csv_rows(&first), november);
-
-        // A tap and free text narrow the file as they narrow the list, and the message says so.
-        s.log_filter.point = Some("Clearwell".into());
-        s.export_log_on("", today);
-        let third = dir.join("exports/molefeed-log-2026-11-01_2026-11-30-3.csv");
-        assert_eq!(
-            csv_rows(&third),
-            [rows("2", "original"), rows("4", "original")]
-        );
-        let filters = &s.log_note.as_ref().unwrap().parts[1];
-        assert_eq!(filters, &("filters", Note::new("log-export-narrowed")));
-        s.log_filter.point = None;
-        s.log_filter.text = "raw wat".into();
-        let typed = dir.join("november-raw.csv");
-        s.export_log_on(&typed.display().to_string(), today);
-        assert_eq!(csv_rows(&typed), [rows("3", "voided")]);
-
-        // Open ends and typed days name the file by what they cover.
-        s.log_filter.text.clear();
-        s.edit_log_dates("2026-11-30", "");
-        s.export_log_on("", today);
-        let onwards = dir.join("exports/molefeed-log-2026-11-30_onwards.csv");
-        assert_eq!(
-            csv_rows(&onwards),
-            [rows("4", "original"), rows("5", "original")]
-        );
-        s.edit_log_dates("", "20261031");
-        s.export_log_on("", today);
-        let until = dir.join("exports/molefeed-log-until_2026-10-31.csv");
-        assert_eq!(csv_rows(&until), [rows("1", "original")]);
-        std::fs::remove_dir_all(&dir).unwrap();
-    }
-
-    #[test]
-    fn bad_dates_or_an_empty_list_export_nothing() {
-        let dir = temp_dir("no-export");
-        let mut s = open(&dir, Rc::new(Unconnected));
-        let today = day("2026-12-02");
-        seed(&mut s, "2026-11-15T08:00:00Z", "Clearwell", "NaOCl", 1.0);
-        let cases = [
-            ("2026-11-31", "", "log-export-fix-dates"),
-            ("2026-12-01", "2026-11-01", "log-export-fix-dates"),
-            ("2026-12-01", "2026-12-31", "log-export-nothing"),
-        ];
-        for (from, to, want) in cases {
-            s.edit_log_dates(from, to);
-            assert!(s.filtered_entries_on(today).len() <= 1);
-            s.export_log_on("", today);
-            assert_eq!(s.log_note.as_ref().unwrap().key, want, "{from}..{to}");
-        }
-        s.edit_log_dates("2026-11-31", "");
-        assert!(
-            s.filtered_entries_on(today).is_empty(),
-            "a bad date lists nothing"
-        );
-        let written = std::fs::read_dir(dir.join("exports"))
-            .map(|d| d.count())
-            .unwrap_or(0);
-        assert_eq!(written, 0, "no file was written");
-        let _ = std::fs::remove_dir_all(&dir);
+        s.log.filter.text = chemical;
+        assert_eq!(s.log.filtered_entries().len(), 2);
     }
 
     /// A correction records the calculator's recomputed card whole: the new flow comes with
@@ -1808,9 +772,9 @@ mod tests {
             "test-chemical",
             1.5,
         );
-        s.select_entry(id);
-        s.open_log_edit(LogEdit::Correct);
-        assert_eq!(s.log_edit, LogEdit::Correct);
+        s.log.select(id);
+        s.log.open_edit(LogEdit::Correct);
+        assert_eq!(s.log.edit, LogEdit::Correct);
         assert_eq!(
             s.correct_selected("1.8", "", "wrong meter")
                 .unwrap_err()
@@ -1841,15 +805,15 @@ mod tests {
         let differs = s.correct_selected("2.5", "", "wrong meter").unwrap_err();
         assert_eq!(differs.key, "log-correct-dose-differs");
         assert_eq!(
-            s.selected_history().len(),
+            s.log.selected_history().len(),
             1,
             "refused changes record nothing"
         );
         s.correct_selected("1.8", "meter fixed", "wrong meter")
             .unwrap();
-        assert_eq!(s.log_edit, LogEdit::None, "form closes after saving");
-        assert_eq!(s.log_edit_note.as_ref().unwrap().key, "log-corrected");
-        let e = s.selected_entry().unwrap();
+        assert_eq!(s.log.edit, LogEdit::None, "form closes after saving");
+        assert_eq!(s.log.edit_note.as_ref().unwrap().key, "log-corrected");
+        let e = s.log.selected_entry().unwrap();
         assert_eq!(
             (e.dose.dose_mg_per_l(), e.dose.note.as_str()),
             (Some(1.8), "meter fixed")
@@ -1869,66 +833,25 @@ mod tests {
             (e.dose.operator.as_str(), e.dose.tap.as_str()),
             ("KT", "Clearwell")
         );
-        s.open_log_edit(LogEdit::Correct);
+        s.log.open_edit(LogEdit::Correct);
         assert_eq!(
             s.correct_selected("1.8", "meter fixed", "again")
                 .unwrap_err()
                 .key,
             "log-nothing-changed"
         );
-        assert_eq!(s.selected_history().len(), 2);
+        assert_eq!(s.log.selected_history().len(), 2);
         assert_eq!(s.void_selected("").unwrap_err().key, "log-need-reason");
         s.void_selected("logged at the wrong site").unwrap();
-        assert!(s.selected_entry().unwrap().voided());
-        assert_eq!(s.selected_history().len(), 3);
-        s.open_log_edit(LogEdit::Correct);
-        assert_eq!(s.log_edit, LogEdit::None, "a voided entry is not reopened");
-        assert_eq!(s.log_edit_note.as_ref().unwrap().key, "log-entry-voided");
+        assert!(s.log.selected_entry().unwrap().voided());
+        assert_eq!(s.log.selected_history().len(), 3);
+        s.log.open_edit(LogEdit::Correct);
+        assert_eq!(s.log.edit, LogEdit::None, "a voided entry is not reopened");
+        assert_eq!(s.log.edit_note.as_ref().unwrap().key, "log-entry-voided");
         assert!(
             s.latest_doses().is_empty(),
             "voided doses are not the latest"
         );
-    }
-
-    #[test]
-    fn export_goes_to_a_dated_file_in_the_export_folder() {
-        let dir = std::env::temp_dir().join(format!("molefeed-export-{}", std::process::id()));
-        let _ = std::fs::remove_dir_all(&dir);
-        let mut s = AppState::new(
-            Rc::new(Unconnected),
-            Box::new(PersistentLog::scratch()),
-            Some(dir.clone()),
-            None,
-        );
-        seed(&mut s, "2026-12-02T06:00:00Z", "Clearwell", "NaOCl", 1.5);
-        let first = s
-            .default_export_path(ExportFormat::Csv, "2026-12-02")
-            .unwrap();
-        assert_eq!(first, dir.join("exports/molefeed-log-2026-12-02.csv"));
-        std::fs::write(&first, "earlier").unwrap();
-        let second = s
-            .default_export_path(ExportFormat::JsonLines, "2026-12-02")
-            .unwrap();
-        assert!(second.ends_with("molefeed-log-2026-12-02.jsonl"));
-        let third = s
-            .default_export_path(ExportFormat::Csv, "2026-12-02")
-            .unwrap();
-        assert!(
-            third.ends_with("molefeed-log-2026-12-02-2.csv"),
-            "{third:?}"
-        );
-        s.log_format = ExportFormat::Csv;
-        s.export_log("  ");
-        let note = s.log_note.clone().unwrap();
-        assert_eq!(note.key, "log-exported");
-        let written = PathBuf::from(&note.args[1].1);
-        assert!(std::fs::read_to_string(&written).unwrap().contains("NaOCl"));
-        assert_eq!(std::fs::read_to_string(&first).unwrap(), "earlier");
-        s.import_log("");
-        assert_eq!(s.log_note.as_ref().unwrap().key, "log-need-import-path");
-        s.import_log(&dir.join("missing.doselog").display().to_string());
-        assert_eq!(s.log_note.as_ref().unwrap().key, "log-error-not-found");
-        std::fs::remove_dir_all(&dir).unwrap();
     }
 
     #[test]
@@ -1954,7 +877,7 @@ mod tests {
         assert_eq!(s.point(), None);
         s.reset_to_demo();
         assert!(s.site().name.contains("Harrowmere"));
-        assert_eq!(s.settings.sites.len(), 2);
+        assert_eq!(s.session.settings.sites.len(), 2);
     }
 
     fn problem_key(s: &AppState) -> Option<String> {
@@ -1963,6 +886,19 @@ mod tests {
             Some(SiteProblem::Engine(e)) => Some(format!("engine:{}", e.kind().code())),
             None => None,
         }
+    }
+
+    /// A logged dose at `point` of `chemical`, as the example feed with its dose set.
+    fn logged(point: &str, chemical: &str, dose: f64) -> Dose {
+        let mut d = example_dose();
+        d.tap = point.into();
+        d.chemical = chemical.into();
+        d.results.iter_mut().find(|r| r.id == "dose").unwrap().value = dose;
+        d
+    }
+
+    fn seed(s: &mut AppState, when: &str, point: &str, chemical: &str, dose: f64) -> u64 {
+        s.log.append_at(when, logged(point, chemical, dose))
     }
 
     fn temp_dir(name: &str) -> PathBuf {
@@ -2014,20 +950,20 @@ mod tests {
         .unwrap();
         let s = open(&dir, Rc::new(Unconnected));
         assert_eq!(s.lang(), Lang::Es);
-        assert_eq!(s.settings.sites.len(), 2);
+        assert_eq!(s.session.settings.sites.len(), 2);
         assert_eq!(s.site().name, "Planta Sur");
         assert_eq!(s.taps(), vec!["Agua cruda", "Depósito"]);
         assert_eq!(s.point(), Some("Depósito"));
         let ids: Vec<_> = s.site().sampling_taps.iter().map(|t| &t.id).collect();
         assert_eq!(ids, ["tap-1", "tap-2"]);
-        assert_eq!(s.settings.sites[1].name, "Site");
+        assert_eq!(s.session.settings.sites[1].name, "Site");
         assert_eq!(
-            s.settings.sites[1].sampling_taps.len(),
+            s.session.settings.sites[1].sampling_taps.len(),
             1,
             "duplicate tap kept once"
         );
         let catalog = Catalog::builtin().unwrap();
-        for site in &s.settings.sites {
+        for site in &s.session.settings.sites {
             site.validate(&catalog).expect("migrated profile is valid");
         }
         // Migrated once: the profiles are in sites.json and survive the next start.
@@ -2038,7 +974,7 @@ mod tests {
         // A damaged sites.json is kept aside, and the app still opens.
         std::fs::write(dir.join("sites.json"), "{ not json").unwrap();
         let s = open(&dir, Rc::new(Unconnected));
-        assert!(!s.settings.sites.is_empty());
+        assert!(!s.session.settings.sites.is_empty());
         assert!(dir.join("sites.json.unreadable").exists());
         std::fs::remove_dir_all(&dir).unwrap();
     }
@@ -2369,9 +1305,9 @@ mod tests {
         ] {
             s.calc.edit(n, t);
         }
-        assert!(s.selected_detail().is_empty(), "nothing selected");
+        assert!(s.log.selected_detail().is_empty(), "nothing selected");
         s.log_current_dose().expect("logged");
-        let rows = s.selected_detail();
+        let rows = s.log.selected_detail();
         let value = |label: &str| {
             rows.iter()
                 .find(|r| r.label == label)
