@@ -15,6 +15,7 @@ pub mod keys;
 pub mod log_screen;
 pub mod numbers;
 pub mod plot;
+pub mod plots;
 pub mod seams;
 pub mod session;
 pub mod sites;
