@@ -389,7 +389,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.state.borrow_mut().set_initials(t);
     }));
     settings.on_rename_site(on_text(|i, t| {
-        if i.state.borrow_mut().rename_site(t) {
+        if i.state.borrow_mut().edit_site(|e, s| e.rename_site(s, t)) {
             i.window()
                 .global::<SettingsAdapter>()
                 .set_site_name_edit(s(""));
@@ -397,7 +397,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     settings.on_add_site(on_text(|i, t| {
-        if i.state.borrow_mut().add_site(t) {
+        if i.state.borrow_mut().edit_site(|e, s| e.add_site(s, t)) {
             i.window()
                 .global::<SettingsAdapter>()
                 .set_site_name_edit(s(""));
@@ -405,11 +405,11 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     settings.on_reset_demo(on_unit(|i| {
-        i.state.borrow_mut().reset_to_demo();
+        i.state.borrow_mut().edit_site(|e, s| e.reset_to_demo(s));
         i.refresh_all();
     }));
     settings.on_add_point(on_text(|i, t| {
-        if i.state.borrow_mut().add_point(t) {
+        if i.state.borrow_mut().edit_site(|e, s| e.add_point(s, t)) {
             i.window()
                 .global::<SettingsAdapter>()
                 .set_tap_name_edit(s(""));
@@ -418,7 +418,10 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     }));
     settings.on_rename_point(on_text(|i, t| {
         let index = i.state.borrow().session.settings.point_index;
-        if i.state.borrow_mut().rename_point(index, t) {
+        if i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.rename_point(s, index, t))
+        {
             i.window()
                 .global::<SettingsAdapter>()
                 .set_tap_name_edit(s(""));
@@ -426,17 +429,23 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     settings.on_remove_point(on(|i, n| {
-        i.state.borrow_mut().remove_point(n.max(0) as usize);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.remove_point(s, n.max(0) as usize));
         i.refresh_all();
     }));
     settings.on_save_product(on_unit(|i| {
         let form = i.product_form();
-        i.state.borrow_mut().save_product(&form);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.save_product(s, &form));
         i.refresh_all();
     }));
     settings.on_edit_product(on(|i, n| i.load_product(n.max(0) as usize)));
     settings.on_remove_product(on(|i, n| {
-        i.state.borrow_mut().remove_product(n.max(0) as usize);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.remove_product(s, n.max(0) as usize));
         i.refresh_all();
     }));
     settings.on_save_pump(on_unit(|i| {
@@ -450,12 +459,14 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
                 .get(a.get_pump_unit_index().max(0) as usize)
                 .copied(),
         };
-        i.state.borrow_mut().save_pump(&form);
+        i.state.borrow_mut().edit_site(|e, s| e.save_pump(s, &form));
         i.refresh_all();
     }));
     settings.on_edit_pump(on(|i, n| i.load_pump(n.max(0) as usize)));
     settings.on_remove_pump(on(|i, n| {
-        i.state.borrow_mut().remove_pump(n.max(0) as usize);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.remove_pump(s, n.max(0) as usize));
         i.refresh_all();
     }));
     settings.on_save_limit(on_unit(|i| {
@@ -468,12 +479,16 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             unit: a.get_limit_unit().to_string(),
             source: a.get_limit_source().to_string(),
         };
-        i.state.borrow_mut().save_limit(&form);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.save_limit(s, &form));
         i.refresh_all();
     }));
     settings.on_edit_limit(on(|i, n| i.load_limit(n.max(0) as usize)));
     settings.on_remove_limit(on(|i, n| {
-        i.state.borrow_mut().remove_limit(n.max(0) as usize);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.remove_limit(s, n.max(0) as usize));
         i.refresh_all();
     }));
 }
@@ -772,7 +787,8 @@ impl Inner {
             site.limits.iter().map(|l| self.limit_row(l)).collect(),
         ));
         a.set_default_limits(model(
-            st.site_limits()
+            st.sites
+                .site_limits(&st.session)
                 .iter()
                 .filter(|l| !site.limits.iter().any(|own| own.parameter == l.parameter))
                 .map(|l| self.limit_row(l))
@@ -797,14 +813,14 @@ impl Inner {
         a.set_pump_units(model(
             sites::PUMP_UNITS.iter().map(|u| s(u.symbol())).collect(),
         ));
-        let (message, ok) = match (&st.site_problem, st.site_saved) {
+        let (message, ok) = match (&st.sites.problem, st.sites.saved) {
             (Some(p), _) => (self.site_problem(p), false),
             (None, true) => (self.t("site-saved"), true),
             (None, false) => (String::new(), true),
         };
         a.set_message(s(message));
         a.set_message_ok(ok);
-        a.set_message_section(st.site_section as i32);
+        a.set_message_section(st.sites.section as i32);
     }
 
     fn field_row(&self, f: &FieldView) -> FieldRow {

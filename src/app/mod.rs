@@ -18,6 +18,7 @@ pub mod plot;
 pub mod plots;
 pub mod seams;
 pub mod session;
+pub mod site_editor;
 pub mod sites;
 pub mod state;
 

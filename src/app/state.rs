@@ -20,9 +20,10 @@ use super::plots;
 pub use super::plots::PlotView;
 use super::seams::{CalcEngine, CalcKind, CalcMode};
 pub use super::session::{Note, Session, Settings};
-use super::sites::{self, LimitForm, Prefill, ProductForm, PumpForm, SiteProblem};
+pub use super::site_editor::SiteEditor;
+use super::sites::{self, Prefill};
 use crate::engine::dosing::catalog::Catalog;
-use crate::engine::dosing::site::{Limit, SiteProfile};
+use crate::engine::dosing::site::SiteProfile;
 use crate::engine::quantity::{Unit, UnitSystem};
 use std::path::PathBuf;
 use std::rc::Rc;
@@ -63,12 +64,8 @@ pub struct AppState {
     prefill: Prefill,
     /// Calculator variants whose product was already preselected from the site.
     preselected: Vec<(CalcKind, CalcMode)>,
-    /// The Settings editor's last outcome: a problem in words, or "saved".
-    pub site_problem: Option<SiteProblem>,
-    pub site_saved: bool,
-    /// Which part of the editor the outcome belongs to (0 site, 1 taps, 2 products, 3 pumps,
-    /// 4 limits), so the message appears next to the button that was pressed.
-    pub site_section: u8,
+    /// The Settings screen's site editor.
+    pub sites: SiteEditor,
 }
 
 impl AppState {
@@ -89,9 +86,7 @@ impl AppState {
             calc_note: None,
             prefill: Prefill::default(),
             preselected: Vec::new(),
-            site_problem: None,
-            site_saved: false,
-            site_section: 0,
+            sites: SiteEditor::default(),
         }
     }
 
@@ -111,8 +106,7 @@ impl AppState {
         if to != self.screen {
             self.history.push(self.screen);
             self.screen = to;
-            self.site_problem = None;
-            self.site_saved = false;
+            self.sites.clear();
             if to == Screen::Calculators {
                 self.prefill_from_site();
             }
@@ -158,10 +152,6 @@ impl AppState {
         self.session.site()
     }
 
-    fn site_mut(&mut self) -> &mut SiteProfile {
-        self.session.site_mut()
-    }
-
     /// The selected sampling tap's name: what the log records as the dose's point.
     pub fn point(&self) -> Option<&str> {
         self.session.point()
@@ -193,153 +183,9 @@ impl AppState {
         self.session.initials()
     }
 
-    /// Records the editor's outcome and saves when the edit went through.
-    /// Runs one of the editor's checked edits on the current site, with the language its
-    /// numbers are typed in and the catalog it is validated against.
-    fn edit_with(
-        &mut self,
-        section: u8,
-        edit: impl FnOnce(&mut SiteProfile, Lang, Option<&Catalog>) -> Result<(), SiteProblem>,
-    ) -> bool {
-        let lang = self.lang();
-        let (site, catalog) = self.session.site_and_catalog();
-        let outcome = edit(site, lang, catalog);
-        self.edited(section, outcome)
-    }
-
-    fn edited(&mut self, section: u8, outcome: Result<(), SiteProblem>) -> bool {
-        self.site_section = section;
-        self.site_saved = outcome.is_ok();
-        self.site_problem = outcome.err();
-        if self.site_saved {
-            self.session.save();
-        }
-        self.site_saved
-    }
-
-    fn need_name() -> Result<(), SiteProblem> {
-        Err(SiteProblem::Note(Note::new(key("site-need-name"))))
-    }
-
-    pub fn rename_site(&mut self, name: &str) -> bool {
-        let name = name.trim().to_string();
-        let outcome = if name.is_empty() {
-            Self::need_name()
-        } else {
-            self.site_mut().name = name;
-            Ok(())
-        };
-        self.edited(0, outcome)
-    }
-
-    pub fn add_site(&mut self, name: &str) -> bool {
-        let name = name.trim();
-        let outcome = if name.is_empty() {
-            Self::need_name()
-        } else {
-            let site = sites::empty_site(name, self.units());
-            let settings = &mut self.session.settings;
-            settings.sites.push(site);
-            settings.site_index = settings.sites.len() - 1;
-            settings.point_index = 0;
-            Ok(())
-        };
-        self.edited(0, outcome)
-    }
-
-    /// Puts the embedded demo plant back in place of the current site.
-    pub fn reset_to_demo(&mut self) {
-        *self.session.site_mut() = sites::demo(self.session.catalog());
-        self.session.settings.point_index = 0;
-        self.edited(0, Ok(()));
-    }
-
-    /// Adds a sampling tap and selects it (the operator is usually standing at it).
-    pub fn add_point(&mut self, name: &str) -> bool {
-        let added = sites::add_tap(self.site_mut(), name);
-        let outcome = if added {
-            self.session.settings.point_index = self.site().sampling_taps.len() - 1;
-            Ok(())
-        } else if name.trim().is_empty() {
-            Self::need_name()
-        } else {
-            Err(SiteProblem::Note(Note::new(key("site-tap-exists"))))
-        };
-        self.edited(1, outcome)
-    }
-
-    pub fn rename_point(&mut self, index: usize, name: &str) -> bool {
-        let name = name.trim().to_string();
-        let outcome = if name.is_empty() {
-            Self::need_name()
-        } else if self
-            .taps()
-            .iter()
-            .enumerate()
-            .any(|(i, t)| *t == name && i != index)
-        {
-            Err(SiteProblem::Note(Note::new(key("site-tap-exists"))))
-        } else if let Some(tap) = self.site_mut().sampling_taps.get_mut(index) {
-            tap.name = name;
-            Ok(())
-        } else {
-            return false;
-        };
-        self.edited(1, outcome)
-    }
-
-    pub fn remove_point(&mut self, index: usize) {
-        if index < self.site().sampling_taps.len() {
-            self.site_mut().sampling_taps.remove(index);
-            let len = self.site().sampling_taps.len();
-            if self.session.settings.point_index >= len {
-                self.session.settings.point_index = len.saturating_sub(1);
-            }
-            self.edited(1, Ok(()));
-        }
-    }
-
-    pub fn save_product(&mut self, form: &ProductForm) -> bool {
-        self.edit_with(2, |site, lang, catalog| {
-            sites::save_product(site, form, lang, catalog)
-        })
-    }
-
-    pub fn remove_product(&mut self, index: usize) -> bool {
-        let outcome = sites::remove_product(self.site_mut(), index);
-        self.edited(2, outcome)
-    }
-
-    pub fn save_pump(&mut self, form: &PumpForm) -> bool {
-        self.edit_with(3, |site, lang, catalog| {
-            sites::save_pump(site, form, lang, catalog)
-        })
-    }
-
-    pub fn remove_pump(&mut self, index: usize) {
-        if index < self.site().pumps.len() {
-            self.site_mut().pumps.remove(index);
-            self.edited(3, Ok(()));
-        }
-    }
-
-    pub fn save_limit(&mut self, form: &LimitForm) -> bool {
-        self.edit_with(4, |site, lang, catalog| {
-            sites::save_limit(site, form, lang, catalog)
-        })
-    }
-
-    pub fn remove_limit(&mut self, index: usize) {
-        if index < self.site().limits.len() {
-            self.site_mut().limits.remove(index);
-            self.edited(4, Ok(()));
-        }
-    }
-
-    /// The limits that apply at this site: the plant's permit entries, then the labelled
-    /// regulatory defaults it does not override.
-    pub fn site_limits(&self) -> Vec<Limit> {
-        sites::effective_limits(self.site())
+    /// Runs an edit of the Settings screen's site editor on the session.
+    pub fn edit_site<R>(&mut self, edit: impl FnOnce(&mut SiteEditor, &mut Session) -> R) -> R {
+        edit(&mut self.sites, &mut self.session)
     }
 
     /// Fills the open calculator's empty inputs from the site: on the first visit to a
@@ -495,7 +341,6 @@ mod tests {
     use crate::app::dose_log::PersistentLog;
     use crate::app::numbers;
     use crate::app::seams::Unconnected;
-    use crate::app::sites::{LimitForm, ProductForm, PumpForm, SiteProblem};
     use crate::log::record::{Dose, example_dose};
 
     fn state(engine: Rc<dyn CalcEngine>) -> AppState {
@@ -708,40 +553,6 @@ mod tests {
         );
     }
 
-    #[test]
-    fn site_profile_edits() {
-        let mut s = state(Rc::new(Unconnected));
-        let taps = s.taps().len();
-        assert!(s.add_point("Filter effluent"));
-        assert_eq!(s.point(), Some("Filter effluent"), "a new tap is chosen");
-        assert!(!s.add_point("Filter effluent"));
-        assert_eq!(problem_key(&s), Some("site-tap-exists".into()));
-        assert_eq!(s.taps().len(), taps + 1);
-        assert!(s.rename_point(taps, "Filter 2 effluent"));
-        assert_eq!(s.point(), Some("Filter 2 effluent"));
-        s.remove_point(taps);
-        assert_eq!(s.taps().len(), taps);
-        assert!(s.point().is_some());
-        assert!(!s.rename_site("   "));
-        assert_eq!(problem_key(&s), Some("site-need-name".into()));
-        assert!(s.rename_site("  East wells "));
-        assert_eq!(s.site().name, "East wells");
-        assert!(s.add_site("River intake"));
-        assert_eq!(s.site().name, "River intake");
-        assert_eq!(s.point(), None);
-        s.reset_to_demo();
-        assert!(s.site().name.contains("Harrowmere"));
-        assert_eq!(s.session.settings.sites.len(), 2);
-    }
-
-    fn problem_key(s: &AppState) -> Option<String> {
-        match &s.site_problem {
-            Some(SiteProblem::Note(n)) => Some(n.key.clone()),
-            Some(SiteProblem::Engine(e)) => Some(format!("engine:{}", e.kind().code())),
-            None => None,
-        }
-    }
-
     /// A logged dose at `point` of `chemical`, as the example feed with its dose set.
     fn logged(point: &str, chemical: &str, dose: f64) -> Dose {
         let mut d = example_dose();
@@ -753,84 +564,6 @@ mod tests {
 
     fn seed(s: &mut AppState, when: &str, point: &str, chemical: &str, dose: f64) -> u64 {
         s.log.append_at(when, logged(point, chemical, dose))
-    }
-
-    fn temp_dir(name: &str) -> PathBuf {
-        let dir = std::env::temp_dir().join(format!("molefeed-{name}-{}", std::process::id()));
-        let _ = std::fs::remove_dir_all(&dir);
-        dir
-    }
-
-    fn open(dir: &std::path::Path, engine: Rc<dyn CalcEngine>) -> AppState {
-        AppState::new(
-            engine,
-            Box::new(PersistentLog::scratch()),
-            Some(dir.to_path_buf()),
-            None,
-        )
-    }
-
-    #[test]
-    fn a_fresh_data_dir_opens_on_the_demo_site_and_keeps_edits() {
-        let dir = temp_dir("fresh-site");
-        let mut s = open(&dir, Rc::new(Unconnected));
-        assert!(s.site().name.contains("Harrowmere"), "{}", s.site().name);
-        assert_eq!(s.point(), Some("Raw water tap at screen house"));
-        assert!(!s.site().pumps.is_empty() && !s.site().products.is_empty());
-        assert!(s.add_point("Backwash return"));
-        drop(s);
-        let s = open(&dir, Rc::new(Unconnected));
-        assert_eq!(s.point(), Some("Backwash return"));
-        assert!(dir.join("sites.json").exists());
-        let settings = std::fs::read_to_string(dir.join("settings.json")).unwrap();
-        assert!(
-            !settings.contains("sites"),
-            "profiles kept out of settings: {settings}"
-        );
-        std::fs::remove_dir_all(&dir).unwrap();
-    }
-
-    #[test]
-    fn old_settings_sites_become_profiles_with_sampling_taps() {
-        let dir = temp_dir("migrate");
-        std::fs::create_dir_all(&dir).unwrap();
-        std::fs::write(
-            dir.join("settings.json"),
-            r#"{"lang":"es","us_units":false,"high_contrast":false,
-               "sites":[{"name":"Planta Sur","points":["Agua cruda","Depósito"]},
-                        {"name":" ","points":["Pozo 1","Pozo 1"]}],
-               "site_index":0,"point_index":1}"#,
-        )
-        .unwrap();
-        let s = open(&dir, Rc::new(Unconnected));
-        assert_eq!(s.lang(), Lang::Es);
-        assert_eq!(s.session.settings.sites.len(), 2);
-        assert_eq!(s.site().name, "Planta Sur");
-        assert_eq!(s.taps(), vec!["Agua cruda", "Depósito"]);
-        assert_eq!(s.point(), Some("Depósito"));
-        let ids: Vec<_> = s.site().sampling_taps.iter().map(|t| &t.id).collect();
-        assert_eq!(ids, ["tap-1", "tap-2"]);
-        assert_eq!(s.session.settings.sites[1].name, "Site");
-        assert_eq!(
-            s.session.settings.sites[1].sampling_taps.len(),
-            1,
-            "duplicate tap kept once"
-        );
-        let catalog = Catalog::builtin().unwrap();
-        for site in &s.session.settings.sites {
-            site.validate(&catalog).expect("migrated profile is valid");
-        }
-        // Migrated once: the profiles are in sites.json and survive the next start.
-        assert!(dir.join("sites.json").exists());
-        drop(s);
-        let s = open(&dir, Rc::new(Unconnected));
-        assert_eq!(s.taps(), vec!["Agua cruda", "Depósito"]);
-        // A damaged sites.json is kept aside, and the app still opens.
-        std::fs::write(dir.join("sites.json"), "{ not json").unwrap();
-        let s = open(&dir, Rc::new(Unconnected));
-        assert!(!s.session.settings.sites.is_empty());
-        assert!(dir.join("sites.json.unreadable").exists());
-        std::fs::remove_dir_all(&dir).unwrap();
     }
 
     fn texts(s: &AppState) -> Vec<(&'static str, String)> {
@@ -967,7 +700,7 @@ mod tests {
     #[test]
     fn targets_outside_the_site_limits_raise_warnings_naming_the_source() {
         let s = state(Rc::new(Unconnected));
-        let limits = s.site_limits();
+        let limits = s.sites.site_limits(&s.session);
         let chlorine = limits.iter().find(|l| l.parameter == "chlorine").unwrap();
         assert!(
             chlorine.source.contains("Plant permit"),
@@ -1201,166 +934,6 @@ mod tests {
             .map(|c| c.code.clone())
             .collect();
         assert!(logged.contains(&warned[0]), "{logged:?} lacks {warned:?}");
-    }
-
-    #[test]
-    fn editor_problems_are_reported_in_words_and_nothing_invalid_is_kept() {
-        let mut s = state(Rc::new(Unconnected));
-        let before = s.site().clone();
-        let hypo = |strength: &str, sg: &str| ProductForm {
-            product: "sodium-hypochlorite".into(),
-            strength: strength.into(),
-            basis: Some(crate::engine::dosing::catalog::StrengthBasis::Trade),
-            sg: sg.into(),
-            certificate: "COA 1".into(),
-        };
-        type Edit = Box<dyn Fn(&mut AppState) -> bool>;
-        let cases: Vec<(&str, Edit, &str)> = vec![
-            (
-                "SG 5",
-                Box::new(move |s| s.save_product(&hypo("12.5", "5"))),
-                "engine:out-of-range",
-            ),
-            (
-                "SG with a comma in English",
-                Box::new(move |s| s.save_product(&hypo("12.5", "1,2"))),
-                "site-number-problem",
-            ),
-            (
-                "no strength",
-                Box::new(move |s| s.save_product(&hypo("", "1.2"))),
-                "site-number-missing",
-            ),
-            (
-                "no SG for a liquid",
-                Box::new(move |s| s.save_product(&hypo("12.5", ""))),
-                "engine:invalid-input",
-            ),
-            (
-                "product a pump feeds",
-                Box::new(|s| s.remove_product(0)),
-                "site-product-in-use",
-            ),
-            (
-                "metering pump on lime",
-                Box::new(|s| {
-                    let lime = s
-                        .site()
-                        .products
-                        .iter()
-                        .position(|d| d.product == "hydrated-lime");
-                    s.save_pump(&PumpForm {
-                        name: "Lime pump".into(),
-                        product: lime,
-                        capacity: "5".into(),
-                        unit: None,
-                    })
-                }),
-                "site-pump-needs-liquid",
-            ),
-            (
-                "metering settings on the hose pump",
-                Box::new(|s| {
-                    s.save_pump(&PumpForm {
-                        name: "Alum peristaltic pump".into(),
-                        product: Some(1),
-                        capacity: "5".into(),
-                        unit: None,
-                    })
-                }),
-                "site-pump-not-metering",
-            ),
-            (
-                "reversed limit",
-                Box::new(|s| {
-                    s.save_limit(&LimitForm {
-                        parameter: "ph".into(),
-                        min: "8".into(),
-                        max: "7".into(),
-                        unit: String::new(),
-                        source: "Permit".into(),
-                    })
-                }),
-                "site-limit-reversed",
-            ),
-            (
-                "limit without a source",
-                Box::new(|s| {
-                    s.save_limit(&LimitForm {
-                        parameter: "ph".into(),
-                        max: "8".into(),
-                        ..LimitForm::default()
-                    })
-                }),
-                "site-need-source",
-            ),
-        ];
-        for (what, edit, want) in cases {
-            assert!(!edit(&mut s), "{what} was accepted");
-            assert_eq!(problem_key(&s).as_deref(), Some(want), "{what}");
-            assert_eq!(s.site(), &before, "{what} changed the profile");
-        }
-        // The same edits, well formed, go through; Spanish takes a decimal comma.
-        s.set_lang(Lang::Es);
-        assert!(s.save_product(&hypo("15", "1,21")));
-        let d = s.site().delivered_of("sodium-hypochlorite").unwrap();
-        assert_eq!((d.strength, d.sg), (15.0, Some(1.21)));
-        assert_eq!(
-            s.site().products.len(),
-            before.products.len(),
-            "replaced, not added"
-        );
-        assert!(s.save_limit(&LimitForm {
-            parameter: "pH".into(),
-            min: "6,8".into(),
-            max: "8,2".into(),
-            unit: String::new(),
-            source: "Permiso".into(),
-        }));
-        let ph = s
-            .site_limits()
-            .into_iter()
-            .find(|l| l.parameter == "ph")
-            .unwrap();
-        assert_eq!(
-            (ph.min, ph.max, ph.source.as_str()),
-            (Some(6.8), Some(8.2), "Permiso")
-        );
-        assert!(s.save_pump(&PumpForm {
-            name: "Hypo pump B".into(),
-            product: Some(0),
-            capacity: "4".into(),
-            unit: Some(crate::engine::dosing::units::VolumeRateUnit::Lph),
-        }));
-        assert!(s.site_saved);
-        s.site().validate(s.catalog().unwrap()).unwrap();
-    }
-
-    #[test]
-    fn settings_persist_in_the_data_dir() {
-        let dir = std::env::temp_dir().join(format!("molefeed-settings-{}", std::process::id()));
-        let _ = std::fs::remove_dir_all(&dir);
-        {
-            let mut s = AppState::new(
-                Rc::new(Unconnected),
-                Box::new(PersistentLog::scratch()),
-                Some(dir.clone()),
-                None,
-            );
-            s.set_lang(Lang::Es);
-            s.set_units(UnitSystem::Si);
-            s.rename_site("Planta Sur");
-        }
-        let s = AppState::new(
-            Rc::new(Unconnected),
-            Box::new(PersistentLog::scratch()),
-            Some(dir.clone()),
-            None,
-        );
-        assert_eq!(s.lang(), Lang::Es);
-        assert_eq!(s.units(), UnitSystem::Si);
-        assert_eq!(s.site().name, "Planta Sur");
-        std::fs::remove_dir_all(&dir).unwrap();
     }
 
     #[test]
