@@ -227,8 +227,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     calc.on_pick_kind(on(|i, n| {
         if let Some(kind) = CalcKind::all().get(n.max(0) as usize) {
             let mut st = i.state.borrow_mut();
-            st.calc.set_kind(*kind);
-            st.calc_note = None;
+            st.calc.open(*kind);
             st.prefill_from_site();
         }
         i.refresh_calc(true);
@@ -237,7 +236,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         {
             let mut st = i.state.borrow_mut();
             st.calc.set_product(n.max(0) as usize);
-            st.calc_note = None;
+            st.calc.note = None;
             st.prefill_from_site();
         }
         i.refresh_calc(false);
@@ -249,7 +248,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             if let Some(mode) = kind.modes().get(n.max(0) as usize) {
                 st.calc.set_mode(*mode);
             }
-            st.calc_note = None;
+            st.calc.note = None;
             st.prefill_from_site();
         }
         i.refresh_calc(true);
@@ -265,7 +264,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             if let Some(field) = fields.get(index.max(0) as usize) {
                 st.calc.edit(field.name, text.as_str());
             }
-            st.calc_note = None;
+            st.calc.note = None;
         }
         i.refresh_calc(false);
         i.keep_inputs_soon();
@@ -879,7 +878,8 @@ impl Inner {
         }
 
         adapter.set_note(s(st
-            .calc_note
+            .calc
+            .note
             .as_ref()
             .map(|n| self.note(n))
             .unwrap_or_default()));

@@ -8,6 +8,7 @@
 //! the seams in [`seams`] and [`dose_log`].
 
 pub mod calc;
+pub mod calc_screen;
 pub mod dose_log;
 pub mod engine_adapter;
 pub mod files;

@@ -9,8 +9,8 @@
 //! keeps one handle and the tests keep their shape. Settings persist through the session in
 //! the data directory the platform injects (desktop: XDG data dir; Android: internal storage).
 
-use super::calc::{CalcController, CalcInputs, Status, key};
-use super::dose_log::{DoseLog, Entry, Logging, dose_of};
+pub use super::calc_screen::CalcScreen;
+use super::dose_log::{DoseLog, Entry};
 pub use super::log_screen::{
     DateRange, DateSpan, DetailRow, DetailValue, LatestDose, LogEdit, LogFilter, LogScreen,
     NotADay, parse_day, utc_today,
@@ -18,10 +18,9 @@ pub use super::log_screen::{
 use super::numbers::Lang;
 use super::plots;
 pub use super::plots::PlotView;
-use super::seams::{CalcEngine, CalcKind, CalcMode};
+use super::seams::{CalcEngine, CalcKind};
 pub use super::session::{Note, Session, Settings};
 pub use super::site_editor::SiteEditor;
-use super::sites::{self, Prefill};
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::site::SiteProfile;
 use crate::engine::quantity::{Unit, UnitSystem};
@@ -56,14 +55,10 @@ impl Screen {
 
 pub struct AppState {
     pub session: Session,
-    pub calc: CalcController,
+    pub calc: CalcScreen,
     pub log: LogScreen,
     history: Vec<Screen>,
     screen: Screen,
-    pub calc_note: Option<Note>,
-    prefill: Prefill,
-    /// Calculator variants whose product was already preselected from the site.
-    preselected: Vec<(CalcKind, CalcMode)>,
     /// The Settings screen's site editor.
     pub sites: SiteEditor,
 }
@@ -78,14 +73,11 @@ impl AppState {
     ) -> AppState {
         let session = Session::open(data_dir, lang_override);
         AppState {
-            calc: CalcController::new(engine, session.lang(), session.units()),
+            calc: CalcScreen::new(engine, &session),
             session,
             log: LogScreen::new(log),
             history: Vec::new(),
             screen: Screen::Start,
-            calc_note: None,
-            prefill: Prefill::default(),
-            preselected: Vec::new(),
             sites: SiteEditor::default(),
         }
     }
@@ -127,21 +119,19 @@ impl AppState {
 
     /// Opens calculator `kind` from the Start screen's quick entries.
     pub fn open_calculator(&mut self, kind: CalcKind) {
-        self.calc.set_kind(kind);
-        self.calc_note = None;
+        self.calc.open(kind);
         self.navigate(Screen::Calculators);
         self.prefill_from_site();
     }
 
     pub fn set_lang(&mut self, lang: Lang) {
         self.session.set_lang(lang);
-        self.prefill.through(&mut self.calc, |c| c.set_lang(lang));
+        self.calc.switch_lang(lang);
     }
 
     pub fn set_units(&mut self, system: UnitSystem) {
         self.session.set_units(system);
-        self.prefill
-            .through(&mut self.calc, |c| c.set_units(system));
+        self.calc.switch_units(system);
     }
 
     pub fn set_high_contrast(&mut self, on: bool) {
@@ -188,34 +178,10 @@ impl AppState {
         edit(&mut self.sites, &mut self.session)
     }
 
-    /// Fills the open calculator's empty inputs from the site: on the first visit to a
-    /// calculator variant the site's delivered product is chosen, then its strength, SG and
-    /// metering-pump capacity and the plant's typical flow fill fields the operator left empty.
+    /// Fills the open calculator's empty inputs from the site (see
+    /// [`CalcScreen::prefill_from_site`]).
     pub fn prefill_from_site(&mut self) {
-        self.calc
-            .set_max_use_levels(sites::max_use_levels(self.site()));
-        self.calc.set_limits(self.site().limits.clone());
-        let (kind, mode) = (self.calc.kind(), self.calc.mode());
-        if !self.preselected.contains(&(kind, mode)) {
-            self.preselected.push((kind, mode));
-            let offered = self.calc.engine().products(kind, mode);
-            if let Some(i) = offered
-                .iter()
-                .position(|p| self.site().delivered_of(&p.id).is_some())
-            {
-                self.calc.set_product(i);
-            }
-        }
-        let view = self.calc.view();
-        let product = view.products.get(view.product_index).map(|p| p.id.clone());
-        let values = sites::site_values(
-            self.site(),
-            self.session.catalog(),
-            product.as_deref(),
-            self.units(),
-        );
-        let lang = self.lang();
-        self.prefill.apply(&mut self.calc, &values, lang);
+        self.calc.prefill_from_site(&self.session);
     }
 
     /// Whether logged doses survive a restart (drives the "not saved" banner).
@@ -236,7 +202,7 @@ impl AppState {
     /// result (see [`LogScreen::correct_selected`]).
     pub fn correct_selected(&mut self, dose: &str, note: &str, reason: &str) -> Result<(), Note> {
         let (calc, session) = (&self.calc, &self.session);
-        let card = |operator: &str, tap: &str| card_dose(calc, session, operator, tap);
+        let card = |operator: &str, tap: &str| calc.card_dose(session, operator, tap);
         self.log.correct_selected(session, card, dose, note, reason)
     }
 
@@ -247,34 +213,7 @@ impl AppState {
 
     /// "Log this dose": records the current result for the selected site and point.
     pub fn log_current_dose(&mut self) -> Result<u64, Note> {
-        let nothing = Note::new(key("log-nothing-to-log"));
-        if !matches!(self.calc.view().status, Status::Ready(_)) {
-            self.calc_note = Some(nothing.clone());
-            return Err(nothing);
-        }
-        if self.session.initials().is_empty() {
-            let note = Note::new(key("log-need-initials"));
-            self.calc_note = Some(note.clone());
-            return Err(note);
-        }
-        let initials = self.session.initials().to_string();
-        let Some(dose) = self.card_dose(&initials, self.point().unwrap_or("")) else {
-            self.calc_note = Some(nothing.clone());
-            return Err(nothing);
-        };
-        let site = self.site().name.clone();
-        let logged = self.log.record(&site, dose);
-        self.calc_note = Some(match &logged {
-            Ok(id) => Note::new(key("log-saved")).arg("id", id),
-            Err(note) => note.clone(),
-        });
-        logged
-    }
-
-    /// The calculator card as the log records it ([`dose_of`]): with the engine's cautions
-    /// and the site's permit warnings, as the card showed them. `None` without a dose.
-    fn card_dose(&self, operator: &str, tap: &str) -> Option<crate::log::record::Dose> {
-        card_dose(&self.calc, &self.session, operator, tap)
+        self.calc.log_dose(&self.session, &mut self.log)
     }
 
     /// The titration curve of the open calculator (see [`plots::titration`]).
@@ -294,50 +233,19 @@ impl AppState {
 
     /// Puts back the calculator inputs kept by [`save_inputs`](Self::save_inputs), if any.
     pub fn restore_inputs(&mut self) {
-        if let Some(saved) = self
-            .session
-            .read_file(INPUTS_FILE)
-            .and_then(|t| serde_json::from_str::<CalcInputs>(&t).ok())
-        {
-            self.calc.restore(&saved);
-        }
+        self.calc.restore_inputs(&self.session);
     }
 
-    /// Keeps what was typed in the calculators, so a restart (an Android activity killed in
-    /// the background) comes back to the same readings. A preference-like file, written whole
-    /// to a temporary name and renamed, so a crash leaves the old or the new one, never half.
+    /// Keeps what was typed in the calculators (see [`CalcScreen::save_inputs`]).
     pub fn save_inputs(&self) {
-        if let Ok(text) = serde_json::to_string_pretty(&self.calc.inputs()) {
-            let _ = self.session.write_file(INPUTS_FILE, text.as_bytes());
-        }
+        self.calc.save_inputs(&self.session);
     }
-}
-
-/// Where the calculator inputs are kept between runs, in the data directory.
-const INPUTS_FILE: &str = "calculator-inputs.json";
-
-/// The calculator card as the log records it ([`dose_of`]), in the session's language and
-/// units.
-fn card_dose(
-    calc: &CalcController,
-    session: &Session,
-    operator: &str,
-    tap: &str,
-) -> Option<crate::log::record::Dose> {
-    dose_of(
-        &calc.view(),
-        Logging {
-            operator,
-            tap,
-            lang: session.lang(),
-            units: session.units(),
-        },
-    )
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::app::calc::{Status, key};
     use crate::app::dose_log::PersistentLog;
     use crate::app::numbers;
     use crate::app::seams::Unconnected;
@@ -414,7 +322,7 @@ mod tests {
         let latest = s.latest_doses();
         assert_eq!(latest.len(), 1);
         assert_eq!(latest[0].dose, "2.25");
-        assert_eq!(s.calc_note.as_ref().unwrap().key, "log-saved");
+        assert_eq!(s.calc.note.as_ref().unwrap().key, "log-saved");
         let trend = s.trend_plot();
         assert_eq!(trend.message, None);
         assert_eq!(trend.commands.matches('L').count(), 1, "{trend:?}");
