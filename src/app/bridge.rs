@@ -7,11 +7,12 @@
 
 use super::RunOptions;
 use super::calc::{FieldView, Status, key};
+use super::calc_screen::{caution_lines, trace_lines};
 use super::dose_log::{DoseLog, connected_log};
 use super::dose_log::{EntryStatus, ExportFormat, Revision, RevisionKind};
 use super::i18n::Texts;
 use super::numbers::{self, Lang};
-use super::seams::{CalcEngine, CalcKind, TraceLine, connected_engine};
+use super::seams::{CalcEngine, CalcKind, connected_engine};
 use super::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
 use super::state::{AppState, DateRange, DetailValue, LogEdit, Note, PlotView, Screen, utc_today};
 use super::ui::*;
@@ -68,43 +69,6 @@ struct Inner {
     /// Writes the calculator inputs a moment after the last change (see `keep_inputs_soon`).
     keep_inputs: slint::Timer,
     this: RefCell<std::rc::Weak<Inner>>,
-}
-
-/// A "show the work" line in the current language: headings and factor origins are
-/// translated; the conversion itself (numbers, units, formulas) reads the same in any language.
-fn trace_row(texts: &Texts, line: &TraceLine) -> TraceRow {
-    match line {
-        TraceLine::Heading(label) => {
-            let key = format!("trace-{label}");
-            TraceRow {
-                heading: true,
-                text: s(if texts.has(&key) {
-                    texts.get(&key)
-                } else {
-                    label.clone()
-                }),
-                origin: s(""),
-            }
-        }
-        TraceLine::Step { text, origin } => TraceRow {
-            heading: false,
-            text: s(text),
-            origin: s(origin
-                .as_ref()
-                .map(|o| {
-                    texts.get_args(
-                        &format!("origin-{}", o.code),
-                        &[("detail", o.detail.clone())],
-                    )
-                })
-                .unwrap_or_default()),
-        },
-        TraceLine::Result(text) => TraceRow {
-            heading: false,
-            text: s(text),
-            origin: s(""),
-        },
-    }
 }
 
 fn s(text: impl AsRef<str>) -> SharedString {
@@ -923,48 +887,22 @@ impl Inner {
                     None => texts.get_args(key("calc-figures"), &[("figures", figures)]),
                 }));
                 adapter.set_trace(model(
-                    r.trace.iter().map(|line| trace_row(&texts, line)).collect(),
+                    trace_lines(&r.trace, &*texts)
+                        .into_iter()
+                        .map(|t| TraceRow {
+                            heading: t.heading,
+                            text: s(t.text),
+                            origin: s(t.origin),
+                        })
+                        .collect(),
                 ));
-                let mut shown: Vec<(i32, String)> = Vec::new();
-                // The engine's cautions, the site's limits among them, worst first.
-                let mut cautions = r.cautions.clone();
-                cautions.sort_by_key(|c| std::cmp::Reverse(c.level));
                 adapter.set_cautions(model(
-                    cautions
-                        .iter()
-                        .filter_map(|c| {
-                            // Engine caution keys are translation keys as they stand.
-                            let key = c.code.clone();
-                            let text = if texts.has(&key) {
-                                // A parameter naming an input field is shown as its label.
-                                let args: Vec<(&str, String)> = c
-                                    .params
-                                    .iter()
-                                    .map(|(k, v)| {
-                                        let v = if v.starts_with("field-") && texts.has(v) {
-                                            texts.get(v)
-                                        } else {
-                                            v.clone()
-                                        };
-                                        (k.as_str(), v)
-                                    })
-                                    .collect();
-                                texts.get_args(&key, &args)
-                            } else {
-                                c.message.clone()
-                            };
-                            // Two engine cautions can say the same sentence (a product's
-                            // hazard and the calculator's own): the screen says it once.
-                            let level = c.level as i32;
-                            if shown.iter().any(|(l, t)| *l >= level && *t == text) {
-                                return None;
-                            }
-                            shown.push((level, text.clone()));
-                            Some(CautionRow {
-                                level,
-                                word: s(texts.get(&format!("caution-level-{}", c.level.code()))),
-                                text: s(text),
-                            })
+                    caution_lines(&r.cautions, &*texts)
+                        .into_iter()
+                        .map(|c| CautionRow {
+                            level: c.level,
+                            word: s(c.word),
+                            text: s(c.text),
                         })
                         .collect(),
                 ));

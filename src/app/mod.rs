@@ -22,6 +22,7 @@ pub mod session;
 pub mod site_editor;
 pub mod sites;
 pub mod state;
+pub mod words;
 
 #[cfg(feature = "app")]
 mod bridge;
