@@ -8,13 +8,13 @@
 use super::RunOptions;
 use super::calc::{FieldView, Status, key};
 use super::calc_screen::{caution_lines, trace_lines};
+use super::dose_log::ExportFormat;
 use super::dose_log::{DoseLog, connected_log};
-use super::dose_log::{EntryStatus, ExportFormat, Revision, RevisionKind};
 use super::i18n::Texts;
 use super::numbers::{self, Lang};
 use super::seams::{CalcEngine, CalcKind, connected_engine};
 use super::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
-use super::state::{AppState, DateRange, DetailValue, LogEdit, Note, PlotView, Screen, utc_today};
+use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen, utc_today};
 use super::ui::*;
 use crate::engine::dosing::feed::PumpKind;
 use crate::engine::dosing::site::Limit;
@@ -944,23 +944,14 @@ impl Inner {
         adapter.set_edit_reason(s(""));
     }
 
-    /// "corrected" / "voided" in words for the list; empty for an untouched entry.
-    fn status_word(&self, status: EntryStatus) -> String {
-        match status {
-            EntryStatus::Original => String::new(),
-            EntryStatus::Corrected => self.t(key("log-status-corrected")),
-            EntryStatus::Voided => self.t(key("log-status-voided")),
-        }
-    }
-
     fn refresh_log(&self) {
         let w = self.window();
         let st = self.state.borrow();
         let adapter = w.global::<LogAdapter>();
         let lang = st.lang();
-        let when = |iso: &str| iso.replace('T', " ").trim_end_matches('Z').to_string();
         let today = utc_today();
-        let (all, listed) = st.log.filtered_on(today);
+        let texts = self.texts.borrow();
+        let list = st.log.list(today, &*texts, lang);
         // Only a quick range writes the fields: typed text is left exactly as typed.
         let (from, to) = st.log.date_texts(today);
         if adapter.get_date_from() != from.as_str() {
@@ -969,39 +960,24 @@ impl Inner {
         if adapter.get_date_to() != to.as_str() {
             adapter.set_date_to(s(to));
         }
-        match st.log.span(today) {
-            Ok(span) => {
-                adapter.set_date_problem(s(""));
-                adapter.set_date_summary(s(self.note(
-                    &Note::new(key("log-showing"))
-                        .arg("count", listed.len())
-                        .part("span", span.phrase()),
-                )));
-            }
-            Err(problem) => {
-                adapter.set_date_problem(s(self.note(&problem)));
-                adapter.set_date_summary(s(""));
-            }
-        }
+        adapter.set_date_problem(s(list.date_problem));
+        adapter.set_date_summary(s(list.summary));
         adapter.set_rows(model(
-            listed
-                .iter()
-                .map(|&i| &all[i])
-                .map(|e| LogRow {
-                    id: e.id as i32,
-                    when: s(when(&e.when).get(..16).unwrap_or_default()),
-                    site: s(&e.site),
-                    place: s(&e.dose.tap),
-                    chemical: s(self.name(&e.dose.chemical)),
-                    dose: s(e
-                        .dose
-                        .dose_mg_per_l()
-                        .map_or_else(|| "—".into(), |d| numbers::format_sig(d, 3, lang))),
-                    status: s(self.status_word(e.status)),
-                    voided: e.voided(),
+            list.lines
+                .into_iter()
+                .map(|l| LogRow {
+                    id: l.id as i32,
+                    when: s(l.when),
+                    site: s(l.site),
+                    place: s(l.place),
+                    chemical: s(l.chemical),
+                    dose: s(l.dose),
+                    status: s(l.status),
+                    voided: l.voided,
                 })
                 .collect(),
         ));
+        drop(texts);
         let filter = &st.log.filter;
         let choice = |label: String, selected: bool| LogChoice {
             label: s(label),
@@ -1066,77 +1042,23 @@ impl Inner {
             LogEdit::Correct => 1,
             LogEdit::Void => 2,
         });
-        let status = match selected.as_ref().map(|e| e.status) {
-            Some(EntryStatus::Corrected) => self.t(key("log-detail-corrected")),
-            Some(EntryStatus::Voided) => self.t(key("log-detail-voided")),
-            Some(EntryStatus::Original) | None => String::new(),
-        };
-        let detail: Vec<String> = st
-            .log
-            .selected_detail()
-            .into_iter()
-            .map(|row| {
-                let value = match row.value {
-                    DetailValue::Text(t) => t,
-                    DetailValue::Name(n) => self.name(&n),
-                    DetailValue::When(w) => when(&w),
-                };
-                format!("{}: {}", self.t(row.label), value)
-            })
-            .collect();
+        let (detail, status) = st.log.detail_lines(&*self.texts.borrow());
         adapter.set_detail(model(detail.into_iter().map(s).collect()));
         adapter.set_detail_status(s(status));
-        let history: Vec<HistoryRow> = if selected.is_some() {
-            st.log
-                .selected_history()
+        let history = st.log.history_lines(&*self.texts.borrow(), lang);
+        adapter.set_history(model(
+            history
                 .into_iter()
-                .map(|r| self.history_row(&r, lang))
-                .collect()
-        } else {
-            Vec::new()
-        };
-        adapter.set_history(model(history));
+                .map(|h| HistoryRow {
+                    heading: s(h.heading),
+                    reason: s(h.reason),
+                    note: s(h.note),
+                })
+                .collect(),
+        ));
         let note = |n: &Option<Note>| n.as_ref().map(|n| self.note(n)).unwrap_or_default();
         adapter.set_edit_status(s(note(&st.log.edit_note)));
         adapter.set_status(s(note(&st.log.note)));
-    }
-
-    /// One history line: "when · initials · what", then the reason (and note) below it.
-    fn history_row(&self, r: &Revision, lang: Lang) -> HistoryRow {
-        let texts = self.texts.borrow();
-        let dose = r.dose_mg_per_l.map(|d| {
-            format!(
-                "{} {}",
-                numbers::format_sig(d, 3, lang),
-                texts.get(&format!("unit-{}", Unit::MgPerL.code()))
-            )
-        });
-        let what = match r.kind {
-            RevisionKind::Logged => texts.get_args(
-                key("log-history-logged"),
-                &[("dose", dose.unwrap_or_default())],
-            ),
-            RevisionKind::Corrected => texts.get_args(
-                key("log-history-corrected"),
-                &[("dose", dose.unwrap_or_default())],
-            ),
-            RevisionKind::Voided => texts.get(key("log-history-voided")),
-        };
-        let when = r.when.replace('T', " ").trim_end_matches('Z').to_string();
-        let reason = if r.reason.is_empty() {
-            String::new()
-        } else {
-            texts.get_args(key("log-history-reason"), &[("reason", r.reason.clone())])
-        };
-        let note = match r.note.as_deref() {
-            Some(note) if !note.is_empty() => format!("{}: {note}", texts.get("log-field-note")),
-            _ => String::new(),
-        };
-        HistoryRow {
-            heading: s(format!("{when} · {} · {what}", r.operator)),
-            reason: s(reason),
-            note: s(note),
-        }
     }
 
     fn plot_data(&self, view: PlotView, title_key: &str, y_key: &str) -> PlotData {

@@ -8,9 +8,13 @@
 //! as a finished log record (a correction's recomputed result), so it knows no calculator.
 
 use super::calc::key;
-use super::dose_log::{Amendment, DoseLog, Entry, ExportFormat, LogError, Revision};
-use super::numbers;
+use super::dose_log::{
+    Amendment, DoseLog, Entry, EntryStatus, ExportFormat, LogError, Revision, RevisionKind,
+};
+use super::numbers::{self, Lang};
 use super::session::{Note, Session};
+use super::words::Words;
+use crate::engine::quantity::Unit;
 use crate::log::record::Dose;
 use chrono::{Datelike, Days, Months, NaiveDate};
 use std::path::PathBuf;
@@ -680,6 +684,155 @@ fn log_error_note(e: &LogError) -> Note {
     }
 }
 
+/// A UTC time as the screen shows it: `2026-12-02 06:00:00`.
+fn when_text(iso: &str) -> String {
+    iso.replace('T', " ").trim_end_matches('Z').to_string()
+}
+
+/// One row of the log list, in words.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LogLine {
+    pub id: u64,
+    /// Date and time to the minute, UTC.
+    pub when: String,
+    pub site: String,
+    pub place: String,
+    pub chemical: String,
+    pub dose: String,
+    /// "corrected" / "voided"; empty for an untouched entry.
+    pub status: String,
+    pub voided: bool,
+}
+
+/// The list as the screen shows it: its rows, and the line under the date fields — what the
+/// list covers, or what is wrong with the typed dates.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct LogList {
+    pub lines: Vec<LogLine>,
+    pub summary: String,
+    pub date_problem: String,
+}
+
+/// One history line: "when · initials · what", then the reason (and note) below it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct HistoryLine {
+    pub heading: String,
+    pub reason: String,
+    pub note: String,
+}
+
+impl LogScreen {
+    /// The list on the UTC day `today`, in words.
+    pub fn list(&self, today: NaiveDate, words: &dyn Words, lang: Lang) -> LogList {
+        let (all, listed) = self.filtered_on(today);
+        let (summary, date_problem) = match self.span(today) {
+            Ok(span) => (
+                words.note(
+                    &Note::new(key("log-showing"))
+                        .arg("count", listed.len())
+                        .part("span", span.phrase()),
+                ),
+                String::new(),
+            ),
+            Err(problem) => (String::new(), words.note(&problem)),
+        };
+        let lines = listed
+            .iter()
+            .map(|&i| &all[i])
+            .map(|e| LogLine {
+                id: e.id,
+                when: when_text(&e.when).get(..16).unwrap_or_default().to_string(),
+                site: e.site.clone(),
+                place: e.dose.tap.clone(),
+                chemical: words.name(&e.dose.chemical),
+                dose: e
+                    .dose
+                    .dose_mg_per_l()
+                    .map_or_else(|| "—".into(), |d| numbers::format_sig(d, 3, lang)),
+                status: match e.status {
+                    EntryStatus::Original => String::new(),
+                    EntryStatus::Corrected => words.get(key("log-status-corrected")),
+                    EntryStatus::Voided => words.get(key("log-status-voided")),
+                },
+                voided: e.voided(),
+            })
+            .collect();
+        LogList {
+            lines,
+            summary,
+            date_problem,
+        }
+    }
+
+    /// The open entry's detail as "label: value" lines, and its status in words.
+    pub fn detail_lines(&self, words: &dyn Words) -> (Vec<String>, String) {
+        let status = match self.selected_entry().map(|e| e.status) {
+            Some(EntryStatus::Corrected) => words.get(key("log-detail-corrected")),
+            Some(EntryStatus::Voided) => words.get(key("log-detail-voided")),
+            Some(EntryStatus::Original) | None => String::new(),
+        };
+        let lines = self
+            .selected_detail()
+            .into_iter()
+            .map(|row| {
+                let value = match row.value {
+                    DetailValue::Text(t) => t,
+                    DetailValue::Name(n) => words.name(&n),
+                    DetailValue::When(w) => when_text(&w),
+                };
+                format!("{}: {}", words.get(row.label), value)
+            })
+            .collect();
+        (lines, status)
+    }
+
+    /// The open entry's original, corrections and void, oldest first, in words.
+    pub fn history_lines(&self, words: &dyn Words, lang: Lang) -> Vec<HistoryLine> {
+        if self.selected_entry().is_none() {
+            return Vec::new();
+        }
+        self.selected_history()
+            .iter()
+            .map(|r| history_line(r, words, lang))
+            .collect()
+    }
+}
+
+fn history_line(r: &Revision, words: &dyn Words, lang: Lang) -> HistoryLine {
+    let dose = r.dose_mg_per_l.map(|d| {
+        format!(
+            "{} {}",
+            numbers::format_sig(d, 3, lang),
+            words.get(&format!("unit-{}", Unit::MgPerL.code()))
+        )
+    });
+    let what = match r.kind {
+        RevisionKind::Logged => words.get_args(
+            key("log-history-logged"),
+            &[("dose", dose.unwrap_or_default())],
+        ),
+        RevisionKind::Corrected => words.get_args(
+            key("log-history-corrected"),
+            &[("dose", dose.unwrap_or_default())],
+        ),
+        RevisionKind::Voided => words.get(key("log-history-voided")),
+    };
+    let reason = if r.reason.is_empty() {
+        String::new()
+    } else {
+        words.get_args(key("log-history-reason"), &[("reason", r.reason.clone())])
+    };
+    let note = match r.note.as_deref() {
+        Some(note) if !note.is_empty() => format!("{}: {note}", words.get("log-field-note")),
+        _ => String::new(),
+    };
+    HistoryLine {
+        heading: format!("{} · {} · {what}", when_text(&r.when), r.operator),
+        reason,
+        note,
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -1034,5 +1187,80 @@ mod tests {
             .iter()
             .map(|e| e.dose.dose_mg_per_l().unwrap())
             .collect()
+    }
+
+    /// The list, the detail and the history in words, with texts written by hand from the
+    /// dictionary (the seed is the example feed: its dose set, the rest as recorded).
+    #[test]
+    fn the_list_detail_and_history_are_worded_for_the_screen() {
+        use crate::app::words::Dictionary;
+        let words = Dictionary(&[
+            ("log-showing", "{ $count } shown, { $span }"),
+            ("log-span-between", "{ $from } to { $to }"),
+            ("log-to-bad", "Not a day: { $text }"),
+            ("log-status-voided", "voided"),
+            ("log-detail-voided", "This entry is voided."),
+            ("log-field-when", "When"),
+            ("log-field-point", "Tap"),
+            ("log-field-note", "Note"),
+            ("log-history-logged", "logged { $dose }"),
+            ("log-history-voided", "voided"),
+            ("log-history-reason", "Why: { $reason }"),
+            ("unit-mg-per-l", "mg/L"),
+            ("NaOCl", "Hypochlorite"),
+        ]);
+        let mut s = fixture(None);
+        let today = day("2026-12-02");
+        let first = seed(&mut s, "2026-11-15T08:00:00Z", "Clearwell", "NaOCl", 1.25);
+        seed(&mut s, "2026-12-01T09:30:00Z", "Raw water", "NaOH", 3.0);
+        s.session.set_initials("KT");
+        s.log.select(first);
+        s.log.void_selected(&s.session, "wrong tap").unwrap();
+        s.log.edit_dates("2026-11-01", "2026-11-30");
+        let list = s.log.list(today, &words, Lang::En);
+        assert_eq!(list.summary, "1 shown, 2026-11-01 to 2026-11-30");
+        assert_eq!(list.date_problem, "");
+        let line = &list.lines[0];
+        assert_eq!(
+            (
+                line.when.as_str(),
+                line.place.as_str(),
+                line.chemical.as_str()
+            ),
+            ("2026-11-15 08:00", "Clearwell", "Hypochlorite")
+        );
+        assert_eq!(
+            (line.dose.as_str(), line.status.as_str(), line.voided),
+            ("1.25", "voided", true)
+        );
+        // Spanish: the decimal comma.
+        s.log.edit_dates("", "");
+        let list = s.log.list(today, &words, Lang::Es);
+        assert_eq!(list.lines.len(), 2);
+        assert_eq!(list.lines[0].dose, "3,00", "newest first, to three figures");
+        s.log.edit_dates("", "2026-11-31");
+        let list = s.log.list(today, &words, Lang::En);
+        assert!(list.lines.is_empty());
+        assert_eq!(
+            (list.summary.as_str(), list.date_problem.as_str()),
+            ("", "Not a day: 2026-11-31")
+        );
+
+        let (detail, status) = s.log.detail_lines(&words);
+        assert_eq!(status, "This entry is voided.");
+        assert!(
+            detail.contains(&"When: 2026-11-15 08:00:00".to_string()),
+            "{detail:?}"
+        );
+        assert!(detail.contains(&"Tap: Clearwell".to_string()), "{detail:?}");
+        let history = s.log.history_lines(&words, Lang::En);
+        assert_eq!(history.len(), 2);
+        assert_eq!(
+            history[0].heading,
+            "2026-11-15 08:00:00 · JM · logged 1.25 mg/L"
+        );
+        assert_eq!(history[0].reason, "");
+        assert!(history[1].heading.ends_with("· KT · voided"), "{history:?}");
+        assert_eq!(history[1].reason, "Why: wrong tap");
     }
 }
