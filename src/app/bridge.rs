@@ -13,11 +13,11 @@ use super::dose_log::{DoseLog, connected_log};
 use super::i18n::Texts;
 use super::numbers::{self, Lang};
 use super::seams::{CalcEngine, CalcKind, connected_engine};
-use super::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
+use super::site_editor::SiteLine;
+use super::sites::{self, LimitForm, ProductForm, PumpForm};
 use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen, utc_today};
 use super::ui::*;
 use crate::engine::dosing::feed::PumpKind;
-use crate::engine::dosing::site::Limit;
 use crate::engine::quantity::{Unit, UnitSystem};
 use slint::{ComponentHandle, Model, ModelRc, SharedString, VecModel};
 use std::cell::RefCell;
@@ -643,147 +643,37 @@ impl Inner {
         a.set_limit_source(s(&l.source));
     }
 
-    fn limit_row(&self, l: &Limit) -> SiteRow {
-        let range = match (l.min, l.max) {
-            (Some(lo), Some(hi)) => format!("{}–{}", self.number(lo), self.number(hi)),
-            (Some(lo), None) => format!("≥ {}", self.number(lo)),
-            (None, Some(hi)) => format!("≤ {}", self.number(hi)),
-            (None, None) => String::new(),
-        };
-        SiteRow {
-            title: s(format!("{}: {range} {}", l.parameter, l.unit).trim_end()),
-            detail: s(&l.source),
-        }
-    }
-
-    /// A problem from the profile editor, in words.
-    fn site_problem(&self, problem: &SiteProblem) -> String {
-        match problem {
-            SiteProblem::Note(note) => {
-                // Arguments that are keys (a field's label, a number problem) are translated.
-                let texts = self.texts.borrow();
-                let args: Vec<(&str, String)> = note
-                    .args
-                    .iter()
-                    .map(|(k, v)| {
-                        let v = if texts.has(v) {
-                            texts.get(v)
-                        } else {
-                            v.clone()
-                        };
-                        (*k, v)
-                    })
-                    .collect();
-                texts.get_args(&note.key, &args)
-            }
-            SiteProblem::Engine(e) => self.texts.borrow().get_args(
-                key("site-invalid"),
-                &[("detail", self.texts.borrow().error(e))],
-            ),
-        }
-    }
-
     /// The Settings screen's profile editor: lists, choices and the last edit's outcome.
     fn refresh_site_editor(&self) {
         let w = self.window();
         let a = w.global::<SettingsAdapter>();
         let st = self.state.borrow();
-        let site = st.site();
-        let product_name = |catalog_id: &str| {
-            st.catalog()
-                .and_then(|c| c.product(catalog_id).ok())
-                .map_or(catalog_id.to_string(), |p| self.name(&p.name_key))
-        };
-        a.set_products(model(
-            site.products
-                .iter()
-                .map(|d| SiteRow {
-                    title: s(format!(
-                        "{} · {} % {}",
-                        product_name(&d.product),
-                        self.number(d.strength),
-                        self.t(sites::basis_key(d.strength_basis))
-                    )),
-                    detail: s([
-                        d.sg.map(|v| format!("{} {}", self.t("site-sg"), self.number(v)))
-                            .unwrap_or_default(),
-                        d.certificate.clone().unwrap_or_default(),
-                    ]
+        let view = st.sites.view(&st.session, &*self.texts.borrow());
+        let rows = |lines: Vec<SiteLine>| {
+            model(
+                lines
                     .into_iter()
-                    .filter(|t| !t.is_empty())
-                    .collect::<Vec<_>>()
-                    .join(" · ")),
-                })
-                .collect(),
-        ));
-        let delivered: Vec<String> = site
-            .products
-            .iter()
-            .map(|d| format!("{} ({})", product_name(&d.product), d.id))
-            .collect();
-        a.set_pumps(model(
-            site.pumps
-                .iter()
-                .map(|p| {
-                    let feeds = site
-                        .products
-                        .iter()
-                        .find(|d| d.id == p.product)
-                        .map_or(p.product.clone(), |d| product_name(&d.product));
-                    let kind = match p.kind {
-                        PumpKind::Metering { capacity, unit } => {
-                            format!("{} {}", self.number(capacity), unit.symbol())
-                        }
-                        PumpKind::Peristaltic { .. } => self.t("site-pump-peristaltic"),
-                        PumpKind::DryFeeder { .. } => self.t("site-pump-dry"),
-                        PumpKind::GasFeeder { .. } => self.t("site-pump-gas"),
-                    };
-                    SiteRow {
-                        title: s(&p.name),
-                        detail: s(format!("{feeds} · {kind}")),
-                    }
-                })
-                .collect(),
-        ));
-        a.set_delivered(model(delivered.iter().map(s).collect()));
-        a.set_limits(model(
-            site.limits.iter().map(|l| self.limit_row(l)).collect(),
-        ));
-        a.set_default_limits(model(
-            st.sites
-                .site_limits(&st.session)
-                .iter()
-                .filter(|l| !site.limits.iter().any(|own| own.parameter == l.parameter))
-                .map(|l| self.limit_row(l))
-                .collect(),
-        ));
-        a.set_catalog_products(model(
-            st.catalog()
-                .map(|c| {
-                    c.products
-                        .iter()
-                        .map(|p| s(self.name(&p.name_key)))
-                        .collect()
-                })
-                .unwrap_or_default(),
-        ));
-        a.set_bases(model(
-            sites::BASES
-                .iter()
-                .map(|b| s(self.t(sites::basis_key(*b))))
-                .collect(),
-        ));
+                    .map(|l| SiteRow {
+                        title: s(l.title),
+                        detail: s(l.detail),
+                    })
+                    .collect(),
+            )
+        };
+        let texts = |list: Vec<String>| model(list.into_iter().map(s).collect());
+        a.set_products(rows(view.products));
+        a.set_pumps(rows(view.pumps));
+        a.set_delivered(texts(view.delivered));
+        a.set_limits(rows(view.limits));
+        a.set_default_limits(rows(view.default_limits));
+        a.set_catalog_products(texts(view.catalog_products));
+        a.set_bases(texts(view.bases));
         a.set_pump_units(model(
             sites::PUMP_UNITS.iter().map(|u| s(u.symbol())).collect(),
         ));
-        let (message, ok) = match (&st.sites.problem, st.sites.saved) {
-            (Some(p), _) => (self.site_problem(p), false),
-            (None, true) => (self.t("site-saved"), true),
-            (None, false) => (String::new(), true),
-        };
-        a.set_message(s(message));
-        a.set_message_ok(ok);
-        a.set_message_section(st.sites.section as i32);
+        a.set_message(s(view.message));
+        a.set_message_ok(view.message_ok);
+        a.set_message_section(view.section as i32);
     }
 
     fn field_row(&self, f: &FieldView) -> FieldRow {

@@ -823,7 +823,7 @@ fn history_line(r: &Revision, words: &dyn Words, lang: Lang) -> HistoryLine {
         words.get_args(key("log-history-reason"), &[("reason", r.reason.clone())])
     };
     let note = match r.note.as_deref() {
-        Some(note) if !note.is_empty() => format!("{}: {note}", words.get("log-field-note")),
+        Some(note) if !note.is_empty() => format!("{}: {note}", words.get(key("log-field-note"))),
         _ => String::new(),
     };
     HistoryLine {

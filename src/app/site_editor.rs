@@ -11,7 +11,9 @@ use super::calc::key;
 use super::numbers::Lang;
 use super::session::{Note, Session};
 use super::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
+use super::words::Words;
 use crate::engine::dosing::catalog::Catalog;
+use crate::engine::dosing::feed::PumpKind;
 use crate::engine::dosing::site::{Limit, SiteProfile};
 
 /// The Settings editor's last outcome.
@@ -185,6 +187,162 @@ impl SiteEditor {
     /// regulatory defaults it does not override.
     pub fn site_limits(&self, session: &Session) -> Vec<Limit> {
         sites::effective_limits(session.site())
+    }
+}
+
+/// One row of the editor's lists: a title and a detail line.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SiteLine {
+    pub title: String,
+    pub detail: String,
+}
+
+/// What the Settings screen's site editor shows, in words.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct EditorView {
+    /// The delivered products: name, strength and basis; SG and certificate.
+    pub products: Vec<SiteLine>,
+    /// The pumps and feeders: name; what they feed and their kind or capacity.
+    pub pumps: Vec<SiteLine>,
+    /// The delivered products as the pump form's choices, `name (id)`.
+    pub delivered: Vec<String>,
+    /// The plant's own limits, then the regulatory defaults it does not override.
+    pub limits: Vec<SiteLine>,
+    pub default_limits: Vec<SiteLine>,
+    /// The catalog's products (the product form's choices) and the strength bases.
+    pub catalog_products: Vec<String>,
+    pub bases: Vec<String>,
+    /// The last edit's outcome in words, whether it is good news, and where it belongs.
+    pub message: String,
+    pub message_ok: bool,
+    pub section: u8,
+}
+
+impl SiteEditor {
+    /// The editor for the session's site, in words.
+    pub fn view(&self, session: &Session, words: &dyn Words) -> EditorView {
+        let site = session.site();
+        let lang = session.lang();
+        let number = |v: f64| sites::show(v, lang);
+        let product_name = |catalog_id: &str| {
+            session
+                .catalog()
+                .and_then(|c| c.product(catalog_id).ok())
+                .map_or(catalog_id.to_string(), |p| words.name(&p.name_key))
+        };
+        let products = site
+            .products
+            .iter()
+            .map(|d| SiteLine {
+                title: format!(
+                    "{} · {} % {}",
+                    product_name(&d.product),
+                    number(d.strength),
+                    words.get(sites::basis_key(d.strength_basis))
+                ),
+                detail: [
+                    d.sg.map(|v| format!("{} {}", words.get(key("site-sg")), number(v)))
+                        .unwrap_or_default(),
+                    d.certificate.clone().unwrap_or_default(),
+                ]
+                .into_iter()
+                .filter(|t| !t.is_empty())
+                .collect::<Vec<_>>()
+                .join(" · "),
+            })
+            .collect();
+        let pumps = site
+            .pumps
+            .iter()
+            .map(|p| {
+                let feeds = site
+                    .products
+                    .iter()
+                    .find(|d| d.id == p.product)
+                    .map_or(p.product.clone(), |d| product_name(&d.product));
+                let kind = match p.kind {
+                    PumpKind::Metering { capacity, unit } => {
+                        format!("{} {}", number(capacity), unit.symbol())
+                    }
+                    PumpKind::Peristaltic { .. } => words.get(key("site-pump-peristaltic")),
+                    PumpKind::DryFeeder { .. } => words.get(key("site-pump-dry")),
+                    PumpKind::GasFeeder { .. } => words.get(key("site-pump-gas")),
+                };
+                SiteLine {
+                    title: p.name.clone(),
+                    detail: format!("{feeds} · {kind}"),
+                }
+            })
+            .collect();
+        let delivered = site
+            .products
+            .iter()
+            .map(|d| format!("{} ({})", product_name(&d.product), d.id))
+            .collect();
+        let limits = site.limits.iter().map(|l| limit_line(l, lang)).collect();
+        let default_limits = self
+            .site_limits(session)
+            .iter()
+            .filter(|l| !site.limits.iter().any(|own| own.parameter == l.parameter))
+            .map(|l| limit_line(l, lang))
+            .collect();
+        let catalog_products = session
+            .catalog()
+            .map(|c| c.products.iter().map(|p| words.name(&p.name_key)).collect())
+            .unwrap_or_default();
+        let bases = sites::BASES
+            .iter()
+            .map(|b| words.get(sites::basis_key(*b)))
+            .collect();
+        let (message, message_ok) = match (&self.problem, self.saved) {
+            (Some(p), _) => (problem_text(p, words), false),
+            (None, true) => (words.get(key("site-saved")), true),
+            (None, false) => (String::new(), true),
+        };
+        EditorView {
+            products,
+            pumps,
+            delivered,
+            limits,
+            default_limits,
+            catalog_products,
+            bases,
+            message,
+            message_ok,
+            section: self.section,
+        }
+    }
+}
+
+/// A limit as a row: `parameter: range unit` over its source.
+fn limit_line(l: &Limit, lang: Lang) -> SiteLine {
+    let number = |v: f64| sites::show(v, lang);
+    let range = match (l.min, l.max) {
+        (Some(lo), Some(hi)) => format!("{}–{}", number(lo), number(hi)),
+        (Some(lo), None) => format!("≥ {}", number(lo)),
+        (None, Some(hi)) => format!("≤ {}", number(hi)),
+        (None, None) => String::new(),
+    };
+    SiteLine {
+        title: format!("{}: {range} {}", l.parameter, l.unit)
+            .trim_end()
+            .to_string(),
+        detail: l.source.clone(),
+    }
+}
+
+/// A problem from the editor, in words: arguments that are keys (a field's label, a number
+/// problem) are translated; an engine refusal is said through `site-invalid`.
+fn problem_text(problem: &SiteProblem, words: &dyn Words) -> String {
+    match problem {
+        SiteProblem::Note(note) => {
+            let args: Vec<(&str, String)> =
+                note.args.iter().map(|(k, v)| (*k, words.name(v))).collect();
+            words.get_args(&note.key, &args)
+        }
+        SiteProblem::Engine(e) => {
+            words.get_args(key("site-invalid"), &[("detail", words.error(e))])
+        }
     }
 }
 
@@ -502,5 +660,71 @@ mod tests {
         assert_eq!(s.session.units(), UnitSystem::Si);
         assert_eq!(s.session.site().name, "Planta Sur");
         std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    /// The demo plant's editor in words, written by hand from the dictionary and the demo
+    /// profile (`data/demo-site.json`); and a problem's arguments that are keys translated.
+    #[test]
+    fn the_editor_is_worded_for_the_screen() {
+        use crate::app::words::Dictionary;
+        let words = Dictionary(&[
+            ("site-saved", "Saved."),
+            ("site-tap-exists", "There is a tap named so."),
+            ("site-number-missing", "{ $field } is missing."),
+            ("field-strength", "Strength"),
+            ("site-pump-peristaltic", "hose pump"),
+        ]);
+        let mut s = fixture(None);
+        let view = s.editor.view(&s.session, &words);
+        assert_eq!(view.message, "");
+        assert!(view.message_ok);
+        assert_eq!(view.products.len(), s.session.site().products.len());
+        assert!(
+            view.pumps
+                .iter()
+                .any(|p| p.title == "Alum peristaltic pump" && p.detail.ends_with("· hose pump")),
+            "{:?}",
+            view.pumps
+        );
+        assert!(
+            view.limits
+                .iter()
+                .any(|l| l.title.starts_with("chlorine: ") && l.detail.contains("Plant permit")),
+            "{:?}",
+            view.limits
+        );
+        assert!(
+            view.default_limits
+                .iter()
+                .all(|d| !view
+                    .limits
+                    .iter()
+                    .any(|own| own.title.split(':').next() == d.title.split(':').next())),
+            "a default the permit overrides is not listed twice"
+        );
+        assert!(s.editor.add_point(&mut s.session, "Clearwell outlet"));
+        let view = s.editor.view(&s.session, &words);
+        assert_eq!((view.message.as_str(), view.section), ("Saved.", 1));
+        assert!(!s.editor.add_point(&mut s.session, "Clearwell outlet"));
+        let view = s.editor.view(&s.session, &words);
+        assert_eq!(view.message, "There is a tap named so.");
+        assert!(!view.message_ok);
+        let problem =
+            SiteProblem::Note(Note::new("site-number-missing").arg("field", "field-strength"));
+        assert_eq!(problem_text(&problem, &words), "Strength is missing.");
+        let limit = Limit {
+            parameter: "ph".into(),
+            min: Some(6.5),
+            max: Some(8.5),
+            unit: String::new(),
+            source: "Permit".into(),
+        };
+        assert_eq!(
+            limit_line(&limit, Lang::Es),
+            SiteLine {
+                title: "ph: 6,5–8,5".into(),
+                detail: "Permit".into()
+            }
+        );
     }
 }
