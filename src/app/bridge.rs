@@ -13,11 +13,10 @@ use super::dose_log::{DoseLog, connected_log};
 use super::i18n::Texts;
 use super::numbers::{self, Lang};
 use super::seams::{CalcEngine, CalcKind, connected_engine};
-use super::site_editor::SiteLine;
+use super::site_editor::{ProductFields, SiteLine};
 use super::sites::{self, LimitForm, ProductForm, PumpForm};
 use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen, utc_today};
 use super::ui::*;
-use crate::engine::dosing::feed::PumpKind;
 use crate::engine::quantity::{Unit, UnitSystem};
 use slint::{ComponentHandle, Model, ModelRc, SharedString, VecModel};
 use std::cell::RefCell;
@@ -562,83 +561,64 @@ impl Inner {
     fn product_form(&self) -> ProductForm {
         let w = self.window();
         let a = w.global::<SettingsAdapter>();
-        let st = self.state.borrow();
-        ProductForm {
-            product: st
-                .catalog()
-                .and_then(|c| c.products.get(a.get_catalog_index().max(0) as usize))
-                .map(|p| p.id.clone())
-                .unwrap_or_default(),
+        let fields = ProductFields {
+            catalog_index: a.get_catalog_index(),
+            basis_index: a.get_basis_index(),
             strength: a.get_strength().to_string(),
-            basis: sites::BASES
-                .get(a.get_basis_index().max(0) as usize)
-                .copied(),
             sg: a.get_sg().to_string(),
             certificate: a.get_certificate().to_string(),
-        }
-    }
-
-    fn number(&self, v: f64) -> String {
-        sites::show(v, self.state.borrow().lang())
+        };
+        fields.to_form(&self.state.borrow().session)
     }
 
     /// Puts a delivered product into the form, to change it and save again.
     fn load_product(&self, index: usize) {
-        let w = self.window();
-        let a = w.global::<SettingsAdapter>();
         let st = self.state.borrow();
-        let Some(d) = st.site().products.get(index).cloned() else {
+        let Some(f) = st.sites.product_fields(&st.session, index) else {
             return;
         };
-        let catalog_index = st
-            .catalog()
-            .and_then(|c| c.products.iter().position(|p| p.id == d.product));
         drop(st);
-        a.set_catalog_index(catalog_index.map_or(-1, |i| i as i32));
-        a.set_basis_index(
-            sites::BASES
-                .iter()
-                .position(|b| *b == d.strength_basis)
-                .map_or(-1, |i| i as i32),
-        );
-        a.set_strength(s(self.number(d.strength)));
-        a.set_sg(s(d.sg.map(|v| self.number(v)).unwrap_or_default()));
-        a.set_certificate(s(d.certificate.unwrap_or_default()));
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
+        a.set_catalog_index(f.catalog_index);
+        a.set_basis_index(f.basis_index);
+        a.set_strength(s(f.strength));
+        a.set_sg(s(f.sg));
+        a.set_certificate(s(f.certificate));
     }
 
     fn load_pump(&self, index: usize) {
-        let w = self.window();
-        let a = w.global::<SettingsAdapter>();
         let st = self.state.borrow();
-        let Some(p) = st.site().pumps.get(index).cloned() else {
+        let Some(p) = st.sites.pump_form(&st.session, index) else {
             return;
         };
-        let product = st.site().products.iter().position(|d| d.id == p.product);
         drop(st);
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
         a.set_pump_name(s(&p.name));
-        a.set_pump_product_index(product.map_or(-1, |i| i as i32));
-        if let PumpKind::Metering { capacity, unit } = p.kind {
-            a.set_pump_capacity(s(self.number(capacity)));
+        a.set_pump_product_index(p.product.map_or(-1, |i| i as i32));
+        a.set_pump_capacity(s(&p.capacity));
+        if let Some(unit) = p.unit {
             a.set_pump_unit_index(
                 sites::PUMP_UNITS
                     .iter()
                     .position(|u| *u == unit)
                     .map_or(0, |i| i as i32),
             );
-        } else {
-            a.set_pump_capacity(s(""));
         }
     }
 
     fn load_limit(&self, index: usize) {
-        let w = self.window();
-        let a = w.global::<SettingsAdapter>();
-        let Some(l) = self.state.borrow().site().limits.get(index).cloned() else {
+        let st = self.state.borrow();
+        let Some(l) = st.sites.limit_form(&st.session, index) else {
             return;
         };
+        drop(st);
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
         a.set_limit_parameter(s(&l.parameter));
-        a.set_limit_min(s(l.min.map(|v| self.number(v)).unwrap_or_default()));
-        a.set_limit_max(s(l.max.map(|v| self.number(v)).unwrap_or_default()));
+        a.set_limit_min(s(&l.min));
+        a.set_limit_max(s(&l.max));
         a.set_limit_unit(s(&l.unit));
         a.set_limit_source(s(&l.source));
     }

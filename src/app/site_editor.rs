@@ -314,6 +314,90 @@ impl SiteEditor {
     }
 }
 
+/// The product form as the screen holds it: the catalog product and the strength basis as
+/// positions in their choice lists (`-1`: none chosen), the numbers as typed.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct ProductFields {
+    pub catalog_index: i32,
+    pub basis_index: i32,
+    pub strength: String,
+    pub sg: String,
+    pub certificate: String,
+}
+
+impl ProductFields {
+    /// The form the editor saves: positions become the catalog id and the basis (no choice
+    /// reads as the first, as the screen shows it).
+    pub fn to_form(&self, session: &Session) -> ProductForm {
+        ProductForm {
+            product: session
+                .catalog()
+                .and_then(|c| c.products.get(self.catalog_index.max(0) as usize))
+                .map(|p| p.id.clone())
+                .unwrap_or_default(),
+            strength: self.strength.clone(),
+            basis: sites::BASES.get(self.basis_index.max(0) as usize).copied(),
+            sg: self.sg.clone(),
+            certificate: self.certificate.clone(),
+        }
+    }
+}
+
+impl SiteEditor {
+    /// The site's delivered product `index` in the form, to change it and save again.
+    pub fn product_fields(&self, session: &Session, index: usize) -> Option<ProductFields> {
+        let d = session.site().products.get(index)?;
+        let lang = session.lang();
+        let position = |found: Option<usize>| found.map_or(-1, |i| i as i32);
+        Some(ProductFields {
+            catalog_index: position(
+                session
+                    .catalog()
+                    .and_then(|c| c.products.iter().position(|p| p.id == d.product)),
+            ),
+            basis_index: position(sites::BASES.iter().position(|b| *b == d.strength_basis)),
+            strength: sites::show(d.strength, lang),
+            sg: d.sg.map(|v| sites::show(v, lang)).unwrap_or_default(),
+            certificate: d.certificate.clone().unwrap_or_default(),
+        })
+    }
+
+    /// The site's pump `index` in the form: a metering pump's capacity and unit; another kind
+    /// leaves the capacity empty and no unit.
+    pub fn pump_form(&self, session: &Session, index: usize) -> Option<PumpForm> {
+        let site = session.site();
+        let p = site.pumps.get(index)?;
+        let (capacity, unit) = match p.kind {
+            PumpKind::Metering { capacity, unit } => {
+                (sites::show(capacity, session.lang()), Some(unit))
+            }
+            _ => (String::new(), None),
+        };
+        Some(PumpForm {
+            name: p.name.clone(),
+            product: site.products.iter().position(|d| d.id == p.product),
+            capacity,
+            unit,
+        })
+    }
+
+    /// The site's limit `index` in the form.
+    pub fn limit_form(&self, session: &Session, index: usize) -> Option<LimitForm> {
+        let l = session.site().limits.get(index)?;
+        let number = |v: Option<f64>| {
+            v.map(|v| sites::show(v, session.lang()))
+                .unwrap_or_default()
+        };
+        Some(LimitForm {
+            parameter: l.parameter.clone(),
+            min: number(l.min),
+            max: number(l.max),
+            unit: l.unit.clone(),
+            source: l.source.clone(),
+        })
+    }
+}
+
 /// A limit as a row: `parameter: range unit` over its source.
 fn limit_line(l: &Limit, lang: Lang) -> SiteLine {
     let number = |v: f64| sites::show(v, lang);
@@ -726,5 +810,43 @@ mod tests {
                 detail: "Permit".into()
             }
         );
+    }
+
+    /// A delivered product, a pump and a limit come back into their forms as saved, so
+    /// saving the form again changes nothing (the demo plant's numbers, `data/demo-site.json`).
+    #[test]
+    fn a_saved_item_comes_back_into_its_form() {
+        let mut s = fixture(None);
+        let before = s.session.site().clone();
+        let hypo = before
+            .products
+            .iter()
+            .position(|d| d.product == "sodium-hypochlorite")
+            .unwrap();
+        let fields = s.editor.product_fields(&s.session, hypo).unwrap();
+        assert_eq!(fields.strength, "12.5");
+        assert!(fields.catalog_index >= 0 && fields.basis_index >= 0);
+        let form = fields.to_form(&s.session);
+        assert_eq!(form.product, "sodium-hypochlorite");
+        assert!(s.editor.save_product(&mut s.session, &form));
+        let metering = before
+            .pumps
+            .iter()
+            .position(|p| matches!(p.kind, PumpKind::Metering { .. }))
+            .unwrap();
+        let pump = s.editor.pump_form(&s.session, metering).unwrap();
+        assert!(pump.unit.is_some() && !pump.capacity.is_empty());
+        assert!(s.editor.save_pump(&mut s.session, &pump));
+        let hose = before
+            .pumps
+            .iter()
+            .position(|p| p.name == "Alum peristaltic pump")
+            .unwrap();
+        let pump = s.editor.pump_form(&s.session, hose).unwrap();
+        assert_eq!((pump.capacity.as_str(), pump.unit), ("", None));
+        let limit = s.editor.limit_form(&s.session, 0).unwrap();
+        assert!(s.editor.save_limit(&mut s.session, &limit));
+        assert_eq!(s.session.site(), &before, "saved back unchanged");
+        assert_eq!(s.editor.product_fields(&s.session, 99), None);
     }
 }
