@@ -11,7 +11,7 @@ use super::calc_screen::{caution_lines, trace_lines};
 use super::dose_log::ExportFormat;
 use super::dose_log::{DoseLog, connected_log};
 use super::i18n::Texts;
-use super::numbers::{self, Lang};
+use super::numbers::Lang;
 use super::seams::{CalcEngine, CalcKind, connected_engine};
 use super::site_editor::{ProductFields, SiteLine};
 use super::sites::{self, LimitForm, ProductForm, PumpForm};
@@ -804,12 +804,9 @@ impl Inner {
         let w = self.window();
         let adapter = w.global::<LogAdapter>();
         let st = self.state.borrow();
-        if let Some(e) = st.log.selected_entry() {
-            let dose = e.dose.dose_mg_per_l().unwrap_or_default();
-            adapter.set_edit_dose(s(numbers::format_sig(dose, 6, st.lang())
-                .trim_end_matches('0')
-                .trim_end_matches(['.', ','])));
-            adapter.set_edit_note(s(&e.dose.note));
+        if let Some((dose, note)) = st.log.correction_fields(st.lang()) {
+            adapter.set_edit_dose(s(dose));
+            adapter.set_edit_note(s(note));
         }
         adapter.set_edit_reason(s(""));
     }
@@ -932,31 +929,20 @@ impl Inner {
     }
 
     fn plot_data(&self, view: PlotView, title_key: &str, y_key: &str) -> PlotData {
+        let t = view.worded(title_key, y_key, &*self.texts.borrow());
         PlotData {
-            title: s(self.t(title_key)),
-            commands: s(&view.commands),
-            grid: s(&view.grid),
-            x_label: s(if view.x_key.is_empty() {
-                String::new()
-            } else {
-                format!("{} — {}", self.t(&view.x_key), self.name(&view.subject))
-            }),
-            y_label: s(self.t(y_key)),
-            y_lo: s(&view.y_lo),
-            y_hi: s(&view.y_hi),
-            x_lo: s(&view.x_lo),
-            x_hi: s(&view.x_hi),
-            markers: s(&view.markers),
-            legend: s(view
-                .legend
-                .as_ref()
-                .map(|n| self.note(n))
-                .unwrap_or_default()),
-            message: s(view
-                .message
-                .as_ref()
-                .map(|n| self.note(n))
-                .unwrap_or_default()),
+            title: s(t.title),
+            commands: s(t.commands),
+            grid: s(t.grid),
+            x_label: s(t.x_label),
+            y_label: s(t.y_label),
+            y_lo: s(t.y_lo),
+            y_hi: s(t.y_hi),
+            x_lo: s(t.x_lo),
+            x_hi: s(t.x_hi),
+            markers: s(t.markers),
+            legend: s(t.legend),
+            message: s(t.message),
         }
     }
 

@@ -764,6 +764,18 @@ impl LogScreen {
         }
     }
 
+    /// The correction form's dose and note for the open entry, as recorded (the dose to six
+    /// figures without trailing zeros, in the language's decimal mark).
+    pub fn correction_fields(&self, lang: Lang) -> Option<(String, String)> {
+        let e = self.selected_entry()?;
+        let dose = e.dose.dose_mg_per_l().unwrap_or_default();
+        let dose = numbers::format_sig(dose, 6, lang)
+            .trim_end_matches('0')
+            .trim_end_matches(['.', ','])
+            .to_string();
+        Some((dose, e.dose.note.clone()))
+    }
+
     /// The open entry's detail as "label: value" lines, and its status in words.
     pub fn detail_lines(&self, words: &dyn Words) -> (Vec<String>, String) {
         let status = match self.selected_entry().map(|e| e.status) {
@@ -1262,5 +1274,23 @@ mod tests {
         assert_eq!(history[0].reason, "");
         assert!(history[1].heading.ends_with("· KT · voided"), "{history:?}");
         assert_eq!(history[1].reason, "Why: wrong tap");
+    }
+
+    #[test]
+    fn the_correction_form_starts_from_the_entry_as_recorded() {
+        let mut s = fixture(None);
+        assert_eq!(s.log.correction_fields(Lang::En), None, "nothing open");
+        let check = |s: &mut Fixture, dose: f64, lang: Lang, want: &str| {
+            let id = seed(s, "2026-11-15T08:00:00Z", "Clearwell", "NaOCl", dose);
+            s.log.select(id);
+            let (text, note) = s.log.correction_fields(lang).unwrap();
+            assert_eq!(text, want, "{dose} in {lang:?}");
+            assert_eq!(note, example_dose().note);
+        };
+        check(&mut s, 1.5, Lang::En, "1.5");
+        check(&mut s, 1.5, Lang::Es, "1,5");
+        check(&mut s, 2.0, Lang::En, "2");
+        check(&mut s, 10.0, Lang::En, "10");
+        check(&mut s, 0.123456, Lang::En, "0.123456");
     }
 }

@@ -12,6 +12,7 @@ use super::numbers::{self, Lang};
 use super::plot::{self, Range};
 use super::seams::{CalcKind, SeamError};
 use super::session::Note;
+use super::words::Words;
 
 /// A drawn plot: command strings in the view box of [`plot`], or why there is none.
 #[derive(Clone, Debug, PartialEq, Default)]
@@ -168,10 +169,93 @@ fn plot_of(points: &[(f64, f64)], x_key: &str, subject: &str, lang: Lang) -> Plo
     }
 }
 
+/// A plot as the screen shows it: the drawing, and every label in words.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct PlotText {
+    pub title: String,
+    pub commands: String,
+    pub grid: String,
+    /// The x-axis label and what is plotted: `axis — subject`; empty without a plot.
+    pub x_label: String,
+    pub y_label: String,
+    pub y_lo: String,
+    pub y_hi: String,
+    pub x_lo: String,
+    pub x_hi: String,
+    pub markers: String,
+    pub legend: String,
+    pub message: String,
+}
+
+impl PlotView {
+    /// The plot in words, under the title `title_key` with the y axis `y_key`.
+    pub fn worded(&self, title_key: &str, y_key: &str, words: &dyn Words) -> PlotText {
+        let note = |n: &Option<Note>| n.as_ref().map(|n| words.note(n)).unwrap_or_default();
+        PlotText {
+            title: words.get(title_key),
+            commands: self.commands.clone(),
+            grid: self.grid.clone(),
+            x_label: if self.x_key.is_empty() {
+                String::new()
+            } else {
+                format!("{} — {}", words.get(&self.x_key), words.name(&self.subject))
+            },
+            y_label: words.get(y_key),
+            y_lo: self.y_lo.clone(),
+            y_hi: self.y_hi.clone(),
+            x_lo: self.x_lo.clone(),
+            x_hi: self.x_hi.clone(),
+            markers: self.markers.clone(),
+            legend: note(&self.legend),
+            message: note(&self.message),
+        }
+    }
+}
+
 /// The axis ranges of a plot of `points`.
 fn ranges(points: &[(f64, f64)]) -> Option<(Range, Range)> {
     Some((
         Range::around(points.iter().map(|p| p.0))?,
         Range::around(points.iter().map(|p| p.1))?,
     ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::app::words::Dictionary;
+
+    const WORDS: Dictionary = Dictionary(&[
+        ("plot-trend", "Dose trend"),
+        ("plot-dose-axis", "Dose, mg/L"),
+        ("plot-days-axis", "Days"),
+        ("plot-need-two", "Log two doses to see a trend."),
+        ("product-sodium-hydroxide", "Caustic soda"),
+    ]);
+
+    /// Labels written by hand from the dictionary; the drawing is passed through as it is.
+    #[test]
+    fn a_plot_is_worded_with_its_axis_and_subject() {
+        let view = plot_of(
+            &[(0.0, 1.0), (1.0, 2.0)],
+            key("plot-days-axis"),
+            "product-sodium-hydroxide",
+            Lang::En,
+        );
+        let text = view.worded(key("plot-trend"), key("plot-dose-axis"), &WORDS);
+        assert_eq!(text.title, "Dose trend");
+        assert_eq!(text.x_label, "Days — Caustic soda");
+        assert_eq!(text.y_label, "Dose, mg/L");
+        assert_eq!(
+            (text.commands, text.message),
+            (view.commands, String::new())
+        );
+        let empty = PlotView {
+            message: Some(Note::new(key("plot-need-two"))),
+            ..PlotView::default()
+        };
+        let text = empty.worded(key("plot-trend"), key("plot-dose-axis"), &WORDS);
+        assert_eq!(text.x_label, "", "no axis without a plot");
+        assert_eq!(text.message, "Log two doses to see a trend.");
+    }
 }
