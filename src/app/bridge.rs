@@ -11,6 +11,7 @@ use super::calc_screen::{caution_lines, trace_lines};
 use super::dose_log::ExportFormat;
 use super::dose_log::{DoseLog, connected_log};
 use super::i18n::Texts;
+use super::log_screen::Chip;
 use super::numbers::Lang;
 use super::seams::{CalcEngine, CalcKind, connected_engine};
 use super::site_editor::{ProductFields, SiteLine};
@@ -264,13 +265,11 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     }));
     // Choice 0 is "any"; the others are the values present in the log, in the bridge's order.
     log.on_pick_point(on(|i, n| {
-        let (points, _) = i.state.borrow().log.choices();
-        i.state.borrow_mut().log.filter.point = pick(&points, n);
+        i.state.borrow_mut().log.pick_point(n);
         i.refresh_log();
     }));
     log.on_pick_chemical(on(|i, n| {
-        let (_, chemicals) = i.state.borrow().log.choices();
-        i.state.borrow_mut().log.filter.chemical = pick(&chemicals, n);
+        i.state.borrow_mut().log.pick_chemical(n);
         i.refresh_log();
     }));
     log.on_pick_format(on(|i, n| {
@@ -845,61 +844,23 @@ impl Inner {
                 .collect(),
         ));
         drop(texts);
-        let filter = &st.log.filter;
-        let choice = |label: String, selected: bool| LogChoice {
-            label: s(label),
-            selected,
+        let chips = st.log.chips(&st.session, &*self.texts.borrow());
+        let row = |chips: Vec<Chip>| {
+            model(
+                chips
+                    .into_iter()
+                    .map(|c| LogChoice {
+                        label: s(c.label),
+                        selected: c.selected,
+                    })
+                    .collect(),
+            )
         };
-        adapter.set_ranges(model(
-            DateRange::ALL
-                .iter()
-                .map(|r| choice(self.t(r.key()), *r == filter.range))
-                .collect(),
-        ));
-        let (points, chemicals) = st.log.choices();
-        let choices = |any: &str,
-                       values: &[String],
-                       picked: &Option<String>,
-                       show: &dyn Fn(&str) -> String| {
-            std::iter::once(choice(self.t(any), picked.is_none()))
-                .chain(
-                    values
-                        .iter()
-                        .map(|v| choice(show(v), picked.as_deref() == Some(v.as_str()))),
-                )
-                .collect::<Vec<_>>()
-        };
-        adapter.set_points(model(choices(
-            key("log-any-point"),
-            &points,
-            &filter.point,
-            &|v| v.to_string(),
-        )));
-        adapter.set_chemicals(model(choices(
-            key("log-any-chemical"),
-            &chemicals,
-            &filter.chemical,
-            &|v| self.name(v),
-        )));
-        adapter.set_formats(model(
-            ExportFormat::ALL
-                .iter()
-                .map(|f| {
-                    let label = match f {
-                        ExportFormat::Csv => self.t(key("log-format-csv")),
-                        ExportFormat::JsonLines => self.t(key("log-format-jsonl")),
-                    };
-                    choice(label, *f == st.log.format)
-                })
-                .collect(),
-        ));
-        adapter.set_export_folder(s(match st.session.export_folder() {
-            Some(folder) => self.texts.borrow().get_args(
-                key("log-export-folder"),
-                &[("path", folder.display().to_string())],
-            ),
-            None => self.t(key("log-no-export-folder")),
-        }));
+        adapter.set_ranges(row(chips.ranges));
+        adapter.set_points(row(chips.points));
+        adapter.set_chemicals(row(chips.chemicals));
+        adapter.set_formats(row(chips.formats));
+        adapter.set_export_folder(s(chips.export_folder));
 
         let selected = st.log.selected_entry();
         adapter.set_selected_id(selected.as_ref().map_or(-1, |e| e.id as i32));
@@ -961,11 +922,4 @@ impl Inner {
             key("plot-dose-axis"),
         ));
     }
-}
-
-/// Choice `n` of a filter row: 0 is "any", then the values in order.
-fn pick(values: &[String], n: i32) -> Option<String> {
-    (n > 0)
-        .then(|| values.get(n as usize - 1).cloned())
-        .flatten()
 }

@@ -713,6 +713,30 @@ pub struct LogList {
     pub date_problem: String,
 }
 
+/// One chip of a filter row.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Chip {
+    pub label: String,
+    pub selected: bool,
+}
+
+/// The Log screen's chip rows and the export folder line, in words.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct LogChips {
+    pub ranges: Vec<Chip>,
+    pub points: Vec<Chip>,
+    pub chemicals: Vec<Chip>,
+    pub formats: Vec<Chip>,
+    pub export_folder: String,
+}
+
+/// Choice `n` of a filter row: 0 is "any", then the values in order.
+fn pick(values: &[String], n: i32) -> Option<String> {
+    (n > 0)
+        .then(|| values.get(n as usize - 1).cloned())
+        .flatten()
+}
+
 /// One history line: "when · initials · what", then the reason (and note) below it.
 #[derive(Clone, Debug, PartialEq)]
 pub struct HistoryLine {
@@ -761,6 +785,59 @@ impl LogScreen {
             lines,
             summary,
             date_problem,
+        }
+    }
+
+    /// Chooses tap filter `n` of [`chips`](Self::chips): 0 is any, then the taps in order.
+    pub fn pick_point(&mut self, n: i32) {
+        let (points, _) = self.choices();
+        self.filter.point = pick(&points, n);
+    }
+
+    /// Chooses chemical filter `n`, as [`pick_point`](Self::pick_point).
+    pub fn pick_chemical(&mut self, n: i32) {
+        let (_, chemicals) = self.choices();
+        self.filter.chemical = pick(&chemicals, n);
+    }
+
+    /// The chip rows in words, each with its chosen chip: date ranges, taps and chemicals
+    /// (with "any" first), export formats; and where a default export goes.
+    pub fn chips(&self, session: &Session, words: &dyn Words) -> LogChips {
+        let f = &self.filter;
+        let chip = |label: String, selected: bool| Chip { label, selected };
+        let (points, chemicals) = self.choices();
+        let row = |any: &str, values: &[String], picked: &Option<String>, named: bool| {
+            std::iter::once(chip(words.get(any), picked.is_none()))
+                .chain(values.iter().map(|v| {
+                    let label = if named { words.name(v) } else { v.clone() };
+                    chip(label, picked.as_deref() == Some(v.as_str()))
+                }))
+                .collect()
+        };
+        LogChips {
+            ranges: DateRange::ALL
+                .iter()
+                .map(|r| chip(words.get(r.key()), *r == f.range))
+                .collect(),
+            points: row(key("log-any-point"), &points, &f.point, false),
+            chemicals: row(key("log-any-chemical"), &chemicals, &f.chemical, true),
+            formats: ExportFormat::ALL
+                .iter()
+                .map(|x| {
+                    let label = match x {
+                        ExportFormat::Csv => words.get(key("log-format-csv")),
+                        ExportFormat::JsonLines => words.get(key("log-format-jsonl")),
+                    };
+                    chip(label, *x == self.format)
+                })
+                .collect(),
+            export_folder: match session.export_folder() {
+                Some(folder) => words.get_args(
+                    key("log-export-folder"),
+                    &[("path", folder.display().to_string())],
+                ),
+                None => words.get(key("log-no-export-folder")),
+            },
         }
     }
 
@@ -1292,5 +1369,57 @@ mod tests {
         check(&mut s, 2.0, Lang::En, "2");
         check(&mut s, 10.0, Lang::En, "10");
         check(&mut s, 0.123456, Lang::En, "0.123456");
+    }
+
+    /// The chip rows: "any" first, the values present in the log, the chosen one marked; a
+    /// tap or chemical is picked by its position in its row.
+    #[test]
+    fn filter_chips_offer_any_then_what_the_log_holds() {
+        use crate::app::words::Dictionary;
+        let words = Dictionary(&[
+            ("log-any-point", "Any tap"),
+            ("log-any-chemical", "Any chemical"),
+            ("log-no-export-folder", "No export folder."),
+            ("NaOH", "Caustic soda"),
+        ]);
+        let mut s = fixture(None);
+        seed(&mut s, "2026-11-15T08:00:00Z", "Raw water", "NaOH", 1.0);
+        seed(&mut s, "2026-11-16T08:00:00Z", "Clearwell", "NaOCl", 2.0);
+        let labels = |chips: &[Chip]| -> Vec<(String, bool)> {
+            chips
+                .iter()
+                .map(|c| (c.label.clone(), c.selected))
+                .collect()
+        };
+        let row = |items: &[(&str, bool)]| -> Vec<(String, bool)> {
+            items.iter().map(|(l, s)| (l.to_string(), *s)).collect()
+        };
+        s.log.pick_point(2);
+        s.log.pick_chemical(1);
+        let chips = s.log.chips(&s.session, &words);
+        assert_eq!(
+            labels(&chips.points),
+            row(&[
+                ("Any tap", false),
+                ("Clearwell", false),
+                ("Raw water", true)
+            ])
+        );
+        assert_eq!(
+            labels(&chips.chemicals),
+            row(&[
+                ("Any chemical", false),
+                ("NaOCl", true),
+                ("Caustic soda", false)
+            ])
+        );
+        assert_eq!(chips.ranges.iter().filter(|c| c.selected).count(), 1);
+        assert_eq!(chips.export_folder, "No export folder.");
+        s.log.pick_point(0);
+        s.log.pick_chemical(9);
+        assert_eq!(
+            (&s.log.filter.point, &s.log.filter.chemical),
+            (&None, &None)
+        );
     }
 }
