@@ -160,9 +160,9 @@ fn every_screen_renders_with_text_at_three_sizes() {
         ] {
             st.calc.edit(name, text);
         }
-        st.select_entry(4);
+        st.log.select(4);
         // November typed into the log's date fields: the same list on any day the test runs.
-        st.edit_log_dates("2026-11-01", "2026-11-30");
+        st.log.edit_dates("2026-11-01", "2026-11-30");
     }
     handle.refresh();
     app.show().expect("show");
@@ -210,7 +210,8 @@ fn every_screen_renders_with_text_at_three_sizes() {
     handle
         .state
         .borrow_mut()
-        .edit_log_dates("2026-11-30", "2026-11-01");
+        .log
+        .edit_dates("2026-11-30", "2026-11-01");
     handle.refresh();
     let pixels = render(&window, 400, 860);
     save_png(&out.join("log-phone-date-problem.png"), &pixels, 400, 860);
@@ -220,7 +221,8 @@ fn every_screen_renders_with_text_at_three_sizes() {
     handle
         .state
         .borrow_mut()
-        .edit_log_dates("2026-11-01", "2026-11-30");
+        .log
+        .edit_dates("2026-11-01", "2026-11-30");
     handle.refresh();
     // "Show the work" opened, on a desktop-sized window.
     app.global::<CalcAdapter>().set_show_work(true);

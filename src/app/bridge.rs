@@ -7,16 +7,17 @@
 
 use super::RunOptions;
 use super::calc::{FieldView, Status, key};
+use super::calc_screen::{caution_lines, trace_lines};
+use super::dose_log::ExportFormat;
 use super::dose_log::{DoseLog, connected_log};
-use super::dose_log::{EntryStatus, ExportFormat, Revision, RevisionKind};
 use super::i18n::Texts;
-use super::numbers::{self, Lang};
-use super::seams::{CalcEngine, CalcKind, TraceLine, connected_engine};
-use super::sites::{self, LimitForm, ProductForm, PumpForm, SiteProblem};
-use super::state::{AppState, DateRange, DetailValue, LogEdit, Note, PlotView, Screen, utc_today};
+use super::log_screen::Chip;
+use super::numbers::Lang;
+use super::seams::{CalcEngine, CalcKind, connected_engine};
+use super::site_editor::{ProductFields, SiteLine};
+use super::sites::{self, LimitForm, ProductForm, PumpForm};
+use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen, utc_today};
 use super::ui::*;
-use crate::engine::dosing::feed::PumpKind;
-use crate::engine::dosing::site::Limit;
 use crate::engine::quantity::{Unit, UnitSystem};
 use slint::{ComponentHandle, Model, ModelRc, SharedString, VecModel};
 use std::cell::RefCell;
@@ -68,43 +69,6 @@ struct Inner {
     /// Writes the calculator inputs a moment after the last change (see `keep_inputs_soon`).
     keep_inputs: slint::Timer,
     this: RefCell<std::rc::Weak<Inner>>,
-}
-
-/// A "show the work" line in the current language: headings and factor origins are
-/// translated; the conversion itself (numbers, units, formulas) reads the same in any language.
-fn trace_row(texts: &Texts, line: &TraceLine) -> TraceRow {
-    match line {
-        TraceLine::Heading(label) => {
-            let key = format!("trace-{label}");
-            TraceRow {
-                heading: true,
-                text: s(if texts.has(&key) {
-                    texts.get(&key)
-                } else {
-                    label.clone()
-                }),
-                origin: s(""),
-            }
-        }
-        TraceLine::Step { text, origin } => TraceRow {
-            heading: false,
-            text: s(text),
-            origin: s(origin
-                .as_ref()
-                .map(|o| {
-                    texts.get_args(
-                        &format!("origin-{}", o.code),
-                        &[("detail", o.detail.clone())],
-                    )
-                })
-                .unwrap_or_default()),
-        },
-        TraceLine::Result(text) => TraceRow {
-            heading: false,
-            text: s(text),
-            origin: s(""),
-        },
-    }
 }
 
 fn s(text: impl AsRef<str>) -> SharedString {
@@ -227,8 +191,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     calc.on_pick_kind(on(|i, n| {
         if let Some(kind) = CalcKind::all().get(n.max(0) as usize) {
             let mut st = i.state.borrow_mut();
-            st.calc.set_kind(*kind);
-            st.calc_note = None;
+            st.calc.open(*kind);
             st.prefill_from_site();
         }
         i.refresh_calc(true);
@@ -237,7 +200,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         {
             let mut st = i.state.borrow_mut();
             st.calc.set_product(n.max(0) as usize);
-            st.calc_note = None;
+            st.calc.note = None;
             st.prefill_from_site();
         }
         i.refresh_calc(false);
@@ -249,7 +212,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             if let Some(mode) = kind.modes().get(n.max(0) as usize) {
                 st.calc.set_mode(*mode);
             }
-            st.calc_note = None;
+            st.calc.note = None;
             st.prefill_from_site();
         }
         i.refresh_calc(true);
@@ -265,7 +228,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             if let Some(field) = fields.get(index.max(0) as usize) {
                 st.calc.edit(field.name, text.as_str());
             }
-            st.calc_note = None;
+            st.calc.note = None;
         }
         i.refresh_calc(false);
         i.keep_inputs_soon();
@@ -277,11 +240,11 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
 
     let log = window.global::<LogAdapter>();
     log.on_filter_edited(on_text(|i, t| {
-        i.state.borrow_mut().log_filter.text = t.to_string();
+        i.state.borrow_mut().log.filter.text = t.to_string();
         i.refresh_log();
     }));
     log.on_select(on(|i, id| {
-        i.state.borrow_mut().select_entry(id.max(0) as u64);
+        i.state.borrow_mut().log.select(id.max(0) as u64);
         i.refresh_log();
         i.refresh_plots();
     }));
@@ -289,44 +252,43 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         let range = DateRange::ALL.get(n.max(0) as usize).copied();
         i.state
             .borrow_mut()
-            .pick_log_range(range.unwrap_or_default(), utc_today());
+            .log
+            .pick_range(range.unwrap_or_default(), utc_today());
         i.refresh_log();
     }));
     log.on_dates_edited(on_unit(|i| {
         let window = i.window();
         let adapter = window.global::<LogAdapter>();
         let (from, to) = (adapter.get_date_from(), adapter.get_date_to());
-        i.state.borrow_mut().edit_log_dates(&from, &to);
+        i.state.borrow_mut().log.edit_dates(&from, &to);
         i.refresh_log();
     }));
     // Choice 0 is "any"; the others are the values present in the log, in the bridge's order.
     log.on_pick_point(on(|i, n| {
-        let (points, _) = i.state.borrow().log_choices();
-        i.state.borrow_mut().log_filter.point = pick(&points, n);
+        i.state.borrow_mut().log.pick_point(n);
         i.refresh_log();
     }));
     log.on_pick_chemical(on(|i, n| {
-        let (_, chemicals) = i.state.borrow().log_choices();
-        i.state.borrow_mut().log_filter.chemical = pick(&chemicals, n);
+        i.state.borrow_mut().log.pick_chemical(n);
         i.refresh_log();
     }));
     log.on_pick_format(on(|i, n| {
         let format = ExportFormat::ALL.get(n.max(0) as usize).copied();
-        i.state.borrow_mut().log_format = format.unwrap_or_default();
+        i.state.borrow_mut().log.format = format.unwrap_or_default();
         i.refresh_log();
     }));
     log.on_open_correct(on_unit(|i| {
-        i.state.borrow_mut().open_log_edit(LogEdit::Correct);
+        i.state.borrow_mut().log.open_edit(LogEdit::Correct);
         i.prefill_log_form();
         i.refresh_log();
     }));
     log.on_open_void(on_unit(|i| {
-        i.state.borrow_mut().open_log_edit(LogEdit::Void);
+        i.state.borrow_mut().log.open_edit(LogEdit::Void);
         i.prefill_log_form();
         i.refresh_log();
     }));
     log.on_cancel_edit(on_unit(|i| {
-        i.state.borrow_mut().open_log_edit(LogEdit::None);
+        i.state.borrow_mut().log.open_edit(LogEdit::None);
         i.refresh_log();
     }));
     log.on_save_correct(on_unit(|i| {
@@ -347,12 +309,16 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     }));
     log.on_export(on_unit(|i| {
         let path = i.window().global::<LogAdapter>().get_transfer_path();
-        i.state.borrow_mut().export_log(&path);
+        {
+            let mut st = i.state.borrow_mut();
+            let st = &mut *st;
+            st.log.export(&st.session, &path);
+        }
         i.refresh_log();
     }));
     log.on_import(on_unit(|i| {
         let path = i.window().global::<LogAdapter>().get_transfer_path();
-        i.state.borrow_mut().import_log(&path);
+        i.state.borrow_mut().log.import(&path);
         i.refresh_all();
     }));
 
@@ -384,7 +350,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.state.borrow_mut().set_initials(t);
     }));
     settings.on_rename_site(on_text(|i, t| {
-        if i.state.borrow_mut().rename_site(t) {
+        if i.state.borrow_mut().edit_site(|e, s| e.rename_site(s, t)) {
             i.window()
                 .global::<SettingsAdapter>()
                 .set_site_name_edit(s(""));
@@ -392,7 +358,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     settings.on_add_site(on_text(|i, t| {
-        if i.state.borrow_mut().add_site(t) {
+        if i.state.borrow_mut().edit_site(|e, s| e.add_site(s, t)) {
             i.window()
                 .global::<SettingsAdapter>()
                 .set_site_name_edit(s(""));
@@ -400,11 +366,11 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     settings.on_reset_demo(on_unit(|i| {
-        i.state.borrow_mut().reset_to_demo();
+        i.state.borrow_mut().edit_site(|e, s| e.reset_to_demo(s));
         i.refresh_all();
     }));
     settings.on_add_point(on_text(|i, t| {
-        if i.state.borrow_mut().add_point(t) {
+        if i.state.borrow_mut().edit_site(|e, s| e.add_point(s, t)) {
             i.window()
                 .global::<SettingsAdapter>()
                 .set_tap_name_edit(s(""));
@@ -412,8 +378,11 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     settings.on_rename_point(on_text(|i, t| {
-        let index = i.state.borrow().settings.point_index;
-        if i.state.borrow_mut().rename_point(index, t) {
+        let index = i.state.borrow().session.settings.point_index;
+        if i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.rename_point(s, index, t))
+        {
             i.window()
                 .global::<SettingsAdapter>()
                 .set_tap_name_edit(s(""));
@@ -421,17 +390,23 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     settings.on_remove_point(on(|i, n| {
-        i.state.borrow_mut().remove_point(n.max(0) as usize);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.remove_point(s, n.max(0) as usize));
         i.refresh_all();
     }));
     settings.on_save_product(on_unit(|i| {
         let form = i.product_form();
-        i.state.borrow_mut().save_product(&form);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.save_product(s, &form));
         i.refresh_all();
     }));
     settings.on_edit_product(on(|i, n| i.load_product(n.max(0) as usize)));
     settings.on_remove_product(on(|i, n| {
-        i.state.borrow_mut().remove_product(n.max(0) as usize);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.remove_product(s, n.max(0) as usize));
         i.refresh_all();
     }));
     settings.on_save_pump(on_unit(|i| {
@@ -445,12 +420,14 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
                 .get(a.get_pump_unit_index().max(0) as usize)
                 .copied(),
         };
-        i.state.borrow_mut().save_pump(&form);
+        i.state.borrow_mut().edit_site(|e, s| e.save_pump(s, &form));
         i.refresh_all();
     }));
     settings.on_edit_pump(on(|i, n| i.load_pump(n.max(0) as usize)));
     settings.on_remove_pump(on(|i, n| {
-        i.state.borrow_mut().remove_pump(n.max(0) as usize);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.remove_pump(s, n.max(0) as usize));
         i.refresh_all();
     }));
     settings.on_save_limit(on_unit(|i| {
@@ -463,12 +440,16 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             unit: a.get_limit_unit().to_string(),
             source: a.get_limit_source().to_string(),
         };
-        i.state.borrow_mut().save_limit(&form);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.save_limit(s, &form));
         i.refresh_all();
     }));
     settings.on_edit_limit(on(|i, n| i.load_limit(n.max(0) as usize)));
     settings.on_remove_limit(on(|i, n| {
-        i.state.borrow_mut().remove_limit(n.max(0) as usize);
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.remove_limit(s, n.max(0) as usize));
         i.refresh_all();
     }));
 }
@@ -527,15 +508,20 @@ impl Inner {
         w.global::<Tr>().set_epoch(*self.epoch.borrow());
         w.global::<Nav>().set_screen(st.screen() as i32);
         w.global::<Theme>()
-            .set_high_contrast(st.settings.high_contrast);
+            .set_high_contrast(st.session.settings.high_contrast);
 
         let start = w.global::<StartAdapter>();
         start.set_sites(model(
-            st.settings.sites.iter().map(|x| s(&x.name)).collect(),
+            st.session
+                .settings
+                .sites
+                .iter()
+                .map(|x| s(&x.name))
+                .collect(),
         ));
-        start.set_site_index(st.settings.site_index as i32);
+        start.set_site_index(st.session.settings.site_index as i32);
         start.set_points(model(st.taps().into_iter().map(s).collect()));
-        start.set_point_index(st.settings.point_index as i32);
+        start.set_point_index(st.session.settings.point_index as i32);
         start.set_not_saved(!st.log_is_persistent());
         start.set_calculators(model(
             CalcKind::all()
@@ -558,7 +544,7 @@ impl Inner {
         let settings = w.global::<SettingsAdapter>();
         settings.set_lang_index(if st.lang() == Lang::Es { 1 } else { 0 });
         settings.set_units_index(if st.units() == UnitSystem::Si { 1 } else { 0 });
-        settings.set_high_contrast(st.settings.high_contrast);
+        settings.set_high_contrast(st.session.settings.high_contrast);
         settings.set_site_name(s(&st.site().name));
         if settings.get_initials().as_str() != st.initials() {
             settings.set_initials(s(st.initials()));
@@ -574,125 +560,66 @@ impl Inner {
     fn product_form(&self) -> ProductForm {
         let w = self.window();
         let a = w.global::<SettingsAdapter>();
-        let st = self.state.borrow();
-        ProductForm {
-            product: st
-                .catalog()
-                .and_then(|c| c.products.get(a.get_catalog_index().max(0) as usize))
-                .map(|p| p.id.clone())
-                .unwrap_or_default(),
+        let fields = ProductFields {
+            catalog_index: a.get_catalog_index(),
+            basis_index: a.get_basis_index(),
             strength: a.get_strength().to_string(),
-            basis: sites::BASES
-                .get(a.get_basis_index().max(0) as usize)
-                .copied(),
             sg: a.get_sg().to_string(),
             certificate: a.get_certificate().to_string(),
-        }
-    }
-
-    fn number(&self, v: f64) -> String {
-        sites::show(v, self.state.borrow().lang())
+        };
+        fields.to_form(&self.state.borrow().session)
     }
 
     /// Puts a delivered product into the form, to change it and save again.
     fn load_product(&self, index: usize) {
-        let w = self.window();
-        let a = w.global::<SettingsAdapter>();
         let st = self.state.borrow();
-        let Some(d) = st.site().products.get(index).cloned() else {
+        let Some(f) = st.sites.product_fields(&st.session, index) else {
             return;
         };
-        let catalog_index = st
-            .catalog()
-            .and_then(|c| c.products.iter().position(|p| p.id == d.product));
         drop(st);
-        a.set_catalog_index(catalog_index.map_or(-1, |i| i as i32));
-        a.set_basis_index(
-            sites::BASES
-                .iter()
-                .position(|b| *b == d.strength_basis)
-                .map_or(-1, |i| i as i32),
-        );
-        a.set_strength(s(self.number(d.strength)));
-        a.set_sg(s(d.sg.map(|v| self.number(v)).unwrap_or_default()));
-        a.set_certificate(s(d.certificate.unwrap_or_default()));
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
+        a.set_catalog_index(f.catalog_index);
+        a.set_basis_index(f.basis_index);
+        a.set_strength(s(f.strength));
+        a.set_sg(s(f.sg));
+        a.set_certificate(s(f.certificate));
     }
 
     fn load_pump(&self, index: usize) {
-        let w = self.window();
-        let a = w.global::<SettingsAdapter>();
         let st = self.state.borrow();
-        let Some(p) = st.site().pumps.get(index).cloned() else {
+        let Some(p) = st.sites.pump_form(&st.session, index) else {
             return;
         };
-        let product = st.site().products.iter().position(|d| d.id == p.product);
         drop(st);
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
         a.set_pump_name(s(&p.name));
-        a.set_pump_product_index(product.map_or(-1, |i| i as i32));
-        if let PumpKind::Metering { capacity, unit } = p.kind {
-            a.set_pump_capacity(s(self.number(capacity)));
+        a.set_pump_product_index(p.product.map_or(-1, |i| i as i32));
+        a.set_pump_capacity(s(&p.capacity));
+        if let Some(unit) = p.unit {
             a.set_pump_unit_index(
                 sites::PUMP_UNITS
                     .iter()
                     .position(|u| *u == unit)
                     .map_or(0, |i| i as i32),
             );
-        } else {
-            a.set_pump_capacity(s(""));
         }
     }
 
     fn load_limit(&self, index: usize) {
-        let w = self.window();
-        let a = w.global::<SettingsAdapter>();
-        let Some(l) = self.state.borrow().site().limits.get(index).cloned() else {
+        let st = self.state.borrow();
+        let Some(l) = st.sites.limit_form(&st.session, index) else {
             return;
         };
+        drop(st);
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
         a.set_limit_parameter(s(&l.parameter));
-        a.set_limit_min(s(l.min.map(|v| self.number(v)).unwrap_or_default()));
-        a.set_limit_max(s(l.max.map(|v| self.number(v)).unwrap_or_default()));
+        a.set_limit_min(s(&l.min));
+        a.set_limit_max(s(&l.max));
         a.set_limit_unit(s(&l.unit));
         a.set_limit_source(s(&l.source));
-    }
-
-    fn limit_row(&self, l: &Limit) -> SiteRow {
-        let range = match (l.min, l.max) {
-            (Some(lo), Some(hi)) => format!("{}–{}", self.number(lo), self.number(hi)),
-            (Some(lo), None) => format!("≥ {}", self.number(lo)),
-            (None, Some(hi)) => format!("≤ {}", self.number(hi)),
-            (None, None) => String::new(),
-        };
-        SiteRow {
-            title: s(format!("{}: {range} {}", l.parameter, l.unit).trim_end()),
-            detail: s(&l.source),
-        }
-    }
-
-    /// A problem from the profile editor, in words.
-    fn site_problem(&self, problem: &SiteProblem) -> String {
-        match problem {
-            SiteProblem::Note(note) => {
-                // Arguments that are keys (a field's label, a number problem) are translated.
-                let texts = self.texts.borrow();
-                let args: Vec<(&str, String)> = note
-                    .args
-                    .iter()
-                    .map(|(k, v)| {
-                        let v = if texts.has(v) {
-                            texts.get(v)
-                        } else {
-                            v.clone()
-                        };
-                        (*k, v)
-                    })
-                    .collect();
-                texts.get_args(&note.key, &args)
-            }
-            SiteProblem::Engine(e) => self.texts.borrow().get_args(
-                key("site-invalid"),
-                &[("detail", self.texts.borrow().error(e))],
-            ),
-        }
     }
 
     /// The Settings screen's profile editor: lists, choices and the last edit's outcome.
@@ -700,101 +627,32 @@ impl Inner {
         let w = self.window();
         let a = w.global::<SettingsAdapter>();
         let st = self.state.borrow();
-        let site = st.site();
-        let product_name = |catalog_id: &str| {
-            st.catalog()
-                .and_then(|c| c.product(catalog_id).ok())
-                .map_or(catalog_id.to_string(), |p| self.name(&p.name_key))
-        };
-        a.set_products(model(
-            site.products
-                .iter()
-                .map(|d| SiteRow {
-                    title: s(format!(
-                        "{} · {} % {}",
-                        product_name(&d.product),
-                        self.number(d.strength),
-                        self.t(sites::basis_key(d.strength_basis))
-                    )),
-                    detail: s([
-                        d.sg.map(|v| format!("{} {}", self.t("site-sg"), self.number(v)))
-                            .unwrap_or_default(),
-                        d.certificate.clone().unwrap_or_default(),
-                    ]
+        let view = st.sites.view(&st.session, &*self.texts.borrow());
+        let rows = |lines: Vec<SiteLine>| {
+            model(
+                lines
                     .into_iter()
-                    .filter(|t| !t.is_empty())
-                    .collect::<Vec<_>>()
-                    .join(" · ")),
-                })
-                .collect(),
-        ));
-        let delivered: Vec<String> = site
-            .products
-            .iter()
-            .map(|d| format!("{} ({})", product_name(&d.product), d.id))
-            .collect();
-        a.set_pumps(model(
-            site.pumps
-                .iter()
-                .map(|p| {
-                    let feeds = site
-                        .products
-                        .iter()
-                        .find(|d| d.id == p.product)
-                        .map_or(p.product.clone(), |d| product_name(&d.product));
-                    let kind = match p.kind {
-                        PumpKind::Metering { capacity, unit } => {
-                            format!("{} {}", self.number(capacity), unit.symbol())
-                        }
-                        PumpKind::Peristaltic { .. } => self.t("site-pump-peristaltic"),
-                        PumpKind::DryFeeder { .. } => self.t("site-pump-dry"),
-                        PumpKind::GasFeeder { .. } => self.t("site-pump-gas"),
-                    };
-                    SiteRow {
-                        title: s(&p.name),
-                        detail: s(format!("{feeds} · {kind}")),
-                    }
-                })
-                .collect(),
-        ));
-        a.set_delivered(model(delivered.iter().map(s).collect()));
-        a.set_limits(model(
-            site.limits.iter().map(|l| self.limit_row(l)).collect(),
-        ));
-        a.set_default_limits(model(
-            st.site_limits()
-                .iter()
-                .filter(|l| !site.limits.iter().any(|own| own.parameter == l.parameter))
-                .map(|l| self.limit_row(l))
-                .collect(),
-        ));
-        a.set_catalog_products(model(
-            st.catalog()
-                .map(|c| {
-                    c.products
-                        .iter()
-                        .map(|p| s(self.name(&p.name_key)))
-                        .collect()
-                })
-                .unwrap_or_default(),
-        ));
-        a.set_bases(model(
-            sites::BASES
-                .iter()
-                .map(|b| s(self.t(sites::basis_key(*b))))
-                .collect(),
-        ));
+                    .map(|l| SiteRow {
+                        title: s(l.title),
+                        detail: s(l.detail),
+                    })
+                    .collect(),
+            )
+        };
+        let texts = |list: Vec<String>| model(list.into_iter().map(s).collect());
+        a.set_products(rows(view.products));
+        a.set_pumps(rows(view.pumps));
+        a.set_delivered(texts(view.delivered));
+        a.set_limits(rows(view.limits));
+        a.set_default_limits(rows(view.default_limits));
+        a.set_catalog_products(texts(view.catalog_products));
+        a.set_bases(texts(view.bases));
         a.set_pump_units(model(
             sites::PUMP_UNITS.iter().map(|u| s(u.symbol())).collect(),
         ));
-        let (message, ok) = match (&st.site_problem, st.site_saved) {
-            (Some(p), _) => (self.site_problem(p), false),
-            (None, true) => (self.t("site-saved"), true),
-            (None, false) => (String::new(), true),
-        };
-        a.set_message(s(message));
-        a.set_message_ok(ok);
-        a.set_message_section(st.site_section as i32);
+        a.set_message(s(view.message));
+        a.set_message_ok(view.message_ok);
+        a.set_message_section(view.section as i32);
     }
 
     fn field_row(&self, f: &FieldView) -> FieldRow {
@@ -853,7 +711,8 @@ impl Inner {
         }
 
         adapter.set_note(s(st
-            .calc_note
+            .calc
+            .note
             .as_ref()
             .map(|n| self.note(n))
             .unwrap_or_default()));
@@ -904,48 +763,22 @@ impl Inner {
                     None => texts.get_args(key("calc-figures"), &[("figures", figures)]),
                 }));
                 adapter.set_trace(model(
-                    r.trace.iter().map(|line| trace_row(&texts, line)).collect(),
+                    trace_lines(&r.trace, &*texts)
+                        .into_iter()
+                        .map(|t| TraceRow {
+                            heading: t.heading,
+                            text: s(t.text),
+                            origin: s(t.origin),
+                        })
+                        .collect(),
                 ));
-                let mut shown: Vec<(i32, String)> = Vec::new();
-                // The engine's cautions, the site's limits among them, worst first.
-                let mut cautions = r.cautions.clone();
-                cautions.sort_by_key(|c| std::cmp::Reverse(c.level));
                 adapter.set_cautions(model(
-                    cautions
-                        .iter()
-                        .filter_map(|c| {
-                            // Engine caution keys are translation keys as they stand.
-                            let key = c.code.clone();
-                            let text = if texts.has(&key) {
-                                // A parameter naming an input field is shown as its label.
-                                let args: Vec<(&str, String)> = c
-                                    .params
-                                    .iter()
-                                    .map(|(k, v)| {
-                                        let v = if v.starts_with("field-") && texts.has(v) {
-                                            texts.get(v)
-                                        } else {
-                                            v.clone()
-                                        };
-                                        (k.as_str(), v)
-                                    })
-                                    .collect();
-                                texts.get_args(&key, &args)
-                            } else {
-                                c.message.clone()
-                            };
-                            // Two engine cautions can say the same sentence (a product's
-                            // hazard and the calculator's own): the screen says it once.
-                            let level = c.level as i32;
-                            if shown.iter().any(|(l, t)| *l >= level && *t == text) {
-                                return None;
-                            }
-                            shown.push((level, text.clone()));
-                            Some(CautionRow {
-                                level,
-                                word: s(texts.get(&format!("caution-level-{}", c.level.code()))),
-                                text: s(text),
-                            })
+                    caution_lines(&r.cautions, &*texts)
+                        .into_iter()
+                        .map(|c| CautionRow {
+                            level: c.level,
+                            word: s(c.word),
+                            text: s(c.text),
                         })
                         .collect(),
                 ));
@@ -977,23 +810,11 @@ impl Inner {
         let w = self.window();
         let adapter = w.global::<LogAdapter>();
         let st = self.state.borrow();
-        if let Some(e) = st.selected_entry() {
-            let dose = e.dose.dose_mg_per_l().unwrap_or_default();
-            adapter.set_edit_dose(s(numbers::format_sig(dose, 6, st.lang())
-                .trim_end_matches('0')
-                .trim_end_matches(['.', ','])));
-            adapter.set_edit_note(s(&e.dose.note));
+        if let Some((dose, note)) = st.log.correction_fields(st.lang()) {
+            adapter.set_edit_dose(s(dose));
+            adapter.set_edit_note(s(note));
         }
         adapter.set_edit_reason(s(""));
-    }
-
-    /// "corrected" / "voided" in words for the list; empty for an untouched entry.
-    fn status_word(&self, status: EntryStatus) -> String {
-        match status {
-            EntryStatus::Original => String::new(),
-            EntryStatus::Corrected => self.t(key("log-status-corrected")),
-            EntryStatus::Voided => self.t(key("log-status-voided")),
-        }
     }
 
     fn refresh_log(&self) {
@@ -1001,211 +822,95 @@ impl Inner {
         let st = self.state.borrow();
         let adapter = w.global::<LogAdapter>();
         let lang = st.lang();
-        let when = |iso: &str| iso.replace('T', " ").trim_end_matches('Z').to_string();
         let today = utc_today();
-        let (all, listed) = st.filtered_on(today);
+        let texts = self.texts.borrow();
+        let list = st.log.list(today, &*texts, lang);
         // Only a quick range writes the fields: typed text is left exactly as typed.
-        let (from, to) = st.log_date_texts(today);
+        let (from, to) = st.log.date_texts(today);
         if adapter.get_date_from() != from.as_str() {
             adapter.set_date_from(s(from));
         }
         if adapter.get_date_to() != to.as_str() {
             adapter.set_date_to(s(to));
         }
-        match st.log_span(today) {
-            Ok(span) => {
-                adapter.set_date_problem(s(""));
-                adapter.set_date_summary(s(self.note(
-                    &Note::new(key("log-showing"))
-                        .arg("count", listed.len())
-                        .part("span", span.phrase()),
-                )));
-            }
-            Err(problem) => {
-                adapter.set_date_problem(s(self.note(&problem)));
-                adapter.set_date_summary(s(""));
-            }
-        }
+        adapter.set_date_problem(s(list.date_problem));
+        adapter.set_date_summary(s(list.summary));
         adapter.set_rows(model(
-            listed
-                .iter()
-                .map(|&i| &all[i])
-                .map(|e| LogRow {
-                    id: e.id as i32,
-                    when: s(when(&e.when).get(..16).unwrap_or_default()),
-                    site: s(&e.site),
-                    place: s(&e.dose.tap),
-                    chemical: s(self.name(&e.dose.chemical)),
-                    dose: s(e
-                        .dose
-                        .dose_mg_per_l()
-                        .map_or_else(|| "—".into(), |d| numbers::format_sig(d, 3, lang))),
-                    status: s(self.status_word(e.status)),
-                    voided: e.voided(),
+            list.lines
+                .into_iter()
+                .map(|l| LogRow {
+                    id: l.id as i32,
+                    when: s(l.when),
+                    site: s(l.site),
+                    place: s(l.place),
+                    chemical: s(l.chemical),
+                    dose: s(l.dose),
+                    status: s(l.status),
+                    voided: l.voided,
                 })
                 .collect(),
         ));
-        let filter = &st.log_filter;
-        let choice = |label: String, selected: bool| LogChoice {
-            label: s(label),
-            selected,
+        drop(texts);
+        let chips = st.log.chips(&st.session, &*self.texts.borrow());
+        let row = |chips: Vec<Chip>| {
+            model(
+                chips
+                    .into_iter()
+                    .map(|c| LogChoice {
+                        label: s(c.label),
+                        selected: c.selected,
+                    })
+                    .collect(),
+            )
         };
-        adapter.set_ranges(model(
-            DateRange::ALL
-                .iter()
-                .map(|r| choice(self.t(r.key()), *r == filter.range))
-                .collect(),
-        ));
-        let (points, chemicals) = st.log_choices();
-        let choices = |any: &str,
-                       values: &[String],
-                       picked: &Option<String>,
-                       show: &dyn Fn(&str) -> String| {
-            std::iter::once(choice(self.t(any), picked.is_none()))
-                .chain(
-                    values
-                        .iter()
-                        .map(|v| choice(show(v), picked.as_deref() == Some(v.as_str()))),
-                )
-                .collect::<Vec<_>>()
-        };
-        adapter.set_points(model(choices(
-            key("log-any-point"),
-            &points,
-            &filter.point,
-            &|v| v.to_string(),
-        )));
-        adapter.set_chemicals(model(choices(
-            key("log-any-chemical"),
-            &chemicals,
-            &filter.chemical,
-            &|v| self.name(v),
-        )));
-        adapter.set_formats(model(
-            ExportFormat::ALL
-                .iter()
-                .map(|f| {
-                    let label = match f {
-                        ExportFormat::Csv => self.t(key("log-format-csv")),
-                        ExportFormat::JsonLines => self.t(key("log-format-jsonl")),
-                    };
-                    choice(label, *f == st.log_format)
-                })
-                .collect(),
-        ));
-        adapter.set_export_folder(s(match st.export_folder() {
-            Some(folder) => self.texts.borrow().get_args(
-                key("log-export-folder"),
-                &[("path", folder.display().to_string())],
-            ),
-            None => self.t(key("log-no-export-folder")),
-        }));
+        adapter.set_ranges(row(chips.ranges));
+        adapter.set_points(row(chips.points));
+        adapter.set_chemicals(row(chips.chemicals));
+        adapter.set_formats(row(chips.formats));
+        adapter.set_export_folder(s(chips.export_folder));
 
-        let selected = st.selected_entry();
+        let selected = st.log.selected_entry();
         adapter.set_selected_id(selected.as_ref().map_or(-1, |e| e.id as i32));
         adapter.set_can_change(selected.as_ref().is_some_and(|e| !e.voided()));
-        adapter.set_editing(match st.log_edit {
+        adapter.set_editing(match st.log.edit {
             LogEdit::None => 0,
             LogEdit::Correct => 1,
             LogEdit::Void => 2,
         });
-        let status = match selected.as_ref().map(|e| e.status) {
-            Some(EntryStatus::Corrected) => self.t(key("log-detail-corrected")),
-            Some(EntryStatus::Voided) => self.t(key("log-detail-voided")),
-            Some(EntryStatus::Original) | None => String::new(),
-        };
-        let detail: Vec<String> = st
-            .selected_detail()
-            .into_iter()
-            .map(|row| {
-                let value = match row.value {
-                    DetailValue::Text(t) => t,
-                    DetailValue::Name(n) => self.name(&n),
-                    DetailValue::When(w) => when(&w),
-                };
-                format!("{}: {}", self.t(row.label), value)
-            })
-            .collect();
+        let (detail, status) = st.log.detail_lines(&*self.texts.borrow());
         adapter.set_detail(model(detail.into_iter().map(s).collect()));
         adapter.set_detail_status(s(status));
-        let history: Vec<HistoryRow> = if selected.is_some() {
-            st.selected_history()
+        let history = st.log.history_lines(&*self.texts.borrow(), lang);
+        adapter.set_history(model(
+            history
                 .into_iter()
-                .map(|r| self.history_row(&r, lang))
-                .collect()
-        } else {
-            Vec::new()
-        };
-        adapter.set_history(model(history));
+                .map(|h| HistoryRow {
+                    heading: s(h.heading),
+                    reason: s(h.reason),
+                    note: s(h.note),
+                })
+                .collect(),
+        ));
         let note = |n: &Option<Note>| n.as_ref().map(|n| self.note(n)).unwrap_or_default();
-        adapter.set_edit_status(s(note(&st.log_edit_note)));
-        adapter.set_status(s(note(&st.log_note)));
-    }
-
-    /// One history line: "when · initials · what", then the reason (and note) below it.
-    fn history_row(&self, r: &Revision, lang: Lang) -> HistoryRow {
-        let texts = self.texts.borrow();
-        let dose = r.dose_mg_per_l.map(|d| {
-            format!(
-                "{} {}",
-                numbers::format_sig(d, 3, lang),
-                texts.get(&format!("unit-{}", Unit::MgPerL.code()))
-            )
-        });
-        let what = match r.kind {
-            RevisionKind::Logged => texts.get_args(
-                key("log-history-logged"),
-                &[("dose", dose.unwrap_or_default())],
-            ),
-            RevisionKind::Corrected => texts.get_args(
-                key("log-history-corrected"),
-                &[("dose", dose.unwrap_or_default())],
-            ),
-            RevisionKind::Voided => texts.get(key("log-history-voided")),
-        };
-        let when = r.when.replace('T', " ").trim_end_matches('Z').to_string();
-        let reason = if r.reason.is_empty() {
-            String::new()
-        } else {
-            texts.get_args(key("log-history-reason"), &[("reason", r.reason.clone())])
-        };
-        let note = match r.note.as_deref() {
-            Some(note) if !note.is_empty() => format!("{}: {note}", texts.get("log-field-note")),
-            _ => String::new(),
-        };
-        HistoryRow {
-            heading: s(format!("{when} · {} · {what}", r.operator)),
-            reason: s(reason),
-            note: s(note),
-        }
+        adapter.set_edit_status(s(note(&st.log.edit_note)));
+        adapter.set_status(s(note(&st.log.note)));
     }
 
     fn plot_data(&self, view: PlotView, title_key: &str, y_key: &str) -> PlotData {
+        let t = view.worded(title_key, y_key, &*self.texts.borrow());
         PlotData {
-            title: s(self.t(title_key)),
-            commands: s(&view.commands),
-            grid: s(&view.grid),
-            x_label: s(if view.x_key.is_empty() {
-                String::new()
-            } else {
-                format!("{} — {}", self.t(&view.x_key), self.name(&view.subject))
-            }),
-            y_label: s(self.t(y_key)),
-            y_lo: s(&view.y_lo),
-            y_hi: s(&view.y_hi),
-            x_lo: s(&view.x_lo),
-            x_hi: s(&view.x_hi),
-            markers: s(&view.markers),
-            legend: s(view
-                .legend
-                .as_ref()
-                .map(|n| self.note(n))
-                .unwrap_or_default()),
-            message: s(view
-                .message
-                .as_ref()
-                .map(|n| self.note(n))
-                .unwrap_or_default()),
+            title: s(t.title),
+            commands: s(t.commands),
+            grid: s(t.grid),
+            x_label: s(t.x_label),
+            y_label: s(t.y_label),
+            y_lo: s(t.y_lo),
+            y_hi: s(t.y_hi),
+            x_lo: s(t.x_lo),
+            x_hi: s(t.x_hi),
+            markers: s(t.markers),
+            legend: s(t.legend),
+            message: s(t.message),
         }
     }
 
@@ -1224,11 +929,4 @@ impl Inner {
             key("plot-dose-axis"),
         ));
     }
-}
-
-/// Choice `n` of a filter row: 0 is "any", then the values in order.
-fn pick(values: &[String], n: i32) -> Option<String> {
-    (n > 0)
-        .then(|| values.get(n as usize - 1).cloned())
-        .flatten()
 }

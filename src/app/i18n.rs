@@ -135,6 +135,25 @@ fn sentence_case(text: String) -> String {
     }
 }
 
+/// The controllers' translation seam, answered by the Fluent texts.
+impl super::words::Words for Texts {
+    fn has(&self, key: &str) -> bool {
+        Texts::has(self, key)
+    }
+
+    fn get_args(&self, key: &str, args: &[(&str, String)]) -> String {
+        Texts::get_args(self, key, args)
+    }
+
+    fn error(&self, e: &engine::Error) -> String {
+        Texts::error(self, e)
+    }
+
+    fn get(&self, key: &str) -> String {
+        Texts::get(self, key)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -1,22 +1,30 @@
 //! The app layer: controllers in plain Rust, and (with the `app` feature) the Slint UI.
 //!
 //! Design choice: as in Slint's todo-mvc example, each view exports a global adapter of
-//! properties and callbacks; Rust controllers ([`state`], [`calc`]) own the behaviour and know
-//! nothing of Slint, and one bridge copies their views into the adapters. The app is a library
+//! properties and callbacks; one Rust controller per screen ([`calc_screen`] around [`calc`],
+//! [`log_screen`], [`site_editor`], [`plots`]) over a shared [`session`] owns the behaviour and
+//! knows nothing of Slint, [`state`] holds them and navigation, and one bridge copies their
+//! finished view models into the adapters. The app is a library
 //! with one entry, [`run`], so desktop (`molefeed` with no arguments) and Android share it;
 //! each platform injects its data directory. The engine and the log are reached only through
 //! the seams in [`seams`] and [`dose_log`].
 
 pub mod calc;
+pub mod calc_screen;
 pub mod dose_log;
 pub mod engine_adapter;
 pub mod files;
 pub mod keys;
+pub mod log_screen;
 pub mod numbers;
 pub mod plot;
+pub mod plots;
 pub mod seams;
+pub mod session;
+pub mod site_editor;
 pub mod sites;
 pub mod state;
+pub mod words;
 
 #[cfg(feature = "app")]
 mod bridge;

@@ -148,13 +148,13 @@ pub fn add_tap(site: &mut SiteProfile, name: &str) -> bool {
 #[derive(Clone, Debug, PartialEq)]
 pub enum SiteProblem {
     /// The app's own check: a translation key and its arguments.
-    Note(super::state::Note),
+    Note(super::session::Note),
     /// The engine's validation refused the profile.
     Engine(engine::Error),
 }
 
 fn note(k: &str) -> SiteProblem {
-    SiteProblem::Note(super::state::Note::new(k))
+    SiteProblem::Note(super::session::Note::new(k))
 }
 
 /// Parses a number the operator typed in `lang`; empty is `None`.
@@ -163,7 +163,7 @@ fn number(text: &str, lang: Lang, field_key: &'static str) -> Result<Option<f64>
         Ok(v) => Ok(Some(v)),
         Err(numbers::NumberError::Empty) => Ok(None),
         Err(e) => Err(SiteProblem::Note(
-            super::state::Note::new(key("site-number-problem"))
+            super::session::Note::new(key("site-number-problem"))
                 .arg("field", field_key)
                 .arg("problem", e.key()),
         )),
@@ -173,7 +173,7 @@ fn number(text: &str, lang: Lang, field_key: &'static str) -> Result<Option<f64>
 fn required(text: &str, lang: Lang, field_key: &'static str) -> Result<f64, SiteProblem> {
     number(text, lang, field_key)?.ok_or_else(|| {
         SiteProblem::Note(
-            super::state::Note::new(key("site-number-missing")).arg("field", field_key),
+            super::session::Note::new(key("site-number-missing")).arg("field", field_key),
         )
     })
 }
@@ -276,7 +276,7 @@ pub fn remove_product(site: &mut SiteProfile, index: usize) -> Result<(), SitePr
     };
     if let Some(pump) = site.pump_for(&p.id) {
         return Err(SiteProblem::Note(
-            super::state::Note::new(key("site-product-in-use")).arg("pump", &pump.name),
+            super::session::Note::new(key("site-product-in-use")).arg("pump", &pump.name),
         ));
     }
     site.products.remove(index);

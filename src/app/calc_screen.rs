@@ -1,0 +1,376 @@
+//! The Calculators screen's controller: the calculator controller ([`CalcController`], the
+//! fields, parsing and the card) with what the screen adds around it — the site's prefill
+//! and preselected product, the screen's message, "log this dose", and the inputs kept across
+//! a restart. Plain Rust with no Slint types, unit-tested through `state`'s tests and here.
+//!
+//! Design choice: `CalcScreen` dereferences to its `CalcController`, so the screen and the
+//! calculator are driven through one handle (`state.calc.edit(…)`) while the card-building
+//! code stays in `calc.rs`, untouched by this split. What the screen shares with the others
+//! (site, language, units, initials, the data directory) it borrows from the [`Session`].
+//! The card's cautions and "show the work" lines are worded here ([`caution_lines`],
+//! [`trace_lines`]) through the [`Words`] seam; the bridge only copies them.
+
+use super::calc::{CalcController, CalcInputs, Status, key};
+use super::dose_log::{Logging, dose_of};
+use super::log_screen::LogScreen;
+use super::numbers::Lang;
+use super::seams::{CalcEngine, CalcKind, CalcMode, Caution, TraceLine};
+use super::session::{Note, Session};
+use super::sites::{self, Prefill};
+use super::words::Words;
+use crate::engine::quantity::UnitSystem;
+use crate::log::record::Dose;
+use std::ops::{Deref, DerefMut};
+use std::rc::Rc;
+
+/// Where the calculator inputs are kept between runs, in the data directory.
+pub const INPUTS_FILE: &str = "calculator-inputs.json";
+
+/// The Calculators screen.
+pub struct CalcScreen {
+    calc: CalcController,
+    /// The screen's message (logged, or why not).
+    pub note: Option<Note>,
+    prefill: Prefill,
+    /// Calculator variants whose product was already preselected from the site.
+    preselected: Vec<(CalcKind, CalcMode)>,
+}
+
+impl Deref for CalcScreen {
+    type Target = CalcController;
+    fn deref(&self) -> &CalcController {
+        &self.calc
+    }
+}
+
+impl DerefMut for CalcScreen {
+    fn deref_mut(&mut self) -> &mut CalcController {
+        &mut self.calc
+    }
+}
+
+impl CalcScreen {
+    pub fn new(engine: Rc<dyn CalcEngine>, session: &Session) -> CalcScreen {
+        CalcScreen {
+            calc: CalcController::new(engine, session.lang(), session.units()),
+            note: None,
+            prefill: Prefill::default(),
+            preselected: Vec::new(),
+        }
+    }
+
+    /// Another calculator (from the Start screen or the chips): the old message goes.
+    pub fn open(&mut self, kind: CalcKind) {
+        self.calc.set_kind(kind);
+        self.note = None;
+    }
+
+    /// The language changed: the fields are shown in it, and the app's own numbers stay the
+    /// app's (see [`Prefill::through`]).
+    pub fn switch_lang(&mut self, lang: Lang) {
+        self.prefill.through(&mut self.calc, |c| c.set_lang(lang));
+    }
+
+    /// The unit system changed, as [`switch_lang`](Self::switch_lang).
+    pub fn switch_units(&mut self, system: UnitSystem) {
+        self.prefill
+            .through(&mut self.calc, |c| c.set_units(system));
+    }
+
+    /// Fills the open calculator's empty inputs from the site: on the first visit to a
+    /// calculator variant the site's delivered product is chosen, then its strength, SG and
+    /// metering-pump capacity and the plant's typical flow fill fields the operator left empty.
+    pub fn prefill_from_site(&mut self, session: &Session) {
+        let site = session.site();
+        self.calc.set_max_use_levels(sites::max_use_levels(site));
+        self.calc.set_limits(site.limits.clone());
+        self.calc.set_precisions(site.precisions());
+        self.calc.set_site_facts(Some(site.facts()));
+        let (kind, mode) = (self.calc.kind(), self.calc.mode());
+        if !self.preselected.contains(&(kind, mode)) {
+            self.preselected.push((kind, mode));
+            let offered = self.calc.engine().products(kind, mode);
+            if let Some(i) = offered
+                .iter()
+                .position(|p| site.delivered_of(&p.id).is_some())
+            {
+                self.calc.set_product(i);
+            }
+        }
+        let view = self.calc.view();
+        let product = view.products.get(view.product_index).map(|p| p.id.clone());
+        let values =
+            sites::site_values(site, session.catalog(), product.as_deref(), session.units());
+        self.prefill.apply(&mut self.calc, &values, session.lang());
+    }
+
+    /// The card as the log records it ([`dose_of`]): with the engine's cautions and the
+    /// site's permit warnings, as the card showed them. `None` without a dose.
+    pub fn card_dose(&self, session: &Session, operator: &str, tap: &str) -> Option<Dose> {
+        dose_of(
+            &self.calc.view(),
+            Logging {
+                operator,
+                tap,
+                lang: session.lang(),
+                units: session.units(),
+            },
+        )
+    }
+
+    /// "Log this dose": records the card for the session's site and tap; the screen's
+    /// message says what happened.
+    pub fn log_dose(&mut self, session: &Session, log: &mut LogScreen) -> Result<u64, Note> {
+        let logged = self.logged(session, log);
+        self.note = Some(match &logged {
+            Ok(id) => Note::new(key("log-saved")).arg("id", id),
+            Err(note) => note.clone(),
+        });
+        logged
+    }
+
+    fn logged(&self, session: &Session, log: &mut LogScreen) -> Result<u64, Note> {
+        let nothing = || Note::new(key("log-nothing-to-log"));
+        if !matches!(self.calc.view().status, Status::Ready(_)) {
+            return Err(nothing());
+        }
+        if session.initials().is_empty() {
+            return Err(Note::new(key("log-need-initials")));
+        }
+        let tap = session.point().unwrap_or("");
+        let dose = self
+            .card_dose(session, session.initials(), tap)
+            .ok_or_else(nothing)?;
+        log.record(&session.site().name, dose)
+    }
+
+    /// Puts back the calculator inputs kept by [`save_inputs`](Self::save_inputs), if any.
+    pub fn restore_inputs(&mut self, session: &Session) {
+        if let Some(saved) = session
+            .read_file(INPUTS_FILE)
+            .and_then(|t| serde_json::from_str::<CalcInputs>(&t).ok())
+        {
+            self.calc.restore(&saved);
+        }
+    }
+
+    /// Keeps what was typed in the calculators, so a restart (an Android activity killed in
+    /// the background) comes back to the same readings. A preference-like file, written whole
+    /// to a temporary name and renamed, so a crash leaves the old or the new one, never half.
+    pub fn save_inputs(&self, session: &Session) {
+        if let Ok(text) = serde_json::to_string_pretty(&self.calc.inputs()) {
+            let _ = session.write_file(INPUTS_FILE, text.as_bytes());
+        }
+    }
+}
+
+/// One caution as the card shows it: its level (for colour and icon), the level in a word,
+/// and the sentence.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CautionLine {
+    pub level: i32,
+    pub word: String,
+    pub text: String,
+}
+
+/// The card's cautions — the engine's, the site's limits among them — in words, worst first.
+/// A caution without a translation shows the engine's English message; a parameter naming an
+/// input field (`field-…`) is shown as the field's label. Two cautions that say the same
+/// sentence (a product's hazard and the calculator's own) are said once, at the worse level.
+pub fn caution_lines(cautions: &[Caution], words: &dyn Words) -> Vec<CautionLine> {
+    let mut sorted: Vec<&Caution> = cautions.iter().collect();
+    // Stable: cautions of one level keep the engine's order.
+    sorted.sort_by_key(|c| std::cmp::Reverse(c.level));
+    let mut shown: Vec<CautionLine> = Vec::new();
+    for c in sorted {
+        // Engine caution keys are translation keys as they stand.
+        let text = if words.has(&c.code) {
+            let args: Vec<(&str, String)> = c
+                .params
+                .iter()
+                .map(|(k, v)| {
+                    let v = if v.starts_with("field-") && words.has(v) {
+                        words.get(v)
+                    } else {
+                        v.clone()
+                    };
+                    (k.as_str(), v)
+                })
+                .collect();
+            words.get_args(&c.code, &args)
+        } else {
+            c.message.clone()
+        };
+        let level = c.level as i32;
+        if shown.iter().any(|l| l.level >= level && l.text == text) {
+            continue;
+        }
+        shown.push(CautionLine {
+            level,
+            word: words.get(&format!("caution-level-{}", c.level.code())),
+            text,
+        });
+    }
+    shown
+}
+
+/// One "show the work" line as the card shows it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TraceText {
+    pub heading: bool,
+    pub text: String,
+    /// Where a factor comes from, in words (empty for most lines).
+    pub origin: String,
+}
+
+/// "Show the work" in the current language: headings (`trace-<label>`, else the label as
+/// the engine wrote it) and factor origins (`origin-<code>`) are translated; the conversion
+/// itself (numbers, units, formulas) reads the same in any language.
+pub fn trace_lines(trace: &[TraceLine], words: &dyn Words) -> Vec<TraceText> {
+    trace
+        .iter()
+        .map(|line| match line {
+            TraceLine::Heading(label) => {
+                let key = format!("trace-{label}");
+                TraceText {
+                    heading: true,
+                    text: if words.has(&key) {
+                        words.get(&key)
+                    } else {
+                        label.clone()
+                    },
+                    origin: String::new(),
+                }
+            }
+            TraceLine::Step { text, origin } => TraceText {
+                heading: false,
+                text: text.clone(),
+                origin: origin
+                    .as_ref()
+                    .map(|o| {
+                        words.get_args(
+                            &format!("origin-{}", o.code),
+                            &[("detail", o.detail.clone())],
+                        )
+                    })
+                    .unwrap_or_default(),
+            },
+            TraceLine::Result(text) => TraceText {
+                heading: false,
+                text: text.clone(),
+                origin: String::new(),
+            },
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::app::seams::{CautionLevel, StepOrigin};
+    use crate::app::words::Dictionary;
+
+    const WORDS: Dictionary = Dictionary(&[
+        ("caution-level-info", "Note"),
+        ("caution-level-warning", "Warning"),
+        ("caution-level-danger", "Danger"),
+        ("hazard-corrosive", "Corrosive: wear eye protection."),
+        (
+            "site-limit-above",
+            "{ $field } is above { $max } ({ $source }).",
+        ),
+        ("field-residual-target", "Residual target"),
+        ("trace-feed", "Feed rate"),
+        ("origin-density", "density of { $detail }"),
+    ]);
+
+    fn caution(level: CautionLevel, code: &str, params: &[(&str, &str)]) -> Caution {
+        Caution {
+            level,
+            code: code.into(),
+            message: format!("English message of {code}"),
+            params: params
+                .iter()
+                .map(|(k, v)| (k.to_string(), v.to_string()))
+                .collect(),
+        }
+    }
+
+    /// Expected texts written by hand from the dictionary above.
+    #[test]
+    fn cautions_are_worded_worst_first_and_said_once() {
+        use CautionLevel::*;
+        let check = |cautions: &[Caution], want: &[(i32, &str, &str)]| {
+            let got = caution_lines(cautions, &WORDS);
+            let got: Vec<(i32, &str, &str)> = got
+                .iter()
+                .map(|l| (l.level, l.word.as_str(), l.text.as_str()))
+                .collect();
+            assert_eq!(got, want, "{cautions:?}");
+        };
+        let corrosive = "Corrosive: wear eye protection.";
+        // Worst first; an untranslated code shows the engine's message.
+        check(
+            &[
+                caution(Info, "new-code", &[]),
+                caution(Danger, "hazard-corrosive", &[]),
+            ],
+            &[
+                (2, "Danger", corrosive),
+                (0, "Note", "English message of new-code"),
+            ],
+        );
+        // The same sentence twice (product hazard and calculator): once, at the worse level.
+        check(
+            &[
+                caution(Warning, "hazard-corrosive", &[]),
+                caution(Danger, "hazard-corrosive", &[]),
+            ],
+            &[(2, "Danger", corrosive)],
+        );
+        // A field parameter is shown as the field's label; other values as they are.
+        check(
+            &[caution(
+                Warning,
+                "site-limit-above",
+                &[
+                    ("field", "field-residual-target"),
+                    ("max", "4"),
+                    ("source", "Plant permit"),
+                ],
+            )],
+            &[(1, "Warning", "Residual target is above 4 (Plant permit).")],
+        );
+        check(&[], &[]);
+    }
+
+    #[test]
+    fn show_the_work_translates_headings_and_origins_only() {
+        let trace = [
+            TraceLine::Heading("feed".into()),
+            TraceLine::Heading("untranslated-label".into()),
+            TraceLine::Step {
+                text: "2.4 MGD × 1.5 mg/L".into(),
+                origin: Some(StepOrigin {
+                    code: "density",
+                    detail: "NaOCl 12.5 %".into(),
+                }),
+            },
+            TraceLine::Result("= 30.0 lb/d".into()),
+        ];
+        let got: Vec<(bool, String, String)> = trace_lines(&trace, &WORDS)
+            .into_iter()
+            .map(|t| (t.heading, t.text, t.origin))
+            .collect();
+        let line = |h: bool, t: &str, o: &str| (h, t.to_string(), o.to_string());
+        assert_eq!(
+            got,
+            [
+                line(true, "Feed rate", ""),
+                line(true, "untranslated-label", ""),
+                line(false, "2.4 MGD × 1.5 mg/L", "density of NaOCl 12.5 %"),
+                line(false, "= 30.0 lb/d", ""),
+            ]
+        );
+    }
+}
