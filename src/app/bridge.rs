@@ -7,7 +7,7 @@
 
 use super::RunOptions;
 use super::calc::{FieldView, Status, key};
-use super::calc_screen::{caution_lines, trace_lines};
+use super::calc_screen::{ResultLine, card_text, caution_lines, trace_lines};
 use super::dose_log::ExportFormat;
 use super::dose_log::{DoseLog, connected_log};
 use super::i18n::Texts;
@@ -719,49 +719,41 @@ impl Inner {
         match &view.status {
             Status::Ready(r) => {
                 let texts = self.texts.borrow();
+                let card = card_text(r, &*texts);
                 adapter.set_has_result(true);
                 adapter.set_message(s(""));
-                adapter.set_chemical(s(self.name(&r.chemical)));
-                adapter.set_dose_caption(s(texts.get(&r.dose_caption)));
-                adapter.set_dose(s(&r.dose));
-                let [dose_range, feed_range, product_range, pump_range] =
-                    r.ranges.clone().map(|x| s(x.unwrap_or_default()));
-                adapter.set_dose_range(dose_range);
-                adapter.set_feed_range(feed_range);
-                adapter.set_product_range(product_range);
-                adapter.set_pump_range(pump_range);
-                adapter.set_feed(s(&r.feed));
-                adapter.set_feed_unit(s(self.unit(r.feed_unit)));
-                adapter.set_product(s(&r.product));
-                adapter.set_product_unit(s(self.unit(r.product_unit)));
-                adapter.set_product_caption(s(self.t(r.product_caption)));
-                adapter.set_pump(s(&r.pump));
-                adapter.set_pump_caption(s(self.t(r.pump_caption)));
-                adapter.set_no_volume_note(s(r
-                    .no_volume_note
-                    .map(|k| texts.get_args(k, &[("product", self.name(&r.chemical))]))
-                    .unwrap_or_default()));
-                let row = |e: &super::calc::ExtraView| ExtraRow {
-                    label: s(texts.get(&format!("result-{}", e.key))),
-                    value: s(&e.value),
-                    unit: s(texts.get(&format!("unit-{}", e.unit.code()))),
-                    range: s(e.range.clone().unwrap_or_default()),
+                adapter.set_chemical(s(card.chemical));
+                let [dose, feed, product, pump] = card.bigs;
+                adapter.set_dose_caption(s(dose.caption));
+                adapter.set_dose(s(dose.value));
+                adapter.set_dose_range(s(dose.range));
+                adapter.set_feed(s(feed.value));
+                adapter.set_feed_unit(s(feed.unit));
+                adapter.set_feed_range(s(feed.range));
+                adapter.set_product_caption(s(product.caption));
+                adapter.set_product(s(product.value));
+                adapter.set_product_unit(s(product.unit));
+                adapter.set_product_range(s(product.range));
+                adapter.set_pump_caption(s(pump.caption));
+                adapter.set_pump(s(pump.value));
+                adapter.set_pump_range(s(pump.range));
+                adapter.set_no_volume_note(s(card.no_volume_note));
+                let rows = |lines: Vec<ResultLine>| {
+                    model(
+                        lines
+                            .into_iter()
+                            .map(|l| ExtraRow {
+                                label: s(l.label),
+                                value: s(l.value),
+                                unit: s(l.unit),
+                                range: s(l.range),
+                            })
+                            .collect(),
+                    )
                 };
-                adapter.set_leads(model(r.extras.iter().filter(|e| e.lead).map(row).collect()));
-                adapter.set_extras(model(
-                    r.extras.iter().filter(|e| !e.lead).map(row).collect(),
-                ));
-                let figures = r.figures.to_string();
-                adapter.set_figures_note(s(match r.limiting {
-                    Some(field) => texts.get_args(
-                        key("calc-figures-limited"),
-                        &[
-                            ("figures", figures),
-                            ("field", texts.get(&format!("field-{field}"))),
-                        ],
-                    ),
-                    None => texts.get_args(key("calc-figures"), &[("figures", figures)]),
-                }));
+                adapter.set_leads(rows(card.leads));
+                adapter.set_extras(rows(card.extras));
+                adapter.set_figures_note(s(card.figures_note));
                 adapter.set_trace(model(
                     trace_lines(&r.trace, &*texts)
                         .into_iter()
@@ -797,6 +789,11 @@ impl Inner {
                 adapter.set_no_volume_note(s(""));
                 adapter.set_chemical(s(""));
                 adapter.set_extras(model(Vec::new()));
+                adapter.set_leads(model(Vec::new()));
+                adapter.set_dose_range(s(""));
+                adapter.set_feed_range(s(""));
+                adapter.set_product_range(s(""));
+                adapter.set_pump_range(s(""));
                 adapter.set_figures_note(s(""));
                 adapter.set_trace(model(Vec::new()));
                 adapter.set_cautions(model(Vec::new()));

@@ -10,7 +10,7 @@
 //! The card's cautions and "show the work" lines are worded here ([`caution_lines`],
 //! [`trace_lines`]) through the [`Words`] seam; the bridge only copies them.
 
-use super::calc::{CalcController, CalcInputs, Status, key};
+use super::calc::{CalcController, CalcInputs, ExtraView, ResultView, Status, key};
 use super::dose_log::{Logging, dose_of};
 use super::log_screen::LogScreen;
 use super::numbers::Lang;
@@ -18,7 +18,7 @@ use super::seams::{CalcEngine, CalcKind, CalcMode, Caution, TraceLine};
 use super::session::{Note, Session};
 use super::sites::{self, Prefill};
 use super::words::Words;
-use crate::engine::quantity::UnitSystem;
+use crate::engine::quantity::{Unit, UnitSystem};
 use crate::log::record::Dose;
 use std::ops::{Deref, DerefMut};
 use std::rc::Rc;
@@ -264,6 +264,99 @@ pub fn trace_lines(trace: &[TraceLine], words: &dyn Words) -> Vec<TraceText> {
         .collect()
 }
 
+/// A result listed by name on the card, in words.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ResultLine {
+    pub label: String,
+    pub value: String,
+    pub unit: String,
+    /// Empty where the range adds nothing.
+    pub range: String,
+}
+
+/// One big number of the card, in words.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BigText {
+    pub caption: String,
+    pub value: String,
+    pub unit: String,
+    /// Empty where the range adds nothing.
+    pub range: String,
+}
+
+/// The result card in words: what the bridge copies into the adapter, nothing left to decide.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CardText {
+    /// The product's name.
+    pub chemical: String,
+    /// Dose, feed, product and setting, in that order.
+    pub bigs: [BigText; 4],
+    /// Why no product volume is shown (a product fed by mass); empty otherwise.
+    pub no_volume_note: String,
+    /// Headlines without a big place (a cross-check's deviation), shown first.
+    pub leads: Vec<ResultLine>,
+    pub extras: Vec<ResultLine>,
+    pub figures_note: String,
+}
+
+/// A key's translation, or the text itself where it is no key (an engine's name).
+fn named(words: &dyn Words, name: &str) -> String {
+    if words.has(name) {
+        words.get(name)
+    } else {
+        name.to_string()
+    }
+}
+
+/// The card of `r` in words.
+pub fn card_text(r: &ResultView, words: &dyn Words) -> CardText {
+    let unit = |u: Unit| words.get(&format!("unit-{}", u.code()));
+    let chemical = named(words, &r.chemical);
+    let big = |caption: &str, value: &str, unit_text: String, range: &Option<String>| BigText {
+        caption: words.get(caption),
+        value: value.to_string(),
+        unit: unit_text,
+        range: range.clone().unwrap_or_default(),
+    };
+    let line = |e: &ExtraView| ResultLine {
+        label: words.get(&format!("result-{}", e.key)),
+        value: e.value.clone(),
+        unit: unit(e.unit),
+        range: e.range.clone().unwrap_or_default(),
+    };
+    let figures = r.figures.to_string();
+    CardText {
+        bigs: [
+            big(&r.dose_caption, &r.dose, unit(Unit::MgPerL), &r.ranges[0]),
+            big(key("result-feed"), &r.feed, unit(r.feed_unit), &r.ranges[1]),
+            big(
+                r.product_caption,
+                &r.product,
+                unit(r.product_unit),
+                &r.ranges[2],
+            ),
+            big(r.pump_caption, &r.pump, unit(Unit::Percent), &r.ranges[3]),
+        ],
+        no_volume_note: r
+            .no_volume_note
+            .map(|k| words.get_args(k, &[("product", chemical.clone())]))
+            .unwrap_or_default(),
+        chemical,
+        leads: r.extras.iter().filter(|e| e.lead).map(line).collect(),
+        extras: r.extras.iter().filter(|e| !e.lead).map(line).collect(),
+        figures_note: match r.limiting {
+            Some(field) => words.get_args(
+                key("calc-figures-limited"),
+                &[
+                    ("figures", figures),
+                    ("field", words.get(&format!("field-{field}"))),
+                ],
+            ),
+            None => words.get_args(key("calc-figures"), &[("figures", figures)]),
+        },
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -372,5 +465,96 @@ mod tests {
                 line(false, "= 30.0 lb/d", ""),
             ]
         );
+    }
+
+    /// The card in words: captions by their keys, units by theirs, the range beside each
+    /// number as the view gave it, the lead lines apart; expected texts written by hand.
+    #[test]
+    fn the_card_is_worded_with_its_ranges_and_leads() {
+        const CARD: Dictionary = Dictionary(&[
+            ("result-actual-dose", "Actual dose"),
+            ("result-feed", "Feed"),
+            ("result-product", "Product"),
+            ("result-suggested-pump-setting", "Setting for the target"),
+            ("result-deviation", "Deviation"),
+            ("result-feed-mass-rate", "Feed mass"),
+            ("unit-mg-per-l", "mg/L"),
+            ("unit-kg-per-day", "kg/d"),
+            ("unit-l-per-hour", "L/h"),
+            ("unit-percent", "%"),
+            ("product-hypo", "Hypochlorite"),
+            ("calc-figures", "Shown to { $figures } figures."),
+        ]);
+        let extra = |key: &str, value: &str, range: Option<&str>, lead: bool| ExtraView {
+            key: key.into(),
+            value: value.into(),
+            unit: Unit::Percent,
+            range: range.map(String::from),
+            lead,
+        };
+        let view = ResultView {
+            chemical: "product-hypo".into(),
+            dose_caption: "result-actual-dose".into(),
+            dose: "2.77".into(),
+            feed: "25.2".into(),
+            feed_unit: Unit::KgPerDay,
+            product: "8.40".into(),
+            product_unit: Unit::LitresPerHour,
+            product_caption: "result-product",
+            pump: "26.3".into(),
+            pump_caption: "result-suggested-pump-setting",
+            no_volume_note: None,
+            ranges: [
+                Some("2.65–2.89".into()),
+                None,
+                Some("8.21–8.59".into()),
+                Some("25.2–27.5".into()),
+            ],
+            extras: vec![
+                extra("deviation", "-7.69", Some("-11.6 – -3.71"), true),
+                extra("feed-mass-rate", "1.00", None, false),
+            ],
+            figures: 3,
+            limiting: None,
+            trace: Vec::new(),
+            cautions: Vec::new(),
+            outcome: Default::default(),
+        };
+        let card = card_text(&view, &CARD);
+        assert_eq!(card.chemical, "Hypochlorite");
+        let bigs: Vec<_> = card
+            .bigs
+            .iter()
+            .map(|b| {
+                (
+                    b.caption.as_str(),
+                    b.value.as_str(),
+                    b.unit.as_str(),
+                    b.range.as_str(),
+                )
+            })
+            .collect();
+        assert_eq!(
+            bigs,
+            [
+                ("Actual dose", "2.77", "mg/L", "2.65–2.89"),
+                ("Feed", "25.2", "kg/d", ""),
+                ("Product", "8.40", "L/h", "8.21–8.59"),
+                ("Setting for the target", "26.3", "%", "25.2–27.5"),
+            ]
+        );
+        assert_eq!(
+            card.leads,
+            [ResultLine {
+                label: "Deviation".into(),
+                value: "-7.69".into(),
+                unit: "%".into(),
+                range: "-11.6 – -3.71".into(),
+            }]
+        );
+        assert_eq!(card.extras.len(), 1);
+        assert_eq!(card.extras[0].label, "Feed mass");
+        assert_eq!(card.figures_note, "Shown to 3 figures.");
+        assert_eq!(card.no_volume_note, "");
     }
 }
