@@ -57,6 +57,16 @@ result-no-volume-gas = No product volume: { $product } is a gas, fed and set by 
 result-no-volume-dry = No product volume: { $product } is a dry chemical, fed and set by mass.
 
 ## Result figures
+basis-as = as { $compound }
+basis-trade = trade
+basis-weight = by weight
+basis-as-al2o3 = as Al₂O₃
+basis-available-chlorine = as available Cl₂
+basis-purity = purity
+basis-product = of product
+basis-dry-solids = dry solids
+basis-water = of water
+basis-alkali = as the alkali
 result-dose = Dose
 result-actual-dose = Actual dose delivered
 result-suggested-pump-setting = Pump setting for the target dose

@@ -57,6 +57,16 @@ result-no-volume-gas = Sin volumen de producto: { $product } es un gas, se dosif
 result-no-volume-dry = Sin volumen de producto: { $product } es un sólido seco, se dosifica y ajusta por masa.
 
 ## Cifras del resultado
+basis-as = como { $compound }
+basis-trade = comercial
+basis-weight = en peso
+basis-as-al2o3 = como Al₂O₃
+basis-available-chlorine = como Cl₂ disponible
+basis-purity = de pureza
+basis-product = de producto
+basis-dry-solids = sólidos secos
+basis-water = de agua
+basis-alkali = como el álcali
 result-dose = Dosis
 result-actual-dose = Dosis real entregada
 result-suggested-pump-setting = Ajuste de bomba para la dosis objetivo

@@ -7,7 +7,7 @@
 
 use super::RunOptions;
 use super::calc::{FieldView, Status, key};
-use super::calc_screen::{ResultLine, card_text, caution_lines, trace_lines};
+use super::calc_screen::{ResultLine, card_text, caution_lines, field_text, trace_lines};
 use super::dose_log::ExportFormat;
 use super::dose_log::{DoseLog, connected_log};
 use super::i18n::Texts;
@@ -656,16 +656,12 @@ impl Inner {
     }
 
     fn field_row(&self, f: &FieldView) -> FieldRow {
-        let label = self.t(&format!("field-{}", f.name));
+        let t = field_text(f, &*self.texts.borrow());
         FieldRow {
-            label: s(if f.optional {
-                format!("{label} {}", self.t(key("field-optional")))
-            } else {
-                label
-            }),
-            unit: s(self.unit(f.unit)),
-            text: s(&f.text),
-            error: s(f.error.map(|k| self.t(k)).unwrap_or_default()),
+            label: s(t.label),
+            unit: s(t.unit),
+            text: s(t.text),
+            error: s(t.error),
         }
     }
 

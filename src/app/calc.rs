@@ -35,6 +35,9 @@ pub struct FieldSpec {
     pub quantity: Quantity,
     /// May be left empty: the engine then does without it (its label says so).
     pub optional: bool,
+    /// What a value is expressed as, as the table states it (the chosen product resolves a
+    /// product-dependent basis: its dose compound, its strength basis).
+    pub basis: Option<&'static str>,
 }
 
 impl FieldSpec {
@@ -43,6 +46,7 @@ impl FieldSpec {
             name: input.name,
             quantity: input.quantity,
             optional: input.optional,
+            basis: input.basis,
         }
     }
 }
@@ -129,6 +133,9 @@ pub struct FieldView {
     /// May stay empty (its label says so).
     pub optional: bool,
     pub unit: Unit,
+    /// What the value is expressed as ("trade", "purity", "Cl2", "product" ...), for the chosen
+    /// product: every strength, dose and concentration says its basis.
+    pub basis: Option<&'static str>,
     pub text: String,
     /// Translation key of the problem with this field, if any.
     pub error: Option<&'static str>,
@@ -432,7 +439,8 @@ impl CalcController {
         let mut tolerances = BTreeMap::new();
         let mut empty = false;
         let mut invalid = false;
-        let product = self.product().2;
+        let (offered, index, product) = self.product();
+        let choice = offered.get(index).filter(|_| product.is_some());
         for spec in self.fields() {
             let unit = spec.quantity.unit(self.system);
             let text = self.text_for(spec.name, product.as_deref()).to_string();
@@ -470,6 +478,7 @@ impl CalcController {
                 name: spec.name,
                 optional: spec.optional,
                 unit,
+                basis: choice.map_or(spec.basis, |c| c.basis(spec.basis)),
                 text,
                 error,
             });
@@ -785,6 +794,7 @@ mod tests {
                 name: id.to_string(),
                 form: *form,
                 strength_basis: "weight",
+                dose_as: None,
             })
             .collect()
         }

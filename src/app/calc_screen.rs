@@ -10,7 +10,7 @@
 //! The card's cautions and "show the work" lines are worded here ([`caution_lines`],
 //! [`trace_lines`]) through the [`Words`] seam; the bridge only copies them.
 
-use super::calc::{CalcController, CalcInputs, ExtraView, ResultView, Status, key};
+use super::calc::{CalcController, CalcInputs, ExtraView, FieldView, ResultView, Status, key};
 use super::dose_log::{Logging, dose_of};
 use super::log_screen::LogScreen;
 use super::numbers::Lang;
@@ -262,6 +262,67 @@ pub fn trace_lines(trace: &[TraceLine], words: &dyn Words) -> Vec<TraceText> {
             },
         })
         .collect()
+}
+
+/// Bases said in words of their own (`basis-<code>`, spaces as dashes); any other basis is a
+/// compound, said "as <compound>" (`basis-as`).
+pub const BASIS_WORDS: [&str; 9] = [
+    "trade",
+    "weight",
+    "as-al2o3",
+    "available-chlorine",
+    "purity",
+    "product",
+    "dry-solids",
+    "water",
+    "alkali",
+];
+
+/// An input row in words: its label, its unit with the basis the value is on, its text, its
+/// problem.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FieldText {
+    pub label: String,
+    pub unit: String,
+    pub text: String,
+    pub error: String,
+}
+
+/// What a value of `unit` on `basis` is, in words: "% trade", "mg/L as Cl2", "mL of product".
+/// A unit that names its basis already ("mg/L as CaCO₃") is not said twice.
+pub fn unit_with_basis(unit: Unit, basis: Option<&str>, words: &dyn Words) -> String {
+    let unit_text = words.get(&format!("unit-{}", unit.code()));
+    let basis = match basis {
+        None => return unit_text,
+        Some("CaCO3") if unit == Unit::MgPerLAsCaCO3 => return unit_text,
+        Some(b) => b,
+    };
+    let code = basis.replace(' ', "-");
+    let basis_text = if BASIS_WORDS.contains(&code.as_str()) {
+        words.get(&format!("basis-{code}"))
+    } else {
+        words.get_args(key("basis-as"), &[("compound", basis.to_string())])
+    };
+    if unit_text.is_empty() {
+        basis_text
+    } else {
+        format!("{unit_text} {basis_text}")
+    }
+}
+
+/// An input row in words.
+pub fn field_text(f: &FieldView, words: &dyn Words) -> FieldText {
+    let label = words.get(&format!("field-{}", f.name));
+    FieldText {
+        label: if f.optional {
+            format!("{label} {}", words.get(key("field-optional")))
+        } else {
+            label
+        },
+        unit: unit_with_basis(f.unit, f.basis, words),
+        text: f.text.clone(),
+        error: f.error.map(|k| words.get(k)).unwrap_or_default(),
+    }
 }
 
 /// A result listed by name on the card, in words.
@@ -556,5 +617,30 @@ mod tests {
         assert_eq!(card.extras[0].label, "Feed mass");
         assert_eq!(card.figures_note, "Shown to 3 figures.");
         assert_eq!(card.no_volume_note, "");
+    }
+
+    /// Every strength, dose and concentration says its basis beside its unit; a unit that
+    /// names its basis is not doubled. Expected texts written by hand from the dictionary.
+    #[test]
+    fn a_fields_unit_says_its_basis() {
+        const BASES: Dictionary = Dictionary(&[
+            ("unit-percent", "%"),
+            ("unit-mg-per-l", "mg/L"),
+            ("unit-mg-per-l-caco3", "mg/L as CaCO₃"),
+            ("unit-ml", "mL"),
+            ("unit-ratio", ""),
+            ("basis-trade", "trade"),
+            ("basis-product", "of product"),
+            ("basis-as", "as { $compound }"),
+        ]);
+        fn check(unit: Unit, basis: Option<&str>, expected: &str) {
+            assert_eq!(unit_with_basis(unit, basis, &BASES), expected, "{basis:?}");
+        }
+        check(Unit::Percent, Some("trade"), "% trade");
+        check(Unit::MgPerL, Some("Cl2"), "mg/L as Cl2");
+        check(Unit::MgPerLAsCaCO3, Some("CaCO3"), "mg/L as CaCO₃");
+        check(Unit::Millilitres, Some("product"), "mL of product");
+        check(Unit::MgPerL, None, "mg/L");
+        check(Unit::Ratio, None, "");
     }
 }

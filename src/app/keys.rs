@@ -359,6 +359,12 @@ pub fn dynamic_keys() -> Vec<String> {
     );
     keys.extend(ENGINE_TEXT_KEYS.iter().map(|k| k.to_string()));
     keys.extend(extra_keys().iter().map(|k| format!("result-{k}")));
+    // Every field's unit says its basis.
+    keys.extend(
+        super::calc_screen::BASIS_WORDS
+            .iter()
+            .map(|b| format!("basis-{b}")),
+    );
     // The dose place is captioned by the id of the result in it (a cross-check's actual dose).
     keys.extend(
         super::engine_adapter::DOSE

@@ -113,6 +113,8 @@ pub struct ProductChoice {
     pub form: FeedForm,
     /// The basis its strength is typed on (`trade`, `weight`, `as-al2o3`, `purity` ...).
     pub strength_basis: &'static str,
+    /// The compound its dose is expressed as (`Cl2`, `N`, `NaOH` ...), where the table names it.
+    pub dose_as: Option<&'static str>,
 }
 
 impl ProductChoice {
@@ -127,6 +129,17 @@ impl ProductChoice {
                 .first()
                 .map_or(StrengthBasis::Weight, |s| s.basis)
                 .code(),
+            dose_as: DOSE_COMPOUNDS.iter().copied().find(|c| *c == p.dose_as),
+        }
+    }
+
+    /// A table basis as it stands for this product: [`DOSE_AS`] becomes its dose compound and
+    /// [`STRENGTH_BASIS`] its strength basis; any other basis is itself.
+    pub fn basis(&self, basis: Option<&'static str>) -> Option<&'static str> {
+        match basis {
+            Some(DOSE_AS) => self.dose_as.or(basis),
+            Some(STRENGTH_BASIS) => Some(self.strength_basis),
+            other => other,
         }
     }
 }
@@ -208,14 +221,9 @@ const DOSE_COMPOUNDS: [&str; 20] = [
 
 /// `basis` with the product's own filled in for [`DOSE_AS`] and [`STRENGTH_BASIS`].
 fn resolve_basis(basis: Option<&'static str>, product: Option<&Product>) -> Option<&'static str> {
-    match (basis, product) {
-        (Some(DOSE_AS), Some(p)) => DOSE_COMPOUNDS
-            .iter()
-            .copied()
-            .find(|c| *c == p.dose_as)
-            .or(basis),
-        (Some(STRENGTH_BASIS), Some(p)) => p.strengths.first().map(|s| s.basis.code()).or(basis),
-        _ => basis,
+    match product {
+        Some(p) => ProductChoice::of(p).basis(basis),
+        None => basis,
     }
 }
 
