@@ -237,7 +237,7 @@ fn every_screen_renders_with_text_at_three_sizes() {
     app.global::<CalcAdapter>().set_show_work(false);
     // The whole Settings screen (site profile editor) in a tall window, for review at phone
     // and tablet width: the normal window shows only its top.
-    for (name, w, h) in [("phone", 400, 4800), ("tablet", 1280, 3600)] {
+    for (name, w, h) in [("phone", 400, 7000), ("tablet", 1280, 5400)] {
         app.global::<Nav>().invoke_go(4);
         let pixels = render(&window, w, h);
         save_png(

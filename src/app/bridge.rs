@@ -14,10 +14,13 @@ use super::i18n::Texts;
 use super::log_screen::Chip;
 use super::numbers::Lang;
 use super::seams::{CalcEngine, CalcKind, connected_engine};
-use super::site_editor::{ProductFields, SiteLine};
+use super::site_editor::{
+    PrecisionForm, ProductFields, SiteLine, instrument_choices, precision_lines,
+};
 use super::sites::{self, LimitForm, ProductForm, PumpForm};
 use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen, utc_today};
 use super::ui::*;
+use crate::engine::precision::Instrument;
 use crate::engine::quantity::{Unit, UnitSystem};
 use slint::{ComponentHandle, Model, ModelRc, SharedString, VecModel};
 use std::cell::RefCell;
@@ -446,6 +449,23 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         i.refresh_all();
     }));
     settings.on_edit_limit(on(|i, n| i.load_limit(n.max(0) as usize)));
+    settings.on_pick_instrument(on(|i, n| i.load_precision(n.max(0) as usize)));
+    settings.on_save_precision(on_unit(|i| {
+        let w = i.window();
+        let a = w.global::<SettingsAdapter>();
+        let index = a.get_instrument_index().max(0) as usize;
+        let Some(&instrument) = Instrument::ALL.get(index) else {
+            return;
+        };
+        let form = PrecisionForm {
+            absolute: a.get_precision_absolute().to_string(),
+            relative: a.get_precision_relative().to_string(),
+        };
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.save_precision(s, instrument, &form));
+        i.refresh_all();
+    }));
     settings.on_remove_limit(on(|i, n| {
         i.state
             .borrow_mut()
@@ -622,6 +642,24 @@ impl Inner {
         a.set_limit_source(s(&l.source));
     }
 
+    /// Fills the precision form with the site's own figures for instrument `index` (empty:
+    /// the default applies) and names the unit its ± is typed in.
+    fn load_precision(&self, index: usize) {
+        let Some(&instrument) = Instrument::ALL.get(index) else {
+            return;
+        };
+        let st = self.state.borrow();
+        let form = st.sites.precision_form(&st.session, instrument);
+        let unit = instrument.quantity().unit(st.session.units());
+        drop(st);
+        let w = self.window();
+        let a = w.global::<SettingsAdapter>();
+        a.set_instrument_index(index as i32);
+        a.set_precision_unit(s(self.unit(unit)));
+        a.set_precision_absolute(s(form.absolute));
+        a.set_precision_relative(s(form.relative));
+    }
+
     /// The Settings screen's profile editor: lists, choices and the last edit's outcome.
     fn refresh_site_editor(&self) {
         let w = self.window();
@@ -644,6 +682,13 @@ impl Inner {
         a.set_pumps(rows(view.pumps));
         a.set_delivered(texts(view.delivered));
         a.set_limits(rows(view.limits));
+        a.set_precisions(rows(precision_lines(&st.session, &*self.texts.borrow())));
+        a.set_instruments(texts(instrument_choices(&*self.texts.borrow())));
+        let instrument = Instrument::ALL
+            .get(a.get_instrument_index().max(0) as usize)
+            .copied()
+            .unwrap_or(Instrument::FlowMeter);
+        a.set_precision_unit(s(self.unit(instrument.quantity().unit(st.session.units()))));
         a.set_default_limits(rows(view.default_limits));
         a.set_catalog_products(texts(view.catalog_products));
         a.set_bases(texts(view.bases));

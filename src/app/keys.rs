@@ -359,6 +359,12 @@ pub fn dynamic_keys() -> Vec<String> {
     );
     keys.extend(ENGINE_TEXT_KEYS.iter().map(|k| k.to_string()));
     keys.extend(extra_keys().iter().map(|k| format!("result-{k}")));
+    // The Settings screen names each instrument whose precision a plant may state.
+    keys.extend(
+        crate::engine::precision::Instrument::ALL
+            .iter()
+            .map(|i| format!("instrument-{}", i.code())),
+    );
     // Every field's unit says its basis.
     keys.extend(
         super::calc_screen::BASIS_WORDS

@@ -15,6 +15,7 @@ use super::words::Words;
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::feed::PumpKind;
 use crate::engine::dosing::site::{Limit, SiteProfile};
+use crate::engine::precision::{Instrument, Precision, tolerance_from_si, tolerance_to_si};
 
 /// The Settings editor's last outcome.
 #[derive(Clone, Debug, Default)]
@@ -24,7 +25,8 @@ pub struct SiteEditor {
     /// The last edit went through and was saved.
     pub saved: bool,
     /// Which part of the editor the outcome belongs to (0 site, 1 taps, 2 products, 3 pumps,
-    /// 4 limits), so the message appears next to the button that was pressed.
+    /// 4 limits, 5 instrument precision), so the message appears next to the button that was
+    /// pressed.
     pub section: u8,
 }
 
@@ -183,11 +185,123 @@ impl SiteEditor {
         }
     }
 
+    /// Sets the site's own precision of `instrument` from the form: a ± in the instrument's
+    /// unit (site units) and a ± in percent of the reading, either left empty for none; both
+    /// empty returns the instrument to its default. Numbers are typed in the app's language.
+    pub fn save_precision(
+        &mut self,
+        session: &mut Session,
+        instrument: Instrument,
+        form: &PrecisionForm,
+    ) -> bool {
+        let lang = session.lang();
+        let unit = instrument.quantity().unit(session.units());
+        let read = |text: &str| -> Result<f64, SiteProblem> {
+            if text.trim().is_empty() {
+                return Ok(0.0);
+            }
+            super::numbers::parse(text, lang)
+                .ok()
+                .filter(|v| v.is_finite() && *v >= 0.0)
+                .ok_or_else(|| SiteProblem::Note(Note::new(key("site-precision-invalid"))))
+        };
+        let outcome = read(&form.absolute).and_then(|absolute| {
+            let relative_percent = read(&form.relative)?;
+            let site = session.site_mut();
+            if absolute == 0.0 && relative_percent == 0.0 {
+                site.instrument_precision.remove(instrument.code());
+            } else {
+                site.instrument_precision.insert(
+                    instrument.code().to_string(),
+                    Precision {
+                        absolute: tolerance_to_si(unit, 0.0, absolute),
+                        relative_percent,
+                    },
+                );
+            }
+            Ok(())
+        });
+        self.edited(session, 5, outcome)
+    }
+
+    /// The form for `instrument` as the site has it (empty fields: the default applies).
+    pub fn precision_form(&self, session: &Session, instrument: Instrument) -> PrecisionForm {
+        let lang = session.lang();
+        let unit = instrument.quantity().unit(session.units());
+        let text = |v: f64| {
+            if v == 0.0 {
+                String::new()
+            } else {
+                sites::show(v, lang)
+            }
+        };
+        match session.site().instrument_precision.get(instrument.code()) {
+            Some(p) => PrecisionForm {
+                absolute: text(tolerance_from_si(unit, p.absolute)),
+                relative: text(p.relative_percent),
+            },
+            None => PrecisionForm::default(),
+        }
+    }
+
     /// The limits that apply at this site: the plant's permit entries, then the labelled
     /// regulatory defaults it does not override.
     pub fn site_limits(&self, session: &Session) -> Vec<Limit> {
         sites::effective_limits(session.site())
     }
+}
+
+/// The instrument-precision form's texts: a ± in the instrument's unit, a ± in percent.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct PrecisionForm {
+    pub absolute: String,
+    pub relative: String,
+}
+
+/// Each instrument's precision in words: its name, then "± 0.05 pH" or "± 2 % of the
+/// reading" (either, or "the larger of" both), and whether it is the site's or the default.
+pub fn precision_lines(session: &Session, words: &dyn Words) -> Vec<SiteLine> {
+    let lang = session.lang();
+    let site = session.site();
+    Instrument::ALL
+        .iter()
+        .map(|&i| {
+            let unit = i.quantity().unit(session.units());
+            let own = site.instrument_precision.get(i.code()).copied();
+            let p = own.unwrap_or_else(|| i.default_precision());
+            let absolute = tolerance_from_si(unit, p.absolute);
+            let unit_text = words.get(&format!("unit-{}", unit.code()));
+            let abs = format!("± {} {unit_text}", sites::show(absolute, lang));
+            let rel = format!("± {} %", sites::show(p.relative_percent, lang));
+            let amount = match (absolute > 0.0, p.relative_percent > 0.0) {
+                (true, true) => words.get_args(
+                    key("precision-larger-of"),
+                    &[("absolute", abs), ("relative", rel)],
+                ),
+                (false, true) => words.get_args(key("precision-of-reading"), &[("relative", rel)]),
+                _ => abs.trim_end().to_string(),
+            };
+            SiteLine {
+                title: words.get(&format!("instrument-{}", i.code())),
+                detail: words.get_args(
+                    if own.is_some() {
+                        key("precision-this-site")
+                    } else {
+                        key("precision-default")
+                    },
+                    &[("amount", amount)],
+                ),
+            }
+        })
+        .collect()
+}
+
+/// The instruments' names, in the form's order ([`Instrument::ALL`]).
+pub fn instrument_choices(words: &dyn Words) -> Vec<String> {
+    Instrument::ALL
+        .iter()
+        .map(|i| words.get(&format!("instrument-{}", i.code())))
+        .collect()
 }
 
 /// One row of the editor's lists: a title and a detail line.
@@ -848,5 +962,56 @@ mod tests {
         assert!(s.editor.save_limit(&mut s.session, &limit));
         assert_eq!(s.session.site(), &before, "saved back unchanged");
         assert_eq!(s.editor.product_fields(&s.session, 99), None);
+    }
+
+    /// A site's own precision is saved in SI from the site's units and read back in them; empty
+    /// fields return the instrument to its default; a negative or unreadable number is refused.
+    /// Expected values by hand: 0.1 MGD is 378.5411784 m³/d (1 US gal = 3.785411784 L, exact);
+    /// 1.8 °F apart is 1 °C apart.
+    #[test]
+    fn an_instruments_precision_is_kept_in_si_and_shown_in_the_sites_units() {
+        let mut s = fixture(None);
+        s.session.set_units(UnitSystem::Us);
+        let form = |absolute: &str, relative: &str| PrecisionForm {
+            absolute: absolute.into(),
+            relative: relative.into(),
+        };
+        assert!(s.editor.save_precision(
+            &mut s.session,
+            Instrument::FlowMeter,
+            &form("0.1", "1.5")
+        ));
+        let saved = s.session.site().precisions()[&Instrument::FlowMeter];
+        assert!((saved.absolute - 378.541_178_4).abs() < 1e-6, "{saved:?}");
+        assert_eq!(saved.relative_percent, 1.5);
+        assert_eq!(
+            s.editor.precision_form(&s.session, Instrument::FlowMeter),
+            form("0.1", "1.5")
+        );
+        assert!(
+            s.editor
+                .save_precision(&mut s.session, Instrument::Thermometer, &form("1.8", ""))
+        );
+        let t = s.session.site().precisions()[&Instrument::Thermometer];
+        assert!((t.absolute - 1.0).abs() < 1e-12, "{t:?}");
+        assert!(
+            !s.editor
+                .save_precision(&mut s.session, Instrument::PhMeter, &form("-0.1", ""))
+        );
+        assert_eq!(problem_key(&s), Some("site-precision-invalid".into()));
+        assert!(
+            s.editor
+                .save_precision(&mut s.session, Instrument::FlowMeter, &form("", ""))
+        );
+        assert!(
+            !s.session
+                .site()
+                .precisions()
+                .contains_key(&Instrument::FlowMeter)
+        );
+        assert_eq!(
+            s.editor.precision_form(&s.session, Instrument::FlowMeter),
+            PrecisionForm::default()
+        );
     }
 }

@@ -103,6 +103,21 @@ impl Instrument {
         }
     }
 
+    /// The quantity the instrument reads (its precision's absolute part is in this
+    /// quantity's SI unit).
+    pub fn quantity(self) -> Quantity {
+        match self {
+            Instrument::FlowMeter => Quantity::Flow,
+            Instrument::PhMeter => Quantity::Ph,
+            Instrument::Thermometer => Quantity::Temperature,
+            Instrument::Titration => Quantity::AsCaCO3,
+            Instrument::Colorimeter => Quantity::Concentration,
+            Instrument::Stopwatch => Quantity::Seconds,
+            Instrument::GraduatedColumn => Quantity::Millilitres,
+            Instrument::Scale => Quantity::Grams,
+        }
+    }
+
     /// The instrument a reading of `quantity` taken in the water is usually read with.
     pub const fn for_water(quantity: Quantity) -> Option<Instrument> {
         match quantity {
@@ -184,6 +199,11 @@ pub fn split_tolerance(text: &str) -> (&str, Option<&str>) {
         }
     }
     (text.trim(), None)
+}
+
+/// An SI difference `si` shown as a difference in `unit` (1 °C apart is 1.8 °F apart).
+pub fn tolerance_from_si(unit: super::quantity::Unit, si: f64) -> f64 {
+    (unit.from_si(si) - unit.from_si(0.0)).abs()
 }
 
 /// A typed ± of `tolerance` on a reading `value`, both in `unit`, as an SI difference. A
