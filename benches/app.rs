@@ -2,8 +2,8 @@
 //! the range beside each number). One iteration types a new reading into a calculator through
 //! Slint's testing backend, exactly as a key press arrives: the text changes, the controller
 //! parses it, the real dosing engine recomputes (again for each reading moved by its
-//! precision), and the result card's models are updated. Two calculators: the plain feed, and
-//! softening, the dearest (an equilibrium solve per run).
+//! precision), and the result card's models are updated. Three calculators: the plain feed,
+//! softening and pH adjustment, the dearest (an equilibrium solve per run).
 //! Rendering is not included (the software renderer draws on the next frame, in its own time).
 use criterion::{Criterion, criterion_group, criterion_main};
 use i_slint_backend_testing::ElementHandle;
@@ -85,6 +85,22 @@ fn keystroke(c: &mut Criterion) {
             ("field-soda-ash-purity", "98"),
         ],
         ("field-ph", &["7.45", "7.46", "7.451", "7.4"]),
+    );
+    keystroke_on(
+        c,
+        &app,
+        "keystroke: type target pH, recompute pH adjustment with ranges, update result card",
+        &["calc-ph-adjustment", "product-sodium-hydroxide"],
+        &[
+            ("field-flow", "2.40"),
+            ("field-ph-raw", "6.90"),
+            ("field-alkalinity", "60"),
+            ("field-temperature", "57"),
+            ("field-strength", "50"),
+            ("field-specific-gravity", "1.52"),
+            ("field-pump-capacity", "5"),
+        ],
+        ("field-ph-target", &["7.8", "7.81", "7.805", "7.9"]),
     );
 }
 
