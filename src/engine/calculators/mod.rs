@@ -183,7 +183,7 @@ pub const PRODUCT: &str = "product";
 
 /// The compounds the catalog's products are dosed as, so that a resolved basis is a
 /// `&'static str` like every other (a test holds this list to the catalog).
-const DOSE_COMPOUNDS: [&str; 20] = [
+const DOSE_COMPOUNDS: [&str; 21] = [
     "Cl2",
     "N",
     "Al",
@@ -204,6 +204,7 @@ const DOSE_COMPOUNDS: [&str; 20] = [
     "Na2SO3",
     "Na2S2O3",
     "C6H8O6",
+    "Mg(OH)2",
 ];
 
 /// `basis` with the product's own filled in for [`DOSE_AS`] and [`STRENGTH_BASIS`].
