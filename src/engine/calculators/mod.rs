@@ -858,6 +858,8 @@ fn limit_cautions(inputs: &[Input], request: &Request) -> Vec<Caution> {
 }
 
 #[cfg(test)]
+mod plant_feeds_tests;
+#[cfg(test)]
 mod reference_tests;
 #[cfg(test)]
 mod tests;

@@ -602,10 +602,7 @@ pub static TABLE: [Calculator; 16] = [
         inputs: &[
             optional(FLOW),
             optional(based(own("dose", Q::Concentration), "active polymer")),
-            optional(based(
-                own("dry-solids-rate", Q::MassPerDay),
-                DRY_SOLIDS,
-            )),
+            optional(based(own("dry-solids-rate", Q::MassPerDay), DRY_SOLIDS)),
             optional(based(own("solids-dose", Q::SolidsDose), "active polymer")),
             based(product("active-percent", Q::Percent), "active"),
             product("neat-specific-gravity", Q::SpecificGravity),

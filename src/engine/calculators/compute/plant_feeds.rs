@@ -26,7 +26,7 @@ use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 /// memory): the 1:1 of the phosphate precipitate is never enough, because the metal's own
 /// hydroxide competes for it.
 pub(crate) const METAL_RATIO_PRACTICE: (f64, f64) = (1.5, 2.5);
-const METAL_RATIO_SOURCE: &str = "common practice; Metcalf & Eddy, Wastewater Engineering, 5th ed. (2014), ch. 6 (from memory)";
+const METAL_RATIO_SOURCE: &str = "common practice; US EPA phosphorus removal design manual and Metcalf & Eddy, Wastewater Engineering, 5th ed. (2014), ch. 6 (from memory)";
 
 /// Common targets for disinfecting a new main (common practice, from memory of the AWWA
 /// C651/C652 procedures: 25 mg/L continuous feed held 24 h, 50 mg/L for a shorter hold or a
@@ -180,7 +180,8 @@ pub(crate) fn nitrification_alkalinity(c: &Calculators, request: &Request) -> Re
         non_negative("nitrate-N", n.value, "mg/L")?;
     }
     let per_n_nitrified = alkalinity_per_mg_n(&c.catalog, "nitrification", "NH4+", "H+")?;
-    let per_n_denitrified = alkalinity_per_mg_n(&c.catalog, "denitrification-methanol", "NO3-", "OH-")?;
+    let per_n_denitrified =
+        alkalinity_per_mg_n(&c.catalog, "denitrification-methanol", "NO3-", "OH-")?;
     let consumed = nh3.value * per_n_nitrified.value();
     let credit = nitrate.map_or(0.0, |n| n.value * per_n_denitrified.value());
     let needed = (consumed - credit + residual.value - influent.value).max(0.0);
@@ -297,7 +298,11 @@ pub(crate) fn phosphorus_removal(c: &Calculators, request: &Request) -> Result<O
         s_dose,
     )?;
     // Alkalinity: the metal ion's charge in meq per mmol, as CaCO3.
-    let charge = f64::from(Formula::parse(&format!("{metal}+3"))?.charge().unsigned_abs());
+    let charge = f64::from(
+        Formula::parse(&format!("{metal}+3"))?
+            .charge()
+            .unsigned_abs(),
+    );
     let (per_meq, _) = caco3_per_meq()?;
     let alkalinity = metal_mmol * charge * per_meq;
     // Solids: MPO4 for each P, M(OH)3 for the metal beyond it.
@@ -361,7 +366,11 @@ fn disinfected_volume(request: &Request) -> Result<Trace> {
         check_positive("pipe diameter", d.value, "mm")?;
         check_positive("pipe length", l.value, "m")?;
         let r_m = d.value / 2000.0;
-        let mut t = Trace::new(Quantity::of(l.value, "m", what), Origin::Measured, l.sig_figs);
+        let mut t = Trace::new(
+            Quantity::of(l.value, "m", what),
+            Origin::Measured,
+            l.sig_figs,
+        );
         // Cross-section π r², r = d/2 in m (1000 mm = 1 m by definition).
         t.then(
             Quantity::of(std::f64::consts::PI * r_m * r_m, "m³", what),
@@ -483,7 +492,8 @@ pub(crate) fn polymer(_c: &Calculators, request: &Request) -> Result<Outcome> {
     }
     let mut t = match request.mode {
         Some("dewatering") => {
-            let solids = maybe(request, "dry-solids-rate").ok_or_else(|| missing("dry-solids-rate"))?;
+            let solids =
+                maybe(request, "dry-solids-rate").ok_or_else(|| missing("dry-solids-rate"))?;
             let dose = maybe(request, "solids-dose").ok_or_else(|| missing("solids-dose"))?;
             check_positive("dry solids rate", solids.value, "kg/d")?;
             check_positive("dose", dose.value, "kg/t")?;
