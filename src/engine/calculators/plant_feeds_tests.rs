@@ -72,6 +72,9 @@ fn reason(e: &Error) -> Option<&str> {
     e.reason()
 }
 
+/// Named SI values of a case.
+type Values = Vec<(&'static str, f64)>;
+
 // ---- nitrification alkalinity ----
 
 /// NH4+ + 2 O2 → NO3− + 2 H+ + H2O (balanced by hand: N 1=1, H 4=2+2, O 4=3+1, charge +1 =
@@ -136,7 +139,7 @@ fn each_alkali_doses_the_alkalinity_needed_by_its_equivalents() {
         ]
     };
     let dry = |p: f64| vec![("purity", p), ("dry-feeder-capacity", 2000.0)];
-    let cases: [(&str, Vec<(&'static str, f64)>, f64); 5] = [
+    let cases: [(&str, Values, f64); 5] = [
         ("sodium-hydroxide", liquid(50.0, 1.52), naoh),
         ("hydrated-lime", dry(100.0), lime),
         ("soda-ash", dry(100.0), soda),
