@@ -660,6 +660,7 @@ unit-kg-per-t = kg/t
 unit-lb-per-ton = lb/ton
 unit-g-per-l = g/L
 unit-percent-w-v = % w/v
+unit-m3 = m³
 product-magnesium-hydroxide = Magnesium hydroxide slurry
 trace-alkalinity-per-n-nitrified = Alkalinity destroyed per mg/L of nitrogen nitrified
 trace-alkalinity-per-n-denitrified = Alkalinity returned per mg/L of nitrate-N denitrified

@@ -660,6 +660,7 @@ unit-kg-per-t = kg/t
 unit-lb-per-ton = lb/ton
 unit-g-per-l = g/L
 unit-percent-w-v = % p/v
+unit-m3 = m³
 product-magnesium-hydroxide = Suspensión de hidróxido de magnesio
 trace-alkalinity-per-n-nitrified = Alcalinidad destruida por mg/L de nitrógeno nitrificado
 trace-alkalinity-per-n-denitrified = Alcalinidad devuelta por mg/L de N-nitrato desnitrificado

@@ -95,6 +95,7 @@ pub enum Unit {
     LbPerTon,
     GPerL,
     PercentWv,
+    CubicMetres,
 }
 
 /// m³ in one US gallon (exact by definition: 231 in³).
@@ -112,7 +113,7 @@ const KG_PER_T_PER_LB_PER_TON: f64 = 0.5;
 const G_PER_L_PER_PERCENT_WV: f64 = 10.0;
 
 impl Unit {
-    pub const ALL: [Unit; 31] = [
+    pub const ALL: [Unit; 32] = [
         Unit::CubicMetresPerDay,
         Unit::Mgd,
         Unit::MgPerL,
@@ -144,6 +145,7 @@ impl Unit {
         Unit::LbPerTon,
         Unit::GPerL,
         Unit::PercentWv,
+        Unit::CubicMetres,
     ];
 
     pub fn code(self) -> &'static str {
@@ -179,6 +181,7 @@ impl Unit {
             Unit::LbPerTon => "lb-per-ton",
             Unit::GPerL => "g-per-l",
             Unit::PercentWv => "percent-w-v",
+            Unit::CubicMetres => "m3",
         }
     }
 
@@ -222,6 +225,7 @@ impl Unit {
             Unit::LbPerTon => "lb/ton",
             Unit::GPerL => "g/L",
             Unit::PercentWv => "% w/v",
+            Unit::CubicMetres => "m³",
         }
     }
 
@@ -238,6 +242,7 @@ impl Unit {
             Unit::Pounds => v * KG_PER_POUND,
             Unit::LbPerTon => v * KG_PER_T_PER_LB_PER_TON,
             Unit::PercentWv => v * G_PER_L_PER_PERCENT_WV,
+            Unit::CubicMetres => v * 1000.0,
             _ => v,
         }
     }
@@ -255,6 +260,7 @@ impl Unit {
             Unit::Pounds => v / KG_PER_POUND,
             Unit::LbPerTon => v / KG_PER_T_PER_LB_PER_TON,
             Unit::PercentWv => v / G_PER_L_PER_PERCENT_WV,
+            Unit::CubicMetres => v / 1000.0,
             _ => v,
         }
     }
@@ -331,7 +337,13 @@ impl Quantity {
     pub fn units(self) -> Vec<Unit> {
         let si = self.unit(UnitSystem::Si);
         let us = self.unit(UnitSystem::Us);
-        if si == us { vec![si] } else { vec![si, us] }
+        let mut v = if si == us { vec![si] } else { vec![si, us] };
+        // A tank or basin is as often given in m³ as in L (1 m³ = 1000 L, exact); the
+        // screens keep one unit per system, a script may type either.
+        if self == Quantity::Volume {
+            v.push(Unit::CubicMetres);
+        }
+        v
     }
 
     /// The SI unit the calculators take and give this quantity in.
@@ -412,6 +424,11 @@ mod tests {
         assert!((Unit::Pounds.to_si(1.0) - 0.45359237).abs() < 1e-15);
         // A pound per short ton (2000 lb) is 1/2000 by mass: 0.5 kg per 1000 kg.
         assert!((Unit::LbPerTon.to_si(10.0) - 5.0).abs() < 1e-12);
+        assert!((Unit::CubicMetres.to_si(0.75) - 750.0).abs() < 1e-12);
+        assert_eq!(
+            Quantity::Volume.units(),
+            [Unit::Litres, Unit::Gallons, Unit::CubicMetres]
+        );
         // 1 % w/v is 1 g per 100 mL, 10 g/L.
         assert!((Unit::PercentWv.to_si(0.5) - 5.0).abs() < 1e-12);
     }
