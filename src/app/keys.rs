@@ -134,6 +134,12 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "ct-regression-not-table",
     "ct-outside-table-range",
     "ct-below-3log",
+    // Wastewater, distribution and bench calculators.
+    "alkalinity-already-enough",
+    "metal-ratio-practice",
+    "metal-ratio-outside-practice",
+    "dechlorinate-before-discharge",
+    "disinfection-target-practice",
 ];
 
 /// Further results listed under the card's big numbers (`result-<id>` with dashes): every
@@ -189,6 +195,18 @@ pub const TRACE_LABELS: &[&str] = &[
     "target-strength",
     "batch-mass",
     "concentrate-mass",
+    // Wastewater, distribution and bench calculators.
+    "alkalinity-per-n-nitrified",
+    "alkalinity-per-n-denitrified",
+    "alkali-per-alkalinity",
+    "metal-for-phosphorus",
+    "coagulant-for-phosphorus",
+    "chlorine-for-volume",
+    "product-per-chlorine",
+    "polymer-solution",
+    "polymer-neat",
+    "jar-dose",
+    "product-per-compound",
 ];
 
 /// Where a step's factor comes from (`origin-<code>`), as the adapter names them.
@@ -238,6 +256,7 @@ pub const ERROR_REASONS: &[&str] = &[
     "factor-not-usable",
     "implausible-magnitude",
     "percent-looks-like-fraction",
+    "solution-stronger-than-product",
     "sg-does-not-match-strength",
     "alkalinity-below-end-point",
     "water-co2-beyond-solubility",
@@ -306,6 +325,16 @@ pub const QUANTITY_NAMES: &[&str] = &[
     "usable range maximum",
     "usable range minimum",
     "volume per revolution",
+    "nitrate-N",
+    "phosphorus",
+    "metal ratio",
+    "pipe diameter",
+    "pipe length",
+    "tank volume",
+    "solution strength",
+    "dry solids rate",
+    "stock concentration",
+    "jar volume",
 ];
 
 /// `quantity-<slug>`: the engine's name lower-cased, every run of other characters one `-`

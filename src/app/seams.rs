@@ -316,7 +316,11 @@ mod tests {
                 "coagulation",
                 "softening",
                 "pump-check",
-                "feed"
+                "feed",
+                "wastewater",
+                "main-disinfection",
+                "polymer",
+                "jar-test"
             ]
         );
         let mut modes: Vec<_> = CalcMode::all().iter().map(|m| m.code()).collect();

@@ -48,6 +48,16 @@ pub enum Quantity {
     Volume,
     /// Concentration × time, the disinfection credit. mg·min/L in both systems.
     ConcentrationTime,
+    /// A length along a pipe or a depth of water in a well. SI: m. US: ft.
+    Length,
+    /// A pipe's or a well casing's inside diameter. SI: mm. US: in.
+    Diameter,
+    /// A batch mass (chlorine for a main, product to add). SI: kg. US: lb.
+    Mass,
+    /// A dose on dry solids (polymer for dewatering). SI: kg/t. US: lb/ton (short ton).
+    SolidsDose,
+    /// A stock solution's strength, mass per volume. SI: g/L. US: % w/v (1 % = 10 g/L).
+    StockStrength,
 }
 
 /// The unit a value is shown in; `code()` is the translation-key stem (`unit-<code>`) and the
@@ -75,15 +85,35 @@ pub enum Unit {
     Litres,
     Gallons,
     MgMinPerL,
+    Metres,
+    Feet,
+    Millimetres,
+    Inches,
+    Kilograms,
+    Pounds,
+    KgPerTonne,
+    LbPerTon,
+    GPerL,
+    PercentWv,
+    CubicMetres,
 }
 
 /// m³ in one US gallon (exact by definition: 231 in³).
 const M3_PER_GALLON: f64 = 3.785_411_784e-3;
 /// kg in one avoirdupois pound (exact by definition).
 const KG_PER_POUND: f64 = 0.453_592_37;
+/// m in one international foot (exact by definition, 1959).
+const M_PER_FOOT: f64 = 0.3048;
+/// mm in one international inch (exact by definition, 1959).
+const MM_PER_INCH: f64 = 25.4;
+/// kg/t in one lb/ton: a pound per short ton of 2000 lb is 1/2000 by mass, 0.5 kg per
+/// 1000 kg (exact: both are avoirdupois pounds).
+const KG_PER_T_PER_LB_PER_TON: f64 = 0.5;
+/// g/L in one % w/v: 1 g per 100 mL (exact by definition of % w/v).
+const G_PER_L_PER_PERCENT_WV: f64 = 10.0;
 
 impl Unit {
-    pub const ALL: [Unit; 21] = [
+    pub const ALL: [Unit; 32] = [
         Unit::CubicMetresPerDay,
         Unit::Mgd,
         Unit::MgPerL,
@@ -105,6 +135,17 @@ impl Unit {
         Unit::Litres,
         Unit::Gallons,
         Unit::MgMinPerL,
+        Unit::Metres,
+        Unit::Feet,
+        Unit::Millimetres,
+        Unit::Inches,
+        Unit::Kilograms,
+        Unit::Pounds,
+        Unit::KgPerTonne,
+        Unit::LbPerTon,
+        Unit::GPerL,
+        Unit::PercentWv,
+        Unit::CubicMetres,
     ];
 
     pub fn code(self) -> &'static str {
@@ -130,6 +171,17 @@ impl Unit {
             Unit::Litres => "l",
             Unit::Gallons => "gal",
             Unit::MgMinPerL => "mg-min-per-l",
+            Unit::Metres => "m",
+            Unit::Feet => "ft",
+            Unit::Millimetres => "mm",
+            Unit::Inches => "in",
+            Unit::Kilograms => "kg",
+            Unit::Pounds => "lb",
+            Unit::KgPerTonne => "kg-per-t",
+            Unit::LbPerTon => "lb-per-ton",
+            Unit::GPerL => "g-per-l",
+            Unit::PercentWv => "percent-w-v",
+            Unit::CubicMetres => "m3",
         }
     }
 
@@ -163,6 +215,17 @@ impl Unit {
             Unit::Litres => "L",
             Unit::Gallons => "gal",
             Unit::MgMinPerL => "mg·min/L",
+            Unit::Metres => "m",
+            Unit::Feet => "ft",
+            Unit::Millimetres => "mm",
+            Unit::Inches => "in",
+            Unit::Kilograms => "kg",
+            Unit::Pounds => "lb",
+            Unit::KgPerTonne => "kg/t",
+            Unit::LbPerTon => "lb/ton",
+            Unit::GPerL => "g/L",
+            Unit::PercentWv => "% w/v",
+            Unit::CubicMetres => "m³",
         }
     }
 
@@ -174,6 +237,12 @@ impl Unit {
             Unit::LbPerDay => v * KG_PER_POUND,
             Unit::GallonsPerHour => v * M3_PER_GALLON * 1000.0,
             Unit::Gallons => v * M3_PER_GALLON * 1000.0,
+            Unit::Feet => v * M_PER_FOOT,
+            Unit::Inches => v * MM_PER_INCH,
+            Unit::Pounds => v * KG_PER_POUND,
+            Unit::LbPerTon => v * KG_PER_T_PER_LB_PER_TON,
+            Unit::PercentWv => v * G_PER_L_PER_PERCENT_WV,
+            Unit::CubicMetres => v * 1000.0,
             _ => v,
         }
     }
@@ -186,6 +255,12 @@ impl Unit {
             Unit::LbPerDay => v / KG_PER_POUND,
             Unit::GallonsPerHour => v / (M3_PER_GALLON * 1000.0),
             Unit::Gallons => v / (M3_PER_GALLON * 1000.0),
+            Unit::Feet => v / M_PER_FOOT,
+            Unit::Inches => v / MM_PER_INCH,
+            Unit::Pounds => v / KG_PER_POUND,
+            Unit::LbPerTon => v / KG_PER_T_PER_LB_PER_TON,
+            Unit::PercentWv => v / G_PER_L_PER_PERCENT_WV,
+            Unit::CubicMetres => v / 1000.0,
             _ => v,
         }
     }
@@ -244,6 +319,16 @@ impl Quantity {
             // A basin of 10⁹ m³ is a lake.
             Quantity::Volume => m(1e-6, 1e12),
             Quantity::ConcentrationTime => m(1e-6, 1e7),
+            // 1 mm to 10 000 km of main; a well deeper than 10 km is no water well.
+            Quantity::Length => m(1e-3, 1e7),
+            // 0.1 mm (tubing) to 100 m (no pipe is wider than a tunnel).
+            Quantity::Diameter => m(0.1, 1e5),
+            // 1 mg to 10⁹ kg.
+            Quantity::Mass => m(1e-6, 1e9),
+            // 1 mg/t to 1 t/t (a dose equal to the solids themselves).
+            Quantity::SolidsDose => m(1e-6, 1e3),
+            // 1 µg/L to 2000 g/L (no solution is denser than about 2 kg/L of solute).
+            Quantity::StockStrength => m(1e-6, 2e3),
         }
     }
 
@@ -252,7 +337,13 @@ impl Quantity {
     pub fn units(self) -> Vec<Unit> {
         let si = self.unit(UnitSystem::Si);
         let us = self.unit(UnitSystem::Us);
-        if si == us { vec![si] } else { vec![si, us] }
+        let mut v = if si == us { vec![si] } else { vec![si, us] };
+        // A tank or basin is as often given in m³ as in L (1 m³ = 1000 L, exact); the
+        // screens keep one unit per system, a script may type either.
+        if self == Quantity::Volume {
+            v.push(Unit::CubicMetres);
+        }
+        v
     }
 
     /// The SI unit the calculators take and give this quantity in.
@@ -286,6 +377,16 @@ impl Quantity {
             (Quantity::Volume, Si) => Unit::Litres,
             (Quantity::Volume, Us) => Unit::Gallons,
             (Quantity::ConcentrationTime, _) => Unit::MgMinPerL,
+            (Quantity::Length, Si) => Unit::Metres,
+            (Quantity::Length, Us) => Unit::Feet,
+            (Quantity::Diameter, Si) => Unit::Millimetres,
+            (Quantity::Diameter, Us) => Unit::Inches,
+            (Quantity::Mass, Si) => Unit::Kilograms,
+            (Quantity::Mass, Us) => Unit::Pounds,
+            (Quantity::SolidsDose, Si) => Unit::KgPerTonne,
+            (Quantity::SolidsDose, Us) => Unit::LbPerTon,
+            (Quantity::StockStrength, Si) => Unit::GPerL,
+            (Quantity::StockStrength, Us) => Unit::PercentWv,
         }
     }
 }
@@ -317,6 +418,19 @@ mod tests {
         assert!((Unit::GallonsPerHour.to_si(1.0) - 3.785411784).abs() < 1e-12);
         // 1 US gallon is 231 in³ = 3.785411784 L exactly.
         assert!((Unit::Gallons.to_si(1.0) - 3.785411784).abs() < 1e-12);
+        // 1 ft = 0.3048 m and 1 in = 25.4 mm exactly (international yard and pound, 1959).
+        assert!((Unit::Feet.to_si(1000.0) - 304.8).abs() < 1e-12);
+        assert!((Unit::Inches.to_si(8.0) - 203.2).abs() < 1e-12);
+        assert!((Unit::Pounds.to_si(1.0) - 0.45359237).abs() < 1e-15);
+        // A pound per short ton (2000 lb) is 1/2000 by mass: 0.5 kg per 1000 kg.
+        assert!((Unit::LbPerTon.to_si(10.0) - 5.0).abs() < 1e-12);
+        assert!((Unit::CubicMetres.to_si(0.75) - 750.0).abs() < 1e-12);
+        assert_eq!(
+            Quantity::Volume.units(),
+            [Unit::Litres, Unit::Gallons, Unit::CubicMetres]
+        );
+        // 1 % w/v is 1 g per 100 mL, 10 g/L.
+        assert!((Unit::PercentWv.to_si(0.5) - 5.0).abs() < 1e-12);
     }
 
     #[test]

@@ -53,6 +53,28 @@ fn reading(input: &Input, strength: Option<(f64, Option<f64>)>) -> Option<String
         "target-specific-gravity" => "1.02",
         "final-volume" => "200",
         "suspended-solids" => "12",
+        // Wastewater, distribution and bench calculators.
+        "residual-alkalinity" => "70",
+        // Ammonia-N is optional elsewhere but nitrified here: a low reading keeps the
+        // chlorination cases feeding (breakpoint, chloramine credit) and nitrification positive.
+        "ammonia-n" => "0.3",
+        "nitrate-n-denitrified" => "1",
+        "phosphorus" => "3.5",
+        "metal-ratio" => "2",
+        "diameter" => "200",
+        "length" => "450",
+        "tank-volume" => "750000",
+        "casing-diameter" => "150",
+        "water-depth" => "40",
+        "target-chlorine" => "25",
+        "dry-solids-rate" => "3000",
+        "solids-dose" => "4",
+        "active-percent" => "40",
+        "neat-specific-gravity" => "1.05",
+        "solution-percent" => "0.5",
+        "stock-concentration" => "10",
+        "ml-dosed" => "3",
+        "jar-volume-ml" => "1000",
         "strength" | "purity" => return strength.map(|(s, _)| s.to_string()),
         "specific-gravity" => return strength.and_then(|(_, sg)| sg).map(|sg| sg.to_string()),
         // Optional readings the cases leave out (ammonia in the water).

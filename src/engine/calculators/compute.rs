@@ -33,6 +33,14 @@ use crate::engine::trace::{Origin, Quantity, Trace};
 use crate::engine::water::{self, Precipitation, WaterInput, WaterState};
 use crate::engine::{Error, ErrorKind, Result};
 
+// Wastewater, distribution and bench calculators, in a file of their own.
+mod plant_feeds;
+#[cfg(test)]
+pub(super) use plant_feeds::alkalinity_per_mg_n;
+pub(super) use plant_feeds::{
+    ALKALIS, jar_test, main_disinfection, nitrification_alkalinity, phosphorus_removal, polymer,
+};
+
 /// Points on a drawn titration curve.
 pub(super) const CURVE_POINTS: usize = 60;
 

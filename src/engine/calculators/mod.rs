@@ -196,7 +196,7 @@ pub const PRODUCT: &str = "product";
 
 /// The compounds the catalog's products are dosed as, so that a resolved basis is a
 /// `&'static str` like every other (a test holds this list to the catalog).
-const DOSE_COMPOUNDS: [&str; 20] = [
+const DOSE_COMPOUNDS: [&str; 21] = [
     "Cl2",
     "N",
     "Al",
@@ -217,6 +217,7 @@ const DOSE_COMPOUNDS: [&str; 20] = [
     "Na2SO3",
     "Na2S2O3",
     "C6H8O6",
+    "Mg(OH)2",
 ];
 
 /// `basis` with the product's own filled in for [`DOSE_AS`] and [`STRENGTH_BASIS`].
@@ -864,6 +865,8 @@ fn limit_cautions(inputs: &[Input], request: &Request) -> Vec<Caution> {
     out
 }
 
+#[cfg(test)]
+mod plant_feeds_tests;
 #[cfg(test)]
 mod reference_tests;
 #[cfg(test)]

@@ -5,6 +5,7 @@
 //! and show for that calculator.
 
 use super::compute;
+use super::compute::ALKALIS;
 use super::{Calculator, Input, Offer, ProductInputs, ResultSpec, Scope, headline, secondary};
 use super::{DOSE_AS, PRODUCT, STRENGTH_BASIS};
 use super::{FeedForm, Instrument, Quantity as Q};
@@ -110,6 +111,20 @@ const DECHLOR_AGENTS: [&str; 6] = ["SO2", "NaHSO3", "Na2S2O5", "Na2SO3", "Na2S2O
 /// Liquid coagulants a metering pump feeds.
 const COAGULANTS: [&str; 4] = ["alum-liquid", "ferric-chloride", "ferric-sulfate", "pacl"];
 
+/// Hypochlorites for disinfecting a main, a tank or a well.
+const HYPOCHLORITES: [&str; 2] = ["sodium-hypochlorite", "calcium-hypochlorite"];
+
+/// Products a jar test's stock is made from: the coagulants and the alkalis.
+const JAR_PRODUCTS: [&str; 7] = [
+    "alum-liquid",
+    "ferric-chloride",
+    "ferric-sulfate",
+    "pacl",
+    "sodium-hydroxide",
+    "hydrated-lime",
+    "soda-ash",
+];
+
 /// Lime products for softening; soda ash is the other softening chemical.
 pub(super) const LIMES: [&str; 2] = ["hydrated-lime", "quicklime"];
 
@@ -181,7 +196,7 @@ pub(super) fn product_inputs(
     }
 }
 
-pub static TABLE: [Calculator; 11] = [
+pub static TABLE: [Calculator; 16] = [
     Calculator {
         id: "ph-adjustment",
         group: "ph-adjustment",
@@ -490,6 +505,140 @@ pub static TABLE: [Calculator; 11] = [
         ],
         in_app: false,
         compute: compute::sludge,
+        curve: None,
+    },
+    // Wastewater, distribution and bench calculators.
+    Calculator {
+        id: "nitrification-alkalinity",
+        group: "wastewater",
+        modes: &[],
+        inputs: &[
+            FLOW,
+            // Ammonia-N the plant nitrifies and the influent's alkalinity, both measured.
+            based(water("ammonia-n", Q::Concentration), "N"),
+            as_caco3(water("alkalinity", Q::AsCaCO3)),
+            as_caco3(own("residual-alkalinity", Q::AsCaCO3)),
+            // Nitrate-N denitrified returns part of the alkalinity (a credit).
+            optional(based(
+                read_with(
+                    own("nitrate-n-denitrified", Q::Concentration),
+                    Instrument::Colorimeter,
+                ),
+                "N",
+            )),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Listed(&ALKALIS),
+        results: &[
+            headline("alkalinity_needed", Q::AsCaCO3).on(CACO3),
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            FEED_RESULTS[5],
+        ],
+        in_app: true,
+        compute: compute::nitrification_alkalinity,
+        curve: None,
+    },
+    Calculator {
+        id: "phosphorus-removal",
+        group: "wastewater",
+        modes: &[],
+        inputs: &[
+            FLOW,
+            based(water("phosphorus", Q::Concentration), "P"),
+            // Moles of Al or Fe per mole of P removed (practice 1.5-2.5, cautioned with source).
+            based(own("metal-ratio", Q::Ratio), "mol metal per mol P"),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Listed(&COAGULANTS),
+        results: &[
+            headline("metal_dose", Q::Concentration).on("metal"),
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            secondary("alkalinity_consumed", Q::AsCaCO3).on(CACO3),
+            secondary("sludge_mass_rate", Q::MassPerDay).on(DRY_SOLIDS),
+        ],
+        in_app: true,
+        compute: compute::phosphorus_removal,
+        curve: None,
+    },
+    Calculator {
+        id: "main-disinfection",
+        group: "main-disinfection",
+        // What is disinfected: a new pipe (diameter, length), a tank (its volume) or a well
+        // (casing diameter, depth of water). The other modes' inputs are left out.
+        modes: &["pipe", "tank", "well"],
+        inputs: &[
+            optional(own("diameter", Q::Diameter)),
+            optional(own("length", Q::Length)),
+            optional(own("tank-volume", Q::Volume)),
+            optional(own("casing-diameter", Q::Diameter)),
+            optional(own("water-depth", Q::Length)),
+            based(own("target-chlorine", Q::Concentration), CL2),
+        ],
+        product_inputs: ProductInputs::Strength,
+        offer: Offer::Listed(&HYPOCHLORITES),
+        results: &[
+            headline("water_volume", Q::Volume).on("water"),
+            headline("chlorine_mass", Q::Mass).on(CL2),
+            headline("product_mass", Q::Mass).on(PRODUCT),
+            headline("product_volume", Q::Volume).on(PRODUCT),
+        ],
+        in_app: true,
+        compute: compute::main_disinfection,
+        curve: None,
+    },
+    Calculator {
+        id: "polymer",
+        group: "polymer",
+        // A water or wastewater stream (flow × mg/L) or sludge dewatering (dry solids × kg/t).
+        modes: &["stream", "dewatering"],
+        inputs: &[
+            optional(FLOW),
+            optional(based(own("dose", Q::Concentration), "active polymer")),
+            optional(based(own("dry-solids-rate", Q::MassPerDay), DRY_SOLIDS)),
+            optional(based(own("solids-dose", Q::SolidsDose), "active polymer")),
+            based(product("active-percent", Q::Percent), "active"),
+            product("neat-specific-gravity", Q::SpecificGravity),
+            based(own("solution-percent", Q::Percent), "active"),
+            optional(product("pump-capacity", Q::VolumePerHour)),
+        ],
+        product_inputs: ProductInputs::None,
+        offer: Offer::None,
+        results: &[
+            headline("neat_product_rate", Q::VolumePerHour).on(PRODUCT),
+            headline("solution_rate", Q::VolumePerHour).on("solution"),
+            headline("pump_setting", Q::Percent),
+            secondary("feed_mass_rate", Q::MassPerDay).on("active polymer"),
+        ],
+        in_app: true,
+        compute: compute::polymer,
+        curve: None,
+    },
+    Calculator {
+        id: "jar-test",
+        group: "jar-test",
+        modes: &[],
+        inputs: &[
+            // Mass per volume of the stock, as the product's dose compound (1 % w/v = 10 g/L).
+            based(own("stock-concentration", Q::StockStrength), DOSE_AS),
+            own("ml-dosed", Q::Millilitres),
+            own("jar-volume-ml", Q::Millilitres),
+        ],
+        product_inputs: ProductInputs::Strength,
+        offer: Offer::Listed(&JAR_PRODUCTS),
+        results: &[
+            headline("jar_dose", Q::Concentration).on(DOSE_AS),
+            headline("jar_dose_product", Q::Concentration).on(PRODUCT),
+        ],
+        in_app: true,
+        compute: compute::jar_test,
         curve: None,
     },
 ];

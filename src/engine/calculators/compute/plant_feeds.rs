@@ -1,0 +1,671 @@
+//! Compute functions of the wastewater, distribution and bench calculators: alkalinity for
+//! nitrification, metal salts for phosphorus removal, disinfection of a new main, tank or
+//! well, polymer make-down, and the dose a jar test represents.
+//!
+//! Design choice: a child of [`super`] (the table's compute functions), so it shares their
+//! helpers (named SI values with their figures, the product's strength, the feed to the pump)
+//! without widening them, and sits in a file of its own beside the other calculators. Every
+//! ratio comes from a balanced reaction in `data/` or from formulas (alkalinity per mg N, alkali
+//! per alkalinity, metal per phosphorus, the charge of a metal ion); the only typed factors are
+//! unit definitions, which the traces mark exact.
+
+use super::{Calculators, Outcome, Request, chosen, headline, measured, outcome, result, value};
+use crate::engine::calculators::{Device, Setting};
+use crate::engine::dosing::NamedTrace;
+use crate::engine::dosing::catalog::{Catalog, active_to_product, molar_mass};
+use crate::engine::dosing::caution::Caution;
+use crate::engine::dosing::feed::product_cautions;
+use crate::engine::formula::Formula;
+use crate::engine::quantity::Quantity as Q;
+use crate::engine::sigfig::{Measured, combine, format_sig};
+use crate::engine::trace::{Origin, Quantity, Trace};
+use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
+
+/// The metal-to-phosphorus molar ratio the trade doses, low and high (common practice; Metcalf
+/// & Eddy, Wastewater Engineering, 5th ed. (2014), ch. 6, chemical phosphorus removal, from
+/// memory): the 1:1 of the phosphate precipitate is never enough, because the metal's own
+/// hydroxide competes for it.
+pub(crate) const METAL_RATIO_PRACTICE: (f64, f64) = (1.5, 2.5);
+const METAL_RATIO_SOURCE: &str = "common practice; US EPA phosphorus removal design manual and Metcalf & Eddy, Wastewater Engineering, 5th ed. (2014), ch. 6 (from memory)";
+
+/// Common targets for disinfecting a new main (common practice, from memory of the AWWA
+/// C651/C652 procedures: 25 mg/L continuous feed held 24 h, 50 mg/L for a shorter hold or a
+/// tank); shown beside the target, never in its place: the plant's own procedure wins.
+const DISINFECTION_PRACTICE_MG_L: (f64, f64) = (25.0, 50.0);
+
+fn non_negative(name: &'static str, v: f64, unit: &str) -> Result<f64> {
+    check_range(name, v, 0.0, f64::MAX, unit)
+}
+
+fn missing(name: &'static str) -> Error {
+    Error::new(ErrorKind::InvalidInput, format!("{name} is missing"))
+        .because("missing-input")
+        .with("input", name)
+}
+
+/// A reading that may be absent, with its figures.
+fn maybe(request: &Request, name: &str) -> Option<Measured> {
+    request.get(name).map(|value| Measured {
+        value,
+        sig_figs: request.figures(name),
+    })
+}
+
+/// mg/L as CaCO3 per meq/L: CaCO3's molar mass over the charge of the carbonate ion it is
+/// counted as (the convention the coagulation calculator uses too).
+fn caco3_per_meq() -> Result<(f64, Option<u8>)> {
+    let (m, s) = molar_mass("CaCO3")?;
+    let co3 = Formula::parse("CO3-2")?;
+    Ok((m / f64::from(co3.charge().unsigned_abs()), s))
+}
+
+/// mg/L as CaCO3 of alkalinity that `reaction` destroys (the carrier is H+) or returns (OH-)
+/// per mg/L of nitrogen in `species`: mg N → mmol species → mmol carrier (balanced reaction)
+/// → meq → mg CaCO3.
+pub(crate) fn alkalinity_per_mg_n(
+    catalog: &Catalog,
+    reaction: &str,
+    species: &str,
+    carrier: &str,
+) -> Result<Trace> {
+    let r = catalog.reaction(reaction)?;
+    let (m_n, s_n) = molar_mass("N")?;
+    let n_per_species = Formula::parse(species)?.count("N") as f64;
+    let (per_meq, s_caco3) = caco3_per_meq()?;
+    let charge = f64::from(Formula::parse(carrier)?.charge().unsigned_abs());
+    let mut t = Trace::new(Quantity::of(1.0, "mg/L", "N"), Origin::Measured, None);
+    t.then(
+        Quantity::of(1.0, "mmol/L", species),
+        Quantity::of(m_n * n_per_species, "mg/L", "N"),
+        Origin::MolarMass {
+            formula: "N".into(),
+        },
+        s_n,
+    )?;
+    t.then_mole_ratio(&r, species, carrier, "mmol/L")?;
+    t.then(
+        Quantity::of(charge, "meq/L", "alkalinity"),
+        Quantity::of(1.0, "mmol/L", carrier),
+        Origin::MolarMass {
+            formula: carrier.into(),
+        },
+        None,
+    )?;
+    t.then(
+        Quantity::of(per_meq, "mg/L", "CaCO3"),
+        Quantity::of(1.0, "meq/L", "alkalinity"),
+        Origin::MolarMass {
+            formula: "CaCO3".into(),
+        },
+        s_caco3,
+    )?;
+    Ok(t)
+}
+
+/// mg/L of an alkali's compound per mg/L as CaCO3 of alkalinity it adds, from the product's
+/// alkalinity reaction (its compound against HCO3-): mg CaCO3 → meq → mmol HCO3- → mmol
+/// compound → mg compound.
+pub(crate) fn alkali_per_caco3(catalog: &Catalog, product: &str) -> Result<Trace> {
+    let p = catalog.product(product)?;
+    let reaction = p.reaction.as_deref().ok_or_else(|| {
+        Error::new(
+            ErrorKind::UnknownChemical,
+            format!("{product} has no alkalinity reaction"),
+        )
+        .because("product-not-for-calculator")
+        .with("product", product)
+    })?;
+    let r = catalog.reaction(reaction)?;
+    let (per_meq, s_caco3) = caco3_per_meq()?;
+    let (m, s_m) = molar_mass(&p.compound)?;
+    let mut t = Trace::new(Quantity::of(1.0, "mg/L", "CaCO3"), Origin::Measured, None);
+    t.then(
+        Quantity::of(1.0, "meq/L", "alkalinity"),
+        Quantity::of(per_meq, "mg/L", "CaCO3"),
+        Origin::MolarMass {
+            formula: "CaCO3".into(),
+        },
+        s_caco3,
+    )?;
+    t.then(
+        Quantity::of(1.0, "mmol/L", "HCO3-"),
+        Quantity::of(1.0, "meq/L", "alkalinity"),
+        Origin::MolarMass {
+            formula: "HCO3-".into(),
+        },
+        None,
+    )?;
+    t.then_mole_ratio(&r, "HCO3-", &p.compound, "mmol/L")?;
+    t.then(
+        Quantity::of(m, "mg/L", &p.compound),
+        Quantity::of(1.0, "mmol/L", &p.compound),
+        Origin::MolarMass {
+            formula: p.compound.clone(),
+        },
+        s_m,
+    )?;
+    Ok(t)
+}
+
+/// The alkalis a nitrifying plant feeds.
+pub(crate) const ALKALIS: [&str; 5] = [
+    "sodium-hydroxide",
+    "hydrated-lime",
+    "soda-ash",
+    "sodium-bicarbonate",
+    "magnesium-hydroxide",
+];
+
+/// Alkalinity for nitrification: 2 H+ per N nitrified destroy alkalinity, 1 OH- per N
+/// denitrified returns some; the alkali makes up what the influent lacks for the residual
+/// wanted. When the influent already has enough, nothing is fed and a caution says so.
+pub(crate) fn nitrification_alkalinity(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let product = chosen(request)?;
+    if !ALKALIS.contains(&product) {
+        return Err(Error::new(
+            ErrorKind::UnknownChemical,
+            format!("{product} is not an alkali for nitrification"),
+        )
+        .because("product-not-for-calculator")
+        .with("product", product));
+    }
+    let nh3 = measured(request, "ammonia-n")?;
+    let influent = measured(request, "alkalinity")?;
+    let residual = measured(request, "residual-alkalinity")?;
+    let nitrate = maybe(request, "nitrate-n-denitrified");
+    non_negative("ammonia-N", nh3.value, "mg/L")?;
+    non_negative("alkalinity", influent.value, "mg/L")?;
+    non_negative("alkalinity setpoint", residual.value, "mg/L")?;
+    if let Some(n) = nitrate {
+        non_negative("nitrate-N", n.value, "mg/L")?;
+    }
+    let per_n_nitrified = alkalinity_per_mg_n(&c.catalog, "nitrification", "NH4+", "H+")?;
+    let per_n_denitrified =
+        alkalinity_per_mg_n(&c.catalog, "denitrification-methanol", "NO3-", "OH-")?;
+    let consumed = nh3.value * per_n_nitrified.value();
+    let credit = nitrate.map_or(0.0, |n| n.value * per_n_denitrified.value());
+    let needed = (consumed - credit + residual.value - influent.value).max(0.0);
+    let figures = [Some(nh3), Some(influent), Some(residual), nitrate]
+        .into_iter()
+        .flatten()
+        .fold(None, |acc, m| combine(acc, m.sig_figs));
+    let mut traces = vec![NamedTrace::new(
+        "alkalinity-per-n-nitrified",
+        per_n_nitrified,
+    )];
+    if nitrate.is_some() {
+        traces.push(NamedTrace::new(
+            "alkalinity-per-n-denitrified",
+            per_n_denitrified,
+        ));
+    }
+    let dose_as = c.catalog.product(product)?.dose_as.clone();
+    let mut out = if needed > 0.0 {
+        let per = alkali_per_caco3(&c.catalog, product)?;
+        let dose = Measured {
+            value: needed * per.value(),
+            sig_figs: figures,
+        };
+        traces.push(NamedTrace::new("alkali-per-alkalinity", per));
+        let r = c.feed_for(request, dose)?;
+        c.feed_outcome(&r, traces, Vec::new())?
+    } else {
+        let mut out = outcome(dose_as.clone());
+        out.results
+            .push(headline("dose", 0.0, Q::Concentration, Some(&dose_as)));
+        out.traces = traces;
+        out.cautions.push(
+            Caution::info("alkalinity-already-enough")
+                .with("alkalinity", format_sig(influent.value, 3))
+                .with("needed", format_sig(consumed - credit + residual.value, 3)),
+        );
+        out
+    };
+    out.results.insert(
+        0,
+        headline("alkalinity_needed", needed, Q::AsCaCO3, Some("CaCO3")),
+    );
+    out.figures = figures;
+    Ok(out)
+}
+
+/// The metal a coagulant precipitates phosphorus with, from its dose compound's formula.
+fn metal_of(dose_as: &str) -> Result<&'static str> {
+    let f = Formula::parse(dose_as)?;
+    ["Al", "Fe"]
+        .into_iter()
+        .find(|m| f.count(m) > 0)
+        .ok_or_else(|| {
+            Error::new(
+                ErrorKind::UnknownChemical,
+                format!("{dose_as} carries no aluminium or iron"),
+            )
+            .because("product-not-for-calculator")
+        })
+}
+
+/// Phosphorus removal with a metal salt: metal = P (mol) × the molar ratio; the dose as the
+/// product's compound from its formula; alkalinity consumed at the metal ion's charge in
+/// equivalents per mole (3 for Al3+ and Fe3+, as in coagulation); dry solids as the metal
+/// phosphate for the phosphorus and the hydroxide for the metal beyond it.
+pub(crate) fn phosphorus_removal(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let p = measured(request, "phosphorus")?;
+    let ratio = measured(request, "metal-ratio")?;
+    check_positive("phosphorus", p.value, "mg/L")?;
+    check_positive("metal ratio", ratio.value, "mol/mol")?;
+    let product = c.catalog.product(chosen(request)?)?;
+    let metal = metal_of(&product.dose_as)?;
+    let (m_p, s_p) = molar_mass("P")?;
+    let (m_metal, s_metal) = molar_mass(metal)?;
+    let (m_dose, s_dose) = molar_mass(&product.dose_as)?;
+    let metal_per_dose = Formula::parse(&product.dose_as)?.count(metal) as f64;
+    let mut t = Trace::new(
+        Quantity::of(p.value, "mg/L", "P"),
+        Origin::Measured,
+        p.sig_figs,
+    );
+    t.then(
+        Quantity::of(1.0, "mmol/L", "P"),
+        Quantity::of(m_p, "mg/L", "P"),
+        Origin::MolarMass {
+            formula: "P".into(),
+        },
+        s_p,
+    )?;
+    t.then(
+        Quantity::of(ratio.value, "mmol/L", metal),
+        Quantity::of(1.0, "mmol/L", "P"),
+        Origin::Measured,
+        ratio.sig_figs,
+    )?;
+    let metal_mmol = t.value();
+    let mut metal_trace = t.clone();
+    metal_trace.then(
+        Quantity::of(m_metal, "mg/L", metal),
+        Quantity::of(1.0, "mmol/L", metal),
+        Origin::MolarMass {
+            formula: metal.into(),
+        },
+        s_metal,
+    )?;
+    let mut dose_trace = t.clone();
+    dose_trace.then(
+        Quantity::of(m_dose, "mg/L", &product.dose_as),
+        Quantity::of(metal_per_dose, "mmol/L", metal),
+        Origin::MolarMass {
+            formula: product.dose_as.clone(),
+        },
+        s_dose,
+    )?;
+    // Alkalinity: the metal ion's charge in meq per mmol, as CaCO3.
+    let charge = f64::from(
+        Formula::parse(&format!("{metal}+3"))?
+            .charge()
+            .unsigned_abs(),
+    );
+    let (per_meq, _) = caco3_per_meq()?;
+    let alkalinity = metal_mmol * charge * per_meq;
+    // Solids: MPO4 for each P, M(OH)3 for the metal beyond it.
+    let (m_po4, _) = molar_mass(&format!("{metal}PO4"))?;
+    let (m_oh, _) = molar_mass(&format!("{metal}(OH)3"))?;
+    let p_mmol = p.value / m_p;
+    let excess = (metal_mmol - p_mmol).max(0.0);
+    let solids_mg_l = p_mmol.min(metal_mmol) * m_po4 + excess * m_oh;
+    let flow_m3_d = value(request, "flow")?;
+    // mg/L × m³/d = g/d; ÷ 1000 → kg/d (unit definitions).
+    let solids_kg_d = solids_mg_l * flow_m3_d / 1000.0;
+    let dose = Measured {
+        value: dose_trace.value(),
+        sig_figs: combine(p.sig_figs, ratio.sig_figs),
+    };
+    let r = c.feed_for(request, dose)?;
+    let metal_dose = metal_trace.value();
+    let traces = vec![
+        NamedTrace::new("metal-for-phosphorus", metal_trace),
+        NamedTrace::new("coagulant-for-phosphorus", dose_trace),
+    ];
+    let mut cautions = Vec::new();
+    let (low, high) = METAL_RATIO_PRACTICE;
+    cautions.push(
+        Caution::info(if (low..=high).contains(&ratio.value) {
+            "metal-ratio-practice"
+        } else {
+            "metal-ratio-outside-practice"
+        })
+        .with("ratio", format_sig(ratio.value, 3))
+        .with("low", low)
+        .with("high", high)
+        .with("source", METAL_RATIO_SOURCE),
+    );
+    let mut out = c.feed_outcome(&r, traces, cautions)?;
+    out.results.insert(
+        0,
+        headline("metal_dose", metal_dose, Q::Concentration, Some(metal)),
+    );
+    out.results.push(result(
+        "alkalinity_consumed",
+        alkalinity,
+        Q::AsCaCO3,
+        Some("CaCO3"),
+    ));
+    out.results.push(result(
+        "sludge_mass_rate",
+        solids_kg_d,
+        Q::MassPerDay,
+        Some("dry solids"),
+    ));
+    Ok(out)
+}
+
+/// The volume of water a main, a tank or a well holds, by the request's mode, in L with its
+/// trace: π (d/2)² × length for a pipe or a well's water column (unit factors exact).
+fn disinfected_volume(request: &Request) -> Result<Trace> {
+    let cylinder = |d_name: &'static str, l_name: &'static str, what: &str| -> Result<Trace> {
+        let d = maybe(request, d_name).ok_or_else(|| missing(d_name))?;
+        let l = maybe(request, l_name).ok_or_else(|| missing(l_name))?;
+        check_positive("pipe diameter", d.value, "mm")?;
+        check_positive("pipe length", l.value, "m")?;
+        let r_m = d.value / 2000.0;
+        let mut t = Trace::new(
+            Quantity::of(l.value, "m", what),
+            Origin::Measured,
+            l.sig_figs,
+        );
+        // Cross-section π r², r = d/2 in m (1000 mm = 1 m by definition).
+        t.then(
+            Quantity::of(std::f64::consts::PI * r_m * r_m, "m³", what),
+            Quantity::of(1.0, "m", what),
+            Origin::Measured,
+            d.sig_figs,
+        )?;
+        t.then(
+            Quantity::of(1000.0, "L", "water"),
+            Quantity::of(1.0, "m³", what),
+            Origin::UnitDefinition,
+            None,
+        )?;
+        Ok(t)
+    };
+    match request.mode {
+        Some("tank") => {
+            let v = maybe(request, "tank-volume").ok_or_else(|| missing("tank-volume"))?;
+            check_positive("tank volume", v.value, "L")?;
+            Ok(Trace::new(
+                Quantity::of(v.value, "L", "water"),
+                Origin::Measured,
+                v.sig_figs,
+            ))
+        }
+        Some("well") => cylinder("casing-diameter", "water-depth", "well"),
+        _ => cylinder("diameter", "length", "pipe"),
+    }
+}
+
+/// Disinfecting a new main, a tank or a well: the water it holds, the chlorine for the target
+/// concentration, and the hypochlorite that carries it (mass, and volume for a solution).
+pub(crate) fn main_disinfection(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let target = measured(request, "target-chlorine")?;
+    check_positive("chlorine dose", target.value, "mg/L")?;
+    let (id, strength) = c.strength(request)?;
+    let p = c.catalog.product(&id)?;
+    let mut t = disinfected_volume(request)?;
+    let litres = t.value();
+    t.then(
+        Quantity::of(target.value, "mg", "Cl2"),
+        Quantity::of(1.0, "L", "water"),
+        Origin::Measured,
+        target.sig_figs,
+    )?;
+    t.then(
+        Quantity::of(1.0, "kg", "Cl2"),
+        Quantity::of(1.0e6, "mg", "Cl2"),
+        Origin::UnitDefinition,
+        None,
+    )?;
+    let chlorine_kg = t.value();
+    // The product per kg of chlorine, through the catalog's strength chain (its steps read per
+    // day; a ratio, the same for a batch).
+    let one = Trace::new(
+        Quantity::of(1.0, "kg/d", &p.dose_as),
+        Origin::Measured,
+        None,
+    );
+    let per = active_to_product(&c.catalog, p, &strength, one)?;
+    let mut out = outcome(p.dose_as.clone());
+    out.results
+        .push(headline("water_volume", litres, Q::Volume, Some("water")));
+    out.results
+        .push(headline("chlorine_mass", chlorine_kg, Q::Mass, Some("Cl2")));
+    out.results.push(headline(
+        "product_mass",
+        chlorine_kg * per.product_kg_per_day,
+        Q::Mass,
+        Some("product"),
+    ));
+    if let Some(l) = per.product_l_per_day {
+        out.results.push(headline(
+            "product_volume",
+            chlorine_kg * l,
+            Q::Volume,
+            Some("product"),
+        ));
+    }
+    out.traces = vec![
+        NamedTrace::new("chlorine-for-volume", t),
+        NamedTrace::new("product-per-chlorine", per.trace),
+    ];
+    let (low, high) = DISINFECTION_PRACTICE_MG_L;
+    out.cautions.push(
+        Caution::warning("dechlorinate-before-discharge")
+            .with("volume", format_sig(litres, 3))
+            .with("unit", "L")
+            .with("target", format_sig(target.value, 3)),
+    );
+    out.cautions.push(
+        Caution::info("disinfection-target-practice")
+            .with("low", low)
+            .with("high", high),
+    );
+    out.cautions.extend(product_cautions(p));
+    Ok(out)
+}
+
+/// Polymer: the active polymer per day (flow × dose, or dry solids × dose per tonne), the neat
+/// product it is in, and the made-down solution the pump feeds.
+pub(crate) fn polymer(_c: &Calculators, request: &Request) -> Result<Outcome> {
+    let active = measured(request, "active-percent")?;
+    let sg = measured(request, "neat-specific-gravity")?;
+    let solution = measured(request, "solution-percent")?;
+    check_range("strength", active.value, 0.0, 100.0, "%")?;
+    check_positive("strength", active.value, "%")?;
+    check_positive("specific gravity", sg.value, "")?;
+    check_positive("solution strength", solution.value, "%")?;
+    if solution.value > active.value {
+        return Err(Error::new(
+            ErrorKind::OutOfRange,
+            format!(
+                "a {} % solution cannot be made down from a {} % product",
+                solution.value, active.value
+            ),
+        )
+        .because("solution-stronger-than-product"));
+    }
+    let mut t = match request.mode {
+        Some("dewatering") => {
+            let solids =
+                maybe(request, "dry-solids-rate").ok_or_else(|| missing("dry-solids-rate"))?;
+            let dose = maybe(request, "solids-dose").ok_or_else(|| missing("solids-dose"))?;
+            check_positive("dry solids rate", solids.value, "kg/d")?;
+            check_positive("dose", dose.value, "kg/t")?;
+            let mut t = Trace::new(
+                Quantity::of(solids.value, "kg/d", "dry solids"),
+                Origin::Measured,
+                solids.sig_figs,
+            );
+            t.then(
+                Quantity::of(1.0, "t/d", "dry solids"),
+                Quantity::of(1000.0, "kg/d", "dry solids"),
+                Origin::UnitDefinition,
+                None,
+            )?;
+            t.then(
+                Quantity::of(dose.value, "kg/d", "active polymer"),
+                Quantity::of(1.0, "t/d", "dry solids"),
+                Origin::Measured,
+                dose.sig_figs,
+            )?;
+            t
+        }
+        _ => {
+            let flow = maybe(request, "flow").ok_or_else(|| missing("flow"))?;
+            let dose = maybe(request, "dose").ok_or_else(|| missing("dose"))?;
+            check_positive("flow", flow.value, "m³/d")?;
+            check_positive("dose", dose.value, "mg/L")?;
+            let mut t = Trace::new(
+                Quantity::of(flow.value, "m³/d", "water"),
+                Origin::Measured,
+                flow.sig_figs,
+            );
+            t.then(
+                Quantity::of(dose.value, "g/d", "active polymer"),
+                Quantity::of(1.0, "m³/d", "water"),
+                Origin::Measured,
+                dose.sig_figs,
+            )?;
+            t.then(
+                Quantity::of(1.0, "kg/d", "active polymer"),
+                Quantity::of(1000.0, "g/d", "active polymer"),
+                Origin::UnitDefinition,
+                None,
+            )?;
+            t
+        }
+    };
+    let active_kg_d = t.value();
+    let mut neat = t.clone();
+    neat.then(
+        Quantity::of(100.0, "kg/d", "neat product"),
+        Quantity::of(active.value, "kg/d", "active polymer"),
+        Origin::Measured,
+        active.sig_figs,
+    )?;
+    neat.then(
+        Quantity::of(1.0, "L/d", "neat product"),
+        Quantity::of(sg.value, "kg/d", "neat product"),
+        Origin::Measured,
+        sg.sig_figs,
+    )?;
+    neat.then(
+        Quantity::of(1.0, "L/h", "neat product"),
+        Quantity::of(24.0, "L/d", "neat product"),
+        Origin::UnitDefinition,
+        None,
+    )?;
+    t.then(
+        Quantity::of(100.0, "kg/d", "solution"),
+        Quantity::of(solution.value, "kg/d", "active polymer"),
+        Origin::Measured,
+        solution.sig_figs,
+    )?;
+    // A made-down solution of a few tenths of a percent weighs as water, 1 kg/L (common
+    // practice: its density differs from water's by less than the percent's own precision).
+    t.then(
+        Quantity::of(1.0, "L/d", "solution"),
+        Quantity::of(1.0, "kg/d", "solution"),
+        Origin::Constant {
+            source: "dilute polymer solution taken as 1 kg/L (common practice)".into(),
+        },
+        None,
+    )?;
+    t.then(
+        Quantity::of(1.0, "L/h", "solution"),
+        Quantity::of(24.0, "L/d", "solution"),
+        Origin::UnitDefinition,
+        None,
+    )?;
+    let solution_l_h = t.value();
+    let mut out = outcome("active polymer".into());
+    out.results.push(headline(
+        "neat_product_rate",
+        neat.value(),
+        Q::VolumePerHour,
+        Some("product"),
+    ));
+    out.results.push(headline(
+        "solution_rate",
+        solution_l_h,
+        Q::VolumePerHour,
+        Some("solution"),
+    ));
+    if let Some(capacity) = request.get("pump-capacity") {
+        check_positive("pump capacity", capacity, "L/h")?;
+        let percent = solution_l_h / capacity * 100.0;
+        out.results
+            .push(headline("pump_setting", percent, Q::Percent, None));
+        out.setting = Some(Setting {
+            device: Device::MeteringPump,
+            percent,
+        });
+    }
+    out.results.push(result(
+        "feed_mass_rate",
+        active_kg_d,
+        Q::MassPerDay,
+        Some("active polymer"),
+    ));
+    out.traces = vec![
+        NamedTrace::new("polymer-solution", t),
+        NamedTrace::new("polymer-neat", neat),
+    ];
+    Ok(out)
+}
+
+/// A jar test's dose: the stock's mass per volume × the millilitres dosed ÷ the jar's water,
+/// as the stock's compound (the chosen product's dose compound) and as the product delivered.
+/// The dose is per litre of water in the jar, as a plant dose is per litre of water treated.
+pub(crate) fn jar_test(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let stock = measured(request, "stock-concentration")?;
+    let ml = measured(request, "ml-dosed")?;
+    let jar = measured(request, "jar-volume-ml")?;
+    check_positive("stock concentration", stock.value, "g/L")?;
+    non_negative("dose", ml.value, "mL")?;
+    check_positive("jar volume", jar.value, "mL")?;
+    let (id, strength) = c.strength(request)?;
+    let p = c.catalog.product(&id)?;
+    let what = p.dose_as.clone();
+    let mut t = Trace::new(
+        Quantity::of(ml.value, "mL", "stock"),
+        Origin::Measured,
+        ml.sig_figs,
+    );
+    // g/L is mg/mL (unit definitions).
+    t.then(
+        Quantity::of(stock.value, "mg", &what),
+        Quantity::of(1.0, "mL", "stock"),
+        Origin::Measured,
+        stock.sig_figs,
+    )?;
+    t.then(
+        Quantity::of(1000.0, "mg/L", &what),
+        Quantity::of(jar.value, "mg", &what),
+        Origin::Measured,
+        jar.sig_figs,
+    )?;
+    let dose = t.value();
+    let one = Trace::new(Quantity::of(1.0, "kg/d", &what), Origin::Measured, None);
+    let per = active_to_product(&c.catalog, p, &strength, one)?;
+    let mut out = outcome(what.clone());
+    out.results
+        .push(headline("jar_dose", dose, Q::Concentration, Some(&what)));
+    out.results.push(headline(
+        "jar_dose_product",
+        dose * per.product_kg_per_day,
+        Q::Concentration,
+        Some("product"),
+    ));
+    out.traces = vec![
+        NamedTrace::new("jar-dose", t),
+        NamedTrace::new("product-per-compound", per.trace),
+    ];
+    Ok(out)
+}
