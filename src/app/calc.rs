@@ -587,8 +587,8 @@ impl CalcController {
                 Quantity::VolumePerHour.unit(self.system),
             )
         };
-        let mut cautions = outcome.cautions.clone();
-        cautions.sort_by_key(|c| std::cmp::Reverse(c.level));
+        // In the engine's order: what the operator must act on first.
+        let cautions = outcome.cautions.clone();
         let extras = outcome
             .extras
             .iter()
@@ -910,10 +910,10 @@ mod tests {
         assert_eq!(r.feed_unit, Unit::LbPerDay);
         assert_eq!(r.dose, "2.00");
         assert_eq!(r.pump, "—");
+        // The card keeps the engine's order (the stand-in raises the info caution first).
         assert_eq!(
-            r.cautions[0].level,
-            CautionLevel::Danger,
-            "worst caution first"
+            r.cautions.iter().map(|c| c.level).collect::<Vec<_>>(),
+            [CautionLevel::Info, CautionLevel::Danger],
         );
     }
 

@@ -173,16 +173,15 @@ pub struct CautionLine {
     pub text: String,
 }
 
-/// The card's cautions — the engine's, the site's limits among them — in words, worst first.
-/// A caution without a translation shows the engine's English message; a parameter naming an
-/// input field (`field-…`) is shown as the field's label. Two cautions that say the same
-/// sentence (a product's hazard and the calculator's own) are said once, at the worse level.
+/// The card's cautions — the engine's, the site's limits among them — in words, in the
+/// engine's order (what the operator must act on first: limits, the cross-check, the process,
+/// then handling; `dosing::caution::finish`). A caution without a translation shows the
+/// engine's English message; a parameter naming an input field (`field-…`) is shown as the
+/// field's label. Two cautions that say the same sentence (a product's hazard and the
+/// calculator's own) are said once, where the first stood, at the worse level.
 pub fn caution_lines(cautions: &[Caution], words: &dyn Words) -> Vec<CautionLine> {
-    let mut sorted: Vec<&Caution> = cautions.iter().collect();
-    // Stable: cautions of one level keep the engine's order.
-    sorted.sort_by_key(|c| std::cmp::Reverse(c.level));
     let mut shown: Vec<CautionLine> = Vec::new();
-    for c in sorted {
+    for c in cautions {
         // Engine caution keys are translation keys as they stand.
         let text = if words.has(&c.code) {
             let args: Vec<(&str, String)> = c
@@ -202,14 +201,12 @@ pub fn caution_lines(cautions: &[Caution], words: &dyn Words) -> Vec<CautionLine
             c.message.clone()
         };
         let level = c.level as i32;
-        if shown.iter().any(|l| l.level >= level && l.text == text) {
-            continue;
+        let word = words.get(&format!("caution-level-{}", c.level.code()));
+        match shown.iter_mut().find(|l| l.text == text) {
+            Some(l) if l.level < level => (l.level, l.word) = (level, word),
+            Some(_) => {}
+            None => shown.push(CautionLine { level, word, text }),
         }
-        shown.push(CautionLine {
-            level,
-            word: words.get(&format!("caution-level-{}", c.level.code())),
-            text,
-        });
     }
     shown
 }
@@ -452,7 +449,7 @@ mod tests {
 
     /// Expected texts written by hand from the dictionary above.
     #[test]
-    fn cautions_are_worded_worst_first_and_said_once() {
+    fn cautions_are_worded_in_the_engines_order_and_said_once() {
         use CautionLevel::*;
         let check = |cautions: &[Caution], want: &[(i32, &str, &str)]| {
             let got = caution_lines(cautions, &WORDS);
@@ -463,15 +460,16 @@ mod tests {
             assert_eq!(got, want, "{cautions:?}");
         };
         let corrosive = "Corrosive: wear eye protection.";
-        // Worst first; an untranslated code shows the engine's message.
+        // In the engine's order (it puts what must be acted on first, not the most severe
+        // handling box); an untranslated code shows the engine's message.
         check(
             &[
                 caution(Info, "new-code", &[]),
                 caution(Danger, "hazard-corrosive", &[]),
             ],
             &[
-                (2, "Danger", corrosive),
                 (0, "Note", "English message of new-code"),
+                (2, "Danger", corrosive),
             ],
         );
         // The same sentence twice (product hazard and calculator): once, at the worse level.

@@ -76,9 +76,56 @@ pub fn finish(mut cautions: Vec<Caution>) -> Vec<Caution> {
             seen.push(c);
         }
     }
-    seen.sort_by_key(|c| std::cmp::Reverse(c.severity));
+    // Stable: within a topic and a severity, the calculation's own order stays.
+    seen.sort_by_key(|c| (c.topic(), std::cmp::Reverse(c.severity)));
     seen.push(Caution::advisory());
     seen
+}
+
+/// What a caution asks of the operator, in the order they must act on it: a limit of the plant
+/// or of the product's certification, then what a cross-check found, then the process, then
+/// the product's handling and protective equipment (the same on every result for a product,
+/// so it comes last, before the advisory).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
+pub enum Topic {
+    Limit,
+    CrossCheck,
+    Process,
+    Handling,
+}
+
+/// Keys of the limit topic: the plant's permit, its meters and pumps, the product's maximum
+/// use level, a setting no pump can make.
+const LIMIT_KEYS: [&str; 8] = [
+    "dose-above-max-use-level",
+    "max-use-level-typical",
+    "flow-above-meter-range",
+    "pump-not-for-product",
+    "pump-too-small",
+    "setting-beyond-full-scale",
+    "residual-above-limit",
+    "ph-outside-range",
+];
+
+impl Caution {
+    /// The caution's topic, from its key: `site-limit-*` and [`LIMIT_KEYS`] are limits,
+    /// `pump-check-*` a cross-check, `hazard-*`, `incompatible-*` and `ppe-*` handling; every
+    /// other caution is about the process.
+    pub fn topic(&self) -> Topic {
+        let k = self.key.as_str();
+        if k.starts_with("site-limit-") || LIMIT_KEYS.contains(&k) {
+            Topic::Limit
+        } else if k.starts_with("pump-check-") {
+            Topic::CrossCheck
+        } else if ["hazard-", "incompatible-", "ppe-"]
+            .iter()
+            .any(|p| k.starts_with(p))
+        {
+            Topic::Handling
+        } else {
+            Topic::Process
+        }
+    }
 }
 
 /// Renders cautions for the CLI: `[warning] key (name=value, ...)`.
@@ -99,4 +146,41 @@ pub fn render(cautions: &[Caution]) -> String {
             }
         })
         .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A permit breach comes before the handling boxes that every hypochlorite result carries,
+    /// even though those are more severe; the advisory is last.
+    #[test]
+    fn cautions_come_in_the_order_the_operator_acts_on_them() {
+        let keys =
+            |list: Vec<Caution>| -> Vec<String> { list.into_iter().map(|c| c.key).collect() };
+        let finished = finish(vec![
+            Caution::danger("hazard-oxidizer"),
+            Caution::info("ppe-face-shield-gloves"),
+            Caution::warning("ph-effect-end-state"),
+            Caution::warning("pump-check-adjust"),
+            Caution::danger("incompatible-acid-hypochlorite-chlorine-gas"),
+            Caution::warning("site-limit-above"),
+            Caution::danger("dose-above-max-use-level"),
+            Caution::info("zero-dose"),
+        ]);
+        assert_eq!(
+            keys(finished),
+            [
+                "dose-above-max-use-level",
+                "site-limit-above",
+                "pump-check-adjust",
+                "ph-effect-end-state",
+                "zero-dose",
+                "hazard-oxidizer",
+                "incompatible-acid-hypochlorite-chlorine-gas",
+                "ppe-face-shield-gloves",
+                "advisory-operator-decides",
+            ]
+        );
+    }
 }
