@@ -651,12 +651,26 @@ impl<R: std::io::BufRead> BoundedLines<R> {
 /// `molefeed` with no arguments: the app, through the entry Android uses too.
 #[cfg(feature = "app")]
 fn open_app() -> i32 {
+    const NEEDS_DISPLAY: &str = "molefeed: the app needs a graphical display; 'molefeed help' lists the command-line calculators";
+    // On a Linux or BSD desktop without X or Wayland (a server, an SSH session), say so in one
+    // line rather than the windowing library's error with its source paths.
+    let unix_desktop = cfg!(all(unix, not(target_os = "macos"), not(target_os = "android")));
+    let no_display = ["DISPLAY", "WAYLAND_DISPLAY", "WAYLAND_SOCKET"]
+        .iter()
+        .all(|v| std::env::var_os(v).is_none_or(|x| x.is_empty()));
+    if unix_desktop && no_display {
+        eprintln!("{NEEDS_DISPLAY}.");
+        return 2;
+    }
     crate::app::prepare_desktop_fonts();
     match crate::app::run(crate::app::RunOptions::desktop()) {
         Ok(()) => 0,
         Err(e) => {
-            eprintln!("molefeed: cannot open the app window: {e}");
-            1
+            // The first line of the backend's error names the cause; the rest is its internals.
+            let cause = e.to_string();
+            let cause = cause.lines().next().unwrap_or_default().to_string();
+            eprintln!("{NEEDS_DISPLAY} (the window could not open: {cause}).");
+            2
         }
     }
 }

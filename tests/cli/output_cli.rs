@@ -193,3 +193,21 @@ fn cautions_print_as_sentences_and_json_keeps_the_codes() {
         "{human}"
     );
 }
+
+/// Without a display, `molefeed` alone says in one line that the app needs one and where the
+/// command-line calculators are, and fails; no windowing library's internals reach the
+/// operator. (Built without the app, it says that, also in one line.)
+#[test]
+fn the_app_without_a_display_says_so_in_one_line() {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_molefeed"))
+        .env_remove("DISPLAY")
+        .env_remove("WAYLAND_DISPLAY")
+        .env_remove("WAYLAND_SOCKET")
+        .output()
+        .expect("binary runs");
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_ne!(out.status.code(), Some(0), "{err}");
+    assert_eq!(err.trim().lines().count(), 1, "{err}");
+    assert!(err.contains("'molefeed help'"), "{err}");
+    assert!(!err.contains(".cargo/registry"), "{err}");
+}
