@@ -128,6 +128,22 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "natural-ammonia-broken-first",
     "chlorine-short-of-natural-breakpoint",
     "free-ammonia-nitrification",
+    // The plant's other feeds (part A): fluoride, phosphate, permanganate, chlorine dioxide.
+    "hazard-fluoride-acid",
+    "hazard-fluoride-dust",
+    "hazard-carbon-dust",
+    "incompatible-oxidizer-solid-acid",
+    "incompatible-acid-chlorite-clo2-gas",
+    "water-already-at-target",
+    "ph-effect-not-modelled",
+    "fluoride-feed-interlock",
+    "fluoride-full-scale-above-limit",
+    "permanganate-pink-water",
+    "permanganate-no-demand",
+    "clo2-generator-ratio",
+    "clo2-acid-as-pure-hcl",
+    "expected-chlorite-above-limit",
+    "chlorite-conversion-typical",
     // A reading moved by its precision that the calculator refuses (`calculators::ranges`).
     "range-unavailable",
     // CT has no card in the app; the command line prints these sentences.
@@ -189,6 +205,12 @@ pub const TRACE_LABELS: &[&str] = &[
     "target-strength",
     "batch-mass",
     "concentrate-mass",
+    // The plant's other feeds (part A).
+    "phosphate-as-po4",
+    "permanganate-per-iron",
+    "permanganate-per-manganese",
+    "clo2-chlorite",
+    "clo2-reactant",
 ];
 
 /// Where a step's factor comes from (`origin-<code>`), as the adapter names them.
@@ -261,6 +283,7 @@ pub const QUANTITY_NAMES: &[&str] = &[
     "calcium",
     "calcium-hardness",
     "caught mass",
+    "chlorite conversion",
     "check-pump threshold",
     "chloride",
     "chlorine demand",
@@ -275,6 +298,7 @@ pub const QUANTITY_NAMES: &[&str] = &[
     "final volume",
     "flow",
     "flow meter full scale",
+    "generator yield",
     "level drop",
     "lime purity",
     "limit",

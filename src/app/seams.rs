@@ -316,7 +316,11 @@ mod tests {
                 "coagulation",
                 "softening",
                 "pump-check",
-                "feed"
+                "feed",
+                "fluoridation",
+                "corrosion-inhibitor",
+                "permanganate",
+                "chlorine-dioxide"
             ]
         );
         let mut modes: Vec<_> = CalcMode::all().iter().map(|m| m.code()).collect();

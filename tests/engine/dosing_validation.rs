@@ -585,7 +585,7 @@ fn catalog_and_demo_site_are_valid() {
     assert!(
         regulatory_defaults()
             .iter()
-            .all(|l| l.source.contains("CFR"))
+            .all(|l| l.source.contains("CFR") || l.source.contains("Public Health Service"))
     );
     // The typical flow converts through exact definitions: 2.4 MGD = 2.4e6 gal/d × 3.785411784 L/gal.
     let typical = site.typical_flow.expect("demo has a typical flow");
