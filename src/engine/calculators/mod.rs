@@ -870,6 +870,8 @@ fn limit_cautions(inputs: &[Input], request: &Request) -> Vec<Caution> {
 }
 
 #[cfg(test)]
+mod other_feeds_tests;
+#[cfg(test)]
 mod reference_tests;
 #[cfg(test)]
 mod tests;
