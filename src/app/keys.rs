@@ -135,7 +135,7 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "incompatible-oxidizer-solid-acid",
     "incompatible-acid-chlorite-clo2-gas",
     "water-already-at-target",
-    "ph-effect-not-modelled",
+    "water-effect-not-available",
     "fluoride-feed-interlock",
     "fluoride-full-scale-above-limit",
     "permanganate-pink-water",

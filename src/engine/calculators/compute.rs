@@ -1051,7 +1051,7 @@ fn nothing_to_feed(
 
 /// The info caution of a product whose effect on pH and alkalinity is not modelled.
 fn ph_not_modelled(request: &Request) -> Caution {
-    Caution::info("ph-effect-not-modelled")
+    Caution::info("water-effect-not-available")
         .with("product", request.product.as_deref().unwrap_or(""))
 }
 

@@ -162,7 +162,10 @@ fn fluorosilicic_acid_feed_by_hand() {
     assert!(out.result("dose").is_none(), "the dose is fluoride_added");
     assert!(has(&out, "fluoride-feed-interlock"));
     assert!(has(&out, "hazard-fluoride-acid"), "acid handling");
-    assert!(has(&out, "ph-effect-not-modelled"), "no pH after is faked");
+    assert!(
+        has(&out, "water-effect-not-available"),
+        "no pH after is faked"
+    );
     assert!(out.result("ph_after").is_none());
     assert!(
         !has(&out, "site-limit-above"),
@@ -351,7 +354,7 @@ fn phosphate_residual_bases_convert_through_the_formulas() {
         assert!((factor - published).abs() < 0.001, "{mode}: {factor}");
         // Phosphoric acid is all orthophosphate by its formula.
         assert_eq!(got(&out, "orthophosphate_as_po4"), got(&out, "dose_as_po4"));
-        assert!(has(&out, "ph-effect-not-modelled") && out.result("ph_after").is_none());
+        assert!(has(&out, "water-effect-not-available") && out.result("ph_after").is_none());
     }
 }
 
