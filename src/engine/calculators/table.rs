@@ -617,12 +617,12 @@ pub static TABLE: [Calculator; 15] = [
             // Without it, the balanced reaction's 100 %.
             optional(based(
                 own("generator-yield", Q::Percent),
-                "of theoretical ClO2",
+                "ClO2 (of theoretical)",
             )),
             // Without it, the typical share of the dose that becomes chlorite.
             optional(based(
                 own("chlorite-conversion", Q::Percent),
-                "of the ClO2 dose",
+                "ClO2- (of the ClO2 dose)",
             )),
         ],
         product_inputs: ProductInputs::Feed,
