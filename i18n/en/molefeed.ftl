@@ -225,6 +225,7 @@ quantity-chlorite-conversion = share that becomes chlorite
 product-fluorosilicic-acid = Fluorosilicic acid
 product-sodium-fluorosilicate = Sodium fluorosilicate
 product-sodium-fluoride = Sodium fluoride
+product-sodium-fluoride-saturator = Sodium fluoride saturator solution
 product-phosphoric-acid = Phosphoric acid
 product-zinc-orthophosphate = Zinc orthophosphate
 product-blended-phosphate = Blended phosphate (ortho/poly)

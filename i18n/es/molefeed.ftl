@@ -225,6 +225,7 @@ quantity-chlorite-conversion = fracción que pasa a clorito
 product-fluorosilicic-acid = Ácido fluosilícico
 product-sodium-fluorosilicate = Fluosilicato de sodio
 product-sodium-fluoride = Fluoruro de sodio
+product-sodium-fluoride-saturator = Solución de saturador de fluoruro de sodio
 product-phosphoric-acid = Ácido fosfórico
 product-zinc-orthophosphate = Ortofosfato de zinc
 product-blended-phosphate = Mezcla de fosfatos (orto/poli)

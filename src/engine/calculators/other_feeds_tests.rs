@@ -626,3 +626,39 @@ fn expected_chlorite_counts_the_yield_and_meets_the_mcl() {
     r.values.insert("generator-yield", 100.0);
     assert!(c.compute(&r).is_ok());
 }
+
+/// A saturator's solution, 3.8 % NaF by weight at SG 1.04, carries 1040 g/L × 0.038 × 0.45247
+/// = 17.88 g/L as F, the "about 18,000 mg/L" the trade quotes (from memory; within 1 %). 0.5
+/// mg/L added at 10 000 m³/d: 5.00 kg/d F / 17.88 g/L = 279.6 L/d = 11.65 L/h.
+#[test]
+fn a_sodium_fluoride_saturator_feeds_its_fixed_strength() {
+    let out = calculators()
+        .compute(&request(
+            "fluoridation",
+            None,
+            "sodium-fluoride-saturator",
+            &[
+                ("target-fluoride", 0.7),
+                ("natural-fluoride", 0.2),
+                ("strength", 3.8),
+                ("specific-gravity", 1.04),
+                ("pump-capacity", 20.0),
+            ],
+        ))
+        .unwrap();
+    check(
+        &out,
+        &[Case {
+            label: "5.00 kg/d / 17.882 g/L / 24",
+            id: "product_volume_rate",
+            value: 5000.0 / (1040.0 * 0.038 * 0.45247) / 24.0,
+            within: HAND,
+        }],
+    );
+    let f_per_litre_mg =
+        got(&out, "feed_mass_rate") * 1e6 / (got(&out, "product_volume_rate") * 24.0);
+    assert!(
+        (f_per_litre_mg / 18_000.0 - 1.0).abs() < 0.01,
+        "{f_per_litre_mg}"
+    );
+}

@@ -184,10 +184,12 @@ pub(super) fn product_inputs(
 // ---- The plant's other feeds (part A): fluoride, phosphate, permanganate, chlorine dioxide.
 
 /// Fluoride products, liquid first; each is dosed as F through its formula.
-const FLUORIDE_PRODUCTS: [&str; 3] = [
+const FLUORIDE_PRODUCTS: [&str; 4] = [
     "fluorosilicic-acid",
     "sodium-fluorosilicate",
     "sodium-fluoride",
+    // Saturated NaF made on site: its strength is fixed by solubility.
+    "sodium-fluoride-saturator",
 ];
 
 /// Phosphate corrosion inhibitors, each dosed as PO4.
