@@ -1009,12 +1009,17 @@ pub(super) fn sludge(c: &Calculators, request: &Request) -> Result<Outcome> {
 // effect on pH is modelled by the water engine yet (fluoride and phosphate speciation are not
 // in it), so none of them reports a pH after: a caution says so instead of a guess. ----
 
-/// The feed's `dose` shown under the calculator's own result id.
-fn rename(out: &mut Outcome, id: &str, to: &'static str) {
-    for r in &mut out.results {
-        if r.id == id {
-            r.id = to;
-        }
+/// The feed's result `from` also given under the calculator's own id `to` (`fluoride_added`,
+/// `dose_as_po4`, `chlorite_feed_rate`): the card's big places, the log's columns and the
+/// monthly report read the feed's ids, scripts read the named one.
+fn also_as(out: &mut Outcome, from: &str, to: &'static str, headline: bool) {
+    if let Some(r) = out.results.iter().find(|r| r.id == from) {
+        let named = ResultValue {
+            id: to,
+            headline,
+            ..r.clone()
+        };
+        out.results.push(named);
     }
 }
 
@@ -1039,7 +1044,9 @@ fn nothing_to_feed(
 ) -> Outcome {
     let mut out = outcome(basis.to_string());
     out.results
-        .push(headline(id, 0.0, Q::Concentration, Some(basis)));
+        .push(headline("dose", 0.0, Q::Concentration, Some(basis)));
+    out.results
+        .push(result(id, 0.0, Q::Concentration, Some(basis)));
     out.cautions = cautions;
     out.cautions.push(
         Caution::info("water-already-at-target")
@@ -1085,7 +1092,7 @@ pub(super) fn fluoridation(c: &Calculators, request: &Request) -> Result<Outcome
     };
     let r = c.feed_for(request, dose)?;
     let mut out = c.feed_outcome(&r, Vec::new(), cautions)?;
-    rename(&mut out, "dose", "fluoride_added");
+    also_as(&mut out, "dose", "fluoride_added", false);
     // Overfeed guard: at full scale the pump or feeder adds added × 100 / setting.
     if let (Some(setting), Some(limit)) = (
         out.setting,
@@ -1195,7 +1202,7 @@ pub(super) fn corrosion_inhibitor(c: &Calculators, request: &Request) -> Result<
         vec![NamedTrace::new("phosphate-as-po4", trace)],
         cautions,
     )?;
-    rename(&mut out, "dose", "dose_as_po4");
+    also_as(&mut out, "dose", "dose_as_po4", false);
     out.results.push(result(
         "orthophosphate_as_po4",
         dose.value * share / 100.0,
@@ -1338,16 +1345,8 @@ pub(super) fn chlorine_dioxide(c: &Calculators, request: &Request) -> Result<Out
         ],
         cautions,
     )?;
-    // The chlorite product as delivered, by mass: its own id here.
-    rename(&mut out, "product_mass_rate", "chlorite_feed_rate");
-    for r in &mut out.results {
-        if r.id == "chlorite_feed_rate" {
-            r.headline = true;
-        }
-        if r.id == "dose" || r.id == "feed_mass_rate" {
-            r.headline = false;
-        }
-    }
+    // The chlorite product as delivered, by mass, under its own id too.
+    also_as(&mut out, "product_mass_rate", "chlorite_feed_rate", true);
     out.results.insert(
         0,
         headline("clo2_dose", clo2.value, Q::Concentration, Some("ClO2")),

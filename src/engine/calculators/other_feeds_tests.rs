@@ -159,7 +159,9 @@ fn fluorosilicic_acid_feed_by_hand() {
         out.result("fluoride_added").unwrap().basis.as_deref(),
         Some("F")
     );
-    assert!(out.result("dose").is_none(), "the dose is fluoride_added");
+    // The feed's dose (card, log, monthly report) and the named id are the same number.
+    assert_eq!(got(&out, "dose"), got(&out, "fluoride_added"));
+    assert_eq!(out.result("dose").unwrap().basis.as_deref(), Some("F"));
     assert!(has(&out, "fluoride-feed-interlock"));
     assert!(has(&out, "hazard-fluoride-acid"), "acid handling");
     assert!(
@@ -318,6 +320,7 @@ fn water_already_at_the_fluoride_target_feeds_nothing() {
         ))
         .unwrap();
     assert_eq!(got(&out, "fluoride_added"), 0.0);
+    assert_eq!(got(&out, "dose"), 0.0);
     assert!(out.result("feeder_setting").is_none() && out.setting.is_none());
     assert!(has(&out, "water-already-at-target"));
 }

@@ -210,15 +210,6 @@ const CHLORITE_PRODUCTS: [&str; 2] = ["sodium-chlorite", "sodium-chlorite-dry"];
 /// Basis of a phosphate residual: the calculator's mode (as PO4, as P or as P2O5).
 const RESIDUAL_BASIS: &str = "residual-basis";
 
-/// The feed results after the dose (which these calculators name their own way).
-const FEED_AFTER_DOSE: [ResultSpec; 5] = [
-    FEED_RESULTS[1],
-    FEED_RESULTS[2],
-    FEED_RESULTS[3],
-    FEED_RESULTS[4],
-    FEED_RESULTS[5],
-];
-
 pub static TABLE: [Calculator; 15] = [
     Calculator {
         id: "ph-adjustment",
@@ -548,12 +539,14 @@ pub static TABLE: [Calculator; 15] = [
         product_inputs: ProductInputs::Feed,
         offer: Offer::Listed(&FLUORIDE_PRODUCTS),
         results: &[
-            headline("fluoride_added", Q::Concentration).on("F"),
-            FEED_AFTER_DOSE[0],
-            FEED_AFTER_DOSE[1],
-            FEED_AFTER_DOSE[2],
-            FEED_AFTER_DOSE[3],
-            FEED_AFTER_DOSE[4],
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            FEED_RESULTS[5],
+            // The dose (as F) under the name scripts rely on.
+            secondary("fluoride_added", Q::Concentration).on("F"),
         ],
         in_app: true,
         compute: compute::fluoridation,
@@ -575,12 +568,14 @@ pub static TABLE: [Calculator; 15] = [
         product_inputs: ProductInputs::Feed,
         offer: Offer::Listed(&PHOSPHATE_PRODUCTS),
         results: &[
-            headline("dose_as_po4", Q::Concentration).on("PO4"),
-            FEED_AFTER_DOSE[0],
-            FEED_AFTER_DOSE[1],
-            FEED_AFTER_DOSE[2],
-            FEED_AFTER_DOSE[3],
-            FEED_AFTER_DOSE[4],
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            FEED_RESULTS[5],
+            // The dose (as PO4) under the name scripts rely on.
+            secondary("dose_as_po4", Q::Concentration).on("PO4"),
             secondary("orthophosphate_as_po4", Q::Concentration).on("PO4"),
         ],
         in_app: true,
@@ -631,15 +626,18 @@ pub static TABLE: [Calculator; 15] = [
         offer: Offer::Listed(&CHLORITE_PRODUCTS),
         results: &[
             headline("clo2_dose", Q::Concentration).on("ClO2"),
-            headline("chlorite_feed_rate", Q::MassPerDay).on(PRODUCT),
+            // The feed of the sodium chlorite (its dose as NaClO2).
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
             FEED_RESULTS[2],
+            FEED_RESULTS[3],
             FEED_RESULTS[4],
             FEED_RESULTS[5],
+            // The chlorite product as delivered, kg/d (the same as product_mass_rate).
+            headline("chlorite_feed_rate", Q::MassPerDay).on(PRODUCT),
             // Cl2 for the chlorine route, HCl (as 100 %) for the acid route.
             headline("chlorine_or_acid_feed_rate", Q::MassPerDay).on("Cl2 or HCl"),
             headline("expected_chlorite", Q::Concentration).on("ClO2-"),
-            secondary("dose", Q::Concentration).on(DOSE_AS),
-            secondary("feed_mass_rate", Q::MassPerDay).on(DOSE_AS),
         ],
         in_app: true,
         compute: compute::chlorine_dioxide,
