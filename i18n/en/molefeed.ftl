@@ -222,6 +222,7 @@ trace-clo2-chlorite = Sodium chlorite for the chlorine dioxide
 trace-clo2-reactant = Chlorine or acid for the chlorine dioxide
 quantity-generator-yield = generator yield
 quantity-chlorite-conversion = share that becomes chlorite
+quantity-orthophosphate-share = orthophosphate share
 product-fluorosilicic-acid = Fluorosilicic acid
 product-sodium-fluorosilicate = Sodium fluorosilicate
 product-sodium-fluoride = Sodium fluoride

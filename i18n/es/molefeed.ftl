@@ -222,6 +222,7 @@ trace-clo2-chlorite = Clorito de sodio para el dióxido de cloro
 trace-clo2-reactant = Cloro o ácido para el dióxido de cloro
 quantity-generator-yield = rendimiento del generador
 quantity-chlorite-conversion = fracción que pasa a clorito
+quantity-orthophosphate-share = fracción de ortofosfato
 product-fluorosilicic-acid = Ácido fluosilícico
 product-sodium-fluorosilicate = Fluosilicato de sodio
 product-sodium-fluoride = Fluoruro de sodio

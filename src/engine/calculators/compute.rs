@@ -1164,7 +1164,8 @@ pub(super) fn corrosion_inhibitor(c: &Calculators, request: &Request) -> Result<
     let present = measured(request, "present-residual")?;
     let product = chosen(request)?;
     let share = match request.get("orthophosphate-share") {
-        Some(share) => share,
+        // From 1 %: a share typed as a fraction (0.7 for 70 %) is refused.
+        Some(share) => crate::engine::check_range("orthophosphate share", share, 1.0, 100.0, "%")?,
         None if ORTHO_SHARE_STATED.contains(&product) => {
             return Err(Error::new(
                 ErrorKind::InvalidInput,
@@ -1289,7 +1290,8 @@ pub(super) fn chlorine_dioxide(c: &Calculators, request: &Request) -> Result<Out
     let conversion = request
         .get("chlorite-conversion")
         .unwrap_or(CHLORITE_FROM_CLO2_PERCENT);
-    crate::engine::check_range("chlorite conversion", conversion, 0.0, 100.0, "%")?;
+    // From 1 %: a share typed as a fraction (0.6 for 60 %) is refused, not taken as 0.6 %.
+    crate::engine::check_range("chlorite conversion", conversion, 1.0, 100.0, "%")?;
     let balanced = c.catalog.reaction(reaction)?;
     let origin = || Origin::MoleRatio {
         reaction: balanced.to_string(),

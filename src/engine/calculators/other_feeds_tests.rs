@@ -414,6 +414,9 @@ fn a_blended_phosphate_needs_its_orthophosphate_share() {
     r.values.insert("orthophosphate-share", 60.0);
     let out = c.compute(&r).unwrap();
     assert!((got(&out, "orthophosphate_as_po4") - 0.9).abs() < 1e-9);
+    // 0.6 is a fraction typed for 60 %: refused, not read as 0.6 %.
+    r.values.insert("orthophosphate-share", 0.6);
+    assert!(c.compute(&r).is_err());
     assert!((got(&out, "dose_as_po4") - 1.5).abs() < 1e-9);
 }
 
@@ -627,6 +630,14 @@ fn expected_chlorite_counts_the_yield_and_meets_the_mcl() {
     );
     assert!(c.compute(&r).is_err());
     r.values.insert("generator-yield", 100.0);
+    assert!(c.compute(&r).is_ok());
+    // Shares typed as fractions are refused, not read as 0.95 % or 0.6 %.
+    r.values.insert("generator-yield", 0.95);
+    assert!(c.compute(&r).is_err());
+    r.values.insert("generator-yield", 95.0);
+    r.values.insert("chlorite-conversion", 0.6);
+    assert!(c.compute(&r).is_err());
+    r.values.insert("chlorite-conversion", 60.0);
     assert!(c.compute(&r).is_ok());
 }
 
