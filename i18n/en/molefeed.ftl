@@ -311,6 +311,7 @@ error-reason-alkalinity-below-end-point = At pH { $ph }, below the alkalinity ti
 error-reason-water-co2-beyond-solubility = pH { $ph } with alkalinity { $alkalinity } mg/L as CaCO₃ means { $co2 } mg/L of free CO₂, more than water holds at { $temperature } °C under one atmosphere of CO₂ ({ $solubility } mg/L): one of the readings is wrong.
 error-reason-gas-dose-beyond-solubility = { $dose } mg/L of { $gas } is more than dissolves in water at { $temperature } °C under one atmosphere of the gas ({ $solubility } mg/L): this dose cannot be fed.
 error-reason-missing-input = An entry this calculation needs is missing.
+error-reason-negative-reading = { $input } cannot be negative ({ $value }): a concentration is zero or more.
 error-reason-not-finite = An entry is not a finite number.
 error-reason-unknown-calculator = There is no such calculator.
 error-reason-unknown-mode = This calculator has no such variant.

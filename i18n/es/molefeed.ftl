@@ -311,6 +311,7 @@ error-reason-alkalinity-below-end-point = A pH { $ph }, por debajo del punto fin
 error-reason-water-co2-beyond-solubility = Un pH de { $ph } con alcalinidad de { $alkalinity } mg/L como CaCO₃ implica { $co2 } mg/L de CO₂ libre, más de lo que el agua retiene a { $temperature } °C bajo una atmósfera de CO₂ ({ $solubility } mg/L): una de las lecturas está mal.
 error-reason-gas-dose-beyond-solubility = { $dose } mg/L de { $gas } es más de lo que se disuelve en agua a { $temperature } °C bajo una atmósfera del gas ({ $solubility } mg/L): esta dosis no se puede aplicar.
 error-reason-missing-input = Falta un dato que este cálculo necesita.
+error-reason-negative-reading = { $input } no puede ser negativo ({ $value }): una concentración es cero o más.
 error-reason-not-finite = Un dato no es un número finito.
 error-reason-unknown-calculator = No existe esa calculadora.
 error-reason-unknown-mode = Esta calculadora no tiene esa variante.

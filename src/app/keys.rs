@@ -230,6 +230,7 @@ pub const ORIGIN_CODES: &[&str] = &[
 pub const ERROR_REASONS: &[&str] = &[
     "product-not-for-calculator",
     "missing-input",
+    "negative-reading",
     "not-finite",
     "result-not-finite",
     "unknown-calculator",

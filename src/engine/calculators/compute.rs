@@ -1023,14 +1023,28 @@ fn also_as(out: &mut Outcome, from: &str, to: &'static str, headline: bool) {
     }
 }
 
-/// An optional input, absent meaning none (an exact zero).
-fn measured_or_zero(request: &Request, name: &str) -> Measured {
-    request
-        .get(name)
-        .map_or(Measured::exact(0.0), |value| Measured {
-            value,
-            sig_figs: request.figures(name),
-        })
+/// A reading or target that cannot be below zero (a concentration), with its figures; a
+/// negative one is refused: it would lower the dose silently.
+fn not_negative(request: &Request, name: &str) -> Result<Measured> {
+    let m = measured(request, name)?;
+    if m.value < 0.0 {
+        return Err(Error::new(
+            ErrorKind::OutOfRange,
+            format!("{name} cannot be negative ({})", m.value),
+        )
+        .because("negative-reading")
+        .with("input", name.to_string())
+        .with("value", m.value));
+    }
+    Ok(m)
+}
+
+/// An optional input, absent meaning none (an exact zero); a negative one is refused.
+fn not_negative_or_zero(request: &Request, name: &str) -> Result<Measured> {
+    match request.get(name) {
+        Some(_) => not_negative(request, name),
+        None => Ok(Measured::exact(0.0)),
+    }
 }
 
 /// The outcome when the water already holds what the target asks for: nothing is fed, so no
@@ -1068,8 +1082,8 @@ fn ph_not_modelled(request: &Request) -> Caution {
 /// F), never from a typed fraction. An overfeed guard compares the dose the pump or feeder
 /// would give at full scale with the fluoride limit.
 pub(super) fn fluoridation(c: &Calculators, request: &Request) -> Result<Outcome> {
-    let target = measured(request, "target-fluoride")?;
-    let natural = measured(request, "natural-fluoride")?;
+    let target = not_negative(request, "target-fluoride")?;
+    let natural = not_negative(request, "natural-fluoride")?;
     let added = target.value - natural.value;
     // Fluoride feed is interlocked with the water flow (common practice: a fluoride pump
     // that runs with no flow is the classic overfeed).
@@ -1160,8 +1174,8 @@ const ORTHO_SHARE_STATED: [&str; 1] = ["blended-phosphate"];
 /// data sheet's share is typed; a blended phosphate needs its data sheet's share.
 pub(super) fn corrosion_inhibitor(c: &Calculators, request: &Request) -> Result<Outcome> {
     let basis = residual_basis(request.mode);
-    let target = measured(request, "target-residual")?;
-    let present = measured(request, "present-residual")?;
+    let target = not_negative(request, "target-residual")?;
+    let present = not_negative(request, "present-residual")?;
     let product = chosen(request)?;
     let share = match request.get("orthophosphate-share") {
         // From 1 %: a share typed as a fraction (0.7 for 70 %) is refused.
@@ -1217,7 +1231,7 @@ pub(super) fn corrosion_inhibitor(c: &Calculators, request: &Request) -> Result<
 /// (mg KMnO4 per mg Fe and per mg Mn from the balanced reactions in `data/reactions.json`)
 /// plus any other demand the operator knows (mg/L as KMnO4), then its feed.
 pub(super) fn permanganate(c: &Calculators, request: &Request) -> Result<Outcome> {
-    let other = measured_or_zero(request, "other-demand");
+    let other = not_negative_or_zero(request, "other-demand")?;
     let mut terms = vec![other];
     let mut traces = Vec::new();
     for (input, reaction, ion, label) in [
@@ -1229,7 +1243,7 @@ pub(super) fn permanganate(c: &Calculators, request: &Request) -> Result<Outcome
             "permanganate-per-manganese",
         ),
     ] {
-        let m = measured(request, input)?;
+        let m = not_negative(request, input)?;
         let element = ion.trim_end_matches("+2");
         let (per, origin) = c.catalog.mass_ratio(reaction, ion, "KMnO4")?;
         let mut t = Trace::new(
@@ -1280,7 +1294,7 @@ pub(super) const CHLORITE_FROM_CLO2_PERCENT: f64 = 70.0;
 /// reduces to chlorite, plus chlorite fed beyond what a generator below 100 % yield converts),
 /// checked against the chlorite limit.
 pub(super) fn chlorine_dioxide(c: &Calculators, request: &Request) -> Result<Outcome> {
-    let clo2 = measured(request, "clo2-dose")?;
+    let clo2 = not_negative(request, "clo2-dose")?;
     let (reaction, reactant) = match request.mode {
         Some("acid-chlorite") => ("chlorine-dioxide-acid-chlorite", "HCl"),
         _ => ("chlorite-chlorine-dioxide", "Cl2"),

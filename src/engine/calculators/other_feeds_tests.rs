@@ -676,3 +676,54 @@ fn a_sodium_fluoride_saturator_feeds_its_fixed_strength() {
         "{f_per_litre_mg}"
     );
 }
+
+/// A negative reading or target would lower the dose without a word: each is refused.
+#[test]
+fn negative_readings_are_refused() {
+    let c = calculators();
+    for (id, mode, product, values, negative) in [
+        (
+            "fluoridation",
+            None,
+            "sodium-fluoride",
+            vec![("target-fluoride", 0.7), ("natural-fluoride", 0.2)],
+            "natural-fluoride",
+        ),
+        (
+            "corrosion-inhibitor",
+            Some("residual-as-p"),
+            "sodium-orthophosphate",
+            vec![("target-residual", 1.0), ("present-residual", 0.2)],
+            "present-residual",
+        ),
+        (
+            "permanganate",
+            None,
+            "potassium-permanganate",
+            vec![("iron", 1.0), ("manganese", 0.2), ("other-demand", 0.1)],
+            "iron",
+        ),
+        (
+            "permanganate",
+            None,
+            "potassium-permanganate",
+            vec![("iron", 1.0), ("manganese", 0.2), ("other-demand", 0.1)],
+            "other-demand",
+        ),
+        (
+            "chlorine-dioxide",
+            None,
+            "sodium-chlorite-dry",
+            vec![("clo2-dose", 0.5)],
+            "clo2-dose",
+        ),
+    ] {
+        let mut values = values;
+        values.extend([("purity", 90.0), ("dry-feeder-capacity", 100.0)]);
+        let mut r = request(id, mode, product, &values);
+        assert!(c.compute(&r).is_ok(), "{id}");
+        r.values.insert(negative, -0.5);
+        let e = c.compute(&r).unwrap_err();
+        assert_eq!(e.reason(), Some("negative-reading"), "{id} {negative}: {e}");
+    }
+}
