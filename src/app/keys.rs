@@ -128,6 +128,22 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "natural-ammonia-broken-first",
     "chlorine-short-of-natural-breakpoint",
     "free-ammonia-nitrification",
+    // The plant's other feeds (part A): fluoride, phosphate, permanganate, chlorine dioxide.
+    "hazard-fluoride-acid",
+    "hazard-fluoride-dust",
+    "hazard-carbon-dust",
+    "incompatible-oxidizer-solid-acid",
+    "incompatible-acid-chlorite-clo2-gas",
+    "water-already-at-target",
+    "water-effect-not-available",
+    "fluoride-feed-interlock",
+    "fluoride-full-scale-above-limit",
+    "permanganate-pink-water",
+    "permanganate-no-demand",
+    "clo2-generator-ratio",
+    "clo2-acid-as-pure-hcl",
+    "expected-chlorite-above-limit",
+    "chlorite-conversion-typical",
     // A reading moved by its precision that the calculator refuses (`calculators::ranges`).
     "range-unavailable",
     // CT has no card in the app; the command line prints these sentences.
@@ -207,6 +223,12 @@ pub const TRACE_LABELS: &[&str] = &[
     "polymer-neat",
     "jar-dose",
     "product-per-compound",
+    // The plant's other feeds (part A).
+    "phosphate-as-po4",
+    "permanganate-per-iron",
+    "permanganate-per-manganese",
+    "clo2-chlorite",
+    "clo2-reactant",
 ];
 
 /// Where a step's factor comes from (`origin-<code>`), as the adapter names them.
@@ -226,6 +248,7 @@ pub const ORIGIN_CODES: &[&str] = &[
 pub const ERROR_REASONS: &[&str] = &[
     "product-not-for-calculator",
     "missing-input",
+    "negative-reading",
     "not-finite",
     "result-not-finite",
     "unknown-calculator",
@@ -285,6 +308,7 @@ pub const QUANTITY_NAMES: &[&str] = &[
     "chlorine demand",
     "chlorine dose",
     "chlorine residual",
+    "chlorite conversion",
     "coagulant dose",
     "conductivity",
     "contact time",
@@ -294,6 +318,7 @@ pub const QUANTITY_NAMES: &[&str] = &[
     "final volume",
     "flow",
     "flow meter full scale",
+    "generator yield",
     "level drop",
     "lime purity",
     "limit",
@@ -301,6 +326,7 @@ pub const QUANTITY_NAMES: &[&str] = &[
     "maximum dose",
     "maximum speed",
     "maximum use level",
+    "orthophosphate share",
     "pH",
     "points",
     "potassium",

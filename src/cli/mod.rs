@@ -654,7 +654,11 @@ fn open_app() -> i32 {
     const NEEDS_DISPLAY: &str = "molefeed: the app needs a graphical display; 'molefeed help' lists the command-line calculators";
     // On a Linux or BSD desktop without X or Wayland (a server, an SSH session), say so in one
     // line rather than the windowing library's error with its source paths.
-    let unix_desktop = cfg!(all(unix, not(target_os = "macos"), not(target_os = "android")));
+    let unix_desktop = cfg!(all(
+        unix,
+        not(target_os = "macos"),
+        not(target_os = "android")
+    ));
     let no_display = ["DISPLAY", "WAYLAND_DISPLAY", "WAYLAND_SOCKET"]
         .iter()
         .all(|v| std::env::var_os(v).is_none_or(|x| x.is_empty()));

@@ -75,6 +75,18 @@ fn reading(input: &Input, strength: Option<(f64, Option<f64>)>) -> Option<String
         "stock-concentration" => "10",
         "ml-dosed" => "3",
         "jar-volume-ml" => "1000",
+        // The plant's other feeds (part A).
+        "target-fluoride" => "0.7",
+        "natural-fluoride" => "0.2",
+        "target-residual" => "1.0",
+        "present-residual" => "0.3",
+        "orthophosphate-share" => "70",
+        "iron" => "0.8",
+        "manganese" => "0.15",
+        "other-demand" => "0.5",
+        "clo2-dose" => "0.6",
+        "generator-yield" => "95",
+        "chlorite-conversion" => "60",
         "strength" | "purity" => return strength.map(|(s, _)| s.to_string()),
         "specific-gravity" => return strength.and_then(|(_, sg)| sg).map(|sg| sg.to_string()),
         // Optional readings the cases leave out (ammonia in the water).

@@ -368,11 +368,13 @@ fn every_result_carries_the_advisory_note_last() {
                 .count(),
             1
         );
-        // Most severe first.
-        assert!(
-            list.windows(2)
-                .all(|w| w[0].severity >= w[1].severity || w[1].key == "advisory-operator-decides")
-        );
+        // What must be acted on first (limits, cross-check, process, handling), the most
+        // severe first within each.
+        assert!(list.windows(2).all(|w| {
+            let order =
+                |c: &molefeed::engine::dosing::Caution| (c.topic(), std::cmp::Reverse(c.severity));
+            order(&w[0]) <= order(&w[1]) || w[1].key == "advisory-operator-decides"
+        }));
     }
 }
 
@@ -585,7 +587,7 @@ fn catalog_and_demo_site_are_valid() {
     assert!(
         regulatory_defaults()
             .iter()
-            .all(|l| l.source.contains("CFR"))
+            .all(|l| l.source.contains("CFR") || l.source.contains("Public Health Service"))
     );
     // The typical flow converts through exact definitions: 2.4 MGD = 2.4e6 gal/d × 3.785411784 L/gal.
     let typical = site.typical_flow.expect("demo has a typical flow");

@@ -1010,3 +1010,405 @@ pub(super) fn sludge(c: &Calculators, request: &Request) -> Result<Outcome> {
     out.cautions = r.cautions;
     Ok(out)
 }
+
+// ---- The plant's other feeds (part A): fluoridation, corrosion inhibitor, permanganate and
+// chlorine dioxide. Each dose is built from the balanced reactions and formulas of `data/`,
+// then fed through the same product path as every other calculator. None of these products'
+// effect on pH is modelled by the water engine yet (fluoride and phosphate speciation are not
+// in it), so none of them reports a pH after: a caution says so instead of a guess. ----
+
+/// The feed's result `from` also given under the calculator's own id `to` (`fluoride_added`,
+/// `dose_as_po4`, `chlorite_feed_rate`): the card's big places, the log's columns and the
+/// monthly report read the feed's ids, scripts read the named one.
+fn also_as(out: &mut Outcome, from: &str, to: &'static str, headline: bool) {
+    if let Some(r) = out.results.iter().find(|r| r.id == from) {
+        let named = ResultValue {
+            id: to,
+            headline,
+            ..r.clone()
+        };
+        out.results.push(named);
+    }
+}
+
+/// A reading or target that cannot be below zero (a concentration), with its figures; a
+/// negative one is refused: it would lower the dose silently.
+fn not_negative(request: &Request, name: &str) -> Result<Measured> {
+    let m = measured(request, name)?;
+    if m.value < 0.0 {
+        return Err(Error::new(
+            ErrorKind::OutOfRange,
+            format!("{name} cannot be negative ({})", m.value),
+        )
+        .because("negative-reading")
+        .with("input", name.to_string())
+        .with("value", m.value));
+    }
+    Ok(m)
+}
+
+/// An optional input, absent meaning none (an exact zero); a negative one is refused.
+fn not_negative_or_zero(request: &Request, name: &str) -> Result<Measured> {
+    match request.get(name) {
+        Some(_) => not_negative(request, name),
+        None => Ok(Measured::exact(0.0)),
+    }
+}
+
+/// The outcome when the water already holds what the target asks for: nothing is fed, so no
+/// feed rate and no setting; the caution says why.
+fn nothing_to_feed(
+    id: &'static str,
+    basis: &str,
+    present: f64,
+    target: f64,
+    cautions: Vec<Caution>,
+) -> Outcome {
+    let mut out = outcome(basis.to_string());
+    out.results
+        .push(headline("dose", 0.0, Q::Concentration, Some(basis)));
+    out.results
+        .push(result(id, 0.0, Q::Concentration, Some(basis)));
+    out.cautions = cautions;
+    out.cautions.push(
+        Caution::info("water-already-at-target")
+            .with("present", crate::engine::sigfig::format_sig(present, 3))
+            .with("target", crate::engine::sigfig::format_sig(target, 3)),
+    );
+    out
+}
+
+/// The info caution of a product whose effect on pH and alkalinity is not modelled.
+fn ph_not_modelled(request: &Request) -> Caution {
+    Caution::info("water-effect-not-available")
+        .with("product", request.product.as_deref().unwrap_or(""))
+}
+
+/// Fluoridation: the fluoride to add (target less what the water carries, as F), fed as
+/// fluorosilicic acid, sodium fluorosilicate or sodium fluoride. The available fluoride of each
+/// compound comes from its formula (the catalog relates compound and dose through the element
+/// F), never from a typed fraction. An overfeed guard compares the dose the pump or feeder
+/// would give at full scale with the fluoride limit.
+pub(super) fn fluoridation(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let target = not_negative(request, "target-fluoride")?;
+    let natural = not_negative(request, "natural-fluoride")?;
+    let added = target.value - natural.value;
+    // Fluoride feed is interlocked with the water flow (common practice: a fluoride pump
+    // that runs with no flow is the classic overfeed).
+    let cautions = vec![
+        Caution::warning("fluoride-feed-interlock"),
+        ph_not_modelled(request),
+    ];
+    if added <= 0.0 {
+        return Ok(nothing_to_feed(
+            "fluoride_added",
+            "F",
+            natural.value,
+            target.value,
+            cautions,
+        ));
+    }
+    let dose = Measured {
+        value: added,
+        sig_figs: sum_figures(&[target, natural], added),
+    };
+    let r = c.feed_for(request, dose)?;
+    let mut out = c.feed_outcome(&r, Vec::new(), cautions)?;
+    also_as(&mut out, "dose", "fluoride_added", false);
+    // Overfeed guard: at full scale the pump or feeder adds added × 100 / setting.
+    if let (Some(setting), Some(limit)) = (
+        out.setting,
+        crate::engine::dosing::site::effective_limit(&request.limits, "fluoride"),
+    ) && let Some(max) = limit.max
+        && setting.percent > 0.0
+    {
+        let at_full_scale = natural.value + added * 100.0 / setting.percent;
+        if at_full_scale > max {
+            out.cautions.push(
+                Caution::warning("fluoride-full-scale-above-limit")
+                    .with(
+                        "full_scale",
+                        crate::engine::sigfig::format_sig(at_full_scale, 3),
+                    )
+                    .with("limit", crate::engine::sigfig::format_sig(max, 3))
+                    .with("source", &limit.source),
+            );
+        }
+    }
+    Ok(out)
+}
+
+/// The compound a phosphate residual is expressed as, by the calculator's mode.
+fn residual_basis(mode: Option<&str>) -> &'static str {
+    match mode {
+        Some("residual-as-p") => "P",
+        Some("residual-as-p2o5") => "P2O5",
+        _ => "PO4",
+    }
+}
+
+/// mg/L as PO4 per mg/L as `basis`, through the phosphorus both contain, as trace steps:
+/// `mg/L basis` → `mmol/L P` → `mg/L PO4`.
+fn phosphate_as_po4(trace: &mut Trace, basis: &str) -> Result<()> {
+    use crate::engine::formula::Formula;
+    if basis == "PO4" {
+        return Ok(());
+    }
+    for (formula, from) in [(basis, true), ("PO4", false)] {
+        let f = Formula::parse(formula)?;
+        let p = f.count("P") as f64;
+        let (mass, mol) = (
+            Quantity::of(f.molar_mass(), "mg/L", formula),
+            Quantity::of(p, "mmol/L", "P"),
+        );
+        let origin = Origin::MolarMass {
+            formula: formula.to_string(),
+        };
+        if from {
+            trace.then(mol, mass, origin, None)?;
+        } else {
+            trace.then(mass, mol, origin, None)?;
+        }
+    }
+    Ok(())
+}
+
+/// Phosphate products whose orthophosphate share is the data sheet's, not the formula's.
+const ORTHO_SHARE_STATED: [&str; 1] = ["blended-phosphate"];
+
+/// Corrosion inhibitor: the phosphate to add (target less present, both on the mode's basis:
+/// PO4, P or P2O5), converted to PO4 through the formulas, its orthophosphate part, and the
+/// product's feed. An orthophosphate product is all orthophosphate by its formula unless the
+/// data sheet's share is typed; a blended phosphate needs its data sheet's share.
+pub(super) fn corrosion_inhibitor(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let basis = residual_basis(request.mode);
+    let target = not_negative(request, "target-residual")?;
+    let present = not_negative(request, "present-residual")?;
+    let product = chosen(request)?;
+    let share = match request.get("orthophosphate-share") {
+        // From 1 %: a share typed as a fraction (0.7 for 70 %) is refused.
+        Some(share) => crate::engine::check_range("orthophosphate share", share, 1.0, 100.0, "%")?,
+        None if ORTHO_SHARE_STATED.contains(&product) => {
+            return Err(Error::new(
+                ErrorKind::InvalidInput,
+                "orthophosphate-share is missing: a blend's share is on its data sheet",
+            )
+            .because("missing-input")
+            .with("input", "orthophosphate-share"));
+        }
+        None => 100.0,
+    };
+    let cautions = vec![ph_not_modelled(request)];
+    let added = target.value - present.value;
+    if added <= 0.0 {
+        return Ok(nothing_to_feed(
+            "dose_as_po4",
+            "PO4",
+            present.value,
+            target.value,
+            cautions,
+        ));
+    }
+    let mut trace = Trace::new(
+        Quantity::of(added, "mg/L", basis),
+        Origin::Measured,
+        sum_figures(&[target, present], added),
+    );
+    phosphate_as_po4(&mut trace, basis)?;
+    let dose = Measured {
+        value: trace.value(),
+        sig_figs: trace.sig_figs(),
+    };
+    let r = c.feed_for(request, dose)?;
+    let mut out = c.feed_outcome(
+        &r,
+        vec![NamedTrace::new("phosphate-as-po4", trace)],
+        cautions,
+    )?;
+    also_as(&mut out, "dose", "dose_as_po4", false);
+    out.results.push(result(
+        "orthophosphate_as_po4",
+        dose.value * share / 100.0,
+        Q::Concentration,
+        Some("PO4"),
+    ));
+    Ok(out)
+}
+
+/// Potassium permanganate: the stoichiometric dose for the iron and manganese to oxidise
+/// (mg KMnO4 per mg Fe and per mg Mn from the balanced reactions in `data/reactions.json`)
+/// plus any other demand the operator knows (mg/L as KMnO4), then its feed.
+pub(super) fn permanganate(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let other = not_negative_or_zero(request, "other-demand")?;
+    let mut terms = vec![other];
+    let mut traces = Vec::new();
+    for (input, reaction, ion, label) in [
+        ("iron", "permanganate-iron", "Fe+2", "permanganate-per-iron"),
+        (
+            "manganese",
+            "permanganate-manganese",
+            "Mn+2",
+            "permanganate-per-manganese",
+        ),
+    ] {
+        let m = not_negative(request, input)?;
+        let element = ion.trim_end_matches("+2");
+        let (per, origin) = c.catalog.mass_ratio(reaction, ion, "KMnO4")?;
+        let mut t = Trace::new(
+            Quantity::of(m.value, "mg/L", element),
+            Origin::Measured,
+            m.sig_figs,
+        );
+        t.then(
+            Quantity::of(per, "mg/L", "KMnO4"),
+            Quantity::of(1.0, "mg/L", element),
+            origin,
+            None,
+        )?;
+        terms.push(Measured {
+            value: t.value(),
+            sig_figs: m.sig_figs,
+        });
+        traces.push(NamedTrace::new(label, t));
+    }
+    let total: f64 = terms.iter().map(|m| m.value).sum();
+    let mut cautions = vec![Caution::warning("permanganate-pink-water")];
+    if total <= 0.0 {
+        let mut out = outcome("KMnO4".into());
+        out.results
+            .push(headline("dose", 0.0, Q::Concentration, Some("KMnO4")));
+        cautions.push(Caution::info("permanganate-no-demand"));
+        out.cautions = cautions;
+        out.traces = traces;
+        return Ok(out);
+    }
+    let dose = Measured {
+        value: total,
+        sig_figs: sum_figures(&terms, total),
+    };
+    let r = c.feed_for(request, dose)?;
+    c.feed_outcome(&r, traces, cautions)
+}
+
+/// Percent of a chlorine dioxide dose that typically leaves as chlorite, used when the plant
+/// gives none: the upper end of the 50–70 % range (US EPA, Alternative Disinfectants and
+/// Oxidants Guidance Manual, EPA 815-R-99-014, 1999, ch. 4; from memory), so the estimate does
+/// not understate.
+pub(super) const CHLORITE_FROM_CLO2_PERCENT: f64 = 70.0;
+
+/// Chlorine dioxide: the sodium chlorite and the chlorine or acid a generator needs for a ClO2
+/// dose, from the route's balanced reaction at 100 % yield (or the yield given), then the
+/// chlorite product's feed; and the chlorite the water can expect (the part of the dose that
+/// reduces to chlorite, plus chlorite fed beyond what a generator below 100 % yield converts),
+/// checked against the chlorite limit.
+pub(super) fn chlorine_dioxide(c: &Calculators, request: &Request) -> Result<Outcome> {
+    let clo2 = not_negative(request, "clo2-dose")?;
+    let (reaction, reactant) = match request.mode {
+        Some("acid-chlorite") => ("chlorine-dioxide-acid-chlorite", "HCl"),
+        _ => ("chlorite-chlorine-dioxide", "Cl2"),
+    };
+    let yield_percent = request.get("generator-yield").unwrap_or(100.0);
+    crate::engine::check_range("generator yield", yield_percent, 1.0, 100.0, "%")?;
+    let conversion = request
+        .get("chlorite-conversion")
+        .unwrap_or(CHLORITE_FROM_CLO2_PERCENT);
+    // From 1 %: a share typed as a fraction (0.6 for 60 %) is refused, not taken as 0.6 %.
+    crate::engine::check_range("chlorite conversion", conversion, 1.0, 100.0, "%")?;
+    let balanced = c.catalog.reaction(reaction)?;
+    let origin = || Origin::MoleRatio {
+        reaction: balanced.to_string(),
+    };
+    // ClO2 → NaClO2 at the reaction's ratio, then ÷ yield.
+    let mut chlorite = Trace::new(
+        Quantity::of(clo2.value, "mg/L", "ClO2"),
+        Origin::Measured,
+        clo2.sig_figs,
+    );
+    let per_chlorite = balanced.mass_ratio("ClO2", "NaClO2")?;
+    chlorite.then(
+        Quantity::of(per_chlorite, "mg/L", "NaClO2"),
+        Quantity::of(1.0, "mg/L", "ClO2"),
+        origin(),
+        None,
+    )?;
+    let at_full_yield = chlorite.value();
+    if yield_percent < 100.0 {
+        chlorite.then(
+            Quantity::of(100.0, "mg/L", "NaClO2"),
+            Quantity::of(yield_percent, "mg/L", "NaClO2"),
+            Origin::Measured,
+            request.figures("generator-yield"),
+        )?;
+    }
+    let mut reactant_trace = Trace::new(
+        Quantity::of(clo2.value, "mg/L", "ClO2"),
+        Origin::Measured,
+        clo2.sig_figs,
+    );
+    reactant_trace.then(
+        Quantity::of(balanced.mass_ratio("ClO2", reactant)?, "mg/L", reactant),
+        Quantity::of(1.0, "mg/L", "ClO2"),
+        origin(),
+        None,
+    )?;
+    let dose = Measured {
+        value: chlorite.value(),
+        sig_figs: chlorite.sig_figs(),
+    };
+    let mut cautions = vec![Caution::warning("clo2-generator-ratio")];
+    if reactant == "HCl" {
+        cautions.push(Caution::info("clo2-acid-as-pure-hcl"));
+    }
+    let r = c.feed_for(request, dose)?;
+    let reactant_kg_per_day = reactant_trace.value() * value(request, "flow")? / 1000.0;
+    let mut out = c.feed_outcome(
+        &r,
+        vec![
+            NamedTrace::new("clo2-chlorite", chlorite),
+            NamedTrace::new("clo2-reactant", reactant_trace),
+        ],
+        cautions,
+    )?;
+    // The chlorite product as delivered, by mass, under its own id too.
+    also_as(&mut out, "product_mass_rate", "chlorite_feed_rate", true);
+    out.results.insert(
+        0,
+        headline("clo2_dose", clo2.value, Q::Concentration, Some("ClO2")),
+    );
+    out.results.push(headline(
+        "chlorine_or_acid_feed_rate",
+        reactant_kg_per_day,
+        Q::MassPerDay,
+        Some(reactant),
+    ));
+    // Chlorite (as ClO2-) expected: the reduced part of the dose, ClO2 → ClO2- mole for mole,
+    // plus the chlorite fed beyond what the generator converts.
+    let m = |f: &str| water::chemicals::molar_mass(f);
+    let unconverted_naclo2 = dose.value - at_full_yield;
+    let expected = clo2.value * conversion / 100.0 * m("ClO2-")? / m("ClO2")?
+        + unconverted_naclo2 * m("ClO2-")? / m("NaClO2")?;
+    out.results.push(headline(
+        "expected_chlorite",
+        expected,
+        Q::Concentration,
+        Some("ClO2-"),
+    ));
+    if let Some(limit) = crate::engine::dosing::site::effective_limit(&request.limits, "chlorite")
+        && let Some(max) = limit.max
+        && expected > max
+    {
+        out.cautions.push(
+            Caution::warning("expected-chlorite-above-limit")
+                .with("value", crate::engine::sigfig::format_sig(expected, 3))
+                .with("limit", crate::engine::sigfig::format_sig(max, 3))
+                .with("source", &limit.source),
+        );
+    }
+    if request.get("chlorite-conversion").is_none() {
+        out.cautions.push(
+            Caution::info("chlorite-conversion-typical")
+                .with("percent", crate::engine::sigfig::format_sig(conversion, 2)),
+        );
+    }
+    Ok(out)
+}

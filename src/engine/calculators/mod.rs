@@ -196,7 +196,7 @@ pub const PRODUCT: &str = "product";
 
 /// The compounds the catalog's products are dosed as, so that a resolved basis is a
 /// `&'static str` like every other (a test holds this list to the catalog).
-const DOSE_COMPOUNDS: [&str; 21] = [
+const DOSE_COMPOUNDS: [&str; 26] = [
     "Cl2",
     "N",
     "Al",
@@ -217,7 +217,13 @@ const DOSE_COMPOUNDS: [&str; 21] = [
     "Na2SO3",
     "Na2S2O3",
     "C6H8O6",
+    // Fluoride, phosphate, permanganate, chlorite, magnesium hydroxide and carbon feeds.
+    "F",
+    "PO4",
+    "KMnO4",
+    "NaClO2",
     "Mg(OH)2",
+    "C",
 ];
 
 /// `basis` with the product's own filled in for [`DOSE_AS`] and [`STRENGTH_BASIS`].
@@ -240,6 +246,7 @@ pub fn basis_text(basis: &str) -> String {
         DOSE_AS => "as the product's dose compound".into(),
         PRODUCT => "as product".into(),
         "water" => "of water".into(),
+        "residual-basis" => "as the mode's basis (PO4, P or P2O5)".into(),
         other => format!("as {other}"),
     }
 }
@@ -845,13 +852,18 @@ fn limit_cautions(inputs: &[Input], request: &Request) -> Vec<Caution> {
         let (Some(parameter), Some(value)) = (input.limit, request.get(input.name)) else {
             continue;
         };
-        let Some(limit) = site::effective_limit(&request.limits, parameter) else {
+        // The first limit of the family the value is beyond: the enforceable one before a
+        // secondary standard or a recommended level.
+        let Some((limit, key, bound)) = std::iter::once(parameter)
+            .chain(site::related_limits(parameter).iter().copied())
+            .filter_map(|p| site::effective_limit(&request.limits, p))
+            .find_map(|limit| match (limit.min, limit.max) {
+                (_, Some(max)) if value > max => Some((limit, "site-limit-above", max)),
+                (Some(min), _) if value < min => Some((limit, "site-limit-below", min)),
+                _ => None,
+            })
+        else {
             continue;
-        };
-        let (key, bound) = match (limit.min, limit.max) {
-            (_, Some(max)) if value > max => ("site-limit-above", max),
-            (Some(min), _) if value < min => ("site-limit-below", min),
-            _ => continue,
         };
         out.push(
             Caution::new(Severity::Warning, key)
@@ -865,6 +877,8 @@ fn limit_cautions(inputs: &[Input], request: &Request) -> Vec<Caution> {
     out
 }
 
+#[cfg(test)]
+mod other_feeds_tests;
 #[cfg(test)]
 mod plant_feeds_tests;
 #[cfg(test)]

@@ -196,7 +196,36 @@ pub(super) fn product_inputs(
     }
 }
 
-pub static TABLE: [Calculator; 16] = [
+// ---- The plant's other feeds (part A): fluoride, phosphate, permanganate, chlorine dioxide.
+
+/// Fluoride products, liquid first; each is dosed as F through its formula.
+const FLUORIDE_PRODUCTS: [&str; 4] = [
+    "fluorosilicic-acid",
+    "sodium-fluorosilicate",
+    "sodium-fluoride",
+    // Saturated NaF made on site: its strength is fixed by solubility.
+    "sodium-fluoride-saturator",
+];
+
+/// Phosphate corrosion inhibitors, each dosed as PO4.
+const PHOSPHATE_PRODUCTS: [&str; 4] = [
+    "phosphoric-acid",
+    "zinc-orthophosphate",
+    "blended-phosphate",
+    "sodium-orthophosphate",
+];
+
+/// Permanganate as delivered (dry) or made down on site (a solution).
+const PERMANGANATE_PRODUCTS: [&str; 2] =
+    ["potassium-permanganate", "potassium-permanganate-solution"];
+
+/// Sodium chlorite for a chlorine dioxide generator, as a solution or dry.
+const CHLORITE_PRODUCTS: [&str; 2] = ["sodium-chlorite", "sodium-chlorite-dry"];
+
+/// Basis of a phosphate residual: the calculator's mode (as PO4, as P or as P2O5).
+const RESIDUAL_BASIS: &str = "residual-basis";
+
+pub static TABLE: [Calculator; 20] = [
     Calculator {
         id: "ph-adjustment",
         group: "ph-adjustment",
@@ -505,6 +534,128 @@ pub static TABLE: [Calculator; 16] = [
         ],
         in_app: false,
         compute: compute::sludge,
+        curve: None,
+    },
+    // ---- The plant's other feeds (part A).
+    Calculator {
+        id: "fluoridation",
+        group: "fluoridation",
+        modes: &[],
+        inputs: &[
+            FLOW,
+            // Checked against the fluoride limit and, through `site::related_limits`, the
+            // secondary standard and the recommended level.
+            limited(
+                based(own("target-fluoride", Q::Concentration), "F"),
+                "fluoride",
+            ),
+            based(water("natural-fluoride", Q::Concentration), "F"),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Listed(&FLUORIDE_PRODUCTS),
+        results: &[
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            FEED_RESULTS[5],
+            // The dose (as F) under the name scripts rely on.
+            secondary("fluoride_added", Q::Concentration).on("F"),
+        ],
+        in_app: true,
+        compute: compute::fluoridation,
+        curve: None,
+    },
+    Calculator {
+        id: "corrosion-inhibitor",
+        group: "corrosion-inhibitor",
+        // What the residuals are expressed as; the dose is always reported as PO4.
+        modes: &["residual-as-po4", "residual-as-p", "residual-as-p2o5"],
+        inputs: &[
+            FLOW,
+            based(own("target-residual", Q::Concentration), RESIDUAL_BASIS),
+            based(water("present-residual", Q::Concentration), RESIDUAL_BASIS),
+            // The share of the product's phosphate that is orthophosphate, from its data
+            // sheet; a blend needs it, an orthophosphate is all ortho by its formula.
+            optional(based(product("orthophosphate-share", Q::Percent), "PO4")),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Listed(&PHOSPHATE_PRODUCTS),
+        results: &[
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            FEED_RESULTS[5],
+            // The dose (as PO4) under the name scripts rely on.
+            secondary("dose_as_po4", Q::Concentration).on("PO4"),
+            secondary("orthophosphate_as_po4", Q::Concentration).on("PO4"),
+        ],
+        in_app: true,
+        compute: compute::corrosion_inhibitor,
+        curve: None,
+    },
+    Calculator {
+        id: "permanganate",
+        group: "permanganate",
+        modes: &[],
+        inputs: &[
+            FLOW,
+            based(water("iron", Q::Concentration), "Fe"),
+            based(water("manganese", Q::Concentration), "Mn"),
+            // Organics and other reductants the operator has measured (mg/L as KMnO4).
+            optional(based(own("other-demand", Q::Concentration), "KMnO4")),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Listed(&PERMANGANATE_PRODUCTS),
+        results: &FEED_RESULTS,
+        in_app: true,
+        compute: compute::permanganate,
+        curve: None,
+    },
+    Calculator {
+        id: "chlorine-dioxide",
+        group: "chlorine-dioxide",
+        // The generator's route: chlorine gas or acid on sodium chlorite.
+        modes: &["chlorine-chlorite", "acid-chlorite"],
+        inputs: &[
+            FLOW,
+            limited(
+                based(own("clo2-dose", Q::Concentration), "ClO2"),
+                "chlorine-dioxide",
+            ),
+            // Without it, the balanced reaction's 100 %.
+            optional(based(
+                own("generator-yield", Q::Percent),
+                "ClO2 (of theoretical)",
+            )),
+            // Without it, the typical share of the dose that becomes chlorite.
+            optional(based(
+                own("chlorite-conversion", Q::Percent),
+                "ClO2- (of the ClO2 dose)",
+            )),
+        ],
+        product_inputs: ProductInputs::Feed,
+        offer: Offer::Listed(&CHLORITE_PRODUCTS),
+        results: &[
+            headline("clo2_dose", Q::Concentration).on("ClO2"),
+            // The feed of the sodium chlorite (its dose as NaClO2).
+            FEED_RESULTS[0],
+            FEED_RESULTS[1],
+            FEED_RESULTS[2],
+            FEED_RESULTS[3],
+            FEED_RESULTS[4],
+            FEED_RESULTS[5],
+            // The chlorite product as delivered, kg/d (the same as product_mass_rate).
+            headline("chlorite_feed_rate", Q::MassPerDay).on(PRODUCT),
+            // Cl2 for the chlorine route, HCl (as 100 %) for the acid route.
+            headline("chlorine_or_acid_feed_rate", Q::MassPerDay).on("Cl2 or HCl"),
+            headline("expected_chlorite", Q::Concentration).on("ClO2-"),
+        ],
+        in_app: true,
+        compute: compute::chlorine_dioxide,
         curve: None,
     },
     // Wastewater, distribution and bench calculators.

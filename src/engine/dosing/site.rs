@@ -229,6 +229,27 @@ pub fn regulatory_defaults() -> Vec<Limit> {
             "mg/L",
             "US EPA SMCL range 0.05–0.2 mg/L, 40 CFR 143.3 (upper end; secondary)",
         ),
+        limit(
+            "fluoride",
+            None,
+            Some(4.0),
+            "mg/L as F",
+            "US EPA MCL, 40 CFR 141.62 (from memory)",
+        ),
+        limit(
+            "fluoride-secondary",
+            None,
+            Some(2.0),
+            "mg/L as F",
+            "US EPA SMCL, 40 CFR 143.3 (from memory; secondary, non-enforceable)",
+        ),
+        limit(
+            "fluoride-recommended",
+            None,
+            Some(0.7),
+            "mg/L as F",
+            "US Public Health Service (2015) recommendation, Public Health Reports 130:318-331; Federal Register 80:24936 (not a CFR limit)",
+        ),
         limit("iron", None, Some(0.3), "mg/L", "US EPA SMCL, 40 CFR 143.3"),
         limit(
             "manganese",
@@ -519,6 +540,16 @@ impl SiteProfile {
                 })
                 .collect(),
         }
+    }
+}
+
+/// The other parameters that bound a target limited by `parameter`, most binding last: a
+/// fluoride target is held to the enforceable maximum, the secondary standard and the
+/// recommended level, each its own entry a plant may override.
+pub fn related_limits(parameter: &str) -> &'static [&'static str] {
+    match parameter {
+        "fluoride" => &["fluoride-secondary", "fluoride-recommended"],
+        _ => &[],
     }
 }
 
