@@ -747,18 +747,21 @@ mod tests {
         );
     }
 
+    /// The codes of the cautions the card shows now.
+    fn caution_codes(s: &AppState) -> Vec<String> {
+        match s.calc.view().status {
+            Status::Ready(r) => r.cautions.iter().map(|c| c.code.clone()).collect(),
+            other => panic!("no result: {other:?}"),
+        }
+    }
+
     #[test]
     fn a_flow_above_the_demo_plants_meters_is_questioned() {
         // The demo plant's meters read to 6 MGD; the request carries them to the engine.
         let mut s = state(crate::app::seams::connected_engine());
         s.open_calculator(CalcKind::of("chlorination"));
         fill_chlorination(&mut s, "2");
-        let codes = |s: &AppState| -> Vec<String> {
-            match s.calc.view().status {
-                Status::Ready(r) => r.cautions.iter().map(|c| c.code.clone()).collect(),
-                other => panic!("no result: {other:?}"),
-            }
-        };
+        let codes = caution_codes;
         let above = "flow-above-meter-range".to_string();
         s.calc.edit("flow", "2.4");
         assert!(!codes(&s).contains(&above), "{:?}", codes(&s));
@@ -774,12 +777,7 @@ mod tests {
         let mut s = state(crate::app::seams::connected_engine());
         s.open_calculator(CalcKind::of("chlorination"));
         fill_chlorination(&mut s, "2");
-        let codes = |s: &AppState| -> Vec<String> {
-            match s.calc.view().status {
-                Status::Ready(r) => r.cautions.iter().map(|c| c.code.clone()).collect(),
-                other => panic!("no result: {other:?}"),
-            }
-        };
+        let codes = caution_codes;
         let over = "dose-above-max-use-level".to_string();
         assert!(
             !codes(&s).contains(&over),

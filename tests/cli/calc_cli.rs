@@ -293,29 +293,33 @@ fn an_older_subcommand_answers_help_with_its_calculator() {
 /// one figure ("60" s taken as one figure), the card once said "3 mg/L" and hid the under-feed.
 #[test]
 fn a_cross_check_prints_its_deviation_first_with_ranges() {
-    let (code, _, out) = run(&[
-        "calc",
-        "pump-check",
-        "--flow",
-        "9100",
-        "--flow-unit",
-        "m3-per-day",
-        "--dose",
-        "3.0",
-        "--drawdown-volume",
-        "140",
-        "--drawdown-time",
-        "60",
-        "--pump-setting",
-        "24.3",
-        "--product",
-        "sodium-hypochlorite",
-        "--strength",
-        "12.5",
-        "--specific-gravity",
-        "1.16",
-    ]);
-    assert_eq!(code, 0, "{out}");
+    let check = |flow: &str| {
+        let (code, _, out) = run(&[
+            "calc",
+            "pump-check",
+            "--flow",
+            flow,
+            "--flow-unit",
+            "m3-per-day",
+            "--dose",
+            "3.0",
+            "--drawdown-volume",
+            "140",
+            "--drawdown-time",
+            "60",
+            "--pump-setting",
+            "24.3",
+            "--product",
+            "sodium-hypochlorite",
+            "--strength",
+            "12.5",
+            "--specific-gravity",
+            "1.16",
+        ]);
+        assert_eq!(code, 0, "{out}");
+        out
+    };
+    let out = check("9100");
     let lines: Vec<&str> = out.lines().skip(1).take(2).collect();
     assert!(
         lines[0].starts_with("actual_dose") && lines[0].contains(" 2.77 ("),
@@ -328,29 +332,7 @@ fn a_cross_check_prints_its_deviation_first_with_ranges() {
     // A typed "± 0" makes the flow exact: only the column and the stopwatch are left.
     // Dose range by hand: 2.7692 × (1 − 2/140 − (1 − 60/60.5)) = 2.7069 and
     // 2.7692 × (1 + 2/140 + (60/59.5 − 1)) = 2.8320.
-    let (code, _, out) = run(&[
-        "calc",
-        "pump-check",
-        "--flow",
-        "9100 ± 0",
-        "--flow-unit",
-        "m3-per-day",
-        "--dose",
-        "3.0",
-        "--drawdown-volume",
-        "140",
-        "--drawdown-time",
-        "60",
-        "--pump-setting",
-        "24.3",
-        "--product",
-        "sodium-hypochlorite",
-        "--strength",
-        "12.5",
-        "--specific-gravity",
-        "1.16",
-    ]);
-    assert_eq!(code, 0, "{out}");
+    let out = check("9100 ± 0");
     assert!(out.contains("2.77 (2.71–2.83) mg/L"), "{out}");
 }
 
