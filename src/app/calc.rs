@@ -16,7 +16,7 @@ use super::seams::{
 use crate::engine;
 use crate::engine::dosing::site::{Limit, SiteFacts};
 use crate::engine::precision::{
-    Instrument, Precision, Range, range_text, split_tolerance, tolerance_to_si,
+    Instrument, Precision, Range, range_beside, split_tolerance, tolerance_to_si,
 };
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
 use serde::{Deserialize, Serialize};
@@ -569,10 +569,7 @@ impl CalcController {
         };
         // The range beside a value shown as `text` in `unit`, to the same decimals.
         let range = |r: Option<Range>, text: &str, unit: Unit| {
-            let r = r?;
-            let decimals = engine::sigfig::shown_decimals(text);
-            let at = |v: f64| numbers::format_fixed(unit.from_si(v), decimals, lang);
-            range_text(text, &at(r.low), &at(r.high))
+            range_beside(text, r?, unit, |v, d| numbers::format_fixed(v, d, lang))
         };
         let ranged = |ids: &[&str]| ids.iter().find_map(|id| outcome.ranges.get(id)).copied();
         let feed_unit = Quantity::MassPerDay.unit(self.system);

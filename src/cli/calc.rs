@@ -14,9 +14,9 @@ use crate::engine::calculators::{
     shown_figures,
 };
 use crate::engine::dosing::site::SiteProfile;
-use crate::engine::precision::{range_text, split_tolerance, tolerance_to_si};
+use crate::engine::precision::{range_beside, split_tolerance, tolerance_to_si};
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
-use crate::engine::sigfig::{Measured, format_sig, shown_decimals};
+use crate::engine::sigfig::{Measured, format_sig};
 use serde_json::{Map, Value, json};
 
 fn table() -> Result<Calculators, CliError> {
@@ -289,10 +289,7 @@ pub fn shown_with_range(r: &ResultValue, unit: Unit, figures: u32) -> String {
     let Some(range) = r.range else {
         return value;
     };
-    let decimals = shown_decimals(&value);
-    let (low, high) = (unit.from_si(range.low), unit.from_si(range.high));
-    let (low, high) = (format!("{low:.decimals$}"), format!("{high:.decimals$}"));
-    match range_text(&value, &low, &high) {
+    match range_beside(&value, range, unit, |v, d| format!("{v:.d$}")) {
         Some(range) => format!("{value} ({range})"),
         None => value,
     }

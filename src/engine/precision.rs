@@ -7,7 +7,7 @@
 //! for one reading. How a result's range follows from these is the calculators' business
 //! (`calculators::ranges`); this module only knows readings.
 
-use super::quantity::Quantity;
+use super::quantity::{Quantity, Unit};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -225,6 +225,20 @@ pub fn range_text(value: &str, low: &str, high: &str) -> Option<String> {
     }
 }
 
+/// The range beside a value shown as `value` in `unit`: its bounds converted from SI and
+/// formatted by the front end's `fixed(number, decimals)` (its decimal mark) to the decimals
+/// `value` shows, so the CLI and the app cannot word a range differently.
+pub fn range_beside(
+    value: &str,
+    range: Range,
+    unit: Unit,
+    fixed: impl Fn(f64, usize) -> String,
+) -> Option<String> {
+    let decimals = crate::engine::sigfig::shown_decimals(value);
+    let at = |v: f64| fixed(unit.from_si(v), decimals);
+    range_text(value, &at(range.low), &at(range.high))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -256,6 +270,24 @@ mod tests {
             range_text("-7.69", "-11.6", "-3.72").as_deref(),
             Some("-11.6 – -3.72")
         );
+    }
+
+    #[test]
+    fn a_range_beside_a_value_takes_its_decimals_and_unit() {
+        // 1 MGD = 3785.411784 m³/d exactly, so these SI bounds are 1.95 and 2.05 MGD.
+        let range = Range {
+            low: 1.95 * 3785.411784,
+            high: 2.05 * 3785.411784,
+        };
+        let fixed = |v: f64, d: usize| format!("{v:.d$}");
+        let comma = |v: f64, d: usize| format!("{v:.d$}").replace('.', ",");
+        let beside = |value: &str, f: &dyn Fn(f64, usize) -> String| {
+            range_beside(value, range, Unit::Mgd, f)
+        };
+        assert_eq!(beside("2.00", &fixed).as_deref(), Some("1.95–2.05"));
+        assert_eq!(beside("2,00", &comma).as_deref(), Some("1,95–2,05"));
+        // Shown to whole MGD both bounds read "2": the range says nothing more.
+        assert_eq!(beside("2", &fixed), None);
     }
 
     #[test]

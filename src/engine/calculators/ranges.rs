@@ -7,8 +7,8 @@
 //! propagating derivatives by hand, keeps the range true through equilibrium solves and
 //! breakpoints, and needs nothing per calculator.
 
-use super::{Calculator, Input, Request};
-use crate::engine::precision::{Instrument, Range};
+use super::{Input, Request};
+use crate::engine::precision::Range;
 use crate::engine::quantity::Quantity;
 
 /// The ± of input `input` in this request (SI): the operator's own, else the site's precision
@@ -119,20 +119,4 @@ pub(super) fn worst_case(central: f64, moved: &[[f64; 2]]) -> Range {
         low: central - below,
         high: central + above,
     }
-}
-
-/// The instruments the table's inputs are read with, each once, in table order: what a site
-/// profile or the settings let the plant state.
-pub fn instruments_in_use(table: &[Calculator]) -> Vec<Instrument> {
-    let mut v: Vec<Instrument> = Vec::new();
-    for i in table
-        .iter()
-        .flat_map(|c| c.inputs.iter())
-        .filter_map(|i| i.instrument)
-    {
-        if !v.contains(&i) {
-            v.push(i);
-        }
-    }
-    v
 }

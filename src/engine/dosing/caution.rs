@@ -128,26 +128,6 @@ impl Caution {
     }
 }
 
-/// Renders cautions for the CLI: `[warning] key (name=value, ...)`.
-pub fn render(cautions: &[Caution]) -> String {
-    cautions
-        .iter()
-        .map(|c| {
-            let sev = match c.severity {
-                Severity::Info => "note",
-                Severity::Warning => "warning",
-                Severity::Danger => "DANGER",
-            };
-            if c.params.is_empty() {
-                format!("[{sev}] {}\n", c.key)
-            } else {
-                let p: Vec<String> = c.params.iter().map(|(n, v)| format!("{n}={v}")).collect();
-                format!("[{sev}] {} ({})\n", c.key, p.join(", "))
-            }
-        })
-        .collect()
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
