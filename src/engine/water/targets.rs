@@ -228,6 +228,9 @@ pub fn two_targets(
     )
 }
 
+/// Makes the answer from the water, the doses, the second quantity and the solves counted.
+type Answer = dyn Fn(&WaterState, [f64; 2], f64, usize) -> Result<TwoDoses>;
+
 /// The search behind Newton: along the doses that give pH `x` (the first chemical's dose for
 /// each dose of the second), the second target by Brent's method.
 #[allow(clippy::too_many_arguments)]
@@ -239,7 +242,7 @@ fn bracketed(
     target: SecondTarget,
     prec: Precipitation,
     evaluations: usize,
-    answer: &dyn Fn(&WaterState, [f64; 2], f64, usize) -> Result<TwoDoses>,
+    answer: &Answer,
 ) -> Result<TwoDoses> {
     let y = target.value();
     // The first chemical's dose for pH x after `d2` of the second; `None` when it cannot

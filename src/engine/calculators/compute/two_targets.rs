@@ -15,8 +15,11 @@ use crate::engine::water::targets::{SecondTarget, two_targets as solve};
 use crate::engine::water::{Catalog, WaterInput, WaterState};
 use crate::engine::{Error, ErrorKind, Result};
 
+/// A second target from its value.
+type Make = fn(f64) -> SecondTarget;
+
 /// The second targets the calculator takes, by input name.
-const SECOND_TARGETS: [(&str, fn(f64) -> SecondTarget); 5] = [
+const SECOND_TARGETS: [(&str, Make); 5] = [
     ("target-alkalinity", SecondTarget::Alkalinity),
     ("target-dic", SecondTarget::Dic),
     ("target-calcium", SecondTarget::Calcium),
