@@ -196,6 +196,7 @@ unit-min = min
 unit-l = L
 unit-gal = gal
 unit-mg-min-per-l = mg·min/L
+unit-mmol-per-l = mmol/L
 
 ## The plant's other feeds (part A): fluoride, phosphate, permanganate, chlorine dioxide
 calc-fluoridation = Fluoridation
@@ -785,3 +786,17 @@ metal-ratio-practice = Metal to phosphorus ratio { $ratio }: within the { $low }
 metal-ratio-outside-practice = Metal to phosphorus ratio { $ratio } is outside the { $low }–{ $high } commonly dosed ({ $source }). Check it against jar tests or the plant's own record.
 dechlorinate-before-discharge = Dechlorinate the { $volume } { $unit } of water at { $target } mg/L before it is discharged: use the dechlorination calculator with this volume, and follow the discharge permit.
 disinfection-target-practice = Targets of { $low } and { $high } mg/L are common practice for new mains and tanks; the plant's own disinfection procedure wins.
+
+## The plant's water path and two targets at once.
+trace-two-targets = Doses for two targets at once
+site-limit-finished-above = Finished water: { $parameter } { $value } is above the limit of { $limit } { $unit } ({ $source }).
+site-limit-finished-below = Finished water: { $parameter } { $value } is below the minimum of { $limit } { $unit } ({ $source }).
+path-ct-needs-flow = No CT through basin { $basin }: give the plant flow (or a typical flow in the site profile).
+path-chlorine-as-fed = CT is figured with the chlorine fed, without chlorine demand: measure the residual leaving the basin and use that for the credit.
+error-reason-site-path-out-of-order = Point { $entry } is out of order: the path goes raw, rapid mix, settled, filtered, post-treatment, clearwell, entry to distribution.
+error-reason-site-path-unknown-product = Point { $entry } feeds a product the site does not stock.
+error-reason-site-path-unknown-basin = Point { $entry } is followed by a basin the site does not have.
+error-reason-target-out-of-reach = The target { $target } { $value } is out of reach with these two chemicals.
+error-reason-same-chemical-twice = Two targets need two different chemicals.
+error-reason-one-second-target-needed = Give exactly one second target besides the pH.
+error-reason-two-chemicals-needed = Give two chemicals, in order, separated by a comma.

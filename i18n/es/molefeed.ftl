@@ -196,6 +196,7 @@ unit-min = min
 unit-l = L
 unit-gal = gal
 unit-mg-min-per-l = mg·min/L
+unit-mmol-per-l = mmol/L
 
 ## Otras dosificaciones de la planta (parte A): flúor, fosfato, permanganato, dióxido de cloro
 calc-fluoridation = Fluoración
@@ -785,3 +786,17 @@ metal-ratio-practice = Relación metal : fósforo { $ratio }: dentro del { $low 
 metal-ratio-outside-practice = La relación metal : fósforo { $ratio } está fuera del { $low }–{ $high } que se dosifica comúnmente ({ $source }). Revísela con pruebas de jarras o el registro de la planta.
 dechlorinate-before-discharge = Declore los { $volume } { $unit } de agua a { $target } mg/L antes de descargarlos: use la calculadora de decloración con este volumen y siga el permiso de descarga.
 disinfection-target-practice = Los objetivos de { $low } y { $high } mg/L son práctica común para tuberías y tanques nuevos; el procedimiento de desinfección de la planta es el que vale.
+
+## El recorrido del agua por la planta y dos objetivos a la vez.
+trace-two-targets = Dosis para dos objetivos a la vez
+site-limit-finished-above = Agua tratada: { $parameter } { $value } supera el límite de { $limit } { $unit } ({ $source }).
+site-limit-finished-below = Agua tratada: { $parameter } { $value } está por debajo del mínimo de { $limit } { $unit } ({ $source }).
+path-ct-needs-flow = Sin CT en el tanque { $basin }: indique el caudal de la planta (o un caudal típico en el perfil de la planta).
+path-chlorine-as-fed = El CT se calcula con el cloro dosificado, sin demanda de cloro: mida el residual a la salida del tanque y use ese valor para el crédito.
+error-reason-site-path-out-of-order = El punto { $entry } está fuera de orden: el recorrido va agua cruda, mezcla rápida, sedimentada, filtrada, postratamiento, tanque de contacto, entrada a la red.
+error-reason-site-path-unknown-product = El punto { $entry } dosifica un producto que la planta no tiene.
+error-reason-site-path-unknown-basin = Al punto { $entry } le sigue un tanque que la planta no tiene.
+error-reason-target-out-of-reach = El objetivo { $target } { $value } no se alcanza con estos dos productos.
+error-reason-same-chemical-twice = Dos objetivos necesitan dos productos distintos.
+error-reason-one-second-target-needed = Indique exactamente un segundo objetivo además del pH.
+error-reason-two-chemicals-needed = Indique dos productos, en orden, separados por una coma.

@@ -156,6 +156,11 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "metal-ratio-outside-practice",
     "dechlorinate-before-discharge",
     "disinfection-target-practice",
+    // The plant's water path (`engine::path`).
+    "site-limit-finished-above",
+    "site-limit-finished-below",
+    "path-ct-needs-flow",
+    "path-chlorine-as-fed",
 ];
 
 /// Further results listed under the card's big numbers (`result-<id>` with dashes): every
@@ -178,6 +183,7 @@ pub const TRACE_LABELS: &[&str] = &[
     "product-feed",
     "product-strength",
     "ph-adjustment",
+    "two-targets",
     "active-feed-si",
     "active-feed-us",
     "actual-dose",
@@ -284,6 +290,13 @@ pub const ERROR_REASONS: &[&str] = &[
     "alkalinity-below-end-point",
     "water-co2-beyond-solubility",
     "gas-dose-beyond-solubility",
+    "site-path-out-of-order",
+    "site-path-unknown-product",
+    "site-path-unknown-basin",
+    "target-out-of-reach",
+    "same-chemical-twice",
+    "one-second-target-needed",
+    "two-chemicals-needed",
 ];
 
 /// The quantity names the engine puts in its errors (`quantity` parameter), exactly as it

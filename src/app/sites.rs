@@ -70,6 +70,7 @@ pub fn empty_site(name: &str, units: UnitSystem) -> SiteProfile {
         pump_usable_range_percent: Default::default(),
         day_tanks: Vec::new(),
         limits: Vec::new(),
+        path: Vec::new(),
         instrument_precision: Default::default(),
     }
 }

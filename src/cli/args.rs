@@ -20,7 +20,13 @@ pub struct Args {
     used: RefCell<Vec<String>>,
     /// Built from a `molefeed batch` line: stdin carries the batch, so no command may read it.
     from_batch: bool,
+    /// Every value of a flag that may be given more than once ([`REPEATABLE`]), in order.
+    repeated: BTreeMap<String, Vec<String>>,
 }
+
+/// Flags that may be given more than once, each adding a value in order (`--step lime=20
+/// --step carbon-dioxide=8`); any other flag given twice is refused.
+const REPEATABLE: [&str; 1] = ["step"];
 
 /// The smallest magnitude a numeric flag may have (other than zero). Far below any reading a
 /// plant takes in any unit the CLI accepts, and far above the underflow that turns a
@@ -81,6 +87,12 @@ impl Args {
                 continue;
             }
             match v {
+                // A repeatable flag's values as a list: `"step": ["lime=20", "alum=30"]`.
+                Value::Array(items) if REPEATABLE.contains(&name.as_str()) => {
+                    for item in items {
+                        args.insert(&name, Some(json_text(item)))?;
+                    }
+                }
                 Value::Bool(true) => args.insert(&name, None)?,
                 Value::Bool(false) | Value::Null => {}
                 other => args.insert(&name, Some(json_text(other)))?,
@@ -93,6 +105,12 @@ impl Args {
     fn insert(&mut self, name: &str, value: Option<String>) -> Result<(), CliError> {
         if let Some(text) = &value {
             check_magnitude(name, text)?;
+        }
+        if REPEATABLE.contains(&name) {
+            let values = self.repeated.entry(name.to_string()).or_default();
+            values.extend(value.clone());
+            self.flags.insert(name.to_string(), value);
+            return Ok(());
         }
         if self.flags.insert(name.to_string(), value).is_some() {
             return Err(CliError::usage(format!("--{name} given twice")));
@@ -131,6 +149,18 @@ impl Args {
             None => Ok(None),
             Some(None) => Err(CliError::usage(format!("--{name} needs a value"))),
             Some(Some(v)) => Ok(Some(v.as_str())),
+        }
+    }
+
+    /// Every value of a repeatable flag, in the order given (empty when it is absent).
+    pub fn texts(&self, name: &str) -> Result<Vec<&str>, CliError> {
+        self.mark(name);
+        match (self.flags.get(name), self.repeated.get(name)) {
+            (None, _) => Ok(Vec::new()),
+            (Some(_), Some(values)) if !values.is_empty() => {
+                Ok(values.iter().map(String::as_str).collect())
+            }
+            _ => Err(CliError::usage(format!("--{name} needs a value"))),
         }
     }
 

@@ -109,7 +109,9 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
     out.push_str("inputs:\n");
     for i in c.all_inputs(calc) {
         let units = unit_names(i.quantity);
-        let unit = if units.len() > 1 {
+        let unit = if i.quantity == Quantity::Chemicals {
+            "comma-separated, as ph-after --chemical names them".to_string()
+        } else if units.len() > 1 {
             format!("--{}-unit {}", i.name, units.join("|"))
         } else {
             format!("in {}", i.quantity.si().symbol())
@@ -242,6 +244,18 @@ fn request(
         let Some(text) = args.text(input.name)? else {
             continue;
         };
+        // A list (`--chemicals lime,carbon-dioxide`): names in order, no unit.
+        if input.quantity == Quantity::Chemicals {
+            let names: Vec<String> = text
+                .split(',')
+                .map(str::trim)
+                .filter(|n| !n.is_empty())
+                .map(str::to_string)
+                .collect();
+            request.lists.insert(input.name, names);
+            given.typed.insert(input.name, text.trim().to_string());
+            continue;
+        }
         // "140±2": the reading with a precision of its own.
         let (reading, tolerance) = split_tolerance(text);
         let not_a_number = |what: &str| CliError {

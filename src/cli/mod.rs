@@ -12,6 +12,7 @@ mod args;
 mod calc;
 mod chemistry;
 mod log_cmd;
+mod path;
 mod water;
 mod words;
 
@@ -112,6 +113,8 @@ pub fn dispatch(command: &str, args: &Args) -> CliResult {
         "curve" => water::curve(args).map(advisory),
         "coagulant" => water::coagulant(args).map(advisory),
         "neutralize" => water::neutralize(args).map(advisory),
+        // The path's cautions end with the advisory already.
+        "path" => path::run(args),
         other => {
             return Err(CliError::usage(format!(
                 "unknown command '{other}'; try 'molefeed help'"
@@ -178,6 +181,7 @@ usage: molefeed                       open the app on the built-in demo site
        molefeed COMMAND [ARGS] [--json]
 
 water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [--calcium-as-caco3|--calcium-as-ca --magnesium-as-caco3|--magnesium-as-mg ions]; see docs/water-notes.md)
+plant path: path [--site FILE] [--flow Q --flow-unit m3-per-day|mgd] WATER --step CHEMICAL=DOSE ...   every dose in order, the water after each (with --site and no --step: the site's path and doses)
 dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
 calculators: calculators [--json]                 every calculator, its inputs (units, basis) and result ids
             calc ID --INPUT VALUE ... [--product P] [--units si|us] [--site FILE] [--json]   (calc ID --help)

@@ -17,6 +17,11 @@ pub(super) const CALCIUM_REFUSED: &str = "--calcium is ambiguous: give --calcium
 pub(super) const MAGNESIUM_REFUSED: &str = "--magnesium is ambiguous: give --magnesium-as-caco3 (mg/L as CaCO3) or --magnesium-as-mg (mg/L of the ion)";
 
 pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
+    Ok(WaterState::new(&water_input(args)?)?)
+}
+
+/// The water flags as the engine's readings, before they are speciated.
+pub(super) fn water_input(args: &Args) -> Result<WaterInput, CliError> {
     // Read here so `molefeed batch` (which always sets it) accepts every water command.
     args.switch("json");
     for (old, why) in [
@@ -59,7 +64,7 @@ pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
         }
         input = input.with_magnesium_as_ion(mg)?;
     }
-    Ok(WaterState::new(&input)?)
+    Ok(input)
 }
 
 fn chemical(args: &Args) -> Result<&'static Chemical, CliError> {

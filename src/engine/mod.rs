@@ -12,6 +12,7 @@ pub mod elements;
 pub mod equivalents;
 mod error;
 pub mod formula;
+pub mod path;
 pub mod precision;
 pub mod quantity;
 pub mod reaction;

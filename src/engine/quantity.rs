@@ -58,6 +58,10 @@ pub enum Quantity {
     SolidsDose,
     /// A stock solution's strength, mass per volume. SI: g/L. US: % w/v (1 % = 10 g/L).
     StockStrength,
+    /// An amount of substance per volume (dissolved inorganic carbon). mmol/L in both systems.
+    Millimolar,
+    /// Not a number: a list of water-engine chemical ids, in order (`--chemicals lime,carbon-dioxide`).
+    Chemicals,
 }
 
 /// The unit a value is shown in; `code()` is the translation-key stem (`unit-<code>`) and the
@@ -96,6 +100,7 @@ pub enum Unit {
     GPerL,
     PercentWv,
     CubicMetres,
+    MmolPerL,
 }
 
 /// m³ in one US gallon (exact by definition: 231 in³).
@@ -113,7 +118,7 @@ const KG_PER_T_PER_LB_PER_TON: f64 = 0.5;
 const G_PER_L_PER_PERCENT_WV: f64 = 10.0;
 
 impl Unit {
-    pub const ALL: [Unit; 32] = [
+    pub const ALL: [Unit; 33] = [
         Unit::CubicMetresPerDay,
         Unit::Mgd,
         Unit::MgPerL,
@@ -146,6 +151,7 @@ impl Unit {
         Unit::GPerL,
         Unit::PercentWv,
         Unit::CubicMetres,
+        Unit::MmolPerL,
     ];
 
     pub fn code(self) -> &'static str {
@@ -182,6 +188,7 @@ impl Unit {
             Unit::GPerL => "g-per-l",
             Unit::PercentWv => "percent-w-v",
             Unit::CubicMetres => "m3",
+            Unit::MmolPerL => "mmol-per-l",
         }
     }
 
@@ -226,6 +233,7 @@ impl Unit {
             Unit::GPerL => "g/L",
             Unit::PercentWv => "% w/v",
             Unit::CubicMetres => "m³",
+            Unit::MmolPerL => "mmol/L",
         }
     }
 
@@ -329,6 +337,10 @@ impl Quantity {
             Quantity::SolidsDose => m(1e-6, 1e3),
             // 1 µg/L to 2000 g/L (no solution is denser than about 2 kg/L of solute).
             Quantity::StockStrength => m(1e-6, 2e3),
+            // 1 nmol/L to 10 mol/L.
+            Quantity::Millimolar => m(1e-6, 1e4),
+            // A list is not a number: nothing to judge.
+            Quantity::Chemicals => m(0.0, f64::INFINITY),
         }
     }
 
@@ -387,6 +399,8 @@ impl Quantity {
             (Quantity::SolidsDose, Us) => Unit::LbPerTon,
             (Quantity::StockStrength, Si) => Unit::GPerL,
             (Quantity::StockStrength, Us) => Unit::PercentWv,
+            (Quantity::Millimolar, _) => Unit::MmolPerL,
+            (Quantity::Chemicals, _) => Unit::NoUnit,
         }
     }
 }

@@ -401,3 +401,41 @@ fn the_tables_guards_refuse_or_caution_on_the_command_line() {
         }
     }
 }
+
+#[test]
+fn two_targets_takes_a_list_of_chemicals_and_gives_both_doses() {
+    let json = calc(
+        "calc two-targets --units si --chemicals lime,carbon-dioxide --ph 7.0 --temperature 12 --alkalinity 20 --calcium-hardness 15 --target-ph 8.2 --target-calcium 55 --json",
+    );
+    // By hand: only lime adds calcium; 40 mg/L as CaCO3 is 40 × 74.093 / 100.087 mg/L Ca(OH)2.
+    let lime = result(&json, "first_dose").unwrap();
+    assert!((lime - 29.61).abs() < 0.05, "{lime}");
+    assert!(result(&json, "second_dose").unwrap() > 0.0);
+    assert!((result(&json, "ph_after").unwrap() - 8.2).abs() < 0.01);
+    assert_eq!(json["results"]["first_dose"]["basis"], "Ca(OH)2");
+    for (args, reason) in [
+        (
+            "--chemicals lime --target-alkalinity 40",
+            "two-chemicals-needed",
+        ),
+        (
+            "--chemicals lime,lime --target-alkalinity 40",
+            "same-chemical-twice",
+        ),
+        (
+            "--chemicals lime,carbon-dioxide --target-alkalinity 40 --target-dic 1",
+            "one-second-target-needed",
+        ),
+        (
+            "--chemicals lime,carbon-dioxide --target-calcium 5",
+            "target-out-of-reach",
+        ),
+    ] {
+        let line = format!(
+            "calc two-targets --units si {args} --ph 7.0 --temperature 12 --alkalinity 20 --calcium-hardness 15 --target-ph 8.2 --json"
+        );
+        let (code, json, text) = run(&words(&line));
+        assert_ne!(code, 0, "{line}: {text}");
+        assert_eq!(json["error"]["reason"], reason, "{line}: {text}");
+    }
+}

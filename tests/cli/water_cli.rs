@@ -219,3 +219,76 @@ fn calcium_and_magnesium_may_be_given_as_the_ion() {
         .unwrap();
     assert_eq!(e.kind, "usage");
 }
+
+/// `molefeed path` through `dispatch`: `--step` in order, JSON `steps` with the issue's fields.
+fn path(flags: &str) -> Result<Value, String> {
+    let words: Vec<String> = flags.split_whitespace().map(String::from).collect();
+    let args = Args::parse(&words).map_err(|e| e.kind)?;
+    dispatch("path", &args).map(|r| r.json).map_err(|e| e.kind)
+}
+
+#[test]
+fn path_prints_every_step_in_order_with_the_issues_fields() {
+    let json = path(&format!(
+        "--step alum=30 --step caustic=8 --step chlorine=2 {WATER}"
+    ))
+    .unwrap();
+    let steps = json["steps"].as_array().unwrap();
+    let chemicals: Vec<&str> = steps
+        .iter()
+        .map(|s| s["chemical"].as_str().unwrap())
+        .collect();
+    assert_eq!(chemicals, ["alum", "caustic", "chlorine"]);
+    for s in steps {
+        for f in [
+            "dose_mg_l",
+            "ph",
+            "alkalinity_mg_l_as_caco3",
+            "dic_mmol_l",
+            "langelier_index",
+            "ccpp_mg_l_as_caco3",
+        ] {
+            assert!(s[f].as_f64().is_some_and(f64::is_finite), "{f} in {s}");
+        }
+    }
+    // Each step starts from the last one's water: alum lowers the pH, caustic raises it.
+    let ph: Vec<f64> = steps.iter().map(|s| s["ph"].as_f64().unwrap()).collect();
+    assert!(ph[0] < 7.4 && ph[1] > ph[0] && ph[2] < ph[1], "{ph:?}");
+    // The same chemical as ph-after names it gives the same water for a one-step path.
+    let one = path(&format!("--step lime=15 {WATER}")).unwrap();
+    let after = run("ph-after", "--chemical lime --dose 15").unwrap();
+    assert_eq!(one["steps"][0]["ph"], after["ph"]);
+}
+
+#[test]
+fn path_refuses_a_step_it_cannot_read_and_needs_steps_or_a_site() {
+    for (flags, kind) in [
+        ("--step alum", "usage"),
+        ("--step alum=-3", "invalid-input"),
+        ("--step no-such-thing=3", "unknown-chemical"),
+        ("", "usage"),
+    ] {
+        assert_eq!(
+            path(&format!("{flags} {WATER}")).unwrap_err(),
+            kind,
+            "{flags}"
+        );
+    }
+}
+
+#[test]
+fn path_on_the_demo_site_runs_its_own_path_with_ct_through_the_clearwell() {
+    let site = concat!(env!("CARGO_MANIFEST_DIR"), "/data/demo-site.json");
+    let json = path(&format!("--site {site} {WATER}")).unwrap();
+    let labels: Vec<&str> = json["steps"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s["label"].as_str().unwrap())
+        .collect();
+    assert_eq!(labels, ["alum-bulk", "hypo-bulk", "caustic-bulk"]);
+    // 250 000 gal × 0.5 ÷ (2.4 MGD ÷ 1440 min/d) = 75 min (by hand).
+    let t10 = json["basins"][0]["t10_minutes"].as_f64().unwrap();
+    assert!((t10 - 75.0).abs() < 1e-6, "{t10}");
+    assert!(json["finished"]["ph_range"].is_array());
+}

@@ -12,5 +12,6 @@ mod dosing_reference;
 mod dosing_validation;
 mod dosing_water;
 mod support;
+mod water_path;
 mod water_props;
 mod water_reference;

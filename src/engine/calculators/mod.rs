@@ -247,6 +247,7 @@ pub fn basis_text(basis: &str) -> String {
         PRODUCT => "as product".into(),
         "water" => "of water".into(),
         "residual-basis" => "as the mode's basis (PO4, P or P2O5)".into(),
+        "compound" => "as the chemical's own compound".into(),
         other => format!("as {other}"),
     }
 }
@@ -421,6 +422,9 @@ pub struct Request {
     pub site: Option<SiteFacts>,
     /// The id of the site's pump or feeder the operator says feeds this dose, if named.
     pub pump: Option<String>,
+    /// Inputs that are lists rather than numbers ([`Quantity::Chemicals`]), by input name, in
+    /// the order given.
+    pub lists: BTreeMap<&'static str, Vec<String>>,
 }
 
 impl Request {
@@ -655,6 +659,17 @@ impl Calculators {
         };
         let inputs = self.inputs(calculator, product.as_ref().map(|p| p.id.as_str()));
         for input in &inputs {
+            if input.quantity == Quantity::Chemicals {
+                if !input.optional && request.lists.get(input.name).is_none_or(Vec::is_empty) {
+                    return Err(Error::new(
+                        ErrorKind::InvalidInput,
+                        format!("{} is missing", input.name),
+                    )
+                    .because("missing-input")
+                    .with("input", input.name));
+                }
+                continue;
+            }
             match request.get(input.name) {
                 Some(v) if !v.is_finite() => {
                     return Err(Error::new(

@@ -107,7 +107,7 @@ where
 
 /// Adds each input's deviations, side by side: `central` the value at the readings as given,
 /// `moved` the values with one input moved down and up at a time.
-pub(super) fn worst_case(central: f64, moved: &[[f64; 2]]) -> Range {
+pub fn worst_case(central: f64, moved: &[[f64; 2]]) -> Range {
     let (mut below, mut above) = (0.0, 0.0);
     for pair in moved {
         let lo = pair[0].min(pair[1]).min(central);

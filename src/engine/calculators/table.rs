@@ -225,7 +225,7 @@ const CHLORITE_PRODUCTS: [&str; 2] = ["sodium-chlorite", "sodium-chlorite-dry"];
 /// Basis of a phosphate residual: the calculator's mode (as PO4, as P or as P2O5).
 const RESIDUAL_BASIS: &str = "residual-basis";
 
-pub static TABLE: [Calculator; 20] = [
+pub static TABLE: [Calculator; 21] = [
     Calculator {
         id: "ph-adjustment",
         group: "ph-adjustment",
@@ -790,6 +790,41 @@ pub static TABLE: [Calculator; 20] = [
         ],
         in_app: true,
         compute: compute::jar_test,
+        curve: None,
+    },
+    // Two chemicals at one point for two targets at once (pH and a corrosion-control or
+    // remineralisation target); a scripting tool until the app's plant path offers it.
+    Calculator {
+        id: "two-targets",
+        group: "two-targets",
+        modes: &[],
+        inputs: &[
+            // Water-engine chemicals, as `ph-after --chemical` names them, in order.
+            own("chemicals", Q::Chemicals),
+            water("ph", Q::Ph),
+            water("temperature", Q::Temperature),
+            as_caco3(water("alkalinity", Q::AsCaCO3)),
+            optional(as_caco3(water("calcium-hardness", Q::AsCaCO3))),
+            limited(own("target-ph", Q::Ph), "ph"),
+            // Exactly one of these (the compute function refuses none or two).
+            optional(as_caco3(own("target-alkalinity", Q::AsCaCO3))),
+            optional(own("target-dic", Q::Millimolar)),
+            optional(as_caco3(own("target-calcium", Q::AsCaCO3))),
+            optional(own("target-lsi", Q::Index)),
+            optional(as_caco3(own("target-ccpp", Q::AsCaCO3))),
+        ],
+        product_inputs: ProductInputs::None,
+        offer: Offer::None,
+        results: &[
+            // Each as its chemical's compound: the outcome names which.
+            headline("first_dose", Q::Concentration).on("compound"),
+            headline("second_dose", Q::Concentration).on("compound"),
+            secondary("ph_after", Q::Ph),
+            secondary("alkalinity_after", Q::AsCaCO3).on(CACO3),
+            secondary("langelier_index_after", Q::Index),
+        ],
+        in_app: false,
+        compute: compute::two_targets,
         curve: None,
     },
 ];

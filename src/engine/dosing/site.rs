@@ -107,6 +107,75 @@ pub struct DayTank {
     pub length_unit: LengthUnit,
 }
 
+/// Where along the plant an application point sits, in the order the water meets them.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum PointKind {
+    Raw,
+    RapidMix,
+    Settled,
+    Filtered,
+    PostTreatment,
+    Clearwell,
+    EntryToDistribution,
+}
+
+impl PointKind {
+    pub const ALL: [PointKind; 7] = [
+        PointKind::Raw,
+        PointKind::RapidMix,
+        PointKind::Settled,
+        PointKind::Filtered,
+        PointKind::PostTreatment,
+        PointKind::Clearwell,
+        PointKind::EntryToDistribution,
+    ];
+
+    /// Stable kebab-case code (the profile's JSON, `point-<code>` translation keys).
+    pub fn code(self) -> &'static str {
+        match self {
+            PointKind::Raw => "raw",
+            PointKind::RapidMix => "rapid-mix",
+            PointKind::Settled => "settled",
+            PointKind::Filtered => "filtered",
+            PointKind::PostTreatment => "post-treatment",
+            PointKind::Clearwell => "clearwell",
+            PointKind::EntryToDistribution => "entry-to-distribution",
+        }
+    }
+}
+
+/// A delivered product fed at an application point, with the dose set today.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct PointFeed {
+    /// Id of a delivered product of this site.
+    pub product: String,
+    /// The dose set today, mg/L expressed as the product's dose compound (as Cl2 for a
+    /// chlorine product); `None` when the plant records none (the path then feeds nothing
+    /// here until a dose is typed or logged).
+    #[serde(default)]
+    pub dose_mg_l: Option<f64>,
+}
+
+/// One application point of the plant's water path: what is fed there and the contact basin
+/// the water flows through after it.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ApplicationPoint {
+    pub id: String,
+    pub name: String,
+    pub kind: PointKind,
+    /// The products fed here, in the order they are fed.
+    #[serde(default)]
+    pub feeds: Vec<PointFeed>,
+    /// Id of the contact basin that follows this point (its volume and baffling factor).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub basin: Option<String>,
+    /// A softening basin follows: calcite and brucite precipitate to equilibrium after the
+    /// feeds of this point.
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
+    pub softening: bool,
+}
+
 /// A limit on a chemical dose or a finished-water parameter.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct Limit {
@@ -160,6 +229,9 @@ pub struct SiteProfile {
     pub day_tanks: Vec<DayTank>,
     #[serde(default)]
     pub limits: Vec<Limit>,
+    /// The water path: application points in the order the water meets them.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub path: Vec<ApplicationPoint>,
     /// The plant's own precision of its instruments, by instrument code (`flow-meter`,
     /// `ph-meter` ...), where it differs from the defaults; absolute parts in the SI unit of
     /// what the instrument reads (mg/L, °C, s, mL, g). The ranges shown beside results follow.
@@ -441,7 +513,80 @@ impl SiteProfile {
                 ));
             }
         }
+        self.validate_path()
+    }
+
+    /// The water path: ids once, points in plant order, every product and basin known, every
+    /// dose a number not below zero, each basin followed by one point only.
+    fn validate_path(&self) -> Result<()> {
+        unique("point", self.path.iter().map(|p| p.id.as_str()))?;
+        let mut basins_used: Vec<&str> = Vec::new();
+        for pair in self.path.windows(2) {
+            if pair[1].kind < pair[0].kind {
+                return Err(invalid(
+                    "site-path-out-of-order",
+                    format!(
+                        "point '{}' ({}) comes after '{}' ({}): points go raw, rapid mix, settled, filtered, post-treatment, clearwell, entry to distribution",
+                        pair[1].id,
+                        pair[1].kind.code(),
+                        pair[0].id,
+                        pair[0].kind.code()
+                    ),
+                    &pair[1].id,
+                ));
+            }
+        }
+        for point in &self.path {
+            for feed in &point.feeds {
+                if self.delivered(&feed.product).is_err() {
+                    return Err(invalid(
+                        "site-path-unknown-product",
+                        format!(
+                            "point '{}' feeds '{}', which is not a delivered product of the site",
+                            point.id, feed.product
+                        ),
+                        &point.id,
+                    )
+                    .with("product", &feed.product));
+                }
+                if let Some(dose) = feed.dose_mg_l {
+                    let checked = check_range("dose", dose, 0.0, 100_000.0, "mg/L");
+                    let checked = if dose < 0.0 {
+                        checked.map_err(|e| e.because("negative-reading"))
+                    } else {
+                        checked
+                    };
+                    checked.map_err(|e| e.with("entry", &point.id))?;
+                }
+            }
+            if let Some(basin) = &point.basin {
+                if !self.contact_basins.iter().any(|b| &b.id == basin) {
+                    return Err(invalid(
+                        "site-path-unknown-basin",
+                        format!(
+                            "point '{}' is followed by basin '{basin}', which is not a contact basin of the site",
+                            point.id
+                        ),
+                        &point.id,
+                    )
+                    .with("basin", basin));
+                }
+                if basins_used.contains(&basin.as_str()) {
+                    return Err(invalid(
+                        "site-id-used-twice",
+                        format!("basin '{basin}' follows two points of the path"),
+                        basin,
+                    ));
+                }
+                basins_used.push(basin);
+            }
+        }
         Ok(())
+    }
+
+    /// The contact basin `id`.
+    pub fn basin(&self, id: &str) -> Option<&ContactBasin> {
+        self.contact_basins.iter().find(|b| b.id == id)
     }
 
     pub fn delivered(&self, id: &str) -> Result<&DeliveredProduct> {

@@ -167,6 +167,47 @@ pub fn dose_effect(
     Ok((after, effect))
 }
 
+/// What a coagulant's metal does by default in the water: amorphous hydroxide precipitates at
+/// equilibrium; any other chemical stays dissolved.
+pub fn precipitation_of(chemical: &Chemical) -> water::Precipitation {
+    if chemical.is_coagulant() {
+        water::Precipitation::Hydroxide
+    } else {
+        water::Precipitation::None
+    }
+}
+
+/// The water-engine chemical of a dosing-catalog product and the mg/L of it that `dose_mg_l`
+/// (expressed as the product's `dose_as`) adds: a chlorine product dosed as Cl2 through
+/// [`compound_for_chlorine`] (with its trace), a product dosed as its own compound as is.
+/// Anything else (ammonia as N, a compound the water catalog lacks) is a typed error.
+pub fn product_compound(
+    catalog: &super::catalog::Catalog,
+    product: &str,
+    dose_mg_l: f64,
+) -> Result<(&'static Chemical, f64, Option<Trace>)> {
+    use crate::engine::formula::Formula;
+    let p = catalog.product(product)?;
+    let chemical = water_chemical(&p.compound)?;
+    let dose_as = Formula::parse(&p.dose_as)?;
+    if dose_as.same_composition(&Formula::parse("Cl2")?) {
+        let (mg, t) = compound_for_chlorine(chemical, Measured::exact(dose_mg_l))?;
+        Ok((chemical, mg, Some(t)))
+    } else if dose_as.same_composition(&chemical.formula) {
+        Ok((chemical, dose_mg_l, None))
+    } else {
+        Err(Error::new(
+            ErrorKind::InvalidInput,
+            format!(
+                "{} is dosed as {}: its effect on the water is not calculated from that basis",
+                p.id, p.dose_as
+            ),
+        )
+        .because("product-not-for-calculator")
+        .with("product", &p.id))
+    }
+}
+
 /// The effect of `dose_mg_l` (expressed as the product's `dose_as`) of a dosing-catalog
 /// product on the water, with a `ph-outside-range` warning. Chlorine products dosed as Cl2 go
 /// through [`compound_for_chlorine`]; products dosed as their own compound are added as is;
@@ -179,31 +220,8 @@ pub fn product_effect(
     state: &WaterState,
     ph_range: PhRange,
 ) -> Result<(WaterEffect, Vec<Caution>, Option<Trace>)> {
-    use crate::engine::formula::Formula;
-    let p = catalog.product(product)?;
-    let chemical = water_chemical(&p.compound)?;
-    let dose_as = Formula::parse(&p.dose_as)?;
-    let (compound, trace) = if dose_as.same_composition(&Formula::parse("Cl2")?) {
-        let (mg, t) = compound_for_chlorine(chemical, Measured::exact(dose_mg_l))?;
-        (mg, Some(t))
-    } else if dose_as.same_composition(&chemical.formula) {
-        (dose_mg_l, None)
-    } else {
-        return Err(Error::new(
-            ErrorKind::InvalidInput,
-            format!(
-                "{} is dosed as {}: its effect on the water is not calculated from that basis",
-                p.id, p.dose_as
-            ),
-        )
-        .because("product-not-for-calculator")
-        .with("product", &p.id));
-    };
-    let precipitation = if chemical.is_coagulant() {
-        water::Precipitation::Hydroxide
-    } else {
-        water::Precipitation::None
-    };
+    let (chemical, compound, trace) = product_compound(catalog, product, dose_mg_l)?;
+    let precipitation = precipitation_of(chemical);
     let (_, effect) = dose_effect(state, chemical, compound, precipitation)?;
     let cautions = ph_range.check(effect.ph_after).into_iter().collect();
     Ok((effect, cautions, trace))

@@ -17,10 +17,11 @@ pub mod softening;
 pub mod solve;
 pub mod speciation;
 pub mod stability;
+pub mod targets;
 
 pub use chemicals::{Catalog, Chemical};
 pub use constants::Component;
-pub use softening::{Softened, soften};
+pub use softening::{Softened, soften, softened};
 pub use stability::{Stability, stability};
 
 use crate::engine::{Error, ErrorKind, Result, check_range};
@@ -279,6 +280,12 @@ impl WaterState {
         -self.sp.log_h
     }
 
+    /// The total of `component` in the water, mmol/L (what a dose left dissolved: precipitated
+    /// metal and softening precipitates have left).
+    pub fn total_mmol_l(&self, component: Component) -> f64 {
+        self.problem.totals[component.index()] * 1000.0
+    }
+
     pub fn ionic_strength_basis(&self) -> IonicStrengthBasis {
         self.basis
     }
@@ -396,8 +403,33 @@ impl WaterState {
         dose_mg_l: f64,
         precipitation: Precipitation,
     ) -> Result<WaterState> {
-        let sp = self.solve_dose(chemical, dose_mg_l, precipitation, None)?;
-        let mut problem = self.dosed_problem(chemical, dose_mg_l, precipitation);
+        self.dosed_together(&[(chemical, dose_mg_l)], precipitation)
+    }
+
+    /// The water after several chemicals fed at the same point, in one equilibrium solve
+    /// (closed system: the end state does not depend on the order they mix in).
+    pub fn dosed_together(
+        &self,
+        feeds: &[(&Chemical, f64)],
+        precipitation: Precipitation,
+    ) -> Result<WaterState> {
+        let mut problem = self.problem.clone();
+        for (chemical, dose_mg_l) in feeds {
+            let dose = check_range("dose", *dose_mg_l, 0.0, MAX_MG_L, "mg/L")?;
+            let mol = dose / chemical.molar_mass / 1000.0;
+            for c in Component::ALL {
+                let metal = matches!(c, Component::Al | Component::Fe);
+                if metal && precipitation == Precipitation::Complete {
+                    continue;
+                }
+                problem.totals[c.index()] += chemical.adds[c.index()] * mol;
+            }
+        }
+        if precipitation == Precipitation::Hydroxide {
+            problem.caps[Component::Al.index()] = self.solver.table.phase_index("Al(OH)3(a)");
+            problem.caps[Component::Fe.index()] = self.solver.table.phase_index("Fe(OH)3(a)");
+        }
+        let sp = self.solver.solve(&problem, Some(&self.sp))?;
         // Precipitated metal has left the water.
         for c in [Component::Al, Component::Fe] {
             problem.totals[c.index()] = self.solver.dissolved(&sp, c);

@@ -35,6 +35,15 @@ pub struct Softened {
 /// precipitated to equilibrium. A water that stays undersaturated keeps its calcium and
 /// magnesium (nothing precipitates).
 pub fn soften(state: &WaterState, chemical: &Chemical, dose_mg_l: f64) -> Result<Softened> {
+    softened(state, chemical, dose_mg_l).map(|(_, s)| s)
+}
+
+/// [`soften`] with the softened water as a state of its own, so a plant's path goes on from it.
+pub fn softened(
+    state: &WaterState,
+    chemical: &Chemical,
+    dose_mg_l: f64,
+) -> Result<(WaterState, Softened)> {
     let dose = check_range("dose", dose_mg_l, 0.0, MAX_MG_L, "mg/L")?;
     let (calcite, brucite) = (phase(state, "Calcite")?, phase(state, "Brucite")?);
     let (ca, co3, mg) = (
@@ -74,11 +83,12 @@ pub fn soften(state: &WaterState, chemical: &Chemical, dose_mg_l: f64) -> Result
         basis: state.basis,
     };
     let caco3 = masses()?.caco3;
-    Ok(Softened {
+    let result = Softened {
         water: softened.describe(&softened.sp)?,
         calcite_mg_l: calcite_mol * caco3 * 1000.0,
         brucite_mg_l: brucite_mol * molar_mass("Mg(OH)2")? * 1000.0,
         calcium_hardness_mg_l_as_caco3: softened.problem.totals[ca] * caco3 * 1000.0,
         magnesium_hardness_mg_l_as_caco3: mg_left * caco3 * 1000.0,
-    })
+    };
+    Ok((softened, result))
 }
