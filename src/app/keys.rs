@@ -156,6 +156,7 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "metal-ratio-outside-practice",
     "dechlorinate-before-discharge",
     "disinfection-target-practice",
+    "disinfection-target-from-practice",
 ];
 
 /// Further results listed under the card's big numbers (`result-<id>` with dashes): every
@@ -222,6 +223,7 @@ pub const TRACE_LABELS: &[&str] = &[
     "polymer-solution",
     "polymer-neat",
     "jar-dose",
+    "jar-dose-as-product-compound",
     "product-per-compound",
     // The plant's other feeds (part A).
     "phosphate-as-po4",
@@ -284,6 +286,8 @@ pub const ERROR_REASONS: &[&str] = &[
     "alkalinity-below-end-point",
     "water-co2-beyond-solubility",
     "gas-dose-beyond-solubility",
+    "disinfected-object-ambiguous",
+    "stock-compound-not-product",
 ];
 
 /// The quantity names the engine puts in its errors (`quantity` parameter), exactly as it
