@@ -83,7 +83,11 @@ fn card_of(o: Outcome) -> CalcOutcome {
         extras: o
             .results
             .iter()
-            .filter(|r| !BIG_RESULTS.contains(&r.id))
+            // A result that repeats one in a big place (`fluoride_added` is the `dose`) is
+            // shown there only, once.
+            .filter(|r| {
+                !BIG_RESULTS.contains(&r.id) && !r.same_as.is_some_and(|s| BIG_RESULTS.contains(&s))
+            })
             .map(|r| Extra {
                 key: r.id.replace('_', "-"),
                 value: r.value,

@@ -156,6 +156,7 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "metal-ratio-outside-practice",
     "dechlorinate-before-discharge",
     "disinfection-target-practice",
+    "disinfection-target-from-practice",
     // The plant's water path (`engine::path`).
     "site-limit-finished-above",
     "site-limit-finished-below",
@@ -228,6 +229,7 @@ pub const TRACE_LABELS: &[&str] = &[
     "polymer-solution",
     "polymer-neat",
     "jar-dose",
+    "jar-dose-as-product-compound",
     "product-per-compound",
     // The plant's other feeds (part A).
     "phosphate-as-po4",
@@ -290,6 +292,8 @@ pub const ERROR_REASONS: &[&str] = &[
     "alkalinity-below-end-point",
     "water-co2-beyond-solubility",
     "gas-dose-beyond-solubility",
+    "disinfected-object-ambiguous",
+    "stock-compound-not-product",
     "site-path-out-of-order",
     "site-path-unknown-product",
     "site-path-unknown-basin",

@@ -36,6 +36,20 @@ fn input_json(i: &Input) -> Value {
         "basis": i.basis,
         "optional": i.optional,
         "scope": i.scope,
+        // The other spellings the command line takes: `--sg`, `--volume-unit`.
+        "short_flag": i.short_flag,
+        "unit_flag": i.unit_flag.map_or_else(|| format!("{}-unit", i.name), str::to_string),
+    })
+}
+
+/// The named choice that sets a calculator's mode, for listings: its flag and its values.
+fn mode_choice_json(calc: &Calculator) -> Value {
+    calc.mode_choice().map_or(Value::Null, |m| {
+        json!({
+            "name": m.name,
+            "values": m.values.iter().map(|(v, _)| *v).collect::<Vec<_>>(),
+            "modes": m.values.iter().map(|(_, mode)| *mode).collect::<Vec<_>>(),
+        })
     })
 }
 
@@ -72,6 +86,8 @@ pub fn list(args: &Args) -> CliResult {
             "id": calc.id,
             "group": calc.group,
             "modes": calc.modes,
+            "mode_choice": mode_choice_json(calc),
+            "text_inputs": calc.text_inputs().map(|t| json!({"name": t.name, "kind": t.kind, "optional": true})).collect::<Vec<_>>(),
             "in_app": calc.in_app,
             "curve": calc.has_curve(),
             "products": products,
@@ -95,6 +111,22 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
     if !calc.modes.is_empty() {
         out.push_str(&format!("modes: {}\n", calc.modes.join(", ")));
     }
+    if let Some(m) = calc.mode_choice() {
+        out.push_str(&format!(
+            "  --{} {}   chooses the mode ({})\n",
+            m.name,
+            m.values
+                .iter()
+                .map(|(v, _)| *v)
+                .collect::<Vec<_>>()
+                .join("|"),
+            m.values
+                .iter()
+                .map(|(v, mode)| format!("{v} = {mode}"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ));
+    }
     let products = c.products(calc);
     if !products.is_empty() {
         out.push_str(&format!(
@@ -112,19 +144,33 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
         let unit = if i.quantity == Quantity::Chemicals {
             "comma-separated, as ph-after --chemical names them".to_string()
         } else if units.len() > 1 {
-            format!("--{}-unit {}", i.name, units.join("|"))
+            let flag = i
+                .unit_flag
+                .map_or_else(|| format!("{}-unit", i.name), str::to_string);
+            format!("--{flag} {}", units.join("|"))
         } else {
             format!("in {}", i.quantity.si().symbol())
         };
+        let name = match i.short_flag {
+            Some(short) => format!("{} (--{short})", i.name),
+            None => i.name.to_string(),
+        };
         out.push_str(&format!(
             "  --{:<22} {}{}{}\n",
-            i.name,
+            name,
             unit,
             i.basis.map_or(String::new(), |b| format!(
                 ", {}",
                 calculators::basis_text(b)
             )),
             if i.optional { " (optional)" } else { "" }
+        ));
+    }
+    for t in calc.text_inputs() {
+        out.push_str(&format!(
+            "  --{:<22} {} (optional)\n",
+            t.name,
+            t.kind.to_uppercase()
         ));
     }
     out.push_str(&format!(
@@ -151,15 +197,19 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
 /// else its only unit; a quantity with two units and neither flag is refused.
 fn unit_of(args: &Args, input: &Input, system: Option<UnitSystem>) -> Result<Unit, CliError> {
     let units = input.quantity.units();
-    if let Some(code) = args.text(&format!("{}-unit", input.name))? {
+    // `--<name>-unit`, or the flag the trade writes for it (`--volume-unit`), not both.
+    let own = format!("{}-unit", input.name);
+    let flags: Vec<&str> = std::iter::once(own.as_str())
+        .chain(input.unit_flag)
+        .collect();
+    if let Some((flag, code)) = one_of(args, &flags)? {
         return units
             .iter()
             .copied()
-            .find(|u| u.code() == code)
+            .find(|u| u.written_as(code))
             .ok_or_else(|| {
                 CliError::usage(format!(
-                    "--{}-unit must be one of {}, got '{code}'",
-                    input.name,
+                    "--{flag} must be one of {}, got '{code}'",
                     unit_names(input.quantity).join(", ")
                 ))
             });
@@ -173,6 +223,94 @@ fn unit_of(args: &Args, input: &Input, system: Option<UnitSystem>) -> Result<Uni
             input.name,
             unit_names(input.quantity).join("|")
         ))),
+    }
+}
+
+/// The value of whichever of `flags` was given (the table's name and the trade's other
+/// spelling of one input); both given is refused, never one of them silently preferred.
+fn one_of<'a>(args: &'a Args, flags: &[&str]) -> Result<Option<(String, &'a str)>, CliError> {
+    let mut found: Option<(String, &str)> = None;
+    for flag in flags {
+        if let Some(v) = args.text(flag)? {
+            if let Some((first, _)) = &found {
+                return Err(CliError::usage(format!(
+                    "--{first} and --{flag} give the same entry: give one of them"
+                )));
+            }
+            found = Some(((*flag).to_string(), v));
+        }
+    }
+    Ok(found)
+}
+
+/// The mode the flags choose: `--mode`, or the calculator's own named choice (`--residual-basis
+/// p`) as the table declares it; both given must agree.
+fn mode_of(calc: &'static Calculator, args: &Args) -> Result<Option<&'static str>, CliError> {
+    let by_mode =
+        match args.text("mode")? {
+            None => None,
+            Some(mode) => Some(calc.modes.iter().copied().find(|m| *m == mode).ok_or_else(
+                || {
+                    CliError::usage(format!(
+                        "{} has no mode '{mode}' (modes: {})",
+                        calc.id,
+                        calc.modes.join(", ")
+                    ))
+                },
+            )?),
+        };
+    let Some(choice) = calc.mode_choice() else {
+        return Ok(by_mode);
+    };
+    let Some(value) = args.text(choice.name)? else {
+        return Ok(by_mode);
+    };
+    let mode = choice.mode(value).ok_or_else(|| {
+        CliError::usage(format!(
+            "--{} must be one of {}, got '{value}'",
+            choice.name,
+            choice
+                .values
+                .iter()
+                .map(|(v, _)| *v)
+                .collect::<Vec<_>>()
+                .join(", ")
+        ))
+    })?;
+    if by_mode.is_some_and(|m| m != mode) {
+        return Err(CliError::usage(format!(
+            "--mode and --{} {value} choose two different modes: give one",
+            choice.name
+        )));
+    }
+    Ok(Some(mode))
+}
+
+/// `--strength-basis`: the basis the strength was typed on, checked against the one the table
+/// takes for the chosen product (the CLI converts no strength from one basis to another).
+fn check_strength_basis(
+    c: &Calculators,
+    calc: &'static Calculator,
+    request: &Request,
+    args: &Args,
+) -> Result<(), CliError> {
+    let Some(v) = args.text("strength-basis")? else {
+        return Ok(());
+    };
+    let basis = crate::engine::dosing::catalog::StrengthBasis::parse(v)?;
+    let choice = request
+        .product
+        .as_deref()
+        .and_then(|id| c.products(calc).into_iter().find(|p| p.id == id));
+    match choice {
+        Some(p) if basis.code() != p.strength_basis => Err(CliError::usage(format!(
+            "--strength-basis {v}: the table takes the strength of {} as {}; give it on that basis",
+            p.id, p.strength_basis
+        ))),
+        Some(_) => Ok(()),
+        None => Err(CliError::usage(
+            "--strength-basis goes with --product: it states the basis of that product's strength",
+        )),
     }
 }
 
@@ -194,22 +332,16 @@ fn request(
 ) -> Result<(Request, Given), CliError> {
     let mut given = Given::default();
     let mut request = Request::new(calc);
-    if let Some(mode) = args.text("mode")? {
-        request.mode = Some(
-            calc.modes
-                .iter()
-                .copied()
-                .find(|m| *m == mode)
-                .ok_or_else(|| {
-                    CliError::usage(format!(
-                        "{} has no mode '{mode}' (modes: {})",
-                        calc.id,
-                        calc.modes.join(", ")
-                    ))
-                })?,
-        );
+    if let Some(mode) = mode_of(calc, args)? {
+        request.mode = Some(mode);
     }
     request.product = args.text("product")?.map(str::to_string);
+    check_strength_basis(c, calc, &request, args)?;
+    for t in calc.text_inputs() {
+        if let Some(text) = args.text(t.name)? {
+            request.texts.insert(t.name, text.to_string());
+        }
+    }
     let system = match args.text("units")? {
         None => None,
         Some("si") => Some(UnitSystem::Si),
@@ -241,7 +373,10 @@ fn request(
         request.max_use_level_mg_l = Some(level);
     }
     for input in c.inputs(calc, request.product.as_deref()) {
-        let Some(text) = args.text(input.name)? else {
+        let names: Vec<&str> = std::iter::once(input.name)
+            .chain(input.short_flag)
+            .collect();
+        let Some((_, text)) = one_of(args, &names)? else {
             continue;
         };
         // A list (`--chemicals lime,carbon-dioxide`): names in order, no unit.
@@ -356,7 +491,23 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
         );
     }
     let traces: Vec<String> = outcome.trace_lines().iter().map(|l| l.plain()).collect();
+    let follow_ups: Vec<Value> = outcome
+        .follow_ups
+        .iter()
+        .map(|f| {
+            let values: Map<String, Value> = f
+                .values
+                .iter()
+                .map(|(name, v)| (name.to_string(), json!(v)))
+                .collect();
+            json!({"calculator": f.calculator, "product": f.product, "values": values,
+                "command": follow_up_command(f)})
+        })
+        .collect();
     let mut human = lines.join("\n");
+    for f in &outcome.follow_ups {
+        human.push_str(&format!("\nnext: {}", follow_up_command(f)));
+    }
     human.push_str("\n\n");
     for t in &traces {
         human.push_str(t);
@@ -375,8 +526,31 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
         "inputs": inputs,
         "traces": traces,
         "cautions": cautions_json(&outcome.cautions),
+        "follow_ups": follow_ups,
     });
     Report { human, json }
+}
+
+/// The command line that runs a follow-up: its calculator, product and values in SI (with the
+/// SI unit named where the input has two), the rest of that calculator's inputs left to add.
+fn follow_up_command(f: &crate::engine::calculators::FollowUp) -> String {
+    let mut words = vec![format!("molefeed calc {}", f.calculator)];
+    if let Some(p) = &f.product {
+        words.push(format!("--product {p}"));
+    }
+    let inputs = calculators::find(f.calculator)
+        .ok()
+        .map(|c| c.inputs.to_vec())
+        .unwrap_or_default();
+    for (name, v) in &f.values {
+        words.push(format!("--{name} {}", format_sig(*v, 4)));
+        if let Some(i) = inputs.iter().find(|i| i.name == *name)
+            && i.quantity.units().len() > 1
+        {
+            words.push(format!("--{name}-unit {}", i.quantity.si().code()));
+        }
+    }
+    words.join(" ")
 }
 
 /// Cautions for a script: the engine's codes and parameters, and beside them the English

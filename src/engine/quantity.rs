@@ -237,6 +237,18 @@ impl Unit {
         }
     }
 
+    /// True when `text` names this unit on a command line: its code (`g-per-l`), its symbol in
+    /// any case (`g/l`, `MGD`) or the trade's word for it (`percent` for a stock's % w/v).
+    /// Only ever asked among one quantity's units, where these spellings are distinct.
+    pub fn written_as(self, text: &str) -> bool {
+        let text = text.trim();
+        let word = match self {
+            Unit::PercentWv => Some("percent"),
+            _ => None,
+        };
+        text == self.code() || text.eq_ignore_ascii_case(self.symbol()) || word == Some(text)
+    }
+
     /// Converts a value shown in this unit to the quantity's SI unit.
     pub fn to_si(self, v: f64) -> f64 {
         match self {

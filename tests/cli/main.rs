@@ -9,6 +9,7 @@ mod dosing_cli;
 mod fuzz_cli;
 mod log_cli;
 mod numbers_cli;
+mod other_feeds_cli;
 mod output_cli;
 mod parity_cli;
 mod support;

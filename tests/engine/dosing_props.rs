@@ -392,7 +392,7 @@ proptest! {
             ("specific-gravity", 1.16),
         ];
         let litres = std::f64::consts::PI * (d_in * 0.0254 / 2.0).powi(2) * l_ft * 0.3048 * 1000.0;
-        let run = |id| table_result("main-disinfection", Some("sodium-hypochlorite"), Some("pipe"), &values, id).unwrap();
+        let run = |id| table_result("main-disinfection", Some("sodium-hypochlorite"), Some("continuous-feed"), &values, id).unwrap();
         prop_assert!((run("water_volume") / litres - 1.0).abs() < 1e-9);
         prop_assert!((run("chlorine_mass") / (litres * target / 1e6) - 1.0).abs() < 1e-9);
         // 12.5 trade % carries 125 g/L of available chlorine: 8 L per kg.
@@ -429,7 +429,7 @@ proptest! {
     fn polymer_and_jar_doses_are_linear(dose in 0.05..5.0f64, ml in 0.1..20.0f64) {
         let polymer = |d: f64| table_result("polymer", None, Some("stream"), &[
             ("flow", 5000.0), ("dose", d), ("active-percent", 40.0),
-            ("neat-specific-gravity", 1.05), ("solution-percent", 0.5),
+            ("specific-gravity", 1.05), ("solution-percent", 0.5),
         ], "solution_rate").unwrap();
         prop_assert!((polymer(2.0 * dose) / polymer(dose) - 2.0).abs() < 1e-12);
         let jar = |m: f64| table_result("jar-test", Some("ferric-chloride"), None, &[

@@ -81,6 +81,7 @@ fn result(id: &'static str, value: f64, quantity: Q, basis: Option<&str>) -> Res
         basis: basis.map(str::to_string),
         headline: false,
         range: None,
+        same_as: None,
     }
 }
 
@@ -104,6 +105,7 @@ fn outcome(chemical: String) -> Outcome {
         traces: Vec::new(),
         cautions: Vec::new(),
         inputs: Vec::new(),
+        follow_ups: Vec::new(),
     }
 }
 
@@ -1022,12 +1024,15 @@ pub(super) fn sludge(c: &Calculators, request: &Request) -> Result<Outcome> {
 
 /// The feed's result `from` also given under the calculator's own id `to` (`fluoride_added`,
 /// `dose_as_po4`, `chlorite_feed_rate`): the card's big places, the log's columns and the
-/// monthly report read the feed's ids, scripts read the named one.
-fn also_as(out: &mut Outcome, from: &str, to: &'static str, headline: bool) {
+/// monthly report read the feed's ids, scripts read the named one. `repeats`: the named one
+/// says it is `from` again (`same_as`), so a card showing `from` shows it once; a liquid's
+/// `chlorite_feed_rate` does not, because its `product_mass_rate` has no big place.
+fn also_as(out: &mut Outcome, from: &'static str, to: &'static str, headline: bool, repeats: bool) {
     if let Some(r) = out.results.iter().find(|r| r.id == from) {
         let named = ResultValue {
             id: to,
             headline,
+            same_as: repeats.then_some(from),
             ..r.clone()
         };
         out.results.push(named);
@@ -1070,8 +1075,10 @@ fn nothing_to_feed(
     let mut out = outcome(basis.to_string());
     out.results
         .push(headline("dose", 0.0, Q::Concentration, Some(basis)));
-    out.results
-        .push(result(id, 0.0, Q::Concentration, Some(basis)));
+    out.results.push(ResultValue {
+        same_as: Some("dose"),
+        ..result(id, 0.0, Q::Concentration, Some(basis))
+    });
     out.cautions = cautions;
     out.cautions.push(
         Caution::info("water-already-at-target")
@@ -1117,7 +1124,7 @@ pub(super) fn fluoridation(c: &Calculators, request: &Request) -> Result<Outcome
     };
     let r = c.feed_for(request, dose)?;
     let mut out = c.feed_outcome(&r, Vec::new(), cautions)?;
-    also_as(&mut out, "dose", "fluoride_added", false);
+    also_as(&mut out, "dose", "fluoride_added", false, true);
     // Overfeed guard: at full scale the pump or feeder adds added × 100 / setting.
     if let (Some(setting), Some(limit)) = (
         out.setting,
@@ -1228,7 +1235,7 @@ pub(super) fn corrosion_inhibitor(c: &Calculators, request: &Request) -> Result<
         vec![NamedTrace::new("phosphate-as-po4", trace)],
         cautions,
     )?;
-    also_as(&mut out, "dose", "dose_as_po4", false);
+    also_as(&mut out, "dose", "dose_as_po4", false, true);
     out.results.push(result(
         "orthophosphate_as_po4",
         dose.value * share / 100.0,
@@ -1373,7 +1380,13 @@ pub(super) fn chlorine_dioxide(c: &Calculators, request: &Request) -> Result<Out
         cautions,
     )?;
     // The chlorite product as delivered, by mass, under its own id too.
-    also_as(&mut out, "product_mass_rate", "chlorite_feed_rate", true);
+    also_as(
+        &mut out,
+        "product_mass_rate",
+        "chlorite_feed_rate",
+        true,
+        false,
+    );
     out.results.insert(
         0,
         headline("clo2_dose", clo2.value, Q::Concentration, Some("ClO2")),

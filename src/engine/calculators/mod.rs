@@ -63,6 +63,47 @@ pub struct Input {
     /// What the value is read with; its precision gives the results their range. `None`: a
     /// target, a choice or label data, exact unless the operator types a "± x".
     pub instrument: Option<Instrument>,
+    /// Another flag name the trade writes for this input (`sg` for `specific-gravity`), which
+    /// the command line accepts beside `--<name>`; the two together are refused.
+    pub short_flag: Option<&'static str>,
+    /// The name of the flag that gives this input's unit where the trade writes it otherwise
+    /// than `<name>-unit` (`volume-unit` for `tank-volume`); `--<name>-unit` is accepted too.
+    pub unit_flag: Option<&'static str>,
+}
+
+/// A calculator's mode chosen through a named choice of its own (`--residual-basis p`), for the
+/// calculators whose trade writes the choice so: the choice's name and, for each of its values,
+/// the mode it stands for. Declared in the table beside the calculator (see
+/// [`table::MODE_CHOICES`]); the command line reads it generically.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct ModeChoice {
+    pub calculator: &'static str,
+    /// The choice's name (the CLI flag, `--<name>`).
+    pub name: &'static str,
+    /// (value, mode) pairs, in the modes' order.
+    pub values: &'static [(&'static str, &'static str)],
+}
+
+/// An input given as text rather than a number (a jar-test stock's compound, a formula), for
+/// the few calculators that take one; declared in the table beside the calculator (see
+/// [`table::TEXT_INPUTS`]). Optional: without it the calculator does as before.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct TextInput {
+    pub calculator: &'static str,
+    /// The CLI flag (`--<name>`) and the key in [`Request::texts`].
+    pub name: &'static str,
+    /// What the text is: `formula` (read by the engine's formula parser).
+    pub kind: &'static str,
+}
+
+impl ModeChoice {
+    /// The mode `value` stands for.
+    pub fn mode(&self, value: &str) -> Option<&'static str> {
+        self.values
+            .iter()
+            .find(|(v, _)| v.eq_ignore_ascii_case(value.trim()))
+            .map(|(_, m)| *m)
+    }
 }
 
 /// How a product reaches the water: a liquid through a metering pump (strength, SG, pump
@@ -330,6 +371,18 @@ impl Calculator {
         self.curve.is_some()
     }
 
+    /// The inputs this calculator takes as text, where the table declares any.
+    pub fn text_inputs(&self) -> impl Iterator<Item = &'static TextInput> + '_ {
+        table::TEXT_INPUTS
+            .iter()
+            .filter(move |t| t.calculator == self.id)
+    }
+
+    /// The named choice that picks this calculator's mode, where the table declares one.
+    pub fn mode_choice(&self) -> Option<&'static ModeChoice> {
+        table::MODE_CHOICES.iter().find(|m| m.calculator == self.id)
+    }
+
     /// The mode a request names, else the first (or none for a calculator without modes).
     fn mode(&self, asked: Option<&str>) -> Result<Option<&'static str>> {
         match asked {
@@ -425,6 +478,8 @@ pub struct Request {
     /// Inputs that are lists rather than numbers ([`Quantity::Chemicals`]), by input name, in
     /// the order given.
     pub lists: BTreeMap<&'static str, Vec<String>>,
+    /// The text inputs given (a compound's formula), by name (see [`TextInput`]).
+    pub texts: BTreeMap<&'static str, String>,
 }
 
 impl Request {
@@ -459,6 +514,24 @@ pub struct ResultValue {
     /// The range the readings' precision allows (same unit as `value`); `None` when every
     /// input was exact, or when a reading moved by its precision could not be computed.
     pub range: Option<Range>,
+    /// The id of the result this one repeats under the name scripts rely on (`fluoride_added`
+    /// is the `dose`): a card that shows that result shows this one only there, once.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub same_as: Option<&'static str>,
+}
+
+/// A next step an outcome offers: another calculator of the table, opened with values this
+/// one computed (a jar test's dose sent to the plant calculator that feeds it; the water of a
+/// disinfected main sent to dechlorination). Front ends show it generically: the CLI prints its
+/// command line, the app a button; neither knows which calculators these are.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct FollowUp {
+    /// The calculator to open (an id of the table).
+    pub calculator: &'static str,
+    /// The product to choose there, where it is the same product.
+    pub product: Option<String>,
+    /// (input of that calculator, value in its quantity's SI unit).
+    pub values: Vec<(&'static str, f64)>,
 }
 
 /// What fed the dose: the pump or feeder and the setting the calculator gives for it.
@@ -527,6 +600,8 @@ pub struct Outcome {
     pub cautions: Vec<Caution>,
     /// The inputs as used, in the calculator's order.
     pub inputs: Vec<InputUsed>,
+    /// Other calculators this outcome's numbers go on to, with the values they receive.
+    pub follow_ups: Vec<FollowUp>,
 }
 
 impl Outcome {

@@ -727,3 +727,45 @@ fn negative_readings_are_refused() {
         assert_eq!(e.reason(), Some("negative-reading"), "{id} {negative}: {e}");
     }
 }
+
+/// The named dose (`fluoride_added`, `dose_as_po4`) is the feed's `dose` under the name scripts
+/// read, and says so (`same_as`), so that a card showing the dose shows it once; the JSON keeps
+/// both ids.
+#[test]
+fn the_named_dose_repeats_the_dose_and_says_so() {
+    let c = calculators();
+    for (id, product, named, values) in [
+        (
+            "fluoridation",
+            "fluorosilicic-acid",
+            "fluoride_added",
+            vec![("target-fluoride", 0.7), ("natural-fluoride", 0.2)],
+        ),
+        (
+            "corrosion-inhibitor",
+            "phosphoric-acid",
+            "dose_as_po4",
+            vec![("target-residual", 1.0), ("present-residual", 0.3)],
+        ),
+    ] {
+        let values: Vec<_> = values
+            .into_iter()
+            .chain([
+                ("strength", 75.0),
+                ("specific-gravity", 1.58),
+                ("pump-capacity", 5.0),
+            ])
+            .collect();
+        let mut r = request(id, None, product, &values);
+        if id == "fluoridation" {
+            r.values.insert("strength", 23.0);
+            r.values.insert("specific-gravity", 1.19);
+        }
+        let out = c.compute(&r).unwrap();
+        let n = out.result(named).unwrap();
+        assert_eq!(n.same_as, Some("dose"), "{id}");
+        assert_eq!(n.value, got(&out, "dose"), "{id}");
+        assert!(!n.headline, "{id}");
+        assert_eq!(out.result("dose").unwrap().same_as, None);
+    }
+}

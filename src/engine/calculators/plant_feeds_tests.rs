@@ -372,7 +372,7 @@ fn a_new_main_holds_pi_r_squared_l_and_takes_its_chlorine() {
     let out = check(
         "main-disinfection",
         Some("sodium-hypochlorite"),
-        Some("pipe"),
+        Some("continuous-feed"),
         &values,
         &[
             ("water_volume", litres),
@@ -409,7 +409,7 @@ fn a_tank_with_dry_hypochlorite_and_a_well_with_its_water_column() {
     check(
         "main-disinfection",
         Some("calcium-hypochlorite"),
-        Some("tank"),
+        Some("continuous-feed"),
         &[
             ("tank-volume", 750_000.0),
             ("target-chlorine", 10.0),
@@ -431,14 +431,12 @@ fn a_tank_with_dry_hypochlorite_and_a_well_with_its_water_column() {
     check(
         "main-disinfection",
         Some("calcium-hypochlorite"),
-        Some("well"),
+        Some("slug"),
         &[
             ("casing-diameter", 152.4),
             ("water-depth", 30.48),
             ("target-chlorine", 50.0),
             ("purity", 65.0),
-            // Another mode's reading is not used.
-            ("tank-volume", 1.0),
         ],
         &[
             ("water_volume", litres),
@@ -450,21 +448,141 @@ fn a_tank_with_dry_hypochlorite_and_a_well_with_its_water_column() {
 }
 
 #[test]
-fn a_mode_without_its_readings_is_refused() {
-    let values: Vec<_> = [("diameter", 200.0), ("target-chlorine", 25.0)]
+fn an_object_without_its_readings_or_two_objects_at_once_are_refused() {
+    for (values, why) in [
+        // A pipe without its length.
+        (vec![("diameter", 200.0)], "missing-input"),
+        // No dimensions at all.
+        (vec![], "missing-input"),
+        // A rectangular tank without its depth of water.
+        (
+            vec![("tank-length", 10.0), ("tank-width", 5.0)],
+            "missing-input",
+        ),
+        // A well and a tank volume: which one is meant is a guess.
+        (
+            vec![
+                ("casing-diameter", 152.4),
+                ("water-depth", 30.0),
+                ("tank-volume", 1.0),
+            ],
+            "disinfected-object-ambiguous",
+        ),
+        // A depth of water beside a pipe belongs to no pipe.
+        (
+            vec![("diameter", 200.0), ("length", 100.0), ("water-depth", 3.0)],
+            "disinfected-object-ambiguous",
+        ),
+    ] {
+        let values: Vec<_> = values
+            .into_iter()
+            .chain([("target-chlorine", 25.0)])
+            .chain(HYPO)
+            .collect();
+        let e = check(
+            "main-disinfection",
+            Some("sodium-hypochlorite"),
+            None,
+            &values,
+            &[],
+            0.0,
+        )
+        .unwrap_err();
+        assert_eq!(reason(&e), Some(why), "{values:?}");
+    }
+}
+
+#[test]
+fn a_tank_by_its_dimensions_round_or_rectangular() {
+    // Round: 12 m across, 8 m of water: π × 6² × 8 = 904.78 m³ (by hand, π r² h).
+    let round = std::f64::consts::PI * 36.0 * 8.0 * 1000.0;
+    // Rectangular: 20 m × 10 m × 4 m = 800 m³ = 800 000 L (1 m³ = 1000 L, exact).
+    for (dims, litres) in [
+        (vec![("tank-diameter", 12.0), ("water-depth", 8.0)], round),
+        (
+            vec![
+                ("tank-length", 20.0),
+                ("tank-width", 10.0),
+                ("water-depth", 4.0),
+            ],
+            800_000.0,
+        ),
+    ] {
+        let values: Vec<_> = dims
+            .into_iter()
+            .chain([("target-chlorine", 10.0), ("purity", 65.0)])
+            .collect();
+        check(
+            "main-disinfection",
+            Some("calcium-hypochlorite"),
+            None,
+            &values,
+            &[
+                ("water_volume", litres),
+                // 10 mg/L × L ÷ 10⁶ mg/kg.
+                ("chlorine_mass", litres * 10.0 / 1.0e6),
+                ("product_mass", litres * 10.0 / 1.0e6 / 0.65),
+            ],
+            1e-9,
+        )
+        .unwrap();
+    }
+}
+
+#[test]
+fn without_a_target_the_method_common_target_is_used_and_labelled() {
+    // 100 m of 150 mm pipe: π × 0.075² × 100 × 1000 = 1767.1 L (by hand).
+    let litres = std::f64::consts::PI * 0.075_f64.powi(2) * 100.0 * 1000.0;
+    // Continuous feed ~25 mg/L, slug ~100 mg/L (references.md §9, AWWA C651 from memory
+    // [M]); tablets ~25 mg/L (common practice, from memory).
+    for (method, product, target) in [
+        ("continuous-feed", "sodium-hypochlorite", 25.0),
+        ("slug", "sodium-hypochlorite", 100.0),
+        ("tablet", "calcium-hypochlorite", 25.0),
+    ] {
+        let values: Vec<_> = [("diameter", 150.0), ("length", 100.0)]
+            .into_iter()
+            .chain(if product == "calcium-hypochlorite" {
+                vec![("purity", 65.0)]
+            } else {
+                HYPO.to_vec()
+            })
+            .collect();
+        let out = check(
+            "main-disinfection",
+            Some(product),
+            Some(method),
+            &values,
+            &[("chlorine_mass", litres * target / 1.0e6)],
+            1e-9,
+        )
+        .unwrap();
+        let c = out
+            .cautions
+            .iter()
+            .find(|c| c.key == "disinfection-target-from-practice")
+            .expect("the target is said to be the method's common one");
+        assert!(
+            c.params
+                .iter()
+                .any(|(k, v)| k == "source" && v.contains("from memory"))
+        );
+    }
+    // Tablets are calcium hypochlorite: a solution is refused for the tablet method.
+    let values: Vec<_> = [("diameter", 150.0), ("length", 100.0)]
         .into_iter()
         .chain(HYPO)
         .collect();
     let e = check(
         "main-disinfection",
         Some("sodium-hypochlorite"),
-        Some("pipe"),
+        Some("tablet"),
         &values,
         &[],
         0.0,
     )
     .unwrap_err();
-    assert_eq!(reason(&e), Some("missing-input"));
+    assert_eq!(reason(&e), Some("product-not-for-calculator"));
 }
 
 // ---- polymer ----
@@ -481,7 +599,7 @@ fn polymer_for_a_stream_by_hand() {
             ("flow", 10_000.0),
             ("dose", 1.5),
             ("active-percent", 40.0),
-            ("neat-specific-gravity", 1.05),
+            ("specific-gravity", 1.05),
             ("solution-percent", 0.5),
             ("pump-capacity", 200.0),
         ],
@@ -511,7 +629,7 @@ fn polymer_for_dewatering_in_pounds_per_ton() {
             ("dry-solids-rate", 5000.0),
             ("solids-dose", kg_per_t),
             ("active-percent", 40.0),
-            ("neat-specific-gravity", 1.05),
+            ("specific-gravity", 1.05),
             ("solution-percent", 0.25),
         ],
         &[("feed_mass_rate", 50.0), ("solution_rate", 20_000.0 / 24.0)],
@@ -531,7 +649,7 @@ fn a_solution_stronger_than_the_neat_polymer_is_refused() {
             ("flow", 10_000.0),
             ("dose", 1.5),
             ("active-percent", 40.0),
-            ("neat-specific-gravity", 1.05),
+            ("specific-gravity", 1.05),
             ("solution-percent", 50.0),
         ],
         &[],
@@ -599,4 +717,125 @@ fn a_jar_dose_is_stock_times_millilitres_over_the_jar() {
         2e-4,
     )
     .unwrap();
+}
+
+// ---- the table's named choices, text inputs and follow-ups ----
+
+/// Every mode a named choice stands for is a mode of its calculator, each mode once; every
+/// text input belongs to a calculator of the table; every jar-test product's dose goes to a
+/// calculator that offers that product and has the input it is sent to.
+#[test]
+fn named_choices_text_inputs_and_follow_ups_land_on_the_table() {
+    let c = Calculators::new().unwrap();
+    for m in &table::MODE_CHOICES {
+        let calc = find(m.calculator).unwrap();
+        let modes: Vec<&str> = m.values.iter().map(|(_, mode)| *mode).collect();
+        assert_eq!(modes, calc.modes, "{}", m.calculator);
+    }
+    for t in &table::TEXT_INPUTS {
+        assert!(find(t.calculator).is_ok(), "{}", t.name);
+    }
+    let jar = find("jar-test").unwrap();
+    for p in c.products(jar) {
+        let (_, to, input) = table::JAR_SENDS_TO
+            .iter()
+            .find(|(id, _, _)| *id == p.id)
+            .unwrap_or_else(|| panic!("{}: the jar dose goes nowhere", p.id));
+        let target = find(to).unwrap();
+        assert!(
+            c.products(target).iter().any(|q| q.id == p.id),
+            "{to} {}",
+            p.id
+        );
+        let i = c.all_inputs(target).into_iter().find(|i| i.name == *input);
+        // Received on the product's dose compound, as the jar dose is given.
+        assert_eq!(i.and_then(|i| i.basis), Some(DOSE_AS), "{to} --{input}");
+    }
+}
+
+#[test]
+fn a_jar_test_names_the_calculator_and_input_its_dose_goes_to() {
+    // 10 g/L × 3 mL ÷ 1000 mL = 30 mg/L as the product's dose compound (g/L = mg/mL).
+    let out = check(
+        "jar-test",
+        Some("alum-liquid"),
+        None,
+        &[
+            ("stock-concentration", 10.0),
+            ("ml-dosed", 3.0),
+            ("jar-volume-ml", 1000.0),
+            ("strength", 8.3),
+            ("specific-gravity", 1.335),
+        ],
+        &[("jar_dose", 30.0)],
+        1e-12,
+    )
+    .unwrap();
+    assert_eq!(
+        out.follow_ups,
+        vec![FollowUp {
+            calculator: "coagulation",
+            product: Some("alum-liquid".into()),
+            values: vec![("jar-dose", 30.0)],
+        }]
+    );
+}
+
+#[test]
+fn a_hydrate_stock_is_taken_mole_for_mole_and_another_compound_is_refused() {
+    let run = |compound: &str| {
+        let mut r = Request::new(find("jar-test").unwrap());
+        r.product = Some("ferric-chloride".into());
+        r.values = [
+            ("stock-concentration", 10.0),
+            ("ml-dosed", 3.0),
+            ("jar-volume-ml", 1000.0),
+            ("strength", 40.0),
+            ("specific-gravity", 1.415),
+        ]
+        .into_iter()
+        .collect();
+        r.texts.insert("stock-compound", compound.to_string());
+        Calculators::new().unwrap().compute(&r)
+    };
+    // 30 mg/L of FeCl3·6H2O is 30 × 162.20 / 270.29 mg/L as FeCl3 (by hand, IUPAC weights);
+    // a 40 % product: ÷ 0.40 as product.
+    let fecl3 = FE + 3.0 * CL;
+    let hexa = fecl3 + 6.0 * (2.0 * H + O);
+    let out = run("FeCl3·6H2O").unwrap();
+    assert!((out.result("jar_dose").unwrap().value - 30.0).abs() < 1e-9);
+    let as_fecl3 = 30.0 * fecl3 / hexa;
+    let product = out.result("jar_dose_product").unwrap().value;
+    assert!(
+        (product - as_fecl3 / 0.40).abs() < 1e-3 * product,
+        "{product}"
+    );
+    assert!((out.follow_ups[0].values[0].1 - as_fecl3).abs() < 1e-3 * as_fecl3);
+    let e = run("Fe2(SO4)3").unwrap_err();
+    assert_eq!(reason(&e), Some("stock-compound-not-product"));
+}
+
+#[test]
+fn a_disinfected_main_sends_its_chlorine_to_dechlorination() {
+    let values: Vec<_> = [
+        ("diameter", 150.0),
+        ("length", 100.0),
+        ("target-chlorine", 25.0),
+    ]
+    .into_iter()
+    .chain(HYPO)
+    .collect();
+    let out = check(
+        "main-disinfection",
+        Some("sodium-hypochlorite"),
+        None,
+        &values,
+        &[],
+        0.0,
+    )
+    .unwrap();
+    assert_eq!(out.follow_ups[0].calculator, "dechlorination");
+    assert_eq!(out.follow_ups[0].values, vec![("residual-in", 25.0)]);
+    let dechlor = find("dechlorination").unwrap();
+    assert!(dechlor.inputs.iter().any(|i| i.name == "residual-in"));
 }

@@ -6,7 +6,10 @@
 
 use super::compute;
 use super::compute::ALKALIS;
-use super::{Calculator, Input, Offer, ProductInputs, ResultSpec, Scope, headline, secondary};
+use super::{
+    Calculator, Input, ModeChoice, Offer, ProductInputs, ResultSpec, Scope, TextInput, headline,
+    secondary,
+};
 use super::{DOSE_AS, PRODUCT, STRENGTH_BASIS};
 use super::{FeedForm, Instrument, Quantity as Q};
 
@@ -24,6 +27,24 @@ const fn water(name: &'static str, quantity: Q) -> Input {
         limit: None,
         // A reading of the water is measured, with the instrument usual for its quantity.
         instrument: Instrument::for_water(quantity),
+        short_flag: None,
+        unit_flag: None,
+    }
+}
+
+/// `input` also written `--<flag>` (the trade's short name).
+const fn short_flag(input: Input, flag: &'static str) -> Input {
+    Input {
+        short_flag: Some(flag),
+        ..input
+    }
+}
+
+/// `input`'s unit given by `--<flag>` (as the trade writes it) besides `--<name>-unit`.
+const fn unit_flag(input: Input, flag: &'static str) -> Input {
+    Input {
+        unit_flag: Some(flag),
+        ..input
     }
 }
 
@@ -83,6 +104,12 @@ const fn limited(input: Input, parameter: &'static str) -> Input {
 
 const FLOW: Input = water("flow", Q::Flow);
 
+/// A liquid product's specific gravity, `--sg` for short.
+const SPECIFIC_GRAVITY: Input = short_flag(product("specific-gravity", Q::SpecificGravity), "sg");
+
+/// A metering pump's output at full scale, its unit `--pump-unit` for short.
+const PUMP_CAPACITY: Input = unit_flag(product("pump-capacity", Q::VolumePerHour), "pump-unit");
+
 /// The results of a dose fed through a pump or feeder, in card order: the dose, the active
 /// chemical per day, the product as delivered (volume for a liquid, mass for a gas or dry
 /// chemical) and the setting of the pump or feeder.
@@ -125,6 +152,27 @@ const JAR_PRODUCTS: [&str; 7] = [
     "soda-ash",
 ];
 
+/// Where a jar test's dose goes, by the stock's product: the plant calculator and its input
+/// that receive it, both on the product's dose compound (a coagulant's jar dose is the
+/// coagulation calculator's `jar-dose`; an alkali's is a dose to feed).
+pub(super) const JAR_SENDS_TO: [(&str, &str, &str); 7] = [
+    ("alum-liquid", "coagulation", "jar-dose"),
+    ("ferric-chloride", "coagulation", "jar-dose"),
+    ("ferric-sulfate", "coagulation", "jar-dose"),
+    ("pacl", "coagulation", "jar-dose"),
+    ("sodium-hydroxide", "feed", "dose"),
+    ("hydrated-lime", "feed", "dose"),
+    ("soda-ash", "feed", "dose"),
+];
+
+/// Inputs given as text: the compound a jar test's stock is made of (its formula; without
+/// it, the product's dose compound).
+pub static TEXT_INPUTS: [TextInput; 1] = [TextInput {
+    calculator: "jar-test",
+    name: "stock-compound",
+    kind: "formula",
+}];
+
 /// Lime products for softening; soda ash is the other softening chemical.
 pub(super) const LIMES: [&str; 2] = ["hydrated-lime", "quicklime"];
 
@@ -137,11 +185,11 @@ pub(super) fn product_inputs(
     // A gas's or dry chemical's numbers have other names than a liquid's, so that a liquid's
     // strength, SG or pump volume can never feed a gas or dry calculation after a switch.
     let strength = match form {
-        FeedForm::Liquid => vec![
-            product("strength", Q::Percent),
-            product("specific-gravity", Q::SpecificGravity),
-        ],
-        FeedForm::Gas | FeedForm::Dry => vec![product("purity", Q::Percent)],
+        FeedForm::Liquid => vec![product("strength", Q::Percent), SPECIFIC_GRAVITY],
+        // A dry chemical's or gas's strength is its purity: `--strength` gives it too.
+        FeedForm::Gas | FeedForm::Dry => {
+            vec![short_flag(product("purity", Q::Percent), "strength")]
+        }
     };
     let strength: Vec<Input> = strength
         .into_iter()
@@ -152,7 +200,7 @@ pub(super) fn product_inputs(
         })
         .collect();
     let scale = match form {
-        FeedForm::Liquid => product("pump-capacity", Q::VolumePerHour),
+        FeedForm::Liquid => PUMP_CAPACITY,
         FeedForm::Gas => product("gas-feeder-capacity", Q::MassPerDay),
         FeedForm::Dry => product("dry-feeder-capacity", Q::MassPerDay),
     };
@@ -224,6 +272,29 @@ const CHLORITE_PRODUCTS: [&str; 2] = ["sodium-chlorite", "sodium-chlorite-dry"];
 
 /// Basis of a phosphate residual: the calculator's mode (as PO4, as P or as P2O5).
 const RESIDUAL_BASIS: &str = "residual-basis";
+
+/// Modes the trade chooses by a named choice of their own (`--residual-basis p`, `--route
+/// acid-chlorite`), each beside its calculator's entry below: the choice's values and the mode
+/// each stands for. A calculator not listed is given its mode by `--mode`.
+pub static MODE_CHOICES: [ModeChoice; 2] = [
+    ModeChoice {
+        calculator: "corrosion-inhibitor",
+        name: RESIDUAL_BASIS,
+        values: &[
+            ("po4", "residual-as-po4"),
+            ("p", "residual-as-p"),
+            ("p2o5", "residual-as-p2o5"),
+        ],
+    },
+    ModeChoice {
+        calculator: "chlorine-dioxide",
+        name: "route",
+        values: &[
+            ("chlorine-chlorite", "chlorine-chlorite"),
+            ("acid-chlorite", "acid-chlorite"),
+        ],
+    },
+];
 
 pub static TABLE: [Calculator; 21] = [
     Calculator {
@@ -722,16 +793,26 @@ pub static TABLE: [Calculator; 21] = [
     Calculator {
         id: "main-disinfection",
         group: "main-disinfection",
-        // What is disinfected: a new pipe (diameter, length), a tank (its volume) or a well
-        // (casing diameter, depth of water). The other modes' inputs are left out.
-        modes: &["pipe", "tank", "well"],
+        // The method (AWWA C651 style, common practice): each has its common target, used
+        // when no target is given. What is disinfected follows from the dimensions given: a new
+        // pipe (diameter, length), a tank (its volume, or a vertical cylinder's diameter or a
+        // rectangle's length and width, with the depth of water) or a well (casing diameter,
+        // depth of water); two of them at once are refused.
+        modes: &["continuous-feed", "slug", "tablet"],
         inputs: &[
-            optional(own("diameter", Q::Diameter)),
-            optional(own("length", Q::Length)),
-            optional(own("tank-volume", Q::Volume)),
-            optional(own("casing-diameter", Q::Diameter)),
-            optional(own("water-depth", Q::Length)),
-            based(own("target-chlorine", Q::Concentration), CL2),
+            optional(unit_flag(own("diameter", Q::Diameter), "diameter-unit")),
+            optional(unit_flag(own("length", Q::Length), "length-unit")),
+            optional(unit_flag(own("tank-volume", Q::Volume), "volume-unit")),
+            optional(unit_flag(own("tank-diameter", Q::Length), "length-unit")),
+            optional(unit_flag(own("tank-length", Q::Length), "length-unit")),
+            optional(unit_flag(own("tank-width", Q::Length), "length-unit")),
+            optional(unit_flag(
+                own("casing-diameter", Q::Diameter),
+                "diameter-unit",
+            )),
+            optional(unit_flag(own("water-depth", Q::Length), "length-unit")),
+            // Without it, the method's common target (labelled as practice).
+            optional(based(own("target-chlorine", Q::Concentration), CL2)),
         ],
         product_inputs: ProductInputs::Strength,
         offer: Offer::Listed(&HYPOCHLORITES),
@@ -756,9 +837,10 @@ pub static TABLE: [Calculator; 21] = [
             optional(based(own("dry-solids-rate", Q::MassPerDay), DRY_SOLIDS)),
             optional(based(own("solids-dose", Q::SolidsDose), "active polymer")),
             based(product("active-percent", Q::Percent), "active"),
-            product("neat-specific-gravity", Q::SpecificGravity),
+            // The neat product's SG, the common `--sg`.
+            SPECIFIC_GRAVITY,
             based(own("solution-percent", Q::Percent), "active"),
-            optional(product("pump-capacity", Q::VolumePerHour)),
+            optional(PUMP_CAPACITY),
         ],
         product_inputs: ProductInputs::None,
         offer: Offer::None,
@@ -778,7 +860,10 @@ pub static TABLE: [Calculator; 21] = [
         modes: &[],
         inputs: &[
             // Mass per volume of the stock, as the product's dose compound (1 % w/v = 10 g/L).
-            based(own("stock-concentration", Q::StockStrength), DOSE_AS),
+            unit_flag(
+                based(own("stock-concentration", Q::StockStrength), DOSE_AS),
+                "stock-unit",
+            ),
             own("ml-dosed", Q::Millilitres),
             own("jar-volume-ml", Q::Millilitres),
         ],

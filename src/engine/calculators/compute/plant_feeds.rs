@@ -10,7 +10,7 @@
 //! unit definitions, which the traces mark exact.
 
 use super::{Calculators, Outcome, Request, chosen, headline, measured, outcome, result, value};
-use crate::engine::calculators::{Device, Setting};
+use crate::engine::calculators::{Device, FollowUp, Setting};
 use crate::engine::dosing::NamedTrace;
 use crate::engine::dosing::catalog::{Catalog, active_to_product, molar_mass};
 use crate::engine::dosing::caution::Caution;
@@ -28,10 +28,15 @@ use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 pub(crate) const METAL_RATIO_PRACTICE: (f64, f64) = (1.5, 2.5);
 const METAL_RATIO_SOURCE: &str = "common practice; US EPA phosphorus removal design manual and Metcalf & Eddy, Wastewater Engineering, 5th ed. (2014), ch. 6 (from memory)";
 
-/// Common targets for disinfecting a new main (common practice, from memory of the AWWA
-/// C651/C652 procedures: 25 mg/L continuous feed held 24 h, 50 mg/L for a shorter hold or a
-/// tank); shown beside the target, never in its place: the plant's own procedure wins.
-const DISINFECTION_PRACTICE_MG_L: (f64, f64) = (25.0, 50.0);
+/// The disinfection methods (the calculator's modes) with the free chlorine each commonly
+/// aims at, used when no target is given and shown beside a target that is: continuous feed
+/// about 25 mg/L with at least 10 mg/L left after 24 h, slug about 100 mg/L held 3 h
+/// (`/work/shared/domain/references.md` §9, from memory of AWWA C651 [M]); tablets placed to
+/// give about 25 mg/L (common practice, AWWA C651 style, from memory). The plant's own
+/// procedure and the local authority's rules win over all three.
+pub(crate) const DISINFECTION_METHODS: [(&str, f64); 3] =
+    [("continuous-feed", 25.0), ("slug", 100.0), ("tablet", 25.0)];
+const DISINFECTION_SOURCE: &str = "common practice (AWWA C651/C652 style targets, from memory)";
 
 fn non_negative(name: &'static str, v: f64, unit: &str) -> Result<f64> {
     check_range(name, v, 0.0, f64::MAX, unit)
@@ -357,27 +362,81 @@ pub(crate) fn phosphorus_removal(c: &Calculators, request: &Request) -> Result<O
     Ok(out)
 }
 
-/// The volume of water a main, a tank or a well holds, by the request's mode, in L with its
-/// trace: π (d/2)² × length for a pipe or a well's water column (unit factors exact).
+/// What is disinfected, told by the dimensions given: each object with the inputs that
+/// describe it (the depth of water is shared by a well and a tank by dimensions).
+const OBJECTS: [(&str, &[&str]); 5] = [
+    ("pipe", &["diameter", "length"]),
+    ("well", &["casing-diameter", "water-depth"]),
+    ("tank", &["tank-volume"]),
+    ("tank-cylinder", &["tank-diameter", "water-depth"]),
+    (
+        "tank-rectangle",
+        &["tank-length", "tank-width", "water-depth"],
+    ),
+];
+
+/// The object the request's dimensions describe: the one whose own dimensions (the depth of
+/// water aside) are given. None given is a missing input; two, or a depth of water beside a
+/// pipe or a tank volume, is refused: the volume would be one of two guesses.
+fn disinfected_object(request: &Request) -> Result<&'static str> {
+    let given = |name: &str| request.get(name).is_some();
+    let named: Vec<&'static str> = OBJECTS
+        .iter()
+        .filter(|(_, inputs)| {
+            inputs
+                .iter()
+                .filter(|i| **i != "water-depth")
+                .any(|i| given(i))
+        })
+        .map(|(o, _)| *o)
+        .collect();
+    let depth_unused = given("water-depth") && named.iter().all(|o| matches!(*o, "pipe" | "tank"));
+    match named.as_slice() {
+        [] => Err(missing("diameter")),
+        [one] if !depth_unused => Ok(*one),
+        _ => Err(Error::new(
+            ErrorKind::InvalidInput,
+            "give the dimensions of one pipe, tank or well: these describe more than one",
+        )
+        .because("disinfected-object-ambiguous")),
+    }
+}
+
+/// A dimension the object needs, positive, with its figures.
+fn dimension(
+    request: &Request,
+    name: &'static str,
+    what: &'static str,
+    unit: &str,
+) -> Result<Measured> {
+    let m = maybe(request, name).ok_or_else(|| missing(name))?;
+    check_positive(what, m.value, unit)?;
+    Ok(m)
+}
+
+/// The volume of water a main, a tank or a well holds, in L with its trace: π (d/2)² × length
+/// for a pipe, a well's water column or a round tank, length × width × depth for a rectangular
+/// one (unit factors exact).
 fn disinfected_volume(request: &Request) -> Result<Trace> {
-    let cylinder = |d_name: &'static str, l_name: &'static str, what: &str| -> Result<Trace> {
-        let d = maybe(request, d_name).ok_or_else(|| missing(d_name))?;
-        let l = maybe(request, l_name).ok_or_else(|| missing(l_name))?;
-        check_positive("pipe diameter", d.value, "mm")?;
-        check_positive("pipe length", l.value, "m")?;
-        let r_m = d.value / 2000.0;
+    // A cylinder: its diameter in m (a pipe's or casing's is typed in mm: ÷ 1000, exact)
+    // and its length or depth of water in m.
+    let cylinder = |d: Measured, d_to_m: f64, l: Measured, what: &str| -> Result<Trace> {
+        let r_m = d.value * d_to_m / 2.0;
         let mut t = Trace::new(
             Quantity::of(l.value, "m", what),
             Origin::Measured,
             l.sig_figs,
         );
-        // Cross-section π r², r = d/2 in m (1000 mm = 1 m by definition).
+        // Cross-section π r².
         t.then(
             Quantity::of(std::f64::consts::PI * r_m * r_m, "m³", what),
             Quantity::of(1.0, "m", what),
             Origin::Measured,
             d.sig_figs,
         )?;
+        Ok(t)
+    };
+    let litres = |mut t: Trace, what: &str| -> Result<Trace> {
         t.then(
             Quantity::of(1000.0, "L", "water"),
             Quantity::of(1.0, "m³", what),
@@ -386,34 +445,84 @@ fn disinfected_volume(request: &Request) -> Result<Trace> {
         )?;
         Ok(t)
     };
-    match request.mode {
-        Some("tank") => {
-            let v = maybe(request, "tank-volume").ok_or_else(|| missing("tank-volume"))?;
-            check_positive("tank volume", v.value, "L")?;
+    match disinfected_object(request)? {
+        "tank" => {
+            let v = dimension(request, "tank-volume", "tank volume", "L")?;
             Ok(Trace::new(
                 Quantity::of(v.value, "L", "water"),
                 Origin::Measured,
                 v.sig_figs,
             ))
         }
-        Some("well") => cylinder("casing-diameter", "water-depth", "well"),
-        _ => cylinder("diameter", "length", "pipe"),
+        "tank-cylinder" => {
+            let d = dimension(request, "tank-diameter", "pipe diameter", "m")?;
+            let h = dimension(request, "water-depth", "pipe length", "m")?;
+            litres(cylinder(d, 1.0, h, "tank")?, "tank")
+        }
+        "tank-rectangle" => {
+            let l = dimension(request, "tank-length", "pipe length", "m")?;
+            let w = dimension(request, "tank-width", "pipe length", "m")?;
+            let h = dimension(request, "water-depth", "pipe length", "m")?;
+            let mut t = Trace::new(
+                Quantity::of(h.value, "m", "tank"),
+                Origin::Measured,
+                h.sig_figs,
+            );
+            t.then(
+                Quantity::of(l.value * w.value, "m³", "tank"),
+                Quantity::of(1.0, "m", "tank"),
+                Origin::Measured,
+                combine(l.sig_figs, w.sig_figs),
+            )?;
+            litres(t, "tank")
+        }
+        "well" => {
+            let d = dimension(request, "casing-diameter", "pipe diameter", "mm")?;
+            let h = dimension(request, "water-depth", "pipe length", "m")?;
+            litres(cylinder(d, 1.0e-3, h, "well")?, "well")
+        }
+        _ => {
+            let d = dimension(request, "diameter", "pipe diameter", "mm")?;
+            let l = dimension(request, "length", "pipe length", "m")?;
+            litres(cylinder(d, 1.0e-3, l, "pipe")?, "pipe")
+        }
     }
 }
 
 /// Disinfecting a new main, a tank or a well: the water it holds, the chlorine for the target
-/// concentration, and the hypochlorite that carries it (mass, and volume for a solution).
+/// concentration (the method's common one when none is given), and the hypochlorite that
+/// carries it (mass, and volume for a solution). The tablet method places calcium
+/// hypochlorite tablets: a solution is refused for it.
 pub(crate) fn main_disinfection(c: &Calculators, request: &Request) -> Result<Outcome> {
-    let target = measured(request, "target-chlorine")?;
+    let method = request.mode.unwrap_or(DISINFECTION_METHODS[0].0);
+    let practice = DISINFECTION_METHODS
+        .iter()
+        .find(|(m, _)| *m == method)
+        .map_or(DISINFECTION_METHODS[0].1, |(_, t)| *t);
+    let typed = maybe(request, "target-chlorine");
+    let target = typed.unwrap_or(Measured::exact(practice));
     check_positive("chlorine dose", target.value, "mg/L")?;
     let (id, strength) = c.strength(request)?;
     let p = c.catalog.product(&id)?;
+    if method == "tablet" && p.form == crate::engine::dosing::catalog::Form::Solution {
+        return Err(Error::new(
+            ErrorKind::InvalidInput,
+            format!("the tablet method places calcium hypochlorite tablets, not {id}"),
+        )
+        .because("product-not-for-calculator")
+        .with("product", id.clone()));
+    }
     let mut t = disinfected_volume(request)?;
     let litres = t.value();
     t.then(
         Quantity::of(target.value, "mg", "Cl2"),
         Quantity::of(1.0, "L", "water"),
-        Origin::Measured,
+        match typed {
+            Some(_) => Origin::Measured,
+            None => Origin::Constant {
+                source: format!("{method}: {DISINFECTION_SOURCE}"),
+            },
+        },
         target.sig_figs,
     )?;
     t.then(
@@ -454,7 +563,8 @@ pub(crate) fn main_disinfection(c: &Calculators, request: &Request) -> Result<Ou
         NamedTrace::new("chlorine-for-volume", t),
         NamedTrace::new("product-per-chlorine", per.trace),
     ];
-    let (low, high) = DISINFECTION_PRACTICE_MG_L;
+    // The volume travels with the caution (and the follow-up) so that a front end can open
+    // the dechlorination calculator for it.
     out.cautions.push(
         Caution::warning("dechlorinate-before-discharge")
             .with("volume", format_sig(litres, 3))
@@ -462,11 +572,22 @@ pub(crate) fn main_disinfection(c: &Calculators, request: &Request) -> Result<Ou
             .with("target", format_sig(target.value, 3)),
     );
     out.cautions.push(
-        Caution::info("disinfection-target-practice")
-            .with("low", low)
-            .with("high", high),
+        Caution::info(if typed.is_some() {
+            "disinfection-target-practice"
+        } else {
+            "disinfection-target-from-practice"
+        })
+        .with("method", format!("mode-{method}"))
+        .with("target", practice)
+        .with("source", DISINFECTION_SOURCE),
     );
     out.cautions.extend(product_cautions(p));
+    // Dechlorination before discharge: its residual is the chlorine the water was left at.
+    out.follow_ups.push(FollowUp {
+        calculator: "dechlorination",
+        product: None,
+        values: vec![("residual-in", target.value)],
+    });
     Ok(out)
 }
 
@@ -474,7 +595,7 @@ pub(crate) fn main_disinfection(c: &Calculators, request: &Request) -> Result<Ou
 /// product it is in, and the made-down solution the pump feeds.
 pub(crate) fn polymer(_c: &Calculators, request: &Request) -> Result<Outcome> {
     let active = measured(request, "active-percent")?;
-    let sg = measured(request, "neat-specific-gravity")?;
+    let sg = measured(request, "specific-gravity")?;
     let solution = measured(request, "solution-percent")?;
     check_range("strength", active.value, 0.0, 100.0, "%")?;
     check_positive("strength", active.value, "%")?;
@@ -620,9 +741,27 @@ pub(crate) fn polymer(_c: &Calculators, request: &Request) -> Result<Outcome> {
     Ok(out)
 }
 
+/// The same compound but for water of hydration (FeCl3·6H2O and FeCl3): every element but H
+/// and O in the same count, and the H and O that differ make whole H2O. One mole of either
+/// carries the same mole of the salt.
+fn same_but_water(a: &Formula, b: &Formula) -> bool {
+    let others = |f: &Formula| -> Vec<(&'static str, u64)> {
+        f.atoms().filter(|(e, _)| *e != "H" && *e != "O").collect()
+    };
+    let (h, o) = (
+        a.count("H") as i128 - b.count("H") as i128,
+        a.count("O") as i128 - b.count("O") as i128,
+    );
+    others(a) == others(b) && h == 2 * o && a.charge() == b.charge()
+}
+
 /// A jar test's dose: the stock's mass per volume × the millilitres dosed ÷ the jar's water,
-/// as the stock's compound (the chosen product's dose compound) and as the product delivered.
-/// The dose is per litre of water in the jar, as a plant dose is per litre of water treated.
+/// as the stock's compound (its formula when given, else the chosen product's dose compound)
+/// and as the product delivered. The dose is per litre of water in the jar, as a plant dose
+/// is per litre of water treated. A stock compound other than the product's dose compound is
+/// taken mole for mole only when the two differ by water of hydration; any other compound is
+/// refused (the product would be the wrong one). The outcome sends the dose on to the plant
+/// calculator that feeds it (`JAR_SENDS_TO` in the table).
 pub(crate) fn jar_test(c: &Calculators, request: &Request) -> Result<Outcome> {
     let stock = measured(request, "stock-concentration")?;
     let ml = measured(request, "ml-dosed")?;
@@ -632,7 +771,29 @@ pub(crate) fn jar_test(c: &Calculators, request: &Request) -> Result<Outcome> {
     check_positive("jar volume", jar.value, "mL")?;
     let (id, strength) = c.strength(request)?;
     let p = c.catalog.product(&id)?;
-    let what = p.dose_as.clone();
+    let dose_as = Formula::parse(&p.dose_as)?;
+    let compound = match request.texts.get("stock-compound") {
+        Some(text) => Formula::parse(text)?,
+        None => dose_as.clone(),
+    };
+    if !same_but_water(&compound, &dose_as) {
+        return Err(Error::new(
+            ErrorKind::InvalidInput,
+            format!(
+                "a stock of {compound} is not {id} (dosed as {}): choose the product the stock is made of",
+                p.dose_as
+            ),
+        )
+        .because("stock-compound-not-product")
+        .with("compound", compound.to_string())
+        .with("product", id.clone()));
+    }
+    // The product's own spelling when it is the same compound, else the formula as typed.
+    let what = if compound.same_composition(&dose_as) {
+        p.dose_as.clone()
+    } else {
+        compound.to_string()
+    };
     let mut t = Trace::new(
         Quantity::of(ml.value, "mL", "stock"),
         Origin::Measured,
@@ -652,20 +813,61 @@ pub(crate) fn jar_test(c: &Calculators, request: &Request) -> Result<Outcome> {
         jar.sig_figs,
     )?;
     let dose = t.value();
-    let one = Trace::new(Quantity::of(1.0, "kg/d", &what), Origin::Measured, None);
+    // As the product's dose compound: mg compound → mmol (one per mmol of the salt) → mg.
+    let mut as_product_compound = t.clone();
+    if what != p.dose_as {
+        as_product_compound.then(
+            Quantity::of(1.0, "mmol/L", &what),
+            Quantity::of(compound.molar_mass(), "mg/L", &what),
+            Origin::MolarMass {
+                formula: what.clone(),
+            },
+            None,
+        )?;
+        as_product_compound.then(
+            Quantity::of(dose_as.molar_mass(), "mg/L", &p.dose_as),
+            Quantity::of(1.0, "mmol/L", &what),
+            Origin::MolarMass {
+                formula: p.dose_as.clone(),
+            },
+            None,
+        )?;
+    }
+    let dose_as_product_compound = as_product_compound.value();
+    let one = Trace::new(
+        Quantity::of(1.0, "kg/d", &p.dose_as),
+        Origin::Measured,
+        None,
+    );
     let per = active_to_product(&c.catalog, p, &strength, one)?;
     let mut out = outcome(what.clone());
     out.results
         .push(headline("jar_dose", dose, Q::Concentration, Some(&what)));
     out.results.push(headline(
         "jar_dose_product",
-        dose * per.product_kg_per_day,
+        dose_as_product_compound * per.product_kg_per_day,
         Q::Concentration,
         Some("product"),
     ));
-    out.traces = vec![
-        NamedTrace::new("jar-dose", t),
-        NamedTrace::new("product-per-compound", per.trace),
-    ];
+    out.traces = vec![NamedTrace::new("jar-dose", t)];
+    if what != p.dose_as {
+        out.traces.push(NamedTrace::new(
+            "jar-dose-as-product-compound",
+            as_product_compound,
+        ));
+    }
+    out.traces
+        .push(NamedTrace::new("product-per-compound", per.trace));
+    // The dose, on the product's dose compound, to the plant calculator that feeds it.
+    if let Some((_, calculator, input)) = super::super::table::JAR_SENDS_TO
+        .iter()
+        .find(|(product, _, _)| *product == id)
+    {
+        out.follow_ups.push(FollowUp {
+            calculator,
+            product: Some(id.clone()),
+            values: vec![(*input, dose_as_product_compound)],
+        });
+    }
     Ok(out)
 }
