@@ -26,7 +26,15 @@ impl Platform for Headless {
     }
 }
 
-const SCREENS: [&str; 6] = ["start", "calculators", "plots", "log", "settings", "about"];
+const SCREENS: [&str; 7] = [
+    "start",
+    "calculators",
+    "plots",
+    "log",
+    "settings",
+    "about",
+    "path",
+];
 
 fn render(window: &MinimalSoftwareWindow, w: u32, h: u32) -> Vec<Rgb8Pixel> {
     window.set_size(PhysicalSize::new(w, h));
@@ -159,6 +167,15 @@ fn every_screen_renders_with_text_at_three_sizes() {
             ("pump-capacity", "10"),
         ] {
             st.calc.edit(name, text);
+        }
+        // The plant path from an invented raw water (the demo site's path and doses).
+        for (name, text) in [
+            ("ph", "7.6"),
+            ("temperature", "54"),
+            ("alkalinity", "60"),
+            ("calcium", "50"),
+        ] {
+            st.path.edit_water(name, text);
         }
         st.log.select(4);
         // November typed into the log's date fields: the same list on any day the test runs.

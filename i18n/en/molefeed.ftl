@@ -806,3 +806,24 @@ error-reason-target-out-of-reach = The target { $target } { $value } is out of r
 error-reason-same-chemical-twice = Two targets need two different chemicals.
 error-reason-one-second-target-needed = Give exactly one second target besides the pH.
 error-reason-two-chemicals-needed = Give two chemicals, in order, separated by a comma.
+
+## The Plant path screen.
+nav-path = Path
+path-title = The plant's water path
+path-intro = The raw water and today's doses, point by point to the finished water. A dose typed here is for this screen only; the site profile keeps its own.
+path-raw-water = Raw water
+path-doses = Today's doses, mg/L as each product's dose compound
+path-field-ph = pH
+path-field-temperature = Temperature
+path-field-alkalinity = Alkalinity
+path-field-calcium = Calcium hardness (optional)
+path-none = This site has no water path: list its application points in order in the site profile.
+path-need-water = Type the raw water's pH, temperature and alkalinity (and fix any field marked) to see the water along the path.
+path-negative = Cannot be negative.
+path-water = pH { $ph } · alkalinity { $alkalinity } mg/L as CaCO₃
+path-water-lsi = pH { $ph } · alkalinity { $alkalinity } mg/L as CaCO₃ · LSI { $lsi }
+path-basin-ct = Basin { $basin }: CT { $ct } mg·min/L against { $required } required for 3-log Giardia; { $log } log credited
+path-finished = Finished water
+path-open = Open its calculator with the water arriving here
+path-plot = pH (solid line) and alkalinity (thin line) from the raw water to the finished water
+path-plot-alkalinity = alkalinity, mg/L as CaCO₃

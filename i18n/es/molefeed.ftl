@@ -806,3 +806,24 @@ error-reason-target-out-of-reach = El objetivo { $target } { $value } no se alca
 error-reason-same-chemical-twice = Dos objetivos necesitan dos productos distintos.
 error-reason-one-second-target-needed = Indique exactamente un segundo objetivo además del pH.
 error-reason-two-chemicals-needed = Indique dos productos, en orden, separados por una coma.
+
+## La pantalla del recorrido del agua.
+nav-path = Recorrido
+path-title = El recorrido del agua por la planta
+path-intro = El agua cruda y las dosis de hoy, punto por punto hasta el agua tratada. Una dosis escrita aquí vale solo para esta pantalla; el perfil de la planta conserva la suya.
+path-raw-water = Agua cruda
+path-doses = Dosis de hoy, mg/L como el compuesto de dosis de cada producto
+path-field-ph = pH
+path-field-temperature = Temperatura
+path-field-alkalinity = Alcalinidad
+path-field-calcium = Dureza cálcica (opcional)
+path-none = Esta planta no tiene recorrido del agua: anote sus puntos de aplicación en orden en el perfil de la planta.
+path-need-water = Escriba el pH, la temperatura y la alcalinidad del agua cruda (y corrija los campos marcados) para ver el agua a lo largo del recorrido.
+path-negative = No puede ser negativo.
+path-water = pH { $ph } · alcalinidad { $alkalinity } mg/L como CaCO₃
+path-water-lsi = pH { $ph } · alcalinidad { $alkalinity } mg/L como CaCO₃ · LSI { $lsi }
+path-basin-ct = Tanque { $basin }: CT { $ct } mg·min/L frente a { $required } requeridos para 3 log de Giardia; { $log } log acreditados
+path-finished = Agua tratada
+path-open = Abrir su calculadora con el agua que llega aquí
+path-plot = pH (línea gruesa) y alcalinidad (línea fina) del agua cruda al agua tratada
+path-plot-alkalinity = alcalinidad, mg/L como CaCO₃

@@ -190,6 +190,33 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         }
     }));
 
+    let path = window.global::<PathAdapter>();
+    let weak = Rc::downgrade(inner);
+    path.on_edit_water(move |name, text| {
+        if let Some(i) = weak.upgrade() {
+            i.state.borrow_mut().path.edit_water(&name, &text);
+            i.refresh_path();
+        }
+    });
+    let weak = Rc::downgrade(inner);
+    path.on_edit_dose(move |point, product, text| {
+        if let Some(i) = weak.upgrade() {
+            i.state.borrow_mut().path.edit_dose(&point, &product, &text);
+            i.refresh_path();
+        }
+    });
+    path.on_open_point(on(|i, n| {
+        let texts = i.texts.borrow();
+        let opened = i
+            .state
+            .borrow_mut()
+            .open_path_point(n.max(0) as usize, &*texts);
+        drop(texts);
+        if opened {
+            i.refresh_all();
+        }
+    }));
+
     let calc = window.global::<CalcAdapter>();
     calc.on_pick_kind(on(|i, n| {
         if let Some(kind) = CalcKind::all().get(n.max(0) as usize) {
@@ -574,6 +601,7 @@ impl Inner {
         self.refresh_calc(true);
         self.refresh_log();
         self.refresh_plots();
+        self.refresh_path();
     }
 
     /// The product form as typed.
@@ -950,6 +978,70 @@ impl Inner {
             legend: s(t.legend),
             message: s(t.message),
         }
+    }
+
+    /// The Plant path screen: its controller's view, copied.
+    fn refresh_path(&self) {
+        let w = self.window();
+        let st = self.state.borrow();
+        let texts = self.texts.borrow();
+        let v = st.path.view(&st.session, &*texts);
+        let a = w.global::<PathAdapter>();
+        a.set_fields(model(
+            v.fields
+                .into_iter()
+                .map(|f| PathField {
+                    name: s(f.name),
+                    label: s(f.label),
+                    unit: s(f.unit),
+                    text: s(f.text),
+                    error: s(f.error),
+                })
+                .collect(),
+        ));
+        a.set_feeds(model(
+            v.feeds
+                .into_iter()
+                .map(|f| PathFeed {
+                    point: s(f.point),
+                    product: s(f.product),
+                    label: s(f.label),
+                    text: s(f.text),
+                    error: s(f.error),
+                })
+                .collect(),
+        ));
+        a.set_points(model(
+            v.points
+                .into_iter()
+                .map(|p| PathPoint {
+                    name: s(p.name),
+                    feeds: s(p.feeds),
+                    water: s(p.water),
+                    basin: s(p.basin),
+                    opens: p.opens,
+                })
+                .collect(),
+        ));
+        a.set_cautions(model(
+            v.cautions
+                .into_iter()
+                .map(|c| CautionRow {
+                    level: c.level,
+                    word: s(c.word),
+                    text: s(c.text),
+                })
+                .collect(),
+        ));
+        a.set_finished(s(v.finished));
+        a.set_message(s(v.message));
+        a.set_ph_line(s(v.ph_line));
+        a.set_alkalinity_line(s(v.alkalinity_line));
+        a.set_grid(s(v.grid));
+        a.set_ph_lo(s(v.ph_lo));
+        a.set_ph_hi(s(v.ph_hi));
+        a.set_alkalinity_lo(s(v.alkalinity_lo));
+        a.set_alkalinity_hi(s(v.alkalinity_hi));
     }
 
     fn refresh_plots(&self) {

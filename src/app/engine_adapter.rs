@@ -104,7 +104,7 @@ fn card_of(o: Outcome) -> CalcOutcome {
 }
 
 /// Engine cautions as the card carries them; the advisory one is shown by the card itself.
-fn cautions(list: &[dosing::Caution]) -> Vec<Caution> {
+pub fn cautions(list: &[dosing::Caution]) -> Vec<Caution> {
     list.iter()
         .filter(|c| c.key != "advisory-operator-decides")
         .map(|c| Caution {

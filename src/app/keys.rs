@@ -414,6 +414,12 @@ pub fn dynamic_keys() -> Vec<String> {
         }
     }
     keys.extend(all_field_names().iter().map(|f| format!("field-{f}")));
+    // The Plant path screen's raw-water fields.
+    keys.extend(
+        super::path_screen::WATER_FIELDS
+            .iter()
+            .map(|(name, _, _)| format!("path-field-{name}")),
+    );
     keys.extend(
         all_error_kinds()
             .iter()

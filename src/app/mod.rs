@@ -17,6 +17,7 @@ pub mod files;
 pub mod keys;
 pub mod log_screen;
 pub mod numbers;
+pub mod path_screen;
 pub mod plot;
 pub mod plots;
 pub mod seams;

@@ -16,11 +16,13 @@ pub use super::log_screen::{
     NotADay, parse_day, utc_today,
 };
 use super::numbers::Lang;
+pub use super::path_screen::PathScreen;
 use super::plots;
 pub use super::plots::PlotView;
 use super::seams::{CalcEngine, CalcKind};
 pub use super::session::{Note, Session, Settings};
 pub use super::site_editor::SiteEditor;
+use super::words::Words;
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::site::SiteProfile;
 use crate::engine::quantity::{Unit, UnitSystem};
@@ -36,16 +38,19 @@ pub enum Screen {
     Log = 3,
     Settings = 4,
     About = 5,
+    /// The plant's water path (after Plots in the navigation bar; its index is the newest).
+    Path = 6,
 }
 
 impl Screen {
-    pub const ALL: [Screen; 6] = [
+    pub const ALL: [Screen; 7] = [
         Screen::Start,
         Screen::Calculators,
         Screen::Plots,
         Screen::Log,
         Screen::Settings,
         Screen::About,
+        Screen::Path,
     ];
 
     pub fn from_index(i: i32) -> Option<Screen> {
@@ -61,6 +66,8 @@ pub struct AppState {
     screen: Screen,
     /// The Settings screen's site editor.
     pub sites: SiteEditor,
+    /// The Plant path screen.
+    pub path: PathScreen,
 }
 
 impl AppState {
@@ -79,6 +86,7 @@ impl AppState {
             history: Vec::new(),
             screen: Screen::Start,
             sites: SiteEditor::default(),
+            path: PathScreen::default(),
         }
     }
 
@@ -122,6 +130,38 @@ impl AppState {
         self.calc.open(kind);
         self.navigate(Screen::Calculators);
         self.prefill_from_site();
+    }
+
+    /// Opens the calculator of what point `i` of the plant's path feeds, with the water
+    /// arriving there (the raw water after the points before it) as its readings; `false`
+    /// when the point feeds nothing a calculator serves or the path cannot be run.
+    pub fn open_path_point(&mut self, i: usize, words: &dyn Words) -> bool {
+        let Some(kind) = self.path.calculator_at(&self.session, i) else {
+            return false;
+        };
+        let Some(water) = self.path.water_arriving(&self.session, i, words) else {
+            return false;
+        };
+        self.open_calculator(kind);
+        // The calculators name the water's readings by what they are for (the pH before a
+        // pH adjustment is `ph-raw`); the first name the open calculator has takes the value.
+        const NAMES: [(&str, &[&str]); 4] = [
+            ("ph", &["ph", "ph-raw"]),
+            ("temperature", &["temperature"]),
+            ("alkalinity", &["alkalinity"]),
+            ("calcium", &["calcium-hardness"]),
+        ];
+        for (reading, text) in water {
+            let names = NAMES
+                .iter()
+                .find(|(r, _)| *r == reading)
+                .map_or(&[][..], |(_, n)| *n);
+            let shown: Vec<&str> = self.calc.fields().iter().map(|f| f.name).collect();
+            if let Some(name) = names.iter().find(|n| shown.contains(n)) {
+                self.calc.edit(name, &text);
+            }
+        }
+        true
     }
 
     pub fn set_lang(&mut self, lang: Lang) {
@@ -266,6 +306,44 @@ mod tests {
         ] {
             s.calc.edit(n, t);
         }
+    }
+
+    #[test]
+    fn a_path_point_opens_its_calculator_with_the_water_arriving_there() {
+        let mut s = state(crate::app::seams::connected_engine());
+        s.set_units(UnitSystem::Si);
+        for (n, t) in [("ph", "7.60"), ("temperature", "12"), ("alkalinity", "60")] {
+            s.path.edit_water(n, t);
+        }
+        let words = crate::app::words::Dictionary(&[]);
+        let at = |s: &AppState, id: &str| {
+            s.session
+                .site()
+                .path
+                .iter()
+                .position(|p| p.id == id)
+                .unwrap()
+        };
+        assert!(
+            !s.open_path_point(at(&s, "intake"), &words),
+            "nothing fed at the intake"
+        );
+        assert_eq!(s.screen(), Screen::Start);
+        let post = at(&s, "post-treatment");
+        let arriving = s.path.water_arriving(&s.session, post, &words).unwrap();
+        assert!(s.open_path_point(post, &words));
+        assert_eq!(s.screen(), Screen::Calculators);
+        assert_eq!(s.calc.kind(), CalcKind::of("ph-adjustment"));
+        // pH adjustment calls the water's pH `ph-raw`; it gets the pH after alum and chlorine,
+        // lower than the raw 7.60.
+        assert_eq!(s.calc.text("ph-raw"), arriving[0].1);
+        assert!(numbers::parse(s.calc.text("ph-raw"), Lang::En).unwrap() < 7.6);
+        assert_eq!(s.calc.text("temperature"), "12.0");
+        // No calcium was typed on the path, so none is handed on.
+        assert!(
+            arriving.iter().all(|(n, _)| *n != "calcium"),
+            "{arriving:?}"
+        );
     }
 
     #[test]
