@@ -198,7 +198,7 @@ fn unit_of(args: &Args, input: &Input, system: Option<UnitSystem>) -> Result<Uni
     // `--<name>-unit`, or the flag the trade writes for it (`--volume-unit`), not both.
     let own = format!("{}-unit", input.name);
     let flags: Vec<&str> = std::iter::once(own.as_str())
-        .chain(input.unit_flag)
+        .chain(input.unit_flag.filter(|f| *f != own))
         .collect();
     if let Some((flag, code)) = one_of(args, &flags)? {
         return units
@@ -244,18 +244,19 @@ fn one_of<'a>(args: &'a Args, flags: &[&str]) -> Result<Option<(String, &'a str)
 /// The mode the flags choose: `--mode`, or the calculator's own named choice (`--residual-basis
 /// p`) as the table declares it; both given must agree.
 fn mode_of(calc: &'static Calculator, args: &Args) -> Result<Option<&'static str>, CliError> {
-    let by_mode = match args.text("mode")? {
-        None => None,
-        Some(mode) => Some(calc.modes.iter().copied().find(|m| *m == mode).ok_or_else(
-            || {
-                CliError::usage(format!(
-                    "{} has no mode '{mode}' (modes: {})",
-                    calc.id,
-                    calc.modes.join(", ")
-                ))
-            },
-        )?),
-    };
+    let by_mode =
+        match args.text("mode")? {
+            None => None,
+            Some(mode) => Some(calc.modes.iter().copied().find(|m| *m == mode).ok_or_else(
+                || {
+                    CliError::usage(format!(
+                        "{} has no mode '{mode}' (modes: {})",
+                        calc.id,
+                        calc.modes.join(", ")
+                    ))
+                },
+            )?),
+        };
     let Some(choice) = calc.mode_choice() else {
         return Ok(by_mode);
     };

@@ -45,15 +45,13 @@ fn value(json: &Value, id: &str) -> f64 {
 }
 
 /// The common flags, on a liquid product with its pump (an invented plant's numbers).
-const COMMON: &str =
-    "--flow 2 --flow-unit mgd --strength-basis weight --pump-capacity 3 --pump-unit gal-per-hour --site SITE";
+const COMMON: &str = "--flow 2 --flow-unit mgd --strength-basis weight --pump-capacity 20 --pump-unit gal-per-hour --site SITE";
 
 #[test]
 fn each_command_line_of_the_issue_answers_with_the_result_ids_it_names() {
     let feed = ["product_mass_rate", "product_volume_rate", "pump_setting"];
-    let with = |ids: &[&'static str]| -> Vec<&'static str> {
-        ids.iter().copied().chain(feed).collect()
-    };
+    let with =
+        |ids: &[&'static str]| -> Vec<&'static str> { ids.iter().copied().chain(feed).collect() };
     check(
         &format!(
             "fluoridation --target-fluoride 0.7 --natural-fluoride 0.2 --product fluorosilicic-acid --strength 23 --sg 1.19 {COMMON}"
@@ -106,7 +104,12 @@ fn each_command_line_of_the_issue_answers_with_the_result_ids_it_names() {
             "sludge_mass_rate",
         ],
     );
-    let main = ["water_volume", "chlorine_mass", "product_mass", "product_volume"];
+    let main = [
+        "water_volume",
+        "chlorine_mass",
+        "product_mass",
+        "product_volume",
+    ];
     let hypo = "--product sodium-hypochlorite --strength 12.5 --strength-basis trade --sg 1.16";
     // 8 in × 1000 ft: π × 0.1016² × 304.8 m³ = 9.8846 m³ (25.4 mm/in, 0.3048 m/ft, exact).
     let pipe = check(
@@ -126,7 +129,10 @@ fn each_command_line_of_the_issue_answers_with_the_result_ids_it_names() {
             ),
             &main,
         );
-        assert!((value(&tank, "water_volume") - litres).abs() < 1e-9 * litres, "{unit}");
+        assert!(
+            (value(&tank, "water_volume") - litres).abs() < 1e-9 * litres,
+            "{unit}"
+        );
     }
     // A 6 in casing with 100 ft of water: π × 0.0762² × 30.48 m³ = 556.0 L.
     let well = check(
@@ -138,9 +144,7 @@ fn each_command_line_of_the_issue_answers_with_the_result_ids_it_names() {
     let litres = std::f64::consts::PI * 0.0762_f64.powi(2) * 30.48 * 1000.0;
     assert!((value(&well, "water_volume") - litres).abs() < 1e-6 * litres);
     check(
-        &format!(
-            "polymer --dose 1.5 --active-percent 40 --solution-percent 0.5 --sg 1.05 --flow 2 --flow-unit mgd --pump-capacity 3 --pump-unit gal-per-hour"
-        ),
+        "polymer --dose 1.5 --active-percent 40 --solution-percent 0.5 --sg 1.05 --flow 2 --flow-unit mgd --pump-capacity 30 --pump-unit gal-per-hour",
         &["neat_product_rate", "solution_rate", "pump_setting"],
     );
     // Powdered activated carbon slurry, fed as a product of its own (dose as C).
@@ -208,11 +212,9 @@ fn a_residual_basis_is_converted_through_phosphorus() {
 #[test]
 fn a_flag_and_its_other_spelling_together_and_a_wrong_strength_basis_are_refused() {
     let base = "calc polymer --dose 1 --active-percent 40 --solution-percent 0.5 --flow 100 --flow-unit m3-per-day";
-    let (code, _, text) = run(
-        &format!("{base} --sg 1.05 --specific-gravity 1.05")
-            .split_whitespace()
-            .collect::<Vec<_>>(),
-    );
+    let (code, _, text) = run(&format!("{base} --sg 1.05 --specific-gravity 1.05")
+        .split_whitespace()
+        .collect::<Vec<_>>());
     assert_eq!(code, 2, "{text}");
     let (code, _, text) = run(
         &format!(
@@ -292,7 +294,10 @@ fn calculators_lists_the_other_spellings_the_mode_choices_and_the_text_inputs() 
             .unwrap()
             .clone()
     };
-    assert_eq!(calc("corrosion-inhibitor")["mode_choice"]["name"], "residual-basis");
+    assert_eq!(
+        calc("corrosion-inhibitor")["mode_choice"]["name"],
+        "residual-basis"
+    );
     assert_eq!(calc("chlorine-dioxide")["mode_choice"]["name"], "route");
     assert_eq!(calc("jar-test")["text_inputs"][0]["name"], "stock-compound");
     let input = |c: &Value, name: &str| {
@@ -306,7 +311,16 @@ fn calculators_lists_the_other_spellings_the_mode_choices_and_the_text_inputs() 
     };
     let main = calc("main-disinfection");
     assert_eq!(input(&main, "tank-volume")["unit_flag"], "volume-unit");
-    assert_eq!(input(&main, "casing-diameter")["unit_flag"], "diameter-unit");
-    assert_eq!(input(&calc("polymer"), "specific-gravity")["short_flag"], "sg");
-    assert_eq!(input(&calc("jar-test"), "stock-concentration")["unit_flag"], "stock-unit");
+    assert_eq!(
+        input(&main, "casing-diameter")["unit_flag"],
+        "diameter-unit"
+    );
+    assert_eq!(
+        input(&calc("polymer"), "specific-gravity")["short_flag"],
+        "sg"
+    );
+    assert_eq!(
+        input(&calc("jar-test"), "stock-concentration")["unit_flag"],
+        "stock-unit"
+    );
 }

@@ -1072,11 +1072,10 @@ fn nothing_to_feed(
     let mut out = outcome(basis.to_string());
     out.results
         .push(headline("dose", 0.0, Q::Concentration, Some(basis)));
-    out.results
-        .push(ResultValue {
-            same_as: Some("dose"),
-            ..result(id, 0.0, Q::Concentration, Some(basis))
-        });
+    out.results.push(ResultValue {
+        same_as: Some("dose"),
+        ..result(id, 0.0, Q::Concentration, Some(basis))
+    });
     out.cautions = cautions;
     out.cautions.push(
         Caution::info("water-already-at-target")
@@ -1378,7 +1377,13 @@ pub(super) fn chlorine_dioxide(c: &Calculators, request: &Request) -> Result<Out
         cautions,
     )?;
     // The chlorite product as delivered, by mass, under its own id too.
-    also_as(&mut out, "product_mass_rate", "chlorite_feed_rate", true, false);
+    also_as(
+        &mut out,
+        "product_mass_rate",
+        "chlorite_feed_rate",
+        true,
+        false,
+    );
     out.results.insert(
         0,
         headline("clo2_dose", clo2.value, Q::Concentration, Some("ClO2")),

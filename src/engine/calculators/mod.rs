@@ -379,9 +379,7 @@ impl Calculator {
 
     /// The named choice that picks this calculator's mode, where the table declares one.
     pub fn mode_choice(&self) -> Option<&'static ModeChoice> {
-        table::MODE_CHOICES
-            .iter()
-            .find(|m| m.calculator == self.id)
+        table::MODE_CHOICES.iter().find(|m| m.calculator == self.id)
     }
 
     /// The mode a request names, else the first (or none for a calculator without modes).

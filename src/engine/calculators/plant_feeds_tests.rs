@@ -562,7 +562,11 @@ fn without_a_target_the_method_common_target_is_used_and_labelled() {
             .iter()
             .find(|c| c.key == "disinfection-target-from-practice")
             .expect("the target is said to be the method's common one");
-        assert!(c.params.iter().any(|(k, v)| k == "source" && v.contains("from memory")));
+        assert!(
+            c.params
+                .iter()
+                .any(|(k, v)| k == "source" && v.contains("from memory"))
+        );
     }
     // Tablets are calcium hypochlorite: a solution is refused for the tablet method.
     let values: Vec<_> = [("diameter", 150.0), ("length", 100.0)]
@@ -738,7 +742,11 @@ fn named_choices_text_inputs_and_follow_ups_land_on_the_table() {
             .find(|(id, _, _)| *id == p.id)
             .unwrap_or_else(|| panic!("{}: the jar dose goes nowhere", p.id));
         let target = find(to).unwrap();
-        assert!(c.products(target).iter().any(|q| q.id == p.id), "{to} {}", p.id);
+        assert!(
+            c.products(target).iter().any(|q| q.id == p.id),
+            "{to} {}",
+            p.id
+        );
         let i = c.all_inputs(target).into_iter().find(|i| i.name == *input);
         // Received on the product's dose compound, as the jar dose is given.
         assert_eq!(i.and_then(|i| i.basis), Some(DOSE_AS), "{to} --{input}");
@@ -798,7 +806,10 @@ fn a_hydrate_stock_is_taken_mole_for_mole_and_another_compound_is_refused() {
     assert!((out.result("jar_dose").unwrap().value - 30.0).abs() < 1e-9);
     let as_fecl3 = 30.0 * fecl3 / hexa;
     let product = out.result("jar_dose_product").unwrap().value;
-    assert!((product - as_fecl3 / 0.40).abs() < 1e-3 * product, "{product}");
+    assert!(
+        (product - as_fecl3 / 0.40).abs() < 1e-3 * product,
+        "{product}"
+    );
     assert!((out.follow_ups[0].values[0].1 - as_fecl3).abs() < 1e-3 * as_fecl3);
     let e = run("Fe2(SO4)3").unwrap_err();
     assert_eq!(reason(&e), Some("stock-compound-not-product"));

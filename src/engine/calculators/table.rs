@@ -7,7 +7,8 @@
 use super::compute;
 use super::compute::ALKALIS;
 use super::{
-    Calculator, Input, ModeChoice, TextInput, Offer, ProductInputs, ResultSpec, Scope, headline, secondary,
+    Calculator, Input, ModeChoice, Offer, ProductInputs, ResultSpec, Scope, TextInput, headline,
+    secondary,
 };
 use super::{DOSE_AS, PRODUCT, STRENGTH_BASIS};
 use super::{FeedForm, Instrument, Quantity as Q};
@@ -186,7 +187,9 @@ pub(super) fn product_inputs(
     let strength = match form {
         FeedForm::Liquid => vec![product("strength", Q::Percent), SPECIFIC_GRAVITY],
         // A dry chemical's or gas's strength is its purity: `--strength` gives it too.
-        FeedForm::Gas | FeedForm::Dry => vec![short_flag(product("purity", Q::Percent), "strength")],
+        FeedForm::Gas | FeedForm::Dry => {
+            vec![short_flag(product("purity", Q::Percent), "strength")]
+        }
     };
     let strength: Vec<Input> = strength
         .into_iter()
@@ -797,13 +800,16 @@ pub static TABLE: [Calculator; 20] = [
         // depth of water); two of them at once are refused.
         modes: &["continuous-feed", "slug", "tablet"],
         inputs: &[
-            optional(unit_flag(own("diameter", Q::Diameter), "diameter-unit")),
-            optional(unit_flag(own("length", Q::Length), "length-unit")),
+            optional(own("diameter", Q::Diameter)),
+            optional(own("length", Q::Length)),
             optional(unit_flag(own("tank-volume", Q::Volume), "volume-unit")),
             optional(unit_flag(own("tank-diameter", Q::Length), "length-unit")),
             optional(unit_flag(own("tank-length", Q::Length), "length-unit")),
             optional(unit_flag(own("tank-width", Q::Length), "length-unit")),
-            optional(unit_flag(own("casing-diameter", Q::Diameter), "diameter-unit")),
+            optional(unit_flag(
+                own("casing-diameter", Q::Diameter),
+                "diameter-unit",
+            )),
             optional(unit_flag(own("water-depth", Q::Length), "length-unit")),
             // Without it, the method's common target (labelled as practice).
             optional(based(own("target-chlorine", Q::Concentration), CL2)),

@@ -36,8 +36,7 @@ const METAL_RATIO_SOURCE: &str = "common practice; US EPA phosphorus removal des
 /// procedure and the local authority's rules win over all three.
 pub(crate) const DISINFECTION_METHODS: [(&str, f64); 3] =
     [("continuous-feed", 25.0), ("slug", 100.0), ("tablet", 25.0)];
-const DISINFECTION_SOURCE: &str =
-    "common practice (AWWA C651/C652 style targets, from memory)";
+const DISINFECTION_SOURCE: &str = "common practice (AWWA C651/C652 style targets, from memory)";
 
 fn non_negative(name: &'static str, v: f64, unit: &str) -> Result<f64> {
     check_range(name, v, 0.0, f64::MAX, unit)
@@ -370,7 +369,10 @@ const OBJECTS: [(&str, &[&str]); 5] = [
     ("well", &["casing-diameter", "water-depth"]),
     ("tank", &["tank-volume"]),
     ("tank-cylinder", &["tank-diameter", "water-depth"]),
-    ("tank-rectangle", &["tank-length", "tank-width", "water-depth"]),
+    (
+        "tank-rectangle",
+        &["tank-length", "tank-width", "water-depth"],
+    ),
 ];
 
 /// The object the request's dimensions describe: the one whose own dimensions (the depth of
@@ -388,10 +390,7 @@ fn disinfected_object(request: &Request) -> Result<&'static str> {
         })
         .map(|(o, _)| *o)
         .collect();
-    let depth_unused = given("water-depth")
-        && named
-            .iter()
-            .all(|o| matches!(*o, "pipe" | "tank"));
+    let depth_unused = given("water-depth") && named.iter().all(|o| matches!(*o, "pipe" | "tank"));
     match named.as_slice() {
         [] => Err(missing("diameter")),
         [one] if !depth_unused => Ok(*one),
@@ -404,7 +403,12 @@ fn disinfected_object(request: &Request) -> Result<&'static str> {
 }
 
 /// A dimension the object needs, positive, with its figures.
-fn dimension(request: &Request, name: &'static str, what: &'static str, unit: &str) -> Result<Measured> {
+fn dimension(
+    request: &Request,
+    name: &'static str,
+    what: &'static str,
+    unit: &str,
+) -> Result<Measured> {
     let m = maybe(request, name).ok_or_else(|| missing(name))?;
     check_positive(what, m.value, unit)?;
     Ok(m)
@@ -459,7 +463,11 @@ fn disinfected_volume(request: &Request) -> Result<Trace> {
             let l = dimension(request, "tank-length", "pipe length", "m")?;
             let w = dimension(request, "tank-width", "pipe length", "m")?;
             let h = dimension(request, "water-depth", "pipe length", "m")?;
-            let mut t = Trace::new(Quantity::of(h.value, "m", "tank"), Origin::Measured, h.sig_figs);
+            let mut t = Trace::new(
+                Quantity::of(h.value, "m", "tank"),
+                Origin::Measured,
+                h.sig_figs,
+            );
             t.then(
                 Quantity::of(l.value * w.value, "m³", "tank"),
                 Quantity::of(1.0, "m", "tank"),
@@ -826,7 +834,11 @@ pub(crate) fn jar_test(c: &Calculators, request: &Request) -> Result<Outcome> {
         )?;
     }
     let dose_as_product_compound = as_product_compound.value();
-    let one = Trace::new(Quantity::of(1.0, "kg/d", &p.dose_as), Origin::Measured, None);
+    let one = Trace::new(
+        Quantity::of(1.0, "kg/d", &p.dose_as),
+        Origin::Measured,
+        None,
+    );
     let per = active_to_product(&c.catalog, p, &strength, one)?;
     let mut out = outcome(what.clone());
     out.results
@@ -839,8 +851,10 @@ pub(crate) fn jar_test(c: &Calculators, request: &Request) -> Result<Outcome> {
     ));
     out.traces = vec![NamedTrace::new("jar-dose", t)];
     if what != p.dose_as {
-        out.traces
-            .push(NamedTrace::new("jar-dose-as-product-compound", as_product_compound));
+        out.traces.push(NamedTrace::new(
+            "jar-dose-as-product-compound",
+            as_product_compound,
+        ));
     }
     out.traces
         .push(NamedTrace::new("product-per-compound", per.trace));
@@ -850,7 +864,7 @@ pub(crate) fn jar_test(c: &Calculators, request: &Request) -> Result<Outcome> {
         .find(|(product, _, _)| *product == id)
     {
         out.follow_ups.push(FollowUp {
-            calculator: *calculator,
+            calculator,
             product: Some(id.clone()),
             values: vec![(*input, dose_as_product_compound)],
         });
