@@ -463,6 +463,12 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
             entry["high"] = json!(range.high);
         }
         results.insert(r.id.to_string(), entry);
+        // The same number under the name scripts read (`fluoride_added` is the `dose`): the
+        // JSON keeps both ids, the printout says it once.
+        if let Some(same) = r.same_as {
+            lines.push(format!("{:<28} = {same}", r.id));
+            continue;
+        }
         let shown_unit = r.quantity.unit(system);
         lines.push(format!(
             "{:<28} {} {}",

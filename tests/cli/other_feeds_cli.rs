@@ -324,3 +324,60 @@ fn calculators_lists_the_other_spellings_the_mode_choices_and_the_text_inputs() 
         "stock-unit"
     );
 }
+
+#[test]
+fn the_printout_says_the_named_dose_once_and_prints_the_next_command() {
+    let (code, _, text) = run(&[
+        "calc",
+        "fluoridation",
+        "--target-fluoride",
+        "0.7",
+        "--natural-fluoride",
+        "0.2",
+        "--product",
+        "sodium-fluoride",
+        "--strength",
+        "98",
+        "--flow",
+        "100",
+        "--flow-unit",
+        "m3-per-day",
+        "--dry-feeder-capacity",
+        "5",
+        "--dry-feeder-capacity-unit",
+        "kg-per-day",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    let named: Vec<&str> = text
+        .lines()
+        .filter(|l| l.starts_with("fluoride_added"))
+        .collect();
+    assert_eq!(named.len(), 1, "{text}");
+    assert!(
+        named[0]
+            .split_whitespace()
+            .eq(["fluoride_added", "=", "dose"]),
+        "{text}"
+    );
+    // A tank's water goes on to dechlorination at the chlorine it was left at.
+    let (code, _, text) = run(&[
+        "calc",
+        "main-disinfection",
+        "--tank-volume",
+        "50",
+        "--volume-unit",
+        "m3",
+        "--target-chlorine",
+        "10",
+        "--product",
+        "calcium-hypochlorite",
+        "--strength",
+        "65",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    assert!(
+        text.lines()
+            .any(|l| l == "next: molefeed calc dechlorination --residual-in 10.00"),
+        "{text}"
+    );
+}
