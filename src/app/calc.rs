@@ -661,6 +661,73 @@ impl CalcController {
     }
 }
 
+/// Follow-ups of the card shown (the engine's `Outcome::follow_ups`): generic over the table,
+/// so a screen offers one button per follow-up without knowing which calculators they join.
+impl CalcController {
+    /// The screen and variant each follow-up of the current card opens, in the engine's order;
+    /// empty when the card is not ready or offers none. Its label is the screen's `calc-<code>`.
+    pub fn follow_ups(&self) -> Vec<(CalcKind, CalcMode)> {
+        let Status::Ready(card) = self.view().status else {
+            return Vec::new();
+        };
+        card.outcome
+            .table
+            .iter()
+            .flat_map(|o| o.follow_ups.iter())
+            .filter_map(|f| variant_of(f.calculator))
+            .collect()
+    }
+
+    /// Opens follow-up `index` of the current card: its screen and variant, its product, and
+    /// each value it carries typed into its field in the current units and language (the
+    /// operator asked for it, so a field's earlier text is replaced). False when there is none.
+    pub fn follow_up(&mut self, index: usize) -> bool {
+        let Status::Ready(card) = self.view().status else {
+            return false;
+        };
+        let Some(f) = card
+            .outcome
+            .table
+            .as_ref()
+            .and_then(|o| o.follow_ups.get(index))
+            .cloned()
+        else {
+            return false;
+        };
+        let Some((kind, mode)) = variant_of(f.calculator) else {
+            return false;
+        };
+        self.set_kind(kind);
+        self.set_mode(mode);
+        if let Some(product) = &f.product
+            && let Some(i) = self
+                .engine
+                .products(kind, mode)
+                .iter()
+                .position(|p| &p.id == product)
+        {
+            self.set_product(i);
+        }
+        for (name, si) in &f.values {
+            let Some(spec) = self.fields().into_iter().find(|s| s.name == *name) else {
+                continue;
+            };
+            let unit = spec.quantity.unit(self.system);
+            let text = numbers::format_sig(unit.from_si(*si), MAX_FIGURES, self.lang);
+            self.edit(name, &text);
+        }
+        true
+    }
+}
+
+/// The screen and variant that run calculator `id` (its first variant).
+fn variant_of(id: &str) -> Option<(CalcKind, CalcMode)> {
+    CalcKind::all()
+        .into_iter()
+        .flat_map(|k| k.modes().into_iter().map(move |m| (k, m)))
+        .find(|(_, m)| m.calculator == id)
+}
+
 /// What the operator has typed and chosen in the calculators, kept across a restart: an
 /// Android activity can be killed in the background, and the readings taken at the tap must
 /// still be there when the operator comes back. Texts are kept as typed, with the language and
@@ -1341,5 +1408,40 @@ mod tests {
         assert!(feeder.optional);
         assert_eq!(feeder.quantity, Quantity::MassPerDay);
         assert!(!specs.iter().any(|s| s.name == "specific-gravity"));
+    }
+
+    /// A jar test's card offers its follow-up, and opening it types the dose into the plant
+    /// calculator's field: 10 g/L × 3 mL ÷ 1000 mL = 30 mg/L (g/L = mg/mL), in Spanish with its
+    /// decimal comma.
+    #[test]
+    fn a_follow_up_opens_its_calculator_with_the_value_typed() {
+        let mut c = CalcController::new(
+            crate::app::seams::connected_engine(),
+            Lang::Es,
+            UnitSystem::Si,
+        );
+        c.set_kind(CalcKind::of("jar-test"));
+        fill(
+            &mut c,
+            &[
+                ("stock-concentration", "10"),
+                ("ml-dosed", "3"),
+                ("jar-volume-ml", "1000"),
+                ("strength", "8,3"),
+                ("specific-gravity", "1,335"),
+            ],
+        );
+        assert!(
+            matches!(c.view().status, Status::Ready(_)),
+            "{:?}",
+            c.view().status
+        );
+        let follow = c.follow_ups();
+        assert_eq!(follow.len(), 1);
+        assert!(c.follow_up(0));
+        assert_eq!(c.kind(), follow[0].0);
+        assert_eq!(c.mode().calculator, "coagulation");
+        assert_eq!(numbers::parse(c.text("jar-dose"), Lang::Es).unwrap(), 30.0);
+        assert!(!c.follow_up(5));
     }
 }

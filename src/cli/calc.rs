@@ -200,7 +200,7 @@ fn unit_of(args: &Args, input: &Input, system: Option<UnitSystem>) -> Result<Uni
     // `--<name>-unit`, or the flag the trade writes for it (`--volume-unit`), not both.
     let own = format!("{}-unit", input.name);
     let flags: Vec<&str> = std::iter::once(own.as_str())
-        .chain(input.unit_flag)
+        .chain(input.unit_flag.filter(|f| *f != own))
         .collect();
     if let Some((flag, code)) = one_of(args, &flags)? {
         return units
@@ -474,6 +474,12 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
             entry["high"] = json!(range.high);
         }
         results.insert(r.id.to_string(), entry);
+        // The same number under the name scripts read (`fluoride_added` is the `dose`): the
+        // JSON keeps both ids, the printout says it once.
+        if let Some(same) = r.same_as {
+            lines.push(format!("{:<28} = {same}", r.id));
+            continue;
+        }
         let shown_unit = r.quantity.unit(system);
         lines.push(format!(
             "{:<28} {} {}",

@@ -45,7 +45,7 @@ fn value(json: &Value, id: &str) -> f64 {
 }
 
 /// The common flags, on a liquid product with its pump (an invented plant's numbers).
-const COMMON: &str = "--flow 2 --flow-unit mgd --strength-basis weight --pump-capacity 3 --pump-unit gal-per-hour --site SITE";
+const COMMON: &str = "--flow 2 --flow-unit mgd --strength-basis weight --pump-capacity 20 --pump-unit gal-per-hour --site SITE";
 
 #[test]
 fn each_command_line_of_the_issue_answers_with_the_result_ids_it_names() {
@@ -144,9 +144,7 @@ fn each_command_line_of_the_issue_answers_with_the_result_ids_it_names() {
     let litres = std::f64::consts::PI * 0.0762_f64.powi(2) * 30.48 * 1000.0;
     assert!((value(&well, "water_volume") - litres).abs() < 1e-6 * litres);
     check(
-        &format!(
-            "polymer --dose 1.5 --active-percent 40 --solution-percent 0.5 --sg 1.05 --flow 2 --flow-unit mgd --pump-capacity 3 --pump-unit gal-per-hour"
-        ),
+        "polymer --dose 1.5 --active-percent 40 --solution-percent 0.5 --sg 1.05 --flow 2 --flow-unit mgd --pump-capacity 30 --pump-unit gal-per-hour",
         &["neat_product_rate", "solution_rate", "pump_setting"],
     );
     // Powdered activated carbon slurry, fed as a product of its own (dose as C).
@@ -324,5 +322,62 @@ fn calculators_lists_the_other_spellings_the_mode_choices_and_the_text_inputs() 
     assert_eq!(
         input(&calc("jar-test"), "stock-concentration")["unit_flag"],
         "stock-unit"
+    );
+}
+
+#[test]
+fn the_printout_says_the_named_dose_once_and_prints_the_next_command() {
+    let (code, _, text) = run(&[
+        "calc",
+        "fluoridation",
+        "--target-fluoride",
+        "0.7",
+        "--natural-fluoride",
+        "0.2",
+        "--product",
+        "sodium-fluoride",
+        "--strength",
+        "98",
+        "--flow",
+        "100",
+        "--flow-unit",
+        "m3-per-day",
+        "--dry-feeder-capacity",
+        "5",
+        "--dry-feeder-capacity-unit",
+        "kg-per-day",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    let named: Vec<&str> = text
+        .lines()
+        .filter(|l| l.starts_with("fluoride_added"))
+        .collect();
+    assert_eq!(named.len(), 1, "{text}");
+    assert!(
+        named[0]
+            .split_whitespace()
+            .eq(["fluoride_added", "=", "dose"]),
+        "{text}"
+    );
+    // A tank's water goes on to dechlorination at the chlorine it was left at.
+    let (code, _, text) = run(&[
+        "calc",
+        "main-disinfection",
+        "--tank-volume",
+        "50",
+        "--volume-unit",
+        "m3",
+        "--target-chlorine",
+        "10",
+        "--product",
+        "calcium-hypochlorite",
+        "--strength",
+        "65",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    assert!(
+        text.lines()
+            .any(|l| l == "next: molefeed calc dechlorination --residual-in 10.00"),
+        "{text}"
     );
 }

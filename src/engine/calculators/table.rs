@@ -800,8 +800,8 @@ pub static TABLE: [Calculator; 21] = [
         // depth of water); two of them at once are refused.
         modes: &["continuous-feed", "slug", "tablet"],
         inputs: &[
-            optional(unit_flag(own("diameter", Q::Diameter), "diameter-unit")),
-            optional(unit_flag(own("length", Q::Length), "length-unit")),
+            optional(own("diameter", Q::Diameter)),
+            optional(own("length", Q::Length)),
             optional(unit_flag(own("tank-volume", Q::Volume), "volume-unit")),
             optional(unit_flag(own("tank-diameter", Q::Length), "length-unit")),
             optional(unit_flag(own("tank-length", Q::Length), "length-unit")),
