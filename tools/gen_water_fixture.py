@@ -10,8 +10,9 @@ Versions used to generate the committed fixture (checked at run time, recorded i
     phreeqpython 1.6.2, molmass 2026.1.8 (molar masses for mg/L -> mmol conversions).
 
 PHREEQC's phreeqc.dat has no hypochlorite, so this script adds one master species (element
-"Hyp", OCl-) with the HOCl acidity constant of Morris (1966), the same constant the engine uses;
-everything else is phreeqc.dat unchanged. Concentrations are given to PHREEQC in mmol/kgw and to
+"Hyp", OCl-) with the HOCl acidity constant of Morris (1966), the same constant the engine uses,
+and the CaF+ pair that phreeqc.dat has commented out (its own values); everything else is
+phreeqc.dat unchanged. Concentrations are given to PHREEQC in mmol/kgw and to
 the engine in mg/L of the same number of mmol per litre, so the comparison tests the chemistry,
 not the litre-versus-kilogram conversion.
 
@@ -40,6 +41,20 @@ Hyp- + H+ = HHyp
     -log_k 7.537
     -analytic -10.0686 0.0253 3000.0
 """
+
+# phreeqc.dat as shipped has the CaF+ pair commented out; the engine has it (the same log K and
+# delta_h, active in wateq4f_PWN.dat shipped with phreeqpython 1.6.2, WATEQ4F), so PHREEQC gets it
+# here and the fluoride cases compare the same species set.
+CALCIUM_FLUORIDE = """
+SOLUTION_SPECIES
+Ca+2 + F- = CaF+
+    -log_k 0.94
+    -delta_h 4.12 kcal
+    -gamma 5.5 0.0
+"""
+
+# Everything added to phreeqc.dat, given before every run.
+ADDITIONS = HYPOCHLORITE + CALCIUM_FLUORIDE
 
 # mg/L as CaCO3 -> mmol/L of Ca or meq/L of alkalinity
 M = {f: molmass.Formula(f).mass for f in ["CaCO3", "Ca", "Mg", "Na", "K", "Cl", "SO4"]}
@@ -88,6 +103,15 @@ CHEMICALS = [
     ("Al2(OH)3Cl3", [("Al2(OH)3Cl3", 1)], 15.0),
     ("Cl2", [("HCl", 1), ("HHyp", 1)], 5.0),
     ("NaOCl", [("NaHyp", 1)], 5.0),
+    # Phosphate, fluoride and the alkalis added with them (doses of the order plants feed:
+    # about 1-3 mg/L as PO4, 0.7-1 mg/L as F, aluminate and Mg(OH)2 as alkalinity sources).
+    ("Mg(OH)2", [("Mg(OH)2", 1)], 10.0),
+    ("H3PO4", [("H3PO4", 1)], 3.0),
+    ("NaH2PO4", [("NaH2PO4", 1)], 4.0),
+    ("H2SiF6", [("H2SiF6", 1)], 1.5),
+    ("Na2SiF6", [("Na2SiF6", 1)], 2.0),
+    ("NaF", [("NaF", 1)], 2.2),
+    ("NaAlO2", [("NaAlO2", 1)], 10.0),
 ]
 
 
@@ -196,12 +220,12 @@ def main():
     db_path = os.path.join(db_dir, "phreeqc.dat")
     db_hash = hashlib.sha256(open(db_path, "rb").read()).hexdigest()
     pp = phreeqpython.PhreeqPython(database="phreeqc.dat")
-    pp.ip.run_string(HYPOCHLORITE)
+    pp.ip.run_string(ADDITIONS)
 
     waters, doses = [], []
     for w in WATERS:
         w = balance_chloride(w)
-        base = run(pp, HYPOCHLORITE + solution_block(w) + SELECT + "END\n")
+        base = run(pp, ADDITIONS + solution_block(w) + SELECT + "END\n")
         entry = water_json(w)
         ref = {"ph": base["pH"], "ionic_strength": base["mu"], "si_calcite": base["si_Calcite"],
                "alkalinity_eq": base["Alk(eq/kgw)"], "dic_mol": base["C(4)(mol/kgw)"]}
@@ -209,7 +233,7 @@ def main():
         # Very soft, low-alkalinity waters have no such pH (PHREEQC then reports that the
         # hydroxide alone would exceed the alkalinity): recorded as null.
         try:
-            sat = run(pp, HYPOCHLORITE + solution_block(w, "Calcite 0.0") + SELECT + "END\n")
+            sat = run(pp, ADDITIONS + solution_block(w, "Calcite 0.0") + SELECT + "END\n")
             ref["phs"] = sat["pH"]
             ref["lsi"] = w[2] - sat["pH"]
         except Exception as e:  # noqa: BLE001 - IPhreeqc raises a bare Exception
@@ -217,7 +241,7 @@ def main():
             ref["phs"] = None
             ref["lsi"] = None
         # CCPP, closed system: precipitate or dissolve calcite to equilibrium.
-        cc = run(pp, HYPOCHLORITE + solution_block(w) + "EQUILIBRIUM_PHASES 1\n    Calcite 0 10\n"
+        cc = run(pp, ADDITIONS + solution_block(w) + "EQUILIBRIUM_PHASES 1\n    Calcite 0 10\n"
                  + SELECT + "END\n")
         ref["ccpp_mg_l_as_caco3"] = cc["d_Calcite"] * 1000.0 * M["CaCO3"]  # + = precipitates
         entry["phreeqc"] = ref
@@ -230,7 +254,7 @@ def main():
                 dose = base_dose * factor
                 mmol = dose / mass(formula)
                 for mode in modes:
-                    text = HYPOCHLORITE + solution_block(w)
+                    text = ADDITIONS + solution_block(w)
                     text += "REACTION 1\n" + "".join(f"    {r} {n}\n" for r, n in reactants)
                     text += f"    {mmol:.12g} mmol\n"
                     if mode == "hydroxide":
@@ -248,13 +272,16 @@ def main():
                         "dic_mmol_l": r["C(4)(mol/kgw)"] * 1000,
                         "ionic_strength": r["mu"],
                         "si_calcite": r["si_Calcite"],
+                        # PHREEQC counts dissolved Al from Al+3 (alkalinity 0); the engine from
+                        # Al(OH)3 (-3): the reference test converts with this total.
+                        "al_dissolved_mmol_l": r["Al(mol/kgw)"] * 1000,
                     })
     # Lime softening at equilibrium: calcite and brucite may precipitate (not dissolve) together.
     softening = []
     for w in WATERS:
         w = balance_chloride(w)
         for dose in SOFTENING_LIME:
-            text = HYPOCHLORITE + BRUCITE + solution_block(w)
+            text = ADDITIONS + BRUCITE + solution_block(w)
             text += f"REACTION 1\n    Ca(OH)2 1\n    {dose / mass('Ca(OH)2'):.12g} mmol\n"
             text += "EQUILIBRIUM_PHASES 1\n    Calcite 0 0\n    Brucite 0 0\n"
             text += SELECT_SOFTENING + "END\n"

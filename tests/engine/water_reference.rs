@@ -6,6 +6,14 @@
 //! are invented for this check. Bounds (from the issue): |ΔpH| ≤ 0.03 on every case without
 //! precipitation, dose for a target pH within 3 %, LSI within 0.05 of PHREEQC's pH − pHs.
 //! Each test prints its worst case so the number is reported.
+//!
+//! The phosphate, fluoride and alkali chemicals (phosphoric acid, monosodium phosphate,
+//! fluorosilicic acid, sodium fluorosilicate, sodium fluoride, sodium aluminate, magnesium
+//! hydroxide) are also held to |ΔpH| ≤ 0.03 in every mode and to alkalinity within 1 mg/L as
+//! CaCO3. Alkalinity is compared like for like: PHREEQC's Alkalinity counts dissolved Al from
+//! Al+3 (0), the engine from Al(OH)3 (−3 per Al, docs/water-notes.md), so PHREEQC's value less
+//! 3 × its dissolved Al is the engine's definition; phosphate (H2PO4- = 0), fluoride (F- = 0)
+//! and silica (H4SiO4 = 0) have the same zero levels in both.
 
 use molefeed::engine::water::{
     Catalog, Precipitation, WaterInput, WaterState, dose_for_ph, ph_after, soften, stability,
@@ -88,6 +96,15 @@ impl Worst {
     }
 }
 
+/// The chemicals added with phosphate, fluoride and silica (catalog formulas).
+const PHOSPHATE_FLUORIDE: [&str; 7] = [
+    "H3PO4", "NaH2PO4", "H2SiF6", "Na2SiF6", "NaF", "NaAlO2", "Mg(OH)2",
+];
+
+fn is_new_chemical(case: &Value) -> bool {
+    PHOSPHATE_FLUORIDE.contains(&case["chemical"].as_str().unwrap())
+}
+
 fn precipitation(case: &Value) -> Precipitation {
     Precipitation::parse(case["precipitate"].as_str().unwrap()).unwrap()
 }
@@ -106,6 +123,10 @@ fn ph_after_every_dose_matches_phreeqc() {
     let mut ph_hydroxide = Worst::new("|ΔpH|, hydroxide at equilibrium");
     let mut dic = Worst::new("DIC relative error");
     let mut si = Worst::new("|ΔSI calcite|, no precipitation");
+    let mut ph_new = Worst::new("|ΔpH|, phosphate, fluoride and alkali chemicals, every mode");
+    let mut alk_new = Worst::new(
+        "|Δ alkalinity| mg/L as CaCO3, phosphate, fluoride and alkali chemicals, every mode",
+    );
     for case in f["doses"].as_array().unwrap() {
         let id = case["water"].as_str().unwrap();
         let state = &waters.iter().find(|(w, _)| w == id).unwrap().1;
@@ -114,6 +135,15 @@ fn ph_after_every_dose_matches_phreeqc() {
         let mode = precipitation(case);
         let name = format!("{id} + {dose} mg/L {} ({:?})", chemical.id, mode);
         let ours = ph_after(state, chemical, dose, mode).unwrap_or_else(|e| panic!("{name}: {e}"));
+        if is_new_chemical(case) {
+            ph_new.check(name.clone(), ours.ph, num(case, "ph"), false);
+            // mg/L as CaCO3 per meq/L: CaCO3 100.0869 g/mol (molmass, as the fixture generator
+            // converted PHREEQC's eq/kgw) over 2.
+            let caco3_per_meq = 100.0869 / 2.0;
+            let expected = num(case, "alkalinity_mg_l_as_caco3")
+                - 3.0 * num(case, "al_dissolved_mmol_l") * caco3_per_meq;
+            alk_new.check(name.clone(), ours.alkalinity_mg_l_as_caco3, expected, false);
+        }
         match mode {
             Precipitation::None => {
                 ph.check(name.clone(), ours.ph, num(case, "ph"), false);
@@ -129,6 +159,8 @@ fn ph_after_every_dose_matches_phreeqc() {
     si.report(0.05);
     ph_hydroxide.report(0.05);
     ph.report(0.03);
+    ph_new.report(0.03);
+    alk_new.report(1.0);
 }
 
 #[test]
@@ -136,6 +168,7 @@ fn dose_for_target_ph_matches_phreeqc() {
     let f = fixture();
     let catalog = Catalog::embedded().unwrap();
     let mut worst = Worst::new("dose relative error");
+    let mut flat = 0;
     for w in f["waters"].as_array().unwrap() {
         let state = water(w);
         let id = w["id"].as_str().unwrap();
@@ -146,11 +179,19 @@ fn dose_for_target_ph_matches_phreeqc() {
             let chemical = catalog.find(case["chemical"].as_str().unwrap()).unwrap();
             let target = num(case, "ph");
             let name = format!("{id}, {} to pH {target:.3}", chemical.id);
+            // A dose that hardly moves the pH (sodium fluoride, sodium aluminate near its own
+            // pH) is not determined to 3 % by a pH that agrees to 0.003: such new-chemical cases
+            // are counted, not checked.
+            if is_new_chemical(case) && (target - num(&w["phreeqc"], "ph")).abs() < 0.1 {
+                flat += 1;
+                continue;
+            }
             let r = dose_for_ph(&state, chemical, target, Precipitation::None)
                 .unwrap_or_else(|e| panic!("{name}: {e}"));
             worst.check(name, r.dose_mg_l, num(case, "dose_mg_l"), true);
         }
     }
+    println!("{flat} phosphate/fluoride/alkali cases move the pH by < 0.1: dose not checked");
     worst.report(0.03);
 }
 

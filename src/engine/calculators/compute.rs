@@ -1208,7 +1208,13 @@ pub(super) fn corrosion_inhibitor(c: &Calculators, request: &Request) -> Result<
         }
         None => 100.0,
     };
-    let cautions = vec![ph_not_modelled(request)];
+    // With the water given, the pH and alkalinity the phosphate leaves.
+    let modelled = plant_feeds::water_modelled(c, request)?.is_some();
+    let cautions = if modelled {
+        Vec::new()
+    } else {
+        vec![ph_not_modelled(request)]
+    };
     let added = target.value - present.value;
     if added <= 0.0 {
         return Ok(nothing_to_feed(
@@ -1242,6 +1248,7 @@ pub(super) fn corrosion_inhibitor(c: &Calculators, request: &Request) -> Result<
         Q::Concentration,
         Some("PO4"),
     ));
+    plant_feeds::push_water_after(c, request, dose.value, &mut out)?;
     Ok(out)
 }
 

@@ -244,6 +244,7 @@ fn every_ph_product_has_a_water_chemical_of_the_same_compound() {
         ("carbon-dioxide", "carbon-dioxide"),
         ("hydrated-lime", "lime"),
         ("soda-ash", "soda-ash"),
+        ("magnesium-hydroxide", "magnesium-hydroxide"),
     ];
     let offered = engine.products(find("ph-adjustment").unwrap());
     let mut ids: Vec<&str> = offered.iter().map(|p| p.id.as_str()).collect();
@@ -1144,4 +1145,78 @@ fn softening_gives_the_lime_feeders_setting_when_its_scale_is_given() {
             feeder: dry(scale),
         },
     );
+}
+
+/// Corrosion inhibitor with the water given: `ph_after` and `alkalinity_after` are the water
+/// engine's for the compound that carries the dose (2.0 mg/L as PO4 of phosphoric acid is
+/// 2.0 × 97.99376 / 94.96976 mg/L H3PO4, IUPAC weights H 1.008, O 15.999, P 30.973762), and
+/// the alkalinity falls by one equivalent per mole of phosphate (H3PO4 → H2PO4- + H+, H2PO4- the
+/// zero level): 2.0 / 94.96976 × 50.0435 = 1.0539 mg/L as CaCO3 by hand. Without a fixed formula (zinc
+/// orthophosphate) the effect stays not modelled.
+#[test]
+fn corrosion_inhibitor_water_after_is_the_water_engines() {
+    let engine = calculators();
+    let values = [
+        ("flow", FLOW),
+        ("target-residual", 2.0),
+        ("present-residual", 0.0),
+        ("strength", 75.0),
+        ("specific-gravity", 1.58),
+        ("pump-capacity", 5.0),
+        ("ph", 7.4),
+        ("alkalinity", 60.0),
+        ("temperature", 12.0),
+    ];
+    let out = engine
+        .compute(&request("corrosion-inhibitor", "phosphoric-acid", &values))
+        .unwrap();
+    let water = WaterState::new(&WaterInput::new(7.4, 12.0, 60.0)).unwrap();
+    let h3po4 = water::Catalog::embedded().unwrap().find("H3PO4").unwrap();
+    let direct = water::ph_after(
+        &water,
+        h3po4,
+        2.0 * 97.99376 / 94.96976,
+        Precipitation::None,
+    )
+    .unwrap();
+    let ph = got(&out, "ph_after").expect("phosphoric acid is modelled");
+    assert!((ph - direct.ph).abs() < 1e-7, "{ph} vs {}", direct.ph);
+    let alk = got(&out, "alkalinity_after").unwrap();
+    assert!((alk - direct.alkalinity_mg_l_as_caco3).abs() < 1e-4);
+    assert!((60.0 - alk - 1.0539).abs() < 1e-3, "alkalinity after {alk}");
+    assert!(!keys(&out).contains(&"water-effect-not-available"));
+
+    let mut zinc = request("corrosion-inhibitor", "zinc-orthophosphate", &values);
+    zinc.values.insert("strength", 30.0);
+    let out = engine.compute(&zinc).unwrap();
+    assert!(got(&out, "ph_after").is_none());
+    assert!(keys(&out).contains(&"water-effect-not-available"));
+}
+
+/// Magnesium hydroxide is a pH-adjustment chemical: its dose for the target pH is the water
+/// engine's (`water::neutralize`) and raising pH 6.8 to 7.5 takes some, not none.
+#[test]
+fn magnesium_hydroxide_adjusts_ph_like_the_water_engine() {
+    let engine = calculators();
+    let out = engine
+        .compute(&request(
+            "ph-adjustment",
+            "magnesium-hydroxide",
+            &[
+                ("flow", FLOW),
+                ("ph-raw", 6.8),
+                ("ph-target", 7.5),
+                ("alkalinity", 40.0),
+                ("temperature", 15.0),
+                ("strength", 60.0),
+                ("specific-gravity", 1.51),
+                ("pump-capacity", 15.0),
+            ],
+        ))
+        .unwrap();
+    let water = WaterState::new(&WaterInput::new(6.8, 15.0, 40.0)).unwrap();
+    let direct = water::neutralize(&water, water_chemical("Mg(OH)2").unwrap(), 7.5, 1.0).unwrap();
+    let dose = got(&out, "dose").unwrap();
+    assert!(dose > 0.0 && (dose - direct.dose_mg_l).abs() < 1e-9 * dose.max(1.0));
+    assert!((got(&out, "ph_after").unwrap() - 7.5).abs() < 1e-6);
 }

@@ -123,10 +123,12 @@ const FEED_RESULTS: [ResultSpec; 6] = [
 ];
 
 /// pH-adjustment chemicals, liquids first, then the gas and the dry chemicals.
-pub(super) const PH_PRODUCTS: [&str; 6] = [
+pub(super) const PH_PRODUCTS: [&str; 7] = [
     "sodium-hydroxide",
     "sulfuric-acid",
     "hydrochloric-acid",
+    // A slurry, fed by a pump like the liquids.
+    "magnesium-hydroxide",
     "carbon-dioxide",
     "hydrated-lime",
     "soda-ash",
@@ -650,6 +652,10 @@ pub static TABLE: [Calculator; 21] = [
             // The share of the product's phosphate that is orthophosphate, from its data
             // sheet; a blend needs it, an orthophosphate is all ortho by its formula.
             optional(based(product("orthophosphate-share", Q::Percent), "PO4")),
+            // With all three, the pH and alkalinity the phosphate leaves.
+            optional(water("ph", Q::Ph)),
+            optional(as_caco3(water("alkalinity", Q::AsCaCO3))),
+            optional(water("temperature", Q::Temperature)),
         ],
         product_inputs: ProductInputs::Feed,
         offer: Offer::Listed(&PHOSPHATE_PRODUCTS),
@@ -663,6 +669,9 @@ pub static TABLE: [Calculator; 21] = [
             // The dose (as PO4) under the name scripts rely on.
             secondary("dose_as_po4", Q::Concentration).on("PO4"),
             secondary("orthophosphate_as_po4", Q::Concentration).on("PO4"),
+            // When the water is given and the product has a fixed formula.
+            secondary("ph_after", Q::Ph),
+            secondary("alkalinity_after", Q::AsCaCO3).on(CACO3),
         ],
         in_app: true,
         compute: compute::corrosion_inhibitor,

@@ -28,9 +28,15 @@ pub enum Component {
     OCl,
     /// Total ammonia (NH4+ + NH3).
     NH4,
+    /// Total orthophosphate (H3PO4 … PO4-3 and its pairs).
+    PO4,
+    /// Total fluoride (F-, HF, HF2-, pairs, and the six of each SiF6-2).
+    F,
+    /// Total dissolved silica (H4SiO4, H3SiO4-, H2SiO4-2 and SiF6-2).
+    Si,
 }
 
-pub const NC: usize = 11;
+pub const NC: usize = 14;
 
 impl Component {
     pub const ALL: [Component; NC] = [
@@ -45,7 +51,14 @@ impl Component {
         Component::Fe,
         Component::OCl,
         Component::NH4,
+        Component::PO4,
+        Component::F,
+        Component::Si,
     ];
+
+    /// Components whose species the solver skips entirely while their totals are zero (a
+    /// carbonate water pays nothing for them): phosphate, fluoride and silica.
+    pub const EXTENDED: [Component; 3] = [Component::PO4, Component::F, Component::Si];
 
     pub fn index(self) -> usize {
         self as usize
@@ -64,6 +77,9 @@ impl Component {
             Component::Fe => "Fe",
             Component::OCl => "OCl",
             Component::NH4 => "NH4",
+            Component::PO4 => "PO4",
+            Component::F => "F",
+            Component::Si => "Si",
         }
     }
 
@@ -129,6 +145,15 @@ pub struct SpeciesDef {
     log_k: LogK,
 }
 
+impl SpeciesDef {
+    /// Whether the species contains phosphate, fluoride or silica.
+    pub fn is_extended(&self) -> bool {
+        self.comp
+            .iter()
+            .any(|(c, _)| Component::EXTENDED.contains(c))
+    }
+}
+
 /// A solid phase: log K is log10 of the ion activity product at saturation.
 #[derive(Clone, Debug)]
 pub struct PhaseDef {
@@ -147,6 +172,9 @@ pub struct Table {
     pub davies_linear: f64,
     pub neutral_b: f64,
     pub phases: Vec<PhaseDef>,
+    /// Species past this index all contain an extended component ([`Component::EXTENDED`]):
+    /// the solver stops its species loops here while those totals are zero.
+    pub n_core: usize,
 }
 
 /// The table evaluated at one temperature.
@@ -204,6 +232,9 @@ struct RawSpecies {
     log_k: f64,
     analytic: Option<[f64; 5]>,
     delta_h_kcal: Option<f64>,
+    /// ΔH in kJ/mol, for a source that tabulates it so (converted with the thermochemical
+    /// calorie; only one of the two may be given).
+    delta_h_kj: Option<f64>,
     plus: Option<String>,
     gamma: Option<[f64; 2]>,
 }
@@ -285,6 +316,15 @@ impl Table {
         let mut own: Vec<(String, LogK, Option<String>)> = Vec::new();
         for s in &raw.species {
             let comp = components(&s.comp)?;
+            let delta_h = match (s.delta_h_kcal, s.delta_h_kj) {
+                (Some(_), Some(_)) => {
+                    return Err(data_error(format!(
+                        "{}: delta_h given in both kcal and kJ",
+                        s.species
+                    )));
+                }
+                (kcal, kj) => kcal.or(kj.map(|kj| kj / CAL)),
+            };
             let alkalinity = comp
                 .iter()
                 .map(|(c, n)| alk[c.index()] * *n as f64)
@@ -301,7 +341,7 @@ impl Table {
             });
             own.push((
                 s.species.clone(),
-                log_k_of(s.log_k, s.analytic, s.delta_h_kcal),
+                log_k_of(s.log_k, s.analytic, delta_h),
                 s.plus.clone(),
             ));
         }
@@ -320,6 +360,7 @@ impl Table {
             davies_linear: raw.activity.davies_linear,
             neutral_b: raw.activity.neutral_b,
             phases,
+            n_core: 0,
         };
         let mut table = table;
         // Store the composite log K functions: own, plus the named species' function.
@@ -343,6 +384,12 @@ impl Table {
             };
             table.species[NC + i].log_k = f;
         }
+        table.n_core = table
+            .species
+            .iter()
+            .rposition(|s| !s.is_extended())
+            .map_or(0, |i| i + 1)
+            .max(NC);
         Ok(table)
     }
 
@@ -456,6 +503,20 @@ mod tests {
         check("NH3", 25.0, -9.25, 0.01);
         // The composite NaHCO3 = -0.25 + log K(HCO3-) at 25 C (phreeqc.dat).
         check("NaHCO3", 25.0, 10.079, 0.002);
+        // Phosphate, fluoride, silica at 25 C as tabulated in phreeqc.dat (phreeqpython 1.6.2):
+        // pKa 2.17, 7.21, 12.35 for phosphoric acid; HF 3.18 (its analytic expression gives
+        // 3.176 by hand); H4SiO4 9.83 (analytic, 9.832 by hand); SiF6-2 30.18.
+        check("HPO4-2", 25.0, 12.346, 1e-9);
+        check("H2PO4-", 25.0, 19.553, 1e-9);
+        check("H3PO4", 25.0, 21.721, 1e-9);
+        check("HF", 25.0, 3.176, 0.001);
+        check("H3SiO4-", 25.0, -9.832, 0.001);
+        check("SiF6-2", 25.0, 30.18, 1e-9);
+        // CaHPO4 = 2.739 + log K(HPO4-2) (phreeqc.dat writes it from HPO4-2).
+        check("CaHPO4", 25.0, 15.085, 1e-9);
+        // H3PO4 with delta_h -10.1 kJ (van't Hoff by hand): at 5 C log K rises by
+        // 10100 / (8.314462618 × ln 10) × (1/278.15 − 1/298.15) = 0.1272.
+        check("H3PO4", 5.0, 21.848, 0.001);
     }
 
     #[test]

@@ -74,10 +74,21 @@ pub struct Solver {
     class: Vec<usize>,
     classes: Vec<(GammaModel, i32)>,
     h_class: usize,
+    /// Activity classes of the species before `table.n_core` (and H+) come first: while no
+    /// phosphate, fluoride or silica is present only these are evaluated.
+    n_core_classes: usize,
+}
+
+/// How far the species loops run for one problem: the whole table, or only its core (no
+/// phosphate, fluoride or silica present), so a carbonate water pays nothing for them.
+#[derive(Clone, Copy, Debug)]
+struct Span {
+    species: usize,
+    classes: usize,
 }
 
 /// Most species in the table the fixed-size scratch arrays hold.
-const MAX_SPECIES: usize = 64;
+const MAX_SPECIES: usize = 96;
 const PH_MIN: f64 = -2.0;
 const PH_MAX: f64 = 16.0;
 const LN10: f64 = std::f64::consts::LN_10;
@@ -143,8 +154,7 @@ impl Solver {
         let mut by_comp = vec![Vec::new(); NC];
         let (mut comp_idx, mut comp_n, mut comp_len, mut mask) = (vec![], vec![], vec![], vec![]);
         let mut classes: Vec<(GammaModel, i32)> = Vec::new();
-        let mut class = Vec::new();
-        let mut class_of = |g: GammaModel, z: i32| -> usize {
+        let class_of = |classes: &mut Vec<(GammaModel, i32)>, g: GammaModel, z: i32| -> usize {
             match classes.iter().position(|&(m, zz)| m == g && zz == z) {
                 Some(i) => i,
                 None => {
@@ -153,7 +163,8 @@ impl Solver {
                 }
             }
         };
-        for (s, def) in table.species.iter().take(MAX_SPECIES).enumerate() {
+        let ns = table.species.len().min(MAX_SPECIES);
+        for (s, def) in table.species.iter().take(ns).enumerate() {
             let (mut idx, mut n, mut m) = ([0u8; 3], [0u8; 3], 0u16);
             for (k, &(c, count)) in def.comp.iter().take(3).enumerate() {
                 by_comp[c.index()].push((s, count));
@@ -165,9 +176,21 @@ impl Solver {
             comp_n.push(n);
             comp_len.push(def.comp.len().min(3) as u8);
             mask.push(m);
-            class.push(class_of(def.gamma, def.z));
         }
-        let h_class = class_of(table.h_gamma, 1);
+        // Classes: the core species' first, then H+, then those only extended species use.
+        let mut class = vec![0; ns];
+        for (s, def) in table.species.iter().take(ns).enumerate() {
+            if !def.is_extended() {
+                class[s] = class_of(&mut classes, def.gamma, def.z);
+            }
+        }
+        let h_class = class_of(&mut classes, table.h_gamma, 1);
+        let n_core_classes = classes.len();
+        for (s, def) in table.species.iter().take(ns).enumerate() {
+            if def.is_extended() {
+                class[s] = class_of(&mut classes, def.gamma, def.z);
+            }
+        }
         Solver {
             table,
             th: table.at(t_celsius),
@@ -179,31 +202,66 @@ impl Solver {
             class,
             classes,
             h_class,
+            n_core_classes,
         }
     }
 
-    /// Fills γ of every species and returns γ of H+ (one evaluation per activity class).
-    fn gammas(&self, i: f64, gamma: &mut [f64]) -> f64 {
+    /// The species and activity classes a problem needs (see [`Span`]).
+    #[inline]
+    fn span(&self, p: &Problem) -> Span {
+        let extended = Component::EXTENDED
+            .iter()
+            .any(|c| p.totals[c.index()] > 0.0);
+        let ns = self.mask.len();
+        if extended || self.table.n_core >= ns {
+            Span {
+                species: ns,
+                classes: self.classes.len(),
+            }
+        } else {
+            Span {
+                species: self.table.n_core,
+                classes: self.n_core_classes,
+            }
+        }
+    }
+
+    /// Fills γ of every species the problem needs (see [`Span`]) and returns γ of H+ (one
+    /// evaluation per activity class).
+    fn gammas(&self, i: f64, gamma: &mut [f64], p: &Problem) -> f64 {
+        let span = self.span(p);
         let mut by_class = [1.0f64; 48];
-        for (k, &(model, z)) in self.classes.iter().enumerate().take(48) {
+        for (k, &(model, z)) in self.classes.iter().enumerate().take(span.classes.min(48)) {
             by_class[k] = pow10(activity::log_gamma(model, z, i, &self.th, self.table));
         }
-        for (g, &c) in gamma.iter_mut().zip(&self.class) {
+        for (g, &c) in gamma.iter_mut().zip(&self.class).take(span.species) {
             *g = by_class[c];
         }
         by_class[self.h_class]
     }
 
     /// Like [`Solver::gammas`], also filling d(log10 γ)/dI per species; returns (γ_H, its slope).
-    fn gammas_with_slopes(&self, i: f64, gamma: &mut [f64], dlg: &mut [f64]) -> (f64, f64) {
+    fn gammas_with_slopes(
+        &self,
+        i: f64,
+        gamma: &mut [f64],
+        dlg: &mut [f64],
+        p: &Problem,
+    ) -> (f64, f64) {
+        let span = self.span(p);
         let mut by_class = [(1.0f64, 0.0f64); 48];
-        for (k, &(model, z)) in self.classes.iter().enumerate().take(48) {
+        for (k, &(model, z)) in self.classes.iter().enumerate().take(span.classes.min(48)) {
             by_class[k] = (
                 pow10(activity::log_gamma(model, z, i, &self.th, self.table)),
                 activity::dlog_gamma_di(model, z, i, &self.th, self.table),
             );
         }
-        for ((g, d), &c) in gamma.iter_mut().zip(dlg.iter_mut()).zip(&self.class) {
+        for ((g, d), &c) in gamma
+            .iter_mut()
+            .zip(dlg.iter_mut())
+            .zip(&self.class)
+            .take(span.species)
+        {
             *g = by_class[c].0;
             *d = by_class[c].1;
         }
@@ -239,7 +297,7 @@ impl Solver {
         tol: f64,
     ) -> u16 {
         let species = &self.table.species;
-        let n = species.len().min(MAX_SPECIES);
+        let n = self.span(p).species;
         let a_h = pow10(log_h);
         let inv = 1.0 / a_h;
         // {H+}^h for h = -4..=3.
@@ -332,6 +390,9 @@ impl Solver {
                 self.conc_of(s, kg[s], &act)
             };
         }
+        for c in conc.iter_mut().skip(n) {
+            *c = 0.0;
+        }
         capped
     }
 
@@ -407,7 +468,7 @@ impl Solver {
     ) -> Option<Speciation> {
         const N: usize = NC + 2;
         let species = &self.table.species;
-        let ns = species.len().min(MAX_SPECIES);
+        let ns = self.span(p).species;
         let mut gamma = vec![1.0; species.len()];
         let mut dlg = vec![0.0; species.len()];
         let mut conc = vec![0.0; species.len()];
@@ -443,7 +504,7 @@ impl Solver {
         // Masters new to this water (a coagulant's metal) start from the mass balances at the
         // starting pH rather than from their totals, which can be 10 orders too high.
         if warm.is_none_or(|w| (0..NC).any(|c| p.totals[c] > 0.0 && w.totals[c] <= 0.0)) {
-            self.gammas(i, &mut gamma);
+            self.gammas(i, &mut gamma, p);
             let mut q = p.clone();
             if let Some(ph) = fixed_ph {
                 x = -ph;
@@ -451,8 +512,9 @@ impl Solver {
             }
             self.distribute(x, &q, &gamma, &mut free, &mut conc, 1e-6);
         }
+        let mut jac = [[0.0f64; N + 1]; N];
         for _ in 0..40 {
-            let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg);
+            let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg, p);
             let a_h = pow10(x);
             // Caps: a master whose total would be supersaturated with its hydroxide is held at
             // the hydroxide's solubility. The test is the dissolved total at the cap (not the
@@ -487,7 +549,10 @@ impl Solver {
             }
             // One pass over the species builds residuals and Jacobian together. Rows: mass
             // balances (0..n), charge (n), ionic strength (n + 1); last column: −residual.
-            let mut jac = [[0.0f64; N + 1]; N];
+            // Only the rows in use are cleared: a carbonate water solves a much smaller system.
+            for row in jac.iter_mut().take(n + 2) {
+                *row = [0.0; N + 1];
+            }
             let c_h = a_h / gamma_h;
             let dl_h = -LN10 * dlg_h; // d ln c_H / dI
             let mut scale = [0.0f64; N];
@@ -609,7 +674,7 @@ impl Solver {
                 && residual < 1e-6 * tight
                 && di.abs() <= 1e-8 * tight * i
             {
-                let gamma_h = self.gammas(i, &mut gamma);
+                let gamma_h = self.gammas(i, &mut gamma, p);
                 let mut totals = p.totals;
                 if fixed_ph.is_some() {
                     totals[co3] = self.by_comp[co3]
@@ -650,7 +715,7 @@ impl Solver {
         };
         let mut tol = 1e-8;
         for _ in 0..40 {
-            let gamma_h = self.gammas(i, &mut gamma);
+            let gamma_h = self.gammas(i, &mut gamma, p);
             let capped = self.distribute(x, p, &gamma, &mut free, &mut conc, tol);
             let mut f = pow10(x) / gamma_h - p.z_excess;
             for (c, s) in conc.iter().zip(&self.table.species) {
@@ -675,7 +740,7 @@ impl Solver {
             let i_done = (i_new - i).abs() <= 1e-12 + 1e-10 * i;
             i = i_new;
             if dx.abs() < 1e-10 && i_done && tol <= TIGHT {
-                let gamma_h = self.gammas(i, &mut gamma);
+                let gamma_h = self.gammas(i, &mut gamma, p);
                 self.distribute(x, p, &gamma, &mut free, &mut conc, TIGHT);
                 return Some(Speciation {
                     log_h: x,
@@ -759,7 +824,7 @@ impl Solver {
         let mut log_h = x0;
         let mut gamma_h;
         for _ in 0..60 {
-            gamma_h = self.gammas(i, &mut gamma);
+            gamma_h = self.gammas(i, &mut gamma, p);
             log_h = self.solve_h(x0, p, &gamma, gamma_h, &mut free, &mut conc)?;
             let i_new = self.ionic_strength(log_h, gamma_h, &conc, p.i_background);
             let done = (i_new - i).abs() <= 1e-12 + 1e-10 * i;
@@ -770,7 +835,7 @@ impl Solver {
             }
         }
         // Final consistency pass at the converged ionic strength.
-        gamma_h = self.gammas(i, &mut gamma);
+        gamma_h = self.gammas(i, &mut gamma, p);
         self.distribute(log_h, p, &gamma, &mut free, &mut conc, TIGHT);
         Ok(Speciation {
             log_h,
@@ -879,7 +944,7 @@ impl Solver {
         let mut i = self.estimate_i(p);
         let mut gamma_h;
         for _ in 0..60 {
-            gamma_h = self.gammas(i, &mut gamma);
+            gamma_h = self.gammas(i, &mut gamma, p);
             self.distribute(log_h, p, &gamma, &mut free, &mut conc, TIGHT);
             let i_new = self.ionic_strength(log_h, gamma_h, &conc, p.i_background);
             let done = (i_new - i).abs() <= 1e-12 + 1e-10 * i;
@@ -888,7 +953,7 @@ impl Solver {
                 break;
             }
         }
-        gamma_h = self.gammas(i, &mut gamma);
+        gamma_h = self.gammas(i, &mut gamma, p);
         self.distribute(log_h, p, &gamma, &mut free, &mut conc, TIGHT);
         Speciation {
             log_h,
@@ -968,7 +1033,7 @@ impl Solver {
         let co3 = Component::CO3.index();
         let mut gamma_h;
         for _ in 0..60 {
-            gamma_h = self.gammas(i, &mut gamma);
+            gamma_h = self.gammas(i, &mut gamma, p);
             let mut alk_at = |dic: f64, free: &mut [f64; NC], conc: &mut [f64]| -> f64 {
                 q.totals[co3] = dic;
                 self.distribute(log_h, &q, &gamma, free, conc, TIGHT);
@@ -1019,7 +1084,7 @@ impl Solver {
                 break;
             }
         }
-        gamma_h = self.gammas(i, &mut gamma);
+        gamma_h = self.gammas(i, &mut gamma, p);
         self.distribute(log_h, &q, &gamma, &mut free, &mut conc, TIGHT);
         Ok(Speciation {
             log_h,
@@ -1201,7 +1266,7 @@ mod slope_tests {
         let p = Problem::new(t);
         let ns = s.table.species.len();
         let mut gamma = vec![1.0; ns];
-        let gh = s.gammas(0.005, &mut gamma);
+        let gh = s.gammas(0.005, &mut gamma, &p);
         let charge = |x: f64, free: &mut [f64; NC], conc: &mut Vec<f64>| {
             let capped = s.distribute(x, &p, &gamma, free, conc, TIGHT);
             let mut f = pow10(x) / gh;

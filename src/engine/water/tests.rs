@@ -372,3 +372,97 @@ fn ion_pairs_are_what_keep_hard_water_right_above_ph_9() {
     );
     assert!((without - phreeqc).abs() > 0.1, "without pairs {without}");
 }
+
+/// Alkalinity moved per mg/L of each phosphate, fluoride and alkali chemical, by hand from its
+/// formula and the zero levels of Standard Methods 2320 as PHREEQC's phreeqc.dat sets them
+/// (H2PO4-, F-, H4SiO4 count 0; Al counts from Al(OH)3, docs/water-notes.md): mg/L as CaCO3 =
+/// eq per mol × 50.0435 / molar mass (IUPAC 2021 atomic weights: H 1.008, O 15.999, F 18.998,
+/// Na 22.990, Mg 24.305, Al 26.982, Si 28.085, P 30.974). Alkalinity is conserved whatever the
+/// speciation, so these hold at any pH.
+#[test]
+fn alkalinity_moved_by_phosphate_fluoride_and_alkali_chemicals() {
+    let w = tap();
+    let before = w.alkalinity_mg_l_as_caco3();
+    for (id, dose, eq_per_mol, molar_mass) in [
+        // H3PO4 → H2PO4- + H+: −1.
+        ("phosphoric-acid", 3.0, -1.0, 97.994),
+        // NaH2PO4: 0.
+        ("monosodium-phosphate", 4.0, 0.0, 119.976),
+        // H2SiF6 + 4 H2O → H4SiO4 + 6 F- + 6 H+: −6.
+        ("fluorosilicic-acid", 1.5, -6.0, 144.091),
+        // Na2SiF6 + 4 H2O → 2 Na+ + H4SiO4 + 6 F- + 4 H+: −4.
+        ("sodium-fluorosilicate", 2.0, -4.0, 188.055),
+        ("sodium-fluoride", 2.2, 0.0, 41.988),
+        // NaAlO2 + 2 H2O → Na+ + Al(OH)4-: Al(OH)3 + OH-, +1.
+        ("sodium-aluminate", 10.0, 1.0, 81.969),
+        ("magnesium-hydroxide", 10.0, 2.0, 58.319),
+    ] {
+        let after = ph_after(&w, chem(id), dose, Precipitation::None).unwrap();
+        let hand = dose / molar_mass * eq_per_mol * 50.0435;
+        check(
+            id,
+            after.alkalinity_mg_l_as_caco3 - before,
+            hand,
+            2e-4 * hand.abs().max(1.0),
+        );
+    }
+}
+
+/// Fluorosilicate hydrolyses all but completely at a fluoridation dose: with K = 10^30.18
+/// (phreeqc.dat) SiF6-2 is below 1e-6 of the silica at pH 7.6 and 1 mg/L F (Urbansky 2002,
+/// Chem. Rev. 102:2837, finds no SiF6-2 left at drinking-water pH and fluoride, from memory).
+/// And at that pH nearly all fluoride is F- (HF pKa 3.18) with a few percent on Ca and Mg.
+#[test]
+fn fluorosilicate_hydrolyses_at_drinking_water_ph() {
+    let w = tap();
+    let r = ph_after(&w, chem("fluorosilicic-acid"), 1.26, Precipitation::None).unwrap();
+    let conc = |name: &str| {
+        r.species
+            .iter()
+            .find(|(n, _)| *n == name)
+            .map_or(0.0, |(_, c)| *c)
+    };
+    let silica = 1.26 / 144.091; // mmol/L
+    assert!(conc("SiF6-2") < 1e-6 * silica, "{}", conc("SiF6-2"));
+    let f = conc("F-") / (6.0 * silica);
+    assert!(f > 0.9 && f < 1.0, "free F- share {f}");
+    assert!(conc("HF") < 1e-3 * conc("F-"));
+}
+
+/// Orthophosphate at pH 7.2: H2PO4- and HPO4-2 about equal (pKa2 7.21 at 25 C: phreeqc.dat
+/// 19.553 − 12.346), shifted by activity and the Ca/Mg pairs; no H3PO4 to speak of.
+#[test]
+fn orthophosphate_splits_at_its_second_pka() {
+    let input = WaterInput::new(7.207, 25.0, 50.0);
+    let w = WaterState::new(&input).unwrap();
+    let r = ph_after(&w, chem("monosodium-phosphate"), 0.5, Precipitation::None).unwrap();
+    let conc = |name: &str| {
+        r.species
+            .iter()
+            .find(|(n, _)| *n == name)
+            .map_or(0.0, |(_, c)| *c)
+    };
+    let ratio = conc("HPO4-2") / conc("H2PO4-");
+    // log ratio = pH − pKa2 + log γ(H2PO4-) − log γ(HPO4-2) ≈ 0 + 3 × 0.5 × √I ≈ +0.06 at
+    // I ≈ 1 mM (Davies by hand), minus the small pH drop of the dose.
+    assert!(ratio > 0.9 && ratio < 1.4, "HPO4/H2PO4 {ratio}");
+    assert!(conc("H3PO4") < 1e-4 * conc("H2PO4-"));
+}
+
+/// A carbonate water never reaches the phosphate, fluoride and silica species: they sit after
+/// `n_core` in the table, and the solve gives the same pH with the span cut or not.
+#[test]
+fn extended_species_are_last_in_the_table() {
+    let table = constants::Table::embedded();
+    assert!(table.n_core < table.species.len());
+    assert!(
+        table.species[table.n_core..]
+            .iter()
+            .all(|s| s.is_extended())
+    );
+    assert!(
+        table.species[NC..table.n_core]
+            .iter()
+            .all(|s| !s.is_extended())
+    );
+}

@@ -871,3 +871,82 @@ pub(crate) fn jar_test(c: &Calculators, request: &Request) -> Result<Outcome> {
     }
     Ok(out)
 }
+
+/// The water-engine chemical and the mg/L of it per mg/L of the product's dose, when the
+/// request gives the water (pH, alkalinity and temperature, all three) and the product's
+/// compound is in the water catalog. The dose is on the product's `dose_as` basis; it becomes
+/// mg/L of the compound through the one element other than H and O the two share (PO4 → H3PO4
+/// through P, F → H2SiF6 through F). `None` (the caller raises `water-effect-not-available`)
+/// for a compound of no fixed formula (a zinc or blended phosphate) or a water not given.
+pub(crate) fn water_modelled(
+    c: &Calculators,
+    request: &Request,
+) -> Result<Option<(&'static crate::engine::water::Chemical, f64)>> {
+    if ["ph", "alkalinity", "temperature"]
+        .iter()
+        .any(|name| request.get(name).is_none())
+    {
+        return Ok(None);
+    }
+    let product = c.catalog.product(chosen(request)?)?;
+    let Ok(chemical) = crate::engine::dosing::waterside::water_chemical(&product.compound) else {
+        return Ok(None);
+    };
+    let dose_as = Formula::parse(&product.dose_as)?;
+    if dose_as.same_composition(&chemical.formula) {
+        return Ok(Some((chemical, 1.0)));
+    }
+    let shared: Vec<&str> = dose_as
+        .atoms()
+        .map(|(e, _)| e)
+        .filter(|e| !matches!(*e, "H" | "O") && chemical.formula.count(e) > 0)
+        .collect();
+    let [element] = shared[..] else {
+        return Ok(None);
+    };
+    let per = (dose_as.count(element) as f64 / dose_as.molar_mass())
+        * (chemical.molar_mass / chemical.formula.count(element) as f64);
+    Ok(Some((chemical, per)))
+}
+
+/// Pushes `ph_after` and `alkalinity_after` (with a `ph-outside-range` warning) for a dose of
+/// `dose_mg_l` on the product's `dose_as` basis, when [`water_modelled`] finds the water and the
+/// compound. Skipped in the headline-only runs of the ranges: it is an equilibrium solve of its
+/// own. A coagulant's metal precipitates as amorphous hydroxide at equilibrium.
+pub(crate) fn push_water_after(
+    c: &Calculators,
+    request: &Request,
+    dose_mg_l: f64,
+    out: &mut Outcome,
+) -> Result<()> {
+    use crate::engine::dosing::waterside::{PhRange, dose_effect};
+    use crate::engine::water::{Precipitation, WaterInput, WaterState};
+    let Some((chemical, per)) = water_modelled(c, request)? else {
+        return Ok(());
+    };
+    if request.headlines_only {
+        return Ok(());
+    }
+    let state = WaterState::new(&WaterInput::new(
+        value(request, "ph")?,
+        value(request, "temperature")?,
+        value(request, "alkalinity")?,
+    ))?;
+    let precipitation = if chemical.is_coagulant() {
+        Precipitation::Hydroxide
+    } else {
+        Precipitation::None
+    };
+    let (_, effect) = dose_effect(&state, chemical, dose_mg_l * per, precipitation)?;
+    out.results
+        .push(result("ph_after", effect.ph_after, Q::Ph, None));
+    out.results.push(result(
+        "alkalinity_after",
+        effect.alkalinity_after_mg_l_as_caco3,
+        Q::AsCaCO3,
+        Some("CaCO3"),
+    ));
+    out.cautions
+        .extend(PhRange::from_limits(&request.limits).check(effect.ph_after));
+    Ok(())
+}
