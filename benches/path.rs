@@ -55,6 +55,16 @@ fn benches(c: &mut Criterion) {
     c.bench_function("six-point path without ranges", |b| {
         b.iter(|| path::run(black_box(&state), &six, &settings))
     });
+    // Where a path's time goes: the calcium carbonate indices of each step's water.
+    let r = path::run(&state, &six, &settings).expect("path");
+    for (k, s) in r.states.iter().enumerate() {
+        c.bench_function(&format!("stability after step {}", k + 1), |b| {
+            b.iter(|| molefeed::engine::water::stability(black_box(s)))
+        });
+    }
+    c.bench_function("stability of the raw water", |b| {
+        b.iter(|| molefeed::engine::water::stability(black_box(&state)))
+    });
     c.bench_function("two targets lime+CO2 pH 8.0 alkalinity 110", |b| {
         b.iter(|| {
             two_targets(
