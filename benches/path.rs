@@ -1,8 +1,11 @@
 //! Timing of the plant's water path (issue 15's figures): pH after a dose and dose for a
 //! target on a full-ion water, a six-point path with the ranges the readings allow, and a
-//! two-target solve (alkalinity and LSI as the second target).
+//! two-target solve (alkalinity and LSI as the second target); and where a `molefeed batch`
+//! line for `ph-after` spends its time (reading the arguments, the chemistry, the report and
+//! its JSON text).
 
 use criterion::{Criterion, criterion_group, criterion_main};
+use molefeed::cli::{Args, dispatch};
 use molefeed::engine::path::{self, Path, Settings};
 use molefeed::engine::water::targets::{SecondTarget, two_targets};
 use molefeed::engine::water::{
@@ -52,6 +55,16 @@ fn benches(c: &mut Criterion) {
     c.bench_function("six-point path without ranges", |b| {
         b.iter(|| path::run(black_box(&state), &six, &settings))
     });
+    // Where a path's time goes: the calcium carbonate indices of each step's water.
+    let r = path::run(&state, &six, &settings).expect("path");
+    for (k, s) in r.states.iter().enumerate() {
+        c.bench_function(&format!("stability after step {}", k + 1), |b| {
+            b.iter(|| molefeed::engine::water::stability(black_box(s)))
+        });
+    }
+    c.bench_function("stability of the raw water", |b| {
+        b.iter(|| molefeed::engine::water::stability(black_box(&state)))
+    });
     c.bench_function("two targets lime+CO2 pH 8.0 alkalinity 110", |b| {
         b.iter(|| {
             two_targets(
@@ -65,6 +78,32 @@ fn benches(c: &mut Criterion) {
     });
     c.bench_function("two targets lime+CO2 pH 8.0 LSI 0.1", |b| {
         b.iter(|| two_targets(&state, lime, co2, black_box(8.0), SecondTarget::Lsi(0.1)))
+    });
+    // A batch line's parts, for a full-ion water (what `molefeed batch` does per line).
+    let line = serde_json::json!({
+        "chemical": "lime", "dose": 20, "ph": 7.6, "temperature": 14, "alkalinity": 90,
+        "calcium_as_caco3": 95, "magnesium_as_caco3": 35, "sodium": 18, "potassium": 3,
+        "chloride": 25, "sulfate": 40,
+    });
+    c.bench_function("batch part: arguments from the JSON line", |b| {
+        b.iter(|| Args::from_json(black_box(&line)))
+    });
+    c.bench_function("batch part: water state from full-ion readings", |b| {
+        b.iter(|| WaterState::new(black_box(&input())))
+    });
+    c.bench_function(
+        "batch part: ph-after dispatched (readings, chemistry, report)",
+        |b| {
+            b.iter(|| {
+                let args = Args::from_json(black_box(&line)).expect("args");
+                dispatch("ph-after", &args).map(|r| r.json)
+            })
+        },
+    );
+    let args = Args::from_json(&line).expect("args");
+    let report = dispatch("ph-after", &args).expect("report");
+    c.bench_function("batch part: the report's JSON written as text", |b| {
+        b.iter(|| black_box(&report.json).to_string())
     });
 }
 

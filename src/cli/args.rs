@@ -264,6 +264,23 @@ mod tests {
     }
 
     #[test]
+    fn a_repeatable_flag_keeps_every_value_in_order() {
+        let args = Args::parse(&words("--step alum=30 --step caustic=8")).unwrap();
+        assert_eq!(args.texts("step").unwrap(), ["alum=30", "caustic=8"]);
+        assert!(args.reject_unused().is_ok());
+        let args = Args::from_json(&serde_json::json!({ "step": ["lime=20", "carbon-dioxide=5"] }))
+            .unwrap();
+        assert_eq!(args.texts("step").unwrap(), ["lime=20", "carbon-dioxide=5"]);
+        assert!(
+            Args::parse(&words("--step"))
+                .unwrap()
+                .texts("step")
+                .is_err()
+        );
+        assert!(Args::parse(&words("--ph 7 --ph 8")).is_err());
+    }
+
+    #[test]
     fn non_numbers_are_rejected() {
         for bad in ["abc", "NaN", "inf", ""] {
             let args = Args::from_json(&serde_json::json!({ "dose": bad })).unwrap();

@@ -231,22 +231,57 @@ pub struct PathResult {
     pub cautions: Vec<Caution>,
 }
 
+/// mg/L of `formula` (one of [`MASSES`]) in `mmol_l`, its molar mass computed from the
+/// formula once.
 fn mg_l(mmol_l: f64, formula: &str) -> Result<f64> {
-    Ok(mmol_l * water::chemicals::molar_mass(formula)?)
+    static TABLE: std::sync::OnceLock<Result<[f64; 4]>> = std::sync::OnceLock::new();
+    let table = TABLE
+        .get_or_init(|| {
+            let mut m = [0.0; 4];
+            for (slot, f) in m.iter_mut().zip(MASSES) {
+                *slot = water::chemicals::molar_mass(f)?;
+            }
+            Ok(m)
+        })
+        .clone()?;
+    let i = MASSES.iter().position(|f| *f == formula).ok_or_else(|| {
+        Error::new(
+            ErrorKind::UnknownChemical,
+            format!("no molar mass kept for {formula}"),
+        )
+    })?;
+    Ok(mmol_l * table[i])
 }
 
-/// What the path shows of a water.
+/// The formulas the path reports concentrations as.
+const MASSES: [&str; 4] = ["CaCO3", "Cl2", "Al", "Fe"];
+
+/// What the path shows of a water; a headline-only run (`with_stability` false) reads pH,
+/// alkalinity and totals off the state and skips the species list and the indices.
 fn water_at(state: &WaterState, with_stability: bool) -> Result<WaterAt> {
     let cl2 = state.total_mmol_l(Component::OCl);
+    if !with_stability {
+        return Ok(WaterAt {
+            ph: state.ph(),
+            temperature_c: state.temperature_c(),
+            alkalinity_mg_l_as_caco3: state.alkalinity_mg_l_as_caco3(),
+            dic_mmol_l: state.total_mmol_l(Component::CO3),
+            calcium_mg_l_as_caco3: mg_l(state.total_mmol_l(Component::Ca), "CaCO3")?,
+            langelier_index: None,
+            ccpp_mg_l_as_caco3: None,
+            free_chlorine_mg_l_as_cl2: mg_l(cl2, "Cl2")?,
+            hocl_fraction: None,
+            aluminium_mg_l: mg_l(state.total_mmol_l(Component::Al), "Al")?,
+            iron_mg_l: mg_l(state.total_mmol_l(Component::Fe), "Fe")?,
+            ph_range: None,
+            alkalinity_range: None,
+        });
+    }
     let r = state.result()?;
-    let (lsi, ccpp) = if with_stability {
-        match water::stability(state) {
-            Ok(s) => (s.langelier_index, Some(s.ccpp_mg_l_as_caco3)),
-            // No calcium, no alkalinity: there is no calcium carbonate index to give.
-            Err(_) => (None, None),
-        }
-    } else {
-        (None, None)
+    let (lsi, ccpp) = match water::stability(state) {
+        Ok(s) => (s.langelier_index, Some(s.ccpp_mg_l_as_caco3)),
+        // No calcium, no alkalinity: there is no calcium carbonate index to give.
+        Err(_) => (None, None),
     };
     Ok(WaterAt {
         ph: r.ph,

@@ -325,3 +325,31 @@ fn a_point_without_feeds_passes_the_water_on_unchanged() {
     assert_eq!(r.points[0].1.ph, r.points[1].1.ph);
     assert_eq!(r.finished.ph, r.steps[0].water.ph);
 }
+
+#[test]
+fn the_finished_water_is_held_to_the_plants_limits() {
+    // 40 mg/L alum takes about 20 mg/L as CaCO3 of a 35 mg/L alkalinity (0.135 mmol Al ×
+    // 3 meq × 50.04, by hand): about 15 left, below the demo plant's own minimum of 30; the pH
+    // falls below the federal SMCL range's 6.5 (no plant entry for pH, so the default holds).
+    let products = Products::builtin().unwrap();
+    let site = SiteProfile::demo(&products).unwrap();
+    let catalog = Catalog::embedded().unwrap();
+    let state =
+        WaterState::new(&WaterInput::new(7.0, 10.0, 35.0).with_calcium_as_caco3(40.0)).unwrap();
+    let path = Path::of_steps(&[(catalog.find("alum").unwrap(), 40.0)]);
+    let settings = Settings {
+        limits: site.limits.clone(),
+        ..Settings::default()
+    };
+    let r = path::run(&state, &path, &settings).unwrap();
+    let alk = r.finished.alkalinity_mg_l_as_caco3;
+    assert!((alk - 14.8).abs() < 0.5, "alkalinity {alk}");
+    let below: Vec<&str> = r
+        .cautions
+        .iter()
+        .filter(|c| c.key == "site-limit-finished-below")
+        .filter_map(|c| c.param("parameter"))
+        .collect();
+    assert!(below.contains(&"alkalinity"), "{:?}", r.cautions);
+    assert!(below.contains(&"ph"), "{:?}", r.cautions);
+}
