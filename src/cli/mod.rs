@@ -12,6 +12,7 @@ mod args;
 mod calc;
 mod chemistry;
 mod log_cmd;
+mod stock_cmd;
 mod water;
 mod words;
 

@@ -58,6 +58,10 @@ pub enum Quantity {
     SolidsDose,
     /// A stock solution's strength, mass per volume. SI: g/L. US: % w/v (1 % = 10 g/L).
     StockStrength,
+    /// A volume used per day (a chemical's use from its tank). SI: L/d. US: gal/d.
+    VolumePerDay,
+    /// A count of days (days of supply). d in both systems.
+    Days,
 }
 
 /// The unit a value is shown in; `code()` is the translation-key stem (`unit-<code>`) and the
@@ -96,6 +100,12 @@ pub enum Unit {
     GPerL,
     PercentWv,
     CubicMetres,
+    LitresPerDay,
+    GallonsPerDay,
+    Days,
+    /// Inches of a length whose SI unit is the metre (a tank's level or dimension); the same
+    /// code as [`Unit::Inches`], which converts to millimetres for a diameter.
+    InchesOfLength,
 }
 
 /// m³ in one US gallon (exact by definition: 231 in³).
@@ -113,7 +123,7 @@ const KG_PER_T_PER_LB_PER_TON: f64 = 0.5;
 const G_PER_L_PER_PERCENT_WV: f64 = 10.0;
 
 impl Unit {
-    pub const ALL: [Unit; 32] = [
+    pub const ALL: [Unit; 36] = [
         Unit::CubicMetresPerDay,
         Unit::Mgd,
         Unit::MgPerL,
@@ -146,6 +156,10 @@ impl Unit {
         Unit::GPerL,
         Unit::PercentWv,
         Unit::CubicMetres,
+        Unit::LitresPerDay,
+        Unit::GallonsPerDay,
+        Unit::Days,
+        Unit::InchesOfLength,
     ];
 
     pub fn code(self) -> &'static str {
@@ -182,6 +196,42 @@ impl Unit {
             Unit::GPerL => "g-per-l",
             Unit::PercentWv => "percent-w-v",
             Unit::CubicMetres => "m3",
+            Unit::LitresPerDay => "l-per-day",
+            Unit::GallonsPerDay => "gal-per-day",
+            Unit::Days => "d",
+            Unit::InchesOfLength => "in",
+        }
+    }
+
+    /// The unit system a unit belongs to, where it belongs to one (ft, in, gal, lb: US; m,
+    /// L, kg: SI); `None` for a unit both use (mg/L, %, s).
+    pub fn system(self) -> Option<UnitSystem> {
+        match self {
+            Unit::Mgd
+            | Unit::Fahrenheit
+            | Unit::LbPerDay
+            | Unit::GallonsPerHour
+            | Unit::Gallons
+            | Unit::Feet
+            | Unit::Inches
+            | Unit::Pounds
+            | Unit::LbPerTon
+            | Unit::PercentWv
+            | Unit::GallonsPerDay
+            | Unit::InchesOfLength => Some(UnitSystem::Us),
+            Unit::CubicMetresPerDay
+            | Unit::Celsius
+            | Unit::KgPerDay
+            | Unit::LitresPerHour
+            | Unit::Litres
+            | Unit::Metres
+            | Unit::Millimetres
+            | Unit::Kilograms
+            | Unit::KgPerTonne
+            | Unit::GPerL
+            | Unit::CubicMetres
+            | Unit::LitresPerDay => Some(UnitSystem::Si),
+            _ => None,
         }
     }
 
@@ -226,6 +276,10 @@ impl Unit {
             Unit::GPerL => "g/L",
             Unit::PercentWv => "% w/v",
             Unit::CubicMetres => "m³",
+            Unit::LitresPerDay => "L/d",
+            Unit::GallonsPerDay => "gal/d",
+            Unit::Days => "d",
+            Unit::InchesOfLength => "in",
         }
     }
 
@@ -243,6 +297,8 @@ impl Unit {
             Unit::LbPerTon => v * KG_PER_T_PER_LB_PER_TON,
             Unit::PercentWv => v * G_PER_L_PER_PERCENT_WV,
             Unit::CubicMetres => v * 1000.0,
+            Unit::GallonsPerDay => v * M3_PER_GALLON * 1000.0,
+            Unit::InchesOfLength => v * MM_PER_INCH / 1000.0,
             _ => v,
         }
     }
@@ -261,6 +317,8 @@ impl Unit {
             Unit::LbPerTon => v / KG_PER_T_PER_LB_PER_TON,
             Unit::PercentWv => v / G_PER_L_PER_PERCENT_WV,
             Unit::CubicMetres => v / 1000.0,
+            Unit::GallonsPerDay => v / (M3_PER_GALLON * 1000.0),
+            Unit::InchesOfLength => v * 1000.0 / MM_PER_INCH,
             _ => v,
         }
     }
@@ -329,6 +387,10 @@ impl Quantity {
             Quantity::SolidsDose => m(1e-6, 1e3),
             // 1 µg/L to 2000 g/L (no solution is denser than about 2 kg/L of solute).
             Quantity::StockStrength => m(1e-6, 2e3),
+            // 1 µL/d to 10⁹ L/d (a million m³ of chemical a day is no plant's).
+            Quantity::VolumePerDay => m(1e-6, 1e9),
+            // A supply of a minute to ~2700 years.
+            Quantity::Days => m(1e-6, 1e6),
         }
     }
 
@@ -343,7 +405,20 @@ impl Quantity {
         if self == Quantity::Volume {
             v.push(Unit::CubicMetres);
         }
+        // A tank's level and dimensions are as often read in inches as in feet.
+        if self == Quantity::Length {
+            v.push(Unit::InchesOfLength);
+        }
         v
+    }
+
+    /// The stable kebab-case code of the quantity (`length`, `volume-per-day`): a command
+    /// line's `--<code>-unit` sets the unit of every input of this quantity.
+    pub fn code(self) -> String {
+        serde_json::to_value(self)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default()
     }
 
     /// The SI unit the calculators take and give this quantity in.
@@ -387,6 +462,9 @@ impl Quantity {
             (Quantity::SolidsDose, Us) => Unit::LbPerTon,
             (Quantity::StockStrength, Si) => Unit::GPerL,
             (Quantity::StockStrength, Us) => Unit::PercentWv,
+            (Quantity::VolumePerDay, Si) => Unit::LitresPerDay,
+            (Quantity::VolumePerDay, Us) => Unit::GallonsPerDay,
+            (Quantity::Days, _) => Unit::Days,
         }
     }
 }
@@ -425,6 +503,9 @@ mod tests {
         // A pound per short ton (2000 lb) is 1/2000 by mass: 0.5 kg per 1000 kg.
         assert!((Unit::LbPerTon.to_si(10.0) - 5.0).abs() < 1e-12);
         assert!((Unit::CubicMetres.to_si(0.75) - 750.0).abs() < 1e-12);
+        // A tank level of 12 in is 1 ft = 0.3048 m; 100 gal/d is 378.5411784 L/d.
+        assert!((Unit::InchesOfLength.to_si(12.0) - 0.3048).abs() < 1e-15);
+        assert!((Unit::GallonsPerDay.to_si(100.0) - 378.5411784).abs() < 1e-9);
         assert_eq!(
             Quantity::Volume.units(),
             [Unit::Litres, Unit::Gallons, Unit::CubicMetres]

@@ -11,5 +11,6 @@ mod log_cli;
 mod numbers_cli;
 mod output_cli;
 mod parity_cli;
+mod stock_cli;
 mod support;
 mod water_cli;

@@ -35,11 +35,14 @@ use crate::engine::{Error, ErrorKind, Result};
 
 // Wastewater, distribution and bench calculators, in a file of their own.
 mod plant_feeds;
+// The chemical on hand: a tank's volume at a level and its days of supply.
+mod stock;
 #[cfg(test)]
 pub(super) use plant_feeds::alkalinity_per_mg_n;
 pub(super) use plant_feeds::{
     ALKALIS, jar_test, main_disinfection, nitrification_alkalinity, phosphorus_removal, polymer,
 };
+pub(super) use stock::tank_volume;
 
 /// Points on a drawn titration curve.
 pub(super) const CURVE_POINTS: usize = 60;

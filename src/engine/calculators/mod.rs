@@ -28,6 +28,7 @@ pub use table::TABLE;
 use super::dosing::catalog::{Catalog, Form, Product, StrengthBasis};
 use super::dosing::caution::{self, Caution};
 use super::dosing::site::{self, Limit, SiteFacts};
+use super::dosing::tank::Tank;
 use super::dosing::{NamedTrace, Severity};
 use super::quantity::Quantity;
 use super::sigfig::{combine, count_sig_figs, format_sig};
@@ -421,6 +422,9 @@ pub struct Request {
     pub site: Option<SiteFacts>,
     /// The id of the site's pump or feeder the operator says feeds this dose, if named.
     pub pump: Option<String>,
+    /// The site's tank a tank calculation is for (`SiteProfile::tank`): its own shape,
+    /// height, strapping table and reorder level, in SI.
+    pub tank: Option<Tank>,
 }
 
 impl Request {

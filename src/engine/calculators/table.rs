@@ -225,7 +225,7 @@ const CHLORITE_PRODUCTS: [&str; 2] = ["sodium-chlorite", "sodium-chlorite-dry"];
 /// Basis of a phosphate residual: the calculator's mode (as PO4, as P or as P2O5).
 const RESIDUAL_BASIS: &str = "residual-basis";
 
-pub static TABLE: [Calculator; 20] = [
+pub static TABLE: [Calculator; 21] = [
     Calculator {
         id: "ph-adjustment",
         group: "ph-adjustment",
@@ -790,6 +790,42 @@ pub static TABLE: [Calculator; 20] = [
         ],
         in_app: true,
         compute: compute::jar_test,
+        curve: None,
+    },
+    // The chemical on hand (stock): a tank's volume at a level and its days of supply.
+    Calculator {
+        id: "tank-volume",
+        group: "stock",
+        // The tank's shape, by its dimensions; or the site's tank (its own shape or strapping
+        // table). Levels from the lowest point; a cone bottom's height from its tip.
+        modes: &[
+            "vertical-cylinder",
+            "horizontal-cylinder",
+            "rectangular",
+            "cone-bottom",
+            "strapping",
+        ],
+        inputs: &[
+            optional(own("diameter", Q::Length)),
+            optional(own("length", Q::Length)),
+            optional(own("width", Q::Length)),
+            optional(own("height", Q::Length)),
+            optional(own("cone-height", Q::Length)),
+            own("level", Q::Length),
+            optional(own("reorder-level", Q::Length)),
+            optional(based(own("use-rate", Q::VolumePerDay), PRODUCT)),
+        ],
+        product_inputs: ProductInputs::None,
+        offer: Offer::None,
+        results: &[
+            headline("volume", Q::Volume).on(PRODUCT),
+            headline("fill_percent", Q::Percent),
+            headline("days_of_supply", Q::Days),
+            secondary("days_to_reorder", Q::Days),
+        ],
+        // A command-line and stock-report calculator until the app's Stock view shows it.
+        in_app: false,
+        compute: compute::tank_volume,
         curve: None,
     },
 ];
