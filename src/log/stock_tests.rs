@@ -376,3 +376,40 @@ fn stock_rows_give_volume_days_and_reorder_date() {
     let alum = rows.iter().find(|r| r.tank == "alum-bulk-tank").unwrap();
     assert_eq!((alum.volume_l, alum.reorder_date), (None, None));
 }
+
+#[test]
+fn the_pdf_report_names_plant_period_and_totals() {
+    let dir = scratch("pdf");
+    let path = dir.0.join("november.doselog");
+    let catalog = Catalog::builtin().unwrap();
+    let site = SiteProfile::demo(&catalog).unwrap();
+    november::write(&path, &site.name, 0).unwrap();
+    let log = Log::open_read_only(&path).unwrap();
+    let (from, to) = (
+        NaiveDate::from_ymd_opt(2026, 11, 1).unwrap(),
+        NaiveDate::from_ymd_opt(2026, 11, 30).unwrap(),
+    );
+    let r = report::report_from_log(&log, &site, &catalog, from, to).unwrap();
+    let pdf = dir.0.join("november.pdf");
+    report::write_report(&r, report::Format::Pdf, &pdf).unwrap();
+    // Read back with an independent PDF reader.
+    let text = pdf_extract::extract_text(&pdf).unwrap();
+    let flat: String = text.split_whitespace().collect::<Vec<_>>().join(" ");
+    assert!(
+        flat.contains("Harrowmere Tarn Water Works (demo)"),
+        "{flat}"
+    );
+    assert!(flat.contains("Period: 2026-11-01 to 2026-11-30"), "{flat}");
+    // The month's water and product by hand from the plan, as the cover prints them.
+    let water_mg: f64 = (1..=30).map(Plan::water_gal).sum::<f64>() / 1e6;
+    assert!(
+        flat.contains(&format!("Water treated: {water_mg:.4} MG")),
+        "{flat}"
+    );
+    let used: f64 = (1..=30).map(|d| by_hand(d).0).sum();
+    assert!(
+        flat.contains(&format!("hypo-bulk: product used {used:.1} gal")),
+        "{flat}"
+    );
+    assert!(flat.contains("a licensed operator decides"), "{flat}");
+}
