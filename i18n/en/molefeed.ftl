@@ -827,3 +827,27 @@ path-finished = Finished water
 path-open = Open its calculator with the water arriving here
 path-plot = pH (solid line) and alkalinity (thin line) from the raw water to the finished water
 path-plot-alkalinity = alkalinity, mg/L as CaCO₃
+
+# Stock: tank volume and days of supply
+unit-l-per-day = L/d
+unit-gal-per-day = gal/d
+unit-d = d
+quantity-cone-height = cone height
+quantity-reorder-level = reorder level
+quantity-tank-height = tank height
+quantity-tank-level = tank level
+quantity-use-rate = use rate
+trace-days-of-supply = Days of supply
+tank-at-reorder-level = The tank holds { $volume } L, at or below its reorder level ({ $reorder_volume } L): order now.
+error-reason-strapping-table-invalid = A strapping table needs at least two points, levels rising and volumes never falling.
+error-reason-level-outside-strapping-table = The level is outside the tank's strapping table; the table is not extended beyond its points.
+error-reason-level-above-tank-height = The level is above the tank's full height.
+error-reason-cone-taller-than-tank = The cone's height must be less than the tank's full height.
+error-reason-tank-drop-needs-straight-sides = A level drop gives a volume only in a tank with straight sides; for this tank, read the volume at both levels.
+error-reason-site-has-no-such-tank = The site profile has no tank { $tank }.
+error-reason-tank-given-twice = The site's tank has its own dimensions; leave out { $input }.
+error-reason-strapping-needs-site-tank = A strapping table comes from the site profile: choose the site's tank.
+fed-dose-deviates = { $product } on { $date }: the dose fed by the tank readings is { $calculated } mg/L against { $logged } mg/L logged ({ $deviation } %). Check the pump, the tank readings and the totaliser.
+totalizer-went-back = Meter { $meter }: the totaliser reads less on { $date } than before; that day's water is left out.
+tank-rose-without-delivery = Tank { $tank } on { $date }: the level rose more than any delivery logged explains.
+delivery-not-converted = A delivery of { $product } in { $unit } could not be turned into a volume of product.

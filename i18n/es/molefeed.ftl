@@ -827,3 +827,27 @@ path-finished = Agua tratada
 path-open = Abrir su calculadora con el agua que llega aquí
 path-plot = pH (línea gruesa) y alcalinidad (línea fina) del agua cruda al agua tratada
 path-plot-alkalinity = alcalinidad, mg/L como CaCO₃
+
+# Stock: tank volume and days of supply
+unit-l-per-day = L/d
+unit-gal-per-day = gal/d
+unit-d = d
+quantity-cone-height = altura del cono
+quantity-reorder-level = nivel de pedido
+quantity-tank-height = altura del tanque
+quantity-tank-level = nivel del tanque
+quantity-use-rate = consumo
+trace-days-of-supply = Días de existencias
+tank-at-reorder-level = El tanque tiene { $volume } L, en o bajo su nivel de pedido ({ $reorder_volume } L): haga el pedido ahora.
+error-reason-strapping-table-invalid = Una tabla de aforo necesita al menos dos puntos, con niveles crecientes y volúmenes que nunca bajan.
+error-reason-level-outside-strapping-table = El nivel está fuera de la tabla de aforo del tanque; la tabla no se extiende más allá de sus puntos.
+error-reason-level-above-tank-height = El nivel está por encima de la altura total del tanque.
+error-reason-cone-taller-than-tank = La altura del cono debe ser menor que la altura total del tanque.
+error-reason-tank-drop-needs-straight-sides = Una bajada de nivel da un volumen solo en un tanque de paredes rectas; para este tanque, lea el volumen en ambos niveles.
+error-reason-site-has-no-such-tank = El perfil de la planta no tiene el tanque { $tank }.
+error-reason-tank-given-twice = El tanque de la planta tiene sus propias dimensiones; quite { $input }.
+error-reason-strapping-needs-site-tank = Una tabla de aforo viene del perfil de la planta: elija el tanque de la planta.
+fed-dose-deviates = { $product } el { $date }: la dosis alimentada según las lecturas del tanque es { $calculated } mg/L frente a { $logged } mg/L registrada ({ $deviation } %). Revise la bomba, las lecturas del tanque y el totalizador.
+totalizer-went-back = Medidor { $meter }: el totalizador marca menos el { $date } que antes; el agua de ese día no se cuenta.
+tank-rose-without-delivery = Tanque { $tank } el { $date }: el nivel subió más de lo que explica cualquier entrega registrada.
+delivery-not-converted = Una entrega de { $product } en { $unit } no se pudo convertir en volumen de producto.

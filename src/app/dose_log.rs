@@ -445,6 +445,23 @@ fn revision_of(record: crate::log::Record) -> Revision {
             dose_mg_per_l: None,
             note: None,
         },
+        // A dose's history holds no readings; shown plainly should one ever be asked for.
+        R::Reading(r) => Revision {
+            kind: RevisionKind::Logged,
+            when: utc_iso(&r.at),
+            operator: r.reading.operator().to_string(),
+            reason: String::new(),
+            dose_mg_per_l: None,
+            note: None,
+        },
+        R::ReadingCorrection(c) => Revision {
+            kind: RevisionKind::Corrected,
+            when: utc_iso(&c.at),
+            operator: c.reading.operator().to_string(),
+            reason: c.reason,
+            dose_mg_per_l: None,
+            note: None,
+        },
     }
 }
 

@@ -60,6 +60,13 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     // The calculator table's check of targets against the plant's limits.
     "site-limit-above",
     "site-limit-below",
+    // The stock: a tank at or below its reorder level.
+    "tank-at-reorder-level",
+    // The operating report's cross-check by tank drop and its gaps (`log::report`).
+    "fed-dose-deviates",
+    "totalizer-went-back",
+    "tank-rose-without-delivery",
+    "delivery-not-converted",
     "hazard-toxic-gas",
     "hazard-toxic-vapour",
     "hazard-corrosive",
@@ -181,6 +188,7 @@ pub fn extra_keys() -> Vec<String> {
 
 /// Trace labels (`trace-<label>`): the engine's named traces and the adapter's own.
 pub const TRACE_LABELS: &[&str] = &[
+    "days-of-supply",
     "product-feed",
     "product-strength",
     "ph-adjustment",
@@ -301,11 +309,24 @@ pub const ERROR_REASONS: &[&str] = &[
     "same-chemical-twice",
     "one-second-target-needed",
     "two-chemicals-needed",
+    "strapping-table-invalid",
+    "level-outside-strapping-table",
+    "level-above-tank-height",
+    "cone-taller-than-tank",
+    "tank-drop-needs-straight-sides",
+    "site-has-no-such-tank",
+    "tank-given-twice",
+    "strapping-needs-site-tank",
 ];
 
 /// The quantity names the engine puts in its errors (`quantity` parameter), exactly as it
 /// writes them; each is translated through [`quantity_key`].
 pub const QUANTITY_NAMES: &[&str] = &[
+    "cone height",
+    "reorder level",
+    "tank height",
+    "tank level",
+    "use rate",
     "Cl2:NH3-N ratio",
     "TDS",
     "additives",

@@ -14,6 +14,7 @@ use crate::engine::calculators::{
     shown_figures,
 };
 use crate::engine::dosing::site::SiteProfile;
+use crate::engine::dosing::units::LengthUnit;
 use crate::engine::precision::{range_beside, split_tolerance, tolerance_to_si};
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
 use crate::engine::sigfig::{Measured, format_sig};
@@ -193,16 +194,29 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
     Ok(out)
 }
 
-/// The unit an input's value was given in: its own `--NAME-unit`, else the `--units` system,
-/// else its only unit; a quantity with two units and neither flag is refused.
-fn unit_of(args: &Args, input: &Input, system: Option<UnitSystem>) -> Result<Unit, CliError> {
+/// The unit an input's value was given in: its own `--NAME-unit`, else its quantity's
+/// `--QUANTITY-unit` (`--length-unit ft` for every length of a tank), else the unit the site's
+/// tank is measured in, else the `--units` system (or the one system the other unit flags
+/// name), else its only unit; a quantity with two units and nothing to choose by is refused.
+fn unit_of(
+    args: &Args,
+    input: &Input,
+    system: Option<UnitSystem>,
+    defaults: &[Unit],
+) -> Result<Unit, CliError> {
     let units = input.quantity.units();
     // `--<name>-unit`, or the flag the trade writes for it (`--volume-unit`), not both.
     let own = format!("{}-unit", input.name);
     let flags: Vec<&str> = std::iter::once(own.as_str())
         .chain(input.unit_flag.filter(|f| *f != own))
         .collect();
-    if let Some((flag, code)) = one_of(args, &flags)? {
+    // Else the quantity's `--QUANTITY-unit`, shared by every input of that quantity.
+    let shared = format!("{}-unit", input.quantity.code());
+    let flag = match one_of(args, &flags)? {
+        Some(given) => Some(given),
+        None => args.text(&shared)?.map(|code| (shared, code)),
+    };
+    if let Some((flag, code)) = flag {
         return units
             .iter()
             .copied()
@@ -213,6 +227,9 @@ fn unit_of(args: &Args, input: &Input, system: Option<UnitSystem>) -> Result<Uni
                     unit_names(input.quantity).join(", ")
                 ))
             });
+    }
+    if let Some(u) = defaults.iter().find(|u| units.contains(u)) {
+        return Ok(*u);
     }
     match (units.as_slice(), system) {
         ([only], _) => Ok(*only),
@@ -238,6 +255,34 @@ fn one_of<'a>(args: &'a Args, flags: &[&str]) -> Result<Option<(String, &'a str)
                 )));
             }
             found = Some(((*flag).to_string(), v));
+        }
+    }
+    Ok(found)
+}
+
+/// The one unit system the unit flags given name (`--length-unit ft`: US), if they name one.
+fn system_of_flags(args: &Args, inputs: &[Input]) -> Result<Option<UnitSystem>, CliError> {
+    let mut found = None;
+    for input in inputs {
+        for flag in [
+            format!("{}-unit", input.name),
+            format!("{}-unit", input.quantity.code()),
+        ] {
+            let Some(code) = args.text(&flag)? else {
+                continue;
+            };
+            let unit = input
+                .quantity
+                .units()
+                .into_iter()
+                .find(|u| u.code() == code);
+            match (found, unit.and_then(|u| u.system())) {
+                (_, None) => {}
+                (None, Some(s)) => found = Some(s),
+                (Some(f), Some(s)) if f == s => {}
+                // Both systems named: nothing is implied.
+                (Some(_), Some(_)) => return Ok(None),
+            }
         }
     }
     Ok(found)
@@ -332,6 +377,7 @@ fn request(
 ) -> Result<(Request, Given), CliError> {
     let mut given = Given::default();
     let mut request = Request::new(calc);
+    // `--mode`, or the calculator's own named choice (`--shape`, `--route`).
     if let Some(mode) = mode_of(calc, args)? {
         request.mode = Some(mode);
     }
@@ -352,7 +398,14 @@ fn request(
             )));
         }
     };
-    given.system = system.unwrap_or(UnitSystem::Si);
+    // The lengths of the site's tank are in its own unit unless a flag says otherwise.
+    let mut defaults: Vec<Unit> = Vec::new();
+    let tank = args.text("tank")?;
+    if tank.is_some() && args.text("site")?.is_none() {
+        return Err(CliError::usage(
+            "--tank names a tank of the site profile: give --site FILE too",
+        ));
+    }
     if let Some(path) = args.text("site")? {
         let text = super::read_input_file(path, "site profile")?;
         let site = SiteProfile::from_json(&text, c.catalog())?;
@@ -367,12 +420,34 @@ fn request(
         // The site's meters and pumps for the engine's guards; `--pump ID` names the one used.
         request.site = Some(site.facts());
         request.pump = args.text("pump")?.map(str::to_string);
+        if let Some(id) = tank {
+            request.tank = Some(site.tank(id)?);
+            let unit = site
+                .day_tanks
+                .iter()
+                .find(|t| t.id == id)
+                .map(|t| t.length_unit);
+            defaults.extend(match unit {
+                Some(LengthUnit::Ft) => Some(Unit::Feet),
+                Some(LengthUnit::In) => Some(Unit::InchesOfLength),
+                Some(LengthUnit::M) => Some(Unit::Metres),
+                _ => None,
+            });
+        }
     }
+    let inputs = c.inputs(calc, request.product.as_deref());
+    // Without --units, the system the unit flags (or the site tank's unit) name sets the
+    // rest: --length-unit ft gives a use rate in gal/d.
+    let system = match system {
+        Some(s) => Some(s),
+        None => system_of_flags(args, &inputs)?.or(defaults.first().and_then(|u| u.system())),
+    };
+    given.system = system.unwrap_or(UnitSystem::Si);
     // The product's maximum use level from its certificate (mg/L of product), over the site's.
     if let Some(level) = args.number("max-use-level")? {
         request.max_use_level_mg_l = Some(level);
     }
-    for input in c.inputs(calc, request.product.as_deref()) {
+    for input in inputs {
         let names: Vec<&str> = std::iter::once(input.name)
             .chain(input.short_flag)
             .collect();
@@ -402,7 +477,7 @@ fn request(
             reason: Some("not-a-number"),
         };
         let value = Measured::parse(reading).map_err(|_| not_a_number(text))?;
-        let unit = unit_of(args, &input, system)?;
+        let unit = unit_of(args, &input, system, &defaults)?;
         request.values.insert(input.name, unit.to_si(value.value));
         if let Some(t) = tolerance {
             let t = Measured::parse(t)

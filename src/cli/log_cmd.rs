@@ -33,7 +33,7 @@ pub fn stream(args: &Args, json: bool, out: &mut dyn Write) -> Option<Result<(),
 pub fn run(args: &Args) -> CliResult {
     match args.required_positional(
         0,
-        "log command: append, list, history, export, merge, salvage or template",
+        "log command: append, list, history, export, merge, salvage, template, reading, delivery or report",
     )? {
         "template" => template(),
         "append" => append(args),
@@ -42,10 +42,13 @@ pub fn run(args: &Args) -> CliResult {
         "merge" => merge(args),
         "salvage" => salvage(args),
         "history" => history(args),
+        "reading" => super::stock_cmd::reading(args),
+        "delivery" => super::stock_cmd::delivery(args),
+        "report" => super::stock_cmd::report(args),
         // Not in the help: drives the crash test by appending until killed.
         "soak" => soak(args),
         other => Err(CliError::usage(format!(
-            "unknown log command '{other}'; try append, list, history, export, merge, salvage or template"
+            "unknown log command '{other}'; try append, list, history, export, merge, salvage, template, reading, delivery or report"
         ))),
     }
 }
@@ -140,6 +143,7 @@ fn query(args: &Args) -> Result<Query, CliError> {
         chemical: args.text("chemical")?.map(String::from),
         include_voided: args.switch("include-voided"),
         only: None,
+        readings: false,
     })
 }
 
@@ -333,6 +337,22 @@ fn history(args: &Args) -> CliResult {
                 v.id,
                 one_line(&v.operator),
                 one_line(&v.reason)
+            ),
+            log::Record::Reading(r) => format!(
+                "{}  reading     {} by {}{}\n",
+                r.at,
+                r.id,
+                one_line(r.reading.operator()),
+                r.entered_at
+                    .map(|e| format!(" (entered {e})"))
+                    .unwrap_or_default()
+            ),
+            log::Record::ReadingCorrection(c) => format!(
+                "{}  correction  {} by {}: {}\n",
+                c.at,
+                c.id,
+                one_line(c.reading.operator()),
+                one_line(&c.reason)
             ),
         })
         .collect();

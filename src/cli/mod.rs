@@ -13,6 +13,7 @@ mod calc;
 mod chemistry;
 mod log_cmd;
 mod path;
+mod stock_cmd;
 mod water;
 mod words;
 

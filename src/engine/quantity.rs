@@ -62,6 +62,10 @@ pub enum Quantity {
     Millimolar,
     /// Not a number: a list of water-engine chemical ids, in order (`--chemicals lime,carbon-dioxide`).
     Chemicals,
+    /// A volume used per day (a chemical's use from its tank). SI: L/d. US: gal/d.
+    VolumePerDay,
+    /// A count of days (days of supply). d in both systems.
+    Days,
 }
 
 /// The unit a value is shown in; `code()` is the translation-key stem (`unit-<code>`) and the
@@ -101,6 +105,12 @@ pub enum Unit {
     PercentWv,
     CubicMetres,
     MmolPerL,
+    LitresPerDay,
+    GallonsPerDay,
+    Days,
+    /// Inches of a length whose SI unit is the metre (a tank's level or dimension); the same
+    /// code as [`Unit::Inches`], which converts to millimetres for a diameter.
+    InchesOfLength,
 }
 
 /// m³ in one US gallon (exact by definition: 231 in³).
@@ -118,7 +128,7 @@ const KG_PER_T_PER_LB_PER_TON: f64 = 0.5;
 const G_PER_L_PER_PERCENT_WV: f64 = 10.0;
 
 impl Unit {
-    pub const ALL: [Unit; 33] = [
+    pub const ALL: [Unit; 37] = [
         Unit::CubicMetresPerDay,
         Unit::Mgd,
         Unit::MgPerL,
@@ -152,6 +162,10 @@ impl Unit {
         Unit::PercentWv,
         Unit::CubicMetres,
         Unit::MmolPerL,
+        Unit::LitresPerDay,
+        Unit::GallonsPerDay,
+        Unit::Days,
+        Unit::InchesOfLength,
     ];
 
     pub fn code(self) -> &'static str {
@@ -189,6 +203,42 @@ impl Unit {
             Unit::PercentWv => "percent-w-v",
             Unit::CubicMetres => "m3",
             Unit::MmolPerL => "mmol-per-l",
+            Unit::LitresPerDay => "l-per-day",
+            Unit::GallonsPerDay => "gal-per-day",
+            Unit::Days => "d",
+            Unit::InchesOfLength => "in",
+        }
+    }
+
+    /// The unit system a unit belongs to, where it belongs to one (ft, in, gal, lb: US; m,
+    /// L, kg: SI); `None` for a unit both use (mg/L, %, s).
+    pub fn system(self) -> Option<UnitSystem> {
+        match self {
+            Unit::Mgd
+            | Unit::Fahrenheit
+            | Unit::LbPerDay
+            | Unit::GallonsPerHour
+            | Unit::Gallons
+            | Unit::Feet
+            | Unit::Inches
+            | Unit::Pounds
+            | Unit::LbPerTon
+            | Unit::PercentWv
+            | Unit::GallonsPerDay
+            | Unit::InchesOfLength => Some(UnitSystem::Us),
+            Unit::CubicMetresPerDay
+            | Unit::Celsius
+            | Unit::KgPerDay
+            | Unit::LitresPerHour
+            | Unit::Litres
+            | Unit::Metres
+            | Unit::Millimetres
+            | Unit::Kilograms
+            | Unit::KgPerTonne
+            | Unit::GPerL
+            | Unit::CubicMetres
+            | Unit::LitresPerDay => Some(UnitSystem::Si),
+            _ => None,
         }
     }
 
@@ -234,6 +284,10 @@ impl Unit {
             Unit::PercentWv => "% w/v",
             Unit::CubicMetres => "m³",
             Unit::MmolPerL => "mmol/L",
+            Unit::LitresPerDay => "L/d",
+            Unit::GallonsPerDay => "gal/d",
+            Unit::Days => "d",
+            Unit::InchesOfLength => "in",
         }
     }
 
@@ -263,6 +317,8 @@ impl Unit {
             Unit::LbPerTon => v * KG_PER_T_PER_LB_PER_TON,
             Unit::PercentWv => v * G_PER_L_PER_PERCENT_WV,
             Unit::CubicMetres => v * 1000.0,
+            Unit::GallonsPerDay => v * M3_PER_GALLON * 1000.0,
+            Unit::InchesOfLength => v * MM_PER_INCH / 1000.0,
             _ => v,
         }
     }
@@ -281,6 +337,8 @@ impl Unit {
             Unit::LbPerTon => v / KG_PER_T_PER_LB_PER_TON,
             Unit::PercentWv => v / G_PER_L_PER_PERCENT_WV,
             Unit::CubicMetres => v / 1000.0,
+            Unit::GallonsPerDay => v / (M3_PER_GALLON * 1000.0),
+            Unit::InchesOfLength => v * 1000.0 / MM_PER_INCH,
             _ => v,
         }
     }
@@ -353,6 +411,10 @@ impl Quantity {
             Quantity::Millimolar => m(1e-6, 1e4),
             // A list is not a number: nothing to judge.
             Quantity::Chemicals => m(0.0, f64::INFINITY),
+            // 1 µL/d to 10⁹ L/d (a million m³ of chemical a day is no plant's).
+            Quantity::VolumePerDay => m(1e-6, 1e9),
+            // A supply of a minute to ~2700 years.
+            Quantity::Days => m(1e-6, 1e6),
         }
     }
 
@@ -367,7 +429,20 @@ impl Quantity {
         if self == Quantity::Volume {
             v.push(Unit::CubicMetres);
         }
+        // A tank's level and dimensions are as often read in inches as in feet.
+        if self == Quantity::Length {
+            v.push(Unit::InchesOfLength);
+        }
         v
+    }
+
+    /// The stable kebab-case code of the quantity (`length`, `volume-per-day`): a command
+    /// line's `--<code>-unit` sets the unit of every input of this quantity.
+    pub fn code(self) -> String {
+        serde_json::to_value(self)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default()
     }
 
     /// The SI unit the calculators take and give this quantity in.
@@ -413,6 +488,9 @@ impl Quantity {
             (Quantity::StockStrength, Us) => Unit::PercentWv,
             (Quantity::Millimolar, _) => Unit::MmolPerL,
             (Quantity::Chemicals, _) => Unit::NoUnit,
+            (Quantity::VolumePerDay, Si) => Unit::LitresPerDay,
+            (Quantity::VolumePerDay, Us) => Unit::GallonsPerDay,
+            (Quantity::Days, _) => Unit::Days,
         }
     }
 }
@@ -451,6 +529,9 @@ mod tests {
         // A pound per short ton (2000 lb) is 1/2000 by mass: 0.5 kg per 1000 kg.
         assert!((Unit::LbPerTon.to_si(10.0) - 5.0).abs() < 1e-12);
         assert!((Unit::CubicMetres.to_si(0.75) - 750.0).abs() < 1e-12);
+        // A tank level of 12 in is 1 ft = 0.3048 m; 100 gal/d is 378.5411784 L/d.
+        assert!((Unit::InchesOfLength.to_si(12.0) - 0.3048).abs() < 1e-15);
+        assert!((Unit::GallonsPerDay.to_si(100.0) - 378.5411784).abs() < 1e-9);
         assert_eq!(
             Quantity::Volume.units(),
             [Unit::Litres, Unit::Gallons, Unit::CubicMetres]

@@ -104,11 +104,11 @@ impl Index {
     pub fn root_slot(&self, id: u128) -> Option<u32> {
         let slot = self.slot_of(id)?;
         let s = &self.slots[slot as usize];
-        match s.kind {
-            Kind::Entry => Some(slot),
-            _ => self
-                .slot_of(s.root)
-                .filter(|&r| self.slots[r as usize].kind == Kind::Entry),
+        if s.kind.is_original() {
+            Some(slot)
+        } else {
+            self.slot_of(s.root)
+                .filter(|&r| self.slots[r as usize].kind.is_original())
         }
     }
 
@@ -120,12 +120,12 @@ impl Index {
         let refers = key.refers_to.map_or(0, |u| u.as_u128());
         // A revision of a revision counts against the original entry.
         let root = match self.slot_of(refers) {
-            Some(s) if self.slots[s as usize].kind != Kind::Entry => self.slots[s as usize].root,
+            Some(s) if !self.slots[s as usize].kind.is_original() => self.slots[s as usize].root,
             _ => refers,
         };
         let slot = Slot {
             id,
-            root: if key.kind == Kind::Entry { id } else { root },
+            root: if key.kind.is_original() { id } else { root },
             at_ms: key.at_ms,
             offset,
             len,
@@ -137,17 +137,16 @@ impl Index {
         let n = self.slots.len() as u32;
         self.slots.push(slot);
         self.by_id.insert(id, n);
-        match key.kind {
-            Kind::Entry => {
-                self.roots.push(n);
-                for revision in self.waiting.remove(&id).unwrap_or_default() {
-                    self.apply(n, revision);
-                }
+        if key.kind.is_original() {
+            self.roots.push(n);
+            for revision in self.waiting.remove(&id).unwrap_or_default() {
+                self.apply(n, revision);
             }
-            _ => match self.slot_of(slot.root) {
-                Some(r) if self.slots[r as usize].kind == Kind::Entry => self.apply(r, n),
+        } else {
+            match self.slot_of(slot.root) {
+                Some(r) if self.slots[r as usize].kind.is_original() => self.apply(r, n),
                 _ => self.waiting.entry(slot.root).or_default().push(n),
-            },
+            }
         }
         Inserted::New
     }
@@ -162,7 +161,7 @@ impl Index {
         if newer(state.latest) {
             state.latest = Some(revision);
         }
-        if new.kind == Kind::Correction && newer(state.latest_correction) {
+        if new.kind.is_correction() && newer(state.latest_correction) {
             state.latest_correction = Some(revision);
         }
     }
@@ -180,7 +179,7 @@ impl Index {
         let mut found: Vec<u32> = (0..self.slots.len() as u32)
             .filter(|&s| {
                 let slot = &self.slots[s as usize];
-                slot.kind != Kind::Entry && slot.root == root_id
+                !slot.kind.is_original() && slot.root == root_id
             })
             .collect();
         found.sort_by_key(|&s| self.slots[s as usize].order());

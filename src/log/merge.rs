@@ -170,9 +170,16 @@ impl Log {
         let Some(target) = revision.refers_to() else {
             return Ok(None);
         };
-        let site = |r: &record::Record| match r {
-            record::Record::Entry(e) => Some(e.site.clone()),
+        // Only an original (dose entry or reading) may be revised; a reading's correction
+        // must revise a reading and a dose's correction a dose entry.
+        let wanted = match revision {
+            record::Record::Correction(_) => Some(record::Kind::Entry),
+            record::Record::ReadingCorrection(_) => Some(record::Kind::Reading),
             _ => None,
+        };
+        let site = |r: &record::Record| {
+            (r.kind().is_original() && wanted.is_none_or(|k| k == r.kind()))
+                .then(|| r.site().to_string())
         };
         let target_site = match self.index.slot_of(target.as_u128()) {
             Some(slot) => site(&self.read_slot(slot)?),
@@ -185,14 +192,13 @@ impl Log {
                 }
             },
         };
-        let own_site = match revision {
-            record::Record::Correction(c) => &c.site,
-            record::Record::Void(v) => &v.site,
-            record::Record::Entry(_) => return Ok(None),
-        };
+        if revision.kind().is_original() {
+            return Ok(None);
+        }
+        let own_site = revision.site();
         Ok(match target_site {
             None => Some(format!(
-                "refers to {target}, which is a correction or void, not an entry"
+                "refers to {target}, which is a correction or void, or an original of the other kind (dose or reading)"
             )),
             Some(s) if s != *own_site => Some(format!(
                 "is for site '{own_site}' but refers to an entry of site '{s}'"

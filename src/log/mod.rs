@@ -26,7 +26,11 @@ pub mod export;
 pub mod frame;
 mod index;
 pub mod merge;
+#[doc(hidden)]
+pub mod november;
 pub mod record;
+pub mod report;
+mod report_pdf;
 mod salvage;
 #[doc(hidden)]
 pub mod sample;
@@ -36,7 +40,7 @@ pub use error::{Error, ErrorKind, Result};
 pub use frame::Span;
 pub use record::{
     Correction, CrossCheck, Dose, Draft, Entry, Kind, LoggedCaution, LoggedInput, LoggedResult,
-    ProductRef, Record, Setting, Void,
+    ProductRef, Reading, ReadingCorrection, ReadingEntry, Record, Setting, Void,
 };
 pub use salvage::{SalvageReport, salvage};
 
@@ -282,6 +286,33 @@ pub struct Query {
     /// entries its list shows, so an export holds exactly what the operator saw filtered —
     /// the list counts UTC days and searches free text, which the fields above cannot say.
     pub only: Option<std::collections::HashSet<Uuid>>,
+    /// Readings (tank levels, deliveries, totalisers, tap readings) instead of dose entries;
+    /// `tap` then filters on the thing read and `chemical` on what was read.
+    pub readings: bool,
+}
+
+impl Query {
+    fn kind(&self) -> Kind {
+        if self.readings {
+            Kind::Reading
+        } else {
+            Kind::Entry
+        }
+    }
+}
+
+/// A reading as it stands now: its latest correction applied.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ReadingView {
+    pub id: Uuid,
+    /// When it was taken.
+    pub at: DateTime<FixedOffset>,
+    /// When it was entered, if later than taken.
+    pub entered_at: Option<DateTime<FixedOffset>>,
+    pub site: String,
+    pub status: Status,
+    pub reading: Reading,
+    pub revisions: u32,
 }
 
 fn days_since_epoch(date: NaiveDate) -> i64 {
@@ -489,7 +520,14 @@ impl Log {
     /// record is on disk; on a storage failure the record stays in [`Log::pending`] and the
     /// error (with the `id` parameter) says why.
     pub fn append(&mut self, draft: Draft) -> Result<Uuid> {
-        let record = self.complete(draft)?;
+        self.append_at(draft, None)
+    }
+
+    /// [`Log::append`] with the time that stands for the device's clock: `None` is the clock
+    /// itself. A generator or an importer that replays a past day passes that day's time, so a
+    /// reading taken then is not "entered later".
+    pub fn append_at(&mut self, draft: Draft, now: Option<DateTime<FixedOffset>>) -> Result<Uuid> {
+        let record = self.complete(draft, now)?;
         let id = record.id();
         self.pending.push(record);
         self.retry_pending()
@@ -509,12 +547,49 @@ impl Log {
     }
 
     /// Turns a draft into a record: new id, this device, the time now unless given.
-    fn complete(&self, draft: Draft) -> Result<Record> {
+    fn complete(&self, draft: Draft, clock: Option<DateTime<FixedOffset>>) -> Result<Record> {
         let id = Uuid::now_v7();
         let device = self.device.clone();
         // Milliseconds are what the index keeps and more than a dose log needs.
-        let now = || chrono::Local::now().fixed_offset().trunc_subsecs(3);
+        let now = || clock.unwrap_or_else(|| chrono::Local::now().fixed_offset().trunc_subsecs(3));
         let record = match draft {
+            Draft::Reading { at, site, reading } => {
+                let entered = now();
+                Record::Reading(ReadingEntry {
+                    id,
+                    device,
+                    // A reading taken earlier is recorded at its own time and says when it
+                    // was entered.
+                    at: at.unwrap_or(entered),
+                    entered_at: at.filter(|a| *a != entered).map(|_| entered),
+                    site,
+                    reading,
+                })
+            }
+            Draft::ReadingCorrection {
+                at,
+                corrects,
+                reason,
+                reading,
+            } => {
+                let original = self.original_record(corrects)?;
+                let Record::Reading(original) = original else {
+                    return Err(Error::new(
+                        ErrorKind::UnknownReference,
+                        format!("{corrects} is a dose entry, not a reading: correct it as a dose"),
+                    )
+                    .with("id", corrects));
+                };
+                Record::ReadingCorrection(ReadingCorrection {
+                    id,
+                    device,
+                    at: at.unwrap_or_else(now),
+                    site: original.site,
+                    corrects: original.id,
+                    reason,
+                    reading,
+                })
+            }
             Draft::Entry { at, site, dose } => Record::Entry(Entry {
                 id,
                 device,
@@ -545,14 +620,15 @@ impl Log {
                 voids,
                 reason,
             } => {
-                let original = self.original(voids)?;
+                // A dose entry or a reading is voided the same way.
+                let original = self.original_record(voids)?;
                 Record::Void(Void {
                     id,
                     device,
                     at: at.unwrap_or_else(now),
-                    site: original.site,
+                    site: original.site().to_string(),
                     operator,
-                    voids: original.id,
+                    voids: original.id(),
                     reason,
                 })
             }
@@ -565,6 +641,18 @@ impl Log {
             ));
         }
         Ok(record)
+    }
+
+    /// The original record (dose entry or reading) behind any id of it.
+    fn original_record(&self, id: Uuid) -> Result<Record> {
+        let slot = self.index.root_slot(id.as_u128()).ok_or_else(|| {
+            Error::new(
+                ErrorKind::UnknownReference,
+                format!("no entry {id} in this log"),
+            )
+            .with("id", id)
+        })?;
+        self.read_slot(slot)
     }
 
     /// The original entry behind any id of it (entry or revision).
@@ -717,6 +805,10 @@ impl Log {
             .copied()
             .filter(|&r| {
                 let root = &self.index.slots[r as usize];
+                // Dose queries see dose entries; readings have their own (`Log::readings`).
+                if root.kind != query.kind() {
+                    return false;
+                }
                 let day = root.local_day();
                 if day < from || day > to {
                     return false;
@@ -767,7 +859,7 @@ impl Log {
                     at: v.at,
                     reason: v.reason,
                 }),
-                Record::Entry(_) => None,
+                _ => None,
             },
             None => None,
         };
@@ -858,6 +950,49 @@ impl Log {
             out.push(v);
             Ok(())
         })?;
+        Ok(out)
+    }
+
+    /// Matching readings as they stand now (latest correction applied), oldest first; voided
+    /// ones only with `include_voided`. The query's `readings` is implied.
+    pub fn readings(&self, query: &Query) -> Result<Vec<ReadingView>> {
+        let query = Query {
+            readings: true,
+            ..query.clone()
+        };
+        let mut window = frame::Window::new(self.storage.as_ref())
+            .map_err(|e| Error::io("reading", &self.name, &e))?;
+        let mut out = Vec::new();
+        for root in self.matching_roots(&query) {
+            let Record::Reading(original) = self.read_slot_in(&mut window, root)? else {
+                return Err(Error::new(
+                    ErrorKind::InvalidEntry,
+                    "index points at a revision",
+                ));
+            };
+            let revisions = self.index.revisions(root);
+            let reading = match revisions.latest_correction {
+                Some(s) => match self.read_slot_in(&mut window, s)? {
+                    Record::ReadingCorrection(c) => c.reading,
+                    _ => original.reading,
+                },
+                None => original.reading,
+            };
+            let status = match revisions.latest {
+                None => Status::Original,
+                Some(s) if self.index.slots[s as usize].kind == Kind::Void => Status::Voided,
+                Some(_) => Status::Corrected,
+            };
+            out.push(ReadingView {
+                id: original.id,
+                at: original.at,
+                entered_at: original.entered_at,
+                site: original.site,
+                status,
+                reading,
+                revisions: revisions.count,
+            });
+        }
         Ok(out)
     }
 
@@ -983,5 +1118,7 @@ fn sync_dir(_dir: &Path) -> io::Result<()> {
     Ok(())
 }
 
+#[cfg(test)]
+mod stock_tests;
 #[cfg(test)]
 mod tests;

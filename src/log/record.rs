@@ -18,8 +18,12 @@ use chrono::{DateTime, FixedOffset};
 use serde::{Deserialize, Serialize};
 use uuid::Uuid;
 
-/// The payload layout this build writes.
+/// The payload layout this build writes for dose entries, their corrections and voids.
 pub const RECORD_VERSION: u8 = 2;
+/// The layout of the stock and plant readings (kinds 4 and 5): the same key, a reading body.
+/// A build that knows only version 2 reports such a record as newer than it reads, rather
+/// than as damage, and keeps reading the doses around it.
+pub const RECORD_VERSION_3: u8 = 3;
 /// The first layout: read and converted, never written.
 pub const RECORD_VERSION_1: u8 = 1;
 
@@ -423,14 +427,202 @@ pub enum Record {
     Entry(Entry),
     Correction(Correction),
     Void(Void),
+    /// A tank level, a delivery, a totaliser or a tap reading (record version 3).
+    Reading(ReadingEntry),
+    /// A reading as it should read, replacing an earlier one (record version 3).
+    #[serde(rename = "reading-correction")]
+    ReadingCorrection(ReadingCorrection),
 }
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[serde(rename_all = "kebab-case")]
 pub enum Kind {
     Entry = 1,
     Correction = 2,
     Void = 3,
+    Reading = 4,
+    ReadingCorrection = 5,
+}
+
+impl Kind {
+    /// An original record (a dose entry or a reading), which revisions refer to.
+    pub fn is_original(self) -> bool {
+        matches!(self, Kind::Entry | Kind::Reading)
+    }
+
+    /// A revision that replaces the content (a dose's or a reading's correction).
+    pub fn is_correction(self) -> bool {
+        matches!(self, Kind::Correction | Kind::ReadingCorrection)
+    }
+}
+
+/// What an operator read or received, besides doses: the stock and the plant's own numbers.
+/// Ids are the site profile's (tank, meter, tap, delivered product); units are as read.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "what", rename_all = "kebab-case", deny_unknown_fields)]
+pub enum Reading {
+    /// A tank's level from its lowest point, in the tank's length unit (`ft`, `in`, `m`).
+    TankLevel {
+        operator: String,
+        tank: String,
+        level: f64,
+        unit: String,
+    },
+    /// Product received into the plant's stock (`gal`, `l`, `lb`, `kg`), with the number of
+    /// the delivery note.
+    Delivery {
+        operator: String,
+        product: String,
+        amount: f64,
+        unit: String,
+        #[serde(default)]
+        note_number: String,
+    },
+    /// A flow meter's totaliser, in the meter's totaliser unit (`gal`, `l`, `m3`).
+    Totalizer {
+        operator: String,
+        meter: String,
+        value: f64,
+        unit: String,
+    },
+    /// A parameter read at a sampling tap (pH, chlorine, fluoride, turbidity …).
+    AtTap {
+        operator: String,
+        tap: String,
+        parameter: String,
+        value: f64,
+        unit: String,
+    },
+}
+
+/// The units each reading may be recorded in.
+pub const LEVEL_UNITS: [&str; 3] = ["ft", "in", "m"];
+pub const DELIVERY_UNITS: [&str; 4] = ["gal", "l", "lb", "kg"];
+pub const TOTALIZER_UNITS: [&str; 3] = ["gal", "l", "m3"];
+
+impl Reading {
+    pub fn operator(&self) -> &str {
+        match self {
+            Reading::TankLevel { operator, .. }
+            | Reading::Delivery { operator, .. }
+            | Reading::Totalizer { operator, .. }
+            | Reading::AtTap { operator, .. } => operator,
+        }
+    }
+
+    /// The index key's two names: the thing read (tank, product, meter, tap) and what was read
+    /// (`level`, `delivery`, `totalizer`, or the tap's parameter).
+    pub fn key_names(&self) -> (&str, &str) {
+        match self {
+            Reading::TankLevel { tank, .. } => (tank, "level"),
+            Reading::Delivery { product, .. } => (product, "delivery"),
+            Reading::Totalizer { meter, .. } => (meter, "totalizer"),
+            Reading::AtTap { tap, parameter, .. } => (tap, parameter),
+        }
+    }
+
+    /// Refuses what would make a stock or operating report wrong: empty ids, bad initials,
+    /// non-finite or negative amounts, units the report cannot convert.
+    pub fn validate(&self) -> Result<()> {
+        initials(self.operator())?;
+        let (thing, what) = self.key_names();
+        required("tap", thing)?;
+        required("chemical", what)?;
+        let unit_in = |unit: &str, allowed: &[&str]| {
+            if allowed.contains(&unit) {
+                Ok(())
+            } else {
+                Err(invalid(
+                    "unit",
+                    format!("unit '{unit}' must be one of {}", allowed.join(", ")),
+                ))
+            }
+        };
+        match self {
+            Reading::TankLevel { level, unit, .. } => {
+                non_negative("level", *level)?;
+                unit_in(unit, &LEVEL_UNITS)?;
+            }
+            Reading::Delivery {
+                amount,
+                unit,
+                note_number,
+                ..
+            } => {
+                non_negative("amount", *amount)?;
+                if *amount == 0.0 {
+                    return Err(invalid(
+                        "amount",
+                        "a delivery of nothing is no delivery".into(),
+                    ));
+                }
+                unit_in(unit, &DELIVERY_UNITS)?;
+                if note_number.len() > MAX_NAME {
+                    return Err(invalid(
+                        "note_number",
+                        "the delivery note number is too long".into(),
+                    ));
+                }
+            }
+            Reading::Totalizer { value, unit, .. } => {
+                non_negative("value", *value)?;
+                unit_in(unit, &TOTALIZER_UNITS)?;
+            }
+            Reading::AtTap { value, unit, .. } => {
+                finite("value", "value", *value)?;
+                if unit.len() > MAX_NAME {
+                    return Err(invalid("unit", "the unit is too long".into()));
+                }
+            }
+        }
+        Ok(())
+    }
+}
+
+/// A reading as first logged. `at` is when it was taken; `entered_at`, when the operator
+/// recorded it later than that (the same or the previous day), so the record says so.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ReadingEntry {
+    pub id: Uuid,
+    pub device: String,
+    pub at: DateTime<FixedOffset>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub entered_at: Option<DateTime<FixedOffset>>,
+    pub site: String,
+    pub reading: Reading,
+}
+
+/// A later statement that a reading should read differently, and why.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ReadingCorrection {
+    pub id: Uuid,
+    pub device: String,
+    pub at: DateTime<FixedOffset>,
+    pub site: String,
+    /// The original reading (never another correction).
+    pub corrects: Uuid,
+    pub reason: String,
+    pub reading: Reading,
+}
+
+/// How far back a reading may be recorded: the same or the previous local day of the time it
+/// is entered, and not after it (one minute of clock difference allowed).
+pub fn check_backdated(at: DateTime<FixedOffset>, entered_at: DateTime<FixedOffset>) -> Result<()> {
+    let days = entered_at
+        .date_naive()
+        .signed_duration_since(at.with_timezone(entered_at.offset()).date_naive())
+        .num_days();
+    if at > entered_at + chrono::Duration::minutes(1) || !(0..=1).contains(&days) {
+        return Err(invalid(
+            "at",
+            format!(
+                "a reading may be recorded for an earlier time of the same or the previous day, not {at} (entered {entered_at})"
+            ),
+        ));
+    }
+    Ok(())
 }
 
 impl Record {
@@ -439,6 +631,8 @@ impl Record {
             Record::Entry(e) => e.id,
             Record::Correction(c) => c.id,
             Record::Void(v) => v.id,
+            Record::Reading(r) => r.id,
+            Record::ReadingCorrection(c) => c.id,
         }
     }
 
@@ -447,6 +641,18 @@ impl Record {
             Record::Entry(e) => e.at,
             Record::Correction(c) => c.at,
             Record::Void(v) => v.at,
+            Record::Reading(r) => r.at,
+            Record::ReadingCorrection(c) => c.at,
+        }
+    }
+
+    pub fn site(&self) -> &str {
+        match self {
+            Record::Entry(e) => &e.site,
+            Record::Correction(c) => &c.site,
+            Record::Void(v) => &v.site,
+            Record::Reading(r) => &r.site,
+            Record::ReadingCorrection(c) => &c.site,
         }
     }
 
@@ -455,15 +661,18 @@ impl Record {
             Record::Entry(_) => Kind::Entry,
             Record::Correction(_) => Kind::Correction,
             Record::Void(_) => Kind::Void,
+            Record::Reading(_) => Kind::Reading,
+            Record::ReadingCorrection(_) => Kind::ReadingCorrection,
         }
     }
 
     /// The entry this record revises, for corrections and voids.
     pub fn refers_to(&self) -> Option<Uuid> {
         match self {
-            Record::Entry(_) => None,
+            Record::Entry(_) | Record::Reading(_) => None,
             Record::Correction(c) => Some(c.corrects),
             Record::Void(v) => Some(v.voids),
+            Record::ReadingCorrection(c) => Some(c.corrects),
         }
     }
 
@@ -471,7 +680,16 @@ impl Record {
         match self {
             Record::Entry(e) => Some(&e.dose),
             Record::Correction(c) => Some(&c.dose),
-            Record::Void(_) => None,
+            _ => None,
+        }
+    }
+
+    /// The reading of a reading or its correction.
+    pub fn reading(&self) -> Option<&Reading> {
+        match self {
+            Record::Reading(r) => Some(&r.reading),
+            Record::ReadingCorrection(c) => Some(&c.reading),
+            _ => None,
         }
     }
 
@@ -481,6 +699,8 @@ impl Record {
             Record::Entry(e) => (&e.device, &e.site),
             Record::Correction(c) => (&c.device, &c.site),
             Record::Void(v) => (&v.device, &v.site),
+            Record::Reading(r) => (&r.device, &r.site),
+            Record::ReadingCorrection(c) => (&c.device, &c.site),
         };
         required("device", device)?;
         required("site", site)?;
@@ -490,10 +710,19 @@ impl Record {
                 required("reason", &v.reason)?;
                 initials(&v.operator)?;
             }
+            Record::ReadingCorrection(c) => required("reason", &c.reason)?,
+            Record::Reading(r) => {
+                if let Some(entered) = r.entered_at {
+                    check_backdated(r.at, entered)?;
+                }
+            }
             Record::Entry(_) => {}
         }
         if let Some(dose) = self.dose() {
             dose.validate()?;
+        }
+        if let Some(reading) = self.reading() {
+            reading.validate()?;
         }
         Ok(())
     }
@@ -592,9 +821,10 @@ const FIXED_KEY: usize = 1 + 1 + 16 + 8 + 2 + 16;
 
 /// The key a record's body implies: the only key it may be stored or imported with.
 pub fn key_of(record: &Record) -> Key<'_> {
-    let (tap, chemical) = match record.dose() {
-        Some(d) => (d.tap.as_str(), d.chemical.as_str()),
-        None => ("", ""),
+    let (tap, chemical) = match (record.dose(), record.reading()) {
+        (Some(d), _) => (d.tap.as_str(), d.chemical.as_str()),
+        (None, Some(r)) => r.key_names(),
+        (None, None) => ("", ""),
     };
     let at = record.at();
     Key {
@@ -613,7 +843,10 @@ pub fn encode(record: &Record) -> Vec<u8> {
     let key = key_of(record);
     let (tap, chemical) = (key.tap, key.chemical);
     let mut out = Vec::with_capacity(FIXED_KEY + 4 + tap.len() + chemical.len() + 768);
-    out.push(RECORD_VERSION);
+    out.push(match key.kind {
+        Kind::Reading | Kind::ReadingCorrection => RECORD_VERSION_3,
+        _ => RECORD_VERSION,
+    });
     out.push(key.kind as u8);
     out.extend_from_slice(key.id.as_bytes());
     out.extend_from_slice(&key.at_ms.to_le_bytes());
@@ -629,6 +862,8 @@ pub fn encode(record: &Record) -> Vec<u8> {
         Record::Entry(e) => serde_json::to_writer(&mut out, e),
         Record::Correction(c) => serde_json::to_writer(&mut out, c),
         Record::Void(v) => serde_json::to_writer(&mut out, v),
+        Record::Reading(r) => serde_json::to_writer(&mut out, r),
+        Record::ReadingCorrection(c) => serde_json::to_writer(&mut out, c),
     };
     // Serialising plain structs of strings and finite numbers into a Vec cannot fail.
     debug_assert!(json.is_ok());
@@ -639,7 +874,7 @@ pub fn encode(record: &Record) -> Vec<u8> {
 pub fn decode_key(payload: &[u8]) -> std::result::Result<(Key<'_>, &[u8]), PayloadError> {
     let malformed = |why: &str| PayloadError::Malformed(why.to_string());
     let version = *payload.first().ok_or_else(|| malformed("empty payload"))?;
-    if version != RECORD_VERSION && version != RECORD_VERSION_1 {
+    if version != RECORD_VERSION && version != RECORD_VERSION_1 && version != RECORD_VERSION_3 {
         return Err(PayloadError::UnsupportedVersion(version));
     }
     if payload.len() < FIXED_KEY {
@@ -649,8 +884,16 @@ pub fn decode_key(payload: &[u8]) -> std::result::Result<(Key<'_>, &[u8]), Paylo
         1 => Kind::Entry,
         2 => Kind::Correction,
         3 => Kind::Void,
+        4 => Kind::Reading,
+        5 => Kind::ReadingCorrection,
         _ => return Err(malformed("unknown record kind")),
     };
+    // Readings exist from version 3 on, and version 3 holds nothing else.
+    if kind_version_mismatch(kind, version) {
+        return Err(malformed(
+            "record kind does not belong to its record version",
+        ));
+    }
     let uuid_at = |at: usize| {
         let mut bytes = [0u8; 16];
         bytes.copy_from_slice(&payload[at..at + 16]);
@@ -673,7 +916,7 @@ pub fn decode_key(payload: &[u8]) -> std::result::Result<(Key<'_>, &[u8]), Paylo
         *name = std::str::from_utf8(bytes).map_err(|_| malformed("key name is not UTF-8"))?;
         rest = &rest[2 + len..];
     }
-    let refers_to = (kind != Kind::Entry).then_some(refers);
+    let refers_to = (!kind.is_original()).then_some(refers);
     let key = Key {
         kind,
         id,
@@ -684,6 +927,14 @@ pub fn decode_key(payload: &[u8]) -> std::result::Result<(Key<'_>, &[u8]), Paylo
         chemical: names[1],
     };
     Ok((key, rest))
+}
+
+fn kind_version_mismatch(kind: Kind, version: u8) -> bool {
+    match kind {
+        Kind::Reading | Kind::ReadingCorrection => version != RECORD_VERSION_3,
+        Kind::Entry | Kind::Correction => version == RECORD_VERSION_3,
+        Kind::Void => false,
+    }
 }
 
 /// Decodes a whole payload back into its record.
@@ -706,8 +957,12 @@ pub fn decode(payload: &[u8]) -> std::result::Result<Record, PayloadError> {
         ),
         (Kind::Entry, _) => Record::Entry(serde_json::from_str(json).map_err(bad)?),
         (Kind::Correction, _) => Record::Correction(serde_json::from_str(json).map_err(bad)?),
-        // A void has the same body in both versions.
+        // A void has the same body in every version.
         (Kind::Void, _) => Record::Void(serde_json::from_str(json).map_err(bad)?),
+        (Kind::Reading, _) => Record::Reading(serde_json::from_str(json).map_err(bad)?),
+        (Kind::ReadingCorrection, _) => {
+            Record::ReadingCorrection(serde_json::from_str(json).map_err(bad)?)
+        }
     };
     // Queries filter on the key alone: a key naming another day, tap or chemical than the
     // body would list the record where date and tap queries cannot find it.
@@ -791,6 +1046,21 @@ pub enum Draft {
         operator: String,
         voids: Uuid,
         reason: String,
+    },
+    /// A reading; `at` earlier than now (the same or the previous day) is recorded as such.
+    Reading {
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        at: Option<DateTime<FixedOffset>>,
+        site: String,
+        reading: Reading,
+    },
+    #[serde(rename = "reading-correction")]
+    ReadingCorrection {
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        at: Option<DateTime<FixedOffset>>,
+        corrects: Uuid,
+        reason: String,
+        reading: Reading,
     },
 }
 

@@ -474,6 +474,7 @@ fn queries_by_date_tap_chemical_and_latest_per_point() {
                 chemical: chemical.map(String::from),
                 include_voided: false,
                 only: None,
+                readings: false,
             })
             .unwrap();
         views.into_iter().map(|v| v.dose.note).collect::<Vec<_>>()

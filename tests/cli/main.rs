@@ -12,5 +12,6 @@ mod numbers_cli;
 mod other_feeds_cli;
 mod output_cli;
 mod parity_cli;
+mod stock_cli;
 mod support;
 mod water_cli;

@@ -37,11 +37,14 @@ use crate::engine::{Error, ErrorKind, Result};
 mod plant_feeds;
 // Two chemicals for two targets at one point.
 mod two_targets;
+// The chemical on hand: a tank's volume at a level and its days of supply.
+mod stock;
 #[cfg(test)]
 pub(super) use plant_feeds::alkalinity_per_mg_n;
 pub(super) use plant_feeds::{
     ALKALIS, jar_test, main_disinfection, nitrification_alkalinity, phosphorus_removal, polymer,
 };
+pub(super) use stock::tank_volume;
 pub(super) use two_targets::two_targets;
 
 /// Points on a drawn titration curve.

@@ -28,6 +28,7 @@ pub use table::TABLE;
 use super::dosing::catalog::{Catalog, Form, Product, StrengthBasis};
 use super::dosing::caution::{self, Caution};
 use super::dosing::site::{self, Limit, SiteFacts};
+use super::dosing::tank::Tank;
 use super::dosing::{NamedTrace, Severity};
 use super::quantity::Quantity;
 use super::sigfig::{combine, count_sig_figs, format_sig};
@@ -480,6 +481,9 @@ pub struct Request {
     pub lists: BTreeMap<&'static str, Vec<String>>,
     /// The text inputs given (a compound's formula), by name (see [`TextInput`]).
     pub texts: BTreeMap<&'static str, String>,
+    /// The site's tank a tank calculation is for (`SiteProfile::tank`): its own shape,
+    /// height, strapping table and reorder level, in SI.
+    pub tank: Option<Tank>,
 }
 
 impl Request {

@@ -278,7 +278,7 @@ const RESIDUAL_BASIS: &str = "residual-basis";
 /// Modes the trade chooses by a named choice of their own (`--residual-basis p`, `--route
 /// acid-chlorite`), each beside its calculator's entry below: the choice's values and the mode
 /// each stands for. A calculator not listed is given its mode by `--mode`.
-pub static MODE_CHOICES: [ModeChoice; 2] = [
+pub static MODE_CHOICES: [ModeChoice; 3] = [
     ModeChoice {
         calculator: "corrosion-inhibitor",
         name: RESIDUAL_BASIS,
@@ -296,9 +296,21 @@ pub static MODE_CHOICES: [ModeChoice; 2] = [
             ("acid-chlorite", "acid-chlorite"),
         ],
     },
+    // A tank calculator's modes are its shapes.
+    ModeChoice {
+        calculator: "tank-volume",
+        name: "shape",
+        values: &[
+            ("vertical-cylinder", "vertical-cylinder"),
+            ("horizontal-cylinder", "horizontal-cylinder"),
+            ("rectangular", "rectangular"),
+            ("cone-bottom", "cone-bottom"),
+            ("strapping", "strapping"),
+        ],
+    },
 ];
 
-pub static TABLE: [Calculator; 21] = [
+pub static TABLE: [Calculator; 22] = [
     Calculator {
         id: "ph-adjustment",
         group: "ph-adjustment",
@@ -919,6 +931,42 @@ pub static TABLE: [Calculator; 21] = [
         ],
         in_app: false,
         compute: compute::two_targets,
+        curve: None,
+    },
+    // The chemical on hand (stock): a tank's volume at a level and its days of supply.
+    Calculator {
+        id: "tank-volume",
+        group: "stock",
+        // The tank's shape, by its dimensions; or the site's tank (its own shape or strapping
+        // table). Levels from the lowest point; a cone bottom's height from its tip.
+        modes: &[
+            "vertical-cylinder",
+            "horizontal-cylinder",
+            "rectangular",
+            "cone-bottom",
+            "strapping",
+        ],
+        inputs: &[
+            optional(own("diameter", Q::Length)),
+            optional(own("length", Q::Length)),
+            optional(own("width", Q::Length)),
+            optional(own("height", Q::Length)),
+            optional(own("cone-height", Q::Length)),
+            own("level", Q::Length),
+            optional(own("reorder-level", Q::Length)),
+            optional(based(own("use-rate", Q::VolumePerDay), PRODUCT)),
+        ],
+        product_inputs: ProductInputs::None,
+        offer: Offer::None,
+        results: &[
+            headline("volume", Q::Volume).on(PRODUCT),
+            headline("fill_percent", Q::Percent),
+            headline("days_of_supply", Q::Days),
+            secondary("days_to_reorder", Q::Days),
+        ],
+        // A command-line and stock-report calculator until the app's Stock view shows it.
+        in_app: false,
+        compute: compute::tank_volume,
         curve: None,
     },
 ];

@@ -18,6 +18,7 @@ pub mod neutralization;
 pub mod pumpcheck;
 pub mod site;
 pub mod softening;
+pub mod tank;
 pub mod units;
 pub mod waterside;
 

@@ -19,14 +19,9 @@ use crate::engine::sigfig::{Measured, combine};
 use crate::engine::trace::{Origin, Quantity, Trace};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::Serialize;
-use std::f64::consts::PI;
 
-/// Day-tank shape for a level-drop test.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub enum TankShape {
-    VerticalCylinder { diameter: f64 },
-    Rectangular { length: f64, width: f64 },
-}
+/// Day-tank shape for a level-drop test: the one tank geometry of [`super::tank`].
+pub use super::tank::TankShape;
 
 /// What was measured.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -182,17 +177,20 @@ pub fn measured_rate(m: &Measurement, sg: Option<Measured>) -> Result<Trace> {
             check_positive("level drop", drop.value, "")?;
             check_positive("test time", minutes.value, "min")?;
             let dm = unit.decimetres();
-            let area_dm2 = match shape {
-                TankShape::VerticalCylinder { diameter } => {
-                    check_positive("tank diameter", diameter, "")?;
-                    PI / 4.0 * (diameter * dm).powi(2)
-                }
-                TankShape::Rectangular { length, width } => {
-                    check_positive("tank length", length, "")?;
-                    check_positive("tank width", width, "")?;
-                    length * dm * width * dm
-                }
-            };
+            shape.check()?;
+            // A drop's volume is the plan area times the drop only where the section is the
+            // same at every level; elsewhere it depends on where the level stood.
+            let area = shape.plan_area().ok_or_else(|| {
+                Error::new(
+                    ErrorKind::InvalidInput,
+                    format!(
+                        "a level drop in a {} tank needs its start level; use the tank's volume at both levels",
+                        shape.code()
+                    ),
+                )
+                .because("tank-drop-needs-straight-sides")
+            })?;
+            let area_dm2 = area * dm * dm;
             t = Trace::new(
                 Quantity::new(drop.value * dm / minutes.value, "dm/min"),
                 Origin::Measured,

@@ -10,6 +10,7 @@ use super::catalog::{
     Catalog, Form, Strength, StrengthBasis, check_sg, check_sg_against_strength, check_strength,
 };
 use super::feed::{PumpKind, UsableRange};
+use super::tank::{Geometry, Strapping, Tank, TankShape};
 use super::units::{Flow, FlowUnit, LengthUnit, UnitSystem, VolumeUnit};
 use crate::engine::precision::{Instrument, Precision, precisions_from_codes};
 use crate::engine::sigfig::{Measured, count_sig_figs};
@@ -26,6 +27,10 @@ pub struct FlowMeter {
     pub unit: FlowUnit,
     /// Full-scale reading, in `unit`.
     pub max: f64,
+    /// The unit its totaliser counts the water in (`gal`, `l`, `m3`), if it has one: the
+    /// log's totaliser readings on this meter are in it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub totalizer_unit: Option<VolumeUnit>,
 }
 
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
@@ -90,9 +95,22 @@ pub struct Pump {
 #[serde(rename_all = "kebab-case")]
 pub enum DayTankShape {
     VerticalCylinder,
+    HorizontalCylinder,
     Rectangular,
+    ConeBottom,
+    /// The volume comes from the tank's own strapping table.
+    Strapping,
 }
 
+/// A tank maker's chart: levels in the tank's `length_unit`, volumes in `volume_unit`.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct StrappingTable {
+    pub volume_unit: VolumeUnit,
+    /// `[level, volume]` pairs, levels rising.
+    pub points: Vec<[f64; 2]>,
+}
+
+/// A day or bulk tank of the plant, dimensions in `length_unit`.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct DayTank {
     pub id: String,
@@ -104,7 +122,126 @@ pub struct DayTank {
     pub length: Option<f64>,
     #[serde(default)]
     pub width: Option<f64>,
+    /// Full height from the lowest point (a cone bottom's tip); a horizontal cylinder's is its
+    /// diameter.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub height: Option<f64>,
+    /// A cone bottom's cone part of the height.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cone_height: Option<f64>,
     pub length_unit: LengthUnit,
+    /// Id of the delivered product the tank holds.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub product: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub strapping: Option<StrappingTable>,
+    /// The level (in `length_unit`) at which the plant reorders.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reorder_level: Option<f64>,
+}
+
+impl DayTank {
+    /// The tank's shape in its own length unit (`None` for a strapping-table tank); a
+    /// missing dimension is refused, naming the tank.
+    pub fn shape(&self) -> Result<Option<TankShape>> {
+        let need = |v: Option<f64>| {
+            v.ok_or_else(|| {
+                invalid(
+                    "tank-dimension-missing",
+                    format!("tank '{}' is missing a dimension", self.id),
+                    &self.id,
+                )
+            })
+        };
+        Ok(Some(match self.shape {
+            DayTankShape::VerticalCylinder => TankShape::VerticalCylinder {
+                diameter: need(self.diameter)?,
+            },
+            DayTankShape::HorizontalCylinder => TankShape::HorizontalCylinder {
+                diameter: need(self.diameter)?,
+                length: need(self.length)?,
+            },
+            DayTankShape::Rectangular => TankShape::Rectangular {
+                length: need(self.length)?,
+                width: need(self.width)?,
+            },
+            DayTankShape::ConeBottom => TankShape::ConeBottom {
+                diameter: need(self.diameter)?,
+                cone_height: need(self.cone_height)?,
+            },
+            DayTankShape::Strapping => return Ok(None),
+        }))
+    }
+
+    /// Metres per unit of the tank's lengths (exact: 1 in = 2.54 cm).
+    pub fn metres(&self) -> f64 {
+        self.length_unit.decimetres() / 10.0
+    }
+
+    /// The tank in SI (metres, litres) for the volume at a level: its shape and full height,
+    /// or its strapping table.
+    pub fn tank(&self) -> Result<Tank> {
+        let m = self.metres();
+        let geometry = match self.shape()? {
+            Some(shape) => {
+                let si = match shape {
+                    TankShape::VerticalCylinder { diameter } => TankShape::VerticalCylinder {
+                        diameter: diameter * m,
+                    },
+                    TankShape::HorizontalCylinder { diameter, length } => {
+                        TankShape::HorizontalCylinder {
+                            diameter: diameter * m,
+                            length: length * m,
+                        }
+                    }
+                    TankShape::Rectangular { length, width } => TankShape::Rectangular {
+                        length: length * m,
+                        width: width * m,
+                    },
+                    TankShape::ConeBottom {
+                        diameter,
+                        cone_height,
+                    } => TankShape::ConeBottom {
+                        diameter: diameter * m,
+                        cone_height: cone_height * m,
+                    },
+                };
+                Geometry::shape(si, self.height.map(|h| h * m))
+                    .map_err(|e| e.with("entry", &self.id))?
+            }
+            None => {
+                let table = self.strapping.as_ref().ok_or_else(|| {
+                    invalid(
+                        "tank-dimension-missing",
+                        format!("tank '{}' has no strapping table", self.id),
+                        &self.id,
+                    )
+                })?;
+                let litres = table.volume_unit.litres();
+                Geometry::Strapping(
+                    Strapping::new(
+                        table
+                            .points
+                            .iter()
+                            .map(|[level, volume]| (level * m, volume * litres))
+                            .collect(),
+                    )
+                    .map_err(|e| e.with("entry", &self.id))?,
+                )
+            }
+        };
+        if let Some(r) = self.reorder_level {
+            check_range("reorder level", r, 0.0, f64::MAX, self.length_unit.symbol())
+                .map_err(|e| e.with("entry", &self.id))?;
+        }
+        Ok(Tank {
+            id: self.id.clone(),
+            name: self.name.clone(),
+            product: self.product.clone(),
+            geometry,
+            reorder_level: self.reorder_level.map(|r| r * m),
+        })
+    }
 }
 
 /// Where along the plant an application point sits, in the order the water meets them.
@@ -482,20 +619,18 @@ impl SiteProfile {
             }
         }
         self.pump_usable_range_percent.validate()?;
+        unique("tank", self.day_tanks.iter().map(|t| t.id.as_str()))?;
         for t in &self.day_tanks {
-            let dims: &[Option<f64>] = match t.shape {
-                DayTankShape::VerticalCylinder => &[t.diameter],
-                DayTankShape::Rectangular => &[t.length, t.width],
-            };
-            for d in dims {
-                let v = d.ok_or_else(|| {
-                    invalid(
-                        "tank-dimension-missing",
-                        format!("day tank '{}' is missing a dimension", t.id),
-                        &t.id,
-                    )
-                })?;
-                check_positive("tank dimension", v, "").map_err(|e| e.with("entry", &t.id))?;
+            // An older profile names a day tank by its plan only (for the level-drop test):
+            // its height is needed only for a volume, so only the plan is required here.
+            if let Some(shape) = t.shape()? {
+                shape.check().map_err(|e| e.with("entry", &t.id))?;
+            }
+            if t.height.is_some() || t.shape()?.is_none() {
+                t.tank()?;
+            }
+            if let Some(p) = &t.product {
+                self.delivered(p).map_err(|e| e.with("entry", &t.id))?;
             }
         }
         for l in &self.limits {
@@ -613,6 +748,22 @@ impl SiteProfile {
             .because("site-has-no-such-pump")
             .with("pump", id)
         })
+    }
+
+    /// The tank `id` in SI, for its volume at a level.
+    pub fn tank(&self, id: &str) -> Result<Tank> {
+        self.day_tanks
+            .iter()
+            .find(|t| t.id == id)
+            .ok_or_else(|| {
+                Error::new(
+                    ErrorKind::InvalidInput,
+                    format!("no tank '{id}' in the site profile"),
+                )
+                .because("site-has-no-such-tank")
+                .with("tank", id)
+            })?
+            .tank()
     }
 
     /// The first pump feeding a delivered product.

@@ -369,6 +369,15 @@ impl LengthUnit {
         })
     }
 
+    pub fn symbol(self) -> &'static str {
+        match self {
+            LengthUnit::Ft => "ft",
+            LengthUnit::In => "in",
+            LengthUnit::M => "m",
+            LengthUnit::Cm => "cm",
+        }
+    }
+
     /// Decimetres per unit, because 1 dm³ = 1 L (exact: 1 in = 2.54 cm).
     pub fn decimetres(self) -> f64 {
         match self {

@@ -1,0 +1,861 @@
+//! What was really fed, the stock on hand, and the monthly operating report: pure functions
+//! over the log's readings and doses and the site profile.
+//!
+//! Design choice: nothing here reads a file or a clock. The caller (CLI, app) queries the log
+//! and hands over the readings and dose views; the functions answer plain values the front ends
+//! print, plot or write. Volumes come from the engine's one tank geometry
+//! ([`crate::engine::dosing::tank`]) and active mass from the engine's strength chain
+//! (`active_to_product`), so a tank drop is turned into product and active chemical exactly as
+//! the feed calculator turns a dose into product.
+//!
+//! How a day is counted: a tank's or meter's use between two consecutive readings belongs to
+//! the local day of the first of them, so with one morning round the day's use is "this
+//! morning to tomorrow morning" for tanks and totalisers alike, and the last day of a month
+//! is closed by the next month's first reading (the caller passes readings up to one day past
+//! the period). Product used = the tank's volume drop + the product delivered in between;
+//! a delivery is counted with the first tank the site names for its product.
+
+use crate::engine::dosing::catalog::{Catalog, active_to_product};
+use crate::engine::dosing::caution::{Caution, Severity};
+use crate::engine::dosing::pumpcheck::Tolerance;
+use crate::engine::dosing::site::SiteProfile;
+use crate::engine::dosing::units::{LengthUnit, UnitSystem};
+use crate::engine::trace::{Origin, Quantity, Trace};
+use crate::log::{Reading, ReadingView, Status, View};
+use chrono::{DateTime, FixedOffset, NaiveDate};
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// L in one US gallon (exact by definition: 231 in³).
+pub const L_PER_GAL: f64 = 3.785_411_784;
+/// kg in one avoirdupois pound (exact by definition).
+pub const KG_PER_LB: f64 = 0.453_592_37;
+/// L in one million US gallons.
+pub const L_PER_MG: f64 = L_PER_GAL * 1.0e6;
+
+/// Minimum, maximum, average and count of some values.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct Stats {
+    pub min: f64,
+    pub max: f64,
+    pub avg: f64,
+    pub count: u32,
+}
+
+impl Stats {
+    fn of(values: &[f64]) -> Option<Stats> {
+        if values.is_empty() {
+            return None;
+        }
+        let sum: f64 = values.iter().sum();
+        Some(Stats {
+            min: values.iter().copied().fold(f64::INFINITY, f64::min),
+            max: values.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+            avg: sum / values.len() as f64,
+            count: values.len() as u32,
+        })
+    }
+}
+
+/// One product on one day.
+#[derive(Clone, Debug, Default, PartialEq, Serialize)]
+pub struct ProductDay {
+    /// Product used, L (tank drop + deliveries); `None` without two level readings.
+    pub product_used_l: Option<f64>,
+    /// Product delivered, L.
+    pub delivered_l: f64,
+    /// Active chemical used, kg, as the product's dose compound.
+    pub active_used_kg: Option<f64>,
+    /// Active used ÷ water treated, mg/L.
+    pub calculated_dose_mg_l: Option<f64>,
+    /// The doses logged from the calculators that day (mg/L).
+    pub logged_dose: Option<Stats>,
+    /// The logged pump or feeder settings that day (%).
+    pub logged_setting: Option<Stats>,
+    /// (calculated − logged average) / logged average, %.
+    pub deviation_percent: Option<f64>,
+}
+
+/// A tap reading beyond a limit of the site (its permit, else the regulatory default).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Exceedance {
+    pub date: NaiveDate,
+    pub tap: String,
+    pub parameter: String,
+    pub value: f64,
+    /// `above` or `below`.
+    pub side: &'static str,
+    pub limit: f64,
+    pub source: String,
+}
+
+/// One day of the report.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Day {
+    pub date: NaiveDate,
+    /// Water treated (totaliser differences), L.
+    pub water_treated_l: Option<f64>,
+    /// By delivered product id.
+    pub products: BTreeMap<String, ProductDay>,
+    /// By (tap, parameter).
+    pub taps: BTreeMap<(String, String), Stats>,
+    pub exceedances: Vec<Exceedance>,
+}
+
+impl Day {
+    fn has_data(&self) -> bool {
+        self.water_treated_l.is_some()
+            || !self.taps.is_empty()
+            || self.products.values().any(|p| {
+                p.product_used_l.is_some() || p.logged_dose.is_some() || p.delivered_l > 0.0
+            })
+    }
+}
+
+/// A product's month.
+#[derive(Clone, Debug, Default, PartialEq, Serialize)]
+pub struct ProductTotal {
+    pub product_used_l: f64,
+    pub delivered_l: f64,
+    pub active_used_kg: f64,
+    /// Σ active ÷ Σ water over the days that have both, mg/L.
+    pub calculated_dose_mg_l: Option<f64>,
+    /// Every dose logged in the period (mg/L).
+    pub logged_dose: Option<Stats>,
+}
+
+#[derive(Clone, Debug, Default, PartialEq, Serialize)]
+pub struct Totals {
+    pub water_treated_l: f64,
+    pub products: BTreeMap<String, ProductTotal>,
+    pub days_with_data: u32,
+    /// Corrections and voids of the period's entries and readings.
+    pub corrections: u32,
+    pub voids: u32,
+    pub exceedances: u32,
+}
+
+/// The operating report of a period.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Report {
+    pub plant: String,
+    pub from: NaiveDate,
+    pub to: NaiveDate,
+    pub units: UnitSystem,
+    pub days: Vec<Day>,
+    pub totals: Totals,
+    /// The cross-check of the pumps by tank drop, gaps in the readings.
+    pub cautions: Vec<Caution>,
+}
+
+/// What the report is computed from. `readings` should reach one day past `to` (the readings
+/// that close the last day) and include voided ones (they are counted, not used).
+pub struct Sources<'a> {
+    pub site: &'a SiteProfile,
+    pub catalog: &'a Catalog,
+    pub readings: &'a [ReadingView],
+    pub doses: &'a [View],
+    pub from: NaiveDate,
+    pub to: NaiveDate,
+    /// The bands of the pump cross-check (common practice default: ±5 %, ±25 %).
+    pub tolerance: Tolerance,
+}
+
+fn day_of(at: &DateTime<FixedOffset>) -> NaiveDate {
+    at.date_naive()
+}
+
+fn metres(unit: &str) -> Option<f64> {
+    LengthUnit::parse(unit).ok().map(|u| u.decimetres() / 10.0)
+}
+
+/// Litres of product from a delivery or a level; `l_per_kg` turns a mass of product into its
+/// volume (from the product's density); `None` for a unit it cannot convert.
+fn litres(amount: f64, unit: &str, l_per_kg: Option<f64>) -> Option<f64> {
+    match unit {
+        "gal" => Some(amount * L_PER_GAL),
+        "l" => Some(amount),
+        "m3" => Some(amount * 1000.0),
+        "kg" => l_per_kg.map(|f| amount * f),
+        "lb" => l_per_kg.map(|f| amount * KG_PER_LB * f),
+        _ => None,
+    }
+}
+
+/// Per delivered product: kg of active per L of product and L per kg of product, through the
+/// catalog's strength chain for 1 kg/d of active (the feed calculator's conversion).
+fn strength_factors(src: &Sources<'_>, delivered_id: &str) -> Option<(f64, Option<f64>)> {
+    let d = src.site.delivered(delivered_id).ok()?;
+    let p = src.catalog.product(&d.product).ok()?;
+    let one = Trace::new(
+        Quantity::of(1.0, "kg/d", &p.dose_as),
+        Origin::Measured,
+        None,
+    );
+    let per = active_to_product(src.catalog, p, &d.strength(), one).ok()?;
+    let l_per_active_kg = per.product_l_per_day?;
+    Some((
+        1.0 / l_per_active_kg,
+        Some(l_per_active_kg / per.product_kg_per_day),
+    ))
+}
+
+fn live(readings: &[ReadingView]) -> impl Iterator<Item = &ReadingView> {
+    readings.iter().filter(|r| r.status != Status::Voided)
+}
+
+/// The report: per day water treated, product and active used, calculated and logged doses,
+/// tap readings and exceedances; the month's totals; the cautions of the cross-check.
+pub fn report(src: &Sources<'_>) -> Report {
+    let mut cautions = Vec::new();
+    let in_period = |d: NaiveDate| d >= src.from && d <= src.to;
+    let mut days: BTreeMap<NaiveDate, Day> = src
+        .from
+        .iter_days()
+        .take_while(|d| *d <= src.to)
+        .map(|date| {
+            (
+                date,
+                Day {
+                    date,
+                    water_treated_l: None,
+                    products: BTreeMap::new(),
+                    taps: BTreeMap::new(),
+                    exceedances: Vec::new(),
+                },
+            )
+        })
+        .collect();
+
+    // Water treated: each totalising meter's differences, by the day of the earlier reading.
+    for meter in src
+        .site
+        .flow_meters
+        .iter()
+        .filter(|m| m.totalizer_unit.is_some())
+    {
+        let mut series: Vec<(DateTime<FixedOffset>, f64)> = live(src.readings)
+            .filter_map(|r| match &r.reading {
+                Reading::Totalizer {
+                    meter: m,
+                    value,
+                    unit,
+                    ..
+                } if *m == meter.id => Some((r.at, litres(*value, unit, None)?)),
+                _ => None,
+            })
+            .collect();
+        series.sort_by_key(|s| s.0);
+        for w in series.windows(2) {
+            let ((t1, v1), (_, v2)) = (w[0], w[1]);
+            let date = day_of(&t1);
+            if !in_period(date) {
+                continue;
+            }
+            if v2 < v1 {
+                cautions.push(
+                    Caution::warning("totalizer-went-back")
+                        .with("meter", &meter.id)
+                        .with("date", date),
+                );
+                continue;
+            }
+            if let Some(day) = days.get_mut(&date) {
+                *day.water_treated_l.get_or_insert(0.0) += v2 - v1;
+            }
+        }
+    }
+
+    // Product used: each tank's drop between readings plus what was delivered in between.
+    let mut counted_deliveries = std::collections::HashSet::new();
+    for tank in &src.site.day_tanks {
+        let (Some(product), Ok(geometry)) = (&tank.product, tank.tank()) else {
+            continue;
+        };
+        let factors = strength_factors(src, product);
+        let l_per_kg = factors.and_then(|f| f.1);
+        let mut series: Vec<(DateTime<FixedOffset>, f64)> = live(src.readings)
+            .filter_map(|r| match &r.reading {
+                Reading::TankLevel {
+                    tank: t,
+                    level,
+                    unit,
+                    ..
+                } if *t == tank.id => {
+                    let v = geometry.geometry.volume_l(level * metres(unit)?).ok()?;
+                    Some((r.at, v))
+                }
+                _ => None,
+            })
+            .collect();
+        series.sort_by_key(|s| s.0);
+        for w in series.windows(2) {
+            let ((t1, v1), (t2, v2)) = (w[0], w[1]);
+            let date = day_of(&t1);
+            let mut delivered = 0.0;
+            for r in live(src.readings) {
+                if let Reading::Delivery {
+                    product: p,
+                    amount,
+                    unit,
+                    ..
+                } = &r.reading
+                    && p == product
+                    && r.at > t1
+                    && r.at <= t2
+                    && counted_deliveries.insert(r.id)
+                {
+                    match litres(*amount, unit, l_per_kg) {
+                        Some(l) => delivered += l,
+                        None => cautions.push(
+                            Caution::warning("delivery-not-converted")
+                                .with("product", product)
+                                .with("unit", unit),
+                        ),
+                    }
+                }
+            }
+            if !in_period(date) {
+                continue;
+            }
+            let used = v1 - v2 + delivered;
+            if used < 0.0 {
+                cautions.push(
+                    Caution::warning("tank-rose-without-delivery")
+                        .with("tank", &tank.id)
+                        .with("date", date),
+                );
+            }
+            let Some(day) = days.get_mut(&date) else {
+                continue;
+            };
+            let p = day.products.entry(product.clone()).or_default();
+            *p.product_used_l.get_or_insert(0.0) += used;
+            p.delivered_l += delivered;
+        }
+    }
+
+    // Doses logged from the calculators, by the site product of their catalog product.
+    for v in src.doses.iter().filter(|v| v.status != Status::Voided) {
+        let date = day_of(&v.at);
+        let Some(day) = days.get_mut(&date) else {
+            continue;
+        };
+        let Some(catalog_id) = v.dose.product.as_ref().map(|p| p.id.as_str()) else {
+            continue;
+        };
+        let Some(delivered) = src.site.delivered_of(catalog_id) else {
+            continue;
+        };
+        day.products.entry(delivered.id.clone()).or_default();
+    }
+    let doses_of = |date: NaiveDate, delivered_id: &str| -> (Vec<f64>, Vec<f64>) {
+        let catalog_id = src
+            .site
+            .delivered(delivered_id)
+            .map(|d| d.product.as_str())
+            .unwrap_or_default();
+        let mut doses = Vec::new();
+        let mut settings = Vec::new();
+        for v in src.doses.iter().filter(|v| v.status != Status::Voided) {
+            if day_of(&v.at) != date
+                || v.dose.product.as_ref().map(|p| p.id.as_str()) != Some(catalog_id)
+            {
+                continue;
+            }
+            if let Some(r) = v.dose.result("dose").filter(|r| r.unit == "mg/L") {
+                doses.push(r.value);
+            }
+            if let Some(s) = &v.dose.setting {
+                settings.push(s.percent);
+            }
+        }
+        (doses, settings)
+    };
+
+    for day in days.values_mut() {
+        let water = day.water_treated_l;
+        let date = day.date;
+        for (id, p) in day.products.iter_mut() {
+            let factors = strength_factors(src, id);
+            if let (Some(used), Some((active_per_l, _))) = (p.product_used_l, factors) {
+                let active = used * active_per_l;
+                p.active_used_kg = Some(active);
+                // kg → mg is 10⁶; mg per L of water treated.
+                p.calculated_dose_mg_l = water.filter(|w| *w > 0.0).map(|w| active * 1.0e6 / w);
+            }
+            let (doses, settings) = doses_of(date, id);
+            p.logged_dose = Stats::of(&doses);
+            p.logged_setting = Stats::of(&settings);
+            if let (Some(calc), Some(logged)) = (p.calculated_dose_mg_l, p.logged_dose)
+                && logged.avg > 0.0
+            {
+                let dev = (calc - logged.avg) / logged.avg * 100.0;
+                p.deviation_percent = Some(dev);
+                if dev.abs() > src.tolerance.within_percent {
+                    let severity = if dev.abs() > src.tolerance.check_pump_percent {
+                        Severity::Danger
+                    } else {
+                        Severity::Warning
+                    };
+                    cautions.push(
+                        Caution::new(severity, "fed-dose-deviates")
+                            .with("product", id)
+                            .with("date", date)
+                            .with("calculated", format!("{calc:.3}"))
+                            .with("logged", format!("{:.3}", logged.avg))
+                            .with("deviation", format!("{dev:.1}")),
+                    );
+                }
+            }
+        }
+    }
+
+    // Tap readings: statistics per tap and parameter, and each reading beyond a limit.
+    let mut tap_values: BTreeMap<(NaiveDate, String, String), Vec<f64>> = BTreeMap::new();
+    for r in live(src.readings) {
+        let Reading::AtTap {
+            tap,
+            parameter,
+            value,
+            ..
+        } = &r.reading
+        else {
+            continue;
+        };
+        let date = day_of(&r.at);
+        let Some(day) = days.get_mut(&date) else {
+            continue;
+        };
+        tap_values
+            .entry((date, tap.clone(), parameter.clone()))
+            .or_default()
+            .push(*value);
+        if let Some(limit) = src.site.effective_limit(parameter) {
+            let beyond = match (limit.min, limit.max) {
+                (_, Some(max)) if *value > max => Some(("above", max)),
+                (Some(min), _) if *value < min => Some(("below", min)),
+                _ => None,
+            };
+            if let Some((side, bound)) = beyond {
+                day.exceedances.push(Exceedance {
+                    date,
+                    tap: tap.clone(),
+                    parameter: parameter.clone(),
+                    value: *value,
+                    side,
+                    limit: bound,
+                    source: limit.source.clone(),
+                });
+            }
+        }
+    }
+    for ((date, tap, parameter), values) in tap_values {
+        if let (Some(day), Some(stats)) = (days.get_mut(&date), Stats::of(&values)) {
+            day.taps.insert((tap, parameter), stats);
+        }
+    }
+
+    let days: Vec<Day> = days.into_values().collect();
+    let totals = totals(src, &days);
+    Report {
+        plant: src.site.name.clone(),
+        from: src.from,
+        to: src.to,
+        units: src.site.units,
+        days,
+        totals,
+        cautions,
+    }
+}
+
+fn totals(src: &Sources<'_>, days: &[Day]) -> Totals {
+    let mut t = Totals::default();
+    let mut dosed_water: BTreeMap<String, (f64, f64)> = BTreeMap::new();
+    for day in days {
+        t.water_treated_l += day.water_treated_l.unwrap_or(0.0);
+        t.days_with_data += u32::from(day.has_data());
+        t.exceedances += day.exceedances.len() as u32;
+        for (id, p) in &day.products {
+            let total = t.products.entry(id.clone()).or_default();
+            total.product_used_l += p.product_used_l.unwrap_or(0.0);
+            total.delivered_l += p.delivered_l;
+            total.active_used_kg += p.active_used_kg.unwrap_or(0.0);
+            if let (Some(a), Some(w)) = (p.active_used_kg, day.water_treated_l) {
+                let e = dosed_water.entry(id.clone()).or_default();
+                e.0 += a;
+                e.1 += w;
+            }
+        }
+    }
+    for (id, total) in t.products.iter_mut() {
+        total.calculated_dose_mg_l = dosed_water
+            .get(id)
+            .filter(|(_, w)| *w > 0.0)
+            .map(|(a, w)| a * 1.0e6 / w);
+    }
+    // The logged doses' own minimum and maximum over the month, not the days' averages.
+    for (id, total) in t.products.iter_mut() {
+        let catalog_id = src.site.delivered(id).map(|d| d.product.clone()).ok();
+        let values: Vec<f64> = src
+            .doses
+            .iter()
+            .filter(|v| v.status != Status::Voided)
+            .filter(|v| {
+                let d = day_of(&v.at);
+                d >= src.from && d <= src.to
+            })
+            .filter(|v| v.dose.product.as_ref().map(|p| p.id.clone()) == catalog_id)
+            .filter_map(|v| {
+                v.dose
+                    .result("dose")
+                    .filter(|r| r.unit == "mg/L")
+                    .map(|r| r.value)
+            })
+            .collect();
+        total.logged_dose = Stats::of(&values);
+    }
+    let period = |at: &DateTime<FixedOffset>| {
+        let d = day_of(at);
+        d >= src.from && d <= src.to
+    };
+    let revisions = src
+        .doses
+        .iter()
+        .filter(|v| period(&v.at))
+        .map(|v| (v.status, v.revisions))
+        .chain(
+            src.readings
+                .iter()
+                .filter(|r| period(&r.at))
+                .map(|r| (r.status, r.revisions)),
+        );
+    for (status, count) in revisions {
+        let voided = u32::from(status == Status::Voided);
+        t.voids += voided;
+        t.corrections += count.saturating_sub(voided);
+    }
+    t
+}
+
+/// A tank's stock now: its last level, the volume, fill, use rate, days of supply and the
+/// reorder date. `today` is the caller's (the engine and the log have no clock).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct StockRow {
+    pub tank: String,
+    pub name: String,
+    pub product: Option<String>,
+    pub level_at: Option<DateTime<FixedOffset>>,
+    /// As read, in `level_unit`.
+    pub level: Option<f64>,
+    pub level_unit: String,
+    pub volume_l: Option<f64>,
+    pub fill_percent: Option<f64>,
+    /// Average product used per day over the last `window_days` days with data, L/d.
+    pub use_rate_l_per_day: Option<f64>,
+    pub days_of_supply: Option<f64>,
+    pub reorder_date: Option<NaiveDate>,
+}
+
+/// The Stock view's rows: one per tank of the site, from the latest level reading and the use
+/// of the `window_days` days before `today`.
+pub fn stock_rows(
+    site: &SiteProfile,
+    catalog: &Catalog,
+    readings: &[ReadingView],
+    today: NaiveDate,
+    window_days: u32,
+) -> Vec<StockRow> {
+    let from = today - chrono::Days::new(u64::from(window_days.max(1)));
+    let src = Sources {
+        site,
+        catalog,
+        readings,
+        doses: &[],
+        from,
+        to: today,
+        tolerance: Tolerance::default(),
+    };
+    let recent = report(&src);
+    site.day_tanks
+        .iter()
+        .map(|t| {
+            let last = live(readings)
+                .filter(|r| matches!(&r.reading, Reading::TankLevel { tank, .. } if *tank == t.id))
+                .max_by_key(|r| r.at);
+            let level = last.and_then(|r| match &r.reading {
+                Reading::TankLevel { level, unit, .. } => Some((*level, unit.clone())),
+                _ => None,
+            });
+            let tank = t.tank().ok();
+            let volume = match (&tank, &level) {
+                (Some(tank), Some((l, unit))) => {
+                    metres(unit).and_then(|m| tank.geometry.volume_l(l * m).ok())
+                }
+                _ => None,
+            };
+            let capacity = tank.as_ref().and_then(|t| t.geometry.capacity_l().ok());
+            let used: Vec<f64> = t
+                .product
+                .as_ref()
+                .map(|p| {
+                    recent
+                        .days
+                        .iter()
+                        .filter_map(|d| d.products.get(p).and_then(|x| x.product_used_l))
+                        .collect()
+                })
+                .unwrap_or_default();
+            let rate = (!used.is_empty())
+                .then(|| used.iter().sum::<f64>() / used.len() as f64)
+                .filter(|r| *r > 0.0);
+            let days = volume.zip(rate).map(|(v, r)| v / r);
+            let reorder_volume = tank
+                .as_ref()
+                .and_then(|t| t.reorder_level.and_then(|r| t.geometry.volume_l(r).ok()));
+            let reorder_date = match (volume, reorder_volume, rate) {
+                (Some(v), Some(rv), Some(r)) => {
+                    crate::engine::dosing::tank::date_after(today, ((v - rv) / r).max(0.0))
+                }
+                _ => None,
+            };
+            StockRow {
+                tank: t.id.clone(),
+                name: t.name.clone(),
+                product: t.product.clone(),
+                level_at: last.map(|r| r.at),
+                level: level.as_ref().map(|l| l.0),
+                level_unit: t.length_unit.symbol().to_string(),
+                volume_l: volume,
+                fill_percent: volume.zip(capacity).map(|(v, c)| v / c * 100.0),
+                use_rate_l_per_day: rate,
+                days_of_supply: days,
+                reorder_date,
+            }
+        })
+        .collect()
+}
+
+/// A value in the site's unit system: L → gal for a US plant.
+pub fn volume_in(units: UnitSystem, litres: f64) -> f64 {
+    match units {
+        UnitSystem::Us => litres / L_PER_GAL,
+        UnitSystem::Si => litres,
+    }
+}
+
+/// The report as the `--json` shape: `days` (date, water treated in MG, per product the
+/// product used in the site's volume unit, active lb and calculated dose) and `totals`.
+pub fn to_json(r: &Report) -> serde_json::Value {
+    use serde_json::json;
+    let unit = match r.units {
+        UnitSystem::Us => "gal",
+        UnitSystem::Si => "L",
+    };
+    let product = |p: &ProductDay| {
+        json!({
+            "product_used": p.product_used_l.map(|l| volume_in(r.units, l)),
+            "active_used_lb": p.active_used_kg.map(|kg| kg / KG_PER_LB),
+            "calculated_dose_mg_l": p.calculated_dose_mg_l,
+            "delivered": volume_in(r.units, p.delivered_l),
+            "logged_dose_mg_l": p.logged_dose,
+            "logged_setting_percent": p.logged_setting,
+            "deviation_percent": p.deviation_percent,
+        })
+    };
+    let days: Vec<serde_json::Value> = r
+        .days
+        .iter()
+        .map(|d| {
+            let products: serde_json::Map<String, serde_json::Value> = d
+                .products
+                .iter()
+                .map(|(id, p)| (id.clone(), product(p)))
+                .collect();
+            let taps: Vec<serde_json::Value> = d
+                .taps
+                .iter()
+                .map(|((tap, parameter), s)| {
+                    json!({"tap": tap, "parameter": parameter, "min": s.min, "max": s.max, "avg": s.avg, "count": s.count})
+                })
+                .collect();
+            json!({
+                "date": d.date.to_string(),
+                "water_treated_mg": d.water_treated_l.map(|l| l / L_PER_MG),
+                "products": products,
+                "taps": taps,
+                "exceedances": d.exceedances,
+            })
+        })
+        .collect();
+    let products: serde_json::Map<String, serde_json::Value> = r
+        .totals
+        .products
+        .iter()
+        .map(|(id, p)| {
+            (
+                id.clone(),
+                json!({
+                    "product_used": volume_in(r.units, p.product_used_l),
+                    "delivered": volume_in(r.units, p.delivered_l),
+                    "active_used_lb": p.active_used_kg / KG_PER_LB,
+                    "calculated_dose_mg_l": p.calculated_dose_mg_l,
+                    "logged_dose_mg_l": p.logged_dose,
+                }),
+            )
+        })
+        .collect();
+    json!({
+        "plant": r.plant,
+        "from": r.from.to_string(),
+        "to": r.to.to_string(),
+        "product_used_unit": unit,
+        "days": days,
+        "totals": {
+            "water_treated_mg": r.totals.water_treated_l / L_PER_MG,
+            "products": products,
+            "days_with_data": r.totals.days_with_data,
+            "corrections": r.totals.corrections,
+            "voids": r.totals.voids,
+            "exceedances": r.totals.exceedances,
+        },
+        "cautions": r.cautions.iter().map(|c| json!({"severity": c.severity, "key": c.key, "params": c.params})).collect::<Vec<_>>(),
+        "advisory": ADVISORY,
+    })
+}
+
+/// The advisory every report carries.
+pub const ADVISORY: &str = "Advisory only: the calculated doses come from tank readings, deliveries and totaliser readings as logged; a licensed operator decides the feed, under the plant's permit and local codes.";
+
+/// The daily table as CSV (RFC 4180, text defused like the log's export): one row per day and
+/// product, water in MG, product in the site's volume unit, active in lb.
+pub fn to_csv(r: &Report) -> String {
+    let unit = match r.units {
+        UnitSystem::Us => "gal",
+        UnitSystem::Si => "L",
+    };
+    let mut out = format!(
+        "date,water_treated_MG,product,product_used_{unit},delivered_{unit},active_used_lb,calculated_dose_mg_per_L,logged_dose_avg_mg_per_L,logged_dose_min_mg_per_L,logged_dose_max_mg_per_L,deviation_percent\r\n"
+    );
+    let num = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_default();
+    for d in &r.days {
+        let water = d.water_treated_l.map(|l| l / L_PER_MG);
+        if d.products.is_empty() {
+            out.push_str(&format!("{},{},,,,,,,,,\r\n", d.date, num(water)));
+        }
+        for (id, p) in &d.products {
+            out.push_str(&format!(
+                "{},{},{},{},{},{},{},{},{},{},{}\r\n",
+                d.date,
+                num(water),
+                super::export::csv_text(id),
+                num(p.product_used_l.map(|l| volume_in(r.units, l))),
+                volume_in(r.units, p.delivered_l),
+                num(p.active_used_kg.map(|kg| kg / KG_PER_LB)),
+                num(p.calculated_dose_mg_l),
+                num(p.logged_dose.map(|s| s.avg)),
+                num(p.logged_dose.map(|s| s.min)),
+                num(p.logged_dose.map(|s| s.max)),
+                num(p.deviation_percent),
+            ));
+        }
+    }
+    out.push_str(&format!(
+        "total,{},,,,,,,,,\r\n",
+        r.totals.water_treated_l / L_PER_MG
+    ));
+    out
+}
+
+/// The report of `from..=to` from an open log: its readings up to one day past `to` (they
+/// close the last day), voided ones included for the count, and its dose entries.
+pub fn report_from_log(
+    log: &super::Log,
+    site: &SiteProfile,
+    catalog: &Catalog,
+    from: NaiveDate,
+    to: NaiveDate,
+) -> super::Result<Report> {
+    let readings = log.readings(&super::Query {
+        from: Some(from),
+        to: to.checked_add_days(chrono::Days::new(1)),
+        include_voided: true,
+        ..super::Query::default()
+    })?;
+    let doses = log.query(&super::Query {
+        from: Some(from),
+        to: Some(to),
+        include_voided: true,
+        ..super::Query::default()
+    })?;
+    Ok(report(&Sources {
+        site,
+        catalog,
+        readings: &readings,
+        doses: &doses,
+        from,
+        to,
+        tolerance: Tolerance::default(),
+    }))
+}
+
+/// The files a report is written as.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Format {
+    Csv,
+    Json,
+    Pdf,
+}
+
+/// Writes the report whole to `path` (a temporary file beside it, then a rename, so a reader
+/// never sees half a report). The app's Log screen saves into its export folder through this.
+pub fn write_report(r: &Report, format: Format, path: &std::path::Path) -> super::Result<()> {
+    let bytes = match format {
+        Format::Csv => to_csv(r).into_bytes(),
+        Format::Json => serde_json::to_vec_pretty(&to_json(r)).unwrap_or_default(),
+        Format::Pdf => super::report_pdf::pdf(r)?,
+    };
+    let tmp = path.with_extension("part");
+    let io = |e: std::io::Error| super::Error::io("writing", path, &e);
+    std::fs::write(&tmp, &bytes).map_err(io)?;
+    std::fs::rename(&tmp, path).map_err(io)
+}
+
+/// The report in a few lines for the terminal: the period, the month's totals per product.
+pub fn summary(r: &Report) -> String {
+    let unit = match r.units {
+        UnitSystem::Us => "gal",
+        UnitSystem::Si => "L",
+    };
+    let mut out = format!(
+        "{}\n{} to {}: water treated {:.4} MG, {} days with data, {} corrections, {} voids, {} exceedances\n",
+        r.plant,
+        r.from,
+        r.to,
+        r.totals.water_treated_l / L_PER_MG,
+        r.totals.days_with_data,
+        r.totals.corrections,
+        r.totals.voids,
+        r.totals.exceedances
+    );
+    for (id, p) in &r.totals.products {
+        out.push_str(&format!(
+            "{id}: used {:.1} {unit}, delivered {:.1} {unit}, active {:.1} lb, calculated dose {}, logged dose {}\n",
+            volume_in(r.units, p.product_used_l),
+            volume_in(r.units, p.delivered_l),
+            p.active_used_kg / KG_PER_LB,
+            p.calculated_dose_mg_l
+                .map_or("-".to_string(), |d| format!("{d:.3} mg/L")),
+            p.logged_dose
+                .map_or("-".to_string(), |s| format!("{:.3} mg/L (avg)", s.avg)),
+        ));
+    }
+    for c in &r.cautions {
+        let params: Vec<String> = c.params.iter().map(|(k, v)| format!("{k}={v}")).collect();
+        let severity = format!("{:?}", c.severity).to_lowercase();
+        out.push_str(&format!("[{severity}] {} ({})\n", c.key, params.join(", ")));
+    }
+    out.push_str(ADVISORY);
+    out.push('\n');
+    out
+}

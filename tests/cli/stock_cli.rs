@@ -1,0 +1,333 @@
+//! The stock on the command line: `calc tank-volume`, `log reading`, `log delivery` and
+//! `log report`, run as a script runs them.
+
+use serde_json::Value;
+use std::process::Command;
+
+fn run(args: &[&str]) -> (i32, Value, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_molefeed"))
+        .args(args)
+        .output()
+        .expect("binary runs");
+    let stdout = String::from_utf8_lossy(&out.stdout).to_string();
+    let json = serde_json::from_str(stdout.trim()).unwrap_or(Value::Null);
+    let stderr = String::from_utf8_lossy(&out.stderr).to_string();
+    (out.status.code().unwrap_or(-1), json, stdout + &stderr)
+}
+
+const SITE: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/data/demo-site.json");
+/// L in one US gallon and in one cubic foot (exact: 231 in³ a gallon, 0.3048 m a foot).
+const GAL_L: f64 = 3.785_411_784;
+const FT3_L: f64 = 0.3048 * 0.3048 * 0.3048 * 1000.0;
+
+fn close(a: f64, b: f64, what: &str) {
+    assert!(
+        (a - b).abs() <= 1e-9 * b.abs().max(1.0),
+        "{what}: {a} against {b}"
+    );
+}
+
+fn result(json: &Value, id: &str) -> f64 {
+    json["results"][id]["value"]
+        .as_f64()
+        .unwrap_or_else(|| panic!("{id} in {json}"))
+}
+
+#[test]
+fn tank_volume_from_its_shape_and_from_the_site() {
+    // Half a 6 ft × 12 ft horizontal cylinder: π 3² × 12 / 2 ft³; --length-unit ft makes the
+    // use rate gal/d, so 50 gal/d lasts V / (50 gal) days.
+    let (code, json, text) = run(&[
+        "calc",
+        "tank-volume",
+        "--shape",
+        "horizontal-cylinder",
+        "--diameter",
+        "6",
+        "--length",
+        "12",
+        "--level",
+        "3",
+        "--length-unit",
+        "ft",
+        "--use-rate",
+        "50",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    let v = std::f64::consts::PI * 9.0 * 12.0 / 2.0 * FT3_L;
+    close(result(&json, "volume"), v, "volume");
+    close(result(&json, "fill_percent"), 50.0, "fill");
+    close(result(&json, "days_of_supply"), v / (50.0 * GAL_L), "days");
+    // The demo's bisulfite tote by its chart (inches, gallons): 30 in is halfway from 24 in
+    // (205 gal) to 36 in (315 gal); reorder at 8 in, 40 + (95 − 40)·2/6 gal.
+    let (code, json, text) = run(&[
+        "calc",
+        "tank-volume",
+        "--site",
+        SITE,
+        "--tank",
+        "bisulfite-tote",
+        "--level",
+        "30",
+        "--use-rate",
+        "10",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    close(result(&json, "volume"), 260.0 * GAL_L, "tote");
+    let reorder = 40.0 + 55.0 * 2.0 / 6.0;
+    close(
+        result(&json, "days_to_reorder"),
+        (260.0 - reorder) / 10.0,
+        "reorder",
+    );
+    // A level beyond the chart is refused with its reason.
+    let (code, json, _) = run(&[
+        "calc",
+        "tank-volume",
+        "--site",
+        SITE,
+        "--tank",
+        "bisulfite-tote",
+        "--level",
+        "50",
+        "--json",
+    ]);
+    assert_ne!(code, 0);
+    assert_eq!(
+        json["error"]["reason"], "level-outside-strapping-table",
+        "{json}"
+    );
+}
+
+#[test]
+fn readings_and_deliveries_are_checked_against_the_site() {
+    let dir = std::env::temp_dir().join(format!("molefeed-stock-cli-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let log = dir.join("plant.doselog");
+    let file = log.to_str().unwrap();
+    let ok = [
+        vec![
+            "log",
+            "reading",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--tank",
+            "hypo-day-tank",
+            "--level",
+            "4.5",
+            "--initials",
+            "AB",
+        ],
+        vec![
+            "log",
+            "reading",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--meter",
+            "filter-effluent",
+            "--totalizer",
+            "123456",
+            "--initials",
+            "AB",
+        ],
+        vec![
+            "log",
+            "reading",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--tap",
+            "clearwell-tap",
+            "--parameter",
+            "chlorine",
+            "--value",
+            "1.1",
+            "--initials",
+            "AB",
+        ],
+        vec![
+            "log",
+            "delivery",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--product",
+            "hypo-bulk",
+            "--amount",
+            "55",
+            "--amount-unit",
+            "gal",
+            "--note-number",
+            "DN-7",
+            "--initials",
+            "AB",
+        ],
+    ];
+    for args in ok {
+        let (code, _, text) = run(&args);
+        assert_eq!(code, 0, "{args:?}: {text}");
+    }
+    let refused = [
+        // Not in the site profile, not a parameter of that tap, above the tank, no totaliser.
+        vec![
+            "log",
+            "reading",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--tank",
+            "no-such-tank",
+            "--level",
+            "1",
+            "--initials",
+            "AB",
+        ],
+        vec![
+            "log",
+            "reading",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--tap",
+            "clearwell-tap",
+            "--parameter",
+            "fluoride",
+            "--value",
+            "1",
+            "--initials",
+            "AB",
+        ],
+        vec![
+            "log",
+            "reading",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--tank",
+            "hypo-day-tank",
+            "--level",
+            "7",
+            "--initials",
+            "AB",
+        ],
+        vec![
+            "log",
+            "reading",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--meter",
+            "raw-venturi",
+            "--totalizer",
+            "1",
+            "--initials",
+            "AB",
+        ],
+        vec![
+            "log",
+            "delivery",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--product",
+            "hypo-bulk",
+            "--amount",
+            "5",
+            "--amount-unit",
+            "tons",
+            "--initials",
+            "AB",
+        ],
+        // Two days back is not "earlier the same or the previous day".
+        vec![
+            "log",
+            "reading",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--tank",
+            "hypo-day-tank",
+            "--level",
+            "4",
+            "--at",
+            "2020-01-01T07:00:00-06:00",
+            "--initials",
+            "AB",
+        ],
+    ];
+    for args in refused {
+        let (code, _, text) = run(&args);
+        assert_ne!(code, 0, "{args:?}: {text}");
+    }
+    std::fs::remove_dir_all(&dir).unwrap();
+}
+
+#[test]
+fn the_november_report_from_the_command_line() {
+    let dir = std::env::temp_dir().join(format!("molefeed-report-cli-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let log = dir.join("november.doselog");
+    molefeed::log::november::write(&log, "Harrowmere Tarn Water Works (demo)", 0).unwrap();
+    let csv = dir.join("november.csv");
+    let (code, json, text) = run(&[
+        "log",
+        "report",
+        "--file",
+        log.to_str().unwrap(),
+        "--site",
+        SITE,
+        "--from",
+        "2026-11-01",
+        "--to",
+        "2026-11-30",
+        "--csv",
+        csv.to_str().unwrap(),
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    // Day 1 by hand (see `log::stock_tests`): 2 020 000 gal of water; 0.5 ft from the 4 ft
+    // day tank, 4π ft² × 0.5 ft × 1728/231 gal per ft³.
+    let day1 = &json["days"][0];
+    assert_eq!(day1["date"], "2026-11-01");
+    close(day1["water_treated_mg"].as_f64().unwrap(), 2.02, "MG");
+    let used = 4.0 * std::f64::consts::PI * 0.5 * 1728.0 / 231.0;
+    close(
+        day1["products"]["hypo-bulk"]["product_used"]
+            .as_f64()
+            .unwrap(),
+        used,
+        "gal",
+    );
+    close(
+        day1["products"]["hypo-bulk"]["calculated_dose_mg_l"]
+            .as_f64()
+            .unwrap(),
+        used * 0.125 * 1e6 / 2.02e6,
+        "dose (gal cancel: kg per L of product × L per L of water)",
+    );
+    assert_eq!(json["days"].as_array().unwrap().len(), 30);
+    assert_eq!(json["totals"]["voids"], 1);
+    let csv = std::fs::read_to_string(&csv).unwrap();
+    assert!(
+        csv.starts_with("date,water_treated_MG,product,product_used_gal"),
+        "{csv}"
+    );
+    assert!(csv.contains("\r\ntotal,"), "{csv}");
+    std::fs::remove_dir_all(&dir).unwrap();
+}
