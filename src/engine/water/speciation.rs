@@ -1001,6 +1001,12 @@ impl Solver {
             q.totals[co3] = free_co3 * (1.0 + ka + kb);
             let mut free = p.totals;
             free[co3] = free_co3;
+            // Dissolved Al and Fe are almost all hydrolysed at any pH a water is read at: a
+            // start of free = total sends Newton the long way (or to the bracketed solve), which
+            // made pHs and CCPP of a coagulated water 3–4 times slower than of the raw water.
+            for m in [Component::Al.index(), Component::Fe.index()] {
+                free[m] *= 1e-6;
+            }
             let start = Speciation {
                 log_h: -ph,
                 conc: Vec::new(),
