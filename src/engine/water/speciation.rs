@@ -119,7 +119,18 @@ fn gauss<const R: usize, const M: usize>(a: &mut [[f64; M]; R], n: usize) -> Opt
         if !(a[pivot][col].abs() > 1e-300) {
             return None;
         }
-        a.swap(col, pivot);
+        if pivot != col {
+            // Only the columns still in use (a whole-row swap of the fixed-size array is a
+            // memcpy per row, which the carbonate path would pay for the larger system).
+            for k in col..n {
+                let t = a[col][k];
+                a[col][k] = a[pivot][k];
+                a[pivot][k] = t;
+            }
+            let t = a[col][rhs];
+            a[col][rhs] = a[pivot][rhs];
+            a[pivot][rhs] = t;
+        }
         for r in col + 1..n {
             let f = a[r][col] / a[col][col];
             if f != 0.0 {
@@ -359,7 +370,9 @@ impl Solver {
                 }
                 let m = free[c];
                 let mut d = 0.0;
-                for &(s, k) in &self.by_comp[c] {
+                // A component's species are listed in table order: those past the span are
+                // absent.
+                for &(s, k) in self.by_comp[c].iter().take_while(|&&(s, _)| s < n) {
                     d += k as f64 * self.conc_of(s, kg[s], &act);
                 }
                 // d/m = Σ ν c_s / m_c; new m from T = m · (d/m).
@@ -549,9 +562,13 @@ impl Solver {
             }
             // One pass over the species builds residuals and Jacobian together. Rows: mass
             // balances (0..n), charge (n), ionic strength (n + 1); last column: −residual.
-            // Only the rows in use are cleared: a carbonate water solves a much smaller system.
+            // Only the rows and columns in use are cleared: a carbonate water solves a much
+            // smaller system than the array holds.
             for row in jac.iter_mut().take(n + 2) {
-                *row = [0.0; N + 1];
+                for v in row.iter_mut().take(n + 2) {
+                    *v = 0.0;
+                }
+                row[N] = 0.0;
             }
             let c_h = a_h / gamma_h;
             let dl_h = -LN10 * dlg_h; // d ln c_H / dI
@@ -631,9 +648,10 @@ impl Solver {
                     continue;
                 }
                 let sc = if scale[r] > 0.0 { 1.0 / scale[r] } else { 1.0 };
-                for v in jac[r].iter_mut() {
+                for v in jac[r].iter_mut().take(n + 2) {
                     *v *= sc;
                 }
+                jac[r][N] *= sc;
             }
             if fixed_ph.is_some() {
                 // Pin ln{H+}; the carbonate total is free (its mass balance is not a row).
