@@ -117,16 +117,18 @@ pub fn total_lines(r: &Report) -> Vec<String> {
     out
 }
 
+/// A plotted series: its name, its colour (RGB) and its (day index, value) points.
+type Series<'a> = (&'a str, (f32, f32, f32), Vec<(usize, f64)>);
+
 /// A plot box at (x, y) of size (w, h) with the series given as (day index, value), each in
 /// its colour, scaled to the largest value; the axis labels say the range.
-#[allow(clippy::too_many_arguments)]
 fn plot(
     pages: &Pages,
     layer: &PdfLayerReference,
     (x, y, w, h): (f32, f32, f32, f32),
     title: &str,
     days: usize,
-    series: &[(&str, (f32, f32, f32), Vec<(usize, f64)>)],
+    series: &[Series<'_>],
 ) {
     pages.text(layer, 9.0, x, y + h + 3.0, title);
     line(

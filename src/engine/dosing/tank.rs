@@ -266,7 +266,7 @@ pub struct Tank {
 /// order is never late). `None` for a negative or non-finite count or a date past the
 /// calendar.
 pub fn date_after(today: chrono::NaiveDate, days: f64) -> Option<chrono::NaiveDate> {
-    if !days.is_finite() || days < 0.0 || days > 1e6 {
+    if !(0.0..=1e6).contains(&days) {
         return None;
     }
     today.checked_add_days(chrono::Days::new(days.floor() as u64))
