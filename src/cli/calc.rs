@@ -35,6 +35,7 @@ fn input_json(i: &Input) -> Value {
         "si_unit": i.quantity.si().symbol(),
         "basis": i.basis,
         "optional": i.optional,
+        "only_for": i.only_for,
         "scope": i.scope,
     })
 }
@@ -122,7 +123,13 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
                 ", {}",
                 calculators::basis_text(b)
             )),
-            if i.optional { " (optional)" } else { "" }
+            if i.optional {
+                " (optional)".to_string()
+            } else if !i.only_for.is_empty() {
+                format!(" (only for {})", i.only_for.join(", "))
+            } else {
+                String::new()
+            }
         ));
     }
     out.push_str(&format!(
