@@ -150,9 +150,11 @@ fn every_screen_renders_with_text_at_three_sizes() {
         ] {
             st.calc.edit(name, text);
         }
-        // The feed & pump setting calculator, computed by the real dosing engine.
+        // The feed & pump setting calculator, computed by the real dosing engine (each
+        // calculator keeps its own inputs: the flow is typed again).
         st.calc.set_kind(CalcKind::find("feed").unwrap());
         for (name, text) in [
+            ("flow", "2.4"),
             ("dose", "2.5"),
             ("strength", "12.5"),
             ("specific-gravity", "1.2"),
