@@ -1077,7 +1077,9 @@ fn chlorine_gas_is_offered_beside_hypochlorite_with_its_cautions() {
     // computed and the setting, which alone needs the scale (`only_for`), is absent.
     let mut none = req.clone();
     none.values.remove("gas-feeder-capacity");
-    let without = engine.compute(&none).expect("computed without a feeder scale");
+    let without = engine
+        .compute(&none)
+        .expect("computed without a feeder scale");
     assert_eq!(got(&without, "feeder_setting"), None);
     assert_eq!(without.setting, None);
     assert_eq!(got(&without, "product_mass_rate"), Some(rate));
