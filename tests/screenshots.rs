@@ -158,9 +158,11 @@ fn every_screen_renders_with_text_at_three_sizes() {
         ] {
             st.calc.edit(name, text);
         }
-        // The feed & pump setting calculator, computed by the real dosing engine.
+        // The feed & pump setting calculator, computed by the real dosing engine (each
+        // calculator keeps its own inputs: the flow is typed again).
         st.calc.set_kind(CalcKind::find("feed").unwrap());
         for (name, text) in [
+            ("flow", "2.4"),
             ("dose", "2.5"),
             ("strength", "12.5"),
             ("specific-gravity", "1.2"),
@@ -421,6 +423,45 @@ fn softening_renders_with_its_equilibrium_lines() {
         if dark_pixels(&pixels, w, h, phone) < 5000 {
             failures.push(name);
         }
+    }
+    assert!(failures.is_empty(), "blank or textless: {failures:?}");
+}
+
+/// A reading carried over from Softening (with where and when it was taken, and Clear) and a
+/// refused "-1" marked at its field, on a phone.
+#[test]
+fn carried_readings_and_refusals_render_at_phone_width() {
+    let (window, app, handle) = headless_app();
+    let out = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
+    std::fs::create_dir_all(&out).unwrap();
+    let (w, h) = (400, 1400);
+    let mut failures = Vec::new();
+    {
+        let mut st = handle.state.borrow_mut();
+        st.open_calculator(CalcKind::find("softening").unwrap());
+        let alkalinity = st.calc.fields().iter().position(|f| f.name == "alkalinity");
+        st.type_in_field(alkalinity.unwrap(), "200");
+        st.open_calculator(CalcKind::find("coagulation").unwrap());
+    }
+    handle.refresh();
+    app.show().expect("show");
+    app.global::<Nav>().invoke_go(1);
+    let pixels = render(&window, w, h);
+    save_png(&out.join("calculators-phone-carried.png"), &pixels, w, h);
+    if dark_pixels(&pixels, w, h, true) < 5000 {
+        failures.push("carried");
+    }
+    {
+        let mut st = handle.state.borrow_mut();
+        st.open_calculator(CalcKind::find("chlorination").unwrap());
+        st.calc.edit("chlorine-demand", "1.5");
+        st.calc.edit("residual-target", "-1");
+    }
+    handle.refresh();
+    let pixels = render(&window, w, h);
+    save_png(&out.join("calculators-phone-refused.png"), &pixels, w, h);
+    if dark_pixels(&pixels, w, h, true) < 5000 {
+        failures.push("refused");
     }
     assert!(failures.is_empty(), "blank or textless: {failures:?}");
 }

@@ -951,3 +951,222 @@ fn chlorine_gas_offers_no_specific_gravity_or_product_volume() {
     one(&app, &en("result-product"));
     assert_eq!(count(&app, &note), 0);
 }
+
+// ---- Issue 13: the result in view, errors at the field, each calculator's own inputs.
+
+/// Scrolls the calculator screen as far down as it goes (the wheel over the middle of it,
+/// many times), then lets any animation finish.
+fn scroll_to_end(app: &AppWindow, x: f32, y: f32) {
+    for _ in 0..60 {
+        app.window()
+            .dispatch_event(slint::platform::WindowEvent::PointerScrolled {
+                position: slint::LogicalPosition::new(x, y),
+                delta_x: 0.0,
+                delta_y: -400.0,
+            });
+        i_slint_backend_testing::mock_elapsed_time(std::time::Duration::from_millis(50));
+    }
+    i_slint_backend_testing::mock_elapsed_time(std::time::Duration::from_millis(2000));
+}
+
+/// Whether `e` lies wholly inside the window's first `bottom` pixels.
+fn in_view(e: &ElementHandle, bottom: f32) -> bool {
+    let (pos, size) = (e.absolute_position(), e.size());
+    pos.y >= 0.0 && pos.y + size.height <= bottom + 0.5
+}
+
+/// The phone's cross-check: its deviation is in the summary bar, in view at 400×860 with the
+/// fields scrolled to their top, whatever the length of the form.
+#[test]
+fn the_phone_pump_cross_check_shows_its_deviation_without_scrolling() {
+    // Filled in a tall window (the finders see only what is in view), then made a phone.
+    let (app, handle) = start_at(connected_engine(), 400.0, 3000.0);
+    tap(&app, &en("calc-pump-check"));
+    for (key, text) in [
+        ("field-flow", "2.4"),
+        ("field-dose", "3.0"),
+        ("field-drawdown-volume", "140"),
+        ("field-drawdown-time", "60"),
+        ("field-pump-setting", "24.3"),
+        ("field-strength", "12.5"),
+        ("field-specific-gravity", "1.16"),
+    ] {
+        type_into(&app, &en(key), text);
+    }
+    let result = ready(&handle);
+    let deviation = result
+        .extras
+        .iter()
+        .find(|e| e.lead)
+        .expect("the cross-check leads with its deviation");
+    app.window().set_size(slint::LogicalSize::new(400.0, 860.0));
+    i_slint_backend_testing::mock_elapsed_time(std::time::Duration::from_millis(100));
+    let bar = one(&app, &en("calc-summary"));
+    assert!(in_view(&bar, 860.0 - 68.0), "the summary bar is off screen");
+    let summary = bar.accessible_value().unwrap().to_string();
+    assert!(
+        summary.starts_with(&format!("{} {} %", en("result-deviation"), deviation.value)),
+        "{summary:?}"
+    );
+}
+
+/// With "Show the work" open the card scrolls to its end: the advisory is reachable on a
+/// phone and on a tablet. Reproduces the open bug: on the phone, scrolled as far as it goes,
+/// the "Cautions" heading stands at y = 355 of 792 and the cautions after it and the advisory
+/// are cut off (the scroll view's content ends before the card does). Flattening the wrapped
+/// trace, caution and advisory texts out of nested layouts did not change it. Not fixed yet.
+#[test]
+#[ignore = "reproduces the open scroll-to-end bug of issue 13; fails until it is fixed"]
+fn the_cards_advisory_is_reachable_with_the_work_open() {
+    for (width, height, x) in [(400.0, 860.0, 200.0), (1280.0, 800.0, 1000.0)] {
+        let (app, _handle) = start_at(connected_engine(), width, 3000.0);
+        if width < 720.0 {
+            tap(&app, &en("calc-chlorination"));
+        } else {
+            tap(&app, &en("nav-calculators"));
+            tap(&app, &en("calc-chlorination"));
+        }
+        // The demo site fills the product, pump and flow.
+        type_into(&app, &en("field-chlorine-demand"), "1.5");
+        type_into(&app, &en("field-residual-target"), "1.0");
+        tap(&app, &format!("▸ {}", en("calc-show-work")));
+        app.window()
+            .set_size(slint::LogicalSize::new(width, height));
+        i_slint_backend_testing::mock_elapsed_time(std::time::Duration::from_millis(100));
+        scroll_to_end(&app, x, 400.0);
+        let bottom = if width < 720.0 { height - 68.0 } else { height };
+        let advisory: Vec<_> =
+            ElementHandle::find_by_accessible_label(&app, &en("advisory-note")).collect();
+        assert_eq!(
+            advisory.len(),
+            1,
+            "{width}: advisory not in view at the end"
+        );
+        assert!(
+            in_view(&advisory[0], bottom),
+            "{width}: advisory at {:?}+{:?}, window {bottom}",
+            advisory[0].absolute_position(),
+            advisory[0].size()
+        );
+    }
+}
+
+/// Alkalinity 200 typed in Softening does not change the pH adjustment's dose; in a
+/// calculator without its own alkalinity it appears with where it came from, and clears.
+#[test]
+fn a_softening_alkalinity_does_not_change_ph_adjustment_unless_carried_over_visibly() {
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-ph-adjustment"));
+    for (key, text) in [
+        ("field-flow", "2.4"),
+        ("field-ph-raw", "6.8"),
+        ("field-ph-target", "7.5"),
+        ("field-alkalinity", "40"),
+        ("field-temperature", "59"),
+    ] {
+        type_into(&app, &en(key), text);
+    }
+    let before = ready(&handle).dose;
+    tap(&app, &en("calc-softening"));
+    type_into(&app, &en("field-alkalinity"), "200");
+    tap(&app, &en("calc-ph-adjustment"));
+    assert_eq!(
+        one(&app, &en("field-alkalinity"))
+            .accessible_value()
+            .unwrap(),
+        "40"
+    );
+    assert_eq!(ready(&handle).dose, before, "Softening's alkalinity leaked");
+    // Coagulation has no alkalinity of its own: Softening's is offered, saying so.
+    tap(&app, &en("calc-coagulation"));
+    let alkalinity = one(&app, &en("field-alkalinity"));
+    assert_eq!(alkalinity.accessible_value().unwrap(), "200");
+    let view = handle.state.borrow().calc.view();
+    let field = view.fields.iter().find(|f| f.name == "alkalinity").unwrap();
+    let when = field.carried.as_ref().expect("marked as carried over").at;
+    let origin = Texts::new(Lang::En).get_args(
+        "calc-carried",
+        &[
+            ("calculator", en("calc-softening")),
+            ("time", when.format("%H:%M").to_string()),
+        ],
+    );
+    one(&app, &format!("{}: {origin}", en("field-alkalinity")));
+    tap(
+        &app,
+        &format!("{} {}", en("calc-clear"), en("field-alkalinity")),
+    );
+    assert_eq!(
+        one(&app, &en("field-alkalinity"))
+            .accessible_value()
+            .unwrap(),
+        ""
+    );
+    assert_eq!(
+        count(&app, &format!("{}: {origin}", en("field-alkalinity"))),
+        0
+    );
+}
+
+/// "-1" typed as the residual target is marked at that field, in words, and the card says it
+/// as an error, not as information.
+#[test]
+fn a_typed_minus_one_is_marked_at_its_field() {
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-chlorination"));
+    type_into(&app, &en("field-chlorine-demand"), "1.5");
+    type_into(&app, &en("field-residual-target"), "-1");
+    let view = handle.state.borrow().calc.view();
+    let marked: Vec<_> = view
+        .fields
+        .iter()
+        .filter(|f| f.refusal.is_some())
+        .map(|f| f.name)
+        .collect();
+    assert_eq!(marked, ["residual-target"]);
+    let calc = app.global::<molefeed::app::ui::CalcAdapter>();
+    assert!(calc.get_message_error(), "a refusal looks like an error");
+    let row = calc.get_fields().row_data(
+        view.fields
+            .iter()
+            .position(|f| f.name == "residual-target")
+            .unwrap(),
+    );
+    let error = row.unwrap().error.to_string();
+    assert!(
+        error.starts_with(&en("field-residual-target")),
+        "named by its field: {error:?}"
+    );
+    one(&app, &error);
+    // Letters are not dropped: the field says they are no number.
+    type_into(&app, &en("field-residual-target"), "1.O");
+    one(&app, &en("number-invalid"));
+}
+
+/// "Enter your initials in Settings first" goes once initials are entered; the card shows the
+/// tap the dose goes to and changes it; the dose is logged there.
+#[test]
+fn the_calculator_shows_the_tap_and_its_messages_clear_with_their_cause() {
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    tap(&app, &en("nav-calculators"));
+    tap(&app, &en("calc-chlorination"));
+    type_into(&app, &en("field-chlorine-demand"), "1.5");
+    type_into(&app, &en("field-residual-target"), "1.0");
+    tap(&app, &en("calc-log-dose"));
+    let calc = app.global::<molefeed::app::ui::CalcAdapter>();
+    assert_eq!(calc.get_note().as_str(), en("log-need-initials"));
+    app.global::<SettingsAdapter>()
+        .invoke_set_initials("KT".into());
+    assert_eq!(calc.get_note().as_str(), "", "the cause is gone");
+    let taps = handle.state.borrow().taps();
+    assert!(taps.len() >= 2, "{taps:?}");
+    let chip = one(&app, &taps[1]);
+    assert_eq!(chip.accessible_checked(), Some(false));
+    chip.invoke_accessible_default_action();
+    assert_eq!(one(&app, &taps[1]).accessible_checked(), Some(true));
+    assert_eq!(handle.state.borrow().point(), Some(taps[1].as_str()));
+    tap(&app, &en("calc-log-dose"));
+    assert_eq!(handle.state.borrow().entries()[0].dose.tap, taps[1]);
+}

@@ -7,7 +7,9 @@
 
 use super::RunOptions;
 use super::calc::{FieldView, Status, key};
-use super::calc_screen::{ResultLine, card_text, caution_lines, field_text, trace_lines};
+use super::calc_screen::{
+    ResultLine, card_text, caution_lines, field_text, status_text, summary_text, trace_lines,
+};
 use super::dose_log::ExportFormat;
 use super::dose_log::{DoseLog, connected_log};
 use super::i18n::Texts;
@@ -251,18 +253,21 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     let weak = Rc::downgrade(inner);
     calc.on_edited(move |index, text| {
         let Some(i) = weak.upgrade() else { return };
-        {
-            let mut st = i.state.borrow_mut();
-            // The field list alone names the row; no need to compute a result for it.
-            let fields = st.calc.fields();
-            if let Some(field) = fields.get(index.max(0) as usize) {
-                st.calc.edit(field.name, text.as_str());
-            }
-            st.calc.note = None;
-        }
+        i.state
+            .borrow_mut()
+            .type_in_field(index.max(0) as usize, text.as_str());
         i.refresh_calc(false);
         i.keep_inputs_soon();
     });
+    calc.on_clear(on(|i, n| {
+        i.state.borrow_mut().clear_field(n.max(0) as usize);
+        i.refresh_calc(true);
+        i.keep_inputs_soon();
+    }));
+    calc.on_pick_tap(on(|i, n| {
+        i.state.borrow_mut().pick_point(n.max(0) as usize);
+        i.refresh_all();
+    }));
     calc.on_log_dose(on_unit(|i| {
         let _ = i.state.borrow_mut().log_current_dose();
         i.refresh_all();
@@ -378,6 +383,8 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     });
     settings.on_set_initials(on_text(|i, t| {
         i.state.borrow_mut().set_initials(t);
+        // "Enter your initials first" goes with its cause.
+        i.refresh_calc(false);
     }));
     settings.on_rename_site(on_text(|i, t| {
         if i.state.borrow_mut().edit_site(|e, s| e.rename_site(s, t)) {
@@ -581,7 +588,14 @@ impl Inner {
                 .into_iter()
                 .map(|d| LatestDose {
                     point: s(d.point),
-                    chemical: s(self.name(&d.chemical)),
+                    // The product as delivered where the entry names one, else the compound.
+                    chemical: s(d
+                        .product_key
+                        .as_deref()
+                        .filter(|k| self.texts.borrow().has(k))
+                        .map(|k| self.t(k))
+                        .or(d.product_name)
+                        .unwrap_or_else(|| self.name(&d.chemical))),
                     dose: s(d.dose),
                     when: s(d.when),
                 })
@@ -735,6 +749,7 @@ impl Inner {
             unit: s(t.unit),
             text: s(t.text),
             error: s(t.error),
+            origin: s(t.origin),
         }
     }
 
@@ -785,6 +800,15 @@ impl Inner {
             .as_ref()
             .map(|n| self.note(n))
             .unwrap_or_default()));
+        adapter.set_taps(model(st.taps().into_iter().map(s).collect()));
+        adapter.set_tap_index(st.session.settings.point_index as i32);
+        {
+            let texts = self.texts.borrow();
+            let status = status_text(&view, &*texts);
+            adapter.set_message_error(status.error);
+            adapter.set_partial(s(status.partial));
+            adapter.set_summary(s(summary_text(&view, &*texts)));
+        }
         match &view.status {
             Status::Ready(r) => {
                 let texts = self.texts.borrow();
@@ -844,11 +868,8 @@ impl Inner {
                         .collect(),
                 ));
             }
-            other => {
-                let message = match other {
-                    Status::Refused(e) => self.texts.borrow().error(e),
-                    _ => other.message_key().map(|k| self.t(&k)).unwrap_or_default(),
-                };
+            _ => {
+                let message = status_text(&view, &*self.texts.borrow()).message;
                 adapter.set_has_result(false);
                 adapter.set_message(s(message));
                 adapter.set_dose(s(""));

@@ -1,9 +1,11 @@
 //! The calculator controller: which inputs each calculator asks for, what the operator typed,
 //! and what the results card shows. Plain Rust, no Slint types, unit-tested without the UI.
 //!
-//! Design choice: the controller keeps the *text* the operator typed (per field name, shared
-//! across calculators so flow is typed once), parses it in the current language, converts it
-//! to SI and hands it to the [`CalcEngine`] seam. It returns a [`CalcView`] of translation keys
+//! Design choice: the controller keeps the *text* the operator typed, per calculator (a
+//! product's own numbers per product), parses it in the current language, converts it to SI
+//! and hands it to the [`CalcEngine`] seam. A reading of the water typed in one calculator is
+//! offered to the others at the same tap during the same shift ([`Carried`]): shown with where
+//! and when it was taken, and cleared with one tap; nothing else crosses calculators. It returns a [`CalcView`] of translation keys
 //! and formatted strings; the Slint bridge only translates and copies. A field that does not
 //! parse produces a message and no number, never a partial result.
 
@@ -19,6 +21,7 @@ use crate::engine::precision::{
     Instrument, Precision, Range, range_beside, split_tolerance, tolerance_to_si,
 };
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
+use chrono::{DateTime, Utc};
 use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, HashMap};
 use std::rc::Rc;
@@ -38,6 +41,8 @@ pub struct FieldSpec {
     /// What a value is expressed as, as the table states it (the chosen product resolves a
     /// product-dependent basis: its dose compound, its strength basis).
     pub basis: Option<&'static str>,
+    /// The results that alone need it (a pump's full scale: the setting); empty: all do.
+    pub only_for: &'static [&'static str],
 }
 
 impl FieldSpec {
@@ -47,7 +52,13 @@ impl FieldSpec {
             quantity: input.quantity,
             optional: input.optional,
             basis: input.basis,
+            only_for: input.only_for,
         }
+    }
+
+    /// Whether the card can show results while it is empty.
+    pub fn may_be_missing(&self) -> bool {
+        self.optional || !self.only_for.is_empty()
     }
 }
 
@@ -73,6 +84,26 @@ fn is_product_field(name: &str) -> bool {
                 .any(|i| i.name == name && i.scope == engine::calculators::Scope::Product)
         })
     })
+}
+
+/// Whether field `name` is a reading of the water wherever the table uses it: what may carry
+/// over, visibly, to another calculator at the same tap.
+fn is_water_field(name: &str) -> bool {
+    let mut scopes: Vec<engine::calculators::Scope> = Vec::new();
+    for c in engine::calculators::all() {
+        for form in FeedForm::ALL {
+            scopes.extend(
+                engine::calculators::inputs_for_form(c, form)
+                    .iter()
+                    .filter(|i| i.name == name)
+                    .map(|i| i.scope),
+            );
+        }
+    }
+    !scopes.is_empty()
+        && scopes
+            .iter()
+            .all(|s| *s == engine::calculators::Scope::Water)
 }
 
 /// Every field any calculator uses with any product form, each name once.
@@ -103,6 +134,7 @@ pub fn all_field_names() -> Vec<&'static str> {
 struct FieldIndex {
     names: Vec<&'static str>,
     product: Vec<&'static str>,
+    water: Vec<&'static str>,
 }
 
 impl FieldIndex {
@@ -113,7 +145,20 @@ impl FieldIndex {
             .copied()
             .filter(|n| is_product_field(n))
             .collect();
-        FieldIndex { names, product }
+        let water = names
+            .iter()
+            .copied()
+            .filter(|n| is_water_field(n))
+            .collect();
+        FieldIndex {
+            names,
+            product,
+            water,
+        }
+    }
+
+    fn is_water(&self, name: &str) -> bool {
+        self.water.contains(&name)
     }
 
     /// The field called `name`, as the table spells it.
@@ -139,7 +184,39 @@ pub struct FieldView {
     pub text: String,
     /// Translation key of the problem with this field, if any.
     pub error: Option<&'static str>,
+    /// The engine's refusal of the value typed here (said at the field, in its unit).
+    pub refusal: Option<engine::Error>,
+    /// The results that alone need it (empty: all do).
+    pub only_for: &'static [&'static str],
+    /// Empty while the card needs it: said under the card by name.
+    pub missing: bool,
+    /// The value shown was taken in another calculator at this tap on this shift.
+    pub carried: Option<Carried>,
 }
+
+/// A reading of the water shown in a calculator where it was not typed: where and when it was
+/// taken. The operator sees it beside the field and can clear it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Carried {
+    /// The calculator it was typed in.
+    pub from: CalcMode,
+    /// When it was typed (UTC).
+    pub at: DateTime<Utc>,
+}
+
+/// The latest reading of one water quantity the operator typed: in which calculator's slot,
+/// when, at which tap.
+#[derive(Clone, Debug, PartialEq)]
+struct Reading {
+    slot: Slot,
+    from: CalcMode,
+    at: DateTime<Utc>,
+    tap: Option<String>,
+}
+
+/// How long a reading of the water is offered to the other calculators: a plant shift of
+/// eight to twelve hours (common practice); a reading from the last shift is taken again.
+pub const SHIFT_HOURS: i64 = 12;
 
 /// The results card, formatted for display in the current language and units.
 #[derive(Clone, Debug, PartialEq)]
@@ -227,13 +304,22 @@ pub struct CalcView {
     pub status: Status,
 }
 
+impl CalcView {
+    /// The fields the card still waits for, in screen order: while incomplete, those every
+    /// result needs; once ready, those only some results need (the setting's pump scale).
+    pub fn missing(&self) -> Vec<&FieldView> {
+        self.fields.iter().filter(|f| f.missing).collect()
+    }
+}
+
 /// Significant figures shown when every input was exact (nothing typed limits them).
 const RESULT_FIGURES: u32 = 3;
 /// The most figures the card shows even when the inputs support more: beyond four, a feed
 /// setting is more digits than any pump or scale can be set to.
 const MAX_FIGURES: u32 = 4;
 
-/// Where a field's text is kept: its name, and for a product's own field the product's id.
+/// Where a field's text is kept: its name, and the product's id for a product's own field,
+/// the calculator's id for any other.
 pub type Slot = (&'static str, Option<String>);
 
 /// `name` or `name@product`, the key a slot is saved under.
@@ -261,6 +347,11 @@ pub struct CalcController {
     /// The site's meters and pumps, which every request carries for the engine's guards.
     site: Option<SiteFacts>,
     fields: Rc<FieldIndex>,
+    /// The latest reading of each water quantity typed, offered to the other calculators.
+    readings: HashMap<&'static str, Reading>,
+    /// The tap the dose will be logged to: readings carry over only at the same tap.
+    tap: Option<String>,
+    clock: fn() -> DateTime<Utc>,
 }
 
 impl CalcController {
@@ -279,7 +370,20 @@ impl CalcController {
             precisions: BTreeMap::new(),
             site: None,
             fields: Rc::new(FieldIndex::build()),
+            readings: HashMap::new(),
+            tap: None,
+            clock: Utc::now,
         }
+    }
+
+    /// The tap the dose will be logged to; readings taken at another tap are not offered.
+    pub fn set_tap(&mut self, tap: Option<&str>) {
+        self.tap = tap.map(str::to_string);
+    }
+
+    /// The clock readings are timed by (tests set a fixed one).
+    pub fn set_clock(&mut self, clock: fn() -> DateTime<Utc>) {
+        self.clock = clock;
     }
 
     /// The site's own limits (the engine adds the regulatory defaults where it sets none).
@@ -357,37 +461,97 @@ impl CalcController {
         (list, index, id)
     }
 
-    /// The slot of field `name` when `product` is chosen.
+    /// The slot of field `name` when `product` is chosen in the open calculator.
     fn slot(&self, name: &'static str, product: Option<&str>) -> Slot {
         if self.fields.is_product(name) {
             (name, product.map(str::to_string))
         } else {
-            (name, None)
+            (name, Some(self.mode.calculator.to_string()))
         }
     }
 
-    /// Where field `name`'s text is kept for the product chosen now (see
-    /// [`is_product_field`]); the product list is looked up only for a product's own field.
+    /// Where field `name`'s text is kept in the open calculator for the product chosen now
+    /// (see [`is_product_field`]); the product list is looked up only for a product's own field.
     pub fn slot_of(&self, name: &str) -> Option<Slot> {
         let spec = self.fields.find(name)?;
-        let product = self
-            .fields
-            .is_product(spec)
-            .then(|| self.product().2)
-            .flatten();
-        Some((spec, product))
+        if self.fields.is_product(spec) {
+            Some((spec, self.product().2))
+        } else {
+            Some(self.slot(spec, None))
+        }
     }
 
-    /// Records what the operator typed in field `name` (for the chosen product, if the field
-    /// is one of the product's own).
+    /// Records text for field `name` in the open calculator (for the chosen product, if the
+    /// field is one of the product's own).
     pub fn edit(&mut self, name: &str, text: &str) {
         if let Some(slot) = self.slot_of(name) {
             self.texts.insert(slot, text.to_string());
         }
     }
 
+    /// What the operator typed in field `name`: kept as [`edit`](Self::edit) does, and a reading
+    /// of the water becomes the one the other calculators at this tap are offered. The app's
+    /// own text (a prefill) goes through `edit` and is no reading.
+    pub fn type_in(&mut self, name: &str, text: &str) {
+        self.edit(name, text);
+        let Some(slot) = self.slot_of(name) else {
+            return;
+        };
+        if self.fields.is_water(slot.0) && !text.trim().is_empty() {
+            let reading = Reading {
+                slot: slot.clone(),
+                from: self.mode,
+                at: (self.clock)(),
+                tap: self.tap.clone(),
+            };
+            self.readings.insert(slot.0, reading);
+        }
+    }
+
+    /// Clears field `name` in the open calculator: a carried reading is no longer offered
+    /// here (an empty field the operator left is the calculator's own).
+    pub fn clear(&mut self, name: &str) {
+        self.edit(name, "");
+    }
+
+    /// The text field `name` shows in the open calculator: its own, or a reading carried over.
     pub fn text(&self, name: &str) -> &str {
-        self.slot_of(name).map_or("", |slot| self.text_in(&slot))
+        let Some(slot) = self.slot_of(name) else {
+            return "";
+        };
+        self.shown(&slot).0
+    }
+
+    /// The text of `slot` and, when it has no text of its own, the reading carried over to it.
+    fn shown(&self, slot: &Slot) -> (&str, Option<Carried>) {
+        if let Some(own) = self.texts.get(slot) {
+            return (own.as_str(), None);
+        }
+        match self.carried(slot) {
+            Some(r) => (
+                self.text_in(&r.slot),
+                Some(Carried {
+                    from: r.from,
+                    at: r.at,
+                }),
+            ),
+            None => ("", None),
+        }
+    }
+
+    /// The reading offered to `slot`: a water field never typed in this calculator gets the
+    /// latest reading typed in another at the same tap within [`SHIFT_HOURS`].
+    fn carried(&self, slot: &Slot) -> Option<&Reading> {
+        if !self.fields.is_water(slot.0) {
+            return None;
+        }
+        let r = self.readings.get(slot.0)?;
+        let fresh = (self.clock)() - r.at <= chrono::Duration::hours(SHIFT_HOURS);
+        let offered = r.slot != *slot
+            && r.tap == self.tap
+            && fresh
+            && !self.text_in(&r.slot).trim().is_empty();
+        offered.then_some(r)
     }
 
     /// The text kept in `slot`, whatever product is chosen now.
@@ -395,8 +559,8 @@ impl CalcController {
         self.texts.get(slot).map_or("", String::as_str)
     }
 
-    fn text_for(&self, name: &'static str, product: Option<&str>) -> &str {
-        self.text_in(&self.slot(name, product))
+    fn text_for(&self, name: &'static str, product: Option<&str>) -> (&str, Option<Carried>) {
+        self.shown(&self.slot(name, product))
     }
 
     /// Switches the language, rewriting typed numbers with the new decimal mark.
@@ -443,7 +607,9 @@ impl CalcController {
         let choice = offered.get(index).filter(|_| product.is_some());
         for spec in self.fields() {
             let unit = spec.quantity.unit(self.system);
-            let text = self.text_for(spec.name, product.as_deref()).to_string();
+            let (text, carried) = self.text_for(spec.name, product.as_deref());
+            let text = text.to_string();
+            let mut missing = false;
             // "140 ± 2": the reading with a precision of the operator's own.
             let (reading, tolerance) = split_tolerance(&text);
             let tolerance = tolerance.map(|t| {
@@ -466,7 +632,8 @@ impl CalcController {
                     None
                 }
                 (Err(NumberError::Empty), _) => {
-                    empty |= !spec.optional;
+                    empty |= !spec.may_be_missing();
+                    missing = !spec.optional;
                     None
                 }
                 (Err(e), _) => {
@@ -481,6 +648,10 @@ impl CalcController {
                 basis: choice.map_or(spec.basis, |c| c.basis(spec.basis)),
                 text,
                 error,
+                refusal: None,
+                only_for: spec.only_for,
+                missing,
+                carried,
             });
         }
         let max_use_level_mg_l = product
@@ -502,8 +673,8 @@ impl CalcController {
         (views, request, invalid)
     }
 
-    /// The request calculator `kind` in `mode` would make from the values typed so far (shared
-    /// fields such as flow carry over), with its chosen product.
+    /// The request calculator `kind` in `mode` would make from its own values (and the readings
+    /// carried over to it), with its chosen product: what a plot of that calculator draws.
     pub fn request_for(&self, kind: CalcKind, mode: CalcMode) -> Option<CalcRequest> {
         let probe = CalcController {
             engine: self.engine.clone(),
@@ -518,6 +689,9 @@ impl CalcController {
             precisions: self.precisions.clone(),
             site: self.site.clone(),
             fields: self.fields.clone(),
+            readings: self.readings.clone(),
+            tap: self.tap.clone(),
+            clock: self.clock,
         };
         probe.current_request()
     }
@@ -528,7 +702,7 @@ impl CalcController {
     }
 
     pub fn view(&self) -> CalcView {
-        let (fields, request, invalid) = self.request();
+        let (mut fields, request, invalid) = self.request();
         let status = match request {
             None if invalid => Status::Invalid,
             None => Status::Incomplete,
@@ -538,6 +712,19 @@ impl CalcController {
                 Err(SeamError::Engine(e)) => Status::Refused(e),
             },
         };
+        // A refusal about one input is said at that field too.
+        if let Status::Refused(e) = &status
+            && let Some((_, input)) = e.params().iter().find(|(k, _)| *k == "input")
+            && let Some(f) = fields.iter_mut().find(|f| f.name == input.as_str())
+        {
+            f.refusal = Some(e.clone());
+        }
+        // While the card waits for what every result needs, only that is named missing.
+        if !matches!(status, Status::Ready(_)) {
+            for f in &mut fields {
+                f.missing &= f.only_for.is_empty();
+            }
+        }
         let (products, product_index, _) = self.product();
         CalcView {
             kind: self.kind,
@@ -741,6 +928,19 @@ pub struct CalcInputs {
     pub texts: BTreeMap<String, String>,
     /// `kind/mode` → chosen product id.
     pub products: BTreeMap<String, String>,
+    /// The readings of the water offered to the other calculators, by field name.
+    #[serde(default)]
+    pub readings: BTreeMap<String, SavedReading>,
+}
+
+/// A reading as kept: the slot it was typed in (`name@calculator`), the variant's code, when
+/// (RFC 3339) and at which tap.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct SavedReading {
+    pub slot: String,
+    pub from: String,
+    pub at: String,
+    pub tap: Option<String>,
 }
 
 impl CalcController {
@@ -750,16 +950,33 @@ impl CalcController {
             mode: self.mode.code().into(),
             lang: self.lang.tag().into(),
             us_units: self.system == UnitSystem::Us,
+            // An empty field is kept only where it declines a reading carried over.
             texts: self
                 .texts
                 .iter()
-                .filter(|(_, t)| !t.trim().is_empty())
+                .filter(|(slot, t)| {
+                    !t.trim().is_empty()
+                        || self.readings.get(slot.0).is_some_and(|r| r.slot != **slot)
+                })
                 .map(|(slot, v)| (slot_key(slot), v.clone()))
                 .collect(),
             products: self
                 .products
                 .iter()
                 .map(|((k, m), id)| (format!("{}/{}", k.code(), m.code()), id.clone()))
+                .collect(),
+            readings: self
+                .readings
+                .iter()
+                .map(|(name, r)| {
+                    let saved = SavedReading {
+                        slot: slot_key(&r.slot),
+                        from: r.from.code().into(),
+                        at: r.at.to_rfc3339(),
+                        tap: r.tap.clone(),
+                    };
+                    (name.to_string(), saved)
+                })
                 .collect(),
         }
     }
@@ -775,19 +992,50 @@ impl CalcController {
             UnitSystem::Si
         };
         let fields = self.fields.clone();
-        for (key, text) in &saved.texts {
-            let (name, product) = match key.split_once('@') {
+        // A reading saved without its calculator (an older file, when readings were shared)
+        // belongs to the calculator that was open.
+        let open = CalcMode::all()
+            .into_iter()
+            .find(|m| m.code() == saved.mode)
+            .map_or(self.mode.calculator, |m| m.calculator);
+        let slot_of_key = |key: &str| -> Option<Slot> {
+            let (name, owner) = match key.split_once('@') {
                 Some((name, id)) => (name, Some(id.to_string())),
-                None => (key.as_str(), None),
+                None => (key, None),
             };
-            let Some(name) = fields.find(name) else {
+            let name = fields.find(name)?;
+            match (fields.is_product(name), owner) {
+                (true, Some(id)) => Some((name, Some(id))),
+                // A product's own field saved without its product has no owner: dropped rather
+                // than given to whichever product happens to be chosen.
+                (true, None) => None,
+                (false, Some(id)) => engine::calculators::find(&id)
+                    .ok()
+                    .map(|c| (name, Some(c.id.to_string()))),
+                (false, None) => Some((name, Some(open.to_string()))),
+            }
+        };
+        for (key, text) in &saved.texts {
+            if let Some(slot) = slot_of_key(key) {
+                self.texts.insert(slot, text.clone());
+            }
+        }
+        for (name, r) in &saved.readings {
+            let (Some(name), Some(slot), Some(from), Ok(at)) = (
+                fields.find(name),
+                slot_of_key(&r.slot),
+                CalcMode::find(&r.from),
+                DateTime::parse_from_rfc3339(&r.at),
+            ) else {
                 continue;
             };
-            // A product's own field saved without its product (an older file) has no owner:
-            // dropped rather than given to whichever product happens to be chosen.
-            if fields.is_product(name) == product.is_some() {
-                self.texts.insert((name, product), text.clone());
-            }
+            let reading = Reading {
+                slot,
+                from,
+                at: at.with_timezone(&Utc),
+                tap: r.tap.clone(),
+            };
+            self.readings.insert(name, reading);
         }
         for (key, id) in &saved.products {
             let Some((k, m)) = key.split_once('/') else {
@@ -1443,5 +1691,173 @@ mod tests {
         assert_eq!(c.mode().calculator, "coagulation");
         assert_eq!(numbers::parse(c.text("jar-dose"), Lang::Es).unwrap(), 30.0);
         assert!(!c.follow_up(5));
+    }
+
+    fn at_10_42() -> DateTime<Utc> {
+        DateTime::parse_from_rfc3339("2026-12-03T10:42:00Z")
+            .unwrap()
+            .with_timezone(&Utc)
+    }
+
+    /// 13 hours later: beyond a shift of [`SHIFT_HOURS`].
+    fn next_shift() -> DateTime<Utc> {
+        DateTime::parse_from_rfc3339("2026-12-03T23:42:00Z")
+            .unwrap()
+            .with_timezone(&Utc)
+    }
+
+    fn field(c: &CalcController, name: &str) -> FieldView {
+        c.view()
+            .fields
+            .into_iter()
+            .find(|f| f.name == name)
+            .unwrap_or_else(|| panic!("{name} is no field of {:?}", c.mode()))
+    }
+
+    /// Alkalinity 200 typed in Softening once changed pH adjustment's lime dose: each calculator
+    /// keeps its own inputs; a reading of the water typed in one is offered to another that has
+    /// none of its own, at the same tap and shift, saying where and when it was taken, and can
+    /// be cleared; a target or choice never crosses.
+    #[test]
+    fn each_calculator_keeps_its_own_inputs_and_readings_carry_over_visibly() {
+        let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
+        c.set_clock(at_10_42);
+        c.set_tap(Some("Clearwell"));
+        c.set_kind(CalcKind::of("ph-adjustment"));
+        c.type_in("alkalinity", "40");
+        c.set_kind(CalcKind::of("softening"));
+        c.type_in("alkalinity", "200");
+        c.type_in("ph", "7.8");
+        c.set_kind(CalcKind::of("ph-adjustment"));
+        let own = field(&c, "alkalinity");
+        assert_eq!((own.text.as_str(), own.carried), ("40", None), "its own");
+        let softening = CalcMode::of("softening");
+        c.set_kind(CalcKind::of("coagulation"));
+        let carried = field(&c, "alkalinity");
+        assert_eq!(carried.text, "200");
+        assert_eq!(
+            carried.carried,
+            Some(Carried {
+                from: softening,
+                at: at_10_42()
+            })
+        );
+        assert_eq!(field(&c, "ph").text, "7.8");
+        // Cleared here, it stays cleared here; Softening keeps its reading.
+        c.clear("alkalinity");
+        assert_eq!(
+            (
+                field(&c, "alkalinity").text.as_str(),
+                field(&c, "alkalinity").carried
+            ),
+            ("", None)
+        );
+        // Not at another tap, and not on the next shift.
+        c.set_tap(Some("Raw water"));
+        assert_eq!(field(&c, "ph").text, "");
+        c.set_tap(Some("Clearwell"));
+        assert_eq!(field(&c, "ph").text, "7.8");
+        c.set_clock(next_shift);
+        assert_eq!(field(&c, "ph").text, "");
+        c.set_clock(at_10_42);
+        c.set_kind(CalcKind::of("softening"));
+        assert_eq!(field(&c, "alkalinity").text, "200");
+        // A target is the calculator's own: the feed's dose is not the cross-check's.
+        c.set_kind(CalcKind::of("feed"));
+        c.type_in("dose", "2.5");
+        c.set_kind(CalcKind::of("pump-check"));
+        assert_eq!(field(&c, "dose").text, "");
+        // The plot of a calculator draws its own inputs, carried readings included.
+        let probe = c.request_for(CalcKind::of("ph-adjustment"), CalcMode::of("ph-adjustment"));
+        assert_eq!(probe, None, "pH adjustment is not complete");
+        // Kept across a restart with where and when they were taken.
+        let saved: CalcInputs =
+            serde_json::from_str(&serde_json::to_string(&c.inputs()).unwrap()).unwrap();
+        let mut back = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
+        back.set_clock(at_10_42);
+        back.set_tap(Some("Clearwell"));
+        back.restore(&saved);
+        back.set_kind(CalcKind::of("ph-adjustment"));
+        assert_eq!(field(&back, "alkalinity").text, "40");
+        back.set_kind(CalcKind::of("coagulation"));
+        assert_eq!(field(&back, "alkalinity").text, "", "cleared here");
+        assert_eq!(field(&back, "ph").carried.map(|r| r.from), Some(softening));
+    }
+
+    /// The card names what it waits for: every empty field the results need while incomplete;
+    /// once the dose is shown, the pump scale that only the setting needs.
+    #[test]
+    fn the_card_names_the_fields_still_missing() {
+        let engine = Rc::new(super::super::engine_adapter::DosingEngine::new().unwrap());
+        let mut c = CalcController::new(engine, Lang::En, UnitSystem::Si);
+        c.set_kind(CalcKind::of("feed"));
+        let hypochlorite = c
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "sodium-hypochlorite")
+            .unwrap();
+        c.set_product(hypochlorite);
+        c.edit("flow", "10000");
+        let names = |c: &CalcController| -> Vec<&'static str> {
+            c.view().missing().iter().map(|f| f.name).collect()
+        };
+        assert_eq!(c.view().status, Status::Incomplete);
+        assert_eq!(names(&c), ["dose", "strength", "specific-gravity"]);
+        fill(
+            &mut c,
+            &[
+                ("dose", "2"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.16"),
+            ],
+        );
+        let view = c.view();
+        let Status::Ready(r) = &view.status else {
+            panic!("the dose needs no pump capacity: {:?}", view.status)
+        };
+        // 20 kg/d at 125 g/L available chlorine = 160 L/d = 6.67 L/h (by hand).
+        assert_eq!((r.dose.as_str(), r.product.as_str()), ("2.00", "6.67"));
+        assert_eq!(r.pump, "—", "no setting without the pump's full scale");
+        assert_eq!(names(&c), ["pump-capacity"]);
+        c.edit("pump-capacity", "15");
+        assert!(names(&c).is_empty());
+    }
+
+    /// A value the engine refuses is marked at its field: "-1" in the residual target.
+    #[test]
+    fn a_refused_value_is_marked_at_its_field() {
+        let engine = Rc::new(super::super::engine_adapter::DosingEngine::new().unwrap());
+        let mut c = CalcController::new(engine, Lang::En, UnitSystem::Us);
+        c.set_kind(CalcKind::of("chlorination"));
+        fill(
+            &mut c,
+            &[
+                ("flow", "1"),
+                ("chlorine-demand", "1.2"),
+                ("residual-target", "-1"),
+                ("strength", "12.5"),
+                ("specific-gravity", "1.16"),
+            ],
+        );
+        let view = c.view();
+        assert!(
+            matches!(view.status, Status::Refused(_)),
+            "{:?}",
+            view.status
+        );
+        let marked: Vec<_> = view
+            .fields
+            .iter()
+            .filter(|f| f.refusal.is_some())
+            .map(|f| f.name)
+            .collect();
+        assert_eq!(marked, ["residual-target"]);
+        // Letters are no number: said at the field, not dropped.
+        c.edit("residual-target", "abc");
+        assert_eq!(
+            field(&c, "residual-target").error,
+            Some(NumberError::NotANumber.key())
+        );
     }
 }

@@ -8,9 +8,14 @@
 //! code stays in `calc.rs`, untouched by this split. What the screen shares with the others
 //! (site, language, units, initials, the data directory) it borrows from the [`Session`].
 //! The card's cautions and "show the work" lines are worded here ([`caution_lines`],
-//! [`trace_lines`]) through the [`Words`] seam; the bridge only copies them.
+//! [`trace_lines`]) through the [`Words`] seam, and so are the fields (a refusal said at its
+//! field in the site's units, a reading carried over with where and when it was taken), the
+//! card's message and the phone's summary bar ([`status_text`], [`summary_text`]); the bridge
+//! only copies them.
 
-use super::calc::{CalcController, CalcInputs, ExtraView, FieldView, ResultView, Status, key};
+use super::calc::{
+    CalcController, CalcInputs, CalcView, ExtraView, FieldView, ResultView, Status, key,
+};
 use super::dose_log::{Logging, dose_of};
 use super::log_screen::LogScreen;
 use super::numbers::Lang;
@@ -65,6 +70,33 @@ impl CalcScreen {
         self.note = None;
     }
 
+    /// The operator typed `text` in field `name`: the calculator's own, and a reading of the
+    /// water taken at the session's tap now (offered to the other calculators there).
+    pub fn typed(&mut self, session: &Session, name: &str, text: &str) {
+        self.calc.set_tap(session.point());
+        self.calc.type_in(name, text);
+        self.note = None;
+    }
+
+    /// The operator cleared field `name` (a reading carried over from another calculator).
+    pub fn clear_field(&mut self, name: &str) {
+        self.calc.clear(name);
+        self.note = None;
+    }
+
+    /// The session changed (initials typed, another tap): a message whose cause is gone goes.
+    pub fn recheck_note(&mut self, session: &Session) {
+        self.calc.set_tap(session.point());
+        let gone = match self.note.as_ref().map(|n| n.key.as_str()) {
+            Some("log-need-initials") => !session.initials().is_empty(),
+            Some("log-nothing-to-log") => matches!(self.calc.view().status, Status::Ready(_)),
+            _ => false,
+        };
+        if gone {
+            self.note = None;
+        }
+    }
+
     /// The language changed: the fields are shown in it, and the app's own numbers stay the
     /// app's (see [`Prefill::through`]).
     pub fn switch_lang(&mut self, lang: Lang) {
@@ -81,6 +113,7 @@ impl CalcScreen {
     /// calculator variant the site's delivered product is chosen, then its strength, SG and
     /// metering-pump capacity and the plant's typical flow fill fields the operator left empty.
     pub fn prefill_from_site(&mut self, session: &Session) {
+        self.calc.set_tap(session.point());
         let site = session.site();
         self.calc.set_max_use_levels(sites::max_use_levels(site));
         self.calc.set_limits(site.limits.clone());
@@ -276,13 +309,15 @@ pub const BASIS_WORDS: [&str; 9] = [
 ];
 
 /// An input row in words: its label, its unit with the basis the value is on, its text, its
-/// problem.
+/// problem, and where a value carried over from another calculator was taken.
 #[derive(Clone, Debug, PartialEq)]
 pub struct FieldText {
     pub label: String,
     pub unit: String,
     pub text: String,
     pub error: String,
+    /// "From Softening, 10:42 UTC"; empty for the calculator's own value.
+    pub origin: String,
 }
 
 /// What a value of `unit` on `basis` is, in words: "% trade", "mg/L as Cl2", "mL of product".
@@ -310,6 +345,11 @@ pub fn unit_with_basis(unit: Unit, basis: Option<&str>, words: &dyn Words) -> St
 /// An input row in words.
 pub fn field_text(f: &FieldView, words: &dyn Words) -> FieldText {
     let label = words.get(&format!("field-{}", f.name));
+    let error = match (f.error, &f.refusal) {
+        (Some(k), _) => words.get(k),
+        (None, Some(e)) => refusal_text(e, f, words),
+        (None, None) => String::new(),
+    };
     FieldText {
         label: if f.optional {
             format!("{label} {}", words.get(key("field-optional")))
@@ -318,8 +358,186 @@ pub fn field_text(f: &FieldView, words: &dyn Words) -> FieldText {
         },
         unit: unit_with_basis(f.unit, f.basis, words),
         text: f.text.clone(),
-        error: f.error.map(|k| words.get(k)).unwrap_or_default(),
+        error,
+        origin: f
+            .carried
+            .as_ref()
+            .map(|c| {
+                words.get_args(
+                    key("calc-carried"),
+                    &[
+                        ("calculator", variant_name(c.from, words)),
+                        ("time", c.at.format("%H:%M").to_string()),
+                    ],
+                )
+            })
+            .unwrap_or_default(),
     }
+}
+
+/// A calculator variant's name: its screen's, or the variant's own where the screen has several.
+pub fn variant_name(mode: CalcMode, words: &dyn Words) -> String {
+    let kind = CalcKind::all()
+        .into_iter()
+        .find(|k| k.modes().contains(&mode));
+    match kind {
+        Some(k) if k.modes().len() == 1 => words.get(&format!("calc-{}", k.code())),
+        _ => words.get(&format!("mode-{}", mode.code())),
+    }
+}
+
+/// A number the engine reported in SI, in the field's unit to sensible figures: four at most,
+/// no trailing zeros, and a power of ten for what no plant has (1e11 MGD reads "1.00×10¹¹").
+fn sensible(si: f64, unit: Unit, lang: Lang) -> String {
+    let v = unit.from_si(si);
+    if v != 0.0 && (v.abs() >= 1e7 || v.abs() < 1e-4) {
+        let text = format!("{v:.2e}");
+        let (mantissa, exponent) = text.split_once('e').unwrap_or((&text, "0"));
+        let sup: String = exponent
+            .chars()
+            .map(|ch| match ch {
+                '-' => '⁻',
+                d => "⁰¹²³⁴⁵⁶⁷⁸⁹"
+                    .chars()
+                    .nth(d.to_digit(10).unwrap_or(0) as usize)
+                    .unwrap_or(d),
+            })
+            .collect();
+        let mark = lang.decimal_mark().to_string();
+        return format!("{}×10{sup}", mantissa.replace('.', &mark));
+    }
+    sites::show(v, lang)
+}
+
+/// The engine's refusal of field `f`'s value, said at the field: named by the field's label,
+/// its numbers in the field's unit ("Flow 1.00e11 MGD is outside 0–264 000 MGD"), never the
+/// engine's SI figures with fifteen digits.
+pub fn refusal_text(e: &crate::engine::Error, f: &FieldView, words: &dyn Words) -> String {
+    let key = match e.reason() {
+        Some(reason) => format!("error-reason-{reason}"),
+        None => format!("error-{}", e.kind().code()),
+    };
+    if !words.has(&key) {
+        return words.error(e);
+    }
+    let lang = words.lang();
+    let label = words.get(&format!("field-{}", f.name));
+    let unit_text = words.get(&format!("unit-{}", f.unit.code()));
+    let mut args: Vec<(&str, String)> = e
+        .params()
+        .iter()
+        .map(|(name, value)| {
+            let value = match *name {
+                "quantity" | "input" => label.clone(),
+                "unit" if unit_text.is_empty() => String::new(),
+                "unit" => format!(" {unit_text}"),
+                "value" | "min" | "max" | "smallest" | "largest" | "low" | "high" => value
+                    .parse::<f64>()
+                    .map_or_else(|_| value.clone(), |v| sensible(v, f.unit, lang)),
+                _ => value.clone(),
+            };
+            (*name, value)
+        })
+        .collect();
+    args.push(("message", e.message().to_string()));
+    let text = words.get_args(&key, &args);
+    let mut chars = text.chars();
+    match chars.next() {
+        Some(first) => first.to_uppercase().chain(chars).collect(),
+        None => text,
+    }
+}
+
+/// The card's message when it shows no numbers, and under the numbers what is still empty.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct StatusText {
+    /// Why there are no numbers (empty when there are).
+    pub message: String,
+    /// An error (a refusal, a value that is no number), shown as one; else information.
+    pub error: bool,
+    /// With numbers: the fields only some results wait for, by name (the setting's scale).
+    pub partial: String,
+}
+
+/// The card's message in words: the fields still missing by name, a refusal in the field's
+/// units, or what is not a number.
+pub fn status_text(view: &CalcView, words: &dyn Words) -> StatusText {
+    let names = |fields: Vec<&FieldView>| {
+        fields
+            .iter()
+            .map(|f| words.get(&format!("field-{}", f.name)))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    match &view.status {
+        Status::Ready(_) => {
+            let missing = view.missing();
+            StatusText {
+                partial: if missing.is_empty() {
+                    String::new()
+                } else {
+                    words.get_args(key("calc-partial"), &[("fields", names(missing))])
+                },
+                ..StatusText::default()
+            }
+        }
+        Status::Incomplete => {
+            let missing = view.missing();
+            StatusText {
+                message: if missing.is_empty() {
+                    words.get(key("calc-incomplete"))
+                } else {
+                    words.get_args(key("calc-missing"), &[("fields", names(missing))])
+                },
+                ..StatusText::default()
+            }
+        }
+        Status::Refused(e) => StatusText {
+            message: match view.fields.iter().find(|f| f.refusal.is_some()) {
+                Some(f) => {
+                    // Named by its field, once.
+                    let label = words.get(&format!("field-{}", f.name));
+                    let text = refusal_text(e, f, words);
+                    if text.contains(&label) {
+                        text
+                    } else {
+                        format!("{label}: {text}")
+                    }
+                }
+                None => words.error(e),
+            },
+            error: true,
+            ..StatusText::default()
+        },
+        other => StatusText {
+            message: other
+                .message_key()
+                .map(|k| words.get(&k))
+                .unwrap_or_default(),
+            error: matches!(other, Status::Invalid),
+            ..StatusText::default()
+        },
+    }
+}
+
+/// The phone's summary bar, in view while the fields scroll: a cross-check's deviation, the
+/// dose and the setting; or, without numbers, the card's message.
+pub fn summary_text(view: &CalcView, words: &dyn Words) -> String {
+    let Status::Ready(r) = &view.status else {
+        return status_text(view, words).message;
+    };
+    let card = card_text(r, words);
+    let mut parts: Vec<String> = card
+        .leads
+        .iter()
+        .map(|l| format!("{} {} {}", l.label, l.value, l.unit))
+        .collect();
+    for big in [&card.bigs[0], &card.bigs[3]] {
+        if big.value != "—" {
+            parts.push(format!("{} {} {}", big.caption, big.value, big.unit));
+        }
+    }
+    parts.join(" · ")
 }
 
 /// A result listed by name on the card, in words.
@@ -615,6 +833,109 @@ mod tests {
         assert_eq!(card.extras[0].label, "Feed mass");
         assert_eq!(card.figures_note, "Shown to 3 figures.");
         assert_eq!(card.no_volume_note, "");
+    }
+
+    fn flow_field(text: &str) -> FieldView {
+        FieldView {
+            name: "flow",
+            optional: false,
+            unit: Unit::Mgd,
+            basis: None,
+            text: text.into(),
+            error: None,
+            refusal: None,
+            only_for: &[],
+            missing: false,
+            carried: None,
+        }
+    }
+
+    /// A refusal at its field speaks the field's unit with sensible figures: the engine's
+    /// 378541174614.58826 m³/d is 1.00×10⁸ MGD (÷ 3785.411784 m³/d per MGD, exact), its
+    /// 1e9 m³/d limit 264 172 MGD, shown to four figures; expected texts written by hand.
+    #[test]
+    fn a_refusal_is_said_at_its_field_in_its_unit() {
+        const ERRORS: Dictionary = Dictionary(&[
+            ("field-flow", "Flow"),
+            ("unit-mgd", "MGD"),
+            (
+                "error-out-of-range",
+                "{ $quantity } { $value }{ $unit } is outside { $min }–{ $max }{ $unit }.",
+            ),
+            (
+                "error-reason-not-positive",
+                "{ $quantity } must be greater than zero.",
+            ),
+        ]);
+        let e = crate::engine::Error::new(crate::engine::ErrorKind::OutOfRange, "x")
+            .with("quantity", "flow")
+            .with("value", 378_541_174_614.588_26)
+            .with("min", 0.0)
+            .with("max", 1e9)
+            .with("unit", "m³/d");
+        let mut f = flow_field("100000000");
+        f.refusal = Some(e);
+        assert_eq!(
+            field_text(&f, &ERRORS).error,
+            "Flow 1.00×10⁸ MGD is outside 0–264200 MGD."
+        );
+        // A check that names its quantity its own way ("strength" for a purity) is said with
+        // the field's name.
+        let e = crate::engine::Error::new(crate::engine::ErrorKind::OutOfRange, "x")
+            .because("not-positive")
+            .with("quantity", "strength")
+            .with("value", -1.0);
+        f.refusal = Some(e);
+        assert_eq!(
+            field_text(&f, &ERRORS).error,
+            "Flow must be greater than zero."
+        );
+    }
+
+    /// A reading carried over says where and when it was taken; the card names what is
+    /// missing, and a refusal reads as an error.
+    #[test]
+    fn carried_readings_and_missing_fields_are_said() {
+        const SAID: Dictionary = Dictionary(&[
+            ("field-flow", "Flow"),
+            ("field-dose", "Dose"),
+            ("calc-softening", "Softening"),
+            ("calc-carried", "From { $calculator }, { $time } UTC"),
+            ("calc-missing", "Still needed: { $fields }."),
+        ]);
+        let mut f = flow_field("2.4");
+        f.carried = Some(super::super::calc::Carried {
+            from: CalcMode::of("softening"),
+            at: chrono::DateTime::parse_from_rfc3339("2026-12-03T10:42:00Z")
+                .unwrap()
+                .with_timezone(&chrono::Utc),
+        });
+        assert_eq!(field_text(&f, &SAID).origin, "From Softening, 10:42 UTC");
+        let mut flow = flow_field("");
+        flow.missing = true;
+        let mut dose = flow_field("");
+        dose.name = "dose";
+        dose.missing = true;
+        let view = CalcView {
+            kind: CalcKind::of("feed"),
+            mode: CalcMode::of("feed"),
+            products: Vec::new(),
+            product_index: 0,
+            fields: vec![flow, dose, flow_field("1")],
+            status: Status::Incomplete,
+        };
+        let said = status_text(&view, &SAID);
+        assert_eq!(said.message, "Still needed: Flow, Dose.");
+        assert!(!said.error);
+        assert_eq!(summary_text(&view, &SAID), said.message);
+        let refused = CalcView {
+            status: Status::Refused(crate::engine::Error::new(
+                crate::engine::ErrorKind::InvalidInput,
+                "no",
+            )),
+            ..view
+        };
+        assert!(status_text(&refused, &SAID).error);
     }
 
     /// Every strength, dose and concentration says its basis beside its unit; a unit that

@@ -149,6 +149,10 @@ impl super::words::Words for Texts {
         Texts::error(self, e)
     }
 
+    fn lang(&self) -> Lang {
+        Texts::lang(self)
+    }
+
     fn get(&self, key: &str) -> String {
         Texts::get(self, key)
     }

@@ -24,7 +24,11 @@ use std::rc::Rc;
 #[derive(Clone, Debug, PartialEq)]
 pub struct LatestDose {
     pub point: String,
+    /// The compound the dose is expressed as ("Cl2").
     pub chemical: String,
+    /// The product's name key and English name, where the entry names a product.
+    pub product_key: Option<String>,
+    pub product_name: Option<String>,
     pub dose: String,
     pub when: String,
 }
@@ -581,6 +585,8 @@ impl LogScreen {
             out.push(LatestDose {
                 point: e.dose.tap.clone(),
                 chemical: e.dose.chemical.clone(),
+                product_key: e.dose.product.as_ref().map(|p| format!("product-{}", p.id)),
+                product_name: e.dose.product.as_ref().map(|p| p.name.clone()),
                 dose: e
                     .dose
                     .dose_mg_per_l()

@@ -202,11 +202,28 @@ impl AppState {
 
     pub fn pick_point(&mut self, index: usize) {
         self.session.pick_point(index);
+        self.calc.recheck_note(&self.session);
     }
 
-    /// Keeps up to 8 letters or digits, upper-cased, as the log requires.
+    /// Keeps up to 8 letters or digits, upper-cased, as the log requires; "enter your
+    /// initials first" goes once they are there.
     pub fn set_initials(&mut self, text: &str) {
         self.session.set_initials(text);
+        self.calc.recheck_note(&self.session);
+    }
+
+    /// The operator typed `text` in the open calculator's field at `index` (screen order).
+    pub fn type_in_field(&mut self, index: usize, text: &str) {
+        if let Some(field) = self.calc.fields().get(index) {
+            self.calc.typed(&self.session, field.name, text);
+        }
+    }
+
+    /// The operator cleared the open calculator's field at `index` (a carried reading).
+    pub fn clear_field(&mut self, index: usize) {
+        if let Some(field) = self.calc.fields().get(index) {
+            self.calc.clear_field(field.name);
+        }
     }
 
     pub fn initials(&self) -> &str {
@@ -1009,7 +1026,11 @@ mod tests {
             s.titration_plot().message.unwrap().key,
             "plot-need-inputs-coagulation"
         );
+        // Coagulation's own readings (each calculator keeps its own inputs).
         for (n, t) in [
+            ("flow", "1.5"),
+            ("alkalinity", "40"),
+            ("temperature", "60"),
             ("jar-dose", "25"),
             ("alkalinity-setpoint", "20"),
             ("ph", "7.1"),

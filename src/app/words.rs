@@ -18,6 +18,11 @@ pub trait Words {
     /// An engine error in words.
     fn error(&self, e: &engine::Error) -> String;
 
+    /// The language the words are in (its decimal mark for numbers worded outside Fluent).
+    fn lang(&self) -> super::numbers::Lang {
+        super::numbers::Lang::En
+    }
+
     fn get(&self, key: &str) -> String {
         self.get_args(key, &[])
     }

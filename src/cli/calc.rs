@@ -36,6 +36,7 @@ fn input_json(i: &Input) -> Value {
         "si_unit": i.quantity.si().symbol(),
         "basis": i.basis,
         "optional": i.optional,
+        "only_for": i.only_for,
         "scope": i.scope,
         // The other spellings the command line takes: `--sg`, `--volume-unit`.
         "short_flag": i.short_flag,
@@ -164,7 +165,13 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
                 ", {}",
                 calculators::basis_text(b)
             )),
-            if i.optional { " (optional)" } else { "" }
+            if i.optional {
+                " (optional)".to_string()
+            } else if !i.only_for.is_empty() {
+                format!(" (only for {})", i.only_for.join(", "))
+            } else {
+                String::new()
+            }
         ));
     }
     for t in calc.text_inputs() {

@@ -68,12 +68,12 @@ fn feed_keys() {
             .unwrap()
             .starts_with("Advisory only")
     );
-    // Without a pump the table has no setting to give: refused, naming the flag.
-    refused(
-        &format!("feed --flow 2.5 --flow-unit mgd --dose 3.0 {HYPO} --json"),
-        1,
-        "--pump-capacity",
-    );
+    // Without a pump the table has no setting to give (the pump's scale is `only_for` the
+    // setting): the feed is computed as above and the setting is absent, never zero.
+    let no_pump = format!("feed --flow 2.5 --flow-unit mgd --dose 3.0 {HYPO} --json");
+    check(&no_pump, "feed_mass_rate", 2.5 * 3.0 * L_PER_GAL, 1e-9);
+    let (_, json, _) = run(&no_pump);
+    assert!(json["results"]["pump_setting"].is_null(), "{json}");
     // SI flows.
     check(
         &format!("feed --flow 8000 --flow-unit m3d --dose 2.0 {HYPO} {PUMP} --json"),

@@ -133,22 +133,29 @@ impl Calculators {
         Ok((id, strength))
     }
 
-    /// The pump or feeder the chosen product's form calls for, at the full scale given.
-    fn pump(&self, request: &Request) -> Result<PumpKind> {
+    /// The pump or feeder the chosen product's form calls for, at the full scale given; `None`
+    /// without one (the table's `only_for`: the setting is then absent, the rest computed).
+    fn pump(&self, request: &Request) -> Result<Option<PumpKind>> {
         let product = self.catalog.product(chosen(request)?)?;
         Ok(match product.form {
-            Form::Solution => PumpKind::Metering {
-                capacity: value(request, "pump-capacity")?,
-                unit: VolumeRateUnit::Lph,
-            },
-            Form::Gas => PumpKind::GasFeeder {
-                capacity: value(request, "gas-feeder-capacity")?,
-                unit: MassRateUnit::KgPerDay,
-            },
-            Form::Dry => PumpKind::DryFeeder {
-                capacity: value(request, "dry-feeder-capacity")?,
-                unit: MassRateUnit::KgPerDay,
-            },
+            Form::Solution => request
+                .get("pump-capacity")
+                .map(|capacity| PumpKind::Metering {
+                    capacity,
+                    unit: VolumeRateUnit::Lph,
+                }),
+            Form::Gas => request
+                .get("gas-feeder-capacity")
+                .map(|capacity| PumpKind::GasFeeder {
+                    capacity,
+                    unit: MassRateUnit::KgPerDay,
+                }),
+            Form::Dry => request
+                .get("dry-feeder-capacity")
+                .map(|capacity| PumpKind::DryFeeder {
+                    capacity,
+                    unit: MassRateUnit::KgPerDay,
+                }),
         })
     }
 
@@ -161,7 +168,7 @@ impl Calculators {
                 dose,
                 product,
                 strength,
-                pump: Some(self.pump(request)?),
+                pump: self.pump(request)?,
                 usable_range: UsableRange::default(),
                 max_use_level_mg_l: request.max_use_level_mg_l,
             },
@@ -420,7 +427,7 @@ pub(super) fn ph_adjustment(c: &Calculators, request: &Request) -> Result<Outcom
             strength,
             target_ph: value(request, "ph-target")?,
             flow: flow(request)?,
-            pump: Some(c.pump(request)?),
+            pump: c.pump(request)?,
             usable_range: UsableRange::default(),
             max_use_level_mg_l: request.max_use_level_mg_l,
             ph_range: PhRange::from_limits(&request.limits),

@@ -70,6 +70,17 @@ pub struct Input {
     /// The name of the flag that gives this input's unit where the trade writes it otherwise
     /// than `<name>-unit` (`volume-unit` for `tank-volume`); `--<name>-unit` is accepted too.
     pub unit_flag: Option<&'static str>,
+    /// The results that need this input, when only some do (a pump's full scale is needed by
+    /// the pump setting alone): without it the calculation runs and those results are absent,
+    /// never zero. Empty: the calculation needs it (unless it is `optional`).
+    pub only_for: &'static [&'static str],
+}
+
+impl Input {
+    /// Whether the calculation can run without this input (some or all results then absent).
+    pub fn may_be_missing(&self) -> bool {
+        self.optional || !self.only_for.is_empty()
+    }
 }
 
 /// A calculator's mode chosen through a named choice of its own (`--residual-basis p`), for the
@@ -758,7 +769,7 @@ impl Calculators {
                     .because("not-finite")
                     .with("input", input.name));
                 }
-                None if !input.optional => {
+                None if !input.may_be_missing() => {
                     return Err(Error::new(
                         ErrorKind::InvalidInput,
                         format!("{} is missing", input.name),
@@ -776,7 +787,8 @@ impl Calculators {
             ..request.clone()
         };
         let mut guarded = guards::before(self, &inputs, &request)?;
-        let mut outcome = (calculator.compute)(self, &request)?;
+        let mut outcome =
+            (calculator.compute)(self, &request).map_err(|e| attributed(e, &inputs, &request))?;
         outcome.calculator = calculator.id;
         outcome.mode = mode;
         outcome.product = product.map(|p| ProductUsed {
@@ -870,6 +882,24 @@ pub fn given_figures(quantity: Quantity, text: &str) -> Option<u8> {
 /// the show-the-work lines.
 pub fn shown_figures(outcome: &Outcome) -> u32 {
     outcome.figures.map_or(3, |f| u32::from(f).clamp(3, 4))
+}
+
+/// A refusal names the input it is about (`input`), so a front end can mark that field: a
+/// compute function's check names its quantity in its own words ("chlorine residual"), so the
+/// input is the one, if exactly one, whose value the refusal reports.
+fn attributed(e: Error, inputs: &[Input], request: &Request) -> Error {
+    let param = |name: &str| e.params().iter().find(|(k, _)| *k == name).map(|(_, v)| v);
+    if param("input").is_some() {
+        return e;
+    }
+    let Some(value) = param("value").and_then(|v| v.parse::<f64>().ok()) else {
+        return e;
+    };
+    let mut named = inputs.iter().filter(|i| request.get(i.name) == Some(value));
+    match (named.next(), named.next()) {
+        (Some(input), None) => e.with("input", input.name),
+        _ => e,
+    }
 }
 
 fn not_finite(what: &str) -> Error {

@@ -1074,13 +1074,16 @@ fn chlorine_gas_is_offered_beside_hypochlorite_with_its_cautions() {
         "{needed} vs {rate}"
     );
     assert_eq!(too_small.param("unit"), Some("kg/d"));
-    // No feeder scale given: the engine is not asked with a made-up one.
+    // No feeder scale given: the engine is not asked with a made-up one; the rate to set is
+    // computed and the setting, which alone needs the scale (`only_for`), is absent.
     let mut none = req.clone();
     none.values.remove("gas-feeder-capacity");
-    assert!(matches!(
-        engine.compute(&none),
-        Err(e) if e.kind() == ErrorKind::InvalidInput
-    ));
+    let without = engine
+        .compute(&none)
+        .expect("computed without a feeder scale");
+    assert_eq!(got(&without, "feeder_setting"), None);
+    assert_eq!(without.setting, None);
+    assert_eq!(got(&without, "product_mass_rate"), Some(rate));
     // Every product a calculator offers carries the form its catalog entry has, so it is fed
     // with that form's pump or feeder.
     for calculator in all() {

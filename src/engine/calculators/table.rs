@@ -27,6 +27,7 @@ const fn water(name: &'static str, quantity: Q) -> Input {
         limit: None,
         // A reading of the water is measured, with the instrument usual for its quantity.
         instrument: Instrument::for_water(quantity),
+        only_for: &[],
         short_flag: None,
         unit_flag: None,
     }
@@ -91,6 +92,14 @@ const fn based(input: Input, basis: &'static str) -> Input {
 const fn optional(input: Input) -> Input {
     Input {
         optional: true,
+        ..input
+    }
+}
+
+/// An input only `results` need: without it they are absent and the others still computed.
+const fn only_for(input: Input, results: &'static [&'static str]) -> Input {
+    Input {
+        only_for: results,
         ..input
     }
 }
@@ -201,10 +210,18 @@ pub(super) fn product_inputs(
             _ => i,
         })
         .collect();
+    // The full scale gives the setting alone: the dose, the feed mass and the product rate
+    // are shown without it.
     let scale = match form {
-        FeedForm::Liquid => PUMP_CAPACITY,
-        FeedForm::Gas => product("gas-feeder-capacity", Q::MassPerDay),
-        FeedForm::Dry => product("dry-feeder-capacity", Q::MassPerDay),
+        FeedForm::Liquid => only_for(PUMP_CAPACITY, &["pump_setting"]),
+        FeedForm::Gas => only_for(
+            product("gas-feeder-capacity", Q::MassPerDay),
+            &["feeder_setting"],
+        ),
+        FeedForm::Dry => only_for(
+            product("dry-feeder-capacity", Q::MassPerDay),
+            &["feeder_setting"],
+        ),
     };
     // A field test measures what the pump or feeder delivers: a volume drawn down for a
     // liquid, a mass weighed for a chemical fed by mass (a dry feeder's catch, a gas

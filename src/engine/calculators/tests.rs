@@ -128,6 +128,88 @@ fn a_liquid_feed_gives_volume_and_pump_setting_by_hand() {
     assert_eq!(out.setting.unwrap().device, Device::MeteringPump);
 }
 
+/// A pump's full scale is needed by the pump setting alone (the table's `only_for`): without
+/// it the dose, the feed mass and the product rate are computed and the setting is absent.
+/// By hand as above: 20 kg/d Cl2, 6.667 L/h of 12.5 trade % hypochlorite.
+#[test]
+fn without_a_pump_capacity_everything_but_the_setting_is_computed() {
+    let c = calculators();
+    let check = |id: &str, product: &str, values: &[(&'static str, f64)], absent: &str| {
+        let out = c
+            .compute(&request(id, Some(product), values))
+            .unwrap_or_else(|e| panic!("{id}: {e}"));
+        check_listed(&out);
+        assert!(out.result("dose").is_some(), "{id}");
+        assert!(out.result("feed_mass_rate").is_some(), "{id}");
+        assert_eq!(
+            out.result(absent),
+            None,
+            "{id}: {absent} without a capacity"
+        );
+        assert_eq!(out.setting, None, "{id}");
+        out
+    };
+    let liquid = [("strength", 12.5), ("specific-gravity", 1.16)];
+    let out = check(
+        "feed",
+        "sodium-hypochlorite",
+        &with(&[("flow", 10_000.0), ("dose", 2.0)], &liquid),
+        "pump_setting",
+    );
+    let lph = out.result("product_volume_rate").unwrap().value;
+    assert!((lph - 160.0 / 24.0).abs() < 1e-6, "{lph}");
+    assert!((out.result("feed_mass_rate").unwrap().value - 20.0).abs() < 1e-9);
+    check(
+        "feed",
+        "chlorine-gas",
+        &[("flow", 10_000.0), ("dose", 2.0), ("purity", 99.5)],
+        "feeder_setting",
+    );
+    // Ferric chloride at the catalog's typical strength and SG (data/products.json).
+    let typical = &c.catalog().product("ferric-chloride").unwrap().strengths[0];
+    check(
+        "coagulation",
+        "ferric-chloride",
+        &[
+            ("flow", 10_000.0),
+            ("jar-dose", 30.0),
+            ("alkalinity", 100.0),
+            ("alkalinity-setpoint", 30.0),
+            ("ph", 7.5),
+            ("temperature", 15.0),
+            ("strength", typical.value),
+            ("specific-gravity", typical.sg.unwrap()),
+        ],
+        "pump_setting",
+    );
+}
+
+/// A compute function's refusal names the input whose value it reports, so the app can mark
+/// that field: a negative residual target is refused at "residual-target".
+#[test]
+fn a_refusal_names_the_input_it_is_about() {
+    let e = calculators()
+        .compute(&request(
+            "free-chlorine",
+            Some("sodium-hypochlorite"),
+            &with(
+                &[
+                    ("flow", 10_000.0),
+                    ("chlorine-demand", 1.0),
+                    ("residual-target", -1.0),
+                ],
+                &LIQUID,
+            ),
+        ))
+        .unwrap_err();
+    let input = e
+        .params()
+        .iter()
+        .find(|(k, _)| *k == "input")
+        .map(|(_, v)| v.as_str());
+    assert_eq!(input, Some("residual-target"), "{e}");
+}
+
 #[test]
 fn a_missing_input_names_itself_and_an_optional_one_may_be_left_out() {
     let c = calculators();
