@@ -415,7 +415,12 @@ fn softening_renders_with_its_equilibrium_lines() {
 /// How many ink pixels lie in the strips just inside a button's left and right edges, where
 /// its padding should be: any there means the label touches the edge (or runs past it).
 /// `(x, y, w, h)` in pixels; the strips leave out the border and the rounded corners.
-fn ink_at_edges(pixels: &[Rgb8Pixel], width: u32, (x, y, w, h): (u32, u32, u32, u32)) -> usize {
+fn ink_at_edges(
+    pixels: &[Rgb8Pixel],
+    width: u32,
+    (x, y, w, h): (u32, u32, u32, u32),
+    pill: bool,
+) -> usize {
     if w < 24 || h < 24 {
         return 0;
     }
@@ -427,9 +432,15 @@ fn ink_at_edges(pixels: &[Rgb8Pixel], width: u32, (x, y, w, h): (u32, u32, u32, 
             + (p.b as i32 - bg.b as i32).abs()
             > 120
     };
+    // A pill (a chip) curves in at its ends: only its middle rows have a straight padding.
+    let (rows, inset) = if pill {
+        (y + h / 2 - 4..y + h / 2 + 4, 6)
+    } else {
+        (y + 12..y + h - 12, 4)
+    };
     let mut n = 0;
-    for row in y + 12..y + h - 12 {
-        for col in (x + 4..x + 9).chain(x + w - 9..x + w - 4) {
+    for row in rows {
+        for col in (x + inset..x + inset + 5).chain(x + w - inset - 5..x + w - inset) {
             if differs(pixels[(row * width + col) as usize]) {
                 n += 1;
             }
@@ -439,9 +450,8 @@ fn ink_at_edges(pixels: &[Rgb8Pixel], width: u32, (x, y, w, h): (u32, u32, u32, 
 }
 
 /// Spanish at phone width, the longest labels: every button of Settings and the Log keeps its
-/// label clear of its edges ("Renombrar" once touched them) and lies inside the window, and the
-/// last control of the site card ("Sustituir por la planta de demostración") is whole above
-/// the bottom bar when scrolled to. Rendered for review too.
+/// label clear of its edges ("Renombrar" once touched them) and lies inside the window; the
+/// window is rendered tall, so each control is in view. Rendered for review too.
 #[test]
 fn spanish_fits_at_phone_width() {
     use i_slint_backend_testing::ElementHandle;
@@ -470,12 +480,15 @@ fn spanish_fits_at_phone_width() {
                     failures.push(format!("{name}: {label:?} runs out of the window"));
                     continue;
                 }
-                if p.x < 0.0 || p.x + s.width > w as f32 || p.y + s.height > h as f32 {
+                // A chip under the row's scroll hint (the fade and arrow at the right edge,
+                // 44 px) is meant to be covered: it says the row goes on.
+                let hinted = kind == "Chip" && p.x + s.width > w as f32 - 60.0;
+                if hinted || p.x < 0.0 || p.x + s.width > w as f32 || p.y + s.height > h as f32 {
                     continue;
                 }
                 seen += 1;
                 let rect = (p.x as u32, p.y as u32, s.width as u32, s.height as u32);
-                let ink = ink_at_edges(&pixels, w, rect);
+                let ink = ink_at_edges(&pixels, w, rect, kind == "Chip");
                 if ink > 0 {
                     failures.push(format!(
                         "{name}: {label:?} touches its edges ({ink} pixels, {:.0} px wide)",
