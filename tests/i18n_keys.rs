@@ -158,3 +158,92 @@ fn the_scanner_sees_keys() {
         assert!(used.contains(k), "scanner missed {k}");
     }
 }
+
+/// The texts an operator's safety rests on: every caution the engine raises (hazards, PPE,
+/// incompatibilities, limits, process warnings), the caution levels and the advisory.
+fn safety_keys() -> Vec<String> {
+    let mut keys: Vec<String> = molefeed::app::keys::ENGINE_TEXT_KEYS
+        .iter()
+        .map(|k| k.to_string())
+        .collect();
+    keys.extend(
+        ftl("en")
+            .into_keys()
+            .filter(|k| k.starts_with("advisory-") || k.starts_with("caution-level-")),
+    );
+    keys.sort();
+    keys.dedup();
+    keys
+}
+
+/// key → text as written after `=` in one Fluent file (single-line messages, as all are).
+fn ftl_texts(locale: &str) -> BTreeMap<String, String> {
+    let path = Path::new(ROOT).join(format!("i18n/{locale}/molefeed.ftl"));
+    std::fs::read_to_string(&path)
+        .unwrap()
+        .lines()
+        .filter(|l| !l.starts_with([' ', '#']))
+        .filter_map(|l| l.split_once('='))
+        .map(|(k, v)| (k.trim().to_string(), v.trim().to_string()))
+        .collect()
+}
+
+/// FNV-1a, 64 bits: a fixed hash of a text (no dependency, same result on every machine).
+fn fnv1a(text: &str) -> String {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in text.bytes() {
+        h ^= u64::from(b);
+        h = h.wrapping_mul(0x0000_0100_0000_01b3);
+    }
+    format!("{h:016x}")
+}
+
+#[test]
+fn the_hash_is_fnv1a() {
+    // Published FNV-1a 64 test vectors (the FNV reference, draft-eastlake-fnv): "" and "a".
+    assert_eq!(fnv1a(""), "cbf29ce484222325");
+    assert_eq!(fnv1a("a"), "af63dc4c8601ec8c");
+}
+
+/// A safety text changes only with a reviewed English–Spanish pair: `i18n/reviewed-safety.txt`
+/// holds, for every safety key, the hashes of the English and the Spanish text a bilingual
+/// reviewer read together. Changing either text (or adding a caution) fails here until the
+/// pair is reviewed and its line written; the message gives the line to write after review.
+#[test]
+fn safety_texts_change_only_with_a_reviewed_pair() {
+    let reviewed_path = Path::new(ROOT).join("i18n/reviewed-safety.txt");
+    let reviewed: BTreeMap<String, (String, String)> = std::fs::read_to_string(&reviewed_path)
+        .unwrap()
+        .lines()
+        .filter(|l| !l.trim().is_empty() && !l.starts_with('#'))
+        .map(|l| {
+            let parts: Vec<&str> = l.split_whitespace().collect();
+            assert_eq!(parts.len(), 3, "odd line {l:?}");
+            (
+                parts[0].to_string(),
+                (parts[1].to_string(), parts[2].to_string()),
+            )
+        })
+        .collect();
+    let (en, es) = (ftl_texts("en"), ftl_texts("es"));
+    let keys = safety_keys();
+    assert!(keys.len() > 80, "only {} safety keys", keys.len());
+    let mut unreviewed = Vec::new();
+    for key in &keys {
+        let pair = (fnv1a(&en[key]), fnv1a(&es[key]));
+        if reviewed.get(key) != Some(&pair) {
+            unreviewed.push(format!(
+                "{key} {} {}\n    en: {}\n    es: {}",
+                pair.0, pair.1, en[key], es[key]
+            ));
+        }
+    }
+    let stale: Vec<_> = reviewed.keys().filter(|k| !keys.contains(k)).collect();
+    assert!(
+        unreviewed.is_empty(),
+        "safety texts without a reviewed English–Spanish pair; after review, write each first \
+         line into i18n/reviewed-safety.txt:\n{}",
+        unreviewed.join("\n")
+    );
+    assert!(stale.is_empty(), "reviewed keys no longer used: {stale:?}");
+}

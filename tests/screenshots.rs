@@ -194,20 +194,24 @@ fn every_screen_renders_with_text_at_three_sizes() {
         ("desktop", 1600, 1000),
     ];
     let mut failures = Vec::new();
-    for (size_name, w, h) in sizes {
-        for (index, screen) in SCREENS.iter().enumerate() {
-            app.global::<Nav>().invoke_go(index as i32);
-            let pixels = render(&window, w, h);
-            let path = out.join(format!("{screen}-{size_name}.png"));
-            save_png(&path, &pixels, w, h);
-            let dark = dark_pixels(&pixels, w, h, w < 720);
-            let colours = distinct_colours(&pixels);
-            // Anti-aliased text yields many shades; a blank or single-colour frame has few.
-            if colours < 40 || dark < 1500 {
-                failures.push(format!(
-                    "{}: {colours} colours, {dark} dark pixels",
-                    path.display()
-                ));
+    // Every screen at every size in Spanish (`-es`, the longer labels), then in English.
+    for (lang, suffix) in [(1, "-es"), (0, "")] {
+        app.global::<SettingsAdapter>().invoke_set_lang(lang);
+        for (size_name, w, h) in sizes {
+            for (index, screen) in SCREENS.iter().enumerate() {
+                app.global::<Nav>().invoke_go(index as i32);
+                let pixels = render(&window, w, h);
+                let path = out.join(format!("{screen}-{size_name}{suffix}.png"));
+                save_png(&path, &pixels, w, h);
+                let dark = dark_pixels(&pixels, w, h, w < 720);
+                let colours = distinct_colours(&pixels);
+                // Anti-aliased text yields many shades; a blank or single-colour frame has few.
+                if colours < 40 || dark < 1500 {
+                    failures.push(format!(
+                        "{}: {colours} colours, {dark} dark pixels",
+                        path.display()
+                    ));
+                }
             }
         }
     }
@@ -464,4 +468,97 @@ fn carried_readings_and_refusals_render_at_phone_width() {
         failures.push("refused");
     }
     assert!(failures.is_empty(), "blank or textless: {failures:?}");
+}
+
+/// How many ink pixels lie in the strips just inside a button's left and right edges, where
+/// its padding should be: any there means the label touches the edge (or runs past it).
+/// `(x, y, w, h)` in pixels; the strips leave out the border and the rounded corners.
+fn ink_at_edges(
+    pixels: &[Rgb8Pixel],
+    width: u32,
+    (x, y, w, h): (u32, u32, u32, u32),
+    pill: bool,
+) -> usize {
+    if w < 24 || h < 24 {
+        return 0;
+    }
+    // The button's own background: a pixel of its top padding, in the middle.
+    let bg = pixels[((y + 5) * width + x + w / 2) as usize];
+    let differs = |p: Rgb8Pixel| {
+        (p.r as i32 - bg.r as i32).abs()
+            + (p.g as i32 - bg.g as i32).abs()
+            + (p.b as i32 - bg.b as i32).abs()
+            > 120
+    };
+    // A pill (a chip) curves in at its ends: only its middle rows have a straight padding.
+    let (rows, inset) = if pill {
+        (y + h / 2 - 4..y + h / 2 + 4, 6)
+    } else {
+        (y + 12..y + h - 12, 4)
+    };
+    let mut n = 0;
+    for row in rows {
+        for col in (x + inset..x + inset + 5).chain(x + w - inset - 5..x + w - inset) {
+            if differs(pixels[(row * width + col) as usize]) {
+                n += 1;
+            }
+        }
+    }
+    n
+}
+
+/// Spanish at phone width, the longest labels: every button of Settings and the Log keeps its
+/// label clear of its edges ("Renombrar" once touched them) and lies inside the window; the
+/// window is rendered tall, so each control is in view. Rendered for review too.
+#[test]
+fn spanish_fits_at_phone_width() {
+    use i_slint_backend_testing::ElementHandle;
+    let (window, app, _handle) = headless_app();
+    app.show().expect("show");
+    app.global::<SettingsAdapter>().invoke_set_lang(1);
+    let out = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
+    std::fs::create_dir_all(&out).unwrap();
+    let (w, h) = (400u32, 7000u32);
+    let mut failures = Vec::new();
+    let mut seen = 0;
+    for (screen, name) in [(4, "settings-phone-full-es"), (3, "log-phone-full-es")] {
+        app.global::<Nav>().invoke_go(screen);
+        let pixels = render(&window, w, h);
+        save_png(&out.join(format!("{name}.png")), &pixels, w, h);
+        for kind in ["ActionButton", "Chip"] {
+            for button in ElementHandle::find_by_element_type_name(&app, kind) {
+                let label = button.accessible_label().unwrap_or_default();
+                let p = button.absolute_position();
+                let s = button.size();
+                if s.width < 1.0 || s.height < 1.0 {
+                    continue;
+                }
+                // Chips of a sideways row may run past the window: they scroll, with a hint.
+                if kind == "ActionButton" && (p.x < 0.0 || p.x + s.width > w as f32 + 0.5) {
+                    failures.push(format!("{name}: {label:?} runs out of the window"));
+                    continue;
+                }
+                // A chip under the row's scroll hint (the fade and arrow at the right edge,
+                // 44 px) is meant to be covered: it says the row goes on.
+                let hinted = kind == "Chip" && p.x + s.width > w as f32 - 60.0;
+                if hinted || p.x < 0.0 || p.x + s.width > w as f32 || p.y + s.height > h as f32 {
+                    continue;
+                }
+                seen += 1;
+                let rect = (p.x as u32, p.y as u32, s.width as u32, s.height as u32);
+                let ink = ink_at_edges(&pixels, w, rect, kind == "Chip");
+                if ink > 0 {
+                    failures.push(format!(
+                        "{name}: {label:?} touches its edges ({ink} pixels, {:.0} px wide)",
+                        s.width
+                    ));
+                }
+            }
+        }
+    }
+    assert!(
+        seen > 20,
+        "only {seen} buttons checked: the finder saw too few"
+    );
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
 }

@@ -17,7 +17,7 @@ use super::log_screen::Chip;
 use super::numbers::Lang;
 use super::seams::{CalcEngine, CalcKind, connected_engine};
 use super::site_editor::{
-    PrecisionForm, ProductFields, SiteLine, instrument_choices, precision_lines,
+    PrecisionForm, ProductFields, SiteLine, instrument_choices, limit_parameters, precision_lines,
 };
 use super::sites::{self, LimitForm, ProductForm, PumpForm};
 use super::state::{AppState, DateRange, LogEdit, Note, PlotView, Screen, utc_today};
@@ -78,6 +78,18 @@ struct Inner {
 
 fn s(text: impl AsRef<str>) -> SharedString {
     SharedString::from(text.as_ref())
+}
+
+/// An axis's values as the plot view takes them.
+fn ticks(list: &[super::plots::Tick]) -> ModelRc<PlotTick> {
+    model(
+        list.iter()
+            .map(|t| PlotTick {
+                label: s(&t.label),
+                at: t.at as f32,
+            })
+            .collect(),
+    )
 }
 
 fn model<T: Clone + 'static>(v: Vec<T>) -> ModelRc<T> {
@@ -471,7 +483,9 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         let w = i.window();
         let a = w.global::<SettingsAdapter>();
         let form = LimitForm {
-            parameter: a.get_limit_parameter().to_string(),
+            parameter: limit_parameters()
+                .get(a.get_limit_parameter_index().max(0) as usize)
+                .map_or_else(String::new, |p| p.to_string()),
             min: a.get_limit_min().to_string(),
             max: a.get_limit_max().to_string(),
             unit: a.get_limit_unit().to_string(),
@@ -544,12 +558,8 @@ impl Inner {
 
     /// A chemical or product name: translated when it is a known key, else as given.
     fn name(&self, name: &str) -> String {
-        let texts = self.texts.borrow();
-        if texts.has(name) {
-            texts.get(name)
-        } else {
-            name.to_string()
-        }
+        // The one wording of a name, the one the no-raw-key test renders.
+        super::words::Words::name(&*self.texts.borrow(), name)
     }
 
     fn unit(&self, unit: Unit) -> String {
@@ -677,7 +687,10 @@ impl Inner {
         drop(st);
         let w = self.window();
         let a = w.global::<SettingsAdapter>();
-        a.set_limit_parameter(s(&l.parameter));
+        // A stored parameter no calculation checks has no place in the choice: the list row
+        // says so, and the form starts from the first checked parameter.
+        let index = limit_parameters().iter().position(|p| *p == l.parameter);
+        a.set_limit_parameter_index(index.map_or(0, |i| i as i32));
         a.set_limit_min(s(&l.min));
         a.set_limit_max(s(&l.max));
         a.set_limit_unit(s(&l.unit));
@@ -732,6 +745,8 @@ impl Inner {
             .unwrap_or(Instrument::FlowMeter);
         a.set_precision_unit(s(self.unit(instrument.quantity().unit(st.session.units()))));
         a.set_default_limits(rows(view.default_limits));
+        a.set_limit_parameters(texts(view.limit_parameters));
+        a.set_limit_parameter_hints(texts(view.limit_parameter_hints));
         a.set_catalog_products(texts(view.catalog_products));
         a.set_bases(texts(view.bases));
         a.set_pump_units(model(
@@ -998,6 +1013,11 @@ impl Inner {
             markers: s(t.markers),
             legend: s(t.legend),
             message: s(t.message),
+            y_ticks: ticks(&t.y_ticks),
+            x_ticks: ticks(&t.x_ticks),
+            target: s(t.target),
+            target_label: s(t.target_label),
+            target_at: t.target_at as f32,
         }
     }
 

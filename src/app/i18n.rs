@@ -211,7 +211,7 @@ mod tests {
         check(
             engine::check_positive("specific gravity", f64::NAN, "").unwrap_err(),
             "Specific gravity must be a number.",
-            "Gravedad específica debe ser un número.",
+            "Densidad relativa debe ser un número.",
         );
     }
 
@@ -238,5 +238,213 @@ mod tests {
         assert_eq!(sentence_case("flow is zero".into()), "Flow is zero");
         assert_eq!(sentence_case("ácido".into()), "Ácido");
         assert_eq!(sentence_case(String::new()), "");
+    }
+
+    /// Prefixes of the app's translation keys: a rendered word that starts with one of these
+    /// and is kebab-case is a key that reached the screen untranslated.
+    const KEY_PREFIXES: &[&str] = &[
+        "product-",
+        "hazard-",
+        "ppe-",
+        "incompatible-",
+        "result-",
+        "field-",
+        "error-",
+        "caution-",
+        "trace-",
+        "origin-",
+        "unit-",
+        "calc-",
+        "mode-",
+        "quantity-",
+        "basis-",
+        "site-",
+        "log-",
+        "plot-",
+        "settings-",
+        "pump-",
+        "limit-",
+        "parameter-",
+        "instrument-",
+    ];
+
+    /// The first word of `text` that reads as a translation key, if any: i18n-embed's text for
+    /// a missing message, a word that is a key the app uses, or a kebab-case word with a key's
+    /// prefix (`product-carbon-dioxide`).
+    fn key_like(text: &str, keys: &std::collections::BTreeSet<String>) -> Option<String> {
+        if text.contains("No localization") {
+            return Some(text.to_string());
+        }
+        text.split(|c: char| !(c.is_ascii_alphanumeric() || c == '-'))
+            .find(|w| {
+                let kebab = w.contains('-')
+                    && w.split('-').all(|p| {
+                        !p.is_empty()
+                            && p.chars()
+                                .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit())
+                    });
+                kebab && (keys.contains(*w) || KEY_PREFIXES.iter().any(|k| w.starts_with(k)))
+            })
+            .map(str::to_string)
+    }
+
+    /// Arguments for `key`: each `$name` of its English text, with a plain value ("1.5"; a
+    /// `field` gets a field key, as the engine's limit caution passes one).
+    fn args_of(key: &str) -> Vec<(String, String)> {
+        let en = include_str!("../../i18n/en/molefeed.ftl");
+        let line = en
+            .lines()
+            .find(|l| l.split_once('=').is_some_and(|(k, _)| k.trim() == key))
+            .unwrap_or_default();
+        line.split('$')
+            .skip(1)
+            .map(|a| {
+                let name: String = a
+                    .chars()
+                    .take_while(|c| c.is_ascii_alphanumeric() || *c == '_' || *c == '-')
+                    .collect();
+                let value = if name == "field" {
+                    "field-residual-target".to_string()
+                } else {
+                    "1.5".to_string()
+                };
+                (name, value)
+            })
+            .collect()
+    }
+
+    /// No key reaches the screen in either language: every product chip of every calculator
+    /// (the products the engine offers each screen variant), every catalog product, every
+    /// caution the engine can raise as the card words it, every refusal reason as the card
+    /// says it, every result caption, calculator, variant, field, unit, trace heading and
+    /// factor origin — all through the Fluent texts the app runs on. A missing translation
+    /// would show the key itself (the chip once read `product-carbon-dioxide`).
+    #[test]
+    fn no_key_reaches_the_screen_in_either_language() {
+        use super::super::calc_screen::caution_lines;
+        use super::super::engine_adapter::DosingEngine;
+        use super::super::keys;
+        use super::super::seams::{CalcEngine, CalcKind, Caution, CautionLevel};
+        use super::super::words::Words;
+
+        let known: std::collections::BTreeSet<String> = keys::dynamic_keys().into_iter().collect();
+        let engine = DosingEngine::new().unwrap();
+        let catalog = engine::dosing::catalog::Catalog::builtin().unwrap();
+        let mut checked = 0;
+        for lang in Lang::ALL {
+            let texts = Texts::new(lang);
+            let words: &dyn Words = &texts;
+            let mut shown: Vec<(String, String)> = Vec::new();
+            let mut see = |what: String, text: String| shown.push((what, text));
+            for kind in CalcKind::all() {
+                see(
+                    kind.code().into(),
+                    words.get(&format!("calc-{}", kind.code())),
+                );
+                let modes = kind.modes();
+                for mode in &modes {
+                    // A variant's chip is shown only where a screen has more than one.
+                    if modes.len() > 1 {
+                        see(
+                            mode.code().into(),
+                            words.get(&format!("mode-{}", mode.code())),
+                        );
+                    }
+                    let mode = *mode;
+                    for p in engine.products(kind, mode) {
+                        see(p.name_key.clone(), words.name(&p.name_key));
+                    }
+                }
+            }
+            for p in &catalog.products {
+                see(p.name_key.clone(), words.name(&p.name_key));
+            }
+            for code in keys::ENGINE_TEXT_KEYS {
+                let caution = Caution {
+                    level: CautionLevel::Warning,
+                    code: code.to_string(),
+                    message: code.to_string(),
+                    params: args_of(code),
+                };
+                for line in caution_lines(&[caution], words) {
+                    see(code.to_string(), line.text);
+                    see(code.to_string(), line.word);
+                }
+            }
+            for reason in keys::ERROR_REASONS {
+                let e = engine::Error::new(engine::ErrorKind::InvalidInput, "refused")
+                    .because(reason)
+                    .with("quantity", "flow")
+                    .with("value", "1.5");
+                see(reason.to_string(), texts.error(&e));
+            }
+            for kind in keys::all_error_kinds() {
+                let e = engine::Error::new(kind, "refused");
+                see(kind.code().into(), texts.error(&e));
+            }
+            for k in keys::extra_keys() {
+                see(k.clone(), words.get(&format!("result-{k}")));
+            }
+            for k in [
+                "result-dose",
+                "result-actual-dose",
+                "result-feed",
+                "result-product",
+                "result-feeder-rate",
+                "result-pump",
+                "result-feeder-setting",
+                "result-suggested-pump-setting",
+                "result-suggested-feeder-setting",
+            ] {
+                see(k.into(), words.get(k));
+            }
+            for k in known.iter().filter(|k| {
+                [
+                    "field-",
+                    "unit-",
+                    "trace-",
+                    "origin-",
+                    "quantity-",
+                    "basis-",
+                ]
+                .iter()
+                .any(|p| k.starts_with(p))
+            }) {
+                let args: Vec<(String, String)> = args_of(k);
+                let args: Vec<(&str, String)> =
+                    args.iter().map(|(n, v)| (n.as_str(), v.clone())).collect();
+                see(k.clone(), words.get_args(k, &args));
+            }
+            for (what, text) in &shown {
+                // A unit of nothing (a pH, a ratio) is rightly empty; nothing else is.
+                assert!(
+                    !text.trim().is_empty() || what.starts_with("unit-"),
+                    "{lang:?}: {what} shows nothing"
+                );
+                if let Some(word) = key_like(text, &known) {
+                    panic!("{lang:?}: {what} shows the key {word:?} in {text:?}");
+                }
+            }
+            checked += shown.len();
+        }
+        assert!(checked > 600, "only {checked} texts rendered");
+    }
+
+    /// The check itself sees a key: the words a missing translation would show.
+    #[test]
+    fn a_key_on_screen_is_seen() {
+        let known = ["product-carbon-dioxide".to_string()].into_iter().collect();
+        let texts = Texts::new(Lang::Es);
+        for (text, seen) in [
+            ("product-carbon-dioxide", true),
+            ("Dióxido de carbono · product-carbon-dioxide", true),
+            (texts.get("product-no-such-thing").as_str(), true),
+            ("hazard-new-one (ppm = 3)", true),
+            ("Dióxido de carbono", false),
+            ("pH 6.5–8.5, Cl2:NH3-N 4.5:1", false),
+            ("físico-químico", false),
+        ] {
+            assert_eq!(key_like(text, &known).is_some(), seen, "{text}");
+        }
     }
 }

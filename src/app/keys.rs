@@ -221,6 +221,7 @@ pub const TRACE_LABELS: &[&str] = &[
     "monochloramine-ratio",
     "pounds-factor",
     "pump-setting",
+    "feeder-setting",
     "soda-ash-per-nch",
     "solids-per-dose",
     "target-strength",
@@ -463,6 +464,19 @@ pub fn dynamic_keys() -> Vec<String> {
         crate::engine::precision::Instrument::ALL
             .iter()
             .map(|i| format!("instrument-{}", i.code())),
+    );
+    // A plant limit's parameter in words: those a calculation checks (the form's choices)
+    // and those of the regulatory defaults listed beside them.
+    keys.extend(
+        crate::engine::calculators::checked_limit_parameters()
+            .into_iter()
+            .map(str::to_string)
+            .chain(
+                crate::engine::dosing::site::regulatory_defaults()
+                    .into_iter()
+                    .map(|l| l.parameter),
+            )
+            .map(|p| format!("parameter-{p}")),
     );
     // Every field's unit says its basis.
     keys.extend(

@@ -855,16 +855,24 @@ impl LogScreen {
         }
     }
 
-    /// The correction form's dose and note for the open entry, as recorded (the dose to six
-    /// figures without trailing zeros, in the language's decimal mark).
+    /// The correction form's dose and note for the open entry, as recorded: the dose to the
+    /// figures the card showed it with (three when the entry kept no shown text), in the
+    /// language's decimal mark — the number the operator read, not the engine's full float.
     pub fn correction_fields(&self, lang: Lang) -> Option<(String, String)> {
         let e = self.selected_entry()?;
         let dose = e.dose.dose_mg_per_l().unwrap_or_default();
-        let dose = numbers::format_sig(dose, 6, lang)
-            .trim_end_matches('0')
-            .trim_end_matches(['.', ','])
-            .to_string();
-        Some((dose, e.dose.note.clone()))
+        let figures = e
+            .dose
+            .result(crate::log::record::result_id::DOSE)
+            .and_then(|r| {
+                let shown = r.shown.split(" (").next()?.trim().replace(',', ".");
+                crate::engine::sigfig::count_sig_figs(&shown)
+            })
+            .map_or(3, |f| u32::from(f).clamp(1, 6));
+        Some((
+            numbers::format_sig(dose, figures, lang),
+            e.dose.note.clone(),
+        ))
     }
 
     /// The open entry's detail as "label: value" lines, and its status in words.
@@ -1378,11 +1386,13 @@ mod tests {
             assert_eq!(text, want, "{dose} in {lang:?}");
             assert_eq!(note, example_dose().note);
         };
-        check(&mut s, 1.5, Lang::En, "1.5");
-        check(&mut s, 1.5, Lang::Es, "1,5");
-        check(&mut s, 2.0, Lang::En, "2");
-        check(&mut s, 10.0, Lang::En, "10");
-        check(&mut s, 0.123456, Lang::En, "0.123456");
+        // The example entry showed its dose as "1.80": the form keeps those three figures.
+        check(&mut s, 1.5, Lang::En, "1.50");
+        check(&mut s, 1.5, Lang::Es, "1,50");
+        check(&mut s, 2.0, Lang::En, "2.00");
+        check(&mut s, 10.0, Lang::En, "10.0");
+        check(&mut s, 0.123456, Lang::En, "0.123");
+        check(&mut s, 8.506894, Lang::En, "8.51");
     }
 
     /// The chip rows: "any" first, the values present in the log, the chosen one marked; a

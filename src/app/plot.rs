@@ -93,6 +93,49 @@ pub fn crosshair(x: Option<f64>, y: Option<f64>, xr: Range, yr: Range) -> String
     parts.join(" ")
 }
 
+/// Round-number ticks inside `r`, about `count` of them: steps of 1, 2 or 5 × 10ⁿ (a pH axis
+/// from 6.2 to 10.9 gets 7, 8, 9, 10). Empty for a count of zero.
+pub fn ticks(r: Range, count: usize) -> Vec<f64> {
+    let span = r.hi - r.lo;
+    if count == 0 || !span.is_finite() || span <= 0.0 {
+        return Vec::new();
+    }
+    let rough = span / count as f64;
+    let power = 10f64.powf(rough.log10().floor());
+    let m = [1.0, 2.0, 5.0, 10.0]
+        .into_iter()
+        .find(|m| m * power >= rough)
+        .unwrap_or(10.0);
+    // A step below one as a whole multiplier over a power of ten, so each tick is one exact
+    // division (7.1, never 7.1000000000000005).
+    let (mult, div) = if power < 1.0 {
+        (m, (1.0 / power).round())
+    } else {
+        (m * power, 1.0)
+    };
+    let step = mult / div;
+    let first = (r.lo / step - 1e-9).ceil() as i64;
+    let last = (r.hi / step + 1e-9).floor() as i64;
+    (first..=last).map(|i| i as f64 * mult / div).collect()
+}
+
+/// Where `v` sits across `r`: 0 at its low end, 1 at its high end.
+pub fn fraction(v: f64, r: Range) -> f64 {
+    (v - r.lo) / (r.hi - r.lo)
+}
+
+/// Short marks up from the x axis at each of `ticks` x values, 3 % of the view box high.
+pub fn x_marks(ticks: &[f64], x: Range) -> String {
+    ticks
+        .iter()
+        .map(|t| {
+            let sx = fraction(*t, x) * VIEW_W;
+            format!("M {sx:.1} {VIEW_H} L {sx:.1} {:.1}", VIEW_H * 0.97)
+        })
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -139,6 +182,26 @@ mod tests {
         assert_eq!(
             grid(&[5.0], Range { lo: 0.0, hi: 10.0 }),
             "M 0 300.0 L 1000 300.0"
+        );
+    }
+
+    /// Ticks by hand: the round numbers of each range, 1–2–5 steps.
+    #[test]
+    fn ticks_are_round_numbers_inside_the_range() {
+        let check = |lo: f64, hi: f64, count: usize, want: &[f64]| {
+            assert_eq!(ticks(Range { lo, hi }, count), want, "{lo}–{hi}");
+        };
+        check(6.2, 10.9, 6, &[7.0, 8.0, 9.0, 10.0]);
+        check(4.0, 11.0, 6, &[4.0, 6.0, 8.0, 10.0]);
+        check(0.0, 24.0, 5, &[0.0, 5.0, 10.0, 15.0, 20.0]);
+        check(7.05, 7.35, 4, &[7.1, 7.2, 7.3]);
+        check(0.0, 0.3, 3, &[0.0, 0.1, 0.2, 0.3]);
+        check(1.0, 1.0, 4, &[]);
+        check(0.0, 1.0, 0, &[]);
+        assert_eq!(fraction(7.5, Range { lo: 6.0, hi: 9.0 }), 0.5);
+        assert_eq!(
+            x_marks(&[5.0], Range { lo: 0.0, hi: 10.0 }),
+            "M 500.0 600 L 500.0 582.0"
         );
     }
 }

@@ -13,6 +13,7 @@ use super::plot::{self, Range};
 use super::seams::{CalcKind, SeamError};
 use super::session::Note;
 use super::words::Words;
+use crate::engine::quantity::Quantity;
 
 /// A drawn plot: command strings in the view box of [`plot`], or why there is none.
 #[derive(Clone, Debug, PartialEq, Default)]
@@ -31,7 +32,26 @@ pub struct PlotView {
     pub markers: String,
     pub legend: Option<Note>,
     pub message: Option<Note>,
+    /// The values written along each axis, where each sits across it (0 at the low end).
+    pub y_ticks: Vec<Tick>,
+    pub x_ticks: Vec<Tick>,
+    /// The line of the target (the pH the calculator doses to), and its label in words.
+    pub target: String,
+    pub target_label: Option<Note>,
+    /// Where the target sits up the y axis (0 at the low end).
+    pub target_at: f64,
 }
+
+/// One value written along an axis.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct Tick {
+    pub label: String,
+    pub at: f64,
+}
+
+/// About as many values as a phone's axis has room for.
+const Y_TICKS: usize = 6;
+const X_TICKS: usize = 5;
 
 /// The titration curve for the calculator in use when it draws one (coagulation: pH
 /// against coagulant, hydroxide precipitating), otherwise the first screen of the table
@@ -79,6 +99,23 @@ pub fn titration(calc: &CalcController, lang: Lang) -> PlotView {
         &curve.titrant,
         lang,
     );
+    // The target: the calculator's pH input that is checked against a plant limit (a target,
+    // in the table's terms), marked across the curve with its value.
+    let target = mode
+        .calculator()
+        .inputs
+        .iter()
+        .find(|i| i.quantity == Quantity::Ph && i.limit.is_some())
+        .and_then(|i| request.get(i.name));
+    if let (Some(target), Some((x, y))) = (target, ranges(&curve.points))
+        && (y.lo..=y.hi).contains(&target)
+    {
+        view.target = plot::crosshair(None, Some(target), x, y);
+        view.target_at = plot::fraction(target, y);
+        view.target_label = Some(
+            Note::new(key("plot-target-ph")).arg("ph", numbers::format_fixed(target, 2, lang)),
+        );
+    }
     // The chosen point: the dose the calculator gives and the pH it reaches there.
     let outcome = engine.compute(&request).ok();
     let dose = outcome.as_ref().and_then(|o| o.dose_mg_per_l);
@@ -154,9 +191,28 @@ fn plot_of(points: &[(f64, f64)], x_key: &str, subject: &str, lang: Lang) -> Plo
             ..PlotView::default()
         };
     };
+    let y_ticks = plot::ticks(y, Y_TICKS);
+    let x_ticks = plot::ticks(x, X_TICKS);
+    let tick = |r: Range| {
+        move |v: &f64| Tick {
+            // A round number as it is written (7, 7.5, 0.2), in the language's mark.
+            label: numbers::format_fixed(
+                *v,
+                format!("{v}").split('.').nth(1).map_or(0, str::len),
+                lang,
+            ),
+            at: plot::fraction(*v, r),
+        }
+    };
     PlotView {
         commands: plot::polyline(points, x, y),
-        grid: plot::grid(&[y.lo + (y.hi - y.lo) / 2.0], y),
+        // A grid line at each value of the y axis, a short mark at each of the x axis.
+        grid: [plot::grid(&y_ticks, y), plot::x_marks(&x_ticks, x)]
+            .join(" ")
+            .trim()
+            .to_string(),
+        y_ticks: y_ticks.iter().map(tick(y)).collect(),
+        x_ticks: x_ticks.iter().map(tick(x)).collect(),
         x_key: x_key.to_string(),
         subject: subject.to_string(),
         y_lo: numbers::format_sig(y.lo, 3, lang),
@@ -166,6 +222,9 @@ fn plot_of(points: &[(f64, f64)], x_key: &str, subject: &str, lang: Lang) -> Plo
         markers: String::new(),
         legend: None,
         message: None,
+        target: String::new(),
+        target_label: None,
+        target_at: 0.0,
     }
 }
 
@@ -185,6 +244,11 @@ pub struct PlotText {
     pub markers: String,
     pub legend: String,
     pub message: String,
+    pub y_ticks: Vec<Tick>,
+    pub x_ticks: Vec<Tick>,
+    pub target: String,
+    pub target_label: String,
+    pub target_at: f64,
 }
 
 impl PlotView {
@@ -208,6 +272,11 @@ impl PlotView {
             markers: self.markers.clone(),
             legend: note(&self.legend),
             message: note(&self.message),
+            y_ticks: self.y_ticks.clone(),
+            x_ticks: self.x_ticks.clone(),
+            target: self.target.clone(),
+            target_label: note(&self.target_label),
+            target_at: self.target_at,
         }
     }
 }

@@ -320,9 +320,14 @@ pub struct EditorView {
     pub pumps: Vec<SiteLine>,
     /// The delivered products as the pump form's choices, `name (id)`.
     pub delivered: Vec<String>,
-    /// The plant's own limits, then the regulatory defaults it does not override.
+    /// The plant's own limits, then the regulatory defaults it does not override; a limit no
+    /// calculation checks says so in its detail.
     pub limits: Vec<SiteLine>,
     pub default_limits: Vec<SiteLine>,
+    /// The limit form's choice of parameter: the engine's checked parameters in words, and
+    /// for each which of the site's taps read it.
+    pub limit_parameters: Vec<String>,
+    pub limit_parameter_hints: Vec<String>,
     /// The catalog's products (the product form's choices) and the strength bases.
     pub catalog_products: Vec<String>,
     pub bases: Vec<String>,
@@ -393,12 +398,34 @@ impl SiteEditor {
             .iter()
             .map(|d| format!("{} ({})", product_name(&d.product), d.id))
             .collect();
-        let limits = site.limits.iter().map(|l| limit_line(l, lang)).collect();
+        let limits = site
+            .limits
+            .iter()
+            .map(|l| limit_line(l, lang, words))
+            .collect();
         let default_limits = self
             .site_limits(session)
             .iter()
             .filter(|l| !site.limits.iter().any(|own| own.parameter == l.parameter))
-            .map(|l| limit_line(l, lang))
+            .map(|l| limit_line(l, lang, words))
+            .collect();
+        let checked = limit_parameters();
+        let parameter_names = checked.iter().map(|p| parameter_name(p, words)).collect();
+        let limit_parameter_hints = checked
+            .iter()
+            .map(|p| {
+                let taps: Vec<&str> = site
+                    .sampling_taps
+                    .iter()
+                    .filter(|t| t.parameters.iter().any(|q| q.as_str() == *p))
+                    .map(|t| t.name.as_str())
+                    .collect();
+                if taps.is_empty() {
+                    words.get(key("settings-limit-no-tap"))
+                } else {
+                    words.get_args(key("settings-limit-taps"), &[("taps", taps.join(", "))])
+                }
+            })
             .collect();
         let catalog_products = session
             .catalog()
@@ -419,6 +446,8 @@ impl SiteEditor {
             delivered,
             limits,
             default_limits,
+            limit_parameters: parameter_names,
+            limit_parameter_hints,
             catalog_products,
             bases,
             message,
@@ -512,8 +541,24 @@ impl SiteEditor {
     }
 }
 
-/// A limit as a row: `parameter: range unit` over its source.
-fn limit_line(l: &Limit, lang: Lang) -> SiteLine {
+/// The parameters a plant limit can be set for: the engine's checked ones, in its order.
+pub fn limit_parameters() -> Vec<&'static str> {
+    crate::engine::calculators::checked_limit_parameters()
+}
+
+/// A limit parameter in words (`parameter-<code>`), or its code where it has no name.
+pub fn parameter_name(code: &str, words: &dyn Words) -> String {
+    let k = format!("parameter-{code}");
+    if words.has(&k) {
+        words.get(&k)
+    } else {
+        code.to_string()
+    }
+}
+
+/// A limit as a row: `parameter: range unit` over its source; a limit no calculation checks
+/// says so first, so it is never taken for a safeguard.
+fn limit_line(l: &Limit, lang: Lang, words: &dyn Words) -> SiteLine {
     let number = |v: f64| sites::show(v, lang);
     let range = match (l.min, l.max) {
         (Some(lo), Some(hi)) => format!("{}–{}", number(lo), number(hi)),
@@ -521,11 +566,24 @@ fn limit_line(l: &Limit, lang: Lang) -> SiteLine {
         (None, Some(hi)) => format!("≤ {}", number(hi)),
         (None, None) => String::new(),
     };
+    let detail = if sites::is_checked(&l.parameter) {
+        l.source.clone()
+    } else {
+        format!(
+            "{} {}",
+            words.get(key("settings-limit-unchecked")),
+            l.source
+        )
+    };
     SiteLine {
-        title: format!("{}: {range} {}", l.parameter, l.unit)
-            .trim_end()
-            .to_string(),
-        detail: l.source.clone(),
+        title: format!(
+            "{}: {range} {}",
+            parameter_name(&l.parameter, words),
+            l.unit
+        )
+        .trim_end()
+        .to_string(),
+        detail,
     }
 }
 
@@ -787,6 +845,21 @@ mod tests {
                 }),
                 "site-need-source",
             ),
+            (
+                "a parameter no calculation checks",
+                Box::new(|s| {
+                    s.editor.save_limit(
+                        &mut s.session,
+                        &LimitForm {
+                            parameter: "cloro".into(),
+                            max: "4".into(),
+                            source: "Permiso".into(),
+                            ..LimitForm::default()
+                        },
+                    )
+                }),
+                "site-limit-not-checked",
+            ),
         ];
         for (what, edit, want) in cases {
             assert!(!edit(&mut s), "{what} was accepted");
@@ -810,7 +883,7 @@ mod tests {
         assert!(s.editor.save_limit(
             &mut s.session,
             &LimitForm {
-                parameter: "pH".into(),
+                parameter: "ph".into(),
                 min: "6,8".into(),
                 max: "8,2".into(),
                 unit: String::new(),
@@ -871,6 +944,11 @@ mod tests {
             ("site-number-missing", "{ $field } is missing."),
             ("field-strength", "Strength"),
             ("site-pump-peristaltic", "hose pump"),
+            ("parameter-ph", "pH"),
+            ("parameter-chlorine", "Chlorine residual"),
+            ("settings-limit-unchecked", "NOT CHECKED."),
+            ("settings-limit-taps", "Read at { $taps }."),
+            ("settings-limit-no-tap", "No tap reads it."),
         ]);
         let mut s = fixture(None);
         let view = s.editor.view(&s.session, &words);
@@ -887,7 +965,8 @@ mod tests {
         assert!(
             view.limits
                 .iter()
-                .any(|l| l.title.starts_with("chlorine: ") && l.detail.contains("Plant permit")),
+                .any(|l| l.title.starts_with("Chlorine residual: ")
+                    && l.detail.starts_with("Plant permit")),
             "{:?}",
             view.limits
         );
@@ -918,11 +997,43 @@ mod tests {
             source: "Permit".into(),
         };
         assert_eq!(
-            limit_line(&limit, Lang::Es),
+            limit_line(&limit, Lang::Es, &words),
             SiteLine {
-                title: "ph: 6,5–8,5".into(),
+                title: "pH: 6,5–8,5".into(),
                 detail: "Permit".into()
             }
+        );
+        // The demo plant's aluminium limit (`data/demo-site.json`) is checked by no calculation:
+        // it stays listed, flagged; the iron default likewise.
+        let flagged = |lines: &[SiteLine], name: &str| {
+            lines
+                .iter()
+                .find(|l| l.title.starts_with(name))
+                .map(|l| l.detail.starts_with("NOT CHECKED. "))
+        };
+        let view = s.editor.view(&s.session, &words);
+        assert_eq!(
+            flagged(&view.limits, "aluminium:"),
+            Some(true),
+            "{:?}",
+            view.limits
+        );
+        assert_eq!(flagged(&view.limits, "Chlorine residual:"), Some(false));
+        assert_eq!(flagged(&view.default_limits, "iron:"), Some(true));
+        assert_eq!(flagged(&view.default_limits, "pH:"), Some(false));
+        // The form offers the engine's checked parameters, in words, each with the taps that
+        // read it (the demo's clearwell reads chlorine; no tap reads chlorite).
+        let checked = crate::engine::calculators::checked_limit_parameters();
+        assert_eq!(view.limit_parameters.len(), checked.len());
+        let at = |code: &str| checked.iter().position(|p| *p == code).unwrap();
+        assert_eq!(view.limit_parameters[at("chlorine")], "Chlorine residual");
+        assert_eq!(
+            view.limit_parameter_hints[at("chlorine")],
+            "Read at Clearwell effluent."
+        );
+        assert_eq!(
+            view.limit_parameter_hints[at("chlorite")],
+            "No tap reads it."
         );
     }
 

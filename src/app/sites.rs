@@ -360,9 +360,14 @@ pub fn save_limit(
     lang: Lang,
     catalog: Option<&Catalog>,
 ) -> Result<(), SiteProblem> {
-    let parameter = form.parameter.trim().to_lowercase().replace(' ', "-");
+    let parameter = form.parameter.trim().to_string();
     if parameter.is_empty() {
         return Err(note(key("site-need-parameter")));
+    }
+    // Only a parameter some calculation checks: a limit nothing reads would look like a
+    // safeguard and be none.
+    if !is_checked(&parameter) {
+        return Err(note(key("site-limit-not-checked")));
     }
     let min = number(&form.min, lang, key("site-limit-min"))?;
     let max = number(&form.max, lang, key("site-limit-max"))?;
@@ -391,6 +396,11 @@ pub fn save_limit(
         None => edited.limits.push(entry),
     }
     commit(site, edited, catalog)
+}
+
+/// Whether a calculation checks a limit on `parameter` (the engine's one list).
+pub fn is_checked(parameter: &str) -> bool {
+    crate::engine::calculators::checked_limit_parameters().contains(&parameter)
 }
 
 /// Every limit that applies: the plant's entries, then the regulatory defaults it did not
@@ -423,8 +433,13 @@ pub fn site_values(
     system: UnitSystem,
 ) -> HashMap<&'static str, f64> {
     let mut out = HashMap::new();
-    if let Some(flow) = site.typical_flow.and_then(|f| f.m3_per_day().ok()) {
-        out.insert("flow", Quantity::Flow.unit(system).from_si(flow));
+    if let Some(f) = site.typical_flow
+        && let Ok(flow) = f.m3_per_day()
+    {
+        out.insert(
+            "flow",
+            as_stated(f.value, Quantity::Flow.unit(system).from_si(flow)),
+        );
     }
     let Some(delivered) = product.and_then(|p| site.delivered_of(p)) else {
         return out;
@@ -445,20 +460,27 @@ pub fn site_values(
     if let Some(sg) = delivered.sg {
         out.insert("specific-gravity", sg);
     }
-    let per_day = |kg: f64| Quantity::MassPerDay.unit(system).from_si(kg);
+    let per_day =
+        |capacity: f64, kg: f64| as_stated(capacity, Quantity::MassPerDay.unit(system).from_si(kg));
     match site.pump_for(&delivered.id).map(|p| p.kind) {
         Some(PumpKind::Metering { capacity, unit }) => {
             let l_per_hour = capacity * unit.l_per_day() / 24.0;
             out.insert(
                 "pump-capacity",
-                Quantity::VolumePerHour.unit(system).from_si(l_per_hour),
+                as_stated(
+                    capacity,
+                    Quantity::VolumePerHour.unit(system).from_si(l_per_hour),
+                ),
             );
         }
         Some(PumpKind::GasFeeder { capacity, unit }) => {
-            out.insert("gas-feeder-capacity", per_day(capacity * unit.kg_per_day()));
+            out.insert(
+                "gas-feeder-capacity",
+                per_day(capacity, capacity * unit.kg_per_day()),
+            );
         }
         Some(PumpKind::DryFeeder { capacity, unit }) => {
-            let scale = per_day(capacity * unit.kg_per_day());
+            let scale = per_day(capacity, capacity * unit.kg_per_day());
             out.insert("dry-feeder-capacity", scale);
             out.insert("lime-feeder-capacity", scale);
         }
@@ -466,6 +488,18 @@ pub fn site_values(
         Some(PumpKind::Peristaltic { .. }) | None => {}
     }
     out
+}
+
+/// A profile number as a field shows it: as stored when the field's unit is the stored one
+/// (the same number back, to within float noise); converted into another unit, three
+/// significant figures (30 L/h is 7.93 gal/h, not 7.925…): a prefill says what the plant
+/// wrote down, and a conversion adds no digits it did not have.
+fn as_stated(stored: f64, shown: f64) -> f64 {
+    if (shown - stored).abs() <= 1e-9 * stored.abs() {
+        stored
+    } else {
+        crate::engine::sigfig::round_sig(shown, 3)
+    }
 }
 
 /// Remembers what the app filled in, so that it can refill its own text (another product
@@ -543,4 +577,57 @@ fn trim_zeros(text: &str, lang: Lang) -> String {
     text.trim_end_matches('0')
         .trim_end_matches(mark)
         .to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The demo plant (`data/demo-site.json`): caustic pump 30 L/h, hypochlorite pump 10 gph,
+    /// lime feeder 400 lb/d, typical flow 2.4 MGD. By hand with the exact definitions
+    /// (1 US gal = 3.785411784 L, 1 lb = 0.45359237 kg): 30 L/h = 7.925 gal/h → 7.93;
+    /// 10 gph = 37.854 L/h → 37.9; 400 lb/d = 181.44 kg/d → 181; 2.4 MGD = 9084.99 m³/d → 9080.
+    #[test]
+    fn a_prefill_converted_to_another_unit_has_three_figures() {
+        let catalog = Catalog::builtin().unwrap();
+        let site = SiteProfile::demo(&catalog).unwrap();
+        let check = |product: &str, system: UnitSystem, field: &str, want: &str| {
+            let values = site_values(&site, Some(&catalog), Some(product), system);
+            assert_eq!(
+                show(values[field], Lang::En),
+                want,
+                "{product} {field} {system:?}"
+            );
+        };
+        check("sodium-hydroxide", UnitSystem::Us, "pump-capacity", "7.93");
+        check("sodium-hydroxide", UnitSystem::Si, "pump-capacity", "30");
+        check("sodium-hypochlorite", UnitSystem::Us, "pump-capacity", "10");
+        check(
+            "sodium-hypochlorite",
+            UnitSystem::Si,
+            "pump-capacity",
+            "37.9",
+        );
+        check(
+            "hydrated-lime",
+            UnitSystem::Us,
+            "lime-feeder-capacity",
+            "400",
+        );
+        check(
+            "hydrated-lime",
+            UnitSystem::Si,
+            "lime-feeder-capacity",
+            "181",
+        );
+        check("sodium-hypochlorite", UnitSystem::Us, "flow", "2.4");
+        check("sodium-hypochlorite", UnitSystem::Si, "flow", "9080");
+        // Numbers of the certificate are never converted: as stored.
+        check(
+            "sodium-hypochlorite",
+            UnitSystem::Si,
+            "specific-gravity",
+            "1.165",
+        );
+    }
 }

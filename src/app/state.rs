@@ -655,8 +655,8 @@ mod tests {
                 ("pump-capacity", "30"),
             ],
         );
-        let flow: f64 = s.calc.text("flow").parse().unwrap();
-        assert!((flow - 9085.0).abs() < 1.0, "2.4 MGD in m³/d: {flow}");
+        // By hand: 2.4 MGD × 3785.411784 m³/MG = 9084.99 m³/d, converted: three figures.
+        assert_eq!(s.calc.text("flow"), "9080", "2.4 MGD in m³/d");
     }
 
     #[test]
@@ -1020,6 +1020,29 @@ mod tests {
             legend.args.contains(&("start", "6.80".to_string())),
             "{legend:?}"
         );
+        // The target pH typed (7.40) is marked and said; the pH axis carries round values,
+        // one grid line each, placed where they fall across the axis.
+        let target = ph.target_label.as_ref().expect("the target pH in words");
+        assert_eq!(target.key, "plot-target-ph");
+        assert!(
+            target.args.contains(&("ph", "7.40".to_string())),
+            "{target:?}"
+        );
+        assert_eq!(ph.target.matches('M').count(), 1, "{}", ph.target);
+        assert!(ph.target_at > 0.0 && ph.target_at < 1.0);
+        assert!(ph.y_ticks.len() >= 3, "{:?}", ph.y_ticks);
+        for t in &ph.y_ticks {
+            let v: f64 = t.label.parse().unwrap();
+            assert!((0.0..=1.0).contains(&t.at), "{t:?}");
+            // Steps of 1, 2 or 5 × 10ⁿ: a pH axis of a few units is labelled at round values.
+            assert!((v * 10.0 - (v * 10.0).round()).abs() < 1e-9, "{t:?}");
+        }
+        assert_eq!(
+            ph.grid.matches('M').count(),
+            ph.y_ticks.len() + ph.x_ticks.len(),
+            "a line per y value, a mark per x value"
+        );
+        assert!(ph.x_ticks.len() >= 3, "{:?}", ph.x_ticks);
 
         s.open_calculator(CalcKind::of("coagulation"));
         assert_eq!(
@@ -1050,6 +1073,7 @@ mod tests {
             "two figures typed: {legend:?}"
         );
         assert_eq!(coag.x_lo, "0");
+        assert_eq!(coag.target_label, None, "coagulation doses to no target pH");
     }
 
     #[test]

@@ -564,7 +564,15 @@ pub(super) fn coagulation(c: &Calculators, request: &Request) -> Result<Outcome>
     )?;
     let r = c.feed_for(request, dose)?;
     let mut traces = std::mem::take(&mut co.traces);
-    traces.extend(solids.traces.iter().cloned());
+    // The sludge estimate derives the solids per mg/L of coagulant again: that section is
+    // shown once, from the coagulation step.
+    let fresh: Vec<NamedTrace> = solids
+        .traces
+        .iter()
+        .filter(|t| !traces.iter().any(|u| u.label == t.label))
+        .cloned()
+        .collect();
+    traces.extend(fresh);
     let mut out = c.feed_outcome(&r, traces, co.cautions.clone())?;
     let caco3 = Some("CaCO3");
     out.results.push(result(

@@ -968,6 +968,31 @@ fn ranges(
     Vec::new()
 }
 
+/// Limit parameters a compute function checks itself rather than through an input's `limit`:
+/// the chlorite a chlorine dioxide dose is expected to leave. A source scan in the tests keeps
+/// this list whole.
+const CHECKED_IN_COMPUTE: &[&str] = &["chlorite"];
+
+/// Every plant-limit parameter some calculation checks, in a stable order: the limits of the
+/// table's targets, the limits related to them (`site::related_limits`) and those compute
+/// functions check. The one list a front end offers a plant's limits from: a limit on any
+/// other parameter is never checked by anything.
+pub fn checked_limit_parameters() -> Vec<&'static str> {
+    let mut out: Vec<&'static str> = Vec::new();
+    let targets = all()
+        .iter()
+        .flat_map(|c| c.inputs.iter())
+        .filter_map(|i| i.limit);
+    for parameter in targets.chain(CHECKED_IN_COMPUTE.iter().copied()) {
+        for p in std::iter::once(parameter).chain(site::related_limits(parameter).iter().copied()) {
+            if !out.contains(&p) {
+                out.push(p);
+            }
+        }
+    }
+    out
+}
+
 /// Cautions for targets outside the plant's limits: above a maximum or below a minimum, each
 /// naming the limit and its source. The one limit check every calculator shares.
 fn limit_cautions(inputs: &[Input], request: &Request) -> Vec<Caution> {

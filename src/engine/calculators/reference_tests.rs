@@ -781,10 +781,15 @@ fn check(engine: &Calculators, case: ByMass) {
             "{product}: {hazard} not on the card"
         );
     }
+    // Headed as the feeder's setting: a dry or gas feeder is no pump.
+    let lines = out.trace_lines();
     assert!(
-        out.trace_lines()
-            .contains(&TraceLine::Heading("pump-setting".into())),
+        lines.contains(&TraceLine::Heading("feeder-setting".into())),
         "{product}: the feeder setting's work is shown"
+    );
+    assert!(
+        !lines.contains(&TraceLine::Heading("pump-setting".into())),
+        "{product}: a feeder's work headed as a pump's"
     );
 }
 

@@ -973,3 +973,52 @@ fn a_range_that_cannot_be_computed_is_said_not_narrowed() {
         "{c:?}"
     );
 }
+
+/// The parameters a calculation checks, by hand from the table (pH adjustment's target pH,
+/// chlorination's residual and chloramine dose, fluoridation's target and its related limits,
+/// chlorine dioxide's dose) and the chlorite compute checks itself.
+#[test]
+fn the_checked_limit_parameters_are_the_tables_and_computes() {
+    let mut got = checked_limit_parameters();
+    got.sort();
+    let mut want = vec![
+        "ph",
+        "chlorine",
+        "chloramines",
+        "fluoride",
+        "fluoride-secondary",
+        "fluoride-recommended",
+        "chlorine-dioxide",
+        "chlorite",
+    ];
+    want.sort();
+    assert_eq!(got, want);
+    // Every parameter the engine's sources look a limit up by is in the list: a compute
+    // function that checks a new one cannot leave it off.
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("src/engine");
+    let mut stack = vec![dir];
+    let mut looked_up = std::collections::BTreeSet::new();
+    while let Some(dir) = stack.pop() {
+        for entry in std::fs::read_dir(dir).unwrap() {
+            let path = entry.unwrap().path();
+            if path.is_dir() {
+                stack.push(path);
+                continue;
+            }
+            let text = std::fs::read_to_string(&path).unwrap();
+            for rest in text.split("effective_limit(").skip(1) {
+                let call = &rest[..rest.find(')').unwrap_or(0)];
+                if let Some(lit) = call.split('"').nth(1).filter(|l| !l.is_empty()) {
+                    looked_up.insert(lit.to_string());
+                }
+            }
+        }
+    }
+    assert!(
+        looked_up.contains("chlorite"),
+        "the scan sees {looked_up:?}"
+    );
+    for p in &looked_up {
+        assert!(got.contains(&p.as_str()), "{p} is checked but not listed");
+    }
+}

@@ -416,7 +416,13 @@ pub fn feed(catalog: &Catalog, input: &FeedInput) -> Result<FeedResult> {
         NamedTrace::new("product-feed", product.trace.clone()),
     ];
     if let Some(setting) = &pump {
-        traces.push(NamedTrace::new("pump-setting", setting.trace.clone()));
+        // A gas or dry feeder is set by mass on its own scale: its work is headed as a
+        // feeder's setting, never as a pump's.
+        let label = match input.pump {
+            Some(PumpKind::DryFeeder { .. } | PumpKind::GasFeeder { .. }) => "feeder-setting",
+            _ => "pump-setting",
+        };
+        traces.push(NamedTrace::new(label, setting.trace.clone()));
     }
     Ok(FeedResult {
         product: p.id.clone(),

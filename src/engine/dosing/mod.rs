@@ -71,12 +71,20 @@ fn written(v: f64, sig: Option<u8>) -> String {
         // (litres per kg of active) keeps guard figures so the line's arithmetic can be followed.
         Some(s) if (round_sig(v, s) - v).abs() <= 1e-12 * v.abs() => plain(v, s, false),
         Some(s) => plain(v, (s + 2).max(4), false),
+        // Exact: a defined factor has at most ten significant digits (3.785411784 L/gal,
+        // 0.45359237 kg/lb) and is written in full; more digits are the float of a derived
+        // value (82.2181281122 kg/d was seen) and are written to six.
         None => {
             let text = format_measured(v, None);
-            if text.len() <= 13 {
+            let digits = text
+                .chars()
+                .skip_while(|c| !c.is_ascii_digit() || *c == '0')
+                .filter(char::is_ascii_digit)
+                .count();
+            if text.len() <= 13 && digits <= 10 && !text.contains('e') {
                 text
             } else {
-                plain(v, 7, true)
+                plain(v, 6, true)
             }
         }
     }
@@ -185,6 +193,16 @@ mod tests {
     use super::*;
     use crate::engine::sigfig::Measured;
     use units::{Flow, FlowUnit};
+
+    /// Exact numbers as defined (the US gallon, the pound: exact by definition), a derived
+    /// float to six figures.
+    #[test]
+    fn an_exact_number_is_written_in_full_a_derived_float_to_six_figures() {
+        assert_eq!(written(3.785411784, None), "3.785411784");
+        assert_eq!(written(0.45359237, None), "0.45359237");
+        assert_eq!(written(1000.0, None), "1000");
+        assert_eq!(written(82.2181281122, None), "82.2181");
+    }
 
     #[test]
     fn show_work_keeps_exact_factors_and_typed_inputs_as_written() {
