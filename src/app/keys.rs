@@ -197,6 +197,7 @@ pub const TRACE_LABELS: &[&str] = &[
     "active-feed-us",
     "actual-dose",
     "alkalinity-consumed",
+    "alkalinity-added",
     "alkalinity-per-alkali",
     "alkalinity-per-dose",
     "ammonia-dose",

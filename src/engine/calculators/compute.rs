@@ -502,6 +502,10 @@ pub(super) fn ph_adjustment_curve(c: &Calculators, request: &Request) -> Result<
 fn coagulant(c: &Calculators, request: &Request) -> Result<Coagulant> {
     let product = c.catalog.product(chosen(request)?)?;
     let basicity = product.strengths.iter().find_map(|s| s.basicity_percent);
+    // Sodium aluminate's dose is as Al like PACl's: its compound tells the two apart.
+    if product.compound == "NaAlO2" {
+        return Coagulant::parse("sodium-aluminate", None);
+    }
     Coagulant::parse(
         match product.dose_as.as_str() {
             "Al2(SO4)3·14H2O" => "alum",
@@ -575,12 +579,22 @@ pub(super) fn coagulation(c: &Calculators, request: &Request) -> Result<Outcome>
     traces.extend(fresh);
     let mut out = c.feed_outcome(&r, traces, co.cautions.clone())?;
     let caco3 = Some("CaCO3");
-    out.results.push(result(
-        "alkalinity_consumed",
-        co.alkalinity_consumed_mg_l,
-        Q::AsCaCO3,
-        caco3,
-    ));
+    // An aluminate adds alkalinity: said as added, not as a negative consumption.
+    out.results.push(if coagulant.adds_alkalinity() {
+        result(
+            "alkalinity_added",
+            -co.alkalinity_consumed_mg_l,
+            Q::AsCaCO3,
+            caco3,
+        )
+    } else {
+        result(
+            "alkalinity_consumed",
+            co.alkalinity_consumed_mg_l,
+            Q::AsCaCO3,
+            caco3,
+        )
+    });
     out.results.push(result(
         "alkalinity_remaining",
         co.alkalinity_remaining_mg_l.max(0.0),

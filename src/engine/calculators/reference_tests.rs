@@ -13,7 +13,7 @@ use crate::engine::dosing::chlorine::{
     ChlorineInput, chloramination, chlorine_dose, chlorine_dose_in_water, dechlorination,
 };
 use crate::engine::dosing::coagulation::{
-    Alkali, Coagulant, CoagulationInput, coagulation_in_water,
+    Alkali, Coagulant, CoagulationInput, alkalinity_per_dose, coagulation_in_water,
 };
 use crate::engine::dosing::feed::{FeedInput, FeedResult, PumpKind, UsableRange, feed};
 use crate::engine::dosing::pumpcheck::{Measurement, PumpCheckInput, Tolerance, pump_check};
@@ -406,7 +406,13 @@ fn coagulation_comes_from_the_hydrolysis_and_the_water_engine() {
     let offered = engine.products(find("coagulation").unwrap());
     assert_eq!(
         offered.iter().map(|p| p.id.as_str()).collect::<Vec<_>>(),
-        ["alum-liquid", "ferric-chloride", "ferric-sulfate", "pacl"]
+        [
+            "alum-liquid",
+            "ferric-chloride",
+            "ferric-sulfate",
+            "pacl",
+            "sodium-aluminate"
+        ]
     );
     let req = coagulation_request("alum-liquid", "alkali-caustic", 30.0);
     let out = engine.compute(&req).expect("a coagulation result");
@@ -1227,4 +1233,142 @@ fn magnesium_hydroxide_adjusts_ph_like_the_water_engine() {
     let dose = got(&out, "dose").unwrap();
     assert!(dose > 0.0 && (dose - direct.dose_mg_l).abs() < 1e-9 * dose.max(1.0));
     assert!((got(&out, "ph_after").unwrap() - 7.5).abs() < 1e-6);
+}
+
+/// Atomic weights typed from the IUPAC 2021 table for the hand checks below (Mg, Al, Na, C,
+/// O, H), so the expected factors do not come from the engine's own molar masses.
+const MG: f64 = 24.305;
+const AL: f64 = 26.981_538;
+const NA: f64 = 22.989_769;
+const CA: f64 = 40.078;
+const C: f64 = 12.011;
+const O: f64 = 15.999;
+const H: f64 = 1.008;
+
+/// mg/L as CaCO3 per meq/L: CaCO3 / 2 (hand, from the atomic weights above).
+fn caco3_per_meq() -> f64 {
+    (CA + C + 3.0 * O) / 2.0
+}
+
+/// Magnesium hydroxide in the pH calculator: the alkalinity it adds is 2 eq per mole of
+/// Mg(OH)2 (Mg(OH)2 → Mg+2 + 2 OH-), i.e. 100.09 mg/L as CaCO3 per 58.32 mg/L, by hand from
+/// the atomic weights; and its dose for PHREEQC's pH after 10 mg/L in the softest fixture
+/// water is PHREEQC's 10 mg/L (tests/fixtures/water_phreeqc.json, w01-cold-soft: pH 6.8,
+/// 0.5 °C, 12 mg/L as CaCO3, PHREEQC pH 10.4159 and 29.16 mg/L as CaCO3 after 10 mg/L).
+/// The calculator takes no major ions (the fixture water has a little Ca, Mg, Na), so the
+/// dose is held to 3 % and the alkalinity to the 1 mg/L as CaCO3.
+#[test]
+fn magnesium_hydroxide_adds_two_equivalents_and_meets_phreeqc() {
+    let engine = calculators();
+    let mgoh2 = MG + 2.0 * (O + H);
+    let per_mg = 2.0 * caco3_per_meq() / mgoh2;
+    // 100.086 / 58.319 (hand).
+    assert!((per_mg - 1.7162).abs() < 1e-4, "{per_mg}");
+    let run = |raw: f64, temp: f64, alk: f64, target: f64| {
+        engine
+            .compute(&request(
+                "ph-adjustment",
+                "magnesium-hydroxide",
+                &[
+                    ("flow", FLOW),
+                    ("ph-raw", raw),
+                    ("ph-target", target),
+                    ("alkalinity", alk),
+                    ("temperature", temp),
+                    ("strength", 60.0),
+                    ("specific-gravity", 1.51),
+                    ("pump-capacity", 15.0),
+                ],
+            ))
+            .unwrap()
+    };
+    // Stoichiometry (hand): alkalinity after = before + dose × 2 eq per mole.
+    for (raw, temp, alk, target) in [(6.8, 15.0, 40.0, 7.5), (6.5, 20.0, 80.0, 7.8)] {
+        let out = run(raw, temp, alk, target);
+        let dose = got(&out, "dose").unwrap();
+        let after = got(&out, "alkalinity_after").unwrap();
+        let want = alk + dose * per_mg;
+        assert!(
+            (after - want).abs() < 1e-3 * want,
+            "{raw}->{target}: {after} vs hand {want}"
+        );
+    }
+    // PHREEQC (committed fixture, w01-cold-soft, 10 mg/L Mg(OH)2).
+    let out = run(6.8, 0.5, 12.0, 10.415_882_886_671_866);
+    let dose = got(&out, "dose").unwrap();
+    let after = got(&out, "alkalinity_after").unwrap();
+    eprintln!("Mg(OH)2 vs PHREEQC: dose {dose} (10), alkalinity {after} (29.1617)");
+    assert!((dose - 10.0).abs() < 0.3, "dose {dose} vs PHREEQC 10 mg/L");
+    assert!(
+        (after - 29.161_657_896_101_18).abs() < 1.0,
+        "alkalinity {after} vs PHREEQC 29.16"
+    );
+}
+
+/// A coagulation request with liquid sodium aluminate (23 % as Al2O3, SG 1.5) dosed as Al.
+fn aluminate_request(dose_al: f64, alkalinity: f64, setpoint: f64) -> Request {
+    let mut r = request(
+        "coagulation",
+        "sodium-aluminate",
+        &[
+            ("flow", FLOW),
+            ("jar-dose", dose_al),
+            ("alkalinity", alkalinity),
+            ("alkalinity-setpoint", setpoint),
+            ("ph", 7.0),
+            ("temperature", 12.0),
+            ("strength", 23.0),
+            ("specific-gravity", 1.5),
+            ("pump-capacity", 15.0),
+        ],
+    );
+    r.mode = Some("alkali-caustic");
+    r
+}
+
+/// Sodium aluminate adds alkalinity: NaAlO2 + 2 H2O → Al(OH)3 + NaOH, one OH- (one eq) per
+/// Al precipitated, so 50.04 mg/L as CaCO3 per 26.98 mg/L of Al = 1.8547 (by hand from the
+/// atomic weights). The alkalinity result is `alkalinity_added`, the remaining alkalinity the
+/// raw plus it, and no caustic is needed while it keeps the setpoint; when it does not, the
+/// caustic makes up the rest at 50.04 / 40.00 mg/L as CaCO3 per mg/L NaOH (hand).
+#[test]
+fn sodium_aluminate_adds_alkalinity_in_coagulation() {
+    let engine = calculators();
+    let per_al = caco3_per_meq() / AL;
+    assert!((per_al - 1.8547).abs() < 1e-4, "{per_al}");
+    let (per, _) = alkalinity_per_dose(&engine.catalog, Coagulant::SodiumAluminate).unwrap();
+    assert!(
+        (per - per_al).abs() < 1e-4 * per_al,
+        "{per} vs hand {per_al}"
+    );
+
+    let out = engine.compute(&aluminate_request(5.0, 40.0, 30.0)).unwrap();
+    let added = got(&out, "alkalinity_added").expect("aluminate adds alkalinity");
+    assert!((added - 5.0 * per_al).abs() < 1e-3, "{added}");
+    assert_eq!(got(&out, "alkalinity_consumed"), None);
+    let remaining = got(&out, "alkalinity_remaining").unwrap();
+    assert!(
+        (remaining - (40.0 + 5.0 * per_al)).abs() < 1e-3,
+        "{remaining}"
+    );
+    assert_eq!(got(&out, "supplemental_alkali"), None);
+    assert_eq!(got(&out, "ph_after_alkali"), None);
+    assert!(!keys(&out).contains(&"supplemental-alkali-needed"));
+    // The hydroxide freed raises the pH, unlike a metal salt's.
+    let ph = got(&out, "ph_after_coagulant").expect("aluminate is modelled");
+    assert!(ph > 7.0, "{ph}");
+    assert!(
+        out.trace_lines()
+            .contains(&TraceLine::Heading("alkalinity-added".into()))
+    );
+
+    // Not enough: raw 20 + 9.27 against a setpoint of 40 leaves 10.73 for caustic.
+    let short = engine.compute(&aluminate_request(5.0, 20.0, 40.0)).unwrap();
+    let naoh = NA + O + H;
+    let want = (40.0 - 20.0 - 5.0 * per_al) / (caco3_per_meq() / naoh);
+    let alkali = got(&short, "supplemental_alkali").expect("caustic to make up");
+    assert!(
+        (alkali - want).abs() < 1e-3 * want,
+        "{alkali} vs hand {want}"
+    );
 }

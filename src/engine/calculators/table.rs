@@ -149,6 +149,16 @@ const DECHLOR_AGENTS: [&str; 6] = ["SO2", "NaHSO3", "Na2S2O5", "Na2SO3", "Na2S2O
 /// Liquid coagulants a metering pump feeds.
 const COAGULANTS: [&str; 4] = ["alum-liquid", "ferric-chloride", "ferric-sulfate", "pacl"];
 
+/// The coagulants the coagulation calculator offers: the metal salts and sodium aluminate,
+/// the alkaline coagulant that adds alkalinity instead of consuming it.
+const COAGULATION_PRODUCTS: [&str; 5] = [
+    "alum-liquid",
+    "ferric-chloride",
+    "ferric-sulfate",
+    "pacl",
+    "sodium-aluminate",
+];
+
 /// Hypochlorites for disinfecting a main, a tank or a well.
 const HYPOCHLORITES: [&str; 2] = ["sodium-hypochlorite", "calcium-hypochlorite"];
 
@@ -470,7 +480,7 @@ pub static TABLE: [Calculator; 22] = [
             water("temperature", Q::Temperature),
         ],
         product_inputs: ProductInputs::Feed,
-        offer: Offer::Listed(&COAGULANTS),
+        offer: Offer::Listed(&COAGULATION_PRODUCTS),
         results: &[
             FEED_RESULTS[0],
             FEED_RESULTS[1],
@@ -478,6 +488,8 @@ pub static TABLE: [Calculator; 22] = [
             FEED_RESULTS[3],
             FEED_RESULTS[4],
             secondary("alkalinity_consumed", Q::AsCaCO3).on(CACO3),
+            // Sodium aluminate's, in place of alkalinity_consumed.
+            secondary("alkalinity_added", Q::AsCaCO3).on(CACO3),
             secondary("alkalinity_remaining", Q::AsCaCO3).on(CACO3),
             secondary("ph_after_coagulant", Q::Ph),
             // As the mode's alkali (NaOH, Ca(OH)2, Na2CO3): the outcome names which.

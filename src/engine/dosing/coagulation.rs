@@ -38,6 +38,8 @@ pub enum Coagulant {
     FerricSulfate,
     /// Polyaluminium chloride, dose as Al, with basicity in %.
     Pacl { basicity_percent: f64 },
+    /// Sodium aluminate, dose as Al: an alkaline coagulant that adds alkalinity.
+    SodiumAluminate,
 }
 
 impl Coagulant {
@@ -48,6 +50,7 @@ impl Coagulant {
             "alum-as-al2o3" => Coagulant::AlumAsAl2o3,
             "ferric-chloride" | "FeCl3" => Coagulant::FerricChloride,
             "ferric-sulfate" | "Fe2(SO4)3" => Coagulant::FerricSulfate,
+            "sodium-aluminate" | "NaAlO2" => Coagulant::SodiumAluminate,
             "pacl" => Coagulant::Pacl {
                 basicity_percent: basicity_percent.ok_or_else(|| {
                     Error::new(ErrorKind::InvalidInput, "PACl needs its basicity in %")
@@ -59,7 +62,7 @@ impl Coagulant {
                 return Err(Error::new(
                     ErrorKind::UnknownChemical,
                     format!(
-                        "unknown coagulant '{other}': use alum, alum-18, alum-as-al2o3, ferric-chloride, ferric-sulfate or pacl"
+                        "unknown coagulant '{other}': use alum, alum-18, alum-as-al2o3, ferric-chloride, ferric-sulfate, pacl or sodium-aluminate"
                     ),
                 )
                 .with("coagulant", other));
@@ -75,8 +78,14 @@ impl Coagulant {
             Coagulant::AlumAsAl2o3 => "Al2O3",
             Coagulant::FerricChloride => "FeCl3",
             Coagulant::FerricSulfate => "Fe2(SO4)3",
-            Coagulant::Pacl { .. } => "Al",
+            Coagulant::Pacl { .. } | Coagulant::SodiumAluminate => "Al",
         }
+    }
+
+    /// Whether its hydrolysis adds alkalinity (an aluminate frees hydroxide) rather than
+    /// consuming it (a metal salt's acidity).
+    pub fn adds_alkalinity(self) -> bool {
+        matches!(self, Coagulant::SodiumAluminate)
     }
 
     /// The metal hydroxide it precipitates.
@@ -106,6 +115,10 @@ fn hydrolysis(catalog: &Catalog, c: Coagulant) -> Result<(Reaction, String)> {
         Coagulant::FerricSulfate => (
             catalog.reaction("ferric-sulfate-alkalinity")?,
             "Fe2(SO4)3".into(),
+        ),
+        Coagulant::SodiumAluminate => (
+            catalog.reaction("sodium-aluminate-hydrolysis")?,
+            "NaAlO2".into(),
         ),
         Coagulant::Pacl { basicity_percent } => {
             let formula = pacl_formula(basicity_percent)?;
@@ -163,7 +176,10 @@ fn dose_to_reactant_mmol(c: Coagulant, reactant: &str, t: &mut Trace) -> Result<
     let dose_as = c.dose_as();
     let (m, s) = molar_mass(dose_as)?;
     let f = Formula::parse(dose_as)?;
-    if matches!(c, Coagulant::AlumAsAl2o3 | Coagulant::Pacl { .. }) {
+    if matches!(
+        c,
+        Coagulant::AlumAsAl2o3 | Coagulant::Pacl { .. } | Coagulant::SodiumAluminate
+    ) {
         // Relate through aluminium atoms: Al2O3 → 2 Al → alum or the PACl formula unit.
         t.then(
             Quantity::of(f.count("Al") as f64, "mmol/L", "Al"),
@@ -195,7 +211,9 @@ fn dose_to_reactant_mmol(c: Coagulant, reactant: &str, t: &mut Trace) -> Result<
     Ok(())
 }
 
-/// mg/L alkalinity (as CaCO3) consumed per mg/L of coagulant dose, with the trace.
+/// mg/L alkalinity (as CaCO3) consumed per mg/L of coagulant dose, with the trace; for a
+/// coagulant that [adds alkalinity](Coagulant::adds_alkalinity), the alkalinity it adds (the
+/// hydroxide its hydrolysis frees, turned to bicarbonate as caustic's is).
 pub fn alkalinity_per_dose(catalog: &Catalog, c: Coagulant) -> Result<(f64, Trace)> {
     let (r, reactant) = hydrolysis(catalog, c)?;
     let mut t = Trace::new(
@@ -204,7 +222,17 @@ pub fn alkalinity_per_dose(catalog: &Catalog, c: Coagulant) -> Result<(f64, Trac
         None,
     );
     dose_to_reactant_mmol(c, &reactant, &mut t)?;
-    t.then_mole_ratio(&r, &reactant, "HCO3-", "mmol/L")?;
+    if c.adds_alkalinity() {
+        t.then_mole_ratio(&r, &reactant, "NaOH", "mmol/L")?;
+        t.then_mole_ratio(
+            &catalog.reaction("caustic-alkalinity")?,
+            "NaOH",
+            "HCO3-",
+            "mmol/L",
+        )?;
+    } else {
+        t.then_mole_ratio(&r, &reactant, "HCO3-", "mmol/L")?;
+    }
     hco3_to_caco3(&mut t)?;
     Ok((t.value(), t))
 }
@@ -399,6 +427,7 @@ pub struct CoagulationInput {
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct CoagulationResult {
     pub alkalinity_per_mg: f64,
+    /// Below zero for a coagulant that adds alkalinity (sodium aluminate).
     pub alkalinity_consumed_mg_l: f64,
     pub alkalinity_remaining_mg_l: f64,
     /// Pure alkali needed to hold the setpoint (0 when the raw water has enough).
@@ -426,6 +455,7 @@ pub fn coagulant_chemical(c: Coagulant, dose: f64) -> Result<(Chemical, f64)> {
         }
         Coagulant::FerricChloride => water_chemical("FeCl3")?.clone(),
         Coagulant::FerricSulfate => water_chemical("Fe2(SO4)3")?.clone(),
+        Coagulant::SodiumAluminate => water_chemical("NaAlO2")?.clone(),
         Coagulant::Pacl { basicity_percent } => {
             let formula = pacl_formula(basicity_percent)?;
             let products = if formula.contains("(OH)") {
@@ -539,7 +569,13 @@ pub fn coagulation(catalog: &Catalog, input: &CoagulationInput) -> Result<Coagul
         },
         per_trace.sig_figs(),
     )?;
-    let consumed = t.value();
+    // An aluminate's alkalinity is added: consumed below zero, so the remaining and the
+    // deficit follow from one sign.
+    let consumed = if c.adds_alkalinity() {
+        -t.value()
+    } else {
+        t.value()
+    };
     let remaining = input.raw_alkalinity.value - consumed;
     let deficit = (input.residual_alkalinity_setpoint - remaining).max(0.0);
     let (alk_per, alk_trace) = alkalinity_per_alkali(catalog, input.alkali)?;
@@ -572,7 +608,14 @@ pub fn coagulation(catalog: &Catalog, input: &CoagulationInput) -> Result<Coagul
         water_with_alkali: None,
         traces: vec![
             NamedTrace::new("alkalinity-per-dose", per_trace),
-            NamedTrace::new("alkalinity-consumed", t),
+            NamedTrace::new(
+                if c.adds_alkalinity() {
+                    "alkalinity-added"
+                } else {
+                    "alkalinity-consumed"
+                },
+                t,
+            ),
             NamedTrace::new("alkalinity-per-alkali", alk_trace),
             NamedTrace::new("solids-per-dose", solids_trace),
         ],
