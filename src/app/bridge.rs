@@ -875,11 +875,7 @@ impl Inner {
                 adapter.set_cautions(model(
                     caution_lines(&r.cautions, &*texts)
                         .into_iter()
-                        .map(|c| CautionRow {
-                            level: c.level,
-                            word: s(c.word),
-                            text: s(c.text),
-                        })
+                        .map(caution_row)
                         .collect(),
                 ));
             }
@@ -1064,16 +1060,7 @@ impl Inner {
                 })
                 .collect(),
         ));
-        a.set_cautions(model(
-            v.cautions
-                .into_iter()
-                .map(|c| CautionRow {
-                    level: c.level,
-                    word: s(c.word),
-                    text: s(c.text),
-                })
-                .collect(),
-        ));
+        a.set_cautions(model(v.cautions.into_iter().map(caution_row).collect()));
         a.set_finished(s(v.finished));
         a.set_message(s(v.message));
         a.set_ph_line(s(v.ph_line));
@@ -1099,5 +1086,14 @@ impl Inner {
             key("plot-trend"),
             key("plot-dose-axis"),
         ));
+    }
+}
+
+/// A caution line as the card and the path screen show it.
+fn caution_row(c: super::calc_screen::CautionLine) -> CautionRow {
+    CautionRow {
+        level: c.level,
+        word: s(c.word),
+        text: s(c.text),
     }
 }

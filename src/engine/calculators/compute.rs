@@ -76,6 +76,20 @@ fn chosen(request: &Request) -> Result<&str> {
     })
 }
 
+/// The water after a dose, as every calculator that models it names it: `ph_after` and
+/// `alkalinity_after` (mg/L as CaCO3).
+fn water_after(ph: f64, alkalinity_mg_l_as_caco3: f64) -> [ResultValue; 2] {
+    [
+        result("ph_after", ph, Q::Ph, None),
+        result(
+            "alkalinity_after",
+            alkalinity_mg_l_as_caco3,
+            Q::AsCaCO3,
+            Some("CaCO3"),
+        ),
+    ]
+}
+
 fn result(id: &'static str, value: f64, quantity: Q, basis: Option<&str>) -> ResultValue {
     ResultValue {
         id,
@@ -296,13 +310,9 @@ pub(super) fn free_chlorine(c: &Calculators, request: &Request) -> Result<Outcom
     }
     // The end state after breakpoint: what the operator's water is left with.
     if let Some(effect) = &dosed.water {
-        out.results
-            .push(result("ph_after", effect.ph_after, Q::Ph, None));
-        out.results.push(result(
-            "alkalinity_after",
+        out.results.extend(water_after(
+            effect.ph_after,
             effect.alkalinity_after_mg_l_as_caco3,
-            Q::AsCaCO3,
-            Some("CaCO3"),
         ));
     }
     // Without the water, the stoichiometric alkalinity the breakpoint takes is still known
@@ -451,13 +461,7 @@ pub(super) fn ph_adjustment(c: &Calculators, request: &Request) -> Result<Outcom
     );
     let mut out = c.feed_outcome(&n.feed, vec![equilibrium], n.cautions.clone())?;
     out.results
-        .push(result("ph_after", n.ph_after, Q::Ph, None));
-    out.results.push(result(
-        "alkalinity_after",
-        n.alkalinity_after_mg_l_as_caco3,
-        Q::AsCaCO3,
-        Some("CaCO3"),
-    ));
+        .extend(water_after(n.ph_after, n.alkalinity_after_mg_l_as_caco3));
     // With calcium: how the treated water stands to calcium carbonate.
     if request.get("calcium-hardness").is_some() && !request.headlines_only {
         let chemical = water_chemical(&c.catalog.product(chosen(request)?)?.compound)?;

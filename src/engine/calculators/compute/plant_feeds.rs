@@ -9,7 +9,9 @@
 //! per alkalinity, metal per phosphorus, the charge of a metal ion); the only typed factors are
 //! unit definitions, which the traces mark exact.
 
-use super::{Calculators, Outcome, Request, chosen, headline, measured, outcome, result, value};
+use super::{
+    Calculators, Outcome, Request, chosen, headline, measured, outcome, result, value, water_after,
+};
 use crate::engine::calculators::{Device, FollowUp, Setting};
 use crate::engine::dosing::NamedTrace;
 use crate::engine::dosing::catalog::{Catalog, active_to_product, molar_mass};
@@ -938,13 +940,9 @@ pub(crate) fn push_water_after(
         Precipitation::None
     };
     let (_, effect) = dose_effect(&state, chemical, dose_mg_l * per, precipitation)?;
-    out.results
-        .push(result("ph_after", effect.ph_after, Q::Ph, None));
-    out.results.push(result(
-        "alkalinity_after",
+    out.results.extend(water_after(
+        effect.ph_after,
         effect.alkalinity_after_mg_l_as_caco3,
-        Q::AsCaCO3,
-        Some("CaCO3"),
     ));
     out.cautions
         .extend(PhRange::from_limits(&request.limits).check(effect.ph_after));

@@ -6,7 +6,7 @@
 //! request, refuses a request that does not name one pair and exactly one second target, and
 //! puts the doses and the water they give on the outcome.
 
-use super::{headline, outcome, result, value};
+use super::{headline, outcome, result, value, water_after};
 use crate::engine::calculators::{Calculators, Outcome, Request};
 use crate::engine::dosing::NamedTrace;
 use crate::engine::quantity::Quantity as Q;
@@ -91,13 +91,8 @@ pub(in crate::engine::calculators) fn two_targets(
         Q::Concentration,
         Some(&f2),
     ));
-    out.results.push(result("ph_after", r.ph, Q::Ph, None));
-    out.results.push(result(
-        "alkalinity_after",
-        r.alkalinity_mg_l_as_caco3,
-        Q::AsCaCO3,
-        Some("CaCO3"),
-    ));
+    out.results
+        .extend(water_after(r.ph, r.alkalinity_mg_l_as_caco3));
     if let (Some(lsi), false) = (r.langelier_index, request.headlines_only) {
         out.results
             .push(result("langelier_index_after", lsi, Q::Index, None));
