@@ -879,3 +879,19 @@ fed-dose-deviates = { $product } on { $date }: the dose fed by the tank readings
 totalizer-went-back = Meter { $meter }: the totaliser reads less on { $date } than before; that day's water is left out.
 tank-rose-without-delivery = Tank { $tank } on { $date }: the level rose more than any delivery logged explains.
 delivery-not-converted = A delivery of { $product } in { $unit } could not be turned into a volume of product.
+
+## Stock: readings, deliveries and the monthly report
+stock-recorded = Recorded in the log.
+stock-corrected = The reading was corrected; the original stays in its history.
+stock-voided = The reading was voided; it stays in the log, marked.
+stock-report-saved = The month's report was saved: { $pdf } and { $csv }
+stock-error-initials = Type your initials first (Settings or here): every reading says who took it.
+stock-error-reason = Give a reason: a correction or a void says why.
+stock-error-value = “{ $text }” is not a number that can be read here. Type a number of zero or more.
+stock-error-unknown = “{ $id }” is not in this site's profile. Choose one from the list.
+stock-error-level = A level of { $text } does not fit this tank. Check the level and the tank's height in the site profile.
+stock-error-unit = Choose the delivery's unit (gal, l, lb or kg); “{ $text }” is none of them.
+stock-error-no-totalizer = The meter “{ $id }” has no totaliser unit in the site profile. Add it in Settings first.
+stock-error-time = “{ $text }” is not a time. Type hours and minutes, for example 07:30.
+stock-error-future = { $text } is later than now. An earlier time must be one that has passed.
+stock-error-month = “{ $text }” is not a month. Type year-month, for example 2026-11.

@@ -879,3 +879,19 @@ fed-dose-deviates = { $product } el { $date }: la dosis alimentada según las le
 totalizer-went-back = Medidor { $meter }: el totalizador marca menos el { $date } que antes; el agua de ese día no se cuenta.
 tank-rose-without-delivery = Tanque { $tank } el { $date }: el nivel subió más de lo que explica cualquier entrega registrada.
 delivery-not-converted = Una entrega de { $product } en { $unit } no se pudo convertir en volumen de producto.
+
+## Existencias: lecturas, entregas e informe mensual
+stock-recorded = Anotado en el registro.
+stock-corrected = La lectura se corrigió; la original queda en su historial.
+stock-voided = La lectura se anuló; queda en el registro, marcada.
+stock-report-saved = El informe del mes se guardó: { $pdf } y { $csv }
+stock-error-initials = Escriba primero sus iniciales (en Ajustes o aquí): cada lectura dice quién la tomó.
+stock-error-reason = Indique un motivo: una corrección o una anulación dice por qué.
+stock-error-value = «{ $text }» no es un número que se pueda leer aquí. Escriba un número igual o mayor que cero.
+stock-error-unknown = «{ $id }» no está en el perfil de esta planta. Elija uno de la lista.
+stock-error-level = Un nivel de { $text } no cabe en este tanque. Revise el nivel y la altura del tanque en el perfil de la planta.
+stock-error-unit = Elija la unidad de la entrega (gal, l, lb o kg); «{ $text }» no es ninguna de ellas.
+stock-error-no-totalizer = El medidor «{ $id }» no tiene unidad de totalizador en el perfil de la planta. Añádala primero en Ajustes.
+stock-error-time = «{ $text }» no es una hora. Escriba horas y minutos, por ejemplo 07:30.
+stock-error-future = { $text } es posterior a ahora. Una hora anterior debe haber pasado ya.
+stock-error-month = «{ $text }» no es un mes. Escriba año-mes, por ejemplo 2026-11.

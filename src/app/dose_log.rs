@@ -215,6 +215,40 @@ pub trait DoseLog {
     ) -> Result<usize, LogError>;
     /// Merges another device's file: new records added, known ones skipped, conflicts kept out.
     fn import(&mut self, path: &Path) -> Result<ImportReport, LogError>;
+    /// Records a stock reading (tank level, delivery, totaliser, tap) for `site`, taken at
+    /// `at` (the log's clock when `None`; an earlier time is recorded as such by the log).
+    fn record_reading(
+        &mut self,
+        site: &str,
+        at: Option<DateTime<FixedOffset>>,
+        reading: crate::log::record::Reading,
+    ) -> Result<uuid::Uuid, LogError>;
+    /// The readings of `site` as they stand now (latest correction applied), voided ones
+    /// included and marked, oldest first.
+    fn readings(&self, site: &str) -> Result<Vec<crate::log::ReadingView>, LogError>;
+    /// Records a correction of reading `id`: the whole corrected reading and a reason.
+    fn correct_reading(
+        &mut self,
+        id: uuid::Uuid,
+        reason: &str,
+        reading: crate::log::record::Reading,
+    ) -> Result<(), LogError>;
+    /// Records that reading `id` should not count (the log's void record, as for a dose).
+    fn void_reading(
+        &mut self,
+        id: uuid::Uuid,
+        operator: &str,
+        reason: &str,
+    ) -> Result<(), LogError>;
+    /// The operating report of `site` for the days `from..=to`, from this log (the same
+    /// function the CLI's `log report` calls: [`crate::log::report::report_from_log`]).
+    fn operating_report(
+        &self,
+        site: &crate::engine::dosing::site::SiteProfile,
+        catalog: &crate::engine::dosing::catalog::Catalog,
+        from: chrono::NaiveDate,
+        to: chrono::NaiveDate,
+    ) -> Result<crate::log::report::Report, LogError>;
 }
 
 /// Writes `text` to a new file at `path`; a partly written file is removed again.
@@ -351,6 +385,20 @@ impl PersistentLog {
         }
         ids.push(id);
         ids.len() as u64
+    }
+
+    /// The open log of `site`, if any (reading never creates a file).
+    fn open_log(&self, site: &str) -> Option<&crate::log::Log> {
+        let path = crate::log::site_file(&self.dir, site);
+        self.logs.iter().find(|(p, _)| *p == path).map(|(_, l)| l)
+    }
+
+    /// The open log holding record `id`.
+    fn holding(&self, id: uuid::Uuid) -> Result<usize, LogError> {
+        self.logs
+            .iter()
+            .position(|(_, log)| matches!(log.get(id), Ok(Some(_))))
+            .ok_or_else(|| LogError::rejected("unknown-entry", format!("no reading {id}")))
     }
 
     /// The log id behind a screen number, and the open log that holds it.
@@ -570,6 +618,95 @@ impl DoseLog for PersistentLog {
                 reason: reason.into(),
             },
         )
+    }
+
+    fn record_reading(
+        &mut self,
+        site: &str,
+        at: Option<DateTime<FixedOffset>>,
+        reading: crate::log::record::Reading,
+    ) -> Result<uuid::Uuid, LogError> {
+        let draft = crate::log::Draft::Reading {
+            at,
+            site: site.to_string(),
+            reading,
+        };
+        let log = self.log_for(site)?;
+        let _ = log.retry_pending();
+        log.append(draft).map_err(|e| not_saved(from_log_error(e)))
+    }
+
+    fn readings(&self, site: &str) -> Result<Vec<crate::log::ReadingView>, LogError> {
+        let Some(log) = self.open_log(site) else {
+            return Ok(Vec::new());
+        };
+        let all = crate::log::Query {
+            include_voided: true,
+            ..Default::default()
+        };
+        let mut out = log.readings(&all).map_err(from_log_error)?;
+        out.retain(|r| r.site == site);
+        out.sort_by_key(|r| r.at);
+        Ok(out)
+    }
+
+    fn correct_reading(
+        &mut self,
+        id: uuid::Uuid,
+        reason: &str,
+        reading: crate::log::record::Reading,
+    ) -> Result<(), LogError> {
+        let at = self.holding(id)?;
+        self.revise(
+            at,
+            crate::log::Draft::ReadingCorrection {
+                at: None,
+                corrects: id,
+                reason: reason.into(),
+                reading,
+            },
+        )
+    }
+
+    fn void_reading(
+        &mut self,
+        id: uuid::Uuid,
+        operator: &str,
+        reason: &str,
+    ) -> Result<(), LogError> {
+        let at = self.holding(id)?;
+        self.revise(
+            at,
+            crate::log::Draft::Void {
+                at: None,
+                operator: operator.into(),
+                voids: id,
+                reason: reason.into(),
+            },
+        )
+    }
+
+    fn operating_report(
+        &self,
+        site: &crate::engine::dosing::site::SiteProfile,
+        catalog: &crate::engine::dosing::catalog::Catalog,
+        from: chrono::NaiveDate,
+        to: chrono::NaiveDate,
+    ) -> Result<crate::log::report::Report, LogError> {
+        match self.open_log(&site.name) {
+            Some(log) => crate::log::report::report_from_log(log, site, catalog, from, to)
+                .map_err(from_log_error),
+            // No log yet for the site: the report of an empty period, from the same function.
+            None => Ok(crate::log::report::report(&crate::log::report::Sources {
+                site,
+                catalog,
+                readings: &[],
+                doses: &[],
+                from,
+                to,
+                tolerance: Default::default(),
+            })),
+        }
     }
 
     /// CSV (fixed columns, units in the headers, one header row for all sites) or JSON Lines

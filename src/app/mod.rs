@@ -25,6 +25,7 @@ pub mod session;
 pub mod site_editor;
 pub mod sites;
 pub mod state;
+pub mod stock_screen;
 pub mod words;
 
 #[cfg(feature = "app")]

@@ -49,18 +49,9 @@ fn unknown(what: &str, id: &str, known: Vec<&str>) -> CliError {
     }
 }
 
-/// The unit a parameter read at a tap is recorded in (common practice: pH in pH units,
-/// temperature in °C, turbidity in NTU, conductivity in µS/cm, alkalinity and hardness as
-/// CaCO3, everything else in mg/L).
+/// The unit a parameter read at a tap is recorded in (see [`log::record::parameter_unit`]).
 pub fn parameter_unit(parameter: &str) -> &'static str {
-    match parameter {
-        "ph" => "pH",
-        "temperature" => "°C",
-        "turbidity" => "NTU",
-        "conductivity" => "µS/cm",
-        "alkalinity" | "hardness" | "calcium-hardness" => "mg/L as CaCO3",
-        _ => "mg/L",
-    }
+    log::record::parameter_unit(parameter)
 }
 
 fn append(args: &Args, site: &SiteProfile, reading: Reading) -> CliResult {

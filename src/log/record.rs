@@ -495,6 +495,20 @@ pub enum Reading {
     },
 }
 
+/// The unit a parameter read at a tap is recorded in (common practice: pH in pH units,
+/// temperature in °C, turbidity in NTU, conductivity in µS/cm, alkalinity and hardness as
+/// CaCO3, everything else in mg/L). One function for the CLI and the app.
+pub fn parameter_unit(parameter: &str) -> &'static str {
+    match parameter {
+        "ph" => "pH",
+        "temperature" => "°C",
+        "turbidity" => "NTU",
+        "conductivity" => "µS/cm",
+        "alkalinity" | "hardness" | "calcium-hardness" => "mg/L as CaCO3",
+        _ => "mg/L",
+    }
+}
+
 /// The units each reading may be recorded in.
 pub const LEVEL_UNITS: [&str; 3] = ["ft", "in", "m"];
 pub const DELIVERY_UNITS: [&str; 4] = ["gal", "l", "lb", "kg"];
