@@ -625,7 +625,12 @@ impl Inner {
         self.refresh_calc(true);
         self.refresh_log();
         self.refresh_plots();
-        self.refresh_path();
+        // The path is run (with its ranges) only while its screen is shown: navigating to it
+        // refreshes everything, so it is never stale when seen.
+        let on_path = self.state.borrow().screen() == Screen::Path;
+        if on_path {
+            self.refresh_path();
+        }
     }
 
     /// The product form as typed.

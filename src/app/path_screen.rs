@@ -130,16 +130,13 @@ impl PathScreen {
             if text.trim().is_empty() {
                 complete &= !required;
             } else {
-                match numbers::parse(&text, lang) {
-                    Ok(v) if v.is_finite() && (quantity != Quantity::AsCaCO3 || v >= 0.0) => {
+                // A pH may be any number the engine then checks; a concentration not below 0.
+                match read(&text, lang, quantity == Quantity::AsCaCO3, words) {
+                    Ok(v) => {
                         si.insert(name, unit.to_si(v));
                     }
-                    Ok(_) => {
-                        error = words.get(key("path-negative"));
-                        complete = false;
-                    }
-                    Err(e) => {
-                        error = words.get(e.key());
+                    Err(why) => {
+                        error = why;
                         complete = false;
                     }
                 }
@@ -186,16 +183,12 @@ impl PathScreen {
                 let mut error = String::new();
                 let text = match typed {
                     Some(t) => {
-                        match numbers::parse(&t, lang) {
-                            Ok(v) if v.is_finite() && v >= 0.0 => {
+                        match read(&t, lang, true, words) {
+                            Ok(v) => {
                                 doses.insert(k.clone(), v);
                             }
-                            Ok(_) => {
-                                error = words.get(key("path-negative"));
-                                all_read = false;
-                            }
-                            Err(e) => {
-                                error = words.get(e.key());
+                            Err(why) => {
+                                error = why;
                                 all_read = false;
                             }
                         }
@@ -442,6 +435,16 @@ impl PathScreen {
             ));
         }
         Some(readings)
+    }
+}
+
+/// A typed number in the operator's language, or why it is refused, in words: not a number,
+/// or below zero where `non_negative` (a dose, an alkalinity).
+fn read(text: &str, lang: Lang, non_negative: bool, words: &dyn Words) -> Result<f64, String> {
+    match numbers::parse(text, lang) {
+        Ok(v) if v.is_finite() && (!non_negative || v >= 0.0) => Ok(v),
+        Ok(_) => Err(words.get(key("path-negative"))),
+        Err(e) => Err(words.get(e.key())),
     }
 }
 
