@@ -113,6 +113,7 @@ trace-alkalinity-consumed = Alkalinity consumed by the dose
 trace-alkalinity-added = Alkalinity added by the dose
 trace-alkalinity-per-alkali = Alkalinity added per mg/L of alkali
 trace-alkalinity-per-dose = Alkalinity consumed per mg/L of coagulant
+trace-alkalinity-added-per-dose = Alkalinity added per mg/L of coagulant
 trace-ammonia-dose = Ammonia dose
 trace-breakpoint-dose = Breakpoint dose
 trace-breakpoint-ratio = Breakpoint chlorine to ammonia-N ratio

@@ -113,6 +113,7 @@ trace-alkalinity-consumed = Alcalinidad consumida por la dosis
 trace-alkalinity-added = Alcalinidad añadida por la dosis
 trace-alkalinity-per-alkali = Alcalinidad aportada por mg/L de álcali
 trace-alkalinity-per-dose = Alcalinidad consumida por mg/L de coagulante
+trace-alkalinity-added-per-dose = Alcalinidad añadida por mg/L de coagulante
 trace-ammonia-dose = Dosis de amoníaco
 trace-breakpoint-dose = Dosis de punto de quiebre
 trace-breakpoint-ratio = Relación cloro / N amoniacal en el punto de quiebre

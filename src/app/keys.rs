@@ -200,6 +200,7 @@ pub const TRACE_LABELS: &[&str] = &[
     "alkalinity-added",
     "alkalinity-per-alkali",
     "alkalinity-per-dose",
+    "alkalinity-added-per-dose",
     "ammonia-dose",
     "breakpoint-dose",
     "breakpoint-ratio",

@@ -94,6 +94,8 @@ const COAGULANTS: &[(&str, &str)] = &[
     ("ferric-sulfate", "ferric-sulfate"),
     ("Fe2(SO4)3", "ferric-sulfate"),
     ("pacl", "pacl"),
+    ("sodium-aluminate", "sodium-aluminate"),
+    ("NaAlO2", "sodium-aluminate"),
 ];
 
 const NO_PERISTALTIC: &str = "give the pump's output at 100 % with --pump-capacity and --pump-unit (the table sets a metering pump by its capacity)";

@@ -149,8 +149,8 @@ const DECHLOR_AGENTS: [&str; 6] = ["SO2", "NaHSO3", "Na2S2O5", "Na2SO3", "Na2S2O
 /// Liquid coagulants a metering pump feeds.
 const COAGULANTS: [&str; 4] = ["alum-liquid", "ferric-chloride", "ferric-sulfate", "pacl"];
 
-/// The coagulants the coagulation calculator offers: the metal salts and sodium aluminate,
-/// the alkaline coagulant that adds alkalinity instead of consuming it.
+/// The coagulants the coagulation and phosphorus-removal calculators offer: the metal salts
+/// and sodium aluminate, the alkaline coagulant that adds alkalinity instead of consuming it.
 const COAGULATION_PRODUCTS: [&str; 5] = [
     "alum-liquid",
     "ferric-chloride",
@@ -825,7 +825,7 @@ pub static TABLE: [Calculator; 22] = [
             based(own("metal-ratio", Q::Ratio), "mol metal per mol P"),
         ],
         product_inputs: ProductInputs::Feed,
-        offer: Offer::Listed(&COAGULANTS),
+        offer: Offer::Listed(&COAGULATION_PRODUCTS),
         results: &[
             headline("metal_dose", Q::Concentration).on("metal"),
             FEED_RESULTS[0],
@@ -834,6 +834,8 @@ pub static TABLE: [Calculator; 22] = [
             FEED_RESULTS[3],
             FEED_RESULTS[4],
             secondary("alkalinity_consumed", Q::AsCaCO3).on(CACO3),
+            // Sodium aluminate's, in place of alkalinity_consumed.
+            secondary("alkalinity_added", Q::AsCaCO3).on(CACO3),
             secondary("sludge_mass_rate", Q::MassPerDay).on(DRY_SOLIDS),
         ],
         in_app: true,

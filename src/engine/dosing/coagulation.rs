@@ -88,6 +88,15 @@ impl Coagulant {
         matches!(self, Coagulant::SodiumAluminate)
     }
 
+    /// The heading of its alkalinity-per-dose trace: an aluminate's is alkalinity added.
+    pub fn alkalinity_per_dose_label(self) -> &'static str {
+        if self.adds_alkalinity() {
+            "alkalinity-added-per-dose"
+        } else {
+            "alkalinity-per-dose"
+        }
+    }
+
     /// The metal hydroxide it precipitates.
     fn hydroxide(self) -> &'static str {
         match self {
@@ -565,7 +574,7 @@ pub fn coagulation(catalog: &Catalog, input: &CoagulationInput) -> Result<Coagul
         Quantity::of(per, "mg/L", "CaCO3"),
         Quantity::of(1.0, "mg/L", c.dose_as()),
         Origin::Constant {
-            source: "derived in trace alkalinity-per-dose".into(),
+            source: format!("derived in trace {}", c.alkalinity_per_dose_label()),
         },
         per_trace.sig_figs(),
     )?;
@@ -607,7 +616,7 @@ pub fn coagulation(catalog: &Catalog, input: &CoagulationInput) -> Result<Coagul
         water: None,
         water_with_alkali: None,
         traces: vec![
-            NamedTrace::new("alkalinity-per-dose", per_trace),
+            NamedTrace::new(c.alkalinity_per_dose_label(), per_trace),
             NamedTrace::new(
                 if c.adds_alkalinity() {
                     "alkalinity-added"

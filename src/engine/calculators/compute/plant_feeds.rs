@@ -16,6 +16,7 @@ use crate::engine::calculators::{Device, FollowUp, Setting};
 use crate::engine::dosing::NamedTrace;
 use crate::engine::dosing::catalog::{Catalog, active_to_product, molar_mass};
 use crate::engine::dosing::caution::Caution;
+use crate::engine::dosing::coagulation::alkalinity_per_dose;
 use crate::engine::dosing::feed::product_cautions;
 use crate::engine::formula::Formula;
 use crate::engine::quantity::Quantity as Q;
@@ -252,9 +253,9 @@ fn metal_of(dose_as: &str) -> Result<&'static str> {
 }
 
 /// Phosphorus removal with a metal salt: metal = P (mol) × the molar ratio; the dose as the
-/// product's compound from its formula; alkalinity consumed at the metal ion's charge in
-/// equivalents per mole (3 for Al3+ and Fe3+, as in coagulation); dry solids as the metal
-/// phosphate for the phosphorus and the hydroxide for the metal beyond it.
+/// product's compound from its formula; the alkalinity the dose consumes (or, sodium
+/// aluminate, adds) from the coagulant's hydrolysis reaction, as in coagulation; dry solids as
+/// the metal phosphate for the phosphorus and the hydroxide for the metal beyond it.
 pub(crate) fn phosphorus_removal(c: &Calculators, request: &Request) -> Result<Outcome> {
     let p = measured(request, "phosphorus")?;
     let ratio = measured(request, "metal-ratio")?;
@@ -304,14 +305,33 @@ pub(crate) fn phosphorus_removal(c: &Calculators, request: &Request) -> Result<O
         },
         s_dose,
     )?;
-    // Alkalinity: the metal ion's charge in meq per mmol, as CaCO3.
-    let charge = f64::from(
-        Formula::parse(&format!("{metal}+3"))?
-            .charge()
-            .unsigned_abs(),
-    );
-    let (per_meq, _) = caco3_per_meq()?;
-    let alkalinity = metal_mmol * charge * per_meq;
+    // Alkalinity as the coagulation calculator reckons it, from the coagulant's own hydrolysis
+    // reaction in `data/`: a metal salt consumes its charge's worth (less for a basic PACl);
+    // sodium aluminate frees hydroxide and adds alkalinity instead.
+    let coagulant = super::coagulant(c, request)?;
+    if coagulant.dose_as() != product.dose_as {
+        return Err(Error::new(
+            ErrorKind::UnknownChemical,
+            format!(
+                "{} is dosed as {}, its coagulant as {}",
+                product.id,
+                product.dose_as,
+                coagulant.dose_as()
+            ),
+        )
+        .because("product-not-for-calculator"));
+    }
+    let (per, per_trace) = alkalinity_per_dose(&c.catalog, coagulant)?;
+    let mut alkalinity_trace = dose_trace.clone();
+    alkalinity_trace.then(
+        Quantity::of(per, "mg/L", "CaCO3"),
+        Quantity::of(1.0, "mg/L", &product.dose_as),
+        Origin::Constant {
+            source: format!("derived in trace {}", coagulant.alkalinity_per_dose_label()),
+        },
+        per_trace.sig_figs(),
+    )?;
+    let alkalinity = alkalinity_trace.value();
     // Solids: MPO4 for each P, M(OH)3 for the metal beyond it.
     let (m_po4, _) = molar_mass(&format!("{metal}PO4"))?;
     let (m_oh, _) = molar_mass(&format!("{metal}(OH)3"))?;
@@ -327,9 +347,19 @@ pub(crate) fn phosphorus_removal(c: &Calculators, request: &Request) -> Result<O
     };
     let r = c.feed_for(request, dose)?;
     let metal_dose = metal_trace.value();
+    let adds = coagulant.adds_alkalinity();
     let traces = vec![
         NamedTrace::new("metal-for-phosphorus", metal_trace),
         NamedTrace::new("coagulant-for-phosphorus", dose_trace),
+        NamedTrace::new(coagulant.alkalinity_per_dose_label(), per_trace),
+        NamedTrace::new(
+            if adds {
+                "alkalinity-added"
+            } else {
+                "alkalinity-consumed"
+            },
+            alkalinity_trace,
+        ),
     ];
     let mut cautions = Vec::new();
     let (low, high) = METAL_RATIO_PRACTICE;
@@ -350,7 +380,11 @@ pub(crate) fn phosphorus_removal(c: &Calculators, request: &Request) -> Result<O
         headline("metal_dose", metal_dose, Q::Concentration, Some(metal)),
     );
     out.results.push(result(
-        "alkalinity_consumed",
+        if adds {
+            "alkalinity_added"
+        } else {
+            "alkalinity_consumed"
+        },
         alkalinity,
         Q::AsCaCO3,
         Some("CaCO3"),
