@@ -878,6 +878,7 @@ error-reason-tank-given-twice = The site's tank has its own dimensions; leave ou
 error-reason-strapping-needs-site-tank = A strapping table comes from the site profile: choose the site's tank.
 fed-dose-deviates = { $product } on { $date }: the dose fed by the tank readings is { $calculated } mg/L against { $logged } mg/L logged ({ $deviation } %). Check the pump, the tank readings and the totaliser.
 totalizer-went-back = Meter { $meter }: the totaliser reads less on { $date } than before; that day's water is left out.
+reading-unit-not-checked = Readings of { $parameter } in { $unit } are listed apart and not checked against the limits, which are in { $own_unit }. Record them in { $own_unit } to have them checked.
 tank-rose-without-delivery = Tank { $tank } on { $date }: the level rose more than any delivery logged explains.
 delivery-not-converted = A delivery of { $product } in { $unit } could not be turned into a volume of product.
 

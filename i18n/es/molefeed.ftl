@@ -878,6 +878,7 @@ error-reason-tank-given-twice = El tanque de la planta tiene sus propias dimensi
 error-reason-strapping-needs-site-tank = Una tabla de aforo viene del perfil de la planta: elija el tanque de la planta.
 fed-dose-deviates = { $product } el { $date }: la dosis alimentada según las lecturas del tanque es { $calculated } mg/L frente a { $logged } mg/L registrada ({ $deviation } %). Revise la bomba, las lecturas del tanque y el totalizador.
 totalizer-went-back = Medidor { $meter }: el totalizador marca menos el { $date } que antes; el agua de ese día no se cuenta.
+reading-unit-not-checked = Las lecturas de { $parameter } en { $unit } se listan aparte y no se comparan con los límites, que están en { $own_unit }. Regístrelas en { $own_unit } para que se comparen.
 tank-rose-without-delivery = Tanque { $tank } el { $date }: el nivel subió más de lo que explica cualquier entrega registrada.
 delivery-not-converted = Una entrega de { $product } en { $unit } no se pudo convertir en volumen de producto.
 

@@ -65,6 +65,7 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     // The operating report's cross-check by tank drop and its gaps (`log::report`).
     "fed-dose-deviates",
     "totalizer-went-back",
+    "reading-unit-not-checked",
     "tank-rose-without-delivery",
     "delivery-not-converted",
     "hazard-toxic-gas",

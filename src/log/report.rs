@@ -21,6 +21,7 @@ use crate::engine::dosing::pumpcheck::Tolerance;
 use crate::engine::dosing::site::SiteProfile;
 use crate::engine::dosing::units::{LengthUnit, UnitSystem};
 use crate::engine::trace::{Origin, Quantity, Trace};
+use crate::log::record::parameter_unit;
 use crate::log::{Reading, ReadingView, Status, View};
 use chrono::{DateTime, FixedOffset, NaiveDate};
 use serde::Serialize;
@@ -418,6 +419,7 @@ pub fn report(src: &Sources<'_>) -> Report {
             tap,
             parameter,
             value,
+            unit,
             ..
         } = &r.reading
         else {
@@ -427,10 +429,36 @@ pub fn report(src: &Sources<'_>) -> Report {
         let Some(day) = days.get_mut(&date) else {
             continue;
         };
+        // Limits and the statistics are in the parameter's own unit (the one the app records
+        // in). A reading given in another unit (°F, µg/L) is kept apart under its unit and not
+        // compared with a limit it cannot be compared with: said, never silently mixed.
+        let own_unit = unit == parameter_unit(parameter);
+        let row = if own_unit {
+            parameter.clone()
+        } else {
+            format!("{parameter} ({unit})")
+        };
         tap_values
-            .entry((date, tap.clone(), parameter.clone()))
+            .entry((date, tap.clone(), row))
             .or_default()
             .push(*value);
+        if !own_unit {
+            if !cautions.iter().any(|c: &Caution| {
+                c.key == "reading-unit-not-checked"
+                    && c.params
+                        .iter()
+                        .any(|(k, v)| k == "parameter" && v == parameter)
+                    && c.params.iter().any(|(k, v)| k == "unit" && v == unit)
+            }) {
+                cautions.push(
+                    Caution::warning("reading-unit-not-checked")
+                        .with("parameter", parameter)
+                        .with("unit", unit)
+                        .with("own_unit", parameter_unit(parameter)),
+                );
+            }
+            continue;
+        }
         if let Some(limit) = src.site.effective_limit(parameter) {
             let beyond = match (limit.min, limit.max) {
                 (_, Some(max)) if *value > max => Some(("above", max)),

@@ -437,3 +437,89 @@ fn same_numbers(a: &Value, b: &Value, at: &str) {
         _ => assert_eq!(a, b, "{at}"),
     }
 }
+
+/// A tap reading given in another unit than its parameter's (°F, µg/L) is kept apart in the
+/// report and never compared with a limit in the parameter's unit: 5 000 µg/L of chlorine is
+/// not an exceedance of 4.0 mg/L, and 54 °F is not averaged with 12 °C. Expected rows written
+/// by hand from the readings logged here.
+#[test]
+fn a_tap_reading_in_another_unit_is_reported_apart_and_not_checked() {
+    let dir = std::env::temp_dir().join(format!("molefeed-units-cli-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let log = dir.join("plant.doselog");
+    let file = log.to_str().unwrap();
+    let readings: [(&str, &str, Option<&str>); 4] = [
+        ("temperature", "12", None),
+        ("temperature", "54", Some("°F")),
+        ("chlorine", "1.2", None),
+        ("chlorine", "5000", Some("µg/L")),
+    ];
+    for (parameter, value, unit) in readings {
+        let mut args = vec![
+            "log",
+            "reading",
+            "--file",
+            file,
+            "--site",
+            SITE,
+            "--tap",
+            "clearwell-tap",
+            "--parameter",
+            parameter,
+            "--value",
+            value,
+            "--initials",
+            "AB",
+        ];
+        if let Some(u) = unit {
+            args.extend(["--unit", u]);
+        }
+        let (code, _, text) = run(&args);
+        assert_eq!(code, 0, "{args:?}: {text}");
+    }
+    let today = chrono::Local::now().date_naive();
+    let from = (today - chrono::Days::new(1)).to_string();
+    let to = today.to_string();
+    let (code, json, text) = run(&[
+        "log", "report", "--file", file, "--site", SITE, "--from", &from, "--to", &to, "--json",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    let rows: Vec<(String, f64, u64)> = json["days"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .flat_map(|d| d["taps"].as_array().unwrap().clone())
+        .map(|t| {
+            (
+                t["parameter"].as_str().unwrap().to_string(),
+                t["avg"].as_f64().unwrap(),
+                t["count"].as_u64().unwrap(),
+            )
+        })
+        .collect();
+    let row = |name: &str| {
+        rows.iter()
+            .find(|r| r.0 == name)
+            .unwrap_or_else(|| panic!("{name} in {rows:?}"))
+    };
+    assert_eq!((row("temperature").1, row("temperature").2), (12.0, 1));
+    assert_eq!(
+        (row("temperature (°F)").1, row("temperature (°F)").2),
+        (54.0, 1)
+    );
+    assert_eq!((row("chlorine").1, row("chlorine").2), (1.2, 1));
+    assert_eq!(
+        (row("chlorine (µg/L)").1, row("chlorine (µg/L)").2),
+        (5000.0, 1)
+    );
+    assert_eq!(json["totals"]["exceedances"], 0, "{json}");
+    let warned: Vec<&Value> = json["cautions"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|c| c["key"] == "reading-unit-not-checked")
+        .collect();
+    assert_eq!(warned.len(), 2, "{json}");
+    std::fs::remove_dir_all(&dir).unwrap();
+}
