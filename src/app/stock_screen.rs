@@ -56,8 +56,9 @@ pub struct StockScreen {
     pub selected: Option<uuid::Uuid>,
     /// The month the report card produces (`2026-11`), as typed.
     pub month: String,
-    /// The last report saved, for its totals line.
+    /// The last report saved, for its totals line, and where it went (or why it did not).
     pub report: Option<Report>,
+    pub report_note: Option<Note>,
 }
 
 fn refuse(key: &str) -> Note {

@@ -105,6 +105,15 @@ fn unit_words(unit: Unit, words: &dyn Words) -> String {
     words.get(&format!("unit-{}", unit.code()))
 }
 
+/// The tap parameters of the site profiles that no limit names (limits bring their own
+/// `parameter-*` words), so that each is worded in both languages.
+pub const TAP_PARAMETER_WORDS: [&str; 4] = [
+    key("parameter-alkalinity"),
+    key("parameter-turbidity"),
+    key("parameter-ammonia-n"),
+    key("parameter-temperature"),
+];
+
 /// A parameter's name in words, or its code where there is no translation.
 pub fn parameter_words(parameter: &str, words: &dyn Words) -> String {
     let k = format!("parameter-{parameter}");
@@ -632,16 +641,18 @@ impl AppState {
         let month = self.stock.month.clone();
         let (stock, log, session) = (&mut self.stock, &self.log, &self.session);
         let Some(folder) = session.export_folder() else {
-            stock.message = Some(Note::new(key("log-need-path")));
+            stock.report_note = Some(Note::new(key("log-need-path")));
             stock.report = None;
             return false;
         };
         let Some(catalog) = session.catalog() else {
             return false;
         };
-        stock
+        let saved = stock
             .save_report(log.store(), session.site(), catalog, &month, &folder)
-            .is_some()
+            .is_some();
+        stock.report_note = stock.message.take();
+        saved
     }
 }
 
