@@ -1213,7 +1213,7 @@ fn a_reading_and_a_delivery_are_recorded_listed_corrected_and_voided() {
     tap(&app, &en("reading-yesterday"));
     tap(&app, &en("reading-record"));
     one(&app, &en("stock-recorded"));
-    one(&app, "Level · Hypochlorite day tank 4.500 ft");
+    one(&app, "Level · Hypochlorite day tank 4.5 ft");
     let yesterday = chrono::Local::now().date_naive() - chrono::Duration::days(1);
     let when = reading.get_rows().row_data(0).unwrap().when;
     assert!(
@@ -1226,13 +1226,13 @@ fn a_reading_and_a_delivery_are_recorded_listed_corrected_and_voided() {
     type_into(&app, &en("reading-note-number"), "DN-1104");
     tap(&app, &en("reading-record"));
     let delivery = format!(
-        "Delivery · {} · note DN-1104 280.0 gal",
+        "Delivery · {} · note DN-1104 280 gal",
         en("product-sodium-hypochlorite")
     );
     one(&app, &delivery);
     assert_eq!(reading.get_rows().row_count(), 2);
     // The level, opened from the list, is corrected with a reason.
-    tap(&app, "Level · Hypochlorite day tank 4.500 ft");
+    tap(&app, "Level · Hypochlorite day tank 4.5 ft");
     assert_eq!(reading.get_value(), "4.5", "the form shows the reading as recorded");
     type_into(&app, &en("reading-value"), "4.25");
     tap(&app, &en("reading-save-correction"));
@@ -1243,7 +1243,7 @@ fn a_reading_and_a_delivery_are_recorded_listed_corrected_and_voided() {
     one(
         &app,
         &format!(
-            "Level · Hypochlorite day tank 4.250 ft {}",
+            "Level · Hypochlorite day tank 4.25 ft {}",
             en("log-status-corrected")
         ),
     );

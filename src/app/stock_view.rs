@@ -157,6 +157,17 @@ fn subjects(site: &SiteProfile, kind: Kind, words: &dyn Words) -> Vec<(String, S
     }
 }
 
+/// A recorded value as the operator typed it: up to six figures, no trailing zeros (a level
+/// typed 4.5 is not shown as 4.500, which would claim figures nobody read).
+fn as_recorded(v: f64, lang: Lang) -> String {
+    let t = numbers::format_sig(v, 6, lang);
+    if t.contains(['.', ',']) {
+        t.trim_end_matches('0').trim_end_matches(['.', ',']).to_string()
+    } else {
+        t
+    }
+}
+
 /// The ids [`subjects`] offers, in its order.
 fn subject_ids(site: &SiteProfile, kind: Kind) -> Vec<String> {
     match kind {
@@ -276,11 +287,7 @@ impl StockScreen {
 
     /// Opens reading `r` for a correction or a void: the form shows it as recorded.
     pub fn open(&mut self, r: &ReadingView, lang: Lang) {
-        let text = |v: f64| numbers::format_sig(v, 6, lang).trim_end_matches('0').to_string();
-        let text = |v: f64| {
-            let t = text(v);
-            t.trim_end_matches(['.', ',']).to_string()
-        };
+        let text = |v: f64| as_recorded(v, lang);
         self.selected = Some(r.id);
         self.form.note_number.clear();
         self.form.earlier.clear();
@@ -423,7 +430,7 @@ impl StockScreen {
         words: &dyn Words,
     ) -> Vec<ReadingLine> {
         let lang = words.lang();
-        let value = |v: f64, unit: &str| format!("{} {unit}", numbers::format_sig(v, 4, lang));
+        let value = |v: f64, unit: &str| format!("{} {unit}", as_recorded(v, lang));
         let name = |list: Vec<(String, String)>, id: &str| {
             list.into_iter()
                 .find(|(i, _)| i == id)
@@ -496,7 +503,15 @@ impl StockScreen {
                         key("reading-when-earlier"),
                         &[
                             ("when", time(&r.at)),
-                            ("entered", time(&entered)),
+                            // Entered the same day: its time says enough.
+                            (
+                                "entered",
+                                if entered.date_naive() == r.at.date_naive() {
+                                    entered.format("%H:%M").to_string()
+                                } else {
+                                    time(&entered)
+                                },
+                            ),
                             ("initials", operator),
                         ],
                     ),
@@ -807,12 +822,12 @@ mod tests {
         let lines = StockScreen::reading_lines(&s, &readings, &WORDS);
         assert_eq!(lines.len(), 2);
         assert_eq!(lines[1].what, "Level · Hypochlorite day tank");
-        assert_eq!(lines[1].value, "4.250 ft");
+        assert_eq!(lines[1].value, "4.25 ft");
         let taken = format!("{yesterday} 07:30 (entered ");
         assert!(lines[1].when.starts_with(&taken), "{}", lines[1].when);
         assert!(lines[0].what.starts_with("Delivery · "), "{}", lines[0].what);
         assert!(lines[0].what.ends_with(" · DN-7"), "{}", lines[0].what);
-        assert_eq!(lines[0].value, "280.0 gal");
+        assert_eq!(lines[0].value, "280 gal");
         let level = readings.iter().find(|r| matches!(r.reading, Reading::TankLevel { .. }));
         screen.open(level.unwrap(), Lang::Es);
         assert_eq!(screen.form.kind, Kind::TankLevel);
