@@ -1178,7 +1178,10 @@ const DEMO: &str = "Harrowmere Tarn Water Works (demo)";
 
 /// A tall tablet window on the demo plant with initials set, at the Log screen; `log` is the
 /// dose log, `data_dir` where the export folder is.
-fn start_on_log(log: PersistentLog, data_dir: Option<std::path::PathBuf>) -> (AppWindow, AppHandle) {
+fn start_on_log(
+    log: PersistentLog,
+    data_dir: Option<std::path::PathBuf>,
+) -> (AppWindow, AppHandle) {
     common::bundled_fonts_only();
     i_slint_backend_testing::init_no_event_loop();
     let app = AppWindow::new().expect("window");
@@ -1233,7 +1236,11 @@ fn a_reading_and_a_delivery_are_recorded_listed_corrected_and_voided() {
     assert_eq!(reading.get_rows().row_count(), 2);
     // The level, opened from the list, is corrected with a reason.
     tap(&app, "Level · Hypochlorite day tank 4.5 ft");
-    assert_eq!(reading.get_value(), "4.5", "the form shows the reading as recorded");
+    assert_eq!(
+        reading.get_value(),
+        "4.5",
+        "the form shows the reading as recorded"
+    );
     type_into(&app, &en("reading-value"), "4.25");
     tap(&app, &en("reading-save-correction"));
     one(&app, &en("stock-error-reason"));
@@ -1253,7 +1260,11 @@ fn a_reading_and_a_delivery_are_recorded_listed_corrected_and_voided() {
     tap(&app, &en("reading-save-void"));
     one(&app, &format!("{delivery} {}", en("log-status-voided")));
     let readings = handle.state.borrow().site_readings();
-    assert_eq!(readings.len(), 2, "corrections and voids are new records, not new rows");
+    assert_eq!(
+        readings.len(),
+        2,
+        "corrections and voids are new records, not new rows"
+    );
 }
 
 #[test]

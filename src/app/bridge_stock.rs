@@ -70,7 +70,8 @@ pub(super) fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         {
             let mut st = i.state.borrow_mut();
             let st = &mut *st;
-            st.stock.pick_parameter(n.max(0) as usize, st.session.site());
+            st.stock
+                .pick_parameter(n.max(0) as usize, st.session.site());
         }
         i.refresh_stock();
     }));
@@ -88,11 +89,7 @@ pub(super) fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         let id = {
             let st = i.state.borrow();
             let readings = st.site_readings();
-            readings
-                .iter()
-                .rev()
-                .nth(n.max(0) as usize)
-                .map(|r| r.id)
+            readings.iter().rev().nth(n.max(0) as usize).map(|r| r.id)
         };
         if let Some(id) = id {
             i.state.borrow_mut().open_reading(id);
@@ -120,6 +117,18 @@ pub(super) fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         }
         i.refresh_stock();
     }));
+    let settings = window.global::<SettingsAdapter>();
+    settings.on_save_fed_tolerance(on_unit(|i| {
+        let text = i.window().global::<SettingsAdapter>().get_fed_tolerance();
+        let saved = i
+            .state
+            .borrow_mut()
+            .edit_site(|e, s| e.save_fed_tolerance(s, &text));
+        if saved {
+            i.show_fed_tolerance();
+        }
+        i.refresh_all();
+    }));
     a.on_save_report(on_unit(|i| {
         let month = i.window().global::<ReadingAdapter>().get_month();
         {
@@ -144,6 +153,15 @@ impl Inner {
         f.yesterday = a.get_yesterday();
     }
 
+    /// The Settings field of the site's fed-dose tolerance, as the site has it.
+    fn show_fed_tolerance(&self) {
+        let text =
+            crate::app::site_editor::SiteEditor::fed_tolerance_text(&self.state.borrow().session);
+        self.window()
+            .global::<SettingsAdapter>()
+            .set_fed_tolerance(s(text));
+    }
+
     /// Copies the reading card, the report card and the Stock view.
     pub(super) fn refresh_stock(&self) {
         let w = self.window();
@@ -157,6 +175,11 @@ impl Inner {
                     .unwrap_or(0);
                 st.stock.pick_kind(kind, st.session.site());
             }
+        }
+        // Outside Settings the tolerance field follows the site (a site switch, a reset);
+        // on Settings it keeps what is being typed.
+        if self.state.borrow().screen() != crate::app::state::Screen::Settings {
+            self.show_fed_tolerance();
         }
         let st = self.state.borrow();
         let texts = self.texts.borrow();
@@ -176,7 +199,9 @@ impl Inner {
             }
         };
         put(a.get_value(), &f.value, &|t| a.set_value(t));
-        put(a.get_note_number(), &f.note_number, &|t| a.set_note_number(t));
+        put(a.get_note_number(), &f.note_number, &|t| {
+            a.set_note_number(t)
+        });
         put(a.get_earlier(), &f.earlier, &|t| a.set_earlier(t));
         a.set_yesterday(f.yesterday);
         put(a.get_month(), &st.stock.month, &|t| a.set_month(t));

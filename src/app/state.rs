@@ -17,12 +17,12 @@ pub use super::log_screen::{
 };
 use super::numbers::Lang;
 pub use super::path_screen::PathScreen;
-pub use super::stock_screen::StockScreen;
 use super::plots;
 pub use super::plots::PlotView;
 use super::seams::{CalcEngine, CalcKind};
 pub use super::session::{Note, Session, Settings};
 pub use super::site_editor::SiteEditor;
+pub use super::stock_screen::StockScreen;
 use super::words::Words;
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::site::SiteProfile;

@@ -95,7 +95,9 @@ impl StockScreen {
     pub fn new() -> StockScreen {
         let today = chrono::Utc::now().date_naive();
         let first = today.with_day(1).unwrap_or(today);
-        let last_month = first.checked_sub_months(chrono::Months::new(1)).unwrap_or(first);
+        let last_month = first
+            .checked_sub_months(chrono::Months::new(1))
+            .unwrap_or(first);
         StockScreen {
             month: last_month.format("%Y-%m").to_string(),
             ..StockScreen::default()
@@ -340,8 +342,11 @@ impl StockScreen {
                 .map_err(|e| refuse(key("log-error-io")).arg("detail", e))?;
             let stem = format!("molefeed-report-{}", r.from.format("%Y-%m"));
             let [pdf, csv, json] = free_set(export_dir, &stem);
-            for (path, format) in [(&pdf, Format::Pdf), (&csv, Format::Csv), (&json, Format::Json)]
-            {
+            for (path, format) in [
+                (&pdf, Format::Pdf),
+                (&csv, Format::Csv),
+                (&json, Format::Json),
+            ] {
                 report::write_report(&r, format, path)
                     .map_err(|e| refuse(key("log-error-io")).arg("detail", e))?;
             }

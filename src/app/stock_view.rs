@@ -33,7 +33,12 @@ pub const STALE_AFTER_DAYS: i64 = 1;
 pub const RECENT_READINGS: usize = 20;
 
 /// The kinds in the form's order.
-pub const KINDS: [Kind; 4] = [Kind::TankLevel, Kind::Delivery, Kind::Totalizer, Kind::AtTap];
+pub const KINDS: [Kind; 4] = [
+    Kind::TankLevel,
+    Kind::Delivery,
+    Kind::Totalizer,
+    Kind::AtTap,
+];
 
 impl Kind {
     fn key(self) -> &'static str {
@@ -162,7 +167,9 @@ fn subjects(site: &SiteProfile, kind: Kind, words: &dyn Words) -> Vec<(String, S
 fn as_recorded(v: f64, lang: Lang) -> String {
     let t = numbers::format_sig(v, 6, lang);
     if t.contains(['.', ',']) {
-        t.trim_end_matches('0').trim_end_matches(['.', ',']).to_string()
+        t.trim_end_matches('0')
+            .trim_end_matches(['.', ','])
+            .to_string()
     } else {
         t
     }
@@ -385,7 +392,10 @@ impl StockScreen {
                     }
                 }
                 let sig = |v: Option<f64>, figures| {
-                    v.map_or_else(|| DASH.to_string(), |v| numbers::format_sig(v, figures, lang))
+                    v.map_or_else(
+                        || DASH.to_string(),
+                        |v| numbers::format_sig(v, figures, lang),
+                    )
                 };
                 StockLine {
                     name: r.name.clone(),
@@ -408,11 +418,10 @@ impl StockScreen {
                             )
                         },
                     ),
-                    fill: r
-                        .fill_percent
-                        .map_or_else(|| DASH.to_string(), |p| {
-                            format!("{} %", numbers::format_fixed(p, 0, lang))
-                        }),
+                    fill: r.fill_percent.map_or_else(
+                        || DASH.to_string(),
+                        |p| format!("{} %", numbers::format_fixed(p, 0, lang)),
+                    ),
                     supply: sig(r.days_of_supply, 2),
                     reorder: r
                         .reorder_date
@@ -468,7 +477,12 @@ impl StockScreen {
                         ),
                         value(*amount, unit),
                     ),
-                    Reading::Totalizer { meter, value: v, unit, .. } => (
+                    Reading::Totalizer {
+                        meter,
+                        value: v,
+                        unit,
+                        ..
+                    } => (
                         words.get_args(
                             key("reading-what-totalizer"),
                             &[("meter", name(subjects(site, Kind::Totalizer, words), meter))],
@@ -562,24 +576,31 @@ impl StockScreen {
         )];
         let site_name = |id: &str| id.to_string();
         for (id, p) in &t.products {
-            lines.push(words.get_args(
-                key("report-product"),
-                &[
-                    ("product", site_name(id)),
-                    ("used", numbers::format_sig(vol.from_si(p.product_used_l), 3, lang)),
-                    ("volume_unit", unit_words(vol, words)),
-                    (
-                        "active",
-                        numbers::format_sig(mass.from_si(p.active_used_kg), 3, lang),
-                    ),
-                    ("mass_unit", unit_words(mass, words)),
-                    (
-                        "dose",
-                        p.calculated_dose_mg_l
-                            .map_or_else(|| DASH.to_string(), |d| numbers::format_sig(d, 3, lang)),
-                    ),
-                ],
-            ));
+            lines.push(
+                words.get_args(
+                    key("report-product"),
+                    &[
+                        ("product", site_name(id)),
+                        (
+                            "used",
+                            numbers::format_sig(vol.from_si(p.product_used_l), 3, lang),
+                        ),
+                        ("volume_unit", unit_words(vol, words)),
+                        (
+                            "active",
+                            numbers::format_sig(mass.from_si(p.active_used_kg), 3, lang),
+                        ),
+                        ("mass_unit", unit_words(mass, words)),
+                        (
+                            "dose",
+                            p.calculated_dose_mg_l.map_or_else(
+                                || DASH.to_string(),
+                                |d| numbers::format_sig(d, 3, lang),
+                            ),
+                        ),
+                    ],
+                ),
+            );
         }
         lines
     }
@@ -617,7 +638,13 @@ impl AppState {
             return false;
         };
         let (stock, log, session) = (&mut self.stock, &mut self.log, &self.session);
-        let done = stock.correct(log.store_mut(), session.site(), id, session.initials(), reason);
+        let done = stock.correct(
+            log.store_mut(),
+            session.site(),
+            id,
+            session.initials(),
+            reason,
+        );
         if done {
             stock.selected = None;
             stock.form.value.clear();
@@ -686,13 +713,19 @@ mod tests {
         ("caution-level-danger", "Danger"),
         ("caution-level-warning", "Warning"),
         ("caution-level-info", "Note"),
-        ("stock-caution-reorder", "At or below the reorder level { $level } { $unit }"),
+        (
+            "stock-caution-reorder",
+            "At or below the reorder level { $level } { $unit }",
+        ),
         ("stock-caution-no-reading", "No level"),
         ("stock-caution-stale", "Last read { $date }"),
         ("stock-caution-no-rate", "No rate over { $days } days"),
         ("reading-kind-level", "Tank level"),
         ("reading-what-level", "Level · { $tank }"),
-        ("reading-what-delivery", "Delivery · { $product } · { $note }"),
+        (
+            "reading-what-delivery",
+            "Delivery · { $product } · { $note }",
+        ),
         ("reading-when", "{ $when } · { $initials }"),
         (
             "reading-when-earlier",
@@ -756,7 +789,13 @@ mod tests {
         check(&[5.0, 4.5, 4.0], 3, "376 gal", "8.0", &[]);
         // 1.5 ft is the demo tank's reorder level: at or below it is a danger. π × 4 × 1.5
         // ft³ = 141 gal; 1.0 ft/d → 1.5 days.
-        check(&[2.5, 1.5], 2, "141 gal", "1.5", &["At or below the reorder level 1.50 ft"]);
+        check(
+            &[2.5, 1.5],
+            2,
+            "141 gal",
+            "1.5",
+            &["At or below the reorder level 1.50 ft"],
+        );
         // Read three days ago: stale, and one reading gives no rate.
         check(
             &[4.0],
@@ -785,7 +824,10 @@ mod tests {
         assert_eq!(screen.choices(&s, &WORDS).subjects.len(), 1);
         // A delivery starts in the US site's gallons, and its units are offered.
         screen.pick_kind(1, &s);
-        assert_eq!((screen.form.subject.as_str(), screen.form.unit.as_str()), ("hypo-bulk", "gal"));
+        assert_eq!(
+            (screen.form.subject.as_str(), screen.form.unit.as_str()),
+            ("hypo-bulk", "gal")
+        );
         assert_eq!(screen.choices(&s, &WORDS).units.len(), 4);
         // A tap's parameters are its own; the clearwell tap starts on chlorine.
         screen.pick_kind(3, &s);
@@ -825,10 +867,16 @@ mod tests {
         assert_eq!(lines[1].value, "4.25 ft");
         let taken = format!("{yesterday} 07:30 (entered ");
         assert!(lines[1].when.starts_with(&taken), "{}", lines[1].when);
-        assert!(lines[0].what.starts_with("Delivery · "), "{}", lines[0].what);
+        assert!(
+            lines[0].what.starts_with("Delivery · "),
+            "{}",
+            lines[0].what
+        );
         assert!(lines[0].what.ends_with(" · DN-7"), "{}", lines[0].what);
         assert_eq!(lines[0].value, "280 gal");
-        let level = readings.iter().find(|r| matches!(r.reading, Reading::TankLevel { .. }));
+        let level = readings
+            .iter()
+            .find(|r| matches!(r.reading, Reading::TankLevel { .. }));
         screen.open(level.unwrap(), Lang::Es);
         assert_eq!(screen.form.kind, Kind::TankLevel);
         assert_eq!(screen.form.value, "4,25");
