@@ -1339,3 +1339,40 @@ fn the_monthly_report_is_produced_on_the_device_and_saved_in_the_export_folder()
     one(&app, &totals);
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn the_sites_fed_dose_tolerance_is_set_in_settings() {
+    common::bundled_fonts_only();
+    i_slint_backend_testing::init_no_event_loop();
+    let app = AppWindow::new().expect("window");
+    let handle = attach(
+        &app,
+        Deps {
+            engine: connected_engine(),
+            log: Box::new(PersistentLog::scratch()),
+            data_dir: None,
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    // Tall enough that the whole Settings screen is in view (the finders see only that).
+    app.window()
+        .set_size(slint::LogicalSize::new(1280.0, 6000.0));
+    app.show().expect("show");
+    tap(&app, &en("nav-settings"));
+    assert_eq!(handle.state.borrow().site().fed_dose_tolerance_percent, None);
+    type_into(&app, &en("settings-fed-tolerance-field"), "80");
+    tap(&app, &en("settings-save-fed-tolerance"));
+    let message = app.global::<SettingsAdapter>().get_message();
+    assert!(
+        message.contains(&en("error-reason-site-tolerance-out-of-range")),
+        "{message}"
+    );
+    assert_eq!(handle.state.borrow().site().fed_dose_tolerance_percent, None);
+    type_into(&app, &en("settings-fed-tolerance-field"), "10");
+    tap(&app, &en("settings-save-fed-tolerance"));
+    assert_eq!(
+        handle.state.borrow().site().fed_dose_tolerance_percent,
+        Some(10.0)
+    );
+}
