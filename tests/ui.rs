@@ -1360,7 +1360,10 @@ fn the_sites_fed_dose_tolerance_is_set_in_settings() {
         .set_size(slint::LogicalSize::new(1280.0, 6000.0));
     app.show().expect("show");
     tap(&app, &en("nav-settings"));
-    assert_eq!(handle.state.borrow().site().fed_dose_tolerance_percent, None);
+    assert_eq!(
+        handle.state.borrow().site().fed_dose_tolerance_percent,
+        None
+    );
     type_into(&app, &en("settings-fed-tolerance-field"), "80");
     tap(&app, &en("settings-save-fed-tolerance"));
     let message = app.global::<SettingsAdapter>().get_message();
@@ -1368,7 +1371,10 @@ fn the_sites_fed_dose_tolerance_is_set_in_settings() {
         message.contains(&en("error-reason-site-tolerance-out-of-range")),
         "{message}"
     );
-    assert_eq!(handle.state.borrow().site().fed_dose_tolerance_percent, None);
+    assert_eq!(
+        handle.state.borrow().site().fed_dose_tolerance_percent,
+        None
+    );
     type_into(&app, &en("settings-fed-tolerance-field"), "10");
     tap(&app, &en("settings-save-fed-tolerance"));
     assert_eq!(
