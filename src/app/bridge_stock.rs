@@ -205,32 +205,41 @@ impl Inner {
         put(a.get_earlier(), &f.earlier, &|t| a.set_earlier(t));
         a.set_yesterday(f.yesterday);
         put(a.get_month(), &st.stock.month, &|t| a.set_month(t));
-        let readings = st.site_readings();
+        // The readings are read from the log only while the Log screen is shown (navigating
+        // to it refreshes everything), so other screens' refreshes never pay for them.
+        let on_log = st.screen() == crate::app::state::Screen::Log;
+        let readings = if on_log {
+            st.site_readings()
+        } else {
+            Vec::new()
+        };
         let lines = crate::app::stock_screen::StockScreen::reading_lines(
             st.session.site(),
             &readings,
             &*texts,
         );
-        a.set_selected(
-            st.stock
-                .selected
-                .and_then(|id| lines.iter().position(|l| l.id == id))
-                .map_or(-1, |p| p as i32),
-        );
-        a.set_rows(model(
-            lines
-                .into_iter()
-                .enumerate()
-                .map(|(n, l)| ReadingRow {
-                    index: n as i32,
-                    when: s(l.when),
-                    what: s(l.what),
-                    value: s(l.value),
-                    status: s(l.status),
-                    voided: l.voided,
-                })
-                .collect(),
-        ));
+        if on_log {
+            a.set_selected(
+                st.stock
+                    .selected
+                    .and_then(|id| lines.iter().position(|l| l.id == id))
+                    .map_or(-1, |p| p as i32),
+            );
+            a.set_rows(model(
+                lines
+                    .into_iter()
+                    .enumerate()
+                    .map(|(n, l)| ReadingRow {
+                        index: n as i32,
+                        when: s(l.when),
+                        what: s(l.what),
+                        value: s(l.value),
+                        status: s(l.status),
+                        voided: l.voided,
+                    })
+                    .collect(),
+            ));
+        }
         drop(texts);
         let note = |n: &Option<crate::app::state::Note>| {
             n.as_ref().map(|n| self.note(n)).unwrap_or_default()
