@@ -26,7 +26,7 @@ impl Platform for Headless {
     }
 }
 
-const SCREENS: [&str; 7] = [
+const SCREENS: [&str; 8] = [
     "start",
     "calculators",
     "plots",
@@ -34,6 +34,7 @@ const SCREENS: [&str; 7] = [
     "settings",
     "about",
     "path",
+    "stock",
 ];
 
 fn render(window: &MinimalSoftwareWindow, w: u32, h: u32) -> Vec<Rgb8Pixel> {
@@ -114,7 +115,56 @@ fn seeded_log() -> Box<dyn DoseLog> {
     )
     .expect("seed correction");
     log.void(2, "KT", "entered twice").expect("seed void");
+    seed_readings(&mut log);
     Box::new(log)
+}
+
+/// The demo plant's day tank read yesterday morning and a minute ago (the log takes an
+/// earlier time of today or yesterday only, so these follow the clock), a delivery and a
+/// chlorine reading: the Stock view has a rate, the Log screen's list has each kind.
+fn seed_readings(log: &mut PersistentLog) {
+    use molefeed::log::record::Reading;
+    let site = "Harrowmere Tarn Water Works (demo)";
+    let now = chrono::Local::now().fixed_offset();
+    let yesterday = (now.date_naive() - chrono::Duration::days(1))
+        .and_hms_opt(6, 0, 0)
+        .unwrap()
+        .and_local_timezone(*now.offset())
+        .unwrap();
+    let recent = now - chrono::Duration::minutes(1);
+    let level = |level: f64| Reading::TankLevel {
+        operator: "KT".into(),
+        tank: "hypo-day-tank".into(),
+        level,
+        unit: "ft".into(),
+    };
+    for (at, reading) in [
+        (yesterday, level(2.4)),
+        (recent, level(1.4)),
+        (
+            recent,
+            Reading::Delivery {
+                operator: "KT".into(),
+                product: "alum-bulk".into(),
+                amount: 1200.0,
+                unit: "gal".into(),
+                note_number: "DN-2231".into(),
+            },
+        ),
+        (
+            recent,
+            Reading::AtTap {
+                operator: "KT".into(),
+                tap: "clearwell-tap".into(),
+                parameter: "chlorine".into(),
+                value: 1.2,
+                unit: "mg/L".into(),
+            },
+        ),
+    ] {
+        log.record_reading(site, Some(at), reading)
+            .expect("seed reading");
+    }
 }
 
 /// The app on this thread's own software-rendered window, with the real engine and the seeded
@@ -561,4 +611,37 @@ fn spanish_fits_at_phone_width() {
         "only {seen} buttons checked: the finder saw too few"
     );
     assert!(failures.is_empty(), "{}", failures.join("\n"));
+}
+
+/// The Stock view and the Log screen's reading and report cards, in English and Spanish, at
+/// phone and tablet size; the cards also in a tall phone window (the normal one shows the
+/// list first). Rendered for review and checked to hold text.
+#[test]
+fn stock_and_the_reading_forms_render() {
+    let (window, app, handle) = headless_app();
+    handle.state.borrow_mut().set_initials("KT");
+    handle.refresh();
+    app.show().expect("show");
+    let out = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
+    std::fs::create_dir_all(&out).unwrap();
+    let mut failures = Vec::new();
+    for (lang, suffix) in [(0, ""), (1, "-es")] {
+        app.global::<SettingsAdapter>().invoke_set_lang(lang);
+        for (name, screen, w, h) in [
+            ("stock-phone", 7, 400, 860),
+            ("stock-tablet", 7, 1280, 800),
+            ("log-forms-phone-full", 3, 400, 4200),
+            ("log-forms-tablet", 3, 1280, 800),
+            ("log-forms-tablet-full", 3, 1280, 2600),
+        ] {
+            app.global::<Nav>().invoke_go(screen);
+            let pixels = render(&window, w, h);
+            let file = format!("{name}{suffix}.png");
+            save_png(&out.join(&file), &pixels, w, h);
+            if dark_pixels(&pixels, w, h, w < 720) < 1500 || distinct_colours(&pixels) < 40 {
+                failures.push(file);
+            }
+        }
+    }
+    assert!(failures.is_empty(), "blank or textless: {failures:?}");
 }

@@ -13,7 +13,9 @@ use molefeed::app::dose_log::PersistentLog;
 use molefeed::app::i18n::Texts;
 use molefeed::app::numbers::{self, Lang};
 use molefeed::app::seams::{Unconnected, connected_engine};
-use molefeed::app::ui::{AppWindow, LogAdapter, Nav, SettingsAdapter, StartAdapter};
+use molefeed::app::ui::{
+    AppWindow, LogAdapter, Nav, ReadingAdapter, SettingsAdapter, StartAdapter, StockAdapter,
+};
 use molefeed::app::{AppHandle, Deps, attach};
 use slint::{ComponentHandle, Model};
 use std::rc::Rc;
@@ -1169,4 +1171,214 @@ fn the_calculator_shows_the_tap_and_its_messages_clear_with_their_cause() {
     assert_eq!(handle.state.borrow().point(), Some(taps[1].as_str()));
     tap(&app, &en("calc-log-dose"));
     assert_eq!(handle.state.borrow().entries()[0].dose.tap, taps[1]);
+}
+
+/// The demo plant's name (data/demo-site.json), under which the app logs readings.
+const DEMO: &str = "Harrowmere Tarn Water Works (demo)";
+
+/// A tall tablet window on the demo plant with initials set, at the Log screen; `log` is the
+/// dose log, `data_dir` where the export folder is.
+fn start_on_log(
+    log: PersistentLog,
+    data_dir: Option<std::path::PathBuf>,
+) -> (AppWindow, AppHandle) {
+    common::bundled_fonts_only();
+    i_slint_backend_testing::init_no_event_loop();
+    let app = AppWindow::new().expect("window");
+    let handle = attach(
+        &app,
+        Deps {
+            engine: connected_engine(),
+            log: Box::new(log),
+            data_dir,
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    assert_eq!(handle.state.borrow().site().name, DEMO);
+    handle.state.borrow_mut().set_initials("RK");
+    handle.refresh();
+    app.window()
+        .set_size(slint::LogicalSize::new(1280.0, 3000.0));
+    app.show().expect("show");
+    tap(&app, &en("nav-log"));
+    (app, handle)
+}
+
+#[test]
+fn a_reading_and_a_delivery_are_recorded_listed_corrected_and_voided() {
+    let (app, handle) = start_on_log(PersistentLog::scratch(), None);
+    let reading = app.global::<ReadingAdapter>();
+    // The tank level of the first tank (the demo's hypochlorite day tank), taken at midnight
+    // yesterday: an earlier time, shown as such.
+    type_into(&app, &en("reading-value"), "4.5");
+    type_into(&app, &en("reading-earlier"), "00:00");
+    tap(&app, &en("reading-yesterday"));
+    tap(&app, &en("reading-record"));
+    one(&app, &en("stock-recorded"));
+    one(&app, "Level · Hypochlorite day tank 4.5 ft");
+    let yesterday = chrono::Local::now().date_naive() - chrono::Duration::days(1);
+    let when = reading.get_rows().row_data(0).unwrap().when;
+    assert!(
+        when.starts_with(&format!("Taken {yesterday} 00:00, entered ")) && when.ends_with(" · RK"),
+        "{when}"
+    );
+    // A delivery of the first delivered product, in gallons (the US site's unit), with its note.
+    tap(&app, &en("reading-kind-delivery"));
+    type_into(&app, &en("reading-value"), "280");
+    type_into(&app, &en("reading-note-number"), "DN-1104");
+    tap(&app, &en("reading-record"));
+    let delivery = format!(
+        "Delivery · {} · note DN-1104 280 gal",
+        en("product-sodium-hypochlorite")
+    );
+    one(&app, &delivery);
+    assert_eq!(reading.get_rows().row_count(), 2);
+    // The level, opened from the list, is corrected with a reason.
+    tap(&app, "Level · Hypochlorite day tank 4.5 ft");
+    assert_eq!(
+        reading.get_value(),
+        "4.5",
+        "the form shows the reading as recorded"
+    );
+    type_into(&app, &en("reading-value"), "4.25");
+    tap(&app, &en("reading-save-correction"));
+    one(&app, &en("stock-error-reason"));
+    type_into(&app, &en("log-edit-reason"), "misread the sight glass");
+    tap(&app, &en("reading-save-correction"));
+    one(&app, &en("stock-corrected"));
+    one(
+        &app,
+        &format!(
+            "Level · Hypochlorite day tank 4.25 ft {}",
+            en("log-status-corrected")
+        ),
+    );
+    // The delivery is voided; it stays listed, marked.
+    tap(&app, &delivery);
+    type_into(&app, &en("log-edit-reason"), "entered twice");
+    tap(&app, &en("reading-save-void"));
+    one(&app, &format!("{delivery} {}", en("log-status-voided")));
+    let readings = handle.state.borrow().site_readings();
+    assert_eq!(
+        readings.len(),
+        2,
+        "corrections and voids are new records, not new rows"
+    );
+}
+
+#[test]
+fn the_stock_view_shows_the_day_tanks_volume_from_a_level_typed_on_the_log_screen() {
+    let (app, _handle) = start_on_log(PersistentLog::scratch(), None);
+    type_into(&app, &en("reading-value"), "4");
+    tap(&app, &en("reading-record"));
+    tap(&app, &en("stock-open"));
+    assert_eq!(app.global::<Nav>().get_screen(), 7);
+    // By hand from data/demo-site.json: a vertical cylinder 4.0 ft across read at 4.0 ft holds
+    // π × (2 ft)² × 4 ft = 50.27 ft³ × 7.48052 gal/ft³ (1728 in³ ÷ 231 in³) = 376.0 gal; it is
+    // 6.0 ft tall, so 4/6 = 67 % full.
+    let volume = one(&app, "Hypochlorite day tank: Volume");
+    assert_eq!(volume.accessible_value().unwrap(), "376 gal");
+    assert_eq!(
+        one(&app, "Hypochlorite day tank: Full")
+            .accessible_value()
+            .unwrap(),
+        "67 %"
+    );
+    // One level gives no rate: said, never a zero.
+    assert_eq!(
+        one(&app, "Hypochlorite day tank: Days of supply")
+            .accessible_value()
+            .unwrap(),
+        "—"
+    );
+    let note = format!(
+        "{}: {}",
+        en("caution-level-info"),
+        Texts::new(Lang::En).get_args("stock-caution-no-rate", &[("days", "7".into())])
+    );
+    one(&app, &note);
+    assert_eq!(app.global::<StockAdapter>().get_tanks().row_count(), 4);
+    tap(&app, &format!("← {}", en("stock-back-to-log")));
+    assert_eq!(app.global::<Nav>().get_screen(), 3);
+}
+
+#[test]
+fn the_monthly_report_is_produced_on_the_device_and_saved_in_the_export_folder() {
+    let dir = std::env::temp_dir().join(format!("molefeed-ui-report-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    let logs = dir.join("logs");
+    std::fs::create_dir_all(&logs).unwrap();
+    molefeed::log::november::write(&molefeed::log::site_file(&logs, DEMO), DEMO, 0)
+        .expect("the invented November");
+    let (app, _handle) = start_on_log(PersistentLog::new(&logs, "test"), Some(dir.clone()));
+    type_into(&app, &en("report-month"), "2026-11");
+    tap(&app, &en("report-save"));
+    let exports = dir.join("exports");
+    let pdf = exports.join("molefeed-report-2026-11.pdf");
+    let csv = exports.join("molefeed-report-2026-11.csv");
+    let json = exports.join("molefeed-report-2026-11.json");
+    let saved = format!(
+        "The month's report was saved: {}, {} and {}",
+        pdf.display(),
+        csv.display(),
+        json.display()
+    );
+    assert_eq!(app.global::<ReadingAdapter>().get_report_message(), saved);
+    assert!(std::fs::read(&pdf).unwrap().starts_with(b"%PDF"));
+    assert!(csv.exists() && json.exists());
+    // By hand from log::november::Plan: water from day d's round to the next is 2 000 000 +
+    // 20 000 × (d mod 5) gal; over d = 1 … 30 the remainders sum to 6 × (1+2+3+4) = 60, so
+    // 60 000 000 + 1 200 000 = 61.20 MG.
+    let lines = app.global::<ReadingAdapter>().get_report_lines();
+    let totals = lines.row_data(0).expect("the totals line");
+    assert!(
+        totals.starts_with("2026-11-01 to 2026-11-30: 61.20 MG of water treated"),
+        "{totals}"
+    );
+    one(&app, &totals);
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn the_sites_fed_dose_tolerance_is_set_in_settings() {
+    common::bundled_fonts_only();
+    i_slint_backend_testing::init_no_event_loop();
+    let app = AppWindow::new().expect("window");
+    let handle = attach(
+        &app,
+        Deps {
+            engine: connected_engine(),
+            log: Box::new(PersistentLog::scratch()),
+            data_dir: None,
+            lang: Some(Lang::En),
+            quit_on_root_back: false,
+        },
+    );
+    // Tall enough that the whole Settings screen is in view (the finders see only that).
+    app.window()
+        .set_size(slint::LogicalSize::new(1280.0, 6000.0));
+    app.show().expect("show");
+    tap(&app, &en("nav-settings"));
+    assert_eq!(
+        handle.state.borrow().site().fed_dose_tolerance_percent,
+        None
+    );
+    type_into(&app, &en("settings-fed-tolerance-field"), "80");
+    tap(&app, &en("settings-save-fed-tolerance"));
+    let message = app.global::<SettingsAdapter>().get_message();
+    assert!(
+        message.contains(&en("error-reason-site-tolerance-out-of-range")),
+        "{message}"
+    );
+    assert_eq!(
+        handle.state.borrow().site().fed_dose_tolerance_percent,
+        None
+    );
+    type_into(&app, &en("settings-fed-tolerance-field"), "10");
+    tap(&app, &en("settings-save-fed-tolerance"));
+    assert_eq!(
+        handle.state.borrow().site().fed_dose_tolerance_percent,
+        Some(10.0)
+    );
 }

@@ -29,6 +29,9 @@ use std::cell::RefCell;
 use std::path::PathBuf;
 use std::rc::Rc;
 
+#[path = "bridge_stock.rs"]
+mod stock;
+
 /// What the app is connected to. Tests build their own; platforms use [`Deps::from_options`].
 pub struct Deps {
     pub engine: Rc<dyn CalcEngine>,
@@ -520,6 +523,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             .edit_site(|e, s| e.remove_limit(s, n.max(0) as usize));
         i.refresh_all();
     }));
+    stock::wire(window, inner);
 }
 
 impl Inner {
@@ -631,6 +635,7 @@ impl Inner {
         if on_path {
             self.refresh_path();
         }
+        self.refresh_stock();
     }
 
     /// The product form as typed.

@@ -307,6 +307,7 @@ pub const ERROR_REASONS: &[&str] = &[
     "disinfected-object-ambiguous",
     "stock-compound-not-product",
     "site-path-out-of-order",
+    "site-tolerance-out-of-range",
     "site-path-unknown-product",
     "site-path-unknown-basin",
     "target-out-of-reach",

@@ -268,6 +268,15 @@ impl LogScreen {
         self.log.persistent()
     }
 
+    /// The log itself, for the readings and the report of the stock controller.
+    pub fn store(&self) -> &dyn DoseLog {
+        &*self.log
+    }
+
+    pub fn store_mut(&mut self) -> &mut dyn DoseLog {
+        &mut *self.log
+    }
+
     /// Appends `dose` as logged at `when` (RFC 3339), for tests that need dated entries.
     #[cfg(test)]
     pub(crate) fn append_at(&mut self, when: &str, dose: Dose) -> u64 {

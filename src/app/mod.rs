@@ -26,6 +26,7 @@ pub mod site_editor;
 pub mod sites;
 pub mod state;
 pub mod stock_screen;
+pub mod stock_view;
 pub mod words;
 
 #[cfg(feature = "app")]

@@ -224,6 +224,41 @@ impl SiteEditor {
         self.edited(session, 5, outcome)
     }
 
+    /// Sets the site's fed-dose tolerance (± % of the dose logged) from the typed text, in
+    /// the app's language; empty returns it to the default. The engine's check of the profile
+    /// decides what is in range, so the rule lives once (`SiteProfile::validate`).
+    pub fn save_fed_tolerance(&mut self, session: &mut Session, text: &str) -> bool {
+        self.edit_with(session, 6, |site, lang, catalog| {
+            let value = if text.trim().is_empty() {
+                None
+            } else {
+                let v = super::numbers::parse(text.trim(), lang)
+                    .ok()
+                    .filter(|v| v.is_finite())
+                    .ok_or_else(|| {
+                        SiteProblem::Note(Note::new(key("site-fed-tolerance-invalid")))
+                    })?;
+                Some(v)
+            };
+            let mut checked = site.clone();
+            checked.fed_dose_tolerance_percent = value;
+            if let Some(catalog) = catalog {
+                checked.validate(catalog).map_err(SiteProblem::Engine)?;
+            }
+            site.fed_dose_tolerance_percent = value;
+            Ok(())
+        })
+    }
+
+    /// The fed-dose tolerance as the form shows it: the site's, or empty for the default.
+    pub fn fed_tolerance_text(session: &Session) -> String {
+        session
+            .site()
+            .fed_dose_tolerance_percent
+            .map(|t| super::numbers::format_sig(t, 3, session.lang()))
+            .unwrap_or_default()
+    }
+
     /// The form for `instrument` as the site has it (empty fields: the default applies).
     pub fn precision_form(&self, session: &Session, instrument: Instrument) -> PrecisionForm {
         let lang = session.lang();
@@ -1079,6 +1114,31 @@ mod tests {
     /// fields return the instrument to its default; a negative or unreadable number is refused.
     /// Expected values by hand: 0.1 MGD is 378.5411784 m³/d (1 US gal = 3.785411784 L, exact);
     /// 1.8 °F apart is 1 °C apart.
+    #[test]
+    fn the_fed_dose_tolerance_is_saved_checked_and_cleared() {
+        let mut s = fixture(None);
+        assert_eq!(
+            SiteEditor::fed_tolerance_text(&s.session),
+            "",
+            "the default"
+        );
+        s.session.set_lang(Lang::Es);
+        assert!(s.editor.save_fed_tolerance(&mut s.session, "7,5"));
+        assert_eq!(s.session.site().fed_dose_tolerance_percent, Some(7.5));
+        assert_eq!(SiteEditor::fed_tolerance_text(&s.session), "7,50");
+        assert!(!s.editor.save_fed_tolerance(&mut s.session, "siete"));
+        assert_eq!(problem_key(&s), Some("site-fed-tolerance-invalid".into()));
+        // Out of range: the engine's check refuses it and the profile keeps its 7.5 %.
+        assert!(!s.editor.save_fed_tolerance(&mut s.session, "80"));
+        assert!(matches!(
+            &s.editor.problem,
+            Some(SiteProblem::Engine(e)) if e.reason() == Some("site-tolerance-out-of-range")
+        ));
+        assert_eq!(s.session.site().fed_dose_tolerance_percent, Some(7.5));
+        assert!(s.editor.save_fed_tolerance(&mut s.session, " "));
+        assert_eq!(s.session.site().fed_dose_tolerance_percent, None);
+    }
+
     #[test]
     fn an_instruments_precision_is_kept_in_si_and_shown_in_the_sites_units() {
         let mut s = fixture(None);

@@ -72,6 +72,7 @@ pub fn empty_site(name: &str, units: UnitSystem) -> SiteProfile {
         limits: Vec::new(),
         path: Vec::new(),
         instrument_precision: Default::default(),
+        fed_dose_tolerance_percent: None,
     }
 }
 

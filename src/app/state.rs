@@ -22,6 +22,7 @@ pub use super::plots::PlotView;
 use super::seams::{CalcEngine, CalcKind};
 pub use super::session::{Note, Session, Settings};
 pub use super::site_editor::SiteEditor;
+pub use super::stock_screen::StockScreen;
 use super::words::Words;
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::site::SiteProfile;
@@ -40,10 +41,12 @@ pub enum Screen {
     About = 5,
     /// The plant's water path (after Plots in the navigation bar; its index is the newest).
     Path = 6,
+    /// Chemical on hand, opened from the Log screen (no bar item of its own).
+    Stock = 7,
 }
 
 impl Screen {
-    pub const ALL: [Screen; 7] = [
+    pub const ALL: [Screen; 8] = [
         Screen::Start,
         Screen::Calculators,
         Screen::Plots,
@@ -51,6 +54,7 @@ impl Screen {
         Screen::Settings,
         Screen::About,
         Screen::Path,
+        Screen::Stock,
     ];
 
     pub fn from_index(i: i32) -> Option<Screen> {
@@ -68,6 +72,8 @@ pub struct AppState {
     pub sites: SiteEditor,
     /// The Plant path screen.
     pub path: PathScreen,
+    /// Readings, deliveries, the Stock view and the monthly report (see `stock_view`).
+    pub stock: StockScreen,
 }
 
 impl AppState {
@@ -87,6 +93,7 @@ impl AppState {
             screen: Screen::Start,
             sites: SiteEditor::default(),
             path: PathScreen::default(),
+            stock: StockScreen::new(),
         }
     }
 

@@ -14,7 +14,7 @@ use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::site::SiteProfile;
 use crate::log::record::{DELIVERY_UNITS, Reading};
 use crate::log::report::{self, Format, Report, StockRow};
-use chrono::{DateTime, Duration, FixedOffset, NaiveDate, NaiveTime};
+use chrono::{DateTime, Datelike, Duration, FixedOffset, NaiveDate, NaiveTime};
 use std::path::{Path, PathBuf};
 
 /// What the form records.
@@ -52,6 +52,13 @@ pub struct StockScreen {
     pub form: StockForm,
     /// The last outcome, in words (a translation key and its arguments).
     pub message: Option<Note>,
+    /// The reading opened from the list for a correction or a void.
+    pub selected: Option<uuid::Uuid>,
+    /// The month the report card produces (`2026-11`), as typed.
+    pub month: String,
+    /// The last report saved, for its totals line, and where it went (or why it did not).
+    pub report: Option<Report>,
+    pub report_note: Option<Note>,
 }
 
 fn refuse(key: &str) -> Note {
@@ -84,6 +91,19 @@ pub fn month_days(text: &str) -> Option<(NaiveDate, NaiveDate)> {
 }
 
 impl StockScreen {
+    /// A fresh card: the report's month is last month (the month a report is due for).
+    pub fn new() -> StockScreen {
+        let today = chrono::Utc::now().date_naive();
+        let first = today.with_day(1).unwrap_or(today);
+        let last_month = first
+            .checked_sub_months(chrono::Months::new(1))
+            .unwrap_or(first);
+        StockScreen {
+            month: last_month.format("%Y-%m").to_string(),
+            ..StockScreen::default()
+        }
+    }
+
     /// The time the reading was taken: now, or `HH:MM` today / yesterday on the site's clock
     /// (`now`'s offset). A time after now is refused; the log refuses anything older.
     fn taken_at(&self, now: DateTime<FixedOffset>) -> Result<Option<DateTime<FixedOffset>>, Note> {
@@ -305,9 +325,10 @@ impl StockScreen {
             .map_err(|e| log_note(&e))
     }
 
-    /// Produces the month's report and saves it in `export_dir` as PDF and CSV, named by the
-    /// month (`molefeed-report-2026-11.pdf`), numbered `-2`, `-3` … rather than replace an
-    /// earlier file. Returns the two paths.
+    /// Produces the month's report and saves it in `export_dir` as PDF, CSV and JSON (the
+    /// CLI's `--json` shape), named by the month (`molefeed-report-2026-11.pdf`), numbered
+    /// `-2`, `-3` … rather than replace an earlier file. Returns the PDF and CSV paths; the
+    /// report is kept for its totals.
     pub fn save_report(
         &mut self,
         log: &dyn DoseLog,
@@ -320,32 +341,40 @@ impl StockScreen {
             std::fs::create_dir_all(export_dir)
                 .map_err(|e| refuse(key("log-error-io")).arg("detail", e))?;
             let stem = format!("molefeed-report-{}", r.from.format("%Y-%m"));
-            let (pdf, csv) = free_pair(export_dir, &stem);
-            for (path, format) in [(&pdf, Format::Pdf), (&csv, Format::Csv)] {
+            let [pdf, csv, json] = free_set(export_dir, &stem);
+            for (path, format) in [
+                (&pdf, Format::Pdf),
+                (&csv, Format::Csv),
+                (&json, Format::Json),
+            ] {
                 report::write_report(&r, format, path)
                     .map_err(|e| refuse(key("log-error-io")).arg("detail", e))?;
             }
-            Ok((pdf, csv))
+            Ok((pdf, csv, json, r))
         });
         match outcome {
-            Ok((pdf, csv)) => {
+            Ok((pdf, csv, json, r)) => {
                 self.message = Some(
                     Note::new(key("stock-report-saved"))
                         .arg("pdf", pdf.display())
-                        .arg("csv", csv.display()),
+                        .arg("csv", csv.display())
+                        .arg("json", json.display()),
                 );
+                self.report = Some(r);
                 Some((pdf, csv))
             }
             Err(note) => {
                 self.message = Some(note);
+                self.report = None;
                 None
             }
         }
     }
 }
 
-/// The first `stem.pdf` / `stem.csv` pair (then `stem-2` …) of which neither file exists.
-fn free_pair(dir: &Path, stem: &str) -> (PathBuf, PathBuf) {
+/// The first `stem.pdf` / `stem.csv` / `stem.json` set (then `stem-2` …) of which no file
+/// exists.
+fn free_set(dir: &Path, stem: &str) -> [PathBuf; 3] {
     (1..)
         .map(|n| {
             let name = if n == 1 {
@@ -353,12 +382,9 @@ fn free_pair(dir: &Path, stem: &str) -> (PathBuf, PathBuf) {
             } else {
                 format!("{stem}-{n}")
             };
-            (
-                dir.join(format!("{name}.pdf")),
-                dir.join(format!("{name}.csv")),
-            )
+            ["pdf", "csv", "json"].map(|ext| dir.join(format!("{name}.{ext}")))
         })
-        .find(|(p, c)| !p.exists() && !c.exists())
+        .find(|set| set.iter().all(|p| !p.exists()))
         .unwrap_or_default()
 }
 
@@ -415,7 +441,7 @@ mod tests {
         let mut log = PersistentLog::scratch();
         let mut screen = StockScreen {
             form: f.clone(),
-            message: None,
+            ..StockScreen::default()
         };
         assert_eq!(screen.record(&mut log, &site, initials, now), None, "{f:?}");
         assert_eq!(
@@ -589,7 +615,7 @@ mod tests {
         let mut log = PersistentLog::new(&dir, "test");
         let mut screen = StockScreen {
             form: form(Kind::TankLevel, "hypo-day-tank", "4.0"),
-            message: None,
+            ..StockScreen::default()
         };
         let level = screen
             .record(&mut log, &site, "RK", now())
@@ -717,6 +743,10 @@ mod tests {
         assert_eq!(pdf, exports.join("molefeed-report-2026-11.pdf"));
         assert_eq!(csv, exports.join("molefeed-report-2026-11.csv"));
         assert!(std::fs::read(&pdf).unwrap().starts_with(b"%PDF"));
+        let json = std::fs::read_to_string(exports.join("molefeed-report-2026-11.json")).unwrap();
+        let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+        assert_eq!(json["days"].as_array().map(Vec::len), Some(30));
+        assert_eq!(screen.report.as_ref().map(|r| r.days.len()), Some(30));
         let text = std::fs::read_to_string(&csv).unwrap();
         // 30 days, one product (hypochlorite) each, plus the header and the total.
         assert_eq!(text.lines().count(), 32, "{text}");

@@ -823,7 +823,8 @@ pub fn report_from_log(
         doses: &doses,
         from,
         to,
-        tolerance: Tolerance::default(),
+        // The site's own tolerance, where it states one (the pump check's otherwise).
+        tolerance: site.fed_dose_tolerance(),
     }))
 }
 

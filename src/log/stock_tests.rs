@@ -342,6 +342,39 @@ fn a_fed_dose_beyond_tolerance_is_cautioned() {
     assert!(!r.cautions.iter().any(|c| c.key == "fed-dose-deviates"));
 }
 
+/// The report from the log uses the site's own tolerance: day 1's ≈ −6 % (worked by hand in
+/// `a_fed_dose_beyond_tolerance_is_cautioned`) is cautioned under the default ±5 %, not under
+/// a plant's ±10 %; a tolerance out of range is refused when the profile is checked.
+#[test]
+fn the_sites_fed_dose_tolerance_decides_the_caution() {
+    let dir = scratch("site-tolerance");
+    let path = dir.0.join("november.doselog");
+    let catalog = Catalog::builtin().unwrap();
+    let mut site = SiteProfile::demo(&catalog).unwrap();
+    november::write(&path, &site.name, 0).unwrap();
+    let log = Log::open_read_only(&path).unwrap();
+    let day = NaiveDate::from_ymd_opt(2026, 11, 1).unwrap();
+    let deviates = |site: &SiteProfile| {
+        report::report_from_log(&log, site, &catalog, day, day)
+            .unwrap()
+            .cautions
+            .iter()
+            .any(|c| c.key == "fed-dose-deviates")
+    };
+    assert_eq!(site.fed_dose_tolerance_percent, None);
+    assert!(deviates(&site), "default ±5 %");
+    site.fed_dose_tolerance_percent = Some(10.0);
+    assert!(site.validate(&catalog).is_ok());
+    assert!(!deviates(&site), "the plant's ±10 %");
+    site.fed_dose_tolerance_percent = Some(4.0);
+    assert!(deviates(&site), "the plant's ±4 %");
+    for bad in [0.0, -1.0, 50.5, f64::NAN] {
+        site.fed_dose_tolerance_percent = Some(bad);
+        let e = site.validate(&catalog).expect_err("refused");
+        assert_eq!(e.reason(), Some("site-tolerance-out-of-range"), "{bad}");
+    }
+}
+
 #[test]
 fn stock_rows_give_volume_days_and_reorder_date() {
     let dir = scratch("stock");

@@ -10,6 +10,7 @@ use super::catalog::{
     Catalog, Form, Strength, StrengthBasis, check_sg, check_sg_against_strength, check_strength,
 };
 use super::feed::{PumpKind, UsableRange};
+use super::pumpcheck::Tolerance;
 use super::tank::{Geometry, Strapping, Tank, TankShape};
 use super::units::{Flow, FlowUnit, LengthUnit, UnitSystem, VolumeUnit};
 use crate::engine::precision::{Instrument, Precision, precisions_from_codes};
@@ -374,6 +375,12 @@ pub struct SiteProfile {
     /// what the instrument reads (mg/L, °C, s, mL, g). The ranges shown beside results follow.
     #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
     pub instrument_precision: BTreeMap<String, Precision>,
+    /// How far, in %, the dose fed by the tank readings may differ from the dose logged before
+    /// the operating report raises `fed-dose-deviates` (the pump's third cross-check, after
+    /// drawdown and catch). Absent: the pump check's ±5 % (common practice, see
+    /// [`Tolerance::default`]). See [`SiteProfile::fed_dose_tolerance`].
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fed_dose_tolerance_percent: Option<f64>,
 }
 
 fn limit(parameter: &str, min: Option<f64>, max: Option<f64>, unit: &str, source: &str) -> Limit {
@@ -484,6 +491,10 @@ pub fn regulatory_defaults() -> Vec<Limit> {
     ]
 }
 
+/// The widest fed-dose tolerance a site may set, %: beyond it the cross-check would pass a
+/// pump feeding half or double the dose (a guard of ours, not a rule of the trade).
+pub const MAX_FED_DOSE_TOLERANCE_PERCENT: f64 = 50.0;
+
 fn invalid(reason: &'static str, what: String, id: &str) -> Error {
     Error::new(ErrorKind::InvalidInput, what)
         .because(reason)
@@ -523,6 +534,20 @@ impl SiteProfile {
     }
 
     /// The embedded demo plant.
+    /// The bands of the fed-dose cross-check: the site's own tolerance where it gives one,
+    /// with the pump check's "check the pump" band kept at least as wide; else the pump
+    /// check's defaults (common practice).
+    pub fn fed_dose_tolerance(&self) -> Tolerance {
+        let default = Tolerance::default();
+        match self.fed_dose_tolerance_percent {
+            Some(within) => Tolerance {
+                within_percent: within,
+                check_pump_percent: default.check_pump_percent.max(within),
+            },
+            None => default,
+        }
+    }
+
     pub fn demo(catalog: &Catalog) -> Result<SiteProfile> {
         SiteProfile::from_json(DEMO_SITE_JSON, catalog)
     }
@@ -542,6 +567,17 @@ impl SiteProfile {
             ));
         }
         unique("flow meter", self.flow_meters.iter().map(|m| m.id.as_str()))?;
+        if let Some(t) = self.fed_dose_tolerance_percent
+            && !(t.is_finite() && t > 0.0 && t <= MAX_FED_DOSE_TOLERANCE_PERCENT)
+        {
+            return Err(invalid(
+                "site-tolerance-out-of-range",
+                format!(
+                    "the fed-dose tolerance must be more than 0 and at most {MAX_FED_DOSE_TOLERANCE_PERCENT} %"
+                ),
+                "",
+            ));
+        }
         for (code, p) in &self.instrument_precision {
             if Instrument::from_code(code).is_none() {
                 let known: Vec<&str> = Instrument::ALL.iter().map(|i| i.code()).collect();
