@@ -94,6 +94,19 @@ const COAGULANTS: &[(&str, &str)] = &[
     ("ferric-sulfate", "ferric-sulfate"),
     ("Fe2(SO4)3", "ferric-sulfate"),
     ("pacl", "pacl"),
+];
+
+/// The older coagulation command's names: the metal salts and sodium aluminate, which the
+/// coagulation calculator offers and the sludge estimate does not.
+const COAGULATION_NAMES: &[(&str, &str)] = &[
+    ("alum", "alum-liquid"),
+    ("alum-14", "alum-liquid"),
+    ("alum14", "alum-liquid"),
+    ("ferric-chloride", "ferric-chloride"),
+    ("FeCl3", "ferric-chloride"),
+    ("ferric-sulfate", "ferric-sulfate"),
+    ("Fe2(SO4)3", "ferric-sulfate"),
+    ("pacl", "pacl"),
     ("sodium-aluminate", "sodium-aluminate"),
     ("NaAlO2", "sodium-aluminate"),
 ];
@@ -220,7 +233,7 @@ const TABLE: [Alias; 10] = [
         command: "coagulation",
         calculator: "coagulation",
         flags: feed_flags![
-            ("coagulant", Product(COAGULANTS)),
+            ("coagulant", Product(COAGULATION_NAMES)),
             ("dose", Input("jar-dose")),
             ("setpoint", Input("alkalinity-setpoint")),
             (
