@@ -585,7 +585,12 @@ fn the_jar_test_and_the_open_work_render_to_their_end() {
         let mut st = handle.state.borrow_mut();
         st.set_units(molefeed::engine::quantity::UnitSystem::Si);
         st.open_calculator(CalcKind::find("jar-test").unwrap());
-        let ferric = st.calc.view().products.iter().position(|p| p.id == "ferric-chloride");
+        let ferric = st
+            .calc
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "ferric-chloride");
         st.calc.set_product(ferric.unwrap());
         for (name, text) in [
             ("stock-concentration", "10"),
@@ -616,9 +621,19 @@ fn the_jar_test_and_the_open_work_render_to_their_end() {
             // Each size from the top: a view made anew, then scrolled to the card's end.
             app.global::<Nav>().invoke_go(0);
             app.global::<Nav>().invoke_go(1);
-            shot(format!("calculators-{size}-jar-test{suffix}"), w, h, &mut failures);
+            shot(
+                format!("calculators-{size}-jar-test{suffix}"),
+                w,
+                h,
+                &mut failures,
+            );
             scroll_down(&window, x, 500.0);
-            shot(format!("calculators-{size}-jar-test-end{suffix}"), w, h, &mut failures);
+            shot(
+                format!("calculators-{size}-jar-test-end{suffix}"),
+                w,
+                h,
+                &mut failures,
+            );
         }
     }
     {
@@ -636,7 +651,12 @@ fn the_jar_test_and_the_open_work_render_to_their_end() {
             app.global::<Nav>().invoke_go(1);
             render(&window, w, h);
             scroll_down(&window, x, 500.0);
-            shot(format!("calculators-{size}-work-end{suffix}"), w, h, &mut failures);
+            shot(
+                format!("calculators-{size}-work-end{suffix}"),
+                w,
+                h,
+                &mut failures,
+            );
         }
     }
     assert!(failures.is_empty(), "blank or textless: {failures:?}");

@@ -973,6 +973,9 @@ pub struct CalcInputs {
     /// The readings of the water offered to the other calculators, by field name.
     #[serde(default)]
     pub readings: BTreeMap<String, SavedReading>,
+    /// The text inputs typed (a jar-test stock's formula), as `name@calculator`.
+    #[serde(default)]
+    pub text_inputs: BTreeMap<String, String>,
 }
 
 /// A reading as kept: the slot it was typed in (`name@calculator`), the variant's code, when
@@ -1019,6 +1022,12 @@ impl CalcController {
                     };
                     (name.to_string(), saved)
                 })
+                .collect(),
+            text_inputs: self
+                .text_inputs
+                .iter()
+                .filter(|(_, t)| !t.trim().is_empty())
+                .map(|((calc, name), t)| (format!("{name}@{calc}"), t.clone()))
                 .collect(),
         }
     }
@@ -1078,6 +1087,19 @@ impl CalcController {
                 tap: r.tap.clone(),
             };
             self.readings.insert(name, reading);
+        }
+        // Only a text input the table still declares, for its own calculator.
+        for (key, text) in &saved.text_inputs {
+            let declared = key.split_once('@').and_then(|(name, calc)| {
+                engine::calculators::all()
+                    .iter()
+                    .flat_map(|c| c.text_inputs())
+                    .find(|t| t.name == name && t.calculator == calc)
+            });
+            if let Some(t) = declared {
+                self.text_inputs
+                    .insert((t.calculator, t.name), text.clone());
+            }
         }
         for (key, id) in &saved.products {
             let Some((k, m)) = key.split_once('/') else {
@@ -1775,8 +1797,24 @@ mod tests {
         assert_eq!(c.text_input("stock-compound"), "");
         c.set_kind(CalcKind::of("jar-test"));
         assert_eq!(c.text_input("stock-compound"), " FeCl3·6H2O ");
+        // Kept across a restart, for its calculator only; one the table does not declare is
+        // dropped.
+        let mut saved = c.inputs();
+        saved
+            .text_inputs
+            .insert("stock-compound@coagulation".into(), "X".into());
+        let mut back = CalcController::new(
+            crate::app::seams::connected_engine(),
+            Lang::En,
+            UnitSystem::Si,
+        );
+        back.restore(&saved);
+        assert_eq!(back.inputs().text_inputs, c.inputs().text_inputs);
+        back.set_kind(CalcKind::of("jar-test"));
+        assert_eq!(back.text_input("stock-compound"), " FeCl3·6H2O ");
         c.edit_text_input("stock-compound", "  ");
         assert_eq!(texts(&c), Some(BTreeMap::new()));
+        assert!(c.inputs().text_inputs.is_empty());
     }
 
     fn at_10_42() -> DateTime<Utc> {
