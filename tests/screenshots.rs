@@ -645,3 +645,102 @@ fn stock_and_the_reading_forms_render() {
     }
     assert!(failures.is_empty(), "blank or textless: {failures:?}");
 }
+
+/// Scrolls whatever is under `(x, y)` as far down as it goes (the wheel, many times).
+fn scroll_down(window: &MinimalSoftwareWindow, x: f32, y: f32) {
+    for _ in 0..60 {
+        window.dispatch_event(slint::platform::WindowEvent::PointerScrolled {
+            position: slint::LogicalPosition::new(x, y),
+            delta_x: 0.0,
+            delta_y: -400.0,
+        });
+    }
+}
+
+/// Issues 13 and 14 for review, at phone and tablet size in English and Spanish: the jar test
+/// with its stock's formula typed (the text field from the engine's table), the chip rows with
+/// their scroll hint, and the card scrolled to its end with its follow-up button; then
+/// chlorination with "Show the work" open, scrolled to the end, where the advisory must be.
+#[test]
+fn the_jar_test_and_the_open_work_render_to_their_end() {
+    let (window, app, handle) = headless_app();
+    {
+        let mut st = handle.state.borrow_mut();
+        st.set_units(molefeed::engine::quantity::UnitSystem::Si);
+        st.open_calculator(CalcKind::find("jar-test").unwrap());
+        let ferric = st
+            .calc
+            .view()
+            .products
+            .iter()
+            .position(|p| p.id == "ferric-chloride");
+        st.calc.set_product(ferric.unwrap());
+        for (name, text) in [
+            ("stock-concentration", "10"),
+            ("ml-dosed", "3"),
+            ("jar-volume-ml", "1000"),
+            ("strength", "40"),
+            ("specific-gravity", "1.415"),
+        ] {
+            st.calc.edit(name, text);
+        }
+        st.calc.edit_text_input("stock-compound", "FeCl3·6H2O");
+    }
+    handle.refresh();
+    app.show().expect("show");
+    let out = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
+    std::fs::create_dir_all(&out).unwrap();
+    let mut failures = Vec::new();
+    let shot = |name: String, w: u32, h: u32, failures: &mut Vec<String>| {
+        let pixels = render(&window, w, h);
+        save_png(&out.join(format!("{name}.png")), &pixels, w, h);
+        if dark_pixels(&pixels, w, h, w < 720) < 1500 || distinct_colours(&pixels) < 40 {
+            failures.push(name);
+        }
+    };
+    for (lang, suffix) in [(0, ""), (1, "-es")] {
+        app.global::<SettingsAdapter>().invoke_set_lang(lang);
+        for (size, w, h, x) in [("phone", 400, 860, 200.0), ("tablet", 1280, 800, 1000.0)] {
+            // Each size from the top: a view made anew, then scrolled to the card's end.
+            app.global::<Nav>().invoke_go(0);
+            app.global::<Nav>().invoke_go(1);
+            shot(
+                format!("calculators-{size}-jar-test{suffix}"),
+                w,
+                h,
+                &mut failures,
+            );
+            scroll_down(&window, x, 500.0);
+            shot(
+                format!("calculators-{size}-jar-test-end{suffix}"),
+                w,
+                h,
+                &mut failures,
+            );
+        }
+    }
+    {
+        let mut st = handle.state.borrow_mut();
+        st.open_calculator(CalcKind::find("chlorination").unwrap());
+        st.calc.edit("chlorine-demand", "1.5");
+        st.calc.edit("residual-target", "1.0");
+    }
+    handle.refresh();
+    app.global::<CalcAdapter>().set_show_work(true);
+    for (lang, suffix) in [(0, ""), (1, "-es")] {
+        app.global::<SettingsAdapter>().invoke_set_lang(lang);
+        for (size, w, h, x) in [("phone", 400, 860, 200.0), ("tablet", 1280, 800, 1000.0)] {
+            app.global::<Nav>().invoke_go(0);
+            app.global::<Nav>().invoke_go(1);
+            render(&window, w, h);
+            scroll_down(&window, x, 500.0);
+            shot(
+                format!("calculators-{size}-work-end{suffix}"),
+                w,
+                h,
+                &mut failures,
+            );
+        }
+    }
+    assert!(failures.is_empty(), "blank or textless: {failures:?}");
+}

@@ -1012,47 +1012,6 @@ fn the_phone_pump_cross_check_shows_its_deviation_without_scrolling() {
     );
 }
 
-/// With "Show the work" open the card scrolls to its end: the advisory is reachable on a
-/// phone and on a tablet. Reproduces the open bug: on the phone, scrolled as far as it goes,
-/// the "Cautions" heading stands at y = 355 of 792 and the cautions after it and the advisory
-/// are cut off (the scroll view's content ends before the card does). Flattening the wrapped
-/// trace, caution and advisory texts out of nested layouts did not change it. Not fixed yet.
-#[test]
-#[ignore = "reproduces the open scroll-to-end bug of issue 13; fails until it is fixed"]
-fn the_cards_advisory_is_reachable_with_the_work_open() {
-    for (width, height, x) in [(400.0, 860.0, 200.0), (1280.0, 800.0, 1000.0)] {
-        let (app, _handle) = start_at(connected_engine(), width, 3000.0);
-        if width < 720.0 {
-            tap(&app, &en("calc-chlorination"));
-        } else {
-            tap(&app, &en("nav-calculators"));
-            tap(&app, &en("calc-chlorination"));
-        }
-        // The demo site fills the product, pump and flow.
-        type_into(&app, &en("field-chlorine-demand"), "1.5");
-        type_into(&app, &en("field-residual-target"), "1.0");
-        tap(&app, &format!("▸ {}", en("calc-show-work")));
-        app.window()
-            .set_size(slint::LogicalSize::new(width, height));
-        i_slint_backend_testing::mock_elapsed_time(std::time::Duration::from_millis(100));
-        scroll_to_end(&app, x, 400.0);
-        let bottom = if width < 720.0 { height - 68.0 } else { height };
-        let advisory: Vec<_> =
-            ElementHandle::find_by_accessible_label(&app, &en("advisory-note")).collect();
-        assert_eq!(
-            advisory.len(),
-            1,
-            "{width}: advisory not in view at the end"
-        );
-        assert!(
-            in_view(&advisory[0], bottom),
-            "{width}: advisory at {:?}+{:?}, window {bottom}",
-            advisory[0].absolute_position(),
-            advisory[0].size()
-        );
-    }
-}
-
 /// Alkalinity 200 typed in Softening does not change the pH adjustment's dose; in a
 /// calculator without its own alkalinity it appears with where it came from, and clears.
 #[test]
@@ -1381,4 +1340,304 @@ fn the_sites_fed_dose_tolerance_is_set_in_settings() {
         handle.state.borrow().site().fed_dose_tolerance_percent,
         Some(10.0)
     );
+}
+
+/// With "Show the work" open the card scrolls to its end: the advisory is reachable on a
+/// phone and on a tablet. Before the fix (`WrapBlock`), on the phone scrolled as far as it
+/// goes, the "Cautions" heading stood at y = 439 of 757 and the cautions after it and the
+/// advisory were cut off: Slint summed the repeated blocks (trace lines, cautions) at their
+/// one-line width, so the card ended about 500 px before its content did.
+#[test]
+fn the_cards_advisory_is_reachable_with_the_work_open_on_a_phone() {
+    advisory_reachable_with_the_work_open(400.0, 860.0, 200.0);
+}
+
+#[test]
+fn the_cards_advisory_is_reachable_with_the_work_open_on_a_tablet() {
+    advisory_reachable_with_the_work_open(1280.0, 800.0, 1000.0);
+}
+
+/// One window size per test: the testing platform is set once per thread.
+fn advisory_reachable_with_the_work_open(width: f32, height: f32, x: f32) {
+    {
+        let (app, _handle) = start_at(connected_engine(), width, 3000.0);
+        if width < 720.0 {
+            tap(&app, &en("calc-chlorination"));
+        } else {
+            tap(&app, &en("nav-calculators"));
+            tap(&app, &en("calc-chlorination"));
+        }
+        // The demo site fills the product, pump and flow.
+        type_into(&app, &en("field-chlorine-demand"), "1.5");
+        type_into(&app, &en("field-residual-target"), "1.0");
+        tap(&app, &format!("▸ {}", en("calc-show-work")));
+        app.window()
+            .set_size(slint::LogicalSize::new(width, height));
+        i_slint_backend_testing::mock_elapsed_time(std::time::Duration::from_millis(100));
+        scroll_to_end(&app, x, 400.0);
+        let bottom = if width < 720.0 { height - 68.0 } else { height };
+        let advisory: Vec<_> =
+            ElementHandle::find_by_accessible_label(&app, &en("advisory-note")).collect();
+        assert_eq!(
+            advisory.len(),
+            1,
+            "{width}: advisory not in view at the end"
+        );
+        assert!(
+            in_view(&advisory[0], bottom),
+            "{width}: advisory at {:?}+{:?}, window {bottom}",
+            advisory[0].absolute_position(),
+            advisory[0].size()
+        );
+    }
+}
+
+/// The strings of a model the adapter shows.
+fn strings(m: slint::ModelRc<slint::SharedString>) -> Vec<String> {
+    m.iter().map(|s| s.to_string()).collect()
+}
+
+/// Whether a chip labelled `name` is in view whole between `left` and `right`.
+fn chip_in_view(app: &AppWindow, name: &str, left: f32, right: f32) -> bool {
+    chip_shown(app, name, left, right, false)
+}
+
+/// As [`chip_in_view`]; with `from_start`, a chip wider than the row counts as shown when it
+/// starts at the row's left edge.
+fn chip_shown(app: &AppWindow, name: &str, left: f32, right: f32, from_start: bool) -> bool {
+    ElementHandle::find_by_accessible_label(app, name)
+        .filter(|e| e.accessible_role() == Some(i_slint_backend_testing::AccessibleRole::Button))
+        .any(|e| {
+            let (p, z) = (e.absolute_position(), e.size());
+            let too_wide = z.width > right - left;
+            p.x >= left - 0.5
+                && (p.x + z.width <= right + 0.5 || (from_start && too_wide && p.x <= left + 0.5))
+        })
+}
+
+/// Every chip row of the calculator screen on a phone: the hint that it scrolls is there
+/// exactly when a chip of the row is not in view whole (measured from the chips' own
+/// positions, within the row's 12 px margins), for every calculator; both cases occur.
+#[test]
+fn chip_rows_on_a_phone_show_that_they_scroll_only_when_they_overflow() {
+    let (app, _handle) = start_at(connected_engine(), 400.0, 860.0);
+    tap(&app, &en("nav-calculators"));
+    let calc = app.global::<molefeed::app::ui::CalcAdapter>();
+    let kinds = strings(app.global::<StartAdapter>().get_calculators());
+    let (mut overflowing, mut fitting) = (0, 0);
+    for k in 0..kinds.len() {
+        calc.invoke_pick_kind(k as i32);
+        i_slint_backend_testing::mock_elapsed_time(std::time::Duration::from_millis(100));
+        let modes = strings(calc.get_modes());
+        let products = strings(calc.get_products());
+        for (key, names) in [
+            ("calc-row-calculators", &kinds),
+            ("calc-row-variants", &modes),
+            ("calc-row-products", &products),
+        ] {
+            // A screen with one variant shows no variant row; a calculator without a
+            // product choice, no product row.
+            if names.len() < if key == "calc-row-variants" { 2 } else { 1 } {
+                continue;
+            }
+            // At either edge or both (the row scrolled to its chosen chip).
+            let hint = count(&app, &format!("{}: {}", en(key), en("chips-more")));
+            let fits = names.iter().all(|n| chip_in_view(&app, n, 12.0, 388.0));
+            assert_eq!(hint > 0, !fits, "{}, row {key}: {names:?}", kinds[k]);
+            if fits {
+                fitting += 1;
+            } else {
+                overflowing += 1;
+            }
+        }
+    }
+    assert!(
+        overflowing > 0 && fitting > 0,
+        "{overflowing} rows overflow, {fitting} fit: both cases must be checked"
+    );
+}
+
+/// On a phone the chosen calculator and product are in view whole, whichever is chosen (from
+/// Start or a follow-up, where no finger scrolled the row to them); a chip wider than the row
+/// ("✔ Permanganate (iron and manganese)", 388 px of 376) shows from its start.
+#[test]
+fn the_chosen_chips_are_in_view_on_a_phone() {
+    let (app, _handle) = start_at(connected_engine(), 400.0, 860.0);
+    tap(&app, &en("nav-calculators"));
+    let calc = app.global::<molefeed::app::ui::CalcAdapter>();
+    let kinds = strings(app.global::<StartAdapter>().get_calculators());
+    // The last first: the row must scroll forward to it, then back to the first.
+    for k in (0..kinds.len()).rev().chain([0]) {
+        calc.invoke_pick_kind(k as i32);
+        i_slint_backend_testing::mock_elapsed_time(std::time::Duration::from_millis(100));
+        assert!(
+            chip_shown(&app, &kinds[k], 12.0, 388.0, true),
+            "{}",
+            kinds[k]
+        );
+        let products = strings(calc.get_products());
+        if let Some(p) = products.get(calc.get_product_index() as usize) {
+            assert!(chip_shown(&app, p, 12.0, 388.0, true), "{}: {p}", kinds[k]);
+        }
+    }
+}
+
+/// Opens calculator `code` through the adapter (its chip may be scrolled out of view) and
+/// picks product `product` of it.
+fn open_with_product(app: &AppWindow, handle: &AppHandle, code: &str, product: &str) {
+    tap(app, &en("nav-calculators"));
+    let calc = app.global::<molefeed::app::ui::CalcAdapter>();
+    let kind = molefeed::app::seams::CalcKind::all()
+        .iter()
+        .position(|k| k.code() == code)
+        .unwrap_or_else(|| panic!("no calculator {code}"));
+    calc.invoke_pick_kind(kind as i32);
+    let index = handle
+        .state
+        .borrow()
+        .calc
+        .view()
+        .products
+        .iter()
+        .position(|p| p.id == product)
+        .unwrap_or_else(|| panic!("{code} offers no {product}"));
+    calc.invoke_pick_product(index as i32);
+}
+
+/// Issue 14: a jar-test result offers its follow-up; pressing it opens Coagulation with the
+/// jar's product chosen and its dose typed: 10 g/L × 3 mL ÷ 1000 mL = 30 mg/L (g/L = mg/mL,
+/// by hand).
+#[test]
+fn a_jar_test_follow_up_opens_coagulation_with_the_dose_filled_in() {
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    // SI: the stock in g/L, as the figures by hand take it.
+    app.global::<SettingsAdapter>().invoke_set_units(1);
+    open_with_product(&app, &handle, "jar-test", "alum-liquid");
+    for (key, text) in [
+        ("field-stock-concentration", "10"),
+        ("field-ml-dosed", "3"),
+        ("field-jar-volume-ml", "1000"),
+        ("field-strength", "8.3"),
+        ("field-specific-gravity", "1.335"),
+    ] {
+        type_into(&app, &en(key), text);
+    }
+    ready(&handle);
+    let button = format!(
+        "→ {}",
+        Texts::new(Lang::En).get_args("calc-follow-up", &[("calculator", en("calc-coagulation"))])
+    );
+    tap(&app, &button);
+    let calc = app.global::<molefeed::app::ui::CalcAdapter>();
+    let kinds = strings(app.global::<StartAdapter>().get_calculators());
+    assert_eq!(
+        kinds[calc.get_kind_index() as usize],
+        en("calc-coagulation")
+    );
+    let products = strings(calc.get_products());
+    assert_eq!(
+        products[calc.get_product_index() as usize],
+        en("product-alum-liquid"),
+        "the jar's product stays chosen"
+    );
+    let dose = one(&app, &en("field-jar-dose"))
+        .accessible_value()
+        .unwrap()
+        .to_string();
+    assert_eq!(numbers::parse(&dose, Lang::En), Ok(30.0), "{dose:?}");
+    // The card offers no follow-up of its own here.
+    assert_eq!(count(&app, &button), 0);
+}
+
+/// The value `label` shows on the card, and half a unit in its last shown digit.
+fn shown(app: &AppWindow, label: &str) -> (f64, f64) {
+    let text = one(app, label).accessible_value().unwrap().to_string();
+    let value = numbers::parse(&text, Lang::En).unwrap_or_else(|e| panic!("{text:?}: {e:?}"));
+    let decimals = text.split_once('.').map_or(0, |(_, d)| d.len()) as i32;
+    (value, 0.5 * 10f64.powi(-decimals))
+}
+
+/// `molefeed calc jar-test … --json` (the real binary): the value of result `id`.
+fn cli_jar_test(units: &str, compound: Option<&str>, id: &str) -> f64 {
+    let mut args: Vec<&str> = vec![
+        "calc",
+        "jar-test",
+        "--units",
+        units,
+        "--product",
+        "ferric-chloride",
+        "--stock-concentration",
+        "10",
+        "--ml-dosed",
+        "3",
+        "--jar-volume-ml",
+        "1000",
+        "--strength",
+        "40",
+        "--specific-gravity",
+        "1.415",
+        "--json",
+    ];
+    if let Some(c) = compound {
+        args.extend(["--stock-compound", c]);
+    }
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_molefeed"))
+        .args(&args)
+        .output()
+        .unwrap();
+    let json: serde_json::Value =
+        serde_json::from_slice(&out.stdout).unwrap_or_else(|e| panic!("{args:?}: {e}"));
+    json["results"][id]["value"]
+        .as_f64()
+        .unwrap_or_else(|| panic!("{args:?}: {json}"))
+}
+
+/// Issue 14: the jar test's stock compound is a field of the app (drawn from the engine's
+/// table), and typing a formula in it changes the card as `--stock-compound` changes the
+/// command line's result. By hand (IUPAC weights): 30 mg/L of FeCl3·6H2O is
+/// 30 × 162.20 / 270.29 = 18.00 mg/L as FeCl3, ÷ 0.40 = 45.0 mg/L of a 40 % product; without
+/// the formula, the stock is FeCl3: 30 ÷ 0.40 = 75 mg/L.
+#[test]
+fn a_stock_formula_typed_in_the_app_changes_the_result_as_on_the_command_line() {
+    let (app, handle) = start_at(connected_engine(), 1280.0, 3000.0);
+    // SI: the stock in g/L, as the figures by hand take it.
+    app.global::<SettingsAdapter>().invoke_set_units(1);
+    open_with_product(&app, &handle, "jar-test", "ferric-chloride");
+    for (key, text) in [
+        ("field-stock-concentration", "10"),
+        ("field-ml-dosed", "3"),
+        ("field-jar-volume-ml", "1000"),
+        ("field-strength", "40"),
+        ("field-specific-gravity", "1.415"),
+    ] {
+        type_into(&app, &en(key), text);
+    }
+    // The command line reads the numbers in the units the app shows them in.
+    let units = match handle.state.borrow().session.units() {
+        molefeed::engine::quantity::UnitSystem::Si => "si",
+        molefeed::engine::quantity::UnitSystem::Us => "us",
+    };
+    let label = en("result-jar-dose-product");
+    for (compound, by_hand) in [(None, 75.0), (Some("FeCl3·6H2O"), 45.0)] {
+        type_into(&app, &en("field-stock-compound"), compound.unwrap_or(""));
+        ready(&handle);
+        let (app_value, half_digit) = shown(&app, &label);
+        let cli = cli_jar_test(units, compound, "jar_dose_product");
+        assert!(
+            (app_value - cli).abs() <= half_digit + 1e-9,
+            "{compound:?}: app shows {app_value}, the command line gives {cli}"
+        );
+        assert!(
+            (cli - by_hand).abs() < 0.005 * by_hand,
+            "{compound:?}: {cli}, by hand {by_hand}"
+        );
+    }
+    // A compound that is not the product is refused in the app as on the command line.
+    type_into(&app, &en("field-stock-compound"), "Fe2(SO4)3");
+    assert_eq!(count(&app, &label), 0);
+    let message = one(&app, &en("calc-result"))
+        .accessible_value()
+        .unwrap()
+        .to_string();
+    assert!(message.contains("Fe2(SO4)3"), "{message:?}");
 }

@@ -50,6 +50,13 @@ calc-hide-work = Hide the work
 calc-cautions = Cautions
 calc-no-cautions = The engine raised no cautions for these inputs. Check them against your plant's limits.
 calc-cautions-pending = Cautions appear with the result.
+calc-row-calculators = Calculator
+calc-row-variants = Variant
+calc-row-products = Product
+chips-more = more to the side, swipe the row
+calc-follow-up = Use this result in { $calculator }
+field-stock-compound = Compound the stock is made of (empty: the product’s own)
+text-input-formula = formula, e.g. FeCl3·6H2O
 advisory-note = Advisory only: a licensed operator decides the feed, under the plant's permit and local codes.
 
 # Calculators: gas and dry feeders (products fed by mass)

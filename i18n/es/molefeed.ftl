@@ -50,6 +50,13 @@ calc-hide-work = Ocultar el cálculo
 calc-cautions = Precauciones
 calc-no-cautions = El motor no señaló precauciones para estas entradas. Compárelas con los límites de su planta.
 calc-cautions-pending = Las precauciones aparecen con el resultado.
+calc-row-calculators = Calculadora
+calc-row-variants = Variante
+calc-row-products = Producto
+chips-more = hay más al lado, deslice la fila
+calc-follow-up = Usar este resultado en { $calculator }
+field-stock-compound = Compuesto de la solución madre (vacío: el del producto)
+text-input-formula = fórmula, p. ej. FeCl3·6H2O
 advisory-note = Solo orientativo: un operador con licencia decide la dosificación, según el permiso de la planta y la normativa local.
 
 # Calculadoras: dosificadores de gas y de sólidos (productos dosificados por masa)

@@ -6,9 +6,10 @@
 //! typing never loses focus; it is rebuilt when the calculator, units or language change.
 
 use super::RunOptions;
-use super::calc::{FieldView, Status, key};
+use super::calc::{CalcController, FieldView, Status, key};
 use super::calc_screen::{
-    ResultLine, card_text, caution_lines, field_text, status_text, summary_text, trace_lines,
+    ResultLine, card_text, caution_lines, field_text, follow_up_texts, status_text, summary_text,
+    text_field_texts, trace_lines,
 };
 use super::dose_log::ExportFormat;
 use super::dose_log::{DoseLog, connected_log};
@@ -286,6 +287,33 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
     calc.on_log_dose(on_unit(|i| {
         let _ = i.state.borrow_mut().log_current_dose();
         i.refresh_all();
+    }));
+    // The calculator's text inputs and its card's follow-ups (see `refresh_calc_more`).
+    let weak = Rc::downgrade(inner);
+    calc.on_text_edited(move |index, text| {
+        let Some(i) = weak.upgrade() else { return };
+        {
+            let mut st = i.state.borrow_mut();
+            let name = st
+                .calc
+                .text_inputs()
+                .get(index.max(0) as usize)
+                .map(|t| t.name);
+            if let Some(name) = name {
+                st.calc.edit_text_input(name, text.as_str());
+            }
+        }
+        i.refresh_calc(false);
+    });
+    calc.on_follow_up(on(|i, n| {
+        let opened = {
+            let st = &mut *i.state.borrow_mut();
+            st.calc.open_follow_up(n.max(0) as usize, &st.session)
+        };
+        if opened {
+            i.refresh_calc(true);
+            i.keep_inputs_soon();
+        }
     }));
 
     let log = window.global::<LogAdapter>();
@@ -819,6 +847,7 @@ impl Inner {
             }
         }
 
+        self.refresh_calc_more(&adapter, &st.calc, rebuild);
         adapter.set_note(s(st
             .calc
             .note
@@ -910,6 +939,35 @@ impl Inner {
                 adapter.set_cautions(model(Vec::new()));
             }
         }
+    }
+
+    /// The calculator's text inputs (rows kept while typing, as the number fields are) and the
+    /// card's follow-up buttons, copied from their view models.
+    fn refresh_calc_more(&self, adapter: &CalcAdapter, calc: &CalcController, rebuild: bool) {
+        let texts = self.texts.borrow();
+        let rows: Vec<FieldRow> = text_field_texts(calc, &*texts)
+            .into_iter()
+            .map(|t| FieldRow {
+                label: s(t.label),
+                unit: s(t.unit),
+                text: s(t.text),
+                error: s(t.error),
+                origin: s(t.origin),
+            })
+            .collect();
+        let shown = adapter.get_text_fields();
+        if rebuild || rows.len() != shown.row_count() {
+            adapter.set_text_fields(model(rows));
+        } else {
+            for (i, row) in rows.into_iter().enumerate() {
+                if shown.row_data(i).as_ref() != Some(&row) {
+                    shown.set_row_data(i, row);
+                }
+            }
+        }
+        adapter.set_follow_ups(model(
+            follow_up_texts(calc, &*texts).into_iter().map(s).collect(),
+        ));
     }
 
     /// Fills the correction form with the entry's current dose and note; the reason starts

@@ -16,6 +16,7 @@ use super::seams::{
     SeamError, TraceLine,
 };
 use crate::engine;
+use crate::engine::calculators::TextInput;
 use crate::engine::dosing::site::{Limit, SiteFacts};
 use crate::engine::precision::{
     Instrument, Precision, Range, range_beside, split_tolerance, tolerance_to_si,
@@ -337,6 +338,9 @@ pub struct CalcController {
     lang: Lang,
     system: UnitSystem,
     texts: HashMap<Slot, String>,
+    /// The inputs given as text (see [`CalcController::text_inputs`]), by calculator and name:
+    /// each calculator keeps its own.
+    text_inputs: HashMap<(&'static str, &'static str), String>,
     products: HashMap<(CalcKind, CalcMode), String>,
     /// Maximum use levels (mg/L of product) of the site's delivered products, by catalog id.
     max_use_levels: HashMap<String, f64>,
@@ -364,6 +368,7 @@ impl CalcController {
             lang,
             system,
             texts: HashMap::new(),
+            text_inputs: HashMap::new(),
             products: HashMap::new(),
             max_use_levels: HashMap::new(),
             limits: Vec::new(),
@@ -669,6 +674,14 @@ impl CalcController {
             tolerances,
             precisions: self.precisions.clone(),
             site: self.site.clone(),
+            texts: self
+                .text_inputs()
+                .into_iter()
+                .filter_map(|t| {
+                    let text = self.text_input(t.name).trim();
+                    (!text.is_empty()).then(|| (t.name, text.to_string()))
+                })
+                .collect(),
         });
         (views, request, invalid)
     }
@@ -683,6 +696,7 @@ impl CalcController {
             lang: self.lang,
             system: self.system,
             texts: self.texts.clone(),
+            text_inputs: self.text_inputs.clone(),
             products: self.products.clone(),
             max_use_levels: self.max_use_levels.clone(),
             limits: self.limits.clone(),
@@ -907,6 +921,34 @@ impl CalcController {
     }
 }
 
+/// Inputs given as text rather than a number (a jar-test stock's compound), as the engine's
+/// table declares them for the calculator shown: generic, so a screen draws one text field per
+/// entry without knowing which calculators take one. Always optional; kept as typed (no
+/// number to convert when the language or units change).
+impl CalcController {
+    /// The text inputs of the calculator shown, in the table's order.
+    pub fn text_inputs(&self) -> Vec<&'static TextInput> {
+        self.mode.calculator().text_inputs().collect()
+    }
+
+    /// What is typed in text input `name` of the calculator shown ("" when nothing is).
+    pub fn text_input(&self, name: &str) -> &str {
+        self.text_inputs
+            .iter()
+            .find(|((calc, n), _)| *calc == self.mode.calculator && *n == name)
+            .map_or("", |(_, text)| text.as_str())
+    }
+
+    /// The operator typed `text` in text input `name` of the calculator shown; a name the
+    /// calculator does not take is ignored.
+    pub fn edit_text_input(&mut self, name: &str, text: &str) {
+        if let Some(t) = self.text_inputs().into_iter().find(|t| t.name == name) {
+            self.text_inputs
+                .insert((self.mode.calculator, t.name), text.to_string());
+        }
+    }
+}
+
 /// The screen and variant that run calculator `id` (its first variant).
 fn variant_of(id: &str) -> Option<(CalcKind, CalcMode)> {
     CalcKind::all()
@@ -931,6 +973,9 @@ pub struct CalcInputs {
     /// The readings of the water offered to the other calculators, by field name.
     #[serde(default)]
     pub readings: BTreeMap<String, SavedReading>,
+    /// The text inputs typed (a jar-test stock's formula), as `name@calculator`.
+    #[serde(default)]
+    pub text_inputs: BTreeMap<String, String>,
 }
 
 /// A reading as kept: the slot it was typed in (`name@calculator`), the variant's code, when
@@ -977,6 +1022,12 @@ impl CalcController {
                     };
                     (name.to_string(), saved)
                 })
+                .collect(),
+            text_inputs: self
+                .text_inputs
+                .iter()
+                .filter(|(_, t)| !t.trim().is_empty())
+                .map(|((calc, name), t)| (format!("{name}@{calc}"), t.clone()))
                 .collect(),
         }
     }
@@ -1036,6 +1087,19 @@ impl CalcController {
                 tap: r.tap.clone(),
             };
             self.readings.insert(name, reading);
+        }
+        // Only a text input the table still declares, for its own calculator.
+        for (key, text) in &saved.text_inputs {
+            let declared = key.split_once('@').and_then(|(name, calc)| {
+                engine::calculators::all()
+                    .iter()
+                    .flat_map(|c| c.text_inputs())
+                    .find(|t| t.name == name && t.calculator == calc)
+            });
+            if let Some(t) = declared {
+                self.text_inputs
+                    .insert((t.calculator, t.name), text.clone());
+            }
         }
         for (key, id) in &saved.products {
             let Some((k, m)) = key.split_once('/') else {
@@ -1691,6 +1755,66 @@ mod tests {
         assert_eq!(c.mode().calculator, "coagulation");
         assert_eq!(numbers::parse(c.text("jar-dose"), Lang::Es).unwrap(), 30.0);
         assert!(!c.follow_up(5));
+    }
+
+    /// A text input is the calculator's own: typed in the jar test, it reaches the engine
+    /// trimmed, is not offered to another calculator, and an empty one is absent; a name the
+    /// calculator does not take is ignored.
+    #[test]
+    fn a_text_input_belongs_to_its_calculator_and_reaches_the_request() {
+        let mut c = CalcController::new(
+            crate::app::seams::connected_engine(),
+            Lang::En,
+            UnitSystem::Si,
+        );
+        c.set_kind(CalcKind::of("jar-test"));
+        let names: Vec<&str> = c.text_inputs().iter().map(|t| t.name).collect();
+        assert_eq!(names, ["stock-compound"]);
+        fill(
+            &mut c,
+            &[
+                ("stock-concentration", "10"),
+                ("ml-dosed", "3"),
+                ("jar-volume-ml", "1000"),
+                ("strength", "40"),
+                ("specific-gravity", "1.4"),
+            ],
+        );
+        let texts = |c: &CalcController| c.current_request().map(|r| r.texts);
+        assert_eq!(texts(&c), Some(BTreeMap::new()));
+        c.edit_text_input("stock-compound", " FeCl3·6H2O ");
+        c.edit_text_input("no-such-input", "x");
+        assert_eq!(
+            texts(&c),
+            Some(BTreeMap::from([(
+                "stock-compound",
+                "FeCl3·6H2O".to_string()
+            )]))
+        );
+        assert_eq!(c.text_input("no-such-input"), "");
+        c.set_kind(CalcKind::of("coagulation"));
+        assert!(c.text_inputs().is_empty());
+        assert_eq!(c.text_input("stock-compound"), "");
+        c.set_kind(CalcKind::of("jar-test"));
+        assert_eq!(c.text_input("stock-compound"), " FeCl3·6H2O ");
+        // Kept across a restart, for its calculator only; one the table does not declare is
+        // dropped.
+        let mut saved = c.inputs();
+        saved
+            .text_inputs
+            .insert("stock-compound@coagulation".into(), "X".into());
+        let mut back = CalcController::new(
+            crate::app::seams::connected_engine(),
+            Lang::En,
+            UnitSystem::Si,
+        );
+        back.restore(&saved);
+        assert_eq!(back.inputs().text_inputs, c.inputs().text_inputs);
+        back.set_kind(CalcKind::of("jar-test"));
+        assert_eq!(back.text_input("stock-compound"), " FeCl3·6H2O ");
+        c.edit_text_input("stock-compound", "  ");
+        assert_eq!(texts(&c), Some(BTreeMap::new()));
+        assert!(c.inputs().text_inputs.is_empty());
     }
 
     fn at_10_42() -> DateTime<Utc> {

@@ -177,6 +177,23 @@ impl CalcScreen {
         log.record(&session.site().name, dose)
     }
 
+    /// The operator pressed follow-up `index` of the card ([`CalcController::follow_up`]):
+    /// its calculator opens with the product and values the card sends. That variant counts
+    /// as preselected, so the site's delivered product does not replace the one sent (a
+    /// jar-test dose of alum is a dose of alum); the site then fills what is still empty.
+    pub fn open_follow_up(&mut self, index: usize, session: &Session) -> bool {
+        if !self.calc.follow_up(index) {
+            return false;
+        }
+        let variant = (self.calc.kind(), self.calc.mode());
+        if !self.preselected.contains(&variant) {
+            self.preselected.push(variant);
+        }
+        self.note = None;
+        self.prefill_from_site(session);
+        true
+    }
+
     /// Puts back the calculator inputs kept by [`save_inputs`](Self::save_inputs), if any.
     pub fn restore_inputs(&mut self, session: &Session) {
         if let Some(saved) = session
@@ -318,6 +335,35 @@ pub struct FieldText {
     pub error: String,
     /// "From Softening, 10:42 UTC"; empty for the calculator's own value.
     pub origin: String,
+}
+
+/// The text inputs of the calculator shown (a jar-test stock's formula) as input rows: label
+/// `field-<name>`, beside the entry what the text is (`text-input-<kind>`), the text as typed.
+/// From the engine's table, so no calculator is named here.
+pub fn text_field_texts(calc: &CalcController, words: &dyn Words) -> Vec<FieldText> {
+    calc.text_inputs()
+        .into_iter()
+        .map(|t| FieldText {
+            label: words.get(&format!("field-{}", t.name)),
+            unit: words.get(&format!("text-input-{}", t.kind)),
+            text: calc.text_input(t.name).to_string(),
+            error: String::new(),
+            origin: String::new(),
+        })
+        .collect()
+}
+
+/// The card's follow-up buttons in words: "Use this result in Coagulation" (the screen it
+/// opens), one per follow-up the engine offers, in its order (see
+/// [`CalcController::follow_ups`]).
+pub fn follow_up_texts(calc: &CalcController, words: &dyn Words) -> Vec<String> {
+    calc.follow_ups()
+        .into_iter()
+        .map(|(kind, _)| {
+            let screen = words.get(&format!("calc-{}", kind.code()));
+            words.get_args(key("calc-follow-up"), &[("calculator", screen)])
+        })
+        .collect()
 }
 
 /// What a value of `unit` on `basis` is, in words: "% trade", "mg/L as Cl2", "mL of product".

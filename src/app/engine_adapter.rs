@@ -38,6 +38,7 @@ fn table_request(request: &CalcRequest) -> Request {
     r.tolerances = request.tolerances.clone();
     r.precisions = request.precisions.clone();
     r.site = request.site.clone();
+    r.texts = request.texts.clone();
     r
 }
 

@@ -440,6 +440,14 @@ pub fn dynamic_keys() -> Vec<String> {
         }
     }
     keys.extend(all_field_names().iter().map(|f| format!("field-{f}")));
+    // The inputs given as text, and what each kind of text is.
+    for t in crate::engine::calculators::all()
+        .iter()
+        .flat_map(|c| c.text_inputs())
+    {
+        keys.push(format!("field-{}", t.name));
+        keys.push(format!("text-input-{}", t.kind));
+    }
     // The Plant path screen's raw-water fields.
     keys.extend(
         super::path_screen::WATER_FIELDS

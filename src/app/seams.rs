@@ -136,6 +136,9 @@ pub struct CalcRequest {
     pub precisions: BTreeMap<Instrument, Precision>,
     /// The site's flow meters and pumps (`SiteProfile::facts`) for the engine's guards.
     pub site: Option<crate::engine::dosing::site::SiteFacts>,
+    /// The inputs given as text (a jar-test stock's formula), by the table's name; an empty
+    /// one is absent.
+    pub texts: BTreeMap<&'static str, String>,
 }
 
 impl CalcRequest {
@@ -292,6 +295,7 @@ mod tests {
             tolerances: BTreeMap::new(),
             precisions: BTreeMap::new(),
             site: None,
+            texts: BTreeMap::new(),
         };
         assert_eq!(Unconnected.compute(&request), Err(SeamError::NotConnected));
         assert_eq!(
