@@ -855,6 +855,24 @@ path-finished = Finished water
 path-open = Open its calculator with the water arriving here
 path-plot = pH (solid line) and alkalinity (thin line) from the raw water to the finished water
 path-plot-alkalinity = alkalinity, mg/L as CaCO₃
+path-two-open = Two targets here
+path-two-close = Close two targets
+path-two-title = Two targets at once: { $pair }
+path-two-intro = The pH and one more target, reached together by the two chemicals this point lists, fed here at the same time. The solve starts from the water arriving at this point.
+path-two-second = Second target
+path-two-target-ph = Target pH
+path-two-target-alkalinity = Alkalinity
+path-two-target-dic = Dissolved inorganic carbon (DIC)
+path-two-target-calcium = Calcium
+path-two-target-lsi = Langelier index (LSI)
+path-two-target-ccpp = Calcium carbonate precipitation potential (CCPP)
+path-two-arriving = Water arriving: { $water }
+path-two-need-targets = Type the target pH and the second target to see both doses.
+path-two-dose = { $product }: { $dose } { $unit }
+path-two-after = After both doses
+path-two-out-of-reach = { $target } { $value } is out of reach with { $first } and { $second } together.
+path-two-reach-with = { $chemical } would reach it.
+path-two-reach-range = At the target pH these two give { $low } to { $high } { $unit }: a target in that range, or another pair of chemicals, would reach it.
 
 # Stock: tank volume and days of supply
 unit-l-per-day = L/d

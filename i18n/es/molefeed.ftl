@@ -855,6 +855,24 @@ path-finished = Agua tratada
 path-open = Abrir su calculadora con el agua que llega aquí
 path-plot = pH (línea gruesa) y alcalinidad (línea fina) del agua cruda al agua tratada
 path-plot-alkalinity = alcalinidad, mg/L como CaCO₃
+path-two-open = Dos objetivos aquí
+path-two-close = Cerrar dos objetivos
+path-two-title = Dos objetivos a la vez: { $pair }
+path-two-intro = El pH y un objetivo más, alcanzados a la vez con los dos productos que tiene este punto, dosificados aquí al mismo tiempo. El cálculo parte del agua que llega a este punto.
+path-two-second = Segundo objetivo
+path-two-target-ph = pH objetivo
+path-two-target-alkalinity = Alcalinidad
+path-two-target-dic = Carbono inorgánico disuelto (CID)
+path-two-target-calcium = Calcio
+path-two-target-lsi = Índice de Langelier (LSI)
+path-two-target-ccpp = Potencial de precipitación de carbonato de calcio (CCPP)
+path-two-arriving = Agua que llega: { $water }
+path-two-need-targets = Escriba el pH objetivo y el segundo objetivo para ver las dos dosis.
+path-two-dose = { $product }: { $dose } { $unit }
+path-two-after = Después de las dos dosis
+path-two-out-of-reach = { $target } { $value } no se alcanza con { $first } y { $second } juntos.
+path-two-reach-with = { $chemical } lo alcanzaría.
+path-two-reach-range = Al pH objetivo estos dos dan de { $low } a { $high } { $unit }: un objetivo en ese intervalo, u otro par de productos, lo alcanzaría.
 
 # Stock: tank volume and days of supply
 unit-l-per-day = L/d
