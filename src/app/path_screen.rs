@@ -79,13 +79,25 @@ pub struct PathPointLine {
 }
 
 /// The second targets the two-target solve takes besides the pH: the code of the `two-targets`
-/// calculator's input `target-<code>`, and its label.
-pub const SECOND_TARGETS: [(&str, &str); 5] = [
-    ("alkalinity", key("path-two-target-alkalinity")),
-    ("dic", key("path-two-target-dic")),
-    ("calcium", key("path-two-target-calcium")),
-    ("lsi", key("path-two-target-lsi")),
-    ("ccpp", key("path-two-target-ccpp")),
+/// calculator's input `target-<code>`, its short name (the chooser) and its field's label.
+pub const SECOND_TARGETS: [(&str, &str, &str); 5] = [
+    (
+        "alkalinity",
+        key("path-two-target-alkalinity"),
+        key("path-two-value-alkalinity"),
+    ),
+    ("dic", key("path-two-target-dic"), key("path-two-value-dic")),
+    (
+        "calcium",
+        key("path-two-target-calcium"),
+        key("path-two-value-calcium"),
+    ),
+    ("lsi", key("path-two-target-lsi"), key("path-two-value-lsi")),
+    (
+        "ccpp",
+        key("path-two-target-ccpp"),
+        key("path-two-value-ccpp"),
+    ),
 ];
 
 /// The two-target panel of one point.
@@ -95,6 +107,8 @@ pub struct TwoTargetsView {
     pub point: usize,
     /// "Caustic soda + Soda ash".
     pub pair: String,
+    /// "Two targets at once: Caustic soda + Soda ash".
+    pub title: String,
     /// The water the solve starts from, in words.
     pub arriving: String,
     /// (code, label) of each second target; `second` is the one chosen.
@@ -191,9 +205,9 @@ impl PathScreen {
 
     /// The second target, by its code; its typed value is kept for the next one.
     pub fn pick_second_target(&mut self, code: &str) {
-        if let (Some(t), Some((c, _))) = (
+        if let (Some(t), Some((c, _, _))) = (
             self.two.as_mut(),
-            SECOND_TARGETS.iter().find(|(c, _)| *c == code),
+            SECOND_TARGETS.iter().find(|(c, _, _)| *c == code),
         ) {
             t.second = c;
         }
@@ -581,14 +595,16 @@ impl PathScreen {
         };
         let second_label = SECOND_TARGETS
             .iter()
-            .find(|(c, _)| *c == t.second)
-            .map_or_else(String::new, |(_, k)| words.get(k));
+            .find(|(c, _, _)| *c == t.second)
+            .map_or_else(String::new, |(_, _, k)| words.get(k));
+        let pair_words = names.join(" + ");
         let mut view = TwoTargetsView {
             point: t.point,
-            pair: names.join(" + "),
+            title: words.get_args(key("path-two-title"), &[("pair", pair_words.clone())]),
+            pair: pair_words,
             seconds: SECOND_TARGETS
                 .iter()
-                .map(|(c, k)| (c.to_string(), words.get(k)))
+                .map(|(c, k, _)| (c.to_string(), words.get(k)))
                 .collect(),
             second: t.second.to_string(),
             ph: field("target-ph", words.get(key("path-two-target-ph")), &t.ph),
@@ -878,7 +894,7 @@ mod tests {
         ("path-two-reach-with", "{ $chemical } would reach it"),
         ("path-two-reach-range", "{ $low } to { $high } { $unit }"),
         ("path-two-target-ph", "Target pH"),
-        ("path-two-target-alkalinity", "Alkalinity"),
+        ("path-two-value-alkalinity", "Alkalinity"),
         ("unit-mg-per-l", "mg/L"),
         ("unit-mg-per-l-caco3", "mg/L as CaCO3"),
         ("basis-as", "as { $compound }"),
