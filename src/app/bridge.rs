@@ -1140,9 +1140,12 @@ fn refresh_path_two(a: &PathAdapter, two: Option<super::path_screen::TwoTargetsV
     a.set_two_point(t.point as i32);
     a.set_two_title(s(t.title));
     a.set_two_arriving(s(t.arriving));
-    let (codes, labels): (Vec<_>, Vec<_>) = t.seconds.into_iter().unzip();
-    a.set_two_second_codes(model(codes.into_iter().map(s).collect()));
-    a.set_two_second_labels(model(labels.into_iter().map(s).collect()));
+    // Three chips, then two: each group fits a phone's row.
+    let mut chips: Vec<(SharedString, SharedString)> =
+        t.seconds.into_iter().map(|(c, l)| (s(c), s(l))).collect();
+    let rest = chips.split_off(chips.len().min(3));
+    a.set_two_seconds_a(model(chips));
+    a.set_two_seconds_b(model(rest));
     a.set_two_second(s(t.second));
     a.set_two_ph(field(t.ph));
     a.set_two_value(field(t.value));

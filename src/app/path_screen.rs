@@ -617,7 +617,7 @@ impl PathScreen {
         };
         view.arriving = words.get_args(
             key("path-two-arriving"),
-            &[("water", arriving_words(&arriving, words))],
+            &[("water", arriving_words(&arriving, system, words))],
         );
         // The targets: a pH or an index may be below zero where the engine says so; an
         // amount may not.
@@ -706,12 +706,25 @@ fn read_target(
     }
 }
 
-/// The readings a calculator opened at a point gets, in one line: "pH 7.12 · 12.0 · 52.3 …"
-/// with each reading's label.
-fn arriving_words(readings: &[(&str, String)], words: &dyn Words) -> String {
+/// How each reading of the water arriving is said ("alkalinity 47.4 mg/L as CaCO₃").
+const READING_WORDS: [(&str, &str); 4] = [
+    ("ph", key("path-two-reading-ph")),
+    ("temperature", key("path-two-reading-temperature")),
+    ("alkalinity", key("path-two-reading-alkalinity")),
+    ("calcium", key("path-two-reading-calcium")),
+];
+
+/// The readings a calculator opened at a point gets, in one line, each with its unit.
+fn arriving_words(readings: &[(&str, String)], system: UnitSystem, words: &dyn Words) -> String {
     readings
         .iter()
-        .map(|(name, text)| format!("{} {text}", words.get(&format!("path-field-{name}"))))
+        .filter_map(|(name, text)| {
+            let (_, k) = READING_WORDS.iter().find(|(n, _)| n == name)?;
+            let unit = field_unit(name, system)
+                .map(|u| words.get(&format!("unit-{}", u.code())))
+                .unwrap_or_default();
+            Some(words.get_args(k, &[("value", text.clone()), ("unit", unit)]))
+        })
         .collect::<Vec<_>>()
         .join(" · ")
 }
