@@ -744,3 +744,80 @@ fn the_jar_test_and_the_open_work_render_to_their_end() {
     }
     assert!(failures.is_empty(), "blank or textless: {failures:?}");
 }
+
+/// The Plant path's two-target panel at the demo plant's post-treatment channel (caustic and
+/// soda ash), with both targets typed and both doses shown, scrolled so the panel is in view:
+/// at phone and tablet size, English and Spanish (the longer labels must wrap, not clip).
+#[test]
+fn the_two_target_panel_renders_at_phone_and_tablet() {
+    use i_slint_backend_testing::ElementHandle;
+    use molefeed::app::ui::PathAdapter;
+    use slint::Model;
+    let (window, app, handle) = headless_app();
+    {
+        let mut st = handle.state.borrow_mut();
+        let st = &mut *st;
+        for (name, text) in [
+            ("ph", "7.6"),
+            ("temperature", "54"),
+            ("alkalinity", "60"),
+            ("calcium", "50"),
+        ] {
+            st.path.edit_water(name, text);
+        }
+        let post = st
+            .session
+            .site()
+            .path
+            .iter()
+            .position(|p| p.id == "post-treatment");
+        st.path
+            .open_two_targets(&st.session, post.expect("the demo's post-treatment"));
+        st.path.edit_two_targets("target-ph", "8.0");
+        st.path.edit_two_targets("target-alkalinity", "70");
+    }
+    handle.refresh();
+    app.show().expect("show");
+    let out = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
+    std::fs::create_dir_all(&out).unwrap();
+    let mut failures = Vec::new();
+    for (lang, suffix) in [(0, ""), (1, "-es")] {
+        app.global::<SettingsAdapter>().invoke_set_lang(lang);
+        app.global::<Nav>().invoke_go(6);
+        let path = app.global::<PathAdapter>();
+        assert_eq!(
+            path.get_two_doses().row_count(),
+            2,
+            "{}",
+            path.get_two_message()
+        );
+        for (size_name, w, h) in [("phone", 400, 860), ("tablet", 1280, 800)] {
+            // Scrolled down until the panel's title is laid out in view, then to its top.
+            let title = path.get_two_title().to_string();
+            let mut y = 0.0;
+            path.set_viewport_y(y);
+            render(&window, w, h);
+            loop {
+                let found = ElementHandle::find_by_accessible_label(&app, &title).next();
+                if let Some(e) = found {
+                    // The point's name above the panel, where the screen has room.
+                    let above = if w < 720 { 60.0 } else { 215.0 };
+                    y -= e.absolute_position().y - above;
+                    path.set_viewport_y(y);
+                    break;
+                }
+                y -= 200.0;
+                assert!(y > -8000.0, "the panel's title never came into view");
+                path.set_viewport_y(y);
+                render(&window, w, h);
+            }
+            let pixels = render(&window, w, h);
+            let file = out.join(format!("path-{size_name}-two-targets{suffix}.png"));
+            save_png(&file, &pixels, w, h);
+            if dark_pixels(&pixels, w, h, w < 720) < 1500 || distinct_colours(&pixels) < 40 {
+                failures.push(file.display().to_string());
+            }
+        }
+    }
+    assert!(failures.is_empty(), "blank or textless: {failures:?}");
+}

@@ -1641,3 +1641,73 @@ fn a_stock_formula_typed_in_the_app_changes_the_result_as_on_the_command_line() 
         .to_string();
     assert!(message.contains("Fe2(SO4)3"), "{message:?}");
 }
+
+/// Scrolls the screen down a little at a time (the wheel over its middle) until an element
+/// labelled `label` is in view; fails the test if it never is.
+fn scroll_until(app: &AppWindow, label: &str) {
+    for _ in 0..80 {
+        if count(app, label) > 0 {
+            return;
+        }
+        app.window()
+            .dispatch_event(slint::platform::WindowEvent::PointerScrolled {
+                position: slint::LogicalPosition::new(640.0, 400.0),
+                delta_x: 0.0,
+                delta_y: -60.0,
+            });
+        i_slint_backend_testing::mock_elapsed_time(std::time::Duration::from_millis(50));
+    }
+    panic!("{label:?} never came into view");
+}
+
+/// The Plant path's two-target solve at the demo plant's post-treatment channel, where caustic
+/// and soda ash are both listed: opened from its point, both targets typed, both doses shown.
+#[test]
+fn the_plant_path_solves_two_targets_at_the_demo_post_treatment() {
+    let (app, handle) = start(connected_engine());
+    // The raw water as the path screen keeps it ("pH" alone labels fields of other screens
+    // too); the two-target panel is used through the screen.
+    for (name, text) in [
+        ("ph", "7.6"),
+        ("temperature", "54"),
+        ("alkalinity", "60"),
+        ("calcium", "50"),
+    ] {
+        handle.state.borrow_mut().path.edit_water(name, text);
+    }
+    tap(&app, &en("nav-path"));
+    // The points are below the raw water: scrolled into view (the search finds what is
+    // shown). Only the post-treatment channel lists a pair, so there is one such button.
+    scroll_until(&app, &en("path-two-open"));
+    tap(&app, &en("path-two-open"));
+    one(&app, &en("path-two-close"));
+    scroll_until(&app, &en("path-two-value-alkalinity"));
+    type_into(&app, &en("path-two-target-ph"), "8.0");
+    type_into(&app, &en("path-two-value-alkalinity"), "70");
+    let path = app.global::<molefeed::app::ui::PathAdapter>();
+    assert_eq!(path.get_two_message(), "", "{}", path.get_two_reach());
+    let doses: Vec<String> = path.get_two_doses().iter().map(|d| d.to_string()).collect();
+    assert_eq!(doses.len(), 2, "{doses:?}");
+    // Each dose on screen, named by its product and said on its chemical's basis.
+    scroll_until(&app, &doses[1]);
+    for (dose, (product, basis)) in doses.iter().zip([
+        ("product-sodium-hydroxide", "NaOH"),
+        ("product-soda-ash", "Na2CO3"),
+    ]) {
+        one(&app, dose);
+        assert!(
+            dose.starts_with(&format!("{}:", en(product))) && dose.ends_with(basis),
+            "{dose}"
+        );
+    }
+    // And they are the controller's, for the same screen.
+    let st = handle.state.borrow();
+    let texts = Texts::new(Lang::En);
+    let view = st.path.view(&st.session, &texts);
+    assert_eq!(view.two.unwrap().doses, doses);
+    assert!(
+        path.get_two_after().starts_with("pH 8.00"),
+        "{}",
+        path.get_two_after()
+    );
+}

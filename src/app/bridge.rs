@@ -234,6 +234,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             i.refresh_all();
         }
     }));
+    wire_path_two(&path, inner);
 
     let calc = window.global::<CalcAdapter>();
     calc.on_pick_kind(on(|i, n| {
@@ -1125,6 +1126,7 @@ impl Inner {
                     water: s(p.water),
                     basin: s(p.basin),
                     opens: p.opens,
+                    two: p.two,
                 })
                 .collect(),
         ));
@@ -1138,6 +1140,7 @@ impl Inner {
         a.set_ph_hi(s(v.ph_hi));
         a.set_alkalinity_lo(s(v.alkalinity_lo));
         a.set_alkalinity_hi(s(v.alkalinity_hi));
+        refresh_path_two(&a, v.two);
     }
 
     fn refresh_plots(&self) {
@@ -1155,6 +1158,64 @@ impl Inner {
             key("plot-dose-axis"),
         ));
     }
+}
+
+/// The Plant path's two-target panel: open, pick the second target, type the targets.
+fn wire_path_two(path: &PathAdapter, inner: &Rc<Inner>) {
+    let weak = Rc::downgrade(inner);
+    path.on_open_two(move |n| {
+        if let Some(i) = weak.upgrade() {
+            {
+                let mut st = i.state.borrow_mut();
+                let st = &mut *st;
+                st.path.open_two_targets(&st.session, n.max(0) as usize);
+            }
+            i.refresh_path();
+        }
+    });
+    let weak = Rc::downgrade(inner);
+    path.on_pick_second(move |code| {
+        if let Some(i) = weak.upgrade() {
+            i.state.borrow_mut().path.pick_second_target(&code);
+            i.refresh_path();
+        }
+    });
+    let weak = Rc::downgrade(inner);
+    path.on_edit_two(move |name, text| {
+        if let Some(i) = weak.upgrade() {
+            i.state.borrow_mut().path.edit_two_targets(&name, &text);
+            i.refresh_path();
+        }
+    });
+}
+
+/// The two-target panel's words, copied; closed when the controller has none.
+fn refresh_path_two(a: &PathAdapter, two: Option<super::path_screen::TwoTargetsView>) {
+    let field = |f: super::path_screen::PathField| PathField {
+        name: s(f.name),
+        label: s(f.label),
+        unit: s(f.unit),
+        text: s(f.text),
+        error: s(f.error),
+    };
+    a.set_two_open(two.is_some());
+    let t = two.unwrap_or_default();
+    a.set_two_point(t.point as i32);
+    a.set_two_title(s(t.title));
+    a.set_two_arriving(s(t.arriving));
+    // Three chips, then two: each group fits a phone's row.
+    let mut chips: Vec<(SharedString, SharedString)> =
+        t.seconds.into_iter().map(|(c, l)| (s(c), s(l))).collect();
+    let rest = chips.split_off(chips.len().min(3));
+    a.set_two_seconds_a(model(chips));
+    a.set_two_seconds_b(model(rest));
+    a.set_two_second(s(t.second));
+    a.set_two_ph(field(t.ph));
+    a.set_two_value(field(t.value));
+    a.set_two_doses(model(t.doses.into_iter().map(s).collect()));
+    a.set_two_after(s(t.after));
+    a.set_two_message(s(t.message));
+    a.set_two_reach(s(t.reach));
 }
 
 /// A caution line as the card and the path screen show it.

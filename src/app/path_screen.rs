@@ -8,6 +8,13 @@
 //! raw water and any dose that differs from the site's usual one), reads it in the operator's
 //! units and language, and words the answer. A typed dose replaces the site's for this screen
 //! only; the site profile is never changed from here.
+//!
+//! Where a point lists two chemicals the two-target solve can use together
+//! ([`path::two_target_pair`]), the screen offers it there: the operator picks the second
+//! target and types both; the doses come from the engine's `two-targets` calculator (the one
+//! `molefeed calc two-targets` runs), started from the water arriving at the point as a
+//! calculator opened there gets it. This file builds the calculator's request from texts and
+//! words its outcome; it computes nothing.
 
 use super::calc::key;
 use super::calc_screen::{CautionLine, caution_lines};
@@ -17,8 +24,9 @@ use super::plot::{self, Range};
 use super::seams::CalcKind;
 use super::session::Session;
 use super::words::Words;
-use crate::engine::calculators::{Calculators, TABLE};
+use crate::engine::calculators::{self, Calculators, Outcome, Request, TABLE};
 use crate::engine::path::{self, Path, PathResult, Settings, WaterAt};
+use crate::engine::precision::range_beside;
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
 use crate::engine::water::WaterInput;
 use std::collections::BTreeMap;
@@ -66,6 +74,66 @@ pub struct PathPointLine {
     pub basin: String,
     /// A calculator opens here with the water arriving at this point.
     pub opens: bool,
+    /// The point lists two chemicals the two-target solve can use together.
+    pub two: bool,
+}
+
+/// The second targets the two-target solve takes besides the pH: the code of the `two-targets`
+/// calculator's input `target-<code>`, its short name (the chooser) and its field's label.
+pub const SECOND_TARGETS: [(&str, &str, &str); 5] = [
+    (
+        "alkalinity",
+        key("path-two-target-alkalinity"),
+        key("path-two-value-alkalinity"),
+    ),
+    ("dic", key("path-two-target-dic"), key("path-two-value-dic")),
+    (
+        "calcium",
+        key("path-two-target-calcium"),
+        key("path-two-value-calcium"),
+    ),
+    ("lsi", key("path-two-target-lsi"), key("path-two-value-lsi")),
+    (
+        "ccpp",
+        key("path-two-target-ccpp"),
+        key("path-two-value-ccpp"),
+    ),
+];
+
+/// The two-target panel of one point.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct TwoTargetsView {
+    /// The point's index on the path.
+    pub point: usize,
+    /// "Caustic soda + Soda ash".
+    pub pair: String,
+    /// "Two targets at once: Caustic soda + Soda ash".
+    pub title: String,
+    /// The water the solve starts from, in words.
+    pub arriving: String,
+    /// (code, label) of each second target; `second` is the one chosen.
+    pub seconds: Vec<(String, String)>,
+    pub second: String,
+    /// The target pH and the second target as typed.
+    pub ph: PathField,
+    pub value: PathField,
+    /// Each chemical's dose: "Caustic soda: 4.14 (1.11–7.37) mg/L as NaOH".
+    pub doses: Vec<String>,
+    /// The water after both: pH, alkalinity, LSI.
+    pub after: String,
+    /// What is missing, or why the pair cannot do it, in words.
+    pub message: String,
+    /// What would reach a target out of reach, in words.
+    pub reach: String,
+}
+
+/// What the operator chose and typed in the two-target panel.
+#[derive(Clone, Debug)]
+struct TwoTargets {
+    point: usize,
+    second: &'static str,
+    ph: String,
+    value: String,
 }
 
 /// The whole screen.
@@ -87,6 +155,8 @@ pub struct PathView {
     pub ph_hi: String,
     pub alkalinity_lo: String,
     pub alkalinity_hi: String,
+    /// The two-target panel, while open.
+    pub two: Option<TwoTargetsView>,
 }
 
 /// What the screen keeps: the texts typed on it.
@@ -95,6 +165,8 @@ pub struct PathScreen {
     water: BTreeMap<String, String>,
     /// Typed doses by (point id, site product id), mg/L of the product's dose compound.
     doses: BTreeMap<(String, String), String>,
+    /// The two-target panel, while open.
+    two: Option<TwoTargets>,
 }
 
 impl PathScreen {
@@ -109,6 +181,46 @@ impl PathScreen {
             self.doses.remove(&k);
         } else {
             self.doses.insert(k, text.to_string());
+        }
+    }
+
+    /// Opens the two-target panel at point `i` (alkalinity as the second target), or closes
+    /// it if it is open there. A point without a pair opens nothing.
+    pub fn open_two_targets(&mut self, session: &Session, i: usize) {
+        if self.two.as_ref().is_some_and(|t| t.point == i) {
+            self.two = None;
+            return;
+        }
+        let offered = session
+            .catalog()
+            .and_then(|c| path::two_target_pair(session.site(), c, i))
+            .is_some();
+        self.two = offered.then(|| TwoTargets {
+            point: i,
+            second: SECOND_TARGETS[0].0,
+            ph: String::new(),
+            value: String::new(),
+        });
+    }
+
+    /// The second target, by its code; its typed value is kept for the next one.
+    pub fn pick_second_target(&mut self, code: &str) {
+        if let (Some(t), Some((c, _, _))) = (
+            self.two.as_mut(),
+            SECOND_TARGETS.iter().find(|(c, _, _)| *c == code),
+        ) {
+            t.second = c;
+        }
+    }
+
+    /// A target typed in the panel: `target-ph`, or the second target.
+    pub fn edit_two_targets(&mut self, name: &str, text: &str) {
+        if let Some(t) = self.two.as_mut() {
+            if name == "target-ph" {
+                t.ph = text.to_string();
+            } else {
+                t.value = text.to_string();
+            }
         }
     }
 
@@ -265,6 +377,9 @@ impl PathScreen {
             Ok((r, path)) => self.word_result(&mut view, &r, &path, session, words),
             Err(e) => view.message = words.error(&e),
         }
+        if view.message.is_empty() {
+            view.two = self.two_targets_view(session, words);
+        }
         view
     }
 
@@ -321,12 +436,17 @@ impl PathScreen {
                 .unwrap_or_default();
             let opens = path.points.get(i).is_some_and(|pt| !pt.feeds.is_empty())
                 && self.calculator_at(session, i).is_some();
+            let two = session
+                .catalog()
+                .and_then(|c| path::two_target_pair(site, c, i))
+                .is_some();
             view.points.push(PathPointLine {
                 name: p.name.clone(),
                 feeds: fed.join(", "),
                 water,
                 basin,
                 opens,
+                two,
             });
         }
         view.finished = water_words(&r.finished, lang, words);
@@ -438,6 +558,295 @@ impl PathScreen {
     }
 }
 
+impl PathScreen {
+    /// The open two-target panel: the targets as typed, and the doses of the point's pair
+    /// from the `two-targets` calculator, or why there are none.
+    fn two_targets_view(&self, session: &Session, words: &dyn Words) -> Option<TwoTargetsView> {
+        let t = self.two.as_ref()?;
+        let site = session.site();
+        let catalog = session.catalog()?;
+        let pair = path::two_target_pair(site, catalog, t.point)?;
+        let lang = session.lang();
+        let system = session.units();
+        let calc = calculators::find("two-targets").ok()?;
+        let name = |product: &str| {
+            site.delivered(product)
+                .map(|d| words.name(&format!("product-{}", d.product)))
+                .unwrap_or_else(|_| product.to_string())
+        };
+        let names = pair.products.clone().map(|p| name(&p));
+        let second_input = format!("target-{}", t.second);
+        let field = |input: &str, label: String, text: &str| {
+            let unit = calc
+                .inputs
+                .iter()
+                .find(|i| i.name == input)
+                .map(|i| {
+                    super::calc_screen::unit_with_basis(i.quantity.unit(system), i.basis, words)
+                })
+                .unwrap_or_default();
+            PathField {
+                name: input.to_string(),
+                label,
+                unit,
+                text: text.to_string(),
+                error: String::new(),
+            }
+        };
+        let second_label = SECOND_TARGETS
+            .iter()
+            .find(|(c, _, _)| *c == t.second)
+            .map_or_else(String::new, |(_, _, k)| words.get(k));
+        let pair_words = names.join(" + ");
+        let mut view = TwoTargetsView {
+            point: t.point,
+            title: words.get_args(key("path-two-title"), &[("pair", pair_words.clone())]),
+            pair: pair_words,
+            seconds: SECOND_TARGETS
+                .iter()
+                .map(|(c, k, _)| (c.to_string(), words.get(k)))
+                .collect(),
+            second: t.second.to_string(),
+            ph: field("target-ph", words.get(key("path-two-target-ph")), &t.ph),
+            value: field(&second_input, second_label, &t.value),
+            ..TwoTargetsView::default()
+        };
+        let Some(arriving) = self.water_arriving(session, t.point, words) else {
+            view.message = words.get(key("path-need-water"));
+            return Some(view);
+        };
+        view.arriving = words.get_args(
+            key("path-two-arriving"),
+            &[("water", arriving_words(&arriving, system, words))],
+        );
+        // The targets: a pH or an index may be below zero where the engine says so; an
+        // amount may not.
+        let amount = matches!(t.second, "alkalinity" | "dic" | "calcium");
+        let ph = read_target(&t.ph, false, lang, words, &mut view.ph.error);
+        let value = read_target(&t.value, amount, lang, words, &mut view.value.error);
+        let (Some(ph), Some(value)) = (ph, value) else {
+            if view.ph.error.is_empty() && view.value.error.is_empty() {
+                view.message = words.get(key("path-two-need-targets"));
+            }
+            return Some(view);
+        };
+        let mut request = Request::new(calc);
+        request.lists.insert(
+            "chemicals",
+            pair.chemicals.iter().map(|c| c.id.clone()).collect(),
+        );
+        // As `molefeed calc two-targets --site FILE` takes the plant: its limits, its
+        // instruments' precision, its meters and pumps.
+        request.limits = site.limits.clone();
+        request.precisions = site.precisions();
+        request.site = Some(site.facts());
+        let mut readings: Vec<(&str, String)> = arriving
+            .into_iter()
+            // The calculators call the water's calcium `calcium-hardness`.
+            .map(|(n, text)| {
+                (
+                    if n == "calcium" {
+                        "calcium-hardness"
+                    } else {
+                        n
+                    },
+                    text,
+                )
+            })
+            .collect();
+        readings.push(("target-ph", ph));
+        readings.push((second_input.as_str(), value));
+        for (name, text) in readings {
+            let Some(input) = calc.inputs.iter().find(|i| i.name == name) else {
+                continue;
+            };
+            let Ok(v) = numbers::parse(&text, lang) else {
+                continue;
+            };
+            request
+                .values
+                .insert(input.name, input.quantity.unit(system).to_si(v));
+            if let Some(f) = numbers::figures(&text, lang) {
+                request.figures.insert(input.name, f);
+            }
+        }
+        match Calculators::new().and_then(|c| c.compute(&request)) {
+            Ok(outcome) => word_two_doses(&mut view, &outcome, &names, lang, system, words),
+            Err(e) => {
+                view.message = match e.reason() {
+                    Some("target-out-of-reach") => {
+                        view.reach = reach_words(&e, catalog, &view, lang, words);
+                        out_of_reach_words(&e, &names, &view, lang, words)
+                    }
+                    _ => words.error(&e),
+                }
+            }
+        }
+        Some(view)
+    }
+}
+
+/// A target as typed: `None` while empty, or refused (the reason in `error`).
+fn read_target(
+    text: &str,
+    non_negative: bool,
+    lang: Lang,
+    words: &dyn Words,
+    error: &mut String,
+) -> Option<String> {
+    if text.trim().is_empty() {
+        return None;
+    }
+    match read(text, lang, non_negative, words) {
+        Ok(_) => Some(text.to_string()),
+        Err(why) => {
+            *error = why;
+            None
+        }
+    }
+}
+
+/// How each reading of the water arriving is said ("alkalinity 47.4 mg/L as CaCO₃").
+const READING_WORDS: [(&str, &str); 4] = [
+    ("ph", key("path-two-reading-ph")),
+    ("temperature", key("path-two-reading-temperature")),
+    ("alkalinity", key("path-two-reading-alkalinity")),
+    ("calcium", key("path-two-reading-calcium")),
+];
+
+/// The readings a calculator opened at a point gets, in one line, each with its unit.
+fn arriving_words(readings: &[(&str, String)], system: UnitSystem, words: &dyn Words) -> String {
+    readings
+        .iter()
+        .filter_map(|(name, text)| {
+            let (_, k) = READING_WORDS.iter().find(|(n, _)| n == name)?;
+            let unit = field_unit(name, system)
+                .map(|u| words.get(&format!("unit-{}", u.code())))
+                .unwrap_or_default();
+            Some(words.get_args(k, &[("value", text.clone()), ("unit", unit)]))
+        })
+        .collect::<Vec<_>>()
+        .join(" · ")
+}
+
+/// The doses of both chemicals with their ranges and bases, and the water they leave.
+fn word_two_doses(
+    view: &mut TwoTargetsView,
+    outcome: &Outcome,
+    names: &[String; 2],
+    lang: Lang,
+    system: UnitSystem,
+    words: &dyn Words,
+) {
+    let get = |id: &str| outcome.results.iter().find(|r| r.id == id);
+    for (id, name) in ["first_dose", "second_dose"].into_iter().zip(names) {
+        let Some(r) = get(id) else { continue };
+        let unit = r.quantity.unit(system);
+        let dose = numbers::format_sig(unit.from_si(r.value), 3, lang);
+        let range = r
+            .range
+            .and_then(|range| {
+                range_beside(&dose, range, unit, |v, d| numbers::format_fixed(v, d, lang))
+            })
+            .map(|t| format!(" ({t})"))
+            .unwrap_or_default();
+        view.doses.push(words.get_args(
+            key("path-two-dose"),
+            &[
+                ("product", name.clone()),
+                ("dose", format!("{dose}{range}")),
+                (
+                    "unit",
+                    super::calc_screen::unit_with_basis(unit, r.basis.as_deref(), words),
+                ),
+            ],
+        ));
+    }
+    if let (Some(ph), Some(alk)) = (get("ph_after"), get("alkalinity_after")) {
+        let mut args = vec![
+            ("ph", numbers::format_fixed(ph.value, 2, lang)),
+            ("alkalinity", numbers::format_sig(alk.value, 3, lang)),
+        ];
+        view.after = match get("langelier_index_after") {
+            Some(lsi) => {
+                args.push(("lsi", numbers::format_fixed(lsi.value, 2, lang)));
+                words.get_args(key("path-water-lsi"), &args)
+            }
+            None => words.get_args(key("path-water"), &args),
+        };
+    }
+}
+
+/// A number the engine put in an error's parameter, in the operator's language.
+fn param_number(e: &crate::engine::Error, name: &str, lang: Lang) -> Option<String> {
+    let v: f64 = e.param(name)?.parse().ok()?;
+    Some(numbers::format_sig(v, 3, lang))
+}
+
+/// Which target the pair cannot reach, in words: the engine's `target` and `value`.
+fn out_of_reach_words(
+    e: &crate::engine::Error,
+    names: &[String; 2],
+    view: &TwoTargetsView,
+    lang: Lang,
+    words: &dyn Words,
+) -> String {
+    let ph = e.param("target") == Some("ph");
+    let (target, unit) = if ph {
+        (view.ph.label.clone(), String::new())
+    } else {
+        (view.value.label.clone(), view.value.unit.clone())
+    };
+    words.get_args(
+        key("path-two-out-of-reach"),
+        &[
+            ("target", target),
+            (
+                "value",
+                format!(
+                    "{} {unit}",
+                    param_number(e, "value", lang).unwrap_or_default()
+                )
+                .trim_end()
+                .to_string(),
+            ),
+            ("first", names[0].clone()),
+            ("second", names[1].clone()),
+        ],
+    )
+}
+
+/// What would reach it, in words: the chemical the engine names for a pH no share of the
+/// pair reaches, or the range of the second target the pair gives at the target pH.
+fn reach_words(
+    e: &crate::engine::Error,
+    catalog: &crate::engine::dosing::catalog::Catalog,
+    view: &TwoTargetsView,
+    lang: Lang,
+    words: &dyn Words,
+) -> String {
+    if let Some(chemical) = e.param("suggestion") {
+        // The engine names a water-engine chemical; the operator knows the product.
+        let product = catalog.products.iter().find(|p| {
+            crate::engine::dosing::waterside::water_chemical(&p.compound)
+                .is_ok_and(|c| c.id == chemical)
+        });
+        let name = product.map_or_else(|| chemical.to_string(), |p| words.name(&p.name_key));
+        return words.get_args(key("path-two-reach-with"), &[("chemical", name)]);
+    }
+    match (param_number(e, "low", lang), param_number(e, "high", lang)) {
+        (Some(low), Some(high)) => words.get_args(
+            key("path-two-reach-range"),
+            &[
+                ("low", low),
+                ("high", high),
+                ("unit", view.value.unit.clone()),
+            ],
+        ),
+        _ => String::new(),
+    }
+}
+
 /// A typed number in the operator's language, or why it is refused, in words: not a number,
 /// or below zero where `non_negative` (a dose, an alkalinity).
 fn read(text: &str, lang: Lang, non_negative: bool, words: &dyn Words) -> Result<f64, String> {
@@ -489,6 +898,19 @@ mod tests {
         ("path-none", "no path"),
         ("number-invalid", "not a number"),
         ("path-negative", "negative"),
+        ("path-two-dose", "{ $product }: { $dose } { $unit }"),
+        ("path-two-need-targets", "need targets"),
+        (
+            "path-two-out-of-reach",
+            "{ $target } { $value } out of reach with { $first } + { $second }",
+        ),
+        ("path-two-reach-with", "{ $chemical } would reach it"),
+        ("path-two-reach-range", "{ $low } to { $high } { $unit }"),
+        ("path-two-target-ph", "Target pH"),
+        ("path-two-value-alkalinity", "Alkalinity"),
+        ("unit-mg-per-l", "mg/L"),
+        ("unit-mg-per-l-caco3", "mg/L as CaCO3"),
+        ("basis-as", "as { $compound }"),
     ]);
 
     /// The demo plant in SI units, with the raw water typed as `water` (name, text).
@@ -602,5 +1024,185 @@ mod tests {
         let ph: f64 = arriving[0].1.parse().unwrap();
         assert_eq!((arriving[0].0, ph), ("ph", before));
         assert_eq!(arriving[1], ("temperature", "12.0".to_string()));
+    }
+
+    /// The demo plant's post-treatment channel, with the raw water of [`RAW`] typed and the
+    /// two-target panel open there with targets `ph` and alkalinity `alkalinity`.
+    fn two_at_post(ph: &str, alkalinity: &str) -> (PathScreen, Session, usize) {
+        let (mut s, session) = screen(&RAW);
+        let post = session
+            .site()
+            .path
+            .iter()
+            .position(|p| p.id == "post-treatment")
+            .unwrap();
+        s.open_two_targets(&session, post);
+        s.edit_two_targets("target-ph", ph);
+        s.edit_two_targets("target-alkalinity", alkalinity);
+        (s, session, post)
+    }
+
+    #[test]
+    fn two_targets_are_offered_only_where_a_point_lists_a_pair() {
+        let (mut s, session) = screen(&RAW);
+        let v = s.view(&session, &WORDS);
+        let offered: Vec<&str> = v
+            .points
+            .iter()
+            .zip(&session.site().path)
+            .filter(|(line, _)| line.two)
+            .map(|(_, p)| p.id.as_str())
+            .collect();
+        // Caustic and soda ash at post-treatment (the demo lists both); alum, hypochlorite
+        // alone elsewhere.
+        assert_eq!(offered, ["post-treatment"]);
+        let flash = 1;
+        s.open_two_targets(&session, flash);
+        assert_eq!(
+            s.view(&session, &WORDS).two,
+            None,
+            "no pair at the flash mixer"
+        );
+        let (mut s, session, post) = two_at_post("", "");
+        let two = s.view(&session, &WORDS).two.unwrap();
+        assert_eq!(two.point, post);
+        assert_eq!(two.pair, "product-sodium-hydroxide + product-soda-ash");
+        assert_eq!(two.second, "alkalinity");
+        assert_eq!(two.seconds.len(), 5);
+        assert_eq!(two.message, "need targets");
+        assert!(two.doses.is_empty());
+        // Tapped again, it closes.
+        s.open_two_targets(&session, post);
+        assert_eq!(s.view(&session, &WORDS).two, None);
+    }
+
+    /// `molefeed calc two-targets` run through the command line's own code (flags parsed,
+    /// converted, computed, reported), its JSON results.
+    fn cli_two_targets(flags: &[(&str, String)]) -> serde_json::Value {
+        let site = concat!(env!("CARGO_MANIFEST_DIR"), "/data/demo-site.json");
+        let mut argv: Vec<String> = ["two-targets", "--units", "si", "--site", site, "--json"]
+            .map(String::from)
+            .to_vec();
+        for (flag, value) in flags {
+            argv.push(format!("--{flag}"));
+            argv.push(value.clone());
+        }
+        let args = crate::cli::Args::parse(&argv).unwrap();
+        let report = crate::cli::dispatch("calc", &args).unwrap();
+        report.json["results"].clone()
+    }
+
+    #[test]
+    fn the_two_doses_are_the_command_lines_for_the_water_arriving() {
+        // At pH 8.0 caustic alone leaves about 63 mg/L as CaCO3 here and soda ash adds to it
+        // (the out-of-reach case below gives the pair's span): 70 is within reach.
+        let (s, session, post) = two_at_post("8.0", "70");
+        let two = s.view(&session, &WORDS).two.unwrap();
+        assert_eq!(two.message, "", "{two:?}");
+        // The same water (the readings a calculator opened here gets) and the same targets,
+        // through `molefeed calc two-targets --site demo-site.json`.
+        let arriving = s.water_arriving(&session, post, &WORDS).unwrap();
+        let mut flags: Vec<(&str, String)> = arriving
+            .iter()
+            .map(|(n, t)| {
+                (
+                    if *n == "calcium" {
+                        "calcium-hardness"
+                    } else {
+                        *n
+                    },
+                    t.clone(),
+                )
+            })
+            .collect();
+        flags.push(("chemicals", "caustic,soda-ash".into()));
+        flags.push(("target-ph", "8.0".into()));
+        flags.push(("target-alkalinity", "70".into()));
+        let cli = cli_two_targets(&flags);
+        let shown = |id: &str, product: &str, compound: &str| {
+            let r = &cli[id];
+            let f = |v: &serde_json::Value| v.as_f64().unwrap();
+            let dose = numbers::format_sig(f(&r["value"]), 3, Lang::En);
+            let d = crate::engine::sigfig::shown_decimals(&dose);
+            let (lo, hi) = (
+                numbers::format_fixed(f(&r["low"]), d, Lang::En),
+                numbers::format_fixed(f(&r["high"]), d, Lang::En),
+            );
+            format!("product-{product}: {dose} ({lo}–{hi}) mg/L as {compound}")
+        };
+        assert_eq!(
+            two.doses,
+            [
+                shown("first_dose", "sodium-hydroxide", "NaOH"),
+                shown("second_dose", "soda-ash", "Na2CO3"),
+            ]
+        );
+        // Both targets met, as the command line reports them.
+        let ph = cli["ph_after"]["value"].as_f64().unwrap();
+        let alk = cli["alkalinity_after"]["value"].as_f64().unwrap();
+        assert!(
+            (ph - 8.0).abs() < 1e-3 && (alk - 70.0).abs() < 0.01,
+            "{ph} {alk}"
+        );
+        assert!(
+            two.after.starts_with("pH 8.00 · 70.0 · LSI "),
+            "{}",
+            two.after
+        );
+    }
+
+    #[test]
+    fn a_target_out_of_reach_is_named_with_what_would_reach_it() {
+        // Caustic and soda ash only add alkalinity: 20 mg/L as CaCO3 is below the water
+        // arriving (about 46 after 28 mg/L alum: 0.094 mmol Al x 3 meq x 50 = 14 consumed).
+        let (s, session, post) = two_at_post("8.0", "20");
+        let two = s.view(&session, &WORDS).two.unwrap();
+        assert_eq!(
+            two.message,
+            "Alkalinity 20.0 mg/L as CaCO3 out of reach with product-sodium-hydroxide + product-soda-ash"
+        );
+        let arriving = s.water_arriving(&session, post, &WORDS).unwrap();
+        let alk: f64 = arriving[2].1.parse().unwrap();
+        let low: f64 = two
+            .reach
+            .split_whitespace()
+            .next()
+            .unwrap()
+            .parse()
+            .unwrap();
+        assert!(
+            low >= alk - 0.5,
+            "the pair gives no less than arrives: {}",
+            two.reach
+        );
+        assert!(two.doses.is_empty());
+        // Both raise the pH: a pH below the water arriving needs an acid.
+        let (s, session, _) = two_at_post("5.0", "50");
+        let two = s.view(&session, &WORDS).two.unwrap();
+        assert!(
+            two.message.starts_with("Target pH 5.00 "),
+            "{}",
+            two.message
+        );
+        assert_eq!(two.reach, "product-sulfuric-acid would reach it");
+    }
+
+    #[test]
+    fn a_target_with_letters_is_refused_at_its_field() {
+        let (mut s, session, _) = two_at_post("8.0", "fifty");
+        let two = s.view(&session, &WORDS).two.unwrap();
+        assert_eq!(two.value.error, "not a number");
+        assert_eq!(two.message, "");
+        assert!(two.doses.is_empty());
+        // A negative alkalinity is refused; a negative LSI is a target like any other.
+        s.edit_two_targets("target-alkalinity", "-5");
+        assert_eq!(
+            s.view(&session, &WORDS).two.unwrap().value.error,
+            "negative"
+        );
+        s.pick_second_target("lsi");
+        s.edit_two_targets("target-lsi", "-0.2");
+        let lsi = s.view(&session, &WORDS).two.unwrap();
+        assert_eq!((lsi.second.as_str(), lsi.value.error.as_str()), ("lsi", ""));
     }
 }

@@ -150,6 +150,76 @@ impl Path {
     }
 }
 
+/// The pairs of water-engine chemicals the two-target solve
+/// ([`water::targets::two_targets`], the `two-targets` calculator) is offered for where a point
+/// lists both, as (first, second): lime or quicklime with carbon dioxide (remineralisation:
+/// pH with calcium or alkalinity), caustic with bicarbonate or soda ash (pH with alkalinity or
+/// DIC for corrosion control), carbon dioxide with lime (recarbonation after softening), an
+/// acid with caustic. These are the pairs plants use for two targets at once (common
+/// practice); the solve itself takes any two chemicals and says when a pair cannot serve.
+pub const TWO_TARGET_PAIRS: [(&str, &str); 8] = [
+    ("lime", "carbon-dioxide"),
+    ("quicklime", "carbon-dioxide"),
+    ("caustic", "bicarbonate"),
+    ("caustic", "soda-ash"),
+    ("carbon-dioxide", "lime"),
+    ("carbon-dioxide", "quicklime"),
+    ("sulfuric-acid", "caustic"),
+    ("hydrochloric-acid", "caustic"),
+];
+
+/// Two products a site point lists that the two-target solve can use together.
+#[derive(Clone, Debug)]
+pub struct TwoTargetPair {
+    /// The site's delivered product ids, in the order solved.
+    pub products: [String; 2],
+    /// Their water-engine chemicals (the `two-targets` calculator's `chemicals`), same order.
+    pub chemicals: [&'static Chemical; 2],
+}
+
+/// The pair of [`TWO_TARGET_PAIRS`] that point `point` of `site`'s path lists (fed today or
+/// not), if any: the first pair found in the point's own order. Where both orders are pairs
+/// (lime and carbon dioxide), the product the point lists first is solved first.
+pub fn two_target_pair(
+    site: &SiteProfile,
+    catalog: &Catalog,
+    point: usize,
+) -> Option<TwoTargetPair> {
+    let feeds = &site.path.get(point)?.feeds;
+    let listed: Vec<(&str, &'static Chemical)> = feeds
+        .iter()
+        .filter_map(|f| {
+            let delivered = site.delivered(&f.product).ok()?;
+            // The chemical only: the dose does not matter here.
+            let (chemical, _, _) = product_compound(catalog, &delivered.product, 0.0).ok()?;
+            Some((f.product.as_str(), chemical))
+        })
+        .collect();
+    let is_pair = |a: &Chemical, b: &Chemical| {
+        TWO_TARGET_PAIRS
+            .iter()
+            .any(|(x, y)| *x == a.id && *y == b.id)
+    };
+    for (i, (pa, ca)) in listed.iter().enumerate() {
+        for (pb, cb) in &listed[i + 1..] {
+            let ordered = if is_pair(ca, cb) {
+                Some(((pa, ca), (pb, cb)))
+            } else if is_pair(cb, ca) {
+                Some(((pb, cb), (pa, ca)))
+            } else {
+                None
+            };
+            if let Some(((p1, c1), (p2, c2))) = ordered {
+                return Some(TwoTargetPair {
+                    products: [p1.to_string(), p2.to_string()],
+                    chemicals: [c1, c2],
+                });
+            }
+        }
+    }
+    None
+}
+
 /// How to run a path.
 #[derive(Clone, Debug, Default)]
 pub struct Settings {

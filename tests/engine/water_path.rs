@@ -353,3 +353,73 @@ fn the_finished_water_is_held_to_the_plants_limits() {
     assert!(below.contains(&"alkalinity"), "{:?}", r.cautions);
     assert!(below.contains(&"ph"), "{:?}", r.cautions);
 }
+
+/// The pair the two-target solve is offered for at point `point` of the demo site with `edit`
+/// applied to its JSON: the site's product ids in the order solved, or `None`.
+fn pair_check(edit: impl Fn(&mut Value), point: &str, expected: Option<[&str; 2]>) {
+    let products = Products::builtin().unwrap();
+    let mut json: Value =
+        serde_json::from_str(&SiteProfile::demo(&products).unwrap().to_json().unwrap()).unwrap();
+    edit(&mut json);
+    let site = SiteProfile::from_json(&json.to_string(), &products).unwrap();
+    let i = site.path.iter().position(|p| p.id == point).unwrap();
+    let got = path::two_target_pair(&site, &products, i);
+    let ids = got
+        .as_ref()
+        .map(|p| [p.products[0].as_str(), p.products[1].as_str()]);
+    assert_eq!(ids, expected, "{point}: {got:?}");
+}
+
+#[test]
+fn two_targets_are_offered_where_a_point_lists_a_pair() {
+    // The demo lists caustic and soda ash at post-treatment (soda ash with no dose today).
+    pair_check(
+        |_| {},
+        "post-treatment",
+        Some(["caustic-bulk", "soda-ash-bags"]),
+    );
+    // One chemical, or none, is not a pair.
+    pair_check(|_| {}, "flash-mixer", None);
+    pair_check(|_| {}, "intake", None);
+    // Listed the other way round, caustic still comes first: only (caustic, soda ash) is a pair.
+    pair_check(
+        |j| {
+            j["path"][4]["feeds"] =
+                serde_json::json!([{"product": "soda-ash-bags"}, {"product": "caustic-bulk"}])
+        },
+        "post-treatment",
+        Some(["caustic-bulk", "soda-ash-bags"]),
+    );
+    // Lime with caustic is not a pair the solve is offered for.
+    pair_check(
+        |j| {
+            j["path"][4]["feeds"] =
+                serde_json::json!([{"product": "lime-silo"}, {"product": "caustic-bulk"}])
+        },
+        "post-treatment",
+        None,
+    );
+    // Lime and carbon dioxide are a pair in both orders: the point's own order decides.
+    let with_co2 = |first: &'static str, second: &'static str| {
+        move |j: &mut Value| {
+            j["products"]
+                .as_array_mut()
+                .unwrap()
+                .push(serde_json::json!({
+                "id": "co2-tank", "product": "carbon-dioxide", "strength": 100,
+                "strength_basis": "purity", "sg": null, "certificate": "invented",
+                "max_use_level_mg_l": null}));
+            j["path"][4]["feeds"] = serde_json::json!([{"product": first}, {"product": second}]);
+        }
+    };
+    pair_check(
+        with_co2("lime-silo", "co2-tank"),
+        "post-treatment",
+        Some(["lime-silo", "co2-tank"]),
+    );
+    pair_check(
+        with_co2("co2-tank", "lime-silo"),
+        "post-treatment",
+        Some(["co2-tank", "lime-silo"]),
+    );
+}

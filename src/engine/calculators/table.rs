@@ -930,7 +930,10 @@ pub static TABLE: [Calculator; 22] = [
         curve: None,
     },
     // Two chemicals at one point for two targets at once (pH and a corrosion-control or
-    // remineralisation target); a scripting tool until the app's plant path offers it.
+    // remineralisation target). Not on the app's calculator screens: its `chemicals` list
+    // needs a chooser those generated screens do not have. The app offers it on the Plant
+    // path, at a point that lists a pair (`path::two_target_pair`), with that pair and the
+    // water arriving there (`app::path_screen`).
     Calculator {
         id: "two-targets",
         group: "two-targets",
