@@ -1459,7 +1459,8 @@ fn chip_rows_on_a_phone_show_that_they_scroll_only_when_they_overflow() {
 
 /// On a phone the chosen calculator and product are in view whole, whichever is chosen (from
 /// Start or a follow-up, where no finger scrolled the row to them); a chip wider than the row
-/// ("✔ Permanganate (iron and manganese)", 388 px of 376) shows from its start.
+/// would show from its start (the longest calculator name, 388 px of 376 before it became
+/// "Permanganate (Fe, Mn)", did).
 #[test]
 fn the_chosen_chips_are_in_view_on_a_phone() {
     let (app, _handle) = start_at(connected_engine(), 400.0, 860.0);

@@ -218,7 +218,7 @@ unit-mmol-per-l = mmol/L
 ## The plant's other feeds (part A): fluoride, phosphate, permanganate, chlorine dioxide
 calc-fluoridation = Fluoridation
 calc-corrosion-inhibitor = Corrosion inhibitor
-calc-permanganate = Permanganate (iron and manganese)
+calc-permanganate = Permanganate (Fe, Mn)
 calc-chlorine-dioxide = Chlorine dioxide
 mode-residual-as-po4 = Residuals as PO₄
 mode-residual-as-p = Residuals as P

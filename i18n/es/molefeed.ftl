@@ -218,7 +218,7 @@ unit-mmol-per-l = mmol/L
 ## Otras dosificaciones de la planta (parte A): flúor, fosfato, permanganato, dióxido de cloro
 calc-fluoridation = Fluoración
 calc-corrosion-inhibitor = Inhibidor de corrosión
-calc-permanganate = Permanganato (hierro y manganeso)
+calc-permanganate = Permanganato (Fe, Mn)
 calc-chlorine-dioxide = Dióxido de cloro
 mode-residual-as-po4 = Residuales como PO₄
 mode-residual-as-p = Residuales como P
