@@ -13,11 +13,12 @@ engine's tests were tuned on. Each water gets one dose of one chemical that does
 precipitate (lime, caustic, soda ash, sodium bicarbonate, sulfuric and hydrochloric acid,
 carbon dioxide, hypochlorite), no precipitation, in both programs.
 
-Both sides are timed in the same run on the same requests:
+Both sides are timed in the same run on the same requests, taking turns a chunk of requests at a
+time (--chunk, default 1000) so that a change in the load of a shared machine falls on both:
   - PHREEQC: one input text per water (SOLUTION + REACTION + SELECTED_OUTPUT), through
     IPhreeqc's run_string, the selected output read back: the time includes parsing its text.
-  - molefeed: the whole batch through one `molefeed batch` process, one JSON request per line,
-    wall time of the process divided by the lines: the time includes starting the process,
+  - molefeed: each chunk through one `molefeed batch` process, one JSON request per line, wall
+    time of the processes divided by the lines: the time includes starting a process per chunk,
     JSON parsing, the water built from the readings, the chemistry and the JSON answer.
 The script prints µs per request for both, their ratio, and the worst |ΔpH| between the two
 (a speed that gave other answers would not count).
@@ -98,6 +99,8 @@ def main():
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--n", type=int, default=5000, help="waters (the issue's figure used 50000)")
     p.add_argument("--seed", type=int, default=15)
+    p.add_argument("--chunk", type=int, default=1000,
+                   help="requests per turn (one `molefeed batch` process each)")
     p.add_argument("--binary", default=os.path.join(
         os.environ.get("CARGO_TARGET_DIR", os.path.join(ROOT, "target")), "release", "molefeed"))
     a = p.parse_args()
@@ -108,20 +111,25 @@ def main():
     pp = phreeqpython.PhreeqPython(database="phreeqc.dat")
     ip = pp.ip
     texts = [phreeqc_text(w, c, d) for w, c, d in cases]
-    t0 = time.perf_counter()
-    reference = []
-    for text in texts:
-        ip.run_string(ADDITIONS + text)
-        rows = ip.get_selected_output_array()
-        reference.append(rows[-1][0])
-    phreeqc = (time.perf_counter() - t0) / len(cases)
-
-    payload = ("\n".join(json.dumps(request(w, c, d)) for w, c, d in cases) + "\n").encode()
-    t0 = time.perf_counter()
-    out = subprocess.run([a.binary, "batch"], input=payload, capture_output=True, check=False)
-    ours = (time.perf_counter() - t0) / len(cases)
-    answers = [json.loads(line) for line in out.stdout.decode().splitlines()]
-    errors = sum(1 for r in answers if "error" in r)
+    lines = [json.dumps(request(w, c, d)) for w, c, d in cases]
+    # The two programs take turns, a chunk of requests each, so a change in the load of a
+    # shared machine falls on both rather than on whichever ran second.
+    phreeqc_seconds = ours_seconds = 0.0
+    reference, answers = [], []
+    for start in range(0, len(cases), a.chunk):
+        t0 = time.perf_counter()
+        for text in texts[start:start + a.chunk]:
+            ip.run_string(ADDITIONS + text)
+            reference.append(ip.get_selected_output_array()[-1][0])
+        phreeqc_seconds += time.perf_counter() - t0
+        payload = ("\n".join(lines[start:start + a.chunk]) + "\n").encode()
+        t0 = time.perf_counter()
+        out = subprocess.run([a.binary, "batch"], input=payload, capture_output=True, check=False)
+        ours_seconds += time.perf_counter() - t0
+        answers += [json.loads(line) for line in out.stdout.decode().splitlines()]
+    phreeqc = phreeqc_seconds / len(cases)
+    ours = ours_seconds / len(cases)
+    errors = sum(1 for r in answers if "error" in r) + len(cases) - len(answers)
     worst = max((abs(r["ph"] - ref) for r, ref in zip(answers, reference) if "ph" in r), default=0)
 
     load = os.getloadavg()[0]

@@ -127,6 +127,23 @@ fn active_mask(p: &Problem) -> u16 {
     m
 }
 
+/// Concentration of a species with masters `idx` (counts `n`, `len` of them) and
+/// K·{H+}^h/γ = `kg`, from the masters' activities.
+#[inline]
+fn conc_from(idx: &[u8; 3], n: &[u8; 3], len: u8, kg: f64, act: &[f64; NC]) -> f64 {
+    let mut v = kg;
+    for k in 0..len as usize {
+        let a = act[idx[k] as usize];
+        v *= match n[k] {
+            1 => a,
+            2 => a * a,
+            3 => a * a * a,
+            e => a.powi(e as i32),
+        };
+    }
+    v
+}
+
 /// Solves the augmented system `a` (first n rows; column M − 1 is the right-hand side) in
 /// place by Gaussian elimination with partial pivoting; `None` if singular or not finite.
 fn gauss<const R: usize, const M: usize>(a: &mut [[f64; M]; R], n: usize) -> Option<[f64; R]> {
@@ -307,18 +324,13 @@ impl Solver {
 
     #[inline]
     fn conc_of(&self, s: usize, kg: f64, act: &[f64; NC]) -> f64 {
-        let mut v = kg;
-        let (idx, n) = (&self.comp_idx[s], &self.comp_n[s]);
-        for k in 0..self.comp_len[s] as usize {
-            let a = act[idx[k] as usize];
-            v *= match n[k] {
-                1 => a,
-                2 => a * a,
-                3 => a * a * a,
-                e => a.powi(e as i32),
-            };
-        }
-        v
+        conc_from(
+            &self.comp_idx[s],
+            &self.comp_n[s],
+            self.comp_len[s],
+            kg,
+            act,
+        )
     }
 
     /// Concentrations of all species at a given log{H+}, solving the mass balances.
@@ -552,6 +564,11 @@ impl Solver {
             self.distribute(x, &q, &gamma, &mut free, &mut conc, 1e-6);
         }
         let mut jac = [[0.0f64; N + 1]; N];
+        // The per-species tables as local slices: the species loop below then keeps their
+        // addresses in registers instead of reading them through the shared layout each time.
+        let (mask, k_of): (&[u16], &[f64]) = (&self.mask, &self.th.k);
+        let (comp_len, comp_idx, comp_n): (&[u8], &[[u8; 3]], &[[u8; 3]]) =
+            (&self.comp_len, &self.comp_idx, &self.comp_n);
         for _ in 0..40 {
             let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg, p);
             let a_h = pow10(x);
@@ -612,18 +629,19 @@ impl Solver {
                 scale[r] = p.totals[unk[r]];
             }
             for s in 0..ns {
-                if self.mask[s] & !active != 0 {
+                if mask[s] & !active != 0 {
                     conc[s] = 0.0;
                     continue;
                 }
                 let def = &species[s];
-                let cs = self.conc_of(s, self.th.k[s] * a_h.powi(def.h) / gamma[s], &act);
+                let (idx, nu) = (&comp_idx[s], &comp_n[s]);
+                let kg = k_of[s] * a_h.powi(def.h) / gamma[s];
+                let cs = conc_from(idx, nu, comp_len[s], kg, &act);
                 conc[s] = cs;
                 if cs == 0.0 {
                     continue;
                 }
-                let len = self.comp_len[s] as usize;
-                let (idx, nu) = (&self.comp_idx[s], &self.comp_n[s]);
+                let len = comp_len[s] as usize;
                 let mut eh = def.h as f64;
                 let mut dl = -dlg[s];
                 for k in 0..len {
