@@ -45,8 +45,8 @@ def water_tuple(w):
 
 def water_args(w):
     return {"ph": w["ph"], "temperature": w["temperature_c"],
-            "alkalinity": w["alkalinity_mg_l_as_caco3"], "calcium": w["calcium_mg_l_as_caco3"],
-            "magnesium": w["magnesium_mg_l_as_caco3"], "sodium": w["sodium_mg_l"],
+            "alkalinity": w["alkalinity_mg_l_as_caco3"], "calcium_as_caco3": w["calcium_mg_l_as_caco3"],
+            "magnesium_as_caco3": w["magnesium_mg_l_as_caco3"], "sodium": w["sodium_mg_l"],
             "potassium": w["potassium_mg_l"], "chloride": w["chloride_mg_l"],
             "sulfate": w["sulfate_mg_l"]}
 

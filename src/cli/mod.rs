@@ -156,20 +156,26 @@ fn command_help(command: &str) -> CliResult {
 
 /// Water-chemistry results carry the same advisory caution as every dosing result: the
 /// numbers inform; a licensed operator decides under the permit and local codes.
+/// Its line and its JSON are the same every time, so they are rendered once (a batch of
+/// `ph-after` lines would otherwise render the sentence for every line).
 fn advisory(mut report: Report) -> Report {
-    let caution = crate::engine::dosing::Caution::advisory();
+    static RENDERED: std::sync::OnceLock<(String, Value)> = std::sync::OnceLock::new();
+    let (line, json) = RENDERED.get_or_init(|| {
+        let caution = crate::engine::dosing::Caution::advisory();
+        (
+            words::caution_line(&caution),
+            calc::cautions_json(std::slice::from_ref(&caution)),
+        )
+    });
     report.human.push('\n');
-    report.human.push_str(&words::caution_line(&caution));
+    report.human.push_str(line);
     report.human.push('\n');
     if let Some(object) = report.json.as_object_mut() {
         let cautions = object
             .entry("cautions")
             .or_insert_with(|| Value::Array(Vec::new()));
-        if let (Some(list), Value::Array(advisory)) = (
-            cautions.as_array_mut(),
-            calc::cautions_json(std::slice::from_ref(&caution)),
-        ) {
-            list.extend(advisory);
+        if let (Some(list), Value::Array(advisory)) = (cautions.as_array_mut(), json) {
+            list.extend(advisory.iter().cloned());
         }
     }
     report

@@ -87,13 +87,42 @@ fn mode_name(p: Precipitation) -> &'static str {
     }
 }
 
-fn water_json(w: &WaterResult) -> Value {
+/// The water's numbers as JSON. Each is checked first: `json!` writes a number that is not
+/// one as `null`, which a script cannot tell from "not computed", and with `--json` (every
+/// batch line) no human text is made for [`super::check_text`] to catch it in.
+fn water_json(w: &WaterResult) -> Result<Value, CliError> {
+    let numbers = [
+        w.ph,
+        w.temperature_c,
+        w.alkalinity_mg_l_as_caco3,
+        w.dic_mmol_l,
+        w.co2_mg_l,
+        w.ionic_strength,
+        w.si_calcite.unwrap_or(0.0),
+        w.charge_imbalance_meq_l,
+        w.charge_imbalance_percent,
+        w.hocl_fraction.unwrap_or(0.0),
+        w.precipitated_metal_mmol_l,
+    ];
+    if let Some(bad) = numbers
+        .into_iter()
+        .chain(w.species.iter().map(|(_, mmol)| *mmol))
+        .find(|v| !v.is_finite())
+    {
+        return Err(CliError {
+            kind: "result-not-a-number".into(),
+            message: format!(
+                "a result came out as '{bad}', which no measurement can produce; check the inputs"
+            ),
+            reason: None,
+        });
+    }
     let species: serde_json::Map<String, Value> = w
         .species
         .iter()
         .map(|(name, mmol)| (name.to_string(), json!(mmol)))
         .collect();
-    json!({
+    Ok(json!({
         "ph": w.ph,
         "temperature_c": w.temperature_c,
         "alkalinity_mg_l_as_caco3": w.alkalinity_mg_l_as_caco3,
@@ -106,7 +135,17 @@ fn water_json(w: &WaterResult) -> Value {
         "hocl_fraction": w.hocl_fraction,
         "precipitated_metal_mmol_l": w.precipitated_metal_mmol_l,
         "species_mmol_l": species,
-    })
+    }))
+}
+
+/// The human text, made only when it is printed: with `--json` (and on every `batch` line)
+/// only the JSON is, and the text would be built for nothing.
+fn human_text(args: &Args, text: impl FnOnce() -> String) -> String {
+    if args.switch("json") {
+        String::new()
+    } else {
+        text()
+    }
 }
 
 fn water_human(w: &WaterResult) -> String {
@@ -133,17 +172,19 @@ pub fn ph_after(args: &Args) -> CliResult {
     let mode = precipitation(args, Precipitation::None)?;
     let state = water_state(args)?;
     let w = water::ph_after(&state, chem, dose, mode)?;
-    let mut j = water_json(&w);
+    let mut j = water_json(&w)?;
     j["chemical"] = json!(chem.id);
     j["dose_mg_l"] = json!(dose);
     j["precipitate"] = json!(mode_name(mode));
     Ok(Report {
-        human: format!(
-            "after {dose} mg/L {} ({}):\n{}",
-            chem.id,
-            chem.formula,
-            water_human(&w)
-        ),
+        human: human_text(args, || {
+            format!(
+                "after {dose} mg/L {} ({}):\n{}",
+                chem.id,
+                chem.formula,
+                water_human(&w)
+            )
+        }),
         json: j,
     })
 }
@@ -155,20 +196,29 @@ pub fn dose_for_ph(args: &Args) -> CliResult {
     let mode = precipitation(args, Precipitation::None)?;
     let state = water_state(args)?;
     let r = water::dose_for_ph(&state, chem, target, mode)?;
-    let mut j = water_json(&r.water);
+    if !r.dose_mg_l.is_finite() {
+        return Err(CliError {
+            kind: "result-not-a-number".into(),
+            message: "the dose came out as a number that is not one; check the inputs".into(),
+            reason: None,
+        });
+    }
+    let mut j = water_json(&r.water)?;
     j["dose_mg_l"] = json!(r.dose_mg_l);
     j["chemical"] = json!(chem.id);
     j["target_ph"] = json!(target);
     Ok(Report {
-        human: format!(
-            "{:.2} mg/L of {} ({}) brings pH {:.2} to {:.2}\n{}",
-            r.dose_mg_l,
-            chem.id,
-            chem.formula,
-            state.ph(),
-            r.water.ph,
-            water_human(&r.water)
-        ),
+        human: human_text(args, || {
+            format!(
+                "{:.2} mg/L of {} ({}) brings pH {:.2} to {:.2}\n{}",
+                r.dose_mg_l,
+                chem.id,
+                chem.formula,
+                state.ph(),
+                r.water.ph,
+                water_human(&r.water)
+            )
+        }),
         json: j,
     })
 }

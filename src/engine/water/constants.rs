@@ -175,6 +175,8 @@ pub struct Table {
     /// Species past this index all contain an extended component ([`Component::EXTENDED`]):
     /// the solver stops its species loops here while those totals are zero.
     pub n_core: usize,
+    /// The solver's per-species helpers, built on first use.
+    layout: OnceLock<super::speciation::Layout>,
 }
 
 /// The table evaluated at one temperature.
@@ -361,6 +363,7 @@ impl Table {
             neutral_b: raw.activity.neutral_b,
             phases,
             n_core: 0,
+            layout: OnceLock::new(),
         };
         let mut table = table;
         // Store the composite log K functions: own, plus the named species' function.
@@ -401,6 +404,13 @@ impl Table {
             Table::parse(include_str!("../../../data/water-constants.json"))
                 .expect("embedded data/water-constants.json is valid (checked by unit tests)")
         })
+    }
+
+    /// The solver's per-species helpers for this table, built once: they do not depend on the
+    /// temperature, and every water would otherwise rebuild them.
+    pub fn layout(&self) -> &super::speciation::Layout {
+        self.layout
+            .get_or_init(|| super::speciation::Layout::of(self))
     }
 
     pub fn species_index(&self, name: &str) -> Option<usize> {

@@ -18,6 +18,7 @@ use super::activity;
 use super::constants::{Component, GammaModel, NC, Table, Thermo};
 use super::solve::brent;
 use crate::engine::{Error, ErrorKind, Result};
+use std::sync::Arc;
 
 /// What the solver conserves.
 #[derive(Clone, Debug, PartialEq)]
@@ -58,10 +59,19 @@ pub struct Speciation {
 }
 
 /// Scratch data for one temperature: the table, its constants and per-species helpers.
+/// Cloning one is cheap (a water's every dosed state carries its own): the constants are
+/// shared and the per-species helpers belong to the table.
 #[derive(Clone, Debug)]
 pub struct Solver {
     pub table: &'static Table,
-    pub th: Thermo,
+    pub th: Arc<Thermo>,
+    layout: &'static Layout,
+}
+
+/// The table's species as the solver's inner loops read them. It does not depend on the
+/// temperature, so it is built once per table ([`Table::layout`]), not for every water.
+#[derive(Clone, Debug)]
+pub struct Layout {
     /// For each component, the species containing it with their counts.
     by_comp: Vec<Vec<(usize, i32)>>,
     /// Per species: up to three (component, count) pairs, flattened for the inner loops.
@@ -77,6 +87,13 @@ pub struct Solver {
     /// Activity classes of the species before `table.n_core` (and H+) come first: while no
     /// phosphate, fluoride or silica is present only these are evaluated.
     n_core_classes: usize,
+}
+
+impl std::ops::Deref for Solver {
+    type Target = Layout;
+    fn deref(&self) -> &Layout {
+        self.layout
+    }
 }
 
 /// How far the species loops run for one problem: the whole table, or only its core (no
@@ -108,6 +125,23 @@ fn active_mask(p: &Problem) -> u16 {
         }
     }
     m
+}
+
+/// Concentration of a species with masters `idx` (counts `n`, `len` of them) and
+/// K·{H+}^h/γ = `kg`, from the masters' activities.
+#[inline]
+fn conc_from(idx: &[u8; 3], n: &[u8; 3], len: u8, kg: f64, act: &[f64; NC]) -> f64 {
+    let mut v = kg;
+    for k in 0..len as usize {
+        let a = act[idx[k] as usize];
+        v *= match n[k] {
+            1 => a,
+            2 => a * a,
+            3 => a * a * a,
+            e => a.powi(e as i32),
+        };
+    }
+    v
 }
 
 /// Solves the augmented system `a` (first n rows; column M − 1 is the right-hand side) in
@@ -155,13 +189,9 @@ fn gauss<const R: usize, const M: usize>(a: &mut [[f64; M]; R], n: usize) -> Opt
     Some(x)
 }
 
-impl Solver {
-    pub fn new(t_celsius: f64) -> Solver {
-        Solver::with_table(Table::embedded(), t_celsius)
-    }
-
-    /// A solver over another constants table (tests compare model variants with it).
-    pub fn with_table(table: &'static Table, t_celsius: f64) -> Solver {
+impl Layout {
+    /// The helpers of `table` (see [`Table::layout`], which keeps them).
+    pub fn of(table: &Table) -> Layout {
         let mut by_comp = vec![Vec::new(); NC];
         let (mut comp_idx, mut comp_n, mut comp_len, mut mask) = (vec![], vec![], vec![], vec![]);
         let mut classes: Vec<(GammaModel, i32)> = Vec::new();
@@ -202,9 +232,7 @@ impl Solver {
                 class[s] = class_of(&mut classes, def.gamma, def.z);
             }
         }
-        Solver {
-            table,
-            th: table.at(t_celsius),
+        Layout {
             by_comp,
             comp_idx,
             comp_n,
@@ -214,6 +242,21 @@ impl Solver {
             classes,
             h_class,
             n_core_classes,
+        }
+    }
+}
+
+impl Solver {
+    pub fn new(t_celsius: f64) -> Solver {
+        Solver::with_table(Table::embedded(), t_celsius)
+    }
+
+    /// A solver over another constants table (tests compare model variants with it).
+    pub fn with_table(table: &'static Table, t_celsius: f64) -> Solver {
+        Solver {
+            table,
+            th: Arc::new(table.at(t_celsius)),
+            layout: table.layout(),
         }
     }
 
@@ -281,18 +324,13 @@ impl Solver {
 
     #[inline]
     fn conc_of(&self, s: usize, kg: f64, act: &[f64; NC]) -> f64 {
-        let mut v = kg;
-        let (idx, n) = (&self.comp_idx[s], &self.comp_n[s]);
-        for k in 0..self.comp_len[s] as usize {
-            let a = act[idx[k] as usize];
-            v *= match n[k] {
-                1 => a,
-                2 => a * a,
-                3 => a * a * a,
-                e => a.powi(e as i32),
-            };
-        }
-        v
+        conc_from(
+            &self.comp_idx[s],
+            &self.comp_n[s],
+            self.comp_len[s],
+            kg,
+            act,
+        )
     }
 
     /// Concentrations of all species at a given log{H+}, solving the mass balances.
@@ -526,6 +564,11 @@ impl Solver {
             self.distribute(x, &q, &gamma, &mut free, &mut conc, 1e-6);
         }
         let mut jac = [[0.0f64; N + 1]; N];
+        // The per-species tables as local slices: the species loop below then keeps their
+        // addresses in registers instead of reading them through the shared layout each time.
+        let (mask, k_of): (&[u16], &[f64]) = (&self.mask, &self.th.k);
+        let (comp_len, comp_idx, comp_n): (&[u8], &[[u8; 3]], &[[u8; 3]]) =
+            (&self.comp_len, &self.comp_idx, &self.comp_n);
         for _ in 0..40 {
             let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg, p);
             let a_h = pow10(x);
@@ -586,18 +629,19 @@ impl Solver {
                 scale[r] = p.totals[unk[r]];
             }
             for s in 0..ns {
-                if self.mask[s] & !active != 0 {
+                if mask[s] & !active != 0 {
                     conc[s] = 0.0;
                     continue;
                 }
                 let def = &species[s];
-                let cs = self.conc_of(s, self.th.k[s] * a_h.powi(def.h) / gamma[s], &act);
+                let (idx, nu) = (&comp_idx[s], &comp_n[s]);
+                let kg = k_of[s] * a_h.powi(def.h) / gamma[s];
+                let cs = conc_from(idx, nu, comp_len[s], kg, &act);
                 conc[s] = cs;
                 if cs == 0.0 {
                     continue;
                 }
-                let len = self.comp_len[s] as usize;
-                let (idx, nu) = (&self.comp_idx[s], &self.comp_n[s]);
+                let len = comp_len[s] as usize;
                 let mut eh = def.h as f64;
                 let mut dl = -dlg[s];
                 for k in 0..len {
@@ -992,6 +1036,20 @@ impl Solver {
         alkalinity: f64,
         p: &Problem,
     ) -> Result<Speciation> {
+        self.at_ph_and_alkalinity_near(ph, alkalinity, p, None)
+    }
+
+    /// [`Solver::at_ph_and_alkalinity`] started from `near`, the speciation of the same
+    /// water at a nearby pH (a pHs search evaluates one pH after another): its free masters
+    /// other than carbonate and its ionic strength are a start Newton needs fewer steps from
+    /// than the totals. The answer is the same; only the number of steps changes.
+    pub fn at_ph_and_alkalinity_near(
+        &self,
+        ph: f64,
+        alkalinity: f64,
+        p: &Problem,
+        near: Option<&Speciation>,
+    ) -> Result<Speciation> {
         // Fast path. Alkalinity is a proton balance: for every species alk_s + z_s equals
         // Σ ν (w_c + z_c) over its masters, so Σ z·c + [H+] = Σ_c (w_c + z_c)·T_c − Alk, a
         // known charge excess; at fixed pH the charge balance then fixes the carbonate total.
@@ -1007,31 +1065,54 @@ impl Solver {
             }
             q.z_excess = z;
             // Start from the carbonate system alone (no pairs, no activities).
-            let a = pow10(-ph);
-            let (ka, kb) = match (
+            let (k1, k2) = match (
                 self.table.species_index("HCO3-"),
                 self.table.species_index("CO2"),
             ) {
-                (Some(i1), Some(i2)) => (self.th.k[i1] * a, self.th.k[i2] * a * a),
+                (Some(i1), Some(i2)) => (self.th.k[i1], self.th.k[i2]),
                 _ => (0.0, 0.0),
             };
+            // HCO3- and CO2 per CO3-2 at H+ activity a, without pairs or activities.
+            let carbonate_ratios = |a: f64| (k1 * a, k2 * a * a);
+            let (ka, kb) = carbonate_ratios(pow10(-ph));
             let free_co3 = alkalinity / (2.0 + ka);
             q.totals[co3] = free_co3 * (1.0 + ka + kb);
             let mut free = p.totals;
-            free[co3] = free_co3;
-            // Dissolved Al and Fe are almost all hydrolysed at any pH a water is read at: a
-            // start of free = total sends Newton the long way (or to the bracketed solve), which
-            // made pHs and CCPP of a coagulated water 3–4 times slower than of the raw water.
-            for m in [Component::Al.index(), Component::Fe.index()] {
-                free[m] *= 1e-6;
+            let mut ionic_strength = self.estimate_i(&q) + 0.5 * alkalinity;
+            // A nearby speciation of the same water (the same masters present) is the better
+            // start; else the totals.
+            let same_masters = |w: &Speciation| {
+                (0..NC).all(|c| c == co3 || (w.free[c] > 0.0) == (p.totals[c] > 0.0))
+            };
+            let mut start_co3 = free_co3;
+            match near {
+                Some(w) if same_masters(w) && w.ionic_strength > 0.0 && w.free[co3] > 0.0 => {
+                    free = w.free;
+                    ionic_strength = w.ionic_strength;
+                    // Its free carbonate, moved by what the carbonate system alone says the
+                    // change of pH does to it: the pairs and activities it carries stay.
+                    let aw = pow10(w.log_h);
+                    let (kaw, _) = carbonate_ratios(aw);
+                    start_co3 = w.free[co3] * free_co3 / (alkalinity / (2.0 + kaw));
+                }
+                _ => {
+                    // Dissolved Al and Fe are almost all hydrolysed at any pH a water is read
+                    // at: a start of free = total sends Newton the long way (or to the
+                    // bracketed solve), which made pHs and CCPP of a coagulated water 3–4
+                    // times slower than of the raw water.
+                    for m in [Component::Al.index(), Component::Fe.index()] {
+                        free[m] *= 1e-6;
+                    }
+                }
             }
+            free[co3] = start_co3;
             let start = Speciation {
                 log_h: -ph,
                 conc: Vec::new(),
                 gamma: Vec::new(),
                 gamma_h: 1.0,
                 free,
-                ionic_strength: self.estimate_i(&q) + 0.5 * alkalinity,
+                ionic_strength,
                 totals: q.totals,
             };
             if let Some(sp) = self.newton_full(&q, Some(&start), Some(ph)) {

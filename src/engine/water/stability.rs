@@ -47,9 +47,9 @@ fn needs(what: &str) -> Error {
     .with("quantity", what)
 }
 
-/// Langelier, Ryznar, CCPP and the calcite saturation index of `state`.
-pub fn stability(state: &WaterState) -> Result<Stability> {
-    let s = &state.solver;
+/// What every index needs: calcium, carbonate and alkalinity above zero. Returns the
+/// calcite phase, the alkalinity (eq/L) and the calcite saturation index.
+fn indices_inputs(state: &WaterState) -> Result<(usize, f64, f64)> {
     let ca = state.problem.totals[Component::Ca.index()];
     let dic = state.problem.totals[Component::CO3.index()];
     if ca <= 0.0 {
@@ -60,9 +60,26 @@ pub fn stability(state: &WaterState) -> Result<Stability> {
         return Err(needs("alkalinity"));
     }
     let calcite = phase(state, "Calcite")?;
-    let ph = state.ph();
-    let si = s.saturation_index(&state.sp, calcite);
+    Ok((
+        calcite,
+        alk,
+        state.solver.saturation_index(&state.sp, calcite),
+    ))
+}
 
+/// The Langelier index alone, the same number [`stability`] gives (`None` when no pH up to 14
+/// saturates the water): without CCPP, which costs as much again and which a target on the
+/// index does not need.
+pub fn langelier_index(state: &WaterState) -> Result<Option<f64>> {
+    let (calcite, alk, si) = indices_inputs(state)?;
+    let ph = state.ph();
+    Ok(phs(state, calcite, alk, ph - si).map(|p| ph - p))
+}
+
+/// Langelier, Ryznar, CCPP and the calcite saturation index of `state`.
+pub fn stability(state: &WaterState) -> Result<Stability> {
+    let (calcite, alk, si) = indices_inputs(state)?;
+    let ph = state.ph();
     let phs = phs(state, calcite, alk, ph - si);
     let ccpp = ccpp(state, calcite)?;
     Ok(Stability {
@@ -82,9 +99,14 @@ fn phs(state: &WaterState, calcite: usize, alk: f64, guess: f64) -> Option<f64> 
     let s = &state.solver;
     let mut p = state.problem.clone();
     p.totals[Component::CO3.index()] = 0.0;
-    let si_at = |ph: f64| -> Option<f64> {
-        let sp = s.at_ph_and_alkalinity(ph, alk, &p).ok()?;
-        Some(s.saturation_index(&sp, calcite))
+    // Each pH is solved from the last one's speciation (the water's own to begin with):
+    // the search moves by small steps, and a near start saves Newton most of its steps.
+    let mut near = state.sp.clone();
+    let mut si_at = |ph: f64| -> Option<f64> {
+        let sp = s.at_ph_and_alkalinity_near(ph, alk, &p, Some(&near)).ok()?;
+        let si = s.saturation_index(&sp, calcite);
+        near = sp;
+        Some(si)
     };
     // Start from pH − SI (exact when the carbonate is all HCO3-).
     let guess = guess.clamp(2.0, 13.9);

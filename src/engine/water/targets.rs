@@ -3,8 +3,10 @@
 //! CCPP) together.
 //!
 //! Design: a damped Newton iteration on the two doses (finite-difference Jacobian from the
-//! equilibrium model, each step halved until the scaled residual falls, doses kept ≥ 0),
-//! which settles in a handful of solves when the pair can reach the targets. Behind it, a
+//! equilibrium model at the start, then Broyden updates from the steps taken, each step halved
+//! until the scaled residual falls, doses kept ≥ 0), which settles in a handful of solves when
+//! the pair can reach the targets. A Langelier index target costs a pHs search per solve, not
+//! a full `stability` (no CCPP). Behind it, a
 //! bracketed search that cannot fail to converge: along the doses that give the target pH
 //! (the first chemical's dose found by the engine's bracketed [`dose_for_ph`] for each dose of
 //! the second), the second target is bracketed and found by Brent's method. When no bracket
@@ -12,6 +14,7 @@
 //! range the pair gives (`low`, `high`), or, for the pH, the chemical that would reach it.
 
 use super::solve::brent;
+use super::stability::langelier_index;
 use super::{Chemical, Component, Precipitation, WaterState, dose_for_ph, masses, stability};
 use crate::engine::{Error, ErrorKind, Result, check_range};
 
@@ -70,7 +73,7 @@ impl SecondTarget {
             SecondTarget::Alkalinity(_) => state.alkalinity_mg_l_as_caco3(),
             SecondTarget::Dic(_) => state.total_mmol_l(Component::CO3),
             SecondTarget::Calcium(_) => state.total_mmol_l(Component::Ca) * caco3,
-            SecondTarget::Lsi(_) => stability(state)?.langelier_index.ok_or_else(|| {
+            SecondTarget::Lsi(_) => langelier_index(state)?.ok_or_else(|| {
                 Error::new(
                     ErrorKind::Unreachable,
                     "no pH saturates this water with calcium carbonate: it has no Langelier index",
@@ -158,59 +161,83 @@ pub fn two_targets(
                 ph: after.ph(),
                 alkalinity_mg_l_as_caco3: after.alkalinity_mg_l_as_caco3(),
                 second_value: g,
-                langelier_index: stability(after).ok().and_then(|s| s.langelier_index),
+                langelier_index: langelier_index(after).ok().flatten(),
                 evaluations,
             })
         };
     let done = |ph: f64, g: f64| (ph - x).abs() < 2e-4 && (g - y).abs() < 1e-4 * scale;
 
-    // Damped Newton on the two doses.
+    // Damped Newton on the two doses. The Jacobian is taken by finite differences (two more
+    // solves) at the start and whenever a step along the current one fails; between, each
+    // accepted step updates it by Broyden's rank-one secant formula, so a step costs one
+    // solve instead of three (with an index as the second target a solve is a pHs search).
     let mut d = [0.0, 0.0];
     let (mut at, mut g) = eval(d)?;
     let merit = |ph: f64, g: f64| (ph - x).powi(2) + ((g - y) / scale).powi(2);
-    for _ in 0..40 {
-        if done(at.ph(), g) {
-            return answer(&at, d, g, count.get());
-        }
-        let r = [at.ph() - x, (g - y) / scale];
+    let jacobian = |d: [f64; 2], ph: f64, g: f64| -> Result<[[f64; 2]; 2]> {
         let mut jac = [[0.0; 2]; 2];
         for k in 0..2 {
             let h = (1e-3 * d[k]).max(1e-2);
             let mut dk = d;
             dk[k] += h;
             let (s, gk) = eval(dk)?;
-            jac[0][k] = (s.ph() - at.ph()) / h;
+            jac[0][k] = (s.ph() - ph) / h;
             jac[1][k] = ((gk - g) / scale) / h;
         }
+        Ok(jac)
+    };
+    let mut jac = jacobian(d, at.ph(), g)?;
+    let mut fresh = true;
+    for _ in 0..40 {
+        if done(at.ph(), g) {
+            return answer(&at, d, g, count.get());
+        }
+        let r = [at.ph() - x, (g - y) / scale];
         let det = jac[0][0] * jac[1][1] - jac[0][1] * jac[1][0];
-        if !det.is_finite() || det.abs() < 1e-14 {
-            break;
-        }
-        let step = [
-            -(jac[1][1] * r[0] - jac[0][1] * r[1]) / det,
-            -(-jac[1][0] * r[0] + jac[0][0] * r[1]) / det,
-        ];
-        let m0 = merit(at.ph(), g);
-        let mut lambda = 1.0;
         let mut moved = false;
-        for _ in 0..12 {
-            let trial = [
-                (d[0] + lambda * step[0]).clamp(0.0, MAX_DOSE),
-                (d[1] + lambda * step[1]).clamp(0.0, MAX_DOSE),
+        if det.is_finite() && det.abs() >= 1e-14 {
+            let step = [
+                -(jac[1][1] * r[0] - jac[0][1] * r[1]) / det,
+                -(-jac[1][0] * r[0] + jac[0][0] * r[1]) / det,
             ];
-            if let Ok((s, gt)) = eval(trial)
-                && merit(s.ph(), gt) < m0
-            {
-                d = trial;
-                at = s;
-                g = gt;
-                moved = true;
-                break;
+            let m0 = merit(at.ph(), g);
+            let mut lambda = 1.0;
+            for _ in 0..12 {
+                let trial = [
+                    (d[0] + lambda * step[0]).clamp(0.0, MAX_DOSE),
+                    (d[1] + lambda * step[1]).clamp(0.0, MAX_DOSE),
+                ];
+                if let Ok((s, gt)) = eval(trial)
+                    && merit(s.ph(), gt) < m0
+                {
+                    // Broyden: J += (Δf − J·Δd) Δdᵀ / |Δd|², with the step actually taken.
+                    let dd = [trial[0] - d[0], trial[1] - d[1]];
+                    let df = [s.ph() - at.ph(), (gt - g) / scale];
+                    let norm = dd[0] * dd[0] + dd[1] * dd[1];
+                    if norm > 0.0 {
+                        for row in 0..2 {
+                            let miss = df[row] - (jac[row][0] * dd[0] + jac[row][1] * dd[1]);
+                            jac[row][0] += miss * dd[0] / norm;
+                            jac[row][1] += miss * dd[1] / norm;
+                        }
+                    }
+                    d = trial;
+                    at = s;
+                    g = gt;
+                    moved = true;
+                    break;
+                }
+                lambda *= 0.5;
             }
-            lambda *= 0.5;
         }
-        if !moved {
+        if moved {
+            fresh = false;
+        } else if fresh {
             break;
+        } else {
+            // The updated Jacobian led nowhere: take it afresh where we are.
+            jac = jacobian(d, at.ph(), g)?;
+            fresh = true;
         }
     }
     if done(at.ph(), g) {
