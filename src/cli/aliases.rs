@@ -84,19 +84,7 @@ const MASS_UNITS: &[(&str, &str)] = &[
 ];
 const VOLUME_UNITS: &[(&str, &str)] = &[("gal", "gal"), ("l", "l")];
 
-/// The older coagulant names that are a product of the table.
-const COAGULANTS: &[(&str, &str)] = &[
-    ("alum", "alum-liquid"),
-    ("alum-14", "alum-liquid"),
-    ("alum14", "alum-liquid"),
-    ("ferric-chloride", "ferric-chloride"),
-    ("FeCl3", "ferric-chloride"),
-    ("ferric-sulfate", "ferric-sulfate"),
-    ("Fe2(SO4)3", "ferric-sulfate"),
-    ("pacl", "pacl"),
-];
-
-/// The older coagulation command's names: the metal salts and sodium aluminate, which the
+/// The older coagulation command's names: the metal salts, then sodium aluminate, which the
 /// coagulation calculator offers and the sludge estimate does not.
 const COAGULATION_NAMES: &[(&str, &str)] = &[
     ("alum", "alum-liquid"),
@@ -110,6 +98,10 @@ const COAGULATION_NAMES: &[(&str, &str)] = &[
     ("sodium-aluminate", "sodium-aluminate"),
     ("NaAlO2", "sodium-aluminate"),
 ];
+
+/// The older names of the metal salts alone (the sludge estimate's): the list above without
+/// its last two, the aluminate's.
+const COAGULANTS: &[(&str, &str)] = COAGULATION_NAMES.split_at(COAGULATION_NAMES.len() - 2).0;
 
 const NO_PERISTALTIC: &str = "give the pump's output at 100 % with --pump-capacity and --pump-unit (the table sets a metering pump by its capacity)";
 const NO_USABLE_RANGE: &str = "the table checks every setting against the engine's one usable range of a pump (common practice), not a range given per command";
