@@ -25,7 +25,7 @@ use crate::log::record::parameter_unit;
 use crate::log::{Reading, ReadingView, Status, View};
 use chrono::{DateTime, FixedOffset, NaiveDate};
 use serde::Serialize;
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 
 /// L in one US gallon (exact by definition: 231 in³).
 pub const L_PER_GAL: f64 = 3.785_411_784;
@@ -414,6 +414,8 @@ pub fn report(src: &Sources<'_>) -> Report {
 
     // Tap readings: statistics per tap and parameter, and each reading beyond a limit.
     let mut tap_values: BTreeMap<(NaiveDate, String, String), Vec<f64>> = BTreeMap::new();
+    // Each parameter and unit that could not be checked, said once.
+    let mut unchecked: BTreeSet<(String, String)> = BTreeSet::new();
     for r in live(src.readings) {
         let Reading::AtTap {
             tap,
@@ -443,20 +445,7 @@ pub fn report(src: &Sources<'_>) -> Report {
             .or_default()
             .push(*value);
         if !own_unit {
-            if !cautions.iter().any(|c: &Caution| {
-                c.key == "reading-unit-not-checked"
-                    && c.params
-                        .iter()
-                        .any(|(k, v)| k == "parameter" && v == parameter)
-                    && c.params.iter().any(|(k, v)| k == "unit" && v == unit)
-            }) {
-                cautions.push(
-                    Caution::warning("reading-unit-not-checked")
-                        .with("parameter", parameter)
-                        .with("unit", unit)
-                        .with("own_unit", parameter_unit(parameter)),
-                );
-            }
+            unchecked.insert((parameter.clone(), unit.clone()));
             continue;
         }
         if let Some(limit) = src.site.effective_limit(parameter) {
@@ -477,6 +466,14 @@ pub fn report(src: &Sources<'_>) -> Report {
                 });
             }
         }
+    }
+    for (parameter, unit) in unchecked {
+        cautions.push(
+            Caution::warning("reading-unit-not-checked")
+                .with("parameter", &parameter)
+                .with("unit", &unit)
+                .with("own_unit", parameter_unit(&parameter)),
+        );
     }
     for ((date, tap, parameter), values) in tap_values {
         if let (Some(day), Some(stats)) = (days.get_mut(&date), Stats::of(&values)) {
