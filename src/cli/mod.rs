@@ -29,7 +29,7 @@ pub fn aliases() -> Vec<(&'static str, &'static str)> {
 }
 
 use serde_json::{Value, json};
-use std::io::{Read, Write};
+use std::io::{BufRead, Read, Write};
 
 /// What a subcommand produces: the text a person reads and the object a script reads.
 pub struct Report {
@@ -528,8 +528,11 @@ pub const MAX_BATCH_LINE: usize = 2 * crate::log::frame::MAX_PAYLOAD as usize;
 /// UTF-8, not JSON or failed (blank lines carry no request and get none); the exit code is 1
 /// if any line failed. A failed write to stdout ends the batch with exit code 1.
 fn batch() -> i32 {
-    let mut lines = BoundedLines::new(std::io::stdin().lock(), MAX_BATCH_LINE);
-    let mut out = std::io::stdout().lock();
+    let input = std::io::BufReader::with_capacity(BATCH_BUFFER, std::io::stdin().lock());
+    let mut lines = BoundedLines::new(input, MAX_BATCH_LINE);
+    // Answers are gathered in a buffer of our own (stdout's own is line-buffered: one write
+    // call per answer) and written when no further request is waiting.
+    let mut out = std::io::BufWriter::with_capacity(BATCH_BUFFER, std::io::stdout().lock());
     let mut failures = 0usize;
     let mut answer = Vec::new();
     loop {
@@ -557,13 +560,29 @@ fn batch() -> i32 {
             // A Vec does not fail to grow short of running out of memory.
             let _infallible = writeln!(answer, "{}", e.to_json());
         }
-        // Each answer is flushed as it is made, so a script can talk to a batch line by line.
-        if let Err(e) = out.write_all(&answer).and_then(|()| out.flush()) {
+        // The answers go out whenever no whole request is left in the input buffer, that is
+        // before the batch could wait for more input: a script that talks to a batch line by
+        // line gets each answer before it sends the next request, and a batch read from a
+        // file or a pipe full of requests costs one write call per buffer, not per answer.
+        let written = out.write_all(&answer).and_then(|()| {
+            if lines.line_buffered() {
+                Ok(())
+            } else {
+                out.flush()
+            }
+        });
+        if let Err(e) = written {
             return fail(&CliError::output(e), false);
         }
     }
+    if let Err(e) = out.flush() {
+        return fail(&CliError::output(e), false);
+    }
     if failures > 0 { 1 } else { 0 }
 }
+
+/// The size of `batch`'s input and output buffers.
+const BATCH_BUFFER: usize = 64 << 10;
 
 /// The answer to one batch line, written into `answer`.
 fn answer_line(line: &BatchLine, answer: &mut Vec<u8>) -> Result<(), CliError> {
@@ -608,13 +627,19 @@ impl BatchLine {
 /// the length is known before the bytes are decoded, and the rest of a long line is skipped
 /// as it streams past.
 struct BoundedLines<R> {
-    input: R,
+    input: std::io::BufReader<R>,
     limit: usize,
 }
 
-impl<R: std::io::BufRead> BoundedLines<R> {
-    fn new(input: R, limit: usize) -> Self {
+impl<R: Read> BoundedLines<R> {
+    fn new(input: std::io::BufReader<R>, limit: usize) -> Self {
         BoundedLines { input, limit }
+    }
+
+    /// Whether a whole line is already in the buffer, so that the next [`Self::next`]
+    /// returns without waiting for the input.
+    fn line_buffered(&self) -> bool {
+        self.input.buffer().contains(&b'\n')
     }
 
     /// The next line without its `\n`, or `None` at the end of the input.

@@ -164,3 +164,87 @@ fn an_oversize_line_is_refused_without_being_held_in_memory() {
     assert_eq!(status.code(), Some(1));
     assert!(peak_mib < 40, "peak {peak_mib} MiB for a 100 MB line");
 }
+
+/// A script may talk to a batch one request at a time: each answer must arrive while stdin
+/// stays open (answers are written out whenever no whole request is waiting), whether the
+/// requests come one by one, two in one write, or a request in two pieces.
+#[test]
+fn a_script_talking_line_by_line_gets_each_answer_before_its_next_request() {
+    let mut child = Command::new(BIN)
+        .arg("batch")
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut stdin = child.stdin.take().unwrap();
+    // Answers are read on a thread so a batch that holds an answer back fails the test in
+    // time instead of hanging it.
+    let stdout = BufReader::new(child.stdout.take().unwrap());
+    let (answer_tx, answers) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        for line in stdout.lines() {
+            if answer_tx.send(line.unwrap()).is_err() {
+                break;
+            }
+        }
+    });
+    let mut next_answer = |what: &str| -> Value {
+        let line = answers
+            .recv_timeout(Duration::from_secs(30))
+            .unwrap_or_else(|_| {
+                child.kill().unwrap();
+                panic!("no answer to {what} while stdin stayed open");
+            });
+        serde_json::from_str(&line).unwrap()
+    };
+    let nacl = r#"{"command":"mass","args":{"positional":["NaCl"]}}"#;
+    // Molar masses from IUPAC 2021 standard atomic weights, by hand: H2O 18.015, NaCl 58.44.
+    for round in 0..3 {
+        stdin.write_all(MASS_H2O.as_bytes()).unwrap();
+        stdin.write_all(b"\n").unwrap();
+        stdin.flush().unwrap();
+        let a = next_answer(&format!("request {round}"));
+        assert!(
+            (a["molar_mass_g_mol"].as_f64().unwrap() - 18.015).abs() < 0.001,
+            "{a}"
+        );
+    }
+    // Two requests in one write: both answered, in order.
+    stdin
+        .write_all(format!("{nacl}\n{MASS_H2O}\n").as_bytes())
+        .unwrap();
+    stdin.flush().unwrap();
+    let (first, second) = (
+        next_answer("the first of two"),
+        next_answer("the second of two"),
+    );
+    assert!(
+        (first["molar_mass_g_mol"].as_f64().unwrap() - 58.44).abs() < 0.01,
+        "{first}"
+    );
+    assert!(
+        (second["molar_mass_g_mol"].as_f64().unwrap() - 18.015).abs() < 0.001,
+        "{second}"
+    );
+    // A request followed by the first half of the next: the whole one is answered at once.
+    let (head, tail) = nacl.split_at(10);
+    stdin
+        .write_all(format!("{MASS_H2O}\n{head}").as_bytes())
+        .unwrap();
+    stdin.flush().unwrap();
+    let a = next_answer("a request followed by half of one");
+    assert!(
+        (a["molar_mass_g_mol"].as_f64().unwrap() - 18.015).abs() < 0.001,
+        "{a}"
+    );
+    stdin.write_all(format!("{tail}\n").as_bytes()).unwrap();
+    stdin.flush().unwrap();
+    let a = next_answer("the second half");
+    assert!(
+        (a["molar_mass_g_mol"].as_f64().unwrap() - 58.44).abs() < 0.01,
+        "{a}"
+    );
+    drop(stdin);
+    assert_eq!(child.wait().unwrap().code(), Some(0));
+}
