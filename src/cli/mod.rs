@@ -159,26 +159,45 @@ fn command_help(command: &str) -> CliResult {
 /// Its line and its JSON are the same every time, so they are rendered once (a batch of
 /// `ph-after` lines would otherwise render the sentence for every line).
 fn advisory(mut report: Report) -> Report {
-    static RENDERED: std::sync::OnceLock<(String, Value)> = std::sync::OnceLock::new();
-    let (line, json) = RENDERED.get_or_init(|| {
-        let caution = crate::engine::dosing::Caution::advisory();
-        (
-            words::caution_line(&caution),
-            calc::cautions_json(std::slice::from_ref(&caution)),
-        )
-    });
+    let rendered = advisory_rendered();
     report.human.push('\n');
-    report.human.push_str(line);
+    report.human.push_str(&rendered.line);
     report.human.push('\n');
     if let Some(object) = report.json.as_object_mut() {
         let cautions = object
             .entry("cautions")
             .or_insert_with(|| Value::Array(Vec::new()));
-        if let (Some(list), Value::Array(advisory)) = (cautions.as_array_mut(), json) {
+        if let (Some(list), Value::Array(advisory)) = (cautions.as_array_mut(), &rendered.json) {
             list.extend(advisory.iter().cloned());
         }
     }
     report
+}
+
+/// The advisory caution list as JSON text, for an answer written straight to the output
+/// (`water::stream`): the `cautions` that [`advisory`] gives a report without any.
+fn advisory_json_text() -> &'static str {
+    &advisory_rendered().text
+}
+
+/// The advisory caution rendered once: its line, its JSON list, and that list as text.
+struct Advisory {
+    line: String,
+    json: Value,
+    text: String,
+}
+
+fn advisory_rendered() -> &'static Advisory {
+    static RENDERED: std::sync::OnceLock<Advisory> = std::sync::OnceLock::new();
+    RENDERED.get_or_init(|| {
+        let caution = crate::engine::dosing::Caution::advisory();
+        let json = calc::cautions_json(std::slice::from_ref(&caution));
+        Advisory {
+            line: words::caution_line(&caution),
+            text: json.to_string(),
+            json,
+        }
+    })
 }
 
 const HELP: &str =
@@ -300,6 +319,9 @@ fn execute(command: &str, args: &Args, json: bool, out: &mut dyn Write) -> Resul
     {
         return streamed;
     }
+    if json && let Some(streamed) = water::stream(command, args, out) {
+        return streamed;
+    }
     let report = dispatch(command, args)?;
     write_report(&report, json, out)
 }
@@ -334,18 +356,30 @@ pub fn check_numbers(value: &Value) -> Result<(), CliError> {
     let mut path = Vec::new();
     match find_bad_number(value, &mut path) {
         None => Ok(()),
-        Some(what) => Err(CliError {
-            kind: "result-not-a-number".into(),
-            message: format!(
-                "the result at {} is {what}, which no measurement can produce; check the inputs",
-                if path.is_empty() {
-                    "the top".to_string()
-                } else {
-                    path.join(".")
-                }
-            ),
-            reason: None,
-        }),
+        Some(what) => Err(bad_number(&path.join("."), &what)),
+    }
+}
+
+/// [`check_numbers`] for one number `v` written straight to the output (`water::stream`),
+/// at `path` (the keys leading to it): the same limits, the same refusal.
+fn check_number(path: &[&str], v: f64) -> Result<(), CliError> {
+    let name = path.last().copied().unwrap_or("");
+    if beyond_limit(name, v) {
+        Err(bad_number(&path.join("."), &format!("{v:e}")))
+    } else {
+        Ok(())
+    }
+}
+
+/// The refusal of an unprintable number `what` found at `path` (dotted keys).
+fn bad_number(path: &str, what: &str) -> CliError {
+    CliError {
+        kind: "result-not-a-number".into(),
+        message: format!(
+            "the result at {} is {what}, which no measurement can produce; check the inputs",
+            if path.is_empty() { "the top" } else { path }
+        ),
+        reason: None,
     }
 }
 

@@ -87,55 +87,201 @@ fn mode_name(p: Precipitation) -> &'static str {
     }
 }
 
-/// The water's numbers as JSON. Each is checked first: `json!` writes a number that is not
-/// one as `null`, which a script cannot tell from "not computed", and with `--json` (every
-/// batch line) no human text is made for [`super::check_text`] to catch it in.
-fn water_json(w: &WaterResult) -> Result<Value, CliError> {
-    let numbers = [
-        w.ph,
-        w.temperature_c,
-        w.alkalinity_mg_l_as_caco3,
-        w.dic_mmol_l,
-        w.co2_mg_l,
-        w.ionic_strength,
-        w.si_calcite.unwrap_or(0.0),
-        w.charge_imbalance_meq_l,
-        w.charge_imbalance_percent,
-        w.hocl_fraction.unwrap_or(0.0),
-        w.precipitated_metal_mmol_l,
-    ];
-    if let Some(bad) = numbers
-        .into_iter()
-        .chain(w.species.iter().map(|(_, mmol)| *mmol))
-        .find(|v| !v.is_finite())
-    {
-        return Err(CliError {
-            kind: "result-not-a-number".into(),
-            message: format!(
-                "a result came out as '{bad}', which no measurement can produce; check the inputs"
+/// One field of a water command's JSON answer.
+enum Field<'a> {
+    Number(f64),
+    /// `null` when not computed (`json!` of an `Option`).
+    Optional(Option<f64>),
+    Text(&'a str),
+    /// Species and their mmol/L, written as an object keyed by name.
+    Species(&'a [(&'static str, f64)]),
+    /// JSON already rendered: the advisory caution list, the same on every answer.
+    Rendered(&'a str),
+}
+
+/// A water command's JSON answer as a list of fields: one list, two renderings. As a
+/// [`Value`] for [`super::dispatch`] (tests, the app), and written straight to the output by
+/// [`stream`] (every `batch` line), which skips building a map of a few dozen keys and
+/// strings and the walk of [`super::check_numbers`] over it. Both give the same bytes:
+/// the fields are written in the order of serde_json's map (keys sorted) and every number
+/// through serde_json's own formatter.
+struct Answer<'a> {
+    fields: Vec<(&'static str, Field<'a>)>,
+}
+
+impl<'a> Answer<'a> {
+    /// The water's numbers. Each is checked first: `json!` writes a number that is not one
+    /// as `null`, which a script cannot tell from "not computed", and with `--json` (every
+    /// batch line) no human text is made for [`super::check_text`] to catch it in.
+    fn of_water(w: &'a WaterResult) -> Result<Answer<'a>, CliError> {
+        let numbers = [
+            w.ph,
+            w.temperature_c,
+            w.alkalinity_mg_l_as_caco3,
+            w.dic_mmol_l,
+            w.co2_mg_l,
+            w.ionic_strength,
+            w.si_calcite.unwrap_or(0.0),
+            w.charge_imbalance_meq_l,
+            w.charge_imbalance_percent,
+            w.hocl_fraction.unwrap_or(0.0),
+            w.precipitated_metal_mmol_l,
+        ];
+        if let Some(bad) = numbers
+            .into_iter()
+            .chain(w.species.iter().map(|(_, mmol)| *mmol))
+            .find(|v| !v.is_finite())
+        {
+            return Err(CliError {
+                kind: "result-not-a-number".into(),
+                message: format!(
+                    "a result came out as '{bad}', which no measurement can produce; check the inputs"
+                ),
+                reason: None,
+            });
+        }
+        let mut fields = Vec::with_capacity(20);
+        fields.extend([
+            ("ph", Field::Number(w.ph)),
+            ("temperature_c", Field::Number(w.temperature_c)),
+            (
+                "alkalinity_mg_l_as_caco3",
+                Field::Number(w.alkalinity_mg_l_as_caco3),
             ),
-            reason: None,
-        });
+            ("dic_mmol_l", Field::Number(w.dic_mmol_l)),
+            ("co2_mg_l", Field::Number(w.co2_mg_l)),
+            ("ionic_strength", Field::Number(w.ionic_strength)),
+            ("si_calcite", Field::Optional(w.si_calcite)),
+            (
+                "charge_imbalance_meq_l",
+                Field::Number(w.charge_imbalance_meq_l),
+            ),
+            (
+                "charge_imbalance_percent",
+                Field::Number(w.charge_imbalance_percent),
+            ),
+            ("hocl_fraction", Field::Optional(w.hocl_fraction)),
+            (
+                "precipitated_metal_mmol_l",
+                Field::Number(w.precipitated_metal_mmol_l),
+            ),
+            ("species_mmol_l", Field::Species(&w.species)),
+        ]);
+        Ok(Answer { fields })
     }
-    let species: serde_json::Map<String, Value> = w
-        .species
-        .iter()
-        .map(|(name, mmol)| (name.to_string(), json!(mmol)))
-        .collect();
-    Ok(json!({
-        "ph": w.ph,
-        "temperature_c": w.temperature_c,
-        "alkalinity_mg_l_as_caco3": w.alkalinity_mg_l_as_caco3,
-        "dic_mmol_l": w.dic_mmol_l,
-        "co2_mg_l": w.co2_mg_l,
-        "ionic_strength": w.ionic_strength,
-        "si_calcite": w.si_calcite,
-        "charge_imbalance_meq_l": w.charge_imbalance_meq_l,
-        "charge_imbalance_percent": w.charge_imbalance_percent,
-        "hocl_fraction": w.hocl_fraction,
-        "precipitated_metal_mmol_l": w.precipitated_metal_mmol_l,
-        "species_mmol_l": species,
-    }))
+
+    fn with(mut self, key: &'static str, field: Field<'a>) -> Self {
+        self.fields.push((key, field));
+        self
+    }
+
+    /// The answer as a JSON value (a rendered field is parsed back).
+    fn to_value(&self) -> Value {
+        let mut object = serde_json::Map::new();
+        for (key, field) in &self.fields {
+            let value = match field {
+                Field::Number(v) => json!(v),
+                Field::Optional(v) => json!(v),
+                Field::Text(t) => json!(t),
+                Field::Species(species) => Value::Object(
+                    species
+                        .iter()
+                        .map(|(name, mmol)| (name.to_string(), json!(mmol)))
+                        .collect(),
+                ),
+                Field::Rendered(text) => serde_json::from_str(text).unwrap_or(Value::Null),
+            };
+            object.insert(key.to_string(), value);
+        }
+        Value::Object(object)
+    }
+
+    /// Writes the answer as one line of JSON, the bytes `to_value()` would print, after the
+    /// guard [`super::check_numbers`] applies to every printed number has passed each one.
+    fn write(mut self, out: &mut Vec<u8>) -> Result<(), CliError> {
+        use serde_json::ser::{CompactFormatter, Formatter};
+        self.fields.sort_unstable_by_key(|(key, _)| *key);
+        let start = out.len();
+        let written = (|| -> Result<(), CliError> {
+            let number = |out: &mut Vec<u8>, path: &[&str], v: f64| -> Result<(), CliError> {
+                super::check_number(path, v)?;
+                CompactFormatter.write_f64(out, v).map_err(CliError::output)
+            };
+            let text = |out: &mut Vec<u8>, t: &str| {
+                serde_json::to_writer(out, t).map_err(|e| CliError::output(e.into()))
+            };
+            out.push(b'{');
+            for (n, (key, field)) in self.fields.iter().enumerate() {
+                if n > 0 {
+                    out.push(b',');
+                }
+                text(out, key)?;
+                out.push(b':');
+                match field {
+                    Field::Number(v) | Field::Optional(Some(v)) => number(out, &[key], *v)?,
+                    Field::Optional(None) => out.extend_from_slice(b"null"),
+                    Field::Text(t) => text(out, t)?,
+                    Field::Rendered(r) => out.extend_from_slice(r.as_bytes()),
+                    Field::Species(species) => {
+                        // serde_json's map keeps its keys sorted; the species come in the
+                        // table's order.
+                        let mut sorted: Vec<(&str, f64)> = species.to_vec();
+                        sorted.sort_unstable_by_key(|(name, _)| *name);
+                        out.push(b'{');
+                        for (m, (name, mmol)) in sorted.iter().enumerate() {
+                            if m > 0 {
+                                out.push(b',');
+                            }
+                            text(out, name)?;
+                            out.push(b':');
+                            number(out, &[key, name], *mmol)?;
+                        }
+                        out.push(b'}');
+                    }
+                }
+            }
+            out.extend_from_slice(b"}\n");
+            Ok(())
+        })();
+        if written.is_err() {
+            out.truncate(start);
+        }
+        written
+    }
+}
+
+/// `ph-after` and `dose-for-ph` with `--json` (every `batch` line), written straight to
+/// `out` (see [`Answer`]); `None` for the other commands and for `--help`, which answer
+/// with a [`super::Report`]. Nothing is written unless every check has passed.
+pub(super) fn stream(
+    command: &str,
+    args: &Args,
+    out: &mut dyn std::io::Write,
+) -> Option<Result<(), CliError>> {
+    if args.switch("help") {
+        return None;
+    }
+    let mut text = Vec::with_capacity(2048);
+    let written = match command {
+        "ph-after" => ph_after_answer(args).and_then(|(w, chem, dose, mode)| {
+            finish(args, ph_after_fields(&w, chem, dose, mode)?, &mut text)
+        }),
+        "dose-for-ph" => dose_for_ph_answer(args).and_then(|(r, chem, target, _)| {
+            finish(args, dose_for_ph_fields(&r, chem, target)?, &mut text)
+        }),
+        _ => return None,
+    };
+    Some(written.and_then(|()| out.write_all(&text).map_err(CliError::output)))
+}
+
+/// The checks every command's answer passes in [`super::dispatch`] (no flag left unread),
+/// then the advisory caution, then the answer written into `text`.
+fn finish(args: &Args, answer: Answer<'_>, text: &mut Vec<u8>) -> Result<(), CliError> {
+    args.switch("json");
+    args.reject_unused()?;
+    answer
+        .with("cautions", Field::Rendered(super::advisory_json_text()))
+        .write(text)
 }
 
 /// The human text, made only when it is printed: with `--json` (and on every `batch` line)
@@ -165,17 +311,35 @@ fn water_human(w: &WaterResult) -> String {
     )
 }
 
-/// `molefeed ph-after --chemical X --dose D [--precipitate none|hydroxide|complete] WATER`
-pub fn ph_after(args: &Args) -> CliResult {
+/// The answer to `ph-after`: the water after the dose, the chemical, the dose, the
+/// precipitation mode.
+type PhAfter = (WaterResult, &'static Chemical, f64, Precipitation);
+
+fn ph_after_answer(args: &Args) -> Result<PhAfter, CliError> {
     let chem = chemical(args)?;
     let dose = args.required_number("dose")?;
     let mode = precipitation(args, Precipitation::None)?;
     let state = water_state(args)?;
     let w = water::ph_after(&state, chem, dose, mode)?;
-    let mut j = water_json(&w)?;
-    j["chemical"] = json!(chem.id);
-    j["dose_mg_l"] = json!(dose);
-    j["precipitate"] = json!(mode_name(mode));
+    Ok((w, chem, dose, mode))
+}
+
+fn ph_after_fields<'a>(
+    w: &'a WaterResult,
+    chem: &'static Chemical,
+    dose: f64,
+    mode: Precipitation,
+) -> Result<Answer<'a>, CliError> {
+    Ok(Answer::of_water(w)?
+        .with("chemical", Field::Text(chem.id.as_str()))
+        .with("dose_mg_l", Field::Number(dose))
+        .with("precipitate", Field::Text(mode_name(mode))))
+}
+
+/// `molefeed ph-after --chemical X --dose D [--precipitate none|hydroxide|complete] WATER`
+pub fn ph_after(args: &Args) -> CliResult {
+    let (w, chem, dose, mode) = ph_after_answer(args)?;
+    let json = ph_after_fields(&w, chem, dose, mode)?.to_value();
     Ok(Report {
         human: human_text(args, || {
             format!(
@@ -185,12 +349,15 @@ pub fn ph_after(args: &Args) -> CliResult {
                 water_human(&w)
             )
         }),
-        json: j,
+        json,
     })
 }
 
-/// `molefeed dose-for-ph --chemical X --target-ph P WATER`
-pub fn dose_for_ph(args: &Args) -> CliResult {
+/// The answer to `dose-for-ph`: the dose and the water it gives, the chemical, the target,
+/// the pH before.
+type DoseForPh = (water::DoseResult, &'static Chemical, f64, f64);
+
+fn dose_for_ph_answer(args: &Args) -> Result<DoseForPh, CliError> {
     let chem = chemical(args)?;
     let target = args.required_number("target-ph")?;
     let mode = precipitation(args, Precipitation::None)?;
@@ -203,10 +370,24 @@ pub fn dose_for_ph(args: &Args) -> CliResult {
             reason: None,
         });
     }
-    let mut j = water_json(&r.water)?;
-    j["dose_mg_l"] = json!(r.dose_mg_l);
-    j["chemical"] = json!(chem.id);
-    j["target_ph"] = json!(target);
+    Ok((r, chem, target, state.ph()))
+}
+
+fn dose_for_ph_fields<'a>(
+    r: &'a water::DoseResult,
+    chem: &'static Chemical,
+    target: f64,
+) -> Result<Answer<'a>, CliError> {
+    Ok(Answer::of_water(&r.water)?
+        .with("dose_mg_l", Field::Number(r.dose_mg_l))
+        .with("chemical", Field::Text(chem.id.as_str()))
+        .with("target_ph", Field::Number(target)))
+}
+
+/// `molefeed dose-for-ph --chemical X --target-ph P WATER`
+pub fn dose_for_ph(args: &Args) -> CliResult {
+    let (r, chem, target, ph_before) = dose_for_ph_answer(args)?;
+    let json = dose_for_ph_fields(&r, chem, target)?.to_value();
     Ok(Report {
         human: human_text(args, || {
             format!(
@@ -214,12 +395,12 @@ pub fn dose_for_ph(args: &Args) -> CliResult {
                 r.dose_mg_l,
                 chem.id,
                 chem.formula,
-                state.ph(),
+                ph_before,
                 r.water.ph,
                 water_human(&r.water)
             )
         }),
-        json: j,
+        json,
     })
 }
 
@@ -350,4 +531,113 @@ pub fn neutralize(args: &Args) -> CliResult {
             "langelier_index": n.langelier_index,
         }),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The answer written straight to the output is byte for byte the one `dispatch` builds
+    /// as a value and prints (the form every command had before `stream`): with and without
+    /// calcium (`si_calcite` null), with chlorine (`hocl_fraction` a number), a coagulant
+    /// with hydroxide precipitating, and the inverse search.
+    #[test]
+    fn the_streamed_answer_is_the_printed_value_byte_for_byte() {
+        let water = "--ph 7.4 --temperature 12 --alkalinity 80 --calcium-as-caco3 60 --magnesium-as-caco3 20 --sodium 15 --chloride 20 --sulfate 30";
+        let cases = [
+            ("ph-after", format!("--chemical lime --dose 12 {water}")),
+            (
+                "ph-after",
+                "--chemical hypochlorite --dose 3 --ph 6.8 --temperature 20 --alkalinity 40"
+                    .to_string(),
+            ),
+            (
+                "ph-after",
+                format!("--chemical alum --dose 40 --precipitate hydroxide {water}"),
+            ),
+            (
+                "dose-for-ph",
+                format!("--chemical caustic --target-ph 8.2 {water}"),
+            ),
+            (
+                "dose-for-ph",
+                format!("--chemical sulfuric-acid --target-ph 6.9 {water} --tds 250"),
+            ),
+        ];
+        for (command, flags) in cases {
+            let words: Vec<String> = format!("{flags} --json")
+                .split_whitespace()
+                .map(String::from)
+                .collect();
+            let printed = format!(
+                "{}\n",
+                crate::cli::dispatch(command, &Args::parse(&words).unwrap())
+                    .unwrap()
+                    .json
+            );
+            let mut streamed = Vec::new();
+            stream(command, &Args::parse(&words).unwrap(), &mut streamed)
+                .expect("a water command with --json streams")
+                .unwrap();
+            assert_eq!(
+                String::from_utf8(streamed).unwrap(),
+                printed,
+                "{command} {flags}"
+            );
+        }
+    }
+
+    /// A streamed answer keeps every check of the printed one: an unknown flag is refused and
+    /// nothing is written; `--help` and other commands are left to `dispatch`.
+    #[test]
+    fn the_streamed_answer_refuses_what_dispatch_refuses() {
+        let args = |s: &str| {
+            Args::parse(&s.split_whitespace().map(String::from).collect::<Vec<_>>()).unwrap()
+        };
+        let mut out = Vec::new();
+        let e = stream(
+            "ph-after",
+            &args(
+                "--chemical lime --dose 5 --ph 7 --temperature 20 --alkalinity 50 --dsoe 3 --json",
+            ),
+            &mut out,
+        )
+        .unwrap()
+        .unwrap_err();
+        assert!(e.message.contains("--dsoe"), "{}", e.message);
+        assert!(out.is_empty());
+        assert!(stream("ph-after", &args("--help"), &mut out).is_none());
+        assert!(
+            stream(
+                "stability",
+                &args("--ph 7 --temperature 20 --alkalinity 50"),
+                &mut out
+            )
+            .is_none()
+        );
+    }
+
+    /// The guard on each streamed number is `check_numbers`' guard: the same limits (a
+    /// percentage has the lower one) and a refusal naming the same path.
+    #[test]
+    fn each_streamed_number_passes_the_output_guard() {
+        for (path, v, refused) in [
+            (&["ph"][..], 7.0, false),
+            (&["species_mmol_l", "CO2"][..], 2e15, true),
+            (&["charge_imbalance_percent"][..], 2e4, true),
+            (&["charge_imbalance_meq_l"][..], 2e4, false),
+        ] {
+            let direct = crate::cli::check_number(path, v);
+            let mut value = json!(v);
+            for key in path.iter().rev() {
+                value = json!({ *key: value });
+            }
+            let walked = crate::cli::check_numbers(&value);
+            assert_eq!(direct.is_err(), refused, "{path:?} {v}");
+            assert_eq!(walked.is_err(), refused, "{path:?} {v}");
+            if let (Err(a), Err(b)) = (direct, walked) {
+                assert_eq!(a.message, b.message);
+            }
+        }
+    }
 }
