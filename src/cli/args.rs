@@ -9,19 +9,35 @@
 
 use super::CliError;
 use serde_json::Value;
-use std::cell::RefCell;
+use std::cell::Cell;
 use std::collections::BTreeMap;
 
 /// Parsed arguments: positionals in order, and `--name value` / `--switch` flags.
 #[derive(Debug, Default)]
 pub struct Args {
     positional: Vec<String>,
-    flags: BTreeMap<String, Option<String>>,
-    used: RefCell<Vec<String>>,
+    /// Each flag's value, and whether any code has read it (see [`Args::reject_unused`]).
+    flags: BTreeMap<String, Flag>,
     /// Built from a `molefeed batch` line: stdin carries the batch, so no command may read it.
     from_batch: bool,
     /// Every value of a flag that may be given more than once ([`REPEATABLE`]), in order.
     repeated: BTreeMap<String, Vec<String>>,
+}
+
+/// A flag as given, and whether a subcommand has read it.
+#[derive(Debug)]
+struct Flag {
+    value: Option<String>,
+    used: Cell<bool>,
+}
+
+impl Flag {
+    fn new(value: Option<String>) -> Flag {
+        Flag {
+            value,
+            used: Cell::new(false),
+        }
+    }
 }
 
 /// Flags that may be given more than once, each adding a value in order (`--step lime=20
@@ -109,10 +125,14 @@ impl Args {
         if REPEATABLE.contains(&name) {
             let values = self.repeated.entry(name.to_string()).or_default();
             values.extend(value.clone());
-            self.flags.insert(name.to_string(), value);
+            self.flags.insert(name.to_string(), Flag::new(value));
             return Ok(());
         }
-        if self.flags.insert(name.to_string(), value).is_some() {
+        if self
+            .flags
+            .insert(name.to_string(), Flag::new(value))
+            .is_some()
+        {
             return Err(CliError::usage(format!("--{name} given twice")));
         }
         Ok(())
@@ -123,8 +143,11 @@ impl Args {
         self.from_batch
     }
 
+    /// Notes that `name` was read (a flag not given has nothing to note).
     fn mark(&self, name: &str) {
-        self.used.borrow_mut().push(name.to_string());
+        if let Some(flag) = self.flags.get(name) {
+            flag.used.set(true);
+        }
     }
 
     /// The n-th positional argument.
@@ -145,7 +168,7 @@ impl Args {
 
     pub fn text(&self, name: &str) -> Result<Option<&str>, CliError> {
         self.mark(name);
-        match self.flags.get(name) {
+        match self.flags.get(name).map(|f| &f.value) {
             None => Ok(None),
             Some(None) => Err(CliError::usage(format!("--{name} needs a value"))),
             Some(Some(v)) => Ok(Some(v.as_str())),
@@ -187,8 +210,12 @@ impl Args {
 
     /// Fails if any flag was given that no code read: a typo must not change a dose silently.
     pub fn reject_unused(&self) -> Result<(), CliError> {
-        let used = self.used.borrow();
-        match self.flags.keys().find(|k| !used.iter().any(|u| u == *k)) {
+        match self
+            .flags
+            .iter()
+            .find(|(_, f)| !f.used.get())
+            .map(|(k, _)| k)
+        {
             Some(unused) => Err(CliError::usage(format!(
                 "unknown flag --{unused} for this command"
             ))),
