@@ -734,31 +734,55 @@ impl Solver {
             if dx.abs() < 1e-8 && dmax < 1e-7 && residual < 1e-6 && di.abs() <= 1e-8 * i {
                 let gamma_h = self.gammas(i, &mut gamma, p);
                 let mut totals = p.totals;
-                if fixed_ph.is_some() {
-                    // The carbonate total the charge balance fixed, from the species at this
-                    // last step's free masters and ionic strength (not at the step before,
-                    // which would leave the alkalinity off by as much as that step moved it).
+                // Newton has converged quadratically: the mass balances already hold to
+                // ~1e-16. Without a cap the species are evaluated once at this last step's
+                // free masters and ionic strength; a capped master's free value follows the
+                // pH, so a capped problem takes one substitution sweep instead.
+                let capless = p.caps.iter().all(Option::is_none);
+                if capless {
                     let a_h = pow10(x);
                     let mut act = [0.0f64; NC];
                     for c in 0..NC {
                         act[c] = free[c] * gamma[c];
                     }
+                    for s in 0..species.len() {
+                        conc[s] = if s < ns && mask[s] & !active == 0 {
+                            let kg = k_of[s] * a_h.powi(species[s].h) / gamma[s];
+                            self.conc_of(s, kg, &act)
+                        } else {
+                            0.0
+                        };
+                    }
+                }
+                if fixed_ph.is_some() {
+                    // The carbonate total the charge balance fixed, from the species at this
+                    // last step (not at the step before, which would leave the alkalinity
+                    // off by as much as that step moved it).
+                    if !capless {
+                        let a_h = pow10(x);
+                        let mut act = [0.0f64; NC];
+                        for c in 0..NC {
+                            act[c] = free[c] * gamma[c];
+                        }
+                        for &(s, _) in &self.by_comp[co3] {
+                            if s < ns && mask[s] & !active == 0 {
+                                let kg = k_of[s] * a_h.powi(species[s].h) / gamma[s];
+                                conc[s] = self.conc_of(s, kg, &act);
+                            }
+                        }
+                    }
                     totals[co3] = self.by_comp[co3]
                         .iter()
-                        .filter(|&&(s, _)| s < ns && mask[s] & !active == 0)
-                        .map(|&(s, k)| {
-                            let kg = k_of[s] * a_h.powi(species[s].h) / gamma[s];
-                            k as f64 * self.conc_of(s, kg, &act)
-                        })
+                        .map(|&(s, k)| k as f64 * conc[s])
                         .sum();
                 }
-                let q = Problem {
-                    totals,
-                    ..p.clone()
-                };
-                // Newton has converged quadratically: the mass balances already hold to
-                // ~1e-16, so one substitution sweep (not an iteration to tolerance) finishes.
-                self.distribute(x, &q, &gamma, &mut free, &mut conc, f64::INFINITY);
+                if !capless {
+                    let q = Problem {
+                        totals,
+                        ..p.clone()
+                    };
+                    self.distribute(x, &q, &gamma, &mut free, &mut conc, f64::INFINITY);
+                }
                 return Some(Speciation {
                     log_h: x,
                     conc,
