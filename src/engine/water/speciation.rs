@@ -104,6 +104,20 @@ struct Span {
     classes: usize,
 }
 
+/// Masters whose own acid–base species buffer a dose (aluminium and iron hydroxo species,
+/// HOCl, ammonium, phosphate, fluoride, silica): the carbonate model of
+/// [`Solver::predicted`] leaves them out, so a water holding any of them starts its dose's
+/// solve from the water itself, as before (from the model Newton took more steps, not fewer).
+const PREDICTED_WITHOUT: [Component; 7] = [
+    Component::Al,
+    Component::Fe,
+    Component::OCl,
+    Component::NH4,
+    Component::PO4,
+    Component::F,
+    Component::Si,
+];
+
 /// Most species in the table the fixed-size scratch arrays hold.
 const MAX_SPECIES: usize = 96;
 const PH_MIN: f64 = -2.0;
@@ -928,6 +942,7 @@ impl Solver {
             || p.totals == warm.totals
             || !(warm.totals[co3] > 0.0 && warm.free[co3] > 0.0)
             || (0..NC).any(|c| p.totals[c] > 0.0 && !(warm.totals[c] > 0.0))
+            || PREDICTED_WITHOUT.iter().any(|c| p.totals[c.index()] > 0.0)
         {
             return None;
         }
