@@ -120,15 +120,16 @@ class Streamed:
         written."""
         writer = threading.Thread(target=self._write, args=(payload,))
         writer.start()
-        got = self.pending
-        count = got.count(b"\n")
+        blocks = [self.pending]
+        count = self.pending.count(b"\n")
         while count < lines:
             block = os.read(self.out, 1 << 20)
             if not block:
                 sys.exit("molefeed batch ended early")
             count += block.count(b"\n")
-            got += block
+            blocks.append(block)
         writer.join()
+        got = b"".join(blocks)
         # Split after the chunk's last answer (nothing more is asked, so nothing follows).
         end = 0
         for _ in range(lines):
