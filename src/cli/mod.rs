@@ -570,6 +570,16 @@ fn batch() -> i32 {
     let mut failures = 0usize;
     let mut answer = Vec::new();
     loop {
+        // The answers go out whenever no whole request is left in the input buffer, that is
+        // before the batch could wait for more input: a script that talks to a batch line by
+        // line gets each answer before it sends the next request (whatever follows it: a
+        // blank line, half a request), and a batch read from a file or a pipe full of
+        // requests costs one write call per buffer, not per answer.
+        if !lines.line_buffered()
+            && let Err(e) = out.flush()
+        {
+            return fail(&CliError::output(e), false);
+        }
         let line = match lines.next() {
             Ok(Some(line)) => line,
             Ok(None) => break,
@@ -594,18 +604,7 @@ fn batch() -> i32 {
             // A Vec does not fail to grow short of running out of memory.
             let _infallible = writeln!(answer, "{}", e.to_json());
         }
-        // The answers go out whenever no whole request is left in the input buffer, that is
-        // before the batch could wait for more input: a script that talks to a batch line by
-        // line gets each answer before it sends the next request, and a batch read from a
-        // file or a pipe full of requests costs one write call per buffer, not per answer.
-        let written = out.write_all(&answer).and_then(|()| {
-            if lines.line_buffered() {
-                Ok(())
-            } else {
-                out.flush()
-            }
-        });
-        if let Err(e) = written {
+        if let Err(e) = out.write_all(&answer) {
             return fail(&CliError::output(e), false);
         }
     }

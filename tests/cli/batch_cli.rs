@@ -167,7 +167,8 @@ fn an_oversize_line_is_refused_without_being_held_in_memory() {
 
 /// A script may talk to a batch one request at a time: each answer must arrive while stdin
 /// stays open (answers are written out whenever no whole request is waiting), whether the
-/// requests come one by one, two in one write, or a request in two pieces.
+/// requests come one by one, two in one write, with a blank line after, or a request in two
+/// pieces.
 #[test]
 fn a_script_talking_line_by_line_gets_each_answer_before_its_next_request() {
     let mut child = Command::new(BIN)
@@ -226,6 +227,16 @@ fn a_script_talking_line_by_line_gets_each_answer_before_its_next_request() {
     assert!(
         (second["molar_mass_g_mol"].as_f64().unwrap() - 18.015).abs() < 0.001,
         "{second}"
+    );
+    // A request followed by a blank line (no request, no answer): still answered at once.
+    stdin
+        .write_all(format!("{MASS_H2O}\n\n").as_bytes())
+        .unwrap();
+    stdin.flush().unwrap();
+    let a = next_answer("a request followed by a blank line");
+    assert!(
+        (a["molar_mass_g_mol"].as_f64().unwrap() - 18.015).abs() < 0.001,
+        "{a}"
     );
     // A request followed by the first half of the next: the whole one is answered at once.
     let (head, tail) = nacl.split_at(10);
