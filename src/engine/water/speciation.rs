@@ -1300,18 +1300,15 @@ impl Solver {
                                 i_ions += 0.5 * z * z * p.totals[c];
                             }
                         }
-                        let mut m = free_co3;
-                        let mut per_co3 = (ka, kb);
-                        ionic_strength = i_ions + 0.5 * m * (ka + 4.0);
-                        for _ in 0..2 {
-                            self.gammas(ionic_strength, &mut gamma, &q);
-                            per_co3 = (
-                                ka * gamma[co3] / gamma[hco3],
-                                kb * gamma[co3] / co2.map_or(1.0, |s| gamma[s]),
-                            );
-                            m = alkalinity / (2.0 + per_co3.0);
-                            ionic_strength = i_ions + 0.5 * m * (per_co3.0 + 4.0);
-                        }
+                        // One evaluation of γ is enough: a second, at the ionic strength
+                        // the corrected carbonate gives, saved no Newton step.
+                        self.gammas(i_ions + 0.5 * free_co3 * (ka + 4.0), &mut gamma, &q);
+                        let per_co3 = (
+                            ka * gamma[co3] / gamma[hco3],
+                            kb * gamma[co3] / co2.map_or(1.0, |s| gamma[s]),
+                        );
+                        let m = alkalinity / (2.0 + per_co3.0);
+                        ionic_strength = i_ions + 0.5 * m * (per_co3.0 + 4.0);
                         let mut swept = q.clone();
                         swept.totals[co3] = m * (1.0 + per_co3.0 + per_co3.1);
                         free[co3] = m;
