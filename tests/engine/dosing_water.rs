@@ -9,7 +9,7 @@ use molefeed::engine::dosing::catalog::{Strength, StrengthBasis};
 use molefeed::engine::dosing::chlorine::{self, ChlorineInput};
 use molefeed::engine::dosing::coagulation::{self, Alkali, Coagulant, CoagulationInput};
 use molefeed::engine::dosing::feed::{PumpKind, UsableRange};
-use molefeed::engine::dosing::neutralization::{self, NeutralizationInput};
+use molefeed::engine::dosing::neutralization::{self, NeutralizationInput, NeutralizationResult};
 use molefeed::engine::dosing::units::{Flow, FlowUnit, VolumeRateUnit};
 use molefeed::engine::dosing::waterside::PhRange;
 use molefeed::engine::water::{WaterInput, WaterState};
@@ -294,6 +294,7 @@ fn neutral(
         max_use_level_mg_l: None,
         ph_range: PhRange::default(),
         dose_sig_figs: None,
+        langelier_index: true,
     }
 }
 
@@ -320,6 +321,25 @@ fn neutralization_chains_dose_feed_and_pump() {
         assert!(r.langelier_index_after.is_some());
         // The product's handling cautions travel with the result.
         assert!(keys(&r.cautions).contains(&"hazard-corrosive-caustic") || product == "soda-ash");
+        // Without the treated water's index: the same dose, feed and water, and no index.
+        let lean = neutralization::neutralization(
+            &c,
+            &w,
+            &NeutralizationInput {
+                langelier_index: false,
+                ..neutral(product, strength, basis, sg, 7.8)
+            },
+        )
+        .unwrap();
+        assert_eq!(lean.langelier_index_after, None, "{product}");
+        assert_eq!(
+            NeutralizationResult {
+                langelier_index_after: r.langelier_index_after,
+                ..lean
+            },
+            r,
+            "{product}: only the index differs"
+        );
     }
     // 50 % caustic has a volume feed and a pump setting.
     let r = neutralization::neutralization(

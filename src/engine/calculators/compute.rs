@@ -442,6 +442,9 @@ pub(super) fn ph_adjustment(c: &Calculators, request: &Request) -> Result<Outcom
             max_use_level_mg_l: request.max_use_level_mg_l,
             ph_range: PhRange::from_limits(&request.limits),
             dose_sig_figs: figures,
+            // The card judges the treated water below, once, with the calcium typed; the
+            // moved readings of a range never read it.
+            langelier_index: false,
         },
     )?;
     let equilibrium = NamedTrace::new(

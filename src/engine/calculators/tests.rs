@@ -356,6 +356,7 @@ fn ph_adjustment_is_the_one_call_neutralize_feed_makes() {
             max_use_level_mg_l: None,
             ph_range: PhRange::default(),
             dose_sig_figs: None,
+            langelier_index: false,
         },
     )
     .unwrap();

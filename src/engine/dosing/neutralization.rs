@@ -36,6 +36,10 @@ pub struct NeutralizationInput {
     /// Significant figures the dose is known to: an equilibrium dose is as good as the
     /// readings behind it (alkalinity and the two pHs); `None` when they were exact.
     pub dose_sig_figs: Option<u8>,
+    /// Whether to judge the treated water against calcium carbonate
+    /// (`langelier_index_after`): a second solve and a saturation search, which a range's
+    /// moved readings and a caller that judges the water itself leave out.
+    pub langelier_index: bool,
 }
 
 /// Result of [`neutralization`].
@@ -81,7 +85,11 @@ pub fn neutralization(
     }
     let chemical = water_chemical(&p.compound)?;
     // Purity 1: the engine doses the pure compound, the feed calculator applies the strength.
-    let n = water::neutralize(water, chemical, input.target_ph, 1.0)?;
+    let n = if input.langelier_index {
+        water::neutralize(water, chemical, input.target_ph, 1.0)?
+    } else {
+        water::neutralizing_dose(water, chemical, input.target_ph, 1.0)?
+    };
     let f = feed::feed(
         catalog,
         &FeedInput {

@@ -720,16 +720,29 @@ pub fn neutralize(
     target_ph: f64,
     purity: f64,
 ) -> Result<Neutralization> {
+    let mut n = neutralizing_dose(state, chemical, target_ph, purity)?;
+    let after = state.dosed(chemical, n.dose_mg_l, Precipitation::None)?;
+    n.langelier_index = stability(&after).ok().and_then(|s| s.langelier_index);
+    Ok(n)
+}
+
+/// [`neutralize`] without the treated water's Langelier index (`langelier_index` is `None`):
+/// the index costs a second solve and a search for calcite saturation, half the price of the
+/// dose, and a range's moved readings or a caller that judges the water itself does not read it.
+pub fn neutralizing_dose(
+    state: &WaterState,
+    chemical: &Chemical,
+    target_ph: f64,
+    purity: f64,
+) -> Result<Neutralization> {
     let purity = check_range("purity", purity, 0.01, 1.0, "")?;
     let r = dose_for_ph(state, chemical, target_ph, Precipitation::None)?;
-    let after = state.dosed(chemical, r.dose_mg_l, Precipitation::None)?;
-    let lsi = stability(&after).ok().and_then(|s| s.langelier_index);
     Ok(Neutralization {
         dose_mg_l: r.dose_mg_l,
         product_mg_l: r.dose_mg_l / purity,
         ph: r.water.ph,
         alkalinity_mg_l_as_caco3: r.water.alkalinity_mg_l_as_caco3,
-        langelier_index: lsi,
+        langelier_index: None,
     })
 }
 
