@@ -633,12 +633,17 @@ impl Outcome {
 /// The calculators with the built-in product catalog: what a front end holds to compute.
 pub struct Calculators {
     catalog: Catalog,
+    /// The threads a result's range may run its moved readings on (at most four), read once:
+    /// the standard library reads the cgroup quota files on every ask, a tenth of a
+    /// keystroke's engine time.
+    range_threads: usize,
 }
 
 impl Calculators {
     pub fn new() -> Result<Calculators> {
         Ok(Calculators {
             catalog: Catalog::builtin()?,
+            range_threads: std::thread::available_parallelism().map_or(1, |n| n.get().min(4)),
         })
     }
 
@@ -937,7 +942,9 @@ fn ranges(
     if jobs.is_empty() {
         return Vec::new();
     }
-    let runs = ranges::run_all(&jobs, |r| (calculator.compute)(calculators, r));
+    let runs = ranges::run_all(&jobs, calculators.range_threads, |r| {
+        (calculator.compute)(calculators, r)
+    });
     let mut moved: Vec<Vec<[f64; 2]>> = vec![Vec::new(); outcome.results.len()];
     for ((name, _), run) in jobs.iter().zip(runs) {
         let Some([Ok(low), Ok(high)]) = run else {

@@ -60,12 +60,14 @@ pub(super) fn moved_requests<'a>(
     })
 }
 
-/// Runs `compute` on every moved request, the pairs spread over the machine's cores (at most
-/// four): the runs are independent pure calculations, and a phone has the cores to spare while
-/// the operator types. The answers come back in the order of `jobs`; a pair whose thread could
-/// not finish is `None` (the range is then said to be unavailable, never narrowed).
+/// Runs `compute` on every moved request, the pairs spread over `threads` threads, the
+/// calling one among them: the runs are independent pure calculations, and a phone has the
+/// cores to spare while the operator types. The answers come back in the order of `jobs`; a
+/// pair whose thread could not finish is `None` (the range is then said to be unavailable,
+/// never narrowed).
 pub(super) fn run_all<T, F>(
     jobs: &[(&'static str, [Request; 2])],
+    threads: usize,
     compute: F,
 ) -> Vec<Option<[T; 2]>>
 where
@@ -73,29 +75,31 @@ where
     F: Fn(&Request) -> T + Sync,
 {
     let pair = |(_, [low, high]): &(&'static str, [Request; 2])| [compute(low), compute(high)];
-    let threads = std::thread::available_parallelism()
-        .map_or(1, |n| n.get())
-        .min(4)
-        .min(jobs.len());
+    let threads = threads.min(jobs.len());
     if threads <= 1 {
         return jobs.iter().map(|j| Some(pair(j))).collect();
     }
-    // Job i goes to thread i % threads, so a dear input and a cheap one share the load.
+    // Job i goes to thread i % threads, so a dear input and a cheap one share the load; share
+    // 0 is the calling thread's own (one thread fewer to start, a tenth of a moved run).
+    let share = |t: usize| {
+        jobs.iter()
+            .enumerate()
+            .skip(t)
+            .step_by(threads)
+            .map(|(i, j)| (i, pair(j)))
+            .collect::<Vec<_>>()
+    };
     let mut out: Vec<Option<[T; 2]>> = (0..jobs.len()).map(|_| None).collect();
     std::thread::scope(|scope| {
-        let handles: Vec<_> = (0..threads)
+        let handles: Vec<_> = (1..threads)
             .map(|t| {
-                let pair = &pair;
-                scope.spawn(move || {
-                    jobs.iter()
-                        .enumerate()
-                        .skip(t)
-                        .step_by(threads)
-                        .map(|(i, j)| (i, pair(j)))
-                        .collect::<Vec<_>>()
-                })
+                let share = &share;
+                scope.spawn(move || share(t))
             })
             .collect();
+        for (i, answer) in share(0) {
+            out[i] = Some(answer);
+        }
         for h in handles {
             for (i, answer) in h.join().unwrap_or_default() {
                 out[i] = Some(answer);
