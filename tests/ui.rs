@@ -1712,3 +1712,53 @@ fn the_plant_path_solves_two_targets_at_the_demo_post_treatment() {
         path.get_two_after()
     );
 }
+
+/// The real engine, counting the calculations asked of it.
+struct Counting {
+    engine: Rc<dyn molefeed::app::seams::CalcEngine>,
+    computes: Rc<std::cell::Cell<usize>>,
+}
+
+impl molefeed::app::seams::CalcEngine for Counting {
+    fn products(
+        &self,
+        kind: molefeed::app::seams::CalcKind,
+        mode: molefeed::app::seams::CalcMode,
+    ) -> Vec<molefeed::app::seams::ProductChoice> {
+        self.engine.products(kind, mode)
+    }
+
+    fn compute(
+        &self,
+        request: &molefeed::app::seams::CalcRequest,
+    ) -> Result<molefeed::app::seams::CalcOutcome, molefeed::app::seams::SeamError> {
+        self.computes.set(self.computes.get() + 1);
+        self.engine.compute(request)
+    }
+
+    fn titration_curve(
+        &self,
+        request: &molefeed::app::seams::CalcRequest,
+    ) -> Result<molefeed::app::seams::Curve, molefeed::app::seams::SeamError> {
+        self.engine.titration_curve(request)
+    }
+}
+
+#[test]
+fn a_keystroke_asks_the_engine_once() {
+    // A calculation with its ranges is the dear part of a keystroke: the card, the summary
+    // and the follow-up buttons are all read off the one view it gives.
+    let computes = Rc::new(std::cell::Cell::new(0));
+    let (app, handle) = start(Rc::new(Counting {
+        engine: connected_engine(),
+        computes: computes.clone(),
+    }));
+    fill_feed_setting(&app, "1");
+    ready(&handle);
+    for flow in ["1.1", "1.15", "1.2"] {
+        let before = computes.get();
+        type_into(&app, &en("field-flow"), flow);
+        assert_eq!(computes.get() - before, 1, "typing flow {flow}");
+    }
+    one(&app, &en("result-dose"));
+}

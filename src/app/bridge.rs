@@ -6,7 +6,7 @@
 //! typing never loses focus; it is rebuilt when the calculator, units or language change.
 
 use super::RunOptions;
-use super::calc::{CalcController, FieldView, Status, key};
+use super::calc::{CalcController, CalcView, FieldView, Status, key};
 use super::calc_screen::{
     ResultLine, card_text, caution_lines, field_text, follow_up_texts, status_text, summary_text,
     text_field_texts, trace_lines,
@@ -848,7 +848,7 @@ impl Inner {
             }
         }
 
-        self.refresh_calc_more(&adapter, &st.calc, rebuild);
+        self.refresh_calc_more(&adapter, &st.calc, &view, rebuild);
         adapter.set_note(s(st
             .calc
             .note
@@ -944,7 +944,13 @@ impl Inner {
 
     /// The calculator's text inputs (rows kept while typing, as the number fields are) and the
     /// card's follow-up buttons, copied from their view models.
-    fn refresh_calc_more(&self, adapter: &CalcAdapter, calc: &CalcController, rebuild: bool) {
+    fn refresh_calc_more(
+        &self,
+        adapter: &CalcAdapter,
+        calc: &CalcController,
+        view: &CalcView,
+        rebuild: bool,
+    ) {
         let texts = self.texts.borrow();
         let rows: Vec<FieldRow> = text_field_texts(calc, &*texts)
             .into_iter()
@@ -967,7 +973,7 @@ impl Inner {
             }
         }
         adapter.set_follow_ups(model(
-            follow_up_texts(calc, &*texts).into_iter().map(s).collect(),
+            follow_up_texts(view, &*texts).into_iter().map(s).collect(),
         ));
     }
 

@@ -862,21 +862,28 @@ impl CalcController {
     }
 }
 
+/// The screen and variant each follow-up of `view`'s card opens, in the engine's order; empty
+/// when the card is not ready or offers none. Read off a view already computed: a screen that
+/// has its view asks the engine once per keystroke, not again for the buttons.
+pub fn follow_ups_of(view: &CalcView) -> Vec<(CalcKind, CalcMode)> {
+    let Status::Ready(card) = &view.status else {
+        return Vec::new();
+    };
+    card.outcome
+        .table
+        .iter()
+        .flat_map(|o| o.follow_ups.iter())
+        .filter_map(|f| variant_of(f.calculator))
+        .collect()
+}
+
 /// Follow-ups of the card shown (the engine's `Outcome::follow_ups`): generic over the table,
 /// so a screen offers one button per follow-up without knowing which calculators they join.
 impl CalcController {
     /// The screen and variant each follow-up of the current card opens, in the engine's order;
     /// empty when the card is not ready or offers none. Its label is the screen's `calc-<code>`.
     pub fn follow_ups(&self) -> Vec<(CalcKind, CalcMode)> {
-        let Status::Ready(card) = self.view().status else {
-            return Vec::new();
-        };
-        card.outcome
-            .table
-            .iter()
-            .flat_map(|o| o.follow_ups.iter())
-            .filter_map(|f| variant_of(f.calculator))
-            .collect()
+        follow_ups_of(&self.view())
     }
 
     /// Opens follow-up `index` of the current card: its screen and variant, its product, and

@@ -14,7 +14,7 @@
 //! only copies them.
 
 use super::calc::{
-    CalcController, CalcInputs, CalcView, ExtraView, FieldView, ResultView, Status, key,
+    CalcController, CalcInputs, CalcView, ExtraView, FieldView, ResultView, Status, follow_ups_of, key,
 };
 use super::dose_log::{Logging, dose_of};
 use super::log_screen::LogScreen;
@@ -355,9 +355,9 @@ pub fn text_field_texts(calc: &CalcController, words: &dyn Words) -> Vec<FieldTe
 
 /// The card's follow-up buttons in words: "Use this result in Coagulation" (the screen it
 /// opens), one per follow-up the engine offers, in its order (see
-/// [`CalcController::follow_ups`]).
-pub fn follow_up_texts(calc: &CalcController, words: &dyn Words) -> Vec<String> {
-    calc.follow_ups()
+/// [`follow_ups_of`]), read off the view the card was drawn from.
+pub fn follow_up_texts(view: &CalcView, words: &dyn Words) -> Vec<String> {
+    follow_ups_of(view)
         .into_iter()
         .map(|(kind, _)| {
             let screen = words.get(&format!("calc-{}", kind.code()));
