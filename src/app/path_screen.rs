@@ -29,7 +29,9 @@ use crate::engine::path::{self, Path, PathResult, Settings, WaterAt};
 use crate::engine::precision::range_beside;
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
 use crate::engine::water::WaterInput;
+use std::cell::OnceCell;
 use std::collections::BTreeMap;
+use std::sync::Arc;
 
 /// The raw-water readings the path starts from, in the order the screen asks for them.
 pub const WATER_FIELDS: [(&str, Quantity, bool); 4] = [
@@ -167,9 +169,19 @@ pub struct PathScreen {
     doses: BTreeMap<(String, String), String>,
     /// The two-target panel, while open.
     two: Option<TwoTargets>,
+    /// The engine's calculators, built on first use and kept: building them parses the catalog
+    /// and balances its reactions (most of a millisecond), which every view would otherwise
+    /// pay once per point.
+    calculators: OnceCell<Option<Arc<Calculators>>>,
 }
 
 impl PathScreen {
+    fn calculators(&self) -> Option<&Calculators> {
+        self.calculators
+            .get_or_init(|| Calculators::new().ok().map(Arc::new))
+            .as_deref()
+    }
+
     pub fn edit_water(&mut self, name: &str, text: &str) {
         self.water.insert(name.to_string(), text.to_string());
     }
@@ -491,7 +503,7 @@ impl PathScreen {
         let site = session.site();
         let feed = site.path.get(i)?.feeds.first()?;
         let product = site.delivered(&feed.product).ok()?.product.clone();
-        let calculators = Calculators::new().ok()?;
+        let calculators = self.calculators()?;
         let calc = TABLE.iter().find(|c| {
             c.in_app
                 && calculators
@@ -670,7 +682,11 @@ impl PathScreen {
                 request.figures.insert(input.name, f);
             }
         }
-        match Calculators::new().and_then(|c| c.compute(&request)) {
+        let computed = match self.calculators() {
+            Some(c) => c.compute(&request),
+            None => Calculators::new().and_then(|c| c.compute(&request)),
+        };
+        match computed {
             Ok(outcome) => word_two_doses(&mut view, &outcome, &names, lang, system, words),
             Err(e) => {
                 view.message = match e.reason() {

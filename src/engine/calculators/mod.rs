@@ -631,6 +631,7 @@ impl Outcome {
 }
 
 /// The calculators with the built-in product catalog: what a front end holds to compute.
+#[derive(Debug)]
 pub struct Calculators {
     catalog: Catalog,
     /// The threads a result's range may run its moved readings on (at most four), read once:
