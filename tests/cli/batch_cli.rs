@@ -5,7 +5,8 @@
 use crate::support::{BIN, peak_kib, remove, run_with_input, scratch, text};
 use serde_json::Value;
 use std::io::{BufRead, BufReader, Write};
-use std::process::{Command, Stdio};
+use std::process::{Child, ChildStdin, Command, Stdio};
+use std::sync::mpsc::Receiver;
 use std::time::Duration;
 
 const MASS_H2O: &str = r#"{"command":"mass","args":{"positional":["H2O"]}}"#;
@@ -19,6 +20,29 @@ fn answers(stdout: &[u8]) -> Vec<Value> {
 
 fn error_kind(answer: &Value) -> &str {
     answer["error"]["kind"].as_str().unwrap_or("(no error)")
+}
+
+/// A `molefeed batch` talking through pipes: its stdin, and its answers read line by line on a
+/// thread, so a batch that holds an answer back fails a test in time instead of hanging it.
+fn talking_batch() -> (Child, ChildStdin, Receiver<String>) {
+    let mut child = Command::new(BIN)
+        .arg("batch")
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let stdin = child.stdin.take().unwrap();
+    let stdout = BufReader::new(child.stdout.take().unwrap());
+    let (answer_tx, answers) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        for line in stdout.lines() {
+            if answer_tx.send(line.unwrap()).is_err() {
+                break;
+            }
+        }
+    });
+    (child, stdin, answers)
 }
 
 #[test]
@@ -118,24 +142,7 @@ fn a_soak_inside_a_batch_is_refused_and_writes_no_bare_ids() {
 /// the line's size: the length is counted as the bytes stream past, never held.
 #[test]
 fn an_oversize_line_is_refused_without_being_held_in_memory() {
-    let mut child = Command::new(BIN)
-        .arg("batch")
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
-    let mut stdin = child.stdin.take().unwrap();
-    // Answers are read on a thread so a batch that never answers fails the test in time.
-    let stdout = BufReader::new(child.stdout.take().unwrap());
-    let (answer_tx, answers) = std::sync::mpsc::channel();
-    std::thread::spawn(move || {
-        for line in stdout.lines() {
-            if answer_tx.send(line.unwrap()).is_err() {
-                break;
-            }
-        }
-    });
+    let (mut child, mut stdin, answers) = talking_batch();
     let chunk = vec![b'7'; 1 << 20];
     for _ in 0..100 {
         stdin.write_all(&chunk).unwrap();
@@ -171,25 +178,7 @@ fn an_oversize_line_is_refused_without_being_held_in_memory() {
 /// pieces.
 #[test]
 fn a_script_talking_line_by_line_gets_each_answer_before_its_next_request() {
-    let mut child = Command::new(BIN)
-        .arg("batch")
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
-    let mut stdin = child.stdin.take().unwrap();
-    // Answers are read on a thread so a batch that holds an answer back fails the test in
-    // time instead of hanging it.
-    let stdout = BufReader::new(child.stdout.take().unwrap());
-    let (answer_tx, answers) = std::sync::mpsc::channel();
-    std::thread::spawn(move || {
-        for line in stdout.lines() {
-            if answer_tx.send(line.unwrap()).is_err() {
-                break;
-            }
-        }
-    });
+    let (mut child, mut stdin, answers) = talking_batch();
     let mut next_answer = |what: &str| -> Value {
         let line = answers
             .recv_timeout(Duration::from_secs(30))
