@@ -29,6 +29,10 @@ fn main() {
     }
     let calculators = Calculators::new().expect("catalog");
     for _ in 0..count {
-        black_box(calculators.compute(black_box(&r)).expect("the bench's readings are valid"));
+        black_box(
+            calculators
+                .compute(black_box(&r))
+                .expect("the bench's readings are valid"),
+        );
     }
 }

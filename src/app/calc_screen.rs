@@ -14,7 +14,8 @@
 //! only copies them.
 
 use super::calc::{
-    CalcController, CalcInputs, CalcView, ExtraView, FieldView, ResultView, Status, follow_ups_of, key,
+    CalcController, CalcInputs, CalcView, ExtraView, FieldView, ResultView, Status, follow_ups_of,
+    key,
 };
 use super::dose_log::{Logging, dose_of};
 use super::log_screen::LogScreen;

@@ -421,7 +421,10 @@ impl Catalog {
     pub fn reaction(&self, id: &str) -> Result<Reaction> {
         let at = self.reactions.iter().position(|r| r.id == id);
         let entry = self.reaction_entry(id)?;
-        match at.and_then(|i| self.balanced.get(i)).and_then(Option::as_ref) {
+        match at
+            .and_then(|i| self.balanced.get(i))
+            .and_then(Option::as_ref)
+        {
             Some((equation, balanced)) if *equation == entry.equation => Ok(balanced.clone()),
             _ => Reaction::balance(&entry.equation),
         }
