@@ -557,6 +557,41 @@ fn a_reaction_is_written_once_across_the_data_files() {
 }
 
 #[test]
+fn a_reaction_asked_for_again_is_the_one_its_equation_balances_to_now() {
+    use molefeed::engine::reaction::Reaction;
+    let mut c = catalog();
+    let ids: Vec<String> = c.reactions.iter().map(|r| r.id.clone()).collect();
+    for id in &ids {
+        let equation = c.reaction_entry(id).unwrap().equation.clone();
+        let fresh = Reaction::balance(&equation).unwrap().to_string();
+        // The first ask balances and keeps it; the second reads what was kept.
+        assert_eq!(c.reaction(id).unwrap().to_string(), fresh, "{id}");
+        assert_eq!(c.reaction(id).unwrap().to_string(), fresh, "{id} again");
+    }
+    // An equation changed after its reaction was kept is balanced afresh, never the old one.
+    let entry = c
+        .reactions
+        .iter_mut()
+        .find(|r| r.id == "quicklime-slaking")
+        .unwrap();
+    entry.equation = "CaO + CO2 -> CaCO3".into();
+    assert_eq!(
+        c.reaction("quicklime-slaking").unwrap().to_string(),
+        Reaction::balance("CaO + CO2 -> CaCO3").unwrap().to_string()
+    );
+    // An entry that does not balance says so every time it is asked for.
+    let entry = c
+        .reactions
+        .iter_mut()
+        .find(|r| r.id == "breakpoint")
+        .unwrap();
+    entry.equation = "HOCl -> NH3".into();
+    assert!(c.reaction("breakpoint").is_err());
+    assert!(c.reaction("breakpoint").is_err());
+    assert!(c.reaction("no-such-reaction").is_err());
+}
+
+#[test]
 fn catalog_and_demo_site_are_valid() {
     let c = catalog();
     c.validate().unwrap();

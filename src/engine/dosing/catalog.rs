@@ -13,6 +13,7 @@ use crate::engine::sigfig::{Measured, combine, sig_figs_from_decimals};
 use crate::engine::trace::{Origin, Quantity, Trace};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::{Deserialize, Serialize};
+use std::sync::OnceLock;
 
 const PRODUCTS_JSON: &str = include_str!("../../../data/products.json");
 const REACTIONS_JSON: &str = include_str!("../../../data/dosing-reactions.json");
@@ -263,12 +264,13 @@ struct ReactionsFile {
 pub struct Catalog {
     pub products: Vec<Product>,
     pub reactions: Vec<ReactionEntry>,
-    /// Each reaction of the data as the engine balanced it when the catalog was built, with
-    /// the equation it was balanced from: a calculation reads mole ratios on every keystroke
-    /// (and again for every reading moved by its precision), and balancing is the dearest
-    /// step of it. An entry changed or added after the build (the validation tests do) no
-    /// longer matches its equation here and is balanced afresh.
-    balanced: Vec<Option<(String, Reaction)>>,
+    /// Each reaction of the data as the engine balanced it the first time it was asked for,
+    /// with the equation it was balanced from: a calculation reads mole ratios on every
+    /// keystroke (and again for every reading moved by its precision), and balancing is the
+    /// dearest step of it; balancing on first use keeps it out of start-up for the reactions
+    /// no screen asks for. An entry added after the build (the validation tests do) has no
+    /// slot, and one whose equation was changed no longer matches: both are balanced afresh.
+    balanced: Vec<OnceLock<Option<(String, Reaction)>>>,
 }
 
 /// A strength as delivered (from the certificate of analysis or the operator).
@@ -379,16 +381,7 @@ impl Catalog {
         };
         let mut all = reactions("data/dosing-reactions.json", REACTIONS_JSON)?;
         all.extend(reactions("data/reactions.json", CORE_REACTIONS_JSON)?);
-        // A reaction that does not balance is kept out of the cache: asking for it gives the
-        // balancer's own error, as `validate` reports it.
-        let balanced = all
-            .iter()
-            .map(|r| {
-                Reaction::balance(&r.equation)
-                    .ok()
-                    .map(|b| (r.equation.clone(), b))
-            })
-            .collect();
+        let balanced = all.iter().map(|_| OnceLock::new()).collect();
         Ok(Catalog {
             products: products.products,
             reactions: all,
@@ -417,16 +410,24 @@ impl Catalog {
         })
     }
 
-    /// The reaction, balanced exactly by the engine (once, when the catalog was built).
+    /// The reaction, balanced exactly by the engine (once, the first time it is asked for).
     pub fn reaction(&self, id: &str) -> Result<Reaction> {
-        let at = self.reactions.iter().position(|r| r.id == id);
         let entry = self.reaction_entry(id)?;
-        match at
-            .and_then(|i| self.balanced.get(i))
-            .and_then(Option::as_ref)
-        {
-            Some((equation, balanced)) if *equation == entry.equation => Ok(balanced.clone()),
-            _ => Reaction::balance(&entry.equation),
+        let i = self.reactions.iter().position(|r| std::ptr::eq(r, entry));
+        let equation = &entry.equation;
+        // A reaction that does not balance is not kept: asking again gives the balancer's
+        // own error, as `validate` reports it.
+        let cached = i.and_then(|i| self.balanced.get(i)).and_then(|slot| {
+            slot.get_or_init(|| {
+                Reaction::balance(equation)
+                    .ok()
+                    .map(|r| (equation.clone(), r))
+            })
+            .as_ref()
+        });
+        match cached {
+            Some((balanced_from, reaction)) if balanced_from == equation => Ok(reaction.clone()),
+            _ => Reaction::balance(equation),
         }
     }
 
