@@ -568,24 +568,18 @@ fn a_reaction_asked_for_again_is_the_one_its_equation_balances_to_now() {
         assert_eq!(c.reaction(id).unwrap().to_string(), fresh, "{id}");
         assert_eq!(c.reaction(id).unwrap().to_string(), fresh, "{id} again");
     }
+    let rewrite = |c: &mut molefeed::engine::dosing::catalog::Catalog, id: &str, equation: &str| {
+        let entry = c.reactions.iter_mut().find(|r| r.id == id).unwrap();
+        entry.equation = equation.into();
+    };
     // An equation changed after its reaction was kept is balanced afresh, never the old one.
-    let entry = c
-        .reactions
-        .iter_mut()
-        .find(|r| r.id == "quicklime-slaking")
-        .unwrap();
-    entry.equation = "CaO + CO2 -> CaCO3".into();
+    rewrite(&mut c, "quicklime-slaking", "CaO + CO2 -> CaCO3");
     assert_eq!(
         c.reaction("quicklime-slaking").unwrap().to_string(),
         Reaction::balance("CaO + CO2 -> CaCO3").unwrap().to_string()
     );
     // An entry that does not balance says so every time it is asked for.
-    let entry = c
-        .reactions
-        .iter_mut()
-        .find(|r| r.id == "breakpoint")
-        .unwrap();
-    entry.equation = "HOCl -> NH3".into();
+    rewrite(&mut c, "breakpoint", "HOCl -> NH3");
     assert!(c.reaction("breakpoint").is_err());
     assert!(c.reaction("breakpoint").is_err());
     assert!(c.reaction("no-such-reaction").is_err());

@@ -401,23 +401,31 @@ impl Catalog {
     }
 
     pub fn reaction_entry(&self, id: &str) -> Result<&ReactionEntry> {
-        self.reactions.iter().find(|r| r.id == id).ok_or_else(|| {
-            Error::new(
-                ErrorKind::UnknownChemical,
-                format!("unknown reaction '{id}'"),
-            )
-            .with("reaction", id)
-        })
+        self.numbered_entry(id).map(|(_, entry)| entry)
+    }
+
+    /// The entry of reaction `id` with its place in `reactions` (and in `balanced`).
+    fn numbered_entry(&self, id: &str) -> Result<(usize, &ReactionEntry)> {
+        self.reactions
+            .iter()
+            .enumerate()
+            .find(|(_, r)| r.id == id)
+            .ok_or_else(|| {
+                Error::new(
+                    ErrorKind::UnknownChemical,
+                    format!("unknown reaction '{id}'"),
+                )
+                .with("reaction", id)
+            })
     }
 
     /// The reaction, balanced exactly by the engine (once, the first time it is asked for).
     pub fn reaction(&self, id: &str) -> Result<Reaction> {
-        let entry = self.reaction_entry(id)?;
-        let i = self.reactions.iter().position(|r| std::ptr::eq(r, entry));
+        let (i, entry) = self.numbered_entry(id)?;
         let equation = &entry.equation;
         // A reaction that does not balance is not kept: asking again gives the balancer's
         // own error, as `validate` reports it.
-        let cached = i.and_then(|i| self.balanced.get(i)).and_then(|slot| {
+        let cached = self.balanced.get(i).and_then(|slot| {
             slot.get_or_init(|| {
                 Reaction::balance(equation)
                     .ok()
