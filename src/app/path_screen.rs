@@ -169,17 +169,21 @@ pub struct PathScreen {
     doses: BTreeMap<(String, String), String>,
     /// The two-target panel, while open.
     two: Option<TwoTargets>,
-    /// The engine's calculators, built on first use and kept: building them parses the catalog
-    /// and balances its reactions (most of a millisecond), which every view would otherwise
-    /// pay once per point.
-    calculators: OnceCell<Option<Arc<Calculators>>>,
+    /// The engine's calculators (or why they could not be built), built on first use and
+    /// kept: building them parses the catalog, which every view would otherwise pay once per
+    /// point.
+    calculators: OnceCell<Result<Arc<Calculators>, crate::engine::Error>>,
 }
 
 impl PathScreen {
-    fn calculators(&self) -> Option<&Calculators> {
-        self.calculators
-            .get_or_init(|| Calculators::new().ok().map(Arc::new))
-            .as_deref()
+    fn calculators(&self) -> Result<&Calculators, crate::engine::Error> {
+        match self
+            .calculators
+            .get_or_init(|| Calculators::new().map(Arc::new))
+        {
+            Ok(c) => Ok(c),
+            Err(e) => Err(e.clone()),
+        }
     }
 
     pub fn edit_water(&mut self, name: &str, text: &str) {
@@ -503,7 +507,7 @@ impl PathScreen {
         let site = session.site();
         let feed = site.path.get(i)?.feeds.first()?;
         let product = site.delivered(&feed.product).ok()?.product.clone();
-        let calculators = self.calculators()?;
+        let calculators = self.calculators().ok()?;
         let calc = TABLE.iter().find(|c| {
             c.in_app
                 && calculators
@@ -682,11 +686,7 @@ impl PathScreen {
                 request.figures.insert(input.name, f);
             }
         }
-        let computed = match self.calculators() {
-            Some(c) => c.compute(&request),
-            None => Calculators::new().and_then(|c| c.compute(&request)),
-        };
-        match computed {
+        match self.calculators().and_then(|c| c.compute(&request)) {
             Ok(outcome) => word_two_doses(&mut view, &outcome, &names, lang, system, words),
             Err(e) => {
                 view.message = match e.reason() {
