@@ -83,10 +83,7 @@ impl Args {
 
     /// Builds arguments from a batch request's `args` object (names as the long flags, `_` for `-`).
     pub fn from_json(value: &Value) -> Result<Args, CliError> {
-        let mut args = Args {
-            from_batch: true,
-            ..Args::default()
-        };
+        let mut args = Args::batch();
         let Some(object) = value.as_object() else {
             return if value.is_null() {
                 Ok(args)
@@ -95,27 +92,55 @@ impl Args {
             };
         };
         for (name, v) in object {
-            let name = name.replace('_', "-");
-            if name == "positional" {
-                for p in v.as_array().into_iter().flatten() {
-                    args.positional.push(json_text(p));
-                }
-                continue;
-            }
-            match v {
-                // A repeatable flag's values as a list: `"step": ["lime=20", "alum=30"]`.
-                Value::Array(items) if REPEATABLE.contains(&name.as_str()) => {
-                    for item in items {
-                        args.insert(&name, Some(json_text(item)))?;
-                    }
-                }
-                Value::Bool(true) => args.insert(&name, None)?,
-                Value::Bool(false) | Value::Null => {}
-                other => args.insert(&name, Some(json_text(other)))?,
-            }
+            args.add_json(name, v)?;
         }
         args.insert("json", None).ok();
         Ok(args)
+    }
+
+    /// A `molefeed batch` line read straight into its command and arguments, without the JSON
+    /// tree of the whole line that [`Args::from_json`] reads (a map of owned keys, walked once
+    /// and dropped): each argument's value is read on its own and added as `from_json` adds
+    /// it. Returns `None` for anything but an object whose `args` is an object, and the caller
+    /// reads such a line through `from_json`, which says what is wrong with it.
+    pub fn from_request(text: &str) -> Option<(String, Result<Args, CliError>)> {
+        let mut de = serde_json::Deserializer::from_str(text);
+        let (command, args) = serde::Deserializer::deserialize_map(&mut de, Request).ok()?;
+        // Trailing characters after the object are refused, as `serde_json::from_str` does.
+        de.end().ok()?;
+        Some((command?, args?))
+    }
+
+    /// No arguments, from a batch line.
+    fn batch() -> Args {
+        Args {
+            from_batch: true,
+            ..Args::default()
+        }
+    }
+
+    /// Adds one entry of a batch request's `args` object (`name` as the long flag, `_` for
+    /// `-`).
+    fn add_json(&mut self, name: &str, v: &Value) -> Result<(), CliError> {
+        let name = name.replace('_', "-");
+        if name == "positional" {
+            for p in v.as_array().into_iter().flatten() {
+                self.positional.push(json_text(p));
+            }
+            return Ok(());
+        }
+        match v {
+            // A repeatable flag's values as a list: `"step": ["lime=20", "alum=30"]`.
+            Value::Array(items) if REPEATABLE.contains(&name.as_str()) => {
+                for item in items {
+                    self.insert(&name, Some(json_text(item)))?;
+                }
+            }
+            Value::Bool(true) => self.insert(&name, None)?,
+            Value::Bool(false) | Value::Null => {}
+            other => self.insert(&name, Some(json_text(other)))?,
+        }
+        Ok(())
     }
 
     fn insert(&mut self, name: &str, value: Option<String>) -> Result<(), CliError> {
@@ -251,6 +276,122 @@ fn is_flag(word: &str) -> bool {
     word.starts_with("--") && word.len() > 2
 }
 
+/// A batch line's top level: `command` (a string) and `args` (an object, see [`ArgsObject`]);
+/// any other key is skipped, as [`Args::from_json`]'s caller skips it. `None` in either place
+/// sends the line to the slower path, which names what is wrong.
+struct Request;
+
+type RequestParts = (Option<String>, Option<Result<Args, CliError>>);
+
+impl<'de> serde::de::Visitor<'de> for Request {
+    type Value = RequestParts;
+
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        f.write_str("a batch request object")
+    }
+
+    fn visit_map<M: serde::de::MapAccess<'de>>(self, mut map: M) -> Result<RequestParts, M::Error> {
+        // No `args` is no arguments, as `"args": null` is.
+        let (mut command, mut args) = (None, Some(Ok(Args::batch())));
+        while let Some(key) = map.next_key::<Key<'de>>()? {
+            match &*key.0 {
+                // A later duplicate replaces an earlier one, as in a `Value` object.
+                "command" => command = map.next_value::<Value>()?.as_str().map(String::from),
+                "args" => args = map.next_value_seed(ArgsObject)?,
+                _ => {
+                    map.next_value::<serde::de::IgnoredAny>()?;
+                }
+            }
+        }
+        Ok((command, args))
+    }
+}
+
+/// A batch request's `args` object, each entry added by [`Args::add_json`] as it is read.
+/// The first refused entry is the answer; the rest of the object is still read, so that a
+/// line that is not JSON is still refused as such. `None` when `args` is not an object.
+struct ArgsObject;
+
+impl<'de> serde::de::DeserializeSeed<'de> for ArgsObject {
+    type Value = Option<Result<Args, CliError>>;
+
+    fn deserialize<D: serde::Deserializer<'de>>(self, de: D) -> Result<Self::Value, D::Error> {
+        de.deserialize_any(self)
+    }
+}
+
+impl<'de> serde::de::Visitor<'de> for ArgsObject {
+    type Value = Option<Result<Args, CliError>>;
+
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        f.write_str("an object of arguments")
+    }
+
+    fn visit_map<M: serde::de::MapAccess<'de>>(self, mut map: M) -> Result<Self::Value, M::Error> {
+        let mut args = Ok(Args::batch());
+        while let Some(key) = map.next_key::<Key<'de>>()? {
+            let value: Value = map.next_value()?;
+            if let Ok(a) = &mut args
+                && let Err(e) = a.add_json(&key.0, &value)
+            {
+                args = Err(e);
+            }
+        }
+        Ok(Some(args.map(|mut a| {
+            a.insert("json", None).ok();
+            a
+        })))
+    }
+
+    /// `"args": null` is no arguments, as in [`Args::from_json`].
+    fn visit_unit<E>(self) -> Result<Self::Value, E> {
+        Ok(Some(Ok(Args::batch())))
+    }
+
+    // Any other type: `None`, read again by the slower path.
+    fn visit_bool<E>(self, _: bool) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_i64<E>(self, _: i64) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_u64<E>(self, _: u64) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_f64<E>(self, _: f64) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_str<E>(self, _: &str) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_seq<S: serde::de::SeqAccess<'de>>(self, mut seq: S) -> Result<Self::Value, S::Error> {
+        while seq.next_element::<serde::de::IgnoredAny>()?.is_some() {}
+        Ok(None)
+    }
+}
+
+/// An object key, borrowed from the line unless it holds an escape.
+struct Key<'de>(std::borrow::Cow<'de, str>);
+
+impl<'de> serde::Deserialize<'de> for Key<'de> {
+    fn deserialize<D: serde::Deserializer<'de>>(de: D) -> Result<Self, D::Error> {
+        struct KeyVisitor;
+        impl<'de> serde::de::Visitor<'de> for KeyVisitor {
+            type Value = Key<'de>;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("a key")
+            }
+            fn visit_borrowed_str<E>(self, v: &'de str) -> Result<Key<'de>, E> {
+                Ok(Key(std::borrow::Cow::Borrowed(v)))
+            }
+            fn visit_str<E>(self, v: &str) -> Result<Key<'de>, E> {
+                Ok(Key(std::borrow::Cow::Owned(v.to_string())))
+            }
+        }
+        de.deserialize_str(KeyVisitor)
+    }
+}
+
 fn json_text(value: &Value) -> String {
     match value {
         Value::String(s) => s.clone(),
@@ -339,5 +480,55 @@ mod tests {
                 "{good}"
             );
         }
+    }
+
+    /// A batch line read straight (`from_request`) gives the arguments, or the refusal, the
+    /// JSON tree (`from_json`) gives; lines that are not a well-formed request go to the tree.
+    fn check_request(line: &str, fast: bool) {
+        let tree: Value = serde_json::from_str(line).unwrap();
+        let slow = Args::from_json(&tree["args"]);
+        match Args::from_request(line) {
+            Some((command, got)) => {
+                assert!(fast, "{line}: read straight, expected the tree");
+                assert_eq!(Some(command.as_str()), tree["command"].as_str(), "{line}");
+                match (got, slow) {
+                    (Ok(a), Ok(b)) => assert_eq!(format!("{a:?}"), format!("{b:?}"), "{line}"),
+                    (Err(a), Err(b)) => assert_eq!(a.kind, b.kind, "{line}: {a:?} / {b:?}"),
+                    (a, b) => panic!("{line}: straight {a:?}, tree {b:?}"),
+                }
+            }
+            None => assert!(!fast, "{line}: sent to the tree, expected it read straight"),
+        }
+    }
+
+    #[test]
+    fn a_batch_line_read_straight_gives_what_its_json_tree_gives() {
+        for line in [
+            r#"{"command":"ph-after","args":{"chemical":"lime","dose":20,"ph":7.1,"temperature":12.5,"alkalinity":80}}"#,
+            r#"{"args":{"calcium_as_caco3":120.5,"json":true,"precipitate":null,"help":false},"command":"ph-after"}"#,
+            r#"{"command":"mass","args":{"positional":["H2O", 3]}}"#,
+            r#"{"command":"path","args":{"step":["lime=20","carbon-dioxide=5"]},"note":{"any":[1,2]}}"#,
+            r#"{"command":"mass","args":null}"#,
+            r#"{"command":"mass"}"#,
+            r#"{"command":"ph-after","args":{"d\u006fse":"1e30"}}"#,
+            r#"{"command":"ph-after","args":{"dose":1e30,"ph":7}}"#,
+            r#"{"command":"ph-after","args":{"dose":{"nested":1}}}"#,
+            r#" {"command":"ph-after","args":{"dose":-0.0}} "#,
+        ] {
+            check_request(line, true);
+        }
+        for line in [
+            r#"{"command":5,"args":{}}"#,
+            r#"{"args":{}}"#,
+            r#"{"command":"mass","args":[1]}"#,
+            r#"{"command":"mass","args":"H2O"}"#,
+            r#"["mass"]"#,
+            r#""mass""#,
+        ] {
+            check_request(line, false);
+        }
+        // Not JSON (a trailing word, a cut line): left to the tree, which refuses it.
+        assert!(Args::from_request(r#"{"command":"mass"} x"#).is_none());
+        assert!(Args::from_request(r#"{"command":"mass","args":{"dose":"#).is_none());
     }
 }

@@ -635,6 +635,10 @@ fn answer_line(line: &BatchLine, answer: &mut Vec<u8>) -> Result<(), CliError> {
             reason: None,
         })?,
     };
+    if let Some((command, args)) = Args::from_request(text) {
+        return execute(&command, &args?, true, answer);
+    }
+    // Not a well-formed request: read as a JSON tree, which says what is wrong with it.
     let request: Value = serde_json::from_str(text)
         .map_err(|e| CliError::usage(format!("batch line is not JSON: {e}")))?;
     let command = request["command"]
