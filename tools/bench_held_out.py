@@ -28,7 +28,9 @@ time (--chunk, default 1000) so that a change in the load of a shared machine fa
       starting a process (and Python's fork and pipe set-up) per chunk. This was the script's
       only way before 2026-12-04; it is kept so figures from then compare.
     Both include JSON parsing, the water built from the readings, the chemistry and the JSON
-    answer; the answers of the two ways must be the same bytes.
+    answer; the answers of the two ways must be the same bytes. Each asks for the pH alone
+    (`"fields": "ph"`), as PHREEQC's selected output does; --whole asks for the whole answer
+    with every species (about 1.5 kB a line), as every run did before 2026-12-04 (afternoon).
 The script prints µs per request for each, their ratios, and the worst |ΔpH| between molefeed and
 PHREEQC (a speed that gave other answers would not count).
 """
@@ -97,12 +99,18 @@ def phreeqc_text(w, chem, dose):
     return text + f"    {dose / mass(chem[1]):.12g} mmol\n" + SELECT + "END\n"
 
 
-def request(w, chem, dose):
+def request(w, chem, dose, whole=False):
+    """The batch line for one water. Like PHREEQC's SELECTED_OUTPUT above, it asks for the pH
+    alone (`fields`; the advisory caution comes with every answer), unless `whole`: the
+    whole answer, every species included, as every line was before 2026-12-04 (afternoon)."""
     _, t, ph, alk, ca, mg, na, k, cl, so4 = w
-    return {"command": "ph-after", "args": {
+    args = {
         "chemical": chem[0], "dose": dose, "ph": ph, "temperature": t, "alkalinity": alk,
         "calcium_as_caco3": ca, "magnesium_as_caco3": mg, "sodium": na, "potassium": k,
-        "chloride": cl, "sulfate": so4}}
+        "chloride": cl, "sulfate": so4}
+    if not whole:
+        args["fields"] = "ph"
+    return {"command": "ph-after", "args": args}
 
 
 class Streamed:
@@ -152,6 +160,8 @@ def main():
     p.add_argument("--seed", type=int, default=15)
     p.add_argument("--chunk", type=int, default=1000,
                    help="requests per turn")
+    p.add_argument("--whole", action="store_true",
+                   help="ask molefeed for its whole answer, not the pH alone")
     p.add_argument("--binary", default=os.path.join(
         os.environ.get("CARGO_TARGET_DIR", os.path.join(ROOT, "target")), "release", "molefeed"))
     a = p.parse_args()
@@ -162,7 +172,7 @@ def main():
     pp = phreeqpython.PhreeqPython(database="phreeqc.dat")
     ip = pp.ip
     texts = [phreeqc_text(w, c, d) for w, c, d in cases]
-    lines = [json.dumps(request(w, c, d)) for w, c, d in cases]
+    lines = [json.dumps(request(w, c, d, a.whole)) for w, c, d in cases]
     streamed = Streamed(a.binary)
     # The programs take turns, a chunk of requests each, so a change in the load of a shared
     # machine falls on all of them rather than on whichever ran last.
@@ -194,6 +204,7 @@ def main():
 
     load = os.getloadavg()[0]
     print(f"held-out full-ion waters: {len(cases)} (seed {a.seed}), pH after a dose, "
+          f"molefeed answers {'whole' if a.whole else 'pH alone (fields)'}, "
           f"load average {load:.2f}")
     print(f"PHREEQC (phreeqpython {getattr(phreeqpython, '__version__', '1.6.2')}) "
           f"{phreeqc * 1e6:8.1f} µs per request")

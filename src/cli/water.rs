@@ -175,6 +175,36 @@ impl<'a> Answer<'a> {
         self
     }
 
+    /// `--fields a,b` (with `--json`): only these keys of the answer, and `cautions`, which
+    /// every answer carries (the advisory is never left off). A script that reads one number
+    /// then pays neither for formatting the whole speciation nor for reading it back. A key
+    /// the answer does not have is refused with the list of those it has. Every number was
+    /// checked by [`Answer::of_water`] before any is left off.
+    fn selected(mut self, args: &Args) -> Result<Self, CliError> {
+        let Some(list) = args.text("fields")? else {
+            return Ok(self);
+        };
+        if !args.switch("json") {
+            return Err(CliError::usage(
+                "--fields chooses keys of the JSON answer: give --json with it",
+            ));
+        }
+        let wanted: Vec<&str> = list.split(',').map(str::trim).collect();
+        if let Some(unknown) = wanted
+            .iter()
+            .find(|w| !self.fields.iter().any(|(key, _)| key == *w))
+        {
+            let mut keys: Vec<&str> = self.fields.iter().map(|(key, _)| *key).collect();
+            keys.sort_unstable();
+            return Err(CliError::usage(format!(
+                "--fields: this answer has no key '{unknown}'; its keys are {}",
+                keys.join(", ")
+            )));
+        }
+        self.fields.retain(|(key, _)| wanted.contains(key));
+        Ok(self)
+    }
+
     /// The answer as a JSON value (a rendered field is parsed back).
     fn to_value(&self) -> Value {
         let mut object = serde_json::Map::new();
@@ -264,10 +294,14 @@ pub(super) fn stream(
     let mut text = Vec::with_capacity(2048);
     let written = match command {
         "ph-after" => ph_after_answer(args).and_then(|(w, chem, dose, mode)| {
-            finish(args, ph_after_fields(&w, chem, dose, mode)?, &mut text)
+            finish(
+                args,
+                ph_after_fields(args, &w, chem, dose, mode)?,
+                &mut text,
+            )
         }),
         "dose-for-ph" => dose_for_ph_answer(args).and_then(|(r, chem, target, _)| {
-            finish(args, dose_for_ph_fields(&r, chem, target)?, &mut text)
+            finish(args, dose_for_ph_fields(args, &r, chem, target)?, &mut text)
         }),
         _ => return None,
     };
@@ -325,21 +359,23 @@ fn ph_after_answer(args: &Args) -> Result<PhAfter, CliError> {
 }
 
 fn ph_after_fields<'a>(
+    args: &Args,
     w: &'a WaterResult,
     chem: &'static Chemical,
     dose: f64,
     mode: Precipitation,
 ) -> Result<Answer<'a>, CliError> {
-    Ok(Answer::of_water(w)?
+    Answer::of_water(w)?
         .with("chemical", Field::Text(chem.id.as_str()))
         .with("dose_mg_l", Field::Number(dose))
-        .with("precipitate", Field::Text(mode_name(mode))))
+        .with("precipitate", Field::Text(mode_name(mode)))
+        .selected(args)
 }
 
 /// `molefeed ph-after --chemical X --dose D [--precipitate none|hydroxide|complete] WATER`
 pub fn ph_after(args: &Args) -> CliResult {
     let (w, chem, dose, mode) = ph_after_answer(args)?;
-    let json = ph_after_fields(&w, chem, dose, mode)?.to_value();
+    let json = ph_after_fields(args, &w, chem, dose, mode)?.to_value();
     Ok(Report {
         human: human_text(args, || {
             format!(
@@ -374,20 +410,22 @@ fn dose_for_ph_answer(args: &Args) -> Result<DoseForPh, CliError> {
 }
 
 fn dose_for_ph_fields<'a>(
+    args: &Args,
     r: &'a water::DoseResult,
     chem: &'static Chemical,
     target: f64,
 ) -> Result<Answer<'a>, CliError> {
-    Ok(Answer::of_water(&r.water)?
+    Answer::of_water(&r.water)?
         .with("dose_mg_l", Field::Number(r.dose_mg_l))
         .with("chemical", Field::Text(chem.id.as_str()))
-        .with("target_ph", Field::Number(target)))
+        .with("target_ph", Field::Number(target))
+        .selected(args)
 }
 
 /// `molefeed dose-for-ph --chemical X --target-ph P WATER`
 pub fn dose_for_ph(args: &Args) -> CliResult {
     let (r, chem, target, ph_before) = dose_for_ph_answer(args)?;
-    let json = dose_for_ph_fields(&r, chem, target)?.to_value();
+    let json = dose_for_ph_fields(args, &r, chem, target)?.to_value();
     Ok(Report {
         human: human_text(args, || {
             format!(

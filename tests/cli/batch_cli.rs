@@ -248,3 +248,44 @@ fn a_script_talking_line_by_line_gets_each_answer_before_its_next_request() {
     drop(stdin);
     assert_eq!(child.wait().unwrap().code(), Some(0));
 }
+
+/// The same request written three ways (keys in another order, an escaped key, `fields`)
+/// through the binary: the straight read and the JSON tree behind it answer alike, and a
+/// line that is not a well-formed request still gets its refusal.
+#[test]
+fn a_water_request_is_answered_alike_however_its_json_is_written() {
+    let water = r#""ph":7.3,"temperature":14,"alkalinity":75,"calcium_as_caco3":90,"sodium":12,"chloride":15"#;
+    let input = format!(
+        "{{\"command\":\"ph-after\",\"args\":{{\"chemical\":\"caustic\",\"dose\":6,{water}}}}}\n\
+         {{\"args\":{{{water},\"d\\u006fse\":6,\"chemical\":\"caustic\"}},\"command\":\"ph-after\"}}\n\
+         {{\"command\":\"ph-after\",\"args\":{{\"chemical\":\"caustic\",\"dose\":6,\"fields\":\"ph\",{water}}}}}\n\
+         {{\"command\":\"ph-after\",\"args\":{{\"chemical\":\"caustic\",\"dose\":6,\"dose\":7,{water}}}}}\n\
+         {{\"command\":\"ph-after\",\"args\":[6]}}\n\
+         {{\"command\":\"ph-after\",\"args\":{{\"dose\":6}}}} trailing\n"
+    );
+    let out = run_with_input(&["batch"], input.as_bytes(), Duration::from_secs(60));
+    let answers = answers(&out.stdout);
+    assert_eq!(answers.len(), 6, "{}", text(&out.stdout));
+    assert_eq!(answers[0], answers[1]);
+    let ph = answers[0]["ph"].as_f64().unwrap();
+    assert!(ph > 7.3 && ph < 9.5, "{}", answers[0]);
+    assert_eq!(answers[2]["ph"], answers[0]["ph"]);
+    assert_eq!(answers[2]["cautions"], answers[0]["cautions"]);
+    assert_eq!(answers[2].as_object().unwrap().len(), 2, "{}", answers[2]);
+    // A key given twice is refused, not the last one silently kept.
+    assert_eq!(error_kind(&answers[3]), "usage", "{}", answers[3]);
+    assert_eq!(error_kind(&answers[4]), "usage", "{}", answers[4]);
+    assert!(
+        answers[4]["error"]["message"]
+            .as_str()
+            .unwrap()
+            .contains("object")
+    );
+    assert!(
+        answers[5]["error"]["message"]
+            .as_str()
+            .unwrap()
+            .contains("not JSON")
+    );
+    assert_eq!(out.status.code(), Some(1));
+}

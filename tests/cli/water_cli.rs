@@ -292,3 +292,52 @@ fn path_on_the_demo_site_runs_its_own_path_with_ct_through_the_clearwell() {
     assert!((t10 - 75.0).abs() < 1e-6, "{t10}");
     assert!(json["finished"]["ph_range"].is_array());
 }
+
+#[test]
+fn fields_keeps_only_the_keys_asked_for_and_always_the_advisory() {
+    let whole = run("ph-after", "--chemical Ca(OH)2 --dose 15").unwrap();
+    let chosen = run(
+        "ph-after",
+        "--chemical Ca(OH)2 --dose 15 --fields ph,dic_mmol_l",
+    )
+    .unwrap();
+    let mut keys: Vec<&str> = chosen
+        .as_object()
+        .unwrap()
+        .keys()
+        .map(String::as_str)
+        .collect();
+    keys.sort_unstable();
+    assert_eq!(keys, ["cautions", "dic_mmol_l", "ph"], "{chosen}");
+    assert_eq!(chosen["ph"], whole["ph"]);
+    assert_eq!(chosen["dic_mmol_l"], whole["dic_mmol_l"]);
+    assert_eq!(chosen["cautions"], whole["cautions"]);
+    let dose = run(
+        "dose-for-ph",
+        "--chemical NaOH --target-ph 8.2 --fields dose_mg_l",
+    )
+    .unwrap();
+    assert!(
+        dose["dose_mg_l"].as_f64().is_some_and(|d| d > 0.0),
+        "{dose}"
+    );
+    assert!(dose.get("ph").is_none(), "{dose}");
+    // A key the answer does not have, an empty list, and the human text: refused.
+    assert_eq!(
+        run("ph-after", "--chemical Ca(OH)2 --dose 15 --fields pH").unwrap_err(),
+        "usage"
+    );
+    assert_eq!(
+        run("ph-after", "--chemical Ca(OH)2 --dose 15 --fields ,").unwrap_err(),
+        "usage"
+    );
+    let words: Vec<String> =
+        "--chemical Ca(OH)2 --dose 15 --ph 7.4 --temperature 12 --alkalinity 90 --fields ph"
+            .split_whitespace()
+            .map(String::from)
+            .collect();
+    let Err(e) = dispatch("ph-after", &Args::parse(&words).unwrap()) else {
+        panic!("--fields without --json was answered");
+    };
+    assert!(e.message.contains("--json"), "{}", e.message);
+}
