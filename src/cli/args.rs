@@ -28,6 +28,11 @@ pub struct Args {
 #[derive(Debug)]
 struct Flag {
     value: Option<String>,
+    /// A value a batch line gave as a JSON number: read as that number (no text made and
+    /// parsed back), its text (`value`, `None` until then) made only if a command reads the
+    /// flag as text.
+    number: Option<(serde_json::Number, f64)>,
+    text_of_number: std::cell::OnceCell<String>,
     used: Cell<bool>,
 }
 
@@ -35,7 +40,17 @@ impl Flag {
     fn new(value: Option<String>) -> Flag {
         Flag {
             value,
+            number: None,
+            text_of_number: std::cell::OnceCell::new(),
             used: Cell::new(false),
+        }
+    }
+
+    /// The flag's text: as given, or the JSON number's own text.
+    fn text(&self) -> Option<&str> {
+        match &self.number {
+            Some((n, _)) => Some(self.text_of_number.get_or_init(|| n.to_string())),
+            None => self.value.as_deref(),
         }
     }
 }
@@ -138,6 +153,16 @@ impl Args {
             }
             Value::Bool(true) => self.insert(&name, None)?,
             Value::Bool(false) | Value::Null => {}
+            Value::Number(n) => {
+                let value = n.as_f64().unwrap_or(f64::NAN);
+                if !out_of_range(value) {
+                    let mut flag = Flag::new(None);
+                    flag.number = Some((n.clone(), value));
+                    return self.insert_flag(&name, flag);
+                }
+                // Refused as its text would be.
+                self.insert(&name, Some(n.to_string()))?
+            }
             other => self.insert(&name, Some(json_text(other)))?,
         }
         Ok(())
@@ -153,11 +178,12 @@ impl Args {
             self.flags.insert(name.to_string(), Flag::new(value));
             return Ok(());
         }
-        if self
-            .flags
-            .insert(name.to_string(), Flag::new(value))
-            .is_some()
-        {
+        self.insert_flag(name, Flag::new(value))
+    }
+
+    /// Adds a flag that may not be given twice.
+    fn insert_flag(&mut self, name: &str, flag: Flag) -> Result<(), CliError> {
+        if self.flags.insert(name.to_string(), flag).is_some() {
             return Err(CliError::usage(format!("--{name} given twice")));
         }
         Ok(())
@@ -192,11 +218,13 @@ impl Args {
     }
 
     pub fn text(&self, name: &str) -> Result<Option<&str>, CliError> {
-        self.mark(name);
-        match self.flags.get(name).map(|f| &f.value) {
-            None => Ok(None),
-            Some(None) => Err(CliError::usage(format!("--{name} needs a value"))),
-            Some(Some(v)) => Ok(Some(v.as_str())),
+        let Some(flag) = self.flags.get(name) else {
+            return Ok(None);
+        };
+        flag.used.set(true);
+        match flag.text() {
+            None => Err(CliError::usage(format!("--{name} needs a value"))),
+            Some(v) => Ok(Some(v)),
         }
     }
 
@@ -218,6 +246,16 @@ impl Args {
     }
 
     pub fn number(&self, name: &str) -> Result<Option<f64>, CliError> {
+        if let Some(Flag {
+            number: Some((_, value)),
+            used,
+            ..
+        }) = self.flags.get(name)
+        {
+            // A JSON number, checked when it was added.
+            used.set(true);
+            return Ok(Some(*value));
+        }
         let Some(text) = self.text(name)? else {
             return Ok(None);
         };
@@ -259,8 +297,7 @@ fn check_magnitude(name: &str, text: &str) -> Result<(), CliError> {
     let Ok(value) = text.trim().parse::<f64>() else {
         return Ok(());
     };
-    let magnitude = value.abs();
-    if magnitude == 0.0 || (SMALLEST_INPUT..=LARGEST_INPUT).contains(&magnitude) {
+    if !out_of_range(value) {
         return Ok(());
     }
     Err(CliError {
@@ -270,6 +307,12 @@ fn check_magnitude(name: &str, text: &str) -> Result<(), CliError> {
         ),
         reason: None,
     })
+}
+
+/// Whether a number is beyond what a measurement can be (see [`check_magnitude`]).
+fn out_of_range(value: f64) -> bool {
+    let magnitude = value.abs();
+    !(magnitude == 0.0 || (SMALLEST_INPUT..=LARGEST_INPUT).contains(&magnitude))
 }
 
 fn is_flag(word: &str) -> bool {
@@ -454,6 +497,24 @@ mod tests {
             let args = Args::from_json(&serde_json::json!({ "dose": bad })).unwrap();
             assert!(args.number("dose").is_err(), "{bad}");
         }
+    }
+
+    #[test]
+    fn a_json_number_reads_as_itself_and_as_its_own_text() {
+        let args =
+            Args::from_json(&serde_json::json!({ "dose": 20, "ph": 7.25, "flow": -0.0 })).unwrap();
+        assert_eq!(args.number("dose").unwrap(), Some(20.0));
+        assert_eq!(args.text("dose").unwrap(), Some("20"));
+        assert_eq!(args.required_number("ph").unwrap(), 7.25);
+        assert_eq!(args.text("ph").unwrap(), Some("7.25"));
+        assert_eq!(args.number("flow").unwrap(), Some(0.0));
+        assert!(args.switch("json"), "a batch line always answers in JSON");
+        assert!(args.reject_unused().is_ok());
+        let e = Args::from_json(&serde_json::json!({ "dose": 1e30 })).unwrap_err();
+        assert_eq!(e.kind, "invalid-input");
+        assert!(e.message.contains("--dose 1e+30"), "{}", e.message);
+        let e = Args::from_json(&serde_json::json!({ "dose": 20, "dose_": 1 }));
+        assert!(e.is_ok(), "different names");
     }
 
     #[test]
