@@ -84,6 +84,9 @@ pub struct Layout {
     class: Vec<usize>,
     classes: Vec<(GammaModel, i32)>,
     h_class: usize,
+    /// Per activity class, the component masks of its species: a class none of whose species
+    /// a water holds needs no γ while Newton iterates ([`Layout::classes_needed`]).
+    class_species_masks: Vec<Vec<u16>>,
     /// Activity classes of the species before `table.n_core` (and H+) come first: while no
     /// phosphate, fluoride or silica is present only these are evaluated.
     n_core_classes: usize,
@@ -246,6 +249,10 @@ impl Layout {
                 class[s] = class_of(&mut classes, def.gamma, def.z);
             }
         }
+        let mut class_species_masks = vec![Vec::new(); classes.len()];
+        for (s, &c) in class.iter().enumerate() {
+            class_species_masks[c].push(mask[s]);
+        }
         Layout {
             by_comp,
             comp_idx,
@@ -255,8 +262,21 @@ impl Layout {
             class,
             classes,
             h_class,
+            class_species_masks,
             n_core_classes,
         }
+    }
+
+    /// Bit set of the activity classes (at most 64; more are always needed) with a species
+    /// made only of the `active` components, and H+'s class.
+    fn classes_needed(&self, active: u16) -> u64 {
+        let mut needed = 1u64 << self.h_class.min(63);
+        for (k, masks) in self.class_species_masks.iter().enumerate() {
+            if k >= 64 || masks.iter().any(|&m| m & !active == 0) {
+                needed |= 1u64 << k.min(63);
+            }
+        }
+        needed
     }
 }
 
@@ -308,17 +328,23 @@ impl Solver {
         by_class[self.h_class]
     }
 
-    /// Like [`Solver::gammas`], also filling d(log10 γ)/dI per species; returns (γ_H, its slope).
+    /// Like [`Solver::gammas`], also filling d(log10 γ)/dI per species; returns (γ_H, its
+    /// slope). Only the classes in `needed` ([`Layout::classes_needed`]) are evaluated: the
+    /// others' species are absent from the water, and their γ is left at 1 for the steps.
     fn gammas_with_slopes(
         &self,
         i: f64,
         gamma: &mut [f64],
         dlg: &mut [f64],
         p: &Problem,
+        needed: u64,
     ) -> (f64, f64) {
         let span = self.span(p);
         let mut by_class = [(1.0f64, 0.0f64); 48];
         for (k, &(model, z)) in self.classes.iter().enumerate().take(span.classes.min(48)) {
+            if k < 64 && needed & (1 << k) == 0 {
+                continue;
+            }
             by_class[k] = (
                 pow10(activity::log_gamma(model, z, i, &self.th, self.table)),
                 activity::dlog_gamma_di(model, z, i, &self.th, self.table),
@@ -578,14 +604,27 @@ impl Solver {
             self.distribute(x, &q, &gamma, &mut free, &mut conc, 1e-6);
         }
         let mut jac = [[0.0f64; N + 1]; N];
+        let needed = self.classes_needed(active);
         // The per-species tables as local slices: the species loop below then keeps their
         // addresses in registers instead of reading them through the shared layout each time.
         let (mask, k_of): (&[u16], &[f64]) = (&self.mask, &self.th.k);
         let (comp_len, comp_idx, comp_n): (&[u8], &[[u8; 3]], &[[u8; 3]]) =
             (&self.comp_len, &self.comp_idx, &self.comp_n);
         for _ in 0..40 {
-            let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg, p);
+            let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg, p, needed);
             let a_h = pow10(x);
+            // {H+}^h for h = -4..=3, as in `distribute`.
+            let inv_h = 1.0 / a_h;
+            let h_power = [
+                inv_h * inv_h * inv_h * inv_h,
+                inv_h * inv_h * inv_h,
+                inv_h * inv_h,
+                inv_h,
+                1.0,
+                a_h,
+                a_h * a_h,
+                a_h * a_h * a_h,
+            ];
             // Caps: a master whose total would be supersaturated with its hydroxide is held at
             // the hydroxide's solubility. The test is the dissolved total at the cap (not the
             // current free value), so the active set does not flip back and forth.
@@ -619,14 +658,9 @@ impl Solver {
             }
             // One pass over the species builds residuals and Jacobian together. Rows: mass
             // balances (0..n), charge (n), ionic strength (n + 1); last column: −residual.
-            // Only the rows and columns in use are cleared: a carbonate water solves a much
+            // Only the rows in use are cleared (one block): a carbonate water solves a much
             // smaller system than the array holds.
-            for row in jac.iter_mut().take(n + 2) {
-                for v in row.iter_mut().take(n + 2) {
-                    *v = 0.0;
-                }
-                row[N] = 0.0;
-            }
+            jac[..n + 2].fill([0.0; N + 1]);
             let c_h = a_h / gamma_h;
             let dl_h = -LN10 * dlg_h; // d ln c_H / dI
             let mut scale = [0.0f64; N];
@@ -649,7 +683,11 @@ impl Solver {
                 }
                 let def = &species[s];
                 let (idx, nu) = (&comp_idx[s], &comp_n[s]);
-                let kg = k_of[s] * a_h.powi(def.h) / gamma[s];
+                let h_pow = match def.h {
+                    h @ -4..=3 => h_power[(h + 4) as usize],
+                    h => a_h.powi(h),
+                };
+                let kg = k_of[s] * h_pow / gamma[s];
                 let cs = conc_from(idx, nu, comp_len[s], kg, &act);
                 conc[s] = cs;
                 if cs == 0.0 {
