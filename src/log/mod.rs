@@ -780,6 +780,16 @@ impl Log {
         }
     }
 
+    /// Entry `id` as it stands now (latest correction applied, its status), as
+    /// [`Log::for_each`] gives it; `None` for an id the log does not hold. `id` may be the
+    /// original's or a revision's.
+    pub fn entry(&self, id: Uuid) -> Result<Option<View>> {
+        match self.index.root_slot(id.as_u128()) {
+            Some(root) => self.view(root, &mut |slot| self.read_slot(slot)).map(Some),
+            None => Ok(None),
+        }
+    }
+
     /// The original entry and every correction and void of it, oldest first.
     pub fn history(&self, id: Uuid) -> Result<Vec<Record>> {
         let Some(root) = self.index.root_slot(id.as_u128()) else {
