@@ -100,7 +100,7 @@ fn seeded_log() -> Box<dyn DoseLog> {
         .expect("seed entry");
     }
     // The correction is a whole recomputed result: entry 4 as recomputed at 1.9 mg/L.
-    let mut recomputed = log.entries()[3].dose.clone();
+    let mut recomputed = log.dose(4).expect("entry 4 read back whole");
     recomputed.operator = "KT".into();
     recomputed.note = "checked against the chart recorder".into();
     recomputed.results[0].value = 1.9;

@@ -43,18 +43,59 @@ impl EntryStatus {
     }
 }
 
-/// A stored entry as it stands now: its screen number, when and where it was logged, the
-/// current content (latest correction applied) and its status.
+/// A stored entry as it stands now, as the screens list it: its screen number, when and
+/// where it was logged, what the list, the filters and the trends read of its dose (latest
+/// correction applied) and its status. The whole record — every reading, result, the trace
+/// and the cautions the operator was shown — is read from the log for the one entry opened
+/// ([`DoseLog::dose`]).
 #[derive(Clone, Debug, PartialEq)]
 pub struct Entry {
     pub id: u64,
     /// UTC time, ISO 8601 (`2026-12-02T01:15:00Z`).
     pub when: String,
     pub site: String,
-    pub dose: Dose,
+    pub dose: ListedDose,
     pub status: EntryStatus,
     /// How many corrections and voids reference this entry.
     pub revisions: u32,
+}
+
+/// What the screens list of a logged [`Dose`]: who logged it, the tap, the calculator, the
+/// chemical and product, the dose in mg/L and the note. A separate type, not a [`Dose`] with
+/// parts left empty, so that no screen can read a trace or a caution list that was never
+/// loaded: those are read whole from the log ([`DoseLog::dose`]). Held for every entry, a
+/// whole [`Dose`] took about 4.5 kB of memory (some fifty strings); a 10 000-entry log
+/// then took 45 MB of the app's memory for a list that shows a few fields.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ListedDose {
+    pub operator: String,
+    pub tap: String,
+    pub calculator: String,
+    pub chemical: String,
+    pub product: Option<crate::log::ProductRef>,
+    /// The dose result's value in mg/L, if the calculator computed one.
+    pub dose_mg_l: Option<f64>,
+    pub note: String,
+}
+
+impl ListedDose {
+    pub fn of(dose: Dose) -> ListedDose {
+        let dose_mg_l = dose.dose_mg_per_l();
+        ListedDose {
+            operator: dose.operator,
+            tap: dose.tap,
+            calculator: dose.calculator,
+            chemical: dose.chemical,
+            product: dose.product,
+            dose_mg_l,
+            note: dose.note,
+        }
+    }
+
+    /// The dose in mg/L, if one was computed (as [`Dose::dose_mg_per_l`]).
+    pub fn dose_mg_per_l(&self) -> Option<f64> {
+        self.dose_mg_l
+    }
 }
 
 impl Entry {
@@ -196,6 +237,9 @@ pub trait DoseLog {
     /// Shared rather than copied: the screens read the list several times a refresh, and a
     /// copy of a 10 000-entry log each time was most of the start-up.
     fn entries(&self) -> Rc<Vec<Entry>>;
+    /// Entry `id`'s whole record as it stands now (latest correction applied): every reading,
+    /// result, the trace and the cautions the operator was shown.
+    fn dose(&self, id: u64) -> Result<Dose, LogError>;
     /// The original entry and every correction and void of it, oldest first.
     fn history(&self, id: u64) -> Result<Vec<Revision>, LogError>;
     /// Records a correction of entry `id` (a new record; the original stays).
@@ -560,15 +604,18 @@ impl DoseLog for PersistentLog {
             ..Default::default()
         };
         for (_, log) in &self.logs {
-            // Built from the views (one read per entry); the full history is read only for
-            // the entry the operator opens.
-            let Ok(views) = log.query(&all) else { continue };
-            for view in views {
-                out.push(Entry {
+            // Built from the views one at a time (one read per entry), each kept as the list
+            // reads it; the whole record and its history are read only for the entry the
+            // operator opens.
+            // A log that cannot be read to its end lists nothing, as before: never a part
+            // of it that looks whole.
+            let mut listed = Vec::new();
+            let read = log.for_each(&all, |view| {
+                listed.push(Entry {
                     id: self.number(view.id),
                     when: utc_iso(&view.at),
                     site: view.site,
-                    dose: view.dose,
+                    dose: ListedDose::of(view.dose),
                     status: match view.status {
                         crate::log::Status::Original => EntryStatus::Original,
                         crate::log::Status::Corrected => EntryStatus::Corrected,
@@ -576,12 +623,27 @@ impl DoseLog for PersistentLog {
                     },
                     revisions: view.revisions,
                 });
+                Ok(())
+            });
+            if read.is_ok() {
+                out.append(&mut listed);
             }
         }
         out.sort_by(|a, b| a.when.cmp(&b.when));
         let out = Rc::new(out);
         self.cache.replace(Some(Rc::clone(&out)));
         out
+    }
+
+    fn dose(&self, number: u64) -> Result<Dose, LogError> {
+        let (id, at) = self.find(number)?;
+        match self.logs[at].1.entry(id).map_err(from_log_error)? {
+            Some(view) => Ok(view.dose),
+            None => Err(LogError::rejected(
+                "unknown-entry",
+                format!("no entry {number}"),
+            )),
+        }
     }
 
     fn history(&self, number: u64) -> Result<Vec<Revision>, LogError> {
@@ -953,7 +1015,9 @@ mod tests {
         assert_eq!(log.append("North plant", None, dose(1.5)), Ok(1));
         assert_eq!(log.append("North plant", None, dose(2.0)), Ok(2));
         assert_eq!(doses(&log), [Some(1.5), Some(2.0)]);
-        assert_eq!(log.entries()[1].dose, dose(2.0), "read back whole");
+        assert_eq!(log.dose(2), Ok(dose(2.0)), "read back whole");
+        assert_eq!(log.entries()[1].dose, ListedDose::of(dose(2.0)), "listed");
+        assert!(log.dose(3).is_err(), "no entry 3");
         let mut bad = dose(1.0);
         bad.results[1].value = f64::NAN;
         assert!(
@@ -1027,8 +1091,10 @@ mod tests {
         log.correct(id, fix("wrong flow reading")).unwrap();
         let now = log.entries();
         let e = now.iter().find(|e| e.id == id).unwrap();
-        assert_eq!(e.dose, recomputed, "the whole recomputed result is current");
-        assert_eq!(e.dose.result("pump_setting").unwrap().value, 50.6);
+        assert_eq!(e.dose, ListedDose::of(recomputed.clone()));
+        let whole = log.dose(id).unwrap();
+        assert_eq!(whole, recomputed, "the whole recomputed result is current");
+        assert_eq!(whole.result("pump_setting").unwrap().value, 50.6);
         assert_eq!(e.status, EntryStatus::Corrected);
         let history = log.history(id).unwrap();
         let kinds: Vec<RevisionKind> = history.iter().map(|r| r.kind).collect();
@@ -1077,9 +1143,15 @@ mod tests {
         let entries = reopened.entries();
         assert_eq!(entries.len(), 2, "voided entries stay listed");
         assert_eq!(entries[0].dose.dose_mg_per_l(), Some(1.8));
-        assert_eq!(entries[0].dose.result("flow").unwrap().value, 12000.0);
+        let whole = reopened.dose(entries[0].id).unwrap();
+        assert_eq!(whole.result("flow").unwrap().value, 12000.0);
         assert_eq!(entries[0].status, EntryStatus::Corrected);
         assert_eq!(reopened.history(1).unwrap().len(), 2);
+        // Each listed entry is its whole record as listed: the latest correction's fields.
+        for e in entries.iter() {
+            let whole = reopened.dose(e.id).unwrap();
+            assert_eq!(e.dose, ListedDose::of(whole), "entry {}", e.id);
+        }
         let _ = std::fs::remove_dir_all(&dir);
     }
 
@@ -1276,10 +1348,11 @@ mod tests {
         let mut log = PersistentLog::scratch();
         let id = log.append("North plant", None, d.clone()).unwrap();
         assert_eq!(
-            log.entries()[0].dose,
-            d,
+            log.dose(id),
+            Ok(d.clone()),
             "read back from the file as logged"
         );
+        assert_eq!(log.entries()[0].dose, ListedDose::of(d.clone()));
         let csv_path = log.dir.join("gas.csv");
         log.export(&csv_path, ExportFormat::Csv, &[id], UnitSystem::Us)
             .unwrap();

@@ -298,6 +298,11 @@ impl LogScreen {
         self.log.entries()
     }
 
+    /// Entry `id`'s whole record, read from the log (see [`DoseLog::dose`]).
+    pub fn dose(&self, id: u64) -> Option<Dose> {
+        self.log.dose(id).ok()
+    }
+
     /// Entries matching every filter, newest first, with today's date from the clock.
     pub fn filtered_entries(&self) -> Vec<Entry> {
         self.filtered_entries_on(utc_today())
@@ -422,14 +427,20 @@ impl LogScreen {
         self.log.entries().iter().find(|e| e.id == id).cloned()
     }
 
+    /// The selected entry's whole record as it stands now, read from the log (the list keeps
+    /// only what it shows): `None` when nothing is selected or the log cannot read it.
+    pub fn selected_dose(&self) -> Option<Dose> {
+        self.log.dose(self.selected?).ok()
+    }
+
     /// The detail of the selected entry, as rows of a label (a translation key) and a value:
     /// each number as the card showed it, in the unit it was logged in; what was not computed
     /// is a dash. The bridge only translates the labels.
     pub fn selected_detail(&self) -> Vec<DetailRow> {
-        let Some(e) = self.selected_entry() else {
+        let (Some(e), Some(d)) = (self.selected_entry(), self.selected_dose()) else {
             return Vec::new();
         };
-        let d = &e.dose;
+        let d = &d;
         let shown = |id: &str| {
             d.result(id).map_or("—".to_string(), |r| {
                 format!("{} {}", r.shown, r.unit).trim_end().to_string()
@@ -528,9 +539,10 @@ impl LogScreen {
             }
             fixed.tap = entry.dose.tap.clone();
             fixed.note = note.trim().to_string();
+            let recorded = self.log.dose(entry.id).map_err(|e| log_error_note(&e))?;
             let unchanged = Dose {
                 operator: fixed.operator.clone(),
-                ..entry.dose.clone()
+                ..recorded
             };
             // Ranges are left out of "nothing changed": they are sums of re-run calculations
             // and may differ in their last bits where every number shown is the same.
@@ -868,20 +880,16 @@ impl LogScreen {
     /// figures the card showed it with (three when the entry kept no shown text), in the
     /// language's decimal mark — the number the operator read, not the engine's full float.
     pub fn correction_fields(&self, lang: Lang) -> Option<(String, String)> {
-        let e = self.selected_entry()?;
-        let dose = e.dose.dose_mg_per_l().unwrap_or_default();
-        let figures = e
-            .dose
+        let d = self.selected_dose()?;
+        let dose = d.dose_mg_per_l().unwrap_or_default();
+        let figures = d
             .result(crate::log::record::result_id::DOSE)
             .and_then(|r| {
                 let shown = r.shown.split(" (").next()?.trim().replace(',', ".");
                 crate::engine::sigfig::count_sig_figs(&shown)
             })
             .map_or(3, |f| u32::from(f).clamp(1, 6));
-        Some((
-            numbers::format_sig(dose, figures, lang),
-            e.dose.note.clone(),
-        ))
+        Some((numbers::format_sig(dose, figures, lang), d.note))
     }
 
     /// The open entry's detail as "label: value" lines, and its status in words.

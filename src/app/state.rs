@@ -257,6 +257,12 @@ impl AppState {
         self.log.entries()
     }
 
+    /// Entry `id`'s whole record: what the operator was shown when it was logged, latest
+    /// correction applied.
+    pub fn logged_dose(&self, id: u64) -> Option<crate::log::record::Dose> {
+        self.log.dose(id)
+    }
+
     /// The newest entry for each (point, chemical) at the current site.
     pub fn latest_doses(&self) -> Vec<LatestDose> {
         self.log.latest_doses(&self.session)
@@ -404,10 +410,8 @@ mod tests {
         assert_eq!(entries.len(), 2);
         assert_eq!(entries[0].id, id);
         assert_eq!(entries[0].dose.tap, "Raw water tap at screen house");
-        let flow = entries[0]
-            .dose
-            .result("flow")
-            .expect("flow kept with the entry");
+        let whole = s.logged_dose(id).expect("read back whole");
+        let flow = whole.result("flow").expect("flow kept with the entry");
         assert_eq!(
             (flow.value, flow.unit.as_str()),
             (1.0, "MGD"),
@@ -415,9 +419,9 @@ mod tests {
         );
         // Through the real engine: a liquid on a metering pump has a pump setting and no
         // feeder setting, which is absent rather than zero.
-        assert!(entries[0].dose.result("pump_setting").is_some());
+        assert!(whole.result("pump_setting").is_some());
         assert_eq!(
-            entries[0].dose.result("feeder_setting"),
+            whole.result("feeder_setting"),
             None,
             "not computed, not logged"
         );
@@ -527,14 +531,14 @@ mod tests {
             (e.dose.dose_mg_per_l(), e.dose.note.as_str()),
             (Some(1.8), "meter fixed")
         );
-        let flow = e.dose.result("flow").expect("the recomputed flow");
+        let whole = s.log.selected_dose().expect("read back whole");
+        let flow = whole.result("flow").expect("the recomputed flow");
         assert_eq!((flow.value, flow.shown.as_str()), (2.0, "2.00"));
         // The whole result is the recomputed card's, not the seed's.
         let Status::Ready(card) = s.calc.view().status else {
             panic!("the card shows a result")
         };
-        let volume = e
-            .dose
+        let volume = whole
             .result("product_volume_rate")
             .expect("recomputed with the card");
         // As the card showed it: the number and the range beside it.
@@ -962,9 +966,10 @@ mod tests {
             .map(|c| c.code)
             .collect();
         assert_eq!(warned.len(), 1);
-        s.log_current_dose().expect("logged");
-        let logged: Vec<String> = s.entries()[0]
-            .dose
+        let id = s.log_current_dose().expect("logged");
+        let logged: Vec<String> = s
+            .logged_dose(id)
+            .expect("read back whole")
             .cautions
             .iter()
             .map(|c| c.code.clone())
