@@ -129,6 +129,40 @@ const LN10: f64 = std::f64::consts::LN_10;
 /// Relative tolerance of the mass balances in a converged speciation.
 const TIGHT: f64 = 1e-13;
 
+/// {H+}^h for the proton counts of the table's species (−4 to 3) by multiplication, made once
+/// per {H+}; `powi` (a library call) for any other count.
+struct HPowers {
+    a_h: f64,
+    table: [f64; 8],
+}
+
+impl HPowers {
+    fn new(a_h: f64) -> HPowers {
+        let inv = 1.0 / a_h;
+        HPowers {
+            a_h,
+            table: [
+                inv * inv * inv * inv,
+                inv * inv * inv,
+                inv * inv,
+                inv,
+                1.0,
+                a_h,
+                a_h * a_h,
+                a_h * a_h * a_h,
+            ],
+        }
+    }
+
+    #[inline]
+    fn of(&self, h: i32) -> f64 {
+        match h {
+            -4..=3 => self.table[(h + 4) as usize],
+            h => self.a_h.powi(h),
+        }
+    }
+}
+
 fn pow10(x: f64) -> f64 {
     (x * LN10).exp()
 }
@@ -388,18 +422,7 @@ impl Solver {
         let species = &self.table.species;
         let n = self.span(p).species;
         let a_h = pow10(log_h);
-        let inv = 1.0 / a_h;
-        // {H+}^h for h = -4..=3.
-        let pw = [
-            inv * inv * inv * inv,
-            inv * inv * inv,
-            inv * inv,
-            inv,
-            1.0,
-            a_h,
-            a_h * a_h,
-            a_h * a_h * a_h,
-        ];
+        let h_powers = HPowers::new(a_h);
         let mut zero: u16 = 0;
         for c in 0..NC {
             if !(p.totals[c] > 0.0) {
@@ -411,13 +434,7 @@ impl Solver {
             if self.mask[s] & zero != 0 {
                 continue;
             }
-            let h = species[s].h;
-            let ph = if (-4..=3).contains(&h) {
-                pw[(h + 4) as usize]
-            } else {
-                a_h.powi(h)
-            };
-            kg[s] = self.th.k[s] * ph / gamma[s];
+            kg[s] = self.th.k[s] * h_powers.of(species[s].h) / gamma[s];
         }
         let mut cap_m = [f64::INFINITY; NC];
         for c in 0..NC {
@@ -613,18 +630,7 @@ impl Solver {
         for _ in 0..40 {
             let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg, p, needed);
             let a_h = pow10(x);
-            // {H+}^h for h = -4..=3, as in `distribute`.
-            let inv_h = 1.0 / a_h;
-            let h_power = [
-                inv_h * inv_h * inv_h * inv_h,
-                inv_h * inv_h * inv_h,
-                inv_h * inv_h,
-                inv_h,
-                1.0,
-                a_h,
-                a_h * a_h,
-                a_h * a_h * a_h,
-            ];
+            let h_powers = HPowers::new(a_h);
             // Caps: a master whose total would be supersaturated with its hydroxide is held at
             // the hydroxide's solubility. The test is the dissolved total at the cap (not the
             // current free value), so the active set does not flip back and forth.
@@ -683,11 +689,7 @@ impl Solver {
                 }
                 let def = &species[s];
                 let (idx, nu) = (&comp_idx[s], &comp_n[s]);
-                let h_pow = match def.h {
-                    h @ -4..=3 => h_power[(h + 4) as usize],
-                    h => a_h.powi(h),
-                };
-                let kg = k_of[s] * h_pow / gamma[s];
+                let kg = k_of[s] * h_powers.of(def.h) / gamma[s];
                 let cs = conc_from(idx, nu, comp_len[s], kg, &act);
                 conc[s] = cs;
                 if cs == 0.0 {
