@@ -29,8 +29,8 @@ pub struct Args {
 struct Flag {
     value: Option<String>,
     /// A value a batch line gave as a JSON number: read as that number (no text made and
-    /// parsed back), its text (`value`, `None` until then) made only if a command reads the
-    /// flag as text.
+    /// parsed back); its text (`text_of_number`) is made only if a command reads the flag as
+    /// text.
     number: Option<(serde_json::Number, f64)>,
     text_of_number: std::cell::OnceCell<String>,
     used: Cell<bool>,
@@ -153,7 +153,8 @@ impl Args {
             }
             Value::Bool(true) => self.insert(&name, None)?,
             Value::Bool(false) | Value::Null => {}
-            Value::Number(n) => {
+            // A repeatable flag keeps its values as text (`insert`), a number among them too.
+            Value::Number(n) if !REPEATABLE.contains(&name.as_str()) => {
                 let value = n.as_f64().unwrap_or(f64::NAN);
                 if !out_of_range(value) {
                     let mut flag = Flag::new(None);
@@ -515,6 +516,9 @@ mod tests {
         assert!(e.message.contains("--dose 1e+30"), "{}", e.message);
         let e = Args::from_json(&serde_json::json!({ "dose": 20, "dose_": 1 }));
         assert!(e.is_ok(), "different names");
+        // A repeatable flag given a number keeps it as its one text value.
+        let args = Args::from_json(&serde_json::json!({ "step": 5 })).unwrap();
+        assert_eq!(args.texts("step").unwrap(), ["5"]);
     }
 
     #[test]
