@@ -64,8 +64,8 @@ pub struct Entry {
 /// chemical and product, the dose in mg/L and the note. A separate type, not a [`Dose`] with
 /// parts left empty, so that no screen can read a trace or a caution list that was never
 /// loaded: those are read whole from the log ([`DoseLog::dose`]). Held for every entry, a
-/// whole [`Dose`] took about 4.5 kB of memory (some fifty strings); a 10 000-entry log
-/// then took 45 MB of the app's memory for a list that shows a few fields.
+/// whole [`Dose`] took about 4.6 kB of memory (some fifty strings); a 10 000-entry log
+/// then took 46 MB of the app's memory for a list that shows a few fields.
 #[derive(Clone, Debug, PartialEq)]
 pub struct ListedDose {
     pub operator: String,

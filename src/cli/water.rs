@@ -192,9 +192,10 @@ impl<'a> Answer<'a> {
         let wanted: Vec<&str> = list.split(',').map(str::trim).collect();
         if let Some(unknown) = wanted
             .iter()
-            .find(|w| !self.fields.iter().any(|(key, _)| key == *w))
+            .find(|w| **w != "cautions" && !self.fields.iter().any(|(key, _)| key == *w))
         {
             let mut keys: Vec<&str> = self.fields.iter().map(|(key, _)| *key).collect();
+            keys.push("cautions");
             keys.sort_unstable();
             return Err(CliError::usage(format!(
                 "--fields: this answer has no key '{unknown}'; its keys are {}",

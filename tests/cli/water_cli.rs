@@ -312,6 +312,15 @@ fn fields_keeps_only_the_keys_asked_for_and_always_the_advisory() {
     assert_eq!(chosen["ph"], whole["ph"]);
     assert_eq!(chosen["dic_mmol_l"], whole["dic_mmol_l"]);
     assert_eq!(chosen["cautions"], whole["cautions"]);
+    let named = run(
+        "ph-after",
+        "--chemical Ca(OH)2 --dose 15 --fields cautions,ph",
+    )
+    .unwrap();
+    assert_eq!(
+        named,
+        run("ph-after", "--chemical Ca(OH)2 --dose 15 --fields ph").unwrap()
+    );
     let dose = run(
         "dose-for-ph",
         "--chemical NaOH --target-ph 8.2 --fields dose_mg_l",
