@@ -17,11 +17,47 @@ use std::collections::BTreeMap;
 pub struct Args {
     positional: Vec<String>,
     /// Each flag's value, and whether any code has read it (see [`Args::reject_unused`]).
-    flags: BTreeMap<String, Flag>,
+    flags: Flags,
     /// Built from a `molefeed batch` line: stdin carries the batch, so no command may read it.
     from_batch: bool,
     /// Every value of a flag that may be given more than once ([`REPEATABLE`]), in order.
     repeated: BTreeMap<String, Vec<String>>,
+}
+
+/// The flags by name, in the order given. A command has a dozen at most, so a scan of a
+/// list (names of other lengths are passed over without comparing their text) is cheaper
+/// than a tree of owned keys: a batch line builds one per request.
+#[derive(Default)]
+struct Flags(Vec<(String, Flag)>);
+
+/// By name, so two `Args` of the same flags given in another order print alike.
+impl std::fmt::Debug for Flags {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let mut sorted: Vec<_> = self.0.iter().map(|(k, v)| (k, v)).collect();
+        sorted.sort_by(|a, b| a.0.cmp(b.0));
+        f.debug_map().entries(sorted).finish()
+    }
+}
+
+impl Flags {
+    fn get(&self, name: &str) -> Option<&Flag> {
+        self.0.iter().find(|(k, _)| k == name).map(|(_, f)| f)
+    }
+
+    fn contains_key(&self, name: &str) -> bool {
+        self.get(name).is_some()
+    }
+
+    /// Adds `flag`, or replaces the one of the same name and returns it.
+    fn insert(&mut self, name: String, flag: Flag) -> Option<Flag> {
+        match self.0.iter_mut().find(|(k, _)| *k == name) {
+            Some((_, old)) => Some(std::mem::replace(old, flag)),
+            None => {
+                self.0.push((name, flag));
+                None
+            }
+        }
+    }
 }
 
 /// A flag as given, and whether a subcommand has read it.
@@ -159,7 +195,7 @@ impl Args {
                 if !out_of_range(value) {
                     let mut flag = Flag::new(None);
                     flag.number = Some((n.clone(), value));
-                    return self.insert_flag(&name, flag);
+                    return self.insert_flag(name, flag);
                 }
                 // Refused as its text would be.
                 self.insert(&name, Some(n.to_string()))?
@@ -179,14 +215,15 @@ impl Args {
             self.flags.insert(name.to_string(), Flag::new(value));
             return Ok(());
         }
-        self.insert_flag(name, Flag::new(value))
+        self.insert_flag(name.to_string(), Flag::new(value))
     }
 
     /// Adds a flag that may not be given twice.
-    fn insert_flag(&mut self, name: &str, flag: Flag) -> Result<(), CliError> {
-        if self.flags.insert(name.to_string(), flag).is_some() {
+    fn insert_flag(&mut self, name: String, flag: Flag) -> Result<(), CliError> {
+        if self.flags.contains_key(&name) {
             return Err(CliError::usage(format!("--{name} given twice")));
         }
+        self.flags.0.push((name, flag));
         Ok(())
     }
 
@@ -274,11 +311,15 @@ impl Args {
 
     /// Fails if any flag was given that no code read: a typo must not change a dose silently.
     pub fn reject_unused(&self) -> Result<(), CliError> {
+        // The first unused name in alphabetical order, so the message does not depend on
+        // the order the flags were given in.
         match self
             .flags
+            .0
             .iter()
-            .find(|(_, f)| !f.used.get())
+            .filter(|(_, f)| !f.used.get())
             .map(|(k, _)| k)
+            .min()
         {
             Some(unused) => Err(CliError::usage(format!(
                 "unknown flag --{unused} for this command"

@@ -7,6 +7,7 @@
 use super::constants::{GammaModel, Table, Thermo};
 
 /// log10 γ of a species of charge `z` at ionic strength `i`.
+#[inline]
 pub fn log_gamma(model: GammaModel, z: i32, i: f64, th: &Thermo, table: &Table) -> f64 {
     let i = i.max(0.0);
     let sqrt_i = i.sqrt();
@@ -19,6 +20,7 @@ pub fn log_gamma(model: GammaModel, z: i32, i: f64, th: &Thermo, table: &Table) 
 }
 
 /// d(log10 γ)/dI of a species of charge `z` at ionic strength `i` (for Newton's Jacobian).
+#[inline]
 pub fn dlog_gamma_di(model: GammaModel, z: i32, i: f64, th: &Thermo, table: &Table) -> f64 {
     let i = i.max(1e-12);
     let sqrt_i = i.sqrt();
