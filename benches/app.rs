@@ -93,14 +93,14 @@ fn keystroke(c: &mut Criterion) {
         &["calc-ph-adjustment", "product-sodium-hydroxide"],
         &[
             ("field-flow", "2.40"),
-            ("field-ph-raw", "6.90"),
+            ("field-ph", "6.90"),
             ("field-alkalinity", "60"),
             ("field-temperature", "57"),
             ("field-strength", "50"),
             ("field-specific-gravity", "1.52"),
             ("field-pump-capacity", "5"),
         ],
-        ("field-ph-target", &["7.8", "7.81", "7.805", "7.9"]),
+        ("field-target-ph", &["7.8", "7.81", "7.805", "7.9"]),
     );
 }
 

@@ -198,8 +198,8 @@ fn every_screen_renders_with_text_at_three_sizes() {
         st.calc.set_kind(CalcKind::find("ph-adjustment").unwrap());
         for (name, text) in [
             ("flow", "2.4"),
-            ("ph-raw", "6.7"),
-            ("ph-target", "7.3"),
+            ("ph", "6.7"),
+            ("target-ph", "7.3"),
             ("alkalinity", "38"),
             ("temperature", "58"),
             ("strength", "25"),

@@ -1022,8 +1022,8 @@ fn a_softening_alkalinity_does_not_change_ph_adjustment_unless_carried_over_visi
     tap(&app, &en("calc-ph-adjustment"));
     for (key, text) in [
         ("field-flow", "2.4"),
-        ("field-ph-raw", "6.8"),
-        ("field-ph-target", "7.5"),
+        ("field-ph", "6.8"),
+        ("field-target-ph", "7.5"),
         ("field-alkalinity", "40"),
         ("field-temperature", "59"),
     ] {

@@ -28,8 +28,8 @@ pub const CASES: &[Case] = &[
         "sodium-hydroxide",
         &[
             ("flow", 9085.0),
-            ("ph-raw", 6.9),
-            ("ph-target", 7.8),
+            ("ph", 6.9),
+            ("target-ph", 7.8),
             ("alkalinity", 60.0),
             ("temperature", 14.0),
             ("calcium-hardness", 80.0),

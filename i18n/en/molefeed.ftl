@@ -161,8 +161,7 @@ origin-equilibrium = water-chemistry equilibrium { $detail }
 
 ## Input fields
 field-flow = Flow
-field-ph-raw = pH before treatment
-field-ph-target = Target pH
+field-target-ph = Target pH
 field-alkalinity = Alkalinity
 field-temperature = Water temperature
 field-residual-target = Target residual

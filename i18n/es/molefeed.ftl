@@ -161,8 +161,7 @@ origin-equilibrium = equilibrio químico del agua { $detail }
 
 ## Campos
 field-flow = Caudal
-field-ph-raw = pH antes del tratamiento
-field-ph-target = pH objetivo
+field-target-ph = pH objetivo
 field-alkalinity = Alcalinidad
 field-temperature = Temperatura del agua
 field-residual-target = Residual objetivo

@@ -162,8 +162,10 @@ impl FieldIndex {
         self.water.contains(&name)
     }
 
-    /// The field called `name`, as the table spells it.
+    /// The field called `name`, as the table spells it, or the field of the input that had
+    /// that name before a rename (inputs an older version saved).
     fn find(&self, name: &str) -> Option<&'static str> {
+        let name = engine::calculators::current_name(name);
         self.names.iter().copied().find(|n| *n == name)
     }
 

@@ -150,10 +150,10 @@ impl AppState {
             return false;
         };
         self.open_calculator(kind);
-        // The calculators name the water's readings by what they are for (the pH before a
-        // pH adjustment is `ph-raw`); the first name the open calculator has takes the value.
+        // The path's names for the water's readings and the calculators' fields for them;
+        // the first name the open calculator has takes the value.
         const NAMES: [(&str, &[&str]); 4] = [
-            ("ph", &["ph", "ph-raw"]),
+            ("ph", &["ph"]),
             ("temperature", &["temperature"]),
             ("alkalinity", &["alkalinity"]),
             ("calcium", &["calcium-hardness"]),
@@ -364,10 +364,10 @@ mod tests {
         assert!(s.open_path_point(post, &words));
         assert_eq!(s.screen(), Screen::Calculators);
         assert_eq!(s.calc.kind(), CalcKind::of("ph-adjustment"));
-        // pH adjustment calls the water's pH `ph-raw`; it gets the pH after alum and chlorine,
-        // lower than the raw 7.60.
-        assert_eq!(s.calc.text("ph-raw"), arriving[0].1);
-        assert!(numbers::parse(s.calc.text("ph-raw"), Lang::En).unwrap() < 7.6);
+        // pH adjustment's pH is the water's `ph`, as in every calculator: it gets the pH after
+        // alum and chlorine, lower than the raw 7.60.
+        assert_eq!(s.calc.text("ph"), arriving[0].1);
+        assert!(numbers::parse(s.calc.text("ph"), Lang::En).unwrap() < 7.6);
         assert_eq!(s.calc.text("temperature"), "12.0");
         // No calcium was typed on the path, so none is handed on.
         assert!(
@@ -986,8 +986,8 @@ mod tests {
         );
         for (n, t) in [
             ("flow", "1"),
-            ("ph-raw", "6.8"),
-            ("ph-target", "7.4"),
+            ("ph", "6.8"),
+            ("target-ph", "7.4"),
             ("alkalinity", "40"),
             ("temperature", "60"),
             ("strength", "25"),
@@ -1008,8 +1008,8 @@ mod tests {
         let mut s = state(engine);
         for (n, t) in [
             ("flow", "1.5"),
-            ("ph-raw", "6.80"),
-            ("ph-target", "7.40"),
+            ("ph", "6.80"),
+            ("target-ph", "7.40"),
             ("alkalinity", "40"),
             ("temperature", "60"),
             ("strength", "25"),

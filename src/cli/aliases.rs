@@ -165,8 +165,6 @@ const TABLE: [Alias; 10] = [
         command: "neutralize-feed",
         calculator: "ph-adjustment",
         flags: feed_flags![
-            ("target-ph", Input("ph-target")),
-            ("ph", Input("ph-raw")),
             ("calcium-as-caco3", Input("calcium-hardness")),
             ("magnesium-as-caco3", Refused(NO_IONS)),
             ("magnesium-as-mg", Refused(NO_IONS)),
@@ -676,6 +674,12 @@ pub fn translate(alias: &Alias, args: &Args) -> Result<Vec<String>, CliError> {
             if let Some(v) = args.text(&name)? {
                 t.set(&name, v)?;
             }
+        }
+        // Its name before a rename (`--ph-raw`), read as the input itself.
+        if let Some(former) = input.former_name
+            && let Some(v) = args.text(former)?
+        {
+            t.set(input.name, v)?;
         }
     }
     for flag in PASSED_ON {

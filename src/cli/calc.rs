@@ -457,6 +457,7 @@ fn request(
     for input in inputs {
         let names: Vec<&str> = std::iter::once(input.name)
             .chain(input.short_flag)
+            .chain(input.former_name)
             .collect();
         let Some((_, text)) = one_of(args, &names)? else {
             continue;

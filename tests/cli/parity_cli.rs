@@ -18,8 +18,8 @@ use std::process::Command;
 fn reading(input: &Input, strength: Option<(f64, Option<f64>)>) -> Option<String> {
     let v = match input.name {
         "flow" => "5000",
-        "ph-raw" => "6.9",
-        "ph-target" => "7.8",
+        "ph" => "6.9",
+        "target-ph" => "7.8",
         "alkalinity" => "60",
         "temperature" => "15",
         "calcium-hardness" => "80",

@@ -410,7 +410,7 @@ pub(super) fn dechlorination(c: &Calculators, request: &Request) -> Result<Outco
 /// The water as measured before a pH adjustment.
 fn raw_water(request: &Request) -> Result<WaterState> {
     let mut input = WaterInput::new(
-        value(request, "ph-raw")?,
+        value(request, "ph")?,
         value(request, "temperature")?,
         value(request, "alkalinity")?,
     );
@@ -426,7 +426,7 @@ pub(super) fn ph_adjustment(c: &Calculators, request: &Request) -> Result<Outcom
     let state = raw_water(request)?;
     let (product, strength) = c.strength(request)?;
     // An equilibrium dose is as good as the alkalinity and the two pH readings behind it.
-    let figures = ["alkalinity", "ph-raw", "ph-target"]
+    let figures = ["alkalinity", "ph", "target-ph"]
         .iter()
         .fold(None, |acc, name| combine(acc, request.figures(name)));
     let n = neutralization(
@@ -435,7 +435,7 @@ pub(super) fn ph_adjustment(c: &Calculators, request: &Request) -> Result<Outcom
         &NeutralizationInput {
             product,
             strength,
-            target_ph: value(request, "ph-target")?,
+            target_ph: value(request, "target-ph")?,
             flow: flow(request)?,
             pump: c.pump(request)?,
             usable_range: UsableRange::default(),
@@ -495,7 +495,7 @@ pub(super) fn ph_adjustment_curve(c: &Calculators, request: &Request) -> Result<
         .because("product-not-for-calculator"));
     }
     let chemical = water_chemical(&product.compound)?;
-    let target = value(request, "ph-target")?;
+    let target = value(request, "target-ph")?;
     let max = water::dose_for_ph(&state, chemical, target, Precipitation::None)
         .map_or(100.0, |d| (2.0 * d.dose_mg_l).max(1.0));
     let points = water::curve(&state, chemical, max, CURVE_POINTS, Precipitation::None)?;

@@ -251,7 +251,7 @@ fn solubility_mg_l(p: &Product, temperature_c: f64) -> Option<f64> {
 /// effervesce at the tap, so one of the two readings is wrong, and every result built on it
 /// (a CCPP of thousands of mg/L) would be too. A high but possible CO2 is cautioned.
 fn water_co2(catalog: &Catalog, request: &Request) -> Result<Option<Caution>> {
-    let ph = request.get("ph-raw").or_else(|| request.get("ph"));
+    let ph = request.get("ph");
     let (Some(ph), Some(alkalinity)) = (ph, request.get("alkalinity")) else {
         return Ok(None);
     };
@@ -579,8 +579,8 @@ mod tests {
     /// A raw water and 25 % caustic to raise its pH.
     const PH_CAUSTIC: [(&str, f64); 8] = [
         ("flow", 5000.0),
-        ("ph-raw", 6.8),
-        ("ph-target", 7.8),
+        ("ph", 6.8),
+        ("target-ph", 7.8),
         ("alkalinity", 40.0),
         ("temperature", 15.0),
         ("strength", 25.0),
@@ -619,7 +619,7 @@ mod tests {
             case(
                 "ph-adjustment",
                 "sodium-hydroxide",
-                &with(&PH_CAUSTIC, &[("ph-raw", 20.0)]),
+                &with(&PH_CAUSTIC, &[("ph", 20.0)]),
                 Refused("implausible-magnitude"),
             ),
             // °F typed as °C.
@@ -832,13 +832,13 @@ mod tests {
             case(
                 "ph-adjustment",
                 "sodium-hydroxide",
-                &with(&PH_CAUSTIC, &[("ph-raw", 4.0), ("alkalinity", 200.0)]),
+                &with(&PH_CAUSTIC, &[("ph", 4.0), ("alkalinity", 200.0)]),
                 Refused("alkalinity-below-end-point"),
             ),
             case(
                 "ph-adjustment",
                 "sodium-hydroxide",
-                &with(&PH_CAUSTIC, &[("ph-raw", 5.0), ("alkalinity", 200.0)]),
+                &with(&PH_CAUSTIC, &[("ph", 5.0), ("alkalinity", 200.0)]),
                 Refused("water-co2-beyond-solubility"),
             ),
             case(
@@ -847,9 +847,9 @@ mod tests {
                 &with(
                     &PH_CAUSTIC,
                     &[
-                        ("ph-raw", 6.0),
+                        ("ph", 6.0),
                         ("alkalinity", 200.0),
-                        ("ph-target", 7.0),
+                        ("target-ph", 7.0),
                         ("pump-capacity", 1000.0),
                     ],
                 ),
@@ -918,8 +918,8 @@ mod tests {
                 "carbon-dioxide",
                 &[
                     ("flow", 5000.0),
-                    ("ph-raw", 8.0),
-                    ("ph-target", 5.0),
+                    ("ph", 8.0),
+                    ("target-ph", 5.0),
                     ("alkalinity", 200.0),
                     ("temperature", 15.0),
                     ("purity", 100.0),

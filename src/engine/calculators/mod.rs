@@ -74,6 +74,12 @@ pub struct Input {
     /// the pump setting alone): without it the calculation runs and those results are absent,
     /// never zero. Empty: the calculation needs it (unless it is `optional`).
     pub only_for: &'static [&'static str],
+    /// The name this input had before a rename (pH adjustment's `ph` was `ph-raw`, so that a
+    /// reading of the water has one name in every calculator). The command line still takes
+    /// `--<former>`, and the app reads inputs it saved under it as this one's. Log entries keep
+    /// the name they were logged with: a record is what was shown.
+    #[serde(skip)]
+    pub former_name: Option<&'static str>,
 }
 
 impl Input {
@@ -423,6 +429,16 @@ impl Calculator {
 /// Every calculator in table order.
 pub fn all() -> &'static [Calculator] {
     &TABLE
+}
+
+/// The input name `name` stands for today: the input's own name, or the current name of the
+/// input that was called `name` before a rename ([`Input::former_name`]).
+pub fn current_name(name: &str) -> &str {
+    TABLE
+        .iter()
+        .flat_map(|c| c.inputs)
+        .find(|i| i.former_name == Some(name))
+        .map_or(name, |i| i.name)
 }
 
 /// The calculator with id `id`.

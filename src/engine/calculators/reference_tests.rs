@@ -274,8 +274,8 @@ fn ph_adjustment_dose_and_curve_come_from_the_water_engine() {
     request.calculator = "ph-adjustment";
     request.values.remove("dose");
     for (k, v) in [
-        ("ph-raw", 6.7),
-        ("ph-target", 7.3),
+        ("ph", 6.7),
+        ("target-ph", 7.3),
         ("alkalinity", 38.0),
         ("temperature", 15.0),
         ("strength", 25.0),
@@ -667,8 +667,8 @@ fn calcium_adds_the_langelier_index_and_ccpp_after_the_dose() {
         "sodium-hydroxide",
         &[
             ("flow", 4000.0),
-            ("ph-raw", 7.0),
-            ("ph-target", 8.2),
+            ("ph", 7.0),
+            ("target-ph", 8.2),
             ("alkalinity", 90.0),
             ("temperature", 18.0),
             ("strength", 25.0),
@@ -830,8 +830,8 @@ fn gas_and_dry_feeds_are_the_engines_feeder_settings() {
             product,
             &[
                 ("flow", FLOW),
-                ("ph-raw", raw),
-                ("ph-target", target),
+                ("ph", raw),
+                ("target-ph", target),
                 ("alkalinity", 60.0),
                 ("temperature", 15.0),
                 ("purity", 98.0),
@@ -1218,8 +1218,8 @@ fn magnesium_hydroxide_adjusts_ph_like_the_water_engine() {
             "magnesium-hydroxide",
             &[
                 ("flow", FLOW),
-                ("ph-raw", 6.8),
-                ("ph-target", 7.5),
+                ("ph", 6.8),
+                ("target-ph", 7.5),
                 ("alkalinity", 40.0),
                 ("temperature", 15.0),
                 ("strength", 60.0),
@@ -1271,8 +1271,8 @@ fn magnesium_hydroxide_adds_two_equivalents_and_meets_phreeqc() {
                 "magnesium-hydroxide",
                 &[
                     ("flow", FLOW),
-                    ("ph-raw", raw),
-                    ("ph-target", target),
+                    ("ph", raw),
+                    ("target-ph", target),
                     ("alkalinity", alk),
                     ("temperature", temp),
                     ("strength", 60.0),

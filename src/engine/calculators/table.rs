@@ -30,6 +30,15 @@ const fn water(name: &'static str, quantity: Q) -> Input {
         only_for: &[],
         short_flag: None,
         unit_flag: None,
+        former_name: None,
+    }
+}
+
+/// `input`, which was called `former` before (see [`Input::former_name`]).
+const fn formerly(input: Input, former: &'static str) -> Input {
+    Input {
+        former_name: Some(former),
+        ..input
     }
 }
 
@@ -344,8 +353,8 @@ pub static TABLE: [Calculator; 22] = [
         modes: &[],
         inputs: &[
             FLOW,
-            water("ph-raw", Q::Ph),
-            limited(own("ph-target", Q::Ph), "ph"),
+            formerly(water("ph", Q::Ph), "ph-raw"),
+            formerly(limited(own("target-ph", Q::Ph), "ph"), "ph-target"),
             as_caco3(water("alkalinity", Q::AsCaCO3)),
             water("temperature", Q::Temperature),
             // With calcium, the Langelier index and CCPP the water leaves with.

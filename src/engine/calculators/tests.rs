@@ -324,8 +324,8 @@ fn ph_adjustment_is_the_one_call_neutralize_feed_makes() {
             Some("sodium-hydroxide"),
             &[
                 ("flow", 5000.0),
-                ("ph-raw", 6.8),
-                ("ph-target", 7.8),
+                ("ph", 6.8),
+                ("target-ph", 7.8),
                 ("alkalinity", 40.0),
                 ("temperature", 15.0),
                 ("strength", 25.0),
