@@ -18,7 +18,6 @@ use std::process::Command;
 fn reading(input: &Input, strength: Option<(f64, Option<f64>)>) -> Option<String> {
     let v = match input.name {
         "flow" => "5000",
-        "ph" => "6.9",
         "target-ph" => "7.8",
         "alkalinity" => "60",
         "temperature" => "15",
