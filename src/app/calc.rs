@@ -1917,6 +1917,37 @@ mod tests {
         assert_eq!(field(&back, "ph").carried.map(|r| r.from), Some(softening));
     }
 
+    /// pH adjustment's pH is the water's `ph`, so a pH read at the tap for another calculator
+    /// carries over to it; a pH it saved under its former name (`ph-raw`, before 2026-12-04)
+    /// comes back as its own.
+    #[test]
+    fn a_ph_read_for_another_calculator_carries_to_ph_adjustment() {
+        let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
+        c.set_clock(at_10_42);
+        c.set_tap(Some("Clearwell"));
+        c.set_kind(CalcKind::of("softening"));
+        c.type_in("ph", "7.8");
+        c.set_kind(CalcKind::of("ph-adjustment"));
+        let ph = field(&c, "ph");
+        assert_eq!(ph.text, "7.8");
+        assert_eq!(ph.carried.map(|r| r.from), Some(CalcMode::of("softening")));
+        c.type_in("ph", "6.9");
+        c.type_in("target-ph", "7.6");
+        let saved = serde_json::to_string(&c.inputs()).unwrap();
+        assert!(saved.contains("ph@ph-adjustment"), "{saved}");
+        let older = saved
+            .replace("\"ph@ph-adjustment\"", "\"ph-raw@ph-adjustment\"")
+            .replace("\"target-ph@ph-adjustment\"", "\"ph-target@ph-adjustment\"");
+        assert_ne!(older, saved);
+        let mut back = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
+        back.set_clock(at_10_42);
+        back.set_tap(Some("Clearwell"));
+        back.restore(&serde_json::from_str(&older).unwrap());
+        back.set_kind(CalcKind::of("ph-adjustment"));
+        assert_eq!(field(&back, "ph").text, "6.9");
+        assert_eq!(field(&back, "target-ph").text, "7.6");
+    }
+
     /// The card names what it waits for: every empty field the results need while incomplete;
     /// once the dose is shown, the pump scale that only the setting needs.
     #[test]
