@@ -590,7 +590,9 @@ impl Solver {
         let species = &self.table.species;
         let ns = self.span(p).species;
         let mut gamma = vec![1.0; species.len()];
-        let mut dlg = vec![0.0; species.len()];
+        // Scratch, on the stack: only γ and the concentrations are returned.
+        let mut dlg_buf = [0.0; MAX_SPECIES];
+        let dlg = &mut dlg_buf[..species.len().min(MAX_SPECIES)];
         let mut conc = vec![0.0; species.len()];
         let (mut i, mut free, mut x) = match warm {
             Some(w) => (w.ionic_strength, w.free, w.log_h),
@@ -640,7 +642,7 @@ impl Solver {
         let (comp_len, comp_idx, comp_n): (&[u8], &[[u8; 3]], &[[u8; 3]]) =
             (&self.comp_len, &self.comp_idx, &self.comp_n);
         for _ in 0..40 {
-            let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, &mut dlg, p, needed);
+            let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, dlg, p, needed);
             let a_h = pow10(x);
             let h_powers = HPowers::new(a_h);
             // Caps: a master whose total would be supersaturated with its hydroxide is held at
@@ -1344,9 +1346,11 @@ impl Solver {
                     // a few percent, where the totals and the carbonate system alone are off
                     // by tens of percent (a CO3-2 activity coefficient of 0.6 at I = 0.01).
                     if let Some(hco3) = hco3 {
-                        let ns = self.table.species.len();
-                        let mut gamma = vec![1.0; ns];
-                        let mut conc = vec![0.0; ns];
+                        // Scratch for the sweeps, on the stack.
+                        let ns = self.table.species.len().min(MAX_SPECIES);
+                        let (mut gamma_buf, mut conc_buf) =
+                            ([1.0; MAX_SPECIES], [0.0; MAX_SPECIES]);
+                        let (gamma, conc) = (&mut gamma_buf[..ns], &mut conc_buf[..ns]);
                         let mut i_ions = p.i_background;
                         for c in 0..NC {
                             if c != co3 {
@@ -1357,7 +1361,7 @@ impl Solver {
                         // The species the water holds, its carbonate included.
                         let needed = self.classes_needed(active_mask(&q));
                         let i_start = i_ions + 0.5 * free_co3 * (ka + 4.0);
-                        let gamma_h = self.gammas_of(i_start, &mut gamma, &q, needed);
+                        let gamma_h = self.gammas_of(i_start, gamma, &q, needed);
                         let per_co3 = (
                             ka * gamma[co3] / gamma[hco3],
                             kb * gamma[co3] / co2.map_or(1.0, |s| gamma[s]),
@@ -1366,7 +1370,7 @@ impl Solver {
                         let mut swept = q.clone();
                         swept.totals[co3] = m * (1.0 + per_co3.0 + per_co3.1);
                         free[co3] = m;
-                        self.distribute(-ph, &swept, &gamma, &mut free, &mut conc, f64::INFINITY);
+                        self.distribute(-ph, &swept, gamma, &mut free, conc, f64::INFINITY);
                         // Once more from what that sweep gave: γ at the ionic strength of its
                         // species (ion pairs lower it by up to a tenth), and the carbonate
                         // total scaled so that its species carry the alkalinity read. After
@@ -1382,11 +1386,11 @@ impl Solver {
                         if scale.is_finite() && scale > 0.0 {
                             swept.totals[co3] *= scale;
                         }
-                        let i_swept = self.ionic_strength(-ph, gamma_h, &conc, p.i_background);
-                        let gamma_h = self.gammas_of(i_swept, &mut gamma, &q, needed);
-                        self.distribute(-ph, &swept, &gamma, &mut free, &mut conc, f64::INFINITY);
+                        let i_swept = self.ionic_strength(-ph, gamma_h, conc, p.i_background);
+                        let gamma_h = self.gammas_of(i_swept, gamma, &q, needed);
+                        self.distribute(-ph, &swept, gamma, &mut free, conc, f64::INFINITY);
                         start_co3 = free[co3];
-                        ionic_strength = self.ionic_strength(-ph, gamma_h, &conc, p.i_background);
+                        ionic_strength = self.ionic_strength(-ph, gamma_h, conc, p.i_background);
                     }
                 }
             }
