@@ -1847,15 +1847,21 @@ mod tests {
             .unwrap_or_else(|| panic!("{name} is no field of {:?}", c.mode()))
     }
 
+    /// A controller at the Clearwell tap at 10:42, with no engine.
+    fn at_the_clearwell() -> CalcController {
+        let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
+        c.set_clock(at_10_42);
+        c.set_tap(Some("Clearwell"));
+        c
+    }
+
     /// Alkalinity 200 typed in Softening once changed pH adjustment's lime dose: each calculator
     /// keeps its own inputs; a reading of the water typed in one is offered to another that has
     /// none of its own, at the same tap and shift, saying where and when it was taken, and can
     /// be cleared; a target or choice never crosses.
     #[test]
     fn each_calculator_keeps_its_own_inputs_and_readings_carry_over_visibly() {
-        let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
-        c.set_clock(at_10_42);
-        c.set_tap(Some("Clearwell"));
+        let mut c = at_the_clearwell();
         c.set_kind(CalcKind::of("ph-adjustment"));
         c.type_in("alkalinity", "40");
         c.set_kind(CalcKind::of("softening"));
@@ -1906,9 +1912,7 @@ mod tests {
         // Kept across a restart with where and when they were taken.
         let saved: CalcInputs =
             serde_json::from_str(&serde_json::to_string(&c.inputs()).unwrap()).unwrap();
-        let mut back = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
-        back.set_clock(at_10_42);
-        back.set_tap(Some("Clearwell"));
+        let mut back = at_the_clearwell();
         back.restore(&saved);
         back.set_kind(CalcKind::of("ph-adjustment"));
         assert_eq!(field(&back, "alkalinity").text, "40");
@@ -1922,9 +1926,7 @@ mod tests {
     /// comes back as its own.
     #[test]
     fn a_ph_read_for_another_calculator_carries_to_ph_adjustment() {
-        let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
-        c.set_clock(at_10_42);
-        c.set_tap(Some("Clearwell"));
+        let mut c = at_the_clearwell();
         c.set_kind(CalcKind::of("softening"));
         c.type_in("ph", "7.8");
         c.set_kind(CalcKind::of("ph-adjustment"));
@@ -1939,9 +1941,7 @@ mod tests {
             .replace("\"ph@ph-adjustment\"", "\"ph-raw@ph-adjustment\"")
             .replace("\"target-ph@ph-adjustment\"", "\"ph-target@ph-adjustment\"");
         assert_ne!(older, saved);
-        let mut back = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
-        back.set_clock(at_10_42);
-        back.set_tap(Some("Clearwell"));
+        let mut back = at_the_clearwell();
         back.restore(&serde_json::from_str(&older).unwrap());
         back.set_kind(CalcKind::of("ph-adjustment"));
         assert_eq!(field(&back, "ph").text, "6.9");
