@@ -153,9 +153,10 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
         } else {
             format!("in {}", i.quantity.si().symbol())
         };
-        let name = match i.short_flag {
-            Some(short) => format!("{} (--{short})", i.name),
-            None => i.name.to_string(),
+        let name = match (i.short_flag, i.former_name) {
+            (Some(short), _) => format!("{} (--{short})", i.name),
+            (None, Some(former)) => format!("{} (was --{former})", i.name),
+            (None, None) => i.name.to_string(),
         };
         out.push_str(&format!(
             "  --{:<22} {}{}{}\n",

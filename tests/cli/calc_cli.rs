@@ -313,7 +313,7 @@ fn an_older_subcommand_answers_help_with_its_calculator() {
     let (code, _, text) = run(&["neutralize-feed", "--help"]);
     assert_eq!(code, 0, "{text}");
     assert!(text.contains("molefeed calc ph-adjustment"), "{text}");
-    assert!(text.contains("--target-ph"), "{text}");
+    assert!(text.contains("--target-ph (was --ph-target)"), "{text}");
     // And how its older flags translate.
     assert!(text.contains("--target-ph"), "{text}");
     assert!(text.contains("--calcium-as-caco3"), "{text}");
