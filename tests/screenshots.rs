@@ -505,6 +505,28 @@ fn carried_readings_and_refusals_render_at_phone_width() {
     if dark_pixels(&pixels, w, h, true) < 5000 {
         failures.push("carried");
     }
+    // A pH read for softening carries to pH adjustment, whose pH is the water's `ph` too.
+    {
+        let mut st = handle.state.borrow_mut();
+        st.open_calculator(CalcKind::find("softening").unwrap());
+        let ph = st.calc.fields().iter().position(|f| f.name == "ph");
+        st.type_in_field(ph.unwrap(), "7.9");
+        st.open_calculator(CalcKind::find("ph-adjustment").unwrap());
+        assert_eq!(st.calc.text("ph"), "7.9");
+    }
+    handle.refresh();
+    for (name, (pw, ph)) in [("phone", (w, h)), ("tablet", (1280, 800))] {
+        let pixels = render(&window, pw, ph);
+        save_png(
+            &out.join(format!("calculators-{name}-carried-ph.png")),
+            &pixels,
+            pw,
+            ph,
+        );
+        if dark_pixels(&pixels, pw, ph, name == "phone") < 5000 {
+            failures.push("carried pH");
+        }
+    }
     {
         let mut st = handle.state.borrow_mut();
         st.open_calculator(CalcKind::find("chlorination").unwrap());
