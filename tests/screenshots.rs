@@ -407,7 +407,7 @@ fn chlorine_gas_renders_at_phone_width() {
         st.prefill_from_site();
         for (name, text) in [
             ("chlorine-demand", "1.50"),
-            ("residual-target", "1.00"),
+            ("target-residual", "1.00"),
             ("purity", "100.0"),
             ("gas-feeder-capacity", "100.0"),
         ] {
@@ -531,7 +531,7 @@ fn carried_readings_and_refusals_render_at_phone_width() {
         let mut st = handle.state.borrow_mut();
         st.open_calculator(CalcKind::find("chlorination").unwrap());
         st.calc.edit("chlorine-demand", "1.5");
-        st.calc.edit("residual-target", "-1");
+        st.calc.edit("target-residual", "-1");
     }
     handle.refresh();
     let pixels = render(&window, w, h);
@@ -745,7 +745,7 @@ fn the_jar_test_and_the_open_work_render_to_their_end() {
         let mut st = handle.state.borrow_mut();
         st.open_calculator(CalcKind::find("chlorination").unwrap());
         st.calc.edit("chlorine-demand", "1.5");
-        st.calc.edit("residual-target", "1.0");
+        st.calc.edit("target-residual", "1.0");
     }
     handle.refresh();
     app.global::<CalcAdapter>().set_show_work(true);

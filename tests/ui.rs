@@ -801,12 +801,12 @@ fn the_calculator_starts_from_the_site_and_warns_against_its_permit() {
     assert_eq!(value(&en("field-pump-capacity")), "10");
     assert_eq!(value(&en("field-flow")), "2.4");
     type_into(&app, &en("field-chlorine-demand"), "1.5");
-    type_into(&app, &en("field-residual-target"), "4.5");
+    type_into(&app, &en("field-target-residual"), "4.5");
     let texts = Texts::new(Lang::En);
     let warning = texts.get_args(
         "site-limit-above",
         &[
-            ("field", en("field-residual-target")),
+            ("field", en("field-target-residual")),
             ("value", "4.50".into()),
             ("limit", "4.00".into()),
             ("unit", "mg/L".into()),
@@ -820,7 +820,7 @@ fn the_calculator_starts_from_the_site_and_warns_against_its_permit() {
     );
     one(&app, &format!("{}: {warning}", en("caution-level-warning")));
     // Back inside the permit: the warning goes.
-    type_into(&app, &en("field-residual-target"), "1.0");
+    type_into(&app, &en("field-target-residual"), "1.0");
     assert_eq!(
         count(&app, &format!("{}: {warning}", en("caution-level-warning"))),
         0
@@ -835,7 +835,7 @@ fn ammonia_may_stay_empty_and_when_typed_adds_the_breakpoint_dose() {
     for (key, text) in [
         ("field-flow", "2.40"),
         ("field-chlorine-demand", "1.20"),
-        ("field-residual-target", "1.00"),
+        ("field-target-residual", "1.00"),
         ("field-strength", "12.5"),
         ("field-specific-gravity", "1.165"),
         ("field-pump-capacity", "10.0"),
@@ -879,7 +879,7 @@ fn chlorine_gas_is_set_on_its_gas_feeder() {
     for (key, text) in [
         ("field-flow", "2.40"),
         ("field-chlorine-demand", "1.50"),
-        ("field-residual-target", "1.00"),
+        ("field-target-residual", "1.00"),
         ("field-purity", "100.0"),
         ("field-gas-feeder-capacity", "100.0"),
     ] {
@@ -939,7 +939,7 @@ fn chlorine_gas_offers_no_specific_gravity_or_product_volume() {
     one(&app, &en("field-purity"));
     one(&app, &en("field-gas-feeder-capacity"));
     type_into(&app, &en("field-chlorine-demand"), "1.5");
-    type_into(&app, &en("field-residual-target"), "1.0");
+    type_into(&app, &en("field-target-residual"), "1.0");
     type_into(&app, &en("field-purity"), "100");
     type_into(&app, &en("field-gas-feeder-capacity"), "100");
     assert_eq!(count(&app, &en("result-product")), 0, "a volume for a gas");
@@ -1079,7 +1079,7 @@ fn a_typed_minus_one_is_marked_at_its_field() {
     tap(&app, &en("nav-calculators"));
     tap(&app, &en("calc-chlorination"));
     type_into(&app, &en("field-chlorine-demand"), "1.5");
-    type_into(&app, &en("field-residual-target"), "-1");
+    type_into(&app, &en("field-target-residual"), "-1");
     let view = handle.state.borrow().calc.view();
     let marked: Vec<_> = view
         .fields
@@ -1087,23 +1087,23 @@ fn a_typed_minus_one_is_marked_at_its_field() {
         .filter(|f| f.refusal.is_some())
         .map(|f| f.name)
         .collect();
-    assert_eq!(marked, ["residual-target"]);
+    assert_eq!(marked, ["target-residual"]);
     let calc = app.global::<molefeed::app::ui::CalcAdapter>();
     assert!(calc.get_message_error(), "a refusal looks like an error");
     let row = calc.get_fields().row_data(
         view.fields
             .iter()
-            .position(|f| f.name == "residual-target")
+            .position(|f| f.name == "target-residual")
             .unwrap(),
     );
     let error = row.unwrap().error.to_string();
     assert!(
-        error.starts_with(&en("field-residual-target")),
+        error.starts_with(&en("field-target-residual")),
         "named by its field: {error:?}"
     );
     one(&app, &error);
     // Letters are not dropped: the field says they are no number.
-    type_into(&app, &en("field-residual-target"), "1.O");
+    type_into(&app, &en("field-target-residual"), "1.O");
     one(&app, &en("number-invalid"));
 }
 
@@ -1115,7 +1115,7 @@ fn the_calculator_shows_the_tap_and_its_messages_clear_with_their_cause() {
     tap(&app, &en("nav-calculators"));
     tap(&app, &en("calc-chlorination"));
     type_into(&app, &en("field-chlorine-demand"), "1.5");
-    type_into(&app, &en("field-residual-target"), "1.0");
+    type_into(&app, &en("field-target-residual"), "1.0");
     tap(&app, &en("calc-log-dose"));
     let calc = app.global::<molefeed::app::ui::CalcAdapter>();
     assert_eq!(calc.get_note().as_str(), en("log-need-initials"));
@@ -1370,7 +1370,7 @@ fn advisory_reachable_with_the_work_open(width: f32, height: f32, x: f32) {
         }
         // The demo site fills the product, pump and flow.
         type_into(&app, &en("field-chlorine-demand"), "1.5");
-        type_into(&app, &en("field-residual-target"), "1.0");
+        type_into(&app, &en("field-target-residual"), "1.0");
         tap(&app, &format!("▸ {}", en("calc-show-work")));
         app.window()
             .set_size(slint::LogicalSize::new(width, height));

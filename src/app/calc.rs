@@ -1630,7 +1630,7 @@ mod tests {
             &[
                 ("flow", "1000"),
                 ("chlorine-demand", "1.2"),
-                ("residual-target", "1.0"),
+                ("target-residual", "1.0"),
                 ("strength", "12.5"),
                 ("specific-gravity", "1.2"),
                 ("pump-capacity", "10"),
@@ -1999,7 +1999,7 @@ mod tests {
             &[
                 ("flow", "1"),
                 ("chlorine-demand", "1.2"),
-                ("residual-target", "-1"),
+                ("target-residual", "-1"),
                 ("strength", "12.5"),
                 ("specific-gravity", "1.16"),
             ],
@@ -2016,11 +2016,11 @@ mod tests {
             .filter(|f| f.refusal.is_some())
             .map(|f| f.name)
             .collect();
-        assert_eq!(marked, ["residual-target"]);
+        assert_eq!(marked, ["target-residual"]);
         // Letters are no number: said at the field, not dropped.
-        c.edit("residual-target", "abc");
+        c.edit("target-residual", "abc");
         assert_eq!(
-            field(&c, "residual-target").error,
+            field(&c, "target-residual").error,
             Some(NumberError::NotANumber.key())
         );
     }

@@ -695,7 +695,7 @@ mod tests {
             "site-limit-above",
             "{ $field } is above { $max } ({ $source }).",
         ),
-        ("field-residual-target", "Residual target"),
+        ("field-target-residual", "Residual target"),
         ("trace-feed", "Feed rate"),
         ("origin-density", "density of { $detail }"),
     ]);
@@ -751,7 +751,7 @@ mod tests {
                 Warning,
                 "site-limit-above",
                 &[
-                    ("field", "field-residual-target"),
+                    ("field", "field-target-residual"),
                     ("max", "4"),
                     ("source", "Plant permit"),
                 ],

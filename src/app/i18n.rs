@@ -304,7 +304,7 @@ mod tests {
                     .take_while(|c| c.is_ascii_alphanumeric() || *c == '_' || *c == '-')
                     .collect();
                 let value = if name == "field" {
-                    "field-residual-target".to_string()
+                    "field-target-residual".to_string()
                 } else {
                     "1.5".to_string()
                 };

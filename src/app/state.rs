@@ -740,7 +740,7 @@ mod tests {
         assert!(
             breach
                 .params
-                .contains(&("field".into(), "field-residual-target".into()))
+                .contains(&("field".into(), "field-target-residual".into()))
         );
         assert!(
             breach
@@ -749,13 +749,13 @@ mod tests {
                 .any(|(k, v)| k == "source" && v.contains("Plant permit")),
             "{breach:?}"
         );
-        s.calc.edit("residual-target", "0.1");
+        s.calc.edit("target-residual", "0.1");
         assert!(
             card_cautions(&s)
                 .iter()
                 .any(|c| c.code == "site-limit-below")
         );
-        s.calc.edit("residual-target", "1.5");
+        s.calc.edit("target-residual", "1.5");
         assert!(
             !card_cautions(&s)
                 .iter()
@@ -768,7 +768,7 @@ mod tests {
         for (n, t) in [
             ("flow", "1"),
             ("chlorine-demand", "1"),
-            ("residual-target", residual),
+            ("target-residual", residual),
             ("strength", "12.5"),
             ("specific-gravity", "1.2"),
             ("pump-capacity", "10"),

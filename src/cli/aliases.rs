@@ -188,7 +188,7 @@ const TABLE: [Alias; 10] = [
         calculator: "free-chlorine",
         flags: feed_flags![
             ("demand", Input("chlorine-demand")),
-            ("residual", Input("residual-target")),
+            ("residual", Input("target-residual")),
             (
                 "residual-limit",
                 Refused(

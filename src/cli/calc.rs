@@ -1,7 +1,7 @@
 //! `molefeed calculators` and `molefeed calc ID`: the calculator table on the command line.
 //!
 //! Design choice: nothing here knows a calculator by name. The flags of `calc ID` are the
-//! table's input names (`--residual-target 1.0`), each with `--NAME-unit` for a quantity that
+//! table's input names (`--target-residual 1.0`), each with `--NAME-unit` for a quantity that
 //! has more than one unit (or `--units si|us` for all of them; an ambiguous quantity without
 //! either is refused rather than guessed); the printout is in the `--units` system (SI without
 //! it), the JSON always in SI; values go to the engine in SI with the figures they

@@ -199,7 +199,7 @@ mod tests {
         );
         // A parameter that is a catalog key (a field's name) shows as its text.
         let limit = Caution::warning("site-limit-above")
-            .with("field", "field-residual-target")
+            .with("field", "field-target-residual")
             .with("value", "4.5")
             .with("limit", "4")
             .with("unit", "mg/L")

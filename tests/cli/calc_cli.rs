@@ -116,11 +116,19 @@ fn calc_ph_adjustment_and_neutralize_feed_give_the_same_dose_and_pump_setting() 
     assert_eq!(table["results"]["dose"]["unit"], "mg/L");
 }
 
-/// pH adjustment's `ph` and `target-ph` were `ph-raw` and `ph-target` before 2026-12-04: a
-/// script written then still runs, under `calc` and under its older subcommand, with the
-/// same answer; the old and the new name together are one entry given twice.
+/// pH adjustment's `ph` and `target-ph` were `ph-raw` and `ph-target` before 2026-12-04, and
+/// free chlorine's `target-residual` was `residual-target`: a script written then still runs,
+/// under `calc` and under its older subcommand, with the same answer; the old and the new name
+/// together are one entry given twice.
 #[test]
-fn ph_adjustment_takes_its_inputs_former_names() {
+fn renamed_inputs_take_their_former_names() {
+    // Chlorine demand 1.4 plus the residual 1.0: 2.4 mg/L as Cl2 either way.
+    let chlorine = "calc free-chlorine --chlorine-demand 1.4 --flow 2.5 --flow-unit mgd \
+         --product sodium-hypochlorite --strength 12.5 --specific-gravity 1.16 --json";
+    for flag in ["target-residual", "residual-target"] {
+        let json = calc(&format!("{chlorine} --{flag} 1.0"));
+        assert_eq!(result(&json, "dose"), Some(2.4), "--{flag}: {json}");
+    }
     let water = "--flow 1.5 --flow-unit mgd --alkalinity 40 --temperature 15";
     let now = calc(&format!(
         "calc ph-adjustment {water} --temperature-unit celsius --ph 6.9 --target-ph 7.8 {CAUSTIC} --json"

@@ -23,7 +23,6 @@ fn reading(input: &Input, strength: Option<(f64, Option<f64>)>) -> Option<String
         "temperature" => "15",
         "calcium-hardness" => "80",
         "chlorine-demand" => "1.2",
-        "residual-target" => "1.5",
         "ph" => "7.4",
         "chlorine-dose" => "3.5",
         "cl2-n-ratio" => "4.5",

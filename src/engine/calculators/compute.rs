@@ -258,7 +258,7 @@ pub(super) fn feed(c: &Calculators, request: &Request) -> Result<Outcome> {
 /// Free chlorine: the dose from demand + residual (and breakpoint), then the product's feed.
 pub(super) fn free_chlorine(c: &Calculators, request: &Request) -> Result<Outcome> {
     let demand = measured(request, "chlorine-demand")?;
-    let residual = measured(request, "residual-target")?;
+    let residual = measured(request, "target-residual")?;
     let ammonia_n = request.get("ammonia-n").map(|value| Measured {
         value,
         sig_figs: request.figures("ammonia-n"),

@@ -49,7 +49,7 @@ pub enum Scope {
 /// One input of a calculator.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]
 pub struct Input {
-    /// Stable kebab-case name: the CLI flag (`--residual-target`), the app's field
+    /// Stable kebab-case name: the CLI flag (`--target-residual`), the app's field
     /// (`field-<name>`), the log's input name.
     pub name: &'static str,
     pub quantity: Quantity,
@@ -75,7 +75,8 @@ pub struct Input {
     /// never zero. Empty: the calculation needs it (unless it is `optional`).
     pub only_for: &'static [&'static str],
     /// The name this input had before a rename (pH adjustment's `ph` was `ph-raw`, so that a
-    /// reading of the water has one name in every calculator). The command line still takes
+    /// reading of the water has one name in every calculator; free chlorine's
+    /// `target-residual` was `residual-target`, as the corrosion inhibitor's target is named). The command line still takes
     /// `--<former>`, and the app reads inputs it saved under it as this one's. Log entries keep
     /// the name they were logged with: a record is what was shown.
     #[serde(skip)]

@@ -68,7 +68,7 @@ fn free_chlorine_request(demand: f64, residual: f64) -> Request {
     req.calculator = "free-chlorine";
     req.values.remove("dose");
     req.values.insert("chlorine-demand", demand);
-    req.values.insert("residual-target", residual);
+    req.values.insert("target-residual", residual);
     req
 }
 
@@ -617,7 +617,7 @@ fn typed_figures_limit_the_result() {
     for (name, n) in [
         ("flow", 4),
         ("chlorine-demand", 2),
-        ("residual-target", 3),
+        ("target-residual", 3),
         ("strength", 3),
         ("specific-gravity", 4),
         ("pump-capacity", 3),
@@ -861,7 +861,7 @@ fn gas_and_dry_feeds_are_the_engines_feeder_settings() {
                 &[
                     ("flow", FLOW),
                     ("chlorine-demand", 1.5),
-                    ("residual-target", 1.0),
+                    ("target-residual", 1.0),
                     ("purity", 100.0),
                     ("gas-feeder-capacity", 45.359237),
                 ],
@@ -877,7 +877,7 @@ fn gas_and_dry_feeds_are_the_engines_feeder_settings() {
                 &[
                     ("flow", FLOW),
                     ("chlorine-demand", 0.8),
-                    ("residual-target", 0.6),
+                    ("target-residual", 0.6),
                     ("purity", 99.5),
                     ("gas-feeder-capacity", 90.7),
                     ("specific-gravity", 1.2),
@@ -960,7 +960,7 @@ fn with_the_water_given_chlorine_shows_the_ph_and_alkalinity_it_leaves() {
         let mut values = vec![
             ("flow", FLOW),
             ("chlorine-demand", 1.5),
-            ("residual-target", 1.0),
+            ("target-residual", 1.0),
         ];
         values.extend_from_slice(form);
         values.extend_from_slice(&water);
@@ -1019,7 +1019,7 @@ fn with_the_water_given_chlorine_shows_the_ph_and_alkalinity_it_leaves() {
             &[
                 ("flow", FLOW),
                 ("chlorine-demand", 1.5),
-                ("residual-target", 1.0),
+                ("target-residual", 1.0),
                 ("purity", 100.0),
                 ("gas-feeder-capacity", 45.359237),
                 ("ph", 7.2),
@@ -1049,7 +1049,7 @@ fn chlorine_gas_is_offered_beside_hypochlorite_with_its_cautions() {
         &[
             ("flow", FLOW),
             ("chlorine-demand", 1.5),
-            ("residual-target", 1.0),
+            ("target-residual", 1.0),
             ("purity", 100.0),
             ("gas-feeder-capacity", 45.359237),
         ],

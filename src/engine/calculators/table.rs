@@ -391,9 +391,12 @@ pub static TABLE: [Calculator; 22] = [
                 ),
                 CL2,
             ),
-            limited(
-                based(own("residual-target", Q::Concentration), CL2),
-                "chlorine",
+            formerly(
+                limited(
+                    based(own("target-residual", Q::Concentration), CL2),
+                    "chlorine",
+                ),
+                "residual-target",
             ),
             // Ammonia in the water: chlorine must pass breakpoint before a free residual forms.
             optional(based(water("ammonia-n", Q::Concentration), "N")),

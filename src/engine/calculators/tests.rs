@@ -185,7 +185,7 @@ fn without_a_pump_capacity_everything_but_the_setting_is_computed() {
 }
 
 /// A compute function's refusal names the input whose value it reports, so the app can mark
-/// that field: a negative residual target is refused at "residual-target".
+/// that field: a negative residual target is refused at "target-residual".
 #[test]
 fn a_refusal_names_the_input_it_is_about() {
     let e = calculators()
@@ -196,7 +196,7 @@ fn a_refusal_names_the_input_it_is_about() {
                 &[
                     ("flow", 10_000.0),
                     ("chlorine-demand", 1.0),
-                    ("residual-target", -1.0),
+                    ("target-residual", -1.0),
                 ],
                 &LIQUID,
             ),
@@ -207,7 +207,7 @@ fn a_refusal_names_the_input_it_is_about() {
         .iter()
         .find(|(k, _)| *k == "input")
         .map(|(_, v)| v.as_str());
-    assert_eq!(input, Some("residual-target"), "{e}");
+    assert_eq!(input, Some("target-residual"), "{e}");
 }
 
 #[test]
@@ -222,7 +222,7 @@ fn a_missing_input_names_itself_and_an_optional_one_may_be_left_out() {
         &[
             ("flow", 10_000.0),
             ("chlorine-demand", 1.0),
-            ("residual-target", 1.0),
+            ("target-residual", 1.0),
         ],
         &LIQUID,
     );
@@ -256,7 +256,7 @@ fn a_target_above_the_plants_limit_is_a_caution_naming_the_limit() {
         &[
             ("flow", 10_000.0),
             ("chlorine-demand", 1.0),
-            ("residual-target", 5.0),
+            ("target-residual", 5.0),
         ],
         &LIQUID,
     );
@@ -269,7 +269,7 @@ fn a_target_above_the_plants_limit_is_a_caution_naming_the_limit() {
         .find(|c| c.key == "site-limit-above")
         .expect("limit caution");
     assert_eq!(breach.param("limit"), Some("4.00"));
-    assert_eq!(breach.param("field"), Some("field-residual-target"));
+    assert_eq!(breach.param("field"), Some("field-target-residual"));
     // A plant's own, stricter entry wins over the default.
     let mut own = regulatory_defaults()
         .into_iter()
@@ -278,7 +278,7 @@ fn a_target_above_the_plants_limit_is_a_caution_naming_the_limit() {
     own.max = Some(2.5);
     own.source = "plant permit".into();
     r.limits = vec![own];
-    r.values.insert("residual-target", 3.0);
+    r.values.insert("target-residual", 3.0);
     let out = c.compute(&r).unwrap();
     let breach = out
         .cautions
@@ -687,7 +687,7 @@ fn free_chlorine_reports_the_breakpoint_end_state() {
     let water = [
         ("flow", 5000.0),
         ("chlorine-demand", 0.0),
-        ("residual-target", 1.0),
+        ("target-residual", 1.0),
         ("ammonia-n", 1.0),
         ("ph", 7.6),
         ("alkalinity", 80.0),
