@@ -664,7 +664,7 @@ impl Solver {
                         .iter()
                         .filter(|&&(s, _)| self.mask[s] & !active == 0)
                         .map(|&(s, k)| {
-                            let kg = self.th.k[s] * a_h.powi(species[s].h) / gamma[s];
+                            let kg = self.th.k[s] * h_powers.of(species[s].h) / gamma[s];
                             k as f64 * self.conc_of(s, kg, &trial)
                         })
                         .sum();
@@ -805,20 +805,23 @@ impl Solver {
                 let gamma_h = self.gammas_of(i, &mut gamma, p, needed);
                 let mut totals = p.totals;
                 // Newton has converged quadratically: the mass balances already hold to
-                // ~1e-16. Without a cap the species are evaluated once at this last step's
+                // ~1e-12. Without a cap the species are evaluated once at this last step's
                 // free masters and ionic strength; a capped master's free value follows the
                 // pH, so a capped problem takes one substitution sweep instead.
                 let capless = p.caps.iter().all(Option::is_none);
+                let h_powers = HPowers::new(pow10(x));
+                let mut act = [0.0f64; NC];
+                for c in 0..NC {
+                    act[c] = free[c] * gamma[c];
+                }
+                let conc_at_last_step = |s: usize| {
+                    let kg = k_of[s] * h_powers.of(species[s].h) / gamma[s];
+                    self.conc_of(s, kg, &act)
+                };
                 if capless {
-                    let a_h = pow10(x);
-                    let mut act = [0.0f64; NC];
-                    for c in 0..NC {
-                        act[c] = free[c] * gamma[c];
-                    }
                     for s in 0..species.len() {
                         conc[s] = if s < ns && mask[s] & !active == 0 {
-                            let kg = k_of[s] * a_h.powi(species[s].h) / gamma[s];
-                            self.conc_of(s, kg, &act)
+                            conc_at_last_step(s)
                         } else {
                             0.0
                         };
@@ -829,15 +832,9 @@ impl Solver {
                     // last step (not at the step before, which would leave the alkalinity
                     // off by as much as that step moved it).
                     if !capless {
-                        let a_h = pow10(x);
-                        let mut act = [0.0f64; NC];
-                        for c in 0..NC {
-                            act[c] = free[c] * gamma[c];
-                        }
                         for &(s, _) in &self.by_comp[co3] {
                             if s < ns && mask[s] & !active == 0 {
-                                let kg = k_of[s] * a_h.powi(species[s].h) / gamma[s];
-                                conc[s] = self.conc_of(s, kg, &act);
+                                conc[s] = conc_at_last_step(s);
                             }
                         }
                     }
