@@ -150,21 +150,19 @@ impl AppState {
             return false;
         };
         self.open_calculator(kind);
-        // The path's names for the water's readings and the calculators' fields for them;
-        // the first name the open calculator has takes the value.
-        const NAMES: [(&str, &[&str]); 4] = [
-            ("ph", &["ph"]),
-            ("temperature", &["temperature"]),
-            ("alkalinity", &["alkalinity"]),
-            ("calcium", &["calcium-hardness"]),
+        // The path's name for each reading of the water and the calculators' field for it
+        // (the same name but calcium's), taken where the open calculator has that field.
+        const FIELDS: [(&str, &str); 4] = [
+            ("ph", "ph"),
+            ("temperature", "temperature"),
+            ("alkalinity", "alkalinity"),
+            ("calcium", "calcium-hardness"),
         ];
         for (reading, text) in water {
-            let names = NAMES
-                .iter()
-                .find(|(r, _)| *r == reading)
-                .map_or(&[][..], |(_, n)| *n);
-            let shown: Vec<&str> = self.calc.fields().iter().map(|f| f.name).collect();
-            if let Some(name) = names.iter().find(|n| shown.contains(n)) {
+            let Some(&(_, name)) = FIELDS.iter().find(|(r, _)| *r == reading) else {
+                continue;
+            };
+            if self.calc.fields().iter().any(|f| f.name == name) {
                 self.calc.edit(name, &text);
             }
         }
