@@ -374,9 +374,10 @@ impl Solver {
         by_class[self.h_class]
     }
 
-    /// Like [`Solver::gammas`], also filling d(log10 γ)/dI per species; returns (γ_H, its
-    /// slope). Only the classes in `needed` ([`Layout::classes_needed`]) are evaluated: the
-    /// others' species are absent from the water, and their γ is left at 1 for the steps.
+    /// Like [`Solver::gammas`], also filling d(log10 γ)/dI, for the `live` species alone (those
+    /// the water can hold; Newton's steps read no other); returns (γ_H, its slope). Only the
+    /// classes in `needed` ([`Layout::classes_needed`]) are evaluated: the others' species are
+    /// absent from the water.
     fn gammas_with_slopes(
         &self,
         i: f64,
@@ -384,6 +385,7 @@ impl Solver {
         dlg: &mut [f64],
         p: &Problem,
         needed: u64,
+        live: &[u16],
     ) -> (f64, f64) {
         let span = self.span(p);
         let mut by_class = [(1.0f64, 0.0f64); 48];
@@ -396,14 +398,9 @@ impl Solver {
                 activity::dlog_gamma_di(model, z, i, &self.th, self.table),
             );
         }
-        for ((g, d), &c) in gamma
-            .iter_mut()
-            .zip(dlg.iter_mut())
-            .zip(&self.class)
-            .take(span.species)
-        {
-            *g = by_class[c].0;
-            *d = by_class[c].1;
+        for &s in live {
+            let s = s as usize;
+            (gamma[s], dlg[s]) = by_class[self.class[s]];
         }
         by_class[self.h_class]
     }
@@ -635,6 +632,19 @@ impl Solver {
             }
             self.distribute(x, &q, &gamma, &mut free, &mut conc, 1e-6);
         }
+        // The species this water can hold (all their masters present), listed once: the
+        // steps below visit only these, and the others' concentrations stay zero.
+        let mut live_buf = [0u16; MAX_SPECIES];
+        let mut n_live = 0;
+        for s in 0..ns.min(MAX_SPECIES) {
+            if self.mask[s] & !active == 0 {
+                live_buf[n_live] = s as u16;
+                n_live += 1;
+            } else {
+                conc[s] = 0.0;
+            }
+        }
+        let live = &live_buf[..n_live];
         let mut jac = [[0.0f64; N + 1]; N];
         // The per-species tables as local slices: the species loop below then keeps their
         // addresses in registers instead of reading them through the shared layout each time.
@@ -642,7 +652,7 @@ impl Solver {
         let (comp_len, comp_idx, comp_n): (&[u8], &[[u8; 3]], &[[u8; 3]]) =
             (&self.comp_len, &self.comp_idx, &self.comp_n);
         for _ in 0..40 {
-            let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, dlg, p, needed);
+            let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, dlg, p, needed, live);
             let a_h = pow10(x);
             let h_powers = HPowers::new(a_h);
             // Caps: a master whose total would be supersaturated with its hydroxide is held at
@@ -696,11 +706,8 @@ impl Solver {
                 jac[r][N] = p.totals[unk[r]];
                 scale[r] = p.totals[unk[r]];
             }
-            for s in 0..ns {
-                if mask[s] & !active != 0 {
-                    conc[s] = 0.0;
-                    continue;
-                }
+            for &s in live {
+                let s = s as usize;
                 let def = &species[s];
                 let (idx, nu) = (&comp_idx[s], &comp_n[s]);
                 let kg = k_of[s] * h_powers.of(def.h) / gamma[s];
