@@ -199,9 +199,19 @@ fn conc_from(idx: &[u8; 3], n: &[u8; 3], len: u8, kg: f64, act: &[f64; NC]) -> f
 /// place by Gaussian elimination with partial pivoting; `None` if singular or not finite.
 fn gauss<const R: usize, const M: usize>(a: &mut [[f64; M]; R], n: usize) -> Option<[f64; R]> {
     let rhs = M - 1;
+    // 1 / pivot of each column: one division per column, not one per row it eliminates and
+    // again in the back substitution.
+    let mut inv = [0.0; R];
     for col in 0..n {
-        let pivot = (col..n).max_by(|&r1, &r2| a[r1][col].abs().total_cmp(&a[r2][col].abs()))?;
-        if !(a[pivot][col].abs() > 1e-300) {
+        let (mut pivot, mut largest) = (col, a[col][col].abs());
+        for r in col + 1..n {
+            let v = a[r][col].abs();
+            if v > largest {
+                (pivot, largest) = (r, v);
+            }
+        }
+        // Also false for NaN.
+        if !(largest > 1e-300) {
             return None;
         }
         if pivot != col {
@@ -216,8 +226,9 @@ fn gauss<const R: usize, const M: usize>(a: &mut [[f64; M]; R], n: usize) -> Opt
             a[col][rhs] = a[pivot][rhs];
             a[pivot][rhs] = t;
         }
+        inv[col] = 1.0 / a[col][col];
         for r in col + 1..n {
-            let f = a[r][col] / a[col][col];
+            let f = a[r][col] * inv[col];
             if f != 0.0 {
                 for k in col..n {
                     a[r][k] -= f * a[col][k];
@@ -232,7 +243,7 @@ fn gauss<const R: usize, const M: usize>(a: &mut [[f64; M]; R], n: usize) -> Opt
         for k in r + 1..n {
             v -= a[r][k] * x[k];
         }
-        x[r] = v / a[r][r];
+        x[r] = v * inv[r];
         if !x[r].is_finite() {
             return None;
         }
