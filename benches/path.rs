@@ -1,8 +1,8 @@
 //! Timing of the plant's water path (issue 15's figures): pH after a dose and dose for a
 //! target on a full-ion water, a six-point path with the ranges the readings allow, and a
 //! two-target solve (alkalinity and LSI as the second target); and where a `molefeed batch`
-//! line for `ph-after` spends its time (reading the arguments, the chemistry, the report and
-//! its JSON text).
+//! line for `ph-after` spends its time (reading the arguments, the equilibrium constants at the
+//! water's temperature, the chemistry, the report and its JSON text).
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use molefeed::cli::{Args, dispatch};
@@ -88,6 +88,11 @@ fn benches(c: &mut Criterion) {
     c.bench_function("batch part: arguments from the JSON line", |b| {
         b.iter(|| Args::from_json(black_box(&line)))
     });
+    let table = molefeed::engine::water::constants::Table::embedded();
+    c.bench_function(
+        "batch part: the constants at the water's temperature",
+        |b| b.iter(|| table.at(black_box(14.0))),
+    );
     c.bench_function("batch part: water state from full-ion readings", |b| {
         b.iter(|| WaterState::new(black_box(&input())))
     });
