@@ -1549,6 +1549,79 @@ mod tests {
         assert!((frac - 0.52).abs() < 0.015, "HOCl fraction {frac:.3}");
     }
 }
+
+/// Gaussian elimination on systems solved by hand. Newton's arrays are larger than most systems
+/// they hold, so each case sits in a 4 × 5 array (right-hand side in the last column) with the
+/// unused places filled with a number that would show in the answer if it were read.
+#[cfg(test)]
+mod gauss_tests {
+    use super::*;
+
+    /// `rows`: the first n rows, each n coefficients and the right-hand side.
+    fn solve(rows: &[&[f64]]) -> Option<Vec<f64>> {
+        let n = rows.len();
+        let mut a = [[99.0f64; 5]; 4];
+        for (r, row) in rows.iter().enumerate() {
+            a[r][..n].copy_from_slice(&row[..n]);
+            a[r][4] = row[n];
+        }
+        gauss(&mut a, n).map(|x| x[..n].to_vec())
+    }
+
+    fn check(rows: &[&[f64]], expected: &[f64]) {
+        let got = solve(rows).expect("a regular system has a solution");
+        for (g, e) in got.iter().zip(expected) {
+            assert!(
+                (g - e).abs() < 1e-12,
+                "solved {rows:?}: {got:?}, expected {expected:?}"
+            );
+        }
+    }
+
+    #[test]
+    fn regular_systems_are_solved() {
+        check(&[&[4.0, 8.0]], &[2.0]);
+        // x + y = 3, x − y = 1.
+        check(&[&[1.0, 1.0, 3.0], &[1.0, -1.0, 1.0]], &[2.0, 1.0]);
+        // A zero where the first pivot would be: the rows must be exchanged.
+        check(&[&[0.0, 1.0, 2.0], &[1.0, 1.0, 3.0]], &[1.0, 2.0]);
+        // x = (1, −2, 3), zero on the diagonal's first place; b = A·x worked by hand.
+        check(
+            &[
+                &[0.0, 2.0, 1.0, -1.0],
+                &[4.0, 1.0, 0.0, 2.0],
+                &[1.0, 0.0, 5.0, 16.0],
+            ],
+            &[1.0, -2.0, 3.0],
+        );
+        // Four unknowns, the whole array in use: x = (1, 1, 1, 1), each b the row's sum.
+        check(
+            &[
+                &[2.0, 1.0, 0.0, 0.0, 3.0],
+                &[1.0, 3.0, 1.0, 0.0, 5.0],
+                &[0.0, 1.0, 4.0, 1.0, 6.0],
+                &[0.0, 0.0, 1.0, 5.0, 6.0],
+            ],
+            &[1.0, 1.0, 1.0, 1.0],
+        );
+        // Rows of very different scale (Newton scales its rows, but need not be exact).
+        check(&[&[1e-9, 1e-9, 2e-9], &[1e6, -1e6, 0.0]], &[1.0, 1.0]);
+    }
+
+    #[test]
+    fn singular_or_non_finite_systems_have_no_solution() {
+        for rows in [
+            &[&[0.0, 1.0][..]][..],
+            &[&[1.0, 2.0, 3.0][..], &[2.0, 4.0, 6.0][..]],
+            &[&[1.0, 2.0, 3.0][..], &[2.0, 4.0, 7.0][..]],
+            &[&[f64::NAN, 1.0, 1.0][..], &[1.0, 1.0, 2.0][..]],
+            &[&[1.0, 0.0, f64::INFINITY][..], &[0.0, 1.0, 1.0][..]],
+        ] {
+            assert_eq!(solve(rows), None, "{rows:?}");
+        }
+    }
+}
+
 #[cfg(test)]
 mod slope_tests {
     use super::*;
