@@ -394,7 +394,46 @@ impl Table {
             .rposition(|s| !s.is_extended())
             .map_or(0, |i| i + 1)
             .max(NC);
+        table.check_fits_the_solver()?;
         Ok(table)
+    }
+
+    /// The solver keeps its scratch in fixed-size arrays and its species' masters in three
+    /// bytes; a table beyond those sizes is refused here, where it would otherwise lose
+    /// species, classes or masters without a word.
+    fn check_fits_the_solver(&self) -> Result<()> {
+        use super::speciation::{MAX_CLASSES, MAX_MASTERS_PER_SPECIES, MAX_SPECIES};
+        if self.species.len() > MAX_SPECIES {
+            return Err(data_error(format!(
+                "{} species; the solver holds at most {MAX_SPECIES}",
+                self.species.len()
+            )));
+        }
+        for s in &self.species {
+            if s.comp.len() > MAX_MASTERS_PER_SPECIES
+                || s.comp.iter().any(|&(_, n)| !(1..=255).contains(&n))
+            {
+                return Err(data_error(format!(
+                    "{}: a species is made of at most {MAX_MASTERS_PER_SPECIES} masters, each \
+                     counted 1 to 255 times",
+                    s.name
+                )));
+            }
+        }
+        let mut classes: Vec<(GammaModel, i32)> = vec![(self.h_gamma, 1)];
+        for s in &self.species {
+            if !classes.contains(&(s.gamma, s.z)) {
+                classes.push((s.gamma, s.z));
+            }
+        }
+        if classes.len() > MAX_CLASSES {
+            return Err(data_error(format!(
+                "{} activity classes (distinct γ models and charges); the solver holds at most \
+                 {MAX_CLASSES}",
+                classes.len()
+            )));
+        }
+        Ok(())
     }
 
     /// The embedded table, parsed on first use (the text is compiled in and tested, so a
@@ -561,5 +600,65 @@ mod tests {
     fn bad_data_is_a_typed_error() {
         assert!(Table::parse("{}").is_err());
         assert!(Table::parse("not json").is_err());
+    }
+
+    /// The embedded table with `edit` applied to its JSON, parsed: the error's text, or None.
+    fn parse_edited(edit: impl Fn(&mut serde_json::Value)) -> Option<String> {
+        let mut raw: serde_json::Value =
+            serde_json::from_str(include_str!("../../../data/water-constants.json")).unwrap();
+        edit(&mut raw);
+        Table::parse(&raw.to_string()).err().map(|e| e.to_string())
+    }
+
+    fn check_refused(edit: impl Fn(&mut serde_json::Value), expected: &str) {
+        match parse_edited(edit) {
+            Some(message) => assert!(message.contains(expected), "{message}"),
+            None => panic!("a table beyond the solver's sizes was accepted ({expected})"),
+        }
+    }
+
+    /// A copy of the table's first non-master species (OH-) under a new name.
+    fn extra_species(n: usize) -> serde_json::Value {
+        let mut raw: serde_json::Value =
+            serde_json::from_str(include_str!("../../../data/water-constants.json")).unwrap();
+        let mut s = raw["species"][0].take();
+        s["species"] = format!("Extra{n}-").into();
+        s
+    }
+
+    #[test]
+    fn a_table_beyond_the_solvers_sizes_is_refused() {
+        // The table as shipped fits (the other tests use it).
+        assert_eq!(parse_edited(|_| {}), None);
+        check_refused(
+            |raw| {
+                let list = raw["species"].as_array_mut().unwrap();
+                for n in NC + list.len()..=super::super::speciation::MAX_SPECIES {
+                    list.push(extra_species(n));
+                }
+            },
+            "97 species; the solver holds at most 96",
+        );
+        check_refused(
+            |raw| {
+                raw["species"][0]["comp"] = serde_json::json!({"Ca": 1, "Mg": 1, "Na": 1, "K": 1})
+            },
+            "at most 3 masters",
+        );
+        check_refused(
+            |raw| raw["species"][0]["comp"] = serde_json::json!({"Ca": 0}),
+            "counted 1 to 255 times",
+        );
+        check_refused(
+            |raw| {
+                // A γ of its own for each of the table's species: classes beyond 48, with as
+                // many species as before.
+                let list = raw["species"].as_array_mut().unwrap();
+                for (n, s) in list.iter_mut().enumerate() {
+                    s["gamma"] = serde_json::json!([3.0 + n as f64 * 0.01, 0.0]);
+                }
+            },
+            "activity classes",
+        );
     }
 }

@@ -121,8 +121,14 @@ const PREDICTED_WITHOUT: [Component; 7] = [
     Component::Si,
 ];
 
-/// Most species in the table the fixed-size scratch arrays hold.
-const MAX_SPECIES: usize = 96;
+/// Most species in the table the fixed-size scratch arrays hold ([`Table::parse`] refuses a
+/// table with more).
+pub(super) const MAX_SPECIES: usize = 96;
+/// Most activity classes (distinct γ models and charges) the scratch arrays hold; also under
+/// 64, so that a `u64` holds a bit per class ([`Layout::classes_needed`]).
+pub(super) const MAX_CLASSES: usize = 48;
+/// Most masters one species is made of ([`Layout`] keeps three per species).
+pub(super) const MAX_MASTERS_PER_SPECIES: usize = 3;
 const PH_MIN: f64 = -2.0;
 const PH_MAX: f64 = 16.0;
 const LN10: f64 = std::f64::consts::LN_10;
@@ -269,7 +275,7 @@ impl Layout {
         let ns = table.species.len().min(MAX_SPECIES);
         for (s, def) in table.species.iter().take(ns).enumerate() {
             let (mut idx, mut n, mut m) = ([0u8; 3], [0u8; 3], 0u16);
-            for (k, &(c, count)) in def.comp.iter().take(3).enumerate() {
+            for (k, &(c, count)) in def.comp.iter().take(MAX_MASTERS_PER_SPECIES).enumerate() {
                 by_comp[c.index()].push((s, count));
                 idx[k] = c.index() as u8;
                 n[k] = count.clamp(0, 255) as u8;
@@ -277,7 +283,7 @@ impl Layout {
             }
             comp_idx.push(idx);
             comp_n.push(n);
-            comp_len.push(def.comp.len().min(3) as u8);
+            comp_len.push(def.comp.len().min(MAX_MASTERS_PER_SPECIES) as u8);
             mask.push(m);
         }
         // Classes: the core species' first, then H+, then those only extended species use.
@@ -372,8 +378,13 @@ impl Solver {
     /// problem whose totals stay as they are while these γ are used.
     fn gammas_of(&self, i: f64, gamma: &mut [f64], p: &Problem, needed: u64) -> f64 {
         let span = self.span(p);
-        let mut by_class = [1.0f64; 48];
-        for (k, &(model, z)) in self.classes.iter().enumerate().take(span.classes.min(48)) {
+        let mut by_class = [1.0f64; MAX_CLASSES];
+        for (k, &(model, z)) in self
+            .classes
+            .iter()
+            .enumerate()
+            .take(span.classes.min(MAX_CLASSES))
+        {
             if k < 64 && needed & (1 << k) == 0 {
                 continue;
             }
@@ -399,8 +410,13 @@ impl Solver {
         live: &[u16],
     ) -> (f64, f64) {
         let span = self.span(p);
-        let mut by_class = [(1.0f64, 0.0f64); 48];
-        for (k, &(model, z)) in self.classes.iter().enumerate().take(span.classes.min(48)) {
+        let mut by_class = [(1.0f64, 0.0f64); MAX_CLASSES];
+        for (k, &(model, z)) in self
+            .classes
+            .iter()
+            .enumerate()
+            .take(span.classes.min(MAX_CLASSES))
+        {
             if k < 64 && needed & (1 << k) == 0 {
                 continue;
             }
