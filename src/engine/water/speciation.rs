@@ -372,13 +372,15 @@ impl Solver {
         self.gammas_of(i, gamma, p, u64::MAX)
     }
 
-    /// [`Solver::gammas`] for the classes in `needed` ([`Layout::classes_needed`] of the
-    /// masters present): a species of any other class is absent from the water (a master of
-    /// it is), its concentration is zero whatever its γ, and its γ is left at 1. Only for a
-    /// problem whose totals stay as they are while these γ are used.
-    fn gammas_of(&self, i: f64, gamma: &mut [f64], p: &Problem, needed: u64) -> f64 {
-        let span = self.span(p);
-        let mut by_class = [1.0f64; MAX_CLASSES];
+    /// Calls `evaluate` with each activity class of `span` that is in `needed` (its index,
+    /// model and charge): the classes whose γ a step evaluates.
+    #[inline]
+    fn each_class_in_use(
+        &self,
+        span: Span,
+        needed: u64,
+        mut evaluate: impl FnMut(usize, GammaModel, i32),
+    ) {
         for (k, &(model, z)) in self
             .classes
             .iter()
@@ -388,8 +390,20 @@ impl Solver {
             if k < 64 && needed & (1 << k) == 0 {
                 continue;
             }
-            by_class[k] = pow10(activity::log_gamma(model, z, i, &self.th, self.table));
+            evaluate(k, model, z);
         }
+    }
+
+    /// [`Solver::gammas`] for the classes in `needed` ([`Layout::classes_needed`] of the
+    /// masters present): a species of any other class is absent from the water (a master of
+    /// it is), its concentration is zero whatever its γ, and its γ is left at 1. Only for a
+    /// problem whose totals stay as they are while these γ are used.
+    fn gammas_of(&self, i: f64, gamma: &mut [f64], p: &Problem, needed: u64) -> f64 {
+        let span = self.span(p);
+        let mut by_class = [1.0f64; MAX_CLASSES];
+        self.each_class_in_use(span, needed, |k, model, z| {
+            by_class[k] = pow10(activity::log_gamma(model, z, i, &self.th, self.table));
+        });
         for (g, &c) in gamma.iter_mut().zip(&self.class).take(span.species) {
             *g = by_class[c];
         }
@@ -409,22 +423,13 @@ impl Solver {
         needed: u64,
         live: &[u16],
     ) -> (f64, f64) {
-        let span = self.span(p);
         let mut by_class = [(1.0f64, 0.0f64); MAX_CLASSES];
-        for (k, &(model, z)) in self
-            .classes
-            .iter()
-            .enumerate()
-            .take(span.classes.min(MAX_CLASSES))
-        {
-            if k < 64 && needed & (1 << k) == 0 {
-                continue;
-            }
+        self.each_class_in_use(self.span(p), needed, |k, model, z| {
             by_class[k] = (
                 pow10(activity::log_gamma(model, z, i, &self.th, self.table)),
                 activity::dlog_gamma_di(model, z, i, &self.th, self.table),
             );
-        }
+        });
         for &s in live {
             let s = s as usize;
             (gamma[s], dlg[s]) = by_class[self.class[s]];
