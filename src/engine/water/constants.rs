@@ -420,17 +420,13 @@ impl Table {
                 )));
             }
         }
-        let mut classes: Vec<(GammaModel, i32)> = vec![(self.h_gamma, 1)];
-        for s in &self.species {
-            if !classes.contains(&(s.gamma, s.z)) {
-                classes.push((s.gamma, s.z));
-            }
-        }
-        if classes.len() > MAX_CLASSES {
+        // The classes as the solver's layout groups them (built here once, and kept: every
+        // solve of this table uses it).
+        let classes = self.layout().class_count();
+        if classes > MAX_CLASSES {
             return Err(data_error(format!(
-                "{} activity classes (distinct γ models and charges); the solver holds at most \
-                 {MAX_CLASSES}",
-                classes.len()
+                "{classes} activity classes (distinct γ models and charges); the solver holds at \
+                 most {MAX_CLASSES}"
             )));
         }
         Ok(())

@@ -318,6 +318,12 @@ impl Layout {
         }
     }
 
+    /// How many activity classes (distinct γ models and charges, H+'s among them) the table
+    /// has: [`Table::parse`] refuses a table with more than [`MAX_CLASSES`].
+    pub(super) fn class_count(&self) -> usize {
+        self.classes.len()
+    }
+
     /// Bit set of the activity classes (at most 64; more are always needed) with a species
     /// made only of the `active` components, and H+'s class.
     fn classes_needed(&self, active: u16) -> u64 {
