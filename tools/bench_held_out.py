@@ -33,6 +33,14 @@ time (--chunk, default 1000) so that a change in the load of a shared machine fa
     with every species (about 1.5 kB a line), as every run did before 2026-12-04 (afternoon).
 The script prints µs per request for each, their ratios, and the worst |ΔpH| between molefeed and
 PHREEQC (a speed that gave other answers would not count).
+
+It also prints the CPU time each side was charged for the same turns (since 2026-12-04, night):
+PHREEQC's as the CPU time of the harness's own thread while it ran PHREEQC (time.thread_time;
+IPhreeqc runs in that thread), the one `molefeed batch` process's from the kernel's count of its
+time on a CPU (/proc/PID/schedstat, nanoseconds). Wall time on this shared virtual machine holds
+more than the programs' own work: a CPU left idle during PHREEQC's turn wakes slower for
+molefeed's (docs/benchmarks.md), which CPU time does not see. Both ratios are printed; neither
+replaces the other.
 """
 
 import argparse
@@ -122,6 +130,12 @@ class Streamed:
         self.out = self.proc.stdout.fileno()
         self.pending = b""
 
+    def cpu_seconds(self):
+        """The process's time on a CPU so far: the kernel's count, in nanoseconds, of its
+        (single) thread's run time."""
+        with open(f"/proc/{self.proc.pid}/schedstat") as f:
+            return int(f.read().split()[0]) * 1e-9
+
     def run(self, payload, lines):
         """Writes `payload` (`lines` requests) and reads back its `lines` answers. The writing
         runs on a thread: a chunk's answers fill the pipe long before its requests are all
@@ -177,10 +191,11 @@ def main():
     # The programs take turns, a chunk of requests each, so a change in the load of a shared
     # machine falls on all of them rather than on whichever ran last.
     phreeqc_seconds = stream_seconds = process_seconds = 0.0
+    phreeqc_cpu = stream_cpu = 0.0
     reference, answers = [], []
     mismatched = 0
     for start in range(0, len(cases), a.chunk):
-        t0 = time.perf_counter()
+        t0, c0 = time.perf_counter(), time.thread_time()
         for text in texts[start:start + a.chunk]:
             # A water PHREEQC cannot converge on ("Alkalinity has not converged") is counted
             # and left out of the comparison, not the end of the run; its time still counts.
@@ -190,11 +205,13 @@ def main():
             except Exception:  # noqa: BLE001 - phreeqpython raises a bare Exception
                 reference.append(None)
         phreeqc_seconds += time.perf_counter() - t0
+        phreeqc_cpu += time.thread_time() - c0
         chunk = lines[start:start + a.chunk]
         payload = ("\n".join(chunk) + "\n").encode()
-        t0 = time.perf_counter()
+        t0, c0 = time.perf_counter(), streamed.cpu_seconds()
         by_stream = streamed.run(payload, len(chunk))
         stream_seconds += time.perf_counter() - t0
+        stream_cpu += streamed.cpu_seconds() - c0
         t0 = time.perf_counter()
         out = subprocess.run([a.binary, "batch"], input=payload, capture_output=True, check=False)
         process_seconds += time.perf_counter() - t0
@@ -222,6 +239,9 @@ def main():
           f"ratio {phreeqc / stream:6.1f}x")
     print(f"molefeed batch, process per chunk {per_chunk * 1e6:7.1f} µs per request   "
           f"ratio {phreeqc / per_chunk:6.1f}x")
+    print(f"CPU time: PHREEQC {phreeqc_cpu / len(cases) * 1e6:8.1f} µs per request, "
+          f"molefeed batch (one process) {stream_cpu / len(cases) * 1e6:6.1f} µs   "
+          f"ratio {phreeqc_cpu / stream_cpu:6.1f}x")
     print(f"worst |ΔpH| {worst:.4f}   molefeed errors {errors}   "
           f"chunks whose two answers differ {mismatched}   "
           f"waters PHREEQC could not solve (left out of ΔpH) {unsolved}, "
