@@ -9,6 +9,11 @@
 //! Gauss–Seidel substitution, warm-started from the previous call. An optional solubility cap
 //! per component models a hydroxide phase at equilibrium: the master's activity may not exceed
 //! the phase's, and the excess is reported as precipitated.
+//!
+//! Those loops are the solve that cannot fail. First, every solve tries Newton on all the
+//! balances at once ([`Solver::newton_full`]), with the masters that pair with no other of
+//! their kind (the cations and chloride of a water) taken in closed form, so that a full-ion
+//! water's Newton has 4 unknowns, not 9; it falls back to the loops where it does not settle.
 
 // `!(x > 0.0)` is deliberate throughout: it is true for NaN, which must be caught; index
 // loops mirror the matrix algebra.
@@ -173,6 +178,38 @@ impl HPowers {
     }
 }
 
+/// The masters a Newton solve takes in closed form ([`Solver::newton_full`]).
+struct Eliminated {
+    mask: u16,
+    /// The eliminated masters; slot e is `masters[e]`.
+    masters: [usize; NC],
+    count: usize,
+    /// Per species: the slot of its eliminated master, or `NC` for a species with none (a
+    /// slot whose sums fall unread).
+    slot: [u8; MAX_SPECIES],
+}
+
+/// A live species as a Newton step reads it ([`Solver::newton_full`]), made once per solve.
+#[derive(Clone, Copy, Default)]
+struct Term {
+    /// K at the water's temperature.
+    k: f64,
+    z: f64,
+    /// z²/2.
+    z2h: f64,
+    /// Protons (h), and h + 4: its place in [`HPowers`]' table (`u8::MAX` if it has none).
+    h: f64,
+    h_index: u8,
+    /// Activity class.
+    class: u8,
+    /// Slot of its eliminated master ([`Eliminated::slot`]).
+    slot: u8,
+    /// Its masters that stay unknowns, with their counts.
+    kept: u8,
+    master: [u8; 3],
+    nu: [u8; 3],
+}
+
 /// Bit mask of the components present.
 fn active_mask(p: &Problem) -> u16 {
     let mut m = 0;
@@ -186,7 +223,7 @@ fn active_mask(p: &Problem) -> u16 {
 
 /// Concentration of a species with masters `idx` (counts `n`, `len` of them) and
 /// K·{H+}^h/γ = `kg`, from the masters' activities.
-#[inline]
+#[inline(always)]
 fn conc_from(idx: &[u8; 3], n: &[u8; 3], len: u8, kg: f64, act: &[f64; NC]) -> f64 {
     let mut v = kg;
     for k in 0..len as usize {
@@ -416,34 +453,76 @@ impl Solver {
         by_class[self.h_class]
     }
 
-    /// Like [`Solver::gammas`], also filling d(log10 γ)/dI, for the `live` species alone (those
-    /// the water can hold; Newton's steps read no other); returns (γ_H, its slope). Only the
-    /// classes in `needed` ([`Layout::classes_needed`]) are evaluated: the others' species are
-    /// absent from the water.
-    fn gammas_with_slopes(
+    /// γ and d(log10 γ)/dI of each activity class of `span` in `needed`
+    /// ([`Layout::classes_needed`]); (1, 0) for the others, whose species the water does not
+    /// hold. A Newton step reads a species' γ through its class.
+    fn gammas_and_slopes_by_class(
         &self,
         i: f64,
-        gamma: &mut [f64],
-        dlg: &mut [f64],
-        p: &Problem,
+        span: Span,
         needed: u64,
-        live: &[u16],
-    ) -> (f64, f64) {
+    ) -> [(f64, f64); MAX_CLASSES] {
         let mut by_class = [(1.0f64, 0.0f64); MAX_CLASSES];
-        self.each_class_in_use(self.span(p), needed, |k, model, z| {
+        self.each_class_in_use(span, needed, |k, model, z| {
             by_class[k] = (
                 pow10(activity::log_gamma(model, z, i, &self.th, self.table)),
                 activity::dlog_gamma_di(model, z, i, &self.th, self.table),
             );
         });
-        for &s in live {
-            let s = s as usize;
-            (gamma[s], dlg[s]) = by_class[self.class[s]];
-        }
-        by_class[self.h_class]
+        by_class
     }
 
-    #[inline]
+    /// The masters of `p` that [`Solver::newton_full`] eliminates: each appears once in every
+    /// species the water can hold (in the first `span`, all their masters in `active`), and
+    /// no species holds two of them. Chosen greedily, those in the fewest species first (a
+    /// cation or chloride before carbonate or sulfate, which pair with several cations). None
+    /// in a problem with a solubility cap (a capped master's activity is not set by its
+    /// balance), and not carbonate at a fixed pH (its total is then the unknown).
+    fn eliminated(&self, p: &Problem, span: usize, active: u16, fixed_ph: bool) -> Eliminated {
+        let mut out = Eliminated {
+            mask: 0,
+            masters: [0; NC],
+            count: 0,
+            slot: [NC as u8; MAX_SPECIES],
+        };
+        if p.caps.iter().any(Option::is_some) {
+            return out;
+        }
+        let co3 = Component::CO3.index();
+        // A species the water can hold (see `live` in Newton).
+        let live_mask = |s: usize| s < span && self.mask[s] & !active == 0;
+        let mut candidates = [(0usize, 0usize); NC];
+        let mut m = 0;
+        for c in 0..NC {
+            if p.totals[c] > 0.0 && !(fixed_ph && c == co3) {
+                let species = self.by_comp[c]
+                    .iter()
+                    .filter(|&&(s, _)| live_mask(s))
+                    .count();
+                candidates[m] = (species, c);
+                m += 1;
+            }
+        }
+        candidates[..m].sort_unstable();
+        for &(_, c) in &candidates[..m] {
+            let once_and_alone = self.by_comp[c]
+                .iter()
+                .all(|&(s, k)| !live_mask(s) || (k == 1 && self.mask[s] & out.mask == 0));
+            if once_and_alone {
+                for &(s, _) in &self.by_comp[c] {
+                    if live_mask(s) {
+                        out.slot[s] = out.count as u8;
+                    }
+                }
+                out.mask |= 1 << c;
+                out.masters[out.count] = c;
+                out.count += 1;
+            }
+        }
+        out
+    }
+
+    #[inline(always)]
     fn conc_of(&self, s: usize, kg: f64, act: &[f64; NC]) -> f64 {
         conc_from(
             &self.comp_idx[s],
@@ -615,6 +694,15 @@ impl Solver {
     /// caller falls back to the bracketed solve, which cannot fail.
     /// With `fixed_ph`, the pH is held and the carbonate total is the unknown instead: the
     /// carbonate mass balance is dropped and the charge balance (with `p.z_excess`) decides it.
+    ///
+    /// Masters eliminated in closed form ([`Solver::eliminated`]): a master that appears once
+    /// in each of its species, and never beside another such master, has a mass balance that
+    /// is linear in its own activity once the others' are given, T_E = a_E · Σ u_s. It is
+    /// then no unknown of Newton's: every step takes a_E = T_E / Σ u_s, so its balance holds
+    /// exactly, and its dependence on the unknowns left enters their Jacobian as a Schur
+    /// complement, d ln a_E / dy = −Σ c_s · d ln u_s/dy / T_E. In a full-ion water the four
+    /// cations and chloride go: carbonate, sulfate, H+ and the ionic strength are left, 4
+    /// unknowns instead of 9.
     fn newton_full(
         &self,
         p: &Problem,
@@ -622,12 +710,14 @@ impl Solver {
         fixed_ph: Option<f64>,
     ) -> Option<Speciation> {
         const N: usize = NC + 2;
+        // The Jacobian's columns: the unknowns (at most N), a column no unknown owns, where
+        // the terms of masters that are not unknowns (eliminated, capped) fall unread, and
+        // the right-hand side. Its rows likewise end in one that falls unread.
+        const SINK: usize = N;
+        const RHS: usize = N + 1;
         let species = &self.table.species;
         let ns = self.span(p).species;
         let mut gamma = vec![1.0; species.len()];
-        // Scratch, on the stack: only γ and the concentrations are returned.
-        let mut dlg_buf = [0.0; MAX_SPECIES];
-        let dlg = &mut dlg_buf[..species.len().min(MAX_SPECIES)];
         let mut conc = vec![0.0; species.len()];
         let (mut i, mut free, mut x) = match warm {
             Some(w) => (w.ionic_strength, w.free, w.log_h),
@@ -640,36 +730,8 @@ impl Solver {
                 return None;
             }
         }
-        // Unknown k < n: ln m of active master unk[k]; n: ln{H+}; n + 1: I.
-        let mut unk = [0usize; NC];
-        let mut col_of = [usize::MAX; NC];
-        let mut n = 0;
-        for c in 0..NC {
-            if p.totals[c] > 0.0 {
-                unk[n] = c;
-                col_of[c] = n;
-                n += 1;
-                if !(free[c] > 0.0 && free[c].is_finite()) {
-                    free[c] = p.totals[c];
-                }
-            } else {
-                free[c] = 0.0;
-            }
-        }
-        let (qh, qi) = (n, n + 1);
         let active = active_mask(p);
         let needed = self.classes_needed(active);
-        // Masters new to this water (a coagulant's metal) start from the mass balances at the
-        // starting pH rather than from their totals, which can be 10 orders too high.
-        if warm.is_none_or(|w| (0..NC).any(|c| p.totals[c] > 0.0 && w.totals[c] <= 0.0)) {
-            self.gammas_of(i, &mut gamma, p, needed);
-            let mut q = p.clone();
-            if let Some(ph) = fixed_ph {
-                x = -ph;
-                q.caps = [None; NC];
-            }
-            self.distribute(x, &q, &gamma, &mut free, &mut conc, 1e-6);
-        }
         // The species this water can hold (all their masters present), listed once: the
         // steps below visit only these, and the others' concentrations stay zero.
         let mut live_buf = [0u16; MAX_SPECIES];
@@ -683,14 +745,91 @@ impl Solver {
             }
         }
         let live = &live_buf[..n_live];
-        let mut jac = [[0.0f64; N + 1]; N];
-        // The per-species tables as local slices: the species loop below then keeps their
-        // addresses in registers instead of reading them through the shared layout each time.
+        let eliminated = self.eliminated(p, ns, active, fixed_ph.is_some());
+        // Unknown k < n: ln m of active master unk[k]; n: ln{H+}; n + 1: I. An eliminated
+        // master's column and row are the sinks.
+        let mut unk = [0usize; NC];
+        let mut col_of = [SINK; NC];
+        let mut n = 0;
+        for c in 0..NC {
+            if p.totals[c] > 0.0 {
+                if eliminated.mask & (1 << c) == 0 {
+                    unk[n] = c;
+                    col_of[c] = n;
+                    n += 1;
+                }
+                if !(free[c] > 0.0 && free[c].is_finite()) {
+                    free[c] = p.totals[c];
+                }
+            } else {
+                free[c] = 0.0;
+            }
+        }
+        let row_of = col_of;
+        let (qh, qi) = (n, n + 1);
+        // Masters new to this water (a coagulant's metal) start from the mass balances at the
+        // starting pH rather than from their totals, which can be 10 orders too high.
+        if warm.is_none_or(|w| (0..NC).any(|c| p.totals[c] > 0.0 && w.totals[c] <= 0.0)) {
+            self.gammas_of(i, &mut gamma, p, needed);
+            let mut q = p.clone();
+            if let Some(ph) = fixed_ph {
+                x = -ph;
+                q.caps = [None; NC];
+            }
+            self.distribute(x, &q, &gamma, &mut free, &mut conc, 1e-6);
+        }
+        let mut jac = [[0.0f64; N + 2]; N + 1];
+        // Per eliminated master (and a last slot that falls unread): W[e][r], the weight of
+        // its species in each row, and G[e][j], Σ c_s · d ln u_s / dy_j.
+        let mut w_of = [[0.0f64; N + 1]; NC + 1];
+        let mut g_of = [[0.0f64; N + 1]; NC + 1];
+        // The live species as a step reads them, made once per solve.
+        let mut terms_buf = [Term::default(); MAX_SPECIES];
+        for (t, &s) in terms_buf.iter_mut().zip(live) {
+            let s = s as usize;
+            let def = &self.table.species[s];
+            let mut kept = 0;
+            for k in 0..self.comp_len[s] as usize {
+                let c = self.comp_idx[s][k];
+                if eliminated.mask & (1 << c) == 0 {
+                    t.master[kept] = c;
+                    t.nu[kept] = self.comp_n[s][k];
+                    kept += 1;
+                }
+            }
+            *t = Term {
+                k: self.th.k[s],
+                z: def.z as f64,
+                z2h: 0.5 * (def.z * def.z) as f64,
+                h: def.h as f64,
+                h_index: if (-4..=3).contains(&def.h) {
+                    (def.h + 4) as u8
+                } else {
+                    u8::MAX
+                },
+                class: self.class[s] as u8,
+                slot: eliminated.slot[s],
+                kept: kept as u8,
+                ..*t
+            };
+        }
+        let terms = &terms_buf[..live.len()];
         let (mask, k_of): (&[u16], &[f64]) = (&self.mask, &self.th.k);
-        let (comp_len, comp_idx, comp_n): (&[u8], &[[u8; 3]], &[[u8; 3]]) =
-            (&self.comp_len, &self.comp_idx, &self.comp_n);
+        // Activity products without the eliminated master (u_s), per live species.
+        let mut u_buf = [0.0f64; MAX_SPECIES];
+        let span = self.span(p);
         for _ in 0..40 {
-            let (gamma_h, dlg_h) = self.gammas_with_slopes(i, &mut gamma, dlg, p, needed, live);
+            let by_class = self.gammas_and_slopes_by_class(i, span, needed);
+            let mut inv_gamma = [1.0f64; MAX_CLASSES];
+            for k in 0..span.classes.min(MAX_CLASSES) {
+                inv_gamma[k] = 1.0 / by_class[k].0;
+            }
+            let (gamma_h, dlg_h) = by_class[self.h_class];
+            let mut gamma_m = [1.0f64; NC];
+            let mut dlg_m = [0.0f64; NC];
+            for c in 0..NC {
+                (gamma_m[c], dlg_m[c]) = by_class[self.class[c]];
+            }
             let a_h = pow10(x);
             let h_powers = HPowers::new(a_h);
             // Caps: a master whose total would be supersaturated with its hydroxide is held at
@@ -700,107 +839,156 @@ impl Solver {
             let mut cap_h = [0.0f64; NC]; // d ln m / d ln{H+} of a capped master
             let mut act = [0.0f64; NC];
             for c in 0..NC {
-                act[c] = free[c] * gamma[c];
+                act[c] = free[c] * gamma_m[c];
             }
             for c in 0..NC {
                 if let (Some(ph), true) = (p.caps[c], p.totals[c] > 0.0) {
                     let def = &self.table.phases[ph];
-                    let cap = pow10(self.th.phase_log_k[ph] - def.h as f64 * x) / gamma[c];
+                    let cap = pow10(self.th.phase_log_k[ph] - def.h as f64 * x) / gamma_m[c];
                     let mut trial = act;
-                    trial[c] = cap * gamma[c];
+                    trial[c] = cap * gamma_m[c];
                     let dissolved: f64 = self.by_comp[c]
                         .iter()
                         .filter(|&&(s, _)| self.mask[s] & !active == 0)
                         .map(|&(s, k)| {
-                            let kg = self.th.k[s] * h_powers.of(species[s].h) / gamma[s];
+                            let kg = self.th.k[s] * h_powers.of(species[s].h)
+                                / by_class[self.class[s]].0;
                             k as f64 * self.conc_of(s, kg, &trial)
                         })
                         .sum();
                     if dissolved < p.totals[c] {
                         free[c] = cap;
-                        act[c] = cap * gamma[c];
+                        act[c] = cap * gamma_m[c];
                         capped |= 1 << c;
                         cap_h[c] = -(def.h as f64);
                     }
                 }
             }
+            // A capped master is pinned: its terms fall in the sink column.
+            let mut col_eff = col_of;
+            if capped != 0 {
+                for c in 0..NC {
+                    if capped & (1 << c) != 0 {
+                        col_eff[c] = SINK;
+                    }
+                }
+            }
+            // The eliminated masters' activities from their mass balances at this step's
+            // other activities: a_E = T_E / Σ u_s.
+            let mut u_sum = [0.0f64; NC + 1];
+            for (t, u) in terms.iter().zip(u_buf.iter_mut()) {
+                let h_power = match h_powers.table.get(t.h_index as usize) {
+                    Some(&v) => v,
+                    None => a_h.powi(t.h as i32),
+                };
+                let mut v = t.k * h_power * inv_gamma[t.class as usize];
+                for k in 0..t.kept as usize {
+                    let a = act[t.master[k] as usize];
+                    v *= match t.nu[k] {
+                        1 => a,
+                        2 => a * a,
+                        3 => a * a * a,
+                        e => a.powi(e as i32),
+                    };
+                }
+                *u = v;
+                u_sum[t.slot as usize] += v;
+            }
+            let mut a_slot = [1.0f64; NC + 1];
+            for (e, &c) in eliminated.masters[..eliminated.count].iter().enumerate() {
+                a_slot[e] = p.totals[c] / u_sum[e];
+                free[c] = a_slot[e] / gamma_m[c];
+                w_of[e] = [0.0; N + 1];
+                g_of[e] = [0.0; N + 1];
+            }
             // One pass over the species builds residuals and Jacobian together. Rows: mass
             // balances (0..n), charge (n), ionic strength (n + 1); last column: −residual.
             // Only the rows in use are cleared (one block): a carbonate water solves a much
             // smaller system than the array holds.
-            jac[..n + 2].fill([0.0; N + 1]);
+            jac[..n + 2].fill([0.0; N + 2]);
             let c_h = a_h / gamma_h;
             let dl_h = -LN10 * dlg_h; // d ln c_H / dI
             let mut scale = [0.0f64; N];
             jac[qh][qh] = c_h;
             jac[qh][qi] = c_h * dl_h;
-            jac[qh][N] = -(c_h - p.z_excess);
+            jac[qh][RHS] = -(c_h - p.z_excess);
             scale[qh] = c_h;
             jac[qi][qi] = 1.0 - 0.5 * c_h * dl_h;
             jac[qi][qh] = -0.5 * c_h;
-            jac[qi][N] = -(i - p.i_background - 0.5 * c_h);
+            jac[qi][RHS] = -(i - p.i_background - 0.5 * c_h);
             scale[qi] = i;
             for r in 0..n {
-                jac[r][N] = p.totals[unk[r]];
+                jac[r][RHS] = p.totals[unk[r]];
                 scale[r] = p.totals[unk[r]];
             }
-            for &s in live {
-                let s = s as usize;
-                let def = &species[s];
-                let (idx, nu) = (&comp_idx[s], &comp_n[s]);
-                let kg = k_of[s] * h_powers.of(def.h) / gamma[s];
-                let cs = conc_from(idx, nu, comp_len[s], kg, &act);
-                conc[s] = cs;
+            for ((t, &u), &s) in terms.iter().zip(&u_buf).zip(live) {
+                let e = t.slot as usize;
+                let cs = u * a_slot[e];
+                conc[s as usize] = cs;
                 if cs == 0.0 {
                     continue;
                 }
-                let len = comp_len[s] as usize;
-                let mut eh = def.h as f64;
-                let mut dl = -dlg[s];
-                for k in 0..len {
-                    let c = idx[k] as usize;
-                    dl += nu[k] as f64 * dlg[c];
-                    if capped & (1 << c) != 0 {
-                        eh += nu[k] as f64 * cap_h[c];
-                    }
+                let kept = t.kept as usize;
+                // d ln c_s / d ln{H+} and d ln c_s / dI. An eliminated master's own share
+                // of either is the same in each of its species and cancels in its Schur
+                // term, so only the masters kept count.
+                let mut eh = t.h;
+                let mut dl = -by_class[t.class as usize].1;
+                for k in 0..kept {
+                    let c = t.master[k] as usize;
+                    let nu = t.nu[k] as f64;
+                    dl += nu * dlg_m[c];
+                    eh += nu * cap_h[c];
                 }
-                dl *= LN10; // d ln c_s / dI
-                let z = def.z as f64;
-                let z2h = 0.5 * z * z;
+                dl *= LN10;
+                let (z, z2h) = (t.z, t.z2h);
+                let (zc, ic) = (z * cs, z2h * cs);
                 // Charge and ionic-strength rows.
-                jac[qh][N] -= z * cs;
-                scale[qh] += z.abs() * cs;
-                jac[qh][qh] += z * cs * eh;
-                jac[qh][qi] += z * cs * dl;
-                jac[qi][N] += z2h * cs;
-                jac[qi][qh] -= z2h * cs * eh;
-                jac[qi][qi] -= z2h * cs * dl;
-                for k in 0..len {
-                    let c = idx[k] as usize;
-                    if capped & (1 << c) == 0 {
-                        jac[qh][col_of[c]] += z * nu[k] as f64 * cs;
-                        jac[qi][col_of[c]] -= z2h * nu[k] as f64 * cs;
-                    }
+                jac[qh][RHS] -= zc;
+                scale[qh] += zc.abs();
+                jac[qh][qh] += zc * eh;
+                jac[qh][qi] += zc * dl;
+                jac[qi][RHS] += ic;
+                jac[qi][qh] -= ic * eh;
+                jac[qi][qi] -= ic * dl;
+                w_of[e][qh] += zc;
+                w_of[e][qi] -= ic;
+                g_of[e][qh] += cs * eh;
+                g_of[e][qi] += cs * dl;
+                for k in 0..kept {
+                    let col = col_eff[t.master[k] as usize];
+                    let nc = t.nu[k] as f64 * cs;
+                    jac[qh][col] += z * nc;
+                    jac[qi][col] -= z2h * nc;
+                    g_of[e][col] += nc;
                 }
-                // Mass rows of this species' masters.
-                for k in 0..len {
-                    let r = col_of[idx[k] as usize];
-                    let w = nu[k] as f64 * cs;
-                    jac[r][N] -= w;
+                // Mass rows of this species' kept masters.
+                for k in 0..kept {
+                    let r = row_of[t.master[k] as usize];
+                    let w = t.nu[k] as f64 * cs;
+                    jac[r][RHS] -= w;
                     jac[r][qh] += w * eh;
                     jac[r][qi] += w * dl;
-                    for kk in 0..len {
-                        let c = idx[kk] as usize;
-                        if capped & (1 << c) == 0 {
-                            jac[r][col_of[c]] += w * nu[kk] as f64;
-                        }
+                    w_of[e][r] += w;
+                    for kk in 0..kept {
+                        jac[r][col_eff[t.master[kk] as usize]] += w * t.nu[kk] as f64;
+                    }
+                }
+            }
+            // The eliminated masters' share: row r, column j gains W[e][r] · d ln a_E/dy_j.
+            for (e, &c) in eliminated.masters[..eliminated.count].iter().enumerate() {
+                let per_total = -1.0 / p.totals[c];
+                for j in 0..n + 2 {
+                    let g = g_of[e][j] * per_total;
+                    for r in 0..n + 2 {
+                        jac[r][j] += w_of[e][r] * g;
                     }
                 }
             }
             for r in 0..n + 2 {
                 if r < n && capped & (1 << unk[r]) != 0 {
                     // Capped: the unknown is pinned; its row says Δln m = 0.
-                    jac[r] = [0.0; N + 1];
+                    jac[r] = [0.0; N + 2];
                     jac[r][r] = 1.0;
                     continue;
                 }
@@ -808,15 +996,15 @@ impl Solver {
                 for v in jac[r].iter_mut().take(n + 2) {
                     *v *= sc;
                 }
-                jac[r][N] *= sc;
+                jac[r][RHS] *= sc;
             }
             if fixed_ph.is_some() {
                 // Pin ln{H+}; the carbonate total is free (its mass balance is not a row).
                 let r = col_of[co3];
-                jac[r] = [0.0; N + 1];
+                jac[r] = [0.0; N + 2];
                 jac[r][qh] = 1.0;
             }
-            let residual = (0..n + 2).map(|r| jac[r][N].abs()).fold(0.0, f64::max);
+            let residual = (0..n + 2).map(|r| jac[r][RHS].abs()).fold(0.0, f64::max);
             let delta = gauss(&mut jac, n + 2)?;
             // One step length for the whole direction: at most 2 in log{H+}, e^5 in m, and
             // the ionic strength may at most halve.
@@ -858,6 +1046,22 @@ impl Solver {
                 let mut act = [0.0f64; NC];
                 for c in 0..NC {
                     act[c] = free[c] * gamma[c];
+                }
+                // The eliminated masters from their balances at this last step's others.
+                if eliminated.count > 0 {
+                    for &c in &eliminated.masters[..eliminated.count] {
+                        act[c] = 1.0;
+                    }
+                    let mut u_sum = [0.0f64; NC + 1];
+                    for &s in live {
+                        let s = s as usize;
+                        let kg = k_of[s] * h_powers.of(species[s].h) / gamma[s];
+                        u_sum[eliminated.slot[s] as usize] += self.conc_of(s, kg, &act);
+                    }
+                    for (e, &c) in eliminated.masters[..eliminated.count].iter().enumerate() {
+                        act[c] = p.totals[c] / u_sum[e];
+                        free[c] = act[c] / gamma[c];
+                    }
                 }
                 let conc_at_last_step = |s: usize| {
                     let kg = k_of[s] * h_powers.of(species[s].h) / gamma[s];
@@ -1818,6 +2022,62 @@ mod slope_tests {
     }
 
     /// The Newton slope of the fast path against a finite difference (hard water, 15 C).
+    /// The masters Newton takes in closed form, by name, for a water holding `masters`.
+    fn eliminated_names(masters: &[Component], caps: bool, fixed_ph: bool) -> Vec<Component> {
+        let s = Solver::new(15.0);
+        let mut p = Problem::new([0.0; NC]);
+        for c in masters {
+            p.totals[c.index()] = 1e-3;
+        }
+        if caps {
+            p.caps[Component::Al.index()] = s.table.phase_index("Al(OH)3(a)");
+        }
+        let span = s.span(&p).species;
+        let e = s.eliminated(&p, span, active_mask(&p), fixed_ph);
+        let mut names: Vec<Component> = e.masters[..e.count]
+            .iter()
+            .map(|&c| Component::ALL[c])
+            .collect();
+        names.sort_by_key(|c| c.index());
+        // Every species the water holds has at most one of them, once.
+        for sp in 0..span {
+            let held = e.mask & s.mask[sp];
+            assert!(
+                held.count_ones() <= 1,
+                "species {sp} holds two eliminated masters"
+            );
+        }
+        names
+    }
+
+    #[test]
+    fn the_cations_and_chloride_of_a_water_are_taken_in_closed_form() {
+        use Component::*;
+        let full_ion = [Ca, Mg, Na, K, Cl, SO4, CO3];
+        // Carbonate and sulfate pair with several cations: they stay unknowns.
+        assert_eq!(
+            eliminated_names(&full_ion, false, false),
+            [Ca, Mg, Na, K, Cl]
+        );
+        assert_eq!(
+            eliminated_names(&full_ion, false, true),
+            [Ca, Mg, Na, K, Cl]
+        );
+        // Carbonate alone pairs with nothing, but at a fixed pH its total is the unknown.
+        assert_eq!(eliminated_names(&[CO3], false, false), [CO3]);
+        assert_eq!(
+            eliminated_names(&[CO3], false, true),
+            Vec::<Component>::new()
+        );
+        // Iron's dimer and trimer hold it more than once; chloride pairs with iron.
+        assert_eq!(eliminated_names(&[Fe, Cl, CO3], false, false), [CO3]);
+        // A capped master's activity is not set by its balance: nothing is eliminated.
+        assert_eq!(
+            eliminated_names(&[Al, SO4, Ca, CO3], true, false),
+            Vec::<Component>::new()
+        );
+    }
+
     #[test]
     fn newton_slope_matches_a_finite_difference() {
         let s = Solver::new(15.0);
