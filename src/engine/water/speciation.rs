@@ -210,6 +210,38 @@ struct Term {
     nu: [u8; 3],
 }
 
+/// Each term's activity product u_s = K·{H+}^h/γ · Π a^ν over its kept masters (into `u`),
+/// and per eliminated slot the sum of its terms' ([`Solver::newton_full`]). `inv_gamma` is 1/γ
+/// of the k-th term.
+fn activity_products(
+    terms: &[Term],
+    h_powers: &HPowers,
+    act: &[f64; NC],
+    inv_gamma: impl Fn(usize, &Term) -> f64,
+    u: &mut [f64],
+) -> [f64; NC + 1] {
+    let mut sums = [0.0f64; NC + 1];
+    for (k, (t, u)) in terms.iter().zip(u.iter_mut()).enumerate() {
+        let h_power = match h_powers.table.get(t.h_index as usize) {
+            Some(&v) => v,
+            None => h_powers.a_h.powi(t.h as i32),
+        };
+        let mut v = t.k * h_power * inv_gamma(k, t);
+        for k in 0..t.kept as usize {
+            let a = act[t.master[k] as usize];
+            v *= match t.nu[k] {
+                1 => a,
+                2 => a * a,
+                3 => a * a * a,
+                e => a.powi(e as i32),
+            };
+        }
+        *u = v;
+        sums[t.slot as usize] += v;
+    }
+    sums
+}
+
 /// Bit mask of the components present.
 fn active_mask(p: &Problem) -> u16 {
     let mut m = 0;
@@ -797,24 +829,20 @@ impl Solver {
                     kept += 1;
                 }
             }
-            *t = Term {
-                k: self.th.k[s],
-                z: def.z as f64,
-                z2h: 0.5 * (def.z * def.z) as f64,
-                h: def.h as f64,
-                h_index: if (-4..=3).contains(&def.h) {
-                    (def.h + 4) as u8
-                } else {
-                    u8::MAX
-                },
-                class: self.class[s] as u8,
-                slot: eliminated.slot[s],
-                kept: kept as u8,
-                ..*t
+            t.k = self.th.k[s];
+            t.z = def.z as f64;
+            t.z2h = 0.5 * (def.z * def.z) as f64;
+            t.h = def.h as f64;
+            t.h_index = if (-4..=3).contains(&def.h) {
+                (def.h + 4) as u8
+            } else {
+                u8::MAX
             };
+            t.class = self.class[s] as u8;
+            t.slot = eliminated.slot[s];
+            t.kept = kept as u8;
         }
         let terms = &terms_buf[..live.len()];
-        let (mask, k_of): (&[u16], &[f64]) = (&self.mask, &self.th.k);
         // Activity products without the eliminated master (u_s), per live species.
         let mut u_buf = [0.0f64; MAX_SPECIES];
         let span = self.span(p);
@@ -865,41 +893,33 @@ impl Solver {
                 }
             }
             // A capped master is pinned: its terms fall in the sink column.
-            let mut col_eff = col_of;
-            if capped != 0 {
+            let mut capped_cols = [SINK; NC];
+            let col_eff = if capped == 0 {
+                &col_of
+            } else {
                 for c in 0..NC {
-                    if capped & (1 << c) != 0 {
-                        col_eff[c] = SINK;
+                    if capped & (1 << c) == 0 {
+                        capped_cols[c] = col_of[c];
                     }
                 }
-            }
+                &capped_cols
+            };
             // The eliminated masters' activities from their mass balances at this step's
             // other activities: a_E = T_E / Σ u_s.
-            let mut u_sum = [0.0f64; NC + 1];
-            for (t, u) in terms.iter().zip(u_buf.iter_mut()) {
-                let h_power = match h_powers.table.get(t.h_index as usize) {
-                    Some(&v) => v,
-                    None => a_h.powi(t.h as i32),
-                };
-                let mut v = t.k * h_power * inv_gamma[t.class as usize];
-                for k in 0..t.kept as usize {
-                    let a = act[t.master[k] as usize];
-                    v *= match t.nu[k] {
-                        1 => a,
-                        2 => a * a,
-                        3 => a * a * a,
-                        e => a.powi(e as i32),
-                    };
-                }
-                *u = v;
-                u_sum[t.slot as usize] += v;
-            }
+            let u_sum = activity_products(
+                terms,
+                &h_powers,
+                &act,
+                |_, t| inv_gamma[t.class as usize],
+                &mut u_buf,
+            );
             let mut a_slot = [1.0f64; NC + 1];
             for (e, &c) in eliminated.masters[..eliminated.count].iter().enumerate() {
                 a_slot[e] = p.totals[c] / u_sum[e];
                 free[c] = a_slot[e] / gamma_m[c];
-                w_of[e] = [0.0; N + 1];
-                g_of[e] = [0.0; N + 1];
+                // Only the rows and columns in use are read.
+                w_of[e][..n + 2].fill(0.0);
+                g_of[e][..n + 2].fill(0.0);
             }
             // One pass over the species builds residuals and Jacobian together. Rows: mass
             // balances (0..n), charge (n), ionic strength (n + 1); last column: −residual.
@@ -1047,46 +1067,27 @@ impl Solver {
                 for c in 0..NC {
                     act[c] = free[c] * gamma[c];
                 }
-                // The eliminated masters from their balances at this last step's others.
-                if eliminated.count > 0 {
-                    for &c in &eliminated.masters[..eliminated.count] {
-                        act[c] = 1.0;
-                    }
-                    let mut u_sum = [0.0f64; NC + 1];
-                    for &s in live {
-                        let s = s as usize;
-                        let kg = k_of[s] * h_powers.of(species[s].h) / gamma[s];
-                        u_sum[eliminated.slot[s] as usize] += self.conc_of(s, kg, &act);
-                    }
-                    for (e, &c) in eliminated.masters[..eliminated.count].iter().enumerate() {
-                        act[c] = p.totals[c] / u_sum[e];
-                        free[c] = act[c] / gamma[c];
-                    }
+                // The eliminated masters from their balances at this last step's others, and
+                // every species at this last step.
+                let u_sum = activity_products(
+                    terms,
+                    &h_powers,
+                    &act,
+                    |k, _| 1.0 / gamma[live[k] as usize],
+                    &mut u_buf,
+                );
+                let mut a_slot = [1.0f64; NC + 1];
+                for (e, &c) in eliminated.masters[..eliminated.count].iter().enumerate() {
+                    a_slot[e] = p.totals[c] / u_sum[e];
+                    free[c] = a_slot[e] / gamma[c];
                 }
-                let conc_at_last_step = |s: usize| {
-                    let kg = k_of[s] * h_powers.of(species[s].h) / gamma[s];
-                    self.conc_of(s, kg, &act)
-                };
-                if capless {
-                    for s in 0..species.len() {
-                        conc[s] = if s < ns && mask[s] & !active == 0 {
-                            conc_at_last_step(s)
-                        } else {
-                            0.0
-                        };
-                    }
+                for ((t, &u), &s) in terms.iter().zip(&u_buf).zip(live) {
+                    conc[s as usize] = u * a_slot[t.slot as usize];
                 }
                 if fixed_ph.is_some() {
                     // The carbonate total the charge balance fixed, from the species at this
                     // last step (not at the step before, which would leave the alkalinity
                     // off by as much as that step moved it).
-                    if !capless {
-                        for &(s, _) in &self.by_comp[co3] {
-                            if s < ns && mask[s] & !active == 0 {
-                                conc[s] = conc_at_last_step(s);
-                            }
-                        }
-                    }
                     totals[co3] = self.by_comp[co3]
                         .iter()
                         .map(|&(s, k)| k as f64 * conc[s])
