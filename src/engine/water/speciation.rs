@@ -2018,6 +2018,18 @@ mod slope_tests {
                     -slow.log_h
                 );
                 assert!((fast.ionic_strength / slow.ionic_strength - 1.0).abs() < 1e-7);
+                // Every mass balance holds in the species returned, those of the masters
+                // Newton took in closed form as well as its unknowns'.
+                for c in Component::ALL {
+                    let total = p.totals[c.index()];
+                    let dissolved = s.dissolved(&fast, c);
+                    if total > 0.0 && p.caps[c.index()].is_none() {
+                        assert!(
+                            (dissolved / total - 1.0).abs() < 1e-9,
+                            "{name} at {t} C: {c:?} {dissolved} of {total}"
+                        );
+                    }
+                }
             }
         }
     }
