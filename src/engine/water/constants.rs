@@ -96,6 +96,12 @@ enum LogK {
     Analytic([f64; 5]),
 }
 
+/// 10^l as e^(l·ln 10): the same number to a few units in the last place, at a fraction of the
+/// cost of `powf` (every water read evaluates the whole table).
+fn pow10(l: f64) -> f64 {
+    (l * std::f64::consts::LN_10).exp()
+}
+
 const T25: f64 = 298.15;
 /// Gas constant, J/(mol K) (CODATA 2018, exact by SI definition).
 const R: f64 = 8.314462618;
@@ -176,6 +182,9 @@ pub struct Table {
     /// Species past this index all contain an extended component ([`Component::EXTENDED`]):
     /// the solver stops its species loops here while those totals are zero.
     pub n_core: usize,
+    /// K of each species whose log K does not depend on the temperature (the masters, and
+    /// pairs given without an enthalpy), made once: [`Table::at`] takes no e^x for them.
+    k_fixed: Vec<Option<f64>>,
     /// The solver's per-species helpers, built on first use.
     layout: OnceLock<super::speciation::Layout>,
 }
@@ -364,6 +373,7 @@ impl Table {
             neutral_b: raw.activity.neutral_b,
             phases,
             n_core: 0,
+            k_fixed: Vec::new(),
             layout: OnceLock::new(),
         };
         let mut table = table;
@@ -388,6 +398,14 @@ impl Table {
             };
             table.species[NC + i].log_k = f;
         }
+        table.k_fixed = table
+            .species
+            .iter()
+            .map(|s| match s.log_k {
+                LogK::Constant(l) => Some(pow10(l)),
+                _ => None,
+            })
+            .collect();
         table.n_core = table
             .species
             .iter()
@@ -466,11 +484,10 @@ impl Table {
             .iter()
             .map(|s| s.log_k.at(t, log10_t))
             .collect();
-        // 10^l as e^(l·ln 10): the same number to a few units in the last place, at a
-        // fraction of the cost of `powf` (every water read evaluates the whole table).
         let k = log_k
             .iter()
-            .map(|l| (l * std::f64::consts::LN_10).exp())
+            .zip(&self.k_fixed)
+            .map(|(&l, fixed)| fixed.unwrap_or_else(|| pow10(l)))
             .collect();
         // Dielectric constant of water and Debye–Hückel A, B (Standard Methods 2330).
         let eps = 60954.0 / (t + 116.0) - 68.937;
