@@ -748,7 +748,8 @@ impl Solver {
         const SINK: usize = N;
         const RHS: usize = N + 1;
         let species = &self.table.species;
-        let ns = self.span(p).species;
+        let span = self.span(p);
+        let ns = span.species;
         let mut gamma = vec![1.0; species.len()];
         let mut conc = vec![0.0; species.len()];
         let (mut i, mut free, mut x) = match warm {
@@ -845,7 +846,6 @@ impl Solver {
         let terms = &terms_buf[..live.len()];
         // Activity products without the eliminated master (u_s), per live species.
         let mut u_buf = [0.0f64; MAX_SPECIES];
-        let span = self.span(p);
         for _ in 0..40 {
             let by_class = self.gammas_and_slopes_by_class(i, span, needed);
             let mut inv_gamma = [1.0f64; MAX_CLASSES];
