@@ -486,22 +486,22 @@ impl Solver {
     }
 
     /// γ and d(log10 γ)/dI of each activity class of `span` in `needed`
-    /// ([`Layout::classes_needed`]); (1, 0) for the others, whose species the water does not
-    /// hold. A Newton step reads a species' γ through its class.
+    /// ([`Layout::classes_needed`]); a Newton step reads a species' γ through its class.
+    /// Into `by_class`, which the caller keeps from step to step (those of the other classes
+    /// stay as they are).
     fn gammas_and_slopes_by_class(
         &self,
         i: f64,
         span: Span,
         needed: u64,
-    ) -> [(f64, f64); MAX_CLASSES] {
-        let mut by_class = [(1.0f64, 0.0f64); MAX_CLASSES];
+        by_class: &mut [(f64, f64); MAX_CLASSES],
+    ) {
         self.each_class_in_use(span, needed, |k, model, z| {
             by_class[k] = (
                 pow10(activity::log_gamma(model, z, i, &self.th, self.table)),
                 activity::dlog_gamma_di(model, z, i, &self.th, self.table),
             );
         });
-        by_class
     }
 
     /// The masters of `p` that [`Solver::newton_full`] eliminates: each appears once in every
@@ -846,8 +846,10 @@ impl Solver {
         let terms = &terms_buf[..live.len()];
         // Activity products without the eliminated master (u_s), per live species.
         let mut u_buf = [0.0f64; MAX_SPECIES];
+        // (1, 0) for the classes not in use, whose species the water does not hold.
+        let mut by_class = [(1.0f64, 0.0f64); MAX_CLASSES];
         for _ in 0..40 {
-            let by_class = self.gammas_and_slopes_by_class(i, span, needed);
+            self.gammas_and_slopes_by_class(i, span, needed, &mut by_class);
             let mut inv_gamma = [1.0f64; MAX_CLASSES];
             for k in 0..span.classes.min(MAX_CLASSES) {
                 inv_gamma[k] = 1.0 / by_class[k].0;
@@ -923,9 +925,12 @@ impl Solver {
             }
             // One pass over the species builds residuals and Jacobian together. Rows: mass
             // balances (0..n), charge (n), ionic strength (n + 1); last column: −residual.
-            // Only the rows in use are cleared (one block): a carbonate water solves a much
-            // smaller system than the array holds.
-            jac[..n + 2].fill([0.0; N + 2]);
+            // Only the rows and columns in use are cleared: a carbonate water solves a much
+            // smaller system than the array holds (the sink column is never read).
+            for row in &mut jac[..n + 2] {
+                row[..n + 2].fill(0.0);
+                row[RHS] = 0.0;
+            }
             let c_h = a_h / gamma_h;
             let dl_h = -LN10 * dlg_h; // d ln c_H / dI
             let mut scale = [0.0f64; N];
@@ -1008,7 +1013,8 @@ impl Solver {
             for r in 0..n + 2 {
                 if r < n && capped & (1 << unk[r]) != 0 {
                     // Capped: the unknown is pinned; its row says Δln m = 0.
-                    jac[r] = [0.0; N + 2];
+                    jac[r][..n + 2].fill(0.0);
+                    jac[r][RHS] = 0.0;
                     jac[r][r] = 1.0;
                     continue;
                 }
@@ -1021,7 +1027,8 @@ impl Solver {
             if fixed_ph.is_some() {
                 // Pin ln{H+}; the carbonate total is free (its mass balance is not a row).
                 let r = col_of[co3];
-                jac[r] = [0.0; N + 2];
+                jac[r][..n + 2].fill(0.0);
+                jac[r][RHS] = 0.0;
                 jac[r][qh] = 1.0;
             }
             let residual = (0..n + 2).map(|r| jac[r][RHS].abs()).fold(0.0, f64::max);
