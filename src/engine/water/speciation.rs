@@ -197,9 +197,9 @@ struct Term {
     z: f64,
     /// z²/2.
     z2h: f64,
-    /// Protons (h), and h + 4: its place in [`HPowers`]' table (`u8::MAX` if it has none).
+    /// Protons in its formation (h), as a count and as a factor.
+    protons: i32,
     h: f64,
-    h_index: u8,
     /// Activity class.
     class: u8,
     /// Slot of its eliminated master ([`Eliminated::slot`]).
@@ -222,19 +222,9 @@ fn activity_products(
 ) -> [f64; NC + 1] {
     let mut sums = [0.0f64; NC + 1];
     for (k, (t, u)) in terms.iter().zip(u.iter_mut()).enumerate() {
-        let h_power = match h_powers.table.get(t.h_index as usize) {
-            Some(&v) => v,
-            None => h_powers.a_h.powi(t.h as i32),
-        };
-        let mut v = t.k * h_power * inv_gamma(k, t);
+        let mut v = t.k * h_powers.of(t.protons) * inv_gamma(k, t);
         for k in 0..t.kept as usize {
-            let a = act[t.master[k] as usize];
-            v *= match t.nu[k] {
-                1 => a,
-                2 => a * a,
-                3 => a * a * a,
-                e => a.powi(e as i32),
-            };
+            v *= power(act[t.master[k] as usize], t.nu[k]);
         }
         *u = v;
         sums[t.slot as usize] += v;
@@ -259,15 +249,21 @@ fn active_mask(p: &Problem) -> u16 {
 fn conc_from(idx: &[u8; 3], n: &[u8; 3], len: u8, kg: f64, act: &[f64; NC]) -> f64 {
     let mut v = kg;
     for k in 0..len as usize {
-        let a = act[idx[k] as usize];
-        v *= match n[k] {
-            1 => a,
-            2 => a * a,
-            3 => a * a * a,
-            e => a.powi(e as i32),
-        };
+        v *= power(act[idx[k] as usize], n[k]);
     }
     v
+}
+
+/// a^n for a species' count of one master: by multiplication for the counts the table has
+/// (1 to 3), `powi` (a library call) for any other.
+#[inline(always)]
+fn power(a: f64, n: u8) -> f64 {
+    match n {
+        1 => a,
+        2 => a * a,
+        3 => a * a * a,
+        e => a.powi(e as i32),
+    }
 }
 
 /// Solves the augmented system `a` (first n rows; column M − 1 is the right-hand side) in
@@ -833,12 +829,8 @@ impl Solver {
             t.k = self.th.k[s];
             t.z = def.z as f64;
             t.z2h = 0.5 * (def.z * def.z) as f64;
+            t.protons = def.h;
             t.h = def.h as f64;
-            t.h_index = if (-4..=3).contains(&def.h) {
-                (def.h + 4) as u8
-            } else {
-                u8::MAX
-            };
             t.class = self.class[s] as u8;
             t.slot = eliminated.slot[s];
             t.kept = kept as u8;
