@@ -189,6 +189,27 @@ struct Eliminated {
     slot: [u8; MAX_SPECIES],
 }
 
+impl Eliminated {
+    /// Each eliminated master's activity from its own mass balance, a_E = T_E / Σ u_s (`sums`
+    /// by slot, from [`activity_products`]), with its free concentration set in `free` (γ of a
+    /// master from `gamma_of`). Indexed by slot; the last slot, a species without an eliminated
+    /// master's, reads 1.
+    fn activities(
+        &self,
+        totals: &[f64; NC],
+        sums: &[f64; NC + 1],
+        gamma_of: impl Fn(usize) -> f64,
+        free: &mut [f64; NC],
+    ) -> [f64; NC + 1] {
+        let mut a = [1.0f64; NC + 1];
+        for (e, &c) in self.masters[..self.count].iter().enumerate() {
+            a[e] = totals[c] / sums[e];
+            free[c] = a[e] / gamma_of(c);
+        }
+        a
+    }
+}
+
 /// A live species as a Newton step reads it ([`Solver::newton_full`]), made once per solve.
 #[derive(Clone, Copy, Default)]
 struct Term {
@@ -907,10 +928,8 @@ impl Solver {
                 |_, t| inv_gamma[t.class as usize],
                 &mut u_buf,
             );
-            let mut a_slot = [1.0f64; NC + 1];
-            for (e, &c) in eliminated.masters[..eliminated.count].iter().enumerate() {
-                a_slot[e] = p.totals[c] / u_sum[e];
-                free[c] = a_slot[e] / gamma_m[c];
+            let a_slot = eliminated.activities(&p.totals, &u_sum, |c| gamma_m[c], &mut free);
+            for e in 0..eliminated.count {
                 // Only the rows and columns in use are read.
                 w_of[e][..n + 2].fill(0.0);
                 g_of[e][..n + 2].fill(0.0);
@@ -1075,11 +1094,7 @@ impl Solver {
                     |k, _| 1.0 / gamma[live[k] as usize],
                     &mut u_buf,
                 );
-                let mut a_slot = [1.0f64; NC + 1];
-                for (e, &c) in eliminated.masters[..eliminated.count].iter().enumerate() {
-                    a_slot[e] = p.totals[c] / u_sum[e];
-                    free[c] = a_slot[e] / gamma[c];
-                }
+                let a_slot = eliminated.activities(&p.totals, &u_sum, |c| gamma[c], &mut free);
                 for ((t, &u), &s) in terms.iter().zip(&u_buf).zip(live) {
                     conc[s as usize] = u * a_slot[t.slot as usize];
                 }
