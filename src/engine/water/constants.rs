@@ -97,8 +97,8 @@ enum LogK {
 }
 
 /// 10^l as e^(l·ln 10): the same number to a few units in the last place, at a fraction of the
-/// cost of `powf` (every water read evaluates the whole table).
-fn pow10(l: f64) -> f64 {
+/// cost of `powf` (every water read evaluates the whole table, and every solver step its γ).
+pub(super) fn pow10(l: f64) -> f64 {
     (l * std::f64::consts::LN_10).exp()
 }
 

@@ -20,7 +20,7 @@
 #![allow(clippy::neg_cmp_op_on_partial_ord, clippy::needless_range_loop)]
 
 use super::activity;
-use super::constants::{Component, GammaModel, NC, Table, Thermo};
+use super::constants::{Component, GammaModel, NC, Table, Thermo, pow10};
 use super::solve::brent;
 use crate::engine::{Error, ErrorKind, Result};
 use std::sync::Arc;
@@ -139,10 +139,6 @@ const PH_MAX: f64 = 16.0;
 const LN10: f64 = std::f64::consts::LN_10;
 /// Relative tolerance of the mass balances in a converged speciation.
 const TIGHT: f64 = 1e-13;
-
-fn pow10(x: f64) -> f64 {
-    (x * LN10).exp()
-}
 
 /// {H+}^h for the proton counts of the table's species (−4 to 3) by multiplication, made once
 /// per {H+}; `powi` (a library call) for any other count.
@@ -796,8 +792,8 @@ impl Solver {
         }
         let live = &live_buf[..n_live];
         let eliminated = self.eliminated(p, ns, active, fixed_ph.is_some());
-        // Unknown k < n: ln m of active master unk[k]; n: ln{H+}; n + 1: I. An eliminated
-        // master's column and row are the sinks.
+        // Unknown k < n: ln m of active master unk[k], its mass balance row k; n: ln{H+}; n + 1:
+        // I. An eliminated master's column and row are the sinks.
         let mut unk = [0usize; NC];
         let mut col_of = [SINK; NC];
         let mut n = 0;
@@ -815,7 +811,6 @@ impl Solver {
                 free[c] = 0.0;
             }
         }
-        let row_of = col_of;
         let (qh, qi) = (n, n + 1);
         // Masters new to this water (a coagulant's metal) start from the mass balances at the
         // starting pH rather than from their totals, which can be 10 orders too high.
@@ -998,9 +993,10 @@ impl Solver {
                     jac[qi][col] -= z2h * nc;
                     g_of[e][col] += nc;
                 }
-                // Mass rows of this species' kept masters.
+                // Mass rows of this species' kept masters (a master's row has its column's
+                // index).
                 for k in 0..kept {
-                    let r = row_of[t.master[k] as usize];
+                    let r = col_of[t.master[k] as usize];
                     let w = t.nu[k] as f64 * cs;
                     jac[r][RHS] -= w;
                     jac[r][qh] += w * eh;
