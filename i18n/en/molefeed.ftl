@@ -698,6 +698,7 @@ dose-above-max-use-level = Product dose { $product_mg_l } mg/L exceeds the produ
 max-use-level-typical = No maximum use level is recorded for { $product }: { $max_use_level_mg_l } mg/L is a typical NSF/ANSI/CAN 60 figure; check your product's certificate.
 sg-unlike-strength = SG { $sg } is off the density table for { $product } at { $strength } %: about { $expected } expected (tolerance { $tolerance } %). Check the certificate and the strength's basis.
 water-co2-high = pH { $ph } with alkalinity { $alkalinity } mg/L as CaCO₃ means { $co2 } mg/L of free CO₂, more than most waters carry: check the pH meter and the alkalinity.
+water-ion-balance = The analysis does not balance (Standard Methods 1030 E): cations { $cations } meq/L, anions { $anions } meq/L, a difference of { $difference } %, above the { $allowed } limit for a complete analysis. An ion may be mistyped, written in another basis (calcium as Ca where as CaCO₃ is meant) or missing: check the analysis before acting on a result from it.
 pump-too-small = The feed needs { $percent } % of the pump's or feeder's full scale ({ $capacity } { $unit }): no setting can deliver it. A full scale of about { $capacity_needed } { $unit } would put it at { $usable_max } %.
 setting-beyond-full-scale = The setting would be { $percent } % of full scale: no setting can deliver this feed; the pump or feeder is too small.
 flow-above-meter-range = The flow { $flow_m3_d } m³/d is above the full scale of every flow meter of the plant ({ $meter }: { $full_scale }): check the number and its unit.

@@ -170,6 +170,8 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     "site-limit-finished-below",
     "path-ct-needs-flow",
     "path-chlorine-as-fed",
+    // The analysis a water was read from (`engine::dosing::waterside::water_cautions`).
+    "water-ion-balance",
 ];
 
 /// Further results listed under the card's big numbers (`result-<id>` with dashes): every

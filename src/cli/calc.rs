@@ -646,14 +646,39 @@ fn follow_up_command(f: &crate::engine::calculators::FollowUp) -> String {
 /// Cautions for a script: the engine's codes and parameters, and beside them the English
 /// sentence the human printout shows, where the catalog has one.
 pub fn cautions_json(cautions: &[crate::engine::dosing::Caution]) -> Value {
+    serde_json::to_value(cautions_for_json(cautions)).unwrap_or(Value::Null)
+}
+
+/// [`cautions_json`] written as text, the bytes its value prints, without building the value
+/// (a `batch` line whose water is cautioned writes this).
+pub fn cautions_json_text(cautions: &[crate::engine::dosing::Caution]) -> String {
+    // Room for a caution or two with their sentences, so the text is not grown step by step.
+    let mut text = Vec::with_capacity(1024);
+    match serde_json::to_writer(&mut text, &cautions_for_json(cautions)) {
+        Ok(()) => String::from_utf8(text).unwrap_or_else(|_| "null".into()),
+        Err(_) => "null".into(),
+    }
+}
+
+/// One caution as a script reads it. The fields are in the order a JSON value keeps its keys
+/// (sorted), so the text and the value print alike.
+#[derive(serde::Serialize)]
+struct CautionJson<'a> {
+    key: &'a str,
+    params: &'a [(String, String)],
+    severity: crate::engine::dosing::Severity,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    text: Option<String>,
+}
+
+fn cautions_for_json(cautions: &[crate::engine::dosing::Caution]) -> Vec<CautionJson<'_>> {
     cautions
         .iter()
-        .map(|c| {
-            let mut v = json!({"severity": c.severity, "key": c.key, "params": c.params});
-            if let Some(text) = super::words::sentence(&c.key, &c.params) {
-                v["text"] = json!(text);
-            }
-            v
+        .map(|c| CautionJson {
+            key: &c.key,
+            params: &c.params,
+            severity: c.severity,
+            text: super::words::sentence(&c.key, &c.params),
         })
         .collect()
 }

@@ -5,6 +5,8 @@
 //! `--conductivity`), read by one function so every subcommand accepts exactly the same water.
 
 use super::{Args, CliError, CliResult, Report};
+use crate::engine::dosing::Caution;
+use crate::engine::dosing::waterside::water_cautions;
 use crate::engine::water::{
     self, Catalog, Chemical, Precipitation, WaterInput, WaterResult, WaterState,
 };
@@ -18,6 +20,20 @@ pub(super) const MAGNESIUM_REFUSED: &str = "--magnesium is ambiguous: give --mag
 
 pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
     Ok(WaterState::new(&water_input(args)?)?)
+}
+
+/// `report` with the cautions on the water's analysis ([`water_cautions`]) in its JSON
+/// `cautions` and its text, ahead of the advisory that [`super::dispatch`] adds to every
+/// water command's answer.
+fn cautioned(mut report: Report, cautions: &[Caution]) -> Report {
+    if cautions.is_empty() {
+        return report;
+    }
+    report.human.push_str(&super::words::cautions(cautions));
+    if let Some(object) = report.json.as_object_mut() {
+        object.insert("cautions".into(), super::calc::cautions_json(cautions));
+    }
+    report
 }
 
 /// The water flags as the engine's readings, before they are speciated.
@@ -294,15 +310,21 @@ pub(super) fn stream(
     }
     let mut text = Vec::with_capacity(2048);
     let written = match command {
-        "ph-after" => ph_after_answer(args).and_then(|(w, chem, dose, mode)| {
+        "ph-after" => ph_after_answer(args).and_then(|(w, chem, dose, mode, cautions)| {
             finish(
                 args,
                 ph_after_fields(args, &w, chem, dose, mode)?,
+                &cautions,
                 &mut text,
             )
         }),
-        "dose-for-ph" => dose_for_ph_answer(args).and_then(|(r, chem, target, _)| {
-            finish(args, dose_for_ph_fields(args, &r, chem, target)?, &mut text)
+        "dose-for-ph" => dose_for_ph_answer(args).and_then(|(r, chem, target, _, cautions)| {
+            finish(
+                args,
+                dose_for_ph_fields(args, &r, chem, target)?,
+                &cautions,
+                &mut text,
+            )
         }),
         _ => return None,
     };
@@ -310,12 +332,32 @@ pub(super) fn stream(
 }
 
 /// The checks every command's answer passes in [`super::dispatch`] (no flag left unread),
-/// then the advisory caution, then the answer written into `text`.
-fn finish(args: &Args, answer: Answer<'_>, text: &mut Vec<u8>) -> Result<(), CliError> {
+/// then the water's `cautions` and the advisory, then the answer written into `text`: the
+/// bytes [`cautioned`] and [`super::dispatch`]'s advisory give the same answer. Without a
+/// caution of the water's own (nearly every line) the advisory list is the one rendered once.
+fn finish(
+    args: &Args,
+    answer: Answer<'_>,
+    cautions: &[Caution],
+    text: &mut Vec<u8>,
+) -> Result<(), CliError> {
     args.switch("json");
     args.reject_unused()?;
+    if cautions.is_empty() {
+        return answer
+            .with("cautions", Field::Rendered(super::advisory_json_text()))
+            .write(text);
+    }
+    // The water's cautions, then the advisory's rendered list without its `[`.
+    let own = super::calc::cautions_json_text(cautions);
+    let advisory = super::advisory_json_text();
+    let rendered = format!(
+        "{},{}",
+        own.strip_suffix(']').unwrap_or(&own),
+        advisory.strip_prefix('[').unwrap_or(advisory)
+    );
     answer
-        .with("cautions", Field::Rendered(super::advisory_json_text()))
+        .with("cautions", Field::Rendered(&rendered))
         .write(text)
 }
 
@@ -348,7 +390,13 @@ fn water_human(w: &WaterResult) -> String {
 
 /// The answer to `ph-after`: the water after the dose, the chemical, the dose, the
 /// precipitation mode.
-type PhAfter = (WaterResult, &'static Chemical, f64, Precipitation);
+type PhAfter = (
+    WaterResult,
+    &'static Chemical,
+    f64,
+    Precipitation,
+    Vec<Caution>,
+);
 
 fn ph_after_answer(args: &Args) -> Result<PhAfter, CliError> {
     let chem = chemical(args)?;
@@ -356,7 +404,7 @@ fn ph_after_answer(args: &Args) -> Result<PhAfter, CliError> {
     let mode = precipitation(args, Precipitation::None)?;
     let state = water_state(args)?;
     let w = water::ph_after(&state, chem, dose, mode)?;
-    Ok((w, chem, dose, mode))
+    Ok((w, chem, dose, mode, water_cautions(&state)))
 }
 
 fn ph_after_fields<'a>(
@@ -375,9 +423,9 @@ fn ph_after_fields<'a>(
 
 /// `molefeed ph-after --chemical X --dose D [--precipitate none|hydroxide|complete] WATER`
 pub fn ph_after(args: &Args) -> CliResult {
-    let (w, chem, dose, mode) = ph_after_answer(args)?;
+    let (w, chem, dose, mode, cautions) = ph_after_answer(args)?;
     let json = ph_after_fields(args, &w, chem, dose, mode)?.to_value();
-    Ok(Report {
+    let report = Report {
         human: human_text(args, || {
             format!(
                 "after {dose} mg/L {} ({}):\n{}",
@@ -387,12 +435,13 @@ pub fn ph_after(args: &Args) -> CliResult {
             )
         }),
         json,
-    })
+    };
+    Ok(cautioned(report, &cautions))
 }
 
 /// The answer to `dose-for-ph`: the dose and the water it gives, the chemical, the target,
 /// the pH before.
-type DoseForPh = (water::DoseResult, &'static Chemical, f64, f64);
+type DoseForPh = (water::DoseResult, &'static Chemical, f64, f64, Vec<Caution>);
 
 fn dose_for_ph_answer(args: &Args) -> Result<DoseForPh, CliError> {
     let chem = chemical(args)?;
@@ -407,7 +456,7 @@ fn dose_for_ph_answer(args: &Args) -> Result<DoseForPh, CliError> {
             reason: None,
         });
     }
-    Ok((r, chem, target, state.ph()))
+    Ok((r, chem, target, state.ph(), water_cautions(&state)))
 }
 
 fn dose_for_ph_fields<'a>(
@@ -425,9 +474,9 @@ fn dose_for_ph_fields<'a>(
 
 /// `molefeed dose-for-ph --chemical X --target-ph P WATER`
 pub fn dose_for_ph(args: &Args) -> CliResult {
-    let (r, chem, target, ph_before) = dose_for_ph_answer(args)?;
+    let (r, chem, target, ph_before, cautions) = dose_for_ph_answer(args)?;
     let json = dose_for_ph_fields(args, &r, chem, target)?.to_value();
-    Ok(Report {
+    let report = Report {
         human: human_text(args, || {
             format!(
                 "{:.2} mg/L of {} ({}) brings pH {:.2} to {:.2}\n{}",
@@ -440,7 +489,8 @@ pub fn dose_for_ph(args: &Args) -> CliResult {
             )
         }),
         json,
-    })
+    };
+    Ok(cautioned(report, &cautions))
 }
 
 /// `molefeed stability WATER`
@@ -448,28 +498,31 @@ pub fn stability(args: &Args) -> CliResult {
     let state = water_state(args)?;
     let s = water::stability(&state)?;
     let fmt = |v: Option<f64>| v.map_or("n/a".to_string(), |v| format!("{v:+.2}"));
-    Ok(Report {
-        human: format!(
-            "pH {:.2}, pHs {}\nLangelier index {} (Standard Methods 2330)\nRyznar index {}\nCCPP {:+.1} mg/L as CaCO3 (+ precipitates, closed system)\ncalcite SI {:+.2}\n",
-            s.ph,
-            s.phs.map_or(
-                "n/a (no pH up to 14 saturates this water)".into(),
-                |p| format!("{p:.2}")
+    Ok(cautioned(
+        Report {
+            human: format!(
+                "pH {:.2}, pHs {}\nLangelier index {} (Standard Methods 2330)\nRyznar index {}\nCCPP {:+.1} mg/L as CaCO3 (+ precipitates, closed system)\ncalcite SI {:+.2}\n",
+                s.ph,
+                s.phs.map_or(
+                    "n/a (no pH up to 14 saturates this water)".into(),
+                    |p| format!("{p:.2}")
+                ),
+                fmt(s.langelier_index),
+                s.ryznar_index.map_or("n/a".into(), |v| format!("{v:.2}")),
+                s.ccpp_mg_l_as_caco3,
+                s.si_calcite
             ),
-            fmt(s.langelier_index),
-            s.ryznar_index.map_or("n/a".into(), |v| format!("{v:.2}")),
-            s.ccpp_mg_l_as_caco3,
-            s.si_calcite
-        ),
-        json: json!({
-            "ph": s.ph,
-            "phs": s.phs,
-            "langelier_index": s.langelier_index,
-            "ryznar_index": s.ryznar_index,
-            "ccpp_mg_l_as_caco3": s.ccpp_mg_l_as_caco3,
-            "si_calcite": s.si_calcite,
-        }),
-    })
+            json: json!({
+                "ph": s.ph,
+                "phs": s.phs,
+                "langelier_index": s.langelier_index,
+                "ryznar_index": s.ryznar_index,
+                "ccpp_mg_l_as_caco3": s.ccpp_mg_l_as_caco3,
+                "si_calcite": s.si_calcite,
+            }),
+        },
+        &water_cautions(&state),
+    ))
 }
 
 /// `molefeed curve --chemical X --max-dose D [--points N] WATER`
@@ -489,13 +542,16 @@ pub fn curve(args: &Args) -> CliResult {
     for p in &c {
         human.push_str(&format!("{:>10.2}   {:.2}\n", p.dose_mg_l, p.ph));
     }
-    Ok(Report {
-        human,
-        json: json!({
-            "chemical": chem.id,
-            "points": c.iter().map(|p| json!({"dose_mg_l": p.dose_mg_l, "ph": p.ph})).collect::<Vec<_>>(),
-        }),
-    })
+    Ok(cautioned(
+        Report {
+            human,
+            json: json!({
+                "chemical": chem.id,
+                "points": c.iter().map(|p| json!({"dose_mg_l": p.dose_mg_l, "ph": p.ph})).collect::<Vec<_>>(),
+            }),
+        },
+        &water_cautions(&state),
+    ))
 }
 
 /// `molefeed coagulant --chemical X --dose D [--precipitate ...] WATER`
@@ -505,27 +561,30 @@ pub fn coagulant(args: &Args) -> CliResult {
     let mode = precipitation(args, Precipitation::Hydroxide)?;
     let state = water_state(args)?;
     let c = water::coagulate(&state, chem, dose, mode)?;
-    Ok(Report {
-        human: format!(
-            "{dose} mg/L {} ({}) consumes {:.1} mg/L alkalinity as CaCO3\npH {:.2} -> {:.2}, alkalinity {:.1} -> {:.1} mg/L as CaCO3\n",
-            chem.id,
-            mode_name(mode),
-            c.alkalinity_consumed_mg_l_as_caco3,
-            state.ph(),
-            c.ph,
-            state.alkalinity_mg_l_as_caco3(),
-            c.alkalinity_mg_l_as_caco3
-        ),
-        json: json!({
-            "chemical": chem.id,
-            "dose_mg_l": dose,
-            "precipitate": mode_name(mode),
-            "ph": c.ph,
-            "alkalinity_mg_l_as_caco3": c.alkalinity_mg_l_as_caco3,
-            "alkalinity_consumed_mg_l_as_caco3": c.alkalinity_consumed_mg_l_as_caco3,
-            "precipitated_metal_mmol_l": c.precipitated_metal_mmol_l,
-        }),
-    })
+    Ok(cautioned(
+        Report {
+            human: format!(
+                "{dose} mg/L {} ({}) consumes {:.1} mg/L alkalinity as CaCO3\npH {:.2} -> {:.2}, alkalinity {:.1} -> {:.1} mg/L as CaCO3\n",
+                chem.id,
+                mode_name(mode),
+                c.alkalinity_consumed_mg_l_as_caco3,
+                state.ph(),
+                c.ph,
+                state.alkalinity_mg_l_as_caco3(),
+                c.alkalinity_mg_l_as_caco3
+            ),
+            json: json!({
+                "chemical": chem.id,
+                "dose_mg_l": dose,
+                "precipitate": mode_name(mode),
+                "ph": c.ph,
+                "alkalinity_mg_l_as_caco3": c.alkalinity_mg_l_as_caco3,
+                "alkalinity_consumed_mg_l_as_caco3": c.alkalinity_consumed_mg_l_as_caco3,
+                "precipitated_metal_mmol_l": c.precipitated_metal_mmol_l,
+            }),
+        },
+        &water_cautions(&state),
+    ))
 }
 
 /// `molefeed neutralize --chemical X --target-ph P [--purity PERCENT] WATER`
@@ -550,26 +609,29 @@ pub fn neutralize(args: &Args) -> CliResult {
     let purity = percent / 100.0;
     let state = water_state(args)?;
     let n = water::neutralize(&state, chem, target, purity)?;
-    Ok(Report {
-        human: format!(
-            "{:.2} mg/L {} ({:.2} mg/L of product at purity {percent} %) -> pH {:.2}, alkalinity {:.1} mg/L as CaCO3, LSI {}\n",
-            n.dose_mg_l,
-            chem.id,
-            n.product_mg_l,
-            n.ph,
-            n.alkalinity_mg_l_as_caco3,
-            n.langelier_index
-                .map_or("n/a".into(), |v| format!("{v:+.2}"))
-        ),
-        json: json!({
-            "chemical": chem.id,
-            "dose_mg_l": n.dose_mg_l,
-            "product_mg_l": n.product_mg_l,
-            "ph": n.ph,
-            "alkalinity_mg_l_as_caco3": n.alkalinity_mg_l_as_caco3,
-            "langelier_index": n.langelier_index,
-        }),
-    })
+    Ok(cautioned(
+        Report {
+            human: format!(
+                "{:.2} mg/L {} ({:.2} mg/L of product at purity {percent} %) -> pH {:.2}, alkalinity {:.1} mg/L as CaCO3, LSI {}\n",
+                n.dose_mg_l,
+                chem.id,
+                n.product_mg_l,
+                n.ph,
+                n.alkalinity_mg_l_as_caco3,
+                n.langelier_index
+                    .map_or("n/a".into(), |v| format!("{v:+.2}"))
+            ),
+            json: json!({
+                "chemical": chem.id,
+                "dose_mg_l": n.dose_mg_l,
+                "product_mg_l": n.product_mg_l,
+                "ph": n.ph,
+                "alkalinity_mg_l_as_caco3": n.alkalinity_mg_l_as_caco3,
+                "langelier_index": n.langelier_index,
+            }),
+        },
+        &water_cautions(&state),
+    ))
 }
 
 #[cfg(test)]
@@ -579,12 +641,19 @@ mod tests {
     /// The answer written straight to the output is byte for byte the one `dispatch` builds
     /// as a value and prints (the form every command had before `stream`): with and without
     /// calcium (`si_calcite` null), with chlorine (`hocl_fraction` a number), a coagulant
-    /// with hydroxide precipitating, and the inverse search.
+    /// with hydroxide precipitating, and the inverse search; an analysis that does not
+    /// balance (`water`: cations 2.30, anions 2.79 meq/L) and one that does (`balanced`).
     #[test]
     fn the_streamed_answer_is_the_printed_value_byte_for_byte() {
-        let water = "--ph 7.4 --temperature 12 --alkalinity 80 --calcium-as-caco3 60 --magnesium-as-caco3 20 --sodium 15 --chloride 20 --sulfate 30";
+        let water = "--ph 7.4 --temperature 12 --alkalinity 80 --calcium-as-caco3 60 --magnesium-as-caco3 20 --sodium 15 --potassium 2 --chloride 20 --sulfate 30";
+        let balanced = "--ph 7.5 --temperature 15 --alkalinity 100.1 --calcium-as-caco3 100.1 --magnesium-as-caco3 50.04 --sodium 20.69 --potassium 3.91 --chloride 35.45 --sulfate 48.03";
         let cases = [
             ("ph-after", format!("--chemical lime --dose 12 {water}")),
+            ("ph-after", format!("--chemical lime --dose 12 {balanced}")),
+            (
+                "dose-for-ph",
+                format!("--chemical caustic --target-ph 8.2 {balanced}"),
+            ),
             (
                 "ph-after",
                 "--chemical hypochlorite --dose 3 --ph 6.8 --temperature 20 --alkalinity 40"
@@ -622,6 +691,12 @@ mod tests {
                 String::from_utf8(streamed).unwrap(),
                 printed,
                 "{command} {flags}"
+            );
+            // The water's own caution is there exactly when its analysis does not balance.
+            assert_eq!(
+                printed.contains("water-ion-balance"),
+                flags.contains(water),
+                "{command} {flags}: {printed}"
             );
         }
     }

@@ -392,7 +392,8 @@ pub fn run(raw: &WaterState, path: &Path, settings: &Settings) -> Result<PathRes
     let mut points = Vec::with_capacity(path.points.len());
     let mut states = Vec::with_capacity(path.points.len());
     let mut basins = Vec::new();
-    let mut cautions = Vec::new();
+    // The raw water's analysis first: every water after it was figured from it.
+    let mut cautions = crate::engine::dosing::waterside::water_cautions(raw);
     let mut chlorine_assumed = false;
     for point in &path.points {
         for feed in &point.feeds {

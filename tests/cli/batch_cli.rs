@@ -289,3 +289,66 @@ fn a_water_request_is_answered_alike_however_its_json_is_written() {
     );
     assert_eq!(out.status.code(), Some(1));
 }
+
+/// Through the binary's batch (the streamed answer): a line whose complete analysis does not
+/// balance carries the water's caution ahead of the advisory, and with `fields` too; the
+/// balanced analysis's line carries the advisory alone. The analyses are those of
+/// `water_cli`'s test of every water command: calcium typed as the ion where as CaCO3 is meant.
+#[test]
+fn a_batch_line_cautions_an_analysis_that_does_not_balance() {
+    let water = |ca: f64| {
+        format!(
+            r#""ph":7.5,"temperature":15,"alkalinity":100.1,"calcium_as_caco3":{ca},"magnesium_as_caco3":50.04,"sodium":20.69,"potassium":3.91,"chloride":35.45,"sulfate":48.03"#
+        )
+    };
+    let line = |ca: f64, fields: &str| {
+        format!(
+            "{{\"command\":\"ph-after\",\"args\":{{\"chemical\":\"lime\",\"dose\":10,{fields}{}}}}}\n",
+            water(ca)
+        )
+    };
+    let input = [
+        line(40.0, ""),
+        line(40.0, r#""fields":"ph","#),
+        line(100.1, ""),
+    ]
+    .concat();
+    let out = run_with_input(&["batch"], input.as_bytes(), Duration::from_secs(60));
+    let answers = answers(&out.stdout);
+    assert_eq!(answers.len(), 3, "{}", text(&out.stdout));
+    let keys = |a: &Value| -> Vec<String> {
+        a["cautions"]
+            .as_array()
+            .unwrap_or_else(|| panic!("no cautions in {a}"))
+            .iter()
+            .map(|c| c["key"].as_str().unwrap().to_string())
+            .collect()
+    };
+    for a in &answers[..2] {
+        assert_eq!(
+            keys(a),
+            ["water-ion-balance", "advisory-operator-decides"],
+            "{a}"
+        );
+        let caution = &a["cautions"][0];
+        assert_eq!(caution["severity"], "warning", "{a}");
+        // cations 2.80 and anions 4.00 meq/L, as the test's numbers give by hand.
+        assert_eq!(
+            caution["params"][0],
+            serde_json::json!(["cations", "2.80"]),
+            "{a}"
+        );
+        assert_eq!(
+            caution["params"][1],
+            serde_json::json!(["anions", "4.00"]),
+            "{a}"
+        );
+        assert!(caution["text"].as_str().unwrap().contains("1030 E"), "{a}");
+    }
+    assert_eq!(
+        keys(&answers[2]),
+        ["advisory-operator-decides"],
+        "{}",
+        answers[2]
+    );
+}

@@ -350,3 +350,50 @@ fn fields_keeps_only_the_keys_asked_for_and_always_the_advisory() {
     };
     assert!(e.message.contains("--json"), "{}", e.message);
 }
+
+/// A complete analysis whose cations and anions do not balance (Standard Methods 1030 E) is
+/// cautioned by every water command, ahead of the advisory; a balanced one is not. The
+/// unbalanced analysis is the balanced one with its calcium typed as the ion (40 mg/L of Ca
+/// is 100 mg/L as CaCO3) in the field that means as CaCO3: cations 2.80 against 4.00 meq/L.
+#[test]
+fn every_water_command_cautions_an_analysis_that_does_not_balance() {
+    let balanced = "--ph 7.5 --temperature 15 --alkalinity 100.1 --calcium-as-caco3 100.1 --magnesium-as-caco3 50.04 --sodium 20.69 --potassium 3.91 --chloride 35.45 --sulfate 48.03 --json";
+    let unbalanced = balanced.replace("--calcium-as-caco3 100.1", "--calcium-as-caco3 40");
+    let keys = |command: &str, flags: &str, water: &str| -> Vec<String> {
+        let words: Vec<String> = format!("{flags} {water}")
+            .split_whitespace()
+            .map(String::from)
+            .collect();
+        let json = dispatch(command, &Args::parse(&words).unwrap())
+            .unwrap_or_else(|e| panic!("{command}: {}", e.message))
+            .json;
+        json["cautions"]
+            .as_array()
+            .unwrap_or_else(|| panic!("{command}: no cautions in {json}"))
+            .iter()
+            .map(|c| c["key"].as_str().unwrap().to_string())
+            .collect()
+    };
+    for (command, flags) in [
+        ("ph-after", "--chemical lime --dose 10"),
+        ("dose-for-ph", "--chemical caustic --target-ph 8.5"),
+        ("stability", ""),
+        ("curve", "--chemical caustic --max-dose 20 --points 5"),
+        ("coagulant", "--chemical alum --dose 30"),
+        (
+            "neutralize",
+            "--chemical caustic --target-ph 8.5 --purity 50",
+        ),
+    ] {
+        assert_eq!(
+            keys(command, flags, balanced),
+            ["advisory-operator-decides"],
+            "{command}"
+        );
+        assert_eq!(
+            keys(command, flags, &unbalanced),
+            ["water-ion-balance", "advisory-operator-decides"],
+            "{command}"
+        );
+    }
+}

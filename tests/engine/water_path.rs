@@ -423,3 +423,40 @@ fn two_targets_are_offered_where_a_point_lists_a_pair() {
         Some(["co2-tank", "lime-silo"]),
     );
 }
+
+/// The path is figured from the raw water's analysis, so a complete analysis that does not
+/// balance (Standard Methods 1030 E) is the path's first caution; a balanced one carries
+/// none. By hand: cations 2.00 + 1.00 + 0.90 + 0.10 = 4.00 meq/L against the alkalinity's
+/// 2.00, chloride's 1.00 and sulfate's 1.00; with the calcium typed as the ion (40 mg/L)
+/// in the field that means as CaCO3, the cations are 2.80.
+#[test]
+fn the_raw_waters_analysis_is_cautioned_when_it_does_not_balance() {
+    let catalog = Catalog::embedded().unwrap();
+    let path = Path::of_steps(&[(catalog.find("caustic").unwrap(), 5.0)]);
+    let raw = |calcium: f64| WaterInput {
+        calcium_mg_l_as_caco3: Some(calcium),
+        magnesium_mg_l_as_caco3: Some(50.04),
+        sodium_mg_l: Some(20.69),
+        potassium_mg_l: Some(3.91),
+        chloride_mg_l: Some(35.45),
+        sulfate_mg_l: Some(48.03),
+        ..WaterInput::new(7.5, 15.0, 100.1)
+    };
+    let keys = |calcium: f64| -> Vec<String> {
+        let state = WaterState::new(&raw(calcium)).unwrap();
+        let r = path::run(&state, &path, &Settings::default()).unwrap();
+        r.cautions.iter().map(|c| c.key.clone()).collect()
+    };
+    let balanced = keys(100.1);
+    assert!(
+        !balanced.iter().any(|k| k == "water-ion-balance"),
+        "{balanced:?}"
+    );
+    let unbalanced = keys(40.0);
+    assert_eq!(unbalanced[0], "water-ion-balance", "{unbalanced:?}");
+    assert_eq!(
+        unbalanced[1..],
+        balanced[..],
+        "the path's other cautions are unchanged"
+    );
+}

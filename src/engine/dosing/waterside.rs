@@ -10,7 +10,7 @@
 
 use super::caution::Caution;
 use super::site::{SiteProfile, regulatory_defaults};
-use crate::engine::sigfig::Measured;
+use crate::engine::sigfig::{Measured, format_sig};
 use crate::engine::trace::{Origin, Quantity, Trace};
 use crate::engine::water::{self, Chemical, Component, WaterState};
 use crate::engine::{Error, ErrorKind, Result};
@@ -225,4 +225,152 @@ pub fn product_effect(
     let (_, effect) = dose_effect(state, chemical, compound, precipitation)?;
     let cautions = ph_range.check(effect.ph_after).into_iter().collect();
     Ok((effect, cautions, trace))
+}
+
+/// Standard Methods 1030 E's acceptance of an analysis by its anion–cation balance, by the
+/// anion sum in meq/L (from memory): up to 3.0, a difference of 0.2 meq/L; above 3.0 up to
+/// 10.0, 2 %; above 10.0, 5 % (the percent as [`water::IonBalance::difference_percent`]).
+const ION_BALANCE_LOW_SUM_MEQ_L: f64 = 3.0;
+const ION_BALANCE_LOW_SUM_ALLOWED_MEQ_L: f64 = 0.2;
+const ION_BALANCE_MID_SUM_MEQ_L: f64 = 10.0;
+const ION_BALANCE_MID_SUM_ALLOWED_PERCENT: f64 = 2.0;
+const ION_BALANCE_HIGH_SUM_ALLOWED_PERCENT: f64 = 5.0;
+
+/// Cautions on the analysis a water was read from: a complete major-ion analysis whose
+/// cations and anions do not balance (`water-ion-balance`). A mistyped ion, one written in
+/// another basis (calcium as Ca in a field that means as CaCO3 is 2.5 times off) or a major
+/// ion left out moves the ionic strength, and with it every pH, index and dose computed from
+/// the water; the numbers are still shown, with the caution beside them.
+pub fn water_cautions(state: &WaterState) -> Vec<Caution> {
+    let Some(balance) = state.ion_balance() else {
+        return Vec::new();
+    };
+    let difference = balance.cations_meq_l - balance.anions_meq_l;
+    let percent = balance.difference_percent();
+    let (beyond, allowed) = if balance.anions_meq_l <= ION_BALANCE_LOW_SUM_MEQ_L {
+        (
+            difference.abs() > ION_BALANCE_LOW_SUM_ALLOWED_MEQ_L,
+            format!("{ION_BALANCE_LOW_SUM_ALLOWED_MEQ_L} meq/L"),
+        )
+    } else if balance.anions_meq_l <= ION_BALANCE_MID_SUM_MEQ_L {
+        (
+            percent.abs() > ION_BALANCE_MID_SUM_ALLOWED_PERCENT,
+            format!("{ION_BALANCE_MID_SUM_ALLOWED_PERCENT} %"),
+        )
+    } else {
+        (
+            percent.abs() > ION_BALANCE_HIGH_SUM_ALLOWED_PERCENT,
+            format!("{ION_BALANCE_HIGH_SUM_ALLOWED_PERCENT} %"),
+        )
+    };
+    if !beyond {
+        return Vec::new();
+    }
+    vec![
+        Caution::warning("water-ion-balance")
+            .with("cations", format_sig(balance.cations_meq_l, 3))
+            .with("anions", format_sig(balance.anions_meq_l, 3))
+            .with("difference", format!("{percent:+.1}"))
+            .with("allowed", allowed),
+    ]
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::engine::water::WaterInput;
+
+    /// A complete analysis: pH 7.5 at 15 °C, the alkalinity, calcium and magnesium in mg/L as
+    /// CaCO3 (50.04 mg a meq), sodium, chloride and sulfate in mg/L of the ion (22.99, 35.45
+    /// and 48.03 mg a meq), and potassium 3.91 mg/L (0.100 meq/L), which the sums below count
+    /// with sodium.
+    fn analysis(alk: f64, ca: f64, mg: f64, na: f64, cl: f64, so4: f64) -> WaterInput {
+        WaterInput {
+            calcium_mg_l_as_caco3: Some(ca),
+            magnesium_mg_l_as_caco3: Some(mg),
+            sodium_mg_l: Some(na - 2.30),
+            potassium_mg_l: Some(3.91),
+            chloride_mg_l: Some(cl),
+            sulfate_mg_l: Some(so4),
+            ..WaterInput::new(7.5, 15.0, alk)
+        }
+    }
+
+    /// The one helper: the water's cautions, and the `allowed` of its ion-balance caution
+    /// (`None`: no caution).
+    fn check(input: WaterInput, allowed: Option<&str>) {
+        let state = WaterState::new(&input).expect("a valid water");
+        let cautions = water_cautions(&state);
+        let got = cautions
+            .iter()
+            .find(|c| c.key == "water-ion-balance")
+            .and_then(|c| c.param("allowed"));
+        assert_eq!(got, allowed, "{input:?}: {cautions:?}");
+        assert!(cautions.iter().all(|c| c.key == "water-ion-balance"));
+    }
+
+    #[test]
+    fn a_balanced_analysis_carries_no_caution() {
+        // Cations 2.00 + 1.00 + 1.00 = 4.00 meq/L; anions 2.00 + 1.00 + 1.00 = 4.00.
+        check(analysis(100.1, 100.1, 50.04, 22.99, 35.45, 48.03), None);
+    }
+
+    #[test]
+    fn calcium_written_as_the_ion_in_the_as_caco3_field_is_caught() {
+        // 40 mg/L of Ca is 100 mg/L as CaCO3; typed as 40 the cations are short by 1.2 of
+        // 4.0 meq/L: -17 %, beyond 2 %.
+        check(
+            analysis(100.1, 40.0, 50.04, 22.99, 35.45, 48.03),
+            Some("2 %"),
+        );
+    }
+
+    #[test]
+    fn a_low_sum_is_judged_by_its_difference_in_meq() {
+        // Anions 1.00 + 0.50 + 0.50 = 2.00 meq/L. Sodium 0.35 meq/L (8.05 mg/L) short of it by
+        // 0.15 (7.8 %, which 2 % would refuse): within 0.2 meq/L.
+        check(analysis(50.04, 50.04, 25.02, 8.05, 17.73, 24.02), None);
+        // Short by 0.25 meq/L (sodium 5.75 mg/L): beyond it.
+        check(
+            analysis(50.04, 50.04, 25.02, 5.75, 17.73, 24.02),
+            Some("0.2 meq/L"),
+        );
+    }
+
+    #[test]
+    fn a_high_sum_is_allowed_five_percent() {
+        // Anions 4 + 4 + 4 = 12 meq/L; cations 4 + 4 + 3.2 (73.57 mg/L Na) = 11.2: -3.4 %.
+        check(analysis(200.2, 200.2, 200.2, 73.57, 141.8, 192.1), None);
+        // Cations 4 + 4 + 2.4 (55.18 mg/L) = 10.4: -7.1 %.
+        check(
+            analysis(200.2, 200.2, 200.2, 55.18, 141.8, 192.1),
+            Some("5 %"),
+        );
+    }
+
+    #[test]
+    fn an_analysis_without_every_major_ion_is_not_judged() {
+        // The same water as the caught one above, without its sulfate or its potassium: the
+        // sums would differ by the ion left out, not by an error.
+        let mut input = analysis(100.1, 40.0, 50.04, 22.99, 35.45, 48.03);
+        input.sulfate_mg_l = None;
+        check(input, None);
+        let mut input = analysis(100.1, 40.0, 50.04, 22.99, 35.45, 48.03);
+        input.potassium_mg_l = None;
+        check(input, None);
+        // The three readings every operator has.
+        check(WaterInput::new(7.5, 15.0, 100.0), None);
+    }
+
+    #[test]
+    fn a_dosed_water_keeps_the_caution_of_its_analysis() {
+        let input = analysis(100.1, 40.0, 50.04, 22.99, 35.45, 48.03);
+        let state = WaterState::new(&input).unwrap();
+        let caustic = water::Catalog::embedded().unwrap().find("caustic").unwrap();
+        let dosed = state
+            .dosed(caustic, 10.0, water::Precipitation::None)
+            .unwrap();
+        assert_eq!(water_cautions(&dosed), water_cautions(&state));
+        assert_eq!(water_cautions(&dosed).len(), 1);
+    }
 }

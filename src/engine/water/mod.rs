@@ -173,6 +173,32 @@ pub struct WaterState {
     problem: Problem,
     sp: Speciation,
     basis: IonicStrengthBasis,
+    /// Of the analysis the water was read from (a dosed water keeps its source's).
+    ion_balance: Option<IonBalance>,
+}
+
+/// The cation and anion sums of a complete major-ion analysis, meq/L: the check of
+/// Standard Methods 1030 E that every major ion was measured and written down in its basis.
+/// Cations: calcium, magnesium, sodium and potassium; anions: the alkalinity, chloride and
+/// sulfate. Made only when all six ions are given (a laboratory's list for the check): with
+/// one of them missing the sums differ by that ion, whatever the analysis's accuracy, and
+/// potassium alone (often 0.1 meq/L) is half of what a low sum may differ by.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct IonBalance {
+    pub cations_meq_l: f64,
+    pub anions_meq_l: f64,
+}
+
+impl IonBalance {
+    /// 100 · (cations − anions) / (cations + anions), as Standard Methods 1030 E writes it.
+    pub fn difference_percent(&self) -> f64 {
+        let sum = self.cations_meq_l + self.anions_meq_l;
+        if sum > 0.0 {
+            100.0 * (self.cations_meq_l - self.anions_meq_l) / sum
+        } else {
+            0.0
+        }
+    }
 }
 
 /// The chemistry of a water: what `ph-after` and the UI show.
@@ -239,6 +265,28 @@ impl WaterState {
             None => None,
         };
         let alkalinity = alk / eq_caco3 / 1000.0;
+        let complete = [
+            input.calcium_mg_l_as_caco3,
+            input.magnesium_mg_l_as_caco3,
+            input.sodium_mg_l,
+            input.potassium_mg_l,
+            input.chloride_mg_l,
+            input.sulfate_mg_l,
+        ]
+        .iter()
+        .all(Option::is_some);
+        let ion_balance = complete.then(|| {
+            let meq = |c: Component, z: f64| z * totals[c.index()] * 1000.0;
+            IonBalance {
+                cations_meq_l: meq(Component::Ca, 2.0)
+                    + meq(Component::Mg, 2.0)
+                    + meq(Component::Na, 1.0)
+                    + meq(Component::K, 1.0),
+                anions_meq_l: alkalinity * 1000.0
+                    + meq(Component::Cl, 1.0)
+                    + meq(Component::SO4, 2.0),
+            }
+        });
         let solver = Solver::new(t);
         let mut problem = Problem::new(totals);
         let mut sp = solver.at_ph_and_alkalinity(ph, alkalinity, &problem)?;
@@ -273,6 +321,7 @@ impl WaterState {
             problem,
             sp,
             basis,
+            ion_balance,
         })
     }
 
@@ -288,6 +337,12 @@ impl WaterState {
 
     pub fn ionic_strength_basis(&self) -> IonicStrengthBasis {
         self.basis
+    }
+
+    /// The cation and anion sums of the analysis the water was read from, when it was a
+    /// complete one ([`IonBalance`]).
+    pub fn ion_balance(&self) -> Option<IonBalance> {
+        self.ion_balance
     }
 
     pub fn temperature_c(&self) -> f64 {
@@ -444,6 +499,7 @@ impl WaterState {
             problem,
             sp,
             basis: self.basis,
+            ion_balance: self.ion_balance,
         })
     }
 }
@@ -466,6 +522,7 @@ impl WaterState {
             problem,
             sp,
             basis: self.basis,
+            ion_balance: self.ion_balance,
         })
     }
 
@@ -533,6 +590,7 @@ impl WaterState {
             problem,
             sp,
             basis: self.basis,
+            ion_balance: self.ion_balance,
         })
     }
 }

@@ -81,6 +81,7 @@ pub fn softened(
         problem,
         sp,
         basis: state.basis,
+        ion_balance: state.ion_balance,
     };
     let caco3 = masses()?.caco3;
     let result = Softened {
