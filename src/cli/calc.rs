@@ -528,6 +528,44 @@ pub fn shown_with_range(r: &ResultValue, unit: Unit, figures: u32) -> String {
     }
 }
 
+/// Every input as the calculation read it, in the units of the printout: a number typed
+/// without its unit is read in the request's unit system (`--units`, the site's, or the one
+/// another unit flag names: `--flow-unit mgd` makes a pump capacity gal/h and a temperature
+/// °F), and this line shows which, next to the results that follow from it.
+fn read_as(outcome: &Outcome, system: UnitSystem) -> String {
+    let read: Vec<String> = outcome
+        .inputs
+        .iter()
+        .map(|i| {
+            let unit = i.quantity.unit(system);
+            let value = unit.from_si(i.value);
+            let value = match i.figures {
+                Some(f) => shown(value, i.quantity, u32::from(f)),
+                None => plain(value),
+            };
+            let unit = unit_text(unit, i.basis);
+            // A pH says its own unit ("ph 7.60").
+            if unit.is_empty() || unit == "pH" {
+                format!("{} {value}", i.name)
+            } else {
+                format!("{} {value} {unit}", i.name)
+            }
+        })
+        .collect();
+    format!("read as: {}", read.join(", "))
+}
+
+/// A number without the float noise a unit conversion leaves (8.000000000000002 gal/h → 8).
+fn plain(value: f64) -> String {
+    let text = format!("{value:.6}");
+    let text = text.trim_end_matches('0').trim_end_matches('.');
+    if text == "-0" {
+        "0".into()
+    } else {
+        text.to_string()
+    }
+}
+
 fn unit_text(unit: Unit, basis: Option<&str>) -> String {
     let symbol = unit.symbol();
     match (symbol, basis) {
@@ -548,6 +586,9 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
     let mut lines = Vec::new();
     if let Some(p) = &outcome.product {
         lines.push(format!("{} ({})", p.name, outcome.calculator));
+    }
+    if !outcome.inputs.is_empty() {
+        lines.push(read_as(outcome, system));
     }
     for r in &outcome.results {
         let unit = r.quantity.si().symbol();

@@ -68,10 +68,19 @@ impl Reaction {
             }
         }
         check_each_element_on_both_sides(&terms)?;
-        let null_space = null_space(matrix)?;
+        let null_space = null_space(matrix.clone())?;
         let coefficients = match null_space.len() {
             0 => return Err(impossible(&terms, None)),
-            1 => integer_coefficients(&null_space[0], &terms)?,
+            1 => {
+                let found = integer_coefficients(&null_space[0], &terms)?;
+                // Every step above is exact, checked arithmetic; the balancing is checked
+                // once more against the atoms and charges, so that no slip can ever print an
+                // equation that does not balance.
+                if !conserves(&matrix, &found)? {
+                    return Err(overflow());
+                }
+                found
+            }
             n => {
                 let free: Vec<&str> = null_space
                     .iter()
@@ -460,7 +469,8 @@ fn null_space(mut m: DMatrix<i128>) -> Result<Vec<Vec<Q>>> {
         let mut v = vec![Q::zero(); cols];
         v[f] = Q::one();
         for (row, &p) in pivots.iter().enumerate() {
-            v[p] = Q::new(-m[(row, f)], m[(row, p)]);
+            let numer = m[(row, f)].checked_neg().ok_or_else(overflow)?;
+            v[p] = Q::new(numer, m[(row, p)]);
         }
         basis.push(v);
     }
@@ -483,10 +493,16 @@ fn integer_coefficients(v: &[Q], terms: &[Term]) -> Result<Vec<u64>> {
         let g = acc.gcd(&d);
         (acc / g).checked_mul(d).ok_or_else(overflow)
     })?;
+    // lcm is a multiple of every (reduced, positive) denominator: each product is exact, and
+    // checked.
     let ints: Vec<i128> = v
         .iter()
-        .map(|q| (q * Q::from_integer(lcm)).to_integer())
-        .collect();
+        .map(|q| {
+            (lcm / *q.denom())
+                .checked_mul(*q.numer())
+                .ok_or_else(overflow)
+        })
+        .collect::<Result<_>>()?;
     let gcd = ints.iter().fold(0i128, |g, x| g.gcd(x));
     let sign = if ints.iter().any(|x| x.is_positive()) && !ints.iter().any(|x| x.is_negative()) {
         1

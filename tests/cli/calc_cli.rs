@@ -363,7 +363,14 @@ fn a_cross_check_prints_its_deviation_first_with_ranges() {
         out
     };
     let out = check("9100");
-    let lines: Vec<&str> = out.lines().skip(1).take(2).collect();
+    // The inputs as read come first, each in its unit, then the results.
+    assert!(
+        out.lines().nth(1).is_some_and(|l| l.starts_with(
+            "read as: flow 9100 m³/d, dose 3.0 mg/L as Cl2, drawdown-volume 140 mL as product"
+        )),
+        "{out}"
+    );
+    let lines: Vec<&str> = out.lines().skip(2).take(2).collect();
     assert!(
         lines[0].starts_with("actual_dose") && lines[0].contains(" 2.77 ("),
         "{out}"
@@ -481,4 +488,61 @@ fn two_targets_takes_a_list_of_chemicals_and_gives_both_doses() {
         assert_ne!(code, 0, "{line}: {text}");
         assert_eq!(json["error"]["reason"], reason, "{line}: {text}");
     }
+}
+
+/// A number typed without its unit is read in the request's unit system, and another unit
+/// flag can name that system: with `--flow-unit mgd` a pump capacity of 8 is 8 gal/h, and a
+/// temperature is in °F where `--units us` is given. The printout says so on its "read as"
+/// line, before any result that follows from it. By hand: 2.4 MGD × 2.5 mg/L × 8.3454 =
+/// 50.1 lb/d of Cl2, 182 L/d of 12.5 % trade product = 7.57 L/h, 25 % of 8 gal/h (30.28 L/h).
+#[test]
+fn the_printout_says_how_each_input_was_read() {
+    let (code, _, out) = run(&[
+        "calc",
+        "feed",
+        "--product",
+        "sodium-hypochlorite",
+        "--flow",
+        "2.4",
+        "--flow-unit",
+        "mgd",
+        "--dose",
+        "2.5",
+        "--strength",
+        "12.5",
+        "--specific-gravity",
+        "1.165",
+        "--pump-capacity",
+        "8",
+    ]);
+    assert_eq!(code, 0, "{out}");
+    let read = out.lines().nth(1).unwrap_or_default();
+    assert!(
+        read.starts_with("read as: flow 2.4 MGD, dose 2.5 mg/L as Cl2"),
+        "{out}"
+    );
+    assert!(read.ends_with("pump-capacity 8 gal/h"), "{out}");
+    assert!(out.contains("pump_setting                 25.0"), "{out}");
+    let (code, _, out) = run(&[
+        "calc",
+        "ct",
+        "--residual",
+        "1.1",
+        "--ph",
+        "7.6",
+        "--temperature",
+        "38",
+        "--t10",
+        "38",
+        "--units",
+        "us",
+    ]);
+    assert_eq!(code, 0, "{out}");
+    assert!(
+        out.lines()
+            .next()
+            .is_some_and(|l| l
+                == "read as: residual 1.1 mg/L as Cl2, ph 7.60, temperature 38 °F, t10 38 min"),
+        "{out}"
+    );
 }
