@@ -312,6 +312,7 @@ error-reason-not-positive = { $quantity } must be greater than zero.
 error-reason-needs-specific-gravity = This product is a solution: give its specific gravity.
 error-reason-basis-not-for-product = That way of stating the strength does not apply to this product.
 error-reason-strength-above-pure = { $value } % available chlorine is more than the pure compound carries ({ $max } %).
+error-reason-strength-above-pure-al2o3 = { $value } % as Al₂O₃ is more than the pure compound carries ({ $max } %): is the strength on another basis, such as % of the product by weight?
 error-reason-trade-strength-above-density = { $value } trade % would be more chlorine than the solution weighs.
 error-reason-pump-needs-liquid = A liquid pump needs a liquid product with its specific gravity.
 error-reason-feeder-cannot-feed-product = This kind of feeder cannot feed this product.

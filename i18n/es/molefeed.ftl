@@ -312,6 +312,7 @@ error-reason-not-positive = { $quantity } debe ser mayor que cero.
 error-reason-needs-specific-gravity = Este producto es una solución: indique su densidad relativa.
 error-reason-basis-not-for-product = Esa forma de expresar la concentración no se aplica a este producto.
 error-reason-strength-above-pure = { $value } % de cloro disponible es más de lo que contiene el compuesto puro ({ $max } %).
+error-reason-strength-above-pure-al2o3 = { $value } % como Al₂O₃ es más de lo que contiene el compuesto puro ({ $max } %): ¿está la concentración en otra base, como % en peso del producto?
 error-reason-trade-strength-above-density = { $value } % p/v de cloro activo sería más cloro de lo que pesa la solución.
 error-reason-pump-needs-liquid = Una bomba de líquido necesita un producto líquido con su densidad relativa.
 error-reason-feeder-cannot-feed-product = Este tipo de dosificador no puede dosificar este producto.

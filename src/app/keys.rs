@@ -282,6 +282,7 @@ pub const ERROR_REASONS: &[&str] = &[
     "needs-specific-gravity",
     "basis-not-for-product",
     "strength-above-pure",
+    "strength-above-pure-al2o3",
     "trade-strength-above-density",
     "pump-needs-liquid",
     "feeder-cannot-feed-product",

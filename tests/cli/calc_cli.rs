@@ -413,6 +413,14 @@ fn the_tables_guards_refuse_or_caution_on_the_command_line() {
                 .to_string(),
             Refused("percent-looks-like-fraction"),
         ),
+        // A certificate's 48.5 % (as dry alum) typed on alum's Al2O3 basis: pure alum carries
+        // 17.2 % Al2O3.
+        (
+            "calc feed --product alum-liquid --units si --flow 9000 --dose 30 --strength 48.5 \
+             --specific-gravity 1.33 --json"
+                .to_string(),
+            Refused("strength-above-pure-al2o3"),
+        ),
         (
             format!("{hypo} --flow 9000 --pump-capacity 15 --site {site} --pump alum-hose-pump"),
             Caution("pump-not-for-product"),

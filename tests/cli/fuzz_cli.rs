@@ -55,7 +55,7 @@ fn templates() -> Vec<(String, String)> {
         t("pump-check", format!("--drawdown-ml 250 --seconds 60 --flow 2.5 --flow-unit mgd {HYPO} --target-dose 3.0 --current-setting 30")),
         t("dilute", "--product sodium-hypochlorite --strength 12.5 --strength-basis trade --sg 1.16 --target-strength 1 --target-basis trade --target-sg 1.02 --volume 200 --volume-unit L".into()),
         t("sludge", "--coagulant alum --dose 30 --suspended-solids 12 --flow 2 --flow-unit mgd".into()),
-        t("coagulation", "--coagulant alum --dose 30 --ph 7.4 --temperature 12 --alkalinity 90 --flow 2 --flow-unit mgd --strength 48.5 --sg 1.33 --pump-capacity 20 --pump-unit gph".into()),
+        t("coagulation", "--coagulant alum --dose 30 --ph 7.4 --temperature 12 --alkalinity 90 --flow 2 --flow-unit mgd --strength 8.3 --sg 1.33 --pump-capacity 20 --pump-unit gph".into()),
         t("neutralize-feed", "--target-ph 8.2 --flow 2 --flow-unit mgd --product sodium-hydroxide --strength 50 --strength-basis weight --sg 1.52 --pump-capacity 10 --pump-unit gph --ph 7.4 --temperature 12 --alkalinity 90 --calcium-as-caco3 110".into()),
         t("ph-after", format!("--chemical Ca(OH)2 --dose 15 {WATER}")),
         t("dose-for-ph", format!("--chemical NaOH --target-ph 8.8 {WATER}")),

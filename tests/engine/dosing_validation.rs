@@ -193,6 +193,28 @@ fn bad_strengths_and_specific_gravities_are_rejected() {
         ErrorKind::InvalidInput,
         "aluminium",
     );
+    // More Al2O3 than pure alum carries. By hand: Al2(SO4)3·14H2O is 594.4 g/mol and holds one
+    // Al2O3 (101.96 g/mol): 17.15 %. 48.5 % (a certificate's "% as dry alum") typed as Al2O3
+    // is refused; 17.1 % is accepted (and cautioned as unusual, being far from 8.3 %).
+    let alum_at = |percent: f64| FeedInput {
+        product: "alum-liquid".into(),
+        strength: hypo(percent, StrengthBasis::AsAl2o3, Some(1.33)),
+        ..feed_input(2.5, 30.0, hypo(1.0, StrengthBasis::Weight, Some(1.0)))
+    };
+    check(
+        "48.5 % as Al2O3 on alum",
+        feed::feed(&c, &alum_at(48.5)),
+        ErrorKind::OutOfRange,
+        "more than pure Al2(SO4)3·14H2O carries (17.2 %)",
+    );
+    check(
+        "17.2 % as Al2O3 on alum",
+        feed::feed(&c, &alum_at(17.2)),
+        ErrorKind::OutOfRange,
+        "as Al2O3",
+    );
+    assert!(feed::feed(&c, &alum_at(17.1)).is_ok());
+    assert!(feed::feed(&c, &alum_at(8.3)).is_ok());
 }
 
 #[test]

@@ -675,6 +675,28 @@ pub fn check_strength(catalog: &Catalog, p: &Product, s: &Strength) -> Result<()
                 .with("max", format!("{max:.1}")));
             }
         }
+        StrengthBasis::AsAl2o3 => {
+            // Pure compound is the most Al2O3 a product can carry (17.2 % for alum's
+            // 14-hydrate): a strength above it is another basis typed as Al2O3 (the 48.5 % a
+            // certificate gives as dry alum read as Al2O3 would underfeed six times).
+            let max = 100.0
+                * via_element(&p.compound, "Al2O3", "Al")?
+                    .iter()
+                    .fold(1.0, |acc, s| acc * s.numerator.value / s.denominator.value);
+            if s.value.value > max + 1e-9 {
+                return Err(Error::new(
+                    ErrorKind::OutOfRange,
+                    format!(
+                        "{} % as Al2O3 is more than pure {} carries ({max:.1} %): is it the strength on another basis (--strength-basis weight: % of the product as {})?",
+                        s.value.value, p.compound, p.compound
+                    ),
+                )
+                .because("strength-above-pure-al2o3")
+                .with("quantity", "strength")
+                .with("value", s.value.value)
+                .with("max", format!("{max:.1}")));
+            }
+        }
         StrengthBasis::Trade => {
             // g/L of available Cl2 cannot exceed the solution's own density in g/L.
             let sg = s.sg.map_or(2.5, |m| m.value);
