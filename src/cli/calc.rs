@@ -131,11 +131,13 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
     }
     let products = c.products(calc);
     if !products.is_empty() {
+        // Each with the basis its --strength (or --purity) is read on: the same number on
+        // another basis is another amount of chemical (48.5 % as the alum vs 8.3 % as Al2O3).
         out.push_str(&format!(
-            "products: {}\n",
+            "products (the basis of their strength): {}\n",
             products
                 .iter()
-                .map(|p| p.id.as_str())
+                .map(|p| format!("{} ({})", p.id, p.strength_basis))
                 .collect::<Vec<_>>()
                 .join(", ")
         ));

@@ -554,3 +554,17 @@ fn the_printout_says_how_each_input_was_read() {
         "{out}"
     );
 }
+
+/// A calculator's help names the basis each product's strength is read on, from the table.
+#[test]
+fn the_help_names_each_products_strength_basis() {
+    let (code, _, out) = run(&["calc", "feed", "--help"]);
+    assert_eq!(code, 0, "{out}");
+    for product in [
+        "sodium-hypochlorite (trade)",
+        "alum-liquid (as-al2o3)",
+        "sodium-hydroxide (weight)",
+    ] {
+        assert!(out.contains(product), "{product}: {out}");
+    }
+}

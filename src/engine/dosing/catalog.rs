@@ -687,8 +687,11 @@ pub fn check_strength(catalog: &Catalog, p: &Product, s: &Strength) -> Result<()
                 return Err(Error::new(
                     ErrorKind::OutOfRange,
                     format!(
-                        "{} % as Al2O3 is more than pure {} carries ({max:.1} %): is it the strength on another basis (--strength-basis weight: % of the product as {})?",
-                        s.value.value, p.compound, p.compound
+                        "{} % as Al2O3 is more than pure {} carries ({max:.1} %). If it is the product's strength as {} (% by weight), it is {:.1} % as Al2O3",
+                        s.value.value,
+                        p.compound,
+                        p.compound,
+                        s.value.value * max / 100.0
                     ),
                 )
                 .because("strength-above-pure-al2o3")
