@@ -107,9 +107,10 @@ fn report(r: &PathResult, site: Option<&str>) -> Report {
         .iter()
         .map(|s| {
             human.push_str(&format!(
-                "{} {} mg/L {} at {}: {}\n",
+                "{} {} mg/L as {} ({}) at {}: {}\n",
                 s.label,
                 crate::engine::sigfig::format_sig(s.dose_mg_l, 3),
+                s.dose_as,
                 s.chemical,
                 s.point,
                 water_line(&s.water)
@@ -119,6 +120,7 @@ fn report(r: &PathResult, site: Option<&str>) -> Report {
                 "label": s.label,
                 "chemical": s.chemical,
                 "dose_mg_l": s.dose_mg_l,
+                "dose_as": s.dose_as,
             });
             if let (Some(obj), Value::Object(w)) = (v.as_object_mut(), water_json(&s.water)) {
                 obj.extend(w);
@@ -131,7 +133,7 @@ fn report(r: &PathResult, site: Option<&str>) -> Report {
         .iter()
         .map(|b| {
             human.push_str(&format!(
-                "basin {} after {}: T10 {:.0} min, free Cl2 {:.2} mg/L ({}), pH {:.2}, {:.1} °C: CT {:.0} of {:.0} mg·min/L for 3-log Giardia, {:.2} log credited\n",
+                "basin {} after {}: T10 {:.0} min, free Cl2 {:.2} mg/L ({}), pH {:.2}, {:.1} °C: CT {:.0} of {:.0} mg·min/L for 3-log Giardia, {:.2} log {}\n",
                 b.basin,
                 b.point,
                 b.t10_minutes,
@@ -141,7 +143,14 @@ fn report(r: &PathResult, site: Option<&str>) -> Report {
                 b.temperature_c,
                 b.ct_mg_min_l,
                 b.ct_required_3log_mg_min_l,
-                b.log_inactivation
+                b.log_inactivation,
+                // Credit is earned with the residual measured leaving the basin; with the
+                // chlorine fed it is an upper estimate (chlorine demand only lowers it).
+                if b.residual_measured {
+                    "credited"
+                } else {
+                    "at most (the chlorine fed, not a measured residual)"
+                }
             ));
             json!({
                 "basin": b.basin,

@@ -18,8 +18,12 @@ use serde_json::{Value, json};
 pub(super) const CALCIUM_REFUSED: &str = "--calcium is ambiguous: give --calcium-as-caco3 (mg/L as CaCO3) or --calcium-as-ca (mg/L of the ion)";
 pub(super) const MAGNESIUM_REFUSED: &str = "--magnesium is ambiguous: give --magnesium-as-caco3 (mg/L as CaCO3) or --magnesium-as-mg (mg/L of the ion)";
 
-pub(super) fn water_state(args: &Args) -> Result<WaterState, CliError> {
-    Ok(WaterState::new(&water_input(args)?)?)
+/// The water the flags describe, checked ([`water_cautions`]: a refusal before anything is
+/// computed from it), and the cautions on its readings.
+pub(super) fn water_state(args: &Args) -> Result<(WaterState, Vec<Caution>), CliError> {
+    let state = WaterState::new(&water_input(args)?)?;
+    let cautions = water_cautions(&state)?;
+    Ok((state, cautions))
 }
 
 /// `report` with the cautions on the water's analysis ([`water_cautions`]) in its JSON
@@ -402,9 +406,9 @@ fn ph_after_answer(args: &Args) -> Result<PhAfter, CliError> {
     let chem = chemical(args)?;
     let dose = args.required_number("dose")?;
     let mode = precipitation(args, Precipitation::None)?;
-    let state = water_state(args)?;
+    let (state, cautions) = water_state(args)?;
     let w = water::ph_after(&state, chem, dose, mode)?;
-    Ok((w, chem, dose, mode, water_cautions(&state)))
+    Ok((w, chem, dose, mode, cautions))
 }
 
 fn ph_after_fields<'a>(
@@ -447,7 +451,7 @@ fn dose_for_ph_answer(args: &Args) -> Result<DoseForPh, CliError> {
     let chem = chemical(args)?;
     let target = args.required_number("target-ph")?;
     let mode = precipitation(args, Precipitation::None)?;
-    let state = water_state(args)?;
+    let (state, cautions) = water_state(args)?;
     let r = water::dose_for_ph(&state, chem, target, mode)?;
     if !r.dose_mg_l.is_finite() {
         return Err(CliError {
@@ -456,7 +460,7 @@ fn dose_for_ph_answer(args: &Args) -> Result<DoseForPh, CliError> {
             reason: None,
         });
     }
-    Ok((r, chem, target, state.ph(), water_cautions(&state)))
+    Ok((r, chem, target, state.ph(), cautions))
 }
 
 fn dose_for_ph_fields<'a>(
@@ -495,7 +499,7 @@ pub fn dose_for_ph(args: &Args) -> CliResult {
 
 /// `molefeed stability WATER`
 pub fn stability(args: &Args) -> CliResult {
-    let state = water_state(args)?;
+    let (state, cautions) = water_state(args)?;
     let s = water::stability(&state)?;
     let fmt = |v: Option<f64>| v.map_or("n/a".to_string(), |v| format!("{v:+.2}"));
     Ok(cautioned(
@@ -521,7 +525,7 @@ pub fn stability(args: &Args) -> CliResult {
                 "si_calcite": s.si_calcite,
             }),
         },
-        &water_cautions(&state),
+        &cautions,
     ))
 }
 
@@ -536,7 +540,7 @@ pub fn curve(args: &Args) -> CliResult {
         ));
     }
     let mode = precipitation(args, Precipitation::None)?;
-    let state = water_state(args)?;
+    let (state, cautions) = water_state(args)?;
     let c = water::curve(&state, chem, max, points as usize, mode)?;
     let mut human = format!("dose mg/L {}   pH\n", chem.id);
     for p in &c {
@@ -550,7 +554,7 @@ pub fn curve(args: &Args) -> CliResult {
                 "points": c.iter().map(|p| json!({"dose_mg_l": p.dose_mg_l, "ph": p.ph})).collect::<Vec<_>>(),
             }),
         },
-        &water_cautions(&state),
+        &cautions,
     ))
 }
 
@@ -559,7 +563,7 @@ pub fn coagulant(args: &Args) -> CliResult {
     let chem = chemical(args)?;
     let dose = args.required_number("dose")?;
     let mode = precipitation(args, Precipitation::Hydroxide)?;
-    let state = water_state(args)?;
+    let (state, cautions) = water_state(args)?;
     let c = water::coagulate(&state, chem, dose, mode)?;
     Ok(cautioned(
         Report {
@@ -583,7 +587,7 @@ pub fn coagulant(args: &Args) -> CliResult {
                 "precipitated_metal_mmol_l": c.precipitated_metal_mmol_l,
             }),
         },
-        &water_cautions(&state),
+        &cautions,
     ))
 }
 
@@ -607,7 +611,7 @@ pub fn neutralize(args: &Args) -> CliResult {
     }
     // `water::neutralize` takes the purity as a fraction of one.
     let purity = percent / 100.0;
-    let state = water_state(args)?;
+    let (state, cautions) = water_state(args)?;
     let n = water::neutralize(&state, chem, target, purity)?;
     Ok(cautioned(
         Report {
@@ -630,7 +634,7 @@ pub fn neutralize(args: &Args) -> CliResult {
                 "langelier_index": n.langelier_index,
             }),
         },
-        &water_cautions(&state),
+        &cautions,
     ))
 }
 

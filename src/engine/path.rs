@@ -265,6 +265,9 @@ pub struct Step {
     pub chemical: String,
     /// mg/L of the chemical's compound.
     pub dose_mg_l: f64,
+    /// That compound's formula: the basis of `dose_mg_l` (NaOCl for hypochlorite, where a
+    /// chlorine calculator's dose is as Cl2).
+    pub dose_as: String,
     pub water: WaterAt,
 }
 
@@ -393,7 +396,7 @@ pub fn run(raw: &WaterState, path: &Path, settings: &Settings) -> Result<PathRes
     let mut states = Vec::with_capacity(path.points.len());
     let mut basins = Vec::new();
     // The raw water's analysis first: every water after it was figured from it.
-    let mut cautions = crate::engine::dosing::waterside::water_cautions(raw);
+    let mut cautions = crate::engine::dosing::waterside::water_cautions(raw)?;
     let mut chlorine_assumed = false;
     for point in &path.points {
         for feed in &point.feeds {
@@ -402,6 +405,7 @@ pub fn run(raw: &WaterState, path: &Path, settings: &Settings) -> Result<PathRes
                 point: point.id.clone(),
                 label: feed.label.clone(),
                 chemical: feed.chemical.id.clone(),
+                dose_as: feed.chemical.formula.to_string(),
                 dose_mg_l: feed.dose_mg_l,
                 water: water_at(&state, full)?,
             });

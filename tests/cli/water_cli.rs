@@ -397,3 +397,57 @@ fn every_water_command_cautions_an_analysis_that_does_not_balance() {
         );
     }
 }
+
+/// Every water command checks the water's pH against its alkalinity as the calculator table
+/// does: free CO2 beyond what dissolves under one atmosphere is refused (pH 3.0 with the
+/// alkalinity given as 0 meant a DIC of 2.8 mol/L; pH 5.0 with 100 mg/L as CaCO3, about
+/// 1 970 mg/L of CO2 at 25 °C), and a high but possible CO2 (pH 6.0, about 200 mg/L) is
+/// cautioned. The CO2 by hand is in `waterside`'s test of the same readings.
+#[test]
+fn every_water_command_checks_the_ph_against_the_alkalinity() {
+    let commands = [
+        ("ph-after", "--chemical caustic --dose 9"),
+        ("dose-for-ph", "--chemical caustic --target-ph 8.5"),
+        ("stability", ""),
+        ("curve", "--chemical caustic --max-dose 20 --points 5"),
+        ("coagulant", "--chemical alum --dose 30"),
+        (
+            "neutralize",
+            "--chemical caustic --target-ph 8.5 --purity 50",
+        ),
+    ];
+    let dispatched = |command: &str, flags: &str, water: &str| {
+        let words: Vec<String> = format!("{flags} {water} --json")
+            .split_whitespace()
+            .map(String::from)
+            .collect();
+        dispatch(command, &Args::parse(&words).unwrap())
+    };
+    for (command, flags) in commands {
+        for water in [
+            "--ph 3.0 --temperature 11 --alkalinity 0",
+            "--ph 5.0 --temperature 25 --alkalinity 100",
+        ] {
+            let e = dispatched(command, flags, water)
+                .err()
+                .unwrap_or_else(|| panic!("{command} {water}: answered"));
+            assert_eq!(
+                e.reason,
+                Some("water-co2-beyond-solubility"),
+                "{command} {water}: {}",
+                e.message
+            );
+        }
+        let json = dispatched(
+            command,
+            flags,
+            "--ph 6.0 --temperature 25 --alkalinity 100 --calcium-as-caco3 80",
+        )
+        .unwrap_or_else(|e| panic!("{command}: {}", e.message))
+        .json;
+        assert_eq!(
+            json["cautions"][0]["key"], "water-co2-high",
+            "{command}: {json}"
+        );
+    }
+}

@@ -12,25 +12,15 @@
 
 use super::{Calculator, Calculators, Device, Input, Outcome, Request, resolve_basis};
 use crate::engine::dosing::catalog::{
-    Catalog, Form, Product, StrengthBasis, check_sg_against_strength, molar_mass,
+    Catalog, Form, Product, StrengthBasis, check_sg_against_strength,
 };
 use crate::engine::dosing::caution::Caution;
 use crate::engine::dosing::feed::UsableRange;
+use crate::engine::dosing::waterside::{self, solubility_mg_l};
 use crate::engine::quantity::Quantity;
 use crate::engine::sigfig::format_sig;
 use crate::engine::water::{WaterInput, WaterState};
 use crate::engine::{Error, ErrorKind, Result};
-
-/// The lowest total-alkalinity titration end point: Standard Methods 2320 B lists pH 4.3-4.9
-/// by alkalinity (4.3 at the highest, from memory). A water already below it has nothing left
-/// to titrate, so a positive alkalinity with such a pH is a misreading of one or the other.
-const LOWEST_ALKALINITY_END_POINT: f64 = 4.3;
-
-/// Free CO2 above this fraction of its solubility under one atmosphere of CO2 (a partial
-/// pressure of 0.1 atm, several hundred times air's) is more than most waters carry
-/// (groundwaters rarely exceed about 0.1 atm, from memory): cautioned, the pH meter and the
-/// alkalinity are worth a second look.
-const HIGH_CO2_FRACTION_OF_SOLUBILITY: f64 = 0.1;
 
 /// Where no water temperature is given, solubility is judged at 0 °C, where gases dissolve
 /// best, so only a dose no water could dissolve is refused.
@@ -238,74 +228,26 @@ fn sg_against_strength(
     }))
 }
 
-/// mg/L of `compound` that dissolves at `temperature_c` under one atmosphere of it, from the
-/// catalog gas's Henry's law constant; `None` for a product without one.
-fn solubility_mg_l(p: &Product, temperature_c: f64) -> Option<f64> {
-    let (m, _) = molar_mass(&p.compound).ok()?;
-    Some(p.henry.as_ref()?.solubility_mg_l_at_1_atm(m, temperature_c))
-}
-
-/// The water's pH and alkalinity against each other: a positive alkalinity below the lowest
-/// titration end point is refused, and so is free CO2 (from carbonate equilibrium) beyond what
-/// dissolves under one atmosphere of CO2 at the water's temperature — such a water would
-/// effervesce at the tap, so one of the two readings is wrong, and every result built on it
-/// (a CCPP of thousands of mg/L) would be too. A high but possible CO2 is cautioned.
+/// The water's pH and alkalinity against each other ([`waterside::readings_check`]), with
+/// the free CO2 of the three readings alone.
 fn water_co2(catalog: &Catalog, request: &Request) -> Result<Option<Caution>> {
-    let ph = request.get("ph");
-    let (Some(ph), Some(alkalinity)) = (ph, request.get("alkalinity")) else {
+    let (Some(ph), Some(alkalinity)) = (request.get("ph"), request.get("alkalinity")) else {
         return Ok(None);
     };
-    if alkalinity > 0.0 && ph < LOWEST_ALKALINITY_END_POINT {
-        return Err(Error::new(
-            ErrorKind::OutOfRange,
-            format!(
-                "pH {ph} is below the alkalinity titration's end point ({LOWEST_ALKALINITY_END_POINT}): such a water has no alkalinity left, not {alkalinity} mg/L as CaCO3"
-            ),
-        )
-        .because("alkalinity-below-end-point")
-        .with("ph", ph)
-        .with("alkalinity", alkalinity)
-        .with("end_point", LOWEST_ALKALINITY_END_POINT));
-    }
-    let Some(temperature) = request.get("temperature") else {
-        return Ok(None);
-    };
-    // The water engine refuses what it cannot speciate; the calculator will say so itself.
-    let Ok(co2) = WaterState::new(&WaterInput::new(ph, temperature, alkalinity))
-        .and_then(|w| w.result())
-        .map(|r| r.co2_mg_l)
-    else {
-        return Ok(None);
-    };
-    let Some(soluble) = catalog
-        .product("carbon-dioxide")
-        .ok()
-        .and_then(|p| solubility_mg_l(p, temperature))
-    else {
-        return Ok(None);
-    };
-    if co2 > soluble {
-        return Err(Error::new(
-            ErrorKind::OutOfRange,
-            format!(
-                "pH {ph} with alkalinity {alkalinity} mg/L as CaCO3 means {} mg/L of free CO2, more than water holds at {temperature} °C under one atmosphere of CO2 ({} mg/L): check the pH meter and the alkalinity",
-                format_sig(co2, 3),
-                format_sig(soluble, 3)
-            ),
-        )
-        .because("water-co2-beyond-solubility")
-        .with("ph", ph)
-        .with("alkalinity", alkalinity)
-        .with("co2", format_sig(co2, 3))
-        .with("solubility", format_sig(soluble, 3))
-        .with("temperature", temperature));
-    }
-    Ok((co2 > HIGH_CO2_FRACTION_OF_SOLUBILITY * soluble).then(|| {
-        Caution::warning("water-co2-high")
-            .with("co2", format_sig(co2, 3))
-            .with("ph", ph)
-            .with("alkalinity", alkalinity)
-    }))
+    waterside::readings_check(
+        catalog,
+        ph,
+        alkalinity,
+        request.get("temperature"),
+        |temperature| {
+            // The water engine refuses what it cannot speciate; the calculator will say so
+            // itself.
+            WaterState::new(&WaterInput::new(ph, temperature, alkalinity))
+                .and_then(|w| w.result())
+                .map(|r| r.co2_mg_l)
+                .ok()
+        },
+    )
 }
 
 /// A gas dosed beyond what dissolves under one atmosphere of the gas at the water's

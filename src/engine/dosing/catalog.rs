@@ -369,6 +369,18 @@ pub fn molar_mass(formula: &str) -> Result<(f64, Option<u8>)> {
 }
 
 impl Catalog {
+    /// The embedded catalog, parsed the first time it is asked for and kept (a write-once cache
+    /// of data that is part of the build, like the water engine's constants table): for the
+    /// checks every water command makes, where parsing the catalog again would cost more than
+    /// the chemistry.
+    pub fn embedded() -> Result<&'static Catalog> {
+        static CATALOG: OnceLock<Result<Catalog>> = OnceLock::new();
+        CATALOG
+            .get_or_init(Catalog::builtin)
+            .as_ref()
+            .map_err(Clone::clone)
+    }
+
     /// Parses the embedded data. The data is part of the build, so a failure here is caught
     /// by the catalog tests; it is still a typed error, never a panic.
     pub fn builtin() -> Result<Catalog> {

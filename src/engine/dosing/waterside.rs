@@ -227,6 +227,88 @@ pub fn product_effect(
     Ok((effect, cautions, trace))
 }
 
+/// The lowest total-alkalinity titration end point: Standard Methods 2320 B lists pH 4.3-4.9
+/// by alkalinity (4.3 at the highest, from memory). A water already below it has nothing left
+/// to titrate, so a positive alkalinity with such a pH is a misreading of one or the other.
+const LOWEST_ALKALINITY_END_POINT: f64 = 4.3;
+
+/// Free CO2 above this fraction of its solubility under one atmosphere of CO2 (a partial
+/// pressure of 0.1 atm, several hundred times air's) is more than most waters carry
+/// (groundwaters rarely exceed about 0.1 atm, from memory): cautioned, the pH meter and the
+/// alkalinity are worth a second look.
+const HIGH_CO2_FRACTION_OF_SOLUBILITY: f64 = 0.1;
+
+/// mg/L of `compound` that dissolves at `temperature_c` under one atmosphere of it, from the
+/// catalog gas's Henry's law constant; `None` for a product without one.
+pub fn solubility_mg_l(p: &super::catalog::Product, temperature_c: f64) -> Option<f64> {
+    let (m, _) = super::catalog::molar_mass(&p.compound).ok()?;
+    Some(p.henry.as_ref()?.solubility_mg_l_at_1_atm(m, temperature_c))
+}
+
+/// The water's pH and alkalinity against each other, the one check the calculator table's
+/// guards and the water commands share: a positive alkalinity below the lowest titration end
+/// point is refused, and so is free CO2 (`co2_at`, from carbonate equilibrium at the water's
+/// temperature) beyond what dissolves under one atmosphere of CO2 at that temperature — such a
+/// water would effervesce at the tap, so one of the two readings is wrong, and every result
+/// built on it (a CCPP of thousands of mg/L, a DIC of mol/L) would be too. A high but
+/// possible CO2 is cautioned (`water-co2-high`). Without a temperature only the end point is
+/// checked.
+pub fn readings_check(
+    catalog: &super::catalog::Catalog,
+    ph: f64,
+    alkalinity: f64,
+    temperature: Option<f64>,
+    co2_at: impl FnOnce(f64) -> Option<f64>,
+) -> Result<Option<Caution>> {
+    if alkalinity > 0.0 && ph < LOWEST_ALKALINITY_END_POINT {
+        return Err(Error::new(
+            ErrorKind::OutOfRange,
+            format!(
+                "pH {ph} is below the alkalinity titration's end point ({LOWEST_ALKALINITY_END_POINT}): such a water has no alkalinity left, not {alkalinity} mg/L as CaCO3"
+            ),
+        )
+        .because("alkalinity-below-end-point")
+        .with("ph", ph)
+        .with("alkalinity", alkalinity)
+        .with("end_point", LOWEST_ALKALINITY_END_POINT));
+    }
+    let Some(temperature) = temperature else {
+        return Ok(None);
+    };
+    let Some(co2) = co2_at(temperature) else {
+        return Ok(None);
+    };
+    let Some(soluble) = catalog
+        .product("carbon-dioxide")
+        .ok()
+        .and_then(|p| solubility_mg_l(p, temperature))
+    else {
+        return Ok(None);
+    };
+    if co2 > soluble {
+        return Err(Error::new(
+            ErrorKind::OutOfRange,
+            format!(
+                "pH {ph} with alkalinity {alkalinity} mg/L as CaCO3 means {} mg/L of free CO2, more than water holds at {temperature} °C under one atmosphere of CO2 ({} mg/L): check the pH meter and the alkalinity",
+                format_sig(co2, 3),
+                format_sig(soluble, 3)
+            ),
+        )
+        .because("water-co2-beyond-solubility")
+        .with("ph", ph)
+        .with("alkalinity", alkalinity)
+        .with("co2", format_sig(co2, 3))
+        .with("solubility", format_sig(soluble, 3))
+        .with("temperature", temperature));
+    }
+    Ok((co2 > HIGH_CO2_FRACTION_OF_SOLUBILITY * soluble).then(|| {
+        Caution::warning("water-co2-high")
+            .with("co2", format_sig(co2, 3))
+            .with("ph", ph)
+            .with("alkalinity", alkalinity)
+    }))
+}
+
 /// Standard Methods 1030 E's acceptance of an analysis by its anion–cation balance, by the
 /// anion sum in meq/L (from memory): up to 3.0, a difference of 0.2 meq/L; above 3.0 up to
 /// 10.0, 2 %; above 10.0, 5 % (the percent as [`water::IonBalance::difference_percent`]).
@@ -236,15 +318,31 @@ const ION_BALANCE_MID_SUM_MEQ_L: f64 = 10.0;
 const ION_BALANCE_MID_SUM_ALLOWED_PERCENT: f64 = 2.0;
 const ION_BALANCE_HIGH_SUM_ALLOWED_PERCENT: f64 = 5.0;
 
-/// Cautions on the analysis a water was read from: a complete major-ion analysis whose
-/// cations and anions do not balance (`water-ion-balance`). A mistyped ion, one written in
+/// Checks and cautions on the readings a water was read from: its pH against its alkalinity
+/// ([`readings_check`], a refusal or `water-co2-high`, as the calculator table's guards
+/// make), and a complete major-ion analysis whose cations and anions do not balance
+/// (`water-ion-balance`). A mistyped ion, one written in
 /// another basis (calcium as Ca in a field that means as CaCO3 is 2.5 times off) or a major
 /// ion left out moves the ionic strength, and with it every pH, index and dose computed from
 /// the water; the numbers are still shown, with the caution beside them.
-pub fn water_cautions(state: &WaterState) -> Vec<Caution> {
-    let Some(balance) = state.ion_balance() else {
-        return Vec::new();
-    };
+pub fn water_cautions(state: &WaterState) -> Result<Vec<Caution>> {
+    let (ph, alkalinity) = state.readings();
+    let mut out: Vec<Caution> = readings_check(
+        super::catalog::Catalog::embedded()?,
+        ph,
+        alkalinity,
+        Some(state.temperature_c()),
+        |_| Some(state.co2_mg_l()),
+    )?
+    .into_iter()
+    .collect();
+    out.extend(ion_balance_caution(state));
+    Ok(out)
+}
+
+/// `water-ion-balance` (see [`water_cautions`]).
+fn ion_balance_caution(state: &WaterState) -> Option<Caution> {
+    let balance = state.ion_balance()?;
     let difference = balance.cations_meq_l - balance.anions_meq_l;
     let percent = balance.difference_percent();
     let (beyond, allowed) = if balance.anions_meq_l <= ION_BALANCE_LOW_SUM_MEQ_L {
@@ -263,16 +361,13 @@ pub fn water_cautions(state: &WaterState) -> Vec<Caution> {
             format!("{ION_BALANCE_HIGH_SUM_ALLOWED_PERCENT} %"),
         )
     };
-    if !beyond {
-        return Vec::new();
-    }
-    vec![
+    beyond.then(|| {
         Caution::warning("water-ion-balance")
             .with("cations", format_sig(balance.cations_meq_l, 3))
             .with("anions", format_sig(balance.anions_meq_l, 3))
             .with("difference", format!("{percent:+.1}"))
-            .with("allowed", allowed),
-    ]
+            .with("allowed", allowed)
+    })
 }
 
 #[cfg(test)]
@@ -300,13 +395,31 @@ mod tests {
     /// (`None`: no caution).
     fn check(input: WaterInput, allowed: Option<&str>) {
         let state = WaterState::new(&input).expect("a valid water");
-        let cautions = water_cautions(&state);
+        let cautions = water_cautions(&state).expect("a water whose readings agree");
         let got = cautions
             .iter()
             .find(|c| c.key == "water-ion-balance")
             .and_then(|c| c.param("allowed"));
         assert_eq!(got, allowed, "{input:?}: {cautions:?}");
         assert!(cautions.iter().all(|c| c.key == "water-ion-balance"));
+    }
+
+    /// The readings' own check, the calculator table's (`readings_check`): a water whose pH
+    /// and alkalinity mean more free CO2 than dissolves under one atmosphere is refused; a
+    /// high but possible CO2 is cautioned. By hand (25 °C, K1 = 10^-6.35, about 1 450 mg/L
+    /// of CO2 under one atmosphere, from memory): alkalinity 100 mg/L as CaCO3 is 2.0 mmol/L
+    /// of HCO3-; at pH 6.0 that carries 2.0 × 10^0.35 = 4.5 mmol/L of CO2, 197 mg/L (above a
+    /// tenth of the solubility); at pH 5.0, 45 mmol/L, 1 970 mg/L (above all of it); at pH 7.5,
+    /// 6 mg/L.
+    #[test]
+    fn readings_that_mean_more_co2_than_water_holds_are_refused() {
+        let at =
+            |ph: f64| water_cautions(&WaterState::new(&WaterInput::new(ph, 25.0, 100.0)).unwrap());
+        let e = at(5.0).unwrap_err();
+        assert_eq!(e.reason(), Some("water-co2-beyond-solubility"), "{e}");
+        let keys: Vec<String> = at(6.0).unwrap().into_iter().map(|c| c.key).collect();
+        assert_eq!(keys, ["water-co2-high"]);
+        assert!(at(7.5).unwrap().is_empty());
     }
 
     #[test]
@@ -370,7 +483,10 @@ mod tests {
         let dosed = state
             .dosed(caustic, 10.0, water::Precipitation::None)
             .unwrap();
-        assert_eq!(water_cautions(&dosed), water_cautions(&state));
-        assert_eq!(water_cautions(&dosed).len(), 1);
+        assert_eq!(
+            water_cautions(&dosed).unwrap(),
+            water_cautions(&state).unwrap()
+        );
+        assert_eq!(water_cautions(&dosed).unwrap().len(), 1);
     }
 }

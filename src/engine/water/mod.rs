@@ -175,6 +175,11 @@ pub struct WaterState {
     basis: IonicStrengthBasis,
     /// Of the analysis the water was read from (a dosed water keeps its source's).
     ion_balance: Option<IonBalance>,
+    /// The pH and alkalinity (mg/L as CaCO3) as read, which the water's own are equal to
+    /// within the solve's 1e-9 (a dosed water keeps its source's).
+    readings: (f64, f64),
+    /// The molar masses its readings were converted with.
+    masses: Masses,
 }
 
 /// The cation and anion sums of a complete major-ion analysis, meq/L: the check of
@@ -322,6 +327,8 @@ impl WaterState {
             sp,
             basis,
             ion_balance,
+            readings: (ph, alk),
+            masses: m,
         })
     }
 
@@ -345,6 +352,11 @@ impl WaterState {
         self.ion_balance
     }
 
+    /// The pH and the alkalinity (mg/L as CaCO3) of the readings the water was read from.
+    pub fn readings(&self) -> (f64, f64) {
+        self.readings
+    }
+
     pub fn temperature_c(&self) -> f64 {
         self.solver.th.t_kelvin - 273.15
     }
@@ -354,8 +366,13 @@ impl WaterState {
         self.solver.alkalinity(&self.sp)
     }
 
+    /// Free (dissolved, molecular) CO2, mg/L as CO2.
+    pub fn co2_mg_l(&self) -> f64 {
+        self.solver.species(&self.sp, "CO2") * 1000.0 * self.masses.co2
+    }
+
     pub fn alkalinity_mg_l_as_caco3(&self) -> f64 {
-        self.alkalinity_eq() * 1000.0 * masses().map_or(100.0869, |m| m.caco3) / 2.0
+        self.alkalinity_eq() * 1000.0 * self.masses.caco3 / 2.0
     }
 
     /// The water's chemistry as a result record.
@@ -500,6 +517,8 @@ impl WaterState {
             sp,
             basis: self.basis,
             ion_balance: self.ion_balance,
+            readings: self.readings,
+            masses: self.masses,
         })
     }
 }
@@ -523,6 +542,8 @@ impl WaterState {
             sp,
             basis: self.basis,
             ion_balance: self.ion_balance,
+            readings: self.readings,
+            masses: self.masses,
         })
     }
 
@@ -591,6 +612,8 @@ impl WaterState {
             sp,
             basis: self.basis,
             ion_balance: self.ion_balance,
+            readings: self.readings,
+            masses: self.masses,
         })
     }
 }

@@ -82,6 +82,8 @@ pub fn softened(
         sp,
         basis: state.basis,
         ion_balance: state.ion_balance,
+        readings: state.readings,
+        masses: state.masses,
     };
     let caco3 = masses()?.caco3;
     let result = Softened {
