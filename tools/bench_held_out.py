@@ -226,6 +226,14 @@ def main():
     # A refusal only counts against molefeed where PHREEQC found an answer.
     refused_solvable = sum(1 for r, ref in zip(answers, reference)
                            if "error" in r and ref is not None)
+    # Since 2026-12-04 (night) the water commands check the pH against the alkalinity as the
+    # calculator table does: readings that mean more free CO2 than dissolves under one
+    # atmosphere are refused on purpose (PHREEQC computes them as given).
+    by_reason = {}
+    for r, ref in zip(answers, reference):
+        if "error" in r and ref is not None:
+            reason = r["error"].get("reason") or r["error"].get("kind")
+            by_reason[reason] = by_reason.get(reason, 0) + 1
     worst = max((abs(r["ph"] - ref) for r, ref in zip(answers, reference)
                  if "ph" in r and ref is not None), default=0)
 
@@ -245,7 +253,9 @@ def main():
     print(f"worst |ΔpH| {worst:.4f}   molefeed errors {errors}   "
           f"chunks whose two answers differ {mismatched}   "
           f"waters PHREEQC could not solve (left out of ΔpH) {unsolved}, "
-          f"of the others molefeed refused {refused_solvable}")
+          f"of the others molefeed refused {refused_solvable}"
+          + (f" ({', '.join(f'{k}: {v}' for k, v in sorted(by_reason.items()))})"
+             if by_reason else ""))
 
 
 if __name__ == "__main__":

@@ -79,6 +79,8 @@ fn water_json(w: &WaterAt) -> Value {
         "hocl_fraction": w.hocl_fraction,
         "aluminium_mg_l": w.aluminium_mg_l,
         "iron_mg_l": w.iron_mg_l,
+        "fluoride_mg_l": w.fluoride_mg_l,
+        "orthophosphate_mg_l_as_po4": w.orthophosphate_mg_l_as_po4,
     })
 }
 

@@ -14,10 +14,11 @@
 //! [`site::effective_limit`]. Free chlorine is what was fed (the model has no chlorine demand)
 //! unless the caller gives the residual measured after a point; a caution says which.
 //!
-//! Phosphate, fluoride and silica are not species of the water engine yet: a product whose
-//! compound the engine lacks is carried along unmodelled with a `water-effect-not-available`
-//! caution (the place to add them is [`Path::of_site`]'s conversion and [`WaterAt`]'s
-//! residuals, checked against the `fluoride` and `orthophosphate` limits in [`finished_checks`]).
+//! Phosphate, fluoride and silica products are fed to the water engine like the others, and
+//! the finished water's fluoride and orthophosphate residuals are checked against the
+//! `fluoride`, `fluoride-secondary` and `orthophosphate` limits in [`finished_checks`]; a
+//! product whose compound the engine lacks is carried along unmodelled with a
+//! `water-effect-not-available` caution.
 
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::caution::{self, Caution};
@@ -249,6 +250,10 @@ pub struct WaterAt {
     /// Dissolved aluminium and iron left after the hydroxide precipitated, mg/L.
     pub aluminium_mg_l: f64,
     pub iron_mg_l: f64,
+    /// Fluoride (every species of it, SiF6-2 and the pairs included), mg/L as F.
+    pub fluoride_mg_l: f64,
+    /// Orthophosphate (every species of it), mg/L as PO4.
+    pub orthophosphate_mg_l_as_po4: f64,
     /// Ranges the readings' precision allows ([`run_with_ranges`]); same units.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub ph_range: Option<Range>,
@@ -307,10 +312,10 @@ pub struct PathResult {
 /// mg/L of `formula` (one of [`MASSES`]) in `mmol_l`, its molar mass computed from the
 /// formula once.
 fn mg_l(mmol_l: f64, formula: &str) -> Result<f64> {
-    static TABLE: std::sync::OnceLock<Result<[f64; 4]>> = std::sync::OnceLock::new();
+    static TABLE: std::sync::OnceLock<Result<[f64; MASSES.len()]>> = std::sync::OnceLock::new();
     let table = TABLE
         .get_or_init(|| {
-            let mut m = [0.0; 4];
+            let mut m = [0.0; MASSES.len()];
             for (slot, f) in m.iter_mut().zip(MASSES) {
                 *slot = water::chemicals::molar_mass(f)?;
             }
@@ -327,7 +332,7 @@ fn mg_l(mmol_l: f64, formula: &str) -> Result<f64> {
 }
 
 /// The formulas the path reports concentrations as.
-const MASSES: [&str; 4] = ["CaCO3", "Cl2", "Al", "Fe"];
+const MASSES: [&str; 6] = ["CaCO3", "Cl2", "Al", "Fe", "F", "PO4"];
 
 /// What the path shows of a water; a headline-only run (`with_stability` false) reads pH,
 /// alkalinity and totals off the state and skips the species list and the indices.
@@ -346,6 +351,8 @@ fn water_at(state: &WaterState, with_stability: bool) -> Result<WaterAt> {
             hocl_fraction: None,
             aluminium_mg_l: mg_l(state.total_mmol_l(Component::Al), "Al")?,
             iron_mg_l: mg_l(state.total_mmol_l(Component::Fe), "Fe")?,
+            fluoride_mg_l: mg_l(state.total_mmol_l(Component::F), "F")?,
+            orthophosphate_mg_l_as_po4: mg_l(state.total_mmol_l(Component::PO4), "PO4")?,
             ph_range: None,
             alkalinity_range: None,
         });
@@ -368,6 +375,8 @@ fn water_at(state: &WaterState, with_stability: bool) -> Result<WaterAt> {
         hocl_fraction: r.hocl_fraction,
         aluminium_mg_l: mg_l(state.total_mmol_l(Component::Al), "Al")?,
         iron_mg_l: mg_l(state.total_mmol_l(Component::Fe), "Fe")?,
+        fluoride_mg_l: mg_l(state.total_mmol_l(Component::F), "F")?,
+        orthophosphate_mg_l_as_po4: mg_l(state.total_mmol_l(Component::PO4), "PO4")?,
         ph_range: None,
         alkalinity_range: None,
     })
@@ -525,8 +534,8 @@ fn basin_credit(
 
 /// The finished water's parameters a plant may limit, with their values and units: the pH
 /// range, free chlorine, aluminium and iron left, and the corrosion-control targets
-/// (alkalinity, calcium, DIC, Langelier index, CCPP). Fluoride and orthophosphate residuals
-/// join here once the water engine has those species.
+/// (alkalinity, calcium, DIC, Langelier index, CCPP), and the fluoride (against the
+/// enforceable maximum and the secondary standard) and orthophosphate residuals.
 fn finished_values(w: &WaterAt) -> Vec<(&'static str, Option<f64>, &'static str)> {
     vec![
         ("ph", Some(w.ph), ""),
@@ -546,6 +555,13 @@ fn finished_values(w: &WaterAt) -> Vec<(&'static str, Option<f64>, &'static str)
         ("dic", Some(w.dic_mmol_l), "mmol/L"),
         ("langelier-index", w.langelier_index, ""),
         ("ccpp", w.ccpp_mg_l_as_caco3, "mg/L as CaCO3"),
+        ("fluoride", Some(w.fluoride_mg_l), "mg/L as F"),
+        ("fluoride-secondary", Some(w.fluoride_mg_l), "mg/L as F"),
+        (
+            "orthophosphate",
+            Some(w.orthophosphate_mg_l_as_po4),
+            "mg/L as PO4",
+        ),
     ]
 }
 

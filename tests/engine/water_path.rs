@@ -460,3 +460,37 @@ fn the_raw_waters_analysis_is_cautioned_when_it_does_not_balance() {
         "the path's other cautions are unchanged"
     );
 }
+
+/// The finished water's fluoride and orthophosphate residuals are the path's, checked against
+/// the limits. By hand: 3 mg/L of H2SiF6 (144.09 g/mol, six F of 19.00) carries
+/// 3 × 114.0 / 144.09 = 2.373 mg/L of F, above the secondary standard of 2.0 and below the
+/// enforceable 4.0 (the regulatory defaults); 2 mg/L of H3PO4 (97.99 g/mol) is
+/// 2 × 94.97 / 97.99 = 1.938 mg/L as PO4.
+#[test]
+fn the_finished_fluoride_and_orthophosphate_are_held_to_the_limits() {
+    let catalog = Catalog::embedded().unwrap();
+    let path = Path::of_steps(&[
+        (catalog.find("fluorosilicic-acid").unwrap(), 3.0),
+        (catalog.find("phosphoric-acid").unwrap(), 2.0),
+    ]);
+    let raw =
+        WaterState::new(&WaterInput::new(7.4, 12.0, 55.0).with_calcium_as_caco3(60.0)).unwrap();
+    let r = path::run(&raw, &path, &Settings::default()).unwrap();
+    assert!(
+        (r.finished.fluoride_mg_l - 2.373).abs() < 1e-3,
+        "{}",
+        r.finished.fluoride_mg_l
+    );
+    assert!(
+        (r.finished.orthophosphate_mg_l_as_po4 - 1.938).abs() < 1e-3,
+        "{}",
+        r.finished.orthophosphate_mg_l_as_po4
+    );
+    let above: Vec<&str> = r
+        .cautions
+        .iter()
+        .filter(|c| c.key == "site-limit-finished-above")
+        .filter_map(|c| c.param("parameter"))
+        .collect();
+    assert_eq!(above, ["fluoride-secondary"]);
+}
