@@ -112,7 +112,7 @@ impl CalcMode {
 
 /// What the UI asks the engine: the calculator, its variant, and every input in SI units,
 /// keyed by the field names of [`super::calc::fields`] (`flow` in m³/d, `temperature` in °C,
-/// concentrations in mg/L, `strength` as a fraction 0–1, ...).
+/// concentrations in mg/L, `strength` in %, ...).
 #[derive(Clone, Debug, PartialEq)]
 pub struct CalcRequest {
     pub kind: CalcKind,

@@ -2,9 +2,11 @@
 //!
 //! Balancing is linear algebra: one row per element plus one for charge, one column per
 //! species (products negated), and the balanced coefficients span the matrix's null space.
-//! We reduce the matrix to row echelon form over exact rationals (`Ratio<i128>` in a nalgebra
-//! `DMatrix`) with checked arithmetic, so there is no rounding, no tolerance to tune, and an
-//! overflow is an error rather than a wrong answer. The null space's dimension tells the story:
+//! We reduce the matrix to row echelon form fraction-free, in whole numbers (a nalgebra
+//! `DMatrix<i128>`, each row divided by its content), with checked arithmetic, and read the
+//! null space as exact rationals (`Ratio<i128>`), so there is no rounding, no tolerance to tune,
+//! and an overflow is an error rather than a wrong answer; the balancing found is checked once
+//! more against the atoms and charges. The null space's dimension tells the story:
 //! 0 means impossible, 1 means a unique balancing, more means the equation is ambiguous.
 //!
 //! Coefficients are exact counts; they never limit significant figures downstream.

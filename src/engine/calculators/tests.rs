@@ -1,3 +1,6 @@
+//! The calculator table's own cases, each built with one small `request` helper: every
+//! calculator through `Calculators::compute`, its expected values worked beside it.
+
 use super::*;
 use crate::engine::dosing::site::regulatory_defaults;
 

@@ -7,7 +7,7 @@
 //! operator constants (8.34, 7.6:1, 1.47 ...) are *results* that tests compare with the
 //! published numbers, never inputs. Equilibrium (pH after a dose) belongs to the
 //! water-chemistry engine; [`waterside`] connects the calculators to it when the operator gives
-//! the water (softening is still a seam, marked `SEAM(water)`).
+//! the water (softening's softened water comes from `engine::water::softening`).
 
 pub mod catalog;
 pub mod caution;

@@ -533,7 +533,6 @@ impl SiteProfile {
         precisions_from_codes(&self.instrument_precision)
     }
 
-    /// The embedded demo plant.
     /// The bands of the fed-dose cross-check: the site's own tolerance where it gives one,
     /// with the pump check's "check the pump" band kept at least as wide; else the pump
     /// check's defaults (common practice).
@@ -548,6 +547,7 @@ impl SiteProfile {
         }
     }
 
+    /// The embedded demo plant.
     pub fn demo(catalog: &Catalog) -> Result<SiteProfile> {
         SiteProfile::from_json(DEMO_SITE_JSON, catalog)
     }

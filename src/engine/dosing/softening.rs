@@ -7,9 +7,9 @@
 //!   CaO = (CO2·56/44 + Alk·56/100 + Mg·56/24.3 + excess) ÷ purity; Na2CO3 = NCH·106/100.
 //! Design: each of those factors is derived here from a balanced softening reaction and molar
 //! masses (tests compare them with the published fractions), and each term has its own trace.
-//! SEAM(water): the softened water's pH and LSI need calcite and Mg(OH)2 precipitation, which
-//! the water engine does not model yet (it precipitates only Al and Fe hydroxides), so this
-//! calculator gives doses only.
+//! The softened water itself (its pH and hardness after calcite and brucite precipitate) is
+//! the water engine's (`engine::water::softening`), which the table's softening calculator
+//! calls beside these doses.
 
 use super::NamedTrace;
 use super::catalog::{Catalog, molar_mass};
