@@ -245,12 +245,27 @@ fn unit_of(
         ([only], _) => Ok(*only),
         (_, Some(system)) => Ok(input.quantity.unit(system)),
         _ => Err(CliError::usage(format!(
-            "--{} needs its unit: --{}-unit {} (or --units si|us)",
+            "--{} needs its unit: --{} {} (or --units si|us)",
             input.name,
-            input.name,
+            input
+                .unit_flag
+                .map_or_else(|| format!("{}-unit", input.name), str::to_string),
             unit_names(input.quantity).join("|")
         ))),
     }
+}
+
+/// The system an input without its own unit flag is read in. A system only implied by another
+/// input's unit does not reach a temperature or a pump's capacity: plants that meter flow in
+/// MGD often read temperature in °C, and metering pumps are rated in L/h as often as in gal/h,
+/// so neither scale follows from the flow meter's (a 12 taken as °F, or 8 L/h taken as gal/h,
+/// gave answers off by the whole difference). Those are refused without their unit.
+fn implied_for(input: &Input, system: Option<UnitSystem>, implied: bool) -> Option<UnitSystem> {
+    let own_scale = matches!(
+        input.quantity,
+        Quantity::Temperature | Quantity::VolumePerHour
+    );
+    if implied && own_scale { None } else { system }
 }
 
 /// The value of whichever of `flags` was given (the table's name and the trade's other
@@ -447,7 +462,9 @@ fn request(
     }
     let inputs = c.inputs(calc, request.product.as_deref());
     // Without --units, the system the unit flags (or the site tank's unit) name sets the
-    // rest: --length-unit ft gives a use rate in gal/d.
+    // rest: --length-unit ft gives a use rate in gal/d. Not a thermometer's scale or a pump's
+    // nameplate (`implied_for`).
+    let implied = system.is_none();
     let system = match system {
         Some(s) => Some(s),
         None => system_of_flags(args, &inputs)?.or(defaults.first().and_then(|u| u.system())),
@@ -488,7 +505,12 @@ fn request(
             reason: Some("not-a-number"),
         };
         let value = Measured::parse(reading).map_err(|_| not_a_number(text))?;
-        let unit = unit_of(args, &input, system, &defaults)?;
+        let unit = unit_of(
+            args,
+            &input,
+            implied_for(&input, system, implied),
+            &defaults,
+        )?;
         request.values.insert(input.name, unit.to_si(value.value));
         if let Some(t) = tolerance {
             let t = Measured::parse(t)

@@ -498,31 +498,45 @@ fn two_targets_takes_a_list_of_chemicals_and_gives_both_doses() {
     }
 }
 
-/// A number typed without its unit is read in the request's unit system, and another unit
-/// flag can name that system: with `--flow-unit mgd` a pump capacity of 8 is 8 gal/h, and a
-/// temperature is in °F where `--units us` is given. The printout says so on its "read as"
-/// line, before any result that follows from it. By hand: 2.4 MGD × 2.5 mg/L × 8.3454 =
+/// A number typed without its unit is read in the request's unit system (`--units`, the
+/// site's, or one another unit flag implies), and the printout says so on its "read as" line,
+/// before any result that follows from it. A system only implied by the flow's unit does not
+/// reach a pump's nameplate or a thermometer: `--flow-unit mgd` with a pump capacity or a
+/// temperature and no unit of its own is refused. By hand: 2.4 MGD × 2.5 mg/L × 8.3454 =
 /// 50.1 lb/d of Cl2, 182 L/d of 12.5 % trade product = 7.57 L/h, 25 % of 8 gal/h (30.28 L/h).
 #[test]
 fn the_printout_says_how_each_input_was_read() {
-    let (code, _, out) = run(&[
-        "calc",
-        "feed",
-        "--product",
-        "sodium-hypochlorite",
-        "--flow",
-        "2.4",
-        "--flow-unit",
-        "mgd",
-        "--dose",
-        "2.5",
-        "--strength",
-        "12.5",
-        "--specific-gravity",
-        "1.165",
-        "--pump-capacity",
-        "8",
-    ]);
+    let feed = |more: &[&str]| {
+        let mut args = vec![
+            "calc",
+            "feed",
+            "--product",
+            "sodium-hypochlorite",
+            "--flow",
+            "2.4",
+            "--flow-unit",
+            "mgd",
+            "--dose",
+            "2.5",
+            "--strength",
+            "12.5",
+            "--specific-gravity",
+            "1.165",
+            "--pump-capacity",
+            "8",
+        ];
+        args.extend_from_slice(more);
+        run(&args)
+    };
+    let (code, json, out) = feed(&["--json"]);
+    assert_eq!(code, 2, "{out}");
+    assert!(
+        json["error"]["message"]
+            .as_str()
+            .is_some_and(|m| m.contains("--pump-capacity needs its unit: --pump-unit")),
+        "{out}"
+    );
+    let (code, _, out) = feed(&["--pump-unit", "gal-per-hour"]);
     assert_eq!(code, 0, "{out}");
     let read = out.lines().nth(1).unwrap_or_default();
     assert!(
@@ -531,26 +545,37 @@ fn the_printout_says_how_each_input_was_read() {
     );
     assert!(read.ends_with("pump-capacity 8 gal/h"), "{out}");
     assert!(out.contains("pump_setting                 25.0"), "{out}");
-    let (code, _, out) = run(&[
-        "calc",
-        "ct",
-        "--residual",
-        "1.1",
-        "--ph",
-        "7.6",
-        "--temperature",
-        "38",
-        "--t10",
-        "38",
-        "--units",
-        "us",
-    ]);
+    let ct = |more: &[&str]| {
+        let mut args = vec![
+            "calc",
+            "ct",
+            "--residual",
+            "1.1",
+            "--ph",
+            "7.6",
+            "--temperature",
+            "38",
+            "--t10",
+            "38",
+        ];
+        args.extend_from_slice(more);
+        run(&args)
+    };
+    let (code, _, out) = ct(&["--units", "us"]);
     assert_eq!(code, 0, "{out}");
     assert!(
         out.lines()
             .next()
             .is_some_and(|l| l
                 == "read as: residual 1.1 mg/L as Cl2, ph 7.60, temperature 38 °F, t10 38 min"),
+        "{out}"
+    );
+    let (code, json, out) = ct(&["--flow", "2", "--flow-unit", "mgd", "--json"]);
+    assert_eq!(code, 2, "{out}");
+    assert!(
+        json["error"]["message"]
+            .as_str()
+            .is_some_and(|m| m.contains("--temperature needs its unit")),
         "{out}"
     );
 }
