@@ -261,11 +261,19 @@ fn unit_of(
 /// so neither scale follows from the flow meter's (a 12 taken as °F, or 8 L/h taken as gal/h,
 /// gave answers off by the whole difference). Those are refused without their unit.
 fn implied_for(input: &Input, system: Option<UnitSystem>, implied: bool) -> Option<UnitSystem> {
-    let own_scale = matches!(
+    if implied && own_scale(input) {
+        None
+    } else {
+        system
+    }
+}
+
+/// An input whose unit is its instrument's own, neither implied by nor implying the others'.
+fn own_scale(input: &Input) -> bool {
+    matches!(
         input.quantity,
         Quantity::Temperature | Quantity::VolumePerHour
-    );
-    if implied && own_scale { None } else { system }
+    )
 }
 
 /// The value of whichever of `flags` was given (the table's name and the trade's other
@@ -286,9 +294,11 @@ fn one_of<'a>(args: &'a Args, flags: &[&str]) -> Result<Option<(String, &'a str)
 }
 
 /// The one unit system the unit flags given name (`--length-unit ft`: US), if they name one.
+/// A temperature's or a pump's unit names none ([`own_scale`]): °C is read at plants that
+/// meter in MGD, and a pump rated in L/h says nothing of the flow meter.
 fn system_of_flags(args: &Args, inputs: &[Input]) -> Result<Option<UnitSystem>, CliError> {
     let mut found = None;
-    for input in inputs {
+    for input in inputs.iter().filter(|i| !own_scale(i)) {
         for flag in [
             format!("{}-unit", input.name),
             format!("{}-unit", input.quantity.code()),
@@ -567,7 +577,11 @@ fn read_as(outcome: &Outcome, system: UnitSystem) -> String {
                 Some(f) => shown(value, i.quantity, u32::from(f)),
                 None => plain(value),
             };
-            let unit = unit_text(unit, i.basis);
+            // A strength says its basis as the help does ("12.5 % trade", "8.3 % as Al2O3").
+            let unit = match i.basis.map(calculators::basis_text) {
+                Some(text) if unit.symbol() == "%" && text.starts_with('%') => text,
+                _ => unit_text(unit, i.basis),
+            };
             // A pH says its own unit ("ph 7.60").
             if unit.is_empty() || unit == "pH" {
                 format!("{} {value}", i.name)

@@ -593,3 +593,22 @@ fn the_help_names_each_products_strength_basis() {
         assert!(out.contains(product), "{product}: {out}");
     }
 }
+
+/// A thermometer's unit names no unit system: `--temperature-unit celsius` beside
+/// `--flow-unit mgd` leaves the printout in the flow's (US) units, where it once turned it to
+/// SI. Its strength reads on the product's basis, as the help names it.
+#[test]
+fn a_temperature_unit_does_not_choose_the_units_of_the_rest() {
+    let (code, _, out) = run(&words(
+        "calc coagulation --product alum-liquid --flow 2 --flow-unit mgd --jar-dose 30 \
+         --alkalinity 80 --alkalinity-setpoint 30 --ph 7.4 --temperature 15 \
+         --temperature-unit celsius --strength 8.3 --sg 1.33",
+    ));
+    assert_eq!(code, 0, "{out}");
+    assert!(out.contains("strength 8.3 % as Al2O3"), "{out}");
+    assert!(
+        out.lines()
+            .any(|l| l.starts_with("feed_mass_rate") && l.contains("lb/d")),
+        "{out}"
+    );
+}
