@@ -471,6 +471,36 @@ fn pump_check_verdicts() {
         );
         assert!((r.actual_dose_mg_l - 3.0 * factor).abs() < 1e-9);
     }
+    // The setting suggested from the one during the test, by proportion: none where the pump
+    // must be checked first; held to the 10–90 % band a metering pump is accurate in.
+    let at = |factor: f64, setting: f64| {
+        let input = PumpCheckInput {
+            current_setting_percent: Some(setting),
+            ..pump_input(2.5, good, need_ml_per_min * factor)
+        };
+        pumpcheck::pump_check(&c, &input).unwrap()
+    };
+    let keys = |r: &pumpcheck::PumpCheckResult| -> Vec<String> {
+        r.cautions.iter().map(|c| c.key.clone()).collect()
+    };
+    let r = at(0.5, 40.0);
+    assert_eq!(r.suggested_setting_percent, None, "check the pump first");
+    assert!(keys(&r).contains(&"pump-check-inspect".to_string()));
+    // 85 % delivering 90 %: 85 / 0.9 = 94.4 %, above the 90 % band.
+    let r = at(0.9, 85.0);
+    assert!((r.suggested_setting_percent.unwrap() - 85.0 / 0.9).abs() < 1e-9);
+    assert!(
+        keys(&r).contains(&"pump-above-usable-range".to_string()),
+        "{:?}",
+        keys(&r)
+    );
+    // 12 % delivering 90 %: 13.3 %, inside it.
+    let r = at(0.9, 12.0);
+    assert!(
+        !keys(&r).iter().any(|k| k.contains("usable-range")),
+        "{:?}",
+        keys(&r)
+    );
     // Tank drop: a 4 ft vertical cylinder dropping 1 in over 60 min.
     let tank = PumpCheckInput {
         measurement: Measurement::TankDrop {

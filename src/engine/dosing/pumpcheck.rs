@@ -13,7 +13,7 @@
 use super::NamedTrace;
 use super::catalog::{Catalog, Strength, active_to_product, resolve_sg};
 use super::caution::{Caution, finish};
-use super::feed::product_cautions;
+use super::feed::{UsableRange, product_cautions};
 use super::units::{Flow, LengthUnit};
 use crate::engine::sigfig::{Measured, combine};
 use crate::engine::trace::{Origin, Quantity, Trace};
@@ -319,7 +319,12 @@ pub fn pump_check(catalog: &Catalog, input: &PumpCheckInput) -> Result<PumpCheck
         Verdict::CheckPump
     };
     let factor = target / actual;
-    let suggested = input.current_setting_percent.map(|s| s * factor);
+    // A deviation this large is a fault to find (air lock, valves, tubing, strength) before
+    // any adjustment: no new setting is suggested beside "check the pump".
+    let suggested = input
+        .current_setting_percent
+        .filter(|_| verdict != Verdict::CheckPump)
+        .map(|s| s * factor);
     let mut cautions = product_cautions(p);
     cautions.extend(sg_note);
     match verdict {
@@ -334,10 +339,24 @@ pub fn pump_check(catalog: &Catalog, input: &PumpCheckInput) -> Result<PumpCheck
                 .with("deviation_percent", format!("{deviation:.1}")),
         ),
     }
-    if let Some(s) = suggested
-        && s > 100.0
-    {
-        cautions.push(Caution::danger("pump-over-capacity").with("percent", format!("{s:.0}")));
+    // The suggested setting is held to the band a metering pump is accurate in, as a feed's
+    // setting is (`feed::pump_setting`).
+    let range = UsableRange::default();
+    match suggested {
+        Some(s) if s > 100.0 => {
+            cautions.push(Caution::danger("pump-over-capacity").with("percent", format!("{s:.0}")))
+        }
+        Some(s) if s > range.max => cautions.push(
+            Caution::warning("pump-above-usable-range")
+                .with("percent", format!("{s:.1}"))
+                .with("max", range.max),
+        ),
+        Some(s) if s < range.min => cautions.push(
+            Caution::warning("pump-below-usable-range")
+                .with("percent", format!("{s:.2}"))
+                .with("min", range.min),
+        ),
+        _ => {}
     }
     Ok(PumpCheckResult {
         product_l_per_day: product_l,
