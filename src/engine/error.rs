@@ -163,7 +163,10 @@ pub fn check_range(name: &'static str, value: f64, min: f64, max: f64, unit: &st
     if value < min || value > max {
         return Err(Error::new(
             ErrorKind::OutOfRange,
-            format!("{name} {value} {unit} is outside {min}–{max} {unit}"),
+            format!(
+                "{name} {} {unit} is outside {min}–{max} {unit}",
+                six_figures(value)
+            ),
         )
         .with("quantity", name)
         .with("value", value)
@@ -172,6 +175,23 @@ pub fn check_range(name: &'static str, value: f64, min: f64, max: f64, unit: &st
         .with("unit", unit));
     }
     Ok(value)
+}
+
+/// A value as a refusal's sentence shows it: to six significant figures, so a reading
+/// converted to SI reads as typed (6 ft is "1.8288 m", not "1.8288000000000002 m"). The
+/// refusal's `value` parameter keeps every digit.
+fn six_figures(value: f64) -> String {
+    let rounded = format!("{value:.5e}");
+    let magnitude = value.abs();
+    if magnitude != 0.0 && !(1e-4..1e9).contains(&magnitude) {
+        // Far from any reading: as a power of ten ("1e300", not three hundred digits).
+        let (mantissa, exponent) = rounded.split_once('e').unwrap_or((&rounded, "0"));
+        let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
+        return format!("{mantissa}e{exponent}");
+    }
+    rounded
+        .parse::<f64>()
+        .map_or_else(|_| value.to_string(), |v| v.to_string())
 }
 
 /// Rejects NaN, infinities, zero and negative values, naming the quantity.
@@ -194,4 +214,32 @@ pub fn check_positive(name: &'static str, value: f64, unit: &str) -> Result<f64>
         .with("unit", unit));
     }
     Ok(value)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The one helper: a refusal's sentence for `value` outside 0–50 °C.
+    fn check(value: f64, shown: &str) {
+        let e = check_range("temperature", value, 0.0, 50.0, "°C").unwrap_err();
+        assert_eq!(
+            e.message(),
+            format!("temperature {shown} °C is outside 0–50 °C"),
+            "{value}"
+        );
+        // The parameter keeps every digit.
+        assert_eq!(e.param("value"), Some(value.to_string().as_str()));
+    }
+
+    #[test]
+    fn a_refusal_shows_the_value_to_six_figures() {
+        // 12 °F typed, read as (12 − 32) × 5/9 °C.
+        check((12.0 - 32.0) * 5.0 / 9.0, "-11.1111");
+        check(60.0, "60");
+        check(50.000001, "50");
+        check(1e300, "1e300");
+        check(-1e-300, "-1e-300");
+        check(123456789.0, "123457000");
+    }
 }
