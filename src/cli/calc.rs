@@ -164,10 +164,13 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
             "  --{:<22} {}{}{}\n",
             name,
             unit,
-            i.basis.map_or(String::new(), |b| format!(
-                ", {}",
-                calculators::basis_text(b)
-            )),
+            // A unit that names its basis already ("mg/L as CaCO3") is not followed by it again.
+            i.basis
+                .filter(|b| !i.quantity.si().symbol().ends_with(b))
+                .map_or(String::new(), |b| format!(
+                    ", {}",
+                    calculators::basis_text(b)
+                )),
             if i.optional {
                 " (optional)".to_string()
             } else if !i.only_for.is_empty() {
@@ -188,15 +191,17 @@ pub fn help(calc: &Calculator) -> Result<String, CliError> {
         "results: {}\n",
         calc.results
             .iter()
-            .map(|r| match r.basis {
-                Some(b) => format!(
-                    "{} ({} {})",
-                    r.id,
-                    r.quantity.si().symbol(),
-                    calculators::basis_text(b)
-                ),
-                None => format!("{} ({})", r.id, r.quantity.si().symbol()),
-            })
+            .map(
+                |r| match r.basis.filter(|b| !r.quantity.si().symbol().ends_with(b)) {
+                    Some(b) => format!(
+                        "{} ({} {})",
+                        r.id,
+                        r.quantity.si().symbol(),
+                        calculators::basis_text(b)
+                    ),
+                    None => format!("{} ({})", r.id, r.quantity.si().symbol()),
+                }
+            )
             .collect::<Vec<_>>()
             .join(", ")
     ));

@@ -70,10 +70,18 @@ impl Caution {
 /// so a small screen shows the dangerous ones above the fold.
 pub fn finish(mut cautions: Vec<Caution>) -> Vec<Caution> {
     cautions.retain(|c| c.key != "advisory-operator-decides");
+    // Said once: the same caution raised twice (by a product's hazards and by the process, one
+    // naming the product and one not) keeps the copy that says more.
+    let within = |a: &Caution, b: &Caution| a.params.iter().all(|p| b.params.contains(p));
     let mut seen: Vec<Caution> = Vec::new();
     for c in cautions {
-        if !seen.contains(&c) {
-            seen.push(c);
+        let same = seen.iter().position(|s| {
+            s.key == c.key && s.severity == c.severity && (within(s, &c) || within(&c, s))
+        });
+        match same {
+            Some(i) if c.params.len() > seen[i].params.len() => seen[i] = c,
+            Some(_) => {}
+            None => seen.push(c),
         }
     }
     // Stable: within a topic and a severity, the calculation's own order stays.
@@ -134,6 +142,18 @@ mod tests {
 
     /// A permit breach comes before the handling boxes that every hypochlorite result carries,
     /// even though those are more severe; the advisory is last.
+    #[test]
+    fn a_caution_raised_twice_is_said_once_with_what_it_names() {
+        let bare = Caution::danger("incompatible-ammonia-chloramine-gas");
+        let named = bare.clone().with("product", "aqua-ammonia");
+        let out = finish(vec![bare.clone(), named.clone(), bare.clone()]);
+        assert_eq!(out, vec![named.clone(), Caution::advisory()]);
+        // Two that name different things are both said.
+        let other = bare.with("product", "ammonium-sulfate");
+        let out = finish(vec![named.clone(), other.clone()]);
+        assert_eq!(out, vec![named, other, Caution::advisory()]);
+    }
+
     #[test]
     fn cautions_come_in_the_order_the_operator_acts_on_them() {
         let keys =

@@ -374,7 +374,10 @@ pub fn feed(catalog: &Catalog, input: &FeedInput) -> Result<FeedResult> {
         if product_mg_l > mul {
             cautions.push(
                 Caution::danger("dose-above-max-use-level")
-                    .with("product_mg_l", format!("{product_mg_l:.3}"))
+                    .with(
+                        "product_mg_l",
+                        crate::engine::sigfig::format_sig(product_mg_l, 3),
+                    )
                     .with("max_use_level_mg_l", mul),
             );
         }
