@@ -136,6 +136,11 @@ pub struct Henry {
     /// d ln Hcp / d(1/T), K.
     pub d_ln_hcp_d_inv_t_k: f64,
     pub source: String,
+    /// The gas's molar mass, g/mol, from its formula when the catalog is loaded (every water
+    /// command checks its CO2 against this solubility; parsing the formula each time cost
+    /// more than the check).
+    #[serde(skip)]
+    pub molar_mass: Option<f64>,
 }
 
 /// One standard atmosphere, Pa (exact by definition).
@@ -394,8 +399,15 @@ impl Catalog {
         let mut all = reactions("data/dosing-reactions.json", REACTIONS_JSON)?;
         all.extend(reactions("data/reactions.json", CORE_REACTIONS_JSON)?);
         let balanced = all.iter().map(|_| OnceLock::new()).collect();
+        let mut products = products.products;
+        for p in &mut products {
+            let compound = p.compound.clone();
+            if let Some(h) = p.henry.as_mut() {
+                h.molar_mass = Some(molar_mass(&compound)?.0);
+            }
+        }
         Ok(Catalog {
-            products: products.products,
+            products,
             reactions: all,
             balanced,
         })

@@ -241,8 +241,12 @@ const HIGH_CO2_FRACTION_OF_SOLUBILITY: f64 = 0.1;
 /// mg/L of `compound` that dissolves at `temperature_c` under one atmosphere of it, from the
 /// catalog gas's Henry's law constant; `None` for a product without one.
 pub fn solubility_mg_l(p: &super::catalog::Product, temperature_c: f64) -> Option<f64> {
-    let (m, _) = super::catalog::molar_mass(&p.compound).ok()?;
-    Some(p.henry.as_ref()?.solubility_mg_l_at_1_atm(m, temperature_c))
+    let henry = p.henry.as_ref()?;
+    let m = match henry.molar_mass {
+        Some(m) => m,
+        None => super::catalog::molar_mass(&p.compound).ok()?.0,
+    };
+    Some(henry.solubility_mg_l_at_1_atm(m, temperature_c))
 }
 
 /// The water's pH and alkalinity against each other, the one check the calculator table's
