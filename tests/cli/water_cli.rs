@@ -351,6 +351,19 @@ fn fields_keeps_only_the_keys_asked_for_and_always_the_advisory() {
     assert!(e.message.contains("--json"), "{}", e.message);
 }
 
+/// Every water command, with the flags of a dose it can compute (the water is added).
+const EVERY_WATER_COMMAND: [(&str, &str); 6] = [
+    ("ph-after", "--chemical lime --dose 10"),
+    ("dose-for-ph", "--chemical caustic --target-ph 8.5"),
+    ("stability", ""),
+    ("curve", "--chemical caustic --max-dose 20 --points 5"),
+    ("coagulant", "--chemical alum --dose 30"),
+    (
+        "neutralize",
+        "--chemical caustic --target-ph 8.5 --purity 50",
+    ),
+];
+
 /// A complete analysis whose cations and anions do not balance (Standard Methods 1030 E) is
 /// cautioned by every water command, ahead of the advisory; a balanced one is not. The
 /// unbalanced analysis is the balanced one with its calcium typed as the ion (40 mg/L of Ca
@@ -374,17 +387,7 @@ fn every_water_command_cautions_an_analysis_that_does_not_balance() {
             .map(|c| c["key"].as_str().unwrap().to_string())
             .collect()
     };
-    for (command, flags) in [
-        ("ph-after", "--chemical lime --dose 10"),
-        ("dose-for-ph", "--chemical caustic --target-ph 8.5"),
-        ("stability", ""),
-        ("curve", "--chemical caustic --max-dose 20 --points 5"),
-        ("coagulant", "--chemical alum --dose 30"),
-        (
-            "neutralize",
-            "--chemical caustic --target-ph 8.5 --purity 50",
-        ),
-    ] {
+    for (command, flags) in EVERY_WATER_COMMAND {
         assert_eq!(
             keys(command, flags, balanced),
             ["advisory-operator-decides"],
@@ -405,17 +408,6 @@ fn every_water_command_cautions_an_analysis_that_does_not_balance() {
 /// cautioned. The CO2 by hand is in `waterside`'s test of the same readings.
 #[test]
 fn every_water_command_checks_the_ph_against_the_alkalinity() {
-    let commands = [
-        ("ph-after", "--chemical caustic --dose 9"),
-        ("dose-for-ph", "--chemical caustic --target-ph 8.5"),
-        ("stability", ""),
-        ("curve", "--chemical caustic --max-dose 20 --points 5"),
-        ("coagulant", "--chemical alum --dose 30"),
-        (
-            "neutralize",
-            "--chemical caustic --target-ph 8.5 --purity 50",
-        ),
-    ];
     let dispatched = |command: &str, flags: &str, water: &str| {
         let words: Vec<String> = format!("{flags} {water} --json")
             .split_whitespace()
@@ -423,7 +415,7 @@ fn every_water_command_checks_the_ph_against_the_alkalinity() {
             .collect();
         dispatch(command, &Args::parse(&words).unwrap())
     };
-    for (command, flags) in commands {
+    for (command, flags) in EVERY_WATER_COMMAND {
         for water in [
             "--ph 3.0 --temperature 11 --alkalinity 0",
             "--ph 5.0 --temperature 25 --alkalinity 100",
