@@ -859,6 +859,7 @@ path-negative = Cannot be negative.
 path-water = pH { $ph } · alkalinity { $alkalinity } mg/L as CaCO₃
 path-water-lsi = pH { $ph } · alkalinity { $alkalinity } mg/L as CaCO₃ · LSI { $lsi }
 path-basin-ct = Basin { $basin }: CT { $ct } mg·min/L against { $required } required for 3-log Giardia; { $log } log credited
+path-basin-ct-as-fed = Basin { $basin }: CT { $ct } mg·min/L against { $required } required for 3-log Giardia; at most { $log } log with the chlorine fed (the credit needs the residual measured leaving the basin)
 path-finished = Finished water
 path-open = Open its calculator with the water arriving here
 path-plot = pH (solid line) and alkalinity (thin line) from the raw water to the finished water

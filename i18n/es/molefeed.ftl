@@ -859,6 +859,7 @@ path-negative = No puede ser negativo.
 path-water = pH { $ph } · alcalinidad { $alkalinity } mg/L como CaCO₃
 path-water-lsi = pH { $ph } · alcalinidad { $alkalinity } mg/L como CaCO₃ · LSI { $lsi }
 path-basin-ct = Tanque { $basin }: CT { $ct } mg·min/L frente a { $required } requeridos para 3 log de Giardia; { $log } log acreditados
+path-basin-ct-as-fed = Tanque { $basin }: CT { $ct } mg·min/L frente a { $required } requeridos para 3 log de Giardia; como mucho { $log } log con el cloro dosificado (el crédito requiere el residual medido a la salida del tanque)
 path-finished = Agua tratada
 path-open = Abrir su calculadora con el agua que llega aquí
 path-plot = pH (línea gruesa) y alcalinidad (línea fina) del agua cruda al agua tratada

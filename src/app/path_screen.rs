@@ -424,10 +424,12 @@ impl PathScreen {
                         .delivered(&s.label)
                         .map(|d| words.name(&format!("product-{}", d.product)))
                         .unwrap_or_else(|_| s.label.clone());
+                    // With its basis: hypochlorite's dose here is as NaOCl, where the site's
+                    // (and a chlorine calculator's) is as Cl2.
                     format!(
                         "{name} {} {}",
                         numbers::format_sig(s.dose_mg_l, 3, lang),
-                        words.get(key("unit-mg-per-l"))
+                        super::calc_screen::unit_with_basis(Unit::MgPerL, Some(&s.dose_as), words)
                     )
                 })
                 .collect();
@@ -436,8 +438,15 @@ impl PathScreen {
                 .iter()
                 .find(|b| b.point == p.id)
                 .map(|b| {
+                    // Credit is earned with the residual measured leaving the basin; with the
+                    // chlorine fed it is an upper estimate (demand only lowers it).
+                    let text = if b.residual_measured {
+                        key("path-basin-ct")
+                    } else {
+                        key("path-basin-ct-as-fed")
+                    };
                     words.get_args(
-                        key("path-basin-ct"),
+                        text,
                         &[
                             ("basin", b.basin.clone()),
                             ("ct", numbers::format_sig(b.ct_mg_min_l, 3, lang)),
