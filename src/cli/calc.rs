@@ -568,9 +568,10 @@ pub fn shown_with_range(r: &ResultValue, unit: Unit, figures: u32) -> String {
 }
 
 /// Every input as the calculation read it, in the units of the printout: a number typed
-/// without its unit is read in the request's unit system (`--units`, the site's, or the one
-/// another unit flag names: `--flow-unit mgd` makes a pump capacity gal/h and a temperature
-/// °F), and this line shows which, next to the results that follow from it.
+/// without its unit is read in the request's unit system (`--units`, or the one another unit
+/// flag names: `--length-unit ft` makes a use rate gal/d; a temperature or a pump capacity
+/// needs its own, [`implied_for`]), and this line shows which, next to the results that
+/// follow from it.
 fn read_as(outcome: &Outcome, system: UnitSystem) -> String {
     let read: Vec<String> = outcome
         .inputs

@@ -26,7 +26,7 @@ pub(super) fn water_state(args: &Args) -> Result<(WaterState, Vec<Caution>), Cli
     Ok((state, cautions))
 }
 
-/// `report` with the cautions on the water's analysis ([`water_cautions`]) in its JSON
+/// `report` with the cautions on the water's readings ([`water_cautions`]) in its JSON
 /// `cautions` and its text, ahead of the advisory that [`super::dispatch`] adds to every
 /// water command's answer.
 fn cautioned(mut report: Report, cautions: &[Caution]) -> Report {

@@ -337,25 +337,26 @@ const MASSES: [&str; 6] = ["CaCO3", "Cl2", "Al", "Fe", "F", "PO4"];
 /// What the path shows of a water; a headline-only run (`with_stability` false) reads pH,
 /// alkalinity and totals off the state and skips the species list and the indices.
 fn water_at(state: &WaterState, with_stability: bool) -> Result<WaterAt> {
-    let cl2 = state.total_mmol_l(Component::OCl);
+    let total = |c: Component, formula: &str| mg_l(state.total_mmol_l(c), formula);
+    let headline = WaterAt {
+        ph: state.ph(),
+        temperature_c: state.temperature_c(),
+        alkalinity_mg_l_as_caco3: state.alkalinity_mg_l_as_caco3(),
+        dic_mmol_l: state.total_mmol_l(Component::CO3),
+        calcium_mg_l_as_caco3: total(Component::Ca, "CaCO3")?,
+        langelier_index: None,
+        ccpp_mg_l_as_caco3: None,
+        free_chlorine_mg_l_as_cl2: total(Component::OCl, "Cl2")?,
+        hocl_fraction: None,
+        aluminium_mg_l: total(Component::Al, "Al")?,
+        iron_mg_l: total(Component::Fe, "Fe")?,
+        fluoride_mg_l: total(Component::F, "F")?,
+        orthophosphate_mg_l_as_po4: total(Component::PO4, "PO4")?,
+        ph_range: None,
+        alkalinity_range: None,
+    };
     if !with_stability {
-        return Ok(WaterAt {
-            ph: state.ph(),
-            temperature_c: state.temperature_c(),
-            alkalinity_mg_l_as_caco3: state.alkalinity_mg_l_as_caco3(),
-            dic_mmol_l: state.total_mmol_l(Component::CO3),
-            calcium_mg_l_as_caco3: mg_l(state.total_mmol_l(Component::Ca), "CaCO3")?,
-            langelier_index: None,
-            ccpp_mg_l_as_caco3: None,
-            free_chlorine_mg_l_as_cl2: mg_l(cl2, "Cl2")?,
-            hocl_fraction: None,
-            aluminium_mg_l: mg_l(state.total_mmol_l(Component::Al), "Al")?,
-            iron_mg_l: mg_l(state.total_mmol_l(Component::Fe), "Fe")?,
-            fluoride_mg_l: mg_l(state.total_mmol_l(Component::F), "F")?,
-            orthophosphate_mg_l_as_po4: mg_l(state.total_mmol_l(Component::PO4), "PO4")?,
-            ph_range: None,
-            alkalinity_range: None,
-        });
+        return Ok(headline);
     }
     let r = state.result()?;
     let (lsi, ccpp) = match water::stability(state) {
@@ -363,22 +364,16 @@ fn water_at(state: &WaterState, with_stability: bool) -> Result<WaterAt> {
         // No calcium, no alkalinity: there is no calcium carbonate index to give.
         Err(_) => (None, None),
     };
+    // The full water: pH, alkalinity and DIC from its speciation, with the indices.
     Ok(WaterAt {
         ph: r.ph,
         temperature_c: r.temperature_c,
         alkalinity_mg_l_as_caco3: r.alkalinity_mg_l_as_caco3,
         dic_mmol_l: r.dic_mmol_l,
-        calcium_mg_l_as_caco3: mg_l(state.total_mmol_l(Component::Ca), "CaCO3")?,
         langelier_index: lsi,
         ccpp_mg_l_as_caco3: ccpp,
-        free_chlorine_mg_l_as_cl2: mg_l(cl2, "Cl2")?,
         hocl_fraction: r.hocl_fraction,
-        aluminium_mg_l: mg_l(state.total_mmol_l(Component::Al), "Al")?,
-        iron_mg_l: mg_l(state.total_mmol_l(Component::Fe), "Fe")?,
-        fluoride_mg_l: mg_l(state.total_mmol_l(Component::F), "F")?,
-        orthophosphate_mg_l_as_po4: mg_l(state.total_mmol_l(Component::PO4), "PO4")?,
-        ph_range: None,
-        alkalinity_range: None,
+        ..headline
     })
 }
 

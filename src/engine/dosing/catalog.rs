@@ -401,9 +401,8 @@ impl Catalog {
         let balanced = all.iter().map(|_| OnceLock::new()).collect();
         let mut products = products.products;
         for p in &mut products {
-            let compound = p.compound.clone();
             if let Some(h) = p.henry.as_mut() {
-                h.molar_mass = Some(molar_mass(&compound)?.0);
+                h.molar_mass = Some(molar_mass(&p.compound)?.0);
             }
         }
         Ok(Catalog {
@@ -572,11 +571,7 @@ impl Catalog {
     /// The mass fraction of `dose_as` that pure compound carries as available chlorine, used to
     /// reject a strength no real product can have (e.g. 120 % available chlorine).
     fn max_available_chlorine_percent(&self, p: &Product) -> Result<f64> {
-        let steps = self.compound_per_dose_as(p)?;
-        let per = steps
-            .iter()
-            .fold(1.0, |acc, s| acc * s.numerator.value / s.denominator.value);
-        Ok(100.0 / per)
+        Ok(100.0 / StepSpec::factor(&self.compound_per_dose_as(p)?))
     }
 }
 
@@ -590,6 +585,13 @@ pub struct StepSpec {
 }
 
 impl StepSpec {
+    /// The factor a chain of steps multiplies by (each numerator over its denominator).
+    fn factor(steps: &[StepSpec]) -> f64 {
+        steps
+            .iter()
+            .fold(1.0, |acc, s| acc * s.numerator.value / s.denominator.value)
+    }
+
     pub fn apply(self, trace: &mut Trace) -> Result<()> {
         trace.then(self.numerator, self.denominator, self.origin, self.sig_figs)?;
         Ok(())
@@ -703,10 +705,7 @@ pub fn check_strength(catalog: &Catalog, p: &Product, s: &Strength) -> Result<()
             // Pure compound is the most Al2O3 a product can carry (17.2 % for alum's
             // 14-hydrate): a strength above it is another basis typed as Al2O3 (the 48.5 % a
             // certificate gives as dry alum read as Al2O3 would underfeed six times).
-            let max = 100.0
-                * via_element(&p.compound, "Al2O3", "Al")?
-                    .iter()
-                    .fold(1.0, |acc, s| acc * s.numerator.value / s.denominator.value);
+            let max = 100.0 * StepSpec::factor(&via_element(&p.compound, "Al2O3", "Al")?);
             if s.value.value > max + 1e-9 {
                 return Err(Error::new(
                     ErrorKind::OutOfRange,

@@ -173,13 +173,20 @@ pub struct WaterState {
     problem: Problem,
     sp: Speciation,
     basis: IonicStrengthBasis,
-    /// Of the analysis the water was read from (a dosed water keeps its source's).
-    ion_balance: Option<IonBalance>,
-    /// The pH and alkalinity (mg/L as CaCO3) as read, which the water's own are equal to
-    /// within the solve's 1e-9 (a dosed water keeps its source's).
-    readings: (f64, f64),
+    /// What the water was read from (a dosed water keeps its source's).
+    readings: Readings,
     /// The molar masses its readings were converted with.
     masses: Masses,
+}
+
+/// The readings a water was read from, as far as its checks need them: the pH and alkalinity
+/// (mg/L as CaCO3) as typed, which the water's own equal within the solve's 1e-9, and the
+/// analysis's ion balance.
+#[derive(Clone, Copy, Debug)]
+struct Readings {
+    ph: f64,
+    alkalinity_mg_l_as_caco3: f64,
+    ion_balance: Option<IonBalance>,
 }
 
 /// The cation and anion sums of a complete major-ion analysis, meq/L: the check of
@@ -326,8 +333,11 @@ impl WaterState {
             problem,
             sp,
             basis,
-            ion_balance,
-            readings: (ph, alk),
+            readings: Readings {
+                ph,
+                alkalinity_mg_l_as_caco3: alk,
+                ion_balance,
+            },
             masses: m,
         })
     }
@@ -349,12 +359,12 @@ impl WaterState {
     /// The cation and anion sums of the analysis the water was read from, when it was a
     /// complete one ([`IonBalance`]).
     pub fn ion_balance(&self) -> Option<IonBalance> {
-        self.ion_balance
+        self.readings.ion_balance
     }
 
     /// The pH and the alkalinity (mg/L as CaCO3) of the readings the water was read from.
     pub fn readings(&self) -> (f64, f64) {
-        self.readings
+        (self.readings.ph, self.readings.alkalinity_mg_l_as_caco3)
     }
 
     pub fn temperature_c(&self) -> f64 {
@@ -368,7 +378,11 @@ impl WaterState {
 
     /// Free (dissolved, molecular) CO2, mg/L as CO2.
     pub fn co2_mg_l(&self) -> f64 {
-        self.solver.species(&self.sp, "CO2") * 1000.0 * self.masses.co2
+        self.co2_mg_l_of(&self.sp)
+    }
+
+    fn co2_mg_l_of(&self, sp: &Speciation) -> f64 {
+        self.solver.species(sp, "CO2") * 1000.0 * self.masses.co2
     }
 
     pub fn alkalinity_mg_l_as_caco3(&self) -> f64 {
@@ -381,7 +395,7 @@ impl WaterState {
     }
 
     fn describe(&self, sp: &Speciation) -> Result<WaterResult> {
-        let m = masses()?;
+        let m = self.masses;
         let s = &self.solver;
         let calcite = s.table.phase_index("Calcite");
         let si = match calcite {
@@ -417,7 +431,7 @@ impl WaterState {
             temperature_c: self.temperature_c(),
             alkalinity_mg_l_as_caco3: s.alkalinity(sp) * 1000.0 * m.caco3 / 2.0,
             dic_mmol_l: s.dissolved(sp, Component::CO3) * 1000.0,
-            co2_mg_l: s.species(sp, "CO2") * 1000.0 * m.co2,
+            co2_mg_l: self.co2_mg_l_of(sp),
             ionic_strength: sp.ionic_strength,
             si_calcite: si,
             charge_imbalance_meq_l: self.problem.z_excess * 1000.0,
@@ -516,7 +530,6 @@ impl WaterState {
             problem,
             sp,
             basis: self.basis,
-            ion_balance: self.ion_balance,
             readings: self.readings,
             masses: self.masses,
         })
@@ -541,7 +554,6 @@ impl WaterState {
             problem,
             sp,
             basis: self.basis,
-            ion_balance: self.ion_balance,
             readings: self.readings,
             masses: self.masses,
         })
@@ -611,7 +623,6 @@ impl WaterState {
             problem,
             sp,
             basis: self.basis,
-            ion_balance: self.ion_balance,
             readings: self.readings,
             masses: self.masses,
         })

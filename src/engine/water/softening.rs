@@ -81,7 +81,6 @@ pub fn softened(
         problem,
         sp,
         basis: state.basis,
-        ion_balance: state.ion_balance,
         readings: state.readings,
         masses: state.masses,
     };
