@@ -68,6 +68,28 @@ impl Default for UsableRange {
 }
 
 impl UsableRange {
+    /// A setting of `percent` % against the pump's full scale and this band: over 100 % no
+    /// setting delivers it (danger); outside the band the pump is less accurate (warning).
+    pub fn caution(&self, percent: f64) -> Option<Caution> {
+        if percent > 100.0 {
+            Some(Caution::danger("pump-over-capacity").with("percent", format!("{percent:.0}")))
+        } else if percent > self.max {
+            Some(
+                Caution::warning("pump-above-usable-range")
+                    .with("percent", format!("{percent:.1}"))
+                    .with("max", self.max),
+            )
+        } else if percent < self.min {
+            Some(
+                Caution::warning("pump-below-usable-range")
+                    .with("percent", format!("{percent:.2}"))
+                    .with("min", self.min),
+            )
+        } else {
+            None
+        }
+    }
+
     pub fn validate(&self) -> Result<()> {
         check_range("usable range minimum", self.min, 0.0, 100.0, "%")?;
         check_range("usable range maximum", self.max, self.min, 100.0, "%")?;
@@ -296,22 +318,7 @@ pub fn pump_setting(
         }
         _ => (None, None),
     };
-    if percent > 100.0 {
-        cautions
-            .push(Caution::danger("pump-over-capacity").with("percent", format!("{percent:.0}")));
-    } else if percent > range.max {
-        cautions.push(
-            Caution::warning("pump-above-usable-range")
-                .with("percent", format!("{percent:.1}"))
-                .with("max", range.max),
-        );
-    } else if percent < range.min {
-        cautions.push(
-            Caution::warning("pump-below-usable-range")
-                .with("percent", format!("{percent:.2}"))
-                .with("min", range.min),
-        );
-    }
+    cautions.extend(range.caution(percent));
     if percent < 1.0 {
         cautions.push(
             Caution::warning("setting-fraction-of-percent")

@@ -340,24 +340,8 @@ pub fn pump_check(catalog: &Catalog, input: &PumpCheckInput) -> Result<PumpCheck
         ),
     }
     // The suggested setting is held to the band a metering pump is accurate in, as a feed's
-    // setting is (`feed::pump_setting`).
-    let range = UsableRange::default();
-    match suggested {
-        Some(s) if s > 100.0 => {
-            cautions.push(Caution::danger("pump-over-capacity").with("percent", format!("{s:.0}")))
-        }
-        Some(s) if s > range.max => cautions.push(
-            Caution::warning("pump-above-usable-range")
-                .with("percent", format!("{s:.1}"))
-                .with("max", range.max),
-        ),
-        Some(s) if s < range.min => cautions.push(
-            Caution::warning("pump-below-usable-range")
-                .with("percent", format!("{s:.2}"))
-                .with("min", range.min),
-        ),
-        _ => {}
-    }
+    // setting is.
+    cautions.extend(suggested.and_then(|s| UsableRange::default().caution(s)));
     Ok(PumpCheckResult {
         product_l_per_day: product_l,
         product_kg_per_day: product_kg,
