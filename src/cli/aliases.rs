@@ -701,10 +701,23 @@ pub fn translate(alias: &Alias, args: &Args) -> Result<Vec<String>, CliError> {
         )?;
     }
     for (name, value) in alias.defaults {
-        let input_given = name.strip_suffix("-unit").is_none_or(|input| t.has(input));
-        if !t.has(name) && input_given {
-            t.set(name, *value)?;
+        let unit_of = name.strip_suffix("-unit");
+        let input_given = unit_of.is_none_or(|input| t.has(input));
+        if t.has(name) || !input_given {
+            continue;
         }
+        // The older command read this input in its own unit whatever the printout's units;
+        // `--units` now says otherwise for every input, so which one was meant is not known.
+        if let Some(input) = unit_of
+            && t.has("units")
+        {
+            return Err(CliError::usage(format!(
+                "'molefeed {}' reads --{input} in {value}, but --units is given too: \
+                 say which with --{name}",
+                alias.command
+            )));
+        }
+        t.set(name, *value)?;
     }
     if args.switch("json") {
         t.words.push("--json".into());

@@ -407,6 +407,9 @@ pub struct Given {
     pub site_name: Option<String>,
     pub system: UnitSystem,
     pub typed: std::collections::BTreeMap<&'static str, String>,
+    /// The unit each number was read in, where it was not the system's (`--temperature-unit
+    /// celsius` beside `--units us`): the `read as:` line shows it as given.
+    pub read_in: std::collections::BTreeMap<&'static str, Unit>,
 }
 
 /// The request the flags make for `calc`, with the site's limits and maximum use level.
@@ -541,6 +544,8 @@ fn request(
         }
         if unit == input.quantity.unit(given.system) {
             given.typed.insert(input.name, text.trim().to_string());
+        } else {
+            given.read_in.insert(input.name, unit);
         }
     }
     Ok((request, given))
@@ -567,17 +572,24 @@ pub fn shown_with_range(r: &ResultValue, unit: Unit, figures: u32) -> String {
     }
 }
 
-/// Every input as the calculation read it, in the units of the printout: a number typed
-/// without its unit is read in the request's unit system (`--units`, or the one another unit
-/// flag names: `--length-unit ft` makes a use rate gal/d; a temperature or a pump capacity
-/// needs its own, [`implied_for`]), and this line shows which, next to the results that
-/// follow from it.
-fn read_as(outcome: &Outcome, system: UnitSystem) -> String {
+/// Every input as the calculation read it: a number typed without its unit is read in the
+/// request's unit system (`--units`, or the one another unit flag names: `--length-unit ft`
+/// makes a use rate gal/d; a temperature or a pump capacity needs its own, [`implied_for`]),
+/// and this line shows which, next to the results that follow from it. A number given with a
+/// unit of its own (`read_in`) is shown in that unit, as the operator wrote it.
+fn read_as(
+    outcome: &Outcome,
+    system: UnitSystem,
+    read_in: &std::collections::BTreeMap<&'static str, Unit>,
+) -> String {
     let read: Vec<String> = outcome
         .inputs
         .iter()
         .map(|i| {
-            let unit = i.quantity.unit(system);
+            let unit = read_in
+                .get(i.name)
+                .copied()
+                .unwrap_or_else(|| i.quantity.unit(system));
             let value = unit.from_si(i.value);
             let value = match i.figures {
                 Some(f) => shown(value, i.quantity, u32::from(f)),
@@ -622,9 +634,10 @@ fn unit_text(unit: Unit, basis: Option<&str>) -> String {
     }
 }
 
-/// The outcome as printed (in `system`'s units) and as its JSON object (SI, results keyed by
-/// their stable ids).
-pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
+/// The outcome as printed (in the request's units) and as its JSON object (SI, results keyed
+/// by their stable ids).
+pub fn report(outcome: &Outcome, given: &Given) -> Report {
+    let system = given.system;
     let figures = shown_figures(outcome);
     let mut results = Map::new();
     let mut lines = Vec::new();
@@ -632,7 +645,7 @@ pub fn report(outcome: &Outcome, system: UnitSystem) -> Report {
         lines.push(format!("{} ({})", p.name, outcome.calculator));
     }
     if !outcome.inputs.is_empty() {
-        lines.push(read_as(outcome, system));
+        lines.push(read_as(outcome, system, &given.read_in));
     }
     for r in &outcome.results {
         let unit = r.quantity.si().symbol();
@@ -782,7 +795,7 @@ pub fn run(args: &Args) -> CliResult {
     let c = table()?;
     let (request, given) = request(&c, calc, args)?;
     let outcome = c.compute(&request)?;
-    let mut report = report(&outcome, given.system);
+    let mut report = report(&outcome, &given);
     if let Some(id) = log_outcome(args, &outcome, &given)? {
         report.human.push_str(&format!("\nlogged as entry {id}\n"));
         report.json["logged"] = json!(id.to_string());

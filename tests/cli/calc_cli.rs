@@ -578,6 +578,47 @@ fn the_printout_says_how_each_input_was_read() {
             .is_some_and(|m| m.contains("--temperature needs its unit")),
         "{out}"
     );
+    // The older `ct` command read its temperature in °C; beside `--units us` that is a guess
+    // either way, so it is refused, and answered once the unit is named.
+    let older = |more: &[&str]| {
+        let mut args = vec![
+            "ct",
+            "--residual",
+            "1.1",
+            "--ph",
+            "7.6",
+            "--temperature",
+            "15",
+            "--contact-minutes",
+            "38",
+        ];
+        args.extend_from_slice(more);
+        run(&args)
+    };
+    let (code, json, out) = older(&["--units", "us", "--json"]);
+    assert_eq!(code, 2, "{out}");
+    assert!(
+        json["error"]["message"].as_str().is_some_and(|m| m
+            .contains("reads --temperature in celsius, but --units is given too")
+            && m.contains("--temperature-unit")),
+        "{out}"
+    );
+    let (code, _, out) = older(&["--units", "us", "--temperature-unit", "celsius"]);
+    assert_eq!(code, 0, "{out}");
+    assert!(
+        out.lines()
+            .next()
+            .is_some_and(|l| l.contains("temperature 15 °C")),
+        "{out}"
+    );
+    let (code, _, out) = older(&[]);
+    assert_eq!(code, 0, "{out}");
+    assert!(
+        out.lines()
+            .next()
+            .is_some_and(|l| l.contains("temperature 15 °C")),
+        "{out}"
+    );
 }
 
 /// A calculator's help names the basis each product's strength is read on, from the table.
