@@ -155,8 +155,7 @@ pub fn equivalent(args: &Args) -> CliResult {
     let carrier = args.required_text("carrier")?;
     let named = library.get(id)?;
     let per_mol = library.equivalents_via(&named.reaction, species, carrier)?;
-    let weight = named.reaction.find(species)?.formula.molar_mass() * *per_mol.denom() as f64
-        / *per_mol.numer() as f64;
+    let weight = library.equivalent_weight_via(&named.reaction, species, carrier)?;
     let trace = library.as_caco3_per_mg(&named.reaction, species, carrier)?;
     Ok(Report {
         human: format!(

@@ -155,6 +155,19 @@ impl ReactionLibrary {
             .ok_or_else(|| Error::new(ErrorKind::Overflow, "equivalents too large"))
     }
 
+    /// Grams of `species` per equivalent of `carrier` through `reaction` (FeCl3 with HCO3-:
+    /// 162.2 g/mol ÷ 3 eq/mol = 54.07 g/eq), from [`Self::equivalents_via`].
+    pub fn equivalent_weight_via(
+        &self,
+        reaction: &Reaction,
+        species: &str,
+        carrier: &str,
+    ) -> Result<f64> {
+        let eq = self.equivalents_via(reaction, species, carrier)?;
+        let m = reaction.find(species)?.formula.molar_mass();
+        Ok(m * *eq.denom() as f64 / *eq.numer() as f64)
+    }
+
     /// mg/L as CaCO3 of `carrier` consumed (or produced) per mg/L of `species`, per `reaction`,
     /// as a trace from 1 mg of the species.
     pub fn as_caco3_per_mg(
@@ -251,6 +264,26 @@ mod tests {
         assert_eq!(
             lib.proton_equivalents("KMnO4").unwrap_err().kind(),
             ErrorKind::UnknownChemical
+        );
+    }
+
+    #[test]
+    fn a_coagulants_equivalent_weight_goes_through_its_carrier() {
+        let lib = library();
+        // FeCl3 + 3 HCO3- -> ...: 3 eq of bicarbonate a mole; 162.20 / 3 g/eq, worked by hand
+        // from IUPAC weights (Fe 55.845, Cl 35.45).
+        let r = &lib.get("ferric-chloride-bicarbonate").unwrap().reaction;
+        let by_hand = (55.845 + 3.0 * 35.45) / 3.0;
+        let weight = lib.equivalent_weight_via(r, "FeCl3", "HCO3-").unwrap();
+        assert!(
+            (weight - by_hand).abs() < 1e-9,
+            "{weight} against {by_hand}"
+        );
+        assert_eq!(
+            lib.equivalent_weight_via(r, "FeCl3", "OH-")
+                .unwrap_err()
+                .kind(),
+            ErrorKind::NotInReaction
         );
     }
 
