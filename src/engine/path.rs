@@ -510,7 +510,7 @@ fn basin_credit(
         })
     } else {
         // No chlorine in the basin: no credit; what it would need, at the table's lowest
-        // residual row (0.4 mg/L), as the CT calculator reads the table.
+        // residual row, as the CT calculator reads the table.
         let t10 = basin.volume_l * basin.baffling_factor / (flow * 1000.0 / 1440.0);
         Ok(BasinCredit {
             basin: basin.id.clone(),
@@ -521,7 +521,7 @@ fn basin_credit(
             ph,
             temperature_c: t,
             ct_mg_min_l: 0.0,
-            ct_required_3log_mg_min_l: chlorine::ct_required(3.0, 0.4, ph.max(6.0), t.min(25.0)),
+            ct_required_3log_mg_min_l: chlorine::ct_required_as_tabled(3.0, 0.0, ph, t).0,
             log_inactivation: 0.0,
         })
     }

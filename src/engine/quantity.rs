@@ -113,10 +113,20 @@ pub enum Unit {
     InchesOfLength,
 }
 
-/// m³ in one US gallon (exact by definition: 231 in³).
-const M3_PER_GALLON: f64 = 3.785_411_784e-3;
-/// kg in one avoirdupois pound (exact by definition).
-const KG_PER_POUND: f64 = 0.453_592_37;
+/// L in one US gallon (exact by definition: 231 in³, the inch 2.54 cm). The one definition
+/// of the gallon: the dosing units, the log's report and export take it from here.
+pub const L_PER_GAL: f64 = 3.785_411_784;
+/// L in one million US gallons.
+pub const L_PER_MG: f64 = L_PER_GAL * 1.0e6;
+/// g in one avoirdupois pound (exact by definition, international pound of 1959). The one
+/// definition of the pound.
+pub const G_PER_LB: f64 = 453.592_37;
+/// kg in one avoirdupois pound.
+pub const KG_PER_LB: f64 = G_PER_LB / 1000.0;
+/// m³ in one US gallon.
+const M3_PER_GALLON: f64 = L_PER_GAL * 1.0e-3;
+/// kg in one avoirdupois pound.
+const KG_PER_POUND: f64 = KG_PER_LB;
 /// m in one international foot (exact by definition, 1959).
 const M_PER_FOOT: f64 = 0.3048;
 /// mm in one international inch (exact by definition, 1959).

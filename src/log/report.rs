@@ -27,12 +27,8 @@ use chrono::{DateTime, FixedOffset, NaiveDate};
 use serde::Serialize;
 use std::collections::{BTreeMap, BTreeSet};
 
-/// L in one US gallon (exact by definition: 231 in³).
-pub const L_PER_GAL: f64 = 3.785_411_784;
-/// kg in one avoirdupois pound (exact by definition).
-pub const KG_PER_LB: f64 = 0.453_592_37;
-/// L in one million US gallons.
-pub const L_PER_MG: f64 = L_PER_GAL * 1.0e6;
+/// The gallon and the pound: their exact definitions in [`crate::engine::quantity`].
+pub use crate::engine::quantity::{KG_PER_LB, L_PER_GAL, L_PER_MG};
 
 /// Minimum, maximum, average and count of some values.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]

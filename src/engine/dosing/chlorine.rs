@@ -890,6 +890,21 @@ pub fn ct_required(logs: f64, residual: f64, ph: f64, temperature_c: f64) -> f64
     }
 }
 
+/// CT required for `logs` log inactivation as the EPA tables are read conservatively (round
+/// C and pH up, temperature down; SWTR Guidance Manual): their first rows are "≤ 0.4 mg/L"
+/// and "≤ pH 6" and their last column 25 °C, so below or beyond those the regression is
+/// evaluated at the table's edge rather than extrapolated to a smaller required CT. Returns
+/// the CT and the (residual, pH, temperature) it was read at.
+pub fn ct_required_as_tabled(
+    logs: f64,
+    residual: f64,
+    ph: f64,
+    temperature_c: f64,
+) -> (f64, (f64, f64, f64)) {
+    let read_at = (residual.max(0.4), ph.max(6.0), temperature_c.min(25.0));
+    (ct_required(logs, read_at.0, read_at.1, read_at.2), read_at)
+}
+
 /// CT from residual and contact time, and Giardia log inactivation by the regression.
 pub fn ct_free_chlorine(input: &CtInput) -> Result<CtResult> {
     check_positive("chlorine residual", input.residual.value, "mg/L")?;
@@ -944,13 +959,8 @@ pub fn ct_free_chlorine(input: &CtInput) -> Result<CtResult> {
         None,
     )?;
     let ct = t.value();
-    // The EPA tables are read conservatively (round C and pH up, temperature down; SWTR
-    // Guidance Manual); their first rows are "≤ 0.4 mg/L" and "≤ pH 6" and the last column
-    // 25 °C, so below or beyond those the regression is evaluated at the table's edge rather
-    // than extrapolated to a smaller required CT.
-    let (c_used, ph_used, t_used) = (c.max(0.4), input.ph.max(6.0), input.temperature_c.min(25.0));
-    let one = ct_required(1.0, c_used, ph_used, t_used);
-    let three = ct_required(3.0, c_used, ph_used, t_used);
+    let (one, read_at) = ct_required_as_tabled(1.0, c, input.ph, input.temperature_c);
+    let (three, _) = ct_required_as_tabled(3.0, c, input.ph, input.temperature_c);
     let mut logs = Trace::new(
         Quantity::new(ct, "mg·min/L"),
         Origin::Measured,
@@ -988,7 +998,7 @@ pub fn ct_free_chlorine(input: &CtInput) -> Result<CtResult> {
         ct_required_3log_mg_min_l: three,
         giardia_log_inactivation: logs.value(),
         inactivation_ratio: ct / three,
-        regression_inputs: (c_used, ph_used, t_used),
+        regression_inputs: read_at,
         traces,
         cautions: finish(cautions),
     })

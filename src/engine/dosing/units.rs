@@ -11,10 +11,8 @@ use crate::engine::trace::{Origin, Quantity, Trace};
 use crate::engine::{Error, ErrorKind, Result, check_positive, check_range};
 use serde::{Deserialize, Serialize};
 
-/// Litres per US gallon, exact (US gallon = 231 in³, inch = 2.54 cm).
-pub const L_PER_GAL: f64 = 3.785411784;
-/// Grams per avoirdupois pound, exact (international pound, 1959).
-pub const G_PER_LB: f64 = 453.59237;
+/// Litres per US gallon and grams per pound: the exact definitions in [`crate::engine::quantity`].
+pub use crate::engine::quantity::{G_PER_LB, L_PER_GAL};
 
 /// The largest flow accepted, L/d.
 pub const MAX_L_PER_DAY: f64 = 1e12;
