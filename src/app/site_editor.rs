@@ -1030,6 +1030,7 @@ mod tests {
             max: Some(8.5),
             unit: String::new(),
             source: "Permit".into(),
+            enforceable: true,
         };
         assert_eq!(
             limit_line(&limit, Lang::Es, &words),

@@ -390,10 +390,17 @@ pub fn save_limit(
         max,
         unit: form.unit.trim().to_string(),
         source: source.to_string(),
+        // A limit entered here is the permit's; an edited one keeps what the profile said.
+        enforceable: true,
     };
     let mut edited = site.clone();
     match edited.limits.iter_mut().find(|l| l.parameter == parameter) {
-        Some(l) => *l = entry,
+        Some(l) => {
+            *l = Limit {
+                enforceable: l.enforceable,
+                ..entry
+            }
+        }
         None => edited.limits.push(entry),
     }
     commit(site, edited, catalog)

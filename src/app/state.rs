@@ -712,7 +712,7 @@ mod tests {
     }
 
     #[test]
-    fn targets_outside_the_site_limits_raise_warnings_naming_the_source() {
+    fn targets_outside_the_site_limits_raise_cautions_naming_the_source() {
         let s = state(Rc::new(Unconnected));
         let limits = s.sites.site_limits(&s.session);
         let chlorine = limits.iter().find(|l| l.parameter == "chlorine").unwrap();
@@ -734,7 +734,8 @@ mod tests {
             .iter()
             .find(|c| c.code == "site-limit-above")
             .unwrap_or_else(|| panic!("no limit caution: {cautions:?}"));
-        assert_eq!(breach.level, crate::app::seams::CautionLevel::Warning);
+        // The plant's permit is enforceable: beyond it is a danger.
+        assert_eq!(breach.level, crate::app::seams::CautionLevel::Danger);
         assert!(
             breach
                 .params

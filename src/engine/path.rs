@@ -575,7 +575,7 @@ pub fn finished_checks(w: &WaterAt, limits: &[Limit]) -> Vec<Caution> {
             _ => continue,
         };
         out.push(
-            Caution::warning(key)
+            Caution::new(limit.severity(), key)
                 .with("parameter", parameter)
                 .with("value", crate::engine::sigfig::format_sig(value, 3))
                 .with("limit", crate::engine::sigfig::format_sig(bound, 3))

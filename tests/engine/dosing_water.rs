@@ -449,11 +449,21 @@ fn site_ph_limit_overrides_the_default_range() {
         max: Some(8.0),
         unit: String::new(),
         source: "plant permit".into(),
+        enforceable: true,
     });
     let r = PhRange::from_site(&site);
     assert!(r.check(7.5).is_none());
-    assert!(r.check(8.2).is_some());
+    // Beyond the permit's range: a danger; beyond the secondary standard's (the default): a
+    // warning, since no rule enforces it.
+    assert_eq!(
+        r.check(8.2).map(|c| c.severity),
+        Some(molefeed::engine::dosing::Severity::Danger)
+    );
     assert!(d.check(8.2).is_none());
+    assert_eq!(
+        d.check(8.6).map(|c| c.severity),
+        Some(molefeed::engine::dosing::Severity::Warning)
+    );
 }
 
 /// Runs the binary; returns the exit code and the JSON (Null when the output is not JSON).

@@ -10,8 +10,9 @@
 //! the engine finds, fed to PHREEQC (through its derivatives), meet the pH within 0.02 and the
 //! second target within 1 %. The CT and site cases are worked by hand beside each check.
 
+use molefeed::engine::dosing::Severity;
 use molefeed::engine::dosing::catalog::Catalog as Products;
-use molefeed::engine::dosing::site::SiteProfile;
+use molefeed::engine::dosing::site::{Limit, SiteProfile};
 use molefeed::engine::path::{self, Path, Point, Settings};
 use molefeed::engine::water::targets::{SecondTarget, two_targets};
 use molefeed::engine::water::{Catalog, WaterInput, WaterState};
@@ -352,6 +353,29 @@ fn the_finished_water_is_held_to_the_plants_limits() {
         .collect();
     assert!(below.contains(&"alkalinity"), "{:?}", r.cautions);
     assert!(below.contains(&"ph"), "{:?}", r.cautions);
+    // Neither is enforceable (the plant's own target says so; the SMCL range is secondary):
+    // warnings. Set by the permit, the same pH is a danger.
+    let severity = |r: &path::PathResult, parameter: &str| {
+        r.cautions
+            .iter()
+            .find(|c| {
+                c.key == "site-limit-finished-below" && c.param("parameter") == Some(parameter)
+            })
+            .map(|c| c.severity)
+    };
+    assert_eq!(severity(&r, "alkalinity"), Some(Severity::Warning));
+    assert_eq!(severity(&r, "ph"), Some(Severity::Warning));
+    let mut permit = settings.clone();
+    permit.limits.push(Limit {
+        parameter: "ph".into(),
+        min: Some(6.8),
+        max: Some(8.8),
+        unit: String::new(),
+        source: "plant permit (invented)".into(),
+        enforceable: true,
+    });
+    let r = path::run(&state, &path, &permit).unwrap();
+    assert_eq!(severity(&r, "ph"), Some(Severity::Danger));
 }
 
 /// The pair the two-target solve is offered for at point `point` of the demo site with `edit`
@@ -493,4 +517,29 @@ fn the_finished_fluoride_and_orthophosphate_are_held_to_the_limits() {
         .filter_map(|c| c.param("parameter"))
         .collect();
     assert_eq!(above, ["fluoride-secondary"]);
+    // 2.4 mg/L is above the secondary standard only: a warning, not the MCL's danger.
+    assert!(
+        r.cautions
+            .iter()
+            .filter(|c| c.key == "site-limit-finished-above")
+            .all(|c| c.severity == Severity::Warning),
+        "{:?}",
+        r.cautions
+    );
+    let more = Path::of_steps(&[(catalog.find("fluorosilicic-acid").unwrap(), 6.0)]);
+    let r = path::run(&raw, &more, &Settings::default()).unwrap();
+    assert!(
+        r.finished.fluoride_mg_l > 4.0,
+        "{}",
+        r.finished.fluoride_mg_l
+    );
+    assert!(
+        r.cautions
+            .iter()
+            .any(|c| c.key == "site-limit-finished-above"
+                && c.param("parameter") == Some("fluoride")
+                && c.severity == Severity::Danger),
+        "{:?}",
+        r.cautions
+    );
 }

@@ -1039,8 +1039,10 @@ fn limit_cautions(inputs: &[Input], request: &Request) -> Vec<Caution> {
         else {
             continue;
         };
+        // Beyond an MCL, an MRDL or the permit a danger; beyond a secondary standard, a
+        // recommendation or the plant's own target a warning.
         out.push(
-            Caution::new(Severity::Warning, key)
+            Caution::new(limit.severity(), key)
                 .with("field", format!("field-{}", input.name))
                 .with("value", format_sig(value, 3))
                 .with("limit", format_sig(bound, 3))

@@ -237,11 +237,18 @@ fn fluoride_targets_meet_the_mcl_the_smcl_and_the_recommendation() {
         r.limits = limits;
         c.compute(&r).unwrap()
     };
-    for (target, limit, source) in [
-        (0.9, Some("0.700"), "Public Health Service"),
-        (2.5, Some("2.00"), "143.3"),
-        (4.5, Some("4.00"), "141.62"),
-        (0.7, None, ""),
+    // Beyond the MCL a danger; beyond the secondary standard or the recommendation, which no
+    // rule enforces, a warning.
+    for (target, limit, source, severity) in [
+        (
+            0.9,
+            Some("0.700"),
+            "Public Health Service",
+            Severity::Warning,
+        ),
+        (2.5, Some("2.00"), "143.3", Severity::Warning),
+        (4.5, Some("4.00"), "141.62", Severity::Danger),
+        (0.7, None, "", Severity::Info),
     ] {
         let out = run(target, Vec::new());
         let caution = out.cautions.iter().find(|c| c.key == "site-limit-above");
@@ -259,6 +266,7 @@ fn fluoride_targets_meet_the_mcl_the_smcl_and_the_recommendation() {
                 };
                 assert!(param("limit").contains(limit), "{target}: {caution:?}");
                 assert!(param("source").contains(source), "{target}: {caution:?}");
+                assert_eq!(caution.severity, severity, "{target}");
             }
         }
     }
@@ -269,6 +277,7 @@ fn fluoride_targets_meet_the_mcl_the_smcl_and_the_recommendation() {
         max: Some(1.0),
         unit: "mg/L as F".into(),
         source: "plant procedure".into(),
+        enforceable: false,
     };
     assert!(!has(&run(0.9, vec![own]), "site-limit-above"));
 }

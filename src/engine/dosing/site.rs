@@ -9,6 +9,7 @@
 use super::catalog::{
     Catalog, Form, Strength, StrengthBasis, check_sg, check_sg_against_strength, check_strength,
 };
+use super::caution::Severity;
 use super::feed::{PumpKind, UsableRange};
 use super::pumpcheck::Tolerance;
 use super::tank::{Geometry, Strapping, Tank, TankShape};
@@ -323,6 +324,28 @@ pub struct Limit {
     pub max: Option<f64>,
     pub unit: String,
     pub source: String,
+    /// Whether going beyond it breaks a rule or the plant's permit (an MCL, an MRDL, a permit
+    /// entry) rather than a secondary standard, a recommendation or a target of the plant's
+    /// own: beyond it is a danger, beyond the others a warning. A plant's entry is its
+    /// permit's unless the profile says `"enforceable": false`.
+    #[serde(default = "enforceable_unless_said")]
+    pub enforceable: bool,
+}
+
+fn enforceable_unless_said() -> bool {
+    true
+}
+
+impl Limit {
+    /// How strongly a value beyond this limit is cautioned: [`Severity::Danger`] beyond an
+    /// enforceable one, [`Severity::Warning`] beyond the others.
+    pub fn severity(&self) -> Severity {
+        if self.enforceable {
+            Severity::Danger
+        } else {
+            Severity::Warning
+        }
+    }
 }
 
 /// The plant's usual flow (design or typical), so a calculator can start from it; the flow the
@@ -383,105 +406,115 @@ pub struct SiteProfile {
     pub fed_dose_tolerance_percent: Option<f64>,
 }
 
-fn limit(parameter: &str, min: Option<f64>, max: Option<f64>, unit: &str, source: &str) -> Limit {
+/// A limit a rule enforces (an MCL, an MRDL).
+fn rule(parameter: &str, min: Option<f64>, max: Option<f64>, unit: &str, source: &str) -> Limit {
     Limit {
         parameter: parameter.into(),
         min,
         max,
         unit: unit.into(),
         source: source.into(),
+        enforceable: true,
+    }
+}
+
+/// A secondary standard or a recommendation: no rule enforces it.
+fn guide(parameter: &str, min: Option<f64>, max: Option<f64>, unit: &str, source: &str) -> Limit {
+    Limit {
+        enforceable: false,
+        ..rule(parameter, min, max, unit, source)
     }
 }
 
 /// Limits a federal US rule sets, each with its source; a plant's permit entry overrides them.
 pub fn regulatory_defaults() -> Vec<Limit> {
     vec![
-        limit(
+        rule(
             "chlorine",
             None,
             Some(4.0),
             "mg/L as Cl2",
             "US EPA MRDL, 40 CFR 141.65 (running annual average)",
         ),
-        limit(
+        rule(
             "chloramines",
             None,
             Some(4.0),
             "mg/L as Cl2",
             "US EPA MRDL, 40 CFR 141.65 (running annual average)",
         ),
-        limit(
+        rule(
             "chlorine-dioxide",
             None,
             Some(0.8),
             "mg/L as ClO2",
             "US EPA MRDL, 40 CFR 141.65",
         ),
-        limit(
+        rule(
             "chlorite",
             None,
             Some(1.0),
             "mg/L",
             "US EPA MCL, 40 CFR 141.64",
         ),
-        limit(
+        rule(
             "bromate",
             None,
             Some(0.010),
             "mg/L",
             "US EPA MCL, 40 CFR 141.64",
         ),
-        limit(
+        guide(
             "ph",
             Some(6.5),
             Some(8.5),
             "",
             "US EPA SMCL, 40 CFR 143.3 (secondary, non-enforceable)",
         ),
-        limit(
+        guide(
             "aluminium",
             None,
             Some(0.2),
             "mg/L",
             "US EPA SMCL range 0.05–0.2 mg/L, 40 CFR 143.3 (upper end; secondary)",
         ),
-        limit(
+        rule(
             "fluoride",
             None,
             Some(4.0),
             "mg/L as F",
             "US EPA MCL, 40 CFR 141.62 (from memory)",
         ),
-        limit(
+        guide(
             "fluoride-secondary",
             None,
             Some(2.0),
             "mg/L as F",
             "US EPA SMCL, 40 CFR 143.3 (from memory; secondary, non-enforceable)",
         ),
-        limit(
+        guide(
             "fluoride-recommended",
             None,
             Some(0.7),
             "mg/L as F",
             "US Public Health Service (2015) recommendation, Public Health Reports 130:318-331; Federal Register 80:24936 (not a CFR limit)",
         ),
-        limit("iron", None, Some(0.3), "mg/L", "US EPA SMCL, 40 CFR 143.3"),
-        limit(
+        guide("iron", None, Some(0.3), "mg/L", "US EPA SMCL, 40 CFR 143.3"),
+        guide(
             "manganese",
             None,
             Some(0.05),
             "mg/L",
             "US EPA SMCL, 40 CFR 143.3",
         ),
-        limit(
+        guide(
             "sulfate",
             None,
             Some(250.0),
             "mg/L",
             "US EPA SMCL, 40 CFR 143.3",
         ),
-        limit(
+        guide(
             "chloride",
             None,
             Some(250.0),

@@ -8,7 +8,7 @@
 //! balanced dissolution releases (one OCl per available Cl2), and the conversion is kept as a
 //! trace so the operator can follow it.
 
-use super::caution::Caution;
+use super::caution::{Caution, Severity};
 use super::site::{SiteProfile, regulatory_defaults};
 use crate::engine::sigfig::{Measured, format_sig};
 use crate::engine::trace::{Origin, Quantity, Trace};
@@ -21,6 +21,8 @@ use serde::Serialize;
 pub struct PhRange {
     pub min: f64,
     pub max: f64,
+    /// A danger beyond a permit's range, a warning beyond the secondary standard's.
+    pub severity: Severity,
 }
 
 impl Default for PhRange {
@@ -43,10 +45,12 @@ impl PhRange {
     fn from_limit(limit: Option<super::site::Limit>) -> PhRange {
         // A missing side means "no bound on that side", not the default: a site that sets only
         // a minimum has chosen not to cap the pH.
+        let severity = limit.as_ref().map_or(Severity::Warning, |l| l.severity());
         let (min, max) = limit.map_or((None, None), |l| (l.min, l.max));
         PhRange {
             min: min.unwrap_or(0.0),
             max: max.unwrap_or(14.0),
+            severity,
         }
     }
 
@@ -55,10 +59,10 @@ impl PhRange {
         PhRange::from_limit(site.effective_limit("ph"))
     }
 
-    /// A `ph-outside-range` warning when `ph` leaves the range.
+    /// A `ph-outside-range` caution when `ph` leaves the range, as strong as the limit.
     pub fn check(&self, ph: f64) -> Option<Caution> {
         (ph < self.min || ph > self.max).then(|| {
-            Caution::warning("ph-outside-range")
+            Caution::new(self.severity, "ph-outside-range")
                 .with("ph", format!("{ph:.2}"))
                 .with("min", self.min)
                 .with("max", self.max)
