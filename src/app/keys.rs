@@ -298,6 +298,7 @@ pub const ERROR_REASONS: &[&str] = &[
     "pump-cannot-feed-product",
     "tank-dimension-missing",
     "limit-minimum-above-maximum",
+    "limit-unit-not-understood",
     "site-has-no-such-pump",
     "factor-not-usable",
     "implausible-magnitude",

@@ -1039,8 +1039,9 @@ mod tests {
                 detail: "Permit".into()
             }
         );
-        // The demo plant's aluminium limit (`data/demo-site.json`) is checked by no calculation:
-        // it stays listed, flagged; the iron default likewise.
+        // The demo plant's aluminium limit (`data/demo-site.json`) and the iron default are
+        // checked on the plant path's finished water; the manganese default by no calculation:
+        // it stays listed, flagged.
         let flagged = |lines: &[SiteLine], name: &str| {
             lines
                 .iter()
@@ -1050,12 +1051,18 @@ mod tests {
         let view = s.editor.view(&s.session, &words);
         assert_eq!(
             flagged(&view.limits, "aluminium:"),
-            Some(true),
+            Some(false),
             "{:?}",
             view.limits
         );
         assert_eq!(flagged(&view.limits, "Chlorine residual:"), Some(false));
-        assert_eq!(flagged(&view.default_limits, "iron:"), Some(true));
+        assert_eq!(flagged(&view.default_limits, "iron:"), Some(false));
+        assert_eq!(
+            flagged(&view.default_limits, "manganese:"),
+            Some(true),
+            "{:?}",
+            view.default_limits
+        );
         assert_eq!(flagged(&view.default_limits, "pH:"), Some(false));
         // The form offers the engine's checked parameters, in words, each with the taps that
         // read it (the demo's clearwell reads chlorine; no tap reads chlorite).

@@ -527,36 +527,41 @@ fn basin_credit(
     }
 }
 
-/// The finished water's parameters a plant may limit, with their values and units: the pH
-/// range, free chlorine, aluminium and iron left, and the corrosion-control targets
-/// (alkalinity, calcium, DIC, Langelier index, CCPP), and the fluoride (against the
-/// enforceable maximum and the secondary standard) and orthophosphate residuals.
-fn finished_values(w: &WaterAt) -> Vec<(&'static str, Option<f64>, &'static str)> {
-    vec![
-        ("ph", Some(w.ph), ""),
-        ("chlorine", Some(w.free_chlorine_mg_l_as_cl2), "mg/L as Cl2"),
-        ("aluminium", Some(w.aluminium_mg_l), "mg/L"),
-        ("iron", Some(w.iron_mg_l), "mg/L"),
-        (
-            "alkalinity",
-            Some(w.alkalinity_mg_l_as_caco3),
-            "mg/L as CaCO3",
-        ),
-        (
-            "calcium-hardness",
-            Some(w.calcium_mg_l_as_caco3),
-            "mg/L as CaCO3",
-        ),
-        ("dic", Some(w.dic_mmol_l), "mmol/L"),
-        ("langelier-index", w.langelier_index, ""),
-        ("ccpp", w.ccpp_mg_l_as_caco3, "mg/L as CaCO3"),
-        ("fluoride", Some(w.fluoride_mg_l), "mg/L as F"),
-        ("fluoride-secondary", Some(w.fluoride_mg_l), "mg/L as F"),
-        (
-            "orthophosphate",
-            Some(w.orthophosphate_mg_l_as_po4),
-            "mg/L as PO4",
-        ),
+/// The finished water's parameters a plant may limit: the pH range, free chlorine, aluminium
+/// and iron left, the corrosion-control targets (alkalinity, calcium, DIC, Langelier index,
+/// CCPP), and the fluoride (against the enforceable maximum and the secondary standard) and
+/// orthophosphate residuals. The one list the finished-water check and the list of checked
+/// limits (`calculators::checked_limit_parameters`) read.
+pub const FINISHED_PARAMETERS: [&str; 12] = [
+    "ph",
+    "chlorine",
+    "aluminium",
+    "iron",
+    "alkalinity",
+    "calcium-hardness",
+    "dic",
+    "langelier-index",
+    "ccpp",
+    "fluoride",
+    "fluoride-secondary",
+    "orthophosphate",
+];
+
+/// The values of [`FINISHED_PARAMETERS`], in their order, each with the unit it is in.
+fn finished_values(w: &WaterAt) -> [(Option<f64>, &'static str); 12] {
+    [
+        (Some(w.ph), ""),
+        (Some(w.free_chlorine_mg_l_as_cl2), "mg/L as Cl2"),
+        (Some(w.aluminium_mg_l), "mg/L"),
+        (Some(w.iron_mg_l), "mg/L"),
+        (Some(w.alkalinity_mg_l_as_caco3), "mg/L as CaCO3"),
+        (Some(w.calcium_mg_l_as_caco3), "mg/L as CaCO3"),
+        (Some(w.dic_mmol_l), "mmol/L"),
+        (w.langelier_index, ""),
+        (w.ccpp_mg_l_as_caco3, "mg/L as CaCO3"),
+        (Some(w.fluoride_mg_l), "mg/L as F"),
+        (Some(w.fluoride_mg_l), "mg/L as F"),
+        (Some(w.orthophosphate_mg_l_as_po4), "mg/L as PO4"),
     ]
 }
 
@@ -565,7 +570,7 @@ fn finished_values(w: &WaterAt) -> Vec<(&'static str, Option<f64>, &'static str)
 /// source.
 pub fn finished_checks(w: &WaterAt, limits: &[Limit]) -> Vec<Caution> {
     let mut out = Vec::new();
-    for (parameter, value, unit) in finished_values(w) {
+    for (parameter, (value, unit)) in FINISHED_PARAMETERS.into_iter().zip(finished_values(w)) {
         let (Some(value), Some(limit)) = (value, site::effective_limit(limits, parameter)) else {
             continue;
         };

@@ -634,6 +634,56 @@ impl Log {
             }
         };
         record.validate()?;
+        // The latest correction or void wins by time: a record dated ahead of this device's
+        // clock would outrank every later correction made here (one dated 9999 forever), so
+        // a new one is held to what an import is held to.
+        let latest_allowed = now() + merge::CLOCK_TOLERANCE;
+        if record.at() > latest_allowed {
+            return Err(Error::new(
+                ErrorKind::InvalidEntry,
+                format!(
+                    "the entry is dated {}, after this device's clock (at most {} hour ahead)",
+                    record
+                        .at()
+                        .to_rfc3339_opts(chrono::SecondsFormat::Secs, true),
+                    merge::CLOCK_TOLERANCE.num_hours()
+                ),
+            )
+            .with("field", "at"));
+        }
+        // A tap reading the report could not hold to its limit is refused when recorded, not
+        // left out of the month's exceedances later.
+        if let Record::Reading(ReadingEntry {
+            reading:
+                Reading::AtTap {
+                    parameter,
+                    value,
+                    unit,
+                    ..
+                },
+            ..
+        })
+        | Record::ReadingCorrection(record::ReadingCorrection {
+            reading:
+                Reading::AtTap {
+                    parameter,
+                    value,
+                    unit,
+                    ..
+                },
+            ..
+        }) = &record
+            && record::in_parameter_unit(parameter, *value, unit).is_none()
+        {
+            return Err(Error::new(
+                ErrorKind::InvalidEntry,
+                format!(
+                    "{parameter} in '{unit}' cannot be held to its limit: record it in {}",
+                    record::parameter_unit(parameter)
+                ),
+            )
+            .with("field", "unit"));
+        }
         if record::encode(&record).len() > frame::MAX_PAYLOAD as usize {
             return Err(Error::new(
                 ErrorKind::TooLarge,

@@ -495,19 +495,9 @@ pub enum Reading {
     },
 }
 
-/// The unit a parameter read at a tap is recorded in (common practice: pH in pH units,
-/// temperature in °C, turbidity in NTU, conductivity in µS/cm, alkalinity and hardness as
-/// CaCO3, everything else in mg/L). One function for the CLI and the app.
-pub fn parameter_unit(parameter: &str) -> &'static str {
-    match parameter {
-        "ph" => "pH",
-        "temperature" => "°C",
-        "turbidity" => "NTU",
-        "conductivity" => "µS/cm",
-        "alkalinity" | "hardness" | "calcium-hardness" => "mg/L as CaCO3",
-        _ => "mg/L",
-    }
-}
+/// The unit a parameter read at a tap is recorded in, and a reading's value in it: the
+/// engine's one table, which the plant's limits are held in too.
+pub use crate::engine::dosing::site::{in_parameter_unit, parameter_unit};
 
 /// The units each reading may be recorded in.
 pub const LEVEL_UNITS: [&str; 3] = ["ft", "in", "m"];
@@ -1147,6 +1137,7 @@ pub fn example_dose() -> Dose {
 
 #[cfg(test)]
 mod tests {
+
     use super::*;
 
     fn entry() -> Record {

@@ -21,7 +21,7 @@ use crate::engine::dosing::pumpcheck::Tolerance;
 use crate::engine::dosing::site::SiteProfile;
 use crate::engine::dosing::units::{LengthUnit, UnitSystem};
 use crate::engine::trace::{Origin, Quantity, Trace};
-use crate::log::record::parameter_unit;
+use crate::log::record::{in_parameter_unit, parameter_unit};
 use crate::log::{Reading, ReadingView, Status, View};
 use chrono::{DateTime, FixedOffset, NaiveDate};
 use serde::Serialize;
@@ -428,26 +428,26 @@ pub fn report(src: &Sources<'_>) -> Report {
             continue;
         };
         // Limits and the statistics are in the parameter's own unit (the one the app records
-        // in). A reading given in another unit (°F, µg/L) is kept apart under its unit and not
-        // compared with a limit it cannot be compared with: said, never silently mixed.
-        let own_unit = unit == parameter_unit(parameter);
-        let row = if own_unit {
-            parameter.clone()
-        } else {
-            format!("{parameter} ({unit})")
-        };
-        tap_values
-            .entry((date, tap.clone(), row))
-            .or_default()
-            .push(*value);
-        if !own_unit {
+        // in): a reading in the same unit written another way (mg/l, µg/L, °F) is converted
+        // to it. One in a unit no conversion reaches (older logs could hold one) is kept apart
+        // under its unit and not compared with a limit it cannot be compared with: said,
+        // never silently mixed.
+        let Some(value) = in_parameter_unit(parameter, *value, unit) else {
+            tap_values
+                .entry((date, tap.clone(), format!("{parameter} ({unit})")))
+                .or_default()
+                .push(*value);
             unchecked.insert((parameter.clone(), unit.clone()));
             continue;
-        }
+        };
+        tap_values
+            .entry((date, tap.clone(), parameter.clone()))
+            .or_default()
+            .push(value);
         if let Some(limit) = src.site.effective_limit(parameter) {
             let beyond = match (limit.min, limit.max) {
-                (_, Some(max)) if *value > max => Some(("above", max)),
-                (Some(min), _) if *value < min => Some(("below", min)),
+                (_, Some(max)) if value > max => Some(("above", max)),
+                (Some(min), _) if value < min => Some(("below", min)),
                 _ => None,
             };
             if let Some((side, bound)) = beyond {
@@ -455,7 +455,7 @@ pub fn report(src: &Sources<'_>) -> Report {
                     date,
                     tap: tap.clone(),
                     parameter: parameter.clone(),
-                    value: *value,
+                    value,
                     side,
                     limit: bound,
                     source: limit.source.clone(),

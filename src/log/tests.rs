@@ -870,3 +870,46 @@ fn merge_checks_each_record_as_a_whole_and_reports_what_it_left_out() {
         "no imported revision reached it"
     );
 }
+
+/// A record dated ahead of this device's clock would outrank every later correction made here
+/// (the latest by time wins): refused when appended, as an import refuses it, and nothing is
+/// written. Within the clock tolerance (one hour) it is kept.
+#[test]
+fn a_record_dated_ahead_of_the_clock_is_refused() {
+    let dir = temp_dir("ahead");
+    let path = dir.join("plant.doselog");
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    let now = Some(DateTime::parse_from_rfc3339("2026-03-04T08:00:00+01:00").unwrap());
+    let original = log
+        .append_at(
+            entry("inlet", "chlorine", "2026-03-04T07:00:00+01:00", "a"),
+            now,
+        )
+        .unwrap();
+    for at in ["9999-01-01T00:00:00Z", "2026-03-04T09:01:00+01:00"] {
+        let e = log
+            .append_at(entry("inlet", "chlorine", at, "ahead"), now)
+            .unwrap_err();
+        assert_eq!(e.kind(), ErrorKind::InvalidEntry, "{at}");
+        let mut fixed = record::example_dose();
+        fixed.note = "ahead".into();
+        let e = log
+            .append_at(
+                Draft::Correction {
+                    at: Some(DateTime::parse_from_rfc3339(at).unwrap()),
+                    corrects: original,
+                    reason: "dated ahead".into(),
+                    dose: fixed,
+                },
+                now,
+            )
+            .unwrap_err();
+        assert_eq!(e.kind(), ErrorKind::InvalidEntry, "{at}");
+    }
+    log.append_at(
+        entry("inlet", "chlorine", "2026-03-04T08:59:00+01:00", "b"),
+        now,
+    )
+    .unwrap();
+    assert_eq!(notes(&log), ["a", "b"]);
+}

@@ -438,24 +438,19 @@ fn same_numbers(a: &Value, b: &Value, at: &str) {
     }
 }
 
-/// A tap reading given in another unit than its parameter's (°F, µg/L) is kept apart in the
-/// report and never compared with a limit in the parameter's unit: 5 000 µg/L of chlorine is
-/// not an exceedance of 4.0 mg/L, and 54 °F is not averaged with 12 °C. Expected rows written
-/// by hand from the readings logged here.
+/// A tap reading given in the same unit written another way, or one an exact factor reaches
+/// (°F, µg/L, "mg/L as Cl2", ppm), is held to the parameter's limit in its unit: 5 000 µg/L of
+/// chlorine is 5.0 mg/L, above the demo permit's 4.0; 54 °F is 12.2 °C and averaged with 12 °C.
+/// A unit nothing converts (chlorine "as N", alkalinity in plain mg/L, which may be as HCO3) is
+/// refused when recorded, so no exceedance is left out. Expected rows worked by hand.
 #[test]
-fn a_tap_reading_in_another_unit_is_reported_apart_and_not_checked() {
+fn a_tap_reading_in_another_unit_is_held_to_the_limit_in_its_parameters_unit() {
     let dir = std::env::temp_dir().join(format!("molefeed-units-cli-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(&dir).unwrap();
     let log = dir.join("plant.doselog");
     let file = log.to_str().unwrap();
-    let readings: [(&str, &str, Option<&str>); 4] = [
-        ("temperature", "12", None),
-        ("temperature", "54", Some("°F")),
-        ("chlorine", "1.2", None),
-        ("chlorine", "5000", Some("µg/L")),
-    ];
-    for (parameter, value, unit) in readings {
+    let reading = |tap: &str, parameter: &str, value: &str, unit: Option<&str>| {
         let mut args = vec![
             "log",
             "reading",
@@ -464,19 +459,44 @@ fn a_tap_reading_in_another_unit_is_reported_apart_and_not_checked() {
             "--site",
             SITE,
             "--tap",
-            "clearwell-tap",
+            tap,
             "--parameter",
             parameter,
             "--value",
             value,
             "--initials",
             "AB",
+            "--json",
         ];
         if let Some(u) = unit {
             args.extend(["--unit", u]);
         }
-        let (code, _, text) = run(&args);
-        assert_eq!(code, 0, "{args:?}: {text}");
+        run(&args)
+    };
+    for (parameter, value, unit) in [
+        ("temperature", "12", None),
+        ("temperature", "54", Some("°F")),
+        ("chlorine", "1.2", None),
+        ("chlorine", "5000", Some("µg/L")),
+        ("chlorine", "0.05", Some("mg/L as Cl2")),
+        ("chlorine", "0.10", Some("ppm")),
+    ] {
+        let (code, _, text) = reading("clearwell-tap", parameter, value, unit);
+        assert_eq!(code, 0, "{parameter} {value} {unit:?}: {text}");
+    }
+    for (tap, parameter, unit) in [
+        ("clearwell-tap", "chlorine", "mg/L as N"),
+        ("raw-tap", "alkalinity", "mg/L"),
+        ("clearwell-tap", "temperature", "K"),
+    ] {
+        let (code, json, text) = reading(tap, parameter, "1", Some(unit));
+        assert_ne!(code, 0, "{parameter} in {unit}: {text}");
+        assert!(
+            json["error"]["message"]
+                .as_str()
+                .is_some_and(|m| m.contains("cannot be held to its limit")),
+            "{text}"
+        );
     }
     let today = chrono::Local::now().date_naive();
     let from = (today - chrono::Days::new(1)).to_string();
@@ -503,23 +523,27 @@ fn a_tap_reading_in_another_unit_is_reported_apart_and_not_checked() {
             .find(|r| r.0 == name)
             .unwrap_or_else(|| panic!("{name} in {rows:?}"))
     };
-    assert_eq!((row("temperature").1, row("temperature").2), (12.0, 1));
-    assert_eq!(
-        (row("temperature (°F)").1, row("temperature (°F)").2),
-        (54.0, 1)
+    // (12 + (54 − 32) × 5/9) / 2 = (12 + 12.222…) / 2.
+    let temperature = row("temperature");
+    assert!(
+        (temperature.1 - (12.0 + 110.0 / 9.0) / 2.0).abs() < 1e-9,
+        "{rows:?}"
     );
-    assert_eq!((row("chlorine").1, row("chlorine").2), (1.2, 1));
-    assert_eq!(
-        (row("chlorine (µg/L)").1, row("chlorine (µg/L)").2),
-        (5000.0, 1)
+    assert_eq!(temperature.2, 2);
+    // (1.2 + 5.0 + 0.05 + 0.10) / 4 = 1.5875.
+    let chlorine = row("chlorine");
+    assert!((chlorine.1 - 1.5875).abs() < 1e-9, "{rows:?}");
+    assert_eq!(chlorine.2, 4);
+    assert_eq!(rows.len(), 2, "{rows:?}");
+    // 5.0 above the maximum of 4.0; 0.05 and 0.10 below the permit's minimum of 0.2.
+    assert_eq!(json["totals"]["exceedances"], 3, "{json}");
+    assert!(
+        !json["cautions"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|c| c["key"] == "reading-unit-not-checked"),
+        "{json}"
     );
-    assert_eq!(json["totals"]["exceedances"], 0, "{json}");
-    let warned: Vec<&Value> = json["cautions"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .filter(|c| c["key"] == "reading-unit-not-checked")
-        .collect();
-    assert_eq!(warned.len(), 2, "{json}");
     std::fs::remove_dir_all(&dir).unwrap();
 }

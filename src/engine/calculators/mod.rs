@@ -999,16 +999,21 @@ fn ranges(
 const CHECKED_IN_COMPUTE: &[&str] = &["chlorite"];
 
 /// Every plant-limit parameter some calculation checks, in a stable order: the limits of the
-/// table's targets, the limits related to them (`site::related_limits`) and those compute
-/// functions check. The one list a front end offers a plant's limits from: a limit on any
-/// other parameter is never checked by anything.
+/// table's targets, the limits related to them (`site::related_limits`), those compute
+/// functions check and the plant path's finished water ([`crate::engine::path`]). The one
+/// list a front end offers a plant's limits from: a limit on any other parameter is checked
+/// by no calculation (only against the readings logged at a tap, if any).
 pub fn checked_limit_parameters() -> Vec<&'static str> {
     let mut out: Vec<&'static str> = Vec::new();
     let targets = all()
         .iter()
         .flat_map(|c| c.inputs.iter())
         .filter_map(|i| i.limit);
-    for parameter in targets.chain(CHECKED_IN_COMPUTE.iter().copied()) {
+    let finished = crate::engine::path::FINISHED_PARAMETERS.iter().copied();
+    for parameter in targets
+        .chain(CHECKED_IN_COMPUTE.iter().copied())
+        .chain(finished)
+    {
         for p in std::iter::once(parameter).chain(site::related_limits(parameter).iter().copied()) {
             if !out.contains(&p) {
                 out.push(p);

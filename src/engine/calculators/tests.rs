@@ -980,7 +980,8 @@ fn a_range_that_cannot_be_computed_is_said_not_narrowed() {
 
 /// The parameters a calculation checks, by hand from the table (pH adjustment's target pH,
 /// chlorination's residual and chloramine dose, fluoridation's target and its related limits,
-/// chlorine dioxide's dose) and the chlorite compute checks itself.
+/// chlorine dioxide's dose), the chlorite compute checks itself and the plant path's finished
+/// water.
 #[test]
 fn the_checked_limit_parameters_are_the_tables_and_computes() {
     let mut got = checked_limit_parameters();
@@ -994,6 +995,16 @@ fn the_checked_limit_parameters_are_the_tables_and_computes() {
         "fluoride-recommended",
         "chlorine-dioxide",
         "chlorite",
+        // The plant path's finished water, by hand from its check: aluminium and iron left,
+        // the corrosion-control targets and the orthophosphate residual.
+        "aluminium",
+        "iron",
+        "alkalinity",
+        "calcium-hardness",
+        "dic",
+        "langelier-index",
+        "ccpp",
+        "orthophosphate",
     ];
     want.sort();
     assert_eq!(got, want);

@@ -426,6 +426,92 @@ fn guide(parameter: &str, min: Option<f64>, max: Option<f64>, unit: &str, source
     }
 }
 
+/// The unit a parameter is read at a tap and held to its limit in (common practice: pH in pH
+/// units, temperature in °C, turbidity in NTU, conductivity in µS/cm, alkalinity, hardness and
+/// CCPP as CaCO3, DIC in mmol/L, the Langelier index without a unit, everything else in mg/L).
+/// One table for the CLI, the app, the log's report and the engine's limit checks.
+pub fn parameter_unit(parameter: &str) -> &'static str {
+    match parameter {
+        "ph" => "pH",
+        "langelier-index" => "",
+        "temperature" => "°C",
+        "turbidity" => "NTU",
+        "conductivity" => "µS/cm",
+        "alkalinity" | "hardness" | "calcium-hardness" | "ccpp" => "mg/L as CaCO3",
+        "dic" => "mmol/L",
+        _ => "mg/L",
+    }
+}
+
+/// The basis a parameter read at a tap (or limited) is stated on, where the trade writes one after
+/// "mg/L as": chlorine residuals as Cl2 (DPD reads them so), fluoride as F, alkalinity and
+/// hardness as CaCO3. `None` for a parameter read as itself.
+fn parameter_basis(parameter: &str) -> Option<&'static str> {
+    match parameter {
+        "chlorine" | "free-chlorine" | "total-chlorine" | "chloramines" | "monochloramine" => {
+            Some("Cl2")
+        }
+        "chlorine-dioxide" => Some("ClO2"),
+        "fluoride" | "fluoride-secondary" | "fluoride-recommended" => Some("F"),
+        "ammonia-n" => Some("N"),
+        "orthophosphate" => Some("PO4"),
+        "alkalinity" | "hardness" | "calcium-hardness" | "ccpp" => Some("CaCO3"),
+        _ => None,
+    }
+}
+
+/// A tap reading's value in its parameter's own unit ([`parameter_unit`]), where `unit` is that
+/// unit written another way ("mg/l", "mg/L as Cl2" for chlorine, "ppm", a mass fraction the
+/// trade reads as mg/L in drinking water: common practice) or one a factor of which is exact
+/// (µg/L and ppb: 1/1000; °F for a temperature). `None` for a unit that cannot be compared
+/// with the parameter's limit (mg/L as N for a parameter read as itself, NTU for a
+/// concentration): such a reading is refused when recorded and kept apart by the report.
+pub fn in_parameter_unit(parameter: &str, value: f64, unit: &str) -> Option<f64> {
+    let own = parameter_unit(parameter);
+    let unit = unit.trim();
+    if unit == own {
+        return Some(value);
+    }
+    let lower = unit.to_lowercase().replace(' ', "");
+    match own {
+        "pH" => matches!(lower.as_str(), "" | "ph" | "su").then_some(value),
+        "" => lower.is_empty().then_some(value),
+        "mmol/L" => match lower.as_str() {
+            "mmol/l" => Some(value),
+            "µmol/l" | "umol/l" | "μmol/l" => Some(value / 1000.0),
+            _ => None,
+        },
+        "°C" => match lower.as_str() {
+            "c" | "°c" | "degc" | "celsius" => Some(value),
+            "f" | "°f" | "degf" | "fahrenheit" => Some((value - 32.0) * 5.0 / 9.0),
+            _ => None,
+        },
+        "NTU" => (lower == "ntu").then_some(value),
+        "µS/cm" => matches!(lower.as_str(), "µs/cm" | "us/cm" | "μs/cm").then_some(value),
+        _ => {
+            // Split a basis off: "mg/L as CaCO3" → ("mg/l", Some("CaCO3")).
+            let (amount, basis) = match unit.split_once(" as ") {
+                Some((a, b)) => (a.to_lowercase().replace(' ', ""), Some(b.trim())),
+                None => (lower.clone(), None),
+            };
+            // A basis must be the parameter's own. Where the parameter's own unit writes its
+            // basis (alkalinity as CaCO3), a unit without one is ambiguous (alkalinity in mg/L
+            // may be as HCO3, 1.22 times as much) and is not read.
+            let written = own.contains(" as ");
+            if (basis.is_some() && basis != parameter_basis(parameter))
+                || (written && basis.is_none())
+            {
+                return None;
+            }
+            match amount.as_str() {
+                "mg/l" | "ppm" => Some(value),
+                "µg/l" | "ug/l" | "μg/l" | "ppb" => Some(value / 1000.0),
+                _ => None,
+            }
+        }
+    }
+}
+
 /// Limits a federal US rule sets, each with its source; a plant's permit entry overrides them.
 pub fn regulatory_defaults() -> Vec<Limit> {
     vec![
@@ -703,6 +789,22 @@ impl SiteProfile {
             }
         }
         for l in &self.limits {
+            // A limit every check can compare with: in its parameter's unit or one an exact
+            // factor reaches (see `in_parameter_unit`); otherwise a reading of 0.5 mg/L would
+            // be held to "100" of an unknown unit.
+            if in_parameter_unit(&l.parameter, 1.0, &l.unit).is_none() {
+                return Err(invalid(
+                    "limit-unit-not-understood",
+                    format!(
+                        "limit for {}: unit '{}' cannot be compared with its readings; give it in {}",
+                        l.parameter,
+                        l.unit,
+                        parameter_unit(&l.parameter)
+                    ),
+                    &l.parameter,
+                )
+                .with("unit", parameter_unit(&l.parameter)));
+            }
             for v in [l.min, l.max].into_iter().flatten() {
                 check_range("limit", v, 0.0, 1e6, &l.unit)
                     .map_err(|e| e.with("entry", &l.parameter))?;
@@ -920,8 +1022,11 @@ pub fn related_limits(parameter: &str) -> &'static [&'static str] {
 
 /// The limit on `parameter` that applies given a plant's own entries: its entry, else the
 /// regulatory default, else none. The one place a limit is chosen; every check goes through it.
+/// An entry in another unit than its parameter's (µg/L for aluminium) comes back in the
+/// parameter's unit ([`parameter_unit`]), so a check compares like with like; one in a unit
+/// no conversion reaches is refused when the profile is read (`limit-unit-not-understood`).
 pub fn effective_limit(plant: &[Limit], parameter: &str) -> Option<Limit> {
-    plant
+    let limit = plant
         .iter()
         .find(|l| l.parameter == parameter)
         .cloned()
@@ -929,5 +1034,115 @@ pub fn effective_limit(plant: &[Limit], parameter: &str) -> Option<Limit> {
             regulatory_defaults()
                 .into_iter()
                 .find(|l| l.parameter == parameter)
-        })
+        })?;
+    // The same unit written another way ("mg/L as Cl2" for chlorine) is kept as written.
+    if in_parameter_unit(parameter, 1.0, &limit.unit) == Some(1.0) {
+        return Some(limit);
+    }
+    let convert = |v: Option<f64>| v.and_then(|v| in_parameter_unit(parameter, v, &limit.unit));
+    Some(Limit {
+        min: convert(limit.min),
+        max: convert(limit.max),
+        unit: parameter_unit(parameter).to_string(),
+        ..limit
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A tap reading in `unit` as the report compares it: `expected` in the parameter's own
+    /// unit, or `None` where no conversion is known (each worked by hand).
+    fn check_unit(parameter: &str, value: f64, unit: &str, expected: Option<f64>) {
+        let got = in_parameter_unit(parameter, value, unit);
+        match (got, expected) {
+            (Some(g), Some(e)) => assert!((g - e).abs() < 1e-12, "{parameter} {value} {unit}: {g}"),
+            _ => assert_eq!(got, expected, "{parameter} {value} {unit}"),
+        }
+    }
+
+    #[test]
+    fn a_tap_reading_is_compared_in_its_parameters_own_unit() {
+        check_unit("chlorine", 0.05, "mg/L", Some(0.05));
+        check_unit("chlorine", 0.05, "mg/l", Some(0.05));
+        check_unit("chlorine", 0.05, "ppm", Some(0.05));
+        check_unit("chlorine", 0.05, "mg/L as Cl2", Some(0.05));
+        check_unit("chlorine", 0.05, "mg/L as HOCl", None);
+        check_unit("aluminium", 150.0, "µg/L", Some(0.15));
+        check_unit("aluminium", 150.0, "ug/l", Some(0.15));
+        check_unit("aluminium", 150.0, "ppb", Some(0.15));
+        check_unit("aluminium", 0.15, "NTU", None);
+        check_unit("alkalinity", 25.0, "mg/L as CaCO3", Some(25.0));
+        check_unit("alkalinity", 25.0, "mg/l as CaCO3", Some(25.0));
+        check_unit("alkalinity", 25.0, "mg/L", None);
+        check_unit("alkalinity", 25.0, "mg/L as HCO3", None);
+        check_unit("ammonia-n", 0.4, "mg/L as N", Some(0.4));
+        check_unit("ammonia-n", 0.4, "mg/L as NH3", None);
+        check_unit("fluoride", 0.7, "mg/L as F", Some(0.7));
+        // (59 − 32) × 5/9 = 15 °C.
+        check_unit("temperature", 59.0, "°F", Some(15.0));
+        check_unit("temperature", 15.0, "C", Some(15.0));
+        check_unit("temperature", 15.0, "K", None);
+        check_unit("ph", 7.2, "", Some(7.2));
+        check_unit("ph", 7.2, "SU", Some(7.2));
+        check_unit("turbidity", 0.3, "ntu", Some(0.3));
+        check_unit("turbidity", 0.3, "FNU", None);
+        // The parameters only a limit names: DIC, the Langelier index, CCPP, orthophosphate.
+        check_unit("dic", 1.2, "mmol/L", Some(1.2));
+        check_unit("dic", 1200.0, "µmol/L", Some(1.2));
+        check_unit("dic", 1.2, "mg/L", None);
+        check_unit("langelier-index", -0.2, "", Some(-0.2));
+        check_unit("langelier-index", -0.2, "mg/L", None);
+        check_unit("ccpp", 4.0, "mg/L as CaCO3", Some(4.0));
+        check_unit("orthophosphate", 1.0, "mg/L as PO4", Some(1.0));
+        check_unit("orthophosphate", 1.0, "mg/L as P", None);
+        check_unit("chlorine-dioxide", 0.8, "mg/L as ClO2", Some(0.8));
+    }
+
+    /// A plant's limit in µg/L is held in mg/L, the unit its checks compare in (100 µg/L is
+    /// 0.1 mg/L); one in a unit nothing converts is refused when the profile is read.
+    #[test]
+    fn a_limit_in_another_unit_is_held_in_its_parameters_unit() {
+        let catalog = super::super::catalog::Catalog::builtin().unwrap();
+        let with_limit = |unit: &str| {
+            let mut json: serde_json::Value =
+                serde_json::from_str(&SiteProfile::demo(&catalog).unwrap().to_json().unwrap())
+                    .unwrap();
+            let limits = json["limits"].as_array_mut().unwrap();
+            limits.retain(|l| l["parameter"] != "aluminium");
+            limits.push(
+                serde_json::json!({"parameter": "aluminium", "min": null, "max": 100,
+                "unit": unit, "source": "plant permit (invented)"}),
+            );
+            SiteProfile::from_json(&json.to_string(), &catalog)
+        };
+        let site = with_limit("µg/L").unwrap();
+        let limit = site.effective_limit("aluminium").unwrap();
+        assert!((limit.max.unwrap() - 0.1).abs() < 1e-15, "{limit:?}");
+        assert_eq!(limit.unit, "mg/L");
+        assert!(limit.enforceable);
+        // As written where no factor is needed: the rule's own words in the caution.
+        let chlorine = effective_limit(&[], "chlorine").unwrap();
+        assert_eq!(chlorine.unit, "mg/L as Cl2");
+        let e = with_limit("NTU").unwrap_err();
+        assert_eq!(e.reason(), Some("limit-unit-not-understood"), "{e}");
+    }
+
+    /// Every regulatory default is in a unit its parameter's checks read, with no factor: the
+    /// caution then says the limit as the rule writes it.
+    #[test]
+    fn the_regulatory_defaults_are_in_their_parameters_units() {
+        for l in regulatory_defaults() {
+            for v in [l.min, l.max].into_iter().flatten() {
+                assert_eq!(
+                    in_parameter_unit(&l.parameter, v, &l.unit),
+                    Some(v),
+                    "{} in '{}'",
+                    l.parameter,
+                    l.unit
+                );
+            }
+        }
+    }
 }
