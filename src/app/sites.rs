@@ -142,6 +142,9 @@ pub fn add_tap(site: &mut SiteProfile, name: &str) -> bool {
         id,
         name: name.to_string(),
         parameters: Vec::new(),
+        // Held to the plant's limits until the profile says it samples raw or process water:
+        // an exceedance over-counted is checked, one left out is not.
+        finished_water: true,
     });
     true
 }

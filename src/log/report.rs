@@ -444,6 +444,17 @@ pub fn report(src: &Sources<'_>) -> Report {
             .entry((date, tap.clone(), parameter.clone()))
             .or_default()
             .push(value);
+        // The plant's limits are on the water it sends out: a raw or process tap's reading is
+        // reported, not judged against them.
+        let finished = src
+            .site
+            .sampling_taps
+            .iter()
+            .find(|t| t.id == *tap)
+            .is_none_or(|t| t.finished_water);
+        if !finished {
+            continue;
+        }
         if let Some(limit) = src.site.effective_limit(parameter) {
             let beyond = match (limit.min, limit.max) {
                 (_, Some(max)) if value > max => Some(("above", max)),

@@ -442,7 +442,8 @@ fn same_numbers(a: &Value, b: &Value, at: &str) {
 /// (°F, µg/L, "mg/L as Cl2", ppm), is held to the parameter's limit in its unit: 5 000 µg/L of
 /// chlorine is 5.0 mg/L, above the demo permit's 4.0; 54 °F is 12.2 °C and averaged with 12 °C.
 /// A unit nothing converts (chlorine "as N", alkalinity in plain mg/L, which may be as HCO3) is
-/// refused when recorded, so no exceedance is left out. Expected rows worked by hand.
+/// refused when recorded, so no exceedance is left out. A raw or process tap's reading is not
+/// held to the finished-water limits. Expected rows worked by hand.
 #[test]
 fn a_tap_reading_in_another_unit_is_held_to_the_limit_in_its_parameters_unit() {
     let dir = std::env::temp_dir().join(format!("molefeed-units-cli-{}", std::process::id()));
@@ -483,6 +484,15 @@ fn a_tap_reading_in_another_unit_is_held_to_the_limit_in_its_parameters_unit() {
     ] {
         let (code, _, text) = reading("clearwell-tap", parameter, value, unit);
         assert_eq!(code, 0, "{parameter} {value} {unit:?}: {text}");
+    }
+    // A raw and a process tap (the demo marks them so): read, reported, not held to the
+    // finished-water limits (alkalinity at least 30, aluminium at most 0.1).
+    for (tap, parameter, value) in [
+        ("raw-tap", "alkalinity", "25"),
+        ("settled-tap", "aluminium", "0.15"),
+    ] {
+        let (code, _, text) = reading(tap, parameter, value, None);
+        assert_eq!(code, 0, "{tap} {parameter}: {text}");
     }
     for (tap, parameter, unit) in [
         ("clearwell-tap", "chlorine", "mg/L as N"),
@@ -534,8 +544,11 @@ fn a_tap_reading_in_another_unit_is_held_to_the_limit_in_its_parameters_unit() {
     let chlorine = row("chlorine");
     assert!((chlorine.1 - 1.5875).abs() < 1e-9, "{rows:?}");
     assert_eq!(chlorine.2, 4);
-    assert_eq!(rows.len(), 2, "{rows:?}");
-    // 5.0 above the maximum of 4.0; 0.05 and 0.10 below the permit's minimum of 0.2.
+    assert_eq!(row("alkalinity").1, 25.0);
+    assert_eq!(row("aluminium").1, 0.15);
+    assert_eq!(rows.len(), 4, "{rows:?}");
+    // At the clearwell: 5.0 above the maximum of 4.0; 0.05 and 0.10 below the permit's
+    // minimum of 0.2. Not the raw alkalinity nor the settled aluminium.
     assert_eq!(json["totals"]["exceedances"], 3, "{json}");
     assert!(
         !json["cautions"]

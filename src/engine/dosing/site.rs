@@ -41,6 +41,17 @@ pub struct SamplingTap {
     pub name: String,
     #[serde(default)]
     pub parameters: Vec<String>,
+    /// Whether the tap samples the water the plant sends out (clearwell effluent, entry to
+    /// distribution): only such a tap's readings are held to the plant's limits, which are
+    /// limits on finished water. A raw or process tap (settled water) is read to run the
+    /// plant, and its alkalinity of 25 is no breach of a finished-water minimum of 30. Absent:
+    /// finished, so an older profile counts every exceedance it counted before.
+    #[serde(default = "finished_unless_said")]
+    pub finished_water: bool,
+}
+
+fn finished_unless_said() -> bool {
+    true
 }
 
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
