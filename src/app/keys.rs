@@ -65,6 +65,10 @@ pub const ENGINE_TEXT_KEYS: &[&str] = &[
     // The operating report's cross-check by tank drop and its gaps (`log::report`).
     "fed-dose-deviates",
     "totalizer-went-back",
+    "report-other-sites-left-out",
+    "totalizer-beyond-full-scale",
+    "readings-days-apart",
+    "residual-days-without-reading",
     "reading-unit-not-checked",
     "tank-rose-without-delivery",
     "delivery-not-converted",

@@ -566,8 +566,9 @@ impl StockScreen {
                 ("to", r.to.to_string()),
                 (
                     "water",
-                    numbers::format_sig(t.water_treated_l / report::L_PER_MG, 4, lang),
+                    numbers::format_sig(report::water_in(r.units, t.water_treated_l), 4, lang),
                 ),
+                ("water_unit", report::water_unit(r.units).to_string()),
                 ("days", t.days_with_data.to_string()),
                 ("corrections", t.corrections.to_string()),
                 ("voids", t.voids.to_string()),
@@ -748,7 +749,7 @@ mod tests {
                 .with_ymd_and_hms(2026, 11, day, 7, 0, 0)
                 .unwrap(),
             entered_at: None,
-            site: "demo".into(),
+            site: "Harrowmere Tarn Water Works (demo)".into(),
             status: Status::Original,
             reading: Reading::TankLevel {
                 operator: "RK".into(),

@@ -19,7 +19,8 @@ use crate::engine::dosing::catalog::{Catalog, active_to_product};
 use crate::engine::dosing::caution::{Caution, Severity};
 use crate::engine::dosing::pumpcheck::Tolerance;
 use crate::engine::dosing::site::SiteProfile;
-use crate::engine::dosing::units::{LengthUnit, UnitSystem};
+use crate::engine::dosing::units::{Flow, LengthUnit, UnitSystem};
+use crate::engine::sigfig::{Measured, format_sig};
 use crate::engine::trace::{Origin, Quantity, Trace};
 use crate::log::record::{in_parameter_unit, parameter_unit};
 use crate::log::{Reading, ReadingView, Status, View};
@@ -59,6 +60,8 @@ impl Stats {
 pub struct ProductDay {
     /// Product used, L (tank drop + deliveries); `None` without two level readings.
     pub product_used_l: Option<f64>,
+    /// How many days that use was counted over (see [`Day::water_treated_days`]).
+    pub product_used_days: Option<i64>,
     /// Product delivered, L.
     pub delivered_l: f64,
     /// Active chemical used, kg, as the product's dose compound.
@@ -92,6 +95,9 @@ pub struct Day {
     pub date: NaiveDate,
     /// Water treated (totaliser differences), L.
     pub water_treated_l: Option<f64>,
+    /// How many days that water was counted over: 1 with a reading every day; more when the
+    /// next reading came days later (the use of the days between is booked here, and said).
+    pub water_treated_days: Option<i64>,
     /// By delivered product id.
     pub products: BTreeMap<String, ProductDay>,
     /// By (tap, parameter).
@@ -115,7 +121,7 @@ pub struct ProductTotal {
     pub product_used_l: f64,
     pub delivered_l: f64,
     pub active_used_kg: f64,
-    /// Σ active ÷ Σ water over the days that have both, mg/L.
+    /// Σ active ÷ Σ water over the days that have both, counted over the same days, mg/L.
     pub calculated_dose_mg_l: Option<f64>,
     /// Every dose logged in the period (mg/L).
     pub logged_dose: Option<Stats>,
@@ -143,6 +149,9 @@ pub struct Report {
     pub totals: Totals,
     /// The cross-check of the pumps by tank drop, gaps in the readings.
     pub cautions: Vec<Caution>,
+    /// By delivered product id: the compound its active chemical and doses are stated as
+    /// (`Cl2` for hypochlorite, the hydrate for alum), so no amount is printed without it.
+    pub bases: BTreeMap<String, String>,
 }
 
 /// What the report is computed from. `readings` should reach one day past `to` (the readings
@@ -197,6 +206,30 @@ fn strength_factors(src: &Sources<'_>, delivered_id: &str) -> Option<(f64, Optio
     ))
 }
 
+/// How many local days an interval from the day `from` to the day `to` counts: 1 from one
+/// morning round to the next; at least 1 (two readings on the same day).
+fn spanned_days(from: NaiveDate, to: NaiveDate) -> i64 {
+    (to - from).num_days().max(1)
+}
+
+/// A meter's or tank's readings `span` days apart: the use of the days between is booked to
+/// the first, and said.
+fn gap_caution(what: &str, from: NaiveDate, to: NaiveDate, span: i64) -> Caution {
+    Caution::warning("readings-days-apart")
+        .with("what", what)
+        .with("from", from)
+        .with("to", to)
+        .with("days", span)
+}
+
+/// The volume unit of a site's unit system, as the report prints it.
+fn volume_unit(units: UnitSystem) -> &'static str {
+    match units {
+        UnitSystem::Us => "gal",
+        UnitSystem::Si => "L",
+    }
+}
+
 fn live(readings: &[ReadingView]) -> impl Iterator<Item = &ReadingView> {
     readings.iter().filter(|r| r.status != Status::Voided)
 }
@@ -205,6 +238,45 @@ fn live(readings: &[ReadingView]) -> impl Iterator<Item = &ReadingView> {
 /// tap readings and exceedances; the month's totals; the cautions of the cross-check.
 pub fn report(src: &Sources<'_>) -> Report {
     let mut cautions = Vec::new();
+    // One plant's report: a log merged from another plant's device (or an entry made for
+    // another site) is left out, and said to be.
+    let plant = src.site.name.as_str();
+    let other_sites: BTreeSet<&str> = src
+        .readings
+        .iter()
+        .map(|r| r.site.as_str())
+        .chain(src.doses.iter().map(|v| v.site.as_str()))
+        .filter(|s| *s != plant)
+        .collect();
+    let left_out = src.readings.iter().filter(|r| r.site != plant).count()
+        + src.doses.iter().filter(|v| v.site != plant).count();
+    if left_out > 0 {
+        cautions.push(
+            Caution::warning("report-other-sites-left-out")
+                .with("count", left_out)
+                .with(
+                    "sites",
+                    other_sites.into_iter().collect::<Vec<_>>().join(", "),
+                ),
+        );
+    }
+    let readings: Vec<ReadingView> = src
+        .readings
+        .iter()
+        .filter(|r| r.site == plant)
+        .cloned()
+        .collect();
+    let doses: Vec<View> = src
+        .doses
+        .iter()
+        .filter(|v| v.site == plant)
+        .cloned()
+        .collect();
+    let src = &Sources {
+        readings: &readings,
+        doses: &doses,
+        ..*src
+    };
     let in_period = |d: NaiveDate| d >= src.from && d <= src.to;
     let mut days: BTreeMap<NaiveDate, Day> = src
         .from
@@ -216,6 +288,7 @@ pub fn report(src: &Sources<'_>) -> Report {
                 Day {
                     date,
                     water_treated_l: None,
+                    water_treated_days: None,
                     products: BTreeMap::new(),
                     taps: BTreeMap::new(),
                     exceedances: Vec::new(),
@@ -243,8 +316,13 @@ pub fn report(src: &Sources<'_>) -> Report {
             })
             .collect();
         series.sort_by_key(|s| s.0);
+        // The most the meter can pass in a day, L: its full scale.
+        let full_scale_l_per_day = Flow::new(Measured::exact(meter.max), meter.unit)
+            .to_l_per_day()
+            .ok()
+            .map(|l| l.value());
         for w in series.windows(2) {
-            let ((t1, v1), (_, v2)) = (w[0], w[1]);
+            let ((t1, v1), (t2, v2)) = (w[0], w[1]);
             let date = day_of(&t1);
             if !in_period(date) {
                 continue;
@@ -257,8 +335,30 @@ pub fn report(src: &Sources<'_>) -> Report {
                 );
                 continue;
             }
+            // More water than the meter passes at full scale in the time between the two
+            // readings is a reading typed wrong (a digit too many), not water treated.
+            let hours = (t2 - t1).num_seconds() as f64 / 3600.0;
+            if let Some(most) = full_scale_l_per_day.map(|d| d * hours / 24.0)
+                && v2 - v1 > most
+            {
+                cautions.push(
+                    Caution::warning("totalizer-beyond-full-scale")
+                        .with("meter", &meter.id)
+                        .with("date", date)
+                        .with("counted", format_sig(volume_in(src.site.units, v2 - v1), 3))
+                        .with("most", format_sig(volume_in(src.site.units, most), 3))
+                        .with("unit", volume_unit(src.site.units)),
+                );
+                continue;
+            }
+            let span = spanned_days(date, day_of(&t2));
+            if span > 1 {
+                cautions.push(gap_caution(&meter.id, date, day_of(&t2), span));
+            }
             if let Some(day) = days.get_mut(&date) {
                 *day.water_treated_l.get_or_insert(0.0) += v2 - v1;
+                let days = day.water_treated_days.get_or_insert(span);
+                *days = (*days).max(span);
             }
         }
     }
@@ -315,6 +415,10 @@ pub fn report(src: &Sources<'_>) -> Report {
             if !in_period(date) {
                 continue;
             }
+            let span = spanned_days(date, day_of(&t2));
+            if span > 1 {
+                cautions.push(gap_caution(&tank.id, date, day_of(&t2), span));
+            }
             let used = v1 - v2 + delivered;
             if used < 0.0 {
                 cautions.push(
@@ -328,6 +432,8 @@ pub fn report(src: &Sources<'_>) -> Report {
             };
             let p = day.products.entry(product.clone()).or_default();
             *p.product_used_l.get_or_insert(0.0) += used;
+            let days = p.product_used_days.get_or_insert(span);
+            *days = (*days).max(span);
             p.delivered_l += delivered;
         }
     }
@@ -372,14 +478,20 @@ pub fn report(src: &Sources<'_>) -> Report {
 
     for day in days.values_mut() {
         let water = day.water_treated_l;
+        let water_days = day.water_treated_days;
         let date = day.date;
         for (id, p) in day.products.iter_mut() {
             let factors = strength_factors(src, id);
             if let (Some(used), Some((active_per_l, _))) = (p.product_used_l, factors) {
                 let active = used * active_per_l;
                 p.active_used_kg = Some(active);
-                // kg → mg is 10⁶; mg per L of water treated.
-                p.calculated_dose_mg_l = water.filter(|w| *w > 0.0).map(|w| active * 1.0e6 / w);
+                // kg → mg is 10⁶; mg per L of water treated. Only where the chemical and the
+                // water were counted over the same days: a missed totaliser reading puts two
+                // days' water beside one day's chemical, half the dose fed.
+                p.calculated_dose_mg_l = water
+                    .filter(|w| *w > 0.0)
+                    .filter(|_| p.product_used_days == water_days)
+                    .map(|w| active * 1.0e6 / w);
             }
             let (doses, settings) = doses_of(date, id);
             p.logged_dose = Stats::of(&doses);
@@ -488,8 +600,18 @@ pub fn report(src: &Sources<'_>) -> Report {
         }
     }
 
+    cautions.extend(residual_days_missed(src, &days));
     let days: Vec<Day> = days.into_values().collect();
     let totals = totals(src, &days);
+    let bases = totals
+        .products
+        .keys()
+        .filter_map(|id| {
+            let d = src.site.delivered(id).ok()?;
+            let p = src.catalog.product(&d.product).ok()?;
+            Some((id.clone(), p.dose_as.clone()))
+        })
+        .collect();
     Report {
         plant: src.site.name.clone(),
         from: src.from,
@@ -498,7 +620,54 @@ pub fn report(src: &Sources<'_>) -> Report {
         days,
         totals,
         cautions,
+        bases,
     }
+}
+
+/// The disinfectant residual parameters a finished-water tap reads.
+const RESIDUALS: [&str; 4] = ["chlorine", "free-chlorine", "total-chlorine", "chloramines"];
+
+/// Days the plant has records for but a finished-water tap's disinfectant residual has no
+/// reading: the residual entering distribution is monitored every day the plant runs (common
+/// practice; the permit says how often), and a day without it is a gap the report must show,
+/// not a blank. One caution per tap and parameter, its dates listed.
+fn residual_days_missed(src: &Sources<'_>, days: &BTreeMap<NaiveDate, Day>) -> Vec<Caution> {
+    let running: Vec<NaiveDate> = days
+        .values()
+        .filter(|d| d.has_data())
+        .map(|d| d.date)
+        .collect();
+    let (Some(first), Some(last)) = (running.first(), running.last()) else {
+        return Vec::new();
+    };
+    let mut out = Vec::new();
+    for tap in src.site.sampling_taps.iter().filter(|t| t.finished_water) {
+        for parameter in tap
+            .parameters
+            .iter()
+            .filter(|p| RESIDUALS.contains(&p.as_str()))
+        {
+            let missed: Vec<String> = days
+                .range(*first..=*last)
+                .filter(|(_, d)| {
+                    !d.taps
+                        .keys()
+                        .any(|(t, p)| *t == tap.id && p.split(' ').next() == Some(parameter))
+                })
+                .map(|(date, _)| date.to_string())
+                .collect();
+            if !missed.is_empty() {
+                out.push(
+                    Caution::warning("residual-days-without-reading")
+                        .with("tap", &tap.id)
+                        .with("parameter", parameter)
+                        .with("count", missed.len())
+                        .with("dates", missed.join(", ")),
+                );
+            }
+        }
+    }
+    out
 }
 
 fn totals(src: &Sources<'_>, days: &[Day]) -> Totals {
@@ -513,7 +682,12 @@ fn totals(src: &Sources<'_>, days: &[Day]) -> Totals {
             total.product_used_l += p.product_used_l.unwrap_or(0.0);
             total.delivered_l += p.delivered_l;
             total.active_used_kg += p.active_used_kg.unwrap_or(0.0);
-            if let (Some(a), Some(w)) = (p.active_used_kg, day.water_treated_l) {
+            // The days whose chemical and water were counted over the same days.
+            if let (Some(a), Some(w), Some(_)) = (
+                p.active_used_kg,
+                day.water_treated_l,
+                p.calculated_dose_mg_l,
+            ) {
                 let e = dosed_water.entry(id.clone()).or_default();
                 e.0 += a;
                 e.1 += w;
@@ -676,6 +850,39 @@ pub fn volume_in(units: UnitSystem, litres: f64) -> f64 {
     }
 }
 
+/// Water treated in the site's unit system: million US gallons for a US plant, m³ for an SI
+/// one (an SI plant's "2.1 MG" reads as ML, 3.785 times too little).
+pub fn water_in(units: UnitSystem, litres: f64) -> f64 {
+    match units {
+        UnitSystem::Us => litres / L_PER_MG,
+        UnitSystem::Si => litres / 1000.0,
+    }
+}
+
+/// The unit of [`water_in`].
+pub fn water_unit(units: UnitSystem) -> &'static str {
+    match units {
+        UnitSystem::Us => "MG",
+        UnitSystem::Si => "m³",
+    }
+}
+
+/// Active chemical in the site's unit system: lb for a US plant, kg for an SI one.
+pub fn mass_in(units: UnitSystem, kg: f64) -> f64 {
+    match units {
+        UnitSystem::Us => kg / KG_PER_LB,
+        UnitSystem::Si => kg,
+    }
+}
+
+/// The unit of [`mass_in`].
+pub fn mass_unit(units: UnitSystem) -> &'static str {
+    match units {
+        UnitSystem::Us => "lb",
+        UnitSystem::Si => "kg",
+    }
+}
+
 /// The report as the `--json` shape: `days` (date, water treated in MG, per product the
 /// product used in the site's volume unit, active lb and calculated dose) and `totals`.
 pub fn to_json(r: &Report) -> serde_json::Value {
@@ -684,10 +891,14 @@ pub fn to_json(r: &Report) -> serde_json::Value {
         UnitSystem::Us => "gal",
         UnitSystem::Si => "L",
     };
-    let product = |p: &ProductDay| {
+    let basis = |id: &str| r.bases.get(id).cloned();
+    let product = |id: &str, p: &ProductDay| {
         json!({
             "product_used": p.product_used_l.map(|l| volume_in(r.units, l)),
+            "product_used_days": p.product_used_days,
             "active_used_lb": p.active_used_kg.map(|kg| kg / KG_PER_LB),
+            "active_used_kg": p.active_used_kg,
+            "active_as": basis(id),
             "calculated_dose_mg_l": p.calculated_dose_mg_l,
             "delivered": volume_in(r.units, p.delivered_l),
             "logged_dose_mg_l": p.logged_dose,
@@ -702,7 +913,7 @@ pub fn to_json(r: &Report) -> serde_json::Value {
             let products: serde_json::Map<String, serde_json::Value> = d
                 .products
                 .iter()
-                .map(|(id, p)| (id.clone(), product(p)))
+                .map(|(id, p)| (id.clone(), product(id, p)))
                 .collect();
             let taps: Vec<serde_json::Value> = d
                 .taps
@@ -714,6 +925,8 @@ pub fn to_json(r: &Report) -> serde_json::Value {
             json!({
                 "date": d.date.to_string(),
                 "water_treated_mg": d.water_treated_l.map(|l| l / L_PER_MG),
+                "water_treated_m3": d.water_treated_l.map(|l| l / 1000.0),
+                "water_treated_days": d.water_treated_days,
                 "products": products,
                 "taps": taps,
                 "exceedances": d.exceedances,
@@ -731,6 +944,8 @@ pub fn to_json(r: &Report) -> serde_json::Value {
                     "product_used": volume_in(r.units, p.product_used_l),
                     "delivered": volume_in(r.units, p.delivered_l),
                     "active_used_lb": p.active_used_kg / KG_PER_LB,
+                    "active_used_kg": p.active_used_kg,
+                    "active_as": basis(id),
                     "calculated_dose_mg_l": p.calculated_dose_mg_l,
                     "logged_dose_mg_l": p.logged_dose,
                 }),
@@ -745,6 +960,7 @@ pub fn to_json(r: &Report) -> serde_json::Value {
         "days": days,
         "totals": {
             "water_treated_mg": r.totals.water_treated_l / L_PER_MG,
+            "water_treated_m3": r.totals.water_treated_l / 1000.0,
             "products": products,
             "days_with_data": r.totals.days_with_data,
             "corrections": r.totals.corrections,
@@ -760,30 +976,34 @@ pub fn to_json(r: &Report) -> serde_json::Value {
 pub const ADVISORY: &str = "Advisory only: the calculated doses come from tank readings, deliveries and totaliser readings as logged; a licensed operator decides the feed, under the plant's permit and local codes.";
 
 /// The daily table as CSV (RFC 4180, text defused like the log's export): one row per day and
-/// product, water in MG, product in the site's volume unit, active in lb.
+/// product, in the site's units (water in MG or m³, product in gal or L, active in lb or kg,
+/// with the compound it is stated as).
 pub fn to_csv(r: &Report) -> String {
-    let unit = match r.units {
-        UnitSystem::Us => "gal",
-        UnitSystem::Si => "L",
+    let unit = volume_unit(r.units);
+    let water_unit = match r.units {
+        UnitSystem::Us => "MG",
+        UnitSystem::Si => "m3",
     };
+    let mass_unit = mass_unit(r.units);
     let mut out = format!(
-        "date,water_treated_MG,product,product_used_{unit},delivered_{unit},active_used_lb,calculated_dose_mg_per_L,logged_dose_avg_mg_per_L,logged_dose_min_mg_per_L,logged_dose_max_mg_per_L,deviation_percent\r\n"
+        "date,water_treated_{water_unit},product,product_used_{unit},delivered_{unit},active_used_{mass_unit},active_as,calculated_dose_mg_per_L,logged_dose_avg_mg_per_L,logged_dose_min_mg_per_L,logged_dose_max_mg_per_L,deviation_percent\r\n"
     );
     let num = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_default();
     for d in &r.days {
-        let water = d.water_treated_l.map(|l| l / L_PER_MG);
+        let water = d.water_treated_l.map(|l| water_in(r.units, l));
         if d.products.is_empty() {
-            out.push_str(&format!("{},{},,,,,,,,,\r\n", d.date, num(water)));
+            out.push_str(&format!("{},{},,,,,,,,,,\r\n", d.date, num(water)));
         }
         for (id, p) in &d.products {
             out.push_str(&format!(
-                "{},{},{},{},{},{},{},{},{},{},{}\r\n",
+                "{},{},{},{},{},{},{},{},{},{},{},{}\r\n",
                 d.date,
                 num(water),
                 super::export::csv_text(id),
                 num(p.product_used_l.map(|l| volume_in(r.units, l))),
                 volume_in(r.units, p.delivered_l),
-                num(p.active_used_kg.map(|kg| kg / KG_PER_LB)),
+                num(p.active_used_kg.map(|kg| mass_in(r.units, kg))),
+                super::export::csv_text(r.bases.get(id).map_or("", String::as_str)),
                 num(p.calculated_dose_mg_l),
                 num(p.logged_dose.map(|s| s.avg)),
                 num(p.logged_dose.map(|s| s.min)),
@@ -793,8 +1013,8 @@ pub fn to_csv(r: &Report) -> String {
         }
     }
     out.push_str(&format!(
-        "total,{},,,,,,,,,\r\n",
-        r.totals.water_treated_l / L_PER_MG
+        "total,{},,,,,,,,,,\r\n",
+        water_in(r.units, r.totals.water_treated_l)
     ));
     out
 }
@@ -856,16 +1076,14 @@ pub fn write_report(r: &Report, format: Format, path: &std::path::Path) -> super
 
 /// The report in a few lines for the terminal: the period, the month's totals per product.
 pub fn summary(r: &Report) -> String {
-    let unit = match r.units {
-        UnitSystem::Us => "gal",
-        UnitSystem::Si => "L",
-    };
+    let unit = volume_unit(r.units);
     let mut out = format!(
-        "{}\n{} to {}: water treated {:.4} MG, {} days with data, {} corrections, {} voids, {} exceedances\n",
+        "{}\n{} to {}: water treated {:.4} {}, {} days with data, {} corrections, {} voids, {} exceedances\n",
         r.plant,
         r.from,
         r.to,
-        r.totals.water_treated_l / L_PER_MG,
+        water_in(r.units, r.totals.water_treated_l),
+        water_unit(r.units),
         r.totals.days_with_data,
         r.totals.corrections,
         r.totals.voids,
@@ -873,12 +1091,16 @@ pub fn summary(r: &Report) -> String {
     );
     for (id, p) in &r.totals.products {
         out.push_str(&format!(
-            "{id}: used {:.1} {unit}, delivered {:.1} {unit}, active {:.1} lb, calculated dose {}, logged dose {}\n",
+            "{id}: used {:.1} {unit}, delivered {:.1} {unit}, active {:.1} {} as {}, calculated dose {}, logged dose {}\n",
             volume_in(r.units, p.product_used_l),
             volume_in(r.units, p.delivered_l),
-            p.active_used_kg / KG_PER_LB,
-            p.calculated_dose_mg_l
-                .map_or("-".to_string(), |d| format!("{d:.3} mg/L")),
+            mass_in(r.units, p.active_used_kg),
+            mass_unit(r.units),
+            r.bases.get(id).map_or("?", String::as_str),
+            p.calculated_dose_mg_l.map_or("-".to_string(), |d| format!(
+                "{d:.3} mg/L as {}",
+                r.bases.get(id).map_or("?", String::as_str)
+            )),
             p.logged_dose
                 .map_or("-".to_string(), |s| format!("{:.3} mg/L (avg)", s.avg)),
         ));

@@ -8,7 +8,7 @@
 //! Everything on the pages comes from [`Report`]; nothing is computed here beyond placing it
 //! (unit changes go through `report::volume_in` and the exact constants there).
 
-use super::report::{ADVISORY, KG_PER_LB, L_PER_MG, Report, volume_in};
+use super::report::{ADVISORY, Report, mass_in, mass_unit, volume_in, water_in, water_unit};
 use crate::engine::dosing::units::UnitSystem;
 use printpdf::{
     Color, IndirectFontRef, Line, Mm, PdfDocument, PdfDocumentReference, PdfLayerReference, Point,
@@ -99,14 +99,18 @@ pub fn total_lines(r: &Report) -> Vec<String> {
         UnitSystem::Si => "L",
     };
     let mut out = vec![format!(
-        "Water treated: {:.4} MG",
-        r.totals.water_treated_l / L_PER_MG
+        "Water treated: {:.4} {}",
+        water_in(r.units, r.totals.water_treated_l),
+        water_unit(r.units)
     )];
     for (id, p) in &r.totals.products {
+        let basis = r.bases.get(id).map_or("?", String::as_str);
         out.push(format!(
-            "{id}: product used {:.1} {unit}, active {:.1} lb, calculated dose {} mg/L",
+            "{id}: product used {:.1} {unit}, delivered {:.1} {unit}, active {:.1} {} as {basis}, calculated dose {} mg/L as {basis}",
             volume_in(r.units, p.product_used_l),
-            p.active_used_kg / KG_PER_LB,
+            volume_in(r.units, p.delivered_l),
+            mass_in(r.units, p.active_used_kg),
+            mass_unit(r.units),
             num(p.calculated_dose_mg_l, 3),
         ));
     }
@@ -215,11 +219,17 @@ pub fn pdf(r: &Report) -> super::Result<Vec<u8>> {
     if !r.cautions.is_empty() {
         pages.text(&cover, 10.0, 15.0, y, "Cautions");
         y -= 5.0;
-        for c in r.cautions.iter().take(30) {
+        // Every caution is printed: past the foot of a page they go on to the next.
+        let mut layer = cover;
+        for c in &r.cautions {
             let params: Vec<String> = c.params.iter().map(|(k, v)| format!("{k} {v}")).collect();
             let text = format!("{}: {}", c.key, params.join(", "));
             for part in wrap(&text, 105) {
-                pages.text(&cover, 8.0, 15.0, y, &part);
+                if y < 20.0 {
+                    layer = pages.page("Cautions (continued)");
+                    y = H - 30.0;
+                }
+                pages.text(&layer, 8.0, 15.0, y, &part);
                 y -= 4.0;
             }
         }
@@ -227,11 +237,13 @@ pub fn pdf(r: &Report) -> super::Result<Vec<u8>> {
 
     // The daily table: one row per day and product.
     let header = format!(
-        "date        water MG   product          used {unit}   active lb   calc mg/L   logged mg/L (min–max)"
+        "date        water {:<3}  product          used {unit}   active {:<3}  calc mg/L   logged mg/L (min–max)",
+        water_unit(r.units),
+        mass_unit(r.units)
     );
     let mut rows = Vec::new();
     for d in &r.days {
-        let water = num(d.water_treated_l.map(|l| l / L_PER_MG), 4);
+        let water = num(d.water_treated_l.map(|l| water_in(r.units, l)), 4);
         if d.products.is_empty() {
             rows.push(format!("{}  {water:>9}", d.date));
         }
@@ -241,7 +253,7 @@ pub fn pdf(r: &Report) -> super::Result<Vec<u8>> {
                 d.date,
                 id,
                 num(p.product_used_l.map(|l| volume_in(r.units, l)), 1),
-                num(p.active_used_kg.map(|kg| kg / KG_PER_LB), 2),
+                num(p.active_used_kg.map(|kg| mass_in(r.units, kg)), 2),
                 num(p.calculated_dose_mg_l, 3),
                 p.logged_dose.map_or("–".to_string(), |s| format!(
                     "{:.3} ({:.2}–{:.2})",

@@ -446,3 +446,208 @@ fn the_pdf_report_names_plant_period_and_totals() {
     );
     assert!(flat.contains("a licensed operator decides"), "{flat}");
 }
+
+/// The invented November with its gaps: the 5th's round missed (its readings voided), the
+/// 12th's totaliser missed, the 20th's totaliser corrected to a figure with a digit too many,
+/// and a dose entry of another plant merged in. Each is said, none moves a number silently:
+/// - the 4th carries the 4th's and 5th's water and chemical, both over two days, so its
+///   calculated dose pairs like with like; the gaps are cautioned;
+/// - the 11th has two days' water beside one day's chemical: no calculated dose that day, nor
+///   on the 12th (chemical, no water), and neither enters the month's;
+/// - the 20th's totaliser is more than the meter passes at full scale (4200 gpm, about 6.05 MG
+///   a day): the 19th and 20th count no water (the second interval runs backwards);
+/// - the clearwell's chlorine has no reading on the 5th;
+/// - the other plant's entry is left out and said to be.
+#[test]
+fn gaps_and_slips_in_the_readings_are_said_and_never_pair_unlike_days() {
+    let dir = scratch("gaps");
+    let path = dir.0.join("november.doselog");
+    let catalog = Catalog::builtin().unwrap();
+    let site = SiteProfile::demo(&catalog).unwrap();
+    november::write(&path, &site.name, 0).unwrap();
+    let mut log = Log::open(&path, "office").unwrap();
+    let clock = Some(t("2026-12-01T12:00:00-06:00"));
+    let day = |d: u32| NaiveDate::from_ymd_opt(2026, 11, d).unwrap();
+    let on = |log: &Log, d: u32| {
+        log.readings(&Query {
+            from: Some(day(d)),
+            to: Some(day(d)),
+            readings: true,
+            ..Query::default()
+        })
+        .unwrap()
+    };
+    let void = |log: &mut Log, id: Uuid| {
+        log.append_at(
+            Draft::Void {
+                at: None,
+                operator: "SB".into(),
+                voids: id,
+                reason: "stands for a missed round".into(),
+            },
+            clock,
+        )
+        .unwrap();
+    };
+    for r in on(&log, 5) {
+        if !matches!(r.reading, Reading::Delivery { .. }) {
+            void(&mut log, r.id);
+        }
+    }
+    for r in on(&log, 12) {
+        if matches!(r.reading, Reading::Totalizer { .. }) {
+            void(&mut log, r.id);
+        }
+    }
+    let twentieth = on(&log, 20)
+        .into_iter()
+        .find_map(|r| match r.reading {
+            Reading::Totalizer { value, .. } => Some((r.id, value)),
+            _ => None,
+        })
+        .unwrap();
+    log.append_at(
+        Draft::ReadingCorrection {
+            at: None,
+            corrects: twentieth.0,
+            reason: "typed".into(),
+            reading: Reading::Totalizer {
+                operator: "SB".into(),
+                meter: "filter-effluent".into(),
+                value: twentieth.1 + 600_000_000.0,
+                unit: "gal".into(),
+            },
+        },
+        clock,
+    )
+    .unwrap();
+    let mut other = record::example_dose();
+    other.note = "another plant's".into();
+    log.append_at(
+        Draft::Entry {
+            at: Some(t("2026-11-03T09:00:00-06:00")),
+            site: "Riverside WTP".into(),
+            dose: other,
+        },
+        clock,
+    )
+    .unwrap();
+    let r = report::report_from_log(&log, &site, &catalog, day(1), day(30)).unwrap();
+    let p = |d: u32| &r.days[d as usize - 1].products["hypo-bulk"];
+    let water = |d: u32| r.days[d as usize - 1].water_treated_l;
+    // The 4th: the 4th's and 5th's, by hand.
+    let (u4, a4, _) = by_hand(4);
+    let (u5, a5, _) = by_hand(5);
+    let w45 = (Plan::water_gal(4) + Plan::water_gal(5)) * GAL_L;
+    close(water(4).unwrap(), w45, "4th's water");
+    close(
+        p(4).product_used_l.unwrap() / GAL_L,
+        u4 + u5,
+        "4th's product",
+    );
+    close(
+        p(4).calculated_dose_mg_l.unwrap(),
+        (a4 + a5) * 1e6 / w45,
+        "4th's dose",
+    );
+    assert_eq!(r.days[3].water_treated_days, Some(2));
+    assert_eq!(p(4).product_used_days, Some(2));
+    assert_eq!(water(5), None);
+    // The 11th and 12th: no calculated dose.
+    let w1112 = (Plan::water_gal(11) + Plan::water_gal(12)) * GAL_L;
+    close(water(11).unwrap(), w1112, "11th's water");
+    assert_eq!(p(11).calculated_dose_mg_l, None);
+    assert_eq!((water(12), p(12).calculated_dose_mg_l), (None, None));
+    // The 19th and 20th: no water.
+    assert_eq!((water(19), water(20)), (None, None));
+    // The month's calculated dose over the days that pair: all but 11, 12, 19 and 20.
+    let (mut active, mut w) = (0.0, 0.0);
+    for d in (1..=30).filter(|d| ![11, 12, 19, 20].contains(d)) {
+        active += by_hand(d).1;
+        w += Plan::water_gal(d) * GAL_L;
+    }
+    close(
+        r.totals.products["hypo-bulk"].calculated_dose_mg_l.unwrap(),
+        active * 1e6 / w,
+        "month's calculated dose",
+    );
+    // The 3rd's logged dose is the demo plant's own, not the other plant's.
+    close(
+        p(3).logged_dose.unwrap().avg,
+        Plan::logged_dose(3),
+        "3rd's dose",
+    );
+    let said = |key: &str| -> Vec<String> {
+        r.cautions
+            .iter()
+            .filter(|c| c.key == key)
+            .map(|c| {
+                c.params
+                    .iter()
+                    .map(|(k, v)| format!("{k}={v}"))
+                    .collect::<Vec<_>>()
+                    .join(" ")
+            })
+            .collect()
+    };
+    assert_eq!(
+        said("readings-days-apart"),
+        [
+            "what=filter-effluent from=2026-11-04 to=2026-11-06 days=2",
+            "what=filter-effluent from=2026-11-11 to=2026-11-13 days=2",
+            "what=hypo-day-tank from=2026-11-04 to=2026-11-06 days=2",
+        ]
+    );
+    assert_eq!(
+        said("totalizer-beyond-full-scale").len(),
+        1,
+        "{:?}",
+        r.cautions
+    );
+    assert_eq!(said("totalizer-went-back").len(), 1, "{:?}", r.cautions);
+    assert_eq!(
+        said("residual-days-without-reading"),
+        ["tap=clearwell-tap parameter=chlorine count=1 dates=2026-11-05"]
+    );
+    assert_eq!(
+        said("report-other-sites-left-out"),
+        ["count=1 sites=Riverside WTP"]
+    );
+}
+
+/// An SI plant's report is in its units: water in m³, active chemical in kg, each amount
+/// with the compound it is stated as.
+#[test]
+fn an_si_plants_report_is_in_m3_and_kg() {
+    let dir = scratch("si-report");
+    let path = dir.0.join("november.doselog");
+    let catalog = Catalog::builtin().unwrap();
+    let mut site = SiteProfile::demo(&catalog).unwrap();
+    site.units = crate::engine::dosing::units::UnitSystem::Si;
+    november::write(&path, &site.name, 0).unwrap();
+    let log = Log::open_read_only(&path).unwrap();
+    let day = |d: u32| NaiveDate::from_ymd_opt(2026, 11, d).unwrap();
+    let r = report::report_from_log(&log, &site, &catalog, day(1), day(30)).unwrap();
+    let water_m3: f64 = (1..=30).map(|d| Plan::water_gal(d) * GAL_L / 1000.0).sum();
+    let active_kg: f64 = (1..=30).map(|d| by_hand(d).1).sum();
+    let summary = report::summary(&r);
+    assert!(
+        summary.contains(&format!("water treated {water_m3:.4} m³")),
+        "{summary}"
+    );
+    assert!(
+        summary.contains(&format!("active {active_kg:.1} kg as Cl2")),
+        "{summary}"
+    );
+    let csv = report::to_csv(&r);
+    assert!(
+        csv.starts_with(
+            "date,water_treated_m3,product,product_used_L,delivered_L,active_used_kg,active_as,"
+        ),
+        "{csv}"
+    );
+    assert!(
+        csv.contains(",hypo-bulk,") && csv.contains(",Cl2,"),
+        "{csv}"
+    );
+}
