@@ -246,18 +246,37 @@ fn list_to(args: &Args, json: bool, out: &mut dyn Write) -> Result<(), CliError>
             let comma = if count > 1 { "," } else { "" };
             write!(out, "{comma}{value}")
         } else {
-            // What was not computed is said as a dash, never as 0.
+            // What was not computed is said as a dash, never as 0; what was is said as the
+            // operator saw it (the figures shown, its basis), not at full precision.
+            let shown = |shown: &str, value: f64| {
+                if shown.trim().is_empty() {
+                    value.to_string()
+                } else {
+                    shown.trim().to_string()
+                }
+            };
             let dose = v
                 .dose
-                .dose_mg_per_l()
-                .map_or_else(|| "—".to_string(), |d| d.to_string());
+                .result(crate::log::record::result_id::DOSE)
+                .map_or_else(
+                    || "— mg/L".to_string(),
+                    |r| {
+                        let basis = r.basis.as_deref().map(|b| format!(" as {b}"));
+                        format!(
+                            "{} {}{}",
+                            shown(&r.shown, r.value),
+                            r.unit,
+                            basis.unwrap_or_default()
+                        )
+                    },
+                );
             let setting = v.dose.setting.as_ref().map_or_else(
                 || "no setting".to_string(),
-                |s| format!("{} {} %", s.device, s.percent),
+                |s| format!("{} {} %", s.device, shown(&s.shown, s.percent)),
             );
             writeln!(
                 out,
-                "{}  {}  {} / {}  {} mg/L  {}  [{}] {}",
+                "{}  {}  {} / {}  {}  {}  [{}] {}",
                 v.at.format("%Y-%m-%d %H:%M %:z"),
                 one_line(&v.dose.operator),
                 one_line(&v.dose.tap),

@@ -342,8 +342,9 @@ fn write_report(report: &Report, json: bool, out: &mut dyn Write) -> Result<(), 
 
 /// The largest magnitude a printed number may have. No flow, dose, mass, volume or time the
 /// CLI reports comes near it in any unit it prints (the largest plants treat about 1e10 L a
-/// day); a result beyond it comes from an overflow, not from the water, and is refused.
-pub const LARGEST_OUTPUT: f64 = 1e15;
+/// day); a result beyond it comes from an overflow, not from the water, and is refused. The
+/// log refuses to record such a number too, so a listing never stops at one.
+pub const LARGEST_OUTPUT: f64 = crate::log::record::LARGEST_NUMBER;
 
 /// The one guard between a result and the output, used by every command and by `batch`:
 /// fails if `value` holds a number beyond [`LARGEST_OUTPUT`] (a percentage beyond
@@ -436,7 +437,10 @@ pub const LARGEST_PERCENT: f64 = 1e4;
 
 /// Whether the number `v` of the quantity called `name` cannot be printed as a result.
 fn beyond_limit(name: &str, v: f64) -> bool {
-    let limit = if name.contains("percent") {
+    // A deviation is no setting: the report's fed dose 130 times the logged one is what a
+    // delivery typed with a digit too many gives, and the report must show it (with its
+    // danger caution), not refuse to print.
+    let limit = if name.contains("percent") && !name.contains("deviation") {
         LARGEST_PERCENT
     } else {
         LARGEST_OUTPUT

@@ -763,9 +763,21 @@ fn initials(value: &str) -> Result<()> {
     Ok(())
 }
 
+/// The largest magnitude a logged number may have: no flow, dose, mass, volume or time a
+/// calculator gives comes near it in any unit (the largest plants treat about 1e10 L a day).
+/// Beyond it is an overflow or a slip, refused when logged rather than found by every reader
+/// later (the CLI prints none beyond it either: its `LARGEST_OUTPUT` is this).
+pub const LARGEST_NUMBER: f64 = 1e15;
+
 fn finite(field: &'static str, name: &str, value: f64) -> Result<()> {
     if !value.is_finite() {
         return Err(invalid(field, format!("{name} must be a finite number")));
+    }
+    if value.abs() > LARGEST_NUMBER {
+        return Err(invalid(
+            field,
+            format!("{name} is {value:e}, which no measurement or calculation gives"),
+        ));
     }
     Ok(())
 }
@@ -1215,7 +1227,7 @@ mod tests {
     #[test]
     fn validation_names_the_field() {
         type Spoil = fn(&mut Dose);
-        let cases: [(&str, Spoil); 13] = [
+        let cases: [(&str, Spoil); 15] = [
             ("operator", |d| d.operator = "J M".into()),
             ("operator", |d| d.operator = String::new()),
             ("tap", |d| d.tap = "  ".into()),
@@ -1235,6 +1247,10 @@ mod tests {
                 d.setting.as_mut().unwrap().device = "pump".into()
             }),
             ("inputs.value", |d| d.inputs[0].value = f64::INFINITY),
+            // Beyond anything a calculator gives: an overflow or a slip, which every listing
+            // would otherwise stop at.
+            ("results.value", |d| d.results[2].value = 1e200),
+            ("inputs.value", |d| d.inputs[0].value = -2e15),
         ];
         for (field, spoil) in cases {
             let Record::Entry(mut e) = entry() else {

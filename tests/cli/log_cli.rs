@@ -135,6 +135,12 @@ fn human_listings_show_control_characters_instead_of_obeying_them() {
         );
     }
     let shown = text(&list.stdout);
+    // Each dose and setting as the operator saw them (the example's 1.80 mg/L as Cl2 at
+    // 42.5 %), not at full precision.
+    assert!(
+        shown.contains("  1.80 mg/L as Cl2  metering-pump 42.5 %  "),
+        "{shown}"
+    );
     assert!(shown.contains("T1\\n2026-01-01"), "{shown}");
     assert!(shown.contains("\\u{1b}[2J"), "{shown}");
     assert!(text(&history.stdout).contains("typed\\r\\nin error \\u{9b}31m"));
@@ -278,31 +284,52 @@ fn soak_refuses_a_note_size_no_record_can_hold() {
     remove(&dir);
 }
 
-/// An entry whose stored dose no plant can have (a crafted or imported record) stops the
-/// listing with an error naming it; the part already streamed is cut off by a line end, so
-/// the error object is a line of its own that a script can read.
+/// An entry whose stored dose no plant can have is refused when appended; one already in a
+/// file (crafted, or written before the log refused such numbers) stops the listing with an
+/// error naming it; the part already streamed is cut off by a line end, so the error object
+/// is a line of its own that a script can read.
 #[test]
 fn a_listing_stopped_by_an_impossible_number_ends_with_a_readable_error() {
     let dir = scratch("list-guard");
     let path = dir.join("site.doselog");
-    let mut log = Log::open(&path, "tab-1").unwrap();
-    log.append(entry_with("T1", "fine", "2026-05-01T08:00:00+00:00"))
-        .unwrap();
     let mut dose = molefeed::log::record::example_dose();
-    // A crafted record: its dose result holds a number no plant can have.
     dose.results
         .iter_mut()
         .find(|r| r.id == "dose")
         .expect("the example has a dose")
         .value = 1e300;
-    let impossible = log
+    let at = |t: &str| chrono::DateTime::parse_from_rfc3339(t).unwrap();
+    let mut log = Log::open(&path, "tab-1").unwrap();
+    let refused = log
         .append(Draft::Entry {
-            at: Some(chrono::DateTime::parse_from_rfc3339("2026-05-02T08:00:00+00:00").unwrap()),
+            at: Some(at("2026-05-02T08:00:00+00:00")),
             site: "Hillside works".into(),
-            dose,
+            dose: dose.clone(),
         })
-        .unwrap();
+        .unwrap_err();
+    assert_eq!(refused.kind(), molefeed::log::ErrorKind::InvalidEntry);
     drop(log);
+    // The same record framed into a file as a device would have written it.
+    let fine = molefeed::log::Record::Entry(molefeed::log::Entry {
+        id: uuid::Uuid::now_v7(),
+        device: "tab-1".into(),
+        at: at("2026-05-01T08:00:00+00:00"),
+        site: "Hillside works".into(),
+        dose: molefeed::log::record::example_dose(),
+    });
+    let impossible = uuid::Uuid::now_v7();
+    let crafted = molefeed::log::Record::Entry(molefeed::log::Entry {
+        id: impossible,
+        device: "tab-1".into(),
+        at: at("2026-05-02T08:00:00+00:00"),
+        site: "Hillside works".into(),
+        dose,
+    });
+    let mut bytes = molefeed::log::frame::header().to_vec();
+    for r in [&fine, &crafted] {
+        molefeed::log::frame::encode(&molefeed::log::record::encode(r), &mut bytes).unwrap();
+    }
+    std::fs::write(&path, &bytes).unwrap();
     let out = run_with_input(
         &["log", "list", "--json", "--file", path.to_str().unwrap()],
         b"",

@@ -560,3 +560,79 @@ fn a_tap_reading_in_another_unit_is_held_to_the_limit_in_its_parameters_unit() {
     );
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// A delivery typed with two zeros too many (28 200 gal for 282) makes that day's fed dose
+/// some 600 times the logged one (a deviation beyond 10 000 %, the most a setting may be): the report prints it with a danger caution naming the day, rather
+/// than refusing to print a deviation beyond a setting's range.
+#[test]
+fn a_delivery_typed_wrong_is_reported_with_its_deviation() {
+    let dir = std::env::temp_dir().join(format!("molefeed-typo-cli-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("november.doselog");
+    molefeed::log::november::write(&path, "Harrowmere Tarn Water Works (demo)", 0).unwrap();
+    {
+        let mut log = molefeed::log::Log::open(&path, "office").unwrap();
+        let day = chrono::NaiveDate::from_ymd_opt(2026, 11, 18).unwrap();
+        let delivery = log
+            .readings(&molefeed::log::Query {
+                from: Some(day),
+                to: Some(day),
+                readings: true,
+                ..molefeed::log::Query::default()
+            })
+            .unwrap()
+            .into_iter()
+            .find(|r| matches!(r.reading, molefeed::log::Reading::Delivery { .. }))
+            .expect("the 18th has a delivery");
+        let molefeed::log::Reading::Delivery {
+            product,
+            note_number,
+            ..
+        } = delivery.reading
+        else {
+            unreachable!()
+        };
+        log.append(molefeed::log::Draft::ReadingCorrection {
+            at: None,
+            corrects: delivery.id,
+            reason: "as typed".into(),
+            reading: molefeed::log::Reading::Delivery {
+                operator: "SB".into(),
+                product,
+                amount: 28_200.0,
+                unit: "gal".into(),
+                note_number,
+            },
+        })
+        .unwrap();
+    }
+    let (code, json, text) = run(&[
+        "log",
+        "report",
+        "--file",
+        path.to_str().unwrap(),
+        "--site",
+        SITE,
+        "--from",
+        "2026-11-01",
+        "--to",
+        "2026-11-30",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{text}");
+    let deviation = json["cautions"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["key"] == "fed-dose-deviates" && c["severity"] == "danger")
+        .unwrap_or_else(|| panic!("{json}"));
+    let params = deviation["params"].to_string();
+    assert!(params.contains("2026-11-18"), "{params}");
+    let day = &json["days"][17]["products"]["hypo-bulk"];
+    assert!(
+        day["deviation_percent"].as_f64().is_some_and(|d| d > 1e4),
+        "{day}"
+    );
+    std::fs::remove_dir_all(&dir).unwrap();
+}
