@@ -818,11 +818,16 @@ fn the_calculator_starts_from_the_site_and_warns_against_its_permit() {
             ),
         ],
     );
-    one(&app, &format!("{}: {warning}", en("caution-level-warning")));
-    // Back inside the permit: the warning goes.
-    type_into(&app, &en("field-target-residual"), "1.0");
+    // Beyond the permit, an enforceable limit: a danger, not a warning.
+    one(&app, &format!("{}: {warning}", en("caution-level-danger")));
     assert_eq!(
         count(&app, &format!("{}: {warning}", en("caution-level-warning"))),
+        0
+    );
+    // Back inside the permit: the caution goes.
+    type_into(&app, &en("field-target-residual"), "1.0");
+    assert_eq!(
+        count(&app, &format!("{}: {warning}", en("caution-level-danger"))),
         0
     );
 }

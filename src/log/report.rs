@@ -1012,10 +1012,26 @@ pub fn to_csv(r: &Report) -> String {
             ));
         }
     }
-    out.push_str(&format!(
-        "total,{},,,,,,,,,,\r\n",
-        water_in(r.units, r.totals.water_treated_l)
-    ));
+    // The month: the water, then each product's totals on a row of its own (the logged
+    // dose's average, minimum and maximum over every entry of the month).
+    let water = water_in(r.units, r.totals.water_treated_l);
+    if r.totals.products.is_empty() {
+        out.push_str(&format!("total,{water},,,,,,,,,,\r\n"));
+    }
+    for (id, p) in &r.totals.products {
+        out.push_str(&format!(
+            "total,{water},{},{},{},{},{},{},{},{},{},\r\n",
+            super::export::csv_text(id),
+            volume_in(r.units, p.product_used_l),
+            volume_in(r.units, p.delivered_l),
+            mass_in(r.units, p.active_used_kg),
+            super::export::csv_text(r.bases.get(id).map_or("", String::as_str)),
+            num(p.calculated_dose_mg_l),
+            num(p.logged_dose.map(|s| s.avg)),
+            num(p.logged_dose.map(|s| s.min)),
+            num(p.logged_dose.map(|s| s.max)),
+        ));
+    }
     out
 }
 

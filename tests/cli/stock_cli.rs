@@ -328,7 +328,15 @@ fn the_november_report_from_the_command_line() {
         csv.starts_with("date,water_treated_MG,product,product_used_gal"),
         "{csv}"
     );
-    assert!(csv.contains("\r\ntotal,"), "{csv}");
+    // The month's totals: the water, and the product's on its row with its compound.
+    let total = csv
+        .lines()
+        .find(|l| l.starts_with("total,"))
+        .unwrap_or_else(|| panic!("{csv}"));
+    let cells: Vec<&str> = total.split(',').collect();
+    assert_eq!(cells[2], "hypo-bulk", "{total}");
+    assert_eq!(cells[6], "Cl2", "{total}");
+    assert!(cells[5].parse::<f64>().is_ok_and(|lb| lb > 0.0), "{total}");
     std::fs::remove_dir_all(&dir).unwrap();
 }
 
