@@ -19,7 +19,7 @@ use crate::engine;
 use crate::engine::calculators::TextInput;
 use crate::engine::dosing::site::{Limit, SiteFacts};
 use crate::engine::precision::{
-    Instrument, Precision, Range, range_beside, split_tolerance, tolerance_to_si,
+    Instrument, Precision, Range, range_beside, split_tolerance, tolerance_from_si, tolerance_to_si,
 };
 use crate::engine::quantity::{Quantity, Unit, UnitSystem};
 use chrono::{DateTime, Utc};
@@ -574,9 +574,20 @@ impl CalcController {
     pub fn set_lang(&mut self, lang: Lang) {
         let old = self.lang;
         for text in self.texts.values_mut() {
-            if let Ok(v) = numbers::parse(text, old) {
-                *text = reformat(text, v, lang);
+            // "1.2 ± 0.1": the reading and its own precision, each with the new mark.
+            let (reading, tolerance) = split_tolerance(text);
+            let Ok(v) = numbers::parse(reading, old) else {
+                continue;
+            };
+            let mut new = reformat(reading, v, lang);
+            if let Some(t) = tolerance {
+                new.push_str(" ± ");
+                match numbers::parse(t, old) {
+                    Ok(t_value) => new.push_str(&reformat(t, t_value, lang)),
+                    Err(_) => new.push_str(t),
+                }
             }
+            *text = new;
         }
         self.lang = lang;
     }
@@ -594,10 +605,27 @@ impl CalcController {
             if q.unit(old) == q.unit(system) {
                 continue;
             }
-            if let Ok(v) = numbers::parse(text, lang) {
-                let si = q.unit(old).to_si(v);
-                *text = numbers::format_sig(q.unit(system).from_si(si), 4, lang);
+            // "1.2 ± 0.1" MGD: the reading and its own precision both change unit. Left as
+            // typed, the text would be read in the new unit (1.2 m³/d, 3785 times less).
+            let (reading, tolerance) = split_tolerance(text);
+            let Ok(v) = numbers::parse(reading, lang) else {
+                continue;
+            };
+            let si = q.unit(old).to_si(v);
+            let mut new = numbers::format_sig(q.unit(system).from_si(si), 4, lang);
+            if let Some(t) = tolerance {
+                new.push_str(" ± ");
+                match numbers::parse(t, lang) {
+                    Ok(t) => {
+                        let t_si = tolerance_to_si(q.unit(old), v, t);
+                        let t_new = tolerance_from_si(q.unit(system), t_si);
+                        new.push_str(&numbers::format_sig(t_new, 4, lang));
+                    }
+                    // Still marked wrong on the card, beside a reading now in the new unit.
+                    Err(_) => new.push_str(t),
+                }
             }
+            *text = new;
         }
         self.system = system;
     }
@@ -1538,6 +1566,29 @@ mod tests {
         c.set_lang(Lang::Es);
         assert_eq!(c.text("ph"), "7,25");
         assert_eq!(c.text("temperature"), "20,00");
+    }
+
+    /// A reading typed with its own precision changes unit whole: 1.2 ± 0.1 MGD is
+    /// 4542 ± 378.5 m³/d (× 3785.411784 m³/d per MGD, by hand), never left as "1.2" to be read
+    /// as 1.2 m³/d; 68 ± 1.8 °F is 20 ± 1 °C (a difference converts by the factor alone). A
+    /// language switch changes both marks.
+    #[test]
+    fn switching_units_converts_a_reading_with_its_own_precision() {
+        let mut c = CalcController::new(Rc::new(Unconnected), Lang::En, UnitSystem::Us);
+        c.edit("flow", "1.2 ± 0.1");
+        c.edit("temperature", "68 ± 1.8");
+        c.edit("alkalinity", "40 ± x");
+        c.set_units(UnitSystem::Si);
+        assert_eq!(c.text("flow"), "4542 ± 378.5");
+        assert_eq!(c.text("temperature"), "20.00 ± 1.000");
+        // The same unit in both systems: untouched.
+        assert_eq!(c.text("alkalinity"), "40 ± x");
+        c.set_lang(Lang::Es);
+        assert_eq!(c.text("flow"), "4542 ± 378,5");
+        assert_eq!(c.text("temperature"), "20,00 ± 1,000");
+        // Back: 378.5 m³/d (the text shown, four figures) is 0.09999 MGD.
+        c.set_units(UnitSystem::Us);
+        assert_eq!(c.text("flow"), "1,200 ± 0,09999");
     }
 
     #[test]

@@ -9,6 +9,7 @@
 
 use super::calc::key;
 use super::dose_log::{DoseLog, LogError};
+use super::numbers::Lang;
 use super::session::Note;
 use crate::engine::dosing::catalog::Catalog;
 use crate::engine::dosing::site::SiteProfile;
@@ -128,9 +129,11 @@ impl StockScreen {
         Ok(Some(at))
     }
 
-    fn value(&self) -> Result<f64, Note> {
-        let text = self.form.value.trim().replace(',', ".");
-        text.parse::<f64>()
+    /// The form's number, read as the calculators read one in `lang` (`numbers::parse`): in
+    /// English "1,234" is refused, not taken for 1.234 (a level or totaliser 1000 times off),
+    /// and in Spanish "1.234" is refused as ambiguous.
+    fn value(&self, lang: Lang) -> Result<f64, Note> {
+        crate::app::numbers::parse(&self.form.value, lang)
             .ok()
             .filter(|v| v.is_finite() && *v >= 0.0)
             .ok_or_else(|| refuse(key("stock-error-value")).arg("text", self.form.value.trim()))
@@ -138,7 +141,7 @@ impl StockScreen {
 
     /// The reading the form describes, checked against the site profile (and, for a level,
     /// against the tank's geometry, which must turn it into a volume).
-    pub fn reading(&self, site: &SiteProfile, initials: &str) -> Result<Reading, Note> {
+    pub fn reading(&self, site: &SiteProfile, initials: &str, lang: Lang) -> Result<Reading, Note> {
         let operator = initials.trim();
         if operator.is_empty() {
             return Err(refuse(key("stock-error-initials")));
@@ -146,7 +149,7 @@ impl StockScreen {
         let operator = operator.to_string();
         let id = self.form.subject.trim();
         let unknown = || refuse(key("stock-error-unknown")).arg("id", id);
-        let value = self.value()?;
+        let value = self.value(lang)?;
         match self.form.kind {
             Kind::TankLevel => {
                 let tank = site
@@ -225,9 +228,10 @@ impl StockScreen {
         log: &mut dyn DoseLog,
         site: &SiteProfile,
         initials: &str,
+        lang: Lang,
         now: DateTime<FixedOffset>,
     ) -> Option<uuid::Uuid> {
-        let outcome = self.reading(site, initials).and_then(|reading| {
+        let outcome = self.reading(site, initials, lang).and_then(|reading| {
             let at = self.taken_at(now)?;
             log.record_reading(&site.name, at, reading)
                 .map_err(|e| log_note(&e))
@@ -255,12 +259,13 @@ impl StockScreen {
         site: &SiteProfile,
         id: uuid::Uuid,
         initials: &str,
+        lang: Lang,
         reason: &str,
     ) -> bool {
         let outcome = if reason.trim().is_empty() {
             Err(refuse(key("stock-error-reason")))
         } else {
-            self.reading(site, initials).and_then(|reading| {
+            self.reading(site, initials, lang).and_then(|reading| {
                 log.correct_reading(id, reason.trim(), reading)
                     .map_err(|e| log_note(&e))
             })
@@ -443,7 +448,11 @@ mod tests {
             form: f.clone(),
             ..StockScreen::default()
         };
-        assert_eq!(screen.record(&mut log, &site, initials, now), None, "{f:?}");
+        assert_eq!(
+            screen.record(&mut log, &site, initials, Lang::En, now),
+            None,
+            "{f:?}"
+        );
         assert_eq!(
             screen.message.as_ref().map(|n| n.key.as_str()),
             Some(key),
@@ -475,6 +484,20 @@ mod tests {
         );
         check_refused(
             form(Kind::TankLevel, "hypo-day-tank", "-1"),
+            "RK",
+            n,
+            "stock-error-value",
+        );
+        // A comma in English is no decimal mark: "4,5" refused, not read as 4.5 (nor a
+        // totaliser's "1,234" as 1.234, a thousand times off).
+        check_refused(
+            form(Kind::TankLevel, "hypo-day-tank", "4,5"),
+            "RK",
+            n,
+            "stock-error-value",
+        );
+        check_refused(
+            form(Kind::Totalizer, "filter-effluent", "48,000,000"),
             "RK",
             n,
             "stock-error-value",
@@ -534,7 +557,7 @@ mod tests {
             screen.form.earlier = "00:00".into();
             screen.form.yesterday = true;
             assert!(
-                screen.record(&mut log, &site, "RK", n).is_some(),
+                screen.record(&mut log, &site, "RK", Lang::En, n).is_some(),
                 "{:?}",
                 screen.message
             );
@@ -543,20 +566,21 @@ mod tests {
             screen.form.unit = "gal".into();
             screen.form.note_number = "DN-1104".into();
             assert!(
-                screen.record(&mut log, &site, "RK", n).is_some(),
+                screen.record(&mut log, &site, "RK", Lang::En, n).is_some(),
                 "{:?}",
                 screen.message
             );
             screen.form = form(Kind::Totalizer, "filter-effluent", "48000000");
             assert!(
-                screen.record(&mut log, &site, "RK", n).is_some(),
+                screen.record(&mut log, &site, "RK", Lang::En, n).is_some(),
                 "{:?}",
                 screen.message
             );
+            // Typed on a tablet in Spanish: the comma is its decimal mark.
             screen.form = form(Kind::AtTap, "clearwell-tap", "1,2");
             screen.form.parameter = "chlorine".into();
             assert!(
-                screen.record(&mut log, &site, "RK", n).is_some(),
+                screen.record(&mut log, &site, "RK", Lang::Es, n).is_some(),
                 "{:?}",
                 screen.message
             );
@@ -618,18 +642,25 @@ mod tests {
             ..StockScreen::default()
         };
         let level = screen
-            .record(&mut log, &site, "RK", now())
+            .record(&mut log, &site, "RK", Lang::En, now())
             .expect("recorded");
         screen.form = form(Kind::Totalizer, "filter-effluent", "100");
         let meter = screen
-            .record(&mut log, &site, "RK", now())
+            .record(&mut log, &site, "RK", Lang::En, now())
             .expect("recorded");
         // A correction needs a reason; then it records the form's reading with the
         // corrector's initials.
         screen.form = form(Kind::TankLevel, "hypo-day-tank", "4.5");
-        assert!(!screen.correct(&mut log, &site, level, "JM", " "));
+        assert!(!screen.correct(&mut log, &site, level, "JM", Lang::En, " "));
         assert_eq!(screen.message.as_ref().unwrap().key, "stock-error-reason");
-        assert!(screen.correct(&mut log, &site, level, "JM", "misread the sight glass"));
+        assert!(screen.correct(
+            &mut log,
+            &site,
+            level,
+            "JM",
+            Lang::En,
+            "misread the sight glass"
+        ));
         // A void needs initials and a reason.
         assert!(!screen.void(&mut log, meter, "", "duplicate"));
         assert_eq!(screen.message.as_ref().unwrap().key, "stock-error-initials");

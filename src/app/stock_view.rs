@@ -612,8 +612,15 @@ impl AppState {
     /// Records the form's reading or delivery at the current site, now or at the earlier
     /// time the form gives (on the clock of `now`).
     pub fn record_reading(&mut self, now: DateTime<FixedOffset>) -> Option<uuid::Uuid> {
+        let lang = self.lang();
         let (stock, log, session) = (&mut self.stock, &mut self.log, &self.session);
-        stock.record(log.store_mut(), session.site(), session.initials(), now)
+        stock.record(
+            log.store_mut(),
+            session.site(),
+            session.initials(),
+            lang,
+            now,
+        )
     }
 
     /// The site's readings, oldest first (an unreadable log lists none and says why).
@@ -638,12 +645,14 @@ impl AppState {
         let Some(id) = self.stock.selected else {
             return false;
         };
+        let lang = self.lang();
         let (stock, log, session) = (&mut self.stock, &mut self.log, &self.session);
         let done = stock.correct(
             log.store_mut(),
             session.site(),
             id,
             session.initials(),
+            lang,
             reason,
         );
         if done {
@@ -856,11 +865,15 @@ mod tests {
         screen.form.value = "4.25".into();
         screen.form.earlier = "07:30".into();
         screen.form.yesterday = true;
-        screen.record(&mut log, &s, "RK", now).expect("level");
+        screen
+            .record(&mut log, &s, "RK", Lang::En, now)
+            .expect("level");
         screen.pick_kind(1, &s);
         screen.form.value = "280".into();
         screen.form.note_number = "DN-7".into();
-        screen.record(&mut log, &s, "RK", now).expect("delivery");
+        screen
+            .record(&mut log, &s, "RK", Lang::En, now)
+            .expect("delivery");
         let readings = log.readings(&s.name).unwrap();
         let lines = StockScreen::reading_lines(&s, &readings, &WORDS);
         assert_eq!(lines.len(), 2);
