@@ -46,12 +46,7 @@ fn table_request(request: &CalcRequest) -> Request {
 /// dose, the active chemical per day, the product (volume for a liquid, mass for a gas or dry
 /// chemical) and the pump or feeder setting.
 pub const DOSE: [&str; 2] = ["dose", "actual_dose"];
-pub const SETTING: [&str; 4] = [
-    "pump_setting",
-    "feeder_setting",
-    "suggested_pump_setting",
-    "suggested_feeder_setting",
-];
+pub const SETTING: [&str; 4] = crate::engine::calculators::SETTING_RESULTS;
 pub const FEED: &str = "feed_mass_rate";
 pub const PRODUCT: [&str; 2] = ["product_volume_rate", "product_mass_rate"];
 

@@ -26,8 +26,15 @@ use crate::engine::{Error, ErrorKind, Result};
 /// best, so only a dose no water could dissolve is refused.
 const COLDEST_WATER_C: f64 = 0.0;
 
-/// Results that are a setting of a pump or feeder, in % of its full scale.
-const SETTING_RESULTS: [&str; 3] = ["pump_setting", "feeder_setting", "suggested_pump_setting"];
+/// Results that are a setting of a pump or feeder, in % of its full scale: the one list the
+/// full-scale guard and the app's card read (a test holds it to every `_setting` result of
+/// the table).
+pub const SETTING_RESULTS: [&str; 4] = [
+    "pump_setting",
+    "feeder_setting",
+    "suggested_pump_setting",
+    "suggested_feeder_setting",
+];
 
 /// The inputs that give a pump's or feeder's full scale, by the device they belong to.
 const CAPACITY_INPUTS: [(Device, &str); 4] = [
@@ -315,7 +322,7 @@ fn beyond_full_scale(request: &Request, outcome: &mut Outcome) -> Vec<Caution> {
             .filter(|(d, _)| Some(*d) == device)
             .find_map(|(_, name)| Some((*name, request.get(name)?)));
         match (id, capacity) {
-            ("suggested_pump_setting", _) | (_, None) => out.push(
+            ("suggested_pump_setting" | "suggested_feeder_setting", _) | (_, None) => out.push(
                 Caution::danger("setting-beyond-full-scale")
                     .with("percent", format!("{percent:.0}")),
             ),

@@ -17,6 +17,7 @@
 
 mod compute;
 mod guards;
+pub use guards::SETTING_RESULTS;
 pub mod ranges;
 mod show;
 mod table;

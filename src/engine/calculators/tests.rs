@@ -741,6 +741,56 @@ fn free_chlorine_reports_the_breakpoint_end_state() {
 
 // ---- Dry and gas feeders in the cross-check ----
 
+/// Every setting result of the table is one the full-scale guard reads: a list that left one
+/// out let a feeder's suggested setting above 100 % through without its danger caution.
+#[test]
+fn every_setting_result_is_guarded_at_full_scale() {
+    for calc in all() {
+        for r in calc.results {
+            if r.id.ends_with("_setting") {
+                assert!(SETTING_RESULTS.contains(&r.id), "{}: {}", calc.id, r.id);
+            }
+        }
+    }
+}
+
+/// A dry feeder at 95 % catching 131.6 g a minute of 95 % lime over 5000 m³/d feeds
+/// 131.6 / 60 × 86.4 × 0.95 × 1000 / 5000 = 36.01 mg/L (by hand), 10 % under the 40 asked:
+/// within the check's band, the feeder would go to 95 × 40 / 36.01 = 105.5 %, beyond its
+/// scale. No such setting is shown; a danger caution says so.
+#[test]
+fn a_suggested_feeder_setting_beyond_full_scale_is_a_danger() {
+    let out = calculators()
+        .compute(&request(
+            "pump-check",
+            Some("hydrated-lime"),
+            &[
+                ("flow", 5000.0),
+                ("dose", 40.0),
+                ("catch-mass", 131.6),
+                ("catch-time", 60.0),
+                ("feeder-setting", 95.0),
+                ("purity", 95.0),
+            ],
+        ))
+        .unwrap();
+    let actual = 131.6 / 60.0 * 86.4 * 0.95 * 1000.0 / 5000.0;
+    assert!((value_of(&out, "actual_dose") - actual).abs() < 1e-9);
+    assert!(95.0 * 40.0 / actual > 100.0);
+    assert!(
+        out.result("suggested_feeder_setting").is_none(),
+        "{:?}",
+        out.results
+    );
+    assert!(
+        out.cautions
+            .iter()
+            .any(|c| c.key == "setting-beyond-full-scale" && c.severity == Severity::Danger),
+        "{:?}",
+        out.cautions
+    );
+}
+
 /// A hydrated-lime feeder's catch, by hand: 150 g in 60 s is 2.5 g/s = 216 kg/d of product;
 /// at 95 % purity 205.2 kg/d Ca(OH)2; over 5000 m³/d that is 41.04 mg/L. Target 40: +2.6 %,
 /// and the feeder at 40 % should go to 40 × 40/41.04 = 38.99 %.
