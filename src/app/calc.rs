@@ -315,10 +315,9 @@ impl CalcView {
     }
 }
 
-/// Significant figures shown when every input was exact (nothing typed limits them).
-const RESULT_FIGURES: u32 = 3;
-/// The most figures the card shows even when the inputs support more: beyond four, a feed
-/// setting is more digits than any pump or scale can be set to.
+/// The most figures a follow-up value is written into a field with: as many as the card
+/// shows at most (`calculators::figures_shown`); beyond four, a feed setting is more digits
+/// than any pump or scale can be set to.
 const MAX_FIGURES: u32 = 4;
 
 /// Where a field's text is kept: its name, and the product's id for a product's own field,
@@ -784,9 +783,7 @@ impl CalcController {
         let lang = self.lang;
         // Never fewer than three figures: how far a number can be trusted is said by its
         // range, not by dropping digits a cross-check needs.
-        let figures = outcome.figures.map_or(RESULT_FIGURES, |f| {
-            u32::from(f).clamp(RESULT_FIGURES, MAX_FIGURES)
-        });
+        let figures = engine::calculators::figures_shown(outcome.figures);
         let limiting = outcome.figures.and_then(|f| {
             self.fields()
                 .into_iter()

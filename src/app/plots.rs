@@ -127,11 +127,10 @@ pub fn titration(calc: &CalcController, lang: Lang) -> PlotView {
             .map(|e| e.value)
     });
     if let (Some(dose), Some(ph), Some((x, y))) = (dose, ph, ranges(&curve.points)) {
-        // The dose to the figures the calculator shows it with.
-        let figures = outcome
-            .as_ref()
-            .and_then(|o| o.figures)
-            .map_or(3, |f| u32::from(f).clamp(1, 4));
+        // The dose to the figures the card shows it with (the engine's one rule): "30"
+        // beside a card's 26.3 would be a second, coarser number.
+        let figures =
+            crate::engine::calculators::figures_shown(outcome.as_ref().and_then(|o| o.figures));
         view.markers = plot::crosshair(Some(dose), Some(ph), x, y);
         view.legend = Some(
             Note::new(key("plot-chosen-point"))

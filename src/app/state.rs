@@ -1079,9 +1079,10 @@ mod tests {
         assert_eq!(coag.message, None, "{coag:?}");
         assert_eq!(coag.subject, "product-alum-liquid");
         let legend = coag.legend.expect("jar dose marked");
+        // As the card shows it: never fewer than three figures, two typed or not.
         assert!(
-            legend.args.contains(&("dose", "25".to_string())),
-            "two figures typed: {legend:?}"
+            legend.args.contains(&("dose", "25.0".to_string())),
+            "the card's figures: {legend:?}"
         );
         assert_eq!(coag.x_lo, "0");
         assert_eq!(coag.target_label, None, "coagulation doses to no target pH");

@@ -905,7 +905,13 @@ pub fn given_figures(quantity: Quantity, text: &str) -> Option<u8> {
 /// said by its range, not by dropping digits; the significant figures of the inputs stay in
 /// the show-the-work lines.
 pub fn shown_figures(outcome: &Outcome) -> u32 {
-    outcome.figures.map_or(3, |f| u32::from(f).clamp(3, 4))
+    figures_shown(outcome.figures)
+}
+
+/// [`shown_figures`] from the figures the inputs support (`None`: every input exact): the one
+/// rule every front end, card, plot legend and printout shows a result's number by.
+pub fn figures_shown(figures: Option<u8>) -> u32 {
+    figures.map_or(3, |f| u32::from(f).clamp(3, 4))
 }
 
 /// A refusal names the input it is about (`input`), so a front end can mark that field: a
