@@ -62,7 +62,7 @@ pub struct ProductDay {
     pub product_used_l: Option<f64>,
     /// How many days that use was counted over (see [`Day::water_treated_days`]).
     pub product_used_days: Option<i64>,
-    /// Product delivered, L.
+    /// Product delivered that day (by the delivery's own time, as its note has it), L.
     pub delivered_l: f64,
     /// Active chemical used, kg, as the product's dose compound.
     pub active_used_kg: Option<f64>,
@@ -402,13 +402,10 @@ pub fn report(src: &Sources<'_>) -> Report {
                     && r.at <= t2
                     && counted_deliveries.insert(r.id)
                 {
-                    match litres(*amount, unit, l_per_kg) {
-                        Some(l) => delivered += l,
-                        None => cautions.push(
-                            Caution::warning("delivery-not-converted")
-                                .with("product", product)
-                                .with("unit", unit),
-                        ),
+                    // One that cannot be converted is said once, where deliveries are
+                    // booked by their own day (below).
+                    if let Some(l) = litres(*amount, unit, l_per_kg) {
+                        delivered += l;
                     }
                 }
             }
@@ -434,7 +431,34 @@ pub fn report(src: &Sources<'_>) -> Report {
             *p.product_used_l.get_or_insert(0.0) += used;
             let days = p.product_used_days.get_or_insert(span);
             *days = (*days).max(span);
-            p.delivered_l += delivered;
+        }
+    }
+
+    // Deliveries by their own day, as the delivery notes have them: of every product of the
+    // site, with a tank or without, before the first round of the month or after it. (The
+    // use between two tank readings counts the deliveries in between, above.)
+    for r in live(src.readings) {
+        let Reading::Delivery {
+            product,
+            amount,
+            unit,
+            ..
+        } = &r.reading
+        else {
+            continue;
+        };
+        let date = day_of(&r.at);
+        let Some(day) = days.get_mut(&date) else {
+            continue;
+        };
+        let l_per_kg = strength_factors(src, product).and_then(|f| f.1);
+        match litres(*amount, unit, l_per_kg) {
+            Some(l) => day.products.entry(product.clone()).or_default().delivered_l += l,
+            None => cautions.push(
+                Caution::warning("delivery-not-converted")
+                    .with("product", product)
+                    .with("unit", unit),
+            ),
         }
     }
 

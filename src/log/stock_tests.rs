@@ -651,3 +651,82 @@ fn an_si_plants_report_is_in_m3_and_kg() {
         "{csv}"
     );
 }
+
+/// Deliveries are booked by their own day, as their notes have them: 100 gal of
+/// hypochlorite at 06:30 on 1 November, before the month's first round, is November's (1510
+/// gal delivered: the plan's five of 282 gal, 1410, the voided duplicate not counted, plus
+/// 100); caustic to a tank never read still shows as delivered; lime by the pound, with no
+/// volume to turn it into, is said, not dropped.
+#[test]
+fn deliveries_are_booked_by_their_own_day() {
+    let dir = scratch("deliveries");
+    let path = dir.0.join("november.doselog");
+    let catalog = Catalog::builtin().unwrap();
+    let site = SiteProfile::demo(&catalog).unwrap();
+    november::write(&path, &site.name, 0).unwrap();
+    let mut log = Log::open(&path, "office").unwrap();
+    let delivery = |log: &mut Log, at: &str, product: &str, amount: f64, unit: &str| {
+        log.append_at(
+            Draft::Reading {
+                at: Some(t(at)),
+                site: site.name.clone(),
+                reading: Reading::Delivery {
+                    operator: "RK".into(),
+                    product: product.into(),
+                    amount,
+                    unit: unit.into(),
+                    note_number: "DN-extra (invented)".into(),
+                },
+            },
+            Some(t(at)),
+        )
+        .unwrap();
+    };
+    delivery(
+        &mut log,
+        "2026-11-01T06:30:00-06:00",
+        "hypo-bulk",
+        100.0,
+        "gal",
+    );
+    delivery(
+        &mut log,
+        "2026-11-09T10:00:00-06:00",
+        "caustic-bulk",
+        400.0,
+        "gal",
+    );
+    delivery(
+        &mut log,
+        "2026-11-09T11:00:00-06:00",
+        "lime-silo",
+        2000.0,
+        "lb",
+    );
+    let day = |d: u32| NaiveDate::from_ymd_opt(2026, 11, d).unwrap();
+    let r = report::report_from_log(&log, &site, &catalog, day(1), day(30)).unwrap();
+    let hypo = &r.totals.products["hypo-bulk"];
+    close(
+        hypo.delivered_l / GAL_L,
+        5.0 * 282.0 + 100.0,
+        "hypochlorite delivered",
+    );
+    close(
+        r.days[0].products["hypo-bulk"].delivered_l / GAL_L,
+        100.0,
+        "1st",
+    );
+    close(
+        r.totals.products["caustic-bulk"].delivered_l / GAL_L,
+        400.0,
+        "caustic delivered",
+    );
+    assert!(
+        r.cautions.iter().any(|c| c.key == "delivery-not-converted"
+            && c.params
+                .iter()
+                .any(|(k, v)| k == "product" && v == "lime-silo")),
+        "{:?}",
+        r.cautions
+    );
+}
