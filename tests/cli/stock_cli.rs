@@ -16,6 +16,25 @@ fn run(args: &[&str]) -> (i32, Value, String) {
 }
 
 const SITE: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/data/demo-site.json");
+
+/// `molefeed log report` of the demo site's November from the log `file`, with `more` flags.
+fn november_report(file: &std::path::Path, more: &[&str]) -> (i32, Value, String) {
+    let mut args = vec![
+        "log",
+        "report",
+        "--file",
+        file.to_str().unwrap(),
+        "--site",
+        SITE,
+        "--from",
+        "2026-11-01",
+        "--to",
+        "2026-11-30",
+    ];
+    args.extend_from_slice(more);
+    run(&args)
+}
+
 /// L in one US gallon and in one cubic foot (exact: 231 in³ a gallon, 0.3048 m a foot).
 const GAL_L: f64 = 3.785_411_784;
 const FT3_L: f64 = 0.3048 * 0.3048 * 0.3048 * 1000.0;
@@ -285,21 +304,7 @@ fn the_november_report_from_the_command_line() {
     let log = dir.join("november.doselog");
     molefeed::log::november::write(&log, "Harrowmere Tarn Water Works (demo)", 0).unwrap();
     let csv = dir.join("november.csv");
-    let (code, json, text) = run(&[
-        "log",
-        "report",
-        "--file",
-        log.to_str().unwrap(),
-        "--site",
-        SITE,
-        "--from",
-        "2026-11-01",
-        "--to",
-        "2026-11-30",
-        "--csv",
-        csv.to_str().unwrap(),
-        "--json",
-    ]);
+    let (code, json, text) = november_report(&log, &["--csv", csv.to_str().unwrap(), "--json"]);
     assert_eq!(code, 0, "{text}");
     // Day 1 by hand (see `log::stock_tests`): 2 020 000 gal of water; 0.5 ft from the 4 ft
     // day tank, 4π ft² × 0.5 ft × 1728/231 gal per ft³.
@@ -355,19 +360,7 @@ fn the_november_report_is_the_same_from_the_cli_and_from_the_app() {
     std::fs::create_dir_all(&logs).unwrap();
     let file = molefeed::log::site_file(&logs, name);
     molefeed::log::november::write(&file, name, 0).unwrap();
-    let (code, cli, text) = run(&[
-        "log",
-        "report",
-        "--file",
-        file.to_str().unwrap(),
-        "--site",
-        SITE,
-        "--from",
-        "2026-11-01",
-        "--to",
-        "2026-11-30",
-        "--json",
-    ]);
+    let (code, cli, text) = november_report(&file, &["--json"]);
     assert_eq!(code, 0, "{text}");
     let catalog = molefeed::engine::dosing::catalog::Catalog::builtin().unwrap();
     let site = molefeed::engine::dosing::site::SiteProfile::demo(&catalog).unwrap();
@@ -387,20 +380,7 @@ fn the_november_report_is_the_same_from_the_cli_and_from_the_app() {
     );
     // The files the app saves carry the same daily table as the CLI's --csv.
     let cli_csv = dir.join("cli.csv");
-    let (code, _, text) = run(&[
-        "log",
-        "report",
-        "--file",
-        file.to_str().unwrap(),
-        "--site",
-        SITE,
-        "--from",
-        "2026-11-01",
-        "--to",
-        "2026-11-30",
-        "--csv",
-        cli_csv.to_str().unwrap(),
-    ]);
+    let (code, _, text) = november_report(&file, &["--csv", cli_csv.to_str().unwrap()]);
     assert_eq!(code, 0, "{text}");
     let mut screen = StockScreen::default();
     let (_, app_csv) = screen
@@ -615,19 +595,7 @@ fn a_delivery_typed_wrong_is_reported_with_its_deviation() {
         })
         .unwrap();
     }
-    let (code, json, text) = run(&[
-        "log",
-        "report",
-        "--file",
-        path.to_str().unwrap(),
-        "--site",
-        SITE,
-        "--from",
-        "2026-11-01",
-        "--to",
-        "2026-11-30",
-        "--json",
-    ]);
+    let (code, json, text) = november_report(&path, &["--json"]);
     assert_eq!(code, 0, "{text}");
     let deviation = json["cautions"]
         .as_array()
