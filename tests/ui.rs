@@ -755,6 +755,47 @@ fn a_tap_added_in_settings_is_offered_on_start() {
     assert_eq!(handle.state.borrow().point(), Some("Filter 3 outlet"));
 }
 
+/// What a tap samples and whether a limit is enforced are set in Settings: the clearwell tap
+/// marked as process water is no longer held to the limits; the demo's alkalinity target,
+/// marked enforced, is a danger beyond it from then on.
+#[test]
+fn a_taps_water_and_a_limits_force_are_set_in_settings() {
+    // Tall enough for the whole editor, the limits' card included.
+    let (app, handle) = start_at(Rc::new(common::EchoEngine), 400.0, 9000.0);
+    tap(&app, &en("nav-settings"));
+    let finished = |h: &AppHandle| -> Vec<bool> {
+        h.state
+            .borrow()
+            .site()
+            .sampling_taps
+            .iter()
+            .map(|t| t.finished_water)
+            .collect()
+    };
+    // The demo: raw and settled taps sample process water, the clearwell the finished.
+    assert_eq!(finished(&handle), [false, false, true]);
+    let process: Vec<_> =
+        ElementHandle::find_by_accessible_label(&app, &en("settings-tap-process")).collect();
+    assert_eq!(process.len(), 3);
+    assert_eq!(process[0].accessible_checked(), Some(true));
+    assert_eq!(process[2].accessible_checked(), Some(false));
+    process[2].invoke_accessible_default_action();
+    assert_eq!(finished(&handle), [false, false, false]);
+    one(&app, &en("site-saved"));
+    // The alkalinity target (the demo's third limit) says it is not enforced; marked so, saved.
+    app.global::<SettingsAdapter>().invoke_edit_limit(2);
+    assert!(!app.global::<SettingsAdapter>().get_limit_enforceable());
+    tap(&app, &en("settings-limit-enforceable"));
+    tap(&app, &en("settings-save-limit"));
+    let alkalinity = handle
+        .state
+        .borrow()
+        .site()
+        .effective_limit("alkalinity")
+        .unwrap();
+    assert!(alkalinity.enforceable, "{alkalinity:?}");
+}
+
 #[test]
 fn an_impossible_specific_gravity_is_refused_in_words() {
     let (app, handle) = start_at(Rc::new(common::EchoEngine), 400.0, 4000.0);
@@ -1322,7 +1363,7 @@ fn the_sites_fed_dose_tolerance_is_set_in_settings() {
     );
     // Tall enough that the whole Settings screen is in view (the finders see only that).
     app.window()
-        .set_size(slint::LogicalSize::new(1280.0, 6000.0));
+        .set_size(slint::LogicalSize::new(1280.0, 9000.0));
     app.show().expect("show");
     tap(&app, &en("nav-settings"));
     assert_eq!(

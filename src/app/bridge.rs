@@ -168,6 +168,14 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             }
         }
     };
+    let on_index_flag = |f: fn(&Inner, i32, bool)| {
+        let weak = Rc::downgrade(inner);
+        move |i: i32, flag: bool| {
+            if let Some(inner) = weak.upgrade() {
+                f(&inner, i, flag);
+            }
+        }
+    };
 
     let nav = window.global::<Nav>();
     nav.on_go(on(|i, n| {
@@ -470,6 +478,12 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
         }
         i.refresh_all();
     }));
+    settings.on_set_tap_finished(on_index_flag(|i, n, finished| {
+        i.state
+            .borrow_mut()
+            .edit_site(|e, s| e.set_tap_finished(s, n.max(0) as usize, finished));
+        i.refresh_all();
+    }));
     settings.on_remove_point(on(|i, n| {
         i.state
             .borrow_mut()
@@ -522,6 +536,7 @@ fn wire(window: &AppWindow, inner: &Rc<Inner>) {
             max: a.get_limit_max().to_string(),
             unit: a.get_limit_unit().to_string(),
             source: a.get_limit_source().to_string(),
+            enforceable: a.get_limit_enforceable(),
         };
         i.state
             .borrow_mut()
@@ -734,6 +749,7 @@ impl Inner {
         a.set_limit_max(s(&l.max));
         a.set_limit_unit(s(&l.unit));
         a.set_limit_source(s(&l.source));
+        a.set_limit_enforceable(l.enforceable);
     }
 
     /// Fills the precision form with the site's own figures for instrument `index` (empty:
@@ -776,6 +792,7 @@ impl Inner {
         a.set_pumps(rows(view.pumps));
         a.set_delivered(texts(view.delivered));
         a.set_limits(rows(view.limits));
+        a.set_tap_finished(model(view.taps_finished));
         a.set_precisions(rows(precision_lines(&st.session, &*self.texts.borrow())));
         a.set_instruments(texts(instrument_choices(&*self.texts.borrow())));
         let instrument = Instrument::ALL

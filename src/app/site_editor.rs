@@ -359,6 +359,9 @@ pub struct EditorView {
     /// calculation checks says so in its detail.
     pub limits: Vec<SiteLine>,
     pub default_limits: Vec<SiteLine>,
+    /// Per tap, in the site's order: whether it samples the finished water (held to the
+    /// limits) or raw or process water.
+    pub taps_finished: Vec<bool>,
     /// The limit form's choice of parameter: the engine's checked parameters in words, and
     /// for each which of the site's taps read it.
     pub limit_parameters: Vec<String>,
@@ -479,6 +482,11 @@ impl SiteEditor {
             products,
             pumps,
             delivered,
+            taps_finished: site
+                .sampling_taps
+                .iter()
+                .map(|t| t.finished_water)
+                .collect(),
             limits,
             default_limits,
             limit_parameters: parameter_names,
@@ -572,7 +580,15 @@ impl SiteEditor {
             max: number(l.max),
             unit: l.unit.clone(),
             source: l.source.clone(),
+            enforceable: l.enforceable,
         })
+    }
+
+    /// Marks tap `index` as sampling finished water, or raw or process water.
+    pub fn set_tap_finished(&mut self, session: &mut Session, index: usize, finished: bool) {
+        if sites::set_tap_finished(session.site_mut(), index, finished) {
+            self.edited(session, 1, Ok(()));
+        }
     }
 }
 
@@ -601,15 +617,17 @@ fn limit_line(l: &Limit, lang: Lang, words: &dyn Words) -> SiteLine {
         (None, Some(hi)) => format!("≤ {}", number(hi)),
         (None, None) => String::new(),
     };
-    let detail = if sites::is_checked(&l.parameter) {
-        l.source.clone()
-    } else {
-        format!(
-            "{} {}",
-            words.get(key("settings-limit-unchecked")),
-            l.source
-        )
-    };
+    let mut detail = l.source.clone();
+    // Beyond it a warning, not a danger: the row says so.
+    if !l.enforceable {
+        detail = format!(
+            "{} {detail}",
+            words.get(key("settings-limit-not-enforceable"))
+        );
+    }
+    if !sites::is_checked(&l.parameter) {
+        detail = format!("{} {detail}", words.get(key("settings-limit-unchecked")));
+    }
     SiteLine {
         title: format!(
             "{}: {range} {}",
@@ -861,6 +879,7 @@ mod tests {
                             max: "7".into(),
                             unit: String::new(),
                             source: "Permit".into(),
+                            enforceable: true,
                         },
                     )
                 }),
@@ -923,6 +942,7 @@ mod tests {
                 max: "8,2".into(),
                 unit: String::new(),
                 source: "Permiso".into(),
+                enforceable: true,
             }
         ));
         let ph = s
@@ -932,9 +952,34 @@ mod tests {
             .find(|l| l.parameter == "ph")
             .unwrap();
         assert_eq!(
-            (ph.min, ph.max, ph.source.as_str()),
-            (Some(6.8), Some(8.2), "Permiso")
+            (ph.min, ph.max, ph.source.as_str(), ph.enforceable),
+            (Some(6.8), Some(8.2), "Permiso", true)
         );
+        // The same limit as the plant's own target: no rule enforces it, and its row says so.
+        assert!(s.editor.save_limit(
+            &mut s.session,
+            &LimitForm {
+                parameter: "ph".into(),
+                min: "6,8".into(),
+                max: "8,2".into(),
+                unit: String::new(),
+                source: "Meta de la planta".into(),
+                enforceable: false,
+            }
+        ));
+        let ph = s.session.site().effective_limit("ph").unwrap();
+        assert!(!ph.enforceable);
+        assert_eq!(
+            crate::engine::dosing::waterside::PhRange::from_site(s.session.site())
+                .check(9.0)
+                .map(|c| c.severity),
+            Some(crate::engine::dosing::Severity::Warning)
+        );
+        // What a tap samples: the raw-water tap is marked so, and no longer held to limits.
+        s.editor.set_tap_finished(&mut s.session, 0, false);
+        assert!(!s.session.site().sampling_taps[0].finished_water);
+        s.editor.set_tap_finished(&mut s.session, 0, true);
+        assert!(s.session.site().sampling_taps[0].finished_water);
         assert!(s.editor.save_pump(
             &mut s.session,
             &PumpForm {

@@ -131,6 +131,18 @@ fn fresh_id<'a>(stem: &str, taken: impl Iterator<Item = &'a str> + Clone) -> Str
         .expect("an unused id exists")
 }
 
+/// Marks tap `index` as sampling the finished water (held to the plant's limits) or raw or
+/// process water (read to run the plant, not held to them); `false` for no such tap.
+pub fn set_tap_finished(site: &mut SiteProfile, index: usize, finished: bool) -> bool {
+    match site.sampling_taps.get_mut(index) {
+        Some(tap) => {
+            tap.finished_water = finished;
+            true
+        }
+        None => false,
+    }
+}
+
 /// Adds a tap; `false` when the name is blank or already there.
 pub fn add_tap(site: &mut SiteProfile, name: &str) -> bool {
     let name = name.trim();
@@ -348,13 +360,30 @@ pub fn save_pump(
 }
 
 /// A permit limit as typed in the editor.
-#[derive(Clone, Debug, Default, PartialEq)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct LimitForm {
     pub parameter: String,
     pub min: String,
     pub max: String,
     pub unit: String,
     pub source: String,
+    /// A rule or the permit enforces it (beyond it a danger), or it is a secondary standard,
+    /// a recommendation or the plant's own target (a warning).
+    pub enforceable: bool,
+}
+
+impl Default for LimitForm {
+    /// An empty form; a limit entered here is the permit's until the operator says otherwise.
+    fn default() -> LimitForm {
+        LimitForm {
+            parameter: String::new(),
+            min: String::new(),
+            max: String::new(),
+            unit: String::new(),
+            source: String::new(),
+            enforceable: true,
+        }
+    }
 }
 
 /// Adds the plant's limit for a parameter, or replaces it.
@@ -393,17 +422,11 @@ pub fn save_limit(
         max,
         unit: form.unit.trim().to_string(),
         source: source.to_string(),
-        // A limit entered here is the permit's; an edited one keeps what the profile said.
-        enforceable: true,
+        enforceable: form.enforceable,
     };
     let mut edited = site.clone();
     match edited.limits.iter_mut().find(|l| l.parameter == parameter) {
-        Some(l) => {
-            *l = Limit {
-                enforceable: l.enforceable,
-                ..entry
-            }
-        }
+        Some(l) => *l = entry,
         None => edited.limits.push(entry),
     }
     commit(site, edited, catalog)
