@@ -6,7 +6,7 @@
 
 use super::{Args, CliError, CliResult, Report};
 use crate::engine::dosing::Caution;
-use crate::engine::dosing::waterside::water_cautions;
+use crate::engine::dosing::waterside::{self, water_cautions};
 use crate::engine::water::{
     self, Catalog, Chemical, Precipitation, WaterInput, WaterResult, WaterState,
 };
@@ -600,19 +600,8 @@ pub fn neutralize(args: &Args) -> CliResult {
     let chem = chemical(args)?;
     let target = args.required_number("target-ph")?;
     let percent = args.number("purity")?.unwrap_or(100.0);
-    if percent <= 1.0 {
-        return Err(CliError {
-            kind: "invalid-input".into(),
-            message: format!(
-                "--purity {percent} looks like a fraction: the purity is in percent (90 for 90 %)"
-            ),
-            reason: None,
-        });
-    }
-    // `water::neutralize` takes the purity as a fraction of one.
-    let purity = percent / 100.0;
     let (state, cautions) = water_state(args)?;
-    let n = water::neutralize(&state, chem, target, purity)?;
+    let n = waterside::neutralize_at_purity(&state, chem, target, percent)?;
     Ok(cautioned(
         Report {
             human: format!(

@@ -116,6 +116,12 @@ fn failures_have_typed_kinds() {
             "--chemical CaO --target-ph 8.2 --purity 0.92",
             "invalid-input",
         ),
+        // Above 100 % is no purity.
+        (
+            "neutralize",
+            "--chemical CaO --target-ph 8.2 --purity 120",
+            "out-of-range",
+        ),
     ] {
         assert_eq!(run(command, flags).unwrap_err(), kind, "{command} {flags}");
     }

@@ -70,6 +70,31 @@ impl PhRange {
     }
 }
 
+/// The dose of `chemical` at `purity_percent` that brings `state` to `target_ph`
+/// ([`water::neutralize`], which takes the purity as a fraction of one). The purity is in
+/// percent, as everywhere else: a value of 1 or less is a fraction typed for a percent (the
+/// older meaning of the command line's flag), which read as percent would be a dose a hundred
+/// times too large, and is refused (`percent-looks-like-fraction`); above 100 is no purity.
+pub fn neutralize_at_purity(
+    state: &WaterState,
+    chemical: &Chemical,
+    target_ph: f64,
+    purity_percent: f64,
+) -> Result<water::Neutralization> {
+    if purity_percent <= 1.0 {
+        return Err(Error::new(
+            ErrorKind::InvalidInput,
+            format!(
+                "purity {purity_percent} looks like a fraction: the purity is in percent (90 for 90 %)"
+            ),
+        )
+        .because("percent-looks-like-fraction")
+        .with("field", "field-purity"));
+    }
+    crate::engine::check_range("purity", purity_percent, 0.0, 100.0, "%")?;
+    water::neutralize(state, chemical, target_ph, purity_percent / 100.0)
+}
+
 /// The water-engine chemical whose formula has the same composition as `compound`.
 pub fn water_chemical(compound: &str) -> Result<&'static Chemical> {
     water::Catalog::embedded()?.find(compound).map_err(|_| {
