@@ -494,11 +494,14 @@ pub fn site_values(
     if let Some(sg) = delivered.sg {
         out.insert("specific-gravity", sg);
     }
+    // The pump's full scale converted by the engine (`PumpKind::full_scale_si`), shown in the
+    // app's units and kept as the site states it where the units agree.
+    let kind = site.pump_for(&delivered.id).map(|p| p.kind);
+    let full_scale = kind.and_then(|k| k.full_scale_si());
     let per_day =
         |capacity: f64, kg: f64| as_stated(capacity, Quantity::MassPerDay.unit(system).from_si(kg));
-    match site.pump_for(&delivered.id).map(|p| p.kind) {
-        Some(PumpKind::Metering { capacity, unit }) => {
-            let l_per_hour = capacity * unit.l_per_day() / 24.0;
+    match (kind, full_scale) {
+        (Some(PumpKind::Metering { capacity, .. }), Some(l_per_hour)) => {
             out.insert(
                 "pump-capacity",
                 as_stated(
@@ -507,19 +510,16 @@ pub fn site_values(
                 ),
             );
         }
-        Some(PumpKind::GasFeeder { capacity, unit }) => {
-            out.insert(
-                "gas-feeder-capacity",
-                per_day(capacity, capacity * unit.kg_per_day()),
-            );
+        (Some(PumpKind::GasFeeder { capacity, .. }), Some(kg)) => {
+            out.insert("gas-feeder-capacity", per_day(capacity, kg));
         }
-        Some(PumpKind::DryFeeder { capacity, unit }) => {
-            let scale = per_day(capacity, capacity * unit.kg_per_day());
+        (Some(PumpKind::DryFeeder { capacity, .. }), Some(kg)) => {
+            let scale = per_day(capacity, kg);
             out.insert("dry-feeder-capacity", scale);
             out.insert("lime-feeder-capacity", scale);
         }
         // A hose pump's capacity is not a volume per hour the field takes.
-        Some(PumpKind::Peristaltic { .. }) | None => {}
+        _ => {}
     }
     out
 }

@@ -31,6 +31,19 @@ pub enum PumpKind {
 }
 
 impl PumpKind {
+    /// Its full scale in the SI unit the calculator table reads it in: L/h for a metering
+    /// pump (`pump-capacity`), kg/d of product for a gas or dry feeder; `None` for a
+    /// peristaltic pump, which is set by its volume per revolution and speed.
+    pub fn full_scale_si(&self) -> Option<f64> {
+        match *self {
+            PumpKind::Metering { capacity, unit } => Some(capacity * unit.l_per_day() / 24.0),
+            PumpKind::DryFeeder { capacity, unit } | PumpKind::GasFeeder { capacity, unit } => {
+                Some(capacity * unit.kg_per_day())
+            }
+            PumpKind::Peristaltic { .. } => None,
+        }
+    }
+
     pub fn validate(&self) -> Result<()> {
         match *self {
             PumpKind::Metering { capacity, .. }
@@ -611,4 +624,45 @@ pub fn dilution(catalog: &Catalog, input: &DilutionInput) -> Result<DilutionResu
         ],
         cautions: finish(cautions),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A pump's full scale as the table reads it, by hand from the exact definitions: 10 gal/h
+    /// is 37.854 117 84 L/h (3.785 411 784 L a gallon); 100 lb/d is 45.359 237 kg/d; 2 kg/d is
+    /// 2 kg/d; a hose pump has none.
+    #[test]
+    fn a_pumps_full_scale_in_the_tables_units() {
+        let check = |kind: PumpKind, expected: Option<f64>| match (kind.full_scale_si(), expected) {
+            (Some(got), Some(e)) => assert!((got - e).abs() < 1e-9, "{kind:?}: {got}"),
+            (got, e) => assert_eq!(got, e, "{kind:?}"),
+        };
+        let metering = |capacity, unit| PumpKind::Metering { capacity, unit };
+        check(metering(10.0, VolumeRateUnit::Gph), Some(37.854_117_84));
+        check(metering(30.0, VolumeRateUnit::Lph), Some(30.0));
+        check(metering(500.0, VolumeRateUnit::MlPerMin), Some(30.0));
+        check(
+            PumpKind::DryFeeder {
+                capacity: 100.0,
+                unit: MassRateUnit::LbPerDay,
+            },
+            Some(45.359_237),
+        );
+        check(
+            PumpKind::GasFeeder {
+                capacity: 2.0,
+                unit: MassRateUnit::KgPerDay,
+            },
+            Some(2.0),
+        );
+        check(
+            PumpKind::Peristaltic {
+                ml_per_rev: 2.0,
+                max_rpm: 100.0,
+            },
+            None,
+        );
+    }
 }
