@@ -33,7 +33,7 @@ pub fn stream(args: &Args, json: bool, out: &mut dyn Write) -> Option<Result<(),
 pub fn run(args: &Args) -> CliResult {
     match args.required_positional(
         0,
-        "log command: append, list, history, export, merge, salvage, template, reading, delivery or report",
+        "log command: append, list, history, export, merge, salvage, template, reading, delivery, readings or report",
     )? {
         "template" => template(),
         "append" => append(args),
@@ -43,12 +43,13 @@ pub fn run(args: &Args) -> CliResult {
         "salvage" => salvage(args),
         "history" => history(args),
         "reading" => super::stock_cmd::reading(args),
+        "readings" => readings(args),
         "delivery" => super::stock_cmd::delivery(args),
         "report" => super::stock_cmd::report(args),
         // Not in the help: drives the crash test by appending until killed.
         "soak" => soak(args),
         other => Err(CliError::usage(format!(
-            "unknown log command '{other}'; try append, list, history, export, merge, salvage, template, reading, delivery or report"
+            "unknown log command '{other}'; try append, list, history, export, merge, salvage, template, reading, delivery, readings or report"
         ))),
     }
 }
@@ -194,6 +195,64 @@ fn append(args: &Args) -> CliResult {
     Ok(Report {
         human: id.to_string(),
         json: json!({"id": id}),
+    })
+}
+
+/// `log readings --file F [--from D --to D] [--tap THING] [--chemical WHAT]
+/// [--include-voided]`: the tank levels, deliveries, totaliser and tap readings as recorded
+/// (their current values; corrections applied, voids left out unless asked for), oldest
+/// first, one line each with its unit; `--tap` filters on the thing read (tank, product,
+/// meter, tap) and `--chemical` on what was read (`level`, `delivery`, `totalizer`, or the
+/// tap's parameter). Every number passes [`check_numbers`].
+fn readings(args: &Args) -> CliResult {
+    let log = open_existing(args)?;
+    let query = query(args)?;
+    args.switch("json");
+    args.reject_unused()?;
+    let views = log.readings(&query).map_err(log_error)?;
+    let mut human = String::new();
+    for m in log.recovery().messages() {
+        human.push_str(&format!("recovery: {}\n", one_line(&m)));
+    }
+    let mut list = Vec::new();
+    for v in &views {
+        let value = serde_json::to_value(v).map_err(|e| CliError::io(e.to_string()))?;
+        check_numbers(&value).map_err(|e| CliError {
+            message: format!("reading {}: {}", v.id, e.message),
+            ..e
+        })?;
+        list.push(value);
+        let (thing, what) = v.reading.key_names();
+        let amount = match &v.reading {
+            log::Reading::TankLevel { level, unit, .. } => format!("{level} {unit}"),
+            log::Reading::Delivery {
+                amount,
+                unit,
+                note_number,
+                ..
+            } => format!("{amount} {unit} (note {note_number})"),
+            log::Reading::Totalizer { value, unit, .. } => format!("{value} {unit}"),
+            log::Reading::AtTap { value, unit, .. } => format!("{value} {unit}"),
+        };
+        let entered = v
+            .entered_at
+            .map(|e| format!(" (entered {})", e.format("%Y-%m-%d %H:%M %:z")))
+            .unwrap_or_default();
+        human.push_str(&format!(
+            "{}{entered}  {}  {} / {}  {}  [{}] {}\n",
+            v.at.format("%Y-%m-%d %H:%M %:z"),
+            one_line(v.reading.operator()),
+            one_line(thing),
+            one_line(what),
+            one_line(&amount),
+            v.status.word(),
+            v.id,
+        ));
+    }
+    human.push_str(&format!("{} readings", views.len()));
+    Ok(Report {
+        human,
+        json: json!({"readings": list, "recovery": recovery_json(&log)}),
     })
 }
 

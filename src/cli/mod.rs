@@ -209,7 +209,8 @@ usage: molefeed                       open the app on the built-in demo site
 water:      ph-after | dose-for-ph | stability | curve | coagulant | neutralize  (--ph --temperature --alkalinity [--calcium-as-caco3|--calcium-as-ca --magnesium-as-caco3|--magnesium-as-mg ions]; see docs/water-notes.md)
             ph-after and dose-for-ph with --json --fields K,K: only those keys of the answer (and its cautions)
 plant path: path [--site FILE] [--flow Q --flow-unit m3-per-day|mgd] WATER --step CHEMICAL=DOSE ...   every dose in order, the water after each (with --site and no --step: the site's path and doses)
-dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G
+dose log:   log template | log append --file F < entry.json | log list --file F [--from D --to D] | log history --file F --id ID | log export --file F --format csv|jsonl | log merge --file F --from G | log salvage --file F --to G
+readings:   log reading|delivery --file F --site S ... | log readings --file F [--from D --to D --tap THING --chemical WHAT] | log report --file F --site S --from D --to D
 calculators: calculators [--json]                 every calculator, its inputs (units, basis) and result ids
             calc ID --INPUT VALUE ... [--product P] [--units si|us] [--site FILE] [--json]   (calc ID --help)
 dosing:     feed | neutralize-feed | chlorine | coagulation | dechlor | ct | soften | pump-check | dilute | sludge  (older forms of calc: COMMAND --help shows how their flags translate)

@@ -612,3 +612,42 @@ fn a_delivery_typed_wrong_is_reported_with_its_deviation() {
     );
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// `log readings` lists what was read, as recorded: the 15th's low chlorine at the clearwell,
+/// the 10th's level as corrected (4.0 ft: 5.5 − 0.5 × 3, the plan's six-day cycle) and
+/// marked so, filtered by the thing read and what was read; numbers with their units.
+#[test]
+fn the_readings_are_listed_as_recorded() {
+    let dir = std::env::temp_dir().join(format!("molefeed-readings-cli-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("november.doselog");
+    molefeed::log::november::write(&path, "Harrowmere Tarn Water Works (demo)", 0).unwrap();
+    let file = path.to_str().unwrap();
+    let day = |d: &str| ["--from", d, "--to", d].map(String::from);
+    let run_on = |more: &[String]| {
+        let mut args = vec!["log", "readings", "--file", file];
+        args.extend(more.iter().map(String::as_str));
+        run(&args)
+    };
+    let mut chlorine = day("2026-11-15").to_vec();
+    chlorine.extend(["--tap", "clearwell-tap", "--json"].map(String::from));
+    let (code, json, text) = run_on(&chlorine);
+    assert_eq!(code, 0, "{text}");
+    let list = json["readings"].as_array().unwrap();
+    assert_eq!(list.len(), 1, "{json}");
+    assert_eq!(list[0]["reading"]["value"], 0.15, "{json}");
+    assert_eq!(list[0]["reading"]["parameter"], "chlorine", "{json}");
+    let mut level = day("2026-11-10").to_vec();
+    level.extend(["--chemical", "level"].map(String::from));
+    let (code, _, text) = run_on(&level);
+    assert_eq!(code, 0, "{text}");
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines.len(), 2, "{text}");
+    assert!(
+        lines[0].contains("hypo-day-tank / level  4 ft  [corrected]"),
+        "{text}"
+    );
+    assert_eq!(lines[1], "1 readings");
+    std::fs::remove_dir_all(&dir).unwrap();
+}
