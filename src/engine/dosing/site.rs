@@ -464,7 +464,7 @@ fn parameter_basis(parameter: &str) -> Option<&'static str> {
         }
         "chlorine-dioxide" => Some("ClO2"),
         "fluoride" | "fluoride-secondary" | "fluoride-recommended" => Some("F"),
-        "ammonia-n" => Some("N"),
+        "ammonia-n" | "ammonia" => Some("N"),
         "orthophosphate" => Some("PO4"),
         "alkalinity" | "hardness" | "calcium-hardness" | "ccpp" => Some("CaCO3"),
         _ => None,
@@ -800,10 +800,14 @@ impl SiteProfile {
             }
         }
         for l in &self.limits {
-            // A limit every check can compare with: in its parameter's unit or one an exact
+            // A limit a check compares with must be in its parameter's unit or one an exact
             // factor reaches (see `in_parameter_unit`); otherwise a reading of 0.5 mg/L would
-            // be held to "100" of an unknown unit.
-            if in_parameter_unit(&l.parameter, 1.0, &l.unit).is_none() {
+            // be held to "100" of an unknown unit. A limit on a parameter nothing reads (no
+            // calculation, no tap of this site) is kept as written, for the record: an older
+            // profile's note is no reason to refuse the whole plant.
+            if self.compared(&l.parameter)
+                && in_parameter_unit(&l.parameter, 1.0, &l.unit).is_none()
+            {
                 return Err(invalid(
                     "limit-unit-not-understood",
                     format!(
@@ -831,6 +835,20 @@ impl SiteProfile {
             }
         }
         self.validate_path()
+    }
+
+    /// Whether some check holds `parameter` to its limit: a calculation (the regulatory
+    /// defaults' parameters, the plant path's finished water) or a tap of this site that
+    /// reads it.
+    fn compared(&self, parameter: &str) -> bool {
+        regulatory_defaults()
+            .iter()
+            .any(|l| l.parameter == parameter)
+            || crate::engine::path::FINISHED_PARAMETERS.contains(&parameter)
+            || self
+                .sampling_taps
+                .iter()
+                .any(|t| t.parameters.iter().any(|p| p == parameter))
     }
 
     /// The water path: ids once, points in plant order, every product and basin known, every
@@ -1035,7 +1053,8 @@ pub fn related_limits(parameter: &str) -> &'static [&'static str] {
 /// regulatory default, else none. The one place a limit is chosen; every check goes through it.
 /// An entry in another unit than its parameter's (µg/L for aluminium) comes back in the
 /// parameter's unit ([`parameter_unit`]), so a check compares like with like; one in a unit
-/// no conversion reaches is refused when the profile is read (`limit-unit-not-understood`).
+/// no conversion reaches is refused when the profile is read (`limit-unit-not-understood`)
+/// where anything compares it, and otherwise has no bounds here.
 pub fn effective_limit(plant: &[Limit], parameter: &str) -> Option<Limit> {
     let limit = plant
         .iter()
@@ -1138,6 +1157,17 @@ mod tests {
         assert_eq!(chlorine.unit, "mg/L as Cl2");
         let e = with_limit("NTU").unwrap_err();
         assert_eq!(e.reason(), Some("limit-unit-not-understood"), "{e}");
+        // A limit on a parameter nothing reads (no calculation, no tap of the demo) is kept
+        // as written, for the record: no reason to refuse the plant.
+        let mut json: serde_json::Value =
+            serde_json::from_str(&SiteProfile::demo(&catalog).unwrap().to_json().unwrap()).unwrap();
+        json["limits"]
+            .as_array_mut()
+            .unwrap()
+            .push(serde_json::json!({
+            "parameter": "strontium", "min": null, "max": 4, "unit": "mg/L as Sr2+",
+            "source": "plant note (invented)"}));
+        assert!(SiteProfile::from_json(&json.to_string(), &catalog).is_ok());
     }
 
     /// Every regulatory default is in a unit its parameter's checks read, with no factor: the
