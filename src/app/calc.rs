@@ -574,19 +574,14 @@ impl CalcController {
         let old = self.lang;
         for text in self.texts.values_mut() {
             // "1.2 ± 0.1": the reading and its own precision, each with the new mark.
-            let (reading, tolerance) = split_tolerance(text);
-            let Ok(v) = numbers::parse(reading, old) else {
-                continue;
-            };
-            let mut new = reformat(reading, v, lang);
-            if let Some(t) = tolerance {
-                new.push_str(" ± ");
-                match numbers::parse(t, old) {
-                    Ok(t_value) => new.push_str(&reformat(t, t_value, lang)),
-                    Err(_) => new.push_str(t),
-                }
+            if let Some(new) = rewritten(
+                text,
+                old,
+                |reading, v| reformat(reading, v, lang),
+                |_, t, t_value| reformat(t, t_value, lang),
+            ) {
+                *text = new;
             }
-            *text = new;
         }
         self.lang = lang;
     }
@@ -606,25 +601,18 @@ impl CalcController {
             }
             // "1.2 ± 0.1" MGD: the reading and its own precision both change unit. Left as
             // typed, the text would be read in the new unit (1.2 m³/d, 3785 times less).
-            let (reading, tolerance) = split_tolerance(text);
-            let Ok(v) = numbers::parse(reading, lang) else {
-                continue;
-            };
-            let si = q.unit(old).to_si(v);
-            let mut new = numbers::format_sig(q.unit(system).from_si(si), 4, lang);
-            if let Some(t) = tolerance {
-                new.push_str(" ± ");
-                match numbers::parse(t, lang) {
-                    Ok(t) => {
-                        let t_si = tolerance_to_si(q.unit(old), v, t);
-                        let t_new = tolerance_from_si(q.unit(system), t_si);
-                        new.push_str(&numbers::format_sig(t_new, 4, lang));
-                    }
-                    // Still marked wrong on the card, beside a reading now in the new unit.
-                    Err(_) => new.push_str(t),
-                }
+            let (from, to) = (q.unit(old), q.unit(system));
+            if let Some(new) = rewritten(
+                text,
+                lang,
+                |_, v| numbers::format_sig(to.from_si(from.to_si(v)), 4, lang),
+                |v, _, t| {
+                    let t_si = tolerance_to_si(from, v, t);
+                    numbers::format_sig(tolerance_from_si(to, t_si), 4, lang)
+                },
+            ) {
+                *text = new;
             }
-            *text = new;
         }
         self.system = system;
     }
@@ -1161,6 +1149,29 @@ impl CalcController {
 fn typed_figures(quantity: Quantity, text: &str, lang: Lang) -> Option<u8> {
     numbers::parse(text, lang).ok()?;
     engine::calculators::given_figures(quantity, &text.trim().replace(',', "."))
+}
+
+/// A field's text rewritten by a language or unit switch: its reading (parsed in `lang`) by
+/// `reading(text, value)`, and its own ± if it has one by `tolerance(reading's value, text,
+/// value)`; a ± that does not parse is kept as typed, still marked wrong on the card beside
+/// the rewritten reading. `None` when the reading itself is not a number (left as typed).
+fn rewritten(
+    text: &str,
+    lang: Lang,
+    reading: impl Fn(&str, f64) -> String,
+    tolerance: impl Fn(f64, &str, f64) -> String,
+) -> Option<String> {
+    let (reading_text, tolerance_text) = split_tolerance(text);
+    let v = numbers::parse(reading_text, lang).ok()?;
+    let mut new = reading(reading_text, v);
+    if let Some(t) = tolerance_text {
+        new.push_str(" ± ");
+        match numbers::parse(t, lang) {
+            Ok(t_value) => new.push_str(&tolerance(v, t, t_value)),
+            Err(_) => new.push_str(t),
+        }
+    }
+    Some(new)
 }
 
 fn reformat(text: &str, v: f64, lang: Lang) -> String {

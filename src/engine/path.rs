@@ -511,7 +511,7 @@ fn basin_credit(
     } else {
         // No chlorine in the basin: no credit; what it would need, at the table's lowest
         // residual row, as the CT calculator reads the table.
-        let t10 = basin.volume_l * basin.baffling_factor / (flow * 1000.0 / 1440.0);
+        let t10 = contact.t10_minutes();
         Ok(BasinCredit {
             basin: basin.id.clone(),
             point: point.id.clone(),

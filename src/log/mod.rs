@@ -653,26 +653,12 @@ impl Log {
         }
         // A tap reading the report could not hold to its limit is refused when recorded, not
         // left out of the month's exceedances later.
-        if let Record::Reading(ReadingEntry {
-            reading:
-                Reading::AtTap {
-                    parameter,
-                    value,
-                    unit,
-                    ..
-                },
+        if let Some(Reading::AtTap {
+            parameter,
+            value,
+            unit,
             ..
-        })
-        | Record::ReadingCorrection(record::ReadingCorrection {
-            reading:
-                Reading::AtTap {
-                    parameter,
-                    value,
-                    unit,
-                    ..
-                },
-            ..
-        }) = &record
+        }) = record.reading()
             && record::in_parameter_unit(parameter, *value, unit).is_none()
         {
             return Err(Error::new(

@@ -222,8 +222,9 @@ fn gap_caution(what: &str, from: NaiveDate, to: NaiveDate, span: i64) -> Caution
         .with("days", span)
 }
 
-/// The volume unit of a site's unit system, as the report prints it.
-fn volume_unit(units: UnitSystem) -> &'static str {
+/// The volume unit of a site's unit system, as the report prints it (the unit of
+/// [`volume_in`]).
+pub fn volume_unit(units: UnitSystem) -> &'static str {
     match units {
         UnitSystem::Us => "gal",
         UnitSystem::Si => "L",
@@ -911,10 +912,7 @@ pub fn mass_unit(units: UnitSystem) -> &'static str {
 /// product used in the site's volume unit, active lb and calculated dose) and `totals`.
 pub fn to_json(r: &Report) -> serde_json::Value {
     use serde_json::json;
-    let unit = match r.units {
-        UnitSystem::Us => "gal",
-        UnitSystem::Si => "L",
-    };
+    let unit = volume_unit(r.units);
     let basis = |id: &str| r.bases.get(id).cloned();
     let product = |id: &str, p: &ProductDay| {
         json!({

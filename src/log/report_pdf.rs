@@ -8,8 +8,9 @@
 //! Everything on the pages comes from [`Report`]; nothing is computed here beyond placing it
 //! (unit changes go through `report::volume_in` and the exact constants there).
 
-use super::report::{ADVISORY, Report, mass_in, mass_unit, volume_in, water_in, water_unit};
-use crate::engine::dosing::units::UnitSystem;
+use super::report::{
+    ADVISORY, Report, mass_in, mass_unit, volume_in, volume_unit, water_in, water_unit,
+};
 use printpdf::{
     Color, IndirectFontRef, Line, Mm, PdfDocument, PdfDocumentReference, PdfLayerReference, Point,
     Rgb,
@@ -94,10 +95,7 @@ fn line(layer: &PdfLayerReference, points: &[(f32, f32)], rgb: (f32, f32, f32), 
 
 /// The month's totals as the cover prints them (the test finds these lines in the PDF).
 pub fn total_lines(r: &Report) -> Vec<String> {
-    let unit = match r.units {
-        UnitSystem::Us => "gal",
-        UnitSystem::Si => "L",
-    };
+    let unit = volume_unit(r.units);
     let mut out = vec![format!(
         "Water treated: {:.4} {}",
         water_in(r.units, r.totals.water_treated_l),
@@ -193,10 +191,7 @@ pub fn pdf(r: &Report) -> super::Result<Vec<u8>> {
         bold,
         first: Some(first),
     };
-    let unit = match r.units {
-        UnitSystem::Us => "gal",
-        UnitSystem::Si => "L",
-    };
+    let unit = volume_unit(r.units);
 
     // Cover: plant, period, the month's totals, the cautions.
     let cover = pages.page("Monthly operating report");

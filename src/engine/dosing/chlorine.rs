@@ -846,6 +846,21 @@ pub enum ContactTime {
     },
 }
 
+impl ContactTime {
+    /// T10 in minutes: the tracer study's, or the basin's volume over the flow times its
+    /// baffling factor (unchecked: [`ct_free_chlorine`] checks and traces it).
+    pub fn t10_minutes(&self) -> f64 {
+        match *self {
+            ContactTime::T10Minutes(m) => m,
+            ContactTime::Basin {
+                volume_l,
+                baffling_factor,
+                flow_l_per_min,
+            } => volume_l * baffling_factor / flow_l_per_min,
+        }
+    }
+}
+
 /// Inputs for [`ct_free_chlorine`].
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct CtInput {
